@@ -1,0 +1,100 @@
+# arrank - build, test and demo.  See DEVELOPERS.md.
+#
+#   make            build libarrank.a and the arrank program
+#   make test       install missing dependencies, build, run the whole suite
+#   make demo       install missing dependencies, build, rank the demo campaign
+#   make check      build and run the suite (no dependency step)
+#   make test-asan  the suite under AddressSanitizer + UndefinedBehaviorSanitizer
+#
+# BUILD selects the object folder (default build/), so several configurations
+# can live side by side.
+
+BUILD      ?= build
+CC         ?= cc
+PKG_CONFIG ?= pkg-config
+PREFIX     ?= /usr/local
+DESTDIR    ?=
+
+PKGS       := gsl udunits inih jansson
+WARN       := -Wall -Wextra -Wpedantic -Wshadow -Wformat=2
+OPT        ?= -O2 -g
+SAN        ?=
+CPPFLAGS   += -Iinclude -D_POSIX_C_SOURCE=200809L
+CFLAGS     ?=
+ALL_CFLAGS := -std=c11 $(OPT) $(WARN) $(SAN) $(CFLAGS) -MMD -MP \
+              $(shell $(PKG_CONFIG) --cflags $(PKGS) 2>/dev/null)
+LDLIBS     := $(shell $(PKG_CONFIG) --libs $(PKGS) 2>/dev/null) -lcsv -lm
+TEST_LIBS  := $(shell $(PKG_CONFIG) --libs cmocka 2>/dev/null)
+
+LIB_SRC    := $(sort $(wildcard src/lib/*.c))
+CLI_SRC    := $(sort $(wildcard src/cli/*.c))
+TEST_SRC   := $(sort $(wildcard tests/test_*.c))
+TOOL_SRC   := $(sort $(wildcard src/tools/*.c))
+
+LIB_OBJ    := $(LIB_SRC:%.c=$(BUILD)/%.o)
+CLI_OBJ    := $(CLI_SRC:%.c=$(BUILD)/%.o)
+TEST_BIN   := $(TEST_SRC:tests/%.c=$(BUILD)/tests/%)
+TOOL_BIN   := $(TOOL_SRC:src/tools/%.c=$(BUILD)/tools/%)
+
+LIB        := $(BUILD)/libarrank.a
+ARRANK     := $(BUILD)/arrank
+
+DEMO       := campaigns/zeolite-ni-screen
+
+.PHONY: all deps test check demo demo-data test-asan clean install
+
+all: $(LIB) $(ARRANK) $(TOOL_BIN)
+
+deps:
+	@sh src/tools/deps.sh
+
+test: deps
+	@$(MAKE) --no-print-directory check
+
+demo: deps
+	@$(MAKE) --no-print-directory demo-run
+
+check: all $(TEST_BIN)
+	@BUILD=$(BUILD) sh tests/run.sh
+
+demo-run: all
+	$(ARRANK) rank $(DEMO) --json plots/$(notdir $(DEMO))/results.json \
+	    --csv plots/$(notdir $(DEMO))/results.csv
+
+# Regenerate the demo campaign from its stated true parameters.
+demo-data: $(BUILD)/tools/gen_demo
+	$(BUILD)/tools/gen_demo $(DEMO)
+
+test-asan:
+	@$(MAKE) --no-print-directory BUILD=build-asan OPT="-O1 -g" \
+	    SAN="-fsanitize=address,undefined -fno-sanitize-recover=all -fno-omit-frame-pointer" check
+
+$(LIB): $(LIB_OBJ)
+	@mkdir -p $(dir $@)
+	$(AR) rcs $@ $^
+
+$(ARRANK): $(CLI_OBJ) $(LIB)
+	$(CC) $(ALL_CFLAGS) -o $@ $(CLI_OBJ) $(LIB) $(LDLIBS)
+
+$(BUILD)/tests/%: tests/%.c $(LIB)
+	@mkdir -p $(dir $@)
+	$(CC) $(CPPFLAGS) $(ALL_CFLAGS) -o $@ $< $(LIB) $(LDLIBS) $(TEST_LIBS)
+
+$(BUILD)/tools/%: src/tools/%.c $(LIB)
+	@mkdir -p $(dir $@)
+	$(CC) $(CPPFLAGS) $(ALL_CFLAGS) -o $@ $< $(LIB) $(LDLIBS)
+
+$(BUILD)/%.o: %.c
+	@mkdir -p $(dir $@)
+	$(CC) $(CPPFLAGS) $(ALL_CFLAGS) -c -o $@ $<
+
+install: all
+	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/lib $(DESTDIR)$(PREFIX)/include/arrank
+	install -m 755 $(ARRANK) $(DESTDIR)$(PREFIX)/bin/arrank
+	install -m 644 $(LIB) $(DESTDIR)$(PREFIX)/lib/libarrank.a
+	install -m 644 include/arrank/*.h $(DESTDIR)$(PREFIX)/include/arrank/
+
+clean:
+	rm -rf build build-*
+
+-include $(LIB_OBJ:.o=.d) $(CLI_OBJ:.o=.d)

@@ -1,0 +1,91 @@
+/*
+ * arrank/analysis.h - the whole pipeline for one campaign, and its results.
+ *
+ * arrank_analysis_run takes a loaded campaign and runs, per sample: screening
+ * of points, the Arrhenius fit, diagnostics (when built in), the rate at the
+ * operating temperature, then the ranking across samples.  The CLI, the
+ * writers, the figures and the report all read the arrank_analysis it makes,
+ * so every output tells the same story.
+ */
+#ifndef ARRANK_ANALYSIS_H
+#define ARRANK_ANALYSIS_H
+
+#include <stddef.h>
+
+#include "arrank/campaign.h"
+#include "arrank/error.h"
+#include "arrank/fit.h"
+
+/* What "best" means in the ranking. */
+typedef enum {
+    ARRANK_BY_RATE = 0,      /* highest rate at the operating temperature */
+    ARRANK_BY_EA = 1,        /* lowest apparent activation energy */
+    ARRANK_BY_PREFACTOR = 2  /* highest pre-exponential factor */
+} arrank_rank_by;
+
+/* Sample flags: a bit each; names and plain words from arrank_flag_name/_words. */
+enum {
+    ARRANK_FLAG_EXTRAPOLATED = 1u << 0,    /* operating T outside the measured range */
+    ARRANK_FLAG_FEW_POINTS = 1u << 1,      /* fewer than 4 points in the fit */
+    ARRANK_FLAG_NARROW_RANGE = 1u << 2,    /* temperature span under 30 K */
+    ARRANK_FLAG_LOW_EA = 1u << 3,          /* apparent Ea under 20 kJ/mol: suspect film control */
+    ARRANK_FLAG_CURVED = 1u << 4,          /* Arrhenius plot bends */
+    ARRANK_FLAG_TRANSPORT = 1u << 5,       /* points look transport-limited */
+    ARRANK_FLAG_DEACTIVATION = 1u << 6,    /* activity falls over the runs */
+    ARRANK_FLAG_ACTIVATION = 1u << 7,      /* activity rises over the runs */
+    ARRANK_FLAG_HIGH_CONVERSION = 1u << 8, /* conversion above the differential limit */
+    ARRANK_FLAG_OUTLIER = 1u << 9,         /* an influential or outlying point */
+    ARRANK_FLAG_MIXED_BASIS = 1u << 10,    /* campaign mixes per-mass/area/site rates */
+    ARRANK_FLAG_EXCLUDED = 1u << 11,       /* some points left out of the fit */
+    ARRANK_FLAG_POOR_FIT = 1u << 12        /* chi2/dof far above 1: rate_sd understated */
+};
+#define ARRANK_FLAG_COUNT 13
+
+/* JSON name of one flag bit ("extrapolated"), or NULL for an unknown bit. */
+const char *arrank_flag_name(unsigned flag);
+/* Plain words for one flag bit ("operating temperature outside the measured range"). */
+const char *arrank_flag_words(unsigned flag);
+
+typedef struct {
+    double confidence;        /* two-sided level for every interval, default 0.95 */
+    double operating_temp_K;  /* NAN: none (fit only) */
+    arrank_rank_by by;
+} arrank_options;
+
+/* Defaults: confidence 0.95, no operating temperature, rank by rate. */
+arrank_options arrank_options_defaults(void);
+
+typedef struct {
+    const arrank_sample *sample;  /* borrowed from the campaign */
+    char *error;                  /* why the sample was not fitted, NULL if it was */
+    long error_line;              /* line the error points at, 0 if none */
+    unsigned char *used;          /* [sample->n_points]: 1 if the point is in the fit */
+    size_t n_used;
+    arrank_arrhenius fit;         /* valid when error == NULL */
+    int has_prediction;           /* 1 when an operating temperature was given */
+    arrank_prediction at_T;       /* rate at the operating temperature */
+    int rank;                     /* 1 = best; 0 = not ranked */
+    unsigned flags;               /* ARRANK_FLAG_* bits */
+} arrank_result;
+
+typedef struct {
+    const arrank_campaign *campaign; /* borrowed; must outlive the analysis */
+    arrank_options options;
+    arrank_result *results;          /* [n_results], same order as campaign->samples */
+    size_t n_results;
+    size_t *order;                   /* [n_ranked] result indices, best first */
+    size_t n_ranked;
+} arrank_analysis;
+
+/*
+ * Run the pipeline.  options may be NULL (defaults).  On success *out is owned
+ * by the caller (arrank_analysis_free).  Samples that cannot be fitted do not
+ * fail the call: they get `error` and rank 0.  EDATA when ranking was asked
+ * for (operating temperature given, or by != RATE) and no sample could be fitted.
+ */
+arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_options *options,
+                                  arrank_analysis **out, arrank_error *err);
+
+void arrank_analysis_free(arrank_analysis *analysis);
+
+#endif

@@ -1,0 +1,33 @@
+/*
+ * arrank/output.h - the table for people, JSON and CSV for programs.
+ *
+ * Writers take the stream to write to; they never open stdout themselves.
+ * arrank_output_save writes through a temporary file in the target's folder
+ * and renames it into place, so a failure never leaves half a file.
+ */
+#ifndef ARRANK_OUTPUT_H
+#define ARRANK_OUTPUT_H
+
+#include <stdio.h>
+
+#include "arrank/analysis.h"
+#include "arrank/error.h"
+
+typedef enum {
+    ARRANK_OUTPUT_TABLE = 0,
+    ARRANK_OUTPUT_JSON = 1,
+    ARRANK_OUTPUT_CSV = 2
+} arrank_output_format;
+
+/* Write the analysis in the given format to stream.  EIO on a write error. */
+arrank_status arrank_output_write(const arrank_analysis *analysis, arrank_output_format format,
+                                  FILE *stream, arrank_error *err);
+
+/*
+ * Write to path atomically (temp file + fsync + rename), or to stdout when
+ * path is "-".  EIO with the path on failure; nothing is left behind.
+ */
+arrank_status arrank_output_save(const arrank_analysis *analysis, arrank_output_format format,
+                                 const char *path, arrank_error *err);
+
+#endif
