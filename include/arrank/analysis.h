@@ -16,6 +16,10 @@
 #include "arrank/error.h"
 #include "arrank/fit.h"
 
+struct arrank_diagnosis;
+struct arrank_sample_stats;
+struct arrank_rank_stats;
+
 /* What "best" means in the ranking. */
 typedef enum {
     ARRANK_BY_RATE = 0,      /* highest rate at the operating temperature */
@@ -46,10 +50,36 @@ const char *arrank_flag_name(unsigned flag);
 /* Plain words for one flag bit ("operating temperature outside the measured range"). */
 const char *arrank_flag_words(unsigned flag);
 
+/* Error model of the rate data (see fit.h). */
+typedef enum {
+    ARRANK_ERRORS_RELATIVE = 0, /* constant relative error: linear fit of ln r (default) */
+    ARRANK_ERRORS_ABSOLUTE = 1  /* absolute errors: nonlinear fit of r */
+} arrank_error_model;
+
+/* Rate law fitted to each sample. */
+typedef enum {
+    ARRANK_MODEL_ARRHENIUS = 0, /* r = A exp(-Ea/RT) */
+    ARRANK_MODEL_MODIFIED = 1,  /* r = A (T/T_ref)^n exp(-E/RT) */
+    ARRANK_MODEL_EYRING = 2     /* transition-state form: dH and dS of activation */
+} arrank_model;
+
 typedef struct {
     double confidence;        /* two-sided level for every interval, default 0.95 */
     double operating_temp_K;  /* NAN: none (fit only) */
     arrank_rank_by by;
+    /* diagnostics (diagnose.h) */
+    int use_all;              /* 1: fit every point, no kinetic window */
+    int drop_outliers;        /* 1: leave flagged outliers out of the fit */
+    double conversion_limit;  /* differential-reactor limit, fraction; default 0.10 */
+    int diagnose;             /* 1: run the diagnostics (default 1) */
+    /* ranking statistics (rank.h) */
+    arrank_error_model errors;
+    arrank_model model;
+    unsigned long seed;       /* Monte Carlo and bootstrap seed, default 1 */
+    size_t draws;             /* Monte Carlo draws for P(best), default 10000 */
+    size_t pairs;             /* samples in the pairwise matrix, default 20 */
+    size_t bootstrap;         /* bootstrap resamples for rate at T; 0 = off */
+    int normal_draws;         /* 1: draw from the normal instead of the t distribution */
 } arrank_options;
 
 /* Defaults: confidence 0.95, no operating temperature, rank by rate. */
@@ -66,6 +96,8 @@ typedef struct {
     arrank_prediction at_T;       /* rate at the operating temperature */
     int rank;                     /* 1 = best; 0 = not ranked */
     unsigned flags;               /* ARRANK_FLAG_* bits */
+    struct arrank_diagnosis *diagnosis; /* diagnose.h; NULL when not run */
+    struct arrank_sample_stats *stats;  /* rank.h; NULL when not computed */
 } arrank_result;
 
 typedef struct {
@@ -75,6 +107,7 @@ typedef struct {
     size_t n_results;
     size_t *order;                   /* [n_ranked] result indices, best first */
     size_t n_ranked;
+    struct arrank_rank_stats *rank_stats; /* rank.h: P(best), groups, compensation; may be NULL */
 } arrank_analysis;
 
 /*

@@ -1,0 +1,257 @@
+/*
+ * analysis.c - the pipeline for one campaign: screen, fit, diagnose, predict, rank.
+ *
+ * Each stage reads only what the stage before it produced.  A sample that
+ * cannot be fitted keeps its reason in `error` and is listed unranked; it
+ * never disappears.  Points left out of a fit are marked in `used` and the
+ * diagnostics record why, so no point is dropped silently.
+ */
+#include "arrank/analysis.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "internal.h"
+
+/* Thresholds for the basic flags (README "Flags"). */
+#define FEW_POINTS 4            /* fewer points than this: flag (common practice) */
+#define NARROW_RANGE_K 30.0     /* temperature span under this: flag (common practice) */
+#define LOW_EA_J_MOL 20000.0    /* apparent Ea under this: suspect film control (DOMAIN notes) */
+#define POOR_FIT_P 0.001        /* chi-square p-value below this: rate_sd understated */
+
+static const struct {
+    unsigned bit;
+    const char *name;
+    const char *words;
+} flag_table[ARRANK_FLAG_COUNT] = {
+    {ARRANK_FLAG_EXTRAPOLATED, "extrapolated", "operating temperature outside the measured range"},
+    {ARRANK_FLAG_FEW_POINTS, "few_points", "fewer than 4 points in the fit"},
+    {ARRANK_FLAG_NARROW_RANGE, "narrow_range", "temperature span under 30 K"},
+    {ARRANK_FLAG_LOW_EA, "low_ea", "apparent Ea under 20 kJ/mol: suspect film mass transfer"},
+    {ARRANK_FLAG_CURVED, "curved", "Arrhenius plot bends"},
+    {ARRANK_FLAG_TRANSPORT, "transport", "points look transport-limited"},
+    {ARRANK_FLAG_DEACTIVATION, "deactivation", "activity fell during the runs"},
+    {ARRANK_FLAG_ACTIVATION, "activation", "activity rose during the runs"},
+    {ARRANK_FLAG_HIGH_CONVERSION, "high_conversion", "conversion above the differential limit"},
+    {ARRANK_FLAG_OUTLIER, "outlier", "outlying or influential point"},
+    {ARRANK_FLAG_MIXED_BASIS, "mixed_basis", "campaign mixes normalisation bases"},
+    {ARRANK_FLAG_EXCLUDED, "excluded", "points left out of the fit"},
+    {ARRANK_FLAG_POOR_FIT, "poor_fit", "scatter larger than rate_sd allows"},
+};
+
+const char *arrank_flag_name(unsigned flag)
+{
+    for (size_t i = 0; i < ARRANK_FLAG_COUNT; i++)
+        if (flag_table[i].bit == flag)
+            return flag_table[i].name;
+    return NULL;
+}
+
+const char *arrank_flag_words(unsigned flag)
+{
+    for (size_t i = 0; i < ARRANK_FLAG_COUNT; i++)
+        if (flag_table[i].bit == flag)
+            return flag_table[i].words;
+    return NULL;
+}
+
+arrank_options arrank_options_defaults(void)
+{
+    arrank_options o;
+    memset(&o, 0, sizeof o);
+    o.confidence = 0.95;
+    o.operating_temp_K = NAN;
+    o.by = ARRANK_BY_RATE;
+    o.conversion_limit = 0.10;
+    o.diagnose = 1;
+    o.errors = ARRANK_ERRORS_RELATIVE;
+    o.model = ARRANK_MODEL_ARRHENIUS;
+    o.seed = 1;
+    o.draws = 10000;
+    o.pairs = 20;
+    return o;
+}
+
+static void set_result_error(arrank_result *res, const char *msg, long line)
+{
+    free(res->error);
+    res->error = arrank_strdup(msg);
+    res->error_line = line;
+}
+
+arrank_status arrank_result_refit(arrank_result *res, arrank_error *err)
+{
+    const arrank_sample *s = res->sample;
+    size_t n = 0;
+    double *buf = malloc(3 * (s->n_points ? s->n_points : 1) * sizeof *buf);
+    if (!buf)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    double *t = buf, *r = buf + s->n_points, *sd = buf + 2 * s->n_points;
+    int have_sd = 1;
+    for (size_t i = 0; i < s->n_points; i++) {
+        if (!res->used[i])
+            continue;
+        t[n] = s->points[i].temp_K;
+        r[n] = s->points[i].rate;
+        sd[n] = s->points[i].rate_sd;
+        if (!isfinite(sd[n]))
+            have_sd = 0;
+        n++;
+    }
+    res->n_used = n;
+    arrank_error fe;
+    arrank_error_clear(&fe);
+    arrank_status st = arrank_fit_arrhenius(t, r, have_sd ? sd : NULL, n, &res->fit, &fe);
+    free(buf);
+    if (st == ARRANK_ENOMEM)
+        return arrank_errorf(err, st, "out of memory");
+    if (st != ARRANK_OK)
+        set_result_error(res, fe.message, 0);
+    else {
+        free(res->error);
+        res->error = NULL;
+        res->error_line = 0;
+    }
+    return ARRANK_OK;
+}
+
+static void basic_flags(arrank_result *res)
+{
+    const arrank_arrhenius *f = &res->fit;
+    if (f->n < FEW_POINTS)
+        res->flags |= ARRANK_FLAG_FEW_POINTS;
+    if (f->T_max_K - f->T_min_K < NARROW_RANGE_K)
+        res->flags |= ARRANK_FLAG_NARROW_RANGE;
+    if (f->ea_J_mol < LOW_EA_J_MOL)
+        res->flags |= ARRANK_FLAG_LOW_EA;
+    if (f->weighted && f->dof > 0 && isfinite(f->chi2_dof) &&
+        arrank_chi2_upper_p(f->chi2_dof * f->dof, f->dof) < POOR_FIT_P)
+        res->flags |= ARRANK_FLAG_POOR_FIT;
+    if (res->n_used < res->sample->n_points)
+        res->flags |= ARRANK_FLAG_EXCLUDED;
+}
+
+/* Sort key: larger is better. */
+static double rank_key(const arrank_result *res, arrank_rank_by by)
+{
+    switch (by) {
+    case ARRANK_BY_EA: return -res->fit.ea_J_mol;
+    case ARRANK_BY_PREFACTOR: return res->fit.ln_A;
+    case ARRANK_BY_RATE: break;
+    }
+    return res->at_T.ln_rate;
+}
+
+static arrank_rank_by sort_by;
+static const arrank_result *sort_results;
+
+static int compare_rank(const void *a, const void *b)
+{
+    const arrank_result *ra = &sort_results[*(const size_t *)a];
+    const arrank_result *rb = &sort_results[*(const size_t *)b];
+    double ka = rank_key(ra, sort_by), kb = rank_key(rb, sort_by);
+    if (ka > kb)
+        return -1;
+    if (ka < kb)
+        return 1;
+    return strcmp(ra->sample->id, rb->sample->id);
+}
+
+arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_options *options,
+                                  arrank_analysis **out, arrank_error *err)
+{
+    *out = NULL;
+    arrank_options opt = options ? *options : arrank_options_defaults();
+    if (!(opt.confidence > 0.0 && opt.confidence < 1.0))
+        return arrank_errorf(err, ARRANK_EINVAL,
+                             "confidence %g is outside (0, 1); write it as 0.95", opt.confidence);
+    int want_T = isfinite(opt.operating_temp_K);
+
+    arrank_analysis *a = calloc(1, sizeof *a);
+    if (!a)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    a->campaign = campaign;
+    a->options = opt;
+    a->n_results = campaign->n_samples;
+    a->results = calloc(a->n_results ? a->n_results : 1, sizeof *a->results);
+    a->order = calloc(a->n_results ? a->n_results : 1, sizeof *a->order);
+    if (!a->results || !a->order) {
+        arrank_analysis_free(a);
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    }
+
+    arrank_status st = ARRANK_OK;
+    for (size_t i = 0; i < a->n_results; i++) {
+        arrank_result *res = &a->results[i];
+        const arrank_sample *s = &campaign->samples[i];
+        res->sample = s;
+        res->used = malloc(s->n_points ? s->n_points : 1);
+        if (!res->used) {
+            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+            goto fail;
+        }
+        memset(res->used, 1, s->n_points);
+        res->n_used = s->n_points;
+        if (s->problem) {
+            set_result_error(res, s->problem, s->problem_line);
+            continue;
+        }
+        st = arrank_result_refit(res, err);
+        if (st != ARRANK_OK)
+            goto fail;
+        if (res->error)
+            continue;
+        basic_flags(res);
+        if (want_T) {
+            st = arrank_fit_predict(&res->fit, opt.operating_temp_K, opt.confidence, &res->at_T,
+                                    err);
+            if (st != ARRANK_OK)
+                goto fail;
+            res->has_prediction = 1;
+            if (res->at_T.extrapolated)
+                res->flags |= ARRANK_FLAG_EXTRAPOLATED;
+        }
+    }
+
+    /* Rank the fitted samples; ranking by rate needs an operating temperature. */
+    if (want_T || opt.by != ARRANK_BY_RATE) {
+        for (size_t i = 0; i < a->n_results; i++)
+            if (!a->results[i].error)
+                a->order[a->n_ranked++] = i;
+        if (a->n_ranked == 0) {
+            const arrank_result *first = a->n_results ? &a->results[0] : NULL;
+            if (first && first->error)
+                st = arrank_error_at(err, ARRANK_EDATA, first->sample->path, first->error_line, 0,
+                                     "%s", first->error);
+            else
+                st = arrank_errorf(err, ARRANK_EDATA, "no sample in '%s' could be fitted",
+                                   campaign->path);
+            goto fail;
+        }
+        sort_by = opt.by;
+        sort_results = a->results;
+        qsort(a->order, a->n_ranked, sizeof *a->order, compare_rank);
+        for (size_t k = 0; k < a->n_ranked; k++)
+            a->results[a->order[k]].rank = (int)(k + 1);
+    }
+    *out = a;
+    return ARRANK_OK;
+
+fail:
+    arrank_analysis_free(a);
+    return st;
+}
+
+void arrank_analysis_free(arrank_analysis *a)
+{
+    if (!a)
+        return;
+    for (size_t i = 0; i < a->n_results; i++) {
+        free(a->results[i].error);
+        free(a->results[i].used);
+    }
+    free(a->results);
+    free(a->order);
+    free(a);
+}
