@@ -15,7 +15,7 @@ PKG_CONFIG ?= pkg-config
 PREFIX     ?= /usr/local
 DESTDIR    ?=
 
-PKGS       := gsl udunits inih jansson
+PKGS       := gsl udunits inih jansson nettle
 WARN       := -Wall -Wextra -Wpedantic -Wshadow -Wformat=2
 OPT        ?= -O2 -g
 SAN        ?=
@@ -48,7 +48,8 @@ all: $(LIB) $(ARRANK) $(TOOL_BIN)
 deps:
 	@sh src/tools/deps.sh
 
-test: deps
+test:
+	@sh src/tools/deps.sh --test
 	@$(MAKE) --no-print-directory check
 
 demo: deps

@@ -1,7 +1,13 @@
 #!/bin/sh
 # Install what arrank needs to build and test, from Debian's packages, and
 # only what pkg-config or `command -v` cannot find.  Says what it installs.
+#
+#   deps.sh          what `make demo` needs (build, gnuplot)
+#   deps.sh --test   and what `make test` needs besides (SciPy, headless
+#                    Chromium for the report check, clang for the fuzzers)
 set -eu
+for_test=0
+[ "${1:-}" = "--test" ] && for_test=1
 
 need=""
 have_pc() { pkg-config --exists "$1" 2>/dev/null; }
@@ -15,11 +21,15 @@ have_header csv.h || need="$need libcsv-dev"
 have_pc udunits || need="$need libudunits2-dev"
 have_pc inih || need="$need libinih-dev"
 have_pc jansson || need="$need libjansson-dev"
-have_pc cmocka || need="$need libcmocka-dev"
+have_pc nettle || need="$need nettle-dev"
 command -v gnuplot >/dev/null 2>&1 || need="$need gnuplot-nox"
-# SciPy is the independent reference in the tests; it must be Debian's, for
-# Debian's python3 (a python3 earlier on PATH may be another installation).
-/usr/bin/python3 -c 'import scipy' >/dev/null 2>&1 || need="$need python3-scipy"
+if [ "$for_test" -eq 1 ]; then
+    have_pc cmocka || need="$need libcmocka-dev"
+    # SciPy is the independent reference in the tests; it must be Debian's, for
+    # Debian's python3 (a python3 earlier on PATH may be another installation).
+    /usr/bin/python3 -c 'import scipy' >/dev/null 2>&1 || need="$need python3-scipy"
+    command -v chromium >/dev/null 2>&1 || need="$need chromium"
+fi
 [ -n "${ARRANK_DEPS_EXTRA:-}" ] && need="$need $ARRANK_DEPS_EXTRA"
 
 if [ -z "$need" ]; then
