@@ -1,0 +1,1808 @@
+/*
+ * diagnose.c - curvature, regimes, the kinetic window, transport criteria and
+ * data-quality checks for one fitted sample (include/arrank/diagnose.h).
+ *
+ * The order of work: flag points above the conversion limit; test the
+ * as-measured plot for curvature (quadratic term, series-resistance model,
+ * local apparent Ea); compare runs and repeats and look for drift with time
+ * on stream; find the kinetic window by trimming the hot end while it bends
+ * or falls below the line through the colder points; classify every point;
+ * look for outliers on the final fit; compute the Weisz-Prater and Mears
+ * numbers from the metadata; then write each conclusion in plain words with
+ * its evidence.  Thresholds are named below with their sources.
+ *
+ * All regressions are of y = ln r on x = 1/T with the sample's weights
+ * ((r/sd)^2 when every point has rate_sd, else 1), centred on the weighted
+ * mean of x and scaled by the weighted spread of x so that the design matrix
+ * is well conditioned.
+ */
+#include "arrank/diagnose.h"
+
+#include <ctype.h>
+#include <gsl/gsl_cdf.h>
+#include <jansson.h>
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "arrank/fit.h"
+#include "arrank/units.h"
+#include "internal.h"
+
+/* ---- thresholds ----------------------------------------------------------- */
+
+/* Level of the curvature tests.  1 % rather than 5 % so that a campaign of
+   twenty straight samples shows a false bend in about one of five campaigns
+   rather than in most of them (our choice; tests/test_diagnose.c measures the
+   false-alarm rate and the power it gives). */
+#define CURVE_LEVEL 0.01
+/* The quadratic test needs dof >= 2 and four distinct temperatures to mean
+   anything (common practice: three parameters plus scatter). */
+#define MIN_TEST_POINTS 5
+#define MIN_TEST_TEMPS 4
+/* Temperatures closer than this are one set point (common practice for rigs
+   read to 0.1-1 K). */
+#define SAME_TEMP_K 1.0
+/* Exponent of the transport conductance k_t (T/T_ref)^m.  Gas film: k_c ~
+   D^(2/3) and D ~ T^1.5-1.75 give m of about 1-1.2 (DOMAIN notes, after
+   Adiabatic Fixed-Bed Reactors, sec. 2.6); over a 50-100 K span m cannot be
+   fitted beside Ea, so it is fixed. */
+#define SERIES_M 1.0
+/* Grid for the conductance, ln k_t - max ln r, before the full fit. */
+#define SERIES_GRID_LO (-0.5)
+#define SERIES_GRID_HI 7.0
+#define SERIES_GRID_STEP 0.25
+/* Local apparent Ea below this: film-diffusion-like.  Film control gives
+   4-12 kJ/mol in gases (Adiabatic Fixed-Bed Reactors, sec. 2.6); 20 kJ/mol
+   is the usual "suspect" line (from memory; the issue quotes 10-20). */
+#define FILM_EA_J_MOL 20000.0
+/* Pore diffusion halves the apparent Ea in the strong limit (Weisz & Prater
+   1954); for a first-order sphere E_app/E = 0.73 at phi = 3 and 0.56 at
+   phi = 10 (DOMAIN notes, computed).  A local Ea between these fractions of
+   the kinetic window's Ea is called pore-diffusion-like; 0.35 leaves room for
+   scatter below the strong-limit half (our choice). */
+#define PORE_RATIO_LO 0.35
+#define PORE_RATIO_HI 0.80
+/* A local Ea whose standard error exceeds this fraction of the window's Ea
+   is too uncertain to classify (our choice). */
+#define THIN_SE_FRAC 0.25
+/* The kinetic window keeps at least this many temperatures (the few-points
+   flag threshold, common practice). */
+#define MIN_WINDOW_TEMPS 4
+/* Runs, repeats and drift: two-sided 5 % test and at least a 5 % change
+   ("loss > 5-10 % = flag", DOMAIN notes, from memory). */
+#define RUN_LEVEL 0.05
+#define RUN_MIN_CHANGE 0.05
+/* |corr(1/T, time)| above this: drift and temperature cannot be separated. */
+#define DRIFT_COLLINEAR 0.95
+/* Outliers: externally studentized residual beyond the Bonferroni-corrected
+   t quantile at family level 5 %; influence: Cook's distance above 1 (both
+   common practice in regression diagnostics, e.g. Cook & Weisberg 1982,
+   from memory). */
+#define OUTLIER_FAMILY 0.05
+#define COOK_LIMIT 1.0
+/* Weisz-Prater limits (eta >= 0.95) from Weisz & Prater (1954) and Weisz
+   (1957) as tabulated by Madon & Boudart, Ind. Eng. Chem. Fundam. 21:438
+   (1982): 6 for zero, 0.6 for first, 0.3 for second order.  With no order
+   given we use 0.3, the general rule (Vannice, Kinetics of Catalytic
+   Reactions, 2005). */
+#define WP_LIMIT_ORDER0 6.0
+#define WP_LIMIT_ORDER1 0.6
+#define WP_LIMIT_ORDER2 0.3
+#define WP_LIMIT_GENERAL 0.3
+/* Mears criterion for external mass transfer, 5 % rate deviation (Mears 1971;
+   the form credited to Hudgins 1972 in Madon & Boudart 1982). */
+#define MEARS_LIMIT 0.15
+
+static const double R = ARRANK_R_J_MOL_K;
+
+/* ---- small helpers -------------------------------------------------------- */
+
+const char *arrank_regime_name(arrank_regime regime)
+{
+    switch (regime) {
+    case ARRANK_REGIME_KINETIC: return "kinetic";
+    case ARRANK_REGIME_PORE: return "pore_diffusion";
+    case ARRANK_REGIME_FILM: return "film_diffusion";
+    case ARRANK_REGIME_UNCLASSIFIED: break;
+    }
+    return "unclassified";
+}
+
+const char *arrank_bend_name(arrank_bend bend)
+{
+    switch (bend) {
+    case ARRANK_BEND_DOWN: return "concave-down";
+    case ARRANK_BEND_UP: return "concave-up";
+    case ARRANK_BEND_NONE: break;
+    }
+    return "none";
+}
+
+/* Working state of one diagnosis. */
+typedef struct {
+    const arrank_sample *s;
+    const arrank_point *pt;
+    size_t np;
+    double *x, *y, *w; /* [np] 1/T, ln r, weight */
+    arrank_diagnosis *d;
+    double scatter; /* residual SD of ln r about the line on every point; NAN if weighted */
+    int nomem;
+} work;
+
+static char *vfmt(const char *f, va_list ap)
+{
+    va_list ap2;
+    va_copy(ap2, ap);
+    int n = vsnprintf(NULL, 0, f, ap2);
+    va_end(ap2);
+    if (n < 0)
+        return NULL;
+    char *s = malloc((size_t)n + 1);
+    if (s)
+        vsnprintf(s, (size_t)n + 1, f, ap);
+    return s;
+}
+
+static char *fmt(work *wk, const char *f, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 2, 3)))
+#endif
+    ;
+
+static char *fmt(work *wk, const char *f, ...)
+{
+    va_list ap;
+    va_start(ap, f);
+    char *s = vfmt(f, ap);
+    va_end(ap);
+    if (!s)
+        wk->nomem = 1;
+    return s;
+}
+
+static void push_str(work *wk, char ***arr, size_t *n, char *s)
+{
+    if (!s) {
+        wk->nomem = 1;
+        return;
+    }
+    char **a = realloc(*arr, (*n + 1) * sizeof *a);
+    if (!a) {
+        free(s);
+        wk->nomem = 1;
+        return;
+    }
+    a[(*n)++] = s;
+    *arr = a;
+}
+
+static void finding(work *wk, const char *f, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 2, 3)))
+#endif
+    ;
+
+static void finding(work *wk, const char *f, ...)
+{
+    va_list ap;
+    va_start(ap, f);
+    char *s = vfmt(f, ap);
+    va_end(ap);
+    push_str(wk, &wk->d->findings, &wk->d->n_findings, s);
+}
+
+static void note(work *wk, const char *f, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 2, 3)))
+#endif
+    ;
+
+static void note(work *wk, const char *f, ...)
+{
+    va_list ap;
+    va_start(ap, f);
+    char *s = vfmt(f, ap);
+    va_end(ap);
+    push_str(wk, &wk->d->notes, &wk->d->n_notes, s);
+}
+
+static void add_cause(work *wk, int supported, char *cause, char *evidence)
+{
+    arrank_curvature *cv = &wk->d->curvature;
+    if (!cause || !evidence) {
+        free(cause);
+        free(evidence);
+        wk->nomem = 1;
+        return;
+    }
+    arrank_cause *a = realloc(cv->causes, (cv->n_causes + 1) * sizeof *a);
+    if (!a) {
+        free(cause);
+        free(evidence);
+        wk->nomem = 1;
+        return;
+    }
+    cv->causes = a;
+    a[cv->n_causes].cause = cause;
+    a[cv->n_causes].evidence = evidence;
+    a[cv->n_causes].supported = supported;
+    cv->n_causes++;
+}
+
+static double two_sided_p(double t, double dof)
+{
+    if (!isfinite(t))
+        return isnan(t) ? NAN : 0.0;
+    return 2.0 * gsl_cdf_tdist_Q(fabs(t), dof);
+}
+
+/* Sort indices by temperature, ties by file order. */
+static const arrank_point *sort_pts;
+
+static int by_temp(const void *a, const void *b)
+{
+    size_t i = *(const size_t *)a, j = *(const size_t *)b;
+    double ti = sort_pts[i].temp_K, tj = sort_pts[j].temp_K;
+    if (ti < tj)
+        return -1;
+    if (ti > tj)
+        return 1;
+    return (i > j) - (i < j);
+}
+
+static void sort_by_temp(const arrank_point *pts, size_t *idx, size_t n)
+{
+    sort_pts = pts;
+    qsort(idx, n, sizeof *idx, by_temp);
+}
+
+/* Group ids of idx[0..n) (sorted by T): a new group when T moves on by more
+   than SAME_TEMP_K from the group's first point.  Returns the group count. */
+static size_t group_temps(const arrank_point *pts, const size_t *idx, size_t n, size_t *group)
+{
+    size_t g = 0;
+    double start = NAN;
+    for (size_t k = 0; k < n; k++) {
+        double t = pts[idx[k]].temp_K;
+        if (k == 0)
+            start = t;
+        else if (t - start > SAME_TEMP_K) {
+            g++;
+            start = t;
+        }
+        group[k] = g;
+    }
+    return n ? g + 1 : 0;
+}
+
+static size_t count_temps(const arrank_point *pts, const size_t *idx, size_t n)
+{
+    size_t *tmp = malloc((n ? n : 1) * sizeof *tmp);
+    size_t *g = malloc((n ? n : 1) * sizeof *g);
+    size_t c = 0;
+    if (tmp && g) {
+        memcpy(tmp, idx, n * sizeof *tmp);
+        sort_by_temp(pts, tmp, n);
+        c = group_temps(pts, tmp, n, g);
+    }
+    free(tmp);
+    free(g);
+    return c;
+}
+
+/* ---- regressions ------------------------------------------------------------ */
+
+/* Centre and scale of x over a set. */
+typedef struct {
+    double xm, sx;
+} xscale;
+
+static int set_scale(const work *wk, const size_t *idx, size_t n, xscale *sc)
+{
+    double sw = 0, swx = 0;
+    for (size_t k = 0; k < n; k++) {
+        sw += wk->w[idx[k]];
+        swx += wk->w[idx[k]] * wk->x[idx[k]];
+    }
+    if (!(sw > 0))
+        return -1;
+    sc->xm = swx / sw;
+    double ss = 0;
+    for (size_t k = 0; k < n; k++) {
+        double u = wk->x[idx[k]] - sc->xm;
+        ss += wk->w[idx[k]] * u * u;
+    }
+    sc->sx = sqrt(ss / sw);
+    return sc->sx > 0 ? 0 : -1;
+}
+
+/*
+ * Weighted fit of y on [1, z, z^2 (quad), extra] over idx, z = (x - xm)/sx.
+ * extra (may be NULL) is one more column, indexed like idx.  b[p], cov[p*p],
+ * *rss.  Returns p, or 0 when the fit is impossible (-1 when out of memory).
+ */
+static int design_fit(work *wk, const size_t *idx, size_t n, const xscale *sc, int quad,
+                      const double *extra, double *b, double *cov, double *rss)
+{
+    size_t p = 2 + (quad ? 1 : 0) + (extra ? 1 : 0);
+    if (n <= p)
+        return 0;
+    double *X = malloc(n * p * sizeof *X);
+    double *y = malloc(n * sizeof *y);
+    double *w = malloc(n * sizeof *w);
+    if (!X || !y || !w) {
+        free(X);
+        free(y);
+        free(w);
+        wk->nomem = 1;
+        return -1;
+    }
+    for (size_t k = 0; k < n; k++) {
+        size_t i = idx[k];
+        double z = (wk->x[i] - sc->xm) / sc->sx;
+        size_t c = 0;
+        X[k * p + c++] = 1.0;
+        X[k * p + c++] = z;
+        if (quad)
+            X[k * p + c++] = z * z;
+        if (extra)
+            X[k * p + c++] = extra[k];
+        y[k] = wk->y[i];
+        w[k] = wk->w[i];
+    }
+    arrank_error e;
+    arrank_error_clear(&e);
+    arrank_status st = arrank_linfit(X, y, w, n, p, b, cov, rss, &e);
+    free(X);
+    free(y);
+    free(w);
+    if (st == ARRANK_ENOMEM) {
+        wk->nomem = 1;
+        return -1;
+    }
+    return st == ARRANK_OK ? (int)p : 0;
+}
+
+/* Straight line over idx: Ea, its se, slope b1 in K, rss, dof. 0 on success. */
+typedef struct {
+    xscale sc;
+    double b0, b1_K, ea_J_mol, ea_se_J_mol, rss, dof, s2;
+    double cov[4];
+} line_fit;
+
+static int fit_line(work *wk, const size_t *idx, size_t n, line_fit *lf)
+{
+    if (set_scale(wk, idx, n, &lf->sc) != 0)
+        return -1;
+    double b[2], cov[4], rss;
+    if (design_fit(wk, idx, n, &lf->sc, 0, NULL, b, cov, &rss) != 2)
+        return -1;
+    lf->b0 = b[0];
+    lf->b1_K = b[1] / lf->sc.sx;
+    lf->ea_J_mol = -R * lf->b1_K;
+    lf->ea_se_J_mol = R * sqrt(cov[3]) / lf->sc.sx;
+    lf->rss = rss;
+    lf->dof = (double)n - 2.0;
+    lf->s2 = rss / lf->dof;
+    memcpy(lf->cov, cov, sizeof lf->cov);
+    return 0;
+}
+
+static double line_at(const line_fit *lf, double x)
+{
+    return lf->b0 + lf->b1_K * (x - lf->sc.xm);
+}
+
+/* Quadratic test over idx. */
+typedef struct {
+    double c_K2, c_se_K2, t, p, dof, ea_cold, ea_hot;
+} quad_test;
+
+static int fit_quad(work *wk, const size_t *idx, size_t n, quad_test *q)
+{
+    xscale sc;
+    if (n < MIN_TEST_POINTS || count_temps(wk->pt, idx, n) < MIN_TEST_TEMPS ||
+        set_scale(wk, idx, n, &sc) != 0)
+        return -1;
+    double b[3], cov[9], rss;
+    if (design_fit(wk, idx, n, &sc, 1, NULL, b, cov, &rss) != 3)
+        return -1;
+    q->dof = (double)n - 3.0;
+    double se = sqrt(cov[8]);
+    q->t = se > 0 ? b[2] / se : (b[2] < 0 ? -INFINITY : b[2] > 0 ? INFINITY : 0.0);
+    q->p = two_sided_p(q->t, q->dof);
+    q->c_K2 = b[2] / (sc.sx * sc.sx);
+    q->c_se_K2 = se / (sc.sx * sc.sx);
+    double xmin = INFINITY, xmax = -INFINITY;
+    for (size_t k = 0; k < n; k++) {
+        xmin = fmin(xmin, wk->x[idx[k]]);
+        xmax = fmax(xmax, wk->x[idx[k]]);
+    }
+    double b1 = b[1] / sc.sx;
+    /* E(T) = -R dy/dx = -R (b1 + 2 c (x - xm)) (DOMAIN notes, local slopes) */
+    q->ea_cold = -R * (b1 + 2.0 * q->c_K2 * (xmax - sc.xm));
+    q->ea_hot = -R * (b1 + 2.0 * q->c_K2 * (xmin - sc.xm));
+    return 0;
+}
+
+static int bends_down(const quad_test *q)
+{
+    return q->p < CURVE_LEVEL && q->t < 0;
+}
+
+/* ---- series-resistance model ------------------------------------------------ */
+
+/* y = -ln(exp(-lk) + exp(-lt)), lk = b0 + b1 z, lt = ln k_t + m ln(T/T_ref). */
+typedef struct {
+    const double *z, *lt0; /* [n] scaled x and m ln(T/T_ref) */
+    double fixed_lkt;      /* used when only 2 parameters are free */
+    int n_free;
+} series_ctx;
+
+static int series_model(const double *p, size_t i, void *vctx, double *value, double *grad)
+{
+    const series_ctx *c = vctx;
+    double lkt = c->n_free == 3 ? p[2] : c->fixed_lkt;
+    double lk = p[0] + p[1] * c->z[i];
+    double lt = lkt + c->lt0[i];
+    if (!isfinite(lk) || !isfinite(lt))
+        return 1;
+    /* -logaddexp(-lk, -lt), written to stay finite for any gap */
+    double gap = lk - lt;
+    double wk; /* share of the total resistance that is kinetic = d y / d lk */
+    if (gap > 0) {
+        double e = exp(-gap);
+        *value = lt - log1p(e);
+        wk = e / (1.0 + e);
+    } else {
+        double e = exp(gap);
+        *value = lk - log1p(e);
+        wk = 1.0 / (1.0 + e);
+    }
+    if (grad) {
+        grad[0] = wk;
+        grad[1] = wk * c->z[i];
+        if (c->n_free == 3)
+            grad[2] = 1.0 - wk;
+    }
+    return 0;
+}
+
+static void fit_series(work *wk, const size_t *idx, size_t n, const line_fit *lf,
+                       arrank_curvature *cv)
+{
+    cv->series_m = SERIES_M;
+    cv->series_T_ref_K = 1.0 / lf->sc.xm;
+    cv->series_ea_J_mol = cv->series_ea_se_J_mol = cv->series_ln_kt = NAN;
+    cv->rss_line = lf->rss;
+    cv->rss_series = NAN;
+    if (n <= 3)
+        return;
+    double *z = malloc(n * sizeof *z), *lt0 = malloc(n * sizeof *lt0);
+    double *y = malloc(n * sizeof *y), *w = malloc(n * sizeof *w);
+    if (!z || !lt0 || !y || !w) {
+        wk->nomem = 1;
+        goto done;
+    }
+    double ymax = -INFINITY;
+    for (size_t k = 0; k < n; k++) {
+        size_t i = idx[k];
+        z[k] = (wk->x[i] - lf->sc.xm) / lf->sc.sx;
+        lt0[k] = SERIES_M * log(wk->pt[i].temp_K * lf->sc.xm);
+        y[k] = wk->y[i];
+        w[k] = wk->w[i];
+        ymax = fmax(ymax, y[k]);
+    }
+    series_ctx c = {z, lt0, NAN, 2};
+    arrank_nlfit_options o = arrank_nlfit_defaults();
+    double start[3] = {lf->b0, lf->b1_K * lf->sc.sx, NAN};
+    double best_rss = lf->rss, best_lkt = INFINITY, best_p[2] = {start[0], start[1]};
+    /* Profile over the conductance from weak to strong transport, each fit
+       starting from the previous one, then a full fit from the best. */
+    for (double off = SERIES_GRID_HI; off >= SERIES_GRID_LO - 1e-9; off -= SERIES_GRID_STEP) {
+        c.fixed_lkt = ymax + off;
+        arrank_nlfit f;
+        memset(&f, 0, sizeof f);
+        arrank_error e;
+        arrank_error_clear(&e);
+        arrank_status st = arrank_nlfit_run(series_model, &c, 2, y, w, n, start, &o, &f, &e);
+        if (st == ARRANK_ENOMEM) {
+            wk->nomem = 1;
+            arrank_nlfit_clear(&f);
+            goto done;
+        }
+        if (st == ARRANK_OK && isfinite(f.rss)) {
+            start[0] = f.params[0];
+            start[1] = f.params[1];
+            if (f.rss < best_rss) {
+                best_rss = f.rss;
+                best_lkt = c.fixed_lkt;
+                best_p[0] = f.params[0];
+                best_p[1] = f.params[1];
+            }
+        }
+        arrank_nlfit_clear(&f);
+    }
+    cv->rss_series = best_rss;
+    if (!isfinite(best_lkt))
+        goto done; /* no finite conductance beats the straight line */
+    c.n_free = 3;
+    double p3[3] = {best_p[0], best_p[1], best_lkt};
+    arrank_nlfit f;
+    memset(&f, 0, sizeof f);
+    arrank_error e;
+    arrank_error_clear(&e);
+    arrank_status st = arrank_nlfit_run(series_model, &c, 3, y, w, n, p3, &o, &f, &e);
+    if (st == ARRANK_ENOMEM)
+        wk->nomem = 1;
+    cv->series_fitted = 1;
+    if (st == ARRANK_OK && f.rss <= best_rss * (1.0 + 1e-9) && isfinite(f.params[2])) {
+        cv->rss_series = f.rss;
+        cv->series_ea_J_mol = -R * f.params[1] / lf->sc.sx;
+        cv->series_ea_se_J_mol = R * f.se[1] / lf->sc.sx;
+        cv->series_ln_kt = f.params[2];
+    } else {
+        cv->series_ea_J_mol = -R * best_p[1] / lf->sc.sx;
+        cv->series_ln_kt = best_lkt;
+    }
+    arrank_nlfit_clear(&f);
+done:
+    if (isfinite(cv->rss_series) && n > 3) {
+        double rss2 = fmax(cv->rss_series, 0.0);
+        double drop = fmax(cv->rss_line - rss2, 0.0);
+        /* extra-sum-of-squares F test (DOMAIN notes, "Detecting curvature") */
+        cv->series_F = rss2 > 0 ? drop / (rss2 / ((double)n - 3.0)) : INFINITY;
+        cv->series_p = isfinite(cv->series_F) ? gsl_cdf_fdist_Q(cv->series_F, 1.0, (double)n - 3.0)
+                                              : 0.0;
+        /* AICc = n ln(RSS/n) + 2K + 2K(K+1)/(n-K-1), K counting the variance
+           (Burnham & Anderson, Model Selection, 2002; from memory) */
+        double nn = (double)n;
+        if (nn - 5.0 > 0 && cv->rss_line > 0 && rss2 > 0) {
+            cv->aicc_line = nn * log(cv->rss_line / nn) + 6.0 + 24.0 / (nn - 4.0);
+            cv->aicc_series = nn * log(rss2 / nn) + 8.0 + 40.0 / (nn - 5.0);
+        }
+    }
+    free(z);
+    free(lt0);
+    free(y);
+    free(w);
+}
+
+/* ---- local apparent Ea ------------------------------------------------------ */
+
+/* Windows of three neighbouring temperatures over sorted idx with groups g. */
+static void local_windows(work *wk, const size_t *idx, const size_t *g, size_t n, size_t n_groups,
+                          arrank_curvature *cv)
+{
+    if (n_groups < 3)
+        return;
+    size_t nw = n_groups - 2;
+    cv->local = calloc(nw, sizeof *cv->local);
+    size_t *sel = malloc(n * sizeof *sel);
+    if (!cv->local || !sel) {
+        free(sel);
+        wk->nomem = 1;
+        return;
+    }
+    for (size_t k = 0; k < nw; k++) {
+        size_t m = 0;
+        for (size_t j = 0; j < n; j++)
+            if (g[j] >= k && g[j] <= k + 2)
+                sel[m++] = idx[j];
+        arrank_local_ea *le = &cv->local[k];
+        line_fit lf;
+        le->n_points = m;
+        le->temp_lo_K = wk->pt[sel[0]].temp_K;
+        le->temp_hi_K = wk->pt[sel[m - 1]].temp_K;
+        le->ea_J_mol = le->ea_se_J_mol = le->temp_mid_K = NAN;
+        if (fit_line(wk, sel, m, &lf) == 0) {
+            le->ea_J_mol = lf.ea_J_mol;
+            le->ea_se_J_mol = lf.dof > 0 ? lf.ea_se_J_mol : NAN;
+            le->temp_mid_K = 1.0 / lf.sc.xm;
+        }
+    }
+    cv->n_local = nw;
+    free(sel);
+}
+
+/* Local window index for group gi. */
+static size_t window_of(size_t gi, size_t n_groups)
+{
+    size_t k = gi > 0 ? gi - 1 : 0;
+    return k + 2 < n_groups ? k : n_groups - 3;
+}
+
+/* ---- public pieces ---------------------------------------------------------- */
+
+arrank_status arrank_diagnose_derive_rate(const double *conversion, const double *flow_mol_s,
+                                          const double *mole_fraction, const double *mass_kg,
+                                          size_t n, int integral, double *rate_mol_kg_s,
+                                          arrank_error *err)
+{
+    for (size_t i = 0; i < n; i++) {
+        double X = conversion[i], F = flow_mol_s[i], y = mole_fraction[i], W = mass_kg[i];
+        if (!(isfinite(X) && X >= 0.0 && X < 1.0))
+            return arrank_errorf(err, ARRANK_EINVAL,
+                                 "conversion %g at point %zu is not a fraction in [0, 1)", X,
+                                 i + 1);
+        if (!(isfinite(F) && F > 0.0))
+            return arrank_errorf(err, ARRANK_EINVAL, "feed flow %g at point %zu is not positive",
+                                 F, i + 1);
+        if (!(isfinite(y) && y > 0.0 && y <= 1.0))
+            return arrank_errorf(err, ARRANK_EINVAL,
+                                 "mole fraction %g at point %zu is not in (0, 1]", y, i + 1);
+        if (!(isfinite(W) && W > 0.0))
+            return arrank_errorf(err, ARRANK_EINVAL,
+                                 "catalyst mass %g at point %zu is not positive", W, i + 1);
+        /* differential: r = F_A0 X / W; integral first order: -ln(1 - X) in
+           place of X (plug-flow design equation; DOMAIN notes, rate data) */
+        double ext = integral ? -log1p(-X) : X;
+        rate_mol_kg_s[i] = F * y * ext / W;
+    }
+    return ARRANK_OK;
+}
+
+double arrank_diagnose_weisz_prater(double rate_mol_m3_s, double radius_m, double diff_m2_s,
+                                    double conc_mol_m3)
+{
+    if (!(rate_mol_m3_s > 0 && radius_m > 0 && diff_m2_s > 0 && conc_mol_m3 > 0) ||
+        !isfinite(rate_mol_m3_s * radius_m * diff_m2_s * conc_mol_m3))
+        return NAN;
+    return rate_mol_m3_s * radius_m * radius_m / (diff_m2_s * conc_mol_m3);
+}
+
+double arrank_diagnose_mears(double rate_mol_m3_s, double radius_m, double order,
+                             double film_m_s, double conc_mol_m3)
+{
+    if (!(rate_mol_m3_s > 0 && radius_m > 0 && order > 0 && film_m_s > 0 && conc_mol_m3 > 0) ||
+        !isfinite(rate_mol_m3_s * radius_m * order * film_m_s * conc_mol_m3))
+        return NAN;
+    return rate_mol_m3_s * radius_m * order / (film_m_s * conc_mol_m3);
+}
+
+/* Declared basis word, normalised: "mass", "metal_mass", "area", "site" or
+   the lowercase text itself. */
+static void declared_basis(const arrank_sample *s, char *out, size_t n)
+{
+    const char *v = arrank_sample_meta(s, "basis");
+    out[0] = '\0';
+    if (!v || n == 0)
+        return;
+    size_t k = 0;
+    for (; v[k] && k + 1 < n; k++)
+        out[k] = (char)tolower((unsigned char)v[k]);
+    out[k] = '\0';
+    /* trim */
+    while (k > 0 && isspace((unsigned char)out[k - 1]))
+        out[--k] = '\0';
+    const char *aliases[][2] = {
+        {"catalyst_mass", "mass"}, {"per_mass", "mass"},     {"metal", "metal_mass"},
+        {"surface", "area"},       {"bet_area", "area"},     {"per_area", "area"},
+        {"tof", "site"},           {"turnover", "site"},     {"per_site", "site"},
+    };
+    for (size_t i = 0; i < sizeof aliases / sizeof *aliases; i++)
+        if (strcmp(out, aliases[i][0]) == 0)
+            snprintf(out, n, "%s", aliases[i][1]);
+}
+
+static arrank_basis basis_dimension(const char *word)
+{
+    if (strcmp(word, "mass") == 0 || strcmp(word, "metal_mass") == 0)
+        return ARRANK_BASIS_MASS;
+    if (strcmp(word, "area") == 0)
+        return ARRANK_BASIS_AREA;
+    if (strcmp(word, "site") == 0)
+        return ARRANK_BASIS_SITE;
+    return ARRANK_BASIS_UNKNOWN;
+}
+
+int arrank_diagnose_basis(const arrank_campaign *c, const arrank_sample *s, char *why, size_t n)
+{
+    char mine[32], other[32];
+    if (why && n)
+        why[0] = '\0';
+    declared_basis(s, mine, sizeof mine);
+    if (mine[0]) {
+        arrank_basis dim = basis_dimension(mine);
+        if (dim != ARRANK_BASIS_UNKNOWN && s->basis != ARRANK_BASIS_UNKNOWN && dim != s->basis) {
+            if (why)
+                snprintf(why, n, "declared basis '%s' does not match the rate unit '%s' (%s basis)",
+                         mine, s->rate_unit_file ? s->rate_unit_file : "?",
+                         arrank_basis_name(s->basis));
+            return 1;
+        }
+    }
+    if (!c)
+        return 0;
+    for (size_t i = 0; i < c->n_samples; i++) {
+        const arrank_sample *o = &c->samples[i];
+        if (o == s)
+            continue;
+        if (o->basis != ARRANK_BASIS_UNKNOWN && s->basis != ARRANK_BASIS_UNKNOWN &&
+            o->basis != s->basis) {
+            if (why)
+                snprintf(why, n, "sample '%s' is on a %s basis and '%s' on a %s basis", s->id,
+                         arrank_basis_name(s->basis), o->id, arrank_basis_name(o->basis));
+            return 1;
+        }
+        declared_basis(o, other, sizeof other);
+        if (mine[0] && other[0] && strcmp(mine, other) != 0) {
+            if (why)
+                snprintf(why, n, "sample '%s' declares basis '%s' and '%s' declares '%s'", s->id,
+                         mine, o->id, other);
+            return 1;
+        }
+    }
+    return 0;
+}
+
+/* ---- runs, repeats and drift ---------------------------------------------- */
+
+/* Compare label j's points with label 0's over the base set. */
+static void compare_runs(work *wk, const size_t *sorted, const size_t *grp, size_t n,
+                         const int *label, int n_labels, char **names, const line_fit *base)
+{
+    arrank_diagnosis *d = wk->d;
+    if (n_labels < 2)
+        return;
+    d->runs = calloc((size_t)n_labels - 1, sizeof *d->runs);
+    size_t n_groups = n ? grp[n - 1] + 1 : 0;
+    double *acc = calloc(4 * (n_groups ? n_groups : 1), sizeof *acc);
+    double *dif = malloc((n_groups ? n_groups : 1) * sizeof *dif);
+    size_t *sel = malloc((n ? n : 1) * sizeof *sel);
+    double *ind = malloc((n ? n : 1) * sizeof *ind);
+    if (!d->runs || !acc || !dif || !sel || !ind) {
+        wk->nomem = 1;
+        goto done;
+    }
+    /* residual scale of the base line, unweighted, for few pairs */
+    double ss = 0;
+    for (size_t k = 0; k < n; k++) {
+        double e = wk->y[sorted[k]] - line_at(base, wk->x[sorted[k]]);
+        ss += e * e;
+    }
+    double s_unw = n > 2 ? sqrt(ss / ((double)n - 2.0)) : NAN;
+    for (int j = 1; j < n_labels; j++) {
+        arrank_run_shift *rs = &d->runs[d->n_runs++];
+        rs->label_ref = arrank_strdup(names[0]);
+        rs->label = arrank_strdup(names[j]);
+        if (!rs->label_ref || !rs->label)
+            wk->nomem = 1;
+        rs->shift_ln = rs->shift_ln_se = rs->t = rs->p = rs->dof = rs->change = NAN;
+        /* sums per group: n0, y0 - b1 x0, n1, y1 - b1 x1 */
+        memset(acc, 0, 4 * n_groups * sizeof *acc);
+        for (size_t k = 0; k < n; k++) {
+            size_t i = sorted[k];
+            double adj = wk->y[i] - base->b1_K * wk->x[i];
+            if (label[i] == 0) {
+                acc[4 * grp[k]] += 1;
+                acc[4 * grp[k] + 1] += adj;
+            } else if (label[i] == j) {
+                acc[4 * grp[k] + 2] += 1;
+                acc[4 * grp[k] + 3] += adj;
+            }
+        }
+        size_t np = 0;
+        for (size_t g = 0; g < n_groups; g++)
+            if (acc[4 * g] > 0 && acc[4 * g + 2] > 0)
+                dif[np++] = acc[4 * g + 3] / acc[4 * g + 2] - acc[4 * g + 1] / acc[4 * g];
+        if (np >= 1) {
+            /* paired differences at the same set points, corrected to a common
+               temperature with the fitted slope: robust to a bent plot */
+            rs->method = "paired";
+            rs->n_pairs = np;
+            double m = 0;
+            for (size_t k = 0; k < np; k++)
+                m += dif[k];
+            m /= (double)np;
+            rs->shift_ln = m;
+            if (np >= 3) {
+                double v = 0;
+                for (size_t k = 0; k < np; k++)
+                    v += (dif[k] - m) * (dif[k] - m);
+                rs->shift_ln_se = sqrt(v / ((double)np - 1.0) / (double)np);
+                rs->dof = (double)np - 1.0;
+            } else {
+                /* too few pairs for their own spread: use the scatter about
+                   the common line, which the shift itself inflates (conservative) */
+                rs->shift_ln_se = s_unw * sqrt(2.0 / (double)np);
+                rs->dof = (double)n - 2.0;
+            }
+        } else {
+            /* no common set point: common slope with an offset for the run */
+            rs->method = "offset";
+            size_t m = 0, n0 = 0, n1 = 0;
+            for (size_t k = 0; k < n; k++) {
+                size_t i = sorted[k];
+                if (label[i] == 0 || label[i] == j) {
+                    ind[m] = label[i] == j ? 1.0 : 0.0;
+                    n0 += label[i] == 0;
+                    n1 += label[i] == j;
+                    sel[m++] = i;
+                }
+            }
+            rs->n_pairs = m;
+            xscale sc;
+            double b[3], cov[9], rss;
+            if (n0 >= 2 && n1 >= 2 && set_scale(wk, sel, m, &sc) == 0 &&
+                design_fit(wk, sel, m, &sc, 0, ind, b, cov, &rss) == 3) {
+                rs->shift_ln = b[2];
+                rs->shift_ln_se = sqrt(cov[8]);
+                rs->dof = (double)m - 3.0;
+            }
+        }
+        if (isfinite(rs->shift_ln) && rs->dof > 0) {
+            rs->t = rs->shift_ln_se > 0 ? rs->shift_ln / rs->shift_ln_se
+                                        : (rs->shift_ln < 0 ? -INFINITY : INFINITY);
+            rs->p = two_sided_p(rs->t, rs->dof);
+            rs->change = expm1(rs->shift_ln);
+            if (rs->p < RUN_LEVEL && fabs(rs->change) >= RUN_MIN_CHANGE)
+                rs->verdict = rs->shift_ln < 0 ? -1 : 1;
+        }
+    }
+done:
+    free(acc);
+    free(dif);
+    free(sel);
+    free(ind);
+}
+
+static void test_drift(work *wk, const size_t *base, size_t n)
+{
+    arrank_drift *dr = &wk->d->drift;
+    dr->slope_ln_per_h = dr->slope_se = dr->t = dr->p = dr->dof = dr->span_h = dr->change = NAN;
+    size_t *sel = malloc((n ? n : 1) * sizeof *sel);
+    double *th = malloc((n ? n : 1) * sizeof *th);
+    if (!sel || !th) {
+        wk->nomem = 1;
+        goto done;
+    }
+    size_t m = 0;
+    for (size_t k = 0; k < n; k++)
+        if (isfinite(wk->pt[base[k]].time_on_stream_s)) {
+            sel[m] = base[k];
+            th[m] = wk->pt[base[k]].time_on_stream_s / 3600.0;
+            m++;
+        }
+    if (m == 0)
+        goto done;
+    if (m < MIN_TEST_POINTS) {
+        dr->note = fmt(wk, "only %zu points have a time on stream: too few to test for drift", m);
+        goto done;
+    }
+    double tmin = INFINITY, tmax = -INFINITY, mx = 0, mt = 0;
+    for (size_t k = 0; k < m; k++) {
+        tmin = fmin(tmin, th[k]);
+        tmax = fmax(tmax, th[k]);
+        mx += wk->x[sel[k]];
+        mt += th[k];
+    }
+    mx /= (double)m;
+    mt /= (double)m;
+    double sxx = 0, stt = 0, sxt = 0;
+    for (size_t k = 0; k < m; k++) {
+        double a = wk->x[sel[k]] - mx, b = th[k] - mt;
+        sxx += a * a;
+        stt += b * b;
+        sxt += a * b;
+    }
+    double corr = sxx > 0 && stt > 0 ? sxt / sqrt(sxx * stt) : 1.0;
+    dr->span_h = tmax - tmin;
+    if (!(stt > 0) || fabs(corr) > DRIFT_COLLINEAR) {
+        dr->note = fmt(wk, "time on stream follows temperature (correlation %.2f): drift cannot "
+                           "be told apart from the temperature dependence",
+                       corr);
+        goto done;
+    }
+    xscale sc;
+    double b[3], cov[9], rss;
+    if (set_scale(wk, sel, m, &sc) != 0 || design_fit(wk, sel, m, &sc, 0, th, b, cov, &rss) != 3)
+        goto done;
+    dr->tested = 1;
+    dr->slope_ln_per_h = b[2];
+    dr->slope_se = sqrt(cov[8]);
+    dr->dof = (double)m - 3.0;
+    dr->t = dr->slope_se > 0 ? b[2] / dr->slope_se : (b[2] < 0 ? -INFINITY : INFINITY);
+    dr->p = two_sided_p(dr->t, dr->dof);
+    dr->change = expm1(b[2] * dr->span_h);
+    if (dr->p < RUN_LEVEL && fabs(dr->change) >= RUN_MIN_CHANGE)
+        dr->verdict = b[2] < 0 ? -1 : 1;
+done:
+    free(sel);
+    free(th);
+}
+
+/* ---- outliers --------------------------------------------------------------- */
+
+/* Externally studentized residuals and Cook's distance about the weighted
+   line over idx (Belsley, Kuh & Welsch 1980; Cook 1977; formulas for the
+   weighted simple regression with leverage h = w/Sw + w (x - xm)^2 / Sxx). */
+static void find_outliers(work *wk, const size_t *idx, size_t n)
+{
+    arrank_diagnosis *d = wk->d;
+    line_fit lf;
+    if (n < 4 || fit_line(wk, idx, n, &lf) != 0)
+        return;
+    double sw = 0, sxx = 0;
+    for (size_t k = 0; k < n; k++)
+        sw += wk->w[idx[k]];
+    for (size_t k = 0; k < n; k++) {
+        double u = wk->x[idx[k]] - lf.sc.xm;
+        sxx += wk->w[idx[k]] * u * u;
+    }
+    double dof_ext = (double)n - 3.0;
+    d->outlier_t_limit = gsl_cdf_tdist_Qinv(OUTLIER_FAMILY / (2.0 * (double)n), dof_ext);
+    for (size_t k = 0; k < n; k++) {
+        size_t i = idx[k];
+        double u = wk->x[i] - lf.sc.xm, wi = wk->w[i];
+        double h = wi / sw + wi * u * u / sxx;
+        double e = wk->y[i] - line_at(&lf, wk->x[i]);
+        double we2 = wi * e * e;
+        arrank_point_diag *pd = &d->points[i];
+        if (!(h < 1.0))
+            continue;
+        double s2i = (lf.rss - we2 / (1.0 - h)) / dof_ext;
+        pd->student_resid = s2i > 0 ? e * sqrt(wi) / sqrt(s2i * (1.0 - h))
+                                    : (e != 0 ? copysign(INFINITY, e) : 0.0);
+        pd->cooks_d = lf.s2 > 0 ? we2 * h / (2.0 * lf.s2 * (1.0 - h) * (1.0 - h)) : NAN;
+        if (fabs(pd->student_resid) > d->outlier_t_limit ||
+            (isfinite(pd->cooks_d) && pd->cooks_d > COOK_LIMIT)) {
+            pd->outlier = 1;
+            d->n_outliers++;
+        }
+    }
+}
+
+/* ---- transport criteria ----------------------------------------------------- */
+
+typedef struct {
+    double dp_m, rho_p, rho_bed, de, cb, kc, order;
+    int have_order;
+} criteria_in;
+
+/* Parse one metadata quantity; NAN when absent; a note when unreadable. */
+static double meta_quantity(work *wk, arrank_units *u, const char *key, const char *si)
+{
+    const char *v = arrank_sample_meta(wk->s, key);
+    if (!v)
+        return NAN;
+    double out = NAN;
+    arrank_error e;
+    arrank_error_clear(&e);
+    if (arrank_units_parse_quantity(u, v, si, &out, &e) != ARRANK_OK) {
+        note(wk, "metadata '%s = %s' could not be read (%s); criteria that need it are skipped",
+             key, v, e.message);
+        return NAN;
+    }
+    return out;
+}
+
+static const char *wp_source(double order, int have, double *limit)
+{
+    if (have && order == 0.0) {
+        *limit = WP_LIMIT_ORDER0;
+        return "Weisz & Prater 1954 / Weisz 1957 via Madon & Boudart 1982, zero order";
+    }
+    if (have && order == 1.0) {
+        *limit = WP_LIMIT_ORDER1;
+        return "Weisz & Prater 1954 / Weisz 1957 via Madon & Boudart 1982, first order";
+    }
+    if (have && order == 2.0) {
+        *limit = WP_LIMIT_ORDER2;
+        return "Weisz & Prater 1954 / Weisz 1957 via Madon & Boudart 1982, second order";
+    }
+    *limit = WP_LIMIT_GENERAL;
+    return "general rule, Vannice, Kinetics of Catalytic Reactions (2005)";
+}
+
+static void criteria(work *wk, const arrank_campaign *c)
+{
+    arrank_diagnosis *d = wk->d;
+    static const char *keys[] = {"particle_diameter", "particle_radius", "pellet_density",
+                                 "bed_density", "effective_diffusivity", "bulk_concentration",
+                                 "film_coefficient", "reaction_order"};
+    int any = 0;
+    for (size_t k = 0; k < sizeof keys / sizeof *keys; k++)
+        any |= arrank_sample_meta(wk->s, keys[k]) != NULL;
+    d->weisz_prater.value = d->mears.value = NAN;
+    d->weisz_prater.threshold = d->mears.threshold = NAN;
+    d->weisz_prater.temp_K = d->mears.temp_K = NAN;
+    if (!any)
+        return;
+    arrank_error e;
+    arrank_error_clear(&e);
+    /* udunits is loaded only for samples that carry particle data */
+    arrank_units *u = arrank_units_create(&e);
+    if (!u) {
+        note(wk, "transport criteria skipped: %s", e.message);
+        return;
+    }
+    criteria_in in;
+    in.dp_m = meta_quantity(wk, u, "particle_diameter", "m");
+    double rp = meta_quantity(wk, u, "particle_radius", "m");
+    if (!isfinite(in.dp_m) && isfinite(rp))
+        in.dp_m = 2.0 * rp;
+    in.rho_p = meta_quantity(wk, u, "pellet_density", "kg/m3");
+    in.rho_bed = meta_quantity(wk, u, "bed_density", "kg/m3");
+    in.de = meta_quantity(wk, u, "effective_diffusivity", "m2/s");
+    in.cb = meta_quantity(wk, u, "bulk_concentration", "mol/m3");
+    in.kc = meta_quantity(wk, u, "film_coefficient", "m/s");
+    in.order = meta_quantity(wk, u, "reaction_order", "1");
+    in.have_order = isfinite(in.order);
+    if (!in.have_order)
+        in.order = 1.0;
+
+    /* the hottest point's observed rate, in SI per mass */
+    size_t hot = 0;
+    for (size_t i = 1; i < wk->np; i++)
+        if (wk->pt[i].temp_K > wk->pt[hot].temp_K)
+            hot = i;
+    const char *unit = c && c->rate_unit ? c->rate_unit : wk->s->rate_unit_file;
+    arrank_basis basis = ARRANK_BASIS_UNKNOWN;
+    arrank_conversion to_si = {NAN, 0};
+    double r_mass = NAN;
+    if (unit && arrank_units_rate(u, unit, &basis, &to_si, &e) == ARRANK_OK &&
+        basis == ARRANK_BASIS_MASS)
+        r_mass = to_si.scale * wk->pt[hot].rate + to_si.offset;
+    arrank_units_free(u);
+
+    double rho = isfinite(in.rho_p) ? in.rho_p : in.rho_bed;
+    double r_v = r_mass * rho; /* mol/(m3 s) per particle (or bed) volume */
+    double rad = in.dp_m / 2.0;
+    const char *why_rate = basis == ARRANK_BASIS_MASS
+                               ? NULL
+                               : "the rates are not per mass, so no rate per particle volume";
+
+    arrank_criterion *wp = &d->weisz_prater;
+    wp->source = wp_source(in.order, in.have_order, &wp->threshold);
+    wp->temp_K = wk->pt[hot].temp_K;
+    if (why_rate)
+        wp->detail = fmt(wk, "not computed: %s", why_rate);
+    else if (!isfinite(in.dp_m) || !isfinite(in.rho_p) || !isfinite(in.de) || !isfinite(in.cb))
+        wp->detail = fmt(wk, "not computed: needs particle_diameter, pellet_density, "
+                             "effective_diffusivity and bulk_concentration");
+    else {
+        /* surface concentration taken as the bulk one (film resistance
+           neglected: common practice for this check) */
+        wp->value = arrank_diagnose_weisz_prater(r_mass * in.rho_p, rad, in.de, in.cb);
+        wp->computed = isfinite(wp->value);
+        wp->passes = wp->computed && wp->value < wp->threshold;
+        wp->detail = fmt(wk,
+                         "r_v = %.4g mol/(m3 s) at %.1f K, R_p = %.4g m (half the diameter), "
+                         "D_e = %.4g m2/s, C_s = C_b = %.4g mol/m3",
+                         r_mass * in.rho_p, wp->temp_K, rad, in.de, in.cb);
+    }
+    arrank_criterion *me = &d->mears;
+    me->threshold = MEARS_LIMIT;
+    me->source = "Mears 1971 (form of Hudgins 1972) via Madon & Boudart 1982";
+    me->temp_K = wk->pt[hot].temp_K;
+    if (why_rate)
+        me->detail = fmt(wk, "not computed: %s", why_rate);
+    else if (!isfinite(in.dp_m) || !isfinite(rho) || !isfinite(in.kc) || !isfinite(in.cb))
+        me->detail = fmt(wk, "not computed: needs particle_diameter, pellet_density (or "
+                             "bed_density), film_coefficient and bulk_concentration");
+    else {
+        me->value = arrank_diagnose_mears(r_v, rad, in.order, in.kc, in.cb);
+        me->computed = isfinite(me->value);
+        me->passes = me->computed && me->value < me->threshold;
+        me->detail = fmt(wk,
+                         "r_v = %.4g mol/(m3 s) at %.1f K (%s density), R_p = %.4g m, n = %g%s, "
+                         "k_c = %.4g m/s, C_b = %.4g mol/m3",
+                         r_v, me->temp_K, isfinite(in.rho_p) ? "pellet" : "bed", rad, in.order,
+                         in.have_order ? "" : " (assumed)", in.kc, in.cb);
+    }
+}
+
+/* ---- the diagnosis ------------------------------------------------------------- */
+
+static void set_excluded(work *wk, size_t i, char *reason)
+{
+    arrank_point_diag *pd = &wk->d->points[i];
+    if (!reason) {
+        wk->nomem = 1;
+        return;
+    }
+    if (pd->excluded) {
+        free(reason);
+        return;
+    }
+    pd->excluded = 1;
+    pd->reason = reason;
+}
+
+static double kj(double j)
+{
+    return j / 1000.0;
+}
+
+/* Plain words for the causes of a detected bend. */
+static void name_causes(work *wk, const size_t *sorted, size_t n, double ea_window,
+                        int has_repeats)
+{
+    arrank_diagnosis *d = wk->d;
+    arrank_curvature *cv = &d->curvature;
+    int runs_down = 0, runs_up = 0;
+    for (size_t j = 0; j < d->n_runs; j++) {
+        runs_down |= d->runs[j].verdict < 0;
+        runs_up |= d->runs[j].verdict > 0;
+    }
+    runs_down |= d->drift.verdict < 0;
+    runs_up |= d->drift.verdict > 0;
+    size_t n_pore = 0, n_film = 0, hot_conv = 0;
+    double lo_pore = INFINITY, lo_film = INFINITY, t_pore = NAN, t_film = NAN;
+    for (size_t k = 0; k < n; k++) {
+        const arrank_point_diag *pd = &d->points[sorted[k]];
+        if (pd->regime == ARRANK_REGIME_PORE) {
+            n_pore++;
+            if (pd->local_ea_J_mol < lo_pore) {
+                lo_pore = pd->local_ea_J_mol;
+                t_pore = wk->pt[sorted[k]].temp_K;
+            }
+        } else if (pd->regime == ARRANK_REGIME_FILM) {
+            n_film++;
+            if (pd->local_ea_J_mol < lo_film) {
+                lo_film = pd->local_ea_J_mol;
+                t_film = wk->pt[sorted[k]].temp_K;
+            }
+        }
+        if (pd->high_conversion && k >= n / 2)
+            hot_conv++;
+    }
+    char series[256];
+    if (isfinite(cv->series_F) && isfinite(cv->aicc_line))
+        snprintf(series, sizeof series,
+                 "series-resistance model against a straight line: F = %.3g, p = %.2g, "
+                 "AICc lower by %.1f",
+                 cv->series_F, cv->series_p, cv->aicc_line - cv->aicc_series);
+    else if (isfinite(cv->series_F))
+        snprintf(series, sizeof series,
+                 "series-resistance model against a straight line: F = %.3g, p = %.2g",
+                 cv->series_F, cv->series_p);
+    else
+        snprintf(series, sizeof series, "series-resistance model not fitted");
+    const arrank_criterion *wp = &d->weisz_prater, *me = &d->mears;
+
+    if (cv->direction == ARRANK_BEND_DOWN) {
+        if (hot_conv)
+            add_cause(wk, 1, fmt(wk, "conversion above the differential limit"),
+                      fmt(wk, "%zu point(s) in the hot half are above the %.0f %% limit, so their "
+                              "rates understate the differential rate",
+                          hot_conv, 100.0 * d->conversion_limit));
+        if (runs_down)
+            add_cause(wk, 1, fmt(wk, "deactivation during the measurements"),
+                      fmt(wk, "later runs or later times show lower activity at the same "
+                              "temperature (see the run and drift checks)"));
+        if (n_pore)
+            add_cause(wk, 1, fmt(wk, "pore diffusion"),
+                      fmt(wk, "local apparent Ea falls to %.0f kJ/mol at %.0f K against %.0f "
+                              "kJ/mol in the kinetic window (ratio %.2f; strong pore diffusion "
+                              "gives about one half); %s%s%s",
+                          kj(lo_pore), t_pore, kj(ea_window), lo_pore / ea_window, series,
+                          wp->computed ? "; " : "",
+                          wp->computed ? (wp->passes ? "but the Weisz-Prater number is below its "
+                                                       "limit, which argues against it"
+                                                     : "and the Weisz-Prater number is above "
+                                                       "its limit")
+                                       : ""));
+        if (n_film)
+            add_cause(wk, 1, fmt(wk, "film (external) mass transfer"),
+                      fmt(wk, "local apparent Ea falls to %.0f kJ/mol at %.0f K, below %.0f kJ/mol "
+                              "where film control is suspected; %s%s%s",
+                          kj(lo_film), t_film, kj(FILM_EA_J_MOL), series,
+                          me->computed ? "; " : "",
+                          me->computed ? (me->passes ? "but the Mears number is below its limit, "
+                                                       "which argues against it"
+                                                     : "and the Mears number is above its limit")
+                                       : ""));
+        if (!n_pore && !n_film)
+            add_cause(wk, 0, fmt(wk, "transport limitation (pore or film)"),
+                      fmt(wk, "%s; the local slopes do not single out a transport regime", series));
+        if (!runs_down && !has_repeats)
+            add_cause(wk, 0, fmt(wk, "deactivation on a rising temperature ramp"),
+                      fmt(wk, "not testable: no repeat, cooling branch or time on stream; "
+                              "repeat a cold point at the end to check"));
+        add_cause(wk, 0, fmt(wk, "adsorption-equilibrium shift or change of rate-determining step"),
+                  fmt(wk, "bends the plot the same way; not testable from rate against "
+                          "temperature alone (vary partial pressures)"));
+        add_cause(wk, 0, fmt(wk, "approach to equilibrium"),
+                  fmt(wk, "check the equilibrium conversion at the hottest point"));
+    } else if (cv->direction == ARRANK_BEND_UP) {
+        if (runs_up)
+            add_cause(wk, 1, fmt(wk, "activation during the measurements"),
+                      fmt(wk, "later runs or later times show higher activity at the same "
+                              "temperature (see the run and drift checks)"));
+        add_cause(wk, 0, fmt(wk, "a second route with a higher activation energy"),
+                  fmt(wk, "the apparent Ea rises from %.0f kJ/mol at the cold end to %.0f kJ/mol "
+                          "at the hot end (quadratic fit)",
+                      kj(cv->ea_cold_J_mol), kj(cv->ea_hot_J_mol)));
+        add_cause(wk, 0, fmt(wk, "blank activity of the reactor or support"),
+                  fmt(wk, "not testable from these data: measure an empty or support-only run"));
+        add_cause(wk, 0, fmt(wk, "hot spots (bed hotter than the thermocouple)"),
+                  fmt(wk, "likely with an exothermic reaction at high conversion: use an in-bed "
+                          "thermocouple and dilute the bed"));
+    }
+}
+
+static void describe(work *wk, const arrank_result *res, const size_t *sorted, size_t n)
+{
+    arrank_diagnosis *d = wk->d;
+    arrank_curvature *cv = &d->curvature;
+    const arrank_arrhenius *f = &res->fit;
+    if (!cv->tested)
+        note(wk, "curvature not detected: %zu points at %zu temperatures are too few to test "
+                 "(needs %d points at %d temperatures)",
+             cv->n, count_temps(wk->pt, sorted, n), MIN_TEST_POINTS, MIN_TEST_TEMPS);
+    else if (!cv->detected) {
+        char scat[64] = "";
+        if (isfinite(wk->scatter))
+            snprintf(scat, sizeof scat, " and %.1f %% scatter", 100.0 * wk->scatter);
+        note(wk, "curvature not detected: quadratic term t = %.2f, p = %.2g (level %.2g) with "
+                 "%zu points%s; only bending well beyond the scatter would show",
+             cv->quad_t, cv->quad_p, cv->level, cv->n, scat);
+    }
+    else {
+        char local[160] = "";
+        if (cv->n_local >= 2)
+            snprintf(local, sizeof local,
+                     "; local apparent Ea %.0f kJ/mol at %.0f-%.0f K and %.0f kJ/mol at "
+                     "%.0f-%.0f K",
+                     kj(cv->local[0].ea_J_mol), cv->local[0].temp_lo_K, cv->local[0].temp_hi_K,
+                     kj(cv->local[cv->n_local - 1].ea_J_mol),
+                     cv->local[cv->n_local - 1].temp_lo_K, cv->local[cv->n_local - 1].temp_hi_K);
+        finding(wk, "the Arrhenius plot bends %s (%s): quadratic term t = %.2f, p = %.2g at level "
+                    "%.2g%s",
+                arrank_bend_name(cv->direction),
+                cv->direction == ARRANK_BEND_DOWN ? "slope flattens at the hot end"
+                                                  : "slope steepens at the hot end",
+                cv->quad_t, cv->quad_p, cv->level, local);
+        for (size_t k = 0; k < cv->n_causes; k++)
+            if (cv->causes[k].supported)
+                finding(wk, "likely cause: %s: %s", cv->causes[k].cause, cv->causes[k].evidence);
+        for (size_t k = 0; k < cv->n_causes; k++)
+            if (!cv->causes[k].supported)
+                note(wk, "possible cause: %s: %s", cv->causes[k].cause, cv->causes[k].evidence);
+    }
+    for (size_t k = 0; k < n; k++) {
+        size_t i = sorted[k];
+        const arrank_point_diag *pd = &d->points[i];
+        if (pd->high_conversion)
+            finding(wk, "conversion %.1f %% at %.1f K (line %ld) is above the %.0f %% "
+                        "differential limit: the rate there is not a differential rate",
+                    100.0 * wk->pt[i].conversion, wk->pt[i].temp_K, wk->pt[i].line,
+                    100.0 * d->conversion_limit);
+    }
+    if (d->window_applied)
+        finding(wk, "fitted on the kinetic window %.1f-%.1f K (%zu points): Ea %.1f +/- %.1f "
+                    "kJ/mol, against %.1f +/- %.1f kJ/mol on every point",
+                d->window_lo_K, d->window_hi_K, d->window_n, kj(f->ea_J_mol),
+                kj(f->ea_se_J_mol), kj(d->ea_all_J_mol), kj(d->ea_all_se_J_mol));
+    for (size_t j = 0; j < d->n_runs; j++) {
+        const arrank_run_shift *rs = &d->runs[j];
+        if (!isfinite(rs->shift_ln))
+            continue;
+        char what[200];
+        snprintf(what, sizeof what, "%s '%s' is %.0f %% %s '%s' (%s, %zu %s, t = %.2f, p = %.2g)",
+                 strncmp(rs->label, "pass ", 5) == 0 ? "repeat" : "run", rs->label,
+                 100.0 * fabs(rs->change), rs->change < 0 ? "below" : "above", rs->label_ref,
+                 rs->method, rs->n_pairs,
+                 strcmp(rs->method, "paired") == 0 ? "common temperatures" : "points", rs->t,
+                 rs->p);
+        if (rs->verdict < 0)
+            finding(wk, "%s: the catalyst lost activity during the measurements (deactivation)",
+                    what);
+        else if (rs->verdict > 0)
+            finding(wk, "%s: the catalyst gained activity during the measurements (activation)",
+                    what);
+        else
+            note(wk, "%s: no significant shift of at least %.0f %%", what,
+                 100.0 * RUN_MIN_CHANGE);
+    }
+    const arrank_drift *dr = &d->drift;
+    if (dr->tested) {
+        if (dr->verdict)
+            finding(wk, "the rate drifts %s by %.0f %% over %.1f h on stream at fixed temperature "
+                        "dependence (t = %.2f, p = %.2g): %s",
+                    dr->verdict < 0 ? "down" : "up", 100.0 * fabs(dr->change), dr->span_h, dr->t,
+                    dr->p, dr->verdict < 0 ? "deactivation" : "activation");
+        else
+            note(wk, "no significant drift with time on stream (%.1f %% over %.1f h, p = %.2g)",
+                 100.0 * dr->change, dr->span_h, dr->p);
+    } else if (dr->note)
+        note(wk, "%s", dr->note);
+    for (size_t k = 0; k < n; k++) {
+        size_t i = sorted[k];
+        const arrank_point_diag *pd = &d->points[i];
+        if (!pd->outlier)
+            continue;
+        finding(wk, "point at %.1f K (line %ld) is %s: studentized residual %.2f (limit %.2f), "
+                    "Cook's distance %.2f (limit %.0f); %s",
+                wk->pt[i].temp_K, wk->pt[i].line,
+                fabs(pd->student_resid) > d->outlier_t_limit ? "an outlier" : "influential",
+                pd->student_resid, d->outlier_t_limit, pd->cooks_d, COOK_LIMIT,
+                pd->excluded ? "left out of the fit as asked"
+                             : "kept in the fit (outliers are left out only on request)");
+    }
+    const arrank_criterion *cr[2] = {&d->weisz_prater, &d->mears};
+    const char *crname[2] = {"Weisz-Prater number", "Mears number"};
+    const char *crbad[2] = {"internal (pore) diffusion may limit the rate",
+                            "external (film) mass transfer may limit the rate"};
+    const char *crgood[2] = {"no internal diffusion limitation expected",
+                             "no external mass-transfer limitation expected"};
+    for (int k = 0; k < 2; k++) {
+        if (!cr[k]->detail)
+            continue;
+        if (!cr[k]->computed)
+            note(wk, "%s %s", crname[k], cr[k]->detail);
+        else if (cr[k]->passes)
+            note(wk, "%s %.3g at %.1f K is below %.3g (%s): %s; %s", crname[k], cr[k]->value,
+                 cr[k]->temp_K, cr[k]->threshold, cr[k]->source, crgood[k], cr[k]->detail);
+        else
+            finding(wk, "%s %.3g at %.1f K is above %.3g (%s): %s; %s", crname[k], cr[k]->value,
+                    cr[k]->temp_K, cr[k]->threshold, cr[k]->source, crbad[k], cr[k]->detail);
+    }
+}
+
+static void regime_of_excluded(work *wk, size_t i, double ea_w)
+{
+    arrank_point_diag *pd = &wk->d->points[i];
+    double le = pd->local_ea_J_mol;
+    pd->regime = ARRANK_REGIME_UNCLASSIFIED;
+    if (!isfinite(le) || !(ea_w > 0))
+        return;
+    if (le < FILM_EA_J_MOL)
+        pd->regime = ARRANK_REGIME_FILM;
+    else if (le >= PORE_RATIO_LO * ea_w && le <= PORE_RATIO_HI * ea_w)
+        pd->regime = ARRANK_REGIME_PORE;
+}
+
+arrank_status arrank_diagnose_result(arrank_result *res, const arrank_campaign *c,
+                                     const arrank_options *opt, arrank_error *err)
+{
+    arrank_options defaults = arrank_options_defaults();
+    if (!opt)
+        opt = &defaults;
+    const arrank_sample *s = res->sample;
+    arrank_diagnosis_free(res->diagnosis);
+    res->diagnosis = NULL;
+    size_t np = s->n_points;
+    work wk = {s, s->points, np, NULL, NULL, NULL, NULL, NAN, 0};
+    arrank_diagnosis *d = calloc(1, sizeof *d);
+    size_t cap = np ? np : 1;
+    wk.x = malloc(cap * sizeof *wk.x);
+    wk.y = malloc(cap * sizeof *wk.y);
+    wk.w = malloc(cap * sizeof *wk.w);
+    size_t *base = malloc(cap * sizeof *base), *grp = malloc(cap * sizeof *grp);
+    size_t *cand = malloc(cap * sizeof *cand), *win = malloc(cap * sizeof *win);
+    int *label = malloc(cap * sizeof *label);
+    char **names = NULL;
+    int n_labels = 0;
+    unsigned char *used0 = malloc(cap);
+    unsigned char *in_base = calloc(cap, 1);
+    arrank_status st = ARRANK_OK;
+    if (d)
+        d->points = calloc(cap, sizeof *d->points);
+    wk.d = d;
+    if (!d || !d->points || !wk.x || !wk.y || !wk.w || !base || !grp || !cand || !win ||
+        !label || !used0 || !in_base)
+        goto nomem;
+    memcpy(used0, res->used, np);
+    d->n_points = np;
+    d->conversion_limit = opt->conversion_limit > 0 && opt->conversion_limit < 1
+                              ? opt->conversion_limit
+                              : defaults.conversion_limit;
+    d->ea_all_J_mol = res->fit.ea_J_mol;
+    d->ea_all_se_J_mol = res->fit.ea_se_J_mol;
+    d->window_lo_K = d->window_hi_K = NAN;
+    d->outlier_t_limit = NAN;
+    arrank_curvature *cv = &d->curvature;
+    cv->level = CURVE_LEVEL;
+    cv->quad_c_K2 = cv->quad_c_se_K2 = cv->quad_t = cv->quad_p = cv->quad_dof = NAN;
+    cv->ea_cold_J_mol = cv->ea_hot_J_mol = NAN;
+    cv->series_F = cv->series_p = cv->aicc_line = cv->aicc_series = NAN;
+    cv->series_m = SERIES_M;
+    cv->series_T_ref_K = cv->series_ea_J_mol = cv->series_ea_se_J_mol = NAN;
+    cv->series_ln_kt = cv->rss_line = cv->rss_series = NAN;
+
+    /* weights as in the fit: (r/sd)^2 when every used point has a usable sd */
+    int weighted = 1;
+    size_t n = 0;
+    for (size_t i = 0; i < np; i++) {
+        const arrank_point *p = &s->points[i];
+        arrank_point_diag *pd = &d->points[i];
+        pd->local_ea_J_mol = pd->student_resid = pd->cooks_d = NAN;
+        if (!res->used[i] || !(p->temp_K > 0) || !(p->rate > 0) || !isfinite(p->rate))
+            continue;
+        base[n++] = i;
+        in_base[i] = 1;
+        if (!(isfinite(p->rate_sd) && p->rate_sd > 0))
+            weighted = 0;
+    }
+    for (size_t i = 0; i < np; i++) {
+        const arrank_point *p = &s->points[i];
+        wk.x[i] = 1.0 / p->temp_K;
+        wk.y[i] = p->rate > 0 ? log(p->rate) : NAN;
+        wk.w[i] = weighted ? (p->rate / p->rate_sd) * (p->rate / p->rate_sd) : 1.0;
+    }
+    sort_by_temp(s->points, base, n);
+    size_t n_groups = group_temps(s->points, base, n, grp);
+
+    /* 1. conversion above the differential limit */
+    size_t nc = 0;
+    for (size_t k = 0; k < n; k++) {
+        size_t i = base[k];
+        double X = s->points[i].conversion;
+        if (isfinite(X) && X > d->conversion_limit) {
+            d->points[i].high_conversion = 1;
+            d->n_high_conversion++;
+        } else
+            cand[nc++] = i;
+    }
+
+    /* 2. curvature of the plot as measured */
+    line_fit lf_all;
+    int have_line = fit_line(&wk, base, n, &lf_all) == 0;
+    if (have_line && !weighted && lf_all.dof > 0)
+        wk.scatter = sqrt(lf_all.s2);
+    cv->n = n;
+    quad_test q;
+    if (have_line && fit_quad(&wk, base, n, &q) == 0) {
+        cv->tested = 1;
+        cv->quad_c_K2 = q.c_K2;
+        cv->quad_c_se_K2 = q.c_se_K2;
+        cv->quad_t = q.t;
+        cv->quad_p = q.p;
+        cv->quad_dof = q.dof;
+        cv->ea_cold_J_mol = q.ea_cold;
+        cv->ea_hot_J_mol = q.ea_hot;
+        cv->detected = q.p < CURVE_LEVEL;
+        if (cv->detected)
+            cv->direction = q.t < 0 ? ARRANK_BEND_DOWN : ARRANK_BEND_UP;
+        fit_series(&wk, base, n, &lf_all, cv);
+    }
+    if (wk.nomem)
+        goto nomem;
+    local_windows(&wk, base, grp, n, n_groups, cv);
+    for (size_t k = 0; k < n && cv->n_local; k++)
+        d->points[base[k]].local_ea_J_mol = cv->local[window_of(grp[k], n_groups)].ea_J_mol;
+
+    /* 3. runs and repeats: label each point by run, else by its pass over a
+       repeated temperature (file order); labels numbered in order of first
+       appearance in the file, names owned here */
+    int has_repeats = 0;
+    for (size_t i = 0; i < np; i++)
+        label[i] = -1;
+    if (s->n_runs >= 2) {
+        int all = 1;
+        for (size_t k = 0; k < n; k++)
+            all &= s->points[base[k]].run >= 0;
+        int *map = all ? malloc(s->n_runs * sizeof *map) : NULL;
+        names = all ? calloc(s->n_runs, sizeof *names) : NULL;
+        if (all && (!map || !names)) {
+            free(map);
+            goto nomem;
+        }
+        for (size_t r = 0; all && r < s->n_runs; r++)
+            map[r] = -1;
+        for (size_t i = 0; all && i < np; i++) {
+            int r = s->points[i].run;
+            if (!in_base[i])
+                continue;
+            if (map[r] < 0) {
+                names[n_labels] = arrank_strdup(s->runs[r]);
+                if (!names[n_labels]) {
+                    free(map);
+                    goto nomem;
+                }
+                map[r] = n_labels++;
+            }
+            label[i] = map[r];
+        }
+        free(map);
+    }
+    if (n_labels < 2 && n_groups < n) {
+        for (int j = 0; j < n_labels; j++)
+            free(names[j]);
+        free(names);
+        names = NULL;
+        n_labels = 0;
+        size_t *seen = calloc(n_groups, sizeof *seen);
+        size_t *gof = malloc(cap * sizeof *gof);
+        if (!seen || !gof) {
+            free(seen);
+            free(gof);
+            goto nomem;
+        }
+        for (size_t k = 0; k < n; k++)
+            gof[base[k]] = grp[k];
+        size_t max_pass = 0;
+        for (size_t i = 0; i < np; i++) {
+            label[i] = -1;
+            if (!in_base[i])
+                continue;
+            label[i] = (int)seen[gof[i]]++;
+            if (seen[gof[i]] > max_pass)
+                max_pass = seen[gof[i]];
+        }
+        free(seen);
+        free(gof);
+        if (max_pass >= 2) {
+            names = calloc(max_pass, sizeof *names);
+            if (!names)
+                goto nomem;
+            for (size_t j = 0; j < max_pass; j++) {
+                names[j] = fmt(&wk, "pass %zu", j + 1);
+                n_labels++;
+                if (!names[j])
+                    goto nomem;
+            }
+        }
+    }
+    has_repeats = n_labels >= 2;
+    if (have_line && n_labels >= 2)
+        compare_runs(&wk, base, grp, n, label, n_labels, names, &lf_all);
+    test_drift(&wk, base, n);
+    has_repeats |= d->drift.tested;
+    if (wk.nomem)
+        goto nomem;
+
+    /* 4. kinetic window: trim the hot end of the candidates while the set
+       bends down or its hottest temperature falls below the line through the
+       colder ones (one-sided, same level) */
+    size_t nw = nc;
+    memcpy(win, cand, nc * sizeof *win); /* cand is sorted by T already */
+    size_t *wgrp = malloc(cap * sizeof *wgrp);
+    if (!wgrp)
+        goto nomem;
+    quad_test qc;
+    int trimmed_any = 0, still_bent = 0;
+    int start_bent = cv->tested && fit_quad(&wk, win, nw, &qc) == 0 && bends_down(&qc);
+    if (start_bent) {
+        for (;;) {
+            size_t ng = group_temps(s->points, win, nw, wgrp);
+            if (ng <= MIN_WINDOW_TEMPS) {
+                still_bent = fit_quad(&wk, win, nw, &qc) == 0 && bends_down(&qc);
+                break;
+            }
+            size_t keep = 0;
+            while (keep < nw && wgrp[keep] < ng - 1)
+                keep++;
+            int bent = fit_quad(&wk, win, nw, &qc) == 0 && bends_down(&qc);
+            int below = 0;
+            line_fit lr;
+            if (!bent && fit_line(&wk, win, keep, &lr) == 0 && lr.dof > 0) {
+                /* mean residual of the hottest group against the colder line,
+                   with its prediction variance (delta method) */
+                double sw = 0, ey = 0, ex = 0;
+                for (size_t k = keep; k < nw; k++) {
+                    sw += wk.w[win[k]];
+                    ey += wk.w[win[k]] * wk.y[win[k]];
+                    ex += wk.w[win[k]] * wk.x[win[k]];
+                }
+                ey /= sw;
+                ex /= sw;
+                double u = (ex - lr.sc.xm) / lr.sc.sx;
+                double var = lr.cov[0] + 2 * u * lr.cov[1] + u * u * lr.cov[3] + lr.s2 / sw;
+                double t = (ey - line_at(&lr, ex)) / sqrt(var);
+                below = t < -gsl_cdf_tdist_Qinv(CURVE_LEVEL, lr.dof);
+            }
+            if (!bent && !below)
+                break;
+            trimmed_any = 1;
+            for (size_t k = keep; k < nw; k++)
+                d->points[win[k]].excluded = 2; /* provisional: above the window */
+            nw = keep;
+        }
+    }
+    free(wgrp);
+    (void)trimmed_any;
+
+    /* 5. regimes */
+    line_fit lw;
+    double ea_w = fit_line(&wk, win, nw, &lw) == 0 ? lw.ea_J_mol : NAN;
+    int film_all = have_line && lf_all.ea_J_mol < FILM_EA_J_MOL;
+    for (size_t k = 0; k < n; k++) {
+        size_t i = base[k];
+        arrank_point_diag *pd = &d->points[i];
+        if (pd->excluded == 2) {
+            regime_of_excluded(&wk, i, ea_w);
+            pd->excluded = 0;
+            if (pd->regime != ARRANK_REGIME_UNCLASSIFIED && cv->n_local &&
+                cv->local[window_of(grp[k], n_groups)].ea_se_J_mol > THIN_SE_FRAC * ea_w)
+                pd->regime = ARRANK_REGIME_UNCLASSIFIED;
+            const char *rname = pd->regime == ARRANK_REGIME_PORE   ? "pore-diffusion-like"
+                                : pd->regime == ARRANK_REGIME_FILM ? "film-diffusion-like"
+                                                                   : "off the kinetic line";
+            if (!opt->use_all)
+                set_excluded(&wk, i,
+                             fmt(&wk, "%s: hotter than the kinetic window, local apparent Ea "
+                                      "%.0f kJ/mol against %.0f kJ/mol in the window",
+                                 rname, kj(pd->local_ea_J_mol), kj(ea_w)));
+        } else if (film_all)
+            pd->regime = ARRANK_REGIME_FILM;
+        else if (pd->high_conversion)
+            pd->regime = ARRANK_REGIME_UNCLASSIFIED;
+        else if (cv->tested && cv->direction != ARRANK_BEND_UP)
+            pd->regime = ARRANK_REGIME_KINETIC;
+        else
+            pd->regime = ARRANK_REGIME_UNCLASSIFIED;
+        if (pd->high_conversion && !opt->use_all)
+            set_excluded(&wk, i,
+                         fmt(&wk, "conversion %.1f %% above the %.0f %% differential limit",
+                             100.0 * s->points[i].conversion, 100.0 * d->conversion_limit));
+    }
+    if (still_bent)
+        note(&wk, "the hot end was trimmed down to %d temperatures and the rest still bends: the "
+                  "window's Ea may still understate the intrinsic value",
+             MIN_WINDOW_TEMPS);
+    if (film_all)
+        finding(&wk, "apparent Ea %.1f kJ/mol on every point is below %.0f kJ/mol: the whole "
+                     "sample may be film-controlled (no kinetic window)",
+                kj(lf_all.ea_J_mol), kj(FILM_EA_J_MOL));
+
+    /* 6. outliers on the set to be fitted */
+    size_t *fitset = opt->use_all ? base : win;
+    size_t nfit = opt->use_all ? n : nw;
+    find_outliers(&wk, fitset, nfit);
+    if (opt->drop_outliers)
+        for (size_t k = 0; k < nfit; k++) {
+            size_t i = fitset[k];
+            const arrank_point_diag *pd = &d->points[i];
+            if (pd->outlier)
+                set_excluded(&wk, i,
+                             fmt(&wk, "outlier: studentized residual %.2f (limit %.2f), Cook's "
+                                      "distance %.2f",
+                                 pd->student_resid, d->outlier_t_limit, pd->cooks_d));
+        }
+    if (wk.nomem)
+        goto nomem;
+
+    /* 7. refit on what is left */
+    int changed = 0;
+    for (size_t k = 0; k < n; k++)
+        if (d->points[base[k]].excluded) {
+            res->used[base[k]] = 0;
+            changed = 1;
+        }
+    if (changed) {
+        st = arrank_result_refit(res, err);
+        if (st != ARRANK_OK)
+            goto fail;
+        if (res->error) {
+            /* too little left: keep every point and say so */
+            note(&wk, "the points left after the exclusions cannot be fitted (%s); every point "
+                      "is kept",
+                 res->error);
+            memcpy(res->used, used0, np);
+            for (size_t i = 0; i < np; i++) {
+                d->points[i].excluded = 0;
+                free(d->points[i].reason);
+                d->points[i].reason = NULL;
+            }
+            st = arrank_result_refit(res, err);
+            if (st != ARRANK_OK)
+                goto fail;
+        } else {
+            d->window_applied = nw < nc;
+        }
+    }
+    if (!res->error) {
+        d->window_lo_K = res->fit.T_min_K;
+        d->window_hi_K = res->fit.T_max_K;
+        d->window_n = res->fit.n;
+    }
+
+    /* 8. transport criteria, mixed basis */
+    criteria(&wk, c);
+    char why[512];
+    if (arrank_diagnose_basis(c, s, why, sizeof why)) {
+        d->mixed_basis = 1;
+        finding(&wk, "normalisation bases are mixed: %s; rankings across bases can invert", why);
+    }
+
+    /* 9. causes and words */
+    if (cv->detected)
+        name_causes(&wk, base, n, isfinite(ea_w) ? ea_w : d->ea_all_J_mol, has_repeats);
+    describe(&wk, res, base, n);
+    if (wk.nomem)
+        goto nomem;
+
+    /* 10. flags */
+    if (cv->detected)
+        res->flags |= ARRANK_FLAG_CURVED;
+    for (size_t k = 0; k < n; k++) {
+        arrank_regime r = d->points[base[k]].regime;
+        if (r == ARRANK_REGIME_PORE || r == ARRANK_REGIME_FILM)
+            res->flags |= ARRANK_FLAG_TRANSPORT;
+    }
+    for (size_t j = 0; j < d->n_runs; j++) {
+        if (d->runs[j].verdict < 0)
+            res->flags |= ARRANK_FLAG_DEACTIVATION;
+        if (d->runs[j].verdict > 0)
+            res->flags |= ARRANK_FLAG_ACTIVATION;
+    }
+    if (d->drift.verdict < 0)
+        res->flags |= ARRANK_FLAG_DEACTIVATION;
+    if (d->drift.verdict > 0)
+        res->flags |= ARRANK_FLAG_ACTIVATION;
+    if (d->n_high_conversion)
+        res->flags |= ARRANK_FLAG_HIGH_CONVERSION;
+    if (d->n_outliers)
+        res->flags |= ARRANK_FLAG_OUTLIER;
+    if (d->mixed_basis)
+        res->flags |= ARRANK_FLAG_MIXED_BASIS;
+    if (res->n_used < n)
+        res->flags |= ARRANK_FLAG_EXCLUDED;
+
+    for (int j = 0; j < n_labels; j++)
+        free(names[j]);
+    free(names);
+    free(wk.x);
+    free(wk.y);
+    free(wk.w);
+    free(base);
+    free(grp);
+    free(cand);
+    free(win);
+    free(label);
+    free(used0);
+    free(in_base);
+    res->diagnosis = d;
+    return ARRANK_OK;
+
+nomem:
+    st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+fail:
+    for (int j = 0; j < n_labels; j++)
+        free(names[j]);
+    free(names);
+    free(wk.x);
+    free(wk.y);
+    free(wk.w);
+    free(base);
+    free(grp);
+    free(cand);
+    free(win);
+    free(label);
+    free(in_base);
+    if (used0) {
+        memcpy(res->used, used0, np);
+        free(used0);
+    }
+    arrank_diagnosis_free(d);
+    return st;
+}
+
+void arrank_diagnosis_free(arrank_diagnosis *d)
+{
+    if (!d)
+        return;
+    if (d->points)
+        for (size_t i = 0; i < d->n_points; i++)
+            free(d->points[i].reason);
+    free(d->points);
+    arrank_curvature *cv = &d->curvature;
+    free(cv->local);
+    for (size_t k = 0; k < cv->n_causes; k++) {
+        free(cv->causes[k].cause);
+        free(cv->causes[k].evidence);
+    }
+    free(cv->causes);
+    free(d->weisz_prater.detail);
+    free(d->mears.detail);
+    for (size_t j = 0; j < d->n_runs; j++) {
+        free(d->runs[j].label_ref);
+        free(d->runs[j].label);
+    }
+    free(d->runs);
+    free(d->drift.note);
+    for (size_t k = 0; k < d->n_findings; k++)
+        free(d->findings[k]);
+    free(d->findings);
+    for (size_t k = 0; k < d->n_notes; k++)
+        free(d->notes[k]);
+    free(d->notes);
+    free(d);
+}
