@@ -374,10 +374,19 @@ static const char *required_unit(parser *p, size_t idx, const char *example)
     return c->unit;
 }
 
-/* Re-point a units error at a header column, adding the column name. */
+/*
+ * Re-point a units error at a header column: the column name goes right after
+ * the quoted unit ("unknown unit 'x' in column 'T'", "'s' in column 'T' is
+ * not a temperature unit").
+ */
 static void unit_fail(parser *p, size_t idx, const arrank_error *uerr)
 {
-    fail(p, uerr->status, (long)idx + 1, "%s in column '%s'", uerr->message, p->cols[idx].name);
+    const char *msg = uerr->message;
+    const char *q1 = strchr(msg, '\'');
+    const char *q2 = q1 ? strchr(q1 + 1, '\'') : NULL;
+    size_t head = q2 ? (size_t)(q2 + 1 - msg) : strlen(msg);
+    fail(p, uerr->status, (long)idx + 1, "%.*s in column '%s'%s", (int)head, msg,
+         p->cols[idx].name, msg + head);
 }
 
 /* Everything the header row decides: units, conversions, required columns. */

@@ -339,8 +339,8 @@ arrank_status arrank_units_rate(arrank_units *units, const char *unit, arrank_ba
     }
     ut_free(u);
     return arrank_errorf(err, ARRANK_EUNIT,
-                         "'%s' is not a rate per mass, per area or per site "
-                         "(e.g. umol/(g*s), umol/(m2*s), 1/s)",
+                         "'%s' is not a rate per mass, area or site "
+                         "(such as umol/(g*s), umol/(m2*s) or 1/s)",
                          unit);
 }
 
