@@ -104,8 +104,9 @@ typedef struct {
 /* Comparison of one run (or repeat pass) with the first. */
 typedef struct {
     char *label_ref, *label; /* run labels, or "pass 1", "pass 2" for repeats */
-    const char *method;      /* "paired" (same temperatures) or "offset" (common slope) */
-    size_t n_pairs;          /* matched temperatures (paired), else points */
+    const char *method;      /* "paired" (3 or more common set points) or "reference line"
+                                (the run's points against the line through the first run) */
+    size_t n_pairs;          /* common set points (paired), else the run's points */
     double shift_ln, shift_ln_se, dof, t, p;
     double change;           /* exp(shift_ln) - 1: relative change of the later run */
     int verdict;             /* -1 deactivation, +1 activation, 0 none */

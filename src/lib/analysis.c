@@ -12,6 +12,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "arrank/diagnose.h"
 #include "internal.h"
 
 /* Thresholds for the basic flags (README "Flags"). */
@@ -202,6 +203,13 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
             goto fail;
         if (res->error)
             continue;
+        if (opt.diagnose) {
+            st = arrank_diagnose_result(res, campaign, &opt, err);
+            if (st != ARRANK_OK)
+                goto fail;
+            if (res->error)
+                continue;
+        }
         basic_flags(res);
         if (want_T) {
             st = arrank_fit_predict(&res->fit, opt.operating_temp_K, opt.confidence, &res->at_T,
@@ -250,6 +258,7 @@ void arrank_analysis_free(arrank_analysis *a)
     for (size_t i = 0; i < a->n_results; i++) {
         free(a->results[i].error);
         free(a->results[i].used);
+        arrank_diagnosis_free(a->results[i].diagnosis);
     }
     free(a->results);
     free(a->order);

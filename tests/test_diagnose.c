@@ -1,0 +1,853 @@
+/*
+ * test_diagnose.c - the diagnostics against data generated from published
+ * models, and the transport criteria against hand calculations.
+ *
+ * External references, named beside each check:
+ *  - the effectiveness factor of a first-order reaction in an isothermal
+ *    sphere, eta = (3/phi^2)(phi coth phi - 1) (Thiele, Ind. Eng. Chem.
+ *    31:916, 1939; Weisz & Prater, Adv. Catal. 6:143, 1954), and its falsified
+ *    kinetics: E_app/E = 0.56 at phi = 10 and 0.52 at phi = 30, tending to
+ *    (E + E_D)/2 (computed in the project's domain notes from that formula);
+ *  - film control: a transport conductance in series with the kinetics,
+ *    1/r = 1/k + 1/k_t, with k_t weakly temperature dependent, giving an
+ *    apparent Ea of a few kJ/mol (Adiabatic Fixed-Bed Reactors, Practical
+ *    Guides in Chemical Engineering, sec. 2.6);
+ *  - Weisz-Prater and Mears numbers: hand calculations from the published
+ *    definitions (see the test's comment);
+ *  - differential and integral first-order rates from conversion: hand values
+ *    from r = F y X / W and k_w = (Q/W) ln(1/(1 - X)) (plug-flow design
+ *    equation; e.g. Fogler, Elements of Chemical Reaction Engineering).
+ * Random scatter comes from GSL's mt19937 with fixed seeds, so every run sees
+ * the same data sets.
+ */
+#include <math.h>
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <cmocka.h>
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_randist.h>
+#include <gsl/gsl_rng.h>
+#include <jansson.h>
+
+#include "../src/lib/internal.h"
+#include "arrank/analysis.h"
+#include "arrank/campaign.h"
+#include "arrank/diagnose.h"
+#include "arrank/fit.h"
+#include "arrank/units.h"
+
+static const double R = ARRANK_R_J_MOL_K;
+static arrank_units *units;
+
+/* ---- building campaigns in memory ------------------------------------------ */
+
+typedef struct {
+    size_t n;
+    double T_K[64], rate[64], conv[64], tos_h[64];
+    const char *run[64];
+    const char *meta; /* extra "# key = value" lines, or NULL */
+    int with_conv, with_tos;
+} data;
+
+static char *xstrdup(const char *s)
+{
+    char *d = malloc(strlen(s) + 1);
+    assert_non_null(d);
+    strcpy(d, s);
+    return d;
+}
+
+/* CSV text of one sample in the campaign format (rates in umol/(g*s)). */
+static char *csv_text(const char *id, const data *dt, const char *rate_unit)
+{
+    size_t cap = 4096 + dt->n * 160;
+    char *b = malloc(cap);
+    assert_non_null(b);
+    int k = snprintf(b, cap, "# sample = %s\n%s", id, dt->meta ? dt->meta : "");
+    k += snprintf(b + k, cap - (size_t)k, "T [K], rate [%s]%s%s%s\n", rate_unit,
+                  dt->run[0] ? ", run" : "", dt->with_conv ? ", conversion" : "",
+                  dt->with_tos ? ", time_on_stream [h]" : "");
+    for (size_t i = 0; i < dt->n; i++) {
+        k += snprintf(b + k, cap - (size_t)k, "%.6f, %.10g", dt->T_K[i], dt->rate[i]);
+        if (dt->run[0])
+            k += snprintf(b + k, cap - (size_t)k, ", %s", dt->run[i]);
+        if (dt->with_conv)
+            k += snprintf(b + k, cap - (size_t)k, ", %.6f", dt->conv[i]);
+        if (dt->with_tos)
+            k += snprintf(b + k, cap - (size_t)k, ", %.4f", dt->tos_h[i]);
+        k += snprintf(b + k, cap - (size_t)k, "\n");
+    }
+    return b;
+}
+
+/* A campaign of n samples parsed from CSV text (the reader's own path). */
+static arrank_campaign *campaign_of(size_t n, const data *const *dts, const char *const *ids,
+                                    const char *const *rate_units)
+{
+    arrank_campaign *c = calloc(1, sizeof *c);
+    assert_non_null(c);
+    c->path = xstrdup("memory");
+    c->name = xstrdup("memory");
+    c->title = xstrdup("memory");
+    c->operating_temp_K = NAN;
+    c->confidence = NAN;
+    c->samples = calloc(n, sizeof *c->samples);
+    assert_non_null(c->samples);
+    for (size_t i = 0; i < n; i++) {
+        char *text = csv_text(ids[i], dts[i], rate_units[i]);
+        char name[64];
+        snprintf(name, sizeof name, "%s.csv", ids[i]);
+        arrank_error err;
+        arrank_error_clear(&err);
+        arrank_status st =
+            arrank_sample_parse(name, text, strlen(text), units, NULL, &c->samples[i], &err);
+        if (st != ARRANK_OK)
+            printf("# parse failed: %s\n", err.message);
+        assert_int_equal(st, ARRANK_OK);
+        c->n_samples++;
+        free(text);
+    }
+    c->rate_unit = xstrdup(rate_units[0]);
+    c->basis = c->samples[0].basis;
+    return c;
+}
+
+static arrank_analysis *analyse(const arrank_campaign *c, const arrank_options *opt)
+{
+    arrank_analysis *a = NULL;
+    arrank_error err;
+    arrank_error_clear(&err);
+    arrank_status st = arrank_analysis_run(c, opt, &a, &err);
+    if (st != ARRANK_OK)
+        printf("# analysis failed: %s\n", err.message);
+    assert_int_equal(st, ARRANK_OK);
+    return a;
+}
+
+/* One sample through the whole pipeline. */
+typedef struct {
+    arrank_campaign *c;
+    arrank_analysis *a;
+    const arrank_result *res;
+    const arrank_diagnosis *d;
+} one;
+
+static one run_one(const data *dt, const arrank_options *opt)
+{
+    const data *dts[1] = {dt};
+    const char *ids[1] = {"Kestrel-7"};
+    const char *ru[1] = {"umol/(g*s)"};
+    one o;
+    o.c = campaign_of(1, dts, ids, ru);
+    o.a = analyse(o.c, opt);
+    o.res = &o.a->results[0];
+    assert_null(o.res->error);
+    o.d = o.res->diagnosis;
+    assert_non_null(o.d);
+    return o;
+}
+
+static void one_free(one *o)
+{
+    arrank_analysis_free(o->a);
+    arrank_campaign_free(o->c);
+}
+
+static void print_findings(const arrank_result *res)
+{
+    arrank_error err;
+    arrank_error_clear(&err);
+    fflush(stdout);
+    /* as TAP comments so they never look like a result line */
+    char *buf = NULL;
+    size_t len = 0;
+    FILE *m = open_memstream(&buf, &len);
+    assert_non_null(m);
+    assert_int_equal(arrank_diagnosis_write_text(m, res, &err), ARRANK_OK);
+    fclose(m);
+    for (char *line = strtok(buf, "\n"); line; line = strtok(NULL, "\n"))
+        printf("# %s\n", line);
+    free(buf);
+}
+
+/* ---- generators --------------------------------------------------------------- */
+
+/* Evenly spaced temperatures. */
+static void temps(data *dt, size_t n, double lo_K, double hi_K)
+{
+    dt->n = n;
+    for (size_t i = 0; i < n; i++)
+        dt->T_K[i] = lo_K + (hi_K - lo_K) * (double)i / (double)(n - 1);
+}
+
+/* Intrinsic first-order rate constant as a rate, umol/(g s). */
+static double k_kin(double T_K, double ea_J_mol, double k_ref, double T_ref_K)
+{
+    return k_ref * exp(-ea_J_mol / R * (1.0 / T_K - 1.0 / T_ref_K));
+}
+
+/* Effectiveness factor of a first-order reaction in an isothermal sphere
+   (Thiele 1939; Weisz & Prater 1954): eta = (3/phi^2)(phi coth phi - 1);
+   the series form for small phi keeps it exact to rounding near 0. */
+static double eta_sphere(double phi)
+{
+    if (phi < 1e-3)
+        return 1.0 - phi * phi / 15.0;
+    return 3.0 / (phi * phi) * (phi / tanh(phi) - 1.0);
+}
+
+/* Pore-diffusion-limited rates: phi = phi_ref sqrt((k/k_ref)/(D/D_ref)),
+   D_e ~ T^0.5 (Knudsen-like, weakly T dependent). */
+static void pore_data(data *dt, double ea, double phi_ref, double T_ref, double sigma,
+                      gsl_rng *rng)
+{
+    for (size_t i = 0; i < dt->n; i++) {
+        double T = dt->T_K[i];
+        double k = k_kin(T, ea, 2.0, T_ref);
+        double phi = phi_ref * sqrt((k / 2.0) / sqrt(T / T_ref));
+        dt->rate[i] = eta_sphere(phi) * k * exp(rng ? gsl_ran_gaussian(rng, sigma) : 0.0);
+    }
+}
+
+static void kinetic_data(data *dt, double ea, double sigma, gsl_rng *rng)
+{
+    for (size_t i = 0; i < dt->n; i++)
+        dt->rate[i] = k_kin(dt->T_K[i], ea, 1.3, 500.0) * exp(gsl_ran_gaussian(rng, sigma));
+}
+
+/* Least-squares slope of ln(eta k) against 1/T between two temperatures,
+   from the exact model (no noise): the local apparent Ea the data carry. */
+static double exact_local_ea(double ea, double phi_ref, double T_ref, double T1, double T2)
+{
+    data a = {0};
+    a.n = 2;
+    a.T_K[0] = T1;
+    a.T_K[1] = T2;
+    pore_data(&a, ea, phi_ref, T_ref, 0.0, NULL);
+    return -R * (log(a.rate[1]) - log(a.rate[0])) / (1.0 / T2 - 1.0 / T1);
+}
+
+/* ---- pore diffusion -------------------------------------------------------------- */
+
+static void test_pore_sphere(void **state)
+{
+    (void)state;
+    /* E = 112.4 kJ/mol; phi = 1 at 523 K; 12 points over 450-630 K give phi
+       from about 0.15 (eta > 0.998) to about 17 (eta ~ 0.17); 1.5 % scatter. */
+    const double ea = 112400.0, T_ref = 523.0;
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    gsl_rng_set(rng, 20240611);
+    data dt = {0};
+    temps(&dt, 12, 450.0, 630.0);
+    pore_data(&dt, ea, 1.0, T_ref, 0.015, rng);
+    gsl_rng_free(rng);
+    arrank_options opt = arrank_options_defaults();
+    one o = run_one(&dt, &opt);
+    print_findings(o.res);
+    const arrank_diagnosis *d = o.d;
+
+    assert_true(d->curvature.detected);
+    assert_int_equal(d->curvature.direction, ARRANK_BEND_DOWN);
+    /* hot end: the two hottest points are pore-diffusion-like */
+    assert_int_equal(d->points[11].regime, ARRANK_REGIME_PORE);
+    assert_int_equal(d->points[10].regime, ARRANK_REGIME_PORE);
+    /* cold end kinetic */
+    for (size_t i = 0; i < 4; i++)
+        assert_int_equal(d->points[i].regime, ARRANK_REGIME_KINETIC);
+    /* local Ea of the hottest window tends to half the intrinsic value:
+       exact model over 610-630 K gives the reference, and the strong-limit
+       ratios 0.56 (phi = 10) and 0.52 (phi = 30) (domain notes, computed from
+       Thiele's sphere formula) bound it; tolerance: the window's own standard
+       error at 1.5 % scatter is about 6 kJ/mol, so +/- 0.08 in the ratio. */
+    const arrank_local_ea *hot = &d->curvature.local[d->curvature.n_local - 1];
+    double ratio = hot->ea_J_mol / ea;
+    double exact = exact_local_ea(ea, 1.0, T_ref, 610.0, 630.0) / ea;
+    printf("# hottest window %.0f-%.0f K: Ea %.1f kJ/mol, ratio %.3f (exact model %.3f)\n",
+           hot->temp_lo_K, hot->temp_hi_K, hot->ea_J_mol / 1000, ratio, exact);
+    assert_true(exact > 0.50 && exact < 0.60);
+    assert_true(fabs(ratio - exact) < 0.08);
+    assert_true(ratio > 0.42 && ratio < 0.68);
+    /* the kinetic window is found and its refit's interval holds the true Ea */
+    assert_true(d->window_applied);
+    assert_true(o.res->flags & ARRANK_FLAG_TRANSPORT);
+    assert_true(o.res->flags & ARRANK_FLAG_EXCLUDED);
+    assert_true(o.res->flags & ARRANK_FLAG_CURVED);
+    const arrank_arrhenius *f = &o.res->fit;
+    double t = arrank_t_quantile(0.95, f->dof);
+    printf("# window %.0f-%.0f K, %zu points: Ea %.1f +/- %.1f kJ/mol (true %.1f)\n",
+           f->T_min_K, f->T_max_K, f->n, f->ea_J_mol / 1000, t * f->ea_se_J_mol / 1000,
+           ea / 1000);
+    assert_true(f->n >= 4 && f->n < 12);
+    assert_true(fabs(f->ea_J_mol - ea) <= t * f->ea_se_J_mol);
+    /* every left-out point has a reason, and none is silent */
+    for (size_t i = 0; i < dt.n; i++) {
+        if (!o.res->used[i]) {
+            assert_non_null(d->points[i].reason);
+            assert_true(d->points[i].excluded);
+        } else
+            assert_null(d->points[i].reason);
+    }
+    /* the cause list names pore diffusion as supported */
+    int pore_named = 0;
+    for (size_t k = 0; k < d->curvature.n_causes; k++)
+        pore_named |= d->curvature.causes[k].supported &&
+                      strcmp(d->curvature.causes[k].cause, "pore diffusion") == 0;
+    assert_true(pore_named);
+    one_free(&o);
+}
+
+/* With --use-all nothing is left out but the regimes are still reported. */
+static void test_use_all(void **state)
+{
+    (void)state;
+    data dt = {0};
+    temps(&dt, 12, 450.0, 630.0);
+    pore_data(&dt, 112400.0, 1.0, 523.0, 0.0, NULL);
+    arrank_options opt = arrank_options_defaults();
+    opt.use_all = 1;
+    one o = run_one(&dt, &opt);
+    assert_int_equal(o.res->n_used, 12);
+    assert_false(o.d->window_applied);
+    assert_false(o.res->flags & ARRANK_FLAG_EXCLUDED);
+    assert_int_equal(o.d->points[11].regime, ARRANK_REGIME_PORE);
+    assert_true(o.res->flags & ARRANK_FLAG_CURVED);
+    one_free(&o);
+}
+
+/* ---- film diffusion --------------------------------------------------------------- */
+
+static void test_film(void **state)
+{
+    (void)state;
+    /* 1/r = 1/k + 1/(k_t (T/T_ref)^0.75): kinetics E = 87.3 kJ/mol; the film
+       conductance equals the kinetic rate at about 540 K and is 15 % of it
+       at 600 K; 11 points over 470-600 K, 1 % scatter. */
+    const double ea = 87300.0;
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    gsl_rng_set(rng, 777001);
+    data dt = {0};
+    temps(&dt, 11, 470.0, 600.0);
+    double kt_ref = k_kin(540.0, ea, 1.0, 500.0);
+    for (size_t i = 0; i < dt.n; i++) {
+        double T = dt.T_K[i];
+        double k = k_kin(T, ea, 1.0, 500.0), kt = kt_ref * pow(T / 540.0, 0.75);
+        dt.rate[i] = 1.0 / (1.0 / k + 1.0 / kt) * exp(gsl_ran_gaussian(rng, 0.01));
+    }
+    gsl_rng_free(rng);
+    arrank_options opt = arrank_options_defaults();
+    one o = run_one(&dt, &opt);
+    print_findings(o.res);
+    const arrank_diagnosis *d = o.d;
+    assert_true(d->curvature.detected);
+    assert_int_equal(d->curvature.direction, ARRANK_BEND_DOWN);
+    assert_int_equal(d->points[10].regime, ARRANK_REGIME_FILM);
+    assert_int_equal(d->points[0].regime, ARRANK_REGIME_KINETIC);
+    /* the series-resistance model beats the line by a wide margin */
+    assert_true(d->curvature.series_fitted);
+    assert_true(d->curvature.series_p < 1e-3);
+    assert_true(d->curvature.aicc_series < d->curvature.aicc_line - 4.0);
+    assert_true(o.res->flags & ARRANK_FLAG_TRANSPORT);
+    one_free(&o);
+}
+
+/* ---- false alarms and power ----------------------------------------------------- */
+
+/*
+ * 200 seeded straight data sets and 200 seeded moderately limited ones, each
+ * 10 temperatures evenly over 480-560 K (80 K) with 3 % lognormal scatter and
+ * an intrinsic Ea drawn between 80 and 140 kJ/mol.
+ * "Moderately limited" here means: pore diffusion in a sphere with Thiele
+ * modulus 4 at the hottest point, so the hottest rate is 56 % of the kinetic
+ * one (eta(4) = 0.5630 from Thiele's formula: 0.1875 (4 coth 4 - 1)) while the coldest is within
+ * 1-5 % of it; stronger than the onset, well short of full pore control.
+ * Required by the project: at most 5 % of the straight sets flagged curved,
+ * at least 90 % of the limited ones.  The rule (quadratic term, two-sided
+ * 2 % level) was chosen before these data; a stand-alone simulation of the
+ * same design gave about 2 % and 96 %.
+ */
+static void test_false_alarm_and_power(void **state)
+{
+    (void)state;
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    gsl_rng_set(rng, 4159);
+    arrank_options opt = arrank_options_defaults();
+    size_t false_alarm = 0, hits = 0, trials = 200;
+    for (size_t k = 0; k < trials; k++) {
+        double ea = 80000.0 + 60000.0 * gsl_rng_uniform(rng);
+        data dt = {0};
+        temps(&dt, 10, 480.0, 560.0);
+        kinetic_data(&dt, ea, 0.03, rng);
+        one o = run_one(&dt, &opt);
+        false_alarm += o.d->curvature.detected;
+        one_free(&o);
+
+        data lim = {0};
+        temps(&lim, 10, 480.0, 560.0);
+        /* phi_ref at T_ref = 560 K is the hottest point's modulus (the
+           generator's D ~ T^0.5 factor is 1 there) */
+        pore_data(&lim, ea, 4.0, 560.0, 0.03, rng);
+        one p = run_one(&lim, &opt);
+        hits += p.d->curvature.detected && p.d->curvature.direction == ARRANK_BEND_DOWN;
+        one_free(&p);
+    }
+    gsl_rng_free(rng);
+    printf("# straight sets flagged curved: %zu of %zu; limited sets flagged: %zu of %zu\n",
+           false_alarm, trials, hits, trials);
+    assert_true(eta_sphere(4.0) > 0.5629 && eta_sphere(4.0) < 0.5631);
+    assert_true(false_alarm <= trials / 20);
+    assert_true(hits * 10 >= trials * 9);
+}
+
+/*
+ * The kinetic window is chosen from the same data it is fitted to, so its
+ * nominal 95 % interval cannot keep its full coverage (inference after
+ * selection).  Measured here on 300 seeded copies of the pore-diffusion set
+ * of test_pore_sphere at 3 % scatter; a stand-alone run of 200 gave 92 %.
+ * Required: at least 85 %, and the mean error of the window's Ea within
+ * 2 % of the intrinsic value.
+ */
+static void test_window_coverage(void **state)
+{
+    (void)state;
+    const double ea = 112400.0;
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    gsl_rng_set(rng, 271828);
+    arrank_options opt = arrank_options_defaults();
+    size_t cover = 0, trials = 300;
+    double err_sum = 0;
+    for (size_t k = 0; k < trials; k++) {
+        data dt = {0};
+        temps(&dt, 12, 450.0, 630.0);
+        pore_data(&dt, ea, 1.0, 523.0, 0.03, rng);
+        one o = run_one(&dt, &opt);
+        const arrank_arrhenius *f = &o.res->fit;
+        double t = arrank_t_quantile(0.95, f->dof);
+        cover += fabs(f->ea_J_mol - ea) <= t * f->ea_se_J_mol;
+        err_sum += f->ea_J_mol - ea;
+        one_free(&o);
+    }
+    gsl_rng_free(rng);
+    printf("# window interval holds the intrinsic Ea in %zu of %zu sets; mean error %.2f "
+           "kJ/mol\n",
+           cover, trials, err_sum / (double)trials / 1000.0);
+    assert_true(cover * 100 >= trials * 85);
+    assert_true(fabs(err_sum / (double)trials) < 0.02 * ea);
+}
+
+/* ---- transport criteria ------------------------------------------------------------ */
+
+/*
+ * Hand calculation from the published definitions (no book example is quoted
+ * here, since its numbers could not be checked): Weisz & Prater (1954)
+ * Phi = r_obs,v R_p^2 / (D_e C_s); Mears (1971), in the form tabulated by
+ * Madon & Boudart (1982), r_obs,v R_p n / (k_c C_b).
+ * Inputs: rate 3.7 umol/(g s) = 3.7e-3 mol/(kg s), pellet density 1250 kg/m3
+ * -> r_v = 4.625 mol/(m3 s); particle diameter 300 um -> R_p = 1.5e-4 m;
+ * D_e = 2.0e-7 m2/s; C = 8.2 mol/m3 (about 20 % of a gas at 1 bar, 293 K);
+ * k_c = 0.05 m/s; n = 1.
+ *   Phi   = 4.625 * (1.5e-4)^2 / (2.0e-7 * 8.2) = 1.040625e-7 / 1.64e-6
+ *         = 0.0634527...
+ *   Mears = 4.625 * 1.5e-4 * 1 / (0.05 * 8.2) = 6.9375e-4 / 0.41 = 1.692073e-3
+ */
+static void test_weisz_prater_mears(void **state)
+{
+    (void)state;
+    double wp = arrank_diagnose_weisz_prater(4.625, 1.5e-4, 2.0e-7, 8.2);
+    double me = arrank_diagnose_mears(4.625, 1.5e-4, 1.0, 0.05, 8.2);
+    assert_true(fabs(wp / 0.0634527439 - 1.0) < 1e-9);
+    assert_true(fabs(me / 1.69207317e-3 - 1.0) < 1e-8);
+    assert_true(isnan(arrank_diagnose_weisz_prater(-1.0, 1.5e-4, 2.0e-7, 8.2)));
+    assert_true(isnan(arrank_diagnose_mears(4.625, 1.5e-4, 1.0, 0.0, 8.2)));
+
+    /* the same numbers from sample metadata, rate at the hottest point */
+    data dt = {0};
+    temps(&dt, 6, 500.0, 550.0);
+    for (size_t i = 0; i < dt.n; i++)
+        dt.rate[i] = k_kin(dt.T_K[i], 95000.0, 3.7, 550.0);
+    dt.meta = "# particle_diameter = 300 um\n"
+              "# pellet_density = 1.25 g/cm3\n"
+              "# effective_diffusivity = 0.002 cm2/s\n"
+              "# bulk_concentration = 8.2 mol/m3\n"
+              "# film_coefficient = 5 cm/s\n"
+              "# reaction_order = 1\n";
+    arrank_options opt = arrank_options_defaults();
+    one o = run_one(&dt, &opt);
+    print_findings(o.res);
+    assert_true(o.d->weisz_prater.computed);
+    assert_true(fabs(o.d->weisz_prater.value / 0.0634527439 - 1.0) < 1e-6);
+    /* first order: limit 0.6 (Weisz & Prater 1954 via Madon & Boudart 1982) */
+    assert_true(fabs(o.d->weisz_prater.threshold - 0.6) < 1e-12);
+    assert_true(o.d->weisz_prater.passes);
+    assert_true(o.d->mears.computed);
+    assert_true(fabs(o.d->mears.value / 1.69207317e-3 - 1.0) < 1e-6);
+    assert_true(fabs(o.d->mears.threshold - 0.15) < 1e-12);
+    assert_true(o.d->mears.passes);
+    assert_non_null(strstr(o.d->weisz_prater.source, "Madon & Boudart"));
+    one_free(&o);
+
+    /* a hundredfold larger particle fails Weisz-Prater: Phi x 1e4 = 634.5 */
+    dt.meta = "# particle_diameter = 30 mm\n"
+              "# pellet_density = 1250 kg/m3\n"
+              "# effective_diffusivity = 2e-7 m2/s\n"
+              "# bulk_concentration = 8.2 mol/m3\n";
+    o = run_one(&dt, &opt);
+    assert_true(o.d->weisz_prater.computed);
+    assert_true(fabs(o.d->weisz_prater.value / 634.527439 - 1.0) < 1e-6);
+    assert_false(o.d->weisz_prater.passes);
+    /* no order given: the general 0.3 rule (Vannice 2005) */
+    assert_true(fabs(o.d->weisz_prater.threshold - 0.3) < 1e-12);
+    assert_false(o.d->mears.computed);
+    assert_non_null(o.d->mears.detail);
+    one_free(&o);
+}
+
+/* ---- runs ------------------------------------------------------------------------- */
+
+/* Heating ramp then cooling ramp over the same set points. */
+static void ramp_pair(data *dt, double loss, double sigma, unsigned long seed)
+{
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    gsl_rng_set(rng, seed);
+    const double T[6] = {483.15, 498.15, 513.15, 528.15, 543.15, 558.15};
+    dt->n = 12;
+    for (size_t i = 0; i < 6; i++) {
+        dt->T_K[i] = T[i] + gsl_ran_gaussian(rng, 0.2);
+        dt->run[i] = "up";
+        dt->T_K[6 + i] = T[5 - i] + gsl_ran_gaussian(rng, 0.2);
+        dt->run[6 + i] = "down";
+    }
+    for (size_t i = 0; i < 12; i++) {
+        double act = i < 6 ? 1.0 : 1.0 - loss;
+        dt->rate[i] = act * k_kin(dt->T_K[i], 104000.0, 0.85, 520.0) *
+                      exp(gsl_ran_gaussian(rng, sigma));
+    }
+    gsl_rng_free(rng);
+}
+
+static void test_deactivation_pair(void **state)
+{
+    (void)state;
+    arrank_options opt = arrank_options_defaults();
+    /* 20 % activity lost between the heating and the cooling ramp, 3 % scatter */
+    data dt = {0};
+    ramp_pair(&dt, 0.20, 0.03, 99117);
+    one o = run_one(&dt, &opt);
+    print_findings(o.res);
+    assert_true(o.res->flags & ARRANK_FLAG_DEACTIVATION);
+    assert_false(o.res->flags & ARRANK_FLAG_ACTIVATION);
+    assert_int_equal(o.d->n_runs, 1);
+    assert_string_equal(o.d->runs[0].label_ref, "up");
+    assert_string_equal(o.d->runs[0].label, "down");
+    assert_string_equal(o.d->runs[0].method, "paired");
+    assert_int_equal(o.d->runs[0].n_pairs, 6);
+    assert_true(fabs(o.d->runs[0].change + 0.20) < 0.05);
+    one_free(&o);
+
+    /* a clean pair on ten seeds: never flagged */
+    for (unsigned long seed = 1; seed <= 10; seed++) {
+        data c = {0};
+        ramp_pair(&c, 0.0, 0.03, 5000 + seed);
+        one p = run_one(&c, &opt);
+        assert_false(p.res->flags & (ARRANK_FLAG_DEACTIVATION | ARRANK_FLAG_ACTIVATION));
+        assert_int_equal(p.d->runs[0].verdict, 0);
+        one_free(&p);
+    }
+}
+
+/* A reference temperature repeated at the end, no run column; and drift with
+   time on stream on a randomised temperature order. */
+static void test_repeats_and_drift(void **state)
+{
+    (void)state;
+    arrank_options opt = arrank_options_defaults();
+    data dt = {0};
+    const double T[8] = {490, 500, 510, 520, 530, 540, 550, 500};
+    dt.n = 8;
+    for (size_t i = 0; i < 8; i++) {
+        dt.T_K[i] = T[i];
+        dt.rate[i] = k_kin(T[i], 98000.0, 1.0, 520.0) * (i == 7 ? 0.75 : 1.0) *
+                     (1.0 + 0.01 * ((double)(i % 3) - 1.0));
+    }
+    one o = run_one(&dt, &opt);
+    print_findings(o.res);
+    assert_int_equal(o.d->n_runs, 1);
+    assert_string_equal(o.d->runs[0].label, "pass 2");
+    assert_true(o.res->flags & ARRANK_FLAG_DEACTIVATION);
+    one_free(&o);
+
+    /* drift: 1.5 %/h loss over 10 h, temperatures in shuffled order */
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    gsl_rng_set(rng, 31337);
+    const double Ts[10] = {515, 485, 545, 500, 530, 490, 540, 505, 525, 510};
+    data dr = {0};
+    dr.n = 10;
+    dr.with_tos = 1;
+    for (size_t i = 0; i < 10; i++) {
+        dr.T_K[i] = Ts[i];
+        dr.tos_h[i] = 1.0 + (double)i;
+        dr.rate[i] = k_kin(Ts[i], 98000.0, 1.0, 520.0) * exp(-0.015 * dr.tos_h[i]) *
+                     exp(gsl_ran_gaussian(rng, 0.01));
+    }
+    gsl_rng_free(rng);
+    o = run_one(&dr, &opt);
+    print_findings(o.res);
+    assert_true(o.d->drift.tested);
+    assert_true(fabs(o.d->drift.slope_ln_per_h + 0.015) < 0.006);
+    assert_int_equal(o.d->drift.verdict, -1);
+    assert_true(o.res->flags & ARRANK_FLAG_DEACTIVATION);
+    one_free(&o);
+}
+
+/* ---- conversion ---------------------------------------------------------------------- */
+
+static void test_conversion(void **state)
+{
+    (void)state;
+    data dt = {0};
+    temps(&dt, 8, 480.0, 550.0);
+    dt.with_conv = 1;
+    for (size_t i = 0; i < dt.n; i++) {
+        dt.rate[i] = k_kin(dt.T_K[i], 91000.0, 2.2, 515.0);
+        dt.conv[i] = 0.012 * dt.rate[i] / k_kin(480.0, 91000.0, 2.2, 515.0);
+    }
+    /* conversions run from 1.2 % to about 14 % at 550 K: the last one or two
+       are above 10 % */
+    size_t above = 0;
+    for (size_t i = 0; i < dt.n; i++)
+        above += dt.conv[i] > 0.10;
+    assert_true(above >= 1);
+    arrank_options opt = arrank_options_defaults();
+    one o = run_one(&dt, &opt);
+    print_findings(o.res);
+    assert_int_equal(o.d->n_high_conversion, above);
+    assert_true(o.res->flags & ARRANK_FLAG_HIGH_CONVERSION);
+    assert_true(o.d->points[7].high_conversion);
+    assert_false(o.res->used[7]);
+    assert_non_null(strstr(o.d->points[7].reason, "differential limit"));
+    assert_false(o.d->points[0].high_conversion);
+    one_free(&o);
+
+    /* a 5 % limit (the stricter advice) flags more points */
+    opt.conversion_limit = 0.05;
+    o = run_one(&dt, &opt);
+    assert_true(o.d->n_high_conversion > above);
+    one_free(&o);
+}
+
+/*
+ * Hand values: F = 2.5e-5 mol/s total feed, y = 0.04, W = 0.2 g = 2e-4 kg.
+ * X = 0.05: differential r = 2.5e-5*0.04*0.05/2e-4 = 2.5e-4 mol/(kg s);
+ *           integral r = 2.5e-5*0.04*ln(1/0.95)/2e-4 = 5e-3*0.0512932944 =
+ *           2.56466472e-4; their ratio X/(-ln(1 - X)) = 0.9748, the 0.975 of
+ *           the domain notes (computed).
+ * X = 0.20: differential 1.0e-3; integral 5e-3*0.223143551 = 1.115717757e-3.
+ */
+static void test_derived_rate(void **state)
+{
+    (void)state;
+    const double X[2] = {0.05, 0.20}, F[2] = {2.5e-5, 2.5e-5}, y[2] = {0.04, 0.04},
+                 W[2] = {2e-4, 2e-4};
+    double r[2];
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_diagnose_derive_rate(X, F, y, W, 2, 0, r, &err), ARRANK_OK);
+    assert_true(fabs(r[0] / 2.5e-4 - 1) < 1e-12);
+    assert_true(fabs(r[1] / 1.0e-3 - 1) < 1e-12);
+    assert_int_equal(arrank_diagnose_derive_rate(X, F, y, W, 2, 1, r, &err), ARRANK_OK);
+    assert_true(fabs(r[0] / 2.56466472e-4 - 1) < 1e-8);
+    assert_true(fabs(r[1] / 1.115717757e-3 - 1) < 1e-9);
+    assert_true(fabs(2.5e-4 / r[0] - 0.9748) < 1e-4);
+
+    const double bad[2] = {0.05, 1.0};
+    assert_int_equal(arrank_diagnose_derive_rate(bad, F, y, W, 2, 0, r, &err), ARRANK_EINVAL);
+    assert_non_null(strstr(err.message, "point 2"));
+    const double badw[2] = {2e-4, 0.0};
+    assert_int_equal(arrank_diagnose_derive_rate(X, F, y, badw, 2, 0, r, &err), ARRANK_EINVAL);
+    assert_non_null(strstr(err.message, "catalyst mass"));
+}
+
+/* ---- outliers ------------------------------------------------------------------------- */
+
+static void test_outlier(void **state)
+{
+    (void)state;
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    gsl_rng_set(rng, 86420);
+    data dt = {0};
+    temps(&dt, 9, 470.0, 550.0);
+    kinetic_data(&dt, 101000.0, 0.02, rng);
+    gsl_rng_free(rng);
+    dt.rate[4] *= 1.25; /* one point 25 % high in the middle */
+    arrank_options opt = arrank_options_defaults();
+    one o = run_one(&dt, &opt);
+    print_findings(o.res);
+    assert_true(o.d->points[4].outlier);
+    assert_true(fabs(o.d->points[4].student_resid) > o.d->outlier_t_limit);
+    assert_true(o.res->used[4]); /* flagged, not dropped */
+    assert_int_equal(o.d->n_outliers, 1);
+    assert_true(o.res->flags & ARRANK_FLAG_OUTLIER);
+    assert_int_equal(o.res->n_used, 9);
+    one_free(&o);
+
+    opt.drop_outliers = 1;
+    o = run_one(&dt, &opt);
+    assert_false(o.res->used[4]);
+    assert_int_equal(o.res->n_used, 8);
+    assert_non_null(strstr(o.d->points[4].reason, "outlier"));
+    assert_true(o.res->flags & ARRANK_FLAG_EXCLUDED);
+    one_free(&o);
+}
+
+/* ---- concave-up, few points, mixed basis, JSON -------------------------------------- */
+
+static void test_concave_up(void **state)
+{
+    (void)state;
+    /* two parallel routes, 60 and 180 kJ/mol, equal at 540 K */
+    data dt = {0};
+    temps(&dt, 10, 470.0, 600.0);
+    for (size_t i = 0; i < dt.n; i++)
+        dt.rate[i] = k_kin(dt.T_K[i], 60000.0, 1.0, 540.0) +
+                     k_kin(dt.T_K[i], 180000.0, 1.0, 540.0);
+    arrank_options opt = arrank_options_defaults();
+    one o = run_one(&dt, &opt);
+    print_findings(o.res);
+    assert_true(o.d->curvature.detected);
+    assert_int_equal(o.d->curvature.direction, ARRANK_BEND_UP);
+    assert_int_equal(o.res->n_used, 10); /* no window for an upward bend */
+    assert_false(o.res->flags & ARRANK_FLAG_TRANSPORT);
+    for (size_t k = 0; k < o.d->curvature.n_causes; k++)
+        assert_null(strstr(o.d->curvature.causes[k].cause, "diffusion"));
+    one_free(&o);
+}
+
+static void test_few_points(void **state)
+{
+    (void)state;
+    data dt = {0};
+    temps(&dt, 4, 500.0, 530.0);
+    for (size_t i = 0; i < dt.n; i++)
+        dt.rate[i] = k_kin(dt.T_K[i], 90000.0, 1.0, 515.0) * (i == 3 ? 0.6 : 1.0);
+    arrank_options opt = arrank_options_defaults();
+    one o = run_one(&dt, &opt);
+    assert_false(o.d->curvature.tested);
+    assert_false(o.d->curvature.detected);
+    json_t *j = arrank_diagnosis_json(o.res);
+    assert_string_equal(json_string_value(json_object_get(json_object_get(j, "curvature"),
+                                                          "verdict")),
+                        "not detected");
+    json_decref(j);
+    assert_int_equal(o.res->n_used, 4);
+    one_free(&o);
+}
+
+static void test_mixed_basis(void **state)
+{
+    (void)state;
+    data a = {0}, b = {0};
+    temps(&a, 5, 500.0, 540.0);
+    temps(&b, 5, 500.0, 540.0);
+    for (size_t i = 0; i < 5; i++) {
+        a.rate[i] = k_kin(a.T_K[i], 90000.0, 1.0, 515.0);
+        b.rate[i] = k_kin(b.T_K[i], 80000.0, 0.4, 515.0);
+    }
+    a.meta = "# basis = mass\n";
+    b.meta = "# basis = metal_mass\n";
+    const data *dts[2] = {&a, &b};
+    const char *ids[2] = {"Osprey-2", "Osprey-3"};
+    const char *ru[2] = {"umol/(g*s)", "umol/(g*s)"};
+    arrank_campaign *c = campaign_of(2, dts, ids, ru);
+    arrank_options opt = arrank_options_defaults();
+    arrank_analysis *an = analyse(c, &opt);
+    assert_true(an->results[0].flags & ARRANK_FLAG_MIXED_BASIS);
+    assert_true(an->results[1].flags & ARRANK_FLAG_MIXED_BASIS);
+    char why[256];
+    assert_true(arrank_diagnose_basis(c, &c->samples[0], why, sizeof why));
+    assert_non_null(strstr(why, "metal_mass"));
+    arrank_analysis_free(an);
+    arrank_campaign_free(c);
+
+    /* a declared basis that contradicts the unit */
+    b.meta = "# basis = site\n";
+    a.meta = NULL;
+    const data *dts2[2] = {&a, &b};
+    c = campaign_of(2, dts2, ids, ru);
+    assert_true(arrank_diagnose_basis(c, &c->samples[1], why, sizeof why));
+    assert_non_null(strstr(why, "does not match"));
+    assert_false(arrank_diagnose_basis(c, &c->samples[0], why, sizeof why));
+    arrank_campaign_free(c);
+}
+
+static void test_json_shape(void **state)
+{
+    (void)state;
+    data dt = {0};
+    temps(&dt, 12, 450.0, 630.0);
+    pore_data(&dt, 112400.0, 1.0, 523.0, 0.0, NULL);
+    arrank_options opt = arrank_options_defaults();
+    one o = run_one(&dt, &opt);
+    json_t *j = arrank_diagnosis_json(o.res);
+    assert_non_null(j);
+    json_t *reg = json_object_get(j, "regime");
+    assert_int_equal(json_array_size(reg), 12);
+    assert_string_equal(json_string_value(json_array_get(reg, 0)), "kinetic");
+    assert_string_equal(json_string_value(json_array_get(reg, 11)), "pore_diffusion");
+    json_t *ex = json_object_get(j, "excluded");
+    assert_true(json_array_size(ex) >= 1);
+    assert_int_equal(json_array_size(ex), 12 - o.res->n_used);
+    json_t *e0 = json_array_get(ex, json_array_size(ex) - 1);
+    assert_int_equal(json_integer_value(json_object_get(e0, "line")), o.c->samples[0].points[11].line);
+    assert_true(fabs(json_real_value(json_object_get(e0, "temp_K")) - 630.0) < 1e-9);
+    assert_true(json_is_string(json_object_get(e0, "reason")));
+    json_t *cv = json_object_get(j, "curvature");
+    assert_string_equal(json_string_value(json_object_get(cv, "verdict")), "detected");
+    assert_string_equal(json_string_value(json_object_get(cv, "direction")), "concave-down");
+    assert_true(json_is_object(json_object_get(cv, "quadratic")));
+    assert_true(json_is_object(json_object_get(cv, "series_resistance")));
+    assert_true(json_is_array(json_object_get(cv, "local_ea")));
+    assert_true(json_is_object(json_object_get(j, "criteria")));
+    assert_true(json_is_object(json_object_get(j, "quality")));
+    char *text = json_dumps(j, JSON_COMPACT);
+    assert_non_null(text);
+    free(text);
+    json_decref(j);
+    one_free(&o);
+}
+
+int main(void)
+{
+    gsl_set_error_handler_off();
+    arrank_error err;
+    arrank_error_clear(&err);
+    units = arrank_units_create(&err);
+    if (!units) {
+        printf("not ok 1 - udunits: %s\n", err.message);
+        return 1;
+    }
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_pore_sphere),
+        cmocka_unit_test(test_use_all),
+        cmocka_unit_test(test_film),
+        cmocka_unit_test(test_false_alarm_and_power),
+        cmocka_unit_test(test_window_coverage),
+        cmocka_unit_test(test_weisz_prater_mears),
+        cmocka_unit_test(test_deactivation_pair),
+        cmocka_unit_test(test_repeats_and_drift),
+        cmocka_unit_test(test_conversion),
+        cmocka_unit_test(test_derived_rate),
+        cmocka_unit_test(test_outlier),
+        cmocka_unit_test(test_concave_up),
+        cmocka_unit_test(test_few_points),
+        cmocka_unit_test(test_mixed_basis),
+        cmocka_unit_test(test_json_shape),
+    };
+    int rc = cmocka_run_group_tests_name("diagnose", tests, NULL, NULL);
+    arrank_units_free(units);
+    return rc;
+}
