@@ -3,10 +3,10 @@
 The demo is invented data written by src/tools/gen_demo.c from stated true
 parameters (`gen_demo --truth`).  Checks, printed as TAP:
   - the committed campaign is exactly what the generator writes (reproducible);
-  - `arrank rank` on it: every clean sample's true Ea and ln A lie inside the
-    reported 95 % intervals (seeded data; a 95 % interval misses 1 time in 20
-    on average, so this is a property of this seed, checked honestly: if a
-    new seed made one miss, the test would report it, not hide it);
+  - `arrank rank` on it: the clean samples' true Ea and ln A lie inside the
+    reported 95 % intervals, allowing for chance: a 95 % interval misses 1
+    time in 20, so the check fails on 3 or more misses of 10 (probability
+    1.2 % for honest intervals) and prints every miss;
   - the sample with too few points is listed, with an error and no rank;
   - the JSON carries the keys the README promises.
 """
@@ -65,22 +65,37 @@ with tempfile.TemporaryDirectory() as tmp:
     tap(not missing, "every sample carries the documented keys", missing)
     by_id = {s["id"]: s for s in res["samples"]}
     tap(set(by_id) == set(truth), "every demo sample is listed", sorted(by_id))
+    # Coverage: a 95 % interval misses its true value 1 time in 20 on average,
+    # so among 10 clean samples 0 or 1 misses are typical.  Three or more
+    # misses of one parameter has probability 1.2 % for honest intervals
+    # (binomial, n = 10, p = 0.05): that is the failure threshold.
+    misses = {"Ea": [], "ln A": []}
     for sid, (ea, lna, clean) in sorted(truth.items()):
         s = by_id.get(sid)
         if s is None:
             continue
         if clean:
+            tap(s["error"] is None and isinstance(s["rank"], int) and s["rank"] >= 1,
+                "%s is fitted and ranked" % sid, s["error"])
+            if s["error"] is not None:
+                continue
             lo, hi = s["ea_kJ_mol_ci"]
-            tap(s["error"] is None and lo <= ea <= hi,
-                "%s: true Ea %.1f kJ/mol inside the 95%% interval" % (sid, ea),
-                "interval [%s, %s]" % (lo, hi))
+            if not lo <= ea <= hi:
+                misses["Ea"].append("%s: true %.1f, interval [%.1f, %.1f]" % (sid, ea, lo, hi))
             lo, hi = s["ln_A_ci"]
-            tap(lo <= lna <= hi, "%s: true ln A %.3f inside the 95%% interval" % (sid, lna),
-                "interval [%s, %s]" % (lo, hi))
-            tap(isinstance(s["rank"], int) and s["rank"] >= 1, "%s is ranked" % sid)
+            if not lo <= lna <= hi:
+                misses["ln A"].append("%s: true %.3f, interval [%.3f, %.3f]" % (sid, lna, lo, hi))
+            tap(abs(s["ea_kJ_mol"] - ea) < 4 * s["ea_kJ_mol_se"],
+                "%s: Ea within 4 standard errors of the truth" % sid,
+                "got %.2f +- %.2f, true %.1f" % (s["ea_kJ_mol"], s["ea_kJ_mol_se"], ea))
         else:
             tap(s["error"] is not None and s["rank"] is None and s["ea_kJ_mol"] is None,
                 "%s (too few points) is listed with an error and no rank" % sid, s["error"])
+    for what, lst in misses.items():
+        print("# %s: %d of 10 clean samples' 95%% intervals miss the truth%s" %
+              (what, len(lst), (": " + "; ".join(lst)) if lst else ""))
+        tap(len(lst) <= 2, "%s: 95%% intervals cover the truth for the clean samples "
+            "(at most 2 misses of 10)" % what, "; ".join(lst))
     ranks = sorted(s["rank"] for s in res["samples"] if s["rank"] is not None)
     tap(ranks == list(range(1, len(ranks) + 1)), "ranks are 1..n without gaps", ranks)
     rates = [s["rate_at_T"] for s in sorted(res["samples"], key=lambda s: s["rank"] or 1e9)
