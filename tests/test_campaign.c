@@ -740,7 +740,8 @@ static void test_folder(void **state)
     assert_string_equal(c->notes[0], "campaign.ini:7: key 'colour' in [campaign] ignored");
     assert_string_equal(c->notes[1], "campaign.ini:11: key 'sample' in [sample Ni-05] ignored: "
                                      "a section cannot rename its sample");
-    assert_string_equal(c->notes[2], "campaign.ini:15: key 'id' in unknown section [bench] ignored");
+    assert_string_equal(c->notes[2],
+                        "campaign.ini:15: key 'id' in unknown section [bench] ignored");
     assert_string_equal(c->notes[3], "campaign.ini:13: section [sample Zn-01] matches no sample");
     arrank_campaign_free(c);
 

@@ -15,6 +15,13 @@
  * column.  A sample that is well formed but cannot be fitted keeps its points
  * and gets a `problem`, so that the analysis can report it instead of losing
  * it.  Input files are only ever opened for reading.
+ *
+ * Column rules: T/temperature and rate/r need a unit; rate_sd needs a unit
+ * convertible to the rate's (it is converted with it); time_on_stream needs a
+ * time unit (stored in s); conversion is a fraction, or a percentage when
+ * written 'conversion [%]', and must lie in 0..1; run is a text label (empty:
+ * no run).  Other columns are kept as a note.  Empty cells in optional columns
+ * are NAN; a data row whose first field starts with '#' is a comment.
  */
 #include "arrank/campaign.h"
 #include "units_internal.h"
