@@ -192,9 +192,15 @@ static arrank_status write_json(const arrank_analysis *a, FILE *f, arrank_error 
 
 /* ---- CSV ----------------------------------------------------------------- */
 
+/* One field, quoted (RFC 4180) only when it holds a comma, quote, line break
+   or edge space, so numbers stay plain for spreadsheets and scripts. */
 static void csv_field(FILE *f, const char *s, int last)
 {
-    csv_fwrite(f, s, strlen(s));
+    size_t n = strlen(s);
+    if (strpbrk(s, ",\"\r\n") || (n && (s[0] == ' ' || s[n - 1] == ' ')))
+        csv_fwrite(f, s, n);
+    else
+        fputs(s, f);
     fputc(last ? '\n' : ',', f);
 }
 
