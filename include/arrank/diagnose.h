@@ -25,6 +25,7 @@
 #define ARRANK_DIAGNOSE_H
 
 #include <stddef.h>
+#include <stdio.h>
 
 #include "arrank/analysis.h"
 #include "arrank/campaign.h"
@@ -174,6 +175,17 @@ arrank_status arrank_diagnose_result(arrank_result *res, const arrank_campaign *
                                      const arrank_options *opt, arrank_error *err);
 
 void arrank_diagnosis_free(arrank_diagnosis *diagnosis);
+
+/*
+ * Plain-words account of one result for people: a header line naming the
+ * sample and the number of problems, each problem with its evidence (the
+ * diagnosis's findings and the analysis's own flags: few points, narrow
+ * range, low Ea, poor fit, extrapolation), every point left out of the fit
+ * with its reason, then the notes.  An unfitted sample gets one line with
+ * its reason.  EIO when the stream fails.
+ */
+arrank_status arrank_diagnosis_write_text(FILE *stream, const arrank_result *res,
+                                          arrank_error *err);
 
 /*
  * Rates from a flow reactor's conversion, per point i < n:

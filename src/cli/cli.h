@@ -107,5 +107,6 @@ int cli_write_outputs(const cli_args *args, const cli_session *session);
 /* Command entry points. */
 int cmd_fit(int argc, char **argv);
 int cmd_rank(int argc, char **argv);
+int cmd_check(int argc, char **argv);
 
 #endif

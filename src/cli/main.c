@@ -10,6 +10,7 @@
 static const cli_command commands[] = {
     {"fit", cmd_fit, "fit every sample: Ea, ln A and the rate at T, with intervals"},
     {"rank", cmd_rank, "rank the samples at the operating temperature (or by Ea or A)"},
+    {"check", cmd_check, "say what is wrong with each sample's data, and which points are kinetic"},
 };
 
 static void list_commands(FILE *f)

@@ -1292,8 +1292,8 @@ static void describe(work *wk, const arrank_result *res, const size_t *sorted, s
                     100.0 * d->conversion_limit);
     }
     if (d->window_applied)
-        finding(wk, "fitted on the kinetic window %.1f-%.1f K (%zu points): Ea %.1f +/- %.1f "
-                    "kJ/mol, against %.1f +/- %.1f kJ/mol on every point",
+        finding(wk, "fitted on the kinetic window %.1f-%.1f K (%zu points): Ea %.1f kJ/mol "
+                    "(standard error %.1f), against %.1f kJ/mol (%.1f) on every point",
                 d->window_lo_K, d->window_hi_K, d->window_n, kj(f->ea_J_mol),
                 kj(f->ea_se_J_mol), kj(d->ea_all_J_mol), kj(d->ea_all_se_J_mol));
     for (size_t j = 0; j < d->n_runs; j++) {
@@ -2039,8 +2039,51 @@ json_t *arrank_diagnosis_json(const arrank_result *res)
     json_object_set_new(qual, "mixed_basis", json_boolean(d->mixed_basis));
     json_object_set_new(o, "quality", qual);
     json_object_set_new(o, "findings", strings_json(d->findings, d->n_findings));
-    json_object_set_new(o, "notes", strings_json(d->notes, d->n_notes));
+    json_object_set_new(o, "diagnosis_notes", strings_json(d->notes, d->n_notes));
     return o;
+}
+
+/* Problems flagged by the analysis outside the diagnostics, in plain words
+   with their evidence; returns how many, writing them when f is not NULL. */
+static size_t basic_problems(FILE *f, const arrank_result *res, int *bad)
+{
+    const arrank_arrhenius *fit = &res->fit;
+    size_t k = 0;
+    if (res->flags & ARRANK_FLAG_FEW_POINTS) {
+        k++;
+        if (f)
+            *bad |= fprintf(f, "  problem: %s: only %zu points in the fit\n",
+                            arrank_flag_words(ARRANK_FLAG_FEW_POINTS), fit->n) < 0;
+    }
+    if (res->flags & ARRANK_FLAG_NARROW_RANGE) {
+        k++;
+        if (f)
+            *bad |= fprintf(f, "  problem: %s: %.1f-%.1f K\n",
+                            arrank_flag_words(ARRANK_FLAG_NARROW_RANGE), fit->T_min_K,
+                            fit->T_max_K) < 0;
+    }
+    if (res->flags & ARRANK_FLAG_LOW_EA) {
+        k++;
+        if (f)
+            *bad |= fprintf(f, "  problem: %s: Ea %.1f kJ/mol\n",
+                            arrank_flag_words(ARRANK_FLAG_LOW_EA), fit->ea_J_mol / 1000.0) < 0;
+    }
+    if (res->flags & ARRANK_FLAG_POOR_FIT) {
+        k++;
+        if (f)
+            *bad |= fprintf(f, "  problem: %s: chi2/dof = %.3g\n",
+                            arrank_flag_words(ARRANK_FLAG_POOR_FIT), fit->chi2_dof) < 0;
+    }
+    if ((res->flags & ARRANK_FLAG_EXTRAPOLATED) && res->has_prediction) {
+        k++;
+        if (f)
+            *bad |= fprintf(f,
+                            "  problem: %s: %.1f K against %.1f-%.1f K measured; fitted kinetics "
+                            "are not valid outside the tested window\n",
+                            arrank_flag_words(ARRANK_FLAG_EXTRAPOLATED), res->at_T.temp_K,
+                            fit->T_min_K, fit->T_max_K) < 0;
+    }
+    return k;
 }
 
 arrank_status arrank_diagnosis_write_text(FILE *f, const arrank_result *res, arrank_error *err)
@@ -2056,22 +2099,24 @@ arrank_status arrank_diagnosis_write_text(FILE *f, const arrank_result *res, arr
         size_t n_out = 0;
         for (size_t i = 0; i < s->n_points; i++)
             n_out += !res->used[i];
-        if (d->n_findings == 0)
-            bad |= fprintf(f, "%s (%s): no problem found; Ea %.1f +/- %.1f kJ/mol on %zu points\n",
+        size_t n_problems = d->n_findings + basic_problems(NULL, res, &bad);
+        if (n_problems == 0)
+            bad |= fprintf(f, "%s (%s): no problem found; Ea %.1f kJ/mol (standard error %.1f) on %zu points\n",
                            s->id, s->file, res->fit.ea_J_mol / 1000.0,
                            res->fit.ea_se_J_mol / 1000.0, res->fit.n) < 0;
         else
-            bad |= fprintf(f, "%s (%s): %zu problem%s found\n", s->id, s->file, d->n_findings,
-                           d->n_findings == 1 ? "" : "s") < 0;
+            bad |= fprintf(f, "%s (%s): %zu problem%s found\n", s->id, s->file, n_problems,
+                           n_problems == 1 ? "" : "s") < 0;
         for (size_t k = 0; k < d->n_findings; k++)
             bad |= fprintf(f, "  problem: %s\n", d->findings[k]) < 0;
+        basic_problems(f, res, &bad);
         for (size_t i = 0; i < s->n_points; i++)
             if (!res->used[i])
                 bad |= fprintf(f, "  left out: line %ld, %.1f K: %s\n", s->points[i].line,
                                s->points[i].temp_K,
                                d->points[i].reason ? d->points[i].reason
                                                    : "left out before the diagnostics") < 0;
-        if (n_out == 0 && d->n_findings > 0)
+        if (n_out == 0 && n_problems > 0)
             bad |= fprintf(f, "  every point is in the fit\n") < 0;
         for (size_t k = 0; k < d->n_notes; k++)
             bad |= fprintf(f, "  note: %s\n", d->notes[k]) < 0;

@@ -5,7 +5,6 @@
 #define ARRANK_INTERNAL_H
 
 #include <stddef.h>
-#include <stdio.h>
 
 #include "arrank/analysis.h"
 
@@ -20,16 +19,11 @@ double arrank_chi2_upper_p(double x, double k);
 arrank_status arrank_result_refit(arrank_result *res, arrank_error *err);
 
 /* Diagnostics of one result as a JSON object (diagnose.c): regime per point
-   (file order), excluded points with reasons, curvature, criteria, quality,
-   findings and notes.  JSON null when res->diagnosis is NULL; NULL when out
-   of memory.  The caller owns the reference. */
+   (file order), excluded points with reasons, kinetic window, curvature,
+   criteria, quality, findings and diagnosis_notes; output.c merges its keys
+   into each sample.  JSON null when res->diagnosis is NULL; NULL when out of
+   memory.  The caller owns the reference. */
 struct json_t;
 struct json_t *arrank_diagnosis_json(const arrank_result *res);
-
-/* Plain-words account of one result's diagnostics: each problem with its
-   evidence, the points left out and why, then the notes (diagnose.c).
-   EIO when the stream fails. */
-arrank_status arrank_diagnosis_write_text(FILE *stream, const arrank_result *res,
-                                          arrank_error *err);
 
 #endif

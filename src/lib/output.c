@@ -145,6 +145,16 @@ static json_t *sample_json(const arrank_analysis *a, const arrank_result *res, d
         json_array_append_new(notes, json_string(s->notes[i]));
     json_object_set_new(o, "notes", notes);
     json_object_set_new(o, "points", points_json(res));
+    /* diagnostics (diagnose.c): regime, excluded, curvature, criteria, ... */
+    json_t *diag = arrank_diagnosis_json(res);
+    if (json_is_object(diag))
+        json_object_update(o, diag);
+    else
+        for (const char *const *k = (const char *const[]){"regime", "excluded", "curvature",
+                                                           "criteria", "quality", NULL};
+             *k; k++)
+            json_object_set_new(o, *k, json_null());
+    json_decref(diag);
     (void)a;
     return o;
 }

@@ -1,0 +1,96 @@
+/*
+ * cmd_check.c - `arrank check CAMPAIGN`: every problem the diagnostics find,
+ * in plain words, sample by sample.
+ *
+ * The command runs the same analysis as `fit` and `rank` (the same kinetic
+ * window, exclusions and flags), then prints for each sample each problem
+ * with its evidence and every point left out of the fit with its reason.
+ * Finding problems is the purpose of the command, not an error: the exit
+ * status is 0 whenever the campaign could be read and analysed.
+ */
+#include <stdio.h>
+#include <string.h>
+
+#include "arrank/diagnose.h"
+#include "arrank/output.h"
+#include "cli.h"
+
+static const char usage[] =
+    "usage: arrank check CAMPAIGN [--at T] [options]\n"
+    "\n"
+    "Check every sample of the campaign folder and say, in plain words, what is\n"
+    "wrong with its data and why: a bent Arrhenius plot and its likely causes\n"
+    "(transport limitation, deactivation, too much conversion, ...), points that\n"
+    "look pore- or film-diffusion limited, the kinetic window used for the fit\n"
+    "and every point left out with its reason, the Weisz-Prater and Mears numbers\n"
+    "when the sample's metadata give particle and transport data, shifts between\n"
+    "runs, drift with time on stream, outliers and mixed normalisation bases.\n"
+    "A bend that is not detected is not shown to be absent: with few points or\n"
+    "much scatter only strong bending can be seen.\n"
+    "\n"
+    "  --at T              operating temperature with its unit (250C, 523.15K);\n"
+    "                      adds the extrapolation check\n"
+    "  --use-all           fit every point: no kinetic window\n"
+    "  --drop-outliers     leave flagged outliers out of the fit\n"
+    "  --conversion-limit X  differential-reactor limit, e.g. 5% or 0.05\n"
+    "                      (default 10%)\n"
+    "  --confidence C      two-sided level of every interval (default 0.95)\n"
+    "  --json FILE|-       also write the results with the diagnostics as JSON\n"
+    "  --csv FILE|-        also write the results as CSV\n"
+    "\n"
+    "Fitted kinetics are apparent and hold only within the tested conditions;\n"
+    "do not use them for reactor design or safety limits.\n"
+    "\n"
+    "Exit status: 0 the campaign was checked (problems found or not), 1 bad input\n"
+    "data, 2 usage, 3 a file could not be read or written.\n";
+
+int cmd_check(int argc, char **argv)
+{
+    cli_args args;
+    int rc = cli_parse(argc, argv, OPT_AT | OPT_DIAGNOSE | OPT_CONFIDENCE | OPT_OUTPUTS, usage,
+                       &args);
+    if (rc != -1)
+        return rc;
+    if (!args.options.diagnose) {
+        cli_fail("check: --no-diagnose leaves nothing to check; see 'arrank check --help'");
+        return EXIT_USAGE;
+    }
+    cli_session s;
+    rc = cli_session_open(&args, 0, &s);
+    if (rc != -1)
+        return rc;
+    arrank_error err;
+    arrank_error_clear(&err);
+    const arrank_analysis *a = s.analysis;
+    int to_stdout = (args.json_path && strcmp(args.json_path, "-") == 0) ||
+                    (args.csv_path && strcmp(args.csv_path, "-") == 0);
+    arrank_status st = ARRANK_OK;
+    FILE *out = to_stdout ? stderr : stdout;
+    size_t with_problems = 0;
+    if (fprintf(out, "campaign '%s': %zu sample%s checked\n\n", a->campaign->title,
+                a->n_results, a->n_results == 1 ? "" : "s") < 0)
+        st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
+    for (size_t i = 0; st == ARRANK_OK && i < a->n_results; i++) {
+        const arrank_result *r = &a->results[i];
+        st = arrank_diagnosis_write_text(out, r, &err);
+        if (st == ARRANK_OK && fputc('\n', out) == EOF)
+            st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
+        if (r->error || (r->diagnosis && r->diagnosis->n_findings > 0) ||
+            (r->flags & ~(unsigned)ARRANK_FLAG_EXCLUDED))
+            with_problems++;
+    }
+    if (st == ARRANK_OK &&
+        fprintf(out, "%zu of %zu samples have problems or could not be fitted\n", with_problems,
+                a->n_results) < 0)
+        st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
+    if (st == ARRANK_OK && fflush(out) != 0)
+        st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
+    if (st != ARRANK_OK) {
+        cli_print_error(&err);
+        cli_session_free(&s);
+        return cli_exit_status(st, &err);
+    }
+    rc = cli_write_outputs(&args, &s);
+    cli_session_free(&s);
+    return rc == -1 ? EXIT_OK : rc;
+}
