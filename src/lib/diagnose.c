@@ -50,9 +50,9 @@
    anything (common practice: three parameters plus scatter). */
 #define MIN_TEST_POINTS 5
 #define MIN_TEST_TEMPS 4
-/* Temperatures closer than this are one set point (common practice for rigs
-   read to 0.1-1 K). */
-#define SAME_TEMP_K 1.0
+/* Temperatures closer than this are one set point: rigs step by 5-25 K and
+   hit a set point within about 1 K (common practice). */
+#define SAME_TEMP_K 2.0
 /* Exponent of the transport conductance k_t (T/T_ref)^m.  Gas film: k_c ~
    D^(2/3) and D ~ T^1.5-1.75 give m of about 1-1.2 (DOMAIN notes, after
    Adiabatic Fixed-Bed Reactors, sec. 2.6); over a 50-100 K span m cannot be
@@ -92,9 +92,9 @@
 #define OUTLIER_FAMILY 0.05
 #define COOK_LIMIT 1.0
 /* Influential means Cook's distance above its limit and also off the line
-   (|t| > 2, about a 5 % two-sided level): in windows of 4-6 points an end
-   point alone often has D > 1 (our choice). */
-#define INFLUENCE_T 2.0
+   beyond the pointwise two-sided 1 % t quantile: in windows of 4-6 points an
+   end point alone often has D > 1 (our choice). */
+#define INFLUENCE_LEVEL 0.01
 /* Weisz-Prater limits (eta >= 0.95) from Weisz & Prater (1954) and Weisz
    (1957) as tabulated by Madon & Boudart, Ind. Eng. Chem. Fundam. 21:438
    (1982): 6 for zero, 0.6 for first, 0.3 for second order.  With no order
@@ -951,6 +951,7 @@ static void find_outliers(work *wk, const size_t *idx, size_t n)
     }
     double dof_ext = (double)n - 3.0;
     d->outlier_t_limit = gsl_cdf_tdist_Qinv(OUTLIER_FAMILY / (2.0 * (double)n), dof_ext);
+    double t_influence = gsl_cdf_tdist_Qinv(INFLUENCE_LEVEL / 2.0, dof_ext);
     for (size_t k = 0; k < n; k++) {
         size_t i = idx[k];
         double u = wk->x[i] - lf.sc.xm, wi = wk->w[i];
@@ -966,7 +967,7 @@ static void find_outliers(work *wk, const size_t *idx, size_t n)
         pd->cooks_d = lf.s2 > 0 ? we2 * h / (2.0 * lf.s2 * (1.0 - h) * (1.0 - h)) : NAN;
         if (fabs(pd->student_resid) > d->outlier_t_limit ||
             (isfinite(pd->cooks_d) && pd->cooks_d > COOK_LIMIT &&
-             fabs(pd->student_resid) > INFLUENCE_T)) {
+             fabs(pd->student_resid) > t_influence)) {
             pd->outlier = 1;
             d->n_outliers++;
         }
@@ -1658,7 +1659,7 @@ arrank_status arrank_diagnose_result(arrank_result *res, const arrank_campaign *
                 pd->regime = ARRANK_REGIME_UNCLASSIFIED;
             const char *rname = pd->regime == ARRANK_REGIME_PORE   ? "pore-diffusion-like"
                                 : pd->regime == ARRANK_REGIME_FILM ? "film-diffusion-like"
-                                                                   : "off the kinetic line";
+                                                                   : "where the bend begins";
             if (!opt->use_all)
                 set_excluded(&wk, i,
                              fmt(&wk, "%s: hotter than the kinetic window, local apparent Ea "
