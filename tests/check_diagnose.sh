@@ -1,0 +1,80 @@
+#!/bin/sh
+# check_diagnose.sh - `arrank check` on the demo campaign, whose flawed
+# samples are made by src/tools/gen_demo.c (transport, deactivation, high
+# conversion), and the diagnostics options of fit and rank.  Prints TAP.
+# Env: ARRANK (program), BUILD (build folder).
+set -u
+. tests/tap.sh
+A=${ARRANK:-build/arrank}
+T=$(mktemp -d)
+trap 'rm -rf "$T"' EXIT
+DEMO=campaigns/zeolite-ni-screen
+
+"$A" --help >"$T/out" 2>&1
+ok_if "--help lists check with one line" grep -q '^  check  *[a-z]' "$T/out"
+"$A" check --help >"$T/out"; st=$?
+expect_eq "check --help exits 0" "$st" 0
+ok_if "check --help documents --conversion-limit" grep -q -- '--conversion-limit' "$T/out"
+
+"$A" check "$DEMO" >"$T/out" 2>"$T/err"; st=$?
+expect_eq "check on the demo exits 0 although it finds problems" "$st" 0
+ok_if "check: nothing on stderr" test ! -s "$T/err"
+ok_if "check: transport sample bends concave-down" \
+    grep -q "bends concave-down" "$T/out"
+ok_if "check: pore diffusion named as a likely cause" \
+    grep -q "likely cause: pore diffusion" "$T/out"
+ok_if "check: Weisz-Prater number above its limit" \
+    grep -q "Weisz-Prater number .* is above" "$T/out"
+ok_if "check: points left out with their reason" \
+    grep -q "left out: line .*pore-diffusion-like" "$T/out"
+ok_if "check: deactivation between heating and cooling ramps" \
+    grep -q "run 'cool' is .* below 'heat'.*(deactivation)" "$T/out"
+ok_if "check: conversion above the 10 % limit" \
+    grep -q "conversion .* above the 10 % differential limit" "$T/out"
+ok_if "check: the unfittable sample is listed with its reason" \
+    grep -q "ZN-11 ITQ-2 (ZN-11.csv): not fitted: only 2 data points" "$T/out"
+ok_if "check: clean samples say 'not detected', never 'absent'" \
+    sh -c "grep -q 'curvature not detected' '$T/out' && ! grep -qi 'absent' '$T/out'"
+
+# a stricter conversion limit finds more points; --use-all keeps every point
+n10=$(grep -c "above the 10 % differential limit: the rate" "$T/out")
+"$A" check "$DEMO" --conversion-limit 5% >"$T/out5" 2>&1
+n5=$(grep -c "above the 5 % differential limit: the rate" "$T/out5")
+ok_if "check --conversion-limit 5%: more points flagged ($n5 > $n10)" test "$n5" -gt "$n10"
+"$A" check "$DEMO" --use-all >"$T/all" 2>&1; st=$?
+expect_eq "check --use-all exits 0" "$st" 0
+ok_if "check --use-all: no point left out" sh -c "! grep -q 'left out:' '$T/all'"
+"$A" check "$DEMO" --no-diagnose >/dev/null 2>"$T/err"; st=$?
+expect_eq "check --no-diagnose: usage status 2" "$st" 2
+
+# fit and rank take the same flags and use the kinetic window
+"$A" rank "$DEMO" --json "$T/r.json" >/dev/null 2>&1; st=$?
+expect_eq "rank with diagnostics exits 0" "$st" 0
+"$A" rank "$DEMO" --use-all --json "$T/a.json" >/dev/null 2>&1
+"$A" fit "$DEMO" --drop-outliers --conversion-limit 0.05 >/dev/null 2>&1; st=$?
+expect_eq "fit accepts --drop-outliers and --conversion-limit" "$st" 0
+/usr/bin/python3 - "$T/r.json" "$T/a.json" >"$T/py" <<'PY'
+import json, sys
+r, a = (json.load(open(p)) for p in sys.argv[1:])
+s = {x["id"]: x for x in r["samples"]}
+u = {x["id"]: x for x in a["samples"]}
+t = s["ZN-12 beta extrudate"]
+checks = [
+    len(t["regime"]) == t["n_points"],
+    t["regime"][0] == "kinetic" and t["regime"][-1] == "pore_diffusion",
+    len(t["excluded"]) == t["n_points"] - t["n_used"] > 0,
+    all(set(e) == {"line", "temp_K", "reason"} for e in t["excluded"]),
+    t["curvature"]["verdict"] == "detected" and t["curvature"]["direction"] == "concave-down",
+    t["criteria"]["weisz_prater"]["computed"] and t["criteria"]["weisz_prater"]["value"] > 0.6,
+    "transport" in t["flags"] and "excluded" in t["flags"],
+    u["ZN-12 beta extrudate"]["n_used"] == t["n_points"],
+    u["ZN-12 beta extrudate"]["ea_kJ_mol"] < t["ea_kJ_mol"],
+    s["ZN-11 ITQ-2"]["regime"] is None and s["ZN-11 ITQ-2"]["curvature"] is None,
+    s["ZN-01 H-beta"]["curvature"]["verdict"] == "not detected",
+    isinstance(s["ZN-13 Ni-rich Y"]["quality"]["runs"], list)
+    and s["ZN-13 Ni-rich Y"]["quality"]["runs"][0]["verdict"] == "deactivation",
+]
+print(" ".join("1" if c else "0" for c in checks))
+PY
+expect_eq "JSON: regime, excluded, curvature, criteria, quality; --use-all keeps all" \
+    "$(cat "$T/py")" "1 1 1 1 1 1 1 1 1 1 1 1"
