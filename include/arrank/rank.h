@@ -135,7 +135,8 @@ void arrank_sample_stats_free(struct arrank_sample_stats *stats);
  * is drawn from its fitted distribution: bivariate t with fit->dof degrees of
  * freedom (normal when normal_draws), mean (b0, b1), scale fit->cov through
  * its Cholesky factor; every sample is drawn independently.  Uses `draws`
- * draws from GSL's mt19937 seeded with `seed` (GSL replaces seed 0 by 4357).
+ * draws from GSL's taus2 in two streams seeded from `seed` (rank.c; same
+ * numbers on any number of cores).
  * Outputs: p_best[n]; p_beats[n_top * n_top] (may be NULL when n_top is 0):
  * row i, column j is P(fits[i] beats fits[j]), NAN on the diagonal.
  * EINVAL for draws 0, n_top > n or a bad temperature; ENOMEM.
@@ -184,7 +185,7 @@ arrank_status arrank_rank_compensation(const arrank_arrhenius *const *fits, size
  * (Davison & Hinkley, Bootstrap Methods and their Application, 1997,
  * Algorithm 6.1, with leverage-adjusted residuals, eq. 6.9): temp_K[n], rate[n],
  * weights w[n] (NULL: all 1, else (r/sd)^2 as in fit.h), the original fit
- * `fit`.  `resamples` refits from GSL mt19937 seeded with seed; percentile
+ * `fit`.  `resamples` refits from GSL taus2 seeded with seed; percentile
  * interval of exp(ln r(temp_op_K)) at `confidence`.  *n_ok gets the resamples
  * used.  EINVAL for resamples < 2 or n < 3; ENOMEM.
  */

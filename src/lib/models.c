@@ -17,6 +17,14 @@
 #include <string.h>
 
 /* Model context for the nonlinear engine: n free when isnan(fixed_n). */
+/*
+ * The nonlinear start is the linear solution with ln r at T_ref moved by this
+ * much: GSL's trust-region driver reports "no progress" when it starts
+ * exactly at the minimum (exact data, or data whose relative and absolute
+ * fits coincide), and a start a step away always converges there.
+ */
+#define START_OFFSET_LN_R 1e-4
+
 typedef struct {
     const double *temp_K;
     double T_ref_K;
@@ -92,7 +100,7 @@ arrank_status arrank_fit_arrhenius_absolute(const double *temp_K, const double *
     if (st != ARRANK_OK)
         return st;
     rate_model m = {temp_K, lin.T_ref_K, 0.0};
-    const double start[2] = {lin.b0, lin.b1};
+    const double start[2] = {lin.b0 + START_OFFSET_LN_R, lin.b1};
     arrank_nlfit_options o = arrank_nlfit_defaults();
     arrank_nlfit nl;
     memset(&nl, 0, sizeof nl);
@@ -191,7 +199,10 @@ arrank_status arrank_model_fit_run(int eyring, int absolute, const double *temp_
             arrank_nlfit_options o = arrank_nlfit_defaults();
             arrank_nlfit nl;
             memset(&nl, 0, sizeof nl);
-            st = arrank_nlfit_run(rate_model_eval, &m, p, rate, wa, n, b, &o, &nl, err);
+            double start[3];
+            memcpy(start, b, sizeof start);
+            start[0] += START_OFFSET_LN_R;
+            st = arrank_nlfit_run(rate_model_eval, &m, p, rate, wa, n, start, &o, &nl, err);
             if (st == ARRANK_OK) {
                 memcpy(b, nl.params, p * sizeof *b);
                 memcpy(cov, nl.cov, p * p * sizeof *cov);

@@ -9,11 +9,12 @@
  * forming g'p is the same as key = g'p_hat + s (L'g)'z, so each sample keeps
  * only its key, the vector a = L'g and its dof.  One pass over the draws, no
  * allocation inside it, two or three normal deviates and one chi-square per
- * sample per draw.
+ * sample per draw, on two threads (below).
  */
 #include "arrank/rank.h"
 
 #include <math.h>
+#include <pthread.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -120,6 +121,67 @@ static key_draw arrhenius_draw(const arrank_arrhenius *f, arrank_rank_by by, dou
     return make_draw(p, C, g, 2, f->dof, normal);
 }
 
+/*
+ * The Monte Carlo runs as ARRANK_RANK_STREAMS independent streams, each with
+ * its own generator (GSL taus2, L'Ecuyer 1996: fast, period 2^88) seeded with
+ * seed + stream * STREAM_SEED_STEP, and an equal share of the draws.  The
+ * streams run on threads when the system gives them, one after the other
+ * otherwise; the numbers are the same either way.
+ */
+#define ARRANK_RANK_STREAMS 2
+#define STREAM_SEED_STEP 0x9E3779B97F4A7C15ull
+
+typedef struct {
+    const key_draw *kd;
+    size_t n, n_top, draws;
+    unsigned long seed;
+    size_t *best;     /* [n] */
+    size_t *beats;    /* [n_top * n_top] */
+    double *top_key;  /* [n_top] */
+    int failed;
+} mc_stream;
+
+static void *mc_run(void *arg)
+{
+    mc_stream *m = arg;
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_taus2);
+    if (!rng) {
+        m->failed = 1;
+        return NULL;
+    }
+    gsl_rng_set(rng, m->seed);
+    const key_draw *kd = m->kd;
+    const size_t n = m->n, n_top = m->n_top;
+    for (size_t d = 0; d < m->draws; d++) {
+        double best_key = -INFINITY;
+        size_t arg_best = 0;
+        for (size_t i = 0; i < n; i++) {
+            const key_draw *k = &kd[i];
+            double s = 0;
+            for (size_t j = 0; j < k->n_z; j++)
+                s += k->a[j] * gsl_ran_gaussian_ziggurat(rng, 1.0);
+            /* multivariate t: one chi-square per sample and draw scales the whole vector
+               (Kotz & Nadarajah, Multivariate t Distributions, 2004, eq. 1.1) */
+            if (isfinite(k->dof))
+                s *= sqrt(k->dof / gsl_ran_chisq(rng, k->dof));
+            const double key = k->mean + s;
+            if (i < n_top)
+                m->top_key[i] = key;
+            if (key > best_key) {
+                best_key = key;
+                arg_best = i;
+            }
+        }
+        m->best[arg_best]++;
+        for (size_t i = 0; i < n_top; i++)
+            for (size_t j = 0; j < n_top; j++)
+                if (m->top_key[i] > m->top_key[j])
+                    m->beats[i * n_top + j]++;
+    }
+    gsl_rng_free(rng);
+    return NULL;
+}
+
 /* The Monte Carlo: see the top of this file and arrank_rank_pbest in rank.h. */
 static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, unsigned long seed,
                                   size_t n_top, double *p_best, double *p_beats,
@@ -132,56 +194,58 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
                                                  "only %zu ranked", n_top, n);
     if (n == 0)
         return ARRANK_OK;
-    size_t *best = calloc(n, sizeof *best);
-    size_t *beats = calloc(n_top * n_top + 1, sizeof *beats);
-    double *top_key = malloc((n_top + 1) * sizeof *top_key);
-    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
-    if (!best || !beats || !top_key || !rng) {
-        free(best);
-        free(beats);
-        free(top_key);
-        gsl_rng_free(rng);
-        return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu samples of draws", n);
+    mc_stream m[ARRANK_RANK_STREAMS];
+    memset(m, 0, sizeof m);
+    arrank_status st = ARRANK_OK;
+    for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++) {
+        m[c].kd = kd;
+        m[c].n = n;
+        m[c].n_top = n_top;
+        m[c].draws = draws / ARRANK_RANK_STREAMS + (c < draws % ARRANK_RANK_STREAMS);
+        m[c].seed = (unsigned long)(seed + c * STREAM_SEED_STEP);
+        m[c].best = calloc(n, sizeof *m[c].best);
+        m[c].beats = calloc(n_top * n_top + 1, sizeof *m[c].beats);
+        m[c].top_key = malloc((n_top + 1) * sizeof *m[c].top_key);
+        if (!m[c].best || !m[c].beats || !m[c].top_key)
+            st = arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu samples of draws", n);
     }
-    gsl_rng_set(rng, seed);
-    for (size_t d = 0; d < draws; d++) {
-        double best_key = -INFINITY;
-        size_t arg = 0;
-        for (size_t i = 0; i < n; i++) {
-            const key_draw *k = &kd[i];
-            double s = 0;
-            for (size_t j = 0; j < k->n_z; j++)
-                s += k->a[j] * gsl_ran_gaussian_ziggurat(rng, 1.0);
-            /* multivariate t: one chi-square per sample and draw scales the whole vector
-               (Kotz & Nadarajah, Multivariate t Distributions, 2004, eq. 1.1) */
-            if (isfinite(k->dof))
-                s *= sqrt(k->dof / gsl_ran_chisq(rng, k->dof));
-            const double key = k->mean + s;
-            if (i < n_top)
-                top_key[i] = key;
-            if (key > best_key) {
-                best_key = key;
-                arg = i;
-            }
+    if (st == ARRANK_OK) {
+        pthread_t th[ARRANK_RANK_STREAMS];
+        int started[ARRANK_RANK_STREAMS] = {0};
+        for (size_t c = 1; c < ARRANK_RANK_STREAMS; c++)
+            started[c] = pthread_create(&th[c], NULL, mc_run, &m[c]) == 0;
+        mc_run(&m[0]);
+        for (size_t c = 1; c < ARRANK_RANK_STREAMS; c++) {
+            if (started[c])
+                pthread_join(th[c], NULL);
+            else
+                mc_run(&m[c]);
         }
-        best[arg]++;
-        for (size_t i = 0; i < n_top; i++)
-            for (size_t j = 0; j < n_top; j++)
-                if (top_key[i] > top_key[j])
-                    beats[i * n_top + j]++;
+        for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++)
+            if (m[c].failed)
+                st = arrank_errorf(err, ARRANK_ENOMEM, "no memory for a random generator");
     }
-    for (size_t i = 0; i < n; i++)
-        p_best[i] = (double)best[i] / (double)draws;
-    if (p_beats)
-        for (size_t i = 0; i < n_top; i++)
-            for (size_t j = 0; j < n_top; j++)
-                p_beats[i * n_top + j] =
-                    i == j ? NAN : (double)beats[i * n_top + j] / (double)draws;
-    free(best);
-    free(beats);
-    free(top_key);
-    gsl_rng_free(rng);
-    return ARRANK_OK;
+    if (st == ARRANK_OK) {
+        for (size_t i = 0; i < n; i++) {
+            size_t b = 0;
+            for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++)
+                b += m[c].best[i];
+            p_best[i] = (double)b / (double)draws;
+        }
+        if (p_beats)
+            for (size_t i = 0; i < n_top * n_top; i++) {
+                size_t b = 0;
+                for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++)
+                    b += m[c].beats[i];
+                p_beats[i] = i / n_top == i % n_top ? NAN : (double)b / (double)draws;
+            }
+    }
+    for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++) {
+        free(m[c].best);
+        free(m[c].beats);
+        free(m[c].top_key);
+    }
+    return st;
 }
 
 arrank_status arrank_rank_pbest(const arrank_arrhenius *const *fits, size_t n, arrank_rank_by by,
@@ -504,7 +568,7 @@ arrank_status arrank_rank_bootstrap(const double *temp_K, const double *rate, co
         return arrank_errorf(err, ARRANK_EINVAL, "bootstrap confidence or temperature out of "
                                                  "range");
     double *buf = malloc((5 * n + resamples) * sizeof *buf);
-    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_taus2);
     if (!buf || !rng) {
         free(buf);
         gsl_rng_free(rng);
