@@ -96,7 +96,7 @@ typedef struct {
     double exner_slope, exner_slope_se;
     double exner_T_iso_K;       /* T1 T2 (b - 1)/(b T2 - T1); NAN if b = 1 */
     double confidence;
-    char sentence[512];         /* the verdict in plain words */
+    char sentence[768];         /* the verdict in plain words */
 } arrank_compensation;
 
 /* Campaign-level statistics; arrank_analysis.rank_stats points at one. */

@@ -421,19 +421,26 @@ static void compensation_sentence(arrank_compensation *c)
                  "compensation: ln A does not rise significantly with Ea across the %zu samples "
                  "(p = %.2g), so there is no compensation line to explain", c->n, c->slope_p);
         break;
-    case ARRANK_COMP_ARTIFACT:
+    case ARRANK_COMP_ARTIFACT: {
+        char why[384];
+        if (c->T_hm_inside)
+            snprintf(why, sizeof why, "the lines would cross at %s, which holds the harmonic "
+                     "mean of the measured temperatures, %.0f K", iso, c->T_hm_K);
+        else
+            snprintf(why, sizeof why, "Ea does not track ln r at the harmonic mean of the "
+                     "measured temperatures, %.0f K (p = %.2g)", c->T_hm_K, c->hm_p);
         snprintf(c->sentence, sizeof c->sentence,
-                 "compensation: ln A rises with Ea (r = %.3f), but the lines would cross at "
-                 "%s, %s the mean measured temperature %.0f K, and Ea does not track ln r "
-                 "there (p = %.2g): the line is what correlated errors of Ea and ln A make on "
-                 "their own and says nothing about the catalysts",
-                 c->corr, iso, c->T_hm_inside ? "which holds" : "near", c->T_hm_K, c->hm_p);
+                 "compensation: ln A rises with Ea (r = %.3f), but %s: consistent with a "
+                 "statistical artifact; correlated errors of Ea and ln A make such a line on "
+                 "their own, and it says nothing about the catalysts", c->corr, why);
         break;
+    }
     case ARRANK_COMP_REAL:
         snprintf(c->sentence, sizeof c->sentence,
                  "compensation: ln A rises with Ea (r = %.3f) and the lines cross near %s, away "
-                 "from the mean measured temperature %.0f K, and Ea tracks ln r there "
-                 "(p = %.2g): not explained by error correlation; the ranking reverses across "
+                 "from the harmonic mean of the measured temperatures, %.0f K, and Ea tracks "
+                 "ln r there (p = %.2g): not explained by error correlation; the ranking "
+                 "reverses across "
                  "the isokinetic temperature, so do not extrapolate it past that point",
                  c->corr, iso, c->T_hm_K, c->hm_p);
         break;
@@ -664,7 +671,8 @@ arrank_status arrank_models_prepare(const arrank_campaign *campaign, const arran
     if (campaign->basis != ARRANK_BASIS_SITE)
         return arrank_errorf(err, ARRANK_EINVAL,
                              "model 'eyring' needs turnover frequencies (a rate unit of 1/time); "
-                             "'%s' is a rate per %s", campaign->rate_unit ? campaign->rate_unit : "",
+                             "'%s' is a rate per %s",
+                             campaign->rate_unit ? campaign->rate_unit : "",
                              arrank_basis_name(campaign->basis));
     arrank_units *units = arrank_units_create(err);
     if (!units)
