@@ -1385,6 +1385,8 @@ arrank_status arrank_diagnose_result(arrank_result *res, const arrank_campaign *
     const arrank_sample *s = res->sample;
     arrank_diagnosis_free(res->diagnosis);
     res->diagnosis = NULL;
+    if (res->error)
+        return ARRANK_OK; /* nothing fitted, nothing to diagnose */
     size_t np = s->n_points;
     work wk = {s, s->points, np, NULL, NULL, NULL, NULL, NAN, 0};
     arrank_diagnosis *d = calloc(1, sizeof *d);
