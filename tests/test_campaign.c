@@ -415,7 +415,8 @@ static const struct {
     {"duplicate rate", "r [1/s],T [K],RATE [1/s]\n0.417,504.55,0.417\n", NULL, ARRANK_EPARSE, 3, 3,
      "column 'RATE' repeats column 1 'r'"},
     {"missing rate column", "T [degC],rate_sd [umol/(g*s)]\n231.4,0.417\n", NULL, ARRANK_EPARSE, 3,
-     0, "no rate column; the header needs e.g. 'rate [umol/(g*s)]'"},
+     0, "no rate column; the header needs e.g. 'rate [umol/(g*s)]' (or a 'conversion' "
+        "column with feed metadata, to derive the rates)"},
     {"missing temperature column", "rate [umol/(g*s)],run\n0.417,a\n", NULL, ARRANK_EPARSE, 3, 0,
      "no temperature column; the header needs e.g. 'T [degC]'"},
     {"data without header", "231.4,0.417\n244.9,0.862\n", NULL, ARRANK_EPARSE, 3, 0,
@@ -992,6 +993,53 @@ static void test_large_campaign(void **state)
     free(dir);
 }
 
+/* ------------------------------------------------ rates from conversion */
+
+/*
+ * A file without a rate column: rates from conversion and feed metadata.
+ * Hand values: at 0 degC and 101.325 kPa an ideal gas occupies
+ * R T / P = 22.413 969 54 L/mol (CODATA 2018 molar volume, from memory; it
+ * follows from the exact R), so 50 mL/min is 3.7180e-5 mol/s.
+ */
+static void test_derived_rates(void **state)
+{
+    (void)state;
+    char *dir = make_temp_dir();
+    write_file(dir, "D1.csv", "# feed_flow = 50 mL/min\n# feed_fraction = 5 %\n# mass = 40 mg\n"
+                              "T [degC],conversion [%]\n220,1.2\n250,3.6\n280,9.4\n");
+    /* integral form; feed data from campaign.ini */
+    write_file(dir, "D2.csv", "# rate_form = integral\nT [K],conversion\n500,0.02\n520,0.05\n"
+                              "540,0.11\n");
+    write_file(dir, "campaign.ini", "[campaign]\nrate_unit = umol/(g*s)\n"
+                                    "[sample D2]\nfeed_flow = 2.5 umol/s\nfeed_fraction = 0.1\n"
+                                    "catalyst_mass = 25 mg\n");
+    arrank_campaign *c = NULL;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_load(dir, units, &c, &err), ARRANK_OK);
+    const double vm_L_mol = 22.41396954;
+    const double F = 50e-3 / 60.0 / vm_L_mol; /* mol/s */
+    /* D1: r = F y X / W in mol/(kg s), reported in umol/(g*s) = 1e-3 mol/(kg s) */
+    const double want1 = F * 0.05 * 0.036 / 40e-6 / 1e-3;
+    assert_true(c->samples[0].rates_derived);
+    assert_true(fabs(c->samples[0].points[1].rate - want1) < 1e-8 * want1);
+    /* D2: r = F y ln(1/(1 - X)) / W */
+    const double want2 = 2.5e-6 * 0.1 * log(1.0 / (1.0 - 0.11)) / 25e-6 / 1e-3;
+    assert_true(fabs(c->samples[1].points[2].rate - want2) < 1e-12 * want2);
+    assert_null(c->samples[1].problem);
+    arrank_campaign_free(c);
+
+    /* without the feed data: a clear error naming what is missing */
+    write_file(dir, "campaign.ini", "[campaign]\nrate_unit = umol/(g*s)\n");
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_load(dir, units, &c, &err), ARRANK_EPARSE);
+    assert_non_null(strstr(err.path, "D2.csv"));
+    assert_non_null(strstr(err.message, "metadata 'feed_flow' is missing"));
+    assert_null(c);
+    remove_tree(dir);
+    free(dir);
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
@@ -1008,6 +1056,7 @@ int main(void)
         cmocka_unit_test(test_folder),
         cmocka_unit_test(test_bad_corpus),
         cmocka_unit_test(test_large_campaign),
+        cmocka_unit_test(test_derived_rates),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }

@@ -71,6 +71,9 @@ typedef struct {
        problem_line is the line it points at (0 if the whole file). */
     char *problem;
     long problem_line;
+    /* 1 when the file has no rate column and the rates were derived from its
+       conversion column and feed metadata (README "Rates from conversion"). */
+    int rates_derived;
 } arrank_sample;
 
 typedef struct {

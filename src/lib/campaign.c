@@ -24,6 +24,8 @@
  * are NAN; a data row whose first field starts with '#' is a comment.
  */
 #include "arrank/campaign.h"
+#include "arrank/diagnose.h"
+#include "arrank/fit.h"
 #include "units_internal.h"
 
 #include <dirent.h>
@@ -42,6 +44,7 @@
 #include <ini.h>
 
 #define UNIT_MAX 256
+#define DERIVED_RATE_UNIT "mol/(kg*s)" /* rates derived from conversion, before conversion */
 
 /* ---------------------------------------------------------------- helpers */
 
@@ -290,6 +293,7 @@ typedef struct {
     int row_is_comment;
     arrank_point point;
     char rate_text[64];
+    arrank_conversion derived_conv; /* mol/(kg*s) to the report unit, derived rates only */
     /* storage */
     char *cell;
     size_t cell_cap;
@@ -430,10 +434,30 @@ static void header_done(parser *p)
         fail(p, ARRANK_EPARSE, 0, "no temperature column; the header needs e.g. 'T [degC]'");
         return;
     }
-    if (!p->col_of[COL_RATE]) {
+    if (!p->col_of[COL_RATE] && !p->col_of[COL_CONVERSION]) {
         fail(p, ARRANK_EPARSE, 0,
-             "no rate column; the header needs e.g. 'rate [umol/(g*s)]'");
+             "no rate column; the header needs e.g. 'rate [umol/(g*s)]' (or a 'conversion' "
+             "column with feed metadata, to derive the rates)");
         return;
+    }
+    if (!p->col_of[COL_RATE]) {
+        /* Rates will come from conversion and the feed metadata, in SI per mass;
+           derive_rates() fills them once all metadata (file and campaign.ini) are known. */
+        s->rates_derived = 1;
+        s->basis = ARRANK_BASIS_MASS;
+        s->rate_unit_file = strdup(DERIVED_RATE_UNIT);
+        if (!s->rate_unit_file) {
+            nomem(p);
+            return;
+        }
+        if (p->report_unit &&
+            arrank_units_conversion(p->units, DERIVED_RATE_UNIT, p->report_unit,
+                                    &p->derived_conv, &uerr) != ARRANK_OK) {
+            fail(p, ARRANK_EUNIT, 0,
+                 "rates derived from conversion are per mass (%s) and not convertible to the "
+                 "campaign's '%s'", DERIVED_RATE_UNIT, p->report_unit);
+            return;
+        }
     }
     for (size_t i = 0; i < p->n_cols && p->status == ARRANK_OK; i++) {
         data_column *c = &p->cols[i];
@@ -552,7 +576,8 @@ static void data_field(parser *p, char *text)
     double v = NAN;
     int bad = parse_number(text, p->delim, &v);
     if (bad == 1 && shown[0] == '\0') {
-        if (c->kind == COL_TEMP || c->kind == COL_RATE)
+        if (c->kind == COL_TEMP || c->kind == COL_RATE ||
+            (c->kind == COL_CONVERSION && p->sample->rates_derived))
             fail(p, ARRANK_EPARSE, colno, "empty cell in column '%s'", c->name);
         return; /* optional quantity not given */
     }
@@ -653,7 +678,7 @@ static void on_row(int c, void *user)
         return;
     }
     s->points[s->n_points++] = p->point;
-    if (!(p->point.rate > 0.0) && !s->problem) {
+    if (!s->rates_derived && !(p->point.rate > 0.0) && !s->problem) {
         char msg[256];
         snprintf(msg, sizeof msg,
                  "rate %s at line %ld is not positive; a logarithm needs a positive rate",
@@ -947,14 +972,166 @@ static arrank_status parse_sample(parser *p, const char *data, size_t len)
         p->line = p->header_line;
         return fail(p, ARRANK_EPARSE, 0, "the header is not followed by any data row");
     }
+    if (p->sample->rates_derived) {
+        p->sample->problem_line = 0; /* set by derive_rates() */
+        return ARRANK_OK;
+    }
     if (set_fit_problem(p->sample) != 0)
         return nomem(p);
     return ARRANK_OK;
 }
 
-arrank_status arrank_sample_parse(const char *name, const char *data, size_t len,
+/* Metadata value, as a quantity converted to si_unit; 1 when present and valid,
+   0 when absent, -1 (err filled) when present but not a quantity of that kind. */
+static int meta_quantity(arrank_sample *s, arrank_units *units, const char *key,
+                         const char *si_unit, double *value, arrank_error *err)
+{
+    const char *text = arrank_sample_meta(s, key);
+    if (!text)
+        return 0;
+    arrank_error qe;
+    arrank_error_clear(&qe);
+    if (arrank_units_parse_quantity(units, text, si_unit, value, &qe) != ARRANK_OK ||
+        !isfinite(*value)) {
+        const arrank_meta *m = NULL;
+        for (size_t i = s->n_meta; i-- > 0;)
+            if (ascii_casecmp(s->meta[i].key, key) == 0) {
+                m = &s->meta[i];
+                break;
+            }
+        arrank_error_at(err, ARRANK_EPARSE, m ? m->source : s->path, m ? m->line : 0, 0,
+                        "%s '%s' is not a quantity in %s: %s", key, text, si_unit, qe.message);
+        return -1;
+    }
+    return 1;
+}
+
+/*
+ * Rates of a sample without a rate column, from its conversion column and its
+ * metadata (README "Rates from conversion"):
+ *   feed_flow       total molar flow (amount/time), or volumetric flow
+ *                   (volume/time) at flow_reference_temperature and
+ *                   flow_reference_pressure, default 273.15 K and 101.325 kPa
+ *                   (the usual "standard" volume; common practice);
+ *   feed_fraction   mole fraction of the reactant in the feed (0.05 or 5 %);
+ *   mass            catalyst mass;
+ *   rate_form       differential (default): r = F y X / W, or integral
+ *                   (first-order plug flow): r = F y ln(1/(1 - X)) / W.
+ * The formulas are arrank_diagnose_derive_rate's (diagnose.h).
+ */
+static arrank_status derive_rates(arrank_sample *s, arrank_units *units,
+                                  const arrank_conversion *to_report, arrank_error *err)
+{
+    double flow = NAN, frac = NAN, mass = NAN;
+    const char *missing = NULL;
+    int got = meta_quantity(s, units, "feed_flow", "mol/s", &flow, err);
+    if (got < 0) {
+        /* not an amount per time: a volume per time at reference conditions */
+        double vol = NAN, T_ref = 273.15, P_ref = 101325.0;
+        arrank_error ignored;
+        arrank_error_clear(&ignored);
+        if (meta_quantity(s, units, "feed_flow", "m3/s", &vol, &ignored) != 1) {
+            const char *text = arrank_sample_meta(s, "feed_flow");
+            return arrank_error_at(err, ARRANK_EUNIT, s->path, 0, 0,
+                                   "feed_flow '%s' is neither an amount nor a volume per time "
+                                   "(e.g. 2.5 umol/s or 50 mL/min)", text);
+        }
+        if (meta_quantity(s, units, "flow_reference_pressure", "Pa", &P_ref, err) < 0)
+            return ARRANK_EPARSE;
+        const char *tr = arrank_sample_meta(s, "flow_reference_temperature");
+        if (tr && arrank_units_parse_temperature(units, tr, &T_ref, err) != ARRANK_OK)
+            return arrank_error_at(err, ARRANK_EPARSE, s->path, 0, 0,
+                                   "flow_reference_temperature '%s': %s", tr, err->message);
+        flow = P_ref * vol / (ARRANK_R_J_MOL_K * T_ref); /* ideal gas */
+        got = 1;
+    }
+    if (got == 0)
+        missing = "feed_flow";
+    int gf = meta_quantity(s, units, "feed_fraction", "1", &frac, err);
+    if (gf < 0)
+        return ARRANK_EPARSE;
+    if (gf == 0 && !missing)
+        missing = "feed_fraction";
+    int gm = meta_quantity(s, units, "mass", "kg", &mass, err);
+    if (gm == 0)
+        gm = meta_quantity(s, units, "catalyst_mass", "kg", &mass, err);
+    if (gm < 0)
+        return ARRANK_EPARSE;
+    if (gm == 0 && !missing)
+        missing = "mass";
+    if (missing)
+        return arrank_error_at(err, ARRANK_EPARSE, s->path, 0, 0,
+                               "no rate column, so the rates are derived from 'conversion', "
+                               "but metadata '%s' is missing; add e.g. '# feed_flow = 50 "
+                               "mL/min', '# feed_fraction = 5 %%' and '# mass = 50 mg'",
+                               missing);
+    const char *form = arrank_sample_meta(s, "rate_form");
+    int integral = 0;
+    if (form && ascii_casecmp(form, "integral") == 0)
+        integral = 1;
+    else if (form && ascii_casecmp(form, "differential") != 0)
+        return arrank_error_at(err, ARRANK_EPARSE, s->path, 0, 0,
+                               "rate_form '%s' is not known; use differential or integral",
+                               form);
+    size_t n = s->n_points;
+    double *buf = malloc(4 * (n ? n : 1) * sizeof *buf);
+    if (!buf)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    double *X = buf, *F = buf + n, *y = buf + 2 * n, *W = buf + 3 * n;
+    for (size_t i = 0; i < n; i++) {
+        X[i] = s->points[i].conversion;
+        F[i] = flow;
+        y[i] = frac;
+        W[i] = mass;
+        if (X[i] >= 1.0) {
+            long line = s->points[i].line;
+            free(buf);
+            return arrank_error_at(err, ARRANK_EPARSE, s->path, line, 0,
+                                   "conversion 1 leaves no rate to derive; complete conversion "
+                                   "is outside the differential and first-order forms");
+        }
+    }
+    double *rate = malloc((n ? n : 1) * sizeof *rate);
+    arrank_error de;
+    arrank_error_clear(&de);
+    arrank_status st = rate ? arrank_diagnose_derive_rate(X, F, y, W, n, integral, rate, &de)
+                            : ARRANK_ENOMEM;
+    free(buf);
+    if (st != ARRANK_OK) {
+        free(rate);
+        if (st == ARRANK_ENOMEM)
+            return arrank_errorf(err, st, "out of memory");
+        return arrank_error_at(err, ARRANK_EPARSE, s->path, 0, 0, "%s", de.message);
+    }
+    for (size_t i = 0; i < n; i++) {
+        arrank_point *pt = &s->points[i];
+        pt->rate = to_report->scale * rate[i] + to_report->offset;
+        if (!(pt->rate > 0.0) && !s->problem) {
+            char msg[256];
+            snprintf(msg, sizeof msg,
+                     "conversion %g at line %ld gives a rate of 0; a logarithm needs a "
+                     "positive rate",
+                     pt->conversion, pt->line);
+            if (!(s->problem = strdup(msg))) {
+                free(rate);
+                return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+            }
+            s->problem_line = pt->line;
+        }
+    }
+    free(rate);
+    char note[160];
+    snprintf(note, sizeof note, "rates derived from conversion (%s form: r = F y %s / W)",
+             integral ? "integral first-order" : "differential", integral ? "ln(1/(1-X))" : "X");
+    size_t cap = s->n_notes;
+    if (list_add(&s->notes, &s->n_notes, &cap, note) != 0 || set_fit_problem(s) != 0)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    return ARRANK_OK;
+}
+
+static arrank_status sample_parse(const char *name, const char *data, size_t len,
                                   arrank_units *units, const char *report_unit,
-                                  arrank_sample *sample, arrank_error *err)
+                                  arrank_sample *sample, int defer_derived, arrank_error *err)
 {
     if (!name || (!data && len) || !units || !sample)
         return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_sample_parse");
@@ -969,10 +1146,21 @@ arrank_status arrank_sample_parse(const char *name, const char *data, size_t len
     arrank_status st = parse_sample(&p, data ? data : "", len);
     if (st == ARRANK_OK)
         st = sample_ids(&p);
+    if (st == ARRANK_OK && sample->rates_derived && !defer_derived) {
+        arrank_conversion identity = {1.0, 0.0};
+        st = derive_rates(sample, units, report_unit ? &p.derived_conv : &identity, err);
+    }
     parser_free(&p);
     if (st != ARRANK_OK)
         arrank_sample_clear(sample);
     return st;
+}
+
+arrank_status arrank_sample_parse(const char *name, const char *data, size_t len,
+                                  arrank_units *units, const char *report_unit,
+                                  arrank_sample *sample, arrank_error *err)
+{
+    return sample_parse(name, data, len, units, report_unit, sample, 0, err);
 }
 
 /* ---------------------------------------------------------- campaign.ini */
@@ -1437,7 +1625,7 @@ arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_
         size_t len = 0;
         st = read_file(dirfd, names[i], path, &buf, &cap, &len, err);
         if (st == ARRANK_OK)
-            st = arrank_sample_parse(path, buf, len, units, c->rate_unit, &c->samples[i], err);
+            st = sample_parse(path, buf, len, units, c->rate_unit, &c->samples[i], 1, err);
         free(path);
         if (st != ARRANK_OK)
             goto fail;
@@ -1480,6 +1668,17 @@ arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_
         if (!ini_path)
             goto nomem;
         st = apply_ini_entries(&ini, index, c->n_samples, ini_path);
+        if (st != ARRANK_OK)
+            goto fail;
+    }
+    /* Derived rates need every metadata entry, campaign.ini's included. */
+    for (size_t i = 0; i < c->n_samples; i++) {
+        if (!c->samples[i].rates_derived)
+            continue;
+        arrank_conversion conv;
+        st = arrank_units_conversion(units, DERIVED_RATE_UNIT, c->rate_unit, &conv, err);
+        if (st == ARRANK_OK)
+            st = derive_rates(&c->samples[i], units, &conv, err);
         if (st != ARRANK_OK)
             goto fail;
     }
