@@ -107,6 +107,9 @@ typedef struct {
  * Fit ln r = b0 + b1 (1/T - 1/T_ref).  temp_K[n], rate[n] > 0; rate_sd may be
  * NULL, or have NAN entries only if all are NAN (then unweighted).  EFIT with a
  * message for n < 3, a single temperature, or a rate <= 0 or not finite.
+ * Weights are (r/sd)^2; the covariance is always scaled by s^2 = chi2/dof
+ * (weights taken as relative, as SciPy curve_fit with absolute_sigma=False), so
+ * chi2_dof tells how far the stated rate_sd is from the scatter seen.
  */
 arrank_status arrank_fit_arrhenius(const double *temp_K, const double *rate, const double *rate_sd,
                                    size_t n, arrank_arrhenius *fit, arrank_error *err);
