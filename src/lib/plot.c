@@ -273,7 +273,15 @@ typedef struct {
     const arrank_analysis *a;
     const char *unit;  /* report unit of rates, user text */
     const char *title; /* campaign title, user text */
+    int font_pt;       /* base font size of the current terminal */
 } script;
+
+/* Font size as a fraction of the terminal's base size, for secondary text. */
+static int font_of(const script *s, double fraction)
+{
+    int pt = (int)lround(s->font_pt * fraction);
+    return pt < 6 ? 6 : pt;
+}
 
 static const char *sample_name(const arrank_result *r)
 {
@@ -300,7 +308,7 @@ static void put_terminal(script *s, const figure *fig, unsigned format)
     int w, h;
     figure_size(s, fig, &w, &h);
     FILE *f = s->f;
-    /* Sizes: SVG at slide scale (about 1000 px wide, 16 px text); PNG 2.5 times
+    /* Sizes: SVG at slide scale (about 1000 px wide, 20 px text); PNG 2.5 times
        that in pixels, i.e. 300 dpi for a 9 in wide figure; PDF 120 px per inch.
        pngcairo takes font sizes in points at 72 dpi on its pixel canvas. */
     switch (format) {
@@ -308,19 +316,22 @@ static void put_terminal(script *s, const figure *fig, unsigned format)
         fprintf(f,
                 "set terminal pngcairo size %d,%d font 'Sans,%d' noenhanced linewidth 3.0 "
                 "background rgb '#ffffff'\n",
-                w * 5 / 2, h * 5 / 2, 30);
+                w * 5 / 2, h * 5 / 2, s->font_pt = 40);
+        fputs("PS = 3.0\n", f);
         break;
     case ARRANK_PLOT_PDF:
         fprintf(f,
-                "set terminal pdfcairo size %.2fin,%.2fin font 'Sans,11' noenhanced "
+                "set terminal pdfcairo size %.2fin,%.2fin font 'Sans,%d' noenhanced "
                 "linewidth 1.5 background rgb '#ffffff'\n",
-                w / 120.0, h / 120.0);
+                w / 120.0, h / 120.0, s->font_pt = 12);
+        fputs("PS = 0.8\n", f);
         break;
     default:
         fprintf(f,
-                "set terminal svg size %d,%d fixed font 'sans-serif,16' noenhanced "
+                "set terminal svg size %d,%d fixed font 'sans-serif,%d' noenhanced "
                 "linewidth 1.5 background rgb '#ffffff'\n",
-                w, h);
+                w, h, s->font_pt = 22);
+        fputs("PS = 0.7\n", f);
         break;
     }
 }
@@ -410,6 +421,34 @@ static int any_extrapolation(double T_op, const arrank_arrhenius *fit)
     return isfinite(T_op) && (T_op < fit->T_min_K || T_op > fit->T_max_K);
 }
 
+/* Top-axis tics at round degC values between t_lo and t_hi (degC; the linked
+   x2 axis takes its positions in degC): the
+   smallest step of 1, 2, 2.5 or 5 times a power of ten that gives at most 8. */
+static void put_celsius_tics(FILE *f, double t_lo, double t_hi)
+{
+    double span = t_hi - t_lo;
+    if (!(span > 0) || !isfinite(span)) {
+        fputs("set x2tics out\n", f);
+        return;
+    }
+    static const double mult[] = {1.0, 2.0, 2.5, 5.0};
+    double step = 0, p10 = pow(10.0, floor(log10(span / 8.0)));
+    for (int e = 0; e < 3 && step == 0; e++, p10 *= 10)
+        for (int m = 0; m < 4; m++)
+            if (span / (mult[m] * p10) <= 8.0) {
+                step = mult[m] * p10;
+                break;
+            }
+    fputs("set x2tics out (", f);
+    int n = 0;
+    for (double t = ceil(t_lo / step) * step; t <= t_hi + 1e-9 * span && n < 20; t += step) {
+        double tc = fabs(t) < 1e-9 * step ? 0.0 : t;
+        fprintf(f, "%s'%.6g' %.9g", n ? ", " : "", tc, tc);
+        n++;
+    }
+    fputs(")\n", f);
+}
+
 static void fig_arrhenius(script *s)
 {
     FILE *f = s->f;
@@ -440,10 +479,14 @@ static void fig_arrhenius(script *s)
     put_qf(f, "ln( r / (%s) )", s->unit);
     fputs("\nset x2label 'T  [°C]'\n", f);
     fprintf(f, "set xrange [%.9g:%.9g]\n", x_lo - pad, x_hi + pad);
-    /* The top axis is the same axis in degC: x2 = 1000/x - 273.15. */
+    /* The top axis is the same axis in degC: x2 = 1000/x - 273.15.  gnuplot's
+       own tics on a linked nonlinear axis come out sparse, so place round
+       degC values here. */
     fputs("set link x2 via 1000./x - 273.15 inverse 1000./(x + 273.15)\n"
-          "set xtics nomirror\n"
-          "set x2tics out\n"
+          "set xtics nomirror\n",
+          f);
+    put_celsius_tics(f, X_SCALE / (x_hi + pad) - ZERO_C_K, X_SCALE / (x_lo - pad) - ZERO_C_K);
+    fputs("set mytics 2\n"
           "set mytics 2\n"
           "set key outside right top vertical Left reverse samplen 1.5 spacing 1.15\n"
           "set style fill transparent solid 0.14 noborder\n",
@@ -506,7 +549,7 @@ static void fig_arrhenius(script *s)
                 continue;
             int hollow = b >= 2, with_sd = b % 2 == 0;
             next_elem(f, &first);
-            fprintf(f, "$%s%zu using 1:2%s with %s pt %d ps 1.5 lw 1.5 lc rgb '%s'", tags[b], i,
+            fprintf(f, "$%s%zu using 1:2%s with %s pt %d ps 1.8*PS lw 1.5 lc rgb '%s'", tags[b], i,
                     with_sd ? ":3" : "", with_sd ? "yerrorbars" : "points",
                     arrank_plot_point_type(i, hollow), c);
             if (!titled) {
@@ -527,7 +570,7 @@ static void fig_arrhenius(script *s)
     }
     if (any_excluded) {
         next_elem(f, &first);
-        fputs("keyentry with points pt 6 ps 1.5 lc rgb '#555555' title 'left out of the fit'", f);
+        fputs("keyentry with points pt 6 ps 1.5*PS lc rgb '#555555' title 'left out of the fit'", f);
     }
     if (first)
         fputs("plot 0 with lines lc rgb '#ffffff'", f);
@@ -551,6 +594,35 @@ static void flag_list(unsigned mask, char *buf, size_t n)
             break;
         len += (size_t)w;
     }
+}
+
+/* Tics of a log axis between lo and hi (> 0).  gnuplot labels only whole
+   decades, which leaves a narrow range with one label or none; below three
+   decades place 1-2-5 (or 1..9 below one decade) mantissas here. */
+static void put_log_tics(FILE *f, const char *axis, double lo, double hi)
+{
+    double span = log10(hi / lo);
+    if (!(span > 0) || !isfinite(span) || span > 3.0) {
+        fprintf(f, "set %stics\nset format %s '%%g'\n", axis, axis);
+        return;
+    }
+    static const double fine[] = {1, 1.5, 2, 3, 4, 5, 6, 7, 8, 9};
+    static const double coarse[] = {1, 2, 5};
+    const double *m = span < 1.0 ? fine : coarse;
+    size_t nm = span < 1.0 ? sizeof fine / sizeof *fine : sizeof coarse / sizeof *coarse;
+    fprintf(f, "set %stics (", axis);
+    int n = 0;
+    for (double d = floor(log10(lo)); d <= ceil(log10(hi)); d++)
+        for (size_t k = 0; k < nm; k++) {
+            double v = m[k] * pow(10.0, d);
+            if (v < lo || v > hi)
+                continue;
+            fprintf(f, "%s'%.3g' %.9g", n ? ", " : "", v, v);
+            n++;
+        }
+    fputs(")\n", f);
+    if (n < 2) /* very narrow: fall back to gnuplot's own */
+        fprintf(f, "set %stics autofreq\nset format %s '%%.3g'\n", axis, axis);
 }
 
 static void fig_rate_at_T(script *s)
@@ -594,15 +666,24 @@ static void fig_rate_at_T(script *s)
     fputs("\nset xlabel ", f);
     put_qf(f, "r at %.4g °C  [%s]  (log scale)", T_C, s->unit);
     fputs("\nset logscale x\n"
-          "set format x '%g'\n"
-          "set grid xtics mxtics ytics\n"
+          "set grid xtics ytics\n"
           "set ytics nomirror scale 0\n"
           "set xtics mirror\n"
-          "set key off\n"
-          "set rmargin 26\n"
-          "set lmargin 18\n",
+          "set key off\n",
           f);
     fprintf(f, "set xrange [%.9g:%.9g]\n", lo / widen, hi * widen);
+    put_log_tics(f, "x", lo / widen, hi * widen);
+    /* Room at the right for the flag names (in characters of the base font;
+       they are drawn at 0.7 of it). */
+    size_t flag_chars = 0;
+    for (size_t k = 0; k < n_rows; k++) {
+        char buf[512];
+        flag_list(a->results[rows[k]].flags, buf, sizeof buf);
+        if (strlen(buf) > flag_chars)
+            flag_chars = strlen(buf);
+    }
+    if (flag_chars)
+        fprintf(f, "set rmargin %.3g\n", 0.75 * (double)flag_chars + 3.0);
     fprintf(f, "set yrange [0.4:%.9g]\n", (double)n_rows + 0.6);
     /* Sample names as tick labels: each one a quoted string expression. */
     fputs("set ytics (", f);
@@ -625,21 +706,21 @@ static void fig_rate_at_T(script *s)
             flag_list(r->flags, buf, sizeof buf);
             fprintf(f, "set label %zu ", k + 10);
             put_q(f, buf);
-            fprintf(f, " at graph 1.02, first %zu left font ',12' tc rgb '#444444'\n",
-                    n_rows - k);
+            fprintf(f, " at graph 1.02, first %zu left font ',%d' tc rgb '#444444'\n",
+                    n_rows - k, font_of(s, 0.7));
             any_flag = 1;
         }
     }
     if (any_flag)
-        fputs("set label 2 'open marker: flagged (flags at right)' at screen 0.01, screen 0.02 "
-              "left font ',12' tc rgb '#444444'\n",
-              f);
+        fprintf(f, "set label 2 'open marker: flagged (flags at right)' at screen 0.01, "
+                   "screen 0.02 left font ',%d' tc rgb '#444444'\n",
+                font_of(s, 0.7));
     int first = 1;
     for (size_t k = 0; k < n_rows; k++) {
         const arrank_result *r = &a->results[rows[k]];
         size_t i = rows[k];
         next_elem(f, &first);
-        fprintf(f, "$rate%zu using 1:2:3:4 with xerrorbars pt %d ps 1.8 lw 2 lc rgb '%s'", k,
+        fprintf(f, "$rate%zu using 1:2:3:4 with xerrorbars pt %d ps 1.8*PS lw 2 lc rgb '%s'", k,
                 arrank_plot_point_type(i, r->flags != 0), arrank_plot_color(i));
     }
     if (first)
@@ -674,9 +755,9 @@ static void fig_ea_lnA(script *s)
           "set mxtics 2\nset mytics 2\n",
           f);
     fprintf(f, "set label 2 'ellipses: joint %.4g %% confidence regions of (Ea, ln A) from the "
-               "covariance, 2·F(2, n−2) quantile' at screen 0.01, screen 0.02 left font ',12' "
+               "covariance, 2·F(2, n−2) quantile' at screen 0.01, screen 0.02 left font ',%d' "
                "tc rgb '#444444'\n",
-            100.0 * a->options.confidence);
+            100.0 * a->options.confidence, font_of(s, 0.7));
     fputs("set bmargin 5\n", f);
     for (size_t i = 0; i < a->n_results; i++) {
         const arrank_result *r = &a->results[i];
@@ -715,7 +796,7 @@ static void fig_ea_lnA(script *s)
             fprintf(f, "$ell%zu using 1:2 with lines lw 1.8 lc rgb '%s'", i, arrank_plot_color(i));
         }
         next_elem(f, &first);
-        fprintf(f, "$ctr%zu using 1:2 with points pt %d ps 1.5 lc rgb '%s' title ", i,
+        fprintf(f, "$ctr%zu using 1:2 with points pt %d ps 1.5*PS lc rgb '%s' title ", i,
                 arrank_plot_point_type(i, 0), arrank_plot_color(i));
         put_q(f, sample_name(r));
     }
@@ -836,15 +917,16 @@ static void fig_diagnostics(script *s, size_t i)
 
     fputs("set multiplot layout 1,2 title ", f);
     put_qf(f, "Diagnostics: %s", sample_name(r));
-    fputs(" font ',18'\n", f);
+    fprintf(f, " font ',%d'\n", font_of(s, 1.1));
 
     /* Left: residuals against 1000/T with the +-2 s lines. */
     fputs("set title 'residuals of the fit'\n"
           "set xlabel '1000 / T  [K⁻¹]'\n"
           "set ylabel 'ln r − fitted ln r'\n"
-          "set key bottom left Left reverse samplen 1.2 font ',13' opaque\n"
           "set offsets graph 0.05, graph 0.05, graph 0.15, graph 0.15\n",
           f);
+    fprintf(f, "set key bottom left Left reverse samplen 1.2 font ',%d' opaque\n",
+            font_of(s, 0.75));
     double sd2 = 2.0 * fit->resid_sd;
     int first = 1;
     next_elem(f, &first);
@@ -857,12 +939,12 @@ static void fig_diagnostics(script *s, size_t i)
     }
     if (nu) {
         next_elem(f, &first);
-        fprintf(f, "$resu%zu using 1:2 with points pt %d ps 1.6 lc rgb '%s' title 'in the fit'",
+        fprintf(f, "$resu%zu using 1:2 with points pt %d ps 1.6*PS lc rgb '%s' title 'in the fit'",
                 i, arrank_plot_point_type(i, 0), c);
     }
     if (nx) {
         next_elem(f, &first);
-        fprintf(f, "$resx%zu using 1:2 with points pt %d ps 1.6 lc rgb '%s' "
+        fprintf(f, "$resx%zu using 1:2 with points pt %d ps 1.6*PS lc rgb '%s' "
                    "title 'left out of the fit'", i, arrank_plot_point_type(i, 1), c);
     }
     fputs("\n", f);
@@ -882,7 +964,7 @@ static void fig_diagnostics(script *s, size_t i)
     fprintf(f, "$eab%zu using 1:2 with lines lw 2 lc rgb '%s'", i, c);
     if (nloc) {
         next_elem(f, &first);
-        fprintf(f, "$loc%zu using 1:2 with linespoints pt %d ps 1.4 lw 1.5 lc rgb '%s' "
+        fprintf(f, "$loc%zu using 1:2 with linespoints pt %d ps 1.4*PS lw 1.5 lc rgb '%s' "
                    "title 'local slope'", i, arrank_plot_point_type(i, 0), c);
     }
     fputs("\nunset multiplot\n", f);
