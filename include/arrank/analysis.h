@@ -113,8 +113,8 @@ typedef struct {
 /*
  * Run the pipeline.  options may be NULL (defaults).  On success *out is owned
  * by the caller (arrank_analysis_free).  Samples that cannot be fitted do not
- * fail the call: they get `error` and rank 0.  EDATA when ranking was asked
- * for (operating temperature given, or by != RATE) and no sample could be fitted.
+ * fail the call: they get `error` and rank 0.  EDATA (with the first sample's
+ * reason and position) when no sample at all could be fitted.
  */
 arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_options *options,
                                   arrank_analysis **out, arrank_error *err);

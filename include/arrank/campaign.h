@@ -22,6 +22,18 @@
 #include "arrank/error.h"
 #include "arrank/units.h"
 
+/*
+ * Resource limits.  Input beyond any of them is refused with ARRANK_ELIMIT
+ * (and the file, line, column where it was met), so a stray log file or a
+ * runaway export cannot exhaust memory.  Each file is read with one read into
+ * a buffer of its size, so memory per file is bounded by the file-size limit.
+ */
+#define ARRANK_CAMPAIGN_MAX_LINE_BYTES (1024L * 1024L) /* bytes in one line, terminator excluded */
+#define ARRANK_CAMPAIGN_MAX_COLUMNS 1000L             /* fields in the header or a row */
+#define ARRANK_CAMPAIGN_MAX_ROWS 1000000L             /* data rows in one file */
+#define ARRANK_CAMPAIGN_MAX_FILES 200000L             /* sample files in one folder */
+#define ARRANK_CAMPAIGN_MAX_FILE_BYTES (256L * 1024L * 1024L) /* size of one sample file */
+
 /* One measured point.  Quantities absent from the file are NAN. */
 typedef struct {
     double temp_K;           /* temperature, K */

@@ -30,4 +30,13 @@ arrank_status arrank_output_write(const arrank_analysis *analysis, arrank_output
 arrank_status arrank_output_save(const arrank_analysis *analysis, arrank_output_format format,
                                  const char *path, arrank_error *err);
 
+/*
+ * The same atomic save for any writer (figures, report): writer(stream, ctx,
+ * err) produces the content.  Parent folders are created.  path "-" is stdout.
+ */
+arrank_status arrank_output_save_with(const char *path,
+                                      arrank_status (*writer)(FILE *stream, void *ctx,
+                                                              arrank_error *err),
+                                      void *ctx, arrank_error *err);
+
 #endif

@@ -214,21 +214,25 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
         }
     }
 
+    /* With nothing fitted there is nothing to show: report the first reason. */
+    size_t n_fitted = 0;
+    for (size_t i = 0; i < a->n_results; i++)
+        if (!a->results[i].error)
+            a->order[n_fitted++] = i;
+    if (n_fitted == 0) {
+        const arrank_result *first = a->n_results ? &a->results[0] : NULL;
+        if (first && first->error)
+            st = arrank_error_at(err, ARRANK_EDATA, first->sample->path, first->error_line, 0,
+                                 "%s", first->error);
+        else
+            st = arrank_errorf(err, ARRANK_EDATA, "no sample in '%s' could be fitted",
+                               campaign->path);
+        goto fail;
+    }
+
     /* Rank the fitted samples; ranking by rate needs an operating temperature. */
     if (want_T || opt.by != ARRANK_BY_RATE) {
-        for (size_t i = 0; i < a->n_results; i++)
-            if (!a->results[i].error)
-                a->order[a->n_ranked++] = i;
-        if (a->n_ranked == 0) {
-            const arrank_result *first = a->n_results ? &a->results[0] : NULL;
-            if (first && first->error)
-                st = arrank_error_at(err, ARRANK_EDATA, first->sample->path, first->error_line, 0,
-                                     "%s", first->error);
-            else
-                st = arrank_errorf(err, ARRANK_EDATA, "no sample in '%s' could be fitted",
-                                   campaign->path);
-            goto fail;
-        }
+        a->n_ranked = n_fitted;
         sort_by = opt.by;
         sort_results = a->results;
         qsort(a->order, a->n_ranked, sizeof *a->order, compare_rank);

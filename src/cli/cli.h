@@ -1,0 +1,111 @@
+/*
+ * cli.h - what the arrank program's commands share: the option parser, the
+ * campaign loading step, exit statuses and error printing.  The commands
+ * (cmd_<name>.c) hold no science: they parse, call the library, print.
+ */
+#ifndef ARRANK_CLI_H
+#define ARRANK_CLI_H
+
+#include <stddef.h>
+
+#include "arrank/analysis.h"
+#include "arrank/campaign.h"
+#include "arrank/error.h"
+#include "arrank/units.h"
+
+/* Exit statuses (README "Exit status"; never renumbered). */
+enum {
+    EXIT_OK = 0,
+    EXIT_DATA = 1,     /* bad input data, or nothing could be fitted */
+    EXIT_USAGE = 2,    /* bad command line */
+    EXIT_IO = 3,       /* a file or folder could not be read or written */
+    EXIT_PLOT = 4,     /* gnuplot failed on a figure */
+    EXIT_NOGNUPLOT = 5 /* gnuplot is not installed */
+};
+
+/* Which options a command accepts (bit set). */
+enum {
+    OPT_AT = 1u << 0,         /* --at T */
+    OPT_OUTPUTS = 1u << 1,    /* --json FILE|-, --csv FILE|- */
+    OPT_CONFIDENCE = 1u << 2, /* --confidence 0.95 */
+    OPT_BY = 1u << 3,         /* --by rate|ea|prefactor */
+    OPT_DIAGNOSE = 1u << 4,   /* --use-all, --drop-outliers, --conversion-limit */
+    OPT_STATS = 1u << 5,      /* --seed, --draws, --pairs, --bootstrap, --normal */
+    OPT_MODEL = 1u << 6,      /* --errors, --model */
+    OPT_OUT_DIR = 1u << 7,    /* --out DIR */
+    OPT_FORMAT = 1u << 8      /* --format svg|png|pdf (repeatable) */
+};
+
+#define CLI_MAX_FORMATS 8
+
+typedef struct {
+    const char *command;
+    const char *campaign_dir;
+    const char *at_text;      /* --at as written, NULL if not given */
+    const char *json_path;    /* NULL if not asked */
+    const char *csv_path;
+    const char *out_dir;
+    const char *formats[CLI_MAX_FORMATS];
+    size_t n_formats;
+    int confidence_given;
+    int by_given;
+    arrank_options options;
+    int argc;                 /* the whole command line, for the report */
+    char **argv;
+} cli_args;
+
+/* One command of the program. */
+typedef struct {
+    const char *name;
+    int (*run)(int argc, char **argv);
+    const char *summary; /* one line for `arrank --help` */
+} cli_command;
+
+/*
+ * Parse argv (argv[0] is the command name) for a command accepting `accepted`
+ * options; usage is printed for --help.  Returns -1 when parsing succeeded,
+ * otherwise the exit status to use (0 after --help, EXIT_USAGE on an error,
+ * already printed).
+ */
+int cli_parse(int argc, char **argv, unsigned accepted, const char *usage, cli_args *args);
+
+/* Print "arrank: <formatted error>" on stderr. */
+void cli_print_error(const arrank_error *err);
+
+/* Print "arrank: <message>" on stderr (printf-style). */
+void cli_fail(const char *fmt, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 1, 2)))
+#endif
+    ;
+
+/* Exit status for a library status. */
+int cli_exit_status(arrank_status status, const arrank_error *err);
+
+/*
+ * Load the units, the campaign, settle the operating temperature (--at, else
+ * campaign.ini, else NAN; `need_T` makes a missing one a usage error) and the
+ * confidence (--confidence, else campaign.ini, else 0.95), then run the
+ * analysis.  On success returns -1 and fills the three outputs (free them with
+ * cli_session_free); otherwise prints the error and returns the exit status.
+ */
+typedef struct {
+    arrank_units *units;
+    arrank_campaign *campaign;
+    arrank_analysis *analysis;
+} cli_session;
+
+int cli_session_open(cli_args *args, int need_T, cli_session *session);
+void cli_session_free(cli_session *session);
+
+/* Tell on stderr which samples could not be fitted (FILE:LINE: reason). */
+void cli_report_unfitted(const cli_session *session);
+
+/* Write --json/--csv outputs (if asked).  Returns -1 or an exit status. */
+int cli_write_outputs(const cli_args *args, const cli_session *session);
+
+/* Command entry points. */
+int cmd_fit(int argc, char **argv);
+int cmd_rank(int argc, char **argv);
+
+#endif

@@ -1,0 +1,102 @@
+/*
+ * session.c - the steps every analysing command takes: load the units and the
+ * campaign, settle the operating temperature and the confidence level, run
+ * the analysis, tell which samples could not be fitted, write JSON and CSV.
+ */
+#include <gsl/gsl_errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "arrank/output.h"
+#include "cli.h"
+
+int cli_session_open(cli_args *args, int need_T, cli_session *s)
+{
+    memset(s, 0, sizeof *s);
+    arrank_error err;
+    arrank_error_clear(&err);
+    gsl_set_error_handler_off();
+
+    s->units = arrank_units_create(&err);
+    if (!s->units) {
+        cli_print_error(&err);
+        return EXIT_IO;
+    }
+    double at_K = NAN;
+    if (args->at_text) {
+        arrank_status st = arrank_units_parse_temperature(s->units, args->at_text, &at_K, &err);
+        if (st != ARRANK_OK) {
+            cli_fail("--at: %s", err.message);
+            cli_session_free(s);
+            return EXIT_USAGE;
+        }
+    }
+    arrank_status st = arrank_campaign_load(args->campaign_dir, s->units, &s->campaign, &err);
+    if (st != ARRANK_OK) {
+        cli_print_error(&err);
+        cli_session_free(s);
+        return cli_exit_status(st, &err);
+    }
+    if (!args->at_text)
+        at_K = s->campaign->operating_temp_K;
+    if (need_T && !isfinite(at_K) && args->options.by == ARRANK_BY_RATE) {
+        cli_fail("no operating temperature: give one with --at (e.g. --at 250C) or set "
+                 "operating_temperature in %s/campaign.ini", args->campaign_dir);
+        cli_session_free(s);
+        return EXIT_USAGE;
+    }
+    args->options.operating_temp_K = at_K;
+    if (!args->confidence_given && isfinite(s->campaign->confidence))
+        args->options.confidence = s->campaign->confidence;
+
+    st = arrank_analysis_run(s->campaign, &args->options, &s->analysis, &err);
+    if (st != ARRANK_OK) {
+        cli_print_error(&err);
+        cli_session_free(s);
+        return cli_exit_status(st, &err);
+    }
+    return -1;
+}
+
+void cli_session_free(cli_session *s)
+{
+    arrank_analysis_free(s->analysis);
+    arrank_campaign_free(s->campaign);
+    arrank_units_free(s->units);
+    memset(s, 0, sizeof *s);
+}
+
+void cli_report_unfitted(const cli_session *s)
+{
+    const arrank_analysis *a = s->analysis;
+    for (size_t i = 0; i < a->n_results; i++) {
+        const arrank_result *r = &a->results[i];
+        if (!r->error)
+            continue;
+        arrank_error e;
+        arrank_error_at(&e, ARRANK_EDATA, r->sample->path, r->error_line, 0,
+                        "%s; sample '%s' not fitted", r->error, r->sample->id);
+        cli_print_error(&e);
+    }
+}
+
+int cli_write_outputs(const cli_args *args, const cli_session *s)
+{
+    arrank_error err;
+    arrank_error_clear(&err);
+    const struct {
+        const char *path;
+        arrank_output_format format;
+    } out[] = {{args->json_path, ARRANK_OUTPUT_JSON}, {args->csv_path, ARRANK_OUTPUT_CSV}};
+    for (size_t i = 0; i < 2; i++) {
+        if (!out[i].path)
+            continue;
+        arrank_status st = arrank_output_save(s->analysis, out[i].format, out[i].path, &err);
+        if (st != ARRANK_OK) {
+            cli_print_error(&err);
+            return cli_exit_status(st, &err);
+        }
+    }
+    return -1;
+}

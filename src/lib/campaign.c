@@ -1,0 +1,1459 @@
+/*
+ * campaign.c - reading a campaign folder: campaign.ini and one CSV per sample.
+ *
+ * A sample file is: optional "# key = value" metadata lines, a header of
+ * "name [unit]" fields, then data rows (format: README.md, "The campaign
+ * format").  The metadata block is read here line by line; from the header on,
+ * the text goes to libcsv one physical line at a time, so every message can
+ * name the line (and the field) it is about even when a quoted field spans
+ * lines or the file mixes CR, LF and CRLF line ends.  Temperatures become
+ * kelvin and rates the campaign's report unit as they are read; udunits is
+ * asked about each distinct unit string once (see units.c), which keeps a
+ * campaign of thousands of files fast.
+ *
+ * A malformed file stops the load with an error that names path, line and
+ * column.  A sample that is well formed but cannot be fitted keeps its points
+ * and gets a `problem`, so that the analysis can report it instead of losing
+ * it.  Input files are only ever opened for reading.
+ */
+#include "arrank/campaign.h"
+#include "units_internal.h"
+
+#include <dirent.h>
+#include <errno.h>
+#include <fcntl.h>
+#include <math.h>
+#include <stdarg.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include <csv.h>
+#include <ini.h>
+
+#define UNIT_MAX 256
+
+/* ---------------------------------------------------------------- helpers */
+
+static int ascii_lower(int c)
+{
+    return (c >= 'A' && c <= 'Z') ? c - 'A' + 'a' : c;
+}
+
+/* Case-insensitive ASCII comparison, independent of the locale. */
+static int ascii_casecmp(const char *a, const char *b)
+{
+    for (;; a++, b++) {
+        int ca = ascii_lower((unsigned char)*a), cb = ascii_lower((unsigned char)*b);
+        if (ca != cb || ca == 0)
+            return ca - cb;
+    }
+}
+
+static int ascii_casecmp_n(const char *a, const char *b, size_t n)
+{
+    for (size_t i = 0; i < n; i++) {
+        int ca = ascii_lower((unsigned char)a[i]), cb = ascii_lower((unsigned char)b[i]);
+        if (ca != cb || ca == 0)
+            return ca - cb;
+    }
+    return 0;
+}
+
+static int is_blank(char c)
+{
+    return c == ' ' || c == '\t';
+}
+
+static char *dup_range(const char *s, size_t n)
+{
+    char *d = malloc(n + 1);
+    if (!d)
+        return NULL;
+    memcpy(d, s, n);
+    d[n] = '\0';
+    return d;
+}
+
+/* Trim blanks and line-end characters in place; returns the start. */
+static char *trim(char *s)
+{
+    while (is_blank(*s) || *s == '\r' || *s == '\n')
+        s++;
+    size_t n = strlen(s);
+    while (n > 0 && (is_blank(s[n - 1]) || s[n - 1] == '\r' || s[n - 1] == '\n'))
+        s[--n] = '\0';
+    return s;
+}
+
+static const char *base_name(const char *path)
+{
+    const char *slash = strrchr(path, '/');
+    return slash ? slash + 1 : path;
+}
+
+static int has_csv_extension(const char *name)
+{
+    size_t n = strlen(name);
+    return n > 4 && ascii_casecmp(name + n - 4, ".csv") == 0;
+}
+
+/* Grow *array (element size elem) so that it holds at least need elements. */
+static int grow(void **array, size_t *cap, size_t need, size_t elem)
+{
+    if (need <= *cap)
+        return 0;
+    size_t n = *cap ? *cap : 8;
+    while (n < need) {
+        if (n > SIZE_MAX / 2 / elem)
+            return -1;
+        n *= 2;
+    }
+    void *p = realloc(*array, n * elem);
+    if (!p)
+        return -1;
+    *array = p;
+    *cap = n;
+    return 0;
+}
+
+/* Append a copy of text to a string list. */
+static int list_add(char ***list, size_t *n, size_t *cap, const char *text)
+{
+    if (grow((void **)list, cap, *n + 1, sizeof **list) != 0)
+        return -1;
+    char *copy = strdup(text);
+    if (!copy)
+        return -1;
+    (*list)[(*n)++] = copy;
+    return 0;
+}
+
+static void list_free(char **list, size_t n)
+{
+    for (size_t i = 0; i < n; i++)
+        free(list[i]);
+    free(list);
+}
+
+/* strerror text with a lowercase first letter, to match our message style. */
+static void os_message(int errnum, char *buf, size_t n)
+{
+    snprintf(buf, n, "%s", strerror(errnum));
+    if (buf[0] >= 'A' && buf[0] <= 'Z' && !(buf[1] >= 'A' && buf[1] <= 'Z'))
+        buf[0] = (char)ascii_lower((unsigned char)buf[0]);
+}
+
+/*
+ * Parse a numeric cell: blanks around it allowed, a decimal comma when the
+ * delimiter is not a comma.  Returns 0, or 1 (not a number), 2 (not finite),
+ * 3 (out of the range of double).
+ */
+static int parse_number(char *text, char delim, double *value)
+{
+    char *s = trim(text);
+    if (*s == '\0')
+        return 1;
+    for (char *p = s; *p; p++) {
+        if (*p == ',' && delim != ',')
+            *p = '.';
+        else if (*p == 'x' || *p == 'X') /* strtod reads hexadecimal; a lab file does not */
+            return 1;
+    }
+    char *end;
+    errno = 0;
+    double v = strtod(s, &end);
+    if (end == s || *end != '\0')
+        return 1;
+    if (isnan(v) || (isinf(v) && errno != ERANGE))
+        return 2;
+    if (errno == ERANGE)
+        return 3;
+    *value = v;
+    return 0;
+}
+
+/* ------------------------------------------------------- run label lookup */
+
+/* Open-addressing table of run labels -> index in sample->runs, so a file
+   with many distinct labels is not searched quadratically. */
+typedef struct {
+    size_t *slots; /* index + 1; 0 = empty */
+    size_t cap;    /* power of two */
+} run_table;
+
+static size_t hash_text(const char *s)
+{
+    /* FNV-1a, 64-bit offset basis and prime (Fowler, Noll, Vo; public domain). */
+    uint64_t h = 1469598103934665603ULL;
+    for (; *s; s++) {
+        h ^= (unsigned char)*s;
+        h *= 1099511628211ULL;
+    }
+    return (size_t)h;
+}
+
+/* Index of label in sample->runs, adding it if new; -1 when out of memory. */
+static long run_index(run_table *t, arrank_sample *s, size_t *runs_cap, const char *label)
+{
+    if ((s->n_runs + 1) * 2 > t->cap) {
+        size_t ncap = t->cap ? t->cap * 2 : 16;
+        size_t *slots = calloc(ncap, sizeof *slots);
+        if (!slots)
+            return -1;
+        for (size_t i = 0; i < s->n_runs; i++) {
+            size_t h = hash_text(s->runs[i]) & (ncap - 1);
+            while (slots[h])
+                h = (h + 1) & (ncap - 1);
+            slots[h] = i + 1;
+        }
+        free(t->slots);
+        t->slots = slots;
+        t->cap = ncap;
+    }
+    size_t h = hash_text(label) & (t->cap - 1);
+    while (t->slots[h]) {
+        if (strcmp(s->runs[t->slots[h] - 1], label) == 0)
+            return (long)(t->slots[h] - 1);
+        h = (h + 1) & (t->cap - 1);
+    }
+    if (list_add(&s->runs, &s->n_runs, runs_cap, label) != 0)
+        return -1;
+    t->slots[h] = s->n_runs;
+    return (long)(s->n_runs - 1);
+}
+
+/* ------------------------------------------------------------ sample file */
+
+typedef enum {
+    COL_IGNORED,
+    COL_TEMP,
+    COL_RATE,
+    COL_RATE_SD,
+    COL_RUN,
+    COL_TIME,
+    COL_CONVERSION
+} column_kind;
+
+static const struct {
+    const char *name;
+    column_kind kind;
+} column_names[] = {
+    {"t", COL_TEMP},          {"temperature", COL_TEMP}, {"rate", COL_RATE},
+    {"r", COL_RATE},          {"rate_sd", COL_RATE_SD},  {"run", COL_RUN},
+    {"time_on_stream", COL_TIME}, {"conversion", COL_CONVERSION},
+};
+
+typedef struct {
+    column_kind kind;
+    char *name; /* as written */
+    char *unit; /* as written, NULL if none */
+    arrank_conversion conv;
+} data_column;
+
+typedef struct {
+    const char *path;
+    arrank_units *units;
+    const char *report_unit;
+    arrank_sample *sample;
+    arrank_error *err;
+    arrank_status status;
+    char delim;
+    long line;        /* physical line being fed to libcsv */
+    long header_line;
+    int in_header;
+    data_column *cols;
+    size_t n_cols, cols_cap;
+    size_t col_of[COL_CONVERSION + 1]; /* column index + 1 of each kind; 0 = absent */
+    /* current row */
+    size_t field;
+    int row_is_comment;
+    arrank_point point;
+    char rate_text[64];
+    /* storage */
+    char *cell;
+    size_t cell_cap;
+    size_t points_cap, meta_cap, notes_cap, runs_cap;
+    run_table runs;
+} parser;
+
+static arrank_status fail(parser *p, arrank_status st, long colno, const char *fmt, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 4, 5)))
+#endif
+    ;
+
+static arrank_status fail(parser *p, arrank_status st, long colno, const char *fmt, ...)
+{
+    if (p->status != ARRANK_OK)
+        return p->status;
+    p->status = st;
+    char msg[ARRANK_ERROR_MSG_MAX];
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(msg, sizeof msg, fmt, ap);
+    va_end(ap);
+    arrank_error_at(p->err, st, p->path, p->line, colno, "%s", msg);
+    return st;
+}
+
+static arrank_status nomem(parser *p)
+{
+    return fail(p, ARRANK_ENOMEM, 0, "out of memory");
+}
+
+/* Split a header field "name [unit]" and record the column. */
+static void header_field(parser *p, char *text)
+{
+    long colno = (long)p->n_cols + 1;
+    if (p->n_cols >= (size_t)ARRANK_CAMPAIGN_MAX_COLUMNS) {
+        fail(p, ARRANK_ELIMIT, colno, "the header has more than %ld columns",
+             ARRANK_CAMPAIGN_MAX_COLUMNS);
+        return;
+    }
+    char *s = trim(text);
+    char *unit = NULL;
+    char *open = strchr(s, '[');
+    if (open) {
+        char *close = strchr(open + 1, ']');
+        if (!close) {
+            fail(p, ARRANK_EPARSE, colno, "unclosed '[' in header field '%s'", s);
+            return;
+        }
+        char *after = close + 1;
+        while (is_blank(*after))
+            after++;
+        if (*after) {
+            fail(p, ARRANK_EPARSE, colno,
+                 "text after ']' in header field '%s'; write it as 'name [unit]'", s);
+            return;
+        }
+        *open = '\0';
+        *close = '\0';
+        unit = trim(open + 1);
+        if (*unit == '\0')
+            unit = NULL;
+        s = trim(s);
+    }
+    data_column c = {COL_IGNORED, NULL, NULL, {1.0, 0.0}};
+    for (size_t k = 0; k < sizeof column_names / sizeof column_names[0]; k++)
+        if (ascii_casecmp(s, column_names[k].name) == 0)
+            c.kind = column_names[k].kind;
+    if (c.kind != COL_IGNORED && p->col_of[c.kind]) {
+        fail(p, ARRANK_EPARSE, colno, "column '%s' repeats column %zu '%s'", s,
+             p->col_of[c.kind], p->cols[p->col_of[c.kind] - 1].name);
+        return;
+    }
+    if (grow((void **)&p->cols, &p->cols_cap, p->n_cols + 1, sizeof *p->cols) != 0) {
+        nomem(p);
+        return;
+    }
+    c.name = strdup(s);
+    c.unit = unit ? strdup(unit) : NULL;
+    if (!c.name || (unit && !c.unit)) {
+        free(c.name);
+        free(c.unit);
+        nomem(p);
+        return;
+    }
+    p->cols[p->n_cols++] = c;
+    if (c.kind != COL_IGNORED)
+        p->col_of[c.kind] = p->n_cols;
+}
+
+/* Unit of a column that needs one; NULL (after failing) when it has none. */
+static const char *required_unit(parser *p, size_t idx, const char *example)
+{
+    data_column *c = &p->cols[idx];
+    if (!c->unit)
+        fail(p, ARRANK_EUNIT, (long)idx + 1, "column '%s' has no unit; write it as %s", c->name,
+             example);
+    return c->unit;
+}
+
+/* Re-point a units error at a header column, adding the column name. */
+static void unit_fail(parser *p, size_t idx, const arrank_error *uerr)
+{
+    fail(p, uerr->status, (long)idx + 1, "%s in column '%s'", uerr->message, p->cols[idx].name);
+}
+
+/* Everything the header row decides: units, conversions, required columns. */
+static void header_done(parser *p)
+{
+    arrank_sample *s = p->sample;
+    arrank_error uerr;
+    arrank_error_clear(&uerr);
+    if (!p->col_of[COL_TEMP]) {
+        fail(p, ARRANK_EPARSE, 0, "no temperature column; the header needs e.g. 'T [degC]'");
+        return;
+    }
+    if (!p->col_of[COL_RATE]) {
+        fail(p, ARRANK_EPARSE, 0,
+             "no rate column; the header needs e.g. 'rate [umol/(g*s)]'");
+        return;
+    }
+    for (size_t i = 0; i < p->n_cols && p->status == ARRANK_OK; i++) {
+        data_column *c = &p->cols[i];
+        char note[ARRANK_ERROR_MSG_MAX];
+        switch (c->kind) {
+        case COL_IGNORED:
+            if (c->name[0])
+                snprintf(note, sizeof note, "column '%s' ignored", c->name);
+            else
+                snprintf(note, sizeof note, "column %zu has no name; ignored", i + 1);
+            if (list_add(&s->notes, &s->n_notes, &p->notes_cap, note) != 0)
+                nomem(p);
+            break;
+        case COL_TEMP: {
+            char example[64];
+            snprintf(example, sizeof example, "'%s [degC]' or '%s [K]'", c->name, c->name);
+            const char *u = required_unit(p, i, example);
+            if (u && arrank_units_temperature(p->units, u, &c->conv, &uerr) != ARRANK_OK)
+                unit_fail(p, i, &uerr);
+            break;
+        }
+        case COL_RATE: {
+            char example[64];
+            snprintf(example, sizeof example, "'%s [umol/(g*s)]'", c->name);
+            const char *u = required_unit(p, i, example);
+            if (!u)
+                break;
+            arrank_conversion to_si;
+            if (arrank_units_rate(p->units, u, &s->basis, &to_si, &uerr) != ARRANK_OK) {
+                unit_fail(p, i, &uerr);
+                break;
+            }
+            s->rate_unit_file = strdup(u);
+            if (!s->rate_unit_file) {
+                nomem(p);
+                break;
+            }
+            if (p->report_unit &&
+                arrank_units_conversion(p->units, u, p->report_unit, &c->conv, &uerr) !=
+                    ARRANK_OK) {
+                fail(p, ARRANK_EUNIT, (long)i + 1,
+                     "rate unit '%s' of %s is not convertible to the campaign's '%s'", u,
+                     base_name(p->path), p->report_unit);
+            }
+            break;
+        }
+        default:
+            break;
+        }
+    }
+    /* The optional columns convert into what the rate column fixed. */
+    const char *rate_unit = p->report_unit ? p->report_unit : s->rate_unit_file;
+    for (size_t i = 0; i < p->n_cols && p->status == ARRANK_OK; i++) {
+        data_column *c = &p->cols[i];
+        if (c->kind == COL_RATE_SD) {
+            char example[UNIT_MAX + 64];
+            snprintf(example, sizeof example, "'%s [%s]'", c->name, rate_unit);
+            const char *u = required_unit(p, i, example);
+            if (u && arrank_units_conversion(p->units, u, rate_unit, &c->conv, &uerr) !=
+                         ARRANK_OK)
+                fail(p, ARRANK_EUNIT, (long)i + 1,
+                     "unit '%s' of column '%s' is not convertible to the rate unit '%s'", u,
+                     c->name, rate_unit);
+        } else if (c->kind == COL_TIME) {
+            char example[64];
+            snprintf(example, sizeof example, "'%s [h]' or '%s [min]'", c->name, c->name);
+            const char *u = required_unit(p, i, example);
+            if (u && arrank_units_conversion(p->units, u, "s", &c->conv, &uerr) != ARRANK_OK)
+                unit_fail(p, i, &uerr);
+        } else if (c->kind == COL_CONVERSION) {
+            /* No unit means a fraction: conversion is dimensionless by nature. */
+            if (c->unit &&
+                arrank_units_conversion(p->units, c->unit, "1", &c->conv, &uerr) != ARRANK_OK)
+                fail(p, ARRANK_EUNIT, (long)i + 1,
+                     "unit '%s' of column '%s' is not a fraction; use '%%' or none", c->unit,
+                     c->name);
+        }
+    }
+}
+
+static void start_point(parser *p)
+{
+    p->point.temp_K = NAN;
+    p->point.rate = NAN;
+    p->point.rate_sd = NAN;
+    p->point.conversion = NAN;
+    p->point.time_on_stream_s = NAN;
+    p->point.run = -1;
+    p->point.line = p->line;
+    p->rate_text[0] = '\0';
+}
+
+/* One data cell: parse, convert, validate. */
+static void data_field(parser *p, char *text)
+{
+    size_t idx = p->field;
+    if (idx == 0) {
+        char *t = text;
+        while (is_blank(*t))
+            t++;
+        p->row_is_comment = *t == '#';
+        start_point(p);
+    }
+    if (p->row_is_comment || idx >= p->n_cols)
+        return; /* extra fields: counted, reported at the end of the row */
+    data_column *c = &p->cols[idx];
+    long colno = (long)idx + 1;
+    if (c->kind == COL_IGNORED)
+        return;
+    if (c->kind == COL_RUN) {
+        char *label = trim(text);
+        if (*label) {
+            long r = run_index(&p->runs, p->sample, &p->runs_cap, label);
+            if (r < 0) {
+                nomem(p);
+                return;
+            }
+            p->point.run = (int)r;
+        }
+        return;
+    }
+    char shown[64];
+    snprintf(shown, sizeof shown, "%s", trim(text));
+    double v = NAN;
+    int bad = parse_number(text, p->delim, &v);
+    if (bad == 1 && shown[0] == '\0') {
+        if (c->kind == COL_TEMP || c->kind == COL_RATE)
+            fail(p, ARRANK_EPARSE, colno, "empty cell in column '%s'", c->name);
+        return; /* optional quantity not given */
+    }
+    if (bad == 1) {
+        fail(p, ARRANK_EPARSE, colno, "'%s' is not a number in column '%s'", shown, c->name);
+        return;
+    }
+    if (bad == 2) {
+        fail(p, ARRANK_EPARSE, colno, "'%s' is not a finite number in column '%s'", shown,
+             c->name);
+        return;
+    }
+    if (bad == 3) {
+        fail(p, ARRANK_EPARSE, colno, "'%s' is out of range in column '%s'", shown, c->name);
+        return;
+    }
+    double conv = c->conv.scale * v + c->conv.offset;
+    switch (c->kind) {
+    case COL_TEMP:
+        if (!(conv > 0.0))
+            fail(p, ARRANK_EPARSE, colno,
+                 "temperature '%s %s' is at or below absolute zero (0 K)", shown, c->unit);
+        p->point.temp_K = conv;
+        break;
+    case COL_RATE:
+        p->point.rate = conv;
+        snprintf(p->rate_text, sizeof p->rate_text, "%s", shown);
+        break;
+    case COL_RATE_SD:
+        if (conv < 0.0)
+            fail(p, ARRANK_EPARSE, colno, "'%s' in column '%s' is negative", shown, c->name);
+        p->point.rate_sd = conv;
+        break;
+    case COL_TIME:
+        p->point.time_on_stream_s = conv;
+        break;
+    case COL_CONVERSION:
+        if (conv < 0.0 || conv > 1.0)
+            fail(p, ARRANK_EPARSE, colno,
+                 "conversion '%s' is outside 0..1; a percentage needs '%s [%%]'", shown,
+                 c->name);
+        p->point.conversion = conv;
+        break;
+    default:
+        break;
+    }
+}
+
+static void on_field(void *data, size_t len, void *user)
+{
+    parser *p = user;
+    if (p->status != ARRANK_OK)
+        return;
+    /* libcsv's bytes are neither NUL-terminated nor valid after the callback. */
+    if (grow((void **)&p->cell, &p->cell_cap, len + 1, 1) != 0) {
+        nomem(p);
+        return;
+    }
+    memcpy(p->cell, data, len);
+    p->cell[len] = '\0';
+    if (p->in_header)
+        header_field(p, p->cell);
+    else
+        data_field(p, p->cell);
+    p->field++;
+}
+
+static void on_row(int c, void *user)
+{
+    (void)c;
+    parser *p = user;
+    size_t n = p->field;
+    p->field = 0;
+    if (p->status != ARRANK_OK || n == 0)
+        return;
+    if (p->in_header) {
+        p->in_header = 0;
+        header_done(p);
+        return;
+    }
+    if (p->row_is_comment)
+        return;
+    if (n != p->n_cols) {
+        long colno = (long)(n < p->n_cols ? n : p->n_cols) + 1;
+        fail(p, ARRANK_EPARSE, colno, "row has %zu fields but the header has %zu%s", n, p->n_cols,
+             n > p->n_cols && p->delim == ','
+                 ? " (a decimal comma needs ';' or tab as the delimiter)"
+                 : "");
+        return;
+    }
+    arrank_sample *s = p->sample;
+    if (s->n_points >= (size_t)ARRANK_CAMPAIGN_MAX_ROWS) {
+        fail(p, ARRANK_ELIMIT, 0, "more than %ld data rows", ARRANK_CAMPAIGN_MAX_ROWS);
+        return;
+    }
+    if (grow((void **)&s->points, &p->points_cap, s->n_points + 1, sizeof *s->points) != 0) {
+        nomem(p);
+        return;
+    }
+    s->points[s->n_points++] = p->point;
+    if (!(p->point.rate > 0.0) && !s->problem) {
+        char msg[256];
+        snprintf(msg, sizeof msg,
+                 "rate %s at line %ld is not positive; a logarithm needs a positive rate",
+                 p->rate_text, p->point.line);
+        s->problem = strdup(msg);
+        if (!s->problem) {
+            nomem(p);
+            return;
+        }
+        s->problem_line = p->point.line;
+    }
+}
+
+/* Delimiter of a header line: the most frequent of ',', ';', tab outside quotes. */
+static char detect_delimiter(const char *line, size_t n)
+{
+    size_t comma = 0, semi = 0, tab = 0;
+    int quoted = 0;
+    for (size_t i = 0; i < n; i++) {
+        if (line[i] == '"')
+            quoted = !quoted;
+        else if (!quoted && line[i] == ',')
+            comma++;
+        else if (!quoted && line[i] == ';')
+            semi++;
+        else if (!quoted && line[i] == '\t')
+            tab++;
+    }
+    if (semi > comma && semi >= tab)
+        return ';';
+    if (tab > comma && tab > semi)
+        return '\t';
+    return ',';
+}
+
+/* Length of the line at s (up to end), and of its terminator (0, 1 or 2). */
+static size_t line_length(const char *s, const char *end, size_t *term)
+{
+    const char *q = s;
+    while (q < end && *q != '\n' && *q != '\r')
+        q++;
+    *term = 0;
+    if (q < end)
+        *term = (*q == '\r' && q + 1 < end && q[1] == '\n') ? 2 : 1;
+    return (size_t)(q - s);
+}
+
+static int add_meta(parser *p, const char *key, size_t nk, const char *value, size_t nv,
+                    const char *source, long line)
+{
+    arrank_sample *s = p->sample;
+    if (grow((void **)&s->meta, &p->meta_cap, s->n_meta + 1, sizeof *s->meta) != 0)
+        return -1;
+    arrank_meta m = {dup_range(key, nk), dup_range(value, nv), strdup(source), line};
+    if (!m.key || !m.value || !m.source) {
+        free(m.key);
+        free(m.value);
+        free(m.source);
+        return -1;
+    }
+    s->meta[s->n_meta++] = m;
+    return 0;
+}
+
+/* "# key = value" (blank-trimmed); a line without '=' or without a key is a comment. */
+static int metadata_line(parser *p, const char *s, size_t n)
+{
+    const char *end = s + n;
+    s++; /* the '#' */
+    const char *eq = memchr(s, '=', (size_t)(end - s));
+    if (!eq)
+        return 0;
+    const char *k0 = s, *k1 = eq, *v0 = eq + 1, *v1 = end;
+    while (k0 < k1 && is_blank(*k0))
+        k0++;
+    while (k1 > k0 && is_blank(k1[-1]))
+        k1--;
+    while (v0 < v1 && is_blank(*v0))
+        v0++;
+    while (v1 > v0 && is_blank(v1[-1]))
+        v1--;
+    if (k0 == k1)
+        return 0;
+    return add_meta(p, k0, (size_t)(k1 - k0), v0, (size_t)(v1 - v0), p->path, p->line);
+}
+
+const char *arrank_sample_meta(const arrank_sample *sample, const char *key)
+{
+    if (!sample || !key)
+        return NULL;
+    for (size_t i = sample->n_meta; i-- > 0;)
+        if (ascii_casecmp(sample->meta[i].key, key) == 0)
+            return sample->meta[i].value;
+    return NULL;
+}
+
+void arrank_sample_clear(arrank_sample *sample)
+{
+    if (!sample)
+        return;
+    free(sample->id);
+    free(sample->path);
+    free(sample->file);
+    free(sample->rate_unit_file);
+    free(sample->points);
+    list_free(sample->runs, sample->n_runs);
+    for (size_t i = 0; i < sample->n_meta; i++) {
+        free(sample->meta[i].key);
+        free(sample->meta[i].value);
+        free(sample->meta[i].source);
+    }
+    free(sample->meta);
+    list_free(sample->notes, sample->n_notes);
+    free(sample->problem);
+    memset(sample, 0, sizeof *sample);
+}
+
+/* Problems that keep the sample but keep it out of the fit (rate <= 0 is set while reading). */
+static int set_fit_problem(arrank_sample *s)
+{
+    if (s->problem)
+        return 0;
+    char msg[256];
+    if (s->n_points < 3) {
+        snprintf(msg, sizeof msg,
+                 "only %zu data point%s; a fit with uncertainties needs at least 3",
+                 s->n_points, s->n_points == 1 ? "" : "s");
+    } else {
+        for (size_t i = 1; i < s->n_points; i++)
+            if (s->points[i].temp_K != s->points[0].temp_K)
+                return 0;
+        snprintf(msg, sizeof msg,
+                 "all %zu points are at one temperature (%.2f K); an activation energy "
+                 "needs at least two",
+                 s->n_points, s->points[0].temp_K);
+    }
+    s->problem = strdup(msg);
+    s->problem_line = 0;
+    return s->problem ? 0 : -1;
+}
+
+static arrank_status sample_ids(parser *p)
+{
+    arrank_sample *s = p->sample;
+    s->path = strdup(p->path);
+    const char *base = base_name(p->path);
+    s->file = strdup(base);
+    const char *meta_id = arrank_sample_meta(s, "sample");
+    if (meta_id && !*meta_id) {
+        for (size_t i = s->n_meta; i-- > 0;)
+            if (ascii_casecmp(s->meta[i].key, "sample") == 0) {
+                p->line = s->meta[i].line;
+                break;
+            }
+        return fail(p, ARRANK_EPARSE, 0, "empty sample id; write '# sample = NAME' or leave "
+                                         "the line out to use the file name");
+    }
+    if (meta_id) {
+        s->id = strdup(meta_id);
+    } else {
+        size_t n = strlen(base);
+        if (has_csv_extension(base))
+            n -= 4;
+        s->id = dup_range(base, n);
+    }
+    if (!s->path || !s->file || !s->id)
+        return nomem(p);
+    return ARRANK_OK;
+}
+
+static void parser_free(parser *p)
+{
+    for (size_t i = 0; i < p->n_cols; i++) {
+        free(p->cols[i].name);
+        free(p->cols[i].unit);
+    }
+    free(p->cols);
+    free(p->cell);
+    free(p->runs.slots);
+}
+
+/* Position of the first NUL byte: line (1-based); 0 if none. */
+static long nul_line(const char *data, size_t len)
+{
+    const char *nul = memchr(data, '\0', len);
+    if (!nul)
+        return 0;
+    long line = 1;
+    for (const char *q = data; q < nul; q++)
+        if (*q == '\n' || (*q == '\r' && !(q + 1 < nul && q[1] == '\n')))
+            line++;
+    return line;
+}
+
+static arrank_status parse_sample(parser *p, const char *data, size_t len)
+{
+    const char *s = data, *end = data + len;
+    long nul = nul_line(data, len);
+    if (nul) {
+        p->line = nul;
+        return fail(p, ARRANK_EPARSE, 0, "the file is not text (it has a NUL byte); "
+                                         "a sample file is CSV");
+    }
+    if (len >= 3 && memcmp(s, "\xef\xbb\xbf", 3) == 0)
+        s += 3; /* UTF-8 byte order mark */
+    /* Metadata and comment lines up to the header. */
+    p->line = 0;
+    const char *header = NULL;
+    size_t header_len = 0;
+    while (s < end) {
+        size_t term;
+        size_t n = line_length(s, end, &term);
+        p->line++;
+        if (n > (size_t)ARRANK_CAMPAIGN_MAX_LINE_BYTES)
+            return fail(p, ARRANK_ELIMIT, 0, "line longer than %ld bytes",
+                        ARRANK_CAMPAIGN_MAX_LINE_BYTES);
+        const char *t = s;
+        while (t < s + n && is_blank(*t))
+            t++;
+        if (t < s + n && *t != '#') {
+            header = s;
+            header_len = n;
+            break;
+        }
+        if (t < s + n && metadata_line(p, t, (size_t)(s + n - t)) != 0)
+            return nomem(p);
+        s += n + term;
+    }
+    if (!header) {
+        p->line = 0;
+        return fail(p, ARRANK_EPARSE, 0,
+                    "%s; a sample file needs a header such as 'T [degC], rate [umol/(g*s)]' "
+                    "and data rows",
+                    s == data || p->sample->n_meta == 0 ? "the file is empty"
+                                                        : "no header line");
+    }
+    p->header_line = p->line;
+    p->delim = detect_delimiter(header, header_len);
+    struct csv_parser csv;
+    if (csv_init(&csv, CSV_STRICT | CSV_STRICT_FINI) != 0)
+        return nomem(p);
+    csv_set_delim(&csv, (unsigned char)p->delim);
+    p->in_header = 1;
+    p->line--;
+    long quote_line = 0; /* line where a quoted field still open began */
+    while (s < end && p->status == ARRANK_OK) {
+        size_t term;
+        size_t n = line_length(s, end, &term);
+        p->line++;
+        if (n > (size_t)ARRANK_CAMPAIGN_MAX_LINE_BYTES) {
+            fail(p, ARRANK_ELIMIT, 0, "line longer than %ld bytes",
+                 ARRANK_CAMPAIGN_MAX_LINE_BYTES);
+            break;
+        }
+        size_t fed = csv_parse(&csv, s, n + term, on_field, on_row, p);
+        if (p->status != ARRANK_OK)
+            break;
+        if (fed != n + term) {
+            if (csv_error(&csv) == CSV_ENOMEM || csv_error(&csv) == CSV_ETOOBIG)
+                nomem(p);
+            else
+                fail(p, ARRANK_EPARSE, (long)p->field + 1,
+                     "malformed quoting: a '\"' inside an unquoted field or text after a "
+                     "closing quote");
+            break;
+        }
+        /* libcsv's struct is public; `quoted` tells a field that goes on to the next line. */
+        if (csv.quoted && quote_line == 0)
+            quote_line = p->line;
+        else if (!csv.quoted)
+            quote_line = 0;
+        s += n + term;
+    }
+    if (p->status == ARRANK_OK) {
+        if (csv_fini(&csv, on_field, on_row, p) != 0 && p->status == ARRANK_OK) {
+            if (quote_line)
+                p->line = quote_line;
+            fail(p, ARRANK_EPARSE, (long)p->field + 1, "quoted field is not closed");
+        }
+    }
+    csv_free(&csv);
+    if (p->status != ARRANK_OK)
+        return p->status;
+    if (p->in_header) { /* header line without a line end and nothing after it */
+        p->in_header = 0;
+        header_done(p);
+        if (p->status != ARRANK_OK)
+            return p->status;
+    }
+    if (p->sample->n_points == 0) {
+        p->line = p->header_line;
+        return fail(p, ARRANK_EPARSE, 0, "the header is not followed by any data row");
+    }
+    if (set_fit_problem(p->sample) != 0)
+        return nomem(p);
+    return ARRANK_OK;
+}
+
+arrank_status arrank_sample_parse(const char *name, const char *data, size_t len,
+                                  arrank_units *units, const char *report_unit,
+                                  arrank_sample *sample, arrank_error *err)
+{
+    if (!name || (!data && len) || !units || !sample)
+        return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_sample_parse");
+    memset(sample, 0, sizeof *sample);
+    parser p;
+    memset(&p, 0, sizeof p);
+    p.path = name;
+    p.units = units;
+    p.report_unit = report_unit;
+    p.sample = sample;
+    p.err = err;
+    arrank_status st = parse_sample(&p, data ? data : "", len);
+    if (st == ARRANK_OK)
+        st = sample_ids(&p);
+    parser_free(&p);
+    if (st != ARRANK_OK)
+        arrank_sample_clear(sample);
+    return st;
+}
+
+/* ---------------------------------------------------------- campaign.ini */
+
+typedef struct {
+    char *section_id; /* sample id of a [sample ID] section */
+    char *key;
+    char *value;
+    long line;
+} ini_entry;
+
+typedef struct {
+    const char *path;
+    const char *text, *end, *pos; /* the file in memory */
+    long line;
+    arrank_units *units;
+    arrank_campaign *campaign;
+    arrank_error *err;
+    arrank_status status;
+    ini_entry *entries;
+    size_t n_entries, entries_cap, notes_cap;
+    char *rate_unit_written;
+    long rate_unit_line;
+} ini_state;
+
+/* inih line reader over a memory buffer; counts physical lines for messages. */
+static char *ini_read_line(char *buf, int size, void *stream)
+{
+    ini_state *st = stream;
+    if (st->pos >= st->end || st->status != ARRANK_OK)
+        return NULL;
+    size_t term;
+    size_t n = line_length(st->pos, st->end, &term);
+    st->line++;
+    if (n + 2 > (size_t)size) {
+        st->status = arrank_error_at(st->err, ARRANK_ELIMIT, st->path, st->line, 0,
+                                     "line longer than %d characters", size - 2);
+        return NULL;
+    }
+    memcpy(buf, st->pos, n);
+    buf[n] = '\n';
+    buf[n + 1] = '\0';
+    st->pos += n + term;
+    return buf;
+}
+
+static int ini_note(ini_state *st, const char *fmt, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 2, 3)))
+#endif
+    ;
+
+/* A campaign note "campaign.ini:LINE: ..." about the line being read. */
+static int ini_note(ini_state *st, const char *fmt, ...)
+{
+    char note[ARRANK_ERROR_MSG_MAX];
+    snprintf(note, sizeof note, "%s:%ld: ", base_name(st->path), st->line);
+    size_t used = strlen(note);
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(note + used, sizeof note - used, fmt, ap);
+    va_end(ap);
+    arrank_campaign *c = st->campaign;
+    return list_add(&c->notes, &c->n_notes, &st->notes_cap, note);
+}
+
+static int on_ini_key(void *user, const char *section, const char *name, const char *value)
+{
+    ini_state *st = user;
+    if (st->status != ARRANK_OK)
+        return 0;
+    arrank_campaign *c = st->campaign;
+    arrank_error uerr;
+    arrank_error_clear(&uerr);
+    if (ascii_casecmp(section, "campaign") == 0) {
+        if (ascii_casecmp(name, "title") == 0) {
+            free(c->title);
+            c->title = strdup(value);
+            if (!c->title)
+                goto nomem;
+        } else if (ascii_casecmp(name, "operating_temperature") == 0) {
+            arrank_status s =
+                arrank_units_parse_temperature(st->units, value, &c->operating_temp_K, &uerr);
+            if (s != ARRANK_OK) {
+                st->status = arrank_error_at(st->err, s == ARRANK_EINVAL ? ARRANK_EPARSE : s,
+                                             st->path, st->line, 0, "%s", uerr.message);
+                return 0;
+            }
+        } else if (ascii_casecmp(name, "rate_unit") == 0) {
+            arrank_basis basis;
+            arrank_conversion conv;
+            if (arrank_units_rate(st->units, value, &basis, &conv, &uerr) != ARRANK_OK) {
+                st->status = arrank_error_at(st->err, uerr.status, st->path, st->line, 0,
+                                             "%s in '%s'", uerr.message, name);
+                return 0;
+            }
+            char spelled[UNIT_MAX];
+            if (arrank_units_spelling(value, spelled, sizeof spelled) != 0)
+                snprintf(spelled, sizeof spelled, "%s", value);
+            free(c->rate_unit);
+            c->rate_unit = strdup(spelled);
+            if (!c->rate_unit)
+                goto nomem;
+            c->basis = basis;
+        } else if (ascii_casecmp(name, "confidence") == 0) {
+            char buf[128];
+            snprintf(buf, sizeof buf, "%s", value);
+            double v = NAN;
+            if (parse_number(buf, '.', &v) != 0 || !(v > 0.0 && v < 1.0)) {
+                st->status = arrank_error_at(st->err, ARRANK_EPARSE, st->path, st->line, 0,
+                                             "confidence '%s' is not a number between 0 and 1 "
+                                             "(e.g. 0.95)",
+                                             value);
+                return 0;
+            }
+            c->confidence = v;
+        } else if (ini_note(st, "key '%s' in [%s] ignored", name, section) != 0) {
+            goto nomem;
+        }
+        return 1;
+    }
+    if (strlen(section) > 7 && ascii_lower((unsigned char)section[0]) == 's' &&
+        ascii_casecmp_n(section, "sample ", 7) == 0) {
+        const char *id = section + 7;
+        while (is_blank(*id))
+            id++;
+        if (ascii_casecmp(name, "sample") == 0 || ascii_casecmp(name, "id") == 0) {
+            if (ini_note(st, "key '%s' in [%s] ignored: a section cannot rename its sample",
+                         name, section) != 0)
+                goto nomem;
+            return 1;
+        }
+        if (grow((void **)&st->entries, &st->entries_cap, st->n_entries + 1,
+                 sizeof *st->entries) != 0)
+            goto nomem;
+        ini_entry e = {strdup(id), strdup(name), strdup(value), st->line};
+        if (!e.section_id || !e.key || !e.value) {
+            free(e.section_id);
+            free(e.key);
+            free(e.value);
+            goto nomem;
+        }
+        st->entries[st->n_entries++] = e;
+        return 1;
+    }
+    if ((section[0] ? ini_note(st, "key '%s' in unknown section [%s] ignored", name, section)
+                    : ini_note(st, "key '%s' outside a section ignored", name)) != 0)
+        goto nomem;
+    return 1;
+nomem:
+    st->status = arrank_errorf(st->err, ARRANK_ENOMEM, "out of memory reading campaign.ini");
+    return 0;
+}
+
+static void ini_entries_free(ini_state *st)
+{
+    for (size_t i = 0; i < st->n_entries; i++) {
+        free(st->entries[i].section_id);
+        free(st->entries[i].key);
+        free(st->entries[i].value);
+    }
+    free(st->entries);
+}
+
+/* ---------------------------------------------------------------- folder */
+
+/* Read a whole file with one read into *buf (grown as needed, reused between files). */
+static arrank_status read_file(const char *path, char **buf, size_t *cap, size_t *len,
+                               arrank_error *err)
+{
+    char os[256];
+    int fd = open(path, O_RDONLY);
+    if (fd < 0) {
+        os_message(errno, os, sizeof os);
+        return arrank_error_at(err, ARRANK_EIO, path, 0, 0, "cannot open the file: %s", os);
+    }
+    struct stat sb;
+    if (fstat(fd, &sb) != 0) {
+        os_message(errno, os, sizeof os);
+        close(fd);
+        return arrank_error_at(err, ARRANK_EIO, path, 0, 0, "cannot read the file: %s", os);
+    }
+    if (!S_ISREG(sb.st_mode)) {
+        close(fd);
+        return arrank_error_at(err, ARRANK_EIO, path, 0, 0, "not a regular file");
+    }
+    if (sb.st_size > ARRANK_CAMPAIGN_MAX_FILE_BYTES) {
+        close(fd);
+        return arrank_error_at(err, ARRANK_ELIMIT, path, 0, 0, "the file is larger than %ld bytes",
+                               ARRANK_CAMPAIGN_MAX_FILE_BYTES);
+    }
+    size_t want = (size_t)sb.st_size + 1; /* +1 notices a file that grew meanwhile */
+    size_t got = 0;
+    for (;;) {
+        if (grow((void **)buf, cap, want, 1) != 0) {
+            close(fd);
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory reading a file");
+        }
+        ssize_t r = read(fd, *buf + got, want - got);
+        if (r < 0 && errno == EINTR)
+            continue;
+        if (r < 0) {
+            os_message(errno, os, sizeof os);
+            close(fd);
+            return arrank_error_at(err, ARRANK_EIO, path, 0, 0, "cannot read the file: %s", os);
+        }
+        if (r == 0)
+            break;
+        got += (size_t)r;
+        if (got == want) {
+            if (want > (size_t)ARRANK_CAMPAIGN_MAX_FILE_BYTES) {
+                close(fd);
+                return arrank_error_at(err, ARRANK_ELIMIT, path, 0, 0,
+                                       "the file is larger than %ld bytes",
+                                       ARRANK_CAMPAIGN_MAX_FILE_BYTES);
+            }
+            want *= 2;
+        }
+    }
+    close(fd);
+    *len = got;
+    return ARRANK_OK;
+}
+
+static int compare_names(const void *a, const void *b)
+{
+    return strcmp(*(char *const *)a, *(char *const *)b);
+}
+
+static int compare_sample_ids(const void *a, const void *b)
+{
+    const arrank_sample *x = *(const arrank_sample *const *)a;
+    const arrank_sample *y = *(const arrank_sample *const *)b;
+    int c = strcmp(x->id, y->id);
+    return c ? c : strcmp(x->file, y->file);
+}
+
+void arrank_campaign_free(arrank_campaign *campaign)
+{
+    if (!campaign)
+        return;
+    for (size_t i = 0; i < campaign->n_samples; i++)
+        arrank_sample_clear(&campaign->samples[i]);
+    free(campaign->samples);
+    free(campaign->path);
+    free(campaign->name);
+    free(campaign->title);
+    free(campaign->rate_unit);
+    list_free(campaign->notes, campaign->n_notes);
+    free(campaign);
+}
+
+/* Sorted list of the *.csv names in dir (hidden files skipped). */
+static arrank_status list_folder(const char *dir, char ***names, size_t *n, int *has_ini,
+                                 arrank_error *err)
+{
+    char os[256];
+    DIR *d = opendir(dir);
+    if (!d) {
+        os_message(errno, os, sizeof os);
+        return arrank_error_at(err, ARRANK_EIO, dir, 0, 0, "cannot read the folder: %s", os);
+    }
+    size_t cap = 0;
+    *names = NULL;
+    *n = 0;
+    *has_ini = 0;
+    struct dirent *e;
+    errno = 0;
+    while ((e = readdir(d)) != NULL) {
+        if (e->d_name[0] == '.')
+            continue;
+        if (strcmp(e->d_name, "campaign.ini") == 0)
+            *has_ini = 1;
+        if (!has_csv_extension(e->d_name))
+            continue;
+        if (*n >= (size_t)ARRANK_CAMPAIGN_MAX_FILES) {
+            closedir(d);
+            list_free(*names, *n);
+            *names = NULL;
+            return arrank_error_at(err, ARRANK_ELIMIT, dir, 0, 0,
+                                   "more than %ld sample files in the folder",
+                                   ARRANK_CAMPAIGN_MAX_FILES);
+        }
+        if (list_add(names, n, &cap, e->d_name) != 0) {
+            closedir(d);
+            list_free(*names, *n);
+            *names = NULL;
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory listing the folder");
+        }
+        errno = 0;
+    }
+    int saved = errno;
+    closedir(d);
+    if (saved) {
+        list_free(*names, *n);
+        *names = NULL;
+        os_message(saved, os, sizeof os);
+        return arrank_error_at(err, ARRANK_EIO, dir, 0, 0, "cannot read the folder: %s", os);
+    }
+    if (*n)
+        qsort(*names, *n, sizeof **names, compare_names);
+    return ARRANK_OK;
+}
+
+static char *join_path(const char *dir, const char *name)
+{
+    size_t nd = strlen(dir), nn = strlen(name);
+    int slash = nd > 0 && dir[nd - 1] != '/';
+    char *p = malloc(nd + (size_t)slash + nn + 1);
+    if (!p)
+        return NULL;
+    memcpy(p, dir, nd);
+    if (slash)
+        p[nd] = '/';
+    memcpy(p + nd + (size_t)slash, name, nn + 1);
+    return p;
+}
+
+static arrank_status read_ini(const char *dir, ini_state *st, char **buf, size_t *cap)
+{
+    char *path = join_path(dir, "campaign.ini");
+    if (!path)
+        return arrank_errorf(st->err, ARRANK_ENOMEM, "out of memory");
+    size_t len = 0;
+    arrank_status s = read_file(path, buf, cap, &len, st->err);
+    if (s != ARRANK_OK) {
+        free(path);
+        return s;
+    }
+    st->path = path;
+    st->text = *buf;
+    st->pos = *buf;
+    st->end = *buf + len;
+    if (memchr(*buf, '\0', len)) {
+        s = arrank_error_at(st->err, ARRANK_EPARSE, path, nul_line(*buf, len), 0,
+                            "campaign.ini is not text (it has a NUL byte)");
+        free(path);
+        st->path = NULL;
+        return s;
+    }
+    int r = ini_parse_stream(ini_read_line, st, on_ini_key, st);
+    if (st->status == ARRANK_OK && r == -2)
+        st->status = arrank_errorf(st->err, ARRANK_ENOMEM, "out of memory reading campaign.ini");
+    else if (st->status == ARRANK_OK && r != 0)
+        st->status = arrank_error_at(st->err, ARRANK_EPARSE, path, r, 0,
+                                     "malformed line; expected '[section]', 'key = value' "
+                                     "or a comment");
+    free(path);
+    st->path = NULL;
+    return st->status;
+}
+
+/* Apply [sample ID] sections of campaign.ini to the samples (sorted by id in index). */
+static arrank_status apply_ini_entries(ini_state *st, arrank_sample **index, size_t n,
+                                       const char *ini_path)
+{
+    arrank_campaign *c = st->campaign;
+    for (size_t i = 0; i < st->n_entries; i++) {
+        ini_entry *e = &st->entries[i];
+        size_t lo = 0, hi = n;
+        while (lo < hi) {
+            size_t mid = lo + (hi - lo) / 2;
+            if (strcmp(index[mid]->id, e->section_id) < 0)
+                lo = mid + 1;
+            else
+                hi = mid;
+        }
+        if (lo == n || strcmp(index[lo]->id, e->section_id) != 0) {
+            /* One note per section, not per key. */
+            if (i > 0 && strcmp(st->entries[i - 1].section_id, e->section_id) == 0)
+                continue;
+            char note[ARRANK_ERROR_MSG_MAX];
+            snprintf(note, sizeof note, "campaign.ini:%ld: section [sample %s] matches no sample",
+                     e->line, e->section_id);
+            if (list_add(&c->notes, &c->n_notes, &st->notes_cap, note) != 0)
+                return arrank_errorf(st->err, ARRANK_ENOMEM, "out of memory");
+            continue;
+        }
+        arrank_sample *s = index[lo];
+        size_t meta_cap = s->n_meta; /* exact size; grow doubles from here */
+        parser p;
+        memset(&p, 0, sizeof p);
+        p.sample = s;
+        p.meta_cap = meta_cap;
+        if (add_meta(&p, e->key, strlen(e->key), e->value, strlen(e->value), ini_path, e->line) !=
+            0)
+            return arrank_errorf(st->err, ARRANK_ENOMEM, "out of memory");
+    }
+    return ARRANK_OK;
+}
+
+arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_campaign **out,
+                                   arrank_error *err)
+{
+    if (out)
+        *out = NULL;
+    if (!dir || !units || !out)
+        return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_campaign_load");
+    char **names = NULL;
+    size_t n_names = 0;
+    int has_ini = 0;
+    arrank_status st = list_folder(dir, &names, &n_names, &has_ini, err);
+    if (st != ARRANK_OK)
+        return st;
+    if (n_names == 0) {
+        free(names);
+        return arrank_error_at(err, ARRANK_EDATA, dir, 0, 0,
+                               "no sample files (*.csv) in the folder");
+    }
+    arrank_campaign *c = calloc(1, sizeof *c);
+    ini_state ini;
+    memset(&ini, 0, sizeof ini);
+    char *buf = NULL, *ini_path = NULL;
+    size_t cap = 0;
+    arrank_sample **index = NULL;
+    if (!c)
+        goto nomem;
+    c->operating_temp_K = NAN;
+    c->confidence = NAN;
+    c->path = strdup(dir);
+    {
+        /* Folder name without trailing slashes. */
+        size_t n = strlen(dir);
+        while (n > 1 && dir[n - 1] == '/')
+            n--;
+        size_t b = n;
+        while (b > 0 && dir[b - 1] != '/')
+            b--;
+        c->name = dup_range(dir + b, n - b);
+    }
+    if (!c->path || !c->name)
+        goto nomem;
+    ini.units = units;
+    ini.campaign = c;
+    ini.err = err;
+    if (has_ini) {
+        st = read_ini(dir, &ini, &buf, &cap);
+        if (st != ARRANK_OK)
+            goto fail;
+    }
+    if (!c->title && !(c->title = strdup(c->name)))
+        goto nomem;
+    c->samples = calloc(n_names, sizeof *c->samples);
+    if (!c->samples)
+        goto nomem;
+    for (size_t i = 0; i < n_names; i++) {
+        char *path = join_path(dir, names[i]);
+        if (!path)
+            goto nomem;
+        size_t len = 0;
+        st = read_file(path, &buf, &cap, &len, err);
+        if (st == ARRANK_OK)
+            st = arrank_sample_parse(path, buf, len, units, c->rate_unit, &c->samples[i], err);
+        free(path);
+        if (st != ARRANK_OK)
+            goto fail;
+        c->n_samples++;
+        if (!c->rate_unit) {
+            /* The first sample (in name order) sets the report unit. */
+            char spelled[UNIT_MAX];
+            const char *u = c->samples[i].rate_unit_file;
+            if (arrank_units_spelling(u, spelled, sizeof spelled) != 0)
+                snprintf(spelled, sizeof spelled, "%s", u);
+            if (!(c->rate_unit = strdup(spelled)))
+                goto nomem;
+            c->basis = c->samples[i].basis;
+        }
+    }
+    /* Sample ids must be unique: sort an index rather than compare all pairs. */
+    index = malloc(c->n_samples * sizeof *index);
+    if (!index)
+        goto nomem;
+    for (size_t i = 0; i < c->n_samples; i++)
+        index[i] = &c->samples[i];
+    qsort(index, c->n_samples, sizeof *index, compare_sample_ids);
+    for (size_t i = 1; i < c->n_samples; i++) {
+        if (strcmp(index[i]->id, index[i - 1]->id) == 0) {
+            const arrank_sample *s = index[i];
+            long line = 0;
+            for (size_t k = s->n_meta; k-- > 0;)
+                if (ascii_casecmp(s->meta[k].key, "sample") == 0) {
+                    line = s->meta[k].line;
+                    break;
+                }
+            st = arrank_error_at(err, ARRANK_EPARSE, s->path, line, 0,
+                                 "sample id '%s' is also the id of %s", s->id,
+                                 index[i - 1]->file);
+            goto fail;
+        }
+    }
+    if (ini.n_entries) {
+        ini_path = join_path(dir, "campaign.ini");
+        if (!ini_path)
+            goto nomem;
+        st = apply_ini_entries(&ini, index, c->n_samples, ini_path);
+        if (st != ARRANK_OK)
+            goto fail;
+    }
+    free(index);
+    free(ini_path);
+    free(buf);
+    ini_entries_free(&ini);
+    list_free(names, n_names);
+    *out = c;
+    return ARRANK_OK;
+nomem:
+    st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+fail:
+    free(index);
+    free(ini_path);
+    free(buf);
+    ini_entries_free(&ini);
+    list_free(names, n_names);
+    arrank_campaign_free(c);
+    return st;
+}

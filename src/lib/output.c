@@ -1,0 +1,614 @@
+/*
+ * output.c - the table for people, JSON and CSV for programs.
+ *
+ * All three writers read the same arrank_analysis.  Every number carries its
+ * unit in its key or column header.  Saving goes through a temporary file in
+ * the target's folder, fsync and rename, so an interrupted or failed write
+ * never leaves half a file; special files (/dev/stdout, a pipe) are written
+ * directly since they cannot be renamed onto.
+ */
+#include "arrank/output.h"
+
+#include <csv.h>
+#include <errno.h>
+#include <jansson.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "arrank/version.h"
+#include "internal.h"
+
+#define NAME_WIDTH_MAX 28 /* longer sample names are shortened in the table */
+
+static const char *by_name(arrank_rank_by by)
+{
+    switch (by) {
+    case ARRANK_BY_EA: return "ea";
+    case ARRANK_BY_PREFACTOR: return "prefactor";
+    case ARRANK_BY_RATE: break;
+    }
+    return "rate_at_T";
+}
+
+/* Ranked samples first, in rank order, then the others in file order.
+   Returns a new array of n_results indices, or NULL when out of memory. */
+static size_t *display_order(const arrank_analysis *a)
+{
+    size_t *order = malloc((a->n_results ? a->n_results : 1) * sizeof *order);
+    if (!order)
+        return NULL;
+    size_t k = 0;
+    for (; k < a->n_ranked; k++)
+        order[k] = a->order[k];
+    for (size_t i = 0; i < a->n_results; i++)
+        if (a->results[i].rank == 0)
+            order[k++] = i;
+    return order;
+}
+
+/* ---- JSON ---------------------------------------------------------------- */
+
+static json_t *jnum(double v)
+{
+    return isfinite(v) ? json_real(v) : json_null();
+}
+
+static json_t *jpair(double lo, double hi)
+{
+    return json_pack("[o, o]", jnum(lo), jnum(hi));
+}
+
+static json_t *jstr(const char *s)
+{
+    return s ? json_string(s) : json_null();
+}
+
+static json_t *flags_json(unsigned flags)
+{
+    json_t *arr = json_array();
+    for (unsigned bit = 1; bit && bit < (1u << ARRANK_FLAG_COUNT); bit <<= 1)
+        if (flags & bit)
+            json_array_append_new(arr, json_string(arrank_flag_name(bit)));
+    return arr;
+}
+
+static json_t *points_json(const arrank_result *res)
+{
+    const arrank_sample *s = res->sample;
+    json_t *arr = json_array();
+    for (size_t i = 0; i < s->n_points; i++) {
+        const arrank_point *p = &s->points[i];
+        json_t *o = json_object();
+        json_object_set_new(o, "line", json_integer(p->line));
+        json_object_set_new(o, "T_K", jnum(p->temp_K));
+        json_object_set_new(o, "rate", jnum(p->rate));
+        json_object_set_new(o, "rate_sd", jnum(p->rate_sd));
+        json_object_set_new(o, "conversion", jnum(p->conversion));
+        json_object_set_new(o, "time_on_stream_s", jnum(p->time_on_stream_s));
+        json_object_set_new(o, "run", p->run >= 0 ? json_string(s->runs[p->run]) : json_null());
+        json_object_set_new(o, "used", json_boolean(res->used[i]));
+        json_array_append_new(arr, o);
+    }
+    return arr;
+}
+
+static json_t *sample_json(const arrank_analysis *a, const arrank_result *res, double t)
+{
+    const arrank_sample *s = res->sample;
+    const arrank_arrhenius *f = &res->fit;
+    int ok = res->error == NULL;
+    double nan = NAN;
+    double ea = ok ? f->ea_J_mol / 1000.0 : nan, ea_se = ok ? f->ea_se_J_mol / 1000.0 : nan;
+    double lnA = ok ? f->ln_A : nan, lnA_se = ok ? f->ln_A_se : nan;
+    json_t *o = json_object();
+    json_object_set_new(o, "id", json_string(s->id));
+    json_object_set_new(o, "file", json_string(s->file));
+    json_object_set_new(o, "basis", json_string(arrank_basis_name(s->basis)));
+    json_object_set_new(o, "rate_unit_in_file", jstr(s->rate_unit_file));
+    json_object_set_new(o, "n_points", json_integer((json_int_t)s->n_points));
+    json_object_set_new(o, "n_used", json_integer((json_int_t)(ok ? f->n : res->n_used)));
+    json_object_set_new(o, "ea_kJ_mol", jnum(ea));
+    json_object_set_new(o, "ea_kJ_mol_se", jnum(ea_se));
+    json_object_set_new(o, "ea_kJ_mol_ci", jpair(ea - t * ea_se, ea + t * ea_se));
+    json_object_set_new(o, "ln_A", jnum(lnA));
+    json_object_set_new(o, "ln_A_se", jnum(lnA_se));
+    json_object_set_new(o, "ln_A_ci", jpair(lnA - t * lnA_se, lnA + t * lnA_se));
+    json_object_set_new(o, "corr_ea_lnA", jnum(ok ? f->corr_ea_lnA : nan));
+    json_object_set_new(o, "T_ref_K", jnum(ok ? f->T_ref_K : nan));
+    json_object_set_new(o, "T_min_K", jnum(ok ? f->T_min_K : nan));
+    json_object_set_new(o, "T_max_K", jnum(ok ? f->T_max_K : nan));
+    json_object_set_new(o, "ln_rate_at_T_ref", jnum(ok ? f->b0 : nan));
+    json_object_set_new(o, "ln_rate_at_T_ref_se", jnum(ok ? sqrt(f->cov[0][0]) : nan));
+    json_object_set_new(o, "cov_ea_kJ_mol_ln_A", jnum(ok ? f->cov_ea_lnA_J_mol / 1000.0 : nan));
+    json_object_set_new(o, "dof", jnum(ok ? f->dof : nan));
+    json_object_set_new(o, "t_quantile", jnum(ok ? t : nan));
+    json_object_set_new(o, "resid_sd_ln_rate", jnum(ok ? f->resid_sd : nan));
+    json_object_set_new(o, "r2", jnum(ok ? f->r2 : nan));
+    json_object_set_new(o, "weighted", json_boolean(ok && f->weighted));
+    json_object_set_new(o, "chi2_dof", jnum(ok ? f->chi2_dof : nan));
+    int pred = ok && res->has_prediction;
+    json_object_set_new(o, "rate_at_T", jnum(pred ? res->at_T.rate : nan));
+    json_object_set_new(o, "rate_at_T_ci",
+                        jpair(pred ? res->at_T.rate_lo : nan, pred ? res->at_T.rate_hi : nan));
+    json_object_set_new(o, "ln_rate_at_T_se", jnum(pred ? res->at_T.ln_rate_se : nan));
+    json_object_set_new(o, "rank", res->rank > 0 ? json_integer(res->rank) : json_null());
+    json_object_set_new(o, "flags", flags_json(res->flags));
+    json_object_set_new(o, "error", jstr(res->error));
+    json_object_set_new(o, "error_line", res->error && res->error_line > 0
+                                             ? json_integer(res->error_line) : json_null());
+    json_t *notes = json_array();
+    for (size_t i = 0; i < s->n_notes; i++)
+        json_array_append_new(notes, json_string(s->notes[i]));
+    json_object_set_new(o, "notes", notes);
+    json_object_set_new(o, "points", points_json(res));
+    (void)a;
+    return o;
+}
+
+static json_t *analysis_json(const arrank_analysis *a)
+{
+    const arrank_campaign *c = a->campaign;
+    json_t *root = json_object();
+    json_object_set_new(root, "program", json_string("arrank"));
+    json_object_set_new(root, "version", json_string(ARRANK_VERSION));
+    json_object_set_new(root, "campaign", json_string(c->name));
+    json_object_set_new(root, "title", jstr(c->title));
+    json_object_set_new(root, "operating_temperature_K", jnum(a->options.operating_temp_K));
+    json_object_set_new(root, "rate_unit", json_string(c->rate_unit));
+    json_object_set_new(root, "basis", json_string(arrank_basis_name(c->basis)));
+    json_object_set_new(root, "confidence", json_real(a->options.confidence));
+    json_object_set_new(root, "ranked_by", a->n_ranked ? json_string(by_name(a->options.by))
+                                                       : json_null());
+    json_object_set_new(root, "R_J_mol_K", json_real(ARRANK_R_J_MOL_K));
+    json_t *samples = json_array();
+    for (size_t i = 0; i < a->n_results; i++) {
+        const arrank_result *res = &a->results[i];
+        double t = res->error ? NAN : arrank_t_quantile(a->options.confidence, res->fit.dof);
+        json_array_append_new(samples, sample_json(a, res, t));
+    }
+    json_object_set_new(root, "samples", samples);
+    json_t *notes = json_array();
+    for (size_t i = 0; i < c->n_notes; i++)
+        json_array_append_new(notes, json_string(c->notes[i]));
+    json_object_set_new(root, "notes", notes);
+    return root;
+}
+
+static arrank_status write_json(const arrank_analysis *a, FILE *f, arrank_error *err)
+{
+    json_t *root = analysis_json(a);
+    if (!root)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    int rc = json_dumpf(root, f, JSON_INDENT(2) | JSON_REAL_PRECISION(15) | JSON_PRESERVE_ORDER);
+    json_decref(root);
+    if (rc != 0 || fputc('\n', f) == EOF)
+        return arrank_errorf(err, ARRANK_EIO, "write failed");
+    return ARRANK_OK;
+}
+
+/* ---- CSV ----------------------------------------------------------------- */
+
+/* One field, quoted (RFC 4180) only when it holds a comma, quote, line break
+   or edge space, so numbers stay plain for spreadsheets and scripts. */
+static void csv_field(FILE *f, const char *s, int last)
+{
+    size_t n = strlen(s);
+    if (strpbrk(s, ",\"\r\n") || (n && (s[0] == ' ' || s[n - 1] == ' ')))
+        csv_fwrite(f, s, n);
+    else
+        fputs(s, f);
+    fputc(last ? '\n' : ',', f);
+}
+
+static void csv_num(FILE *f, double v, int last)
+{
+    char buf[64] = "";
+    if (isfinite(v))
+        snprintf(buf, sizeof buf, "%.10g", v);
+    csv_field(f, buf, last);
+}
+
+static void flags_joined(unsigned flags, char *buf, size_t n, const char *sep)
+{
+    buf[0] = '\0';
+    size_t len = 0;
+    for (unsigned bit = 1; bit && bit < (1u << ARRANK_FLAG_COUNT); bit <<= 1) {
+        if (!(flags & bit))
+            continue;
+        int w = snprintf(buf + len, n - len, "%s%s", len ? sep : "", arrank_flag_name(bit));
+        if (w < 0 || (size_t)w >= n - len)
+            break;
+        len += (size_t)w;
+    }
+}
+
+static arrank_status write_csv(const arrank_analysis *a, FILE *f, arrank_error *err)
+{
+    const char *u = a->campaign->rate_unit;
+    char h[6][160];
+    snprintf(h[0], sizeof h[0], "ln_A [ln(%s)]", u);
+    snprintf(h[1], sizeof h[1], "ln_A_se [ln(%s)]", u);
+    snprintf(h[2], sizeof h[2], "ln_A_ci_low [ln(%s)]", u);
+    snprintf(h[3], sizeof h[3], "ln_A_ci_high [ln(%s)]", u);
+    const char *fixed[] = {"rank", "id", "file", "n_points", "n_used", "ea [kJ/mol]",
+                           "ea_se [kJ/mol]", "ea_ci_low [kJ/mol]", "ea_ci_high [kJ/mol]"};
+    for (size_t i = 0; i < sizeof fixed / sizeof *fixed; i++)
+        csv_field(f, fixed[i], 0);
+    for (int i = 0; i < 4; i++)
+        csv_field(f, h[i], 0);
+    char rh[3][200];
+    snprintf(rh[0], sizeof rh[0], "rate_at_T [%s]", u);
+    snprintf(rh[1], sizeof rh[1], "rate_at_T_ci_low [%s]", u);
+    snprintf(rh[2], sizeof rh[2], "rate_at_T_ci_high [%s]", u);
+    const char *tail[] = {"corr_ea_lnA", "T_ref [K]", "T_min [K]", "T_max [K]", "T_op [K]",
+                          rh[0], rh[1], rh[2], "confidence", "flags", "error"};
+    for (size_t i = 0; i < sizeof tail / sizeof *tail; i++)
+        csv_field(f, tail[i], i + 1 == sizeof tail / sizeof *tail);
+
+    size_t *order = display_order(a);
+    if (!order)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    for (size_t k = 0; k < a->n_results; k++) {
+        const arrank_result *res = &a->results[order[k]];
+        const arrank_arrhenius *fit = &res->fit;
+        int ok = !res->error;
+        double t = ok ? arrank_t_quantile(a->options.confidence, fit->dof) : NAN;
+        char rank[32] = "";
+        if (res->rank)
+            snprintf(rank, sizeof rank, "%d", res->rank);
+        csv_field(f, rank, 0);
+        csv_field(f, res->sample->id, 0);
+        csv_field(f, res->sample->file, 0);
+        csv_num(f, (double)res->sample->n_points, 0);
+        csv_num(f, (double)(ok ? fit->n : res->n_used), 0);
+        double ea = ok ? fit->ea_J_mol / 1e3 : NAN, se = ok ? fit->ea_se_J_mol / 1e3 : NAN;
+        csv_num(f, ea, 0);
+        csv_num(f, se, 0);
+        csv_num(f, ea - t * se, 0);
+        csv_num(f, ea + t * se, 0);
+        double la = ok ? fit->ln_A : NAN, lse = ok ? fit->ln_A_se : NAN;
+        csv_num(f, la, 0);
+        csv_num(f, lse, 0);
+        csv_num(f, la - t * lse, 0);
+        csv_num(f, la + t * lse, 0);
+        csv_num(f, ok ? fit->corr_ea_lnA : NAN, 0);
+        csv_num(f, ok ? fit->T_ref_K : NAN, 0);
+        csv_num(f, ok ? fit->T_min_K : NAN, 0);
+        csv_num(f, ok ? fit->T_max_K : NAN, 0);
+        csv_num(f, a->options.operating_temp_K, 0);
+        int p = ok && res->has_prediction;
+        csv_num(f, p ? res->at_T.rate : NAN, 0);
+        csv_num(f, p ? res->at_T.rate_lo : NAN, 0);
+        csv_num(f, p ? res->at_T.rate_hi : NAN, 0);
+        csv_num(f, a->options.confidence, 0);
+        char flags[512];
+        flags_joined(res->flags, flags, sizeof flags, ";");
+        csv_field(f, flags, 0);
+        csv_field(f, res->error ? res->error : "", 1);
+    }
+    free(order);
+    if (ferror(f))
+        return arrank_errorf(err, ARRANK_EIO, "write failed");
+    return ARRANK_OK;
+}
+
+/* ---- table ---------------------------------------------------------------- */
+
+/* Display width of UTF-8 text: code points, not bytes. */
+static size_t text_width(const char *s)
+{
+    size_t w = 0;
+    for (; *s; s++)
+        if (((unsigned char)*s & 0xC0) != 0x80)
+            w++;
+    return w;
+}
+
+/* Copy s into buf shortened to at most width code points ("..." at the end),
+   with control characters shown as '?', so a name cannot break the layout. */
+static void fit_text(const char *s, size_t width, char *buf, size_t n)
+{
+    size_t w = text_width(s), out = 0, cps = 0, keep = w > width ? width - 3 : w;
+    for (const char *p = s; *p && out + 4 < n; p++) {
+        unsigned char c = (unsigned char)*p;
+        if ((c & 0xC0) != 0x80) {
+            if (cps == keep)
+                break;
+            cps++;
+        }
+        buf[out++] = (c < 0x20 || c == 0x7F) ? '?' : (char)c;
+    }
+    if (w > width && out + 4 <= n) {
+        memcpy(buf + out, "...", 3);
+        out += 3;
+    }
+    buf[out] = '\0';
+}
+
+static void pad_print(FILE *f, const char *s, size_t width, int right)
+{
+    size_t w = text_width(s);
+    if (right)
+        for (size_t i = w; i < width; i++)
+            fputc(' ', f);
+    fputs(s, f);
+    if (!right)
+        for (size_t i = w; i < width; i++)
+            fputc(' ', f);
+}
+
+static void fmt_rate(double v, char *buf, size_t n)
+{
+    if (!isfinite(v))
+        snprintf(buf, n, "-");
+    else
+        snprintf(buf, n, "%.3g", v);
+}
+
+static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error *err)
+{
+    const arrank_campaign *c = a->campaign;
+    const arrank_options *o = &a->options;
+    int have_T = isfinite(o->operating_temp_K);
+    size_t name_w = strlen("sample");
+    for (size_t i = 0; i < a->n_results; i++) {
+        size_t w = text_width(a->results[i].sample->id);
+        if (w > name_w)
+            name_w = w;
+    }
+    if (name_w > NAME_WIDTH_MAX)
+        name_w = NAME_WIDTH_MAX;
+
+    fprintf(f, "campaign '%s': %zu samples, rates in %s (%s basis), %g%% intervals\n",
+            c->title ? c->title : c->name, c->n_samples, c->rate_unit,
+            arrank_basis_name(c->basis), 100.0 * o->confidence);
+    if (have_T)
+        fprintf(f, "operating temperature %.2f K (%.2f degC)%s%s\n", o->operating_temp_K,
+                o->operating_temp_K - 273.15, a->n_ranked ? ", ranked by " : "",
+                a->n_ranked ? (o->by == ARRANK_BY_EA ? "lowest Ea"
+                               : o->by == ARRANK_BY_PREFACTOR ? "highest pre-exponential factor"
+                                                              : "rate at the operating temperature")
+                            : "");
+    fputc('\n', f);
+
+    char rate_head[160];
+    snprintf(rate_head, sizeof rate_head, "rate at %.2f K [%s]", o->operating_temp_K,
+             c->rate_unit);
+    char lnA_head[160];
+    snprintf(lnA_head, sizeof lnA_head, "ln A [ln(%s)]", c->rate_unit);
+    const size_t w_rank = 4, w_n = 5, w_T = 11, w_ea = 22, w_la = 22;
+    size_t w_rate = have_T ? text_width(rate_head) : 0;
+    if (w_rate && w_rate < 26)
+        w_rate = 26;
+    size_t w_lna = text_width(lnA_head) > w_la ? text_width(lnA_head) : w_la;
+
+    if (a->n_ranked) {
+        pad_print(f, "rank", w_rank, 0);
+        fputs("  ", f);
+    }
+    pad_print(f, "sample", name_w, 0);
+    fputs("  ", f);
+    pad_print(f, "n", w_n, 1);
+    fputs("  ", f);
+    pad_print(f, "T range [K]", w_T, 0);
+    fputs("  ", f);
+    pad_print(f, "Ea [kJ/mol]", w_ea, 0);
+    fputs("  ", f);
+    pad_print(f, lnA_head, w_lna, 0);
+    if (have_T) {
+        fputs("  ", f);
+        pad_print(f, rate_head, w_rate, 0);
+    }
+    fputs("  flags\n", f);
+
+    unsigned seen_flags = 0;
+    int any_error = 0;
+    size_t *order = display_order(a);
+    if (!order)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    for (size_t k = 0; k < a->n_results; k++) {
+        const arrank_result *res = &a->results[order[k]];
+        const arrank_arrhenius *fit = &res->fit;
+        char name[4 * NAME_WIDTH_MAX + 8], cell[128];
+        fit_text(res->sample->id, name_w, name, sizeof name);
+        if (a->n_ranked) {
+            if (res->rank)
+                snprintf(cell, sizeof cell, "%d", res->rank);
+            else
+                snprintf(cell, sizeof cell, "-");
+            pad_print(f, cell, w_rank, 1);
+            fputs("  ", f);
+        }
+        pad_print(f, name, name_w, 0);
+        fputs("  ", f);
+        if (res->error) {
+            snprintf(cell, sizeof cell, "%zu", res->sample->n_points);
+            pad_print(f, cell, w_n, 1);
+            fputs("  ", f);
+            fprintf(f, "not fitted: %s\n", res->error);
+            any_error = 1;
+            continue;
+        }
+        double t = arrank_t_quantile(o->confidence, fit->dof);
+        if (fit->n < res->sample->n_points)
+            snprintf(cell, sizeof cell, "%zu/%zu", fit->n, res->sample->n_points);
+        else
+            snprintf(cell, sizeof cell, "%zu", fit->n);
+        pad_print(f, cell, w_n, 1);
+        fputs("  ", f);
+        snprintf(cell, sizeof cell, "%.0f-%.0f", fit->T_min_K, fit->T_max_K);
+        pad_print(f, cell, w_T, 0);
+        fputs("  ", f);
+        double ea = fit->ea_J_mol / 1e3, se = fit->ea_se_J_mol / 1e3;
+        snprintf(cell, sizeof cell, "%.1f [%.1f, %.1f]", ea, ea - t * se, ea + t * se);
+        pad_print(f, cell, w_ea, 0);
+        fputs("  ", f);
+        snprintf(cell, sizeof cell, "%.2f [%.2f, %.2f]", fit->ln_A, fit->ln_A - t * fit->ln_A_se,
+                 fit->ln_A + t * fit->ln_A_se);
+        pad_print(f, cell, w_lna, 0);
+        if (have_T) {
+            fputs("  ", f);
+            char r0[32], r1[32], r2[32];
+            fmt_rate(res->at_T.rate, r0, sizeof r0);
+            fmt_rate(res->at_T.rate_lo, r1, sizeof r1);
+            fmt_rate(res->at_T.rate_hi, r2, sizeof r2);
+            snprintf(cell, sizeof cell, "%s [%s, %s]", r0, r1, r2);
+            pad_print(f, cell, w_rate, 0);
+        }
+        char flags[512];
+        flags_joined(res->flags, flags, sizeof flags, ", ");
+        fprintf(f, "  %s\n", flags[0] ? flags : "-");
+        seen_flags |= res->flags;
+    }
+    free(order);
+
+    if (seen_flags || any_error)
+        fputc('\n', f);
+    for (unsigned bit = 1; bit && bit < (1u << ARRANK_FLAG_COUNT); bit <<= 1)
+        if (seen_flags & bit)
+            fprintf(f, "  %-16s %s\n", arrank_flag_name(bit), arrank_flag_words(bit));
+    if (have_T && (seen_flags & ARRANK_FLAG_EXTRAPOLATED))
+        fprintf(f, "\nCaution: rates outside the measured temperature range are extrapolations of\n"
+                   "apparent kinetics; do not use them for reactor design or safety limits.\n");
+    if (ferror(f))
+        return arrank_errorf(err, ARRANK_EIO, "write failed");
+    return ARRANK_OK;
+}
+
+arrank_status arrank_output_write(const arrank_analysis *analysis, arrank_output_format format,
+                                  FILE *stream, arrank_error *err)
+{
+    switch (format) {
+    case ARRANK_OUTPUT_JSON: return write_json(analysis, stream, err);
+    case ARRANK_OUTPUT_CSV: return write_csv(analysis, stream, err);
+    case ARRANK_OUTPUT_TABLE: return write_table(analysis, stream, err);
+    }
+    return arrank_errorf(err, ARRANK_EINVAL, "unknown output format %d", (int)format);
+}
+
+/* ---- atomic save ----------------------------------------------------------- */
+
+/* mkdir -p for the folder part of path. */
+static arrank_status make_parent(const char *path, arrank_error *err)
+{
+    char *dir = arrank_strdup(path);
+    if (!dir)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    char *slash = strrchr(dir, '/');
+    if (!slash || slash == dir) {
+        free(dir);
+        return ARRANK_OK;
+    }
+    *slash = '\0';
+    for (char *p = dir + 1; ; p++) {
+        if (*p == '/' || *p == '\0') {
+            char save = *p;
+            *p = '\0';
+            if (mkdir(dir, 0777) != 0 && errno != EEXIST) {
+                arrank_status st = arrank_errorf(err, ARRANK_EIO, "cannot create folder '%s': %s",
+                                                 dir, strerror(errno));
+                free(dir);
+                return st;
+            }
+            *p = save;
+            if (save == '\0')
+                break;
+        }
+    }
+    free(dir);
+    return ARRANK_OK;
+}
+
+arrank_status arrank_output_save_with(const char *path,
+                                      arrank_status (*writer)(FILE *, void *, arrank_error *),
+                                      void *ctx, arrank_error *err)
+{
+    if (strcmp(path, "-") == 0) {
+        arrank_status st = writer(stdout, ctx, err);
+        if (st == ARRANK_OK && fflush(stdout) != 0)
+            return arrank_errorf(err, ARRANK_EIO, "cannot write to standard output: %s",
+                                 strerror(errno));
+        return st;
+    }
+    struct stat sb;
+    if (stat(path, &sb) == 0 && !S_ISREG(sb.st_mode)) {
+        /* a device or pipe: write in place */
+        FILE *f = fopen(path, "w");
+        if (!f)
+            return arrank_errorf(err, ARRANK_EIO, "cannot write '%s': %s", path, strerror(errno));
+        arrank_status st = writer(f, ctx, err);
+        int bad = fclose(f) != 0;
+        if (st == ARRANK_OK && bad)
+            st = arrank_errorf(err, ARRANK_EIO, "cannot write '%s': %s", path, strerror(errno));
+        else if (st == ARRANK_EIO)
+            arrank_errorf(err, ARRANK_EIO, "cannot write '%s': %s", path, strerror(errno));
+        return st;
+    }
+    arrank_status st = make_parent(path, err);
+    if (st != ARRANK_OK)
+        return st;
+    size_t n = strlen(path) + 16;
+    char *tmp = malloc(n);
+    if (!tmp)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    snprintf(tmp, n, "%s.tmpXXXXXX", path);
+    int fd = mkstemp(tmp);
+    if (fd < 0) {
+        st = arrank_errorf(err, ARRANK_EIO, "cannot write '%s': %s", path, strerror(errno));
+        free(tmp);
+        return st;
+    }
+    FILE *f = fdopen(fd, "w");
+    if (!f) {
+        st = arrank_errorf(err, ARRANK_EIO, "cannot write '%s': %s", path, strerror(errno));
+        close(fd);
+        unlink(tmp);
+        free(tmp);
+        return st;
+    }
+    st = writer(f, ctx, err);
+    int saved_errno = 0;
+    if (fflush(f) != 0 || fsync(fileno(f)) != 0)
+        saved_errno = errno ? errno : EIO;
+    if (fclose(f) != 0 && !saved_errno)
+        saved_errno = errno ? errno : EIO;
+    if (st == ARRANK_OK && saved_errno)
+        st = arrank_errorf(err, ARRANK_EIO, "cannot write '%s': %s", path, strerror(saved_errno));
+    else if (st == ARRANK_EIO)
+        arrank_errorf(err, ARRANK_EIO, "cannot write '%s': %s", path,
+                      strerror(saved_errno ? saved_errno : EIO));
+    if (st == ARRANK_OK) {
+        /* mkstemp makes 0600; results are ordinary files */
+        mode_t mask = umask(0);
+        umask(mask);
+        chmod(tmp, 0666 & ~mask);
+        if (rename(tmp, path) != 0)
+            st = arrank_errorf(err, ARRANK_EIO, "cannot write '%s': %s", path, strerror(errno));
+    }
+    if (st != ARRANK_OK)
+        unlink(tmp);
+    free(tmp);
+    return st;
+}
+
+struct save_ctx {
+    const arrank_analysis *analysis;
+    arrank_output_format format;
+};
+
+static arrank_status save_writer(FILE *f, void *ctx, arrank_error *err)
+{
+    const struct save_ctx *s = ctx;
+    return arrank_output_write(s->analysis, s->format, f, err);
+}
+
+arrank_status arrank_output_save(const arrank_analysis *analysis, arrank_output_format format,
+                                 const char *path, arrank_error *err)
+{
+    struct save_ctx ctx = {analysis, format};
+    return arrank_output_save_with(path, save_writer, &ctx, err);
+}

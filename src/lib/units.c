@@ -1,0 +1,486 @@
+/*
+ * units.c - units of measure for campaign data, on top of udunits2.
+ *
+ * udunits2 knows the units; this file adds what a campaign needs around it:
+ * spellings people type in lab files (UTF-8 micro sign, middle dot, degree
+ * sign, the one-character Celsius sign), the rule that in temperature text a
+ * bare "C" or "F" means degrees (udunits reads them as coulomb and farad), the
+ * classification of a rate by its dimension, and a small cache so that a
+ * campaign of thousands of files sharing two or three unit strings asks
+ * udunits to parse each string only once.
+ *
+ * Every conversion used here is affine (value_to = scale * value_from +
+ * offset); logarithmic units are refused.
+ */
+#include "arrank/units.h"
+#include "units_internal.h"
+
+#include <ctype.h>
+#include <errno.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <udunits2.h>
+
+/* Longest unit string accepted; longer text is not a unit anybody writes. */
+#define UNIT_TEXT_MAX 256
+/* Cache size: a campaign uses a handful of units; entries are replaced in turn when full. */
+#define CACHE_SIZE 64
+
+/* What a cache entry answers. */
+typedef enum { KIND_CONVERSION, KIND_TEMPERATURE, KIND_RATE } entry_kind;
+
+typedef struct {
+    entry_kind kind;
+    char *from;   /* normalised unit text */
+    char *to;     /* normalised target unit text ("" for temperature and rate) */
+    arrank_conversion conv;
+    arrank_basis basis;
+} cache_entry;
+
+struct arrank_units {
+    ut_system *system;
+    ut_unit *kelvin;
+    ut_unit *rate_mass; /* mol/(kg*s) */
+    ut_unit *rate_area; /* mol/(m2*s) */
+    ut_unit *rate_site; /* 1/s */
+    cache_entry cache[CACHE_SIZE];
+    size_t n_cache;
+    size_t next_evict;
+};
+
+/* UTF-8 spellings replaced before udunits sees the text. */
+static const struct {
+    const char *from;
+    const char *to;
+} spellings[] = {
+    {"\xe2\x84\x83", "degC"}, /* U+2103 DEGREE CELSIUS */
+    {"\xe2\x84\x89", "degF"}, /* U+2109 DEGREE FAHRENHEIT */
+    {"\xc2\xb0" "C", "degC"}, /* degree sign + C */
+    {"\xc2\xb0" "F", "degF"},
+    {"\xc2\xba" "C", "degC"}, /* masculine ordinal, often typed for a degree sign */
+    {"\xc2\xb5", "u"},        /* U+00B5 MICRO SIGN */
+    {"\xce\xbc", "u"},        /* U+03BC GREEK SMALL LETTER MU */
+    {"\xc2\xb7", "*"},        /* U+00B7 MIDDLE DOT */
+    {"\xe2\x8b\x85", "*"},    /* U+22C5 DOT OPERATOR */
+    {"\xc2\xb2", "2"},        /* superscript two */
+    {"\xc2\xb3", "3"},        /* superscript three */
+};
+
+const char *arrank_basis_name(arrank_basis basis)
+{
+    switch (basis) {
+    case ARRANK_BASIS_MASS: return "mass";
+    case ARRANK_BASIS_AREA: return "area";
+    case ARRANK_BASIS_SITE: return "site";
+    case ARRANK_BASIS_UNKNOWN: break;
+    }
+    return "unknown";
+}
+
+static int is_space(char c)
+{
+    return c == ' ' || c == '\t' || c == '\r' || c == '\n' || c == '\f' || c == '\v';
+}
+
+/*
+ * Copy text into out (size UNIT_TEXT_MAX) trimmed and with the UTF-8 spellings
+ * replaced.  In temperature context a lone "C"/"F" becomes degC/degF.
+ * Returns 0, or -1 when the text does not fit.
+ */
+static int normalise(const char *text, int temperature, char *out)
+{
+    while (is_space(*text))
+        text++;
+    size_t len = strlen(text);
+    while (len > 0 && is_space(text[len - 1]))
+        len--;
+    size_t o = 0;
+    for (size_t i = 0; i < len;) {
+        const char *rep = NULL;
+        size_t used = 1;
+        for (size_t k = 0; k < sizeof spellings / sizeof spellings[0]; k++) {
+            size_t n = strlen(spellings[k].from);
+            if (n <= len - i && memcmp(text + i, spellings[k].from, n) == 0) {
+                rep = spellings[k].to;
+                used = n;
+                break;
+            }
+        }
+        size_t add = rep ? strlen(rep) : 1;
+        if (o + add >= UNIT_TEXT_MAX)
+            return -1;
+        if (rep)
+            memcpy(out + o, rep, add);
+        else
+            out[o] = text[i];
+        o += add;
+        i += used;
+    }
+    out[o] = '\0';
+    if (temperature) {
+        if (strcmp(out, "C") == 0)
+            strcpy(out, "degC");
+        else if (strcmp(out, "F") == 0)
+            strcpy(out, "degF");
+    }
+    return 0;
+}
+
+int arrank_units_spelling(const char *unit, char *out, size_t n)
+{
+    char norm[UNIT_TEXT_MAX];
+    if (!unit || !out || n == 0 || normalise(unit, 0, norm) != 0 || strlen(norm) >= n)
+        return -1;
+    memcpy(out, norm, strlen(norm) + 1);
+    return 0;
+}
+
+static cache_entry *cache_find(arrank_units *units, entry_kind kind, const char *from,
+                               const char *to)
+{
+    for (size_t i = 0; i < units->n_cache; i++) {
+        cache_entry *e = &units->cache[i];
+        if (e->kind == kind && strcmp(e->from, from) == 0 && strcmp(e->to, to) == 0)
+            return e;
+    }
+    return NULL;
+}
+
+/* Remember an answer; running out of memory only costs the cache. */
+static void cache_put(arrank_units *units, entry_kind kind, const char *from, const char *to,
+                      arrank_conversion conv, arrank_basis basis)
+{
+    char *f = strdup(from);
+    char *t = strdup(to);
+    if (!f || !t) {
+        free(f);
+        free(t);
+        return;
+    }
+    cache_entry *e;
+    if (units->n_cache < CACHE_SIZE) {
+        e = &units->cache[units->n_cache++];
+    } else {
+        e = &units->cache[units->next_evict];
+        units->next_evict = (units->next_evict + 1) % CACHE_SIZE;
+        free(e->from);
+        free(e->to);
+    }
+    e->kind = kind;
+    e->from = f;
+    e->to = t;
+    e->conv = conv;
+    e->basis = basis;
+}
+
+/* Parse normalised text; an empty string is refused (udunits would read it as "1"). */
+static ut_unit *parse_unit(arrank_units *units, const char *norm, const char *shown,
+                           arrank_error *err, arrank_status *st)
+{
+    if (norm[0] == '\0') {
+        *st = arrank_errorf(err, ARRANK_EUNIT, "empty unit");
+        return NULL;
+    }
+    ut_unit *u = ut_parse(units->system, norm, UT_UTF8);
+    if (!u) {
+        *st = arrank_errorf(err, ARRANK_EUNIT, "unknown unit '%s'", shown);
+        return NULL;
+    }
+    *st = ARRANK_OK;
+    return u;
+}
+
+/*
+ * Affine conversion between two convertible units.  The scale is measured
+ * away from the offset (at 1e6) so that for degF -> K it is not the
+ * difference of two numbers near 255.
+ */
+static arrank_status affine(const ut_unit *from, const ut_unit *to, const char *shown_from,
+                            const char *shown_to, arrank_conversion *conv, arrank_error *err)
+{
+    cv_converter *cv = ut_get_converter((ut_unit *)from, (ut_unit *)to);
+    if (!cv)
+        return arrank_errorf(err, ARRANK_EUNIT, "unit '%s' is not convertible to '%s'",
+                             shown_from, shown_to);
+    double offset = cv_convert_double(cv, 0.0);
+    double scale = offset == 0.0 ? cv_convert_double(cv, 1.0)
+                                 : (cv_convert_double(cv, 1e6) - offset) / 1e6;
+    double at2 = cv_convert_double(cv, 2.0);
+    cv_free(cv);
+    double want2 = 2.0 * scale + offset;
+    if (!isfinite(scale) || !isfinite(offset) || scale == 0.0 ||
+        fabs(at2 - want2) > 1e-9 * (fabs(want2) + fabs(offset) + 1e-300))
+        return arrank_errorf(err, ARRANK_EUNIT, "unit '%s' is not a linear unit", shown_from);
+    conv->scale = scale;
+    conv->offset = offset;
+    return ARRANK_OK;
+}
+
+arrank_units *arrank_units_create(arrank_error *err)
+{
+    /* udunits prints its own diagnostics by default; the library never prints. */
+    ut_set_error_message_handler(ut_ignore);
+    arrank_units *units = calloc(1, sizeof *units);
+    if (!units) {
+        arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the unit database");
+        return NULL;
+    }
+    units->system = ut_read_xml(NULL);
+    if (!units->system) {
+        const char *env = getenv("UDUNITS2_XML_PATH");
+        arrank_errorf(err, ARRANK_EIO, "cannot load the udunits2 unit database%s%s%s",
+                      env ? " from '" : "", env ? env : "", env ? "'" : "");
+        free(units);
+        return NULL;
+    }
+    units->kelvin = ut_parse(units->system, "K", UT_ASCII);
+    units->rate_mass = ut_parse(units->system, "mol/(kg*s)", UT_ASCII);
+    units->rate_area = ut_parse(units->system, "mol/(m2*s)", UT_ASCII);
+    units->rate_site = ut_parse(units->system, "1/s", UT_ASCII);
+    if (!units->kelvin || !units->rate_mass || !units->rate_area || !units->rate_site) {
+        arrank_errorf(err, ARRANK_EIO, "the udunits2 unit database lacks K, mol, kg, m or s");
+        arrank_units_free(units);
+        return NULL;
+    }
+    return units;
+}
+
+void arrank_units_free(arrank_units *units)
+{
+    if (!units)
+        return;
+    for (size_t i = 0; i < units->n_cache; i++) {
+        free(units->cache[i].from);
+        free(units->cache[i].to);
+    }
+    ut_free(units->kelvin);
+    ut_free(units->rate_mass);
+    ut_free(units->rate_area);
+    ut_free(units->rate_site);
+    ut_free_system(units->system);
+    free(units);
+}
+
+arrank_status arrank_units_temperature(arrank_units *units, const char *unit,
+                                       arrank_conversion *to_K, arrank_error *err)
+{
+    if (!units || !unit || !to_K)
+        return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_units_temperature");
+    char norm[UNIT_TEXT_MAX];
+    if (normalise(unit, 1, norm) != 0)
+        return arrank_errorf(err, ARRANK_EUNIT, "unit text is longer than %d bytes",
+                             UNIT_TEXT_MAX - 1);
+    cache_entry *e = cache_find(units, KIND_TEMPERATURE, norm, "");
+    if (e) {
+        *to_K = e->conv;
+        return ARRANK_OK;
+    }
+    arrank_status st;
+    ut_unit *u = parse_unit(units, norm, unit, err, &st);
+    if (!u)
+        return st;
+    if (!ut_are_convertible(u, units->kelvin)) {
+        ut_free(u);
+        return arrank_errorf(err, ARRANK_EUNIT, "'%s' is not a temperature unit", unit);
+    }
+    arrank_conversion conv;
+    st = affine(u, units->kelvin, unit, "K", &conv, err);
+    ut_free(u);
+    if (st != ARRANK_OK)
+        return st;
+    cache_put(units, KIND_TEMPERATURE, norm, "", conv, ARRANK_BASIS_UNKNOWN);
+    *to_K = conv;
+    return ARRANK_OK;
+}
+
+arrank_status arrank_units_rate(arrank_units *units, const char *unit, arrank_basis *basis,
+                                arrank_conversion *to_si, arrank_error *err)
+{
+    if (!units || !unit || !basis || !to_si)
+        return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_units_rate");
+    char norm[UNIT_TEXT_MAX];
+    if (normalise(unit, 0, norm) != 0)
+        return arrank_errorf(err, ARRANK_EUNIT, "unit text is longer than %d bytes",
+                             UNIT_TEXT_MAX - 1);
+    cache_entry *e = cache_find(units, KIND_RATE, norm, "");
+    if (e) {
+        *basis = e->basis;
+        *to_si = e->conv;
+        return ARRANK_OK;
+    }
+    arrank_status st;
+    ut_unit *u = parse_unit(units, norm, unit, err, &st);
+    if (!u)
+        return st;
+    /* The basis follows from the dimension alone (SI: amount, mass, area, time). */
+    const struct {
+        const ut_unit *si;
+        const char *si_name;
+        arrank_basis basis;
+    } bases[] = {
+        {units->rate_mass, "mol/(kg*s)", ARRANK_BASIS_MASS},
+        {units->rate_area, "mol/(m2*s)", ARRANK_BASIS_AREA},
+        {units->rate_site, "1/s", ARRANK_BASIS_SITE},
+    };
+    for (size_t i = 0; i < sizeof bases / sizeof bases[0]; i++) {
+        if (!ut_are_convertible(u, bases[i].si))
+            continue;
+        arrank_conversion conv;
+        st = affine(u, bases[i].si, unit, bases[i].si_name, &conv, err);
+        ut_free(u);
+        if (st != ARRANK_OK)
+            return st;
+        cache_put(units, KIND_RATE, norm, "", conv, bases[i].basis);
+        *basis = bases[i].basis;
+        *to_si = conv;
+        return ARRANK_OK;
+    }
+    ut_free(u);
+    return arrank_errorf(err, ARRANK_EUNIT,
+                         "'%s' is not a rate per mass, per area or per site "
+                         "(e.g. umol/(g*s), umol/(m2*s), 1/s)",
+                         unit);
+}
+
+arrank_status arrank_units_conversion(arrank_units *units, const char *from, const char *to,
+                                      arrank_conversion *conv, arrank_error *err)
+{
+    if (!units || !from || !to || !conv)
+        return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_units_conversion");
+    char nfrom[UNIT_TEXT_MAX], nto[UNIT_TEXT_MAX];
+    if (normalise(from, 0, nfrom) != 0 || normalise(to, 0, nto) != 0)
+        return arrank_errorf(err, ARRANK_EUNIT, "unit text is longer than %d bytes",
+                             UNIT_TEXT_MAX - 1);
+    cache_entry *e = cache_find(units, KIND_CONVERSION, nfrom, nto);
+    if (e) {
+        *conv = e->conv;
+        return ARRANK_OK;
+    }
+    arrank_status st;
+    ut_unit *uf = parse_unit(units, nfrom, from, err, &st);
+    if (!uf)
+        return st;
+    ut_unit *ut = parse_unit(units, nto, to, err, &st);
+    if (!ut) {
+        ut_free(uf);
+        return st;
+    }
+    arrank_conversion c;
+    if (!ut_are_convertible(uf, ut))
+        st = arrank_errorf(err, ARRANK_EUNIT, "unit '%s' is not convertible to '%s'", from, to);
+    else
+        st = affine(uf, ut, from, to, &c, err);
+    ut_free(uf);
+    ut_free(ut);
+    if (st != ARRANK_OK)
+        return st;
+    cache_put(units, KIND_CONVERSION, nfrom, nto, c, ARRANK_BASIS_UNKNOWN);
+    *conv = c;
+    return ARRANK_OK;
+}
+
+/* Trimmed copy of text for messages, cut at UNIT_TEXT_MAX - 1 bytes. */
+static void trimmed_copy(const char *text, char *out)
+{
+    while (is_space(*text))
+        text++;
+    size_t len = strlen(text);
+    while (len > 0 && is_space(text[len - 1]))
+        len--;
+    if (len >= UNIT_TEXT_MAX)
+        len = UNIT_TEXT_MAX - 1;
+    memcpy(out, text, len);
+    out[len] = '\0';
+}
+
+/*
+ * Split "VALUE UNIT" into the number and the trimmed unit text.  The number
+ * uses a decimal point only (strtod in the C locale).  Returns 0, or -1 when
+ * the text does not start with a finite number.
+ */
+static int split_value(const char *text, double *value, const char **unit)
+{
+    while (is_space(*text))
+        text++;
+    if (*text == '\0')
+        return -1;
+    /* strtod would also read hexadecimal, "inf" and "nan": none is a measured value. */
+    if (!(isdigit((unsigned char)*text) || *text == '.' || *text == '-' || *text == '+'))
+        return -1;
+    if ((text[0] == '0' && (text[1] == 'x' || text[1] == 'X')) ||
+        ((text[0] == '-' || text[0] == '+') && text[1] == '0' &&
+         (text[2] == 'x' || text[2] == 'X')))
+        return -1;
+    char *end;
+    errno = 0;
+    double v = strtod(text, &end);
+    if (end == text || errno == ERANGE || !isfinite(v))
+        return -1;
+    while (is_space(*end))
+        end++;
+    *value = v;
+    *unit = end;
+    return 0;
+}
+
+arrank_status arrank_units_parse_temperature(arrank_units *units, const char *text,
+                                             double *temp_K, arrank_error *err)
+{
+    if (!units || !text || !temp_K)
+        return arrank_errorf(err, ARRANK_EINVAL,
+                             "missing argument to arrank_units_parse_temperature");
+    double v;
+    const char *unit;
+    char shown[UNIT_TEXT_MAX];
+    trimmed_copy(text, shown);
+    if (split_value(text, &v, &unit) != 0)
+        return arrank_errorf(err, ARRANK_EINVAL,
+                             "'%s' is not a temperature; write it as 250C, 250degC or 523.15K",
+                             shown);
+    if (*unit == '\0')
+        return arrank_errorf(err, ARRANK_EINVAL,
+                             "temperature '%s' has no unit; write it as %sC, %sdegC or 523.15K",
+                             shown, shown, shown);
+    arrank_conversion c;
+    arrank_status st = arrank_units_temperature(units, unit, &c, err);
+    if (st != ARRANK_OK)
+        return st;
+    double t = c.scale * v + c.offset;
+    if (!(t > 0.0) || !isfinite(t))
+        return arrank_errorf(err, ARRANK_EINVAL,
+                             "temperature '%s' is at or below absolute zero", shown);
+    *temp_K = t;
+    return ARRANK_OK;
+}
+
+arrank_status arrank_units_parse_quantity(arrank_units *units, const char *text,
+                                          const char *si_unit, double *value_si,
+                                          arrank_error *err)
+{
+    if (!units || !text || !si_unit || !value_si)
+        return arrank_errorf(err, ARRANK_EINVAL,
+                             "missing argument to arrank_units_parse_quantity");
+    double v;
+    const char *unit;
+    if (split_value(text, &v, &unit) != 0)
+        return arrank_errorf(err, ARRANK_EINVAL, "'%s' is not a number with a unit", text);
+    if (*unit == '\0') {
+        if (strcmp(si_unit, "1") == 0) {
+            *value_si = v;
+            return ARRANK_OK;
+        }
+        return arrank_errorf(err, ARRANK_EUNIT, "'%s' has no unit; write it with a unit of '%s'",
+                             text, si_unit);
+    }
+    arrank_conversion c;
+    arrank_status st = arrank_units_conversion(units, unit, si_unit, &c, err);
+    if (st != ARRANK_OK)
+        return st;
+    double out = c.scale * v + c.offset;
+    if (!isfinite(out))
+        return arrank_errorf(err, ARRANK_EINVAL, "'%s' is out of range in '%s'", text, si_unit);
+    *value_si = out;
+    return ARRANK_OK;
+}

@@ -1,0 +1,113 @@
+#!/bin/sh
+# check_cli.sh - the arrank program as a user meets it: help, usage errors,
+# units on the command line, output files, exit statuses.  Prints TAP.
+# Env: ARRANK (program), BUILD (build folder).
+set -u
+. tests/tap.sh
+A=${ARRANK:-build/arrank}
+T=$(mktemp -d)
+trap 'rm -rf "$T"' EXIT
+DEMO=campaigns/zeolite-ni-screen
+
+"$A" >"$T/out" 2>"$T/err"; st=$?
+expect_eq "no command: usage status 2" "$st" 2
+ok_if "no command: lists the commands" grep -q '^  rank ' "$T/err"
+"$A" --help >"$T/out" 2>&1; st=$?
+expect_eq "--help exits 0" "$st" 0
+ok_if "--help lists fit with one line" grep -q '^  fit  *[a-z]' "$T/out"
+expect_eq "--version" "$("$A" --version)" "arrank 0.1.0"
+expect_eq "fit --version" "$("$A" fit --version)" "arrank 0.1.0"
+"$A" rank --help >"$T/out"; st=$?
+expect_eq "rank --help exits 0" "$st" 0
+ok_if "rank --help documents --at with a unit" grep -q -- '--at T' "$T/out"
+"$A" frobnicate x 2>"$T/err"; st=$?
+expect_eq "unknown command: status 2" "$st" 2
+expect_eq "unknown command: message" "$(cat "$T/err")" \
+    "arrank: 'frobnicate' is not a command; see 'arrank --help'"
+"$A" fit "$DEMO" --draws 10 2>"$T/err"; st=$?
+expect_eq "option of another command: status 2" "$st" 2
+
+# --at needs a unit
+"$A" rank "$DEMO" --at 250 >"$T/out" 2>"$T/err"; st=$?
+expect_eq "--at bare number: status 2" "$st" 2
+ok_if "--at bare number: says a unit is needed" grep -q "has no unit" "$T/err"
+ok_if "--at bare number: nothing on stdout" test ! -s "$T/out"
+"$A" rank "$DEMO" --at 250C --json "$T/c.json" >/dev/null 2>"$T/err"; st=$?
+expect_eq "--at 250C works" "$st" 0
+"$A" rank "$DEMO" --at 523.15K --json "$T/k.json" >/dev/null 2>&1
+/usr/bin/python3 - "$T/c.json" "$T/k.json" >"$T/py" <<'PY'
+import json, sys
+a, b = (json.load(open(p)) for p in sys.argv[1:])
+print(abs(a["operating_temperature_K"] - 523.15) < 1e-9 and a["samples"] == b["samples"])
+PY
+expect_eq "--at 250C and --at 523.15K give the same results" "$(cat "$T/py")" "True"
+
+# no operating temperature anywhere
+mkdir -p "$T/noini"
+cp "$DEMO/ZN-01.csv" "$DEMO/ZN-02.csv" "$T/noini/"
+"$A" rank "$T/noini" 2>"$T/err"; st=$?
+expect_eq "rank without any operating temperature: status 2" "$st" 2
+ok_if "rank without any operating temperature: says how to give one" \
+    grep -q "no operating temperature: give one with --at" "$T/err"
+"$A" rank "$T/noini" --by ea >"$T/out" 2>&1; st=$?
+expect_eq "rank --by ea needs no temperature" "$st" 0
+"$A" fit "$T/noini" >"$T/out" 2>&1; st=$?
+expect_eq "fit without a temperature works" "$st" 0
+
+# the same data in degC + umol/(g*s) and in K + mol/(kg*h)
+mkdir -p "$T/units"
+printf 'T [degC],rate [umol/(g*s)]\n230.0,0.1185\n245.5,0.2433\n260.0,0.4712\n275.5,0.8490\n290.0,1.5560\n' \
+    >"$T/units/A.csv"
+printf 'T [K],rate [mol/(kg*h)]\n503.15,0.4266\n518.65,0.87588\n533.15,1.69632\n548.65,3.0564\n563.15,5.6016\n' \
+    >"$T/units/B.csv"
+"$A" fit "$T/units" --at 260C --json "$T/u.json" >/dev/null 2>"$T/err"; st=$?
+expect_eq "two unit systems: fit exits 0" "$st" 0
+/usr/bin/python3 - "$T/u.json" >"$T/py" <<'PY'
+import json, sys
+s = json.load(open(sys.argv[1]))["samples"]
+a, b = s
+rel = lambda x, y: abs(x - y) <= 1e-9 * abs(y)
+print(rel(a["ea_kJ_mol"], b["ea_kJ_mol"]) and rel(a["rate_at_T"], b["rate_at_T"])
+      and rel(a["ln_A"], b["ln_A"]))
+PY
+expect_eq "degC + umol/(g*s) and K + mol/(kg*h) give the same Ea, ln A and rate (1e-9)" \
+    "$(cat "$T/py")" "True"
+
+# outputs
+"$A" fit "$DEMO" --json - >"$T/out" 2>/dev/null; st=$?
+expect_eq "--json - exits 0" "$st" 0
+ok_if "--json - writes only JSON on stdout" /usr/bin/python3 -c \
+    "import json,sys; json.load(open(sys.argv[1]))" "$T/out"
+"$A" fit "$DEMO" --csv - >"$T/out" 2>/dev/null
+ok_if "--csv - writes a header with units" grep -q '^rank,id,file,n_points,n_used,ea \[kJ/mol\]' "$T/out"
+"$A" fit "$DEMO" --json /dev/full >/dev/null 2>"$T/err"; st=$?
+expect_eq "writing to /dev/full: status 3" "$st" 3
+ok_if "writing to /dev/full: says so" grep -q "cannot write '/dev/full'" "$T/err"
+"$A" fit "$DEMO" >/dev/full 2>"$T/err"; st=$?
+expect_eq "table to a full stdout: status 3" "$st" 3
+mkdir -p "$T/outs"
+"$A" rank "$DEMO" --json "$T/outs/deep/r.json" --csv "$T/outs/deep/r.csv" >/dev/null 2>&1
+ok_if "outputs land in a new folder, no temp files left" \
+    test "$(ls "$T/outs/deep" | tr '\n' ' ')" = "r.csv r.json "
+"$A" rank "$T/noini" --json "$T/outs/none.json" >/dev/null 2>&1
+ok_if "a failed run writes no output" test ! -e "$T/outs/none.json"
+
+# unreadable or missing folders
+"$A" fit "$T/does-not-exist" 2>"$T/err"; st=$?
+expect_eq "missing folder: status 3" "$st" 3
+ok_if "missing folder: names it" grep -q "does-not-exist" "$T/err"
+"$A" fit "$DEMO/ZN-01.csv" 2>"$T/err"; st=$?
+expect_eq "a file instead of a folder: status 3" "$st" 3
+
+# long and odd sample names in the table
+mkdir -p "$T/long"
+{ printf '# sample = Ni-Co 12 wt%% on Al2O3-SiO2, calcined 550 C, batch 2026-07-B, sieved\n'
+  printf 'T [K],rate [1/s]\n500,0.01\n510,0.016\n520,0.027\n530,0.043\n'; } >"$T/long/X.csv"
+{ printf '# sample = short\n'; printf 'T [K],rate [1/s]\n500,0.02\n510,0.03\n520,0.05\n530,0.07\n'; } \
+    >"$T/long/Y.csv"
+"$A" rank "$T/long" --at 515K >"$T/out" 2>&1; st=$?
+expect_eq "long names: status 0" "$st" 0
+ok_if "long names: shortened with '...' in the table" grep -q '\.\.\.' "$T/out"
+w1=$(grep -n 'short' "$T/out" | head -1 | cut -d: -f2- | awk '{print index($0, "4 ")}')
+w2=$(grep -n '\.\.\.' "$T/out" | head -1 | cut -d: -f2- | awk '{print index($0, "4 ")}')
+expect_eq "long names: columns stay aligned" "$w1" "$w2"

@@ -1,0 +1,24 @@
+# tap.sh - sourced by the shell checks: TAP output helpers.
+#   ok_if NAME CMD...     run CMD; "ok" when it succeeds, else "not ok"
+#   expect_eq NAME GOT WANT
+# Each failure prints got/want as TAP diagnostics.
+tap_n=0
+ok_if() {
+    name=$1
+    shift
+    tap_n=$((tap_n + 1))
+    if "$@"; then
+        echo "ok $tap_n - $name"
+    else
+        echo "not ok $tap_n - $name"
+    fi
+}
+expect_eq() {
+    tap_n=$((tap_n + 1))
+    if [ "$2" = "$3" ]; then
+        echo "ok $tap_n - $1"
+    else
+        echo "not ok $tap_n - $1"
+        printf '# got:  %s\n# want: %s\n' "$2" "$3"
+    fi
+}
