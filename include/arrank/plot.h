@@ -17,7 +17,8 @@
  *   diagnostics-NN[-ID]    per fitted sample: residuals against 1000/T and the
  *                          local apparent Ea against T.  NN is the sample's
  *                          1-based position in the campaign; ID is the sample id
- *                          when it is made of [A-Za-z0-9._-] only.
+ *                          with each run of characters other than [A-Za-z0-9._-]
+ *                          made one '_' (at most 40 characters).
  * Each sample has one colour and one marker shape in every figure.
  */
 #ifndef ARRANK_PLOT_H

@@ -195,7 +195,7 @@ static void put_qf(FILE *f, const char *fmt, ...)
 typedef struct {
     arrank_figure_kind kind;
     size_t sample;
-    char stem[80];
+    char stem[112];
 } figure;
 
 static const struct {
@@ -214,15 +214,24 @@ static int usable_point(const arrank_point *p)
     return isfinite(p->temp_K) && p->temp_K > 0 && isfinite(p->rate) && p->rate > 0;
 }
 
-static int safe_id(const char *id)
+/* The sample id made fit for a file name: every run of characters other than
+   [A-Za-z0-9._-] becomes one '_', at most 40 characters, no leading '.'. */
+static void id_for_file(const char *id, char *out, size_t n)
 {
-    if (!id || !*id || *id == '.' || strlen(id) > 40)
-        return 0;
-    for (const char *p = id; *p; p++)
-        if (!((*p >= 'A' && *p <= 'Z') || (*p >= 'a' && *p <= 'z') || (*p >= '0' && *p <= '9') ||
-              *p == '.' || *p == '_' || *p == '-'))
-            return 0;
-    return 1;
+    size_t len = 0;
+    int gap = 0;
+    for (const char *p = id ? id : ""; *p && len + 2 < n && len < 40; p++) {
+        int ok = (*p >= 'A' && *p <= 'Z') || (*p >= 'a' && *p <= 'z') ||
+                 (*p >= '0' && *p <= '9') || *p == '_' || *p == '-' || (*p == '.' && len > 0);
+        if (ok) {
+            if (gap && len > 0)
+                out[len++] = '_';
+            out[len++] = *p;
+            gap = 0;
+        } else
+            gap = 1;
+    }
+    out[len] = '\0';
 }
 
 /* The figures an analysis gives, in drawing order.  Returns the count; figs
@@ -256,11 +265,10 @@ static size_t list_figures(const arrank_analysis *a, figure *figs)
             continue;
         figs[n].kind = ARRANK_FIGURE_DIAGNOSTICS;
         figs[n].sample = i;
-        if (safe_id(r->sample->id))
-            snprintf(figs[n].stem, sizeof figs[n].stem, "diagnostics-%0*zu-%s", width, i + 1,
-                     r->sample->id);
-        else
-            snprintf(figs[n].stem, sizeof figs[n].stem, "diagnostics-%0*zu", width, i + 1);
+        char id[48];
+        id_for_file(r->sample->id, id, sizeof id);
+        snprintf(figs[n].stem, sizeof figs[n].stem, "diagnostics-%0*zu%s%s", width, i + 1,
+                 id[0] ? "-" : "", id);
         n++;
     }
     return n;
