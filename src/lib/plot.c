@@ -482,7 +482,8 @@ static void fig_arrhenius(script *s)
         pad = 0.01 * x_hi;
 
     fputs("set title ", f);
-    put_qf(f, "Arrhenius plot: %s", s->title);
+    fputs("'Arrhenius plot' . \"\\n\" . ", f);
+    put_q(f, s->title);
     fputs("\nset xlabel '1000 / T  [K⁻¹]'\nset ylabel ", f);
     put_qf(f, "ln( r / (%s) )", s->unit);
     fputs("\nset x2label 'T  [°C]'\n", f);
@@ -669,8 +670,9 @@ static void fig_rate_at_T(script *s)
     double widen = pow(10.0, 0.06 * (span > 0.2 ? span : 0.2));
 
     fputs("set title ", f);
-    put_qf(f, "Rate at %.4g °C with %.4g %% interval: %s", T_C, 100.0 * a->options.confidence,
-           s->title);
+    put_qf(f, "Rate at %.4g °C with %.4g %% interval", T_C, 100.0 * a->options.confidence);
+    fputs(" . \"\\n\" . ", f);
+    put_q(f, s->title);
     fputs("\nset xlabel ", f);
     put_qf(f, "r at %.4g °C  [%s]  (log scale)", T_C, s->unit);
     fputs("\nset logscale x\n"
@@ -719,16 +721,34 @@ static void fig_rate_at_T(script *s)
             any_flag = 1;
         }
     }
+    /* Samples without a rate at T_op are named under the figure, not dropped
+       silently: at most five, then a count. */
+    size_t n_out = 0;
+    for (size_t i = 0; i < a->n_results; i++)
+        if (!(a->results[i].has_prediction && fitted(&a->results[i]))) {
+            if (n_out == 0)
+                fputs("set label 3 'not fitted: '", f);
+            if (n_out < 5) {
+                fputs(n_out ? " . ', ' . " : " . ", f);
+                put_q(f, sample_name(&a->results[i]));
+            }
+            n_out++;
+        }
+    if (n_out > 5)
+        fprintf(f, " . ' (and %zu more)'", n_out - 5);
+    if (n_out)
+        fprintf(f, " at screen 0.01, screen 0.02 left font ',%d' tc rgb '#444444'\n",
+                font_of(s, 0.7));
     if (any_flag)
         fprintf(f, "set label 2 'open marker: flagged (flags at right)' at screen 0.01, "
-                   "screen 0.02 left font ',%d' tc rgb '#444444'\n",
+                   "screen 0.06 left font ',%d' tc rgb '#444444'\n",
                 font_of(s, 0.7));
     int first = 1;
     for (size_t k = 0; k < n_rows; k++) {
         const arrank_result *r = &a->results[rows[k]];
         size_t i = rows[k];
         next_elem(f, &first);
-        fprintf(f, "$rate%zu using 1:2:3:4 with xerrorbars pt %d ps 1.8*PS lw 2 lc rgb '%s'", k,
+        fprintf(f, "$rate%zu using 1:2:3:4 with xerrorbars pt %d ps 1.3*PS lw 2 lc rgb '%s'", k,
                 arrank_plot_point_type(i, r->flags != 0), arrank_plot_color(i));
     }
     if (first)
@@ -755,8 +775,10 @@ static void fig_ea_lnA(script *s)
     FILE *f = s->f;
     const arrank_analysis *a = s->a;
     fputs("set title ", f);
-    put_qf(f, "Ea against ln A, joint %.4g %% regions: %s", 100.0 * a->options.confidence,
-           s->title);
+    put_qf(f, "Ea against ln A with joint %.4g %% confidence regions",
+           100.0 * a->options.confidence);
+    fputs(" . \"\\n\" . ", f);
+    put_q(f, s->title);
     fputs("\nset xlabel 'apparent Ea  [kJ/mol]'\nset ylabel ", f);
     put_qf(f, "ln( A / (%s) )", s->unit);
     fputs("\nset key outside right top vertical Left reverse samplen 1.5 spacing 1.15\n"
