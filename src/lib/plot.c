@@ -297,11 +297,63 @@ static const char *sample_name(const arrank_result *r)
 }
 
 /* Base size of a figure in SVG pixels. */
+/* Where the sample key goes.  Names up to KEY_SIDE_CHARS characters fit a
+   column at the right; longer ones would squeeze the plot to nothing (gnuplot
+   then drops entries), so the key moves below the plot in one or two columns
+   and the figure grows by its rows. */
+#define KEY_SIDE_CHARS 22
+#define KEY_ROW_PX 40
+
+typedef struct {
+    int below;
+    size_t cols, rows;
+} key_layout;
+
+static size_t text_chars(const char *t)
+{
+    size_t n = 0;
+    for (const unsigned char *p = (const unsigned char *)(t ? t : ""); *p; p++)
+        n += (*p & 0xC0) != 0x80;
+    return n;
+}
+
+static key_layout sample_key(const arrank_analysis *a)
+{
+    key_layout k = {0, 1, 0};
+    size_t longest = 0, entries = 3; /* band, extrapolation, left-out entries */
+    for (size_t i = 0; i < a->n_results; i++) {
+        size_t n = text_chars(a->results[i].sample->id) + (a->results[i].error ? 13 : 0);
+        longest = n > longest ? n : longest;
+        entries++;
+    }
+    if (longest > KEY_SIDE_CHARS) {
+        k.below = 1;
+        k.cols = longest > 2 * KEY_SIDE_CHARS ? 1 : 2;
+        k.rows = (entries + k.cols - 1) / k.cols;
+    }
+    return k;
+}
+
+static void put_key(FILE *f, const arrank_analysis *a)
+{
+    key_layout k = sample_key(a);
+    if (k.below)
+        fprintf(f, "set key below Left reverse samplen 1.5 spacing 1.15 maxcols %zu\n", k.cols);
+    else
+        fputs("set key outside right top vertical Left reverse samplen 1.5 spacing 1.15\n", f);
+}
+
 static void figure_size(const script *s, const figure *fig, int *w, int *h)
 {
     *w = 1080;
     *h = 720;
-    if (fig->kind == ARRANK_FIGURE_DIAGNOSTICS) {
+    if (fig->kind == ARRANK_FIGURE_ARRHENIUS || fig->kind == ARRANK_FIGURE_EA_LNA) {
+        key_layout k = sample_key(s->a);
+        if (k.below) {
+            size_t extra = k.rows * KEY_ROW_PX;
+            *h += extra > 3000 ? 3000 : (int)extra;
+        }
+    } else if (fig->kind == ARRANK_FIGURE_DIAGNOSTICS) {
         *w = 1200;
         *h = 540;
     } else if (fig->kind == ARRANK_FIGURE_RATE_AT_T) {
@@ -496,10 +548,9 @@ static void fig_arrhenius(script *s)
           f);
     put_celsius_tics(f, X_SCALE / (x_hi + pad) - ZERO_C_K, X_SCALE / (x_lo - pad) - ZERO_C_K);
     fputs("set mytics 2\n"
-          "set mytics 2\n"
-          "set key outside right top vertical Left reverse samplen 1.5 spacing 1.15\n"
           "set style fill transparent solid 0.14 noborder\n",
           f);
+    put_key(f, a);
     if (show_op) {
         fprintf(f,
                 "set arrow 1 from first %.9g, graph 0 to first %.9g, graph 1 nohead dt 2 "
@@ -781,9 +832,8 @@ static void fig_ea_lnA(script *s)
     put_q(f, s->title);
     fputs("\nset xlabel 'apparent Ea  [kJ/mol]'\nset ylabel ", f);
     put_qf(f, "ln( A / (%s) )", s->unit);
-    fputs("\nset key outside right top vertical Left reverse samplen 1.5 spacing 1.15\n"
-          "set mxtics 2\nset mytics 2\n",
-          f);
+    fputs("\nset mxtics 2\nset mytics 2\n", f);
+    put_key(f, a);
     fprintf(f, "set label 2 'ellipses: joint %.4g %% confidence regions of (Ea, ln A) from the "
                "covariance, 2·F(2, n−2) quantile' at screen 0.01, screen 0.02 left font ',%d' "
                "tc rgb '#444444'\n",
