@@ -481,9 +481,21 @@ static int any_extrapolation(double T_op, const arrank_arrhenius *fit)
     return isfinite(T_op) && (T_op < fit->T_min_K || T_op > fit->T_max_K);
 }
 
+/* The smallest step of 1, 2, 2.5 or 5 times a power of ten that puts at
+   most max_tics tics on span (common practice for axis labels). */
+static double nice_step(double span, double max_tics)
+{
+    static const double mult[] = {1.0, 2.0, 2.5, 5.0};
+    double p10 = pow(10.0, floor(log10(span / max_tics)));
+    for (int e = 0; e < 3; e++, p10 *= 10)
+        for (int m = 0; m < 4; m++)
+            if (span / (mult[m] * p10) <= max_tics)
+                return mult[m] * p10;
+    return p10;
+}
+
 /* Top-axis tics at round degC values between t_lo and t_hi (degC; the linked
-   x2 axis takes its positions in degC): the
-   smallest step of 1, 2, 2.5 or 5 times a power of ten that gives at most 8. */
+   x2 axis takes its positions in degC). */
 static void put_celsius_tics(FILE *f, double t_lo, double t_hi)
 {
     double span = t_hi - t_lo;
@@ -491,14 +503,7 @@ static void put_celsius_tics(FILE *f, double t_lo, double t_hi)
         fputs("set x2tics out\n", f);
         return;
     }
-    static const double mult[] = {1.0, 2.0, 2.5, 5.0};
-    double step = 0, p10 = pow(10.0, floor(log10(span / 8.0)));
-    for (int e = 0; e < 3 && step == 0; e++, p10 *= 10)
-        for (int m = 0; m < 4; m++)
-            if (span / (mult[m] * p10) <= 8.0) {
-                step = mult[m] * p10;
-                break;
-            }
+    double step = nice_step(span, 8.0);
     fputs("set x2tics out (", f);
     int n = 0;
     for (double t = ceil(t_lo / step) * step; t <= t_hi + 1e-9 * span && n < 20; t += step) {
@@ -992,6 +997,11 @@ static void fig_diagnostics(script *s, size_t i)
     double t = arrank_t_quantile(a->options.confidence, fit->dof);
     double ea = fit->ea_J_mol / 1000.0, w = isfinite(t) ? t * fit->ea_se_J_mol / 1000.0 : 0.0;
     double Tlo = fit->T_min_K - ZERO_C_K, Thi = fit->T_max_K - ZERO_C_K;
+    {
+        double pad = 0.05 * (Thi - Tlo);
+        Tlo -= pad;
+        Thi += pad;
+    }
     fprintf(f, "$eab%zu << EOD\n%.9g %.9g %.9g %.9g\n%.9g %.9g %.9g %.9g\nEOD\n", i, Tlo, ea,
             ea - w, ea + w, Thi, ea, ea - w, ea + w);
 
@@ -999,12 +1009,26 @@ static void fig_diagnostics(script *s, size_t i)
     put_qf(f, "Diagnostics: %s", sample_name(r));
     fprintf(f, " font ',%d'\n", font_of(s, 1.1));
 
+    /* Both panels span the sample's points with 5 % to spare, so the zero
+       line and the fitted Ea run across the whole panel. */
+    double t_lo = INFINITY, t_hi = -INFINITY;
+    for (size_t k = 0; k < smp->n_points; k++)
+        if (usable_point(&smp->points[k])) {
+            t_lo = fmin(t_lo, smp->points[k].temp_K);
+            t_hi = fmax(t_hi, smp->points[k].temp_K);
+        }
+    double xa = X_SCALE / t_hi, xb = X_SCALE / t_lo, xp = 0.05 * (xb - xa);
+    double ca = t_lo - ZERO_C_K, cb = t_hi - ZERO_C_K, cp = 0.05 * (cb - ca);
+
     /* Left: residuals against 1000/T with the +-2 s lines. */
     fputs("set title 'residuals of the fit'\n"
           "set xlabel '1000 / T  [K⁻¹]'\n"
           "set ylabel 'ln r − fitted ln r'\n"
-          "set offsets graph 0.05, graph 0.05, graph 0.15, graph 0.15\n",
+          "set offsets 0, 0, graph 0.15, graph 0.15\n",
           f);
+    if (xb > xa)
+        fprintf(f, "set xrange [%.9g:%.9g]\nset xtics %.9g\n", xa - xp, xb + xp,
+                nice_step(xb - xa + 2 * xp, 5.0));
     fprintf(f, "set key bottom left Left reverse samplen 1.2 font ',%d' opaque\n",
             font_of(s, 0.75));
     double sd2 = 2.0 * fit->resid_sd;
@@ -1034,8 +1058,11 @@ static void fig_diagnostics(script *s, size_t i)
           "set xlabel 'T  [°C]'\n"
           "set ylabel 'apparent Ea  [kJ/mol]'\n"
           "set style fill transparent solid 0.15 noborder\n"
-          "set offsets graph 0.05, graph 0.05, graph 0.15, graph 0.15\n",
+          "set offsets 0, 0, graph 0.15, graph 0.15\n",
           f);
+    if (cb > ca)
+        fprintf(f, "set xrange [%.9g:%.9g]\nset xtics %.9g\n", ca - cp, cb + cp,
+                nice_step(cb - ca + 2 * cp, 5.0));
     first = 1;
     next_elem(f, &first);
     fprintf(f, "$eab%zu using 1:3:4 with filledcurves lc rgb '%s' title ", i, c);
