@@ -144,6 +144,9 @@ void arrank_nlfit_clear(arrank_nlfit *fit)
  */
 #define OUT_OF_DOMAIN_RESIDUAL 1e100
 
+/* A weighted residual sum below this share of sum w y^2 is an exact fit, at
+   rounding level: (1e-12)^2, well above double precision's 1e-32. */
+#define EXACT_FIT_RSS_REL 1e-24
 /* Bates & Watts' tolerance on the relative offset (see arrank_nlfit_run). */
 #define RELATIVE_OFFSET_TOL 1e-3
 
@@ -351,13 +354,15 @@ arrank_status arrank_nlfit_run(arrank_model_fn model, void *ctx, size_t n_params
     gs = gsl_multifit_nlinear_driver(opt.max_iter, opt.xtol, opt.gtol, opt.ftol, NULL, NULL,
                                      &info, work);
     out->iterations = gsl_multifit_nlinear_niter(work);
+    /* A stop without convergence is still accepted when the point is a minimum
+       by the relative-offset test below: a start that is already the optimum
+       makes no progress, yet is the answer. */
+    int stalled = 0, stall_why = 0;
     if (gs == GSL_EMAXITER || gs == GSL_ENOPROG) {
         /* the driver returns EMAXITER with info ENOPROG when not one step succeeded */
-        const int why = (gs == GSL_EMAXITER && info == GSL_ENOPROG) ? GSL_ENOPROG : gs;
-        st = arrank_errorf(err, ARRANK_ENOCONV,
-                           "the nonlinear fit did not converge after %zu iterations: %s",
-                           out->iterations, gsl_strerror(why));
-        goto done;
+        stall_why = (gs == GSL_EMAXITER && info == GSL_ENOPROG) ? GSL_ENOPROG : gs;
+        stalled = 1;
+        gs = GSL_SUCCESS;
     }
     if (gs != GSL_SUCCESS) {
         st = arrank_errorf(err, ARRANK_EFIT, "the nonlinear fit failed: %s", gsl_strerror(gs));
@@ -390,7 +395,20 @@ arrank_status arrank_nlfit_run(arrank_model_fn model, void *ctx, size_t n_params
      * trust region has shrunk to nothing against the edge of the domain.
      */
     const double dof = (double)(n - p);
-    if (rss > 0) {
+    /* A residual at rounding level (exact data) leaves the offset ratio as
+       noise over noise: then the fit is exact and the test does not apply. */
+    double ysq = 0.0;
+    for (size_t i = 0; i < n; i++)
+        ysq += (w ? w[i] : 1.0) * y[i] * y[i];
+    const int exact = rss <= EXACT_FIT_RSS_REL * ysq;
+    if (stalled && !(rss > 0 && !exact)) {
+        if (!exact) {
+            st = arrank_errorf(err, ARRANK_ENOCONV,
+                               "the nonlinear fit did not converge after %zu iterations: %s",
+                               out->iterations, gsl_strerror(stall_why));
+            goto done;
+        }
+    } else if (rss > 0 && !exact) {
         gsl_vector *g = gsl_vector_alloc(p), *Cg = gsl_vector_alloc(p);
         if (!g || !Cg) {
             gsl_vector_free(g);
@@ -407,6 +425,12 @@ arrank_status arrank_nlfit_run(arrank_model_fn model, void *ctx, size_t n_params
         gsl_vector_free(Cg);
         const double orth2 = fmax(rss - proj2, DBL_MIN);
         const double offset = sqrt(fmax(proj2, 0) / (double)p) / sqrt(orth2 / dof);
+        if (!(offset <= RELATIVE_OFFSET_TOL) && stalled) {
+            st = arrank_errorf(err, ARRANK_ENOCONV,
+                               "the nonlinear fit did not converge after %zu iterations: %s",
+                               out->iterations, gsl_strerror(stall_why));
+            goto done;
+        }
         if (!(offset <= RELATIVE_OFFSET_TOL)) {
             st = arrank_errorf(err, ARRANK_ENOCONV,
                                "the nonlinear fit stopped away from a minimum after %zu "
