@@ -22,6 +22,7 @@
 
 #include "arrank/analysis.h"
 #include "arrank/plot.h"
+#include "arrank/rank.h"
 
 /* ---- quoting ------------------------------------------------------------ */
 
@@ -180,7 +181,8 @@ typedef struct {
 } fixture;
 
 /* An invented campaign in memory: ln r = b - Ea/(R T) with a small
-   deterministic wobble; sample 3 has rate_sd, sample 8 cannot be fitted. */
+   deterministic wobble; sample 3 has rate_sd, sample 8 cannot be fitted, and
+   samples 6 and 7 share one law (so the ranking cannot tell them apart). */
 static int setup(void **state)
 {
     fixture *fx = calloc(1, sizeof *fx);
@@ -195,10 +197,11 @@ static int setup(void **state)
         s->path = s->file = "none.csv";
         s->n_points = i == 8 ? 2 : 7;
         s->points = calloc(s->n_points, sizeof *s->points);
+        double law = i == 7 ? 6.0 : (double)i;
         for (size_t k = 0; k < s->n_points; k++) {
             double T = 478.3 + 11.7 * (double)k;
-            double lr = 0.37 * (double)i - (58.1e3 + 6.3e3 * (double)i) / (8.314462618 * T) +
-                        16.2 + 0.043 * sin(3.1 * (double)(k + i));
+            double lr = 0.37 * law - (58.1e3 + 6.3e3 * law) / (8.314462618 * T) + 16.2 +
+                        0.043 * sin(3.1 * ((double)k + law)) + (i == 7 ? 0.004 : 0.0);
             s->points[k].temp_K = T;
             s->points[k].rate = exp(lr);
             s->points[k].rate_sd = i == 3 ? 0.05 * exp(lr) : NAN;
@@ -369,6 +372,33 @@ static void test_names_only_quoted(void **state)
     free(text);
 }
 
+/* With ranking statistics (rank.h) the rate figure brackets groups of two or
+   more and names P(best); the Ea-ln A figure draws the compensation line. */
+static void test_rank_stats_drawn(void **state)
+{
+    fixture *fx = *state;
+    assert_non_null(fx->a->rank_stats);
+    const arrank_result *r6 = &fx->a->results[6], *r7 = &fx->a->results[7];
+    assert_non_null(r6->stats);
+    assert_non_null(r7->stats);
+    assert_int_equal(r6->stats->group, r7->stats->group); /* same law, 0.4 % apart */
+    char *text = script_of(fx->a, ARRANK_PLOT_SVG);
+    assert_non_null(strstr(text, "set arrow from graph 1.015, first "));
+    assert_non_null(strstr(text, "bracket at right: not told apart"));
+    assert_non_null(strstr(text, "('P(best) "));
+    assert_non_null(strstr(text, "*x with lines dt 3 lw 1.8 lc rgb '#555555' title "
+                                 "'compensation line'"));
+    free(text);
+    /* Without them, none of it (the figures must not depend on rank.h). */
+    struct arrank_rank_stats *saved = fx->a->rank_stats;
+    fx->a->rank_stats = NULL;
+    text = script_of(fx->a, ARRANK_PLOT_SVG);
+    assert_null(strstr(text, "set arrow from graph 1.015"));
+    assert_null(strstr(text, "compensation line"));
+    free(text);
+    fx->a->rank_stats = saved;
+}
+
 static void test_find_gnuplot_missing(void **state)
 {
     (void)state;
@@ -393,6 +423,7 @@ int main(void)
         cmocka_unit_test(test_colour_per_sample),
         cmocka_unit_test(test_figure_names),
         cmocka_unit_test(test_names_only_quoted),
+        cmocka_unit_test(test_rank_stats_drawn),
         cmocka_unit_test(test_find_gnuplot_missing),
     };
     return cmocka_run_group_tests(tests, setup, teardown);

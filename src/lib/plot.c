@@ -37,6 +37,7 @@
 
 #include <gsl/gsl_cdf.h>
 
+#include "arrank/rank.h"
 #include "internal.h"
 
 #define INSTALL_HINT "install it (Debian/Ubuntu: apt-get install gnuplot-nox) or name the " \
@@ -317,11 +318,13 @@ static size_t text_chars(const char *t)
     return n;
 }
 
-static key_layout sample_key(const arrank_analysis *a)
+static key_layout sample_key(const arrank_analysis *a, int with_unfitted)
 {
     key_layout k = {0, 1, 0};
     size_t longest = 0, entries = 3; /* band, extrapolation, left-out entries */
     for (size_t i = 0; i < a->n_results; i++) {
+        if (!with_unfitted && !fitted(&a->results[i]))
+            continue;
         size_t n = text_chars(a->results[i].sample->id) + (a->results[i].error ? 13 : 0);
         longest = n > longest ? n : longest;
         entries++;
@@ -334,9 +337,9 @@ static key_layout sample_key(const arrank_analysis *a)
     return k;
 }
 
-static void put_key(FILE *f, const arrank_analysis *a)
+static void put_key(FILE *f, const arrank_analysis *a, int with_unfitted)
 {
-    key_layout k = sample_key(a);
+    key_layout k = sample_key(a, with_unfitted);
     if (k.below)
         fprintf(f, "set key below Left reverse samplen 1.5 spacing 1.15 maxcols %zu\n", k.cols);
     else
@@ -348,7 +351,7 @@ static void figure_size(const script *s, const figure *fig, int *w, int *h)
     *w = 1080;
     *h = 720;
     if (fig->kind == ARRANK_FIGURE_ARRHENIUS || fig->kind == ARRANK_FIGURE_EA_LNA) {
-        key_layout k = sample_key(s->a);
+        key_layout k = sample_key(s->a, fig->kind == ARRANK_FIGURE_ARRHENIUS);
         if (k.below) {
             size_t extra = k.rows * KEY_ROW_PX;
             *h += extra > 3000 ? 3000 : (int)extra;
@@ -555,7 +558,7 @@ static void fig_arrhenius(script *s)
     fputs("set mytics 2\n"
           "set style fill transparent solid 0.14 noborder\n",
           f);
-    put_key(f, a);
+    put_key(f, a, 1);
     if (show_op) {
         fprintf(f,
                 "set arrow 1 from first %.9g, graph 0 to first %.9g, graph 1 nohead dt 2 "
@@ -661,6 +664,56 @@ static void flag_list(unsigned mask, char *buf, size_t n)
     }
 }
 
+/* Text at the right of a row of the rate figure: P(best) when the ranking
+   statistics have it, then the flag names. */
+static void row_note(const arrank_result *r, char *buf, size_t n)
+{
+    char flags[400];
+    flag_list(r->flags, flags, sizeof flags);
+    double p = r->stats ? r->stats->p_best : NAN;
+    if (isfinite(p) && p < 0.005)
+        snprintf(buf, n, "P(best) < 0.01%s%s", flags[0] ? "; " : "", flags);
+    else if (isfinite(p))
+        snprintf(buf, n, "P(best) %.2f%s%s", p, flags[0] ? "; " : "", flags);
+    else
+        snprintf(buf, n, "%s", flags);
+}
+
+/* Brackets at the right edge of the rate figure around each group of two or
+   more samples the ranking statistics cannot tell apart (rank.h).  Returns
+   the number of brackets drawn; nothing without ranking statistics. */
+static size_t put_group_brackets(FILE *f, const arrank_analysis *a, const size_t *rows,
+                                 size_t n_rows)
+{
+    if (!a->rank_stats)
+        return 0;
+    size_t drawn = 0;
+    for (int g = 1; g <= a->rank_stats->n_groups; g++) {
+        size_t first = SIZE_MAX, last = 0, members = 0;
+        for (size_t k = 0; k < n_rows; k++) {
+            const struct arrank_sample_stats *st = a->results[rows[k]].stats;
+            if (st && st->group == g) {
+                first = k < first ? k : first;
+                last = k;
+                members++;
+            }
+        }
+        if (members < 2)
+            continue;
+        double y_top = (double)(n_rows - first) + 0.3, y_bot = (double)(n_rows - last) - 0.3;
+        fprintf(f,
+                "set arrow from graph 1.015, first %.9g to graph 1.015, first %.9g nohead "
+                "lw 2.5 lc rgb '#555555' front\n"
+                "set arrow from graph 1.0, first %.9g to graph 1.015, first %.9g nohead "
+                "lw 2.5 lc rgb '#555555' front\n"
+                "set arrow from graph 1.0, first %.9g to graph 1.015, first %.9g nohead "
+                "lw 2.5 lc rgb '#555555' front\n",
+                y_bot, y_top, y_top, y_top, y_bot, y_bot);
+        drawn++;
+    }
+    return drawn;
+}
+
 /* Tics of a log axis between lo and hi (> 0).  gnuplot labels only whole
    decades, which leaves a narrow range with one label or none; below three
    decades place 1-2-5 (or 1..9 below one decade) mantissas here. */
@@ -744,7 +797,7 @@ static void fig_rate_at_T(script *s)
     size_t flag_chars = 0;
     for (size_t k = 0; k < n_rows; k++) {
         char buf[512];
-        flag_list(a->results[rows[k]].flags, buf, sizeof buf);
+        row_note(&a->results[rows[k]], buf, sizeof buf);
         if (strlen(buf) > flag_chars)
             flag_chars = strlen(buf);
     }
@@ -767,16 +820,21 @@ static void fig_rate_at_T(script *s)
         fprintf(f, "$rate%zu << EOD\n%.9g %zu %.9g %.9g\nEOD\n", k, p->rate, n_rows - k,
                 isfinite(p->rate_lo) && p->rate_lo > 0 ? p->rate_lo : p->rate,
                 isfinite(p->rate_hi) ? p->rate_hi : p->rate);
-        if (r->flags) {
-            char buf[512];
-            flag_list(r->flags, buf, sizeof buf);
+        char buf[512];
+        row_note(r, buf, sizeof buf);
+        if (buf[0]) {
             fprintf(f, "set label %zu ", k + 10);
             put_q(f, buf);
-            fprintf(f, " at graph 1.02, first %zu left font ',%d' tc rgb '#444444'\n",
+            fprintf(f, " at graph 1.03, first %zu left font ',%d' tc rgb '#444444'\n",
                     n_rows - k, font_of(s, 0.7));
-            any_flag = 1;
         }
+        any_flag |= r->flags != 0;
     }
+    if (put_group_brackets(f, a, rows, n_rows) > 0)
+        fprintf(f, "set label 4 'bracket at right: not told apart from the first of its group "
+                   "(Holm, %.4g %%)' at screen 0.01, screen 0.10 left font ',%d' "
+                   "tc rgb '#444444'\n",
+                100.0 * a->options.confidence, font_of(s, 0.7));
     /* Samples without a rate at T_op are named under the figure, not dropped
        silently: at most five, then a count. */
     size_t n_out = 0;
@@ -826,6 +884,49 @@ static double region_quantile(double confidence, double dof)
     return 2.0 * gsl_cdf_fdist_Pinv(confidence, 2.0, dof);
 }
 
+/* The compensation line ln A = alpha + slope Ea of the ranking statistics
+   (rank.h; Constable 1925) with its isokinetic temperature and verdict in the
+   key, as a function of x = Ea in kJ/mol.  Nothing without ranking
+   statistics or with too few samples. */
+static void put_compensation_line(FILE *f, const arrank_analysis *a, int *first)
+{
+    if (!a->rank_stats)
+        return;
+    const arrank_compensation *c = &a->rank_stats->compensation;
+    if (c->verdict == ARRANK_COMP_TOO_FEW || !isfinite(c->slope_mol_J) ||
+        !isfinite(c->intercept))
+        return;
+    next_elem(f, first);
+    fprintf(f, "%.9g + %.9g*x with lines dt 3 lw 1.8 lc rgb '#555555' title ", c->intercept,
+            c->slope_mol_J * 1000.0);
+    fputs("'compensation line'", f);
+}
+
+/* The verdict on the compensation line in words, under the ellipse note. */
+static void put_compensation_note(FILE *f, const arrank_analysis *a, int font_pt)
+{
+    if (!a->rank_stats)
+        return;
+    const arrank_compensation *c = &a->rank_stats->compensation;
+    if (c->verdict == ARRANK_COMP_TOO_FEW || !isfinite(c->slope_mol_J))
+        return;
+    const char *verdict = c->verdict == ARRANK_COMP_ARTIFACT
+                              ? "compensation line: consistent with correlated errors"
+                          : c->verdict == ARRANK_COMP_REAL
+                              ? "compensation line: not explained by correlated errors"
+                              : "compensation: ln A does not rise significantly with Ea";
+    fputs("set label 5 ", f);
+    put_q(f, verdict);
+    fprintf(f, " at graph 0.02, graph 0.91 left font ',%d' tc rgb '#444444' front\n", font_pt);
+    if (isfinite(c->T_iso_K) && c->T_iso_K > 0 && c->verdict != ARRANK_COMP_NONE) {
+        fputs("set label 6 ", f);
+        put_qf(f, "T_iso = %.0f K (%.0f °C); T_hm = %.0f K", c->T_iso_K, c->T_iso_K - ZERO_C_K,
+               c->T_hm_K);
+        fprintf(f, " at graph 0.02, graph 0.86 left font ',%d' tc rgb '#444444' front\n",
+                font_pt);
+    }
+}
+
 static void fig_ea_lnA(script *s)
 {
     FILE *f = s->f;
@@ -838,12 +939,14 @@ static void fig_ea_lnA(script *s)
     fputs("\nset xlabel 'apparent Ea  [kJ/mol]'\nset ylabel ", f);
     put_qf(f, "ln( A / (%s) )", s->unit);
     fputs("\nset mxtics 2\nset mytics 2\n", f);
-    put_key(f, a);
-    fprintf(f, "set label 2 'ellipses: joint %.4g %% confidence regions of (Ea, ln A) from the "
-               "covariance, 2·F(2, n−2) quantile' at screen 0.01, screen 0.02 left font ',%d' "
-               "tc rgb '#444444'\n",
+    put_key(f, a, 0);
+    /* Notes at the top left, which a compensation plot (rising to the right)
+       leaves empty. */
+    fprintf(f, "set label 2 'ellipses: joint %.4g %% regions, 2·F(2, n−2) quantile' "
+               "at graph 0.02, graph 0.96 left font ',%d' "
+               "tc rgb '#444444' front\n",
             100.0 * a->options.confidence, font_of(s, 0.7));
-    fputs("set bmargin 5\n", f);
+    put_compensation_note(f, a, font_of(s, 0.7));
     for (size_t i = 0; i < a->n_results; i++) {
         const arrank_result *r = &a->results[i];
         if (!fitted(r))
@@ -869,6 +972,7 @@ static void fig_ea_lnA(script *s)
         fputs("EOD\n", f);
     }
     int first = 1;
+    put_compensation_line(f, a, &first);
     for (size_t i = 0; i < a->n_results; i++) {
         const arrank_result *r = &a->results[i];
         if (!fitted(r))

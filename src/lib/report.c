@@ -27,6 +27,7 @@
 #include <nettle/sha2.h>
 
 #include "arrank/fit.h"
+#include "arrank/rank.h"
 #include "arrank/version.h"
 #include "internal.h"
 
@@ -410,6 +411,23 @@ static void put_flag_names(FILE *f, unsigned flags)
         fputs("&ndash;", f);
 }
 
+/* P(best) and group cells from the ranking statistics (rank.h). */
+static void put_stats_cells(FILE *f, const arrank_result *r)
+{
+    const struct arrank_sample_stats *st = r->stats;
+    fputs("<td class=\"n\">", f);
+    if (st && isfinite(st->p_best) && st->p_best < 0.005)
+        fputs("&lt; 0.01", f);
+    else
+        html_num(f, st ? st->p_best : NAN, 2);
+    fputs("</td><td class=\"n\">", f);
+    if (st && st->group > 0)
+        fprintf(f, "%d", st->group);
+    else
+        fputs("&ndash;", f);
+    fputs("</td>", f);
+}
+
 static void put_ranking(FILE *f, const arrank_analysis *a)
 {
     double T_op = a->options.operating_temp_K;
@@ -419,6 +437,9 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
         html_text(f, unit_of(a));
         fprintf(f, "]</th><th>%.4g %% interval</th>", 100 * a->options.confidence);
     }
+    int stats = a->rank_stats != NULL;
+    if (stats)
+        fputs("<th>P(best)</th><th>group</th>", f);
     fputs("<th>Ea [kJ/mol]</th><th>ln A</th><th>points</th><th>T range [&deg;C]</th>"
           "<th>flags</th></tr></thead>\n<tbody>\n",
           f);
@@ -440,7 +461,8 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
             html_text(f, r->sample->id);
             fputs("</td>", f);
             if (r->error) {
-                fprintf(f, "<td colspan=\"%d\">not fitted: ", isfinite(T_op) ? 7 : 5);
+                fprintf(f, "<td colspan=\"%d\">not fitted: ",
+                        (isfinite(T_op) ? 7 : 5) + (stats ? 2 : 0));
                 html_text(f, r->error);
                 fputs("</td></tr>\n", f);
                 continue;
@@ -457,6 +479,8 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
                 } else
                     fputs("<td>&ndash;</td><td>&ndash;</td>", f);
             }
+            if (stats)
+                put_stats_cells(f, r);
             fputs("<td class=\"n\">", f);
             html_num(f, r->fit.ea_J_mol / 1000, 1);
             fputs(" &plusmn; ", f);
@@ -477,8 +501,24 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
     }
     fputs("</tbody></table>\n", f);
     fputs("<p>Ea and ln A are given &plusmn; one standard error; ln A is the natural logarithm "
-          "of A in the report unit.</p>\n",
+          "of A in the report unit.",
           f);
+    if (stats) {
+        const struct arrank_rank_stats *rs = a->rank_stats;
+        fprintf(f, " P(best) is the share of %zu random draws from each sample's fitted "
+                   "uncertainty in which the sample comes first; samples in one group are not "
+                   "significantly different from the group's first sample (Holm's method).",
+                rs->draws);
+        if (rs->compensation.verdict != ARRANK_COMP_TOO_FEW && rs->compensation.sentence[0]) {
+            const char *sentence = rs->compensation.sentence;
+            if (strncmp(sentence, "compensation: ", 14) == 0)
+                sentence += 14;
+            fputs("</p>\n<p><b>Compensation.</b> ", f);
+            html_text(f, sentence);
+            fputs(".", f);
+        }
+    }
+    fputs("</p>\n", f);
 }
 
 static void put_param_row(FILE *f, const char *name, double v, double lo, double hi,
