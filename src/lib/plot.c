@@ -638,7 +638,8 @@ static void fig_arrhenius(script *s)
     }
     if (any_excluded) {
         next_elem(f, &first);
-        fputs("keyentry with points pt 6 ps 1.5*PS lc rgb '#555555' title 'left out of the fit'", f);
+        fputs("keyentry with points pt 6 ps 1.5*PS lc rgb '#555555' "
+              "title 'left out of the fit'", f);
     }
     if (first)
         fputs("plot 0 with lines lc rgb '#ffffff'", f);
@@ -1279,8 +1280,8 @@ static arrank_status not_found(arrank_error *err, const char *program, int from_
                              "gnuplot program '%s' (from ARRANK_GNUPLOT) not found; " INSTALL_HINT,
                              program);
     if (strchr(program, '/') || strcmp(program, "gnuplot") != 0)
-        return arrank_errorf(err, ARRANK_ENOGNUPLOT, "gnuplot program '%s' not found; " INSTALL_HINT,
-                             program);
+        return arrank_errorf(err, ARRANK_ENOGNUPLOT,
+                             "gnuplot program '%s' not found; " INSTALL_HINT, program);
     return arrank_errorf(err, ARRANK_ENOGNUPLOT,
                          "'gnuplot' not found on PATH; the figures need it: " INSTALL_HINT);
 }
