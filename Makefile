@@ -2,7 +2,8 @@
 #
 #   make            build libarrank.a and the arrank program
 #   make test       install missing dependencies, build, run the whole suite
-#   make demo       install missing dependencies, build, rank the demo campaign
+#   make demo       install missing dependencies, build, rank the demo campaign,
+#                   draw its figures and write its report into plots/<campaign>/
 #   make check      build and run the suite (no dependency step)
 #   make test-asan  the suite under AddressSanitizer + UndefinedBehaviorSanitizer
 #
@@ -61,6 +62,8 @@ check: all $(TEST_BIN)
 demo-run: all
 	$(ARRANK) rank $(DEMO) --json plots/$(notdir $(DEMO))/results.json \
 	    --csv plots/$(notdir $(DEMO))/results.csv
+	$(ARRANK) plot $(DEMO) --out plots/$(notdir $(DEMO))
+	$(ARRANK) report $(DEMO) --out plots/$(notdir $(DEMO))
 
 # Regenerate the demo campaign from its stated true parameters.
 demo-data: $(BUILD)/tools/gen_demo

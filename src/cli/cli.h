@@ -104,9 +104,18 @@ void cli_report_unfitted(const cli_session *session);
 /* Write --json/--csv outputs (if asked).  Returns -1 or an exit status. */
 int cli_write_outputs(const cli_args *args, const cli_session *session);
 
+/* Output folder helpers (cmd_plot.c): make dir and its parents (-1 or an
+   exit status, already printed); "plots/<campaign name>" (caller frees);
+   the --format options as ARRANK_PLOT_* bits (SVG when none). */
+int cli_make_out_dir(const char *dir);
+char *cli_default_out_dir(const arrank_campaign *campaign);
+unsigned cli_plot_formats(const cli_args *args);
+
 /* Command entry points. */
 int cmd_fit(int argc, char **argv);
 int cmd_rank(int argc, char **argv);
 int cmd_check(int argc, char **argv);
+int cmd_plot(int argc, char **argv);
+int cmd_report(int argc, char **argv);
 
 #endif

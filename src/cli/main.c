@@ -11,6 +11,8 @@ static const cli_command commands[] = {
     {"fit", cmd_fit, "fit every sample: Ea, ln A and the rate at T, with intervals"},
     {"rank", cmd_rank, "rank the samples at the operating temperature (or by Ea or A)"},
     {"check", cmd_check, "say what is wrong with each sample's data, and which points are kinetic"},
+    {"plot", cmd_plot, "draw the review figures (gnuplot) with results.json/.csv"},
+    {"report", cmd_report, "write a self-contained HTML review report"},
 };
 
 static void list_commands(FILE *f)

@@ -1,0 +1,126 @@
+/*
+ * arrank/plot.h - the review figures, drawn by gnuplot through a pipe.
+ *
+ * One call starts one gnuplot process, feeds it a generated script on its
+ * standard input and waits for it.  Data reach gnuplot as inline data blocks
+ * that hold numbers only; every string that comes from user data (sample
+ * names, campaign title, rate unit) reaches it only as a single-quoted string
+ * made by arrank_plot_quote, so nothing in a campaign can run a command.
+ * Text is drawn noenhanced: "Pt_1" shows its underscore.
+ *
+ * Figures (file stems; one file per stem and format, in the output folder):
+ *   arrhenius              ln r against 1000/T, every sample, fitted lines with
+ *                          confidence bands, degC along the top
+ *   rate-at-T              rate at the operating temperature with its interval,
+ *                          best at the top, log axis (only with an operating T)
+ *   ea-lnA                 Ea against ln A with joint confidence ellipses
+ *   diagnostics-NN[-ID]    per fitted sample: residuals against 1000/T and the
+ *                          local apparent Ea against T.  NN is the sample's
+ *                          1-based position in the campaign; ID is the sample id
+ *                          with each run of characters other than [A-Za-z0-9._-]
+ *                          made one '_' (at most 40 characters).
+ * Each sample has one colour and one marker shape in every figure.
+ */
+#ifndef ARRANK_PLOT_H
+#define ARRANK_PLOT_H
+
+#include <stddef.h>
+#include <stdio.h>
+
+#include "arrank/analysis.h"
+#include "arrank/error.h"
+
+/* Output formats; OR them together. */
+enum {
+    ARRANK_PLOT_SVG = 1u << 0, /* .svg, 960 px class, for screens and slides */
+    ARRANK_PLOT_PNG = 1u << 1, /* .png through pngcairo at about 300 dpi for 8 x 5.6 in */
+    ARRANK_PLOT_PDF = 1u << 2  /* .pdf through pdfcairo, 8 x 5.6 in, vector */
+};
+
+typedef enum {
+    ARRANK_FIGURE_ARRHENIUS = 0,
+    ARRANK_FIGURE_RATE_AT_T = 1,
+    ARRANK_FIGURE_EA_LNA = 2,
+    ARRANK_FIGURE_DIAGNOSTICS = 3
+} arrank_figure_kind;
+
+typedef struct {
+    unsigned formats;    /* OR of ARRANK_PLOT_*; 0 means SVG only */
+    const char *gnuplot; /* program to run; NULL: the environment variable
+                            ARRANK_GNUPLOT if set and not empty, else "gnuplot"
+                            searched on PATH.  A name with a '/' is used as is. */
+} arrank_plot_options;
+
+/* Defaults: SVG, gnuplot from ARRANK_GNUPLOT or PATH. */
+arrank_plot_options arrank_plot_defaults(void);
+
+typedef struct {
+    arrank_figure_kind kind;
+    size_t sample;   /* result index for DIAGNOSTICS; (size_t)-1 for the others */
+    unsigned format; /* one ARRANK_PLOT_* bit */
+    char *name;      /* file name in the output folder, e.g. "arrhenius.svg" */
+    char *path;      /* out_dir joined with name */
+} arrank_plot_file;
+
+typedef struct {
+    arrank_plot_file *files; /* in the order drawn: per figure, per format */
+    size_t n;
+} arrank_plot_files;
+
+/*
+ * Draw every figure of the analysis into the existing folder out_dir.
+ * options may be NULL (defaults).  written may be NULL; otherwise on success
+ * it lists the files made (free with arrank_plot_files_clear).  Each file is
+ * written under a temporary name and renamed into place only when gnuplot has
+ * finished without error, so a failure never leaves a half figure.
+ * Returns ENOGNUPLOT when the program cannot be found or run (message says
+ * how to install it), EPLOT with gnuplot's own message when gnuplot fails,
+ * EIO when out_dir is not a folder or a rename fails, EDATA when there is
+ * nothing to draw, ENOMEM.
+ */
+arrank_status arrank_plot_write(const arrank_analysis *analysis, const char *out_dir,
+                                const arrank_plot_options *options, arrank_plot_files *written,
+                                arrank_error *err);
+
+void arrank_plot_files_clear(arrank_plot_files *files);
+
+/*
+ * Write the gnuplot script for every figure to stream, without running it:
+ * for tests and for anyone who wants to adjust a figure by hand.  Output file
+ * names in the script are the final names, relative to gnuplot's working
+ * folder.  formats as in arrank_plot_options.  EIO on a write error.
+ */
+arrank_status arrank_plot_script(const arrank_analysis *analysis, unsigned formats, FILE *stream,
+                                 arrank_error *err);
+
+/*
+ * text as a gnuplot string expression that can only ever be a string
+ * constant: "(" 'part' . "'" . 'part' ")".  Control characters (C0, DEL, C1)
+ * are removed, bytes that are not UTF-8 become U+FFFD, and each single quote
+ * is spliced in by concatenation with "'" (a doubled quote is not used:
+ * gnuplot 5.4 rejects a string that starts with one).  NULL text gives ('').
+ * Returns a new string owned by the caller (free), or NULL when out of memory.
+ */
+char *arrank_plot_quote(const char *text);
+
+/*
+ * Colour of the sample at result index i as "#rrggbb": Okabe-Ito palette
+ * (colour-blind safe), cycling.  Static string.
+ */
+const char *arrank_plot_color(size_t i);
+
+/*
+ * gnuplot point type of the sample at result index i: a shape cycling with a
+ * period prime to the palette's, filled or hollow (hollow marks points left
+ * out of a fit, and flagged samples in the rate figure).
+ */
+int arrank_plot_point_type(size_t i, int hollow);
+
+/*
+ * Find the gnuplot program that arrank_plot_write would run (see options).
+ * On success *path is a new absolute path owned by the caller (free).
+ * ENOGNUPLOT with the install hint when it is not found.
+ */
+arrank_status arrank_plot_find_gnuplot(const char *program, char **path, arrank_error *err);
+
+#endif

@@ -1,0 +1,172 @@
+/*
+ * cmd_plot.c - `arrank plot CAMPAIGN --at T`: the review figures, with the
+ * results as JSON and CSV beside them.
+ *
+ * The numbers are written before gnuplot is started, so a machine without
+ * gnuplot still gets results.json and results.csv (and exit status 5).
+ */
+#include <errno.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+
+#include "arrank/output.h"
+#include "arrank/plot.h"
+#include "cli.h"
+
+static const char usage[] =
+    "usage: arrank plot CAMPAIGN [--at T] [--out DIR] [--format svg|png|pdf]... [options]\n"
+    "\n"
+    "Fit every sample and draw the review figures with gnuplot, in DIR (default\n"
+    "plots/<campaign folder name>/), with results.json and results.csv beside them:\n"
+    "  arrhenius.EXT            ln r against 1000/T, all samples, fitted lines with\n"
+    "                           confidence bands, degC along the top\n"
+    "  rate-at-T.EXT            rate at the operating temperature with its interval\n"
+    "  ea-lnA.EXT               Ea against ln A with joint confidence ellipses\n"
+    "  diagnostics-NN[-ID].EXT  per sample: residuals and local apparent Ea\n"
+    "                           (NN: position in the campaign; ID: the sample id,\n"
+    "                           other characters than letters, digits, '.', '_',\n"
+    "                           '-' made '_')\n"
+    "\n"
+    "  --at T              operating temperature with its unit, e.g. 250C or 523.15K\n"
+    "                      (default: operating_temperature in campaign.ini)\n"
+    "  --out DIR           output folder, made if missing\n"
+    "  --format F          svg (default), png (300 dpi class) or pdf; repeat for more\n"
+    "  --confidence C      two-sided level of every interval (default 0.95)\n"
+    "  --by KEY            rank by rate (default), ea or prefactor\n"
+    "  --use-all, --drop-outliers, --conversion-limit X, --no-diagnose,\n"
+    "  --errors, --model, --seed, --draws, --pairs, --bootstrap, --normal\n"
+    "                      as for 'arrank rank'\n"
+    "\n"
+    "gnuplot is run from ARRANK_GNUPLOT if set, else found on PATH.\n"
+    "\n"
+    "Exit status: 0 ok, 1 bad input data or nothing fittable, 2 usage,\n"
+    "3 a file could not be read or written, 4 gnuplot failed on a figure (its\n"
+    "message is shown), 5 gnuplot not found (results.json and results.csv are\n"
+    "still written; install it with 'apt-get install gnuplot-nox').\n";
+
+int cli_make_out_dir(const char *dir)
+{
+    char *p = strdup(dir);
+    if (!p) {
+        cli_fail("out of memory");
+        return EXIT_IO;
+    }
+    /* mkdir -p: each prefix in turn; an existing folder is fine. */
+    for (char *s = p + 1;; s++) {
+        if (*s == '/' || *s == '\0') {
+            char c = *s;
+            *s = '\0';
+            struct stat st;
+            if (mkdir(p, 0777) != 0 && errno != EEXIST) {
+                cli_fail("%s: cannot make the folder: %s", p, strerror(errno));
+                free(p);
+                return EXIT_IO;
+            }
+            if (stat(p, &st) != 0 || !S_ISDIR(st.st_mode)) {
+                cli_fail("%s: is not a folder", p);
+                free(p);
+                return EXIT_IO;
+            }
+            *s = c;
+            if (c == '\0')
+                break;
+        }
+    }
+    free(p);
+    return -1;
+}
+
+char *cli_default_out_dir(const arrank_campaign *campaign)
+{
+    const char *name = campaign->name && *campaign->name ? campaign->name : "campaign";
+    size_t n = strlen(name) + 8;
+    char *d = malloc(n);
+    if (d)
+        snprintf(d, n, "plots/%s", name);
+    return d;
+}
+
+unsigned cli_plot_formats(const cli_args *args)
+{
+    unsigned f = 0;
+    for (size_t k = 0; k < args->n_formats; k++) {
+        if (strcmp(args->formats[k], "svg") == 0)
+            f |= ARRANK_PLOT_SVG;
+        else if (strcmp(args->formats[k], "png") == 0)
+            f |= ARRANK_PLOT_PNG;
+        else if (strcmp(args->formats[k], "pdf") == 0)
+            f |= ARRANK_PLOT_PDF;
+    }
+    return f ? f : ARRANK_PLOT_SVG;
+}
+
+static int save(const cli_session *s, const char *dir, const char *name,
+                arrank_output_format format)
+{
+    size_t n = strlen(dir) + strlen(name) + 2;
+    char *path = malloc(n);
+    if (!path) {
+        cli_fail("out of memory");
+        return EXIT_IO;
+    }
+    snprintf(path, n, "%s/%s", dir, name);
+    arrank_error err;
+    arrank_error_clear(&err);
+    arrank_status st = arrank_output_save(s->analysis, format, path, &err);
+    free(path);
+    if (st != ARRANK_OK) {
+        cli_print_error(&err);
+        return cli_exit_status(st, &err);
+    }
+    return -1;
+}
+
+int cmd_plot(int argc, char **argv)
+{
+    cli_args args;
+    int rc = cli_parse(argc, argv,
+                       OPT_AT | OPT_CONFIDENCE | OPT_BY | OPT_DIAGNOSE | OPT_MODEL | OPT_STATS |
+                           OPT_OUT_DIR | OPT_FORMAT,
+                       usage, &args);
+    if (rc != -1)
+        return rc;
+    cli_session s;
+    rc = cli_session_open(&args, 1, &s);
+    if (rc != -1)
+        return rc;
+    char *dir = args.out_dir ? strdup(args.out_dir) : cli_default_out_dir(s.campaign);
+    if (!dir) {
+        cli_fail("out of memory");
+        cli_session_free(&s);
+        return EXIT_IO;
+    }
+    rc = cli_make_out_dir(dir);
+    if (rc == -1)
+        rc = save(&s, dir, "results.json", ARRANK_OUTPUT_JSON);
+    if (rc == -1)
+        rc = save(&s, dir, "results.csv", ARRANK_OUTPUT_CSV);
+    if (rc == -1) {
+        cli_report_unfitted(&s);
+        arrank_plot_options po = arrank_plot_defaults();
+        po.formats = cli_plot_formats(&args);
+        arrank_plot_files files;
+        arrank_error err;
+        arrank_error_clear(&err);
+        arrank_status st = arrank_plot_write(s.analysis, dir, &po, &files, &err);
+        if (st != ARRANK_OK) {
+            cli_print_error(&err);
+            rc = cli_exit_status(st, &err);
+        } else {
+            printf("%s/results.json\n%s/results.csv\n", dir, dir);
+            for (size_t k = 0; k < files.n; k++)
+                printf("%s\n", files.files[k].path);
+            arrank_plot_files_clear(&files);
+            rc = fflush(stdout) == 0 ? EXIT_OK : EXIT_IO;
+        }
+    }
+    free(dir);
+    cli_session_free(&s);
+    return rc;
+}

@@ -1,0 +1,840 @@
+/*
+ * report.c - the self-contained review report (report.html).
+ *
+ * The page is written in one pass to a temporary file beside the target and
+ * renamed into place.  Figures come from arrank_plot_write (SVG) in a private
+ * temporary folder; each is read back, stripped of its XML prologue and
+ * namespace declarations (HTML puts inline <svg> in the SVG namespace itself),
+ * and its element ids are prefixed per figure so that several gnuplot figures
+ * can share one page without their ids colliding.  User strings are written
+ * only through html_text, which escapes them and drops control characters.
+ */
+/* mkdtemp and fsync are POSIX 2008 / XSI. */
+#define _XOPEN_SOURCE 700
+
+#include "arrank/report.h"
+
+#include <dirent.h>
+#include <errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <time.h>
+#include <unistd.h>
+
+#include <nettle/sha2.h>
+
+#include "arrank/fit.h"
+#include "arrank/rank.h"
+#include "arrank/version.h"
+#include "internal.h"
+
+#define ZERO_C_K 273.15 /* 0 degC in K, exact by definition */
+
+arrank_report_options arrank_report_defaults(void)
+{
+    arrank_report_options o;
+    o.command_line = NULL;
+    o.plot = arrank_plot_defaults();
+    return o;
+}
+
+/* ---- checksums ---------------------------------------------------------- */
+
+arrank_status arrank_report_sha256_file(const char *path, char hex[65], arrank_error *err)
+{
+    FILE *f = fopen(path, "rb");
+    if (!f)
+        return arrank_error_at(err, ARRANK_EIO, path, 0, 0, "cannot read '%s': %s", path,
+                               strerror(errno));
+    struct sha256_ctx ctx;
+    sha256_init(&ctx);
+    unsigned char buf[65536];
+    size_t n;
+    while ((n = fread(buf, 1, sizeof buf, f)) > 0)
+        sha256_update(&ctx, n, buf);
+    int bad = ferror(f);
+    fclose(f);
+    if (bad)
+        return arrank_error_at(err, ARRANK_EIO, path, 0, 0, "cannot read '%s'", path);
+    unsigned char digest[SHA256_DIGEST_SIZE];
+    sha256_digest(&ctx, SHA256_DIGEST_SIZE, digest);
+    for (size_t i = 0; i < SHA256_DIGEST_SIZE; i++)
+        snprintf(hex + 2 * i, 3, "%02x", digest[i]);
+    return ARRANK_OK;
+}
+
+/* ---- text --------------------------------------------------------------- */
+
+/* Length of the valid UTF-8 sequence at s, 0 if none (RFC 3629). */
+static size_t utf8_len(const unsigned char *s)
+{
+    unsigned c = s[0];
+    size_t n;
+    unsigned lo = 0x80, hi = 0xBF;
+    if (c < 0x80)
+        return 1;
+    if (c >= 0xC2 && c <= 0xDF)
+        n = 2;
+    else if (c >= 0xE0 && c <= 0xEF) {
+        n = 3;
+        lo = c == 0xE0 ? 0xA0 : 0x80;
+        hi = c == 0xED ? 0x9F : 0xBF;
+    } else if (c >= 0xF0 && c <= 0xF4) {
+        n = 4;
+        lo = c == 0xF0 ? 0x90 : 0x80;
+        hi = c == 0xF4 ? 0x8F : 0xBF;
+    } else
+        return 0;
+    for (size_t k = 1; k < n; k++) {
+        if (s[k] < lo || s[k] > hi)
+            return 0;
+        lo = 0x80;
+        hi = 0xBF;
+    }
+    return n;
+}
+
+/* User text as HTML: & < > " ' escaped, control characters dropped, bytes
+   that are not UTF-8 shown as U+FFFD. */
+static void html_text(FILE *f, const char *text)
+{
+    const unsigned char *s = (const unsigned char *)(text ? text : "");
+    while (*s) {
+        size_t n = utf8_len(s);
+        if (n == 0) {
+            fputs("\xEF\xBF\xBD", f);
+            s++;
+            continue;
+        }
+        if (n == 1) {
+            unsigned c = *s;
+            if (c == '&')
+                fputs("&amp;", f);
+            else if (c == '<')
+                fputs("&lt;", f);
+            else if (c == '>')
+                fputs("&gt;", f);
+            else if (c == '"')
+                fputs("&quot;", f);
+            else if (c == '\'')
+                fputs("&#39;", f);
+            else if (c >= 0x20 && c != 0x7F)
+                fputc((int)c, f);
+        } else if (!(n == 2 && s[0] == 0xC2 && s[1] <= 0x9F)) /* C1 controls */
+            fwrite(s, 1, n, f);
+        s += n;
+    }
+}
+
+/* A number with `digits` decimals (fixed) or, with digits < 0, -digits
+   significant digits. */
+static void html_num(FILE *f, double v, int digits)
+{
+    if (!isfinite(v))
+        fputs("&ndash;", f);
+    else if (digits >= 0)
+        fprintf(f, "%.*f", digits, v);
+    else
+        fprintf(f, "%.*g", -digits, v);
+}
+
+/* ---- figures ------------------------------------------------------------ */
+
+static char *read_all(const char *path, size_t *len)
+{
+    FILE *f = fopen(path, "rb");
+    if (!f)
+        return NULL;
+    char *buf = NULL;
+    size_t cap = 0, n = 0;
+    while (1) {
+        if (n + 65536 + 1 > cap) {
+            cap = (n + 65536 + 1) * 2;
+            char *nb = realloc(buf, cap);
+            if (!nb) {
+                free(buf);
+                fclose(f);
+                return NULL;
+            }
+            buf = nb;
+        }
+        size_t got = fread(buf + n, 1, 65536, f);
+        n += got;
+        if (got == 0)
+            break;
+    }
+    int bad = ferror(f);
+    fclose(f);
+    if (bad) {
+        free(buf);
+        return NULL;
+    }
+    buf[n] = '\0';
+    *len = n;
+    return buf;
+}
+
+static int starts(const char *s, const char *prefix)
+{
+    return strncmp(s, prefix, strlen(prefix)) == 0;
+}
+
+/* Copy a gnuplot SVG into the page.  Inside markup (between < and >) ids and
+   references to them get the prefix "f<no>-"; the namespace declarations of
+   the root element are dropped.  Text content is copied as gnuplot escaped
+   it. */
+static void inline_svg(FILE *out, const char *svg, int no)
+{
+    const char *p = strstr(svg, "<svg");
+    if (!p)
+        return;
+    int in_tag = 0, root = 1;
+    char pre[16];
+    snprintf(pre, sizeof pre, "f%d-", no);
+    while (*p) {
+        if (!in_tag) {
+            if (*p == '<')
+                in_tag = 1;
+            fputc(*p++, out);
+            continue;
+        }
+        if (*p == '>') {
+            in_tag = 0;
+            if (root)
+                fputs(" class=\"figure\" role=\"img\"", out);
+            root = 0;
+            fputc(*p++, out);
+            continue;
+        }
+        if (root && (starts(p, "xmlns=\"") || starts(p, "xmlns:xlink=\""))) {
+            const char *q = strchr(strchr(p, '"') + 1, '"');
+            if (!q)
+                return;
+            p = q + 1;
+            continue;
+        }
+        static const char *const refs[] = {"id='", "id=\"", "href='#", "href=\"#", "url(#"};
+        int done = 0;
+        for (size_t k = 0; k < sizeof refs / sizeof *refs; k++) {
+            size_t m = strlen(refs[k]);
+            /* "id=" must start an attribute, not end another name. */
+            if (strncmp(p, refs[k], m) == 0 && (k > 1 || p[-1] == ' ' || p[-1] == '\t')) {
+                fwrite(p, 1, m, out);
+                fputs(pre, out);
+                p += m;
+                done = 1;
+                break;
+            }
+        }
+        if (!done)
+            fputc(*p++, out);
+    }
+}
+
+static const char *figure_caption(arrank_figure_kind kind)
+{
+    switch (kind) {
+    case ARRANK_FIGURE_ARRHENIUS:
+        return "Arrhenius plot of every sample: ln r against 1000/T with the fitted lines and "
+               "their confidence bands; open symbols are points left out of the fit; the top "
+               "axis gives the temperature in degC.";
+    case ARRANK_FIGURE_RATE_AT_T:
+        return "Rate at the operating temperature with its confidence interval, best at the top "
+               "(log axis).  Open markers are flagged samples; the flags are named at the right.";
+    case ARRANK_FIGURE_EA_LNA:
+        return "Apparent activation energy against ln A with each sample's joint confidence "
+               "region.  Long thin ellipses along one direction show how strongly the two "
+               "estimates are correlated: a line through such points is not by itself evidence "
+               "of a compensation effect.";
+    case ARRANK_FIGURE_DIAGNOSTICS:
+        return "Residuals of the fit against 1000/T (left) and the local apparent activation "
+               "energy from three neighbouring temperatures (right), with the fitted value and "
+               "its interval.  A local Ea that falls with temperature suggests transport "
+               "limitation or another bend in the Arrhenius plot.";
+    }
+    return "";
+}
+
+typedef struct {
+    arrank_plot_files files;
+    char **svg; /* [files.n] contents, NULL where unreadable */
+    arrank_status status;
+    char message[ARRANK_ERROR_MSG_MAX];
+} figure_set;
+
+static void remove_tree(const char *dir)
+{
+    DIR *d = opendir(dir);
+    if (d) {
+        struct dirent *e;
+        while ((e = readdir(d)) != NULL) {
+            if (strcmp(e->d_name, ".") == 0 || strcmp(e->d_name, "..") == 0)
+                continue;
+            size_t n = strlen(dir) + strlen(e->d_name) + 2;
+            char *p = malloc(n);
+            if (p) {
+                snprintf(p, n, "%s/%s", dir, e->d_name);
+                unlink(p);
+                free(p);
+            }
+        }
+        closedir(d);
+    }
+    rmdir(dir);
+}
+
+/* Draw the figures into a temporary folder in dir and read them back. */
+static arrank_status draw_figures(const arrank_analysis *a, const char *dir,
+                                  const arrank_report_options *o, figure_set *fs,
+                                  arrank_error *err)
+{
+    memset(fs, 0, sizeof *fs);
+    size_t n = strlen(dir) + 32;
+    char *tmpdir = malloc(n);
+    if (!tmpdir)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    snprintf(tmpdir, n, "%s/.arrank-report-XXXXXX", dir);
+    if (!mkdtemp(tmpdir)) {
+        arrank_status st = arrank_error_at(err, ARRANK_EIO, dir, 0, 0,
+                                           "cannot make a temporary folder in '%s': %s", dir,
+                                           strerror(errno));
+        free(tmpdir);
+        return st;
+    }
+    arrank_plot_options po = o->plot;
+    po.formats = ARRANK_PLOT_SVG;
+    arrank_error perr;
+    arrank_error_clear(&perr);
+    fs->status = arrank_plot_write(a, tmpdir, &po, &fs->files, &perr);
+    if (fs->status != ARRANK_OK) {
+        snprintf(fs->message, sizeof fs->message, "%s", perr.message);
+        remove_tree(tmpdir);
+        free(tmpdir);
+        if (fs->status == ARRANK_ENOMEM)
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        return ARRANK_OK; /* the report notes the missing figures */
+    }
+    fs->svg = calloc(fs->files.n ? fs->files.n : 1, sizeof *fs->svg);
+    if (!fs->svg) {
+        remove_tree(tmpdir);
+        free(tmpdir);
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    }
+    for (size_t k = 0; k < fs->files.n; k++) {
+        size_t len;
+        fs->svg[k] = read_all(fs->files.files[k].path, &len);
+    }
+    remove_tree(tmpdir);
+    free(tmpdir);
+    return ARRANK_OK;
+}
+
+static void free_figures(figure_set *fs)
+{
+    for (size_t k = 0; fs->svg && k < fs->files.n; k++)
+        free(fs->svg[k]);
+    free(fs->svg);
+    arrank_plot_files_clear(&fs->files);
+}
+
+static int fig_counter;
+
+static void put_figure(FILE *f, const figure_set *fs, arrank_figure_kind kind, size_t sample)
+{
+    for (size_t k = 0; fs->svg && k < fs->files.n; k++) {
+        const arrank_plot_file *pf = &fs->files.files[k];
+        if (pf->kind != kind || (kind == ARRANK_FIGURE_DIAGNOSTICS && pf->sample != sample) ||
+            !fs->svg[k])
+            continue;
+        fputs("<figure>\n", f);
+        inline_svg(f, fs->svg[k], ++fig_counter);
+        fputs("\n<figcaption>", f);
+        html_text(f, figure_caption(kind));
+        fputs(" <span class=\"file\">(", f);
+        html_text(f, pf->name);
+        fputs(" in <code>arrank plot</code>)</span></figcaption>\n</figure>\n", f);
+    }
+}
+
+/* ---- page --------------------------------------------------------------- */
+
+static const char css[] =
+    "body{font-family:system-ui,-apple-system,'Segoe UI',Roboto,'DejaVu Sans',sans-serif;"
+    "max-width:72rem;margin:0 auto;padding:1.5rem;color:#1a1a1a;line-height:1.45}"
+    "h1{font-size:1.7rem;margin-bottom:.2rem}h2{margin-top:2.2rem;border-bottom:2px solid #ccc}"
+    "h3{margin-top:1.6rem}"
+    "table{border-collapse:collapse;margin:.6rem 0;font-size:.92rem}"
+    "th,td{border:1px solid #ccc;padding:.25rem .5rem;text-align:left;vertical-align:top}"
+    "th{background:#f0f0f0}td.n{text-align:right;font-variant-numeric:tabular-nums}"
+    "figure{margin:1rem 0}svg.figure{max-width:100%;height:auto;display:block}"
+    "figcaption{font-size:.9rem;color:#333}.file{color:#666}"
+    ".caution{border-left:6px solid #D55E00;background:#fff4ec;padding:.6rem 1rem}"
+    ".note{border-left:6px solid #0072B2;background:#eef6fb;padding:.6rem 1rem}"
+    ".flags li{margin:.1rem 0}code,.hash{font-family:'DejaVu Sans Mono',monospace;"
+    "font-size:.85rem;word-break:break-all}"
+    ".swatch{display:inline-block;width:.9em;height:.9em;border-radius:50%;"
+    "margin-right:.35em;vertical-align:-0.1em}"
+    "@media print{body{max-width:none;padding:0;font-size:10pt}"
+    "h2{break-before:auto;break-after:avoid}h3{break-after:avoid}"
+    "figure,table,.caution{break-inside:avoid}"
+    "section.sample{break-inside:avoid-page}"
+    ".swatch{print-color-adjust:exact;-webkit-print-color-adjust:exact}"
+    "a{color:inherit;text-decoration:none}}";
+
+static const char *unit_of(const arrank_analysis *a)
+{
+    return a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit : "report unit";
+}
+
+static void put_swatch(FILE *f, size_t i)
+{
+    fprintf(f, "<span class=\"swatch\" style=\"background:%s\"></span>", arrank_plot_color(i));
+}
+
+static void put_flag_names(FILE *f, unsigned flags)
+{
+    int any = 0;
+    for (unsigned b = 0; b < ARRANK_FLAG_COUNT; b++)
+        if (flags & (1u << b)) {
+            const char *name = arrank_flag_name(1u << b);
+            if (!name)
+                continue;
+            if (any)
+                fputs(", ", f);
+            html_text(f, name);
+            any = 1;
+        }
+    if (!any)
+        fputs("&ndash;", f);
+}
+
+/* P(best) and group cells from the ranking statistics (rank.h). */
+static void put_stats_cells(FILE *f, const arrank_result *r)
+{
+    const struct arrank_sample_stats *st = r->stats;
+    fputs("<td class=\"n\">", f);
+    if (st && isfinite(st->p_best) && st->p_best < 0.005)
+        fputs("&lt; 0.01", f);
+    else
+        html_num(f, st ? st->p_best : NAN, 2);
+    fputs("</td><td class=\"n\">", f);
+    if (st && st->group > 0)
+        fprintf(f, "%d", st->group);
+    else
+        fputs("&ndash;", f);
+    fputs("</td>", f);
+}
+
+static void put_ranking(FILE *f, const arrank_analysis *a)
+{
+    double T_op = a->options.operating_temp_K;
+    fputs("<table>\n<thead><tr><th>rank</th><th>sample</th>", f);
+    if (isfinite(T_op)) {
+        fprintf(f, "<th>rate at %.4g &deg;C [", T_op - ZERO_C_K);
+        html_text(f, unit_of(a));
+        fprintf(f, "]</th><th>%.4g %% interval</th>", 100 * a->options.confidence);
+    }
+    int stats = a->rank_stats != NULL;
+    if (stats)
+        fputs("<th>P(best)</th><th>group</th>", f);
+    fputs("<th>Ea [kJ/mol]</th><th>ln A</th><th>points</th><th>T range [&deg;C]</th>"
+          "<th>flags</th></tr></thead>\n<tbody>\n",
+          f);
+    /* Ranked first, in order, then the rest in campaign order. */
+    for (size_t pass = 0; pass < 2; pass++) {
+        size_t n = pass == 0 ? a->n_ranked : a->n_results;
+        for (size_t k = 0; k < n; k++) {
+            size_t i = pass == 0 ? a->order[k] : k;
+            const arrank_result *r = &a->results[i];
+            if ((pass == 0) != (r->rank > 0))
+                continue;
+            fputs("<tr><td class=\"n\">", f);
+            if (r->rank > 0)
+                fprintf(f, "%d", r->rank);
+            else
+                fputs("&ndash;", f);
+            fputs("</td><td>", f);
+            put_swatch(f, i);
+            html_text(f, r->sample->id);
+            fputs("</td>", f);
+            if (r->error) {
+                fprintf(f, "<td colspan=\"%d\">not fitted: ",
+                        (isfinite(T_op) ? 7 : 5) + (stats ? 2 : 0));
+                html_text(f, r->error);
+                fputs("</td></tr>\n", f);
+                continue;
+            }
+            if (isfinite(T_op)) {
+                if (r->has_prediction) {
+                    fputs("<td class=\"n\">", f);
+                    html_num(f, r->at_T.rate, -3);
+                    fputs("</td><td class=\"n\">", f);
+                    html_num(f, r->at_T.rate_lo, -3);
+                    fputs(" &ndash; ", f);
+                    html_num(f, r->at_T.rate_hi, -3);
+                    fputs("</td>", f);
+                } else
+                    fputs("<td>&ndash;</td><td>&ndash;</td>", f);
+            }
+            if (stats)
+                put_stats_cells(f, r);
+            fputs("<td class=\"n\">", f);
+            html_num(f, r->fit.ea_J_mol / 1000, 1);
+            fputs(" &plusmn; ", f);
+            html_num(f, r->fit.ea_se_J_mol / 1000, 1);
+            fputs("</td><td class=\"n\">", f);
+            html_num(f, r->fit.ln_A, 2);
+            fputs(" &plusmn; ", f);
+            html_num(f, r->fit.ln_A_se, 2);
+            fprintf(f, "</td><td class=\"n\">%zu of %zu</td><td class=\"n\">", r->n_used,
+                    r->sample->n_points);
+            html_num(f, r->fit.T_min_K - ZERO_C_K, 0);
+            fputs("&ndash;", f);
+            html_num(f, r->fit.T_max_K - ZERO_C_K, 0);
+            fputs("</td><td>", f);
+            put_flag_names(f, r->flags);
+            fputs("</td></tr>\n", f);
+        }
+    }
+    fputs("</tbody></table>\n", f);
+    fputs("<p>Ea and ln A are given &plusmn; one standard error; ln A is the natural logarithm "
+          "of A in the report unit.",
+          f);
+    if (stats) {
+        const struct arrank_rank_stats *rs = a->rank_stats;
+        fprintf(f, " P(best) is the share of %zu random draws from each sample's fitted "
+                   "uncertainty in which the sample comes first; samples in one group are not "
+                   "significantly different from the group's first sample (Holm's method).",
+                rs->draws);
+        if (rs->compensation.verdict != ARRANK_COMP_TOO_FEW && rs->compensation.sentence[0]) {
+            const char *sentence = rs->compensation.sentence;
+            if (strncmp(sentence, "compensation: ", 14) == 0)
+                sentence += 14;
+            fputs("</p>\n<p><b>Compensation.</b> ", f);
+            html_text(f, sentence);
+            fputs(".", f);
+        }
+    }
+    fputs("</p>\n", f);
+}
+
+static void put_param_row(FILE *f, const char *name, double v, double lo, double hi,
+                          int digits)
+{
+    fprintf(f, "<tr><th>%s</th><td class=\"n\">", name);
+    html_num(f, v, digits);
+    fputs("</td><td class=\"n\">", f);
+    if (isfinite(lo) && isfinite(hi)) {
+        html_num(f, lo, digits);
+        fputs(" &ndash; ", f);
+        html_num(f, hi, digits);
+    } else
+        fputs("&ndash;", f);
+    fputs("</td></tr>\n", f);
+}
+
+static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure_set *fs)
+{
+    const arrank_result *r = &a->results[i];
+    const arrank_sample *s = r->sample;
+    fprintf(f, "<section class=\"sample\">\n<h3 id=\"sample-%zu\">", i + 1);
+    put_swatch(f, i);
+    html_text(f, s->id);
+    fputs("</h3>\n<p>File <code>", f);
+    html_text(f, s->file);
+    fprintf(f, "</code>, %zu points", s->n_points);
+    for (size_t k = 0; k < s->n_meta; k++) {
+        if (strcmp(s->meta[k].key, "sample") == 0)
+            continue;
+        fputs("; ", f);
+        html_text(f, s->meta[k].key);
+        fputs(" = ", f);
+        html_text(f, s->meta[k].value);
+    }
+    fputs(".</p>\n", f);
+    if (r->error) {
+        fputs("<p class=\"note\">Not fitted and not ranked: ", f);
+        html_text(f, r->error);
+        fputs(".</p>\n</section>\n", f);
+        return;
+    }
+    const arrank_arrhenius *fit = &r->fit;
+    double t = arrank_t_quantile(a->options.confidence, fit->dof);
+    fprintf(f, "<table><thead><tr><th>quantity</th><th>estimate</th><th>%.4g %% interval</th>"
+               "</tr></thead><tbody>\n",
+            100 * a->options.confidence);
+    put_param_row(f, "apparent Ea [kJ/mol]", fit->ea_J_mol / 1000,
+                  (fit->ea_J_mol - t * fit->ea_se_J_mol) / 1000,
+                  (fit->ea_J_mol + t * fit->ea_se_J_mol) / 1000, 2);
+    put_param_row(f, "ln A (A in the report unit)", fit->ln_A, fit->ln_A - t * fit->ln_A_se,
+                  fit->ln_A + t * fit->ln_A_se, 3);
+    if (r->has_prediction) {
+        char name[128];
+        snprintf(name, sizeof name, "rate at %.4g &deg;C",
+                 a->options.operating_temp_K - ZERO_C_K);
+        put_param_row(f, name, r->at_T.rate, r->at_T.rate_lo, r->at_T.rate_hi, -4);
+    }
+    fputs("</tbody></table>\n<p>", f);
+    fprintf(f, "Fitted on %zu of %zu points, %.1f&ndash;%.1f &deg;C, T<sub>ref</sub> = "
+               "%.2f K; correlation of Ea and ln A %.4f; residual SD %.3g in ln r; "
+               "R&sup2; = %.4f",
+            r->n_used, s->n_points, fit->T_min_K - ZERO_C_K, fit->T_max_K - ZERO_C_K,
+            fit->T_ref_K, fit->corr_ea_lnA, fit->resid_sd, fit->r2);
+    if (fit->weighted && isfinite(fit->chi2_dof))
+        fprintf(f, "; weighted by rate_sd, &chi;&sup2;/dof = %.3g", fit->chi2_dof);
+    else
+        fputs("; unweighted (no rate_sd)", f);
+    fputs(".</p>\n", f);
+    if (r->flags) {
+        fputs("<ul class=\"flags\">\n", f);
+        for (unsigned b = 0; b < ARRANK_FLAG_COUNT; b++)
+            if (r->flags & (1u << b)) {
+                const char *words = arrank_flag_words(1u << b);
+                if (!words)
+                    continue;
+                fputs("<li><b>", f);
+                html_text(f, arrank_flag_name(1u << b));
+                fputs("</b>: ", f);
+                html_text(f, words);
+                fputs("</li>\n", f);
+            }
+        fputs("</ul>\n", f);
+    } else
+        fputs("<p>No flags raised.</p>\n", f);
+    if (r->n_used < s->n_points && r->used) {
+        fputs("<p>Left out of the fit:", f);
+        for (size_t k = 0; k < s->n_points; k++)
+            if (!r->used[k])
+                fprintf(f, " line %ld (%.1f &deg;C);", s->points[k].line,
+                        s->points[k].temp_K - ZERO_C_K);
+        fputs("</p>\n", f);
+    }
+    for (size_t k = 0; k < s->n_notes; k++) {
+        fputs("<p class=\"file\">Note: ", f);
+        html_text(f, s->notes[k]);
+        fputs("</p>\n", f);
+    }
+    put_figure(f, fs, ARRANK_FIGURE_DIAGNOSTICS, i);
+    fputs("</section>\n", f);
+}
+
+static void put_methods(FILE *f, const arrank_analysis *a)
+{
+    fprintf(f,
+            "<h2>Methods in brief</h2>\n<ul>\n"
+            "<li><b>Model.</b> Each sample is fitted to the Arrhenius form r = A exp(&minus;Ea/RT) "
+            "as a straight line ln r = b<sub>0</sub> + b<sub>1</sub>(1/T &minus; 1/T<sub>ref</sub>)"
+            ", centred at the weighted mean of 1/T so that b<sub>0</sub> and b<sub>1</sub> are "
+            "uncorrelated; Ea = &minus;R b<sub>1</sub> with R = 8.314462618 J/(mol K).</li>\n"
+            "<li><b>Weighting.</b> Without rate_sd the errors are taken as constant relative "
+            "errors (ordinary least squares on ln r); with rate_sd each point is weighted by "
+            "(r/sd)&sup2;.</li>\n"
+            "<li><b>Intervals.</b> Two-sided %.4g %% intervals from Student's t with n &minus; 2 "
+            "degrees of freedom and the covariance scaled by the residual variance.  The rate "
+            "at a temperature has its interval from the full covariance (delta method) and is "
+            "asymmetric in r.  The ellipses in the Ea&ndash;ln A figure are joint regions with "
+            "the 2&middot;F(2, n &minus; 2) quantile.</li>\n"
+            "<li><b>Kinetic window.</b> Points left out of a fit are shown open in the figures "
+            "and listed for each sample; all other points are used.  Operating temperatures "
+            "outside a sample's measured range are flagged as extrapolated.</li>\n"
+            "</ul>\n",
+            100 * a->options.confidence);
+}
+
+static void put_cautions(FILE *f)
+{
+    fputs("<div class=\"caution\">\n<p><b>Cautions.</b></p>\n<ul>\n"
+          "<li>The fitted parameters are apparent values, valid only for the conditions and "
+          "the temperature range tested.  Do not extrapolate them to reactor design or to "
+          "safety limits.</li>\n"
+          "<li>Scale-up needs its own transport and hazard studies (calorimetry, runaway and "
+          "parametric-sensitivity criteria); a screening ranking is not one.</li>\n"
+          "<li>Exothermic reactions cause hot spots and can run away; a thermocouple outside "
+          "the bed may read low, and the fitted Ea is then wrong.</li>\n"
+          "<li>Hydrogen, carbon monoxide, syngas, fuel&ndash;oxygen mixtures, ammonia and "
+          "hydrogen sulfide are flammable or toxic: use gas detection, ventilation and leak "
+          "checks.  Reduced catalysts can be pyrophoric.</li>\n"
+          "<li>This tool supports and does not replace the judgement of qualified people, "
+          "your institution's safety review, and local codes and regulations.</li>\n"
+          "</ul>\n</div>\n",
+          f);
+}
+
+static void put_inputs(FILE *f, const arrank_analysis *a)
+{
+    const arrank_campaign *c = a->campaign;
+    fputs("<table><thead><tr><th>input file</th><th>SHA-256</th></tr></thead><tbody>\n", f);
+    if (c && c->path) {
+        size_t n = strlen(c->path) + 16;
+        char *ini = malloc(n);
+        if (ini) {
+            snprintf(ini, n, "%s/campaign.ini", c->path);
+            char hex[65];
+            if (access(ini, F_OK) == 0 && arrank_report_sha256_file(ini, hex, NULL) == ARRANK_OK)
+                fprintf(f, "<tr><td><code>campaign.ini</code></td><td class=\"hash\">%s</td>"
+                           "</tr>\n",
+                        hex);
+            free(ini);
+        }
+    }
+    for (size_t i = 0; i < a->n_results; i++) {
+        const arrank_sample *s = a->results[i].sample;
+        char hex[65];
+        fputs("<tr><td><code>", f);
+        html_text(f, s->file ? s->file : s->path);
+        fputs("</code></td><td class=\"hash\">", f);
+        if (s->path && arrank_report_sha256_file(s->path, hex, NULL) == ARRANK_OK)
+            fputs(hex, f);
+        else
+            fputs("could not be read", f);
+        fputs("</td></tr>\n", f);
+    }
+    fputs("</tbody></table>\n", f);
+}
+
+static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_options *o,
+                     const figure_set *fs)
+{
+    const arrank_campaign *c = a->campaign;
+    const char *title = c && c->title ? c->title : c && c->name ? c->name : "campaign";
+    size_t n_fit = 0;
+    for (size_t i = 0; i < a->n_results; i++)
+        n_fit += a->results[i].error == NULL;
+    fig_counter = 0;
+
+    fputs("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n"
+          "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n<title>",
+          f);
+    html_text(f, title);
+    fputs(" &ndash; arrank review report</title>\n<style>", f);
+    fputs(css, f);
+    fputs("</style>\n</head>\n<body>\n<header>\n<h1>", f);
+    html_text(f, title);
+    fputs("</h1>\n<p>Review report of the campaign <code>", f);
+    html_text(f, c && c->name ? c->name : "");
+    fprintf(f, "</code>: %zu samples, %zu fitted, %zu ranked; rates in ", a->n_results, n_fit,
+            a->n_ranked);
+    html_text(f, unit_of(a));
+    if (isfinite(a->options.operating_temp_K))
+        fprintf(f, "; operating temperature %.2f &deg;C (%.2f K)",
+                a->options.operating_temp_K - ZERO_C_K, a->options.operating_temp_K);
+    fprintf(f, "; %.4g %% intervals.</p>\n</header>\n", 100 * a->options.confidence);
+
+    put_cautions(f);
+    if (fs->status != ARRANK_OK) {
+        fputs("<p class=\"note\">The figures could not be drawn: ", f);
+        html_text(f, fs->message);
+        fputs(".</p>\n", f);
+    }
+    fputs("<h2>Ranking</h2>\n", f);
+    put_ranking(f, a);
+    put_figure(f, fs, ARRANK_FIGURE_RATE_AT_T, (size_t)-1);
+    fputs("<h2>All samples</h2>\n", f);
+    put_figure(f, fs, ARRANK_FIGURE_ARRHENIUS, (size_t)-1);
+    put_figure(f, fs, ARRANK_FIGURE_EA_LNA, (size_t)-1);
+    fputs("<h2>Samples one by one</h2>\n", f);
+    for (size_t i = 0; i < a->n_results; i++)
+        put_sample(f, a, i, fs);
+    put_methods(f, a);
+
+    fputs("<h2>Record</h2>\n<p>Made by arrank " ARRANK_VERSION, f);
+    /* SOURCE_DATE_EPOCH (reproducible-builds.org convention) fixes the date. */
+    time_t now = time(NULL);
+    const char *sde = getenv("SOURCE_DATE_EPOCH");
+    if (sde && *sde) {
+        char *end;
+        errno = 0;
+        long long v = strtoll(sde, &end, 10);
+        if (!errno && !*end && v >= 0)
+            now = (time_t)v;
+    }
+    struct tm tm;
+    char date[64];
+    if (gmtime_r(&now, &tm) && strftime(date, sizeof date, "%Y-%m-%d %H:%M UTC", &tm))
+        fprintf(f, " on %s", date);
+    fputs(".</p>\n", f);
+    if (o->command_line) {
+        fputs("<p>Command line: <code>", f);
+        html_text(f, o->command_line);
+        fputs("</code></p>\n", f);
+    }
+    put_inputs(f, a);
+    fputs("</body>\n</html>\n", f);
+}
+
+static char *dir_of(const char *path)
+{
+    const char *slash = strrchr(path, '/');
+    if (!slash)
+        return arrank_strdup(".");
+    if (slash == path)
+        return arrank_strdup("/");
+    size_t n = (size_t)(slash - path);
+    char *d = malloc(n + 1);
+    if (d) {
+        memcpy(d, path, n);
+        d[n] = '\0';
+    }
+    return d;
+}
+
+arrank_status arrank_report_write(const arrank_analysis *a, const char *path,
+                                  const arrank_report_options *options, arrank_error *err)
+{
+    arrank_report_options o = options ? *options : arrank_report_defaults();
+    char *dir = dir_of(path);
+    if (!dir)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    figure_set fs;
+    arrank_status st = draw_figures(a, dir, &o, &fs, err);
+    if (st != ARRANK_OK) {
+        free(dir);
+        return st;
+    }
+    size_t n = strlen(dir) + 32;
+    char *tmp = malloc(n);
+    if (!tmp) {
+        free_figures(&fs);
+        free(dir);
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    }
+    snprintf(tmp, n, "%s/.report.html.XXXXXX", dir);
+    int fd = mkstemp(tmp);
+    FILE *f = fd >= 0 ? fdopen(fd, "w") : NULL;
+    if (!f) {
+        st = arrank_error_at(err, ARRANK_EIO, path, 0, 0, "cannot write '%s': %s", path,
+                             strerror(errno));
+        if (fd >= 0) {
+            close(fd);
+            unlink(tmp);
+        }
+        goto done;
+    }
+    fchmod(fd, 0644);
+    put_page(f, a, &o, &fs);
+    int bad = fflush(f) != 0 || ferror(f) || fsync(fileno(f)) != 0;
+    int e = errno;
+    if (fclose(f) != 0 && !bad) {
+        bad = 1;
+        e = errno;
+    }
+    if (bad || rename(tmp, path) != 0) {
+        if (!bad)
+            e = errno;
+        unlink(tmp);
+        st = arrank_error_at(err, ARRANK_EIO, path, 0, 0, "cannot write '%s': %s", path,
+                             strerror(e));
+        goto done;
+    }
+    if (fs.status != ARRANK_OK)
+        st = arrank_errorf(err, fs.status, "%s", fs.message);
+
+done:
+    free(tmp);
+    free_figures(&fs);
+    free(dir);
+    return st;
+}

@@ -1,0 +1,430 @@
+/*
+ * test_plot.c - the figure script (plot.c) without running gnuplot: the
+ * quoting of user text, the palette, one colour per sample across figures,
+ * and data blocks that hold numbers only.  Running gnuplot on hostile names
+ * is tests/check_plot.sh.
+ *
+ * Expected quoted strings follow the rule in DESIGN "Plotting" (single-quoted,
+ * each ' spliced in as "'", control characters removed); they were written
+ * by hand from that rule, not produced by the code under test.
+ */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <cmocka.h>
+
+#include <gsl/gsl_errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "arrank/analysis.h"
+#include "arrank/plot.h"
+#include "arrank/rank.h"
+
+/* ---- quoting ------------------------------------------------------------ */
+
+static const struct {
+    const char *id;
+    const char *in;
+    const char *want;
+} quote_cases[] = {
+    {"plain with underscore", "Pt_1", "('Pt_1')"},
+    {"apostrophe inside", "it's", "('it' . \"'\" . 's')"},
+    {"only a quote", "'", "('' . \"'\" . '')"},
+    {"leading doubled quote (gnuplot 5.4 rejects '''x')", "''x",
+     "('' . \"'\" . '' . \"'\" . 'x')"},
+    {"backquotes stay literal inside single quotes", "a`touch x`b", "('a`touch x`b')"},
+    {"double quotes and system()", "s system(\"touch M\")", "('s system(\"touch M\")')"},
+    {"bang command", "'; !touch x; '", "('' . \"'\" . '; !touch x; ' . \"'\" . '')"},
+    {"C0 controls and DEL removed", "a\nb\tc\rd\x7f" "e", "('abcde')"},
+    {"C1 control (U+0085) removed", "x\xC2\x85y", "('xy')"},
+    {"valid UTF-8 kept", "250 \xC2\xB0" "C \xC2\xB5mol", "('250 \xC2\xB0" "C \xC2\xB5mol')"},
+    {"stray byte becomes U+FFFD", "a\xFF" "b", "('a\xEF\xBF\xBD" "b')"},
+    {"overlong encoding rejected byte by byte", "\xE0\x80\x80",
+     "('\xEF\xBF\xBD\xEF\xBF\xBD\xEF\xBF\xBD')"},
+    {"surrogate rejected", "\xED\xA0\x80", "('\xEF\xBF\xBD\xEF\xBF\xBD\xEF\xBF\xBD')"},
+    {"backslash is literal in single quotes", "back\\slash\\", "('back\\slash\\')"},
+    {"empty", "", "('')"},
+    {"data block terminator as a name", "EOD", "('EOD')"},
+};
+
+static void test_quote_table(void **state)
+{
+    (void)state;
+    for (size_t k = 0; k < sizeof quote_cases / sizeof *quote_cases; k++) {
+        char *q = arrank_plot_quote(quote_cases[k].in);
+        assert_non_null(q);
+        if (strcmp(q, quote_cases[k].want) != 0) {
+            print_error("case '%s': got %s want %s\n", quote_cases[k].id, q, quote_cases[k].want);
+            free(q);
+            fail();
+        }
+        free(q);
+    }
+    char *q = arrank_plot_quote(NULL);
+    assert_string_equal(q, "('')");
+    free(q);
+}
+
+/*
+ * Read a quoted expression the way gnuplot's scanner does for this grammar:
+ * '(' { single-quoted string | "'" } joined by ' . ' ')'.  Returns the text
+ * it stands for (caller frees), or NULL if anything lies outside a string
+ * that is not part of that grammar.
+ */
+static char *unquote(const char *q)
+{
+    size_t n = strlen(q);
+    char *out = malloc(n + 1), *o = out;
+    const char *p = q;
+    if (*p++ != '(')
+        goto bad;
+    for (;;) {
+        if (*p == '\'') {
+            const char *end = strchr(p + 1, '\'');
+            if (!end)
+                goto bad;
+            memcpy(o, p + 1, (size_t)(end - p - 1));
+            o += end - p - 1;
+            p = end + 1;
+            /* A quote right after a closing quote would be gnuplot's doubled
+               quote: our strings must never produce one. */
+            if (*p == '\'')
+                goto bad;
+        } else if (strncmp(p, "\"'\"", 3) == 0) {
+            *o++ = '\'';
+            p += 3;
+        } else
+            goto bad;
+        if (strncmp(p, " . ", 3) == 0) {
+            p += 3;
+            continue;
+        }
+        if (p[0] == ')' && p[1] == '\0')
+            break;
+        goto bad;
+    }
+    *o = '\0';
+    return out;
+bad:
+    free(out);
+    return NULL;
+}
+
+/* Random strings over a hostile alphabet: every result must scan as string
+   constants only and stand for the input minus its control characters. */
+static void test_quote_random(void **state)
+{
+    (void)state;
+    static const char alphabet[] = "ab'\"`$@!;\\#\n\t\x7f()., EOD";
+    unsigned long seed = 20240611UL;
+    for (int round = 0; round < 5000; round++) {
+        char in[40], want[40];
+        size_t len = (size_t)(round % 37), w = 0;
+        for (size_t k = 0; k < len; k++) {
+            seed = seed * 6364136223846793005ULL + 1442695040888963407ULL;
+            char c = alphabet[(seed >> 33) % (sizeof alphabet - 1)];
+            in[k] = c;
+            if ((unsigned char)c >= 0x20 && c != 0x7f)
+                want[w++] = c;
+        }
+        in[len] = '\0';
+        want[w] = '\0';
+        char *q = arrank_plot_quote(in);
+        assert_non_null(q);
+        char *back = unquote(q);
+        if (!back || strcmp(back, want) != 0) {
+            print_error("round %d: quoted %s read back %s\n", round, q, back ? back : "(bad)");
+            free(q);
+            free(back);
+            fail();
+        }
+        free(q);
+        free(back);
+    }
+}
+
+/* ---- palette ------------------------------------------------------------ */
+
+static void test_palette(void **state)
+{
+    (void)state;
+    /* Okabe-Ito without its yellow: seven colours, cycling. */
+    const char *want[] = {"#0072B2", "#D55E00", "#009E73", "#CC79A7",
+                          "#E69F00", "#56B4E9", "#000000"};
+    for (size_t i = 0; i < 7; i++) {
+        assert_string_equal(arrank_plot_color(i), want[i]);
+        assert_string_equal(arrank_plot_color(i + 7), want[i]);
+        assert_true(arrank_plot_color(i) == arrank_plot_color(i)); /* static, stable */
+    }
+    /* (colour, shape) distinct for the first 35 samples; hollow differs from filled. */
+    for (size_t i = 0; i < 35; i++) {
+        assert_int_not_equal(arrank_plot_point_type(i, 0), arrank_plot_point_type(i, 1));
+        for (size_t j = 0; j < i; j++)
+            assert_false(strcmp(arrank_plot_color(i), arrank_plot_color(j)) == 0 &&
+                         arrank_plot_point_type(i, 0) == arrank_plot_point_type(j, 0));
+    }
+}
+
+/* ---- the script --------------------------------------------------------- */
+
+#define N_SAMPLES 9
+static const char *const names[N_SAMPLES] = {
+    "ZQ-1 fresh", "it's `x`", "EOD", "Pt_1", "a\nb", "set output 'x'", "s7", "s8", "s9"};
+
+typedef struct {
+    arrank_campaign c;
+    arrank_analysis *a;
+} fixture;
+
+/* An invented campaign in memory: ln r = b - Ea/(R T) with a small
+   deterministic wobble; sample 3 has rate_sd, sample 8 cannot be fitted, and
+   samples 6 and 7 share one law (so the ranking cannot tell them apart). */
+static int setup(void **state)
+{
+    fixture *fx = calloc(1, sizeof *fx);
+    fx->c.name = "zq";
+    fx->c.title = "ZQ 'screen'";
+    fx->c.rate_unit = "umol/(g*s)";
+    fx->c.n_samples = N_SAMPLES;
+    fx->c.samples = calloc(N_SAMPLES, sizeof *fx->c.samples);
+    for (size_t i = 0; i < N_SAMPLES; i++) {
+        arrank_sample *s = &fx->c.samples[i];
+        s->id = (char *)names[i];
+        s->path = s->file = "none.csv";
+        s->n_points = i == 8 ? 2 : 7;
+        s->points = calloc(s->n_points, sizeof *s->points);
+        double law = i == 7 ? 6.0 : (double)i;
+        for (size_t k = 0; k < s->n_points; k++) {
+            double T = 478.3 + 11.7 * (double)k;
+            double lr = 0.37 * law - (58.1e3 + 6.3e3 * law) / (8.314462618 * T) + 16.2 +
+                        0.043 * sin(3.1 * ((double)k + law)) + (i == 7 ? 0.004 : 0.0);
+            s->points[k].temp_K = T;
+            s->points[k].rate = exp(lr);
+            s->points[k].rate_sd = i == 3 ? 0.05 * exp(lr) : NAN;
+            s->points[k].run = -1;
+            s->points[k].line = (long)k + 3;
+        }
+        if (i == 8)
+            s->problem = "only 2 data points";
+    }
+    arrank_options o = arrank_options_defaults();
+    o.operating_temp_K = 531.4;
+    arrank_error err;
+    arrank_error_clear(&err);
+    if (arrank_analysis_run(&fx->c, &o, &fx->a, &err) != ARRANK_OK) {
+        print_error("analysis: %s\n", err.message);
+        return -1;
+    }
+    *state = fx;
+    return 0;
+}
+
+static int teardown(void **state)
+{
+    fixture *fx = *state;
+    arrank_analysis_free(fx->a);
+    for (size_t i = 0; i < N_SAMPLES; i++)
+        free(fx->c.samples[i].points);
+    free(fx->c.samples);
+    free(fx);
+    return 0;
+}
+
+static char *script_of(const arrank_analysis *a, unsigned formats)
+{
+    char *buf = NULL;
+    size_t len = 0;
+    FILE *f = open_memstream(&buf, &len);
+    assert_non_null(f);
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_plot_script(a, formats, f, &err), ARRANK_OK);
+    assert_int_equal(fclose(f), 0);
+    return buf;
+}
+
+/* Every line of every data block is numbers only, so no block can end early
+   or carry a command; and every block is closed. */
+static void test_blocks_numeric(void **state)
+{
+    fixture *fx = *state;
+    char *text = script_of(fx->a, ARRANK_PLOT_SVG | ARRANK_PLOT_PNG);
+    int in_block = 0;
+    size_t blocks = 0, rows = 0;
+    for (char *line = strtok(text, "\n"); line; line = strtok(NULL, "\n")) {
+        if (!in_block) {
+            if (line[0] == '$' && strstr(line, " << EOD")) {
+                in_block = 1;
+                blocks++;
+            }
+            continue;
+        }
+        if (strcmp(line, "EOD") == 0) {
+            in_block = 0;
+            continue;
+        }
+        char *p = line, *end;
+        int fields = 0;
+        while (*p) {
+            double v = strtod(p, &end);
+            if (end == p || !isfinite(v)) {
+                print_error("non-numeric block line: %s\n", line);
+                fail();
+            }
+            fields++;
+            p = end;
+            while (*p == ' ')
+                p++;
+        }
+        assert_true(fields >= 2);
+        rows++;
+    }
+    assert_false(in_block);
+    assert_true(blocks > 20);
+    assert_true(rows > 200);
+    free(text);
+}
+
+/* The colour on each plotted element of sample i is arrank_plot_color(i), in
+   every figure: elements are found by their data block name. */
+static void test_colour_per_sample(void **state)
+{
+    fixture *fx = *state;
+    char *text = script_of(fx->a, ARRANK_PLOT_SVG);
+    static const char *const tags[] = {"$pue", "$pun", "$pxe", "$pxn", "$fit", "$ext", "$ell",
+                                       "$ctr", "$resu", "$resx", "$loc", "$eab"};
+    size_t checked = 0, rate_rows = 0;
+    for (char *line = strtok(text, "\n"); line; line = strtok(NULL, "\n")) {
+        const char *lc = strstr(line, "lc rgb '");
+        if (!lc || line[0] == '$')
+            continue;
+        char colour[8];
+        memcpy(colour, lc + 8, 7);
+        colour[7] = '\0';
+        for (size_t t = 0; t < sizeof tags / sizeof *tags; t++) {
+            const char *p = strstr(line, tags[t]);
+            if (!p)
+                continue;
+            p += strlen(tags[t]);
+            if (*p < '0' || *p > '9')
+                continue;
+            size_t i = strtoul(p, NULL, 10);
+            assert_true(i < N_SAMPLES);
+            assert_string_equal(colour, arrank_plot_color(i));
+            checked++;
+            break;
+        }
+        const char *r = strstr(line, "$rate");
+        if (r) {
+            /* Row k of the rate figure is the k-th ranked sample. */
+            size_t k = strtoul(r + 5, NULL, 10);
+            assert_true(k < fx->a->n_ranked);
+            assert_string_equal(colour, arrank_plot_color(fx->a->order[k]));
+            rate_rows++;
+        }
+    }
+    /* 8 fitted samples in several figures each; one unfitted one. */
+    assert_true(checked >= 8 * 6);
+    assert_int_equal(rate_rows, 8);
+    free(text);
+}
+
+/* Figure list: four kinds, one diagnostics figure per fitted sample, file
+   names from the position and a cleaned id. */
+static void test_figure_names(void **state)
+{
+    fixture *fx = *state;
+    char *text = script_of(fx->a, ARRANK_PLOT_SVG | ARRANK_PLOT_PDF);
+    const char *want[] = {"arrank-figure: arrhenius.svg'", "arrank-figure: arrhenius.pdf'",
+                          "arrank-figure: rate-at-T.svg'", "arrank-figure: ea-lnA.pdf'",
+                          "arrank-figure: diagnostics-01-ZQ-1_fresh.svg'",
+                          "arrank-figure: diagnostics-02-it_s_x.svg'",
+                          "arrank-figure: diagnostics-05-a_b.svg'",
+                          "arrank-figure: diagnostics-06-set_output_x.svg'"};
+    for (size_t k = 0; k < sizeof want / sizeof *want; k++)
+        if (!strstr(text, want[k])) {
+            print_error("missing %s\n", want[k]);
+            fail();
+        }
+    assert_null(strstr(text, "diagnostics-09")); /* sample 9 was not fitted */
+    size_t n = 0;
+    for (const char *p = text; (p = strstr(p, "arrank-figure: ")) != NULL; p++)
+        n++;
+    assert_int_equal(n, 2 * (3 + 8));
+    free(text);
+}
+
+/* No user string reaches the script outside a quoted expression: the
+   newline name never splits a line, and a name like EOD never stands alone. */
+static void test_names_only_quoted(void **state)
+{
+    fixture *fx = *state;
+    char *text = script_of(fx->a, ARRANK_PLOT_SVG);
+    assert_null(strstr(text, "\nb'"));      /* "a\nb" was not split */
+    assert_non_null(strstr(text, "('ab')")); /* ...but drawn without its newline */
+    assert_non_null(strstr(text, "('set output ' . \"'\" . 'x' . \"'\" . '')"));
+    assert_non_null(strstr(text, "('it' . \"'\" . 's `x`')"));
+    assert_null(strstr(text, "`x`\""));
+    free(text);
+}
+
+/* With ranking statistics (rank.h) the rate figure brackets groups of two or
+   more and names P(best); the Ea-ln A figure draws the compensation line. */
+static void test_rank_stats_drawn(void **state)
+{
+    fixture *fx = *state;
+    assert_non_null(fx->a->rank_stats);
+    const arrank_result *r6 = &fx->a->results[6], *r7 = &fx->a->results[7];
+    assert_non_null(r6->stats);
+    assert_non_null(r7->stats);
+    assert_int_equal(r6->stats->group, r7->stats->group); /* same law, 0.4 % apart */
+    char *text = script_of(fx->a, ARRANK_PLOT_SVG);
+    assert_non_null(strstr(text, "set arrow from graph 1.015, first "));
+    assert_non_null(strstr(text, "bracket at right: not told apart"));
+    assert_non_null(strstr(text, "('P(best) "));
+    assert_non_null(strstr(text, "*x with lines dt 3 lw 1.8 lc rgb '#555555' title "
+                                 "'compensation line'"));
+    free(text);
+    /* Without them, none of it (the figures must not depend on rank.h). */
+    struct arrank_rank_stats *saved = fx->a->rank_stats;
+    fx->a->rank_stats = NULL;
+    text = script_of(fx->a, ARRANK_PLOT_SVG);
+    assert_null(strstr(text, "set arrow from graph 1.015"));
+    assert_null(strstr(text, "compensation line"));
+    free(text);
+    fx->a->rank_stats = saved;
+}
+
+static void test_find_gnuplot_missing(void **state)
+{
+    (void)state;
+    char *path = (char *)1;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_plot_find_gnuplot("/nonexistent/gnuplot", &path, &err),
+                     ARRANK_ENOGNUPLOT);
+    assert_null(path);
+    assert_non_null(strstr(err.message, "'/nonexistent/gnuplot' not found"));
+    assert_non_null(strstr(err.message, "apt-get install gnuplot-nox"));
+}
+
+int main(void)
+{
+    gsl_set_error_handler_off();
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_quote_table),
+        cmocka_unit_test(test_quote_random),
+        cmocka_unit_test(test_palette),
+        cmocka_unit_test(test_blocks_numeric),
+        cmocka_unit_test(test_colour_per_sample),
+        cmocka_unit_test(test_figure_names),
+        cmocka_unit_test(test_names_only_quoted),
+        cmocka_unit_test(test_rank_stats_drawn),
+        cmocka_unit_test(test_find_gnuplot_missing),
+    };
+    return cmocka_run_group_tests(tests, setup, teardown);
+}
