@@ -267,7 +267,7 @@ static arrank_status write_csv(const arrank_analysis *a, FILE *f, arrank_error *
     snprintf(rh[1], sizeof rh[1], "rate_at_T_ci_low [%s]", u);
     snprintf(rh[2], sizeof rh[2], "rate_at_T_ci_high [%s]", u);
     const char *tail[] = {"corr_ea_lnA", "T_ref [K]", "T_min [K]", "T_max [K]", "T_op [K]",
-                          rh[0], rh[1], rh[2], "confidence", "flags", "error"};
+                          rh[0], rh[1], rh[2], "confidence", "p_best", "group", "flags", "error"};
     for (size_t i = 0; i < sizeof tail / sizeof *tail; i++)
         csv_field(f, tail[i], i + 1 == sizeof tail / sizeof *tail);
 
@@ -307,6 +307,9 @@ static arrank_status write_csv(const arrank_analysis *a, FILE *f, arrank_error *
         csv_num(f, p ? res->at_T.rate_lo : NAN, 0);
         csv_num(f, p ? res->at_T.rate_hi : NAN, 0);
         csv_num(f, a->options.confidence, 0);
+        const struct arrank_sample_stats *ss = res->stats;
+        csv_num(f, ss ? ss->p_best : NAN, 0);
+        csv_num(f, ss && ss->group > 0 ? (double)ss->group : NAN, 0);
         char flags[512];
         flags_joined(res->flags, flags, sizeof flags, ";");
         csv_field(f, flags, 0);
@@ -369,6 +372,54 @@ static void fmt_rate(double v, char *buf, size_t n)
         snprintf(buf, n, "-");
     else
         snprintf(buf, n, "%.3g", v);
+}
+
+/* The modified or transition-state parameters under the main table
+   (--model): the table above keeps the plain Arrhenius Ea for comparison. */
+static void write_model_table(const arrank_analysis *a, FILE *f)
+{
+    int eyring = a->options.model == ARRANK_MODEL_EYRING;
+    fprintf(f, "\n%s, %g%% intervals:\n", eyring
+                ? "transition-state form r = (k_B T/h) exp(dS/R) exp(-dH/RT)"
+                : "modified form r = A (T/T_ref)^n exp(-E/RT)",
+            100.0 * a->options.confidence);
+    if (eyring)
+        fprintf(f, "  %-28s  %-24s  %s\n", "sample", "dH [kJ/mol]", "dS [J/(mol*K)]");
+    else
+        fprintf(f, "  %-28s  %-24s  %-22s  %s\n", "sample", "E [kJ/mol]", "n", "corr(E, n)");
+    int collinear = 0;
+    for (size_t i = 0; i < a->n_results; i++) {
+        const arrank_result *res = &a->results[i];
+        if (res->error || !res->stats || !res->stats->has_model)
+            continue;
+        const arrank_model_fit *m = &res->stats->model;
+        double t = arrank_t_quantile(a->options.confidence, m->dof);
+        char name[4 * NAME_WIDTH_MAX + 8], c1[64], c2[64];
+        fit_text(res->sample->id, NAME_WIDTH_MAX, name, sizeof name);
+        if (eyring) {
+            snprintf(c1, sizeof c1, "%.1f [%.1f, %.1f]", m->dH_J_mol / 1e3,
+                     (m->dH_J_mol - t * m->dH_se_J_mol) / 1e3,
+                     (m->dH_J_mol + t * m->dH_se_J_mol) / 1e3);
+            snprintf(c2, sizeof c2, "%.1f [%.1f, %.1f]", m->dS_J_mol_K,
+                     m->dS_J_mol_K - t * m->dS_se_J_mol_K, m->dS_J_mol_K + t * m->dS_se_J_mol_K);
+            fprintf(f, "  ");
+            pad_print(f, name, NAME_WIDTH_MAX, 0);
+            fprintf(f, "  %-24s  %s\n", c1, c2);
+        } else {
+            snprintf(c1, sizeof c1, "%.1f [%.1f, %.1f]", m->E_J_mol / 1e3,
+                     (m->E_J_mol - t * m->E_se_J_mol) / 1e3,
+                     (m->E_J_mol + t * m->E_se_J_mol) / 1e3);
+            snprintf(c2, sizeof c2, "%.2f [%.2f, %.2f]", m->n_T, m->n_T - t * m->n_T_se,
+                     m->n_T + t * m->n_T_se);
+            fprintf(f, "  ");
+            pad_print(f, name, NAME_WIDTH_MAX, 0);
+            fprintf(f, "  %-24s  %-22s  %.4f%s\n", c1, c2, m->corr_E_n, m->collinear ? " *" : "");
+            collinear |= m->collinear;
+        }
+    }
+    if (collinear)
+        fprintf(f, "  * E and n are nearly collinear over this temperature span: neither is well\n"
+                   "    determined alone; fix n (0 or 1) or widen the span\n");
 }
 
 static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error *err)
@@ -556,6 +607,8 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
                 w++;
         }
     }
+    if (o->model != ARRANK_MODEL_ARRHENIUS)
+        write_model_table(a, f);
     if (have_T && (seen_flags & ARRANK_FLAG_EXTRAPOLATED))
         fprintf(f, "\nCaution: rates outside the measured temperature range are extrapolations of\n"
                    "apparent kinetics; do not use them for reactor design or safety limits.\n");
