@@ -111,3 +111,16 @@ ok_if "long names: shortened with '...' in the table" grep -q '\.\.\.' "$T/out"
 w1=$(grep -n 'short' "$T/out" | head -1 | cut -d: -f2- | awk '{print index($0, "4 ")}')
 w2=$(grep -n '\.\.\.' "$T/out" | head -1 | cut -d: -f2- | awk '{print index($0, "4 ")}')
 expect_eq "long names: columns stay aligned" "$w1" "$w2"
+
+# models: the transition-state form needs turnover frequencies
+"$A" rank "$DEMO" --model eyring >"$T/out" 2>"$T/err"; st=$?
+expect_eq "--model eyring on per-mass rates: status 2" "$st" 2
+ok_if "--model eyring on per-mass rates: says why" grep -q "needs turnover frequencies" "$T/err"
+"$A" rank "$T/long" --at 515K --model eyring >"$T/out" 2>&1; st=$?
+expect_eq "--model eyring on turnover frequencies: status 0" "$st" 0
+ok_if "--model eyring: table of dH and dS" grep -q 'dH \[kJ/mol\] *dS \[J/(mol\*K)\]' "$T/out"
+"$A" rank "$DEMO" --model modified >"$T/out" 2>&1
+ok_if "--model modified: table of E and n with the collinearity warning" \
+    grep -q 'E and n are nearly collinear' "$T/out"
+"$A" rank "$DEMO" --csv - 2>/dev/null | head -1 >"$T/out"
+ok_if "rank --csv: p_best and group columns" grep -q ',p_best,group,flags,error$' "$T/out"
