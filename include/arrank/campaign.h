@@ -98,6 +98,18 @@ arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_
 void arrank_campaign_free(arrank_campaign *campaign);
 
 /*
+ * Read campaign.ini text from a memory buffer (for tests and fuzzing), with
+ * the same rules as arrank_campaign_load.  name is used as path in messages
+ * and as the campaign's path and name.  On success *out is a new campaign
+ * with no samples (free with arrank_campaign_free): title, operating
+ * temperature, rate unit, confidence and notes as the text sets them; each
+ * [sample ID] section gets a "matches no sample" note.  On failure *out is NULL.
+ */
+arrank_status arrank_campaign_parse_ini(const char *name, const char *data, size_t len,
+                                        arrank_units *units, arrank_campaign **out,
+                                        arrank_error *err);
+
+/*
  * Read one sample file from a memory buffer (for tests and fuzzing).  name is
  * used as path in messages and for the id.  report_unit may be NULL: the
  * file's own rate unit is then used (and returned in sample->rate_unit_file).

@@ -1259,6 +1259,30 @@ static char *join_path(const char *dir, const char *name)
     return p;
 }
 
+/* Parse campaign.ini text (len bytes at text, not NUL-terminated) named path in messages. */
+static arrank_status parse_ini_text(const char *path, const char *text, size_t len,
+                                    ini_state *st)
+{
+    st->path = path;
+    st->text = text;
+    st->pos = text;
+    st->end = text + len;
+    st->line = 0;
+    if (memchr(text, '\0', len))
+        st->status = arrank_error_at(st->err, ARRANK_EPARSE, path, nul_line(text, len), 0,
+                                     "campaign.ini is not text (it has a NUL byte)");
+    int r = st->status == ARRANK_OK ? ini_parse_stream(ini_read_line, st, on_ini_key, st) : 0;
+    if (st->status == ARRANK_OK && r == -2)
+        st->status = arrank_errorf(st->err, ARRANK_ENOMEM, "out of memory reading campaign.ini");
+    else if (st->status == ARRANK_OK && r != 0)
+        st->status = arrank_error_at(st->err, ARRANK_EPARSE, path, r, 0,
+                                     "malformed line; expected '[section]', 'key = value' "
+                                     "or a comment");
+    st->path = NULL;
+    st->text = st->pos = st->end = NULL;
+    return st->status;
+}
+
 static arrank_status read_ini(const char *dir, ini_state *st, char **buf, size_t *cap)
 {
     char *path = join_path(dir, "campaign.ini");
@@ -1266,31 +1290,10 @@ static arrank_status read_ini(const char *dir, ini_state *st, char **buf, size_t
         return arrank_errorf(st->err, ARRANK_ENOMEM, "out of memory");
     size_t len = 0;
     arrank_status s = read_file(path, buf, cap, &len, st->err);
-    if (s != ARRANK_OK) {
-        free(path);
-        return s;
-    }
-    st->path = path;
-    st->text = *buf;
-    st->pos = *buf;
-    st->end = *buf + len;
-    if (memchr(*buf, '\0', len)) {
-        s = arrank_error_at(st->err, ARRANK_EPARSE, path, nul_line(*buf, len), 0,
-                            "campaign.ini is not text (it has a NUL byte)");
-        free(path);
-        st->path = NULL;
-        return s;
-    }
-    int r = ini_parse_stream(ini_read_line, st, on_ini_key, st);
-    if (st->status == ARRANK_OK && r == -2)
-        st->status = arrank_errorf(st->err, ARRANK_ENOMEM, "out of memory reading campaign.ini");
-    else if (st->status == ARRANK_OK && r != 0)
-        st->status = arrank_error_at(st->err, ARRANK_EPARSE, path, r, 0,
-                                     "malformed line; expected '[section]', 'key = value' "
-                                     "or a comment");
+    if (s == ARRANK_OK)
+        s = parse_ini_text(path, *buf, len, st);
     free(path);
-    st->path = NULL;
-    return st->status;
+    return s;
 }
 
 /* Apply [sample ID] sections of campaign.ini to the samples (sorted by id in index). */
@@ -1456,4 +1459,43 @@ fail:
     list_free(names, n_names);
     arrank_campaign_free(c);
     return st;
+}
+
+arrank_status arrank_campaign_parse_ini(const char *name, const char *data, size_t len,
+                                        arrank_units *units, arrank_campaign **out,
+                                        arrank_error *err)
+{
+    if (out)
+        *out = NULL;
+    if (!name || (!data && len) || !units || !out)
+        return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_campaign_parse_ini");
+    arrank_campaign *c = calloc(1, sizeof *c);
+    if (!c)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    c->operating_temp_K = NAN;
+    c->confidence = NAN;
+    ini_state ini;
+    memset(&ini, 0, sizeof ini);
+    ini.units = units;
+    ini.campaign = c;
+    ini.err = err;
+    arrank_status st = parse_ini_text(name, data ? data : "", len, &ini);
+    /* With no samples, every [sample ID] section becomes a "matches no sample" note. */
+    if (st == ARRANK_OK && ini.n_entries)
+        st = apply_ini_entries(&ini, NULL, 0, name);
+    if (st == ARRANK_OK) {
+        c->path = strdup(name);
+        c->name = strdup(base_name(name));
+        if (!c->title)
+            c->title = strdup(c->name ? c->name : "");
+        if (!c->path || !c->name || !c->title)
+            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    }
+    ini_entries_free(&ini);
+    if (st != ARRANK_OK) {
+        arrank_campaign_free(c);
+        return st;
+    }
+    *out = c;
+    return ARRANK_OK;
 }
