@@ -17,6 +17,7 @@
  * it.  Input files are only ever opened for reading.
  */
 #include "arrank/campaign.h"
+#include "number.h"
 #include "units_internal.h"
 
 #include <dirent.h>
@@ -163,9 +164,14 @@ static int parse_number(char *text, char delim, double *value)
         else if (*p == 'x' || *p == 'X') /* strtod reads hexadecimal; a lab file does not */
             return 1;
     }
+    double v;
+    if (arrank_decimal_fast(s, &v)) { /* exact; see number.c */
+        *value = v;
+        return 0;
+    }
     char *end;
     errno = 0;
-    double v = strtod(s, &end);
+    v = strtod(s, &end);
     if (end == s || *end != '\0')
         return 1;
     if (isnan(v) || (isinf(v) && errno != ERANGE))
@@ -515,8 +521,14 @@ static void data_field(parser *p, char *text)
         }
         return;
     }
+    /* The cell as written, cut to fit, for messages (parse_number rewrites a decimal comma). */
     char shown[64];
-    snprintf(shown, sizeof shown, "%s", trim(text));
+    {
+        const char *t = trim(text);
+        size_t n = strnlen(t, sizeof shown - 1);
+        memcpy(shown, t, n);
+        shown[n] = '\0';
+    }
     double v = NAN;
     int bad = parse_number(text, p->delim, &v);
     if (bad == 1 && shown[0] == '\0') {
@@ -547,7 +559,7 @@ static void data_field(parser *p, char *text)
         break;
     case COL_RATE:
         p->point.rate = conv;
-        snprintf(p->rate_text, sizeof p->rate_text, "%s", shown);
+        memcpy(p->rate_text, shown, strlen(shown) + 1); /* both 64 bytes */
         break;
     case COL_RATE_SD:
         if (conv < 0.0)
