@@ -25,6 +25,7 @@
 #include "arrank/campaign.h"
 #include "arrank/units.h"
 #include "fuzz/fuzz_targets.h"
+#include "../src/lib/number.h"
 
 static arrank_units *units;
 
@@ -222,6 +223,76 @@ static void limits_in_memory(void **state)
     }
 }
 
+/* ---- the fast decimal reader against strtod -------------------------------- */
+
+/* xorshift64* (Vigna, "An experimental exploration of Marsaglia's xorshift
+   generators, scrambled", ACM TOMS 42(4), 2016): a fixed, seeded sequence. */
+static uint64_t rng_state = 0x9e3779b97f4a7c15ULL;
+static uint64_t rng_next(void)
+{
+    rng_state ^= rng_state >> 12;
+    rng_state ^= rng_state << 25;
+    rng_state ^= rng_state >> 27;
+    return rng_state * 2685821657736338717ULL;
+}
+
+/* Bit-for-bit agreement with strtod where the fast path answers; count answers. */
+static void check_decimal(const char *text, size_t *answered)
+{
+    double fast = 0.0;
+    if (!arrank_decimal_fast(text, &fast))
+        return;
+    (*answered)++;
+    char *end;
+    double slow = strtod(text, &end);
+    if (*end != '\0' || memcmp(&fast, &slow, sizeof fast) != 0)
+        fail_msg("'%s': fast %.17g, strtod %.17g (end '%s')", text, fast, slow, end);
+}
+
+static void decimal_fast_path(void **state)
+{
+    (void)state;
+    /* Cases at the edges of the fast path; values from strtod itself. */
+    static const char *const edges[] = {
+        "0", "-0", "+0.000", "0e5", "9007199254740992", "9007199254740993", "1e22", "1e-22",
+        "1e23", "123456789012345678", "1234567890123456789", "12345678901234567890",
+        "0.1", "-273.15", "5.", ".5", ".", "-", "e5", "1e", "1e+", "1.5e-7", "2,5", "0x10",
+        "1e0000000000000000000001", "00000000000000000000000000001.5", "inf", "nan", "1 ",
+        "4.35e-3", "3.6", "0.000001234", "9999999999999999999e-22",
+    };
+    size_t answered = 0;
+    for (size_t i = 0; i < sizeof edges / sizeof edges[0]; i++)
+        check_decimal(edges[i], &answered);
+    /* Refusals that must fall through to strtod's own verdict. */
+    double v = 42.0;
+    assert_int_equal(arrank_decimal_fast("1e", &v), 0);
+    assert_int_equal(arrank_decimal_fast(".", &v), 0);
+    assert_int_equal(arrank_decimal_fast("9007199254740993", &v), 0);
+    assert_int_equal(arrank_decimal_fast("1e23", &v), 0);
+    assert_true(v == 42.0);
+    /* 300,000 random decimals: 1-20 digits, a point anywhere or none, exponents -30..30. */
+    for (int k = 0; k < 300000; k++) {
+        char text[64];
+        size_t n = 0;
+        uint64_t r = rng_next();
+        if (r & 1)
+            text[n++] = (r & 2) ? '-' : '+';
+        int ndig = 1 + (int)((r >> 2) % 20);
+        int point = (int)((r >> 8) % (uint64_t)(ndig + 2)) - 1; /* -1: none */
+        for (int d = 0; d < ndig; d++) {
+            if (d == point)
+                text[n++] = '.';
+            text[n++] = (char)('0' + rng_next() % 10);
+        }
+        if ((r >> 16) & 1)
+            n += (size_t)snprintf(text + n, sizeof text - n, "e%d", (int)((r >> 20) % 61) - 30);
+        text[n] = '\0';
+        check_decimal(text, &answered);
+    }
+    /* Most short decimals take the fast path; if none did, it would test nothing. */
+    assert_true(answered > 100000);
+}
+
 /* ---- campaign.ini from memory -------------------------------------------- */
 
 static void ini_from_memory(void **state)
@@ -306,7 +377,7 @@ int main(void)
         cmocka_unit_test(corpus_sample),   cmocka_unit_test(corpus_header),
         cmocka_unit_test(corpus_ini),      cmocka_unit_test(corpus_temperature),
         cmocka_unit_test(fixed_units),     cmocka_unit_test(limits_in_memory),
-        cmocka_unit_test(ini_from_memory),
+        cmocka_unit_test(ini_from_memory), cmocka_unit_test(decimal_fast_path),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }
