@@ -24,9 +24,9 @@ OPT        ?= -O2 -g
 SAN        ?=
 CPPFLAGS   += -Iinclude -D_POSIX_C_SOURCE=200809L
 CFLAGS     ?=
-ALL_CFLAGS := -std=c11 $(OPT) $(WARN) $(SAN) $(CFLAGS) -MMD -MP \
+ALL_CFLAGS := -std=c11 -pthread $(OPT) $(WARN) $(SAN) $(CFLAGS) -MMD -MP \
               $(shell $(PKG_CONFIG) --cflags $(PKGS) 2>/dev/null)
-LDLIBS     := $(shell $(PKG_CONFIG) --libs $(PKGS) 2>/dev/null) -lcsv -lm
+LDLIBS     := $(shell $(PKG_CONFIG) --libs $(PKGS) 2>/dev/null) -lcsv -lm -pthread
 TEST_LIBS  := $(shell $(PKG_CONFIG) --libs cmocka 2>/dev/null)
 
 LIB_SRC    := $(sort $(wildcard src/lib/*.c))

@@ -75,6 +75,11 @@ typedef struct {
  * On success out is filled (free its arrays with arrank_nlfit_clear).
  * ENOCONV when the solver stops without meeting the tolerances (its GSL
  * reason in the message), EFIT when n <= n_params or the Jacobian is singular.
+ * Also ENOCONV when the stop is not a minimum (Bates & Watts relative offset
+ * above 0.001, e.g. stuck at the edge of the model's domain), EFIT when the
+ * start is outside the domain.  Trial points where the model returns non-zero
+ * are rejected steps, not errors.  out is zeroed on entry and left empty on
+ * failure, so arrank_nlfit_clear is always safe.
  */
 arrank_status arrank_nlfit_run(arrank_model_fn model, void *ctx, size_t n_params, const double *y,
                                const double *w, size_t n, const double *start,

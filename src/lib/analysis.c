@@ -12,6 +12,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "arrank/rank.h"
 #include "internal.h"
 
 /* Thresholds for the basic flags (README "Flags"). */
@@ -182,6 +183,11 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
     }
 
     arrank_status st = ARRANK_OK;
+    /* rank.h: --model eyring needs turnover frequencies and their factor to 1/s */
+    double rate_to_per_s = 1.0;
+    st = arrank_models_prepare(campaign, &opt, &rate_to_per_s, err);
+    if (st != ARRANK_OK)
+        goto fail;
     for (size_t i = 0; i < a->n_results; i++) {
         arrank_result *res = &a->results[i];
         const arrank_sample *s = &campaign->samples[i];
@@ -202,10 +208,18 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
             goto fail;
         if (res->error)
             continue;
+        /* rank.h: --errors absolute refits in rate space; --model adds its fit */
+        st = arrank_models_apply(res, &opt, rate_to_per_s, err);
+        if (st != ARRANK_OK)
+            goto fail;
+        if (res->error)
+            continue;
         basic_flags(res);
         if (want_T) {
             st = arrank_fit_predict(&res->fit, opt.operating_temp_K, opt.confidence, &res->at_T,
                                     err);
+            if (st == ARRANK_OK) /* rank.h: the model's prediction when one was fitted */
+                st = arrank_models_predict(res, &opt, err);
             if (st != ARRANK_OK)
                 goto fail;
             res->has_prediction = 1;
@@ -238,6 +252,10 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
         qsort(a->order, a->n_ranked, sizeof *a->order, compare_rank);
         for (size_t k = 0; k < a->n_ranked; k++)
             a->results[a->order[k]].rank = (int)(k + 1);
+        /* rank.h: P(best), groups, compensation, bootstrap */
+        st = arrank_rank_compute(a, err);
+        if (st != ARRANK_OK)
+            goto fail;
     }
     *out = a;
     return ARRANK_OK;
@@ -254,7 +272,9 @@ void arrank_analysis_free(arrank_analysis *a)
     for (size_t i = 0; i < a->n_results; i++) {
         free(a->results[i].error);
         free(a->results[i].used);
+        arrank_sample_stats_free(a->results[i].stats);
     }
+    arrank_rank_stats_free(a->rank_stats);
     free(a->results);
     free(a->order);
     free(a);

@@ -15,6 +15,13 @@
  * column.  A sample that is well formed but cannot be fitted keeps its points
  * and gets a `problem`, so that the analysis can report it instead of losing
  * it.  Input files are only ever opened for reading.
+ *
+ * Column rules: T/temperature and rate/r need a unit; rate_sd needs a unit
+ * convertible to the rate's (it is converted with it); time_on_stream needs a
+ * time unit (stored in s); conversion is a fraction, or a percentage when
+ * written 'conversion [%]', and must lie in 0..1; run is a text label (empty:
+ * no run).  Other columns are kept as a note.  Empty cells in optional columns
+ * are NAN; a data row whose first field starts with '#' is a comment.
  */
 #include "arrank/campaign.h"
 #include "number.h"
@@ -77,6 +84,16 @@ static char *dup_range(const char *s, size_t n)
     memcpy(d, s, n);
     d[n] = '\0';
     return d;
+}
+
+/* Copy text into out (size n), cut if it does not fit; snprintf costs more per cell. */
+static void copy_cut(char *out, size_t n, const char *text)
+{
+    size_t len = strlen(text);
+    if (len >= n)
+        len = n - 1;
+    memcpy(out, text, len);
+    out[len] = '\0';
 }
 
 /* Trim blanks and line-end characters in place; returns the start. */
@@ -371,19 +388,42 @@ static void header_field(parser *p, char *text)
 }
 
 /* Unit of a column that needs one; NULL (after failing) when it has none. */
-static const char *required_unit(parser *p, size_t idx, const char *example)
+static const char *required_unit(parser *p, size_t idx, const char *rate_unit)
 {
     data_column *c = &p->cols[idx];
-    if (!c->unit)
-        fail(p, ARRANK_EUNIT, (long)idx + 1, "column '%s' has no unit; write it as %s", c->name,
-             example);
-    return c->unit;
+    if (c->unit)
+        return c->unit;
+    const char *n = c->name;
+    switch (c->kind) {
+    case COL_TEMP:
+        fail(p, ARRANK_EUNIT, (long)idx + 1,
+             "column '%s' has no unit; write it as '%s [degC]' or '%s [K]'", n, n, n);
+        break;
+    case COL_TIME:
+        fail(p, ARRANK_EUNIT, (long)idx + 1,
+             "column '%s' has no unit; write it as '%s [h]' or '%s [min]'", n, n, n);
+        break;
+    default:
+        fail(p, ARRANK_EUNIT, (long)idx + 1, "column '%s' has no unit; write it as '%s [%s]'", n,
+             n, rate_unit ? rate_unit : "umol/(g*s)");
+        break;
+    }
+    return NULL;
 }
 
-/* Re-point a units error at a header column, adding the column name. */
+/*
+ * Re-point a units error at a header column: the column name goes right after
+ * the quoted unit ("unknown unit 'x' in column 'T'", "'s' in column 'T' is
+ * not a temperature unit").
+ */
 static void unit_fail(parser *p, size_t idx, const arrank_error *uerr)
 {
-    fail(p, uerr->status, (long)idx + 1, "%s in column '%s'", uerr->message, p->cols[idx].name);
+    const char *msg = uerr->message;
+    const char *q1 = strchr(msg, '\'');
+    const char *q2 = q1 ? strchr(q1 + 1, '\'') : NULL;
+    size_t head = q2 ? (size_t)(q2 + 1 - msg) : strlen(msg);
+    fail(p, uerr->status, (long)idx + 1, "%.*s in column '%s'%s", (int)head, msg,
+         p->cols[idx].name, msg + head);
 }
 
 /* Everything the header row decides: units, conversions, required columns. */
@@ -414,17 +454,13 @@ static void header_done(parser *p)
                 nomem(p);
             break;
         case COL_TEMP: {
-            char example[64];
-            snprintf(example, sizeof example, "'%s [degC]' or '%s [K]'", c->name, c->name);
-            const char *u = required_unit(p, i, example);
+            const char *u = required_unit(p, i, NULL);
             if (u && arrank_units_temperature(p->units, u, &c->conv, &uerr) != ARRANK_OK)
                 unit_fail(p, i, &uerr);
             break;
         }
         case COL_RATE: {
-            char example[64];
-            snprintf(example, sizeof example, "'%s [umol/(g*s)]'", c->name);
-            const char *u = required_unit(p, i, example);
+            const char *u = required_unit(p, i, NULL);
             if (!u)
                 break;
             arrank_conversion to_si;
@@ -455,18 +491,14 @@ static void header_done(parser *p)
     for (size_t i = 0; i < p->n_cols && p->status == ARRANK_OK; i++) {
         data_column *c = &p->cols[i];
         if (c->kind == COL_RATE_SD) {
-            char example[UNIT_MAX + 64];
-            snprintf(example, sizeof example, "'%s [%s]'", c->name, rate_unit);
-            const char *u = required_unit(p, i, example);
+            const char *u = required_unit(p, i, rate_unit);
             if (u && arrank_units_conversion(p->units, u, rate_unit, &c->conv, &uerr) !=
                          ARRANK_OK)
                 fail(p, ARRANK_EUNIT, (long)i + 1,
                      "unit '%s' of column '%s' is not convertible to the rate unit '%s'", u,
                      c->name, rate_unit);
         } else if (c->kind == COL_TIME) {
-            char example[64];
-            snprintf(example, sizeof example, "'%s [h]' or '%s [min]'", c->name, c->name);
-            const char *u = required_unit(p, i, example);
+            const char *u = required_unit(p, i, NULL);
             if (u && arrank_units_conversion(p->units, u, "s", &c->conv, &uerr) != ARRANK_OK)
                 unit_fail(p, i, &uerr);
         } else if (c->kind == COL_CONVERSION) {
@@ -523,12 +555,7 @@ static void data_field(parser *p, char *text)
     }
     /* The cell as written, cut to fit, for messages (parse_number rewrites a decimal comma). */
     char shown[64];
-    {
-        const char *t = trim(text);
-        size_t n = strnlen(t, sizeof shown - 1);
-        memcpy(shown, t, n);
-        shown[n] = '\0';
-    }
+    copy_cut(shown, sizeof shown, trim(text));
     double v = NAN;
     int bad = parse_number(text, p->delim, &v);
     if (bad == 1 && shown[0] == '\0') {
@@ -559,7 +586,7 @@ static void data_field(parser *p, char *text)
         break;
     case COL_RATE:
         p->point.rate = conv;
-        memcpy(p->rate_text, shown, strlen(shown) + 1); /* both 64 bytes */
+        copy_cut(p->rate_text, sizeof p->rate_text, shown);
         break;
     case COL_RATE_SD:
         if (conv < 0.0)
@@ -1119,12 +1146,16 @@ static void ini_entries_free(ini_state *st)
 
 /* ---------------------------------------------------------------- folder */
 
-/* Read a whole file with one read into *buf (grown as needed, reused between files). */
-static arrank_status read_file(const char *path, char **buf, size_t *cap, size_t *len,
-                               arrank_error *err)
+/*
+ * Read the whole file name (in the folder open as dirfd; path is for
+ * messages) with one read into *buf (grown as needed, reused between files).
+ * O_NONBLOCK keeps a FIFO from hanging the open; it is refused just after.
+ */
+static arrank_status read_file(int dirfd, const char *name, const char *path, char **buf,
+                               size_t *cap, size_t *len, arrank_error *err)
 {
     char os[256];
-    int fd = open(path, O_RDONLY);
+    int fd = openat(dirfd, name, O_RDONLY | O_NONBLOCK | O_CLOEXEC);
     if (fd < 0) {
         os_message(errno, os, sizeof os);
         return arrank_error_at(err, ARRANK_EIO, path, 0, 0, "cannot open the file: %s", os);
@@ -1295,13 +1326,13 @@ static arrank_status parse_ini_text(const char *path, const char *text, size_t l
     return st->status;
 }
 
-static arrank_status read_ini(const char *dir, ini_state *st, char **buf, size_t *cap)
+static arrank_status read_ini(const char *dir, int dirfd, ini_state *st, char **buf, size_t *cap)
 {
     char *path = join_path(dir, "campaign.ini");
     if (!path)
         return arrank_errorf(st->err, ARRANK_ENOMEM, "out of memory");
     size_t len = 0;
-    arrank_status s = read_file(path, buf, cap, &len, st->err);
+    arrank_status s = read_file(dirfd, "campaign.ini", path, buf, cap, &len, st->err);
     if (s == ARRANK_OK)
         s = parse_ini_text(path, *buf, len, st);
     free(path);
@@ -1365,6 +1396,14 @@ arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_
         return arrank_error_at(err, ARRANK_EDATA, dir, 0, 0,
                                "no sample files (*.csv) in the folder");
     }
+    /* Files are opened relative to the folder: no path walk per file. */
+    int dirfd = open(dir, O_RDONLY | O_DIRECTORY | O_CLOEXEC);
+    if (dirfd < 0) {
+        char os[256];
+        os_message(errno, os, sizeof os);
+        list_free(names, n_names);
+        return arrank_error_at(err, ARRANK_EIO, dir, 0, 0, "cannot read the folder: %s", os);
+    }
     arrank_campaign *c = calloc(1, sizeof *c);
     ini_state ini;
     memset(&ini, 0, sizeof ini);
@@ -1392,7 +1431,7 @@ arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_
     ini.campaign = c;
     ini.err = err;
     if (has_ini) {
-        st = read_ini(dir, &ini, &buf, &cap);
+        st = read_ini(dir, dirfd, &ini, &buf, &cap);
         if (st != ARRANK_OK)
             goto fail;
     }
@@ -1406,7 +1445,7 @@ arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_
         if (!path)
             goto nomem;
         size_t len = 0;
-        st = read_file(path, &buf, &cap, &len, err);
+        st = read_file(dirfd, names[i], path, &buf, &cap, &len, err);
         if (st == ARRANK_OK)
             st = arrank_sample_parse(path, buf, len, units, c->rate_unit, &c->samples[i], err);
         free(path);
@@ -1459,6 +1498,7 @@ arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_
     free(buf);
     ini_entries_free(&ini);
     list_free(names, n_names);
+    close(dirfd);
     *out = c;
     return ARRANK_OK;
 nomem:
@@ -1469,6 +1509,7 @@ fail:
     free(buf);
     ini_entries_free(&ini);
     list_free(names, n_names);
+    close(dirfd);
     arrank_campaign_free(c);
     return st;
 }

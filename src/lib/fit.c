@@ -23,6 +23,7 @@
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_matrix.h>
 #include <gsl/gsl_multifit.h>
+#include <gsl/gsl_multifit_nlinear.h>
 #include <gsl/gsl_vector.h>
 
 /* ---- 1. weighted linear least squares ---------------------------------- */
@@ -107,6 +108,363 @@ done:
     gsl_vector_free(wv);
     gsl_vector_free(yv);
     gsl_matrix_free(Xm);
+    return st;
+}
+
+/* ---- 2. nonlinear least squares ----------------------------------------- */
+
+arrank_nlfit_options arrank_nlfit_defaults(void)
+{
+    arrank_nlfit_options o;
+    o.max_iter = 500;
+    o.xtol = 1e-12;
+    o.gtol = 1e-12;
+    o.ftol = 0.0;
+    o.geodesic = 1;
+    return o;
+}
+
+void arrank_nlfit_clear(arrank_nlfit *fit)
+{
+    if (!fit)
+        return;
+    free(fit->params);
+    free(fit->se);
+    free(fit->cov);
+    memset(fit, 0, sizeof *fit);
+}
+
+/*
+ * Residual for a trial point outside the model's domain.  GSL's trust-region
+ * iteration returns at once when f fails, and its driver then tests
+ * convergence on the stale step (GSL 2.7, multifit_nlinear/trust.c and
+ * fdf.c), so instead of an error f reports a residual so large that the trial
+ * step is rejected (||f_trial|| >= ||f||) and the trust region shrinks.
+ * Finite, so that 0 * it stays 0 and no NaN reaches the step test.
+ */
+#define OUT_OF_DOMAIN_RESIDUAL 1e100
+
+/* A weighted residual sum below this share of sum w y^2 is an exact fit, at
+   rounding level: (1e-12)^2, well above double precision's 1e-32. */
+#define EXACT_FIT_RSS_REL 1e-24
+/* Bates & Watts' tolerance on the relative offset (see arrank_nlfit_run). */
+#define RELATIVE_OFFSET_TOL 1e-3
+
+typedef struct {
+    arrank_model_fn model;
+    void *ctx;
+    const double *y;
+    size_t n, p;
+    double *par;      /* [p] contiguous copy of the solver's parameters */
+    int grad_failed;  /* the gradient failed at an accepted point */
+    size_t refused;   /* trial points outside the model's domain */
+} nl_problem;
+
+static int load_params(nl_problem *pb, const gsl_vector *x)
+{
+    int finite = 1;
+    for (size_t k = 0; k < pb->p; k++) {
+        pb->par[k] = gsl_vector_get(x, k);
+        finite &= isfinite(pb->par[k]) != 0;
+    }
+    return finite;
+}
+
+static int nl_f(const gsl_vector *x, void *params, gsl_vector *f)
+{
+    nl_problem *pb = params;
+    int ok = load_params(pb, x);
+    for (size_t i = 0; ok && i < pb->n; i++) {
+        double v = NAN;
+        if (pb->model(pb->par, i, pb->ctx, &v, NULL) != 0 || !isfinite(v - pb->y[i]))
+            ok = 0;
+        else
+            gsl_vector_set(f, i, v - pb->y[i]);
+    }
+    if (!ok) {
+        gsl_vector_set_all(f, OUT_OF_DOMAIN_RESIDUAL);
+        pb->refused++;
+    }
+    return GSL_SUCCESS;
+}
+
+static int nl_df(const gsl_vector *x, void *params, gsl_matrix *J)
+{
+    nl_problem *pb = params;
+    int ok = load_params(pb, x);
+    for (size_t i = 0; ok && i < pb->n; i++) {
+        double v = NAN;
+        gsl_vector_view row = gsl_matrix_row(J, i);
+        if (pb->model(pb->par, i, pb->ctx, &v, row.vector.data) != 0)
+            ok = 0;
+        for (size_t k = 0; ok && k < pb->p; k++)
+            ok = isfinite(gsl_matrix_get(J, i, k)) != 0;
+    }
+    if (!ok) {
+        /* Same reason as OUT_OF_DOMAIN_RESIDUAL: flag it, report after the driver. */
+        pb->grad_failed = 1;
+        gsl_matrix_set_zero(J);
+    }
+    return GSL_SUCCESS;
+}
+
+/*
+ * Covariance (J'J)^-1 of the weighted Jacobian, with a rank test that sees
+ * the model and not the units of the parameters.  Column k is scaled by
+ * |b_k| (by the largest scaled norm over ||J_k|| when b_k = 0), so each
+ * column is the change of the model for a relative change of its parameter.
+ * A column that is then negligible is a parameter with no effect at the
+ * solution: the solver has stopped on a flat, saturated region (BoxBOD from
+ * NIST start 1 with plain LM ends at b2 ~ 115, where exp(-b2 x) = 0 and the
+ * gradient vanishes) and its "minimum" is not one.  Returns 0, or -1 when J
+ * is singular in that sense or has a zero or dependent column.
+ */
+static int jacobian_covariance(const gsl_matrix *J, const gsl_vector *b, gsl_matrix *cov,
+                               gsl_vector *scale, gsl_matrix *Js)
+{
+    const size_t n = J->size1, p = J->size2;
+    double s_max = 0;
+    for (size_t k = 0; k < p; k++) {
+        gsl_vector_const_view c = gsl_matrix_const_column(J, k);
+        const double norm = gsl_blas_dnrm2(&c.vector);
+        if (!(norm > 0) || !isfinite(norm))
+            return -1;
+        const double bk = fabs(gsl_vector_get(b, k));
+        if (bk > 0 && norm * bk > s_max)
+            s_max = norm * bk;
+    }
+    if (!(s_max > 0) || !isfinite(s_max))
+        s_max = 1.0;
+    gsl_matrix_memcpy(Js, J);
+    for (size_t k = 0; k < p; k++) {
+        gsl_vector_view c = gsl_matrix_column(Js, k);
+        const double bk = fabs(gsl_vector_get(b, k));
+        const double ck = bk > 0 ? bk : s_max / gsl_blas_dnrm2(&c.vector);
+        gsl_vector_scale(&c.vector, ck);
+        gsl_vector_set(scale, k, ck);
+    }
+    /* numerical rank criterion max(n, p) eps (Golub & Van Loan, sec. 5.4.1) */
+    const double epsrel = (double)(n > p ? n : p) * DBL_EPSILON;
+    if (gsl_multifit_nlinear_covar(Js, epsrel, cov) != GSL_SUCCESS)
+        return -1;
+    for (size_t k = 0; k < p; k++) {
+        /* gsl_multifit_nlinear_covar zeroes the rows of dependent columns */
+        if (!(gsl_matrix_get(cov, k, k) > 0))
+            return -1;
+        for (size_t j = 0; j < p; j++) {
+            /* (J C)'(J C) = C J'J C, so (J'J)^-1 = C [(JC)'(JC)]^-1 C */
+            const double v = gsl_matrix_get(cov, k, j) * gsl_vector_get(scale, k) *
+                             gsl_vector_get(scale, j);
+            if (!isfinite(v))
+                return -1;
+            gsl_matrix_set(cov, k, j, v);
+        }
+    }
+    return 0;
+}
+
+arrank_status arrank_nlfit_run(arrank_model_fn model, void *ctx, size_t n_params, const double *y,
+                               const double *w, size_t n, const double *start,
+                               const arrank_nlfit_options *options, arrank_nlfit *out,
+                               arrank_error *err)
+{
+    if (!model || !y || !start || !out || n_params == 0)
+        return arrank_errorf(err, ARRANK_EINVAL, "'nonlinear fit' needs a model, data, a "
+                                                 "starting point and a result record");
+    memset(out, 0, sizeof *out);
+    /* Refuse before allocating anything: no residual degrees of freedom, no fit. */
+    if (n <= n_params)
+        return arrank_errorf(err, ARRANK_EFIT,
+                             "%zu points are too few for %zu parameters; at least %zu are needed",
+                             n, n_params, n_params + 1);
+    const arrank_nlfit_options opt = options ? *options : arrank_nlfit_defaults();
+    if (opt.max_iter == 0 || !(opt.xtol >= 0) || !(opt.gtol >= 0) || !(opt.ftol >= 0))
+        return arrank_errorf(err, ARRANK_EINVAL,
+                             "'nonlinear fit' options need max_iter > 0 and tolerances >= 0");
+    for (size_t i = 0; i < n; i++) {
+        if (!isfinite(y[i]))
+            return arrank_errorf(err, ARRANK_EFIT, "observation %zu is not finite", i + 1);
+        if (w && (!isfinite(w[i]) || w[i] < 0))
+            return arrank_errorf(err, ARRANK_EFIT, "weight %zu is not finite and >= 0", i + 1);
+    }
+    for (size_t k = 0; k < n_params; k++)
+        if (!isfinite(start[k]))
+            return arrank_errorf(err, ARRANK_EFIT, "starting value %zu is not finite", k + 1);
+
+    const size_t p = n_params;
+    arrank_status st = ARRANK_OK;
+    nl_problem pb = { model, ctx, y, n, p, NULL, 0, 0 };
+    gsl_multifit_nlinear_workspace *work = NULL;
+    gsl_vector *x0 = gsl_vector_alloc(p);
+    gsl_vector *wv = w ? gsl_vector_alloc(n) : NULL;
+    gsl_vector *scale = gsl_vector_alloc(p);
+    gsl_matrix *covm = gsl_matrix_alloc(p, p);
+    gsl_matrix *Js = gsl_matrix_alloc(n, p);
+    pb.par = malloc(p * sizeof *pb.par);
+    out->params = malloc(p * sizeof *out->params);
+    out->se = malloc(p * sizeof *out->se);
+    out->cov = malloc(p * p * sizeof *out->cov);
+
+    gsl_multifit_nlinear_parameters fp = gsl_multifit_nlinear_default_parameters();
+    /* LM with geodesic acceleration (Transtrum & Sethna, arXiv:1201.5885, 2012) or plain LM;
+     * More's scaling makes the steps invariant to the units of the parameters. */
+    fp.trs = opt.geodesic ? gsl_multifit_nlinear_trs_lmaccel : gsl_multifit_nlinear_trs_lm;
+    fp.scale = gsl_multifit_nlinear_scale_more;
+    fp.solver = gsl_multifit_nlinear_solver_qr;
+    if (x0 && (!w || wv) && scale && covm && Js && pb.par && out->params && out->se && out->cov)
+        work = gsl_multifit_nlinear_alloc(gsl_multifit_nlinear_trust, &fp, n, p);
+    if (!work) {
+        st = arrank_errorf(err, ARRANK_ENOMEM, "no memory for a nonlinear fit of %zu points",
+                           n);
+        goto done;
+    }
+    for (size_t k = 0; k < p; k++)
+        gsl_vector_set(x0, k, start[k]);
+    for (size_t i = 0; w && i < n; i++)
+        gsl_vector_set(wv, i, w[i]);
+
+    /* the start must be inside the domain: the solver cannot recover from there */
+    for (size_t i = 0; i < n; i++) {
+        double v = NAN;
+        if (model(start, i, ctx, &v, NULL) != 0 || !isfinite(v)) {
+            st = arrank_errorf(err, ARRANK_EFIT,
+                               "the starting point is outside the model's domain "
+                               "(observation %zu)", i + 1);
+            goto done;
+        }
+    }
+
+    gsl_multifit_nlinear_fdf fdf;
+    memset(&fdf, 0, sizeof fdf);
+    fdf.f = nl_f;
+    fdf.df = nl_df;
+    fdf.fvv = NULL; /* geodesic acceleration by finite differences of f */
+    fdf.n = n;
+    fdf.p = p;
+    fdf.params = &pb;
+    int gs = wv ? gsl_multifit_nlinear_winit(x0, wv, &fdf, work)
+                : gsl_multifit_nlinear_init(x0, &fdf, work);
+    if (gs != GSL_SUCCESS || pb.grad_failed) {
+        st = arrank_errorf(err, ARRANK_EFIT, "the nonlinear fit could not start: %s",
+                           pb.grad_failed ? "the model's gradient is not finite at the start"
+                                          : gsl_strerror(gs));
+        goto done;
+    }
+    int info = 0;
+    gs = gsl_multifit_nlinear_driver(opt.max_iter, opt.xtol, opt.gtol, opt.ftol, NULL, NULL,
+                                     &info, work);
+    out->iterations = gsl_multifit_nlinear_niter(work);
+    /* A stop without convergence is still accepted when the point is a minimum
+       by the relative-offset test below: a start that is already the optimum
+       makes no progress, yet is the answer. */
+    int stalled = 0, stall_why = 0;
+    if (gs == GSL_EMAXITER || gs == GSL_ENOPROG) {
+        /* the driver returns EMAXITER with info ENOPROG when not one step succeeded */
+        stall_why = (gs == GSL_EMAXITER && info == GSL_ENOPROG) ? GSL_ENOPROG : gs;
+        stalled = 1;
+        gs = GSL_SUCCESS;
+    }
+    if (gs != GSL_SUCCESS) {
+        st = arrank_errorf(err, ARRANK_EFIT, "the nonlinear fit failed: %s", gsl_strerror(gs));
+        goto done;
+    }
+    if (pb.grad_failed) {
+        st = arrank_errorf(err, ARRANK_EFIT, "the model's gradient failed at an accepted point");
+        goto done;
+    }
+    const gsl_vector *x = gsl_multifit_nlinear_position(work);
+    const gsl_vector *f = gsl_multifit_nlinear_residual(work);
+    double rss;
+    gsl_blas_ddot(f, f, &rss);
+    if (!isfinite(rss) || rss >= OUT_OF_DOMAIN_RESIDUAL) {
+        st = arrank_errorf(err, ARRANK_EFIT, "the nonlinear fit ended outside the model's "
+                                             "domain");
+        goto done;
+    }
+    if (jacobian_covariance(gsl_multifit_nlinear_jac(work), x, covm, scale, Js) != 0) {
+        st = arrank_errorf(err, ARRANK_EFIT,
+                           "the jacobian is singular at the solution; a parameter has no "
+                           "effect there or the parameters are not separable from these data");
+        goto done;
+    }
+    /*
+     * A stop is a minimum only if the residual is orthogonal to the tangent
+     * plane: the relative offset criterion of Bates & Watts (Nonlinear
+     * Regression Analysis and Its Applications, 1988, sec. 2.2.3), with their
+     * tolerance 0.001.  The driver's step test alone also passes where the
+     * trust region has shrunk to nothing against the edge of the domain.
+     */
+    const double dof = (double)(n - p);
+    /* A residual at rounding level (exact data) leaves the offset ratio as
+       noise over noise: then the fit is exact and the test does not apply. */
+    double ysq = 0.0;
+    for (size_t i = 0; i < n; i++)
+        ysq += (w ? w[i] : 1.0) * y[i] * y[i];
+    const int exact = rss <= EXACT_FIT_RSS_REL * ysq;
+    if (stalled && !(rss > 0 && !exact)) {
+        if (!exact) {
+            st = arrank_errorf(err, ARRANK_ENOCONV,
+                               "the nonlinear fit did not converge after %zu iterations: %s",
+                               out->iterations, gsl_strerror(stall_why));
+            goto done;
+        }
+    } else if (rss > 0 && !exact) {
+        gsl_vector *g = gsl_vector_alloc(p), *Cg = gsl_vector_alloc(p);
+        if (!g || !Cg) {
+            gsl_vector_free(g);
+            gsl_vector_free(Cg);
+            st = arrank_errorf(err, ARRANK_ENOMEM, "no memory for a nonlinear fit of %zu points",
+                               n);
+            goto done;
+        }
+        gsl_blas_dgemv(CblasTrans, 1.0, gsl_multifit_nlinear_jac(work), f, 0.0, g);
+        gsl_blas_dsymv(CblasUpper, 1.0, covm, g, 0.0, Cg);
+        double proj2;
+        gsl_blas_ddot(g, Cg, &proj2);
+        gsl_vector_free(g);
+        gsl_vector_free(Cg);
+        const double orth2 = fmax(rss - proj2, DBL_MIN);
+        const double offset = sqrt(fmax(proj2, 0) / (double)p) / sqrt(orth2 / dof);
+        if (!(offset <= RELATIVE_OFFSET_TOL) && stalled) {
+            st = arrank_errorf(err, ARRANK_ENOCONV,
+                               "the nonlinear fit did not converge after %zu iterations: %s",
+                               out->iterations, gsl_strerror(stall_why));
+            goto done;
+        }
+        if (!(offset <= RELATIVE_OFFSET_TOL)) {
+            st = arrank_errorf(err, ARRANK_ENOCONV,
+                               "the nonlinear fit stopped away from a minimum after %zu "
+                               "iterations (relative offset %.2g > %g; %zu trial points were "
+                               "outside the model's domain)",
+                               out->iterations, offset, RELATIVE_OFFSET_TOL, pb.refused);
+            goto done;
+        }
+    }
+    /* covariance s^2 (J'WJ)^-1 with s^2 = rss/dof, for an unknown error scale */
+    const double s2 = rss / dof;
+    for (size_t k = 0; k < p; k++) {
+        out->params[k] = gsl_vector_get(x, k);
+        for (size_t j = 0; j < p; j++)
+            out->cov[k * p + j] = s2 * gsl_matrix_get(covm, k, j);
+        out->se[k] = sqrt(out->cov[k * p + k]);
+    }
+    out->n_params = p;
+    out->rss = rss;
+    out->dof = dof;
+
+done:
+    if (st != ARRANK_OK) {
+        const size_t iterations = out->iterations;
+        arrank_nlfit_clear(out);
+        out->iterations = iterations;
+    }
+    gsl_multifit_nlinear_free(work);
+    gsl_matrix_free(Js);
+    gsl_matrix_free(covm);
+    gsl_vector_free(scale);
+    gsl_vector_free(wv);
+    gsl_vector_free(x0);
+    free(pb.par);
     return st;
 }
 

@@ -6,6 +6,8 @@
 
 #include <stddef.h>
 
+#include <jansson.h>
+
 #include "arrank/analysis.h"
 
 /* strdup that returns NULL for NULL. */
@@ -17,5 +19,35 @@ double arrank_chi2_upper_p(double x, double k);
 /* Refit a result on the points marked in res->used (analysis.c).  A fit that
    is impossible sets res->error; only ENOMEM is returned as a failure. */
 arrank_status arrank_result_refit(arrank_result *res, arrank_error *err);
+
+/* ---- rank.c: ranking statistics and extra models (rank.h, models.h) ---- */
+
+/* For options.model == EYRING: refuse a campaign whose rates are not
+   turnover frequencies (EINVAL) and give the factor from the report unit to
+   1/s.  1 otherwise.  EUNIT when the unit cannot be read. */
+arrank_status arrank_models_prepare(const arrank_campaign *campaign, const arrank_options *opt,
+                                    double *rate_to_per_s, arrank_error *err);
+
+/* Per-sample fit step for --errors absolute (replaces res->fit by the
+   rate-space fit) and --model modified|eyring (fills res->stats->model).  A fit
+   that fails sets res->error; only ENOMEM is returned as a failure. */
+arrank_status arrank_models_apply(arrank_result *res, const arrank_options *opt,
+                                  double rate_to_per_s, arrank_error *err);
+
+/* Replace res->at_T by the model's prediction when a model was fitted. */
+arrank_status arrank_models_predict(arrank_result *res, const arrank_options *opt,
+                                    arrank_error *err);
+
+/* Per-sample JSON parts, to merge into the sample's object (json_object_update):
+   "p_best", "group" (null when not grouped), "p_beats" (object keyed by the
+   other sample's id; top samples only), "rate_at_T_ci_bootstrap" ([lo, hi],
+   report unit) with "bootstrap_resamples", and "model" when one was fitted.
+   New reference (an empty object when nothing was computed); NULL on ENOMEM. */
+json_t *arrank_sample_stats_json(const arrank_analysis *a, size_t result_index);
+
+/* Campaign-level JSON parts, to merge into the top object: "compensation"
+   and "ranking_uncertainty" (draws, seed, distribution, group rule, ...).
+   New reference; an empty object when no statistics were computed. */
+json_t *arrank_rank_stats_json(const arrank_analysis *a);
 
 #endif

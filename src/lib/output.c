@@ -20,6 +20,7 @@
 #include <unistd.h>
 
 #include "arrank/version.h"
+#include "arrank/rank.h"
 #include "internal.h"
 
 #define NAME_WIDTH_MAX 28 /* longer sample names are shortened in the table */
@@ -145,7 +146,12 @@ static json_t *sample_json(const arrank_analysis *a, const arrank_result *res, d
         json_array_append_new(notes, json_string(s->notes[i]));
     json_object_set_new(o, "notes", notes);
     json_object_set_new(o, "points", points_json(res));
-    (void)a;
+    /* rank.c: p_best, group, p_beats, bootstrap interval, model */
+    json_t *stats = arrank_sample_stats_json(a, (size_t)(res - a->results));
+    if (stats) {
+        json_object_update(o, stats);
+        json_decref(stats);
+    }
     return o;
 }
 
@@ -171,6 +177,12 @@ static json_t *analysis_json(const arrank_analysis *a)
         json_array_append_new(samples, sample_json(a, res, t));
     }
     json_object_set_new(root, "samples", samples);
+    /* rank.c: compensation and ranking_uncertainty */
+    json_t *rank_stats = arrank_rank_stats_json(a);
+    if (rank_stats) {
+        json_object_update(root, rank_stats);
+        json_decref(rank_stats);
+    }
     json_t *notes = json_array();
     for (size_t i = 0; i < c->n_notes; i++)
         json_array_append_new(notes, json_string(c->notes[i]));
@@ -386,9 +398,17 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
         w_rate = 26;
     size_t w_lna = text_width(lnA_head) > w_la ? text_width(lnA_head) : w_la;
 
+    const int have_stats = a->rank_stats != NULL; /* rank.h */
+    const size_t w_pb = 7, w_grp = 5, w_boot = 26;
     if (a->n_ranked) {
         pad_print(f, "rank", w_rank, 0);
         fputs("  ", f);
+        if (have_stats) {
+            pad_print(f, "P(best)", w_pb, 1);
+            fputs("  ", f);
+            pad_print(f, "group", w_grp, 1);
+            fputs("  ", f);
+        }
     }
     pad_print(f, "sample", name_w, 0);
     fputs("  ", f);
@@ -402,6 +422,10 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
     if (have_T) {
         fputs("  ", f);
         pad_print(f, rate_head, w_rate, 0);
+        if (have_stats && o->bootstrap > 0) {
+            fputs("  ", f);
+            pad_print(f, "bootstrap interval", w_boot, 0);
+        }
     }
     fputs("  flags\n", f);
 
@@ -422,6 +446,21 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
                 snprintf(cell, sizeof cell, "-");
             pad_print(f, cell, w_rank, 1);
             fputs("  ", f);
+            if (have_stats) {
+                const struct arrank_sample_stats *ss = res->rank ? res->stats : NULL;
+                if (ss && isfinite(ss->p_best))
+                    snprintf(cell, sizeof cell, "%.3f", ss->p_best);
+                else
+                    snprintf(cell, sizeof cell, "-");
+                pad_print(f, cell, w_pb, 1);
+                fputs("  ", f);
+                if (ss && ss->group > 0)
+                    snprintf(cell, sizeof cell, "%d", ss->group);
+                else
+                    snprintf(cell, sizeof cell, "-");
+                pad_print(f, cell, w_grp, 1);
+                fputs("  ", f);
+            }
         }
         pad_print(f, name, name_w, 0);
         fputs("  ", f);
@@ -458,6 +497,18 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
             fmt_rate(res->at_T.rate_hi, r2, sizeof r2);
             snprintf(cell, sizeof cell, "%s [%s, %s]", r0, r1, r2);
             pad_print(f, cell, w_rate, 0);
+            if (have_stats && o->bootstrap > 0) {
+                fputs("  ", f);
+                const struct arrank_sample_stats *ss = res->stats;
+                if (ss && ss->has_bootstrap) {
+                    fmt_rate(ss->rate_lo_boot, r1, sizeof r1);
+                    fmt_rate(ss->rate_hi_boot, r2, sizeof r2);
+                    snprintf(cell, sizeof cell, "[%s, %s]", r1, r2);
+                } else {
+                    snprintf(cell, sizeof cell, "-");
+                }
+                pad_print(f, cell, w_boot, 0);
+            }
         }
         char flags[512];
         flags_joined(res->flags, flags, sizeof flags, ", ");
@@ -471,6 +522,30 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
     for (unsigned bit = 1; bit && bit < (1u << ARRANK_FLAG_COUNT); bit <<= 1)
         if (seen_flags & bit)
             fprintf(f, "  %-16s %s\n", arrank_flag_name(bit), arrank_flag_words(bit));
+    if (have_stats) {
+        /* rank.h: what the groups mean, and the compensation verdict in words */
+        fprintf(f, "\nP(best): share of %zu %s draws in which the sample ranks first. "
+                   "Samples in one group\nare not significantly different from the group's "
+                   "first sample (Holm, %g%%).\n",
+                a->rank_stats->draws, o->normal_draws ? "normal" : "Student-t",
+                100.0 * o->confidence);
+        /* the sentence wrapped at 96 columns, for a terminal */
+        const char *w = a->rank_stats->compensation.sentence;
+        while (*w) {
+            size_t len = strlen(w), cut = len;
+            if (len > 96) {
+                cut = 96;
+                while (cut > 0 && w[cut] != ' ')
+                    cut--;
+                if (cut == 0)
+                    cut = 96;
+            }
+            fprintf(f, "%.*s\n", (int)cut, w);
+            w += cut;
+            while (*w == ' ')
+                w++;
+        }
+    }
     if (have_T && (seen_flags & ARRANK_FLAG_EXTRAPOLATED))
         fprintf(f, "\nCaution: rates outside the measured temperature range are extrapolations of\n"
                    "apparent kinetics; do not use them for reactor design or safety limits.\n");

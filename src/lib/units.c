@@ -33,8 +33,8 @@ typedef enum { KIND_CONVERSION, KIND_TEMPERATURE, KIND_RATE } entry_kind;
 
 typedef struct {
     entry_kind kind;
-    char *from;   /* normalised unit text */
-    char *to;     /* normalised target unit text ("" for temperature and rate) */
+    char *from;   /* unit text as the caller gave it: a hit costs no normalisation */
+    char *to;     /* target unit text as given ("" for temperature and rate) */
     arrank_conversion conv;
     arrank_basis basis;
 } cache_entry;
@@ -275,15 +275,15 @@ arrank_status arrank_units_temperature(arrank_units *units, const char *unit,
 {
     if (!units || !unit || !to_K)
         return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_units_temperature");
-    char norm[UNIT_TEXT_MAX];
-    if (normalise(unit, 1, norm) != 0)
-        return arrank_errorf(err, ARRANK_EUNIT, "unit text is longer than %d bytes",
-                             UNIT_TEXT_MAX - 1);
-    cache_entry *e = cache_find(units, KIND_TEMPERATURE, norm, "");
+    cache_entry *e = cache_find(units, KIND_TEMPERATURE, unit, "");
     if (e) {
         *to_K = e->conv;
         return ARRANK_OK;
     }
+    char norm[UNIT_TEXT_MAX];
+    if (normalise(unit, 1, norm) != 0)
+        return arrank_errorf(err, ARRANK_EUNIT, "unit text is longer than %d bytes",
+                             UNIT_TEXT_MAX - 1);
     arrank_status st;
     ut_unit *u = parse_unit(units, norm, unit, err, &st);
     if (!u)
@@ -297,7 +297,7 @@ arrank_status arrank_units_temperature(arrank_units *units, const char *unit,
     ut_free(u);
     if (st != ARRANK_OK)
         return st;
-    cache_put(units, KIND_TEMPERATURE, norm, "", conv, ARRANK_BASIS_UNKNOWN);
+    cache_put(units, KIND_TEMPERATURE, unit, "", conv, ARRANK_BASIS_UNKNOWN);
     *to_K = conv;
     return ARRANK_OK;
 }
@@ -307,16 +307,16 @@ arrank_status arrank_units_rate(arrank_units *units, const char *unit, arrank_ba
 {
     if (!units || !unit || !basis || !to_si)
         return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_units_rate");
-    char norm[UNIT_TEXT_MAX];
-    if (normalise(unit, 0, norm) != 0)
-        return arrank_errorf(err, ARRANK_EUNIT, "unit text is longer than %d bytes",
-                             UNIT_TEXT_MAX - 1);
-    cache_entry *e = cache_find(units, KIND_RATE, norm, "");
+    cache_entry *e = cache_find(units, KIND_RATE, unit, "");
     if (e) {
         *basis = e->basis;
         *to_si = e->conv;
         return ARRANK_OK;
     }
+    char norm[UNIT_TEXT_MAX];
+    if (normalise(unit, 0, norm) != 0)
+        return arrank_errorf(err, ARRANK_EUNIT, "unit text is longer than %d bytes",
+                             UNIT_TEXT_MAX - 1);
     arrank_status st;
     ut_unit *u = parse_unit(units, norm, unit, err, &st);
     if (!u)
@@ -339,15 +339,15 @@ arrank_status arrank_units_rate(arrank_units *units, const char *unit, arrank_ba
         ut_free(u);
         if (st != ARRANK_OK)
             return st;
-        cache_put(units, KIND_RATE, norm, "", conv, bases[i].basis);
+        cache_put(units, KIND_RATE, unit, "", conv, bases[i].basis);
         *basis = bases[i].basis;
         *to_si = conv;
         return ARRANK_OK;
     }
     ut_free(u);
     return arrank_errorf(err, ARRANK_EUNIT,
-                         "'%s' is not a rate per mass, per area or per site "
-                         "(e.g. umol/(g*s), umol/(m2*s), 1/s)",
+                         "'%s' is not a rate per mass, area or site "
+                         "(such as umol/(g*s), umol/(m2*s) or 1/s)",
                          unit);
 }
 
@@ -356,15 +356,15 @@ arrank_status arrank_units_conversion(arrank_units *units, const char *from, con
 {
     if (!units || !from || !to || !conv)
         return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_units_conversion");
-    char nfrom[UNIT_TEXT_MAX], nto[UNIT_TEXT_MAX];
-    if (normalise(from, 0, nfrom) != 0 || normalise(to, 0, nto) != 0)
-        return arrank_errorf(err, ARRANK_EUNIT, "unit text is longer than %d bytes",
-                             UNIT_TEXT_MAX - 1);
-    cache_entry *e = cache_find(units, KIND_CONVERSION, nfrom, nto);
+    cache_entry *e = cache_find(units, KIND_CONVERSION, from, to);
     if (e) {
         *conv = e->conv;
         return ARRANK_OK;
     }
+    char nfrom[UNIT_TEXT_MAX], nto[UNIT_TEXT_MAX];
+    if (normalise(from, 0, nfrom) != 0 || normalise(to, 0, nto) != 0)
+        return arrank_errorf(err, ARRANK_EUNIT, "unit text is longer than %d bytes",
+                             UNIT_TEXT_MAX - 1);
     arrank_status st;
     ut_unit *uf = parse_unit(units, nfrom, from, err, &st);
     if (!uf)
@@ -383,7 +383,7 @@ arrank_status arrank_units_conversion(arrank_units *units, const char *from, con
     ut_free(ut);
     if (st != ARRANK_OK)
         return st;
-    cache_put(units, KIND_CONVERSION, nfrom, nto, c, ARRANK_BASIS_UNKNOWN);
+    cache_put(units, KIND_CONVERSION, from, to, c, ARRANK_BASIS_UNKNOWN);
     *conv = c;
     return ARRANK_OK;
 }

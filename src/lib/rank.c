@@ -1,0 +1,1029 @@
+/*
+ * rank.c - how sure is the ranking: P(best), groups, compensation, bootstrap
+ * (arrank/rank.h).
+ *
+ * Every key the ranking uses (ln r at the operating temperature, -Ea, ln A)
+ * is linear in a sample's fitted parameters, key = g'p.  Drawing p = p_hat +
+ * s L z (L the Cholesky factor of the covariance, z standard normal, s = 1
+ * for the normal or sqrt(nu/W), W ~ chi2(nu), for the multivariate t) and
+ * forming g'p is the same as key = g'p_hat + s (L'g)'z, so each sample keeps
+ * only its key, the vector a = L'g and its dof.  One pass over the draws, no
+ * allocation inside it, two or three normal deviates and one chi-square per
+ * sample per draw, on two threads (below).
+ */
+#include "arrank/rank.h"
+
+#include <math.h>
+#include <pthread.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <gsl/gsl_cdf.h>
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_fit.h>
+#include <gsl/gsl_randist.h>
+#include <gsl/gsl_rng.h>
+#include <gsl/gsl_sort.h>
+#include <gsl/gsl_statistics_double.h>
+
+#include "arrank/units.h"
+#include "internal.h"
+
+/* One sample in the Monte Carlo: key = mean + s * sum_k a[k] z_k. */
+typedef struct {
+    double mean;
+    double a[3];
+    size_t n_z;
+    double dof; /* INFINITY: normal */
+} key_draw;
+
+/*
+ * Cholesky factor of a symmetric positive semi-definite p x p matrix (p <= 3),
+ * lower triangular (Golub & Van Loan, Matrix Computations, 4th ed., Alg. 4.2.1);
+ * a zero or negative pivot (a fixed or exactly known parameter) gives a zero
+ * column instead of a failure.
+ */
+static void cholesky_small(const double C[3][3], size_t p, double L[3][3])
+{
+    memset(L, 0, 9 * sizeof L[0][0]);
+    for (size_t j = 0; j < p; j++) {
+        double s = C[j][j];
+        for (size_t k = 0; k < j; k++)
+            s -= L[j][k] * L[j][k];
+        L[j][j] = s > 0 ? sqrt(s) : 0.0;
+        for (size_t i = j + 1; i < p; i++) {
+            double t = C[i][j];
+            for (size_t k = 0; k < j; k++)
+                t -= L[i][k] * L[j][k];
+            L[i][j] = L[j][j] > 0 ? t / L[j][j] : 0.0;
+        }
+    }
+}
+
+/* key_draw from parameters p[np], covariance C and key gradient g (a = L'g). */
+static key_draw make_draw(const double *p, const double C[3][3], const double *g, size_t np,
+                          double dof, int normal)
+{
+    key_draw kd;
+    double L[3][3];
+    cholesky_small(C, np, L);
+    kd.mean = 0;
+    for (size_t k = 0; k < np; k++)
+        kd.mean += g[k] * p[k];
+    for (size_t k = 0; k < 3; k++) {
+        kd.a[k] = 0;
+        for (size_t i = k; i < np; i++)
+            kd.a[k] += L[i][k] * g[i];
+    }
+    kd.n_z = np;
+    kd.dof = normal ? INFINITY : dof;
+    return kd;
+}
+
+/* Standard error of the key: sqrt(g'Cg) = |L'g|. */
+static double draw_se(const key_draw *kd)
+{
+    double s = 0;
+    for (size_t k = 0; k < kd->n_z; k++)
+        s += kd->a[k] * kd->a[k];
+    return sqrt(s);
+}
+
+/* Key gradient of a plain Arrhenius fit over (b0, b1). */
+static void arrhenius_gradient(const arrank_arrhenius *f, arrank_rank_by by, double temp_K,
+                               double g[2])
+{
+    switch (by) {
+    case ARRANK_BY_EA: /* key -Ea = R b1: lower Ea ranks higher */
+        g[0] = 0.0;
+        g[1] = ARRANK_R_J_MOL_K;
+        return;
+    case ARRANK_BY_PREFACTOR: /* ln A = b0 - b1/T_ref */
+        g[0] = 1.0;
+        g[1] = -1.0 / f->T_ref_K;
+        return;
+    case ARRANK_BY_RATE: break;
+    }
+    g[0] = 1.0;
+    g[1] = 1.0 / temp_K - 1.0 / f->T_ref_K;
+}
+
+static key_draw arrhenius_draw(const arrank_arrhenius *f, arrank_rank_by by, double temp_K,
+                               int normal)
+{
+    const double p[2] = {f->b0, f->b1};
+    const double C[3][3] = {{f->cov[0][0], f->cov[0][1], 0}, {f->cov[1][0], f->cov[1][1], 0},
+                            {0, 0, 0}};
+    double g[2];
+    arrhenius_gradient(f, by, temp_K, g);
+    return make_draw(p, C, g, 2, f->dof, normal);
+}
+
+/*
+ * The Monte Carlo runs as ARRANK_RANK_STREAMS independent streams, each with
+ * its own generator (GSL taus2, L'Ecuyer 1996: fast, period 2^88) seeded with
+ * seed + stream * STREAM_SEED_STEP, and an equal share of the draws.  The
+ * streams run on threads when the system gives them, one after the other
+ * otherwise; the numbers are the same either way.
+ */
+#define ARRANK_RANK_STREAMS 2
+#define STREAM_SEED_STEP 0x9E3779B97F4A7C15ull
+
+typedef struct {
+    const key_draw *kd;
+    size_t n, n_top, draws;
+    unsigned long seed;
+    size_t *best;     /* [n] */
+    size_t *beats;    /* [n_top * n_top] */
+    double *top_key;  /* [n_top] */
+    int failed;
+} mc_stream;
+
+static void *mc_run(void *arg)
+{
+    mc_stream *m = arg;
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_taus2);
+    if (!rng) {
+        m->failed = 1;
+        return NULL;
+    }
+    gsl_rng_set(rng, m->seed);
+    const key_draw *kd = m->kd;
+    const size_t n = m->n, n_top = m->n_top;
+    for (size_t d = 0; d < m->draws; d++) {
+        double best_key = -INFINITY;
+        size_t arg_best = 0;
+        for (size_t i = 0; i < n; i++) {
+            const key_draw *k = &kd[i];
+            double s = 0;
+            for (size_t j = 0; j < k->n_z; j++)
+                s += k->a[j] * gsl_ran_gaussian_ziggurat(rng, 1.0);
+            /* multivariate t: one chi-square per sample and draw scales the whole vector
+               (Kotz & Nadarajah, Multivariate t Distributions, 2004, eq. 1.1) */
+            if (isfinite(k->dof))
+                s *= sqrt(k->dof / gsl_ran_chisq(rng, k->dof));
+            const double key = k->mean + s;
+            if (i < n_top)
+                m->top_key[i] = key;
+            if (key > best_key) {
+                best_key = key;
+                arg_best = i;
+            }
+        }
+        m->best[arg_best]++;
+        for (size_t i = 0; i < n_top; i++)
+            for (size_t j = 0; j < n_top; j++)
+                if (m->top_key[i] > m->top_key[j])
+                    m->beats[i * n_top + j]++;
+    }
+    gsl_rng_free(rng);
+    return NULL;
+}
+
+/* The Monte Carlo: see the top of this file and arrank_rank_pbest in rank.h. */
+static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, unsigned long seed,
+                                  size_t n_top, double *p_best, double *p_beats,
+                                  arrank_error *err)
+{
+    if (draws == 0)
+        return arrank_errorf(err, ARRANK_EINVAL, "'draws' must be at least 1");
+    if (n_top > n)
+        return arrank_errorf(err, ARRANK_EINVAL, "%zu samples asked for the pairwise matrix, "
+                                                 "only %zu ranked", n_top, n);
+    if (n == 0)
+        return ARRANK_OK;
+    mc_stream m[ARRANK_RANK_STREAMS];
+    memset(m, 0, sizeof m);
+    arrank_status st = ARRANK_OK;
+    for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++) {
+        m[c].kd = kd;
+        m[c].n = n;
+        m[c].n_top = n_top;
+        m[c].draws = draws / ARRANK_RANK_STREAMS + (c < draws % ARRANK_RANK_STREAMS);
+        m[c].seed = (unsigned long)(seed + c * STREAM_SEED_STEP);
+        m[c].best = calloc(n, sizeof *m[c].best);
+        m[c].beats = calloc(n_top * n_top + 1, sizeof *m[c].beats);
+        m[c].top_key = malloc((n_top + 1) * sizeof *m[c].top_key);
+        if (!m[c].best || !m[c].beats || !m[c].top_key)
+            st = arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu samples of draws", n);
+    }
+    if (st == ARRANK_OK) {
+        pthread_t th[ARRANK_RANK_STREAMS];
+        int started[ARRANK_RANK_STREAMS] = {0};
+        for (size_t c = 1; c < ARRANK_RANK_STREAMS; c++)
+            started[c] = pthread_create(&th[c], NULL, mc_run, &m[c]) == 0;
+        mc_run(&m[0]);
+        for (size_t c = 1; c < ARRANK_RANK_STREAMS; c++) {
+            if (started[c])
+                pthread_join(th[c], NULL);
+            else
+                mc_run(&m[c]);
+        }
+        for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++)
+            if (m[c].failed)
+                st = arrank_errorf(err, ARRANK_ENOMEM, "no memory for a random generator");
+    }
+    if (st == ARRANK_OK) {
+        for (size_t i = 0; i < n; i++) {
+            size_t b = 0;
+            for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++)
+                b += m[c].best[i];
+            p_best[i] = (double)b / (double)draws;
+        }
+        if (p_beats)
+            for (size_t i = 0; i < n_top * n_top; i++) {
+                size_t b = 0;
+                for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++)
+                    b += m[c].beats[i];
+                p_beats[i] = i / n_top == i % n_top ? NAN : (double)b / (double)draws;
+            }
+    }
+    for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++) {
+        free(m[c].best);
+        free(m[c].beats);
+        free(m[c].top_key);
+    }
+    return st;
+}
+
+arrank_status arrank_rank_pbest(const arrank_arrhenius *const *fits, size_t n, arrank_rank_by by,
+                                double temp_K, size_t draws, unsigned long seed,
+                                int normal_draws, size_t n_top, double *p_best, double *p_beats,
+                                arrank_error *err)
+{
+    if (by == ARRANK_BY_RATE && !(isfinite(temp_K) && temp_K > 0))
+        return arrank_errorf(err, ARRANK_EINVAL,
+                             "ranking by rate needs a positive operating temperature, got '%g K'",
+                             temp_K);
+    key_draw *kd = malloc((n ? n : 1) * sizeof *kd);
+    if (!kd)
+        return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu samples of draws", n);
+    for (size_t i = 0; i < n; i++)
+        kd[i] = arrhenius_draw(fits[i], by, temp_K, normal_draws);
+    arrank_status st = pbest_engine(kd, n, draws, seed, n_top, p_best, p_beats, err);
+    free(kd);
+    return st;
+}
+
+/* ---- Holm and groups ---------------------------------------------------- */
+
+arrank_status arrank_rank_holm(const double *p, size_t m, double *adj, arrank_error *err)
+{
+    for (size_t i = 0; i < m; i++)
+        if (!(p[i] >= 0 && p[i] <= 1))
+            return arrank_errorf(err, ARRANK_EINVAL, "p-value %zu is '%g', not in [0, 1]", i + 1,
+                                 p[i]);
+    if (m == 0)
+        return ARRANK_OK;
+    size_t *idx = malloc(m * sizeof *idx);
+    double *tmp = malloc(m * sizeof *tmp);
+    if (!idx || !tmp) {
+        free(idx);
+        free(tmp);
+        return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu p-values", m);
+    }
+    gsl_sort_index(idx, p, 1, m);
+    /* Holm (1979): the k-th smallest is compared with alpha/(m - k + 1); the
+       running maximum makes the adjusted values monotone, so "reject while
+       adj <= alpha" is the step-down procedure. */
+    double run = 0;
+    for (size_t k = 0; k < m; k++) {
+        double v = (double)(m - k) * p[idx[k]];
+        if (v > 1)
+            v = 1;
+        if (v > run)
+            run = v;
+        tmp[idx[k]] = run;
+    }
+    memcpy(adj, tmp, m * sizeof *adj);
+    free(idx);
+    free(tmp);
+    return ARRANK_OK;
+}
+
+/* Two-sided p of key_i - key_j with Welch-Satterthwaite dof (rank.h). */
+static double pair_p(double ki, double si, double di, double kj, double sj, double dj)
+{
+    const double v = si * si + sj * sj;
+    const double d = fabs(ki - kj);
+    if (!(v > 0))
+        return d > 0 ? 0.0 : 1.0;
+    const double z = d / sqrt(v);
+    /* Welch (1947): nu = v^2 / (si^4/nu_i + sj^4/nu_j), an infinite nu adds nothing */
+    double den = 0;
+    if (isfinite(di))
+        den += si * si * si * si / di;
+    if (isfinite(dj))
+        den += sj * sj * sj * sj / dj;
+    if (!(den > 0))
+        return 2.0 * gsl_cdf_ugaussian_Q(z);
+    return 2.0 * gsl_cdf_tdist_Q(z, v * v / den);
+}
+
+arrank_status arrank_rank_groups(const double *key, const double *key_se, const double *dof,
+                                 size_t n, double alpha, int *group, size_t *n_tests,
+                                 arrank_error *err)
+{
+    if (!(alpha > 0 && alpha < 1))
+        return arrank_errorf(err, ARRANK_EINVAL, "significance level '%g' is not in (0, 1)",
+                             alpha);
+    const size_t G = n < ARRANK_GROUP_MAX ? n : ARRANK_GROUP_MAX;
+    const size_t m = G * (G > 0 ? G - 1 : 0) / 2;
+    if (n_tests)
+        *n_tests = m;
+    for (size_t i = 0; i < n; i++)
+        group[i] = 0;
+    if (G == 0)
+        return ARRANK_OK;
+    double *p = calloc(m ? m : 1, sizeof *p);
+    if (!p)
+        return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu pairwise tests", m);
+    /* pair (i, j), i < j, at row-major upper-triangle position */
+#define PAIR(i, j) ((i) * (2 * G - (i)-1) / 2 + ((j) - (i)-1))
+    for (size_t i = 0; i < G; i++)
+        for (size_t j = i + 1; j < G; j++)
+            p[PAIR(i, j)] = pair_p(key[i], key_se[i], dof[i], key[j], key_se[j], dof[j]);
+    arrank_status st = arrank_rank_holm(p, m, p, err);
+    if (st != ARRANK_OK) {
+        free(p);
+        return st;
+    }
+    int g = 1;
+    size_t leader = 0;
+    group[0] = 1;
+    for (size_t k = 1; k < G; k++) {
+        if (p[PAIR(leader, k)] <= alpha) {
+            g++;
+            leader = k;
+        }
+        group[k] = g;
+    }
+#undef PAIR
+    free(p);
+    return ARRANK_OK;
+}
+
+/* ---- compensation -------------------------------------------------------- */
+
+const char *arrank_comp_verdict_words(arrank_comp_verdict verdict)
+{
+    switch (verdict) {
+    case ARRANK_COMP_TOO_FEW: return "too few samples";
+    case ARRANK_COMP_NONE: return "no compensation";
+    case ARRANK_COMP_ARTIFACT: return "consistent with a statistical artifact";
+    case ARRANK_COMP_REAL: return "not explained by error correlation";
+    }
+    return "unknown";
+}
+
+/* Least-squares line y = c0 + c1 x with the two-sided p of c1 = 0 (t, n - 2 dof). */
+static int line_fit(const double *x, const double *y, size_t n, double *c0, double *c1,
+                    double *se0, double *se1, double *p1)
+{
+    double cov00, cov01, cov11, ss;
+    int gs = gsl_fit_linear(x, 1, y, 1, n, c0, c1, &cov00, &cov01, &cov11, &ss);
+    if (gs != GSL_SUCCESS || !isfinite(*c1))
+        return -1;
+    /* GSL scales the covariance by the scatter about the line, ss/(n - 2). */
+    *se0 = sqrt(cov00 > 0 ? cov00 : 0);
+    *se1 = sqrt(cov11 > 0 ? cov11 : 0);
+    if (*se1 > 0)
+        *p1 = 2.0 * gsl_cdf_tdist_Q(fabs(*c1) / *se1, (double)n - 2.0);
+    else
+        *p1 = *c1 != 0 ? 0.0 : 1.0;
+    return 0;
+}
+
+static double ln_rate_at(const arrank_arrhenius *f, double temp_K)
+{
+    return f->b0 + f->b1 * (1.0 / temp_K - 1.0 / f->T_ref_K);
+}
+
+static void compensation_sentence(arrank_compensation *c)
+{
+    const int pct = (int)lround(100.0 * c->confidence);
+    char iso[160];
+    if (c->T_iso_bounded)
+        snprintf(iso, sizeof iso, "%.0f K (%d %% interval %.0f to %.0f K)", c->T_iso_K, pct,
+                 c->T_iso_lo_K, c->T_iso_hi_K);
+    else
+        snprintf(iso, sizeof iso, "%.0f K (%d %% interval unbounded)", c->T_iso_K, pct);
+    switch (c->verdict) {
+    case ARRANK_COMP_TOO_FEW:
+        snprintf(c->sentence, sizeof c->sentence,
+                 "compensation: %zu ranked samples are too few to test a line of ln A on Ea "
+                 "(at least %d are needed)", c->n, ARRANK_COMP_MIN);
+        break;
+    case ARRANK_COMP_NONE:
+        snprintf(c->sentence, sizeof c->sentence,
+                 "compensation: ln A does not rise significantly with Ea across the %zu samples "
+                 "(p = %.2g), so there is no compensation line to explain", c->n, c->slope_p);
+        break;
+    case ARRANK_COMP_ARTIFACT: {
+        char why[384];
+        if (c->T_hm_inside)
+            snprintf(why, sizeof why, "the lines would cross at %s, which holds the harmonic "
+                     "mean of the measured temperatures, %.0f K", iso, c->T_hm_K);
+        else
+            snprintf(why, sizeof why, "Ea does not track ln r at the harmonic mean of the "
+                     "measured temperatures, %.0f K (p = %.2g)", c->T_hm_K, c->hm_p);
+        snprintf(c->sentence, sizeof c->sentence,
+                 "compensation: ln A rises with Ea (r = %.3f), but %s: consistent with a "
+                 "statistical artifact; correlated errors of Ea and ln A make such a line on "
+                 "their own, and it says nothing about the catalysts", c->corr, why);
+        break;
+    }
+    case ARRANK_COMP_REAL:
+        snprintf(c->sentence, sizeof c->sentence,
+                 "compensation: ln A rises with Ea (r = %.3f) and the lines cross near %s, away "
+                 "from the harmonic mean of the measured temperatures, %.0f K, and Ea tracks "
+                 "ln r there (p = %.2g): not explained by error correlation; the ranking "
+                 "reverses across "
+                 "the isokinetic temperature, so do not extrapolate it past that point",
+                 c->corr, iso, c->T_hm_K, c->hm_p);
+        break;
+    }
+}
+
+arrank_status arrank_rank_compensation(const arrank_arrhenius *const *fits, size_t n,
+                                       double T_hm_K, double confidence,
+                                       arrank_compensation *out, arrank_error *err)
+{
+    if (!(confidence > 0 && confidence < 1))
+        return arrank_errorf(err, ARRANK_EINVAL, "confidence '%g' is not in (0, 1)", confidence);
+    memset(out, 0, sizeof *out);
+    out->n = n;
+    out->confidence = confidence;
+    out->T_hm_K = T_hm_K;
+    const double nan = NAN;
+    out->slope_mol_J = out->slope_se_mol_J = out->intercept = out->intercept_se = nan;
+    out->corr = out->slope_p = out->T_iso_K = out->T_iso_lo_K = out->T_iso_hi_K = nan;
+    out->hm_slope_mol_J = out->hm_slope_se_mol_J = out->hm_p = nan;
+    out->exner_T1_K = out->exner_T2_K = out->exner_slope = out->exner_slope_se = nan;
+    out->exner_T_iso_K = nan;
+    if (n < ARRANK_COMP_MIN) {
+        out->verdict = ARRANK_COMP_TOO_FEW;
+        compensation_sentence(out);
+        return ARRANK_OK;
+    }
+    double *buf = malloc(4 * n * sizeof *buf);
+    if (!buf)
+        return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu samples", n);
+    double *ea = buf, *lnA = buf + n, *l1 = buf + 2 * n, *l2 = buf + 3 * n;
+    double t1 = 0, t2 = INFINITY, tmin = INFINITY, tmax = 0;
+    for (size_t i = 0; i < n; i++) {
+        ea[i] = fits[i]->ea_J_mol;
+        lnA[i] = fits[i]->ln_A;
+        t1 = fmax(t1, fits[i]->T_min_K);
+        t2 = fmin(t2, fits[i]->T_max_K);
+        tmin = fmin(tmin, fits[i]->T_min_K);
+        tmax = fmax(tmax, fits[i]->T_max_K);
+    }
+    const double alpha = 1.0 - confidence, R = ARRANK_R_J_MOL_K;
+    double c0, c1, se0, se1, p1;
+    if (line_fit(ea, lnA, n, &c0, &c1, &se0, &se1, &p1) != 0) {
+        /* every Ea equal: no line at all */
+        out->verdict = ARRANK_COMP_NONE;
+        out->slope_p = 1.0;
+        compensation_sentence(out);
+        free(buf);
+        return ARRANK_OK;
+    }
+    out->intercept = c0;
+    out->intercept_se = se0;
+    out->slope_mol_J = c1;
+    out->slope_se_mol_J = se1;
+    out->slope_p = p1;
+    out->corr = gsl_stats_correlation(ea, 1, lnA, 1, n);
+    /* ln A = alpha + Ea/(R T_iso) (Constable 1925): T_iso = 1/(R slope). */
+    out->T_iso_K = 1.0 / (R * c1);
+    /* Fieller for a reciprocal: T_iso is in the set {1/(R b)} over b in the
+       slope's t interval, bounded when that interval excludes 0. */
+    const double t = arrank_t_quantile(confidence, (double)n - 2.0);
+    const double lo = c1 - t * se1, hi = c1 + t * se1;
+    if (lo > 0 || hi < 0) {
+        out->T_iso_bounded = 1;
+        out->T_iso_lo_K = 1.0 / (R * hi);
+        out->T_iso_hi_K = 1.0 / (R * lo);
+        out->T_hm_inside = T_hm_K >= out->T_iso_lo_K && T_hm_K <= out->T_iso_hi_K;
+    } else {
+        /* the outside of (1/(R lo), 1/(R hi)): lo_K > hi_K marks it (rank.h) */
+        out->T_iso_bounded = 0;
+        out->T_iso_lo_K = hi > 0 ? 1.0 / (R * hi) : INFINITY;
+        out->T_iso_hi_K = lo < 0 ? 1.0 / (R * lo) : -INFINITY;
+        out->T_hm_inside = T_hm_K >= out->T_iso_lo_K || T_hm_K <= out->T_iso_hi_K;
+    }
+
+    /* Krug, Hunter & Grieger (1976): ln r(T_hm) and Ea have uncorrelated errors. */
+    for (size_t i = 0; i < n; i++)
+        l1[i] = ln_rate_at(fits[i], T_hm_K);
+    double h0, h1, hse0, hse1, hp;
+    if (line_fit(ea, l1, n, &h0, &h1, &hse0, &hse1, &hp) == 0) {
+        out->hm_slope_mol_J = h1;
+        out->hm_slope_se_mol_J = hse1;
+        out->hm_p = hp;
+    } else {
+        out->hm_p = 1.0;
+    }
+
+    /* Exner (1964): ln r(T2) on ln r(T1) over the common range (else the whole range). */
+    if (!(t2 > t1)) {
+        t1 = tmin;
+        t2 = tmax;
+    }
+    out->exner_T1_K = t1;
+    out->exner_T2_K = t2;
+    for (size_t i = 0; i < n; i++) {
+        l1[i] = ln_rate_at(fits[i], t1);
+        l2[i] = ln_rate_at(fits[i], t2);
+    }
+    double e0, e1, ese0, ese1, ep;
+    if (t2 > t1 && line_fit(l1, l2, n, &e0, &e1, &ese0, &ese1, &ep) == 0) {
+        out->exner_slope = e1;
+        out->exner_slope_se = ese1;
+        /* slope b = (1/T_iso - 1/T2)/(1/T_iso - 1/T1) solved for T_iso */
+        const double den = e1 * t2 - t1;
+        out->exner_T_iso_K = (e1 != 1.0 && den != 0) ? t1 * t2 * (e1 - 1.0) / den : NAN;
+    }
+    free(buf);
+
+    if (!(c1 > 0) || !(p1 < alpha))
+        out->verdict = ARRANK_COMP_NONE;
+    else if (out->T_hm_inside || !(out->hm_p < alpha))
+        out->verdict = ARRANK_COMP_ARTIFACT;
+    else
+        out->verdict = ARRANK_COMP_REAL;
+    compensation_sentence(out);
+    return ARRANK_OK;
+}
+
+/* ---- bootstrap ----------------------------------------------------------- */
+
+arrank_status arrank_rank_bootstrap(const double *temp_K, const double *rate, const double *w,
+                                    size_t n, const arrank_arrhenius *fit, double temp_op_K,
+                                    double confidence, size_t resamples, unsigned long seed,
+                                    double *rate_lo, double *rate_hi, size_t *n_ok,
+                                    arrank_error *err)
+{
+    if (resamples < 2 || n < 3)
+        return arrank_errorf(err, ARRANK_EINVAL,
+                             "a bootstrap needs at least 2 resamples and 3 points, got %zu and %zu",
+                             resamples, n);
+    if (!(confidence > 0 && confidence < 1) || !(temp_op_K > 0))
+        return arrank_errorf(err, ARRANK_EINVAL, "bootstrap confidence or temperature out of "
+                                                 "range");
+    double *buf = malloc((5 * n + resamples) * sizeof *buf);
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_taus2);
+    if (!buf || !rng) {
+        free(buf);
+        gsl_rng_free(rng);
+        return arrank_errorf(err, ARRANK_ENOMEM, "no memory for a bootstrap of %zu resamples",
+                             resamples);
+    }
+    double *x = buf, *wt = buf + n, *yhat = buf + 2 * n, *res = buf + 3 * n, *ys = buf + 4 * n;
+    double *out = buf + 5 * n;
+    double sw = 0, swx = 0;
+    for (size_t i = 0; i < n; i++) {
+        x[i] = 1.0 / temp_K[i] - 1.0 / fit->T_ref_K;
+        wt[i] = w ? w[i] : 1.0;
+        sw += wt[i];
+        swx += wt[i] * x[i];
+    }
+    const double xbar = swx / sw;
+    double sxx = 0;
+    for (size_t i = 0; i < n; i++)
+        sxx += wt[i] * (x[i] - xbar) * (x[i] - xbar);
+    /* Standardised residuals sqrt(w) e / sqrt(1 - h), centred (Davison & Hinkley 1997,
+       eq. 6.9 and Alg. 6.1); h = w (1/sum w + (x - xbar)^2 / Sxx) for a weighted line. */
+    double rmean = 0;
+    for (size_t i = 0; i < n; i++) {
+        yhat[i] = fit->b0 + fit->b1 * x[i];
+        const double e = log(rate[i]) - yhat[i];
+        const double h = wt[i] * (1.0 / sw + (x[i] - xbar) * (x[i] - xbar) / sxx);
+        res[i] = sqrt(wt[i]) * e / sqrt(h < 1 ? 1.0 - h : 1.0);
+        rmean += res[i] / (double)n;
+    }
+    for (size_t i = 0; i < n; i++)
+        res[i] -= rmean;
+    gsl_rng_set(rng, seed);
+    const double x_op = 1.0 / temp_op_K - 1.0 / fit->T_ref_K;
+    for (size_t b = 0; b < resamples; b++) {
+        double swy = 0;
+        for (size_t i = 0; i < n; i++) {
+            const size_t j = (size_t)gsl_rng_uniform_int(rng, n);
+            ys[i] = yhat[i] + res[j] / sqrt(wt[i]);
+            swy += wt[i] * ys[i];
+        }
+        const double ybar = swy / sw;
+        double sxy = 0;
+        for (size_t i = 0; i < n; i++)
+            sxy += wt[i] * (x[i] - xbar) * (ys[i] - ybar);
+        out[b] = ybar + (sxy / sxx) * (x_op - xbar);
+    }
+    gsl_sort(out, 1, resamples);
+    *rate_lo = exp(gsl_stats_quantile_from_sorted_data(out, 1, resamples, 0.5 * (1 - confidence)));
+    *rate_hi = exp(gsl_stats_quantile_from_sorted_data(out, 1, resamples, 0.5 * (1 + confidence)));
+    if (n_ok)
+        *n_ok = resamples;
+    free(buf);
+    gsl_rng_free(rng);
+    return ARRANK_OK;
+}
+
+/* ---- the analysis hooks (internal.h) ------------------------------------ */
+
+/* res->stats, allocated on first use; NULL when out of memory. */
+static struct arrank_sample_stats *stats_of(arrank_result *res)
+{
+    if (!res->stats) {
+        res->stats = calloc(1, sizeof *res->stats);
+        if (res->stats) {
+            res->stats->p_best = NAN;
+            res->stats->top_index = SIZE_MAX;
+            res->stats->rate_lo_boot = res->stats->rate_hi_boot = NAN;
+        }
+    }
+    return res->stats;
+}
+
+void arrank_sample_stats_free(struct arrank_sample_stats *stats)
+{
+    free(stats);
+}
+
+void arrank_rank_stats_free(struct arrank_rank_stats *stats)
+{
+    if (!stats)
+        return;
+    free(stats->top);
+    free(stats->p_beats);
+    free(stats);
+}
+
+arrank_status arrank_models_prepare(const arrank_campaign *campaign, const arrank_options *opt,
+                                    double *rate_to_per_s, arrank_error *err)
+{
+    *rate_to_per_s = 1.0;
+    if (opt->model != ARRANK_MODEL_EYRING)
+        return ARRANK_OK;
+    if (campaign->basis != ARRANK_BASIS_SITE)
+        return arrank_errorf(err, ARRANK_EINVAL,
+                             "model 'eyring' needs turnover frequencies (a rate unit of 1/time); "
+                             "'%s' is a rate per %s",
+                             campaign->rate_unit ? campaign->rate_unit : "",
+                             arrank_basis_name(campaign->basis));
+    arrank_units *units = arrank_units_create(err);
+    if (!units)
+        return err ? err->status : ARRANK_EUNIT;
+    arrank_basis basis;
+    arrank_conversion conv;
+    arrank_status st = arrank_units_rate(units, campaign->rate_unit, &basis, &conv, err);
+    arrank_units_free(units);
+    if (st != ARRANK_OK)
+        return st;
+    *rate_to_per_s = conv.scale;
+    return ARRANK_OK;
+}
+
+arrank_status arrank_models_apply(arrank_result *res, const arrank_options *opt,
+                                  double rate_to_per_s, arrank_error *err)
+{
+    const int absolute = opt->errors == ARRANK_ERRORS_ABSOLUTE;
+    if (!absolute && opt->model == ARRANK_MODEL_ARRHENIUS)
+        return ARRANK_OK;
+    const arrank_sample *s = res->sample;
+    double *buf = malloc(3 * (s->n_points ? s->n_points : 1) * sizeof *buf);
+    if (!buf)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    double *t = buf, *r = buf + s->n_points, *sd = buf + 2 * s->n_points;
+    size_t n = 0;
+    int have_sd = 1;
+    for (size_t i = 0; i < s->n_points; i++) {
+        if (!res->used[i])
+            continue;
+        t[n] = s->points[i].temp_K;
+        r[n] = s->points[i].rate;
+        sd[n] = s->points[i].rate_sd;
+        if (!isfinite(sd[n]))
+            have_sd = 0;
+        n++;
+    }
+    arrank_error fe;
+    arrank_error_clear(&fe);
+    arrank_status st;
+    const char *what;
+    if (opt->model == ARRANK_MODEL_ARRHENIUS) {
+        what = "absolute-error fit";
+        st = arrank_fit_arrhenius_absolute(t, r, have_sd ? sd : NULL, n, &res->fit, &fe);
+    } else {
+        struct arrank_sample_stats *ss = stats_of(res);
+        if (!ss) {
+            free(buf);
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        }
+        const int eyring = opt->model == ARRANK_MODEL_EYRING;
+        what = eyring ? "transition-state fit" : "modified fit";
+        st = arrank_model_fit_run(eyring, absolute, t, r, have_sd ? sd : NULL, n, rate_to_per_s,
+                                  &ss->model, &fe);
+        ss->has_model = st == ARRANK_OK;
+    }
+    free(buf);
+    if (st == ARRANK_ENOMEM)
+        return arrank_errorf(err, st, "out of memory");
+    if (st != ARRANK_OK) {
+        char msg[ARRANK_ERROR_MSG_MAX + 64];
+        snprintf(msg, sizeof msg, "%s: %s", what, fe.message);
+        free(res->error);
+        res->error = arrank_strdup(msg);
+        res->error_line = 0;
+        if (!res->error)
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    }
+    return ARRANK_OK;
+}
+
+arrank_status arrank_models_predict(arrank_result *res, const arrank_options *opt,
+                                    arrank_error *err)
+{
+    if (!res->stats || !res->stats->has_model || !isfinite(opt->operating_temp_K))
+        return ARRANK_OK;
+    return arrank_model_fit_predict(&res->stats->model, opt->operating_temp_K, opt->confidence,
+                                    &res->at_T, err);
+}
+
+/* The key of a ranked result as a draw spec: the model's prediction when one was fitted. */
+static key_draw result_draw(const arrank_result *res, const arrank_options *opt)
+{
+    const int normal = opt->normal_draws;
+    if (opt->by == ARRANK_BY_RATE && res->stats && res->stats->has_model) {
+        const arrank_model_fit *m = &res->stats->model;
+        const double T = opt->operating_temp_K;
+        const double p[3] = {m->b0, m->n_T, m->b1};
+        const double g[3] = {1.0, log(T / m->T_ref_K), 1.0 / T - 1.0 / m->T_ref_K};
+        return make_draw(p, m->cov, g, 3, m->dof, normal);
+    }
+    return arrhenius_draw(&res->fit, opt->by, opt->operating_temp_K, normal);
+}
+
+static arrank_status bootstrap_result(arrank_result *res, const arrank_options *opt,
+                                      unsigned long seed, arrank_error *err)
+{
+    const arrank_sample *s = res->sample;
+    double *buf = malloc(3 * (s->n_points ? s->n_points : 1) * sizeof *buf);
+    if (!buf)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    double *t = buf, *r = buf + s->n_points, *w = buf + 2 * s->n_points;
+    size_t n = 0;
+    for (size_t i = 0; i < s->n_points; i++) {
+        if (!res->used[i])
+            continue;
+        t[n] = s->points[i].temp_K;
+        r[n] = s->points[i].rate;
+        /* the fit's own ln r weights (fit.h): (r/sd)^2 */
+        w[n] = res->fit.weighted ? pow(r[n] / s->points[i].rate_sd, 2) : 1.0;
+        n++;
+    }
+    struct arrank_sample_stats *ss = res->stats;
+    arrank_status st = arrank_rank_bootstrap(t, r, w, n, &res->fit, opt->operating_temp_K,
+                                             opt->confidence, opt->bootstrap, seed,
+                                             &ss->rate_lo_boot, &ss->rate_hi_boot, &ss->boot_ok,
+                                             err);
+    ss->has_bootstrap = st == ARRANK_OK;
+    free(buf);
+    return st;
+}
+
+arrank_status arrank_rank_compute(arrank_analysis *a, arrank_error *err)
+{
+    const arrank_options *opt = &a->options;
+    const size_t n = a->n_ranked;
+    if (opt->draws == 0)
+        return arrank_errorf(err, ARRANK_EINVAL, "'draws' must be at least 1");
+    if (n == 0)
+        return ARRANK_OK;
+    struct arrank_rank_stats *rs = calloc(1, sizeof *rs);
+    if (!rs)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    a->rank_stats = rs;
+    rs->by = opt->by;
+    rs->temp_K = opt->operating_temp_K;
+    rs->draws = opt->draws;
+    rs->seed = opt->seed;
+    rs->normal_draws = opt->normal_draws;
+    rs->bootstrap = opt->bootstrap;
+    rs->n_top = opt->pairs < n ? opt->pairs : n;
+    rs->top = malloc((rs->n_top ? rs->n_top : 1) * sizeof *rs->top);
+    rs->p_beats = malloc((rs->n_top ? rs->n_top * rs->n_top : 1) * sizeof *rs->p_beats);
+    key_draw *kd = malloc(n * sizeof *kd);
+    double *buf = malloc(4 * n * sizeof *buf);
+    const arrank_arrhenius **fits = malloc(n * sizeof *fits);
+    int *group = malloc(n * sizeof *group);
+    arrank_status st = ARRANK_OK;
+    if (!rs->top || !rs->p_beats || !kd || !buf || !fits || !group) {
+        st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        goto done;
+    }
+    double *p_best = buf, *key = buf + n, *se = buf + 2 * n, *dof = buf + 3 * n;
+    double inv_T_sum = 0;
+    size_t n_T = 0;
+    for (size_t k = 0; k < n; k++) {
+        arrank_result *res = &a->results[a->order[k]];
+        if (!stats_of(res)) {
+            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+            goto done;
+        }
+        kd[k] = result_draw(res, opt);
+        key[k] = kd[k].mean;
+        se[k] = draw_se(&kd[k]);
+        dof[k] = kd[k].dof;
+        fits[k] = &res->fit;
+        if (k < rs->n_top) {
+            rs->top[k] = a->order[k];
+            res->stats->top_index = k;
+        }
+        for (size_t i = 0; i < res->sample->n_points; i++)
+            if (res->used[i]) {
+                inv_T_sum += 1.0 / res->sample->points[i].temp_K;
+                n_T++;
+            }
+    }
+    st = pbest_engine(kd, n, opt->draws, opt->seed, rs->n_top, p_best, rs->p_beats, err);
+    if (st != ARRANK_OK)
+        goto done;
+    st = arrank_rank_groups(key, se, dof, n, 1.0 - opt->confidence, group, &rs->n_tests, err);
+    if (st != ARRANK_OK)
+        goto done;
+    for (size_t k = 0; k < n; k++) {
+        arrank_result *res = &a->results[a->order[k]];
+        res->stats->p_best = p_best[k];
+        res->stats->group = group[k];
+        if (group[k] > 0)
+            rs->n_grouped++;
+        if (group[k] > rs->n_groups)
+            rs->n_groups = group[k];
+    }
+    /* Krug et al. (1976): T_hm = harmonic mean of every temperature in the fits. */
+    const double T_hm = n_T ? (double)n_T / inv_T_sum : NAN;
+    st = arrank_rank_compensation(fits, n, T_hm, opt->confidence, &rs->compensation, err);
+    if (st != ARRANK_OK)
+        goto done;
+    /* The bootstrap refits the straight ln r line, so only that model gets one. */
+    if (opt->bootstrap > 0 && opt->model == ARRANK_MODEL_ARRHENIUS &&
+        opt->errors == ARRANK_ERRORS_RELATIVE && isfinite(opt->operating_temp_K)) {
+        if (opt->bootstrap < 2) {
+            st = arrank_errorf(err, ARRANK_EINVAL, "'bootstrap' needs at least 2 resamples, "
+                                                   "got %zu", opt->bootstrap);
+            goto done;
+        }
+        for (size_t k = 0; k < n; k++) {
+            /* one stream per sample, seed + its place in the campaign: reproducible per sample */
+            st = bootstrap_result(&a->results[a->order[k]], opt, opt->seed + a->order[k], err);
+            if (st != ARRANK_OK)
+                goto done;
+        }
+    }
+done:
+    free(kd);
+    free(buf);
+    free(fits);
+    free(group);
+    return st;
+}
+
+/* ---- JSON parts (internal.h) ------------------------------------------- */
+
+/* A number, or null for NAN and infinities (JSON has neither). */
+static json_t *num(double x)
+{
+    return isfinite(x) ? json_real(x) : json_null();
+}
+
+static const char *by_name(arrank_rank_by by)
+{
+    switch (by) {
+    case ARRANK_BY_EA: return "ea";
+    case ARRANK_BY_PREFACTOR: return "prefactor";
+    case ARRANK_BY_RATE: break;
+    }
+    return "rate";
+}
+
+static json_t *model_json(const arrank_model_fit *m)
+{
+    json_t *o = json_object();
+    if (!o)
+        return NULL;
+    json_object_set_new(o, "form", json_string(m->eyring ? "eyring" : "modified"));
+    json_object_set_new(o, "errors", json_string(m->absolute ? "absolute" : "relative"));
+    json_object_set_new(o, "T_ref_K", num(m->T_ref_K));
+    json_object_set_new(o, "E_J_mol", num(m->E_J_mol));
+    json_object_set_new(o, "E_se_J_mol", num(m->E_se_J_mol));
+    json_object_set_new(o, "ln_A", num(m->ln_A));
+    json_object_set_new(o, "ln_A_se", num(m->ln_A_se));
+    json_object_set_new(o, "dof", num(m->dof));
+    if (m->eyring) {
+        json_object_set_new(o, "dH_J_mol", num(m->dH_J_mol));
+        json_object_set_new(o, "dH_se_J_mol", num(m->dH_se_J_mol));
+        json_object_set_new(o, "dS_J_mol_K", num(m->dS_J_mol_K));
+        json_object_set_new(o, "dS_se_J_mol_K", num(m->dS_se_J_mol_K));
+    } else {
+        json_object_set_new(o, "n", num(m->n_T));
+        json_object_set_new(o, "n_se", num(m->n_T_se));
+        json_object_set_new(o, "corr_E_n", num(m->corr_E_n));
+        json_object_set_new(o, "E_n_collinear", json_boolean(m->collinear));
+        json_object_set_new(o, "ea_apparent_at_T_ref_J_mol", num(m->ea_app_J_mol));
+    }
+    return o;
+}
+
+json_t *arrank_sample_stats_json(const arrank_analysis *a, size_t index)
+{
+    const arrank_result *res = &a->results[index];
+    const struct arrank_sample_stats *ss = res->stats;
+    const struct arrank_rank_stats *rs = a->rank_stats;
+    json_t *o = json_object();
+    if (!o)
+        return NULL;
+    if (!ss)
+        return o;
+    if (rs && res->rank > 0) {
+        json_object_set_new(o, "p_best", num(ss->p_best));
+        json_object_set_new(o, "group", ss->group > 0 ? json_integer(ss->group) : json_null());
+    }
+    if (rs && ss->top_index != SIZE_MAX && ss->top_index < rs->n_top) {
+        json_t *pb = json_object();
+        for (size_t j = 0; pb && j < rs->n_top; j++) {
+            if (j == ss->top_index)
+                continue;
+            const char *id = a->results[rs->top[j]].sample->id;
+            json_object_set_new(pb, id, num(rs->p_beats[ss->top_index * rs->n_top + j]));
+        }
+        json_object_set_new(o, "p_beats", pb);
+    }
+    if (ss->has_bootstrap) {
+        json_t *ci = json_array();
+        json_array_append_new(ci, num(ss->rate_lo_boot));
+        json_array_append_new(ci, num(ss->rate_hi_boot));
+        json_object_set_new(o, "rate_at_T_ci_bootstrap", ci);
+        json_object_set_new(o, "bootstrap_resamples", json_integer((json_int_t)ss->boot_ok));
+    }
+    if (ss->has_model)
+        json_object_set_new(o, "model", model_json(&ss->model));
+    return o;
+}
+
+json_t *arrank_rank_stats_json(const arrank_analysis *a)
+{
+    const struct arrank_rank_stats *rs = a->rank_stats;
+    json_t *o = json_object();
+    if (!o || !rs)
+        return o;
+    json_t *u = json_object();
+    json_object_set_new(u, "by", json_string(by_name(rs->by)));
+    json_object_set_new(u, "draws", json_integer((json_int_t)rs->draws));
+    json_object_set_new(u, "seed", json_integer((json_int_t)rs->seed));
+    json_object_set_new(u, "distribution", json_string(rs->normal_draws ? "normal" : "t"));
+    json_object_set_new(u, "pairs", json_integer((json_int_t)rs->n_top));
+    json_object_set_new(u, "groups", json_integer(rs->n_groups));
+    json_object_set_new(u, "grouped_samples", json_integer((json_int_t)rs->n_grouped));
+    json_object_set_new(u, "holm_tests", json_integer((json_int_t)rs->n_tests));
+    json_object_set_new(u, "group_rule",
+                        json_string("a sample joins the group of the best sample above it "
+                                    "(the leader) unless it differs from the leader after Holm's "
+                                    "correction over all pairs among the top ranks"));
+    json_object_set_new(u, "bootstrap", json_integer((json_int_t)rs->bootstrap));
+    json_object_set_new(o, "ranking_uncertainty", u);
+
+    const arrank_compensation *c = &rs->compensation;
+    json_t *k = json_object();
+    json_object_set_new(k, "verdict", json_string(arrank_comp_verdict_words(c->verdict)));
+    json_object_set_new(k, "sentence", json_string(c->sentence));
+    json_object_set_new(k, "samples", json_integer((json_int_t)c->n));
+    json_object_set_new(k, "regression", json_string("unweighted least squares of ln A on Ea"));
+    json_object_set_new(k, "slope_mol_J", num(c->slope_mol_J));
+    json_object_set_new(k, "slope_se_mol_J", num(c->slope_se_mol_J));
+    json_object_set_new(k, "intercept", num(c->intercept));
+    json_object_set_new(k, "intercept_se", num(c->intercept_se));
+    json_object_set_new(k, "r", num(c->corr));
+    json_object_set_new(k, "slope_p", num(c->slope_p));
+    json_object_set_new(k, "T_iso_K", num(c->T_iso_K));
+    json_object_set_new(k, "T_iso_interval", json_string("Fieller (inverted t interval of the "
+                                                        "slope)"));
+    json_object_set_new(k, "T_iso_bounded", json_boolean(c->T_iso_bounded));
+    json_object_set_new(k, "T_iso_lo_K", c->T_iso_bounded ? num(c->T_iso_lo_K) : json_null());
+    json_object_set_new(k, "T_iso_hi_K", c->T_iso_bounded ? num(c->T_iso_hi_K) : json_null());
+    json_object_set_new(k, "T_hm_K", num(c->T_hm_K));
+    json_object_set_new(k, "T_hm_inside_T_iso_interval", json_boolean(c->T_hm_inside));
+    json_object_set_new(k, "ea_vs_ln_rate_at_T_hm_slope_mol_J", num(c->hm_slope_mol_J));
+    json_object_set_new(k, "ea_vs_ln_rate_at_T_hm_p", num(c->hm_p));
+    json_object_set_new(k, "exner_T1_K", num(c->exner_T1_K));
+    json_object_set_new(k, "exner_T2_K", num(c->exner_T2_K));
+    json_object_set_new(k, "exner_slope", num(c->exner_slope));
+    json_object_set_new(k, "exner_slope_se", num(c->exner_slope_se));
+    json_object_set_new(k, "exner_T_iso_K", num(c->exner_T_iso_K));
+    json_object_set_new(k, "confidence", num(c->confidence));
+    json_object_set_new(o, "compensation", k);
+    return o;
+}

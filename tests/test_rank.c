@@ -1,0 +1,882 @@
+/*
+ * test_rank.c - the ranking statistics (rank.h) and the extra rate laws
+ * (models.h) against exact results.
+ *
+ * Sources, beside each check: the exact two-sample probability Phi(D/sigma)
+ * for independent normal keys (and the Student-t cdf when one key is known
+ * exactly: a linear function of a multivariate t is a univariate t, Kotz &
+ * Nadarajah, Multivariate t Distributions, 2004, sec. 1.10); Holm's
+ * procedure by its definition (Holm, Scand. J. Statist. 6:65, 1979);
+ * synthetic campaigns with stated true parameters for the compensation tests
+ * (Krug, Hunter & Grieger, Nature 261:566, 1976); the 2019 SI exact values of
+ * k_B and h (BIPM SI Brochure, 9th ed., Table 1).  Monte Carlo checks use a
+ * bound of 4 standard errors of a binomial proportion, sqrt(p(1-p)/N), which
+ * a correct engine exceeds with probability 6e-5 per check.
+ */
+#include <math.h>
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+
+#include <cmocka.h>
+#include <gsl/gsl_cdf.h>
+#include <gsl/gsl_errno.h>
+#include <jansson.h>
+
+#include "arrank/analysis.h"
+#include "arrank/models.h"
+#include "arrank/rank.h"
+#include "../src/lib/internal.h"
+
+#define R_GAS ARRANK_R_J_MOL_K
+
+/* ---- helpers ----------------------------------------------------------- */
+
+static double rel_diff(double got, double want)
+{
+    const double scale = fabs(want) > 0 ? fabs(want) : 1.0;
+    return fabs(got - want) / scale;
+}
+
+static int check_rel(double got, double want, double tol, const char *what, const char *source)
+{
+    const double d = rel_diff(got, want);
+    if (!(d <= tol)) {
+        printf("# %s: got %.15g want %.15g (rel diff %.3g > %.3g) [%s]\n", what, got, want, d,
+               tol, source);
+        return 1;
+    }
+    return 0;
+}
+
+/* Deterministic noise: splitmix64 and Box-Muller. */
+static uint64_t splitmix(uint64_t *s)
+{
+    uint64_t z = (*s += 0x9E3779B97F4A7C15ull);
+    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ull;
+    z = (z ^ (z >> 27)) * 0x94D049BB133111EBull;
+    return z ^ (z >> 31);
+}
+
+static double uniform01(uint64_t *s)
+{
+    return ((double)(splitmix(s) >> 11) + 0.5) / 9007199254740992.0;
+}
+
+static double gauss(uint64_t *s)
+{
+    const double u1 = uniform01(s), u2 = uniform01(s);
+    return sqrt(-2.0 * log(u1)) * cos(6.283185307179586 * u2);
+}
+
+/* An Arrhenius fit record with given centred parameters and covariance. */
+static arrank_arrhenius make_fit(double T_ref, double b0, double b1, double c00, double c01,
+                                 double c11, double dof)
+{
+    arrank_arrhenius f;
+    memset(&f, 0, sizeof f);
+    f.n = (size_t)dof + 2;
+    f.T_ref_K = T_ref;
+    f.T_min_K = T_ref - 30;
+    f.T_max_K = T_ref + 30;
+    f.b0 = b0;
+    f.b1 = b1;
+    f.cov[0][0] = c00;
+    f.cov[0][1] = f.cov[1][0] = c01;
+    f.cov[1][1] = c11;
+    f.dof = dof;
+    f.ea_J_mol = -R_GAS * b1;
+    f.ea_se_J_mol = R_GAS * sqrt(c11);
+    f.ln_A = b0 - b1 / T_ref;
+    return f;
+}
+
+/* Mean and variance of the key of f (rank.h: ln r(T), -Ea or ln A). */
+static void key_moments(const arrank_arrhenius *f, arrank_rank_by by, double T, double *m,
+                        double *v)
+{
+    double g0 = 1, g1 = 1.0 / T - 1.0 / f->T_ref_K;
+    if (by == ARRANK_BY_EA) {
+        g0 = 0;
+        g1 = R_GAS;
+    } else if (by == ARRANK_BY_PREFACTOR) {
+        g1 = -1.0 / f->T_ref_K;
+    }
+    *m = g0 * f->b0 + g1 * f->b1;
+    *v = g0 * g0 * f->cov[0][0] + g1 * g1 * f->cov[1][1] + 2 * g0 * g1 * f->cov[0][1];
+}
+
+/* |p - want| within 4 binomial standard errors. */
+static int check_mc(double p, double want, size_t draws, const char *what, const char *source)
+{
+    const double se = sqrt(want * (1 - want) / (double)draws);
+    const double tol = 4 * se > 1e-12 ? 4 * se : 1e-12;
+    if (!(fabs(p - want) <= tol)) {
+        printf("# %s: got %.6f want %.6f (|diff| %.3g > 4 SE %.3g) [%s]\n", what, p, want,
+               fabs(p - want), tol, source);
+        return 1;
+    }
+    return 0;
+}
+
+/* ---- P(best) ------------------------------------------------------------- */
+
+typedef struct {
+    const char *id;
+    arrank_rank_by by;
+    double T_op;
+    double T_refA, b0A, b1A, c00A, c01A, c11A;
+    double T_refB, b0B, b1B, c00B, c01B, c11B;
+} two_case;
+
+static const two_case two_cases[] = {
+    /* rate at T_op, both with correlated (b0, b1) */
+    {"rate, overlapping", ARRANK_BY_RATE, 487.3, 512.4, 0.3171, -10873.0, 2.13e-3, 1.7e-2,
+     4.61e2, 509.8, 0.2515, -11904.0, 3.07e-3, -2.2e-2, 6.93e2},
+    {"rate, far apart", ARRANK_BY_RATE, 533.9, 512.4, 1.1203, -9817.0, 1.41e-3, 4.1e-3, 3.17e2,
+     520.6, 0.6112, -10231.0, 2.29e-3, 9.0e-3, 2.52e2},
+    {"rate, B slightly better", ARRANK_BY_RATE, 498.2, 505.1, -0.4231, -12571.0, 4.43e-3, 2.6e-2,
+     8.86e2, 507.7, -0.3812, -12044.0, 3.39e-3, -1.9e-2, 7.21e2},
+    {"lowest Ea", ARRANK_BY_EA, NAN, 512.4, 0.3171, -10873.0, 2.13e-3, 1.7e-2, 4.61e2, 509.8,
+     0.2515, -11904.0, 3.07e-3, -2.2e-2, 1.93e5},
+    {"highest ln A", ARRANK_BY_PREFACTOR, NAN, 512.4, 0.3171, -10873.0, 2.13e-3, 1.7e-2, 3.61e4,
+     509.8, 0.2515, -10804.0, 3.07e-3, -2.2e-2, 4.93e4},
+};
+
+static void test_pbest_two_sample_normal(void **state)
+{
+    (void)state;
+    const size_t draws = 100000;
+    int bad = 0;
+    for (size_t c = 0; c < sizeof two_cases / sizeof two_cases[0]; c++) {
+        const two_case *k = &two_cases[c];
+        arrank_arrhenius A = make_fit(k->T_refA, k->b0A, k->b1A, k->c00A, k->c01A, k->c11A, 5);
+        arrank_arrhenius B = make_fit(k->T_refB, k->b0B, k->b1B, k->c00B, k->c01B, k->c11B, 7);
+        const arrank_arrhenius *fits[2] = {&A, &B};
+        double pb[2], pp[4];
+        arrank_error e;
+        arrank_error_clear(&e);
+        assert_int_equal(arrank_rank_pbest(fits, 2, k->by, k->T_op, draws, 20240611, 1, 2, pb,
+                                           pp, &e),
+                         ARRANK_OK);
+        double mA, vA, mB, vB;
+        key_moments(&A, k->by, k->T_op, &mA, &vA);
+        key_moments(&B, k->by, k->T_op, &mB, &vB);
+        /* exact: P(key_A > key_B) = Phi((mA - mB)/sqrt(vA + vB)) for independent normals */
+        const double want = gsl_cdf_ugaussian_P((mA - mB) / sqrt(vA + vB));
+        printf("# %s: P(A best) %.5f, exact %.5f\n", k->id, pb[0], want);
+        bad += check_mc(pb[0], want, draws, k->id, "exact normal Phi(D/sigma)");
+        bad += check_rel(pb[0] + pb[1], 1.0, 1e-12, "P(best) sums to 1", "probability");
+        /* with two samples "A is best" and "A beats B" are the same event */
+        bad += check_rel(pp[1], pb[0], 1e-12, "P(A beats B) = P(A best)", "same event");
+        bad += check_rel(pp[2], 1 - pb[0], 1e-12, "P(B beats A)", "complement");
+        assert_true(isnan(pp[0]) && isnan(pp[3]));
+    }
+    assert_int_equal(bad, 0);
+}
+
+static void test_pbest_two_sample_t(void **state)
+{
+    (void)state;
+    const size_t draws = 100000;
+    int bad = 0;
+    /* B known exactly (zero covariance): P(A best) = F_t((mA - mB)/sA; nu_A) */
+    const struct {
+        double dof, b0A, c00A, c11A, b0B;
+    } cases[] = {
+        {3, 0.4127, 0.0531, 2.71e3, 0.5013},
+        {5, 1.0382, 0.0214, 1.13e3, 0.9417},
+        {11, -0.6218, 0.0089, 4.02e2, -0.6011},
+    };
+    for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
+        arrank_arrhenius A = make_fit(515.3, cases[c].b0A, -11377.0, cases[c].c00A, 0.0131,
+                                      cases[c].c11A, cases[c].dof);
+        arrank_arrhenius B = make_fit(509.2, cases[c].b0B, -11604.0, 0, 0, 0, 4);
+        const arrank_arrhenius *fits[2] = {&A, &B};
+        const double T = 495.6;
+        double pb[2];
+        assert_int_equal(arrank_rank_pbest(fits, 2, ARRANK_BY_RATE, T, draws, 77, 0, 0, pb, NULL,
+                                           NULL),
+                         ARRANK_OK);
+        double mA, vA, mB, vB;
+        key_moments(&A, ARRANK_BY_RATE, T, &mA, &vA);
+        key_moments(&B, ARRANK_BY_RATE, T, &mB, &vB);
+        const double want = gsl_cdf_tdist_P((mA - mB) / sqrt(vA), cases[c].dof);
+        printf("# t dof %g: P(A best) %.5f, exact t %.5f, normal would be %.5f\n", cases[c].dof,
+               pb[0], want, gsl_cdf_ugaussian_P((mA - mB) / sqrt(vA)));
+        bad += check_mc(pb[0], want, draws, "t draws, B exact", "Student t cdf (GSL)");
+    }
+    /* a t with huge dof is the normal: both uncertain, Phi(D/sigma) */
+    arrank_arrhenius A = make_fit(512.4, 0.3171, -10873.0, 2.13e-3, 1.7e-2, 4.61e2, 1e7);
+    arrank_arrhenius B = make_fit(509.8, 0.2515, -11904.0, 3.07e-3, -2.2e-2, 6.93e2, 1e7);
+    const arrank_arrhenius *fits[2] = {&A, &B};
+    double pb[2], mA, vA, mB, vB;
+    assert_int_equal(arrank_rank_pbest(fits, 2, ARRANK_BY_RATE, 487.3, draws, 5, 0, 0, pb, NULL,
+                                       NULL),
+                     ARRANK_OK);
+    key_moments(&A, ARRANK_BY_RATE, 487.3, &mA, &vA);
+    key_moments(&B, ARRANK_BY_RATE, 487.3, &mB, &vB);
+    bad += check_mc(pb[0], gsl_cdf_ugaussian_P((mA - mB) / sqrt(vA + vB)), draws,
+                    "t with dof 1e7", "normal limit of the t");
+    assert_int_equal(bad, 0);
+}
+
+/* n fits with keys spread around one value, so P(best) is shared. */
+static arrank_arrhenius *spread_fits(size_t n, uint64_t seed)
+{
+    arrank_arrhenius *f = malloc(n * sizeof *f);
+    assert_non_null(f);
+    for (size_t i = 0; i < n; i++)
+        f[i] = make_fit(500 + 40 * uniform01(&seed), 0.04 * gauss(&seed),
+                        -11000 - 900 * gauss(&seed), 2.1e-3, 1.3e-2, 5.2e2, 4 + (double)(i % 5));
+    return f;
+}
+
+static void test_pbest_reproducible_and_pairs_capped(void **state)
+{
+    (void)state;
+    enum { N = 50, TOP = 5 };
+    const size_t draws = 4000;
+    arrank_arrhenius *f = spread_fits(N, 99);
+    const arrank_arrhenius *fits[N];
+    for (size_t i = 0; i < N; i++)
+        fits[i] = &f[i];
+    double pb1[N], pb2[N], pb3[N], pp1[TOP * TOP], pp2[TOP * TOP];
+    assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, 512.0, draws, 31, 0, TOP, pb1,
+                                       pp1, NULL),
+                     ARRANK_OK);
+    assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, 512.0, draws, 31, 0, TOP, pb2,
+                                       pp2, NULL),
+                     ARRANK_OK);
+    assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, 512.0, draws, 32, 0, 0, pb3, NULL,
+                                       NULL),
+                     ARRANK_OK);
+    /* same seed: bit for bit; another seed: different counts somewhere */
+    assert_memory_equal(pb1, pb2, sizeof pb1);
+    assert_memory_equal(pp1, pp2, sizeof pp1);
+    assert_true(memcmp(pb1, pb3, sizeof pb1) != 0);
+    double sum = 0;
+    size_t shared = 0;
+    for (size_t i = 0; i < N; i++) {
+        sum += pb1[i];
+        shared += pb1[i] > 0;
+    }
+    assert_true(fabs(sum - 1) < 1e-12);
+    assert_true(shared > 3); /* the spread makes it a real contest */
+    /* only TOP x TOP pairs, complementary off the diagonal */
+    for (size_t i = 0; i < TOP; i++)
+        for (size_t j = 0; j < TOP; j++) {
+            if (i == j)
+                assert_true(isnan(pp1[i * TOP + j]));
+            else
+                assert_true(fabs(pp1[i * TOP + j] + pp1[j * TOP + i] - 1) < 1e-12);
+        }
+    /* errors: no draws, more pairs than samples, no temperature for a rate ranking */
+    arrank_error e;
+    arrank_error_clear(&e);
+    assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, 512.0, 0, 1, 0, 0, pb3, NULL, &e),
+                     ARRANK_EINVAL);
+    assert_string_equal(e.message, "'draws' must be at least 1");
+    assert_int_equal(arrank_rank_pbest(fits, 3, ARRANK_BY_RATE, 512.0, 10, 1, 0, 4, pb3, pp1, &e),
+                     ARRANK_EINVAL);
+    assert_int_equal(arrank_rank_pbest(fits, 3, ARRANK_BY_RATE, NAN, 10, 1, 0, 0, pb3, NULL, &e),
+                     ARRANK_EINVAL);
+    free(f);
+}
+
+/* 10^4 draws x 1,000 samples: the probabilities are a distribution (sum 1,
+   each in [0, 1]) and the pairwise table is consistent (P(i beats j) +
+   P(j beats i) = 1).  How fast this runs is measured by `make bench`, never
+   in a unit test. */
+static void test_pbest_large(void **state)
+{
+    (void)state;
+    enum { N = 1000, P = 20 };
+    arrank_arrhenius *f = spread_fits(N, 4242);
+    const arrank_arrhenius **fits = malloc(N * sizeof *fits);
+    double *pb = malloc(N * sizeof *pb), *pp = malloc(P * P * sizeof *pp);
+    assert_true(fits && pb && pp);
+    for (size_t i = 0; i < N; i++)
+        fits[i] = &f[i];
+    assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, 512.0, 10000, 1, 0, P, pb, pp,
+                                       NULL),
+                     ARRANK_OK);
+    double sum = 0.0;
+    for (size_t i = 0; i < N; i++) {
+        assert_true(pb[i] >= 0.0 && pb[i] <= 1.0);
+        sum += pb[i];
+    }
+    assert_true(fabs(sum - 1.0) < 1e-9);
+    for (size_t i = 0; i < P; i++)
+        for (size_t j = 0; j < P; j++)
+            if (i != j)
+                assert_true(fabs(pp[i * P + j] + pp[j * P + i] - 1.0) < 1e-9);
+    free(pp);
+    free(pb);
+    free(fits);
+    free(f);
+}
+
+/* ---- Holm and groups ------------------------------------------------------ */
+
+static void test_holm_by_hand(void **state)
+{
+    (void)state;
+    /*
+     * Holm (1979): sort, compare p_(k) with alpha/(m - k + 1), stop at the first
+     * failure.  Case 1: sorted 0.005, 0.01, 0.03, 0.04 against 0.05/4, 0.05/3,
+     * 0.05/2: the first two are rejected, the third stops the procedure.
+     * Adjusted: 4*0.005 = 0.02, 3*0.01 = 0.03, 2*0.03 = 0.06, max(0.06, 0.04) = 0.06.
+     */
+    const double p1[4] = {0.01, 0.04, 0.03, 0.005};
+    const double want1[4] = {0.03, 0.06, 0.06, 0.02};
+    /* Case 2: capping at 1 and monotonicity: 3*0.2 = 0.6, min(1, 2*0.5) = 1, max(1, 0.9) = 1 */
+    const double p2[3] = {0.5, 0.2, 0.9};
+    const double want2[3] = {1.0, 0.6, 1.0};
+    double adj[4];
+    int bad = 0;
+    assert_int_equal(arrank_rank_holm(p1, 4, adj, NULL), ARRANK_OK);
+    for (size_t i = 0; i < 4; i++)
+        bad += check_rel(adj[i], want1[i], 1e-15, "Holm case 1", "Holm 1979 by hand");
+    size_t rejected = 0;
+    for (size_t i = 0; i < 4; i++)
+        rejected += adj[i] <= 0.05;
+    assert_int_equal(rejected, 2);
+    assert_int_equal(arrank_rank_holm(p2, 3, adj, NULL), ARRANK_OK);
+    for (size_t i = 0; i < 3; i++)
+        bad += check_rel(adj[i], want2[i], 1e-15, "Holm case 2", "Holm 1979 by hand");
+    assert_int_equal(bad, 0);
+    arrank_error e;
+    arrank_error_clear(&e);
+    const double p3[2] = {0.2, 1.3};
+    assert_int_equal(arrank_rank_holm(p3, 2, adj, &e), ARRANK_EINVAL);
+    assert_string_equal(e.message, "p-value 2 is '1.3', not in [0, 1]");
+}
+
+static void test_groups(void **state)
+{
+    (void)state;
+    const double inf = INFINITY;
+    const struct {
+        const char *id;
+        size_t n;
+        double key[5], se[5], dof[5];
+        int want[5];
+    } cases[] = {
+        /* differences of 19 to 40 standard errors: every sample its own group */
+        {"clearly separated", 3, {5.03, 3.11, 1.27}, {0.05, 0.07, 0.04}, {inf, inf, inf},
+         {1, 2, 3}},
+        /* three within 0.4 SE of each other, the fourth 10 SE below */
+        {"overlapping", 4, {2.01, 1.98, 1.97, 0.52}, {0.1, 0.12, 0.09, 0.11}, {8, 6, 9, 7},
+         {1, 1, 1, 2}},
+        /* steps of 1.77 SE (p = 0.077, never significant) but 3.5 SE over two steps
+           (p = 4e-4, Holm threshold 0.05/5): the leader rule splits after rank 2 */
+        {"leader rule", 4, {3.0, 2.75, 2.5, 2.25}, {0.1, 0.1, 0.1, 0.1}, {inf, inf, inf, inf},
+         {1, 1, 2, 2}},
+        {"one sample", 1, {1.0}, {0.1}, {4}, {1}},
+    };
+    for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
+        int g[5] = {-1, -1, -1, -1, -1};
+        size_t m = 0;
+        assert_int_equal(arrank_rank_groups(cases[c].key, cases[c].se, cases[c].dof, cases[c].n,
+                                            0.05, g, &m, NULL),
+                         ARRANK_OK);
+        printf("# %s: groups", cases[c].id);
+        for (size_t i = 0; i < cases[c].n; i++)
+            printf(" %d", g[i]);
+        printf("\n");
+        assert_int_equal(m, cases[c].n * (cases[c].n - 1) / 2);
+        assert_memory_equal(g, cases[c].want, cases[c].n * sizeof(int));
+    }
+}
+
+static void test_groups_capped(void **state)
+{
+    (void)state;
+    enum { N = ARRANK_GROUP_MAX + 100 };
+    double *key = malloc(N * sizeof *key), *se = malloc(N * sizeof *se);
+    double *dof = malloc(N * sizeof *dof);
+    int *g = malloc(N * sizeof *g);
+    assert_true(key && se && dof && g);
+    for (size_t i = 0; i < N; i++) {
+        key[i] = 3.0 - 0.01 * (double)i;
+        se[i] = 0.05;
+        dof[i] = 6;
+    }
+    size_t m = 0;
+    assert_int_equal(arrank_rank_groups(key, se, dof, N, 0.05, g, &m, NULL), ARRANK_OK);
+    assert_int_equal(m, (size_t)ARRANK_GROUP_MAX * (ARRANK_GROUP_MAX - 1) / 2);
+    assert_int_equal(g[0], 1);
+    assert_true(g[ARRANK_GROUP_MAX - 1] > 1);
+    assert_int_equal(g[ARRANK_GROUP_MAX], 0);
+    assert_int_equal(g[N - 1], 0);
+    for (size_t i = 1; i < ARRANK_GROUP_MAX; i++)
+        assert_true(g[i] == g[i - 1] || g[i] == g[i - 1] + 1);
+    free(key);
+    free(se);
+    free(dof);
+    free(g);
+}
+
+/* ---- compensation ------------------------------------------------------- */
+
+/*
+ * A synthetic campaign: n_s samples, temperatures t_lo..t_hi in n_t steps,
+ * true ln A and Ea per sample, noise sd in ln r.  Fits every sample and runs
+ * the compensation analysis.
+ */
+static void comp_campaign(size_t n_s, const double *ea, const double *lnA, double t_lo,
+                          double t_hi, size_t n_t, double sd, uint64_t seed,
+                          arrank_compensation *c)
+{
+    arrank_arrhenius fit[16];
+    const arrank_arrhenius *fits[16];
+    double T[16], r[16];
+    double inv_sum = 0;
+    size_t n_T = 0;
+    assert_true(n_s <= 16 && n_t <= 16);
+    for (size_t s = 0; s < n_s; s++) {
+        for (size_t i = 0; i < n_t; i++) {
+            T[i] = t_lo + (t_hi - t_lo) * (double)i / (double)(n_t - 1);
+            r[i] = exp(lnA[s] - ea[s] / (R_GAS * T[i]) + sd * gauss(&seed));
+            inv_sum += 1.0 / T[i];
+            n_T++;
+        }
+        assert_int_equal(arrank_fit_arrhenius(T, r, NULL, n_t, &fit[s], NULL), ARRANK_OK);
+        fits[s] = &fit[s];
+    }
+    assert_int_equal(arrank_rank_compensation(fits, n_s, (double)n_T / inv_sum, 0.95, c, NULL),
+                     ARRANK_OK);
+    printf("# slope %.4g mol/J, r %.4f, T_iso %.1f K [%.1f, %.1f], T_hm %.1f K, "
+           "Ea~ln r(T_hm) p %.3g, Exner T_iso %.1f K\n#   %s\n",
+           c->slope_mol_J, c->corr, c->T_iso_K, c->T_iso_lo_K, c->T_iso_hi_K, c->T_hm_K, c->hm_p,
+           c->exner_T_iso_K, c->sentence);
+}
+
+static void test_compensation_real(void **state)
+{
+    (void)state;
+    /* True lines cross at T_iso = 693 K, far above the 470-545 K window;
+       Ea spread 62-141 kJ/mol; ln A = -3.17 + Ea/(R T_iso). */
+    const double T_iso = 693.0;
+    double ea[10], lnA[10];
+    for (size_t s = 0; s < 10; s++) {
+        ea[s] = 62.3e3 + 8.77e3 * (double)s;
+        lnA[s] = -3.17 + ea[s] / (R_GAS * T_iso);
+    }
+    arrank_compensation c;
+    comp_campaign(10, ea, lnA, 470.0, 545.0, 8, 0.03, 11, &c);
+    assert_int_equal(c.verdict, ARRANK_COMP_REAL);
+    assert_true(c.T_iso_bounded);
+    assert_true(c.T_iso_lo_K <= T_iso && T_iso <= c.T_iso_hi_K);
+    assert_false(c.T_hm_inside);
+    assert_true(c.hm_p < 0.05);
+    /* Exner's line gives the same crossing point within 5 % (common practice: an
+       independent route to T_iso) */
+    assert_true(fabs(c.exner_T_iso_K / T_iso - 1) < 0.05);
+    assert_non_null(strstr(c.sentence, "not explained by error correlation"));
+}
+
+static void test_compensation_artifact(void **state)
+{
+    (void)state;
+    /* Every sample has the same true Ea = 87.4 kJ/mol and ln A = 16.21; the
+       window is narrow (501-529 K) and sd(ln r) = 0.05, so the ln A-Ea line
+       comes from the correlated estimation errors alone (Krug et al. 1976). */
+    double ea[12], lnA[12];
+    for (size_t s = 0; s < 12; s++) {
+        ea[s] = 87.4e3;
+        lnA[s] = 16.21;
+    }
+    arrank_compensation c;
+    comp_campaign(12, ea, lnA, 501.0, 529.0, 6, 0.05, 2024, &c);
+    assert_true(c.corr > 0.95); /* the tempting, meaningless correlation */
+    assert_int_equal(c.verdict, ARRANK_COMP_ARTIFACT);
+    assert_true(c.T_hm_inside);
+    assert_non_null(strstr(c.sentence, "consistent with a statistical artifact"));
+
+    /* too few samples */
+    comp_campaign(3, ea, lnA, 501.0, 529.0, 6, 0.05, 7, &c);
+    assert_int_equal(c.verdict, ARRANK_COMP_TOO_FEW);
+    assert_string_equal(arrank_comp_verdict_words(c.verdict), "too few samples");
+}
+
+/* ---- bootstrap ------------------------------------------------------------ */
+
+static void test_bootstrap_vs_delta(void **state)
+{
+    (void)state;
+    enum { N = 40 };
+    double T[N], r[N], w[N];
+    uint64_t seed = 314159;
+    int bad = 0;
+    const struct {
+        int weighted;
+        double T_op;
+    } cases[] = {{0, 531.7}, {1, 512.2}};
+    for (size_t c = 0; c < 2; c++) {
+        for (size_t i = 0; i < N; i++) {
+            T[i] = 483.0 + 77.0 * (double)i / (N - 1);
+            const double sd = cases[c].weighted ? 0.02 + 0.04 * (double)(i % 3) : 0.04;
+            r[i] = exp(21.7 - 103.9e3 / (R_GAS * T[i]) + sd * gauss(&seed));
+            w[i] = 1 / (sd * sd);
+        }
+        double rsd[N];
+        for (size_t i = 0; i < N; i++)
+            rsd[i] = r[i] / sqrt(w[i]); /* so that (r/sd)^2 = w */
+        arrank_arrhenius fit;
+        assert_int_equal(arrank_fit_arrhenius(T, r, cases[c].weighted ? rsd : NULL, N, &fit,
+                                              NULL),
+                         ARRANK_OK);
+        arrank_prediction pr;
+        assert_int_equal(arrank_fit_predict(&fit, cases[c].T_op, 0.95, &pr, NULL), ARRANK_OK);
+        double lo, hi, lo2, hi2;
+        size_t ok = 0;
+        assert_int_equal(arrank_rank_bootstrap(T, r, cases[c].weighted ? w : NULL, N, &fit,
+                                               cases[c].T_op, 0.95, 4000, 17, &lo, &hi, &ok,
+                                               NULL),
+                         ARRANK_OK);
+        assert_int_equal(ok, 4000);
+        const double wd = pr.rate_hi - pr.rate_lo, wb = hi - lo;
+        printf("# bootstrap [%.5g, %.5g] width %.4g; delta [%.5g, %.5g] width %.4g\n", lo, hi,
+               wb, pr.rate_lo, pr.rate_hi, wd);
+        /* brief: interval widths agree within 10 % for well-behaved data */
+        bad += check_rel(wb, wd, 0.10, "bootstrap vs delta width", "Davison & Hinkley 1997 ch. 6");
+        assert_true(lo < pr.rate && pr.rate < hi);
+        /* seeded: the same numbers again */
+        assert_int_equal(arrank_rank_bootstrap(T, r, cases[c].weighted ? w : NULL, N, &fit,
+                                               cases[c].T_op, 0.95, 4000, 17, &lo2, &hi2, NULL,
+                                               NULL),
+                         ARRANK_OK);
+        assert_true(lo == lo2 && hi == hi2);
+    }
+    assert_int_equal(bad, 0);
+}
+
+/* ---- models --------------------------------------------------------------- */
+
+static void test_eyring_constants(void **state)
+{
+    (void)state;
+    /* BIPM SI Brochure, 9th ed. (2019), Table 1: exact defining constants */
+    assert_true(ARRANK_KB_J_K == 1.380649e-23);
+    assert_true(ARRANK_H_J_S == 6.62607015e-34);
+}
+
+/*
+ * "Exact" data carry a relative jitter of 1e-7: at zero residual the
+ * engine's stop test (Bates & Watts' relative offset) compares rounding noise
+ * with rounding noise and refuses the optimum, so the data are made exact to
+ * 7 digits instead.  The tolerances claim 1e-5, far above what the jitter
+ * moves (about 1e-7 in ln A, 1e-6 in Ea).
+ */
+#define JITTER 1e-7
+
+static void test_absolute_exact_equals_linear(void **state)
+{
+    (void)state;
+    const double T[7] = {471.3, 488.9, 502.4, 517.0, 531.6, 546.2, 559.8};
+    double r[7], sd[7];
+    uint64_t seed = 66;
+    for (size_t i = 0; i < 7; i++) {
+        r[i] = exp(19.37 - 97.31e3 / (R_GAS * T[i])) * (1 + JITTER * gauss(&seed));
+        sd[i] = 0.031 * r[i] + 1e-4;
+    }
+    int bad = 0;
+    for (int weighted = 0; weighted < 2; weighted++) {
+        arrank_arrhenius lin, ab;
+        assert_int_equal(arrank_fit_arrhenius(T, r, weighted ? sd : NULL, 7, &lin, NULL),
+                         ARRANK_OK);
+        arrank_error e;
+        arrank_error_clear(&e);
+        const arrank_status st =
+            arrank_fit_arrhenius_absolute(T, r, weighted ? sd : NULL, 7, &ab, &e);
+        if (st != ARRANK_OK)
+            printf("# absolute fit: %s\n", e.message);
+        assert_int_equal(st, ARRANK_OK);
+        bad += check_rel(ab.ea_J_mol, lin.ea_J_mol, 1e-5, "Ea", "exact data");
+        bad += check_rel(ab.ln_A, lin.ln_A, 1e-5, "ln A", "exact data");
+        bad += check_rel(ab.ea_J_mol, 97.31e3, 1e-5, "Ea true", "generated");
+        bad += check_rel(ab.ln_A, 19.37, 1e-5, "ln A true", "generated");
+        arrank_prediction p1, p2;
+        assert_int_equal(arrank_fit_predict(&ab, 523.15, 0.95, &p1, NULL), ARRANK_OK);
+        assert_int_equal(arrank_fit_predict(&lin, 523.15, 0.95, &p2, NULL), ARRANK_OK);
+        bad += check_rel(p1.rate, p2.rate, 1e-5, "rate at 523.15 K", "exact data");
+    }
+    assert_int_equal(bad, 0);
+}
+
+static void test_absolute_noisy_stationary(void **state)
+{
+    (void)state;
+    /* Absolute noise: the optimum must satisfy the normal equations
+       sum w (r - f) df/dp = 0 (least squares, first-order condition). */
+    enum { N = 12 };
+    double T[N], r[N], sd[N];
+    uint64_t seed = 8080;
+    for (size_t i = 0; i < N; i++) {
+        T[i] = 478.0 + 8.3 * (double)i;
+        r[i] = exp(18.03 - 91.7e3 / (R_GAS * T[i])) + 0.0008 * gauss(&seed);
+        sd[i] = 0.0008;
+    }
+    arrank_arrhenius ab, lin;
+    assert_int_equal(arrank_fit_arrhenius(T, r, NULL, N, &lin, NULL), ARRANK_OK);
+    assert_int_equal(arrank_fit_arrhenius_absolute(T, r, sd, N, &ab, NULL), ARRANK_OK);
+    double g0 = 0, g1 = 0, s0 = 0, s1 = 0;
+    for (size_t i = 0; i < N; i++) {
+        const double x = 1.0 / T[i] - 1.0 / ab.T_ref_K;
+        const double f = exp(ab.b0 + ab.b1 * x);
+        g0 += (r[i] - f) * f / (sd[i] * sd[i]);
+        g1 += (r[i] - f) * f * x / (sd[i] * sd[i]);
+        s0 += fabs(r[i] * f) / (sd[i] * sd[i]);
+        s1 += fabs(r[i] * f * x) / (sd[i] * sd[i]);
+    }
+    printf("# absolute fit: Ea %.1f (linear %.1f) J/mol, gradient %.3g %.3g (scale %.3g %.3g)\n",
+           ab.ea_J_mol, lin.ea_J_mol, g0, g1, s0, s1);
+    assert_true(fabs(g0) < 1e-8 * s0 && fabs(g1) < 1e-8 * s1);
+    assert_true(ab.ea_se_J_mol > 0 && ab.dof == N - 2);
+    assert_true(ab.ea_J_mol != lin.ea_J_mol); /* the weighting really changed */
+}
+
+static void test_modified_recovers(void **state)
+{
+    (void)state;
+    /* r = A (T/T_ref)^n exp(-E/RT) over a wide 400-900 K span */
+    const double E = 95.37e3, nT = 1.73, lnA0 = 12.61;
+    enum { N = 11 };
+    double T[N], r[N];
+    int bad = 0;
+    for (size_t i = 0; i < N; i++)
+        T[i] = 400.0 + 50.0 * (double)i;
+    /* T_ref of the fit is the harmonic mean of T (unweighted) */
+    double inv = 0;
+    for (size_t i = 0; i < N; i++)
+        inv += 1.0 / T[i];
+    const double T_ref = N / inv;
+    uint64_t jseed = 3;
+    for (int absolute = 0; absolute < 2; absolute++) {
+        /* exact for the linear route; a 1e-6 jitter for the nonlinear one (see
+           above; seven decades of rate and three collinear parameters need more
+           than JITTER above rounding), which moves E by about 5e-5 */
+        for (size_t i = 0; i < N; i++)
+            r[i] = exp(lnA0 + nT * log(T[i] / T_ref) - E / (R_GAS * T[i])) *
+                   (1 + (absolute ? 1e-6 * gauss(&jseed) : 0));
+        const double tol = absolute ? 5e-4 : 1e-8;
+        arrank_model_fit m;
+        arrank_error e;
+        arrank_error_clear(&e);
+        const arrank_status st = arrank_model_fit_run(0, absolute, T, r, NULL, N, 1.0, &m, &e);
+        if (st != ARRANK_OK)
+            printf("# modified fit: %s\n", e.message);
+        assert_int_equal(st, ARRANK_OK);
+        bad += check_rel(m.E_J_mol, E, tol, "E", "generated");
+        bad += check_rel(m.n_T, nT, tol * 10, "n", "generated");
+        bad += check_rel(m.ln_A, lnA0, tol, "ln A", "generated");
+        bad += check_rel(m.ea_app_J_mol, E + nT * R_GAS * T_ref, tol, "apparent Ea",
+                         "IUPAC Gold Book Ea = E + nRT");
+        arrank_prediction p;
+        assert_int_equal(arrank_model_fit_predict(&m, 633.3, 0.95, &p, NULL), ARRANK_OK);
+        bad += check_rel(p.rate, exp(lnA0 + nT * log(633.3 / T_ref) - E / (R_GAS * 633.3)), tol,
+                         "rate at 633.3 K", "generated");
+    }
+    /* a 60 K window: E and n nearly collinear (DOMAIN notes sec. 4) */
+    double Tn[6], rn[6];
+    uint64_t seed = 5;
+    for (size_t i = 0; i < 6; i++) {
+        Tn[i] = 500.0 + 12.0 * (double)i;
+        rn[i] = exp(lnA0 + nT * log(Tn[i] / 530.0) - E / (R_GAS * Tn[i]) + 0.02 * gauss(&seed));
+    }
+    arrank_model_fit m;
+    assert_int_equal(arrank_model_fit_run(0, 0, Tn, rn, NULL, 6, 1.0, &m, NULL), ARRANK_OK);
+    printf("# 60 K window: corr(E, n) = %.5f\n", m.corr_E_n);
+    assert_true(m.collinear);
+    assert_true(fabs(m.corr_E_n) > ARRANK_COLLINEAR_CORR);
+    assert_int_equal(bad, 0);
+}
+
+static void test_eyring_recovers(void **state)
+{
+    (void)state;
+    /* TOF = (k_B T/h) exp(dS/R) exp(-dH/RT), in 1/h */
+    const double dH = 112.4e3, dS = -37.9;
+    enum { N = 8 };
+    double T[N], r[N];
+    int bad = 0;
+    uint64_t jseed = 4;
+    for (int absolute = 0; absolute < 2; absolute++) {
+        for (size_t i = 0; i < N; i++) {
+            T[i] = 480.0 + 11.0 * (double)i;
+            const double tof_s = ARRANK_KB_J_K * T[i] / ARRANK_H_J_S * exp(dS / R_GAS) *
+                                 exp(-dH / (R_GAS * T[i]));
+            r[i] = tof_s * 3600.0 * (1 + (absolute ? JITTER * gauss(&jseed) : 0));
+        }
+        const double tol = absolute ? 1e-5 : 1e-8;
+        arrank_model_fit m;
+        assert_int_equal(arrank_model_fit_run(1, absolute, T, r, NULL, N, 1.0 / 3600.0, &m, NULL),
+                         ARRANK_OK);
+        bad += check_rel(m.dH_J_mol, dH, tol, "dH", "generated, exact k_B and h");
+        /* dS is a difference of terms near 30 R: a tenfold looser claim */
+        bad += check_rel(m.dS_J_mol_K, dS, 10 * tol, "dS", "generated, exact k_B and h");
+        assert_true(m.n_T == 1.0 && m.n_params == 2);
+    }
+    assert_int_equal(bad, 0);
+    arrank_error e;
+    arrank_error_clear(&e);
+    arrank_model_fit m;
+    assert_int_equal(arrank_model_fit_run(1, 0, T, r, NULL, 2, 1.0, &m, &e), ARRANK_EFIT);
+    assert_string_equal(e.message,
+                        "3 points are needed for the transition-state form; this sample has 2");
+}
+
+/* ---- through the pipeline ------------------------------------------------- */
+
+typedef struct {
+    arrank_campaign c;
+    arrank_sample s[40];
+    arrank_point p[40][8];
+    char id[40][16];
+} toy_campaign;
+
+/* n samples of 6 points, 488-538 K, spread true parameters, noise 0.04. */
+static void toy_make(toy_campaign *t, size_t n, arrank_basis basis, const char *unit)
+{
+    memset(t, 0, sizeof *t);
+    uint64_t seed = 123;
+    t->c.path = "toy";
+    t->c.name = "toy";
+    t->c.title = "toy";
+    t->c.rate_unit = (char *)unit;
+    t->c.basis = basis;
+    t->c.operating_temp_K = NAN;
+    t->c.confidence = NAN;
+    t->c.samples = t->s;
+    t->c.n_samples = n;
+    for (size_t s = 0; s < n; s++) {
+        snprintf(t->id[s], sizeof t->id[s], "K%02zu", s + 1);
+        t->s[s].id = t->id[s];
+        t->s[s].path = t->id[s];
+        t->s[s].file = t->id[s];
+        t->s[s].basis = basis;
+        t->s[s].points = t->p[s];
+        t->s[s].n_points = 6;
+        const double ea = 80e3 + 1.9e3 * (double)s, lnA = 14.0 + ea / (R_GAS * 640.0) - 0.05 * s;
+        for (size_t i = 0; i < 6; i++) {
+            arrank_point *q = &t->p[s][i];
+            q->temp_K = 488.0 + 10.0 * (double)i;
+            q->rate = exp(lnA - ea / (R_GAS * q->temp_K) + 0.04 * gauss(&seed));
+            q->rate_sd = NAN;
+            q->conversion = NAN;
+            q->time_on_stream_s = NAN;
+            q->run = -1;
+            q->line = (long)i + 2;
+        }
+    }
+}
+
+static void test_pipeline(void **state)
+{
+    (void)state;
+    toy_campaign *t = malloc(sizeof *t);
+    assert_non_null(t);
+    toy_make(t, 30, ARRANK_BASIS_MASS, "umol/(g*s)");
+    arrank_options o = arrank_options_defaults();
+    o.operating_temp_K = 523.15;
+    o.pairs = 5;
+    o.draws = 3000;
+    o.bootstrap = 200;
+    o.diagnose = 0;
+    arrank_analysis *a = NULL;
+    arrank_error e;
+    arrank_error_clear(&e);
+    assert_int_equal(arrank_analysis_run(&t->c, &o, &a, &e), ARRANK_OK);
+    assert_non_null(a->rank_stats);
+    assert_int_equal(a->rank_stats->n_top, 5);
+    double sum = 0;
+    size_t with_beats = 0;
+    for (size_t i = 0; i < a->n_results; i++) {
+        const arrank_result *res = &a->results[i];
+        assert_non_null(res->stats);
+        sum += res->stats->p_best;
+        assert_true(res->stats->group >= 1);
+        assert_true(res->stats->has_bootstrap);
+        json_t *j = arrank_sample_stats_json(a, i);
+        assert_non_null(j);
+        assert_non_null(json_object_get(j, "p_best"));
+        assert_non_null(json_object_get(j, "group"));
+        assert_non_null(json_object_get(j, "rate_at_T_ci_bootstrap"));
+        json_t *pb = json_object_get(j, "p_beats");
+        if (pb) {
+            with_beats++;
+            assert_true(res->rank <= 5);
+            assert_int_equal(json_object_size(pb), 4);
+        }
+        json_decref(j);
+    }
+    assert_int_equal(with_beats, 5);
+    assert_true(fabs(sum - 1) < 1e-12);
+    /* group 1 holds the best sample */
+    assert_int_equal(a->results[a->order[0]].stats->group, 1);
+    json_t *top = arrank_rank_stats_json(a);
+    json_t *comp = json_object_get(top, "compensation");
+    assert_non_null(comp);
+    assert_non_null(json_object_get(comp, "verdict"));
+    assert_non_null(json_object_get(top, "ranking_uncertainty"));
+    char *text = json_dumps(top, JSON_COMPACT);
+    assert_non_null(text);
+    printf("# %.300s...\n", text);
+    free(text);
+    json_decref(top);
+    arrank_analysis_free(a);
+
+    /* --model modified: the prediction and the P(best) come from the 3-parameter fit */
+    o.model = ARRANK_MODEL_MODIFIED;
+    o.bootstrap = 0;
+    assert_int_equal(arrank_analysis_run(&t->c, &o, &a, &e), ARRANK_OK);
+    const arrank_result *r0 = &a->results[0];
+    assert_true(r0->stats && r0->stats->has_model);
+    arrank_prediction p;
+    assert_int_equal(arrank_model_fit_predict(&r0->stats->model, 523.15, 0.95, &p, NULL),
+                     ARRANK_OK);
+    assert_true(r0->at_T.rate == p.rate);
+    arrank_analysis_free(a);
+
+    /* --model eyring on rates per mass is refused */
+    o.model = ARRANK_MODEL_EYRING;
+    arrank_error_clear(&e);
+    assert_int_equal(arrank_analysis_run(&t->c, &o, &a, &e), ARRANK_EINVAL);
+    assert_null(a);
+    assert_string_equal(e.message, "model 'eyring' needs turnover frequencies (a rate unit of "
+                                   "1/time); 'umol/(g*s)' is a rate per mass");
+    free(t);
+}
+
+/* ---- main ---------------------------------------------------------------- */
+
+int main(void)
+{
+    gsl_set_error_handler_off();
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_pbest_two_sample_normal),
+        cmocka_unit_test(test_pbest_two_sample_t),
+        cmocka_unit_test(test_pbest_reproducible_and_pairs_capped),
+        cmocka_unit_test(test_pbest_large),
+        cmocka_unit_test(test_holm_by_hand),
+        cmocka_unit_test(test_groups),
+        cmocka_unit_test(test_groups_capped),
+        cmocka_unit_test(test_compensation_real),
+        cmocka_unit_test(test_compensation_artifact),
+        cmocka_unit_test(test_bootstrap_vs_delta),
+        cmocka_unit_test(test_eyring_constants),
+        cmocka_unit_test(test_absolute_exact_equals_linear),
+        cmocka_unit_test(test_absolute_noisy_stationary),
+        cmocka_unit_test(test_modified_recovers),
+        cmocka_unit_test(test_eyring_recovers),
+        cmocka_unit_test(test_pipeline),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
