@@ -1381,6 +1381,13 @@ static arrank_status apply_ini_entries(ini_state *st, arrank_sample **index, siz
 arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_campaign **out,
                                    arrank_error *err)
 {
+    return arrank_campaign_load_progress(dir, units, NULL, NULL, out, err);
+}
+
+arrank_status arrank_campaign_load_progress(const char *dir, arrank_units *units,
+                                            arrank_progress_fn progress, void *progress_ctx,
+                                            arrank_campaign **out, arrank_error *err)
+{
     if (out)
         *out = NULL;
     if (!dir || !units || !out)
@@ -1452,6 +1459,8 @@ arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_
         if (st != ARRANK_OK)
             goto fail;
         c->n_samples++;
+        if (progress)
+            progress(progress_ctx, "reading samples", c->n_samples, n_names);
         if (!c->rate_unit) {
             /* The first sample (in name order) sets the report unit. */
             char spelled[UNIT_MAX];
