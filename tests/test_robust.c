@@ -22,6 +22,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "arrank/analysis.h"
 #include "arrank/campaign.h"
 #include "arrank/units.h"
 #include "fuzz/fuzz_targets.h"
@@ -354,6 +355,58 @@ static void ini_from_memory(void **state)
     }
 }
 
+/* ---- progress callbacks --------------------------------------------------- */
+
+typedef struct {
+    size_t calls, last_done, last_total, out_of_order;
+    const char *stage;
+} progress_log;
+
+static void record_progress(void *ctx, const char *stage, size_t done, size_t total)
+{
+    progress_log *log = ctx;
+    if (log->calls && strcmp(stage, log->stage) == 0 && done < log->last_done)
+        log->out_of_order++;
+    log->calls++;
+    log->stage = stage;
+    log->last_done = done;
+    log->last_total = total;
+}
+
+static void progress_reported(void **state)
+{
+    (void)state;
+    /* The demo campaign: 11 sample files (campaigns/zeolite-ni-screen). */
+    progress_log log = {0, 0, 0, 0, NULL};
+    arrank_campaign *c = NULL;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_load_progress("campaigns/zeolite-ni-screen", units,
+                                                   record_progress, &log, &c, &err),
+                     ARRANK_OK);
+    assert_int_equal(log.calls, c->n_samples);
+    assert_int_equal(log.last_done, 11);
+    assert_int_equal(log.last_total, 11);
+    assert_string_equal(log.stage, "reading samples");
+    assert_int_equal(log.out_of_order, 0);
+
+    progress_log fits = {0, 0, 0, 0, NULL};
+    arrank_options o = arrank_options_defaults();
+    o.operating_temp_K = 543.15;
+    o.draws = 200;
+    o.progress = record_progress;
+    o.progress_ctx = &fits;
+    arrank_analysis *a = NULL;
+    assert_int_equal(arrank_analysis_run(c, &o, &a, &err), ARRANK_OK);
+    /* one call per sample while fitting, one when ranking starts */
+    assert_int_equal(fits.calls, c->n_samples + 1);
+    assert_string_equal(fits.stage, "ranking samples");
+    assert_int_equal(fits.out_of_order, 0);
+    assert_null(a->options.progress);
+    arrank_analysis_free(a);
+    arrank_campaign_free(c);
+}
+
 static int setup(void **state)
 {
     (void)state;
@@ -378,6 +431,7 @@ int main(void)
         cmocka_unit_test(corpus_ini),      cmocka_unit_test(corpus_temperature),
         cmocka_unit_test(fixed_units),     cmocka_unit_test(limits_in_memory),
         cmocka_unit_test(ini_from_memory), cmocka_unit_test(decimal_fast_path),
+        cmocka_unit_test(progress_reported),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }
