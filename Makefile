@@ -71,8 +71,8 @@ demo-data: $(BUILD)/tools/gen_demo
 	$(BUILD)/tools/gen_demo $(DEMO)
 
 test-asan:
-	@LSAN_OPTIONS=suppressions=$(CURDIR)/tests/fuzz/lsan.supp \
-	    $(MAKE) --no-print-directory BUILD=build-asan OPT="-O1 -g" \
+	@LSAN_OPTIONS=suppressions=$(CURDIR)/tests/fuzz/lsan.supp ARRANK_SANITIZED=1 \
+	    $(MAKE) --no-print-directory BUILD=$(BUILD)-asan OPT="-O1 -g" \
 	    SAN="-fsanitize=address,undefined -fno-sanitize-recover=all -fno-omit-frame-pointer" check
 
 # The program on the demo (and on a bad input) under valgrind's memcheck.
