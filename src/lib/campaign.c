@@ -577,6 +577,11 @@ static void data_field(parser *p, char *text)
         return;
     }
     double conv = c->conv.scale * v + c->conv.offset;
+    if (!isfinite(conv)) { /* e.g. 1e306 mol/(kg*s) is 1e309 umol/(g*s): past double */
+        fail(p, ARRANK_EPARSE, colno, "'%s' is out of range in column '%s' once converted",
+             shown, c->name);
+        return;
+    }
     switch (c->kind) {
     case COL_TEMP:
         if (!(conv > 0.0))
