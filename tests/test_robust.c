@@ -153,6 +153,27 @@ static void fixed_units(void **state)
     }
 }
 
+/* A rate that fits a double as written but not once converted to the report unit. */
+static void fixed_conversion_overflow(void **state)
+{
+    (void)state;
+    static const char text[] = "T [K],rate [mol/(kg*s)]\n500,1\n510,1e306\n520,3\n";
+    arrank_sample s;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_sample_parse("x.csv", text, sizeof text - 1, units, "mol/(kg*s)", &s,
+                                         &err),
+                     ARRANK_OK);
+    arrank_sample_clear(&s);
+    /* 1e306 mol/(kg*s) = 1e309 umol/(g*s) (factor 1000, exact unit definitions) */
+    assert_int_equal(arrank_sample_parse("x.csv", text, sizeof text - 1, units, "umol/(g*s)", &s,
+                                         &err),
+                     ARRANK_EPARSE);
+    assert_int_equal(err.line, 3);
+    assert_int_equal(err.column, 2);
+    assert_string_equal(err.message, "'1e306' is out of range in column 'rate' once converted");
+}
+
 /* ---- resource limits, in memory ------------------------------------------ */
 
 typedef struct {
@@ -431,7 +452,7 @@ int main(void)
         cmocka_unit_test(corpus_ini),      cmocka_unit_test(corpus_temperature),
         cmocka_unit_test(fixed_units),     cmocka_unit_test(limits_in_memory),
         cmocka_unit_test(ini_from_memory), cmocka_unit_test(decimal_fast_path),
-        cmocka_unit_test(progress_reported),
+        cmocka_unit_test(progress_reported), cmocka_unit_test(fixed_conversion_overflow),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }

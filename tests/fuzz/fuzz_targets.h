@@ -27,7 +27,7 @@
 #define FUZZ_TEXT_MAX 4096
 
 /* NUL-terminated copy of the first n bytes (the text stops at an embedded NUL). */
-static char *fuzz_text(const uint8_t *data, size_t n)
+static inline char *fuzz_text(const uint8_t *data, size_t n)
 {
     char *s = malloc(n + 1);
     if (!s)
@@ -38,7 +38,7 @@ static char *fuzz_text(const uint8_t *data, size_t n)
 }
 
 /* A failing call must say why: known status, non-empty message. */
-static const char *fuzz_check_error(arrank_status st, const arrank_error *err)
+static inline const char *fuzz_check_error(arrank_status st, const arrank_error *err)
 {
     if (st < ARRANK_EINVAL || st > ARRANK_EDATA)
         return "status outside the documented set";
@@ -51,7 +51,7 @@ static const char *fuzz_check_error(arrank_status st, const arrank_error *err)
     return NULL;
 }
 
-static const char *fuzz_check_sample(const arrank_sample *s)
+static inline const char *fuzz_check_sample(const arrank_sample *s)
 {
     if (!s->id || !s->path || !s->file || !s->rate_unit_file)
         return "sample without id, path, file or rate unit";
@@ -79,7 +79,7 @@ static const char *fuzz_check_sample(const arrank_sample *s)
 }
 
 /* Fit a readable sample as the analysis would, so odd numbers reach GSL too. */
-static const char *fuzz_fit_sample(const arrank_sample *s)
+static inline const char *fuzz_fit_sample(const arrank_sample *s)
 {
     if (s->problem)
         return NULL;
@@ -120,7 +120,8 @@ done:
 }
 
 /* A sample file, whole: read it, then read it again into another report unit, then fit it. */
-static const char *fuzz_sample_one(arrank_units *units, const uint8_t *data, size_t size)
+static inline const char *fuzz_sample_one(arrank_units *units,
+                                       const uint8_t *data, size_t size)
 {
     arrank_sample s;
     arrank_error err;
@@ -146,7 +147,7 @@ static const char *fuzz_sample_one(arrank_units *units, const uint8_t *data, siz
     return why;
 }
 
-static const char *fuzz_check_conversion(const arrank_conversion *c)
+static inline const char *fuzz_check_conversion(const arrank_conversion *c)
 {
     if (!isfinite(c->scale) || c->scale == 0.0 || !isfinite(c->offset))
         return "conversion with a zero or non-finite scale or offset";
@@ -154,7 +155,8 @@ static const char *fuzz_check_conversion(const arrank_conversion *c)
 }
 
 /* Unit text: the first line as a temperature unit and a rate unit; line two as a target. */
-static const char *fuzz_header_one(arrank_units *units, const uint8_t *data, size_t size)
+static inline const char *fuzz_header_one(arrank_units *units,
+                                       const uint8_t *data, size_t size)
 {
     char *text = fuzz_text(data, size);
     if (!text)
@@ -189,7 +191,8 @@ static const char *fuzz_header_one(arrank_units *units, const uint8_t *data, siz
 }
 
 /* A temperature as typed after --at or in operating_temperature. */
-static const char *fuzz_temperature_one(arrank_units *units, const uint8_t *data, size_t size)
+static inline const char *fuzz_temperature_one(arrank_units *units,
+                                       const uint8_t *data, size_t size)
 {
     char *text = fuzz_text(data, size);
     if (!text)
@@ -207,7 +210,8 @@ static const char *fuzz_temperature_one(arrank_units *units, const uint8_t *data
 }
 
 /* campaign.ini, whole. */
-static const char *fuzz_ini_one(arrank_units *units, const uint8_t *data, size_t size)
+static inline const char *fuzz_ini_one(arrank_units *units,
+                                       const uint8_t *data, size_t size)
 {
     arrank_campaign *c = NULL;
     arrank_error err;
