@@ -6,6 +6,9 @@
 #                   draw its figures and write its report into plots/<campaign>/
 #   make check      build and run the suite (no dependency step)
 #   make test-asan  the suite under AddressSanitizer + UndefinedBehaviorSanitizer
+#   make test-valgrind  the program on the demo under valgrind (no errors, no definite leaks)
+#   make fuzz       each libFuzzer harness for FUZZ_SECONDS (default 30) seconds (clang)
+#   make bench      speed against a SciPy reference and the file-reading floor (not a test)
 #
 # BUILD selects the object folder (default build/), so several configurations
 # can live side by side.
@@ -42,7 +45,8 @@ ARRANK     := $(BUILD)/arrank
 
 DEMO       := campaigns/zeolite-ni-screen
 
-.PHONY: all deps test check demo demo-data test-asan clean install
+.PHONY: all deps test check demo demo-data test-asan test-valgrind fuzz fuzz-build bench \
+        clean install
 
 all: $(LIB) $(ARRANK) $(TOOL_BIN)
 
@@ -70,8 +74,35 @@ demo-data: $(BUILD)/tools/gen_demo
 	$(BUILD)/tools/gen_demo $(DEMO)
 
 test-asan:
-	@$(MAKE) --no-print-directory BUILD=build-asan OPT="-O1 -g" \
+	@LSAN_OPTIONS=suppressions=$(CURDIR)/tests/fuzz/lsan.supp ARRANK_SANITIZED=1 \
+	    $(MAKE) --no-print-directory BUILD=$(BUILD)-asan OPT="-O1 -g" \
 	    SAN="-fsanitize=address,undefined -fno-sanitize-recover=all -fno-omit-frame-pointer" check
+
+# The program on the demo (and on a bad input) under valgrind's memcheck.
+test-valgrind: all
+	@sh tests/valgrind.sh $(ARRANK) $(DEMO)
+
+# libFuzzer harnesses tests/fuzz/fuzz_*.c, built with clang in their own folder.
+FUZZ_SECONDS ?= 30
+FUZZ_BUILD   ?= $(BUILD)-fuzz
+FUZZ_SAN     := -fsanitize=address,undefined -fno-sanitize-recover=all -fno-omit-frame-pointer
+FUZZ_NAMES   := $(basename $(notdir $(sort $(wildcard tests/fuzz/fuzz_*.c))))
+FUZZ_BIN     := $(FUZZ_NAMES:%=$(BUILD)/fuzz/%)
+
+fuzz:
+	@$(MAKE) --no-print-directory BUILD=$(FUZZ_BUILD) CC=clang OPT="-O1 -g" \
+	    SAN="$(FUZZ_SAN) -fsanitize=fuzzer-no-link" fuzz-build
+	@sh tests/fuzz/run.sh $(FUZZ_BUILD) $(FUZZ_SECONDS) $(FUZZ_NAMES)
+
+fuzz-build: $(FUZZ_BIN)
+
+$(BUILD)/fuzz/%: tests/fuzz/%.c tests/fuzz/fuzz_targets.h $(LIB)
+	@mkdir -p $(dir $@)
+	$(CC) $(CPPFLAGS) $(ALL_CFLAGS) -fsanitize=fuzzer -o $@ $< $(LIB) $(LDLIBS)
+
+# Speed: arrank against the SciPy reference and the floor (tests/bench/run.sh).
+bench: all
+	@sh tests/bench/run.sh $(BUILD)
 
 $(LIB): $(LIB_OBJ)
 	@mkdir -p $(dir $@)

@@ -80,6 +80,9 @@ typedef struct {
     size_t pairs;             /* samples in the pairwise matrix, default 20 */
     size_t bootstrap;         /* bootstrap resamples for rate at T; 0 = off */
     int normal_draws;         /* 1: draw from the normal instead of the t distribution */
+    /* progress of the per-sample fits (campaign.h); NULL (default): none */
+    arrank_progress_fn progress;
+    void *progress_ctx;
 } arrank_options;
 
 /* Defaults: confidence 0.95, no operating temperature, rank by rate. */

@@ -98,7 +98,32 @@ typedef struct {
 arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_campaign **out,
                                    arrank_error *err);
 
+/*
+ * Progress of a long step: `stage` is a static lowercase phrase ("reading
+ * samples", "fitting samples"), `done` of `total` units finished.  Called
+ * often (up to once per sample), from the calling thread; it must be cheap.
+ * The library never prints: the program decides whether and when to show it.
+ */
+typedef void (*arrank_progress_fn)(void *ctx, const char *stage, size_t done, size_t total);
+
+/* arrank_campaign_load that reports progress per sample file (progress may be NULL). */
+arrank_status arrank_campaign_load_progress(const char *dir, arrank_units *units,
+                                            arrank_progress_fn progress, void *progress_ctx,
+                                            arrank_campaign **out, arrank_error *err);
+
 void arrank_campaign_free(arrank_campaign *campaign);
+
+/*
+ * Read campaign.ini text from a memory buffer (for tests and fuzzing), with
+ * the same rules as arrank_campaign_load.  name is used as path in messages
+ * and as the campaign's path and name.  On success *out is a new campaign
+ * with no samples (free with arrank_campaign_free): title, operating
+ * temperature, rate unit, confidence and notes as the text sets them; each
+ * [sample ID] section gets a "matches no sample" note.  On failure *out is NULL.
+ */
+arrank_status arrank_campaign_parse_ini(const char *name, const char *data, size_t len,
+                                        arrank_units *units, arrank_campaign **out,
+                                        arrank_error *err);
 
 /*
  * Read one sample file from a memory buffer (for tests and fuzzing).  name is

@@ -7,9 +7,53 @@
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
+#include <time.h>
+#include <unistd.h>
 
 #include "arrank/output.h"
 #include "cli.h"
+
+/*
+ * Progress on stderr: only when stderr is a terminal, only once the work has
+ * taken a second, at most ten updates a second, on one line that is cleared
+ * when the work is done (so a fast run shows nothing).
+ */
+typedef struct {
+    struct timespec start, last;
+    int shown;
+} progress_state;
+
+static double seconds_between(const struct timespec *a, const struct timespec *b)
+{
+    return (double)(b->tv_sec - a->tv_sec) + 1e-9 * (double)(b->tv_nsec - a->tv_nsec);
+}
+
+static void show_progress(void *ctx, const char *stage, size_t done, size_t total)
+{
+    progress_state *ps = ctx;
+    struct timespec now;
+    clock_gettime(CLOCK_MONOTONIC, &now);
+    if (seconds_between(&ps->start, &now) < 1.0 ||
+        (ps->shown && seconds_between(&ps->last, &now) < 0.1))
+        return;
+    ps->last = now;
+    ps->shown = 1;
+    if (total > 1)
+        fprintf(stderr, "\rarrank: %s %zu/%zu (%.0f%%)\033[K", stage, done, total,
+                100.0 * (double)done / (double)total);
+    else
+        fprintf(stderr, "\rarrank: %s\033[K", stage);
+    fflush(stderr);
+}
+
+static void end_progress(progress_state *ps)
+{
+    if (ps && ps->shown) {
+        fputs("\r\033[K", stderr);
+        fflush(stderr);
+        ps->shown = 0;
+    }
+}
 
 int cli_session_open(cli_args *args, int need_T, cli_session *s)
 {
@@ -32,7 +76,17 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
             return EXIT_USAGE;
         }
     }
-    arrank_status st = arrank_campaign_load(args->campaign_dir, s->units, &s->campaign, &err);
+    progress_state ps_store;
+    progress_state *ps = NULL;
+    if (isatty(STDERR_FILENO)) {
+        memset(&ps_store, 0, sizeof ps_store);
+        clock_gettime(CLOCK_MONOTONIC, &ps_store.start);
+        ps = &ps_store;
+    }
+    arrank_status st = arrank_campaign_load_progress(args->campaign_dir, s->units,
+                                                     ps ? show_progress : NULL, ps, &s->campaign,
+                                                     &err);
+    end_progress(ps);
     if (st != ARRANK_OK) {
         cli_print_error(&err);
         cli_session_free(s);
@@ -50,7 +104,12 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
     if (!args->confidence_given && isfinite(s->campaign->confidence))
         args->options.confidence = s->campaign->confidence;
 
+    args->options.progress = ps ? show_progress : NULL;
+    args->options.progress_ctx = ps;
     st = arrank_analysis_run(s->campaign, &args->options, &s->analysis, &err);
+    end_progress(ps);
+    args->options.progress = NULL;
+    args->options.progress_ctx = NULL;
     if (st != ARRANK_OK) {
         cli_print_error(&err);
         cli_session_free(s);

@@ -175,6 +175,9 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     a->campaign = campaign;
     a->options = opt;
+    /* The callback serves this call only; the stored options must not point at it. */
+    a->options.progress = NULL;
+    a->options.progress_ctx = NULL;
     a->n_results = campaign->n_samples;
     a->results = calloc(a->n_results ? a->n_results : 1, sizeof *a->results);
     a->order = calloc(a->n_results ? a->n_results : 1, sizeof *a->order);
@@ -200,6 +203,8 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
         }
         memset(res->used, 1, s->n_points);
         res->n_used = s->n_points;
+        if (opt.progress)
+            opt.progress(opt.progress_ctx, "fitting samples", i, a->n_results);
         if (s->problem) {
             set_result_error(res, s->problem, s->problem_line);
             continue;
@@ -261,6 +266,8 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
         for (size_t k = 0; k < a->n_ranked; k++)
             a->results[a->order[k]].rank = (int)(k + 1);
         /* rank.h: P(best), groups, compensation, bootstrap */
+        if (opt.progress)
+            opt.progress(opt.progress_ctx, "ranking samples", 0, 1);
         st = arrank_rank_compute(a, err);
         if (st != ARRANK_OK)
             goto fail;

@@ -26,6 +26,7 @@
 #include "arrank/campaign.h"
 #include "arrank/diagnose.h"
 #include "arrank/fit.h"
+#include "number.h"
 #include "units_internal.h"
 
 #include <dirent.h>
@@ -183,9 +184,14 @@ static int parse_number(char *text, char delim, double *value)
         else if (*p == 'x' || *p == 'X') /* strtod reads hexadecimal; a lab file does not */
             return 1;
     }
+    double v;
+    if (arrank_decimal_fast(s, &v)) { /* exact; see number.c */
+        *value = v;
+        return 0;
+    }
     char *end;
     errno = 0;
-    double v = strtod(s, &end);
+    v = strtod(s, &end);
     if (end == s || *end != '\0')
         return 1;
     if (isnan(v) || (isinf(v) && errno != ERANGE))
@@ -571,6 +577,7 @@ static void data_field(parser *p, char *text)
         }
         return;
     }
+    /* The cell as written, cut to fit, for messages (parse_number rewrites a decimal comma). */
     char shown[64];
     copy_cut(shown, sizeof shown, trim(text));
     double v = NAN;
@@ -595,6 +602,11 @@ static void data_field(parser *p, char *text)
         return;
     }
     double conv = c->conv.scale * v + c->conv.offset;
+    if (!isfinite(conv)) { /* e.g. 1e306 mol/(kg*s) is 1e309 umol/(g*s): past double */
+        fail(p, ARRANK_EPARSE, colno, "'%s' is out of range in column '%s' once converted",
+             shown, c->name);
+        return;
+    }
     switch (c->kind) {
     case COL_TEMP:
         if (!(conv > 0.0))
@@ -1483,6 +1495,30 @@ static char *join_path(const char *dir, const char *name)
     return p;
 }
 
+/* Parse campaign.ini text (len bytes at text, not NUL-terminated) named path in messages. */
+static arrank_status parse_ini_text(const char *path, const char *text, size_t len,
+                                    ini_state *st)
+{
+    st->path = path;
+    st->text = text;
+    st->pos = text;
+    st->end = text + len;
+    st->line = 0;
+    if (memchr(text, '\0', len))
+        st->status = arrank_error_at(st->err, ARRANK_EPARSE, path, nul_line(text, len), 0,
+                                     "campaign.ini is not text (it has a NUL byte)");
+    int r = st->status == ARRANK_OK ? ini_parse_stream(ini_read_line, st, on_ini_key, st) : 0;
+    if (st->status == ARRANK_OK && r == -2)
+        st->status = arrank_errorf(st->err, ARRANK_ENOMEM, "out of memory reading campaign.ini");
+    else if (st->status == ARRANK_OK && r != 0)
+        st->status = arrank_error_at(st->err, ARRANK_EPARSE, path, r, 0,
+                                     "malformed line; expected '[section]', 'key = value' "
+                                     "or a comment");
+    st->path = NULL;
+    st->text = st->pos = st->end = NULL;
+    return st->status;
+}
+
 static arrank_status read_ini(const char *dir, int dirfd, ini_state *st, char **buf, size_t *cap)
 {
     char *path = join_path(dir, "campaign.ini");
@@ -1490,31 +1526,10 @@ static arrank_status read_ini(const char *dir, int dirfd, ini_state *st, char **
         return arrank_errorf(st->err, ARRANK_ENOMEM, "out of memory");
     size_t len = 0;
     arrank_status s = read_file(dirfd, "campaign.ini", path, buf, cap, &len, st->err);
-    if (s != ARRANK_OK) {
-        free(path);
-        return s;
-    }
-    st->path = path;
-    st->text = *buf;
-    st->pos = *buf;
-    st->end = *buf + len;
-    if (memchr(*buf, '\0', len)) {
-        s = arrank_error_at(st->err, ARRANK_EPARSE, path, nul_line(*buf, len), 0,
-                            "campaign.ini is not text (it has a NUL byte)");
-        free(path);
-        st->path = NULL;
-        return s;
-    }
-    int r = ini_parse_stream(ini_read_line, st, on_ini_key, st);
-    if (st->status == ARRANK_OK && r == -2)
-        st->status = arrank_errorf(st->err, ARRANK_ENOMEM, "out of memory reading campaign.ini");
-    else if (st->status == ARRANK_OK && r != 0)
-        st->status = arrank_error_at(st->err, ARRANK_EPARSE, path, r, 0,
-                                     "malformed line; expected '[section]', 'key = value' "
-                                     "or a comment");
+    if (s == ARRANK_OK)
+        s = parse_ini_text(path, *buf, len, st);
     free(path);
-    st->path = NULL;
-    return st->status;
+    return s;
 }
 
 /* Apply [sample ID] sections of campaign.ini to the samples (sorted by id in index). */
@@ -1558,6 +1573,13 @@ static arrank_status apply_ini_entries(ini_state *st, arrank_sample **index, siz
 
 arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_campaign **out,
                                    arrank_error *err)
+{
+    return arrank_campaign_load_progress(dir, units, NULL, NULL, out, err);
+}
+
+arrank_status arrank_campaign_load_progress(const char *dir, arrank_units *units,
+                                            arrank_progress_fn progress, void *progress_ctx,
+                                            arrank_campaign **out, arrank_error *err)
 {
     if (out)
         *out = NULL;
@@ -1630,6 +1652,8 @@ arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_
         if (st != ARRANK_OK)
             goto fail;
         c->n_samples++;
+        if (progress)
+            progress(progress_ctx, "reading samples", c->n_samples, n_names);
         if (!c->rate_unit) {
             /* The first sample (in name order) sets the report unit. */
             char spelled[UNIT_MAX];
@@ -1701,4 +1725,43 @@ fail:
     close(dirfd);
     arrank_campaign_free(c);
     return st;
+}
+
+arrank_status arrank_campaign_parse_ini(const char *name, const char *data, size_t len,
+                                        arrank_units *units, arrank_campaign **out,
+                                        arrank_error *err)
+{
+    if (out)
+        *out = NULL;
+    if (!name || (!data && len) || !units || !out)
+        return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_campaign_parse_ini");
+    arrank_campaign *c = calloc(1, sizeof *c);
+    if (!c)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    c->operating_temp_K = NAN;
+    c->confidence = NAN;
+    ini_state ini;
+    memset(&ini, 0, sizeof ini);
+    ini.units = units;
+    ini.campaign = c;
+    ini.err = err;
+    arrank_status st = parse_ini_text(name, data ? data : "", len, &ini);
+    /* With no samples, every [sample ID] section becomes a "matches no sample" note. */
+    if (st == ARRANK_OK && ini.n_entries)
+        st = apply_ini_entries(&ini, NULL, 0, name);
+    if (st == ARRANK_OK) {
+        c->path = strdup(name);
+        c->name = strdup(base_name(name));
+        if (!c->title)
+            c->title = strdup(c->name ? c->name : "");
+        if (!c->path || !c->name || !c->title)
+            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    }
+    ini_entries_free(&ini);
+    if (st != ARRANK_OK) {
+        arrank_campaign_free(c);
+        return st;
+    }
+    *out = c;
+    return ARRANK_OK;
 }

@@ -15,6 +15,12 @@ void arrank_error_clear(arrank_error *err)
 }
 
 static void set_message(arrank_error *err, const char *fmt, va_list ap)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 2, 0)))
+#endif
+    ;
+
+static void set_message(arrank_error *err, const char *fmt, va_list ap)
 {
     vsnprintf(err->message, sizeof err->message, fmt, ap);
 }

@@ -165,6 +165,7 @@ static json_t *sample_json(const arrank_analysis *a, const arrank_result *res, d
     return o;
 }
 
+/* The whole document except the samples, whose array is left empty: write_json streams them. */
 static json_t *analysis_json(const arrank_analysis *a)
 {
     const arrank_campaign *c = a->campaign;
@@ -180,13 +181,7 @@ static json_t *analysis_json(const arrank_analysis *a)
     json_object_set_new(root, "ranked_by", a->n_ranked ? json_string(by_name(a->options.by))
                                                        : json_null());
     json_object_set_new(root, "R_J_mol_K", json_real(ARRANK_R_J_MOL_K));
-    json_t *samples = json_array();
-    for (size_t i = 0; i < a->n_results; i++) {
-        const arrank_result *res = &a->results[i];
-        double t = res->error ? NAN : arrank_t_quantile(a->options.confidence, res->fit.dof);
-        json_array_append_new(samples, sample_json(a, res, t));
-    }
-    json_object_set_new(root, "samples", samples);
+    json_object_set_new(root, "samples", json_array());
     /* rank.c: compensation and ranking_uncertainty */
     json_t *rank_stats = arrank_rank_stats_json(a);
     if (rank_stats) {
@@ -200,16 +195,61 @@ static json_t *analysis_json(const arrank_analysis *a)
     return root;
 }
 
+#define JSON_FLAGS (JSON_INDENT(2) | JSON_REAL_PRECISION(15) | JSON_PRESERVE_ORDER)
+
+/* Write text with every line after the first indented by `indent` spaces. */
+static void write_indented(FILE *f, const char *text, int indent)
+{
+    for (const char *nl; (nl = strchr(text, '\n')) != NULL; text = nl + 1)
+        fprintf(f, "%.*s\n%*s", (int)(nl - text), text, indent, "");
+    fputs(text, f);
+}
+
+/*
+ * The document is written the way json_dumpf would write it whole, but one
+ * sample at a time: a campaign of 100,000 samples as one jansson tree took
+ * gigabytes.  The document without samples is dumped with an empty
+ * "samples" array, split there, and each sample object is dumped and
+ * indented to its depth in between (jansson indents by nesting only, so the
+ * bytes are the same).
+ */
 static arrank_status write_json(const arrank_analysis *a, FILE *f, arrank_error *err)
 {
+    static const char placeholder[] = "\n  \"samples\": []";
     json_t *root = analysis_json(a);
-    if (!root)
-        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-    int rc = json_dumpf(root, f, JSON_INDENT(2) | JSON_REAL_PRECISION(15) | JSON_PRESERVE_ORDER);
+    char *text = root ? json_dumps(root, JSON_FLAGS) : NULL;
     json_decref(root);
-    if (rc != 0 || fputc('\n', f) == EOF)
-        return arrank_errorf(err, ARRANK_EIO, "write failed");
-    return ARRANK_OK;
+    char *at = text ? strstr(text, placeholder) : NULL;
+    if (!at) {
+        free(text);
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    }
+    size_t head = (size_t)(at - text) + sizeof placeholder - 2; /* up to and with the '[' */
+    fwrite(text, 1, head, f);
+    arrank_status st = ARRANK_OK;
+    for (size_t i = 0; i < a->n_results && st == ARRANK_OK; i++) {
+        const arrank_result *res = &a->results[i];
+        double t = res->error ? NAN : arrank_t_quantile(a->options.confidence, res->fit.dof);
+        json_t *o = sample_json(a, res, t);
+        char *one = o ? json_dumps(o, JSON_FLAGS) : NULL;
+        json_decref(o);
+        if (!one) {
+            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+            break;
+        }
+        fputs(i ? ",\n    " : "\n    ", f);
+        write_indented(f, one, 4);
+        free(one);
+    }
+    if (st == ARRANK_OK) {
+        if (a->n_results)
+            fputs("\n  ", f);
+        fputs(text + head, f);
+        if (fputc('\n', f) == EOF || ferror(f))
+            st = arrank_errorf(err, ARRANK_EIO, "write failed");
+    }
+    free(text);
+    return st;
 }
 
 /* ---- CSV ----------------------------------------------------------------- */

@@ -98,6 +98,13 @@ static int normalise(const char *text, int temperature, char *out)
         len--;
     size_t o = 0;
     for (size_t i = 0; i < len;) {
+        /* Every spelling replaced starts with a non-ASCII byte: plain ASCII is copied. */
+        if ((unsigned char)text[i] < 0x80) {
+            if (o + 1 >= UNIT_TEXT_MAX)
+                return -1;
+            out[o++] = text[i++];
+            continue;
+        }
         const char *rep = NULL;
         size_t used = 1;
         for (size_t k = 0; k < sizeof spellings / sizeof spellings[0]; k++) {

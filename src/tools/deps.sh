@@ -29,6 +29,14 @@ if [ "$for_test" -eq 1 ]; then
     # Debian's python3 (a python3 earlier on PATH may be another installation).
     /usr/bin/python3 -c 'import scipy' >/dev/null 2>&1 || need="$need python3-scipy"
     command -v chromium >/dev/null 2>&1 || need="$need chromium"
+    # The fuzzers (make fuzz): clang and its libFuzzer runtime; make test-valgrind;
+    # GNU time for peak memory in tests/check_limits.sh and make bench.
+    command -v clang >/dev/null 2>&1 || need="$need clang"
+    rt=$(clang --print-runtime-dir 2>/dev/null || true)
+    [ -n "$rt" ] && [ -f "$rt/libclang_rt.fuzzer-$(uname -m).a" ] ||
+        need="$need libclang-rt-14-dev"
+    command -v valgrind >/dev/null 2>&1 || need="$need valgrind"
+    [ -x /usr/bin/time ] || need="$need time"
 fi
 [ -n "${ARRANK_DEPS_EXTRA:-}" ] && need="$need $ARRANK_DEPS_EXTRA"
 

@@ -1,0 +1,458 @@
+/*
+ * test_robust.c - robustness of the readers: every input of the fuzzers'
+ * committed corpora (tests/fuzz/corpus/<harness>/: seeds and each input a
+ * fuzzer once broke) replayed through the same target code the fuzzers run
+ * (tests/fuzz/fuzz_targets.h), resource limits met in memory, and
+ * campaign.ini read from memory.  Under `make test-asan` the replay also
+ * checks for leaks and undefined behaviour.
+ *
+ * Run from the top of the source tree (tests/run.sh does); ARRANK_FUZZ_CORPUS
+ * may point elsewhere.
+ */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <cmocka.h>
+
+#include <dirent.h>
+#include <gsl/gsl_errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "arrank/analysis.h"
+#include "arrank/campaign.h"
+#include "arrank/units.h"
+#include "fuzz/fuzz_targets.h"
+#include "../src/lib/number.h"
+
+static arrank_units *units;
+
+typedef const char *(*target_fn)(arrank_units *, const uint8_t *, size_t);
+
+static int compare_names(const void *a, const void *b)
+{
+    return strcmp(*(char *const *)a, *(char *const *)b);
+}
+
+static unsigned char *slurp(const char *path, size_t *len)
+{
+    FILE *f = fopen(path, "rb");
+    assert_non_null(f);
+    unsigned char *buf = NULL;
+    size_t cap = 0, n = 0;
+    for (;;) {
+        if (n == cap) {
+            cap = cap ? cap * 2 : 4096;
+            buf = realloc(buf, cap);
+            assert_non_null(buf);
+        }
+        size_t got = fread(buf + n, 1, cap - n, f);
+        n += got;
+        if (got == 0)
+            break;
+    }
+    assert_int_equal(ferror(f), 0);
+    fclose(f);
+    *len = n;
+    return buf;
+}
+
+/* Replay every file of one harness's corpus; returns how many were replayed. */
+static size_t replay(const char *harness, target_fn target)
+{
+    const char *root = getenv("ARRANK_FUZZ_CORPUS");
+    char dir[512];
+    snprintf(dir, sizeof dir, "%s/%s", root ? root : "tests/fuzz/corpus", harness);
+    DIR *d = opendir(dir);
+    assert_non_null(d);
+    char **names = NULL;
+    size_t n = 0;
+    struct dirent *e;
+    while ((e = readdir(d)) != NULL) {
+        if (e->d_name[0] == '.')
+            continue;
+        names = realloc(names, (n + 1) * sizeof *names);
+        assert_non_null(names);
+        names[n] = strdup(e->d_name);
+        assert_non_null(names[n]);
+        n++;
+    }
+    closedir(d);
+    qsort(names, n, sizeof *names, compare_names);
+    for (size_t i = 0; i < n; i++) {
+        char path[1024];
+        snprintf(path, sizeof path, "%s/%s", dir, names[i]);
+        size_t len;
+        unsigned char *data = slurp(path, &len);
+        const char *why = target(units, data, len);
+        if (why)
+            fail_msg("%s: %s", path, why);
+        free(data);
+        free(names[i]);
+    }
+    free(names);
+    return n;
+}
+
+static void corpus_sample(void **state)
+{
+    (void)state;
+    assert_true(replay("fuzz_sample", fuzz_sample_one) >= 10);
+}
+
+static void corpus_header(void **state)
+{
+    (void)state;
+    assert_true(replay("fuzz_header", fuzz_header_one) >= 10);
+}
+
+static void corpus_ini(void **state)
+{
+    (void)state;
+    assert_true(replay("fuzz_ini", fuzz_ini_one) >= 3);
+}
+
+static void corpus_temperature(void **state)
+{
+    (void)state;
+    assert_true(replay("fuzz_temperature", fuzz_temperature_one) >= 10);
+}
+
+/* ---- inputs a fuzzer broke, with the answer now expected ---------------- */
+
+typedef struct {
+    const char *id;
+    const char *text;
+    arrank_status status;
+    const char *message; /* expected substring of the message */
+} unit_case;
+
+static void fixed_units(void **state)
+{
+    (void)state;
+    /* udunits leaks the look-ahead name when an action rejects the unit
+       ("m 0m": a zero factor); the answer must still be a clean refusal. */
+    static const unit_case cases[] = {
+        {"zero factor, name look-ahead", "m 0m", ARRANK_EUNIT, "unknown unit 'm 0m'"},
+        {"micro sign, CR, zero factor", "\xc2\xb5\r0m\xffo", ARRANK_EUNIT, "unknown unit"},
+        {"degree sign, zero factor", "\xc2\xb0" "2 0\xc2\xb0" "2", ARRANK_EUNIT,
+         "unknown unit"},
+    };
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+        arrank_error err;
+        arrank_error_clear(&err);
+        arrank_basis basis;
+        arrank_conversion c;
+        arrank_status st = arrank_units_rate(units, cases[i].text, &basis, &c, &err);
+        if (st != cases[i].status || !strstr(err.message, cases[i].message))
+            fail_msg("%s: got %d '%s', want %d '%s'", cases[i].id, (int)st, err.message,
+                     (int)cases[i].status, cases[i].message);
+    }
+}
+
+/* A rate that fits a double as written but not once converted to the report unit. */
+static void fixed_conversion_overflow(void **state)
+{
+    (void)state;
+    static const char text[] = "T [K],rate [mol/(kg*s)]\n500,1\n510,1e306\n520,3\n";
+    arrank_sample s;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_sample_parse("x.csv", text, sizeof text - 1, units, "mol/(kg*s)", &s,
+                                         &err),
+                     ARRANK_OK);
+    arrank_sample_clear(&s);
+    /* 1e306 mol/(kg*s) = 1e309 umol/(g*s) (factor 1000, exact unit definitions) */
+    assert_int_equal(arrank_sample_parse("x.csv", text, sizeof text - 1, units, "umol/(g*s)", &s,
+                                         &err),
+                     ARRANK_EPARSE);
+    assert_int_equal(err.line, 3);
+    assert_int_equal(err.column, 2);
+    assert_string_equal(err.message, "'1e306' is out of range in column 'rate' once converted");
+}
+
+/* ---- resource limits, in memory ------------------------------------------ */
+
+typedef struct {
+    const char *id;
+    char *text;
+    size_t len;
+    arrank_status status;
+    long line, column;
+    const char *message;
+} limit_case;
+
+static char *repeat(const char *head, const char *unit, size_t times, const char *tail,
+                    size_t *len)
+{
+    size_t nh = strlen(head), nu = strlen(unit), nt = strlen(tail);
+    char *s = malloc(nh + nu * times + nt + 1);
+    assert_non_null(s);
+    memcpy(s, head, nh);
+    for (size_t i = 0; i < times; i++)
+        memcpy(s + nh + i * nu, unit, nu);
+    memcpy(s + nh + nu * times, tail, nt + 1);
+    *len = nh + nu * times + nt;
+    return s;
+}
+
+static void limits_in_memory(void **state)
+{
+    (void)state;
+    limit_case cases[4];
+    size_t n = 0;
+    /* A 2 MiB line (limit 1 MiB), a million data columns, 1001 header columns. */
+    cases[n].id = "huge data line";
+    cases[n].text = repeat("T [K],rate [1/s]\n500,", "9", 2u << 20, "\n", &cases[n].len);
+    cases[n].status = ARRANK_ELIMIT;
+    cases[n].line = 2, cases[n].column = 0;
+    cases[n].message = "line longer than 1048576 bytes";
+    n++;
+    cases[n].id = "a million columns in a row";
+    cases[n].text = repeat("T [K],rate [1/s]\n500", ",1", 1000000, "\n", &cases[n].len);
+    cases[n].status = ARRANK_ELIMIT;
+    cases[n].line = 2, cases[n].column = 0;
+    cases[n].message = "line longer than";
+    n++;
+    cases[n].id = "1001 header columns";
+    cases[n].text = repeat("T [K],rate [1/s]", ",x", 999, "\n500,1\n", &cases[n].len);
+    cases[n].status = ARRANK_ELIMIT;
+    cases[n].line = 1, cases[n].column = 1001;
+    cases[n].message = "more than 1000 columns";
+    n++;
+    cases[n].id = "binary with a NUL on line 3";
+    cases[n].text = repeat("T [K],rate [1/s]\n500,1\n\x01\x02", "\x7f", 10, "\0\n", &cases[n].len);
+    cases[n].len += 2; /* the NUL and newline after it */
+    cases[n].status = ARRANK_EPARSE;
+    cases[n].line = 3, cases[n].column = 0;
+    cases[n].message = "not text";
+    n++;
+    for (size_t i = 0; i < n; i++) {
+        arrank_sample s;
+        arrank_error err;
+        arrank_error_clear(&err);
+        arrank_status st =
+            arrank_sample_parse("big.csv", cases[i].text, cases[i].len, units, NULL, &s, &err);
+        if (st != cases[i].status || err.line != cases[i].line ||
+            err.column != cases[i].column || !strstr(err.message, cases[i].message))
+            fail_msg("%s: got %d %ld:%ld '%s', want %d %ld:%ld '%s'", cases[i].id, (int)st,
+                     err.line, err.column, err.message, (int)cases[i].status, cases[i].line,
+                     cases[i].column, cases[i].message);
+        free(cases[i].text);
+    }
+}
+
+/* ---- the fast decimal reader against strtod -------------------------------- */
+
+/* xorshift64* (Vigna, "An experimental exploration of Marsaglia's xorshift
+   generators, scrambled", ACM TOMS 42(4), 2016): a fixed, seeded sequence. */
+static uint64_t rng_state = 0x9e3779b97f4a7c15ULL;
+static uint64_t rng_next(void)
+{
+    rng_state ^= rng_state >> 12;
+    rng_state ^= rng_state << 25;
+    rng_state ^= rng_state >> 27;
+    return rng_state * 2685821657736338717ULL;
+}
+
+/* Bit-for-bit agreement with strtod where the fast path answers; count answers. */
+static void check_decimal(const char *text, size_t *answered)
+{
+    double fast = 0.0;
+    if (!arrank_decimal_fast(text, &fast))
+        return;
+    (*answered)++;
+    char *end;
+    double slow = strtod(text, &end);
+    if (*end != '\0' || memcmp(&fast, &slow, sizeof fast) != 0)
+        fail_msg("'%s': fast %.17g, strtod %.17g (end '%s')", text, fast, slow, end);
+}
+
+static void decimal_fast_path(void **state)
+{
+    (void)state;
+    /* Cases at the edges of the fast path; values from strtod itself. */
+    static const char *const edges[] = {
+        "0", "-0", "+0.000", "0e5", "9007199254740992", "9007199254740993", "1e22", "1e-22",
+        "1e23", "123456789012345678", "1234567890123456789", "12345678901234567890",
+        "0.1", "-273.15", "5.", ".5", ".", "-", "e5", "1e", "1e+", "1.5e-7", "2,5", "0x10",
+        "1e0000000000000000000001", "00000000000000000000000000001.5", "inf", "nan", "1 ",
+        "4.35e-3", "3.6", "0.000001234", "9999999999999999999e-22",
+    };
+    size_t answered = 0;
+    for (size_t i = 0; i < sizeof edges / sizeof edges[0]; i++)
+        check_decimal(edges[i], &answered);
+    /* Refusals that must fall through to strtod's own verdict. */
+    double v = 42.0;
+    assert_int_equal(arrank_decimal_fast("1e", &v), 0);
+    assert_int_equal(arrank_decimal_fast(".", &v), 0);
+    assert_int_equal(arrank_decimal_fast("9007199254740993", &v), 0);
+    assert_int_equal(arrank_decimal_fast("1e23", &v), 0);
+    assert_true(v == 42.0);
+    /* 300,000 random decimals: 1-20 digits, a point anywhere or none, exponents -30..30. */
+    for (int k = 0; k < 300000; k++) {
+        char text[64];
+        size_t n = 0;
+        uint64_t r = rng_next();
+        if (r & 1)
+            text[n++] = (r & 2) ? '-' : '+';
+        int ndig = 1 + (int)((r >> 2) % 20);
+        int point = (int)((r >> 8) % (uint64_t)(ndig + 2)) - 1; /* -1: none */
+        for (int d = 0; d < ndig; d++) {
+            if (d == point)
+                text[n++] = '.';
+            text[n++] = (char)('0' + rng_next() % 10);
+        }
+        if ((r >> 16) & 1)
+            n += (size_t)snprintf(text + n, sizeof text - n, "e%d", (int)((r >> 20) % 61) - 30);
+        text[n] = '\0';
+        check_decimal(text, &answered);
+    }
+    /* Most short decimals take the fast path; if none did, it would test nothing. */
+    assert_true(answered > 100000);
+}
+
+/* ---- campaign.ini from memory -------------------------------------------- */
+
+static void ini_from_memory(void **state)
+{
+    (void)state;
+    static const char text[] = "; comment\n"
+                               "[campaign]\n"
+                               "title = Co on ceria, 2nd batch\n"
+                               "operating_temperature = 287.5 degC\n"
+                               "rate_unit = mmol/(kg*h)\n"
+                               "confidence = 0.9\n"
+                               "colour = teal\n"
+                               "[sample CE-7]\n"
+                               "mass = 38 mg\n";
+    arrank_campaign *c = NULL;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_parse_ini("x/campaign.ini", text, sizeof text - 1, units, &c,
+                                               &err),
+                     ARRANK_OK);
+    assert_string_equal(c->title, "Co on ceria, 2nd batch");
+    /* 287.5 degC = 560.65 K exactly (degC offset 273.15, ITS-90 convention) */
+    assert_true(fabs(c->operating_temp_K - 560.65) < 1e-9 * 560.65);
+    assert_string_equal(c->rate_unit, "mmol/(kg*h)");
+    assert_int_equal(c->basis, ARRANK_BASIS_MASS);
+    assert_true(fabs(c->confidence - 0.9) < 1e-15);
+    assert_int_equal(c->n_samples, 0);
+    assert_int_equal(c->n_notes, 2);
+    assert_string_equal(c->notes[0], "campaign.ini:7: key 'colour' in [campaign] ignored");
+    assert_string_equal(c->notes[1], "campaign.ini:9: section [sample CE-7] matches no sample");
+    arrank_campaign_free(c);
+
+    static const struct {
+        const char *id, *text;
+        arrank_status status;
+        long line;
+        const char *message;
+    } bad[] = {
+        {"no unit", "[campaign]\noperating_temperature = 250\n", ARRANK_EPARSE, 2, "no unit"},
+        {"confidence 1.5", "[campaign]\n\nconfidence = 1.5\n", ARRANK_EPARSE, 3,
+         "confidence '1.5' is not a number between 0 and 1"},
+        {"not a rate", "[campaign]\nrate_unit = K\n", ARRANK_EUNIT, 2, "not a rate"},
+        {"stray line", "[campaign]\ntitle = a\nno equals sign\n", ARRANK_EPARSE, 3,
+         "malformed line"},
+        {"NUL byte", "[campaign]\n\0\n", ARRANK_EPARSE, 2, "not text"},
+    };
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
+        size_t len = strlen(bad[i].text);
+        if (strcmp(bad[i].id, "NUL byte") == 0)
+            len = 13;
+        arrank_error_clear(&err);
+        c = (arrank_campaign *)&err; /* must be reset to NULL on failure */
+        arrank_status st =
+            arrank_campaign_parse_ini("campaign.ini", bad[i].text, len, units, &c, &err);
+        if (st != bad[i].status || err.line != bad[i].line || c != NULL ||
+            !strstr(err.message, bad[i].message))
+            fail_msg("%s: got %d line %ld '%s', want %d line %ld '%s'", bad[i].id, (int)st,
+                     err.line, err.message, (int)bad[i].status, bad[i].line, bad[i].message);
+    }
+}
+
+/* ---- progress callbacks --------------------------------------------------- */
+
+typedef struct {
+    size_t calls, last_done, last_total, out_of_order;
+    const char *stage;
+} progress_log;
+
+static void record_progress(void *ctx, const char *stage, size_t done, size_t total)
+{
+    progress_log *log = ctx;
+    if (log->calls && strcmp(stage, log->stage) == 0 && done < log->last_done)
+        log->out_of_order++;
+    log->calls++;
+    log->stage = stage;
+    log->last_done = done;
+    log->last_total = total;
+}
+
+static void progress_reported(void **state)
+{
+    (void)state;
+    /* The demo campaign: 11 sample files (campaigns/zeolite-ni-screen). */
+    progress_log log = {0, 0, 0, 0, NULL};
+    arrank_campaign *c = NULL;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_load_progress("campaigns/zeolite-ni-screen", units,
+                                                   record_progress, &log, &c, &err),
+                     ARRANK_OK);
+    assert_int_equal(log.calls, c->n_samples);
+    assert_int_equal(log.last_done, 11);
+    assert_int_equal(log.last_total, 11);
+    assert_string_equal(log.stage, "reading samples");
+    assert_int_equal(log.out_of_order, 0);
+
+    progress_log fits = {0, 0, 0, 0, NULL};
+    arrank_options o = arrank_options_defaults();
+    o.operating_temp_K = 543.15;
+    o.draws = 200;
+    o.progress = record_progress;
+    o.progress_ctx = &fits;
+    arrank_analysis *a = NULL;
+    assert_int_equal(arrank_analysis_run(c, &o, &a, &err), ARRANK_OK);
+    /* one call per sample while fitting, one when ranking starts */
+    assert_int_equal(fits.calls, c->n_samples + 1);
+    assert_string_equal(fits.stage, "ranking samples");
+    assert_int_equal(fits.out_of_order, 0);
+    assert_null(a->options.progress);
+    arrank_analysis_free(a);
+    arrank_campaign_free(c);
+}
+
+static int setup(void **state)
+{
+    (void)state;
+    gsl_set_error_handler_off();
+    arrank_error err;
+    arrank_error_clear(&err);
+    units = arrank_units_create(&err);
+    return units ? 0 : -1;
+}
+
+static int teardown(void **state)
+{
+    (void)state;
+    arrank_units_free(units);
+    return 0;
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(corpus_sample),   cmocka_unit_test(corpus_header),
+        cmocka_unit_test(corpus_ini),      cmocka_unit_test(corpus_temperature),
+        cmocka_unit_test(fixed_units),     cmocka_unit_test(limits_in_memory),
+        cmocka_unit_test(ini_from_memory), cmocka_unit_test(decimal_fast_path),
+        cmocka_unit_test(progress_reported), cmocka_unit_test(fixed_conversion_overflow),
+    };
+    return cmocka_run_group_tests(tests, setup, teardown);
+}

@@ -1,0 +1,37 @@
+#!/bin/sh
+# valgrind.sh ARRANK DEMO - the program under valgrind's memcheck: `rank` and
+# `fit` on the demo campaign (with JSON and CSV written), and a campaign with
+# a bad file (the error path).  Fails on any memcheck error or definite leak
+# (status 99 from valgrind), and on an unexpected exit status of the program.
+set -u
+A=$1
+DEMO=$2
+T=$(mktemp -d)
+trap 'rm -rf "$T"' EXIT
+command -v valgrind >/dev/null 2>&1 || { echo "valgrind: not installed (deps.sh --test)"; exit 1; }
+VG="valgrind -q --error-exitcode=99 --leak-check=full --show-leak-kinds=definite \
+--errors-for-leak-kinds=definite --track-origins=yes"
+fail=0
+run() {
+    want=$1
+    shift
+    # shellcheck disable=SC2086
+    $VG "$A" "$@" >"$T/out" 2>"$T/err"
+    st=$?
+    if [ "$st" -ne "$want" ]; then
+        echo "valgrind: FAILED (status $st, want $want): arrank $*"
+        cat "$T/err"
+        fail=1
+    else
+        echo "valgrind: clean: arrank $*"
+    fi
+}
+run 0 rank "$DEMO" --json "$T/r.json" --csv "$T/r.csv"
+run 0 fit "$DEMO" --at 255C --json -
+mkdir "$T/bad"
+cp "$DEMO"/*.csv "$T/bad/"
+printf 'T [degC],rate [umol/(g*s)]\n250,1\n260,x\n' >"$T/bad/ZZ.csv"
+run 1 rank "$T/bad"
+run 2 rank "$DEMO" --at 250
+[ "$fail" -eq 0 ] && echo "valgrind: no errors, no definite leaks"
+exit "$fail"
