@@ -397,7 +397,7 @@ static void record_progress(void *ctx, const char *stage, size_t done, size_t to
 static void progress_reported(void **state)
 {
     (void)state;
-    /* The demo campaign: 11 sample files (campaigns/zeolite-ni-screen). */
+    /* The demo campaign (campaigns/zeolite-ni-screen): one call per sample file. */
     progress_log log = {0, 0, 0, 0, NULL};
     arrank_campaign *c = NULL;
     arrank_error err;
@@ -406,8 +406,9 @@ static void progress_reported(void **state)
                                                    record_progress, &log, &c, &err),
                      ARRANK_OK);
     assert_int_equal(log.calls, c->n_samples);
-    assert_int_equal(log.last_done, 11);
-    assert_int_equal(log.last_total, 11);
+    assert_int_equal(log.last_done, c->n_samples);
+    assert_int_equal(log.last_total, c->n_samples);
+    assert_true(c->n_samples >= 10);
     assert_string_equal(log.stage, "reading samples");
     assert_int_equal(log.out_of_order, 0);
 
