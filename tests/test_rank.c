@@ -24,6 +24,9 @@
 #include <time.h>
 
 #include <cmocka.h>
+
+#include <gsl/gsl_integration.h>
+#include <gsl/gsl_randist.h>
 #include <gsl/gsl_cdf.h>
 #include <gsl/gsl_errno.h>
 #include <jansson.h>
@@ -317,6 +320,68 @@ static void test_pbest_large(void **state)
             if (i != j)
                 assert_true(fabs(pp[i * P + j] + pp[j * P + i] - 1.0) < 1e-9);
     free(pp);
+    free(pb);
+    free(fits);
+    free(f);
+}
+
+/* Exact P(sample i is the largest of k independent normals):
+   integral of phi_i(x) prod_{j != i} Phi_j(x) dx (the order-statistics
+   identity; any probability text, from memory), by GSL's QAGI. */
+typedef struct {
+    const double *mu, *sd;
+    size_t k, i;
+} max_ctx;
+
+static double max_integrand(double x, void *p)
+{
+    const max_ctx *c = p;
+    double v = gsl_ran_gaussian_pdf(x - c->mu[c->i], c->sd[c->i]);
+    for (size_t j = 0; j < c->k; j++)
+        if (j != c->i)
+            v *= gsl_cdf_gaussian_P(x - c->mu[j], c->sd[j]);
+    return v;
+}
+
+/* Three close contenders and 500 samples far behind: the far ones are never
+   best (P(best) 0, and not drawn), and the contenders' P(best) match the
+   exact normal result within 4 binomial standard errors. */
+static void test_pbest_contenders(void **state)
+{
+    (void)state;
+    enum { K = 3, FAR = 500, N = K + FAR };
+    const double mu[K] = {1.213, 1.187, 1.150}, sd[K] = {0.031, 0.024, 0.047};
+    arrank_arrhenius *f = calloc(N, sizeof *f);
+    const arrank_arrhenius **fits = malloc(N * sizeof *fits);
+    double *pb = malloc(N * sizeof *pb);
+    assert_true(f && fits && pb);
+    for (size_t i = 0; i < N; i++) {
+        f[i].T_ref_K = 500.0;
+        f[i].dof = 8;
+        f[i].b0 = i < K ? mu[i] : 0.2 - 0.001 * (double)i; /* far: 20+ sd below */
+        f[i].b1 = -9000.0;
+        f[i].cov[0][0] = i < K ? sd[i] * sd[i] : 0.04 * 0.04;
+        f[i].cov[1][1] = 1e4;
+        fits[i] = &f[i];
+    }
+    const size_t draws = 40000;
+    /* at T = T_ref the key is b0 alone */
+    assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, 500.0, draws, 7, 1, 0, pb, NULL,
+                                       NULL),
+                     ARRANK_OK);
+    gsl_integration_workspace *w = gsl_integration_workspace_alloc(1000);
+    for (size_t i = 0; i < K; i++) {
+        max_ctx c = {mu, sd, K, i};
+        gsl_function fn = {max_integrand, &c};
+        double exact, abserr;
+        assert_int_equal(gsl_integration_qagi(&fn, 1e-12, 1e-10, 1000, w, &exact, &abserr), 0);
+        double se = sqrt(exact * (1 - exact) / (double)draws);
+        print_message("# contender %zu: P(best) %.5f, exact %.5f\n", i, pb[i], exact);
+        assert_true(fabs(pb[i] - exact) < 4 * se);
+    }
+    gsl_integration_workspace_free(w);
+    for (size_t i = K; i < N; i++)
+        assert_true(pb[i] == 0.0);
     free(pb);
     free(fits);
     free(f);
@@ -865,6 +930,7 @@ int main(void)
         cmocka_unit_test(test_pbest_two_sample_t),
         cmocka_unit_test(test_pbest_reproducible_and_pairs_capped),
         cmocka_unit_test(test_pbest_large),
+        cmocka_unit_test(test_pbest_contenders),
         cmocka_unit_test(test_holm_by_hand),
         cmocka_unit_test(test_groups),
         cmocka_unit_test(test_groups_capped),

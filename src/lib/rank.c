@@ -133,7 +133,8 @@ static key_draw arrhenius_draw(const arrank_arrhenius *f, arrank_rank_by by, dou
 
 typedef struct {
     const key_draw *kd;
-    size_t n, n_top, draws;
+    const size_t *cand; /* [n_cand] ascending: the samples that can be best */
+    size_t n, n_cand, n_top, draws;
     unsigned long seed;
     size_t *best;     /* [n] */
     size_t *beats;    /* [n_top * n_top] */
@@ -151,11 +152,12 @@ static void *mc_run(void *arg)
     }
     gsl_rng_set(rng, m->seed);
     const key_draw *kd = m->kd;
-    const size_t n = m->n, n_top = m->n_top;
+    const size_t n = m->n_cand, n_top = m->n_top;
     for (size_t d = 0; d < m->draws; d++) {
         double best_key = -INFINITY;
         size_t arg_best = 0;
-        for (size_t i = 0; i < n; i++) {
+        for (size_t c = 0; c < n; c++) {
+            const size_t i = m->cand[c];
             const key_draw *k = &kd[i];
             double s = 0;
             for (size_t j = 0; j < k->n_z; j++)
@@ -182,6 +184,49 @@ static void *mc_run(void *arg)
     return NULL;
 }
 
+/* Upper tail quantile of the key's distribution: t with dof, or normal. */
+static double upper_quantile(double tail, double dof)
+{
+    return isfinite(dof) ? gsl_cdf_tdist_Qinv(tail, dof) : gsl_cdf_ugaussian_Qinv(tail);
+}
+
+/*
+ * The samples that can be best, ascending; the first n_top are always in.
+ * For any level m and the sample L with the highest lower quantile
+ * m = mean_L - q_L se_L, P(j best) <= P(x_j >= x_L) <= P(x_j >= m) + P(x_L < m).
+ * With both tails at CULL_TAIL / n, a sample whose upper quantile lies below m
+ * is best with probability at most 2 CULL_TAIL / n, all of them together at
+ * most 2 CULL_TAIL: far below the Monte Carlo's resolution of 1/draws.  Those
+ * samples get P(best) = 0 and are not drawn, which makes a campaign of
+ * thousands of samples cost what its few contenders cost.
+ */
+#define CULL_TAIL 1e-7
+static size_t candidates(const key_draw *kd, size_t n, size_t n_top, size_t *cand)
+{
+    const double tail = CULL_TAIL / (double)n;
+    double level = -INFINITY, last_dof = NAN, q = NAN;
+    for (size_t i = 0; i < n; i++) {
+        if (!(kd[i].dof == last_dof)) { /* dof repeat across samples: reuse the quantile */
+            last_dof = kd[i].dof;
+            q = upper_quantile(tail, last_dof);
+        }
+        const double lo = kd[i].mean - q * draw_se(&kd[i]);
+        if (lo > level)
+            level = lo;
+    }
+    size_t k = 0;
+    last_dof = NAN;
+    for (size_t i = 0; i < n; i++) {
+        if (!(kd[i].dof == last_dof)) {
+            last_dof = kd[i].dof;
+            q = upper_quantile(tail, last_dof);
+        }
+        if (i < n_top || !(kd[i].mean + q * draw_se(&kd[i]) < level))
+            cand[k++] = i;
+    }
+    return k;
+}
+
 /* The Monte Carlo: see the top of this file and arrank_rank_pbest in rank.h. */
 static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, unsigned long seed,
                                   size_t n_top, double *p_best, double *p_beats,
@@ -194,11 +239,17 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
                                                  "only %zu ranked", n_top, n);
     if (n == 0)
         return ARRANK_OK;
+    size_t *cand = malloc(n * sizeof *cand);
+    if (!cand)
+        return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu samples of draws", n);
+    const size_t n_cand = candidates(kd, n, n_top, cand);
     mc_stream m[ARRANK_RANK_STREAMS];
     memset(m, 0, sizeof m);
     arrank_status st = ARRANK_OK;
     for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++) {
         m[c].kd = kd;
+        m[c].cand = cand;
+        m[c].n_cand = n_cand;
         m[c].n = n;
         m[c].n_top = n_top;
         m[c].draws = draws / ARRANK_RANK_STREAMS + (c < draws % ARRANK_RANK_STREAMS);
@@ -245,6 +296,7 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
         free(m[c].beats);
         free(m[c].top_key);
     }
+    free(cand);
     return st;
 }
 
