@@ -230,4 +230,11 @@ double arrank_diagnose_mears(double rate_mol_m3_s, double radius_m, double order
  */
 int arrank_diagnose_basis(const arrank_campaign *c, const arrank_sample *s, char *why, size_t n);
 
+/*
+ * 1 when the campaign's samples differ in rate basis or declared basis, with
+ * why naming the first sample and one that differs from it.  One pass over
+ * the samples (arrank_diagnose_basis for every sample would be quadratic).
+ */
+int arrank_diagnose_campaign_basis(const arrank_campaign *c, char *why, size_t n);
+
 #endif

@@ -187,6 +187,10 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
     }
 
     arrank_status st = ARRANK_OK;
+    /* one pass for the campaign-wide basis check, not one per sample */
+    arrank_campaign_basis bases = {1, 0, ""};
+    if (opt.diagnose)
+        bases.mixed = arrank_diagnose_campaign_basis(campaign, bases.why, sizeof bases.why);
     /* rank.h: --model eyring needs turnover frequencies and their factor to 1/s */
     double rate_to_per_s = 1.0;
     st = arrank_models_prepare(campaign, &opt, &rate_to_per_s, err);
@@ -215,7 +219,7 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
         if (res->error)
             continue;
         if (opt.diagnose) {
-            st = arrank_diagnose_result(res, campaign, &opt, err);
+            st = arrank_diagnose_result_basis(res, campaign, &opt, &bases, err);
             if (st != ARRANK_OK)
                 goto fail;
             if (res->error)

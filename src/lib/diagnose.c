@@ -712,44 +712,59 @@ static arrank_basis basis_dimension(const char *word)
     return ARRANK_BASIS_UNKNOWN;
 }
 
-int arrank_diagnose_basis(const arrank_campaign *c, const arrank_sample *s, char *why, size_t n)
+/* Declared basis against the sample's own rate unit; 1 with why on a mismatch. */
+static int own_basis_mismatch(const arrank_sample *s, char *why, size_t n)
 {
-    char mine[32], other[32];
+    char mine[32];
+    declared_basis(s, mine, sizeof mine);
+    if (!mine[0])
+        return 0;
+    arrank_basis dim = basis_dimension(mine);
+    if (dim != ARRANK_BASIS_UNKNOWN && s->basis != ARRANK_BASIS_UNKNOWN && dim != s->basis) {
+        if (why)
+            snprintf(why, n, "declared basis '%s' does not match the rate unit '%s' (%s basis)",
+                     mine, s->rate_unit_file ? s->rate_unit_file : "?",
+                     arrank_basis_name(s->basis));
+        return 1;
+    }
+    return 0;
+}
+
+int arrank_diagnose_campaign_basis(const arrank_campaign *c, char *why, size_t n)
+{
     if (why && n)
         why[0] = '\0';
-    declared_basis(s, mine, sizeof mine);
-    if (mine[0]) {
-        arrank_basis dim = basis_dimension(mine);
-        if (dim != ARRANK_BASIS_UNKNOWN && s->basis != ARRANK_BASIS_UNKNOWN && dim != s->basis) {
-            if (why)
-                snprintf(why, n, "declared basis '%s' does not match the rate unit '%s' (%s basis)",
-                         mine, s->rate_unit_file ? s->rate_unit_file : "?",
-                         arrank_basis_name(s->basis));
-            return 1;
-        }
-    }
-    if (!c)
+    if (!c || c->n_samples < 2)
         return 0;
-    for (size_t i = 0; i < c->n_samples; i++) {
+    /* one pass: every sample against the first one */
+    const arrank_sample *ref = &c->samples[0];
+    char mine[32], other[32];
+    declared_basis(ref, mine, sizeof mine);
+    for (size_t i = 1; i < c->n_samples; i++) {
         const arrank_sample *o = &c->samples[i];
-        if (o == s)
-            continue;
-        if (o->basis != ARRANK_BASIS_UNKNOWN && s->basis != ARRANK_BASIS_UNKNOWN &&
-            o->basis != s->basis) {
+        if (o->basis != ARRANK_BASIS_UNKNOWN && ref->basis != ARRANK_BASIS_UNKNOWN &&
+            o->basis != ref->basis) {
             if (why)
-                snprintf(why, n, "sample '%s' is on a %s basis and '%s' on a %s basis", s->id,
-                         arrank_basis_name(s->basis), o->id, arrank_basis_name(o->basis));
+                snprintf(why, n, "sample '%s' is on a %s basis and '%s' on a %s basis", ref->id,
+                         arrank_basis_name(ref->basis), o->id, arrank_basis_name(o->basis));
             return 1;
         }
         declared_basis(o, other, sizeof other);
         if (mine[0] && other[0] && strcmp(mine, other) != 0) {
             if (why)
-                snprintf(why, n, "sample '%s' declares basis '%s' and '%s' declares '%s'", s->id,
-                         mine, o->id, other);
+                snprintf(why, n, "sample '%s' declares basis '%s' and '%s' declares '%s'",
+                         ref->id, mine, o->id, other);
             return 1;
         }
     }
     return 0;
+}
+
+int arrank_diagnose_basis(const arrank_campaign *c, const arrank_sample *s, char *why, size_t n)
+{
+    if (why && n)
+        why[0] = '\0';
+    return own_basis_mismatch(s, why, n) || arrank_diagnose_campaign_basis(c, why, n);
 }
 
 /* ---- runs, repeats and drift ---------------------------------------------- */
@@ -1179,6 +1194,9 @@ static void name_causes(work *wk, const size_t *sorted, size_t n, double ea_wind
         snprintf(series, sizeof series,
                  "series-resistance model against a straight line: F = %.3g, p = %.2g",
                  cv->series_F, cv->series_p);
+    else if (!(cv->detected && cv->direction == ARRANK_BEND_DOWN))
+        snprintf(series, sizeof series,
+                 "series-resistance model not fitted (it is fitted to a detected downward bend)");
     else
         snprintf(series, sizeof series, "series-resistance model not fitted");
     const arrank_criterion *wp = &d->weisz_prater, *me = &d->mears;
@@ -1379,6 +1397,14 @@ static void regime_of_excluded(work *wk, size_t i, double ea_w)
 arrank_status arrank_diagnose_result(arrank_result *res, const arrank_campaign *c,
                                      const arrank_options *opt, arrank_error *err)
 {
+    return arrank_diagnose_result_basis(res, c, opt, NULL, err);
+}
+
+arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_campaign *c,
+                                           const arrank_options *opt,
+                                           const arrank_campaign_basis *opt_basis,
+                                           arrank_error *err)
+{
     arrank_options defaults = arrank_options_defaults();
     if (!opt)
         opt = &defaults;
@@ -1481,7 +1507,15 @@ arrank_status arrank_diagnose_result(arrank_result *res, const arrank_campaign *
         cv->detected = q.p < CURVE_LEVEL;
         if (cv->detected)
             cv->direction = q.t < 0 ? ARRANK_BEND_DOWN : ARRANK_BEND_UP;
-        fit_series(&wk, base, n, &lf_all, cv);
+        /* The series-resistance model can only bend the plot down, and it
+           serves as evidence for the cause of a detected bend; the decision
+           itself is the quadratic test's.  Fitting it (a profile of some 30
+           nonlinear fits) only where a downward bend was detected keeps a
+           campaign of thousands of straight samples fast and changes no flag. */
+        if (cv->detected && cv->direction == ARRANK_BEND_DOWN)
+            fit_series(&wk, base, n, &lf_all, cv);
+        else
+            cv->rss_line = lf_all.rss;
     }
     if (wk.nomem)
         goto nomem;
@@ -1744,7 +1778,13 @@ arrank_status arrank_diagnose_result(arrank_result *res, const arrank_campaign *
     /* 8. transport criteria, mixed basis */
     criteria(&wk, c);
     char why[512];
-    if (arrank_diagnose_basis(c, s, why, sizeof why)) {
+    int mixed;
+    if (opt_basis && opt_basis->known)
+        mixed = own_basis_mismatch(s, why, sizeof why) ||
+                (opt_basis->mixed && snprintf(why, sizeof why, "%s", opt_basis->why) >= 0);
+    else
+        mixed = arrank_diagnose_basis(c, s, why, sizeof why);
+    if (mixed) {
         d->mixed_basis = 1;
         finding(&wk, "normalisation bases are mixed: %s; rankings across bases can invert", why);
     }

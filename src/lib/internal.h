@@ -57,4 +57,18 @@ json_t *arrank_rank_stats_json(const arrank_analysis *a);
    memory.  The caller owns the reference. */
 json_t *arrank_diagnosis_json(const arrank_result *res);
 
+/* ---- diagnose.c: the campaign's basis verdict, computed once per analysis ---- */
+typedef struct {
+    int known; /* 1 when mixed and why are filled */
+    int mixed;
+    char why[256];
+} arrank_campaign_basis;
+
+/* arrank_diagnose_result with the campaign-wide basis check done once by the
+   caller (opt_basis NULL: checked here, one pass over the campaign). */
+arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_campaign *c,
+                                           const arrank_options *opt,
+                                           const arrank_campaign_basis *opt_basis,
+                                           arrank_error *err);
+
 #endif
