@@ -145,6 +145,12 @@ typedef struct {
 } work;
 
 static char *vfmt(const char *f, va_list ap)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 1, 0)))
+#endif
+    ;
+
+static char *vfmt(const char *f, va_list ap)
 {
     va_list ap2;
     va_copy(ap2, ap);
