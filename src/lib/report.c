@@ -392,6 +392,7 @@ static const char css[] =
     ".diagnosis ul{margin:.2rem 0;padding-left:1.2rem}.diagnosis li{margin:.15rem 0}"
     ".diagnosis li.problem b{color:#a33f00}"
     "caption{text-align:left;font-weight:bold;padding:.2rem 0}"
+    "table.left-out td:nth-child(4){white-space:nowrap}"
     ".flags li{margin:.1rem 0}code,.hash{font-family:'DejaVu Sans Mono',monospace;"
     "font-size:.85rem;word-break:break-all}"
     ".swatch{display:inline-block;width:.9em;height:.9em;border-radius:50%;"
