@@ -51,8 +51,8 @@ EOF
 # A newline is possible in a file name: the sample id is then the file stem.
 nl_file=$(printf '%s/nl\nline two.csv' "$C")
 awk 'BEGIN { print "T [degC], rate [umol/(g*s)]";
-             for (t = 210; t <= 270; t += 12) printf "%d, %.6g\n", t, exp(-6000 / (t + 273.15) + 11) }' \
-    >"$nl_file"
+             for (t = 210; t <= 270; t += 12)
+        printf "%d, %.6g\n", t, exp(-6000 / (t + 273.15) + 11) }' >"$nl_file"
 count=$(ls "$C" | grep -c .)
 expect_eq "hostile campaign has its files" "$count" 11
 
@@ -174,7 +174,103 @@ ARRANK_GNUPLOT="$T/badgp" "$A" plot "$DEMO" --at 270C --out "$T/bad" >/dev/null 
 expect_eq "gnuplot error: exit 4" "$st" 4
 ok_if "gnuplot error: gnuplot's message is passed on" grep -q "invalid command" "$T/bad.err"
 ok_if "gnuplot error: one line for it" test "$(grep -c 'gnuplot failed' "$T/bad.err")" -eq 1
+"$A" plot --help >"$T/plot.help" 2>&1
+"$A" report --help >"$T/report.help" 2>&1
 ok_if "plot --help documents exit statuses 4 and 5" \
-    sh -c "'$A' plot --help | grep -q '5 gnuplot not found' && '$A' plot --help | grep -q '4 gnuplot failed'"
+    sh -c "grep -q '5 gnuplot not found' '$T/plot.help' &&
+           grep -q '4 gnuplot failed' '$T/plot.help'"
 ok_if "report --help documents exit statuses 4 and 5" \
-    sh -c "'$A' report --help | grep -q '4 gnuplot failed on a figure' && '$A' report --help | grep -q '5 gnuplot not found'"
+    sh -c "grep -q '4 gnuplot failed on a figure' '$T/report.help' &&
+           grep -q '5 gnuplot not found' '$T/report.help'"
+
+# ---- diagnostics figure ----------------------------------------------------
+# The demo's diagnoses, read from `arrank check` (diagnose.c's own words), say
+# what each figure must show: ZN-12 bends (pore diffusion, points left out),
+# ZN-13 has two runs, ZN-14 has points above the conversion limit, ZN-01 is
+# clean.  The figure is read with an XML parser: the kinetic window is a
+# polygon in the window grey rgb(228, 228, 228) taller than a key swatch, and
+# every key text must lie below the bottom of the data area (keys outside the
+# data, so they cannot cover points).
+"$A" check "$DEMO" >"$T/check.txt" 2>/dev/null
+ok_if "demo check: ZN-12 is diagnosed with pore diffusion" \
+    grep -q 'likely cause: pore diffusion' "$T/check.txt"
+"$A" plot "$DEMO" --out "$T/diag" >/dev/null 2>&1
+"$A" plot "$DEMO" --no-diagnose --out "$T/nodiag" >/dev/null 2>&1
+cat >"$T/diag.py" <<'PY'
+import re, sys, xml.etree.ElementTree as ET
+ns = "{http://www.w3.org/2000/svg}"
+def read(path):
+    root = ET.parse(path).getroot()
+    texts = []  # (text, y) of every <text>, y from the enclosing translate()
+    def walk(el, y):
+        m = re.search(r"translate\(([-\d.]+),([-\d.]+)\)", el.get("transform", ""))
+        if m:
+            y = float(m.group(2))
+        if el.tag == ns + "text":
+            texts.append(("".join(el.itertext()).strip(), y))
+        for ch in el:
+            walk(ch, y)
+    walk(root, 0.0)
+    shades = []  # (top, bottom) of tall window-grey polygons
+    for p in root.iter(ns + "polygon"):
+        if p.get("fill", "").replace(" ", "") != "rgb(228,228,228)":
+            continue
+        ys = [float(v.split(",")[1]) for v in p.get("points").split()]
+        if max(ys) - min(ys) > 60:
+            shades.append((min(ys), max(ys)))
+    return texts, shades
+path, what = sys.argv[1], sys.argv[2:]
+texts, shades = read(path)
+words = [t for t, _ in texts]
+for w in what:
+    if w == "shades":
+        print(len(shades))
+    elif w == "keys-below":
+        bottom = max(b for _, b in shades) if shades else float("inf")
+        keys = {"kinetic", "pore-diffusion-like", "film-diffusion-like", "unclassified",
+                "open: left out of the fit", "kinetic window", "±2 s (residual SD)"}
+        inside = [t for t, y in texts if (t in keys or t.startswith("kinetic window")
+                                          or t.startswith("run '")) and y <= bottom]
+        print("inside:" + "|".join(inside) if inside else "all-below")
+    elif w.startswith("has="):
+        print(any(t == w[4:] for t in words))
+    elif w.startswith("re="):
+        print(any(re.fullmatch(w[3:], t) for t in words))
+PY
+d12=$(ls "$T/diag" | grep '^diagnostics-12-.*\.svg$')
+set -- $("$PY" "$T/diag.py" "$T/diag/$d12" shades keys-below has=kinetic \
+    has=pore-diffusion-like has=unclassified 're=kinetic window 210–270 °C' \
+    'has=half the fitted Ea: strong pore-diffusion limit' 'has=open: left out of the fit')
+expect_eq "ZN-12 diagnostics: kinetic window shaded on both panels" "${1:-}" 2
+expect_eq "ZN-12 diagnostics: every key under the data areas" "${2:-}" all-below
+expect_eq "ZN-12 diagnostics: key names the kinetic regime" "${3:-}" True
+expect_eq "ZN-12 diagnostics: key names pore-diffusion-like points" "${4:-}" True
+expect_eq "ZN-12 diagnostics: key names unclassified points" "${5:-}" True
+expect_eq "ZN-12 diagnostics: key gives the window in degC (check says 483.2-543.5 K)" \
+    "${6:-}" True
+expect_eq "ZN-12 diagnostics: half-Ea line of strong pore diffusion" "${7:-}" True
+expect_eq "ZN-12 diagnostics: open markers explained" "${8:-}" True
+ok_if "ZN-12 check: window 483.2-543.5 K, the figure's 210-270 degC" \
+    grep -q 'kinetic window 483.2-543.5 K' "$T/check.txt"
+d01=$(ls "$T/diag" | grep '^diagnostics-01-.*\.svg$')
+set -- $("$PY" "$T/diag.py" "$T/diag/$d01" shades has=kinetic has=pore-diffusion-like \
+    'has=open: left out of the fit')
+expect_eq "ZN-01 (clean): window shaded on both panels" "${1:-}" 2
+expect_eq "ZN-01 (clean): kinetic points in the key" "${2:-}" True
+expect_eq "ZN-01 (clean): no pore-diffusion-like entry" "${3:-}" False
+expect_eq "ZN-01 (clean): nothing left out, no open-marker entry" "${4:-}" False
+d13=$(ls "$T/diag" | grep '^diagnostics-13-.*\.svg$')
+set -- $("$PY" "$T/diag.py" "$T/diag/$d13" "has=run 'heat'" "has=run 'cool'" keys-below)
+expect_eq "ZN-13 (deactivation): heating run drawn and named" "${1:-}" True
+expect_eq "ZN-13 (deactivation): cooling run drawn and named" "${2:-}" True
+expect_eq "ZN-13: every key under the data areas" "${3:-}" all-below
+d14=$(ls "$T/diag" | grep '^diagnostics-14-.*\.svg$')
+set -- $("$PY" "$T/diag.py" "$T/diag/$d14" 'has=conversion above 10 %' \
+    'has=open: left out of the fit')
+expect_eq "ZN-14 (over-conversion): high-conversion mark in the key" "${1:-}" True
+expect_eq "ZN-14 (over-conversion): points left out shown open" "${2:-}" True
+set -- $("$PY" "$T/diag.py" "$T/nodiag/$d12" shades has=kinetic \
+    'has=local apparent Ea not shown: diagnostics turned off')
+expect_eq "--no-diagnose: no kinetic window shaded" "${1:-}" 0
+expect_eq "--no-diagnose: no regime key" "${2:-}" False
+expect_eq "--no-diagnose: the local-Ea panel says why it is empty" "${3:-}" True

@@ -22,27 +22,94 @@ ok_if "report.html written" test -s "$R"
 ok_if "report: nothing else left in the folder" test "$(ls -A "$T/rep")" = "report.html"
 
 # Self-contained: no URL to fetch, no script, no external stylesheet or image.
-expect_eq "report: no http:// or https:// anywhere" "$(grep -c -i -e 'http://' -e 'https://' "$R")" 0
+expect_eq "report: no http:// or https:// anywhere" \
+    "$(grep -c -i -e 'http://' -e 'https://' "$R")" 0
 expect_eq "report: no <script>, <link>, <img> or src=" \
     "$(grep -c -i -e '<script' -e '<link' -e '<img' -e ' src=' "$R")" 0
 ok_if "report: print stylesheet" grep -q '@media print' "$R"
 nsvg=$(grep -c '<svg' "$R")
 # the campaign's fitted samples, counted independently from the JSON
 "$A" fit "$DEMO" --json "$T/fit.json" >/dev/null 2>&1
-nfit=$(/usr/bin/python3 -c "import json,sys; print(sum(s['error'] is None for s in json.load(open(sys.argv[1]))['samples']))" "$T/fit.json")
+nfit=$("$PY" -c "import json, sys
+print(sum(s['error'] is None for s in json.load(open(sys.argv[1]))['samples']))" "$T/fit.json")
 want_svg=$((3 + nfit))
 expect_eq "report: figures inline (3 + one per fitted sample)" "$nsvg" "$want_svg"
 for f in "$DEMO"/ZN-01.csv "$DEMO"/ZN-11.csv "$DEMO"/campaign.ini; do
     h=$(sha256sum "$f" | cut -c1-64)
     ok_if "report: SHA-256 of $(basename "$f") matches sha256sum" grep -q "$h" "$R"
 done
-ok_if "report: cautions about extrapolation" grep -q 'Do not extrapolate them to reactor design' "$R"
+ok_if "report: cautions about extrapolation" \
+    grep -q 'Do not extrapolate them to reactor design' "$R"
 ok_if "report: thermal runaway caution" grep -q 'hot spots and can run away' "$R"
 ok_if "report: flammable and toxic gases caution" grep -q 'flammable or toxic' "$R"
 ok_if "report: judgement of qualified people" grep -q 'judgement of qualified people' "$R"
-ok_if "report: unfitted sample explained" grep -q 'Not fitted and not ranked: only 2 data points' "$R"
+ok_if "report: unfitted sample explained" \
+    grep -q 'Not fitted and not ranked: only 2 data points' "$R"
 ok_if "report: the command line" grep -q "Command line: <code>arrank report $DEMO --at 270C" "$R"
 ok_if "report: program version" grep -q "Made by arrank $("$A" --version | cut -d' ' -f2)" "$R"
+
+# ---- diagnostics in the report --------------------------------------------
+# Each sample's section against `arrank check` (diagnose.c's plain words): the
+# same findings, and one row per point left out with the reason check gives.
+"$A" check "$DEMO" >"$T/check.txt" 2>/dev/null
+cat >"$T/sections.py" <<'PY'
+import html, re, sys
+page = open(sys.argv[1], encoding="utf-8").read()
+check = open(sys.argv[2], encoding="utf-8").read()
+sample = sys.argv[3]
+sec = [s for s in page.split('<section class="sample">')[1:]
+       if re.sub(r"<[^>]+>", "", s.split("</h3>")[0]).strip().startswith(sample + " ")]
+blocks = re.split(r"\n(?=\S)", check)
+blk = [b for b in blocks if b.startswith(sample + " ")]
+if len(sec) != 1 or len(blk) != 1:
+    print("missing", "no-section", "no-problems", "no-rows", "no-reasons")
+    sys.exit()
+text = html.unescape(re.sub(r"<[^>]+>", "", sec[0]))
+problems = [l.strip()[len("problem: "):] for l in blk[0].splitlines()
+            if l.strip().startswith("problem: ")]
+left = [l.strip().split(": ", 2)[2] for l in blk[0].splitlines()
+        if l.strip().startswith("left out: ")]
+table = re.search(r'<table class="left-out">(.*?)</table>', sec[0], re.S)
+rows = re.findall(r"<tr><td class=\"n\">\d+</td>.*?</tr>", table.group(1)) if table else []
+reasons = [html.unescape(re.findall(r"<td>(.*?)</td>", r)[-1]) for r in rows]
+print(sum(p in text for p in problems), len(problems), len(rows), len(left),
+      sum(a == b for a, b in zip(reasons, left)))
+PY
+for s in ZN-12 ZN-13 ZN-14; do
+    set -- $("$PY" "$T/sections.py" "$R" "$T/check.txt" "$s")
+    ok_if "report $s: every problem check names is in its section (${1:-?} of ${2:-?})" \
+        test "${1:-x}" = "${2:-y}" -a "${2:-0}" -gt 0
+    expect_eq "report $s: one row per point left out (check: ${4:-?})" "${3:-}" "${4:-}"
+    expect_eq "report $s: each row has check's reason" "${5:-}" "${4:-}"
+done
+expect_eq "check: ZN-12 has 7 points left out (the demo's pore-diffusion sample)" \
+    "$(sed -n '/^ZN-12 /,/^$/p' "$T/check.txt" | grep -c 'left out: ')" 7
+ok_if "report: ZN-12's likely cause in words" grep -q 'likely cause: pore diffusion' "$R"
+ok_if "report: pore-diffusion-like rows in ZN-12's table" \
+    grep -q '<td>pore-diffusion-like</td><td>pore-diffusion-like: hotter than the kinetic' "$R"
+ok_if "report: ZN-14's high-conversion rows" \
+    grep -q '<td>conversion 20.4 % above the 10 % differential limit</td>' "$R"
+ok_if "report: Weisz-Prater verdict for ZN-12 (check: 8.78 above 0.6)" \
+    grep -q '<th>Weisz&ndash;Prater</th><td class="n">8.78</td><td class="n">0.6</td>' "$R"
+ok_if "check agrees: Weisz-Prater number 8.78 above 0.6" \
+    grep -q 'Weisz-Prater number 8.78 at 612.8 K is above 0.6' "$T/check.txt"
+
+# ---- reproducible date (reproducible-builds.org, SOURCE_DATE_EPOCH) --------
+# 1700000000 s is 2023-11-14 22:13:20 UTC (GNU date -u -d @1700000000).
+SOURCE_DATE_EPOCH=1700000000 "$A" report "$DEMO" --at 270C --out "$T/sde" >/dev/null 2>&1
+cp "$T/sde/report.html" "$T/sde1.html"
+sleep 1
+SOURCE_DATE_EPOCH=1700000000 "$A" report "$DEMO" --at 270C --out "$T/sde" >/dev/null 2>&1
+ok_if "SOURCE_DATE_EPOCH: the date printed is that time" \
+    grep -q 'on 2023-11-14 22:13 UTC' "$T/sde1.html"
+ok_if "SOURCE_DATE_EPOCH: two runs give byte-identical pages" cmp -s "$T/sde1.html" \
+    "$T/sde/report.html"
+SOURCE_DATE_EPOCH=17e8 "$A" report "$DEMO" --at 270C --out "$T/bad-sde" >/dev/null \
+    2>"$T/bad-sde.err"; st=$?
+expect_eq "SOURCE_DATE_EPOCH malformed: exit 2" "$st" 2
+ok_if "SOURCE_DATE_EPOCH malformed: named in the message" grep -q "'SOURCE_DATE_EPOCH'" \
+    "$T/bad-sde.err"
+ok_if "SOURCE_DATE_EPOCH malformed: no report written" test ! -e "$T/bad-sde/report.html"
 
 if [ ! -x "$CHROME" ]; then
     echo "not ok - chromium not found: install it (apt-get install chromium)"
@@ -58,8 +125,8 @@ chrome() {
         --user-data-dir="$profile" --enable-logging=stderr --v=0 "$@"
 }
 # Control: a page with a console error is seen as one, so the check can fail.
-printf '<!DOCTYPE html><html><body><p>x</p><script>console.error("arrank-control-error")</script></body></html>\n' \
-    >"$T/control.html"
+printf '%s%s\n' '<!DOCTYPE html><html><body><p>x</p>' \
+    '<script>console.error("arrank-control-error")</script></body></html>' >"$T/control.html"
 chrome c --dump-dom "file://$T/control.html" >/dev/null 2>"$T/control.err"
 ok_if "control: a console error shows in Chromium's log" grep -q 'CONSOLE.*arrank-control-error' \
     "$T/control.err"

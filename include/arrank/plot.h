@@ -15,11 +15,14 @@
  *                          best at the top, log axis (only with an operating T)
  *   ea-lnA                 Ea against ln A with joint confidence ellipses
  *   diagnostics-NN[-ID]    per fitted sample: residuals against 1000/T and the
- *                          local apparent Ea against T.  NN is the sample's
+ *                          diagnosis's local apparent Ea windows against T,
+ *                          the kinetic window shaded on both, each point's
+ *                          regime shown by its marker shape.  NN is the sample's
  *                          1-based position in the campaign; ID is the sample id
  *                          with each run of characters other than [A-Za-z0-9._-]
  *                          made one '_' (at most 40 characters).
- * Each sample has one colour and one marker shape in every figure.
+ * Each sample has one colour in every figure and one marker shape in every
+ * figure but its diagnostics, where the shape tells each point's regime.
  */
 #ifndef ARRANK_PLOT_H
 #define ARRANK_PLOT_H

@@ -7,7 +7,14 @@
  * ranking table, each sample's parameters and flags in words, the methods in
  * brief, the safety cautions, the program version, the command line and a
  * SHA-256 of every input file, so a reader can tell which data it describes.
- * Every string from the data is HTML-escaped.
+ * Each sample's section gives the diagnostics in plain words, the points left
+ * out of the fit with their reasons and the Weisz-Prater and Mears verdicts
+ * when computed.  Every string from the data is HTML-escaped.
+ *
+ * The page states when it was made: the current time, or the time in the
+ * environment variable SOURCE_DATE_EPOCH (decimal seconds since 1970-01-01
+ * UTC, reproducible-builds.org) when it is set and not empty, so that the
+ * same inputs, options and program give a byte-identical page.
  */
 #ifndef ARRANK_REPORT_H
 #define ARRANK_REPORT_H
@@ -31,7 +38,9 @@ arrank_report_options arrank_report_defaults(void);
  * gnuplot is missing (ENOGNUPLOT) or fails (EPLOT) the report is still
  * written, without figures and with a note saying why, and that status is
  * returned with gnuplot's message.  EIO when the file cannot be written or an
- * input file cannot be read for its checksum; ENOMEM.
+ * input file cannot be read for its checksum; EINVAL, before anything is
+ * written, when SOURCE_DATE_EPOCH is set but not a whole number of seconds up
+ * to the year 9999; ENOMEM.
  */
 arrank_status arrank_report_write(const arrank_analysis *analysis, const char *path,
                                   const arrank_report_options *options, arrank_error *err);

@@ -37,6 +37,7 @@
 
 #include <gsl/gsl_cdf.h>
 
+#include "arrank/diagnose.h"
 #include "arrank/rank.h"
 #include "internal.h"
 
@@ -346,6 +347,12 @@ static void put_key(FILE *f, const arrank_analysis *a, int with_unfitted)
         fputs("set key outside right top vertical Left reverse samplen 1.5 spacing 1.15\n", f);
 }
 
+static size_t longest_row_note(const arrank_analysis *a);
+
+/* Width in SVG pixels of one character of the base font, about 0.55 em of a
+   sans-serif at 22 px (a measured average, our choice). */
+#define CHAR_PX 12.0
+
 static void figure_size(const script *s, const figure *fig, int *w, int *h)
 {
     *w = 1080;
@@ -358,11 +365,15 @@ static void figure_size(const script *s, const figure *fig, int *w, int *h)
         }
     } else if (fig->kind == ARRANK_FIGURE_DIAGNOSTICS) {
         *w = 1200;
-        *h = 540;
+        *h = 720;
     } else if (fig->kind == ARRANK_FIGURE_RATE_AT_T) {
         size_t n = s->a->n_ranked ? s->a->n_ranked : s->a->n_results;
         double hh = 200.0 + 44.0 * (double)n;
         *h = hh < 420 ? 420 : hh > 4000 ? 4000 : (int)hh;
+        /* The notes at the right take their own room: the plot keeps the
+           width it has with a margin of about 12 characters. */
+        double extra = (0.62 * (double)longest_row_note(s->a) + 3.0 - 12.0) * CHAR_PX;
+        *w += extra > 0 ? (extra > 2000 ? 2000 : (int)extra) : 0;
     }
 }
 
@@ -497,16 +508,16 @@ static double nice_step(double span, double max_tics)
     return p10;
 }
 
-/* Top-axis tics at round degC values between t_lo and t_hi (degC; the linked
-   x2 axis takes its positions in degC). */
-static void put_celsius_tics(FILE *f, double t_lo, double t_hi)
+/* Top-axis tics at round degC values between t_lo and t_hi, at most
+   max_tics of them (degC; the linked x2 axis takes its positions in degC). */
+static void put_celsius_tics(FILE *f, double t_lo, double t_hi, double max_tics)
 {
     double span = t_hi - t_lo;
     if (!(span > 0) || !isfinite(span)) {
         fputs("set x2tics out\n", f);
         return;
     }
-    double step = nice_step(span, 8.0);
+    double step = nice_step(span, max_tics);
     fputs("set x2tics out (", f);
     int n = 0;
     for (double t = ceil(t_lo / step) * step; t <= t_hi + 1e-9 * span && n < 20; t += step) {
@@ -554,7 +565,8 @@ static void fig_arrhenius(script *s)
     fputs("set link x2 via 1000./x - 273.15 inverse 1000./(x + 273.15)\n"
           "set xtics nomirror\n",
           f);
-    put_celsius_tics(f, X_SCALE / (x_hi + pad) - ZERO_C_K, X_SCALE / (x_lo - pad) - ZERO_C_K);
+    put_celsius_tics(f, X_SCALE / (x_hi + pad) - ZERO_C_K, X_SCALE / (x_lo - pad) - ZERO_C_K,
+                     8.0);
     fputs("set mytics 2\n"
           "set style fill transparent solid 0.14 noborder\n",
           f);
@@ -680,6 +692,21 @@ static void row_note(const arrank_result *r, char *buf, size_t n)
         snprintf(buf, n, "%s", flags);
 }
 
+/* Length of the longest row note of the rate figure, in bytes. */
+static size_t longest_row_note(const arrank_analysis *a)
+{
+    size_t longest = 0;
+    for (size_t i = 0; i < a->n_results; i++) {
+        const arrank_result *r = &a->results[i];
+        if (!(r->has_prediction && fitted(r)))
+            continue;
+        char buf[512];
+        row_note(r, buf, sizeof buf);
+        longest = strlen(buf) > longest ? strlen(buf) : longest;
+    }
+    return longest;
+}
+
 /* Brackets at the right edge of the rate figure around each group of two or
    more samples the ranking statistics cannot tell apart (rank.h).  Returns
    the number of brackets drawn; nothing without ranking statistics. */
@@ -795,15 +822,9 @@ static void fig_rate_at_T(script *s)
     put_log_tics(f, "x", lo / widen, hi * widen);
     /* Room at the right for the flag names (in characters of the base font;
        they are drawn at 0.7 of it). */
-    size_t flag_chars = 0;
-    for (size_t k = 0; k < n_rows; k++) {
-        char buf[512];
-        row_note(&a->results[rows[k]], buf, sizeof buf);
-        if (strlen(buf) > flag_chars)
-            flag_chars = strlen(buf);
-    }
+    size_t flag_chars = longest_row_note(a);
     if (flag_chars)
-        fprintf(f, "set rmargin %.3g\n", 0.75 * (double)flag_chars + 3.0);
+        fprintf(f, "set rmargin %.3g\n", 0.62 * (double)flag_chars + 3.0);
     fprintf(f, "set yrange [0.4:%.9g]\n", (double)n_rows + 0.6);
     /* Sample names as tick labels: each one a quoted string expression. */
     fputs("set ytics (", f);
@@ -831,9 +852,11 @@ static void fig_rate_at_T(script *s)
         }
         any_flag |= r->flags != 0;
     }
+    /* Notes go under the axis label, one row each, with room kept for them. */
+    fputs("set bmargin 6.6\n", f);
     if (put_group_brackets(f, a, rows, n_rows) > 0)
         fprintf(f, "set label 4 'bracket at right: not told apart from the first of its group "
-                   "(Holm, %.4g %%)' at screen 0.01, screen 0.10 left font ',%d' "
+                   "(Holm, %.4g %%)' at character 0.6, character 2.4 left font ',%d' "
                    "tc rgb '#444444'\n",
                 100.0 * a->options.confidence, font_of(s, 0.7));
     /* Samples without a rate at T_op are named under the figure, not dropped
@@ -852,11 +875,11 @@ static void fig_rate_at_T(script *s)
     if (n_out > 5)
         fprintf(f, " . ' (and %zu more)'", n_out - 5);
     if (n_out)
-        fprintf(f, " at screen 0.01, screen 0.02 left font ',%d' tc rgb '#444444'\n",
+        fprintf(f, " at character 0.6, character 0.6 left font ',%d' tc rgb '#444444'\n",
                 font_of(s, 0.7));
     if (any_flag)
-        fprintf(f, "set label 2 'open marker: flagged (flags at right)' at screen 0.01, "
-                   "screen 0.06 left font ',%d' tc rgb '#444444'\n",
+        fprintf(f, "set label 2 'open marker: flagged (flags at right)' at character 0.6, "
+                   "character 1.5 left font ',%d' tc rgb '#444444'\n",
                 font_of(s, 0.7));
     int first = 1;
     for (size_t k = 0; k < n_rows; k++) {
@@ -995,77 +1018,203 @@ static void fig_ea_lnA(script *s)
     fputs("\n", f);
 }
 
-/* Local apparent Ea from sliding three-temperature windows: the least-squares
-   slope of ln r on 1/T over three neighbouring distinct temperatures,
-   Ea_loc = -R slope, placed at the middle temperature (DOMAIN notes,
-   "Local slopes"; common practice).  Repeats at one temperature are averaged
-   in ln r first.  Writes the block $loc<i> (T [degC], Ea_loc [kJ/mol]) and
-   returns the number of rows. */
-static size_t block_local_ea(FILE *f, const arrank_result *r, size_t i)
+/* ---- per-sample diagnostics --------------------------------------------- */
+
+/* Marker of each point regime of diagnose.h, in key order: gnuplot point
+   types {filled, hollow} (circle, triangle down, diamond, square) and the
+   words of the key.  In the diagnostics figure the shape tells the regime and
+   the fill whether the point is in the fit; the colour stays the sample's. */
+static const struct {
+    arrank_regime regime;
+    const char *words;
+    int pt[2];
+} regime_marks[] = {
+    {ARRANK_REGIME_KINETIC, "kinetic", {7, 6}},
+    {ARRANK_REGIME_PORE, "pore-diffusion-like", {11, 10}},
+    {ARRANK_REGIME_FILM, "film-diffusion-like", {13, 12}},
+    {ARRANK_REGIME_UNCLASSIFIED, "unclassified", {5, 4}},
+};
+#define N_REGIMES (sizeof regime_marks / sizeof regime_marks[0])
+
+/* The kinetic window is a neutral grey behind everything, so that it cannot
+   be mistaken for a sample's colour or its confidence band. */
+#define WINDOW_FILL "#e4e4e4"
+#define WINDOW_EDGE "#8c8c8c"
+
+/* Index into regime_marks of point k of r; -1 without a diagnosis. */
+static int regime_of(const arrank_result *r, size_t k)
+{
+    const arrank_diagnosis *d = r->diagnosis;
+    if (!d || k >= d->n_points)
+        return -1;
+    for (size_t m = 0; m < N_REGIMES; m++)
+        if (regime_marks[m].regime == d->points[k].regime)
+            return (int)m;
+    return (int)N_REGIMES - 1;
+}
+
+/* The diagnosis's kinetic window, when there is one to show: finite bounds
+   and at least one point of the fit classed kinetic (a sample that looks
+   film-controlled throughout has a fit range but no kinetic window). */
+static int kinetic_window(const arrank_result *r, double *lo_K, double *hi_K)
+{
+    const arrank_diagnosis *d = r->diagnosis;
+    if (!d || !isfinite(d->window_lo_K) || !isfinite(d->window_hi_K) ||
+        !(d->window_hi_K >= d->window_lo_K))
+        return 0;
+    int kinetic = 0;
+    for (size_t k = 0; k < d->n_points && k < r->sample->n_points; k++)
+        kinetic |= point_used(r, k) && d->points[k].regime == ARRANK_REGIME_KINETIC;
+    *lo_K = d->window_lo_K;
+    *hi_K = d->window_hi_K;
+    return kinetic;
+}
+
+/* Shade [a, b] in first-axis x units on the current panel, with dashed
+   edges, behind the grid and the data. */
+static void put_window_shade(FILE *f, double a, double b)
+{
+    fprintf(f,
+            "set object 1 rect from first %.9g, graph 0 to first %.9g, graph 1 behind "
+            "fc rgb '" WINDOW_FILL "' fs solid 1.0 noborder\n"
+            "set arrow 1 from first %.9g, graph 0 to first %.9g, graph 1 nohead dt 2 lw 1 "
+            "lc rgb '" WINDOW_EDGE "' back\n"
+            "set arrow 2 from first %.9g, graph 0 to first %.9g, graph 1 nohead dt 2 lw 1 "
+            "lc rgb '" WINDOW_EDGE "' back\n",
+            a, b, a, a, b, b);
+}
+
+/* Residuals ln r - fitted ln r of sample i, one data block per (regime,
+   in the fit or not): $rg<m><u|x><i>, m the regime_marks index or 'n' when
+   there is no diagnosis.  cnt[2 * (m + 1) + left_out] receives the counts. */
+static void block_residuals(FILE *f, const arrank_result *r, size_t i,
+                            size_t cnt[2 * (N_REGIMES + 1)])
 {
     const arrank_sample *smp = r->sample;
-    size_t n = smp->n_points;
-    double *T = malloc((n ? n : 1) * 2 * sizeof *T);
-    if (!T)
-        return 0;
-    double *y = T + n;
-    size_t m = 0;
-    /* Distinct temperatures (to 0.01 K), mean ln r at each; sorted by T. */
-    for (size_t k = 0; k < n; k++) {
-        const arrank_point *p = &smp->points[k];
-        if (!usable_point(p))
-            continue;
-        size_t j = 0;
-        while (j < m && fabs(T[j] - p->temp_K) > 0.01)
-            j++;
-        if (j == m) {
-            T[m] = p->temp_K;
-            y[m] = 0;
-            m++;
-        }
-    }
-    for (size_t j = 0; j < m; j++) {
-        double sum = 0;
-        size_t c = 0;
-        for (size_t k = 0; k < n; k++) {
-            const arrank_point *p = &smp->points[k];
-            if (usable_point(p) && fabs(T[j] - p->temp_K) <= 0.01) {
-                sum += log(p->rate);
-                c++;
+    for (int m = -1; m < (int)N_REGIMES; m++)
+        for (int out = 0; out < 2; out++) {
+            size_t n = 0;
+            for (size_t k = 0; k < smp->n_points; k++) {
+                const arrank_point *p = &smp->points[k];
+                if (!usable_point(p) || point_used(r, k) == out || regime_of(r, k) != m)
+                    continue;
+                if (n == 0) {
+                    if (m < 0)
+                        fprintf(f, "$rgn%c%zu << EOD\n", out ? 'x' : 'u', i);
+                    else
+                        fprintf(f, "$rg%d%c%zu << EOD\n", m, out ? 'x' : 'u', i);
+                }
+                double yf, se;
+                line_at(&r->fit, p->temp_K, &yf, &se);
+                fprintf(f, "%.9g %.9g\n", X_SCALE / p->temp_K, log(p->rate) - yf);
+                n++;
             }
+            if (n)
+                fputs("EOD\n", f);
+            cnt[2 * (m + 1) + out] = n;
         }
-        y[j] = sum / (double)c;
-    }
-    for (size_t j = 1; j < m; j++)
-        for (size_t k = j; k > 0 && T[k - 1] > T[k]; k--) {
-            double t = T[k];
-            T[k] = T[k - 1];
-            T[k - 1] = t;
-            t = y[k];
-            y[k] = y[k - 1];
-            y[k - 1] = t;
-        }
+}
+
+/* The diagnosis's local apparent Ea windows as the block $loc<i>: T_mid
+   [degC], Ea [kJ/mol], standard error [kJ/mol] (0 when not known).  Returns
+   the number of rows. */
+static size_t block_local_ea(FILE *f, const arrank_result *r, size_t i)
+{
+    const arrank_diagnosis *d = r->diagnosis;
     size_t rows = 0;
-    for (size_t j = 1; j + 1 < m; j++) {
-        double xs[3] = {1.0 / T[j - 1], 1.0 / T[j], 1.0 / T[j + 1]};
-        double xm = (xs[0] + xs[1] + xs[2]) / 3, ym = (y[j - 1] + y[j] + y[j + 1]) / 3;
-        double sxy = 0, sxx = 0;
-        for (int k = 0; k < 3; k++) {
-            sxy += (xs[k] - xm) * (y[j - 1 + k] - ym);
-            sxx += (xs[k] - xm) * (xs[k] - xm);
-        }
-        if (!(sxx > 0))
+    for (size_t k = 0; d && k < d->curvature.n_local; k++) {
+        const arrank_local_ea *le = &d->curvature.local[k];
+        if (!isfinite(le->ea_J_mol) || !isfinite(le->temp_mid_K))
             continue;
         if (rows == 0)
             fprintf(f, "$loc%zu << EOD\n", i);
-        fprintf(f, "%.9g %.9g\n", T[j] - ZERO_C_K, -ARRANK_R_J_MOL_K * (sxy / sxx) / 1000.0);
+        double se = isfinite(le->ea_se_J_mol) ? le->ea_se_J_mol / 1000.0 : 0.0;
+        fprintf(f, "%.9g %.9g %.9g\n", le->temp_mid_K - ZERO_C_K, le->ea_J_mol / 1000.0, se);
         rows++;
     }
     if (rows)
         fputs("EOD\n", f);
-    free(T);
     return rows;
 }
+
+/* Points the diagnosis marks for data quality, as the block $<tag><i> of
+   residuals: which = 0 conversion above the differential limit, 1 outliers.
+   Returns the count. */
+static size_t block_marked(FILE *f, const arrank_result *r, size_t i, int which)
+{
+    const arrank_diagnosis *d = r->diagnosis;
+    const arrank_sample *smp = r->sample;
+    size_t n = 0;
+    for (size_t k = 0; d && k < d->n_points && k < smp->n_points; k++) {
+        const arrank_point *p = &smp->points[k];
+        int marked = which == 0 ? d->points[k].high_conversion : d->points[k].outlier;
+        if (!marked || !usable_point(p))
+            continue;
+        if (n == 0)
+            fprintf(f, "$%s%zu << EOD\n", which == 0 ? "hcv" : "olr", i);
+        double yf, se;
+        line_at(&r->fit, p->temp_K, &yf, &se);
+        fprintf(f, "%.9g %.9g\n", X_SCALE / p->temp_K, log(p->rate) - yf);
+        n++;
+    }
+    if (n)
+        fputs("EOD\n", f);
+    return n;
+}
+
+/* Runs of one sample (heating and cooling branches, repeats) are told apart
+   in the residual panel by a thin line through each run's points in order of
+   1000/T, dash type by run: a run that sits apart from the others is what
+   deactivation or activation between runs looks like.  Writes $run<j>_<i>
+   for each run j with two or more usable points; returns how many runs. */
+#define MAX_RUN_LINES 5
+static size_t block_runs(FILE *f, const arrank_result *r, size_t i, int *drawn)
+{
+    const arrank_sample *smp = r->sample;
+    size_t n_runs = smp->n_runs < MAX_RUN_LINES ? smp->n_runs : MAX_RUN_LINES;
+    if (smp->n_runs < 2)
+        return 0;
+    size_t *idx = malloc((smp->n_points ? smp->n_points : 1) * sizeof *idx);
+    if (!idx)
+        return 0;
+    for (size_t j = 0; j < n_runs; j++) {
+        size_t m = 0;
+        for (size_t k = 0; k < smp->n_points; k++)
+            if (smp->points[k].run == (int)j && usable_point(&smp->points[k]))
+                idx[m++] = k;
+        drawn[j] = m >= 2;
+        if (m < 2)
+            continue;
+        for (size_t a = 1; a < m; a++) /* insertion sort by temperature */
+            for (size_t b = a; b > 0 && smp->points[idx[b - 1]].temp_K <
+                                         smp->points[idx[b]].temp_K; b--) {
+                size_t tmp = idx[b];
+                idx[b] = idx[b - 1];
+                idx[b - 1] = tmp;
+            }
+        fprintf(f, "$run%zu_%zu << EOD\n", j, i);
+        for (size_t a = 0; a < m; a++) {
+            const arrank_point *p = &smp->points[idx[a]];
+            double yf, se;
+            line_at(&r->fit, p->temp_K, &yf, &se);
+            fprintf(f, "%.9g %.9g\n", X_SCALE / p->temp_K, log(p->rate) - yf);
+        }
+        fputs("EOD\n", f);
+    }
+    free(idx);
+    return n_runs;
+}
+
+/* Panels and keys of the diagnostics figure in screen fractions: the keys sit
+   under the panels, outside every data area, so no key can cover a point. */
+#define DIAG_TOP 0.74
+#define DIAG_BOTTOM 0.34
+#define DIAG_KEY_TOP 0.19
+#define DIAG_HEAD 0.885
+#define DIAG_LEFT_L 0.105
+#define DIAG_LEFT_R 0.465
+#define DIAG_RIGHT_L 0.615
+#define DIAG_RIGHT_R 0.975
 
 static void fig_diagnostics(script *s, size_t i)
 {
@@ -1074,48 +1223,26 @@ static void fig_diagnostics(script *s, size_t i)
     const arrank_result *r = &a->results[i];
     const arrank_arrhenius *fit = &r->fit;
     const arrank_sample *smp = r->sample;
+    const arrank_diagnosis *d = r->diagnosis;
     const char *c = arrank_plot_color(i);
+    double conf_pc = 100.0 * a->options.confidence;
 
-    /* Residuals ln r - fitted ln r, in the fit and left out. */
-    size_t nu = 0, nx = 0;
-    for (int pass = 0; pass < 2; pass++) {
-        size_t cnt = 0;
-        for (size_t k = 0; k < smp->n_points; k++) {
-            const arrank_point *p = &smp->points[k];
-            if (!usable_point(p) || point_used(r, k) != (pass == 0))
-                continue;
-            if (cnt == 0)
-                fprintf(f, "$res%s%zu << EOD\n", pass == 0 ? "u" : "x", i);
-            double yf, se;
-            line_at(fit, p->temp_K, &yf, &se);
-            fprintf(f, "%.9g %.9g\n", X_SCALE / p->temp_K, log(p->rate) - yf);
-            cnt++;
-        }
-        if (cnt)
-            fputs("EOD\n", f);
-        if (pass == 0)
-            nu = cnt;
-        else
-            nx = cnt;
-    }
+    size_t cnt[2 * (N_REGIMES + 1)];
+    block_residuals(f, r, i, cnt);
     size_t nloc = block_local_ea(f, r, i);
-    double t = arrank_t_quantile(a->options.confidence, fit->dof);
-    double ea = fit->ea_J_mol / 1000.0, w = isfinite(t) ? t * fit->ea_se_J_mol / 1000.0 : 0.0;
-    double Tlo = fit->T_min_K - ZERO_C_K, Thi = fit->T_max_K - ZERO_C_K;
-    {
-        double pad = 0.05 * (Thi - Tlo);
-        Tlo -= pad;
-        Thi += pad;
-    }
-    fprintf(f, "$eab%zu << EOD\n%.9g %.9g %.9g %.9g\n%.9g %.9g %.9g %.9g\nEOD\n", i, Tlo, ea,
-            ea - w, ea + w, Thi, ea, ea - w, ea + w);
+    int run_drawn[MAX_RUN_LINES] = {0};
+    size_t n_runs = block_runs(f, r, i, run_drawn);
+    size_t n_hcv = block_marked(f, r, i, 0), n_olr = block_marked(f, r, i, 1);
+    double win_lo_K = NAN, win_hi_K = NAN;
+    int has_window = kinetic_window(r, &win_lo_K, &win_hi_K);
+    int any_pore = 0, any_out = 0;
+    for (size_t m = 0; m <= N_REGIMES; m++)
+        any_out |= cnt[2 * m + 1] > 0;
+    for (size_t m = 0; m < N_REGIMES; m++)
+        if (regime_marks[m].regime == ARRANK_REGIME_PORE)
+            any_pore = cnt[2 * (m + 1)] + cnt[2 * (m + 1) + 1] > 0;
 
-    fputs("set multiplot layout 1,2 title ", f);
-    put_qf(f, "Diagnostics: %s", sample_name(r));
-    fprintf(f, " font ',%d'\n", font_of(s, 1.1));
-
-    /* Both panels span the sample's points with 5 % to spare, so the zero
-       line and the fitted Ea run across the whole panel. */
+    /* Both panels span the sample's points with 5 % to spare. */
     double t_lo = INFINITY, t_hi = -INFINITY;
     for (size_t k = 0; k < smp->n_points; k++)
         if (usable_point(&smp->points[k])) {
@@ -1125,59 +1252,168 @@ static void fig_diagnostics(script *s, size_t i)
     double xa = X_SCALE / t_hi, xb = X_SCALE / t_lo, xp = 0.05 * (xb - xa);
     double ca = t_lo - ZERO_C_K, cb = t_hi - ZERO_C_K, cp = 0.05 * (cb - ca);
 
-    /* Left: residuals against 1000/T with the +-2 s lines. */
-    fputs("set title 'residuals of the fit'\n"
-          "set xlabel '1000 / T  [K⁻¹]'\n"
+    /* The fitted Ea and its interval over the fit's range; a thin dashed
+       line carries it across the panel for comparison. */
+    double t = arrank_t_quantile(a->options.confidence, fit->dof);
+    double ea = fit->ea_J_mol / 1000.0, w = isfinite(t) ? t * fit->ea_se_J_mol / 1000.0 : 0.0;
+    fprintf(f, "$eab%zu << EOD\n%.9g %.9g %.9g %.9g\n%.9g %.9g %.9g %.9g\nEOD\n", i,
+            fit->T_min_K - ZERO_C_K, ea, ea - w, ea + w, fit->T_max_K - ZERO_C_K, ea, ea - w,
+            ea + w);
+
+    fputs("set multiplot title ", f);
+    put_qf(f, "Diagnostics: %s", sample_name(r));
+    fprintf(f, " font ',%d'\n", font_of(s, 1.1));
+    fprintf(f, "set tmargin at screen %.3f\nset bmargin at screen %.3f\n", DIAG_TOP, DIAG_BOTTOM);
+
+    /* Left: residuals against 1000/T, degC along the top, with the +-2 s
+       lines; marker shape by regime, open when left out of the fit. */
+    fprintf(f, "set lmargin at screen %.3f\nset rmargin at screen %.3f\n", DIAG_LEFT_L,
+            DIAG_LEFT_R);
+    /* Panel headings at one height over both panels (a title would sit
+       higher over the panel with the top axis). */
+    fprintf(f, "set label 8 'residuals of the fit' at screen %.3f, screen %.3f center front\n"
+               "set label 9 'local apparent Ea' at screen %.3f, screen %.3f center front\n",
+            (DIAG_LEFT_L + DIAG_LEFT_R) / 2, DIAG_HEAD, (DIAG_RIGHT_L + DIAG_RIGHT_R) / 2,
+            DIAG_HEAD);
+    fputs("set xlabel '1000 / T  [K⁻¹]'\n"
           "set ylabel 'ln r − fitted ln r'\n"
-          "set offsets 0, 0, graph 0.15, graph 0.15\n",
+          "set x2label 'T  [°C]' offset 0,-0.4\n"
+
+          "set offsets 0, 0, graph 0.12, graph 0.12\n"
+          "set xtics nomirror\n",
           f);
-    if (xb > xa)
+    fprintf(f, "set key at screen %.3f, screen %.3f left top Left reverse vertical maxrows 5 "
+               "samplen 1.2 spacing 1.1 width 1 font ',%d'\n",
+            DIAG_LEFT_L - 0.06, DIAG_KEY_TOP, font_of(s, 0.72));
+    if (xb > xa) {
         fprintf(f, "set xrange [%.9g:%.9g]\nset xtics %.9g\n", xa - xp, xb + xp,
                 nice_step(xb - xa + 2 * xp, 5.0));
-    fprintf(f, "set key bottom left Left reverse samplen 1.2 font ',%d' opaque\n",
-            font_of(s, 0.75));
+        fputs("set link x2 via 1000./x - 273.15 inverse 1000./(x + 273.15)\n", f);
+        put_celsius_tics(f, X_SCALE / (xb + xp) - ZERO_C_K, X_SCALE / (xa - xp) - ZERO_C_K,
+                         6.0);
+    }
+    if (has_window) {
+        double pad = 0.012 * (xb - xa + 2 * xp);
+        put_window_shade(f, X_SCALE / win_hi_K - pad, X_SCALE / win_lo_K + pad);
+    }
     double sd2 = 2.0 * fit->resid_sd;
     int first = 1;
     next_elem(f, &first);
     fputs("0 with lines lw 1.2 lc rgb '#444444'", f);
     if (isfinite(sd2) && sd2 > 0 && !fit->weighted) {
         next_elem(f, &first);
-        fprintf(f, "%.9g with lines dt 2 lc rgb '#777777' title '±2 s'", sd2);
+        fprintf(f, "%.9g with lines dt 2 lc rgb '#666666' title '±2 s (residual SD)'", sd2);
         next_elem(f, &first);
-        fprintf(f, "%.9g with lines dt 2 lc rgb '#777777'", -sd2);
+        fprintf(f, "%.9g with lines dt 2 lc rgb '#666666'", -sd2);
     }
-    if (nu) {
+    for (size_t j = 0; j < n_runs; j++) {
+        if (!run_drawn[j])
+            continue;
         next_elem(f, &first);
-        fprintf(f, "$resu%zu using 1:2 with points pt %d ps 1.6*PS lc rgb '%s' title 'in the fit'",
-                i, arrank_plot_point_type(i, 0), c);
+        fprintf(f, "$run%zu_%zu using 1:2 with lines lw 1 dt %zu lc rgb '%s' title ", j, i,
+                j + 1, c);
+        put_qf(f, "run '%s'", r->sample->runs[j]);
     }
-    if (nx) {
+    for (int m = -1; m < (int)N_REGIMES; m++)
+        for (int out = 0; out < 2; out++) {
+            if (!cnt[2 * (m + 1) + out])
+                continue;
+            int pt = m < 0 ? arrank_plot_point_type(i, out) : regime_marks[m].pt[out];
+            next_elem(f, &first);
+            if (m < 0)
+                fprintf(f, "$rgn%c%zu", out ? 'x' : 'u', i);
+            else
+                fprintf(f, "$rg%d%c%zu", m, out ? 'x' : 'u', i);
+            fprintf(f, " using 1:2 with points pt %d ps 1.6*PS lw 1.5 lc rgb '%s'", pt, c);
+            if (m < 0)
+                fputs(out ? " title 'left out of the fit'" : " title 'in the fit'", f);
+        }
+    /* The key names each regime present once, filled, whatever the fill of
+       its points: the fill is explained by its own entry. */
+    for (int m = 0; m < (int)N_REGIMES; m++)
+        if (cnt[2 * (m + 1)] + cnt[2 * (m + 1) + 1]) {
+            next_elem(f, &first);
+            fprintf(f, "keyentry with points pt %d ps 1.3*PS lc rgb '%s' title ",
+                    regime_marks[m].pt[0], c);
+            put_qf(f, "%s", regime_marks[m].words);
+        }
+    if (any_out) {
         next_elem(f, &first);
-        fprintf(f, "$resx%zu using 1:2 with points pt %d ps 1.6*PS lc rgb '%s' "
-                   "title 'left out of the fit'", i, arrank_plot_point_type(i, 1), c);
+        fputs("keyentry with points pt 6 ps 1.3*PS lc rgb '#555555' "
+              "title 'open: left out of the fit'", f);
+    }
+    /* Data-quality marks drawn over the regime marker, in near-black so they
+       show on any sample colour. */
+    if (n_hcv) {
+        next_elem(f, &first);
+        fprintf(f, "$hcv%zu using 1:2 with points pt 2 ps 2.4*PS lw 1.5 lc rgb '#222222' "
+                   "title ", i);
+        put_qf(f, "conversion above %.4g %%", 100.0 * d->conversion_limit);
+    }
+    if (n_olr) {
+        next_elem(f, &first);
+        fprintf(f, "$olr%zu using 1:2 with points pt 1 ps 2.4*PS lw 1.5 lc rgb '#222222' "
+                   "title 'outlier'", i);
+    }
+    if (has_window) {
+        next_elem(f, &first);
+        fputs("keyentry with filledcurves fc rgb '" WINDOW_FILL "' fs solid 1.0 noborder "
+              "title ", f);
+        put_qf(f, "kinetic window %.0f–%.0f °C", win_lo_K - ZERO_C_K, win_hi_K - ZERO_C_K);
     }
     fputs("\n", f);
 
-    /* Right: local apparent Ea against T, with the fitted Ea and its interval. */
-    fputs("set title 'local apparent Ea (3-temperature slopes)'\n"
+    /* Right: the diagnosis's local apparent Ea windows against T, with the
+       fitted Ea and its interval. */
+    fputs("unset object 1\nunset arrow\nunset link x2\nunset x2tics\nunset x2label\n"
+          "set xtics mirror\n",
+          f);
+    fprintf(f, "set lmargin at screen %.3f\nset rmargin at screen %.3f\n", DIAG_RIGHT_L,
+            DIAG_RIGHT_R);
+    fputs("unset label 8\nunset label 9\n"
           "set xlabel 'T  [°C]'\n"
           "set ylabel 'apparent Ea  [kJ/mol]'\n"
-          "set style fill transparent solid 0.15 noborder\n"
-          "set offsets 0, 0, graph 0.15, graph 0.15\n",
+          "set style fill transparent solid 0.22 noborder\n"
+          "set offsets 0, 0, graph 0.12, graph 0.12\n",
           f);
+    fprintf(f, "set key at screen %.3f, screen %.3f left top Left reverse vertical "
+               "samplen 1.2 spacing 1.1 font ',%d'\n",
+            DIAG_RIGHT_L - 0.06, DIAG_KEY_TOP, font_of(s, 0.72));
     if (cb > ca)
         fprintf(f, "set xrange [%.9g:%.9g]\nset xtics %.9g\n", ca - cp, cb + cp,
-                nice_step(cb - ca + 2 * cp, 5.0));
+                nice_step(cb - ca + 2 * cp, 6.0));
+    if (has_window) {
+        double pad = 0.012 * (cb - ca + 2 * cp);
+        put_window_shade(f, win_lo_K - ZERO_C_K - pad, win_hi_K - ZERO_C_K + pad);
+    }
+    if (!d)
+        fprintf(f, "set label 7 'local apparent Ea not shown: diagnostics turned off' at "
+                   "graph 0.5, graph 0.93 center font ',%d' tc rgb '#444444' front\n",
+                font_of(s, 0.8));
     first = 1;
     next_elem(f, &first);
     fprintf(f, "$eab%zu using 1:3:4 with filledcurves lc rgb '%s' title ", i, c);
-    put_qf(f, "fitted Ea, %.4g %% interval", 100.0 * a->options.confidence);
+    put_qf(f, "fitted Ea%s, %.4g %% interval", has_window ? " (kinetic window)" : "", conf_pc);
     next_elem(f, &first);
-    fprintf(f, "$eab%zu using 1:2 with lines lw 2 lc rgb '%s'", i, c);
+    fprintf(f, "$eab%zu using 1:2 with lines lw 2.2 lc rgb '%s'", i, c);
+    next_elem(f, &first);
+    fprintf(f, "%.9g with lines lw 1 dt 2 lc rgb '%s'", ea, c);
     if (nloc) {
         next_elem(f, &first);
-        fprintf(f, "$loc%zu using 1:2 with linespoints pt %d ps 1.4*PS lw 1.5 lc rgb '%s' "
-                   "title 'local slope'", i, arrank_plot_point_type(i, 0), c);
+        fprintf(f, "$loc%zu using 1:2:3 with yerrorlines pt 7 ps 1.3*PS lw 1.5 lc rgb '%s' "
+                   "title 'local Ea, 3 neighbouring temperatures, ±1 SE'", i, c);
+    }
+    /* Strong pore diffusion halves the apparent Ea (Weisz & Prater, Adv.
+       Catal. 6:143, 1954): the line the hot-end local Ea tends to. */
+    if (any_pore) {
+        next_elem(f, &first);
+        fprintf(f, "%.9g with lines lw 1.5 dt 3 lc rgb '#444444' "
+                   "title 'half the fitted Ea: strong pore-diffusion limit'", ea / 2.0);
+    }
+    if (has_window) {
+        next_elem(f, &first);
+        fputs("keyentry with filledcurves fc rgb '" WINDOW_FILL "' fs solid 1.0 noborder "
+              "title 'kinetic window'", f);
     }
     fputs("\nunset multiplot\n", f);
 }

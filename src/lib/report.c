@@ -8,6 +8,18 @@
  * and its element ids are prefixed per figure so that several gnuplot figures
  * can share one page without their ids colliding.  User strings are written
  * only through html_text, which escapes them and drops control characters.
+ *
+ * Each sample's section carries the diagnostics in plain words (the text of
+ * arrank_diagnosis_write_text, one list item per line), the points left out
+ * of the fit with the reason for each, and the Weisz-Prater and Mears
+ * verdicts when they could be computed.
+ *
+ * Reproducible output: the generation date is the current time unless the
+ * environment variable SOURCE_DATE_EPOCH holds a whole number of seconds
+ * since 1970-01-01 UTC (reproducible-builds.org, "SOURCE_DATE_EPOCH"
+ * specification); then that date is printed, and the same inputs, options
+ * and program give a byte-identical page.  A malformed value is an error
+ * (the specification asks tools to fail rather than fall back silently).
  */
 /* mkdtemp and fsync are POSIX 2008 / XSI. */
 #define _XOPEN_SOURCE 700
@@ -26,6 +38,7 @@
 
 #include <nettle/sha2.h>
 
+#include "arrank/diagnose.h"
 #include "arrank/fit.h"
 #include "arrank/rank.h"
 #include "arrank/version.h"
@@ -250,9 +263,11 @@ static const char *figure_caption(arrank_figure_kind kind)
                "estimates are correlated: a line through such points is not by itself evidence "
                "of a compensation effect.";
     case ARRANK_FIGURE_DIAGNOSTICS:
-        return "Residuals of the fit against 1000/T (left) and the local apparent activation "
-               "energy from three neighbouring temperatures (right), with the fitted value and "
-               "its interval.  A local Ea that falls with temperature suggests transport "
+        return "Residuals of the fit against 1000/T (left; marker shape: the point's regime, "
+               "open: left out of the fit, lines: runs) and the local apparent activation "
+               "energy over three neighbouring temperatures with one standard error (right), "
+               "against the fitted value and its interval.  The grey band is the kinetic "
+               "window the fit uses.  A local Ea that falls with temperature suggests transport "
                "limitation or another bend in the Arrhenius plot.";
     }
     return "";
@@ -373,6 +388,11 @@ static const char css[] =
     "figcaption{font-size:.9rem;color:#333}.file{color:#666}"
     ".caution{border-left:6px solid #D55E00;background:#fff4ec;padding:.6rem 1rem}"
     ".note{border-left:6px solid #0072B2;background:#eef6fb;padding:.6rem 1rem}"
+    ".diagnosis{border-left:6px solid #888;padding:.1rem 1rem;margin:.8rem 0}"
+    ".diagnosis ul{margin:.2rem 0;padding-left:1.2rem}.diagnosis li{margin:.15rem 0}"
+    ".diagnosis li.problem b{color:#a33f00}"
+    "caption{text-align:left;font-weight:bold;padding:.2rem 0}"
+    "table.left-out td:nth-child(4){white-space:nowrap}"
     ".flags li{margin:.1rem 0}code,.hash{font-family:'DejaVu Sans Mono',monospace;"
     "font-size:.85rem;word-break:break-all}"
     ".swatch{display:inline-block;width:.9em;height:.9em;border-radius:50%;"
@@ -536,6 +556,168 @@ static void put_param_row(FILE *f, const char *name, double v, double lo, double
     fputs("</td></tr>\n", f);
 }
 
+/* The plain-words diagnosis of diagnose.h as a list: the text of
+   arrank_diagnosis_write_text, its first line (without the sample's id and
+   file, which the heading gives) as a lead and every further line as an
+   item with its label ("problem", "note") in bold.  The "left out" lines are
+   skipped here: put_left_out shows them as a table. */
+static void put_diagnosis(FILE *f, const arrank_result *r)
+{
+    const arrank_sample *s = r->sample;
+    if (!r->diagnosis) {
+        fputs("<p class=\"file\">Diagnostics not run.</p>\n", f);
+        return;
+    }
+    char *text = NULL;
+    size_t len = 0;
+    FILE *m = open_memstream(&text, &len);
+    if (!m) {
+        fputs("<p class=\"note\">The diagnostics could not be written out.</p>\n", f);
+        return;
+    }
+    arrank_status st = arrank_diagnosis_write_text(m, r, NULL);
+    if (fclose(m) != 0 || st != ARRANK_OK || !text) {
+        free(text);
+        fputs("<p class=\"note\">The diagnostics could not be written out.</p>\n", f);
+        return;
+    }
+    /* "ID (FILE): " starts the first line. */
+    const char *id = s->id ? s->id : "", *file = s->file ? s->file : "";
+    size_t plen = strlen(id) + strlen(file) + 6;
+    char *prefix = malloc(plen);
+    if (prefix)
+        snprintf(prefix, plen, "%s (%s): ", id, file);
+    fputs("<div class=\"diagnosis\">\n", f);
+    int items = 0;
+    for (char *line = text, *next; line && *line; line = next) {
+        char *nl = strchr(line, '\n');
+        next = nl ? nl + 1 : NULL;
+        if (nl)
+            *nl = '\0';
+        if (line == text) {
+            const char *lead = line;
+            if (prefix && strncmp(lead, prefix, strlen(prefix)) == 0)
+                lead += strlen(prefix);
+            fputs("<p><b>Diagnostics:</b> ", f);
+            html_text(f, lead);
+            fputs(".</p>\n", f);
+            continue;
+        }
+        while (*line == ' ')
+            line++;
+        if (!*line || strncmp(line, "left out: ", 10) == 0)
+            continue;
+        if (!items++)
+            fputs("<ul>\n", f);
+        /* A label is a short run of lowercase words before the first ": ". */
+        const char *colon = strstr(line, ": ");
+        size_t lab = colon ? (size_t)(colon - line) : 0;
+        for (size_t k = 0; k < lab; k++)
+            if (!((line[k] >= 'a' && line[k] <= 'z') || line[k] == ' '))
+                lab = 0;
+        if (lab > 0 && lab <= 16) {
+            line[lab] = '\0';
+            fprintf(f, "<li class=\"%s\"><b>", strcmp(line, "problem") == 0 ? "problem" : "plain");
+            html_text(f, line);
+            fputs("</b>: ", f);
+            html_text(f, line + lab + 2);
+        } else {
+            fputs("<li class=\"plain\">", f);
+            html_text(f, line);
+        }
+        fputs("</li>\n", f);
+    }
+    if (items)
+        fputs("</ul>\n", f);
+    fputs("</div>\n", f);
+    free(prefix);
+    free(text);
+}
+
+/* Points left out of the fit, one row each with the diagnosis's regime and
+   reason. */
+static void put_left_out(FILE *f, const arrank_result *r)
+{
+    const arrank_sample *s = r->sample;
+    const arrank_diagnosis *d = r->diagnosis;
+    if (!r->used || r->n_used >= s->n_points)
+        return;
+    fputs("<table class=\"left-out\"><caption>Points left out of the fit</caption>\n"
+          "<thead><tr><th>line</th><th>T [&deg;C]</th><th>T [K]</th>",
+          f);
+    if (d)
+        fputs("<th>regime</th>", f);
+    fputs("<th>reason</th></tr></thead><tbody>\n", f);
+    for (size_t k = 0; k < s->n_points; k++) {
+        if (r->used[k])
+            continue;
+        const arrank_point *p = &s->points[k];
+        fprintf(f, "<tr><td class=\"n\">%ld</td><td class=\"n\">", p->line);
+        html_num(f, p->temp_K - ZERO_C_K, 1);
+        fputs("</td><td class=\"n\">", f);
+        html_num(f, p->temp_K, 1);
+        fputs("</td>", f);
+        const char *reason = "left out before the fit (not a usable point)";
+        if (d && k < d->n_points) {
+            static const char *const words[] = {"unclassified", "kinetic",
+                                                "pore-diffusion-like", "film-diffusion-like"};
+            unsigned g = (unsigned)d->points[k].regime;
+            fputs("<td>", f);
+            html_text(f, g < sizeof words / sizeof *words ? words[g] : "unclassified");
+            fputs("</td>", f);
+            reason = d->points[k].reason ? d->points[k].reason
+                                         : "left out before the diagnostics";
+        }
+        fputs("<td>", f);
+        html_text(f, reason);
+        fputs("</td></tr>\n", f);
+    }
+    fputs("</tbody></table>\n", f);
+}
+
+/* The Weisz-Prater and Mears numbers that the sample's metadata let the
+   diagnostics compute; one that was not computed is left out (the
+   diagnosis's notes say what it needs). */
+static void put_criteria(FILE *f, const arrank_result *r)
+{
+    const arrank_diagnosis *d = r->diagnosis;
+    if (!d || !(d->weisz_prater.computed || d->mears.computed))
+        return;
+    const struct {
+        const char *name, *above;
+        const arrank_criterion *c;
+    } rows[] = {
+        {"Weisz&ndash;Prater", "internal (pore) diffusion may limit the rate", &d->weisz_prater},
+        {"Mears", "external (film) mass transfer may limit the rate", &d->mears},
+    };
+    fputs("<table class=\"criteria\"><caption>Transport criteria</caption>\n"
+          "<thead><tr><th>criterion</th><th>value</th><th>limit</th><th>at T [K]</th>"
+          "<th>verdict</th><th>inputs and source</th></tr></thead><tbody>\n",
+          f);
+    for (size_t k = 0; k < sizeof rows / sizeof *rows; k++) {
+        const arrank_criterion *c = rows[k].c;
+        if (!c->computed) /* the diagnosis's notes say why */
+            continue;
+        fprintf(f, "<tr><th>%s</th>", rows[k].name);
+        fputs("<td class=\"n\">", f);
+        html_num(f, c->value, -3);
+        fputs("</td><td class=\"n\">", f);
+        html_num(f, c->threshold, -3);
+        fputs("</td><td class=\"n\">", f);
+        html_num(f, c->temp_K, 1);
+        fprintf(f, "</td><td>%s</td><td>", c->passes ? "below the limit: negligible"
+                                                     : rows[k].above);
+        html_text(f, c->detail);
+        if (c->source) {
+            fputs(" (limit: ", f);
+            html_text(f, c->source);
+            fputs(")", f);
+        }
+        fputs("</td></tr>\n", f);
+    }
+    fputs("</tbody></table>\n", f);
+}
+
 static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure_set *fs)
 {
     const arrank_result *r = &a->results[i];
@@ -604,14 +786,9 @@ static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure
         fputs("</ul>\n", f);
     } else
         fputs("<p>No flags raised.</p>\n", f);
-    if (r->n_used < s->n_points && r->used) {
-        fputs("<p>Left out of the fit:", f);
-        for (size_t k = 0; k < s->n_points; k++)
-            if (!r->used[k])
-                fprintf(f, " line %ld (%.1f &deg;C);", s->points[k].line,
-                        s->points[k].temp_K - ZERO_C_K);
-        fputs("</p>\n", f);
-    }
+    put_diagnosis(f, r);
+    put_left_out(f, r);
+    put_criteria(f, r);
     for (size_t k = 0; k < s->n_notes; k++) {
         fputs("<p class=\"file\">Note: ", f);
         html_text(f, s->notes[k]);
@@ -637,11 +814,21 @@ static void put_methods(FILE *f, const arrank_analysis *a)
             "at a temperature has its interval from the full covariance (delta method) and is "
             "asymmetric in r.  The ellipses in the Ea&ndash;ln A figure are joint regions with "
             "the 2&middot;F(2, n &minus; 2) quantile.</li>\n"
-            "<li><b>Kinetic window.</b> Points left out of a fit are shown open in the figures "
-            "and listed for each sample; all other points are used.  Operating temperatures "
-            "outside a sample's measured range are flagged as extrapolated.</li>\n"
+            "<li><b>Kinetic window.</b> %s Points left out of a fit are shown open in the "
+            "figures and listed with their reasons for each sample; all other points are "
+            "used.  Operating temperatures outside a sample's measured range are flagged as "
+            "extrapolated.</li>\n"
             "</ul>\n",
-            100 * a->options.confidence);
+            100 * a->options.confidence,
+            !a->options.diagnose
+                ? "The diagnostics were turned off: every usable point is fitted."
+            : a->options.use_all
+                ? "The diagnostics ran but every point was kept in the fit (use-all)."
+                : "When the Arrhenius plot bends, the local apparent Ea over three neighbouring "
+                  "temperatures classes each point as kinetic, pore-diffusion-like or "
+                  "film-diffusion-like; points hotter than the kinetic window and points above "
+                  "the differential conversion limit are left out and the fit is repeated on "
+                  "what remains.");
 }
 
 static void put_cautions(FILE *f)
@@ -696,7 +883,7 @@ static void put_inputs(FILE *f, const arrank_analysis *a)
 }
 
 static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_options *o,
-                     const figure_set *fs)
+                     const figure_set *fs, time_t made)
 {
     const arrank_campaign *c = a->campaign;
     const char *title = c && c->title ? c->title : c && c->name ? c->name : "campaign";
@@ -741,19 +928,9 @@ static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_opti
     put_methods(f, a);
 
     fputs("<h2>Record</h2>\n<p>Made by arrank " ARRANK_VERSION, f);
-    /* SOURCE_DATE_EPOCH (reproducible-builds.org convention) fixes the date. */
-    time_t now = time(NULL);
-    const char *sde = getenv("SOURCE_DATE_EPOCH");
-    if (sde && *sde) {
-        char *end;
-        errno = 0;
-        long long v = strtoll(sde, &end, 10);
-        if (!errno && !*end && v >= 0)
-            now = (time_t)v;
-    }
     struct tm tm;
     char date[64];
-    if (gmtime_r(&now, &tm) && strftime(date, sizeof date, "%Y-%m-%d %H:%M UTC", &tm))
+    if (gmtime_r(&made, &tm) && strftime(date, sizeof date, "%Y-%m-%d %H:%M UTC", &tm))
         fprintf(f, " on %s", date);
     fputs(".</p>\n", f);
     if (o->command_line) {
@@ -763,6 +940,35 @@ static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_opti
     }
     put_inputs(f, a);
     fputs("</body>\n</html>\n", f);
+}
+
+/* Latest year strftime's %Y gives as four digits: the date stays one word. */
+#define LAST_EPOCH_S 253402300799LL /* 9999-12-31 23:59:59 UTC */
+
+/* The date the report says it was made: now, or SOURCE_DATE_EPOCH when set
+   and not empty (reproducible-builds.org, SOURCE_DATE_EPOCH specification:
+   decimal seconds since 1970-01-01 00:00:00 UTC; a malformed value must make
+   the tool fail, not fall back).  EINVAL for a malformed value. */
+static arrank_status report_date(time_t *made, arrank_error *err)
+{
+    *made = time(NULL);
+    const char *sde = getenv("SOURCE_DATE_EPOCH");
+    if (!sde || !*sde)
+        return ARRANK_OK;
+    int digits = 1;
+    for (const char *c = sde; *c; c++)
+        digits &= *c >= '0' && *c <= '9';
+    char *end = NULL;
+    errno = 0;
+    long long v = digits ? strtoll(sde, &end, 10) : -1;
+    if (!digits || errno || !end || *end || v > LAST_EPOCH_S ||
+        (long long)(time_t)v != v)
+        return arrank_errorf(err, ARRANK_EINVAL,
+                             "'SOURCE_DATE_EPOCH' is not a number of seconds since 1970 up to "
+                             "the year 9999: '%.40s'",
+                             sde);
+    *made = (time_t)v;
+    return ARRANK_OK;
 }
 
 static char *dir_of(const char *path)
@@ -785,6 +991,10 @@ arrank_status arrank_report_write(const arrank_analysis *a, const char *path,
                                   const arrank_report_options *options, arrank_error *err)
 {
     arrank_report_options o = options ? *options : arrank_report_defaults();
+    time_t made;
+    arrank_status date_st = report_date(&made, err);
+    if (date_st != ARRANK_OK)
+        return date_st;
     char *dir = dir_of(path);
     if (!dir)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
@@ -814,7 +1024,7 @@ arrank_status arrank_report_write(const arrank_analysis *a, const char *path,
         goto done;
     }
     fchmod(fd, 0644);
-    put_page(f, a, &o, &fs);
+    put_page(f, a, &o, &fs, made);
     int bad = fflush(f) != 0 || ferror(f) || fsync(fileno(f)) != 0;
     int e = errno;
     if (fclose(f) != 0 && !bad) {
