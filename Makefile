@@ -100,7 +100,7 @@ fuzz:
 
 fuzz-build: $(FUZZ_BIN)
 
-$(BUILD)/fuzz/%: tests/fuzz/%.c tests/fuzz/fuzz_targets.h $(LIB)
+$(BUILD)/fuzz/%: tests/fuzz/%.c tests/fuzz/fuzz_targets.h tests/fuzz/harness.h $(LIB)
 	@mkdir -p $(dir $@)
 	$(CC) $(CPPFLAGS) $(ALL_CFLAGS) -fsanitize=fuzzer -o $@ $< $(LIB) $(LDLIBS)
 

@@ -111,6 +111,13 @@ int cli_make_out_dir(const char *dir);
 char *cli_default_out_dir(const arrank_campaign *campaign);
 unsigned cli_plot_formats(const cli_args *args);
 
+/*
+ * The whole of `fit` and `rank` after parsing: open the session, print the
+ * table (unless JSON or CSV goes to stdout), tell the unfitted samples, write
+ * the outputs.  Returns the exit status.
+ */
+int cli_analyse_and_print(cli_args *args, int need_T);
+
 /* Command entry points. */
 int cmd_fit(int argc, char **argv);
 int cmd_rank(int argc, char **argv);

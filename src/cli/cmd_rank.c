@@ -1,10 +1,6 @@
 /*
  * cmd_rank.c - `arrank rank CAMPAIGN --at T`: the samples ranked at the operating temperature.
  */
-#include <stdio.h>
-#include <string.h>
-
-#include "arrank/output.h"
 #include "cli.h"
 
 static const char usage[] =
@@ -48,26 +44,5 @@ int cmd_rank(int argc, char **argv)
                        &args);
     if (rc != -1)
         return rc;
-    cli_session s;
-    rc = cli_session_open(&args, 1, &s);
-    if (rc != -1)
-        return rc;
-    arrank_error err;
-    arrank_error_clear(&err);
-    int to_stdout = (args.json_path && strcmp(args.json_path, "-") == 0) ||
-                    (args.csv_path && strcmp(args.csv_path, "-") == 0);
-    if (!to_stdout) {
-        arrank_status st = arrank_output_write(s.analysis, ARRANK_OUTPUT_TABLE, stdout, &err);
-        if (st == ARRANK_OK && fflush(stdout) != 0)
-            st = arrank_errorf(&err, ARRANK_EIO, "cannot write to standard output");
-        if (st != ARRANK_OK) {
-            cli_print_error(&err);
-            cli_session_free(&s);
-            return cli_exit_status(st, &err);
-        }
-    }
-    cli_report_unfitted(&s);
-    rc = cli_write_outputs(&args, &s);
-    cli_session_free(&s);
-    return rc == -1 ? EXIT_OK : rc;
+    return cli_analyse_and_print(&args, 1);
 }

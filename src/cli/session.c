@@ -159,3 +159,30 @@ int cli_write_outputs(const cli_args *args, const cli_session *s)
     }
     return -1;
 }
+
+int cli_analyse_and_print(cli_args *args, int need_T)
+{
+    cli_session s;
+    int rc = cli_session_open(args, need_T, &s);
+    if (rc != -1)
+        return rc;
+    arrank_error err;
+    arrank_error_clear(&err);
+    /* JSON or CSV on stdout replaces the table there */
+    int to_stdout = (args->json_path && strcmp(args->json_path, "-") == 0) ||
+                    (args->csv_path && strcmp(args->csv_path, "-") == 0);
+    if (!to_stdout) {
+        arrank_status st = arrank_output_write(s.analysis, ARRANK_OUTPUT_TABLE, stdout, &err);
+        if (st == ARRANK_OK && fflush(stdout) != 0)
+            st = arrank_errorf(&err, ARRANK_EIO, "cannot write to standard output");
+        if (st != ARRANK_OK) {
+            cli_print_error(&err);
+            cli_session_free(&s);
+            return cli_exit_status(st, &err);
+        }
+    }
+    cli_report_unfitted(&s);
+    rc = cli_write_outputs(args, &s);
+    cli_session_free(&s);
+    return rc == -1 ? EXIT_OK : rc;
+}
