@@ -19,6 +19,7 @@
 #include "arrank/diagnose.h"
 
 #include <ctype.h>
+#include <float.h>
 #include <gsl/gsl_cdf.h>
 #include <jansson.h>
 #include <math.h>
@@ -142,6 +143,7 @@ typedef struct {
     arrank_diagnosis *d;
     double scatter; /* residual SD of ln r about the line on every point; NAN if weighted */
     int nomem;
+    double *lsq; /* [3 np] columns for design_fit */
 } work;
 
 static char *vfmt(const char *f, va_list ap)
@@ -334,49 +336,114 @@ static int set_scale(const work *wk, const size_t *idx, size_t n, xscale *sc)
 
 /*
  * Weighted fit of y on [1, z, z^2 (quad), extra] over idx, z = (x - xm)/sx.
- * extra (may be NULL) is one more column, indexed like idx.  b[p], cov[p*p],
- * *rss.  Returns p, or 0 when the fit is impossible (-1 when out of memory).
+ * extra (may be NULL) is one more column, indexed like idx.  b[p], cov[p*p]
+ * (scaled by s^2 = rss/(n - p)), *rss.  Returns p, or 0 when the fit is
+ * impossible (n <= p, a value not finite, or a singular design).
+ *
+ * At most three columns, so the fit is solved here without allocation or a
+ * general engine: a QR factorisation A = Q R in the weighted inner product
+ * (Q'WQ = I) by modified Gram-Schmidt, each column orthogonalised twice
+ * against the ones before ("twice is enough": Giraud, Langou & Rozloznik,
+ * Comput. Math. Appl. 50:1069, 2005, from memory), then b = R^-1 Q'W y by back
+ * substitution and cov = s^2 R^-1 R^-T (Bjorck, Numerical Methods for Least
+ * Squares Problems, SIAM 1996, sec. 2.4, from memory).  With the columns
+ * centred and scaled as here, this is as accurate as the SVD that
+ * arrank_linfit uses.  A column whose part orthogonal to the ones before has
+ * a weighted norm below max(n, p) eps times its own norm makes the design
+ * singular, the counterpart of arrank_linfit's numerical-rank test.  The
+ * columns go to wk->lsq, 3 np doubles owned by the diagnosis.
  */
+#define LSQ_MAXP 3
 static int design_fit(work *wk, const size_t *idx, size_t n, const xscale *sc, int quad,
                       const double *extra, double *b, double *cov, double *rss)
 {
-    size_t p = 2 + (quad ? 1 : 0) + (extra ? 1 : 0);
-    if (n <= p)
+    const size_t p = 2 + (quad ? 1 : 0) + (extra ? 1 : 0);
+    if (n <= p || p > LSQ_MAXP)
         return 0;
-    double *X = malloc(n * p * sizeof *X);
-    double *y = malloc(n * sizeof *y);
-    double *w = malloc(n * sizeof *w);
-    if (!X || !y || !w) {
-        free(X);
-        free(y);
-        free(w);
-        wk->nomem = 1;
-        return -1;
-    }
+    double *q[LSQ_MAXP] = {wk->lsq, wk->lsq + n, wk->lsq + 2 * n};
     for (size_t k = 0; k < n; k++) {
-        size_t i = idx[k];
-        double z = (wk->x[i] - sc->xm) / sc->sx;
-        size_t c = 0;
-        X[k * p + c++] = 1.0;
-        X[k * p + c++] = z;
-        if (quad)
-            X[k * p + c++] = z * z;
-        if (extra)
-            X[k * p + c++] = extra[k];
-        y[k] = wk->y[i];
-        w[k] = wk->w[i];
+        const size_t i = idx[k];
+        const double z = (wk->x[i] - sc->xm) / sc->sx;
+        q[0][k] = 1.0;
+        q[1][k] = z;
+        if (p == 3)
+            q[2][k] = quad ? z * z : extra[k];
+        if (!isfinite(wk->y[i]) || !isfinite(wk->w[i]) || wk->w[i] < 0 || !isfinite(z) ||
+            (p == 3 && !isfinite(q[2][k])))
+            return 0;
     }
-    arrank_error e;
-    arrank_error_clear(&e);
-    arrank_status st = arrank_linfit(X, y, w, n, p, b, cov, rss, &e);
-    free(X);
-    free(y);
-    free(w);
-    if (st == ARRANK_ENOMEM) {
-        wk->nomem = 1;
-        return -1;
+    const double tol = (double)(n > p ? n : p) * DBL_EPSILON;
+    double Rq[LSQ_MAXP][LSQ_MAXP] = {{0}};
+    for (size_t c = 0; c < p; c++) {
+        double norm0 = 0;
+        for (size_t k = 0; k < n; k++)
+            norm0 += wk->w[idx[k]] * q[c][k] * q[c][k];
+        norm0 = sqrt(norm0);
+        for (int pass = 0; pass < 2; pass++)
+            for (size_t j = 0; j < c; j++) {
+                double r = 0;
+                for (size_t k = 0; k < n; k++)
+                    r += wk->w[idx[k]] * q[j][k] * q[c][k];
+                for (size_t k = 0; k < n; k++)
+                    q[c][k] -= r * q[j][k];
+                Rq[j][c] += r;
+            }
+        double norm = 0;
+        for (size_t k = 0; k < n; k++)
+            norm += wk->w[idx[k]] * q[c][k] * q[c][k];
+        norm = sqrt(norm);
+        if (!(norm > tol * norm0))
+            return 0;
+        Rq[c][c] = norm;
+        for (size_t k = 0; k < n; k++)
+            q[c][k] /= norm;
     }
-    return st == ARRANK_OK ? (int)p : 0;
+    /* Q'W y: Q is orthonormal to working precision after the second pass */
+    double qy[LSQ_MAXP];
+    for (size_t c = 0; c < p; c++) {
+        double r = 0;
+        for (size_t k = 0; k < n; k++)
+            r += wk->w[idx[k]] * q[c][k] * wk->y[idx[k]];
+        qy[c] = r;
+    }
+    /* R^-1, upper triangular, and b = R^-1 Q'W y */
+    double Ri[LSQ_MAXP][LSQ_MAXP] = {{0}};
+    for (size_t c = p; c-- > 0;) {
+        Ri[c][c] = 1.0 / Rq[c][c];
+        for (size_t j = c + 1; j < p; j++) {
+            double s = 0;
+            for (size_t m = c + 1; m <= j; m++)
+                s += Rq[c][m] * Ri[m][j];
+            Ri[c][j] = -s / Rq[c][c];
+        }
+    }
+    for (size_t c = 0; c < p; c++) {
+        double s = 0;
+        for (size_t j = c; j < p; j++)
+            s += Ri[c][j] * qy[j];
+        b[c] = s;
+    }
+    /* residuals from the original columns */
+    double chi2 = 0;
+    for (size_t k = 0; k < n; k++) {
+        const size_t i = idx[k];
+        const double z = (wk->x[i] - sc->xm) / sc->sx;
+        double f = b[0] + b[1] * z;
+        if (p == 3)
+            f += b[2] * (quad ? z * z : extra[k]);
+        const double e = wk->y[i] - f;
+        chi2 += wk->w[i] * e * e;
+    }
+    const double s2 = chi2 / (double)(n - p);
+    for (size_t r = 0; r < p; r++)
+        for (size_t c = 0; c < p; c++) {
+            double s = 0;
+            for (size_t m = (r > c ? r : c); m < p; m++)
+                s += Ri[r][m] * Ri[c][m];
+            cov[r * p + c] = s2 * s;
+        }
+    *rss = chi2;
+    return (int)p;
 }
 
 /* Straight line over idx: Ea, its se, slope b1 in K, rss, dof. 0 on success. */
@@ -1414,12 +1481,13 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
     if (res->error)
         return ARRANK_OK; /* nothing fitted, nothing to diagnose */
     size_t np = s->n_points;
-    work wk = {s, s->points, np, NULL, NULL, NULL, NULL, NAN, 0};
+    work wk = {s, s->points, np, NULL, NULL, NULL, NULL, NAN, 0, NULL};
     arrank_diagnosis *d = calloc(1, sizeof *d);
     size_t cap = np ? np : 1;
     wk.x = malloc(cap * sizeof *wk.x);
     wk.y = malloc(cap * sizeof *wk.y);
     wk.w = malloc(cap * sizeof *wk.w);
+    wk.lsq = malloc(3 * cap * sizeof *wk.lsq);
     size_t *base = malloc(cap * sizeof *base), *grp = malloc(cap * sizeof *grp);
     size_t *cand = malloc(cap * sizeof *cand), *win = malloc(cap * sizeof *win);
     size_t *grp_c = malloc(cap * sizeof *grp_c);
@@ -1432,7 +1500,7 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
     if (d)
         d->points = calloc(cap, sizeof *d->points);
     wk.d = d;
-    if (!d || !d->points || !wk.x || !wk.y || !wk.w || !base || !grp || !cand || !win || !grp_c ||
+    if (!d || !d->points || !wk.x || !wk.y || !wk.w || !wk.lsq || !base || !grp || !cand || !win || !grp_c ||
         !label || !used0 || !in_base)
         goto nomem;
     memcpy(used0, res->used, np);
@@ -1829,6 +1897,7 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
     free(wk.x);
     free(wk.y);
     free(wk.w);
+    free(wk.lsq);
     free(base);
     free(grp);
     free(cand);
@@ -1849,6 +1918,7 @@ fail:
     free(wk.x);
     free(wk.y);
     free(wk.w);
+    free(wk.lsq);
     free(base);
     free(grp);
     free(cand);
