@@ -253,6 +253,32 @@ static double two_sided_p(double t, double dof)
     return 2.0 * gsl_cdf_tdist_Q(fabs(t), dof);
 }
 
+/*
+ * Upper-tail t quantile, gsl_cdf_tdist_Qinv(tail, dof), remembered per thread
+ * for the last few (tail, dof) pairs: the same few levels and degrees of
+ * freedom recur sample after sample, and each inversion costs as much as a
+ * whole small fit.  The value returned is GSL's, unchanged.
+ */
+#define T_UPPER_MEMO 16
+static double t_upper(double tail, double dof)
+{
+    static _Thread_local struct {
+        double tail, dof, t;
+    } memo[T_UPPER_MEMO];
+    static _Thread_local unsigned n_memo, next_memo;
+    for (unsigned i = 0; i < n_memo; i++)
+        if (memo[i].tail == tail && memo[i].dof == dof)
+            return memo[i].t;
+    const double t = gsl_cdf_tdist_Qinv(tail, dof);
+    memo[next_memo].tail = tail;
+    memo[next_memo].dof = dof;
+    memo[next_memo].t = t;
+    next_memo = (next_memo + 1) % T_UPPER_MEMO;
+    if (n_memo < T_UPPER_MEMO)
+        n_memo++;
+    return t;
+}
+
 /* Sort indices by temperature, ties by file order. */
 static const arrank_point *sort_pts;
 
@@ -294,6 +320,22 @@ static size_t group_temps(const arrank_point *pts, const size_t *idx, size_t n, 
 
 static size_t count_temps(const arrank_point *pts, const size_t *idx, size_t n)
 {
+    /* Every caller passes a set sorted by temperature: count in one pass. */
+    int sorted = 1;
+    for (size_t k = 1; k < n && sorted; k++)
+        sorted = !(pts[idx[k]].temp_K < pts[idx[k - 1]].temp_K);
+    if (sorted) {
+        size_t c = 0;
+        double start = NAN;
+        for (size_t k = 0; k < n; k++) {
+            double t = pts[idx[k]].temp_K;
+            if (k == 0 || t - start > SAME_TEMP_K) {
+                c++;
+                start = t;
+            }
+        }
+        return c;
+    }
     size_t *tmp = malloc((n ? n : 1) * sizeof *tmp);
     size_t *g = malloc((n ? n : 1) * sizeof *g);
     size_t c = 0;
@@ -1032,8 +1074,8 @@ static void find_outliers(work *wk, const size_t *idx, size_t n)
         sxx += wk->w[idx[k]] * u * u;
     }
     double dof_ext = (double)n - 3.0;
-    d->outlier_t_limit = gsl_cdf_tdist_Qinv(OUTLIER_FAMILY / (2.0 * (double)n), dof_ext);
-    double t_influence = gsl_cdf_tdist_Qinv(INFLUENCE_LEVEL / 2.0, dof_ext);
+    d->outlier_t_limit = t_upper(OUTLIER_FAMILY / (2.0 * (double)n), dof_ext);
+    double t_influence = t_upper(INFLUENCE_LEVEL / 2.0, dof_ext);
     for (size_t k = 0; k < n; k++) {
         size_t i = idx[k];
         double u = wk->x[i] - lf.sc.xm, wi = wk->w[i];
@@ -1704,7 +1746,7 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
                 line_fit cur;
                 if (fit_line(&wk, cand, k2, &cur) != 0 || !(cur.dof > 0))
                     break;
-                double tcrit = gsl_cdf_tdist_Qinv(TRIM_LEVEL, cur.dof);
+                double tcrit = t_upper(TRIM_LEVEL, cur.dof);
                 double var_d = R * R * cur.s2 * (1.0 / cold.sc.sxx - 1.0 / cur.sc.sxx);
                 int lower = var_d > 0 && (cur.ea_J_mol - cold.ea_J_mol) / sqrt(var_d) < -tcrit;
                 /* mean residual of the new temperature against the colder
@@ -1722,9 +1764,9 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
                              prev.s2 / sw;
                 int below = prev.dof > 0 &&
                             (ey - line_at(&prev, ex)) / sqrt(var) <
-                                -gsl_cdf_tdist_Qinv(TRIM_LEVEL, prev.dof);
+                                -t_upper(TRIM_LEVEL, prev.dof);
                 int bent = fit_quad(&wk, cand, k2, &qc) == 0 && qc.t < 0 &&
-                           qc.t < -gsl_cdf_tdist_Qinv(TRIM_LEVEL, qc.dof);
+                           qc.t < -t_upper(TRIM_LEVEL, qc.dof);
                 if (lower || below || bent)
                     break;
                 nw = k2;
@@ -1742,7 +1784,7 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
                     nw = k3;
             }
             still_bent = fit_quad(&wk, cand, nw, &qc) == 0 && qc.t < 0 &&
-                         qc.t < -gsl_cdf_tdist_Qinv(TRIM_LEVEL, qc.dof);
+                         qc.t < -t_upper(TRIM_LEVEL, qc.dof);
         }
         for (size_t j = nw; j < nc; j++)
             d->points[cand[j]].excluded = 2; /* provisional: hotter than the window */
