@@ -1542,8 +1542,8 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
     if (d)
         d->points = calloc(cap, sizeof *d->points);
     wk.d = d;
-    if (!d || !d->points || !wk.x || !wk.y || !wk.w || !wk.lsq || !base || !grp || !cand || !win || !grp_c ||
-        !label || !used0 || !in_base)
+    if (!d || !d->points || !wk.x || !wk.y || !wk.w || !wk.lsq || !base || !grp || !cand || !win ||
+        !grp_c || !label || !used0 || !in_base)
         goto nomem;
     memcpy(used0, res->used, np);
     d->n_points = np;
