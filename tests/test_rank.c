@@ -488,6 +488,138 @@ static void test_groups_capped(void **state)
     free(g);
 }
 
+/*
+ * arrank_rank_groups computes exact p-values only near Holm's boundary (rank.c).
+ * Reference: the whole family by the definition in rank.h -- every pair's
+ * Welch t p-value (GSL), Holm's adjusted values from arrank_rank_holm (checked
+ * by hand above), the leader rule -- on campaigns built so that many pairs sit
+ * near the boundary: keys a few standard errors apart, dofs from 2 to 40 and
+ * infinite, some zero and some equal standard errors, ties in the keys.
+ */
+/* Holm-adjusted p of every pair among the first G (row-major upper triangle). */
+static double *holm_reference(const double *key, const double *se, const double *dof, size_t n)
+{
+    const size_t G = n < ARRANK_GROUP_MAX ? n : ARRANK_GROUP_MAX;
+    const size_t m = G * (G - 1) / 2;
+    double *p = malloc((m ? m : 1) * sizeof *p);
+    assert_non_null(p);
+    size_t h = 0;
+    for (size_t i = 0; i < G; i++)
+        for (size_t j = i + 1; j < G; j++, h++) {
+            const double v = se[i] * se[i] + se[j] * se[j], d = fabs(key[i] - key[j]);
+            if (!(v > 0)) {
+                p[h] = d > 0 ? 0.0 : 1.0;
+                continue;
+            }
+            double den = 0;
+            if (isfinite(dof[i]))
+                den += pow(se[i], 4) / dof[i];
+            if (isfinite(dof[j]))
+                den += pow(se[j], 4) / dof[j];
+            const double zz = d / sqrt(v);
+            p[h] = den > 0 ? 2.0 * gsl_cdf_tdist_Q(zz, v * v / den) : 2.0 * gsl_cdf_ugaussian_Q(zz);
+        }
+    assert_int_equal(arrank_rank_holm(p, m, p, NULL), ARRANK_OK);
+    return p;
+}
+
+/* The leader rule of rank.h on the adjusted p-values. */
+static void groups_reference(const double *p, size_t n, double alpha, int *group)
+{
+    const size_t G = n < ARRANK_GROUP_MAX ? n : ARRANK_GROUP_MAX;
+    for (size_t i = 0; i < n; i++)
+        group[i] = 0;
+    group[0] = 1;
+    size_t leader = 0;
+    int g = 1;
+    for (size_t k = 1; k < G; k++) {
+        const size_t pos = leader * (2 * G - leader - 1) / 2 + (k - leader - 1);
+        if (p[pos] <= alpha) {
+            g++;
+            leader = k;
+        }
+        group[k] = g;
+    }
+}
+
+static void test_groups_exact_holm(void **state)
+{
+    (void)state;
+    const struct {
+        size_t n;
+        double step_se; /* mean key step between neighbours, in standard errors */
+        double alpha;
+        uint64_t seed; /* 0: a regular ladder, equal steps, se and dof (tied p-values) */
+    } cases[] = {
+        {40, 0.3, 0.05, 0x51A7E}, {120, 0.8, 0.05, 0xC0FFEE}, {250, 0.15, 0.01, 0x7E57},
+        {300, 2.5, 0.10, 0xBADCAB}, {ARRANK_GROUP_MAX + 30, 0.4, 0.05, 0x1234567},
+        {ARRANK_GROUP_MAX, 0.05, 0.05, 0xFEED}, {200, 0.7, 0.05, 0}, {90, 1.3, 0.05, 0},
+    };
+    const double dofs[] = {2, 3, 5, 7, 10, 10, 10, 18, 40, INFINITY};
+    size_t groups_seen = 0, boundary_probes = 0;
+    for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
+        const size_t n = cases[c].n;
+        double *key = malloc(n * sizeof *key), *se = malloc(n * sizeof *se);
+        double *dof = malloc(n * sizeof *dof);
+        int *g = malloc(n * sizeof *g), *want = malloc(n * sizeof *want);
+        assert_true(key && se && dof && g && want);
+        uint64_t s = cases[c].seed;
+        double k = 5.0;
+        for (size_t i = 0; i < n; i++) {
+            const double u = uniform01(&s);
+            se[i] = u < 0.03 ? 0.0 : u < 0.2 ? 0.05 : 0.02 + 0.08 * uniform01(&s);
+            dof[i] = dofs[splitmix(&s) % (sizeof dofs / sizeof dofs[0])];
+            key[i] = k;
+            if (uniform01(&s) > 0.05) /* 5 % ties with the sample above */
+                k -= cases[c].step_se * 0.05 * -log(uniform01(&s));
+            if (cases[c].seed == 0) {
+                se[i] = 0.05;
+                dof[i] = 10;
+                key[i] = 5.0 - cases[c].step_se * 0.05 * (double)i;
+            }
+        }
+        size_t m = 0;
+        assert_int_equal(arrank_rank_groups(key, se, dof, n, cases[c].alpha, g, &m, NULL),
+                         ARRANK_OK);
+        double *adj = holm_reference(key, se, dof, n);
+        groups_reference(adj, n, cases[c].alpha, want);
+        const size_t G = n < ARRANK_GROUP_MAX ? n : ARRANK_GROUP_MAX;
+        assert_int_equal(m, G * (G - 1) / 2);
+        printf("# groups, %zu samples, step %.2f SE: %d groups (reference %d)\n", n,
+               cases[c].step_se, g[G - 1], want[G - 1]);
+        assert_memory_equal(g, want, n * sizeof *g);
+        groups_seen += (size_t)want[G - 1];
+        /* alpha a hair either side of a leader pair's adjusted p: that decision
+           then hangs on Holm's boundary, where rank.c computes p exactly */
+        const size_t probe[3] = {1, 2, G / 2};
+        for (size_t q = 0; q < 3; q++) {
+            const double a = adj[probe[q] - 1]; /* pair (0, probe) */
+            if (!(a > 0 && a < 0.5))
+                continue;
+            for (int side = -1; side <= 1; side += 2) {
+                const double alpha = a * (1.0 + side * 1e-9);
+                assert_int_equal(arrank_rank_groups(key, se, dof, n, alpha, g, NULL, NULL),
+                                 ARRANK_OK);
+                groups_reference(adj, n, alpha, want);
+                assert_memory_equal(g, want, n * sizeof *g);
+                if (probe[q] == 1) /* the reference itself flips there */
+                    assert_int_equal(want[1] == want[0], side < 0);
+                boundary_probes++;
+            }
+        }
+        free(adj);
+        free(key);
+        free(se);
+        free(dof);
+        free(g);
+        free(want);
+    }
+    /* the cases must exercise the rule: many groups, and decisions at the boundary */
+    printf("# %zu boundary probes\n", boundary_probes);
+    assert_true(groups_seen > 50);
+    assert_true(boundary_probes >= 8);
+}
+
 /* ---- compensation ------------------------------------------------------- */
 
 /*
@@ -934,6 +1066,7 @@ int main(void)
         cmocka_unit_test(test_holm_by_hand),
         cmocka_unit_test(test_groups),
         cmocka_unit_test(test_groups_capped),
+        cmocka_unit_test(test_groups_exact_holm),
         cmocka_unit_test(test_compensation_real),
         cmocka_unit_test(test_compensation_artifact),
         cmocka_unit_test(test_bootstrap_vs_delta),

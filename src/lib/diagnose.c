@@ -19,6 +19,7 @@
 #include "arrank/diagnose.h"
 
 #include <ctype.h>
+#include <float.h>
 #include <gsl/gsl_cdf.h>
 #include <jansson.h>
 #include <math.h>
@@ -142,6 +143,7 @@ typedef struct {
     arrank_diagnosis *d;
     double scatter; /* residual SD of ln r about the line on every point; NAN if weighted */
     int nomem;
+    double *lsq; /* [3 np] columns for design_fit */
 } work;
 
 static char *vfmt(const char *f, va_list ap)
@@ -257,6 +259,32 @@ static double two_sided_p(double t, double dof)
     return 2.0 * gsl_cdf_tdist_Q(fabs(t), dof);
 }
 
+/*
+ * Upper-tail t quantile, gsl_cdf_tdist_Qinv(tail, dof), remembered per thread
+ * for the last few (tail, dof) pairs: the same few levels and degrees of
+ * freedom recur sample after sample, and each inversion costs as much as a
+ * whole small fit.  The value returned is GSL's, unchanged.
+ */
+#define T_UPPER_MEMO 16
+static double t_upper(double tail, double dof)
+{
+    static _Thread_local struct {
+        double tail, dof, t;
+    } memo[T_UPPER_MEMO];
+    static _Thread_local unsigned n_memo, next_memo;
+    for (unsigned i = 0; i < n_memo; i++)
+        if (memo[i].tail == tail && memo[i].dof == dof)
+            return memo[i].t;
+    const double t = gsl_cdf_tdist_Qinv(tail, dof);
+    memo[next_memo].tail = tail;
+    memo[next_memo].dof = dof;
+    memo[next_memo].t = t;
+    next_memo = (next_memo + 1) % T_UPPER_MEMO;
+    if (n_memo < T_UPPER_MEMO)
+        n_memo++;
+    return t;
+}
+
 /* Sort indices by temperature, ties by file order. */
 static const arrank_point *sort_pts;
 
@@ -298,6 +326,22 @@ static size_t group_temps(const arrank_point *pts, const size_t *idx, size_t n, 
 
 static size_t count_temps(const arrank_point *pts, const size_t *idx, size_t n)
 {
+    /* Every caller passes a set sorted by temperature: count in one pass. */
+    int sorted = 1;
+    for (size_t k = 1; k < n && sorted; k++)
+        sorted = !(pts[idx[k]].temp_K < pts[idx[k - 1]].temp_K);
+    if (sorted) {
+        size_t c = 0;
+        double start = NAN;
+        for (size_t k = 0; k < n; k++) {
+            double t = pts[idx[k]].temp_K;
+            if (k == 0 || t - start > SAME_TEMP_K) {
+                c++;
+                start = t;
+            }
+        }
+        return c;
+    }
     size_t *tmp = malloc((n ? n : 1) * sizeof *tmp);
     size_t *g = malloc((n ? n : 1) * sizeof *g);
     size_t c = 0;
@@ -340,49 +384,114 @@ static int set_scale(const work *wk, const size_t *idx, size_t n, xscale *sc)
 
 /*
  * Weighted fit of y on [1, z, z^2 (quad), extra] over idx, z = (x - xm)/sx.
- * extra (may be NULL) is one more column, indexed like idx.  b[p], cov[p*p],
- * *rss.  Returns p, or 0 when the fit is impossible (-1 when out of memory).
+ * extra (may be NULL) is one more column, indexed like idx.  b[p], cov[p*p]
+ * (scaled by s^2 = rss/(n - p)), *rss.  Returns p, or 0 when the fit is
+ * impossible (n <= p, a value not finite, or a singular design).
+ *
+ * At most three columns, so the fit is solved here without allocation or a
+ * general engine: a QR factorisation A = Q R in the weighted inner product
+ * (Q'WQ = I) by modified Gram-Schmidt, each column orthogonalised twice
+ * against the ones before ("twice is enough": Giraud, Langou & Rozloznik,
+ * Comput. Math. Appl. 50:1069, 2005, from memory), then b = R^-1 Q'W y by back
+ * substitution and cov = s^2 R^-1 R^-T (Bjorck, Numerical Methods for Least
+ * Squares Problems, SIAM 1996, sec. 2.4, from memory).  With the columns
+ * centred and scaled as here, this is as accurate as the SVD that
+ * arrank_linfit uses.  A column whose part orthogonal to the ones before has
+ * a weighted norm below max(n, p) eps times its own norm makes the design
+ * singular, the counterpart of arrank_linfit's numerical-rank test.  The
+ * columns go to wk->lsq, 3 np doubles owned by the diagnosis.
  */
+#define LSQ_MAXP 3
 static int design_fit(work *wk, const size_t *idx, size_t n, const xscale *sc, int quad,
                       const double *extra, double *b, double *cov, double *rss)
 {
-    size_t p = 2 + (quad ? 1 : 0) + (extra ? 1 : 0);
-    if (n <= p)
+    const size_t p = 2 + (quad ? 1 : 0) + (extra ? 1 : 0);
+    if (n <= p || p > LSQ_MAXP)
         return 0;
-    double *X = malloc(n * p * sizeof *X);
-    double *y = malloc(n * sizeof *y);
-    double *w = malloc(n * sizeof *w);
-    if (!X || !y || !w) {
-        free(X);
-        free(y);
-        free(w);
-        wk->nomem = 1;
-        return -1;
-    }
+    double *q[LSQ_MAXP] = {wk->lsq, wk->lsq + n, wk->lsq + 2 * n};
     for (size_t k = 0; k < n; k++) {
-        size_t i = idx[k];
-        double z = (wk->x[i] - sc->xm) / sc->sx;
-        size_t c = 0;
-        X[k * p + c++] = 1.0;
-        X[k * p + c++] = z;
-        if (quad)
-            X[k * p + c++] = z * z;
-        if (extra)
-            X[k * p + c++] = extra[k];
-        y[k] = wk->y[i];
-        w[k] = wk->w[i];
+        const size_t i = idx[k];
+        const double z = (wk->x[i] - sc->xm) / sc->sx;
+        q[0][k] = 1.0;
+        q[1][k] = z;
+        if (p == 3)
+            q[2][k] = quad ? z * z : extra[k];
+        if (!isfinite(wk->y[i]) || !isfinite(wk->w[i]) || wk->w[i] < 0 || !isfinite(z) ||
+            (p == 3 && !isfinite(q[2][k])))
+            return 0;
     }
-    arrank_error e;
-    arrank_error_clear(&e);
-    arrank_status st = arrank_linfit(X, y, w, n, p, b, cov, rss, &e);
-    free(X);
-    free(y);
-    free(w);
-    if (st == ARRANK_ENOMEM) {
-        wk->nomem = 1;
-        return -1;
+    const double tol = (double)(n > p ? n : p) * DBL_EPSILON;
+    double Rq[LSQ_MAXP][LSQ_MAXP] = {{0}};
+    for (size_t c = 0; c < p; c++) {
+        double norm0 = 0;
+        for (size_t k = 0; k < n; k++)
+            norm0 += wk->w[idx[k]] * q[c][k] * q[c][k];
+        norm0 = sqrt(norm0);
+        for (int pass = 0; pass < 2; pass++)
+            for (size_t j = 0; j < c; j++) {
+                double r = 0;
+                for (size_t k = 0; k < n; k++)
+                    r += wk->w[idx[k]] * q[j][k] * q[c][k];
+                for (size_t k = 0; k < n; k++)
+                    q[c][k] -= r * q[j][k];
+                Rq[j][c] += r;
+            }
+        double norm = 0;
+        for (size_t k = 0; k < n; k++)
+            norm += wk->w[idx[k]] * q[c][k] * q[c][k];
+        norm = sqrt(norm);
+        if (!(norm > tol * norm0))
+            return 0;
+        Rq[c][c] = norm;
+        for (size_t k = 0; k < n; k++)
+            q[c][k] /= norm;
     }
-    return st == ARRANK_OK ? (int)p : 0;
+    /* Q'W y: Q is orthonormal to working precision after the second pass */
+    double qy[LSQ_MAXP];
+    for (size_t c = 0; c < p; c++) {
+        double r = 0;
+        for (size_t k = 0; k < n; k++)
+            r += wk->w[idx[k]] * q[c][k] * wk->y[idx[k]];
+        qy[c] = r;
+    }
+    /* R^-1, upper triangular, and b = R^-1 Q'W y */
+    double Ri[LSQ_MAXP][LSQ_MAXP] = {{0}};
+    for (size_t c = p; c-- > 0;) {
+        Ri[c][c] = 1.0 / Rq[c][c];
+        for (size_t j = c + 1; j < p; j++) {
+            double s = 0;
+            for (size_t m = c + 1; m <= j; m++)
+                s += Rq[c][m] * Ri[m][j];
+            Ri[c][j] = -s / Rq[c][c];
+        }
+    }
+    for (size_t c = 0; c < p; c++) {
+        double s = 0;
+        for (size_t j = c; j < p; j++)
+            s += Ri[c][j] * qy[j];
+        b[c] = s;
+    }
+    /* residuals from the original columns */
+    double chi2 = 0;
+    for (size_t k = 0; k < n; k++) {
+        const size_t i = idx[k];
+        const double z = (wk->x[i] - sc->xm) / sc->sx;
+        double f = b[0] + b[1] * z;
+        if (p == 3)
+            f += b[2] * (quad ? z * z : extra[k]);
+        const double e = wk->y[i] - f;
+        chi2 += wk->w[i] * e * e;
+    }
+    const double s2 = chi2 / (double)(n - p);
+    for (size_t r = 0; r < p; r++)
+        for (size_t c = 0; c < p; c++) {
+            double s = 0;
+            for (size_t m = (r > c ? r : c); m < p; m++)
+                s += Ri[r][m] * Ri[c][m];
+            cov[r * p + c] = s2 * s;
+        }
+    *rss = chi2;
+    return (int)p;
 }
 
 /* Straight line over idx: Ea, its se, slope b1 in K, rss, dof. 0 on success. */
@@ -971,8 +1080,8 @@ static void find_outliers(work *wk, const size_t *idx, size_t n)
         sxx += wk->w[idx[k]] * u * u;
     }
     double dof_ext = (double)n - 3.0;
-    d->outlier_t_limit = gsl_cdf_tdist_Qinv(OUTLIER_FAMILY / (2.0 * (double)n), dof_ext);
-    double t_influence = gsl_cdf_tdist_Qinv(INFLUENCE_LEVEL / 2.0, dof_ext);
+    d->outlier_t_limit = t_upper(OUTLIER_FAMILY / (2.0 * (double)n), dof_ext);
+    double t_influence = t_upper(INFLUENCE_LEVEL / 2.0, dof_ext);
     for (size_t k = 0; k < n; k++) {
         size_t i = idx[k];
         double u = wk->x[i] - lf.sc.xm, wi = wk->w[i];
@@ -1420,12 +1529,13 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
     if (res->error)
         return ARRANK_OK; /* nothing fitted, nothing to diagnose */
     size_t np = s->n_points;
-    work wk = {s, s->points, np, NULL, NULL, NULL, NULL, NAN, 0};
+    work wk = {s, s->points, np, NULL, NULL, NULL, NULL, NAN, 0, NULL};
     arrank_diagnosis *d = calloc(1, sizeof *d);
     size_t cap = np ? np : 1;
     wk.x = malloc(cap * sizeof *wk.x);
     wk.y = malloc(cap * sizeof *wk.y);
     wk.w = malloc(cap * sizeof *wk.w);
+    wk.lsq = malloc(3 * cap * sizeof *wk.lsq);
     size_t *base = malloc(cap * sizeof *base), *grp = malloc(cap * sizeof *grp);
     size_t *cand = malloc(cap * sizeof *cand), *win = malloc(cap * sizeof *win);
     size_t *grp_c = malloc(cap * sizeof *grp_c);
@@ -1438,8 +1548,8 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
     if (d)
         d->points = calloc(cap, sizeof *d->points);
     wk.d = d;
-    if (!d || !d->points || !wk.x || !wk.y || !wk.w || !base || !grp || !cand || !win || !grp_c ||
-        !label || !used0 || !in_base)
+    if (!d || !d->points || !wk.x || !wk.y || !wk.w || !wk.lsq || !base || !grp || !cand || !win ||
+        !grp_c || !label || !used0 || !in_base)
         goto nomem;
     memcpy(used0, res->used, np);
     d->n_points = np;
@@ -1642,7 +1752,7 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
                 line_fit cur;
                 if (fit_line(&wk, cand, k2, &cur) != 0 || !(cur.dof > 0))
                     break;
-                double tcrit = gsl_cdf_tdist_Qinv(TRIM_LEVEL, cur.dof);
+                double tcrit = t_upper(TRIM_LEVEL, cur.dof);
                 double var_d = R * R * cur.s2 * (1.0 / cold.sc.sxx - 1.0 / cur.sc.sxx);
                 int lower = var_d > 0 && (cur.ea_J_mol - cold.ea_J_mol) / sqrt(var_d) < -tcrit;
                 /* mean residual of the new temperature against the colder
@@ -1660,9 +1770,9 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
                              prev.s2 / sw;
                 int below = prev.dof > 0 &&
                             (ey - line_at(&prev, ex)) / sqrt(var) <
-                                -gsl_cdf_tdist_Qinv(TRIM_LEVEL, prev.dof);
+                                -t_upper(TRIM_LEVEL, prev.dof);
                 int bent = fit_quad(&wk, cand, k2, &qc) == 0 && qc.t < 0 &&
-                           qc.t < -gsl_cdf_tdist_Qinv(TRIM_LEVEL, qc.dof);
+                           qc.t < -t_upper(TRIM_LEVEL, qc.dof);
                 if (lower || below || bent)
                     break;
                 nw = k2;
@@ -1680,7 +1790,7 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
                     nw = k3;
             }
             still_bent = fit_quad(&wk, cand, nw, &qc) == 0 && qc.t < 0 &&
-                         qc.t < -gsl_cdf_tdist_Qinv(TRIM_LEVEL, qc.dof);
+                         qc.t < -t_upper(TRIM_LEVEL, qc.dof);
         }
         for (size_t j = nw; j < nc; j++)
             d->points[cand[j]].excluded = 2; /* provisional: hotter than the window */
@@ -1835,6 +1945,7 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
     free(wk.x);
     free(wk.y);
     free(wk.w);
+    free(wk.lsq);
     free(base);
     free(grp);
     free(cand);
@@ -1855,6 +1966,7 @@ fail:
     free(wk.x);
     free(wk.y);
     free(wk.w);
+    free(wk.lsq);
     free(base);
     free(grp);
     free(cand);

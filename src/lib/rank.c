@@ -374,6 +374,61 @@ static double pair_p(double ki, double si, double di, double kj, double sj, doub
     return 2.0 * gsl_cdf_tdist_Q(z, v * v / den);
 }
 
+/*
+ * The group rule needs Holm's decision for the pairs (leader, k) only, but
+ * every decision depends on the whole family: Holm rejects the sorted
+ * p_(1) <= p_(2) <= ... up to the first with (m - j + 1) p_(j) > alpha.  So
+ * the family is kept whole (m = G (G - 1)/2 tests), and what is saved is the
+ * t CDF of the pairs whose decision does not hang on their exact p.
+ *
+ * Two facts bound a pair's p from its z alone.  The Welch-Satterthwaite dof
+ * lies between min(nu_i, nu_j) and nu_i + nu_j (from its formula, by the
+ * power-mean and Cauchy-Schwarz inequalities); and the two-sided t tail
+ * P(|T_nu| > z) falls as nu grows (Student's t is more peaked for more
+ * degrees of freedom: Birnbaum, Ann. Math. Statist. 19:76, 1948, from memory;
+ * tests/test_rank.c checks the decisions against the full computation).  With
+ * K_lo hypotheses known to be rejected and K_hi an upper bound on the
+ * rejections, a pair with p <= alpha/(m - K_lo) is rejected (every p below it
+ * in the order passes its own threshold) and a pair with
+ * p > alpha/(m - K_hi + 1) is not (its threshold cannot be that high), which
+ * are z against two t quantiles.  Sweeping until K_lo and K_hi settle leaves
+ * the pairs near Holm's boundary: their exact p (the same GSL call as before)
+ * go through the same two tests and then the step-down itself, whose
+ * positions are known because every settled rejection lies below them and
+ * every settled acceptance above.  The decisions are Holm's exactly; a
+ * margin of Z_MARGIN in z keeps rounding in GSL's quantiles off the bounds.
+ */
+#define Z_MARGIN 1e-7
+enum { PAIR_OPEN = 0, PAIR_REJECTED = 1, PAIR_KEPT = 2 };
+
+/* Two-sided critical |t| for level a and dof nu, remembered for the last
+   few (a, nu): the sweep asks for the same few again and again. */
+static double two_sided_crit(double a, double nu)
+{
+    enum { MEMO = 16 };
+    static _Thread_local struct {
+        double a, nu, t;
+    } memo[MEMO];
+    static _Thread_local unsigned n_memo, next_memo;
+    for (unsigned i = 0; i < n_memo; i++)
+        if (memo[i].a == a && memo[i].nu == nu)
+            return memo[i].t;
+    const double t = upper_quantile(0.5 * a, nu);
+    memo[next_memo].a = a;
+    memo[next_memo].nu = nu;
+    memo[next_memo].t = t;
+    next_memo = (next_memo + 1) % MEMO;
+    if (n_memo < MEMO)
+        n_memo++;
+    return t;
+}
+
+static int compare_double(const void *a, const void *b)
+{
+    const double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
 arrank_status arrank_rank_groups(const double *key, const double *key_se, const double *dof,
                                  size_t n, double alpha, int *group, size_t *n_tests,
                                  arrank_error *err)
@@ -389,24 +444,108 @@ arrank_status arrank_rank_groups(const double *key, const double *key_se, const 
         group[i] = 0;
     if (G == 0)
         return ARRANK_OK;
-    double *p = calloc(m ? m : 1, sizeof *p);
-    if (!p)
+    for (size_t i = 0; i < G; i++)
+        if (isnan(key[i]) || isnan(key_se[i]) || isnan(dof[i]) || !(dof[i] > 0))
+            return arrank_errorf(err, ARRANK_EINVAL, "sample %zu has no usable key, standard "
+                                                     "error or dof for the group tests", i + 1);
+    double *p = malloc((m ? m : 1) * sizeof *p);
+    double *z = malloc((m ? m : 1) * sizeof *z);
+    unsigned char *state = calloc(m ? m : 1, 1);
+    if (!p || !z || !state) {
+        free(p);
+        free(z);
+        free(state);
         return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu pairwise tests", m);
+    }
     /* pair (i, j), i < j, at row-major upper-triangle position */
 #define PAIR(i, j) ((i) * (2 * G - (i)-1) / 2 + ((j) - (i)-1))
+    size_t k_lo = 0, k_hi = m;
     for (size_t i = 0; i < G; i++)
-        for (size_t j = i + 1; j < G; j++)
-            p[PAIR(i, j)] = pair_p(key[i], key_se[i], dof[i], key[j], key_se[j], dof[j]);
-    arrank_status st = arrank_rank_holm(p, m, p, err);
-    if (st != ARRANK_OK) {
-        free(p);
-        return st;
+        for (size_t j = i + 1; j < G; j++) {
+            const size_t h = PAIR(i, j);
+            const double v = key_se[i] * key_se[i] + key_se[j] * key_se[j];
+            const double d = fabs(key[i] - key[j]);
+            /* pair_p's exact answers without a CDF: 0 or 1 */
+            z[h] = v > 0 ? d / sqrt(v) : (d > 0 ? INFINITY : 0.0);
+            if (!(v > 0)) {
+                p[h] = d > 0 ? 0.0 : 1.0;
+                state[h] = d > 0 ? PAIR_REJECTED : PAIR_KEPT;
+                if (d > 0)
+                    k_lo++;
+                else
+                    k_hi--;
+            }
+        }
+    /* sweep with bounds on p until nothing more settles */
+    for (int changed = 1; changed;) {
+        changed = 0;
+        const double a_lo = alpha / (double)(m - k_lo);
+        const double a_hi = alpha / (double)(m - k_hi + 1);
+        for (size_t i = 0; i < G; i++)
+            for (size_t j = i + 1; j < G; j++) {
+                const size_t h = PAIR(i, j);
+                if (state[h] != PAIR_OPEN)
+                    continue;
+                const double nu_min = fmin(dof[i], dof[j]), nu_max = dof[i] + dof[j];
+                if (k_lo < m && z[h] >= two_sided_crit(a_lo, nu_min) * (1.0 + Z_MARGIN)) {
+                    state[h] = PAIR_REJECTED;
+                    k_lo++;
+                    changed = 1;
+                } else if (a_hi < 1 && z[h] < two_sided_crit(a_hi, nu_max) * (1.0 - Z_MARGIN)) {
+                    state[h] = PAIR_KEPT;
+                    k_hi--;
+                    changed = 1;
+                }
+            }
+    }
+    /* the pairs near the boundary: exact p, then the same two tests on it */
+    size_t n_open = 0;
+    for (size_t i = 0; i < G; i++)
+        for (size_t j = i + 1; j < G; j++) {
+            const size_t h = PAIR(i, j);
+            if (state[h] == PAIR_OPEN) {
+                p[h] = pair_p(key[i], key_se[i], dof[i], key[j], key_se[j], dof[j]);
+                n_open++;
+            }
+        }
+    for (int changed = n_open > 0; changed;) {
+        changed = 0;
+        for (size_t h = 0; h < m; h++) {
+            if (state[h] != PAIR_OPEN)
+                continue;
+            /* (m - k) p at any position k >= k_lo is at most (m - k_lo) p */
+            if ((double)(m - k_lo) * p[h] <= alpha) {
+                state[h] = PAIR_REJECTED;
+                k_lo++;
+                changed = 1;
+            } else if ((double)(m - k_hi + 1) * p[h] > alpha) {
+                state[h] = PAIR_KEPT;
+                k_hi--;
+                changed = 1;
+            }
+        }
+    }
+    /* step-down over what is left: settled rejections come first, in order */
+    double p_stop = INFINITY; /* open pairs with p below this are rejected */
+    n_open = 0;
+    for (size_t h = 0; h < m; h++)
+        if (state[h] == PAIR_OPEN)
+            z[n_open++] = p[h];
+    qsort(z, n_open, sizeof *z, compare_double);
+    for (size_t t = 0; t < n_open; t++) {
+        double v = (double)(m - (k_lo + t)) * z[t];
+        if (v > alpha) {
+            p_stop = z[t];
+            break;
+        }
     }
     int g = 1;
     size_t leader = 0;
     group[0] = 1;
     for (size_t k = 1; k < G; k++) {
-        if (p[PAIR(leader, k)] <= alpha) {
+        const size_t h = PAIR(leader, k);
+        const int rejected = state[h] == PAIR_REJECTED || (state[h] == PAIR_OPEN && p[h] < p_stop);
+        if (rejected) {
             g++;
             leader = k;
         }
@@ -414,6 +553,8 @@ arrank_status arrank_rank_groups(const double *key, const double *key_se, const 
     }
 #undef PAIR
     free(p);
+    free(z);
+    free(state);
     return ARRANK_OK;
 }
 
