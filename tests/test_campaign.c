@@ -754,7 +754,8 @@ static void test_folder(void **state)
         const char *message;
     } bad_ini[] = {
         {"[campaign]\noperating_temperature = 250\n", ARRANK_EPARSE, 2,
-         "temperature '250' has no unit; write it as 250C (Celsius), 250K (kelvin) or 250F (Fahrenheit)"},
+         "temperature '250' has no unit; write it as 250C (Celsius), "
+         "250K (kelvin) or 250F (Fahrenheit)"},
         {"[campaign]\n\noperating_temperature = 250 Q\n", ARRANK_EUNIT, 3, "unknown unit 'Q'"},
         {"[campaign]\ntitle = x\nrate_unit = mol/s\n", ARRANK_EUNIT, 3,
          "'mol/s' is not a rate per mass, area or site (such as umol/(g*s), umol/(m2*s) or 1/s) "

@@ -186,9 +186,11 @@ static void test_parse_temperature_errors(void **state)
         const char *message;
     } cases[] = {
         {"250", ARRANK_EINVAL,
-         "temperature '250' has no unit; write it as 250C (Celsius), 250K (kelvin) or 250F (Fahrenheit)"},
+         "temperature '250' has no unit; write it as 250C (Celsius), "
+         "250K (kelvin) or 250F (Fahrenheit)"},
         {" 231.4 ", ARRANK_EINVAL,
-         "temperature '231.4' has no unit; write it as 231.4C (Celsius), 231.4K (kelvin) or 231.4F (Fahrenheit)"},
+         "temperature '231.4' has no unit; write it as 231.4C (Celsius), "
+         "231.4K (kelvin) or 231.4F (Fahrenheit)"},
         {"", ARRANK_EINVAL, "'' is not a temperature; write it as 250C, 250degC or 523.15K"},
         {"warm", ARRANK_EINVAL,
          "'warm' is not a temperature; write it as 250C, 250degC or 523.15K"},
