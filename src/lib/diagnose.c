@@ -2262,7 +2262,9 @@ arrank_status arrank_diagnosis_write_text(FILE *f, const arrank_result *res, arr
             n_out += !res->used[i];
         size_t n_problems = d->n_findings + basic_problems(NULL, res, &bad);
         if (n_problems == 0)
-            bad |= fprintf(f, "%s (%s): no problem found; Ea %.1f kJ/mol (standard error %.1f) on %zu points\n",
+            bad |= fprintf(f,
+                           "%s (%s): no problem found; Ea %.1f kJ/mol (standard error %.1f) on "
+                           "%zu points\n",
                            s->id, s->file, res->fit.ea_J_mol / 1000.0,
                            res->fit.ea_se_J_mol / 1000.0, res->fit.n) < 0;
         else

@@ -448,8 +448,8 @@ arrank_status arrank_units_parse_temperature(arrank_units *units, const char *te
                              shown);
     if (*unit == '\0')
         return arrank_errorf(err, ARRANK_EINVAL,
-                             "temperature '%s' has no unit; write it as %sC (Celsius), %sK (kelvin) "
-                             "or %sF (Fahrenheit)",
+                             "temperature '%s' has no unit; write it as %sC (Celsius), "
+                             "%sK (kelvin) or %sF (Fahrenheit)",
                              shown, shown, shown, shown);
     arrank_conversion c;
     arrank_status st = arrank_units_temperature(units, unit, &c, err);
