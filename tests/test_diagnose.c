@@ -491,6 +491,28 @@ static void test_weisz_prater_mears(void **state)
     assert_non_null(strstr(o.d->weisz_prater.source, "Madon & Boudart"));
     one_free(&o);
 
+    /*
+     * The thresholds against the textbook's worked derivation (Vannice,
+     * Kinetics of Catalytic Reactions, 2005, pp. 63-65, as summarised on the
+     * Wikipedia page "Weisz-Prater criterion", read): N_WP <= 3 beta with
+     * eta = 1 - n beta / 4; for eta = 0.95, beta = 0.2 / n, so the limit is
+     * 0.6 for first order and 0.3 for second order.
+     */
+    const double eta = 0.95;
+    for (int order = 1; order <= 2; order++) {
+        double limit = 3.0 * (1.0 - eta) * 4.0 / order;
+        dt.meta = order == 1 ? "# particle_diameter = 300 um\n# pellet_density = 1250 kg/m3\n"
+                               "# effective_diffusivity = 2e-7 m2/s\n"
+                               "# bulk_concentration = 8.2 mol/m3\n# reaction_order = 1\n"
+                             : "# particle_diameter = 300 um\n# pellet_density = 1250 kg/m3\n"
+                               "# effective_diffusivity = 2e-7 m2/s\n"
+                               "# bulk_concentration = 8.2 mol/m3\n# reaction_order = 2\n";
+        o = run_one(&dt, &opt);
+        assert_true(o.d->weisz_prater.computed);
+        assert_true(fabs(o.d->weisz_prater.threshold - limit) < 1e-12);
+        one_free(&o);
+    }
+
     /* a hundredfold larger particle fails Weisz-Prater: Phi x 1e4 = 634.5 */
     dt.meta = "# particle_diameter = 30 mm\n"
               "# pellet_density = 1250 kg/m3\n"
