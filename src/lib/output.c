@@ -463,13 +463,41 @@ static void row_pad(row_buf *r, const char *s, size_t width, int right)
         row_spaces(r, pad);
 }
 
-/* snprintf(cell, n, "%s [%s, %s]", a, b, c), cut at n - 1 bytes the same way. */
+/* The k texts parts[] joined into cell (size n > 0), cut at n - 1 bytes as snprintf cuts. */
+static void join_cut(char *cell, size_t n, const char *const *parts, size_t k)
+{
+    size_t used = 0;
+    for (size_t i = 0; i < k; i++) {
+        size_t len = strlen(parts[i]);
+        if (len > n - 1 - used)
+            len = n - 1 - used;
+        memcpy(cell + used, parts[i], len);
+        used += len;
+    }
+    cell[used] = '\0';
+}
+
+/* snprintf(cell, n, "%s [%s, %s]", a, b, c). */
 static void interval_text(char *cell, size_t n, const char *a, const char *b, const char *c)
 {
-    char all[3 * 48 + 8];
-    int len = snprintf(all, sizeof all, "%.47s [%.47s, %.47s]", a, b, c);
-    size_t k = len < 0 ? 0 : (size_t)len < n ? (size_t)len : n - 1;
-    memcpy(cell, all, k);
+    const char *parts[] = {a, " [", b, ", ", c, "]"};
+    join_cut(cell, n, parts, sizeof parts / sizeof parts[0]);
+}
+
+/* snprintf(cell, n, "%lld", v) for a cell of at least 24 bytes. */
+static void int_text(char *cell, long long value)
+{
+    char tmp[24];
+    size_t k = 0;
+    unsigned long long v = value < 0 ? 0ULL - (unsigned long long)value : (unsigned long long)value;
+    if (value < 0)
+        *cell++ = '-';
+    do {
+        tmp[k++] = (char)('0' + v % 10);
+        v /= 10;
+    } while (v);
+    for (size_t i = 0; i < k; i++)
+        cell[i] = tmp[k - 1 - i];
     cell[k] = '\0';
 }
 
@@ -617,7 +645,7 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
         fit_text(res->sample->id, name_w, name, sizeof name);
         if (a->n_ranked) {
             if (res->rank)
-                snprintf(cell, sizeof cell, "%d", res->rank);
+                int_text(cell, res->rank);
             else
                 snprintf(cell, sizeof cell, "-");
             row_pad(r, cell, w_rank, 1);
@@ -631,7 +659,7 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
                 row_pad(r, cell, w_pb, 1);
                 row_put(r, "  ", 2);
                 if (ss && ss->group > 0)
-                    snprintf(cell, sizeof cell, "%d", ss->group);
+                    int_text(cell, ss->group);
                 else
                     snprintf(cell, sizeof cell, "-");
                 row_pad(r, cell, w_grp, 1);
@@ -654,7 +682,7 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
         if (fit->n < res->sample->n_points)
             snprintf(cell, sizeof cell, "%zu/%zu", fit->n, res->sample->n_points);
         else
-            snprintf(cell, sizeof cell, "%zu", fit->n);
+            int_text(cell, (long long)fit->n);
         row_pad(r, cell, w_n, 1);
         row_put(r, "  ", 2);
         {
@@ -663,7 +691,7 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
                 arrank_format_fixed(hi, sizeof hi, 0, fit->T_max_K) >= (int)sizeof hi)
                 snprintf(cell, sizeof cell, "%.0f-%.0f", fit->T_min_K, fit->T_max_K);
             else
-                snprintf(cell, sizeof cell, "%s-%s", lo, hi);
+                join_cut(cell, sizeof cell, (const char *const[]){lo, "-", hi}, 3);
         }
         row_pad(r, cell, w_T, 0);
         row_put(r, "  ", 2);
