@@ -315,6 +315,67 @@ static void decimal_fast_path(void **state)
     assert_true(answered > 100000);
 }
 
+/* Byte-for-byte agreement of the fast formatters with snprintf. */
+static void check_format(double v, int prec, size_t *fast)
+{
+    char mine[64], libc[64];
+    int a = arrank_format_fixed(mine, sizeof mine, prec, v);
+    int b = snprintf(libc, sizeof libc, "%.*f", prec, v);
+    if (a != b || strcmp(mine, libc) != 0)
+        fail_msg("%%.%df of %a: '%s', snprintf '%s'", prec, v, mine, libc);
+    if (prec >= 1 && prec <= 6) {
+        a = arrank_format_general(mine, sizeof mine, prec, v);
+        b = snprintf(libc, sizeof libc, "%.*g", prec, v);
+        if (a != b || strcmp(mine, libc) != 0)
+            fail_msg("%%.%dg of %a: '%s', snprintf '%s'", prec, v, mine, libc);
+    }
+    (*fast)++;
+}
+
+static void format_fast_path(void **state)
+{
+    (void)state;
+    size_t n = 0;
+    /* Exact binary ties (x.5, x.25, x.125 ...), zeros of both signs, edges of the
+       range, values that round up across a power of ten, and non-finite ones. */
+    static const double edges[] = {
+        0.0, -0.0, 0.5, 1.5, 2.5, -2.5, 0.125, 0.375, 2.675, 1.005, 0.05, -0.05, 0.04,
+        -0.04, 999.5, 9.995, 99.95, 0.0009995, 1e-5, 9.9999e-5, 1e-4, 123456.5, 1e15,
+        4503599627370495.5, 4503599627370496.0, 1e22, 1e23, 1e300, -1e-300, 5e-324,
+        1.7976931348623157e308, NAN, -NAN, INFINITY, -INFINITY, 273.15, 523.15, 0.9995,
+    };
+    for (size_t i = 0; i < sizeof edges / sizeof edges[0]; i++)
+        for (int prec = 0; prec <= 17; prec++)
+            check_format(edges[i], prec, &n);
+    for (int k = 0; k < 200000; k++) {
+        uint64_t r = rng_next();
+        int prec = (int)(r % 7);
+        double v;
+        switch ((r >> 3) % 4) {
+        case 0: /* any bit pattern of a double */
+            r = rng_next();
+            memcpy(&v, &r, sizeof v);
+            break;
+        case 1: /* a decimal tie at the printed precision, as near as a double gets */
+            v = ((double)(rng_next() % 2000000) + 0.5) / pow(10.0, (int)(r >> 8) % 8);
+            break;
+        case 2: /* log-uniform over 1e-12 .. 1e12, either sign */
+            v = pow(10.0, -12.0 + 24.0 * (double)(rng_next() >> 11) / 9007199254740992.0);
+            break;
+        default: /* a short decimal written and read back, as in a table */
+            v = (double)(rng_next() % 100000) / pow(10.0, (int)(r >> 8) % 6);
+            break;
+        }
+        if ((r >> 20) & 1)
+            v = -v;
+        check_format(v, prec, &n);
+        /* the neighbours of a value sit on either side of a rounding boundary */
+        check_format(nextafter(v, INFINITY), prec, &n);
+        check_format(nextafter(v, -INFINITY), prec, &n);
+    }
+    assert_true(n > 600000);
+}
+
 /* ---- campaign.ini from memory -------------------------------------------- */
 
 static void ini_from_memory(void **state)
@@ -453,6 +514,7 @@ int main(void)
         cmocka_unit_test(corpus_ini),      cmocka_unit_test(corpus_temperature),
         cmocka_unit_test(fixed_units),     cmocka_unit_test(limits_in_memory),
         cmocka_unit_test(ini_from_memory), cmocka_unit_test(decimal_fast_path),
+        cmocka_unit_test(format_fast_path),
         cmocka_unit_test(progress_reported), cmocka_unit_test(fixed_conversion_overflow),
     };
     return cmocka_run_group_tests(tests, setup, teardown);

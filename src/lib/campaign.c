@@ -26,6 +26,7 @@
 #include "arrank/campaign.h"
 #include "arrank/diagnose.h"
 #include "arrank/fit.h"
+#include "internal.h"
 #include "number.h"
 #include "units_internal.h"
 
@@ -577,31 +578,61 @@ static void data_field(parser *p, char *text)
         }
         return;
     }
-    /* The cell as written, cut to fit, for messages (parse_number rewrites a decimal comma). */
-    char shown[64];
-    copy_cut(shown, sizeof shown, trim(text));
+    /* A plain decimal - nearly every cell - is read in place (number.c) and
+       its text copied only for a message.  Anything else goes the long way,
+       and its text is kept first, as written: parse_number rewrites a decimal
+       comma.  parse_number would read a plain decimal the same way, since its
+       rewrite finds no comma and no 'x' in one. */
+    char shown[64]; /* the cell as written, cut to fit, for messages */
+    char *cell = trim(text);
     double v = NAN;
-    int bad = parse_number(text, p->delim, &v);
-    if (bad == 1 && shown[0] == '\0') {
-        if (c->kind == COL_TEMP || c->kind == COL_RATE ||
-            (c->kind == COL_CONVERSION && p->sample->rates_derived))
-            fail(p, ARRANK_EPARSE, colno, "empty cell in column '%s'", c->name);
-        return; /* optional quantity not given */
-    }
-    if (bad == 1) {
-        fail(p, ARRANK_EPARSE, colno, "'%s' is not a number in column '%s'", shown, c->name);
-        return;
-    }
-    if (bad == 2) {
-        fail(p, ARRANK_EPARSE, colno, "'%s' is not a finite number in column '%s'", shown,
-             c->name);
-        return;
-    }
-    if (bad == 3) {
-        fail(p, ARRANK_EPARSE, colno, "'%s' is out of range in column '%s'", shown, c->name);
-        return;
+    if (arrank_decimal_fast(cell, &v)) {
+        shown[0] = '\0';
+    } else {
+        copy_cut(shown, sizeof shown, cell);
+        int bad = parse_number(cell, p->delim, &v);
+        if (bad == 1 && shown[0] == '\0') {
+            if (c->kind == COL_TEMP || c->kind == COL_RATE ||
+                (c->kind == COL_CONVERSION && p->sample->rates_derived))
+                fail(p, ARRANK_EPARSE, colno, "empty cell in column '%s'", c->name);
+            return; /* optional quantity not given */
+        }
+        if (bad == 1) {
+            fail(p, ARRANK_EPARSE, colno, "'%s' is not a number in column '%s'", shown,
+                 c->name);
+            return;
+        }
+        if (bad == 2) {
+            fail(p, ARRANK_EPARSE, colno, "'%s' is not a finite number in column '%s'", shown,
+                 c->name);
+            return;
+        }
+        if (bad == 3) {
+            fail(p, ARRANK_EPARSE, colno, "'%s' is out of range in column '%s'", shown,
+                 c->name);
+            return;
+        }
     }
     double conv = c->conv.scale * v + c->conv.offset;
+    int ok = isfinite(conv);
+    switch (c->kind) {
+    case COL_TEMP:
+        ok = ok && conv > 0.0;
+        break;
+    case COL_RATE:
+        ok = ok && conv > 0.0; /* else the row may need the text for a problem */
+        break;
+    case COL_RATE_SD:
+        ok = ok && !(conv < 0.0);
+        break;
+    case COL_CONVERSION:
+        ok = ok && !(conv < 0.0 || conv > 1.0);
+        break;
+    default:
+        break;
+    }
+    if (!ok && shown[0] == '\0')
+        copy_cut(shown, sizeof shown, cell); /* the fast read left the cell as written */
     if (!isfinite(conv)) { /* e.g. 1e306 mol/(kg*s) is 1e309 umol/(g*s): past double */
         fail(p, ARRANK_EPARSE, colno, "'%s' is out of range in column '%s' once converted",
              shown, c->name);
@@ -616,7 +647,8 @@ static void data_field(parser *p, char *text)
         break;
     case COL_RATE:
         p->point.rate = conv;
-        copy_cut(p->rate_text, sizeof p->rate_text, shown);
+        if (!(conv > 0.0)) /* on_row's problem message quotes it */
+            copy_cut(p->rate_text, sizeof p->rate_text, shown);
         break;
     case COL_RATE_SD:
         if (conv < 0.0)
@@ -638,9 +670,9 @@ static void data_field(parser *p, char *text)
     }
 }
 
-static void on_field(void *data, size_t len, void *user)
+/* One field of len bytes at data, from libcsv or from split_plain_line. */
+static void field_text(parser *p, const char *data, size_t len)
 {
-    parser *p = user;
     if (p->status != ARRANK_OK)
         return;
     /* libcsv's bytes are neither NUL-terminated nor valid after the callback. */
@@ -655,6 +687,11 @@ static void on_field(void *data, size_t len, void *user)
     else
         data_field(p, p->cell);
     p->field++;
+}
+
+static void on_field(void *data, size_t len, void *user)
+{
+    field_text(user, data, len);
 }
 
 static void on_row(int c, void *user)
@@ -702,6 +739,80 @@ static void on_row(int c, void *user)
         }
         s->problem_line = p->point.line;
     }
+}
+
+/*
+ * Lines without a quote character skip libcsv (its per-character state
+ * machine and callbacks were a third of the time spent reading a large
+ * campaign) and are split here with libcsv's own rules for unquoted text, so
+ * that the fields, rows, messages and columns are the same either way
+ * (tests/test_robust.c reads every corpus and bad file both ways and
+ * compares): blanks (space, and tab unless tab is the delimiter) before a
+ * field are skipped and after its text dropped; a delimiter ends a field; a
+ * line of blanks only is no row; a row's end after a delimiter gives one more
+ * empty field.  Only called with libcsv between rows (no quoted
+ * field open), so its state is untouched.
+ */
+static int plain_lines = 1; /* 0: every line to libcsv (arrank_campaign_plain_lines) */
+
+void arrank_campaign_plain_lines(int on)
+{
+    plain_lines = on;
+}
+
+/* libcsv 3.0.3's blanks: CSV_SPACE and CSV_TAB, except the delimiter. */
+static int is_csv_blank(char c, char delim)
+{
+    return (c == ' ' || c == '\t') && c != delim;
+}
+
+/* Fields and row end of the n bytes at s (no quote, no line end in them). */
+static void split_plain_line(parser *p, const char *s, size_t n)
+{
+    const char *end = s + n;
+    const char delim = p->delim;
+    int in_row = 0; /* a field was seen: a line end now ends one more (empty) field */
+    for (;;) {
+        while (s < end && is_csv_blank(*s, delim))
+            s++;
+        if (s == end) {
+            if (in_row) {
+                field_text(p, s, 0);
+                on_row(0, p);
+            }
+            return;
+        }
+        in_row = 1;
+        if (*s == delim) {
+            field_text(p, s, 0);
+            s++;
+            continue;
+        }
+        const char *f0 = s, *f1 = s; /* f1: just past the last non-blank byte */
+        for (; s < end && *s != delim; s++)
+            if (!is_csv_blank(*s, delim))
+                f1 = s + 1;
+        field_text(p, f0, (size_t)(f1 - f0));
+        if (s == end) {
+            on_row(0, p);
+            return;
+        }
+        s++; /* the delimiter */
+    }
+}
+
+/* line_length, also telling whether the line holds a quote character. */
+static size_t line_length_quote(const char *s, const char *end, size_t *term, int *quote)
+{
+    const char *q = s;
+    int seen = 0;
+    for (; q < end && *q != '\n' && *q != '\r'; q++)
+        seen |= *q == '"';
+    *quote = seen;
+    *term = 0;
+    if (q < end)
+        *term = (*q == '\r' && q + 1 < end && q[1] == '\n') ? 2 : 1;
+    return (size_t)(q - s);
 }
 
 /* Delimiter of a header line: the most frequent of ',', ';', tab outside quotes. */
@@ -936,14 +1047,21 @@ static arrank_status parse_sample(parser *p, const char *data, size_t len)
     p->in_header = 1;
     p->line--;
     long quote_line = 0; /* line where a quoted field still open began */
+    int csv_between_rows = 0; /* libcsv has no row open: a plain line may skip it */
     while (s < end && p->status == ARRANK_OK) {
         size_t term;
-        size_t n = line_length(s, end, &term);
+        int quote;
+        size_t n = line_length_quote(s, end, &term, &quote);
         p->line++;
         if (n > (size_t)ARRANK_CAMPAIGN_MAX_LINE_BYTES) {
             fail(p, ARRANK_ELIMIT, 0, "line longer than %ld bytes",
                  ARRANK_CAMPAIGN_MAX_LINE_BYTES);
             break;
+        }
+        if (plain_lines && csv_between_rows && !quote && !p->in_header) {
+            split_plain_line(p, s, n);
+            s += n + term;
+            continue;
         }
         size_t fed = csv_parse(&csv, s, n + term, on_field, on_row, p);
         if (p->status != ARRANK_OK)
@@ -962,6 +1080,8 @@ static arrank_status parse_sample(parser *p, const char *data, size_t len)
             quote_line = p->line;
         else if (!csv.quoted)
             quote_line = 0;
+        /* A line end outside quotes ends libcsv's row (or is skipped between rows). */
+        csv_between_rows = term > 0 && !csv.quoted;
         s += n + term;
     }
     if (p->status == ARRANK_OK) {

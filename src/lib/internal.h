@@ -20,6 +20,13 @@ double arrank_chi2_upper_p(double x, double k);
    is impossible sets res->error; only ENOMEM is returned as a failure. */
 arrank_status arrank_result_refit(arrank_result *res, arrank_error *err);
 
+/* ---- campaign.c: test switch for the reader ---- */
+
+/* 1 (the default): data lines without a quote character are split directly
+   instead of through libcsv, with the same result; 0: every line goes through
+   libcsv.  For tests that compare the two readings; not thread-safe. */
+void arrank_campaign_plain_lines(int on);
+
 /* ---- rank.c: ranking statistics and extra models (rank.h, models.h) ---- */
 
 /* For options.model == EYRING: refuse a campaign whose rates are not

@@ -5,6 +5,8 @@
 #ifndef ARRANK_NUMBER_H
 #define ARRANK_NUMBER_H
 
+#include <stddef.h>
+
 /*
  * If the whole of text is a plain decimal number - [+-]digits[.digits]
  * [(e|E)[+-]digits], at least one digit before the exponent - that can be
@@ -14,5 +16,15 @@
  * 1.  Otherwise return 0 and leave *value alone: the caller uses strtod.
  */
 int arrank_decimal_fast(const char *text, double *value);
+
+/*
+ * snprintf(buf, n, "%.*f", prec, v) and snprintf(buf, n, "%.*g", prec, v),
+ * byte for byte, in the C locale and the default rounding mode, without
+ * printf's multi-precision digit generation for the common case (see
+ * number.c); anything else is handed to snprintf.  Return what snprintf
+ * returns.  The fast path needs n >= 40 (the result is shorter).
+ */
+int arrank_format_fixed(char *buf, size_t n, int prec, double v);
+int arrank_format_general(char *buf, size_t n, int prec, double v);
 
 #endif

@@ -22,6 +22,7 @@
 #include "arrank/version.h"
 #include "arrank/rank.h"
 #include "internal.h"
+#include "number.h"
 
 #define NAME_WIDTH_MAX 28 /* longer sample names are shortened in the table */
 
@@ -411,7 +412,105 @@ static void fmt_rate(double v, char *buf, size_t n)
     if (!isfinite(v))
         snprintf(buf, n, "-");
     else
-        snprintf(buf, n, "%.3g", v);
+        arrank_format_general(buf, n, 3, v); /* "%.3g", faster (number.c) */
+}
+
+/* Table rows, gathered and written with one fwrite per few rows: per-cell
+   stdio calls were a good part of printing 10,000 rows. */
+typedef struct {
+    FILE *f;
+    size_t n;
+    char buf[4096];
+} row_buf;
+
+static void row_put(row_buf *r, const char *s, size_t len)
+{
+    if (len > sizeof r->buf - r->n) {
+        fwrite(r->buf, 1, r->n, r->f);
+        r->n = 0;
+        if (len > sizeof r->buf) {
+            fwrite(s, 1, len, r->f);
+            return;
+        }
+    }
+    memcpy(r->buf + r->n, s, len);
+    r->n += len;
+}
+
+static void row_text(row_buf *r, const char *s)
+{
+    row_put(r, s, strlen(s));
+}
+
+static void row_spaces(row_buf *r, size_t k)
+{
+    static const char spaces[] = "                                ";
+    while (k > 0) {
+        size_t m = k < sizeof spaces - 1 ? k : sizeof spaces - 1;
+        row_put(r, spaces, m);
+        k -= m;
+    }
+}
+
+/* pad_print into the row. */
+static void row_pad(row_buf *r, const char *s, size_t width, int right)
+{
+    size_t w = text_width(s), pad = w < width ? width - w : 0;
+    if (right)
+        row_spaces(r, pad);
+    row_text(r, s);
+    if (!right)
+        row_spaces(r, pad);
+}
+
+/* The k texts parts[] joined into cell (size n > 0), cut at n - 1 bytes as snprintf cuts. */
+static void join_cut(char *cell, size_t n, const char *const *parts, size_t k)
+{
+    size_t used = 0;
+    for (size_t i = 0; i < k; i++) {
+        size_t len = strlen(parts[i]);
+        if (len > n - 1 - used)
+            len = n - 1 - used;
+        memcpy(cell + used, parts[i], len);
+        used += len;
+    }
+    cell[used] = '\0';
+}
+
+/* snprintf(cell, n, "%s [%s, %s]", a, b, c). */
+static void interval_text(char *cell, size_t n, const char *a, const char *b, const char *c)
+{
+    const char *parts[] = {a, " [", b, ", ", c, "]"};
+    join_cut(cell, n, parts, sizeof parts / sizeof parts[0]);
+}
+
+/* snprintf(cell, n, "%lld", v) for a cell of at least 24 bytes. */
+static void int_text(char *cell, long long value)
+{
+    char tmp[24];
+    size_t k = 0;
+    unsigned long long v = value < 0 ? 0ULL - (unsigned long long)value : (unsigned long long)value;
+    if (value < 0)
+        *cell++ = '-';
+    do {
+        tmp[k++] = (char)('0' + v % 10);
+        v /= 10;
+    } while (v);
+    for (size_t i = 0; i < k; i++)
+        cell[i] = tmp[k - 1 - i];
+    cell[k] = '\0';
+}
+
+/* snprintf(cell, n, "%.<prec>f [%.<prec>f, %.<prec>f]", v, lo, hi), cut the same way. */
+static void fmt_interval(char *cell, size_t n, int prec, double v, double lo, double hi)
+{
+    char a[48], b[48], c[48];
+    if (arrank_format_fixed(a, sizeof a, prec, v) >= (int)sizeof a ||
+        arrank_format_fixed(b, sizeof b, prec, lo) >= (int)sizeof b ||
+        arrank_format_fixed(c, sizeof c, prec, hi) >= (int)sizeof c)
+        snprintf(cell, n, "%.*f [%.*f, %.*f]", prec, v, prec, lo, prec, hi); /* huge */
+    else
+        interval_text(cell, n, a, b, c);
 }
 
 /* The modified or transition-state parameters under the main table
@@ -535,41 +634,47 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
     size_t *order = display_order(a);
     if (!order)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    row_buf row;
+    row.f = f;
+    row.n = 0;
     for (size_t k = 0; k < a->n_results; k++) {
         const arrank_result *res = &a->results[order[k]];
         const arrank_arrhenius *fit = &res->fit;
         char name[4 * NAME_WIDTH_MAX + 8], cell[128];
+        row_buf *r = &row;
         fit_text(res->sample->id, name_w, name, sizeof name);
         if (a->n_ranked) {
             if (res->rank)
-                snprintf(cell, sizeof cell, "%d", res->rank);
+                int_text(cell, res->rank);
             else
                 snprintf(cell, sizeof cell, "-");
-            pad_print(f, cell, w_rank, 1);
-            fputs("  ", f);
+            row_pad(r, cell, w_rank, 1);
+            row_put(r, "  ", 2);
             if (have_stats) {
                 const struct arrank_sample_stats *ss = res->rank ? res->stats : NULL;
                 if (ss && isfinite(ss->p_best))
-                    snprintf(cell, sizeof cell, "%.3f", ss->p_best);
+                    arrank_format_fixed(cell, sizeof cell, 3, ss->p_best);
                 else
                     snprintf(cell, sizeof cell, "-");
-                pad_print(f, cell, w_pb, 1);
-                fputs("  ", f);
+                row_pad(r, cell, w_pb, 1);
+                row_put(r, "  ", 2);
                 if (ss && ss->group > 0)
-                    snprintf(cell, sizeof cell, "%d", ss->group);
+                    int_text(cell, ss->group);
                 else
                     snprintf(cell, sizeof cell, "-");
-                pad_print(f, cell, w_grp, 1);
-                fputs("  ", f);
+                row_pad(r, cell, w_grp, 1);
+                row_put(r, "  ", 2);
             }
         }
-        pad_print(f, name, name_w, 0);
-        fputs("  ", f);
+        row_pad(r, name, name_w, 0);
+        row_put(r, "  ", 2);
         if (res->error) {
             snprintf(cell, sizeof cell, "%zu", res->sample->n_points);
-            pad_print(f, cell, w_n, 1);
-            fputs("  ", f);
-            fprintf(f, "not fitted: %s\n", res->error);
+            row_pad(r, cell, w_n, 1);
+            row_put(r, "  ", 2);
+            row_text(r, "not fitted: ");
+            row_text(r, res->error);
+            row_put(r, "\n", 1);
             any_error = 1;
             continue;
         }
@@ -577,29 +682,36 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
         if (fit->n < res->sample->n_points)
             snprintf(cell, sizeof cell, "%zu/%zu", fit->n, res->sample->n_points);
         else
-            snprintf(cell, sizeof cell, "%zu", fit->n);
-        pad_print(f, cell, w_n, 1);
-        fputs("  ", f);
-        snprintf(cell, sizeof cell, "%.0f-%.0f", fit->T_min_K, fit->T_max_K);
-        pad_print(f, cell, w_T, 0);
-        fputs("  ", f);
+            int_text(cell, (long long)fit->n);
+        row_pad(r, cell, w_n, 1);
+        row_put(r, "  ", 2);
+        {
+            char lo[48], hi[48];
+            if (arrank_format_fixed(lo, sizeof lo, 0, fit->T_min_K) >= (int)sizeof lo ||
+                arrank_format_fixed(hi, sizeof hi, 0, fit->T_max_K) >= (int)sizeof hi)
+                snprintf(cell, sizeof cell, "%.0f-%.0f", fit->T_min_K, fit->T_max_K);
+            else
+                join_cut(cell, sizeof cell, (const char *const[]){lo, "-", hi}, 3);
+        }
+        row_pad(r, cell, w_T, 0);
+        row_put(r, "  ", 2);
         double ea = fit->ea_J_mol / 1e3, se = fit->ea_se_J_mol / 1e3;
-        snprintf(cell, sizeof cell, "%.1f [%.1f, %.1f]", ea, ea - t * se, ea + t * se);
-        pad_print(f, cell, w_ea, 0);
-        fputs("  ", f);
-        snprintf(cell, sizeof cell, "%.2f [%.2f, %.2f]", fit->ln_A, fit->ln_A - t * fit->ln_A_se,
-                 fit->ln_A + t * fit->ln_A_se);
-        pad_print(f, cell, w_lna, 0);
+        fmt_interval(cell, sizeof cell, 1, ea, ea - t * se, ea + t * se);
+        row_pad(r, cell, w_ea, 0);
+        row_put(r, "  ", 2);
+        fmt_interval(cell, sizeof cell, 2, fit->ln_A, fit->ln_A - t * fit->ln_A_se,
+                     fit->ln_A + t * fit->ln_A_se);
+        row_pad(r, cell, w_lna, 0);
         if (have_T) {
-            fputs("  ", f);
-            char r0[32], r1[32], r2[32];
+            row_put(r, "  ", 2);
+            char r0[48], r1[48], r2[48];
             fmt_rate(res->at_T.rate, r0, sizeof r0);
             fmt_rate(res->at_T.rate_lo, r1, sizeof r1);
             fmt_rate(res->at_T.rate_hi, r2, sizeof r2);
-            snprintf(cell, sizeof cell, "%s [%s, %s]", r0, r1, r2);
-            pad_print(f, cell, w_rate, 0);
+            interval_text(cell, sizeof cell, r0, r1, r2); /* %.3g: a few bytes each */
+            row_pad(r, cell, w_rate, 0);
             if (have_stats && o->bootstrap > 0) {
-                fputs("  ", f);
+                row_put(r, "  ", 2);
                 const struct arrank_sample_stats *ss = res->stats;
                 if (ss && ss->has_bootstrap) {
                     fmt_rate(ss->rate_lo_boot, r1, sizeof r1);
@@ -608,14 +720,17 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
                 } else {
                     snprintf(cell, sizeof cell, "-");
                 }
-                pad_print(f, cell, w_boot, 0);
+                row_pad(r, cell, w_boot, 0);
             }
         }
         char flags[512];
         flags_joined(res->flags, flags, sizeof flags, ", ");
-        fprintf(f, "  %s\n", flags[0] ? flags : "-");
+        row_put(r, "  ", 2);
+        row_text(r, flags[0] ? flags : "-");
+        row_put(r, "\n", 1);
         seen_flags |= res->flags;
     }
+    fwrite(row.buf, 1, row.n, f);
     free(order);
 
     if (seen_flags || any_error)
