@@ -82,25 +82,34 @@ static void set_result_error(arrank_result *res, const char *msg, long line)
     res->error_line = line;
 }
 
-arrank_status arrank_result_refit(arrank_result *res, arrank_error *err)
+size_t arrank_result_used_points(const arrank_result *res, double *temp_K, double *rate,
+                                 double *rate_sd, int *have_sd)
 {
     const arrank_sample *s = res->sample;
     size_t n = 0;
+    *have_sd = 1;
+    for (size_t i = 0; i < s->n_points; i++) {
+        if (!res->used[i])
+            continue;
+        temp_K[n] = s->points[i].temp_K;
+        rate[n] = s->points[i].rate;
+        rate_sd[n] = s->points[i].rate_sd;
+        if (!isfinite(rate_sd[n]))
+            *have_sd = 0;
+        n++;
+    }
+    return n;
+}
+
+arrank_status arrank_result_refit(arrank_result *res, arrank_error *err)
+{
+    const arrank_sample *s = res->sample;
     double *buf = malloc(3 * (s->n_points ? s->n_points : 1) * sizeof *buf);
     if (!buf)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     double *t = buf, *r = buf + s->n_points, *sd = buf + 2 * s->n_points;
-    int have_sd = 1;
-    for (size_t i = 0; i < s->n_points; i++) {
-        if (!res->used[i])
-            continue;
-        t[n] = s->points[i].temp_K;
-        r[n] = s->points[i].rate;
-        sd[n] = s->points[i].rate_sd;
-        if (!isfinite(sd[n]))
-            have_sd = 0;
-        n++;
-    }
+    int have_sd;
+    size_t n = arrank_result_used_points(res, t, r, sd, &have_sd);
     res->n_used = n;
     arrank_error fe;
     arrank_error_clear(&fe);

@@ -968,16 +968,11 @@ static arrank_status bootstrap_result(arrank_result *res, const arrank_options *
     if (!buf)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     double *t = buf, *r = buf + s->n_points, *w = buf + 2 * s->n_points;
-    size_t n = 0;
-    for (size_t i = 0; i < s->n_points; i++) {
-        if (!res->used[i])
-            continue;
-        t[n] = s->points[i].temp_K;
-        r[n] = s->points[i].rate;
-        /* the fit's own ln r weights (fit.h): (r/sd)^2 */
-        w[n] = res->fit.weighted ? pow(r[n] / s->points[i].rate_sd, 2) : 1.0;
-        n++;
-    }
+    int have_sd;
+    size_t n = arrank_result_used_points(res, t, r, w, &have_sd);
+    /* the fit's own ln r weights (fit.h): (r/sd)^2 */
+    for (size_t k = 0; k < n; k++)
+        w[k] = res->fit.weighted ? pow(r[k] / w[k], 2) : 1.0;
     struct arrank_sample_stats *ss = res->stats;
     arrank_status st = arrank_rank_bootstrap(t, r, w, n, &res->fit, opt->operating_temp_K,
                                              opt->confidence, opt->bootstrap, seed,
