@@ -891,18 +891,8 @@ arrank_status arrank_models_apply(arrank_result *res, const arrank_options *opt,
     if (!buf)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     double *t = buf, *r = buf + s->n_points, *sd = buf + 2 * s->n_points;
-    size_t n = 0;
-    int have_sd = 1;
-    for (size_t i = 0; i < s->n_points; i++) {
-        if (!res->used[i])
-            continue;
-        t[n] = s->points[i].temp_K;
-        r[n] = s->points[i].rate;
-        sd[n] = s->points[i].rate_sd;
-        if (!isfinite(sd[n]))
-            have_sd = 0;
-        n++;
-    }
+    int have_sd;
+    size_t n = arrank_result_used_points(res, t, r, sd, &have_sd);
     arrank_error fe;
     arrank_error_clear(&fe);
     arrank_status st;
