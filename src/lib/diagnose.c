@@ -209,9 +209,8 @@ static void finding(work *wk, const char *f, ...)
 {
     va_list ap;
     va_start(ap, f);
-    char *s = vfmt(f, ap);
+    push_str(wk, &wk->d->findings, &wk->d->n_findings, vfmt(f, ap));
     va_end(ap);
-    push_str(wk, &wk->d->findings, &wk->d->n_findings, s);
 }
 
 static void note(work *wk, const char *f, ...)
@@ -224,9 +223,8 @@ static void note(work *wk, const char *f, ...)
 {
     va_list ap;
     va_start(ap, f);
-    char *s = vfmt(f, ap);
+    push_str(wk, &wk->d->notes, &wk->d->n_notes, vfmt(f, ap));
     va_end(ap);
-    push_str(wk, &wk->d->notes, &wk->d->n_notes, s);
 }
 
 static void add_cause(work *wk, int supported, char *cause, char *evidence)
