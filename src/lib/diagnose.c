@@ -154,14 +154,21 @@ static char *vfmt(const char *f, va_list ap)
 
 static char *vfmt(const char *f, va_list ap)
 {
+    /* One formatting pass into a stack buffer covers every message we write;
+       a longer one (a long sample name) is formatted again at its length. */
+    char small[512];
     va_list ap2;
     va_copy(ap2, ap);
-    int n = vsnprintf(NULL, 0, f, ap2);
+    int n = vsnprintf(small, sizeof small, f, ap2);
     va_end(ap2);
     if (n < 0)
         return NULL;
     char *s = malloc((size_t)n + 1);
-    if (s)
+    if (!s)
+        return NULL;
+    if ((size_t)n < sizeof small)
+        memcpy(s, small, (size_t)n + 1);
+    else
         vsnprintf(s, (size_t)n + 1, f, ap);
     return s;
 }
@@ -283,8 +290,9 @@ static double t_upper(double tail, double dof)
     return t;
 }
 
-/* Sort indices by temperature, ties by file order. */
-static const arrank_point *sort_pts;
+/* Sort indices by temperature, ties by file order.  The points are per
+   thread: samples are diagnosed on several threads (analysis.c). */
+static _Thread_local const arrank_point *sort_pts;
 
 static int by_temp(const void *a, const void *b)
 {
@@ -297,10 +305,26 @@ static int by_temp(const void *a, const void *b)
     return (i > j) - (i < j);
 }
 
+/* Below this many points an insertion sort beats qsort's set-up. */
+#define SMALL_SORT 24
+
 static void sort_by_temp(const arrank_point *pts, size_t *idx, size_t n)
 {
-    sort_pts = pts;
-    qsort(idx, n, sizeof *idx, by_temp);
+    if (n > SMALL_SORT) {
+        sort_pts = pts;
+        qsort(idx, n, sizeof *idx, by_temp);
+        return;
+    }
+    /* Same order as by_temp: strictly lower T moves left; equal T keeps index order. */
+    for (size_t k = 1; k < n; k++) {
+        size_t v = idx[k], j = k;
+        while (j > 0 && (pts[idx[j - 1]].temp_K > pts[v].temp_K ||
+                         (pts[idx[j - 1]].temp_K == pts[v].temp_K && idx[j - 1] > v))) {
+            idx[j] = idx[j - 1];
+            j--;
+        }
+        idx[j] = v;
+    }
 }
 
 /* Group ids of idx[0..n) (sorted by T): a new group when T moves on by more

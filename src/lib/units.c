@@ -18,6 +18,7 @@
 #include <ctype.h>
 #include <errno.h>
 #include <math.h>
+#include <pthread.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -225,7 +226,9 @@ static arrank_status affine(const ut_unit *from, const ut_unit *to, const char *
     return ARRANK_OK;
 }
 
-arrank_units *arrank_units_create(arrank_error *err)
+static void units_free(arrank_units *units);
+
+static arrank_units *units_create(arrank_error *err)
 {
     /* udunits prints its own diagnostics by default; the library never prints. */
     ut_set_error_message_handler(ut_ignore);
@@ -248,13 +251,13 @@ arrank_units *arrank_units_create(arrank_error *err)
     units->rate_site = ut_parse(units->system, "1/s", UT_ASCII);
     if (!units->kelvin || !units->rate_mass || !units->rate_area || !units->rate_site) {
         arrank_errorf(err, ARRANK_EIO, "the udunits2 unit database lacks K, mol, kg, m or s");
-        arrank_units_free(units);
+        units_free(units);
         return NULL;
     }
     return units;
 }
 
-void arrank_units_free(arrank_units *units)
+static void units_free(arrank_units *units)
 {
     if (!units)
         return;
@@ -270,7 +273,7 @@ void arrank_units_free(arrank_units *units)
     free(units);
 }
 
-arrank_status arrank_units_temperature(arrank_units *units, const char *unit,
+static arrank_status units_temperature(arrank_units *units, const char *unit,
                                        arrank_conversion *to_K, arrank_error *err)
 {
     if (!units || !unit || !to_K)
@@ -302,7 +305,7 @@ arrank_status arrank_units_temperature(arrank_units *units, const char *unit,
     return ARRANK_OK;
 }
 
-arrank_status arrank_units_rate(arrank_units *units, const char *unit, arrank_basis *basis,
+static arrank_status units_rate(arrank_units *units, const char *unit, arrank_basis *basis,
                                 arrank_conversion *to_si, arrank_error *err)
 {
     if (!units || !unit || !basis || !to_si)
@@ -351,7 +354,7 @@ arrank_status arrank_units_rate(arrank_units *units, const char *unit, arrank_ba
                          unit);
 }
 
-arrank_status arrank_units_conversion(arrank_units *units, const char *from, const char *to,
+static arrank_status units_conversion(arrank_units *units, const char *from, const char *to,
                                       arrank_conversion *conv, arrank_error *err)
 {
     if (!units || !from || !to || !conv)
@@ -432,8 +435,8 @@ static int split_value(const char *text, double *value, const char **unit)
     return 0;
 }
 
-arrank_status arrank_units_parse_temperature(arrank_units *units, const char *text,
-                                             double *temp_K, arrank_error *err)
+static arrank_status units_parse_temperature(arrank_units *units, const char *text, double *temp_K,
+                                             arrank_error *err)
 {
     if (!units || !text || !temp_K)
         return arrank_errorf(err, ARRANK_EINVAL,
@@ -452,7 +455,7 @@ arrank_status arrank_units_parse_temperature(arrank_units *units, const char *te
                              "%sK (kelvin) or %sF (Fahrenheit)",
                              shown, shown, shown, shown);
     arrank_conversion c;
-    arrank_status st = arrank_units_temperature(units, unit, &c, err);
+    arrank_status st = units_temperature(units, unit, &c, err);
     if (st != ARRANK_OK)
         return st;
     double t = c.scale * v + c.offset;
@@ -463,9 +466,8 @@ arrank_status arrank_units_parse_temperature(arrank_units *units, const char *te
     return ARRANK_OK;
 }
 
-arrank_status arrank_units_parse_quantity(arrank_units *units, const char *text,
-                                          const char *si_unit, double *value_si,
-                                          arrank_error *err)
+static arrank_status units_parse_quantity(arrank_units *units, const char *text,
+                                          const char *si_unit, double *value_si, arrank_error *err)
 {
     if (!units || !text || !si_unit || !value_si)
         return arrank_errorf(err, ARRANK_EINVAL,
@@ -483,7 +485,7 @@ arrank_status arrank_units_parse_quantity(arrank_units *units, const char *text,
                              text, si_unit);
     }
     arrank_conversion c;
-    arrank_status st = arrank_units_conversion(units, unit, si_unit, &c, err);
+    arrank_status st = units_conversion(units, unit, si_unit, &c, err);
     if (st != ARRANK_OK)
         return st;
     double out = c.scale * v + c.offset;
@@ -491,4 +493,73 @@ arrank_status arrank_units_parse_quantity(arrank_units *units, const char *text,
         return arrank_errorf(err, ARRANK_EINVAL, "'%s' is out of range in '%s'", text, si_unit);
     *value_si = out;
     return ARRANK_OK;
+}
+
+/*
+ * The public calls: each holds one lock for the whole process.  udunits2's
+ * parser and XML reader keep global state, so two threads must never be
+ * inside it at once, even with separate unit systems.  Uncontended, the lock
+ * costs little beside a cache lookup.
+ */
+static pthread_mutex_t udunits_lock = PTHREAD_MUTEX_INITIALIZER;
+
+arrank_units *arrank_units_create(arrank_error *err)
+{
+    pthread_mutex_lock(&udunits_lock);
+    arrank_units *r = units_create(err);
+    pthread_mutex_unlock(&udunits_lock);
+    return r;
+}
+
+void arrank_units_free(arrank_units *units)
+{
+    pthread_mutex_lock(&udunits_lock);
+    units_free(units);
+    pthread_mutex_unlock(&udunits_lock);
+}
+
+arrank_status arrank_units_temperature(arrank_units *units, const char *unit,
+                                       arrank_conversion *to_K, arrank_error *err)
+{
+    pthread_mutex_lock(&udunits_lock);
+    arrank_status r = units_temperature(units, unit, to_K, err);
+    pthread_mutex_unlock(&udunits_lock);
+    return r;
+}
+
+arrank_status arrank_units_rate(arrank_units *units, const char *unit, arrank_basis *basis,
+                                arrank_conversion *to_si, arrank_error *err)
+{
+    pthread_mutex_lock(&udunits_lock);
+    arrank_status r = units_rate(units, unit, basis, to_si, err);
+    pthread_mutex_unlock(&udunits_lock);
+    return r;
+}
+
+arrank_status arrank_units_conversion(arrank_units *units, const char *from, const char *to,
+                                      arrank_conversion *conv, arrank_error *err)
+{
+    pthread_mutex_lock(&udunits_lock);
+    arrank_status r = units_conversion(units, from, to, conv, err);
+    pthread_mutex_unlock(&udunits_lock);
+    return r;
+}
+
+arrank_status arrank_units_parse_temperature(arrank_units *units, const char *text,
+                                             double *temp_K, arrank_error *err)
+{
+    pthread_mutex_lock(&udunits_lock);
+    arrank_status r = units_parse_temperature(units, text, temp_K, err);
+    pthread_mutex_unlock(&udunits_lock);
+    return r;
+}
+
+arrank_status arrank_units_parse_quantity(arrank_units *units, const char *text,
+                                          const char *si_unit, double *value_si,
+                                          arrank_error *err)
+{
+    pthread_mutex_lock(&udunits_lock);
+    arrank_status r = units_parse_quantity(units, text, si_unit, value_si, err);
+    pthread_mutex_unlock(&udunits_lock);
+    return r;
 }
