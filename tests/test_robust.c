@@ -458,7 +458,8 @@ static void record_progress(void *ctx, const char *stage, size_t done, size_t to
 static void progress_reported(void **state)
 {
     (void)state;
-    /* The demo campaign (campaigns/zeolite-ni-screen): one call per sample file. */
+    /* The demo campaign (campaigns/zeolite-ni-screen): the first file, then at
+       least once more, in order, ending at the number of files. */
     progress_log log = {0, 0, 0, 0, NULL};
     arrank_campaign *c = NULL;
     arrank_error err;
@@ -466,7 +467,7 @@ static void progress_reported(void **state)
     assert_int_equal(arrank_campaign_load_progress("campaigns/zeolite-ni-screen", units,
                                                    record_progress, &log, &c, &err),
                      ARRANK_OK);
-    assert_int_equal(log.calls, c->n_samples);
+    assert_true(log.calls >= 2 && log.calls <= c->n_samples);
     assert_int_equal(log.last_done, c->n_samples);
     assert_int_equal(log.last_total, c->n_samples);
     assert_true(c->n_samples >= 10);

@@ -35,6 +35,7 @@
 #include <fcntl.h>
 #include <math.h>
 #include <stdarg.h>
+#include <stdatomic.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -1691,6 +1692,127 @@ static arrank_status apply_ini_entries(ini_state *st, arrank_sample **index, siz
     return ARRANK_OK;
 }
 
+/* Read and parse one file of the folder into *sample. */
+static arrank_status load_one(const char *dir, int dirfd, const char *name, arrank_units *units,
+                              const char *report_unit, arrank_sample *sample, char **buf,
+                              size_t *cap, arrank_error *err)
+{
+    char *path = join_path(dir, name);
+    if (!path)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+    size_t len = 0;
+    arrank_status st = read_file(dirfd, name, path, buf, cap, &len, err);
+    if (st == ARRANK_OK)
+        st = sample_parse(path, *buf, len, units, report_unit, sample, 1, err);
+    free(path);
+    return st;
+}
+
+/*
+ * Files 1..n-1 on the workers (util.c).  Each takes the next CHUNK files from
+ * a shared counter and keeps its own read buffer; a sample depends only on
+ * its file and the report unit, so the result is the same for any number of
+ * workers.  The error reported is the one the serial reader would give: the
+ * failure with the lowest file index.  Once a file has failed no worker
+ * starts a chunk beyond it, and every chunk before it is still finished, so
+ * the lowest failure is always found.
+ */
+#define LOAD_CHUNK 16
+#define LOAD_MIN_PER_WORKER 64
+
+typedef struct {
+    const char *dir;
+    int dirfd;
+    char **names;
+    size_t n;
+    arrank_units *units;
+    arrank_campaign *c;
+    arrank_progress_fn progress;
+    void *progress_ctx;
+    atomic_size_t next, done, first_fail;
+    size_t reported; /* last count given to progress (worker 0 only) */
+    arrank_error fail_err[8]; /* per worker: its lowest failure */
+    size_t fail_at[8];
+} load_job;
+
+static void load_worker(void *ctx, size_t w)
+{
+    load_job *j = ctx;
+    char *buf = NULL;
+    size_t cap = 0;
+    j->fail_at[w] = SIZE_MAX;
+    for (;;) {
+        size_t start = atomic_fetch_add(&j->next, LOAD_CHUNK);
+        if (start >= j->n || start > atomic_load(&j->first_fail))
+            break;
+        size_t end = start + LOAD_CHUNK < j->n ? start + LOAD_CHUNK : j->n;
+        for (size_t i = start; i < end; i++) {
+            arrank_error e;
+            arrank_error_clear(&e);
+            arrank_status st = load_one(j->dir, j->dirfd, j->names[i], j->units, j->c->rate_unit,
+                                        &j->c->samples[i], &buf, &cap, &e);
+            if (st != ARRANK_OK) {
+                if (i < j->fail_at[w]) {
+                    j->fail_at[w] = i;
+                    j->fail_err[w] = e;
+                }
+                size_t seen = atomic_load(&j->first_fail);
+                while (i < seen && !atomic_compare_exchange_weak(&j->first_fail, &seen, i)) {
+                }
+                break; /* the rest of this chunk comes after the failure */
+            }
+        }
+        size_t done = atomic_fetch_add(&j->done, end - start) + (end - start);
+        if (w == 0 && j->progress) { /* progress from the calling thread only */
+            j->reported = done < j->n ? done : j->n;
+            j->progress(j->progress_ctx, "reading samples", j->reported, j->n);
+        }
+    }
+    free(buf);
+}
+
+static arrank_status load_rest(const char *dir, int dirfd, char **names, size_t n,
+                               arrank_units *units, arrank_campaign *c,
+                               arrank_progress_fn progress, void *progress_ctx,
+                               arrank_error *err)
+{
+    if (n <= 1)
+        return ARRANK_OK;
+    load_job *j = calloc(1, sizeof *j);
+    if (!j)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+    j->dir = dir;
+    j->dirfd = dirfd;
+    j->names = names;
+    j->n = n;
+    j->units = units;
+    j->c = c;
+    j->progress = progress;
+    j->progress_ctx = progress_ctx;
+    atomic_init(&j->next, 1);
+    atomic_init(&j->done, 1);
+    atomic_init(&j->first_fail, SIZE_MAX);
+    size_t workers = arrank_workers_for(n - 1, LOAD_MIN_PER_WORKER);
+    if (workers > sizeof j->fail_at / sizeof *j->fail_at)
+        workers = sizeof j->fail_at / sizeof *j->fail_at;
+    arrank_workers_run(workers, load_worker, j);
+    size_t worst = SIZE_MAX, who = 0;
+    for (size_t w = 0; w < workers; w++)
+        if (j->fail_at[w] < worst) {
+            worst = j->fail_at[w];
+            who = w;
+        }
+    arrank_status st = ARRANK_OK;
+    if (worst != SIZE_MAX) {
+        *err = j->fail_err[who];
+        st = err->status;
+    } else if (progress && j->reported < n) {
+        progress(progress_ctx, "reading samples", n, n);
+    }
+    free(j);
+    return st;
+}
+
 arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_campaign **out,
                                    arrank_error *err)
 {
@@ -1760,31 +1882,27 @@ arrank_status arrank_campaign_load_progress(const char *dir, arrank_units *units
     c->samples = calloc(n_names, sizeof *c->samples);
     if (!c->samples)
         goto nomem;
-    for (size_t i = 0; i < n_names; i++) {
-        char *path = join_path(dir, names[i]);
-        if (!path)
+    /* The first sample (in name order) sets the report unit the others are
+       converted to; then the rest are read by the workers. */
+    st = load_one(dir, dirfd, names[0], units, c->rate_unit, &c->samples[0], &buf, &cap, err);
+    if (st != ARRANK_OK)
+        goto fail;
+    c->n_samples = 1;
+    if (!c->rate_unit) { /* campaign.ini may have set it */
+        char spelled[UNIT_MAX];
+        const char *u = c->samples[0].rate_unit_file;
+        if (arrank_units_spelling(u, spelled, sizeof spelled) != 0)
+            snprintf(spelled, sizeof spelled, "%s", u);
+        if (!(c->rate_unit = strdup(spelled)))
             goto nomem;
-        size_t len = 0;
-        st = read_file(dirfd, names[i], path, &buf, &cap, &len, err);
-        if (st == ARRANK_OK)
-            st = sample_parse(path, buf, len, units, c->rate_unit, &c->samples[i], 1, err);
-        free(path);
-        if (st != ARRANK_OK)
-            goto fail;
-        c->n_samples++;
-        if (progress)
-            progress(progress_ctx, "reading samples", c->n_samples, n_names);
-        if (!c->rate_unit) {
-            /* The first sample (in name order) sets the report unit. */
-            char spelled[UNIT_MAX];
-            const char *u = c->samples[i].rate_unit_file;
-            if (arrank_units_spelling(u, spelled, sizeof spelled) != 0)
-                snprintf(spelled, sizeof spelled, "%s", u);
-            if (!(c->rate_unit = strdup(spelled)))
-                goto nomem;
-            c->basis = c->samples[i].basis;
-        }
+        c->basis = c->samples[0].basis;
     }
+    if (progress)
+        progress(progress_ctx, "reading samples", 1, n_names);
+    st = load_rest(dir, dirfd, names, n_names, units, c, progress, progress_ctx, err);
+    c->n_samples = n_names; /* the rest are parsed or zeroed: both free cleanly */
+    if (st != ARRANK_OK)
+        goto fail;
     /* Sample ids must be unique: sort an index rather than compare all pairs. */
     index = malloc(c->n_samples * sizeof *index);
     if (!index)

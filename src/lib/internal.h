@@ -26,6 +26,23 @@ size_t arrank_result_used_points(const arrank_result *res, double *temp_K, doubl
    is impossible sets res->error; only ENOMEM is returned as a failure. */
 arrank_status arrank_result_refit(arrank_result *res, arrank_error *err);
 
+/* ---- util.c: worker threads ---- */
+
+/* How many workers to use for `items` independent pieces of work: the online
+   CPUs (or the environment variable ARRANK_THREADS, a positive integer),
+   at most 8, and at most one per min_items_per_worker items; at least 1. */
+size_t arrank_workers_for(size_t items, size_t min_items_per_worker);
+
+/* Tests: use n workers wherever there are n items (0: back to the default).
+   Results never depend on the number of workers; this lets tests prove it. */
+void arrank_workers_force(int n);
+
+/* Run fn(ctx, w) for w = 0..n-1, w = 0 on the calling thread and the others on
+   new threads, and return when all have finished.  A thread that cannot be
+   started runs its share on the calling thread afterwards, so fn must take
+   its work from a shared queue (an atomic counter), not a fixed slice. */
+void arrank_workers_run(size_t n, void (*fn)(void *ctx, size_t worker), void *ctx);
+
 /* ---- campaign.c: test switch for the reader ---- */
 
 /* 1 (the default): data lines without a quote character are split directly
