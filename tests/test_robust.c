@@ -482,8 +482,9 @@ static void progress_reported(void **state)
     o.progress_ctx = &fits;
     arrank_analysis *a = NULL;
     assert_int_equal(arrank_analysis_run(c, &o, &a, &err), ARRANK_OK);
-    /* one call per sample while fitting, one when ranking starts */
-    assert_int_equal(fits.calls, c->n_samples + 1);
+    /* at least one call while fitting (a few samples at a time), at most one
+       per sample, and one when ranking starts */
+    assert_true(fits.calls >= 2 && fits.calls <= c->n_samples + 1);
     assert_string_equal(fits.stage, "ranking samples");
     assert_int_equal(fits.out_of_order, 0);
     assert_null(a->options.progress);

@@ -80,6 +80,9 @@ typedef struct {
     size_t pairs;             /* samples in the pairwise matrix, default 20 */
     size_t bootstrap;         /* bootstrap resamples for rate at T; 0 = off */
     int normal_draws;         /* 1: draw from the normal instead of the t distribution */
+    /* unit database for metadata quantities (the transport criteria), borrowed;
+       NULL (default): the analysis loads its own once when it diagnoses */
+    arrank_units *units;
     /* progress of the per-sample fits (campaign.h); NULL (default): none */
     arrank_progress_fn progress;
     void *progress_ctx;

@@ -9,6 +9,8 @@
 #include "arrank/analysis.h"
 
 #include <math.h>
+#include <stdatomic.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -169,6 +171,137 @@ static int compare_rank(const void *a, const void *b)
     return strcmp(ra->sample->id, rb->sample->id);
 }
 
+/* Everything that happens to one sample: refit, diagnose, models, flags,
+   prediction.  Reads only its own sample and the campaign; writes only its
+   own result.  A failure other than the sample's own is returned (ENOMEM). */
+static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
+                                 const arrank_campaign *campaign, const arrank_options *opt,
+                                 const arrank_campaign_basis *bases, double rate_to_per_s,
+                                 arrank_error *err)
+{
+    res->sample = s;
+    res->used = malloc(s->n_points ? s->n_points : 1);
+    if (!res->used)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    memset(res->used, 1, s->n_points);
+    res->n_used = s->n_points;
+    if (s->problem) {
+        set_result_error(res, s->problem, s->problem_line);
+        return ARRANK_OK;
+    }
+    arrank_status st = arrank_result_refit(res, err);
+    if (st != ARRANK_OK || res->error)
+        return st;
+    if (opt->diagnose) {
+        st = arrank_diagnose_result_basis(res, campaign, opt, bases, err);
+        if (st != ARRANK_OK || res->error)
+            return st;
+    }
+    /* rank.h: --errors absolute refits in rate space; --model adds its fit */
+    st = arrank_models_apply(res, opt, rate_to_per_s, err);
+    if (st != ARRANK_OK || res->error)
+        return st;
+    basic_flags(res);
+    if (isfinite(opt->operating_temp_K)) {
+        st = arrank_fit_predict(&res->fit, opt->operating_temp_K, opt->confidence, &res->at_T,
+                                err);
+        if (st == ARRANK_OK) /* rank.h: the model's prediction when one was fitted */
+            st = arrank_models_predict(res, opt, err);
+        if (st != ARRANK_OK)
+            return st;
+        res->has_prediction = 1;
+        if (res->at_T.extrapolated)
+            res->flags |= ARRANK_FLAG_EXTRAPOLATED;
+    }
+    return ARRANK_OK;
+}
+
+/*
+ * The samples on the workers (util.c), ANALYSE_CHUNK at a time from a shared
+ * counter.  Samples are independent, so the results are the same for any
+ * number of workers; a failure (out of memory) reported is the one with the
+ * lowest sample index, as a loop in order would report it.
+ */
+#define ANALYSE_CHUNK 8
+#define ANALYSE_MIN_PER_WORKER 32
+#define ANALYSE_MAX_WORKERS 8
+
+typedef struct {
+    arrank_analysis *a;
+    const arrank_options *opt;
+    const arrank_campaign_basis *bases;
+    double rate_to_per_s;
+    atomic_size_t next, done, first_fail;
+    size_t fail_at[ANALYSE_MAX_WORKERS];
+    arrank_error fail_err[ANALYSE_MAX_WORKERS];
+} analyse_job;
+
+static void analyse_worker(void *ctx, size_t w)
+{
+    analyse_job *j = ctx;
+    const size_t n = j->a->n_results;
+    j->fail_at[w] = SIZE_MAX;
+    for (;;) {
+        size_t start = atomic_fetch_add(&j->next, ANALYSE_CHUNK);
+        if (start >= n || start > atomic_load(&j->first_fail))
+            break;
+        size_t end = start + ANALYSE_CHUNK < n ? start + ANALYSE_CHUNK : n;
+        for (size_t i = start; i < end; i++) {
+            arrank_error e;
+            arrank_error_clear(&e);
+            arrank_status st = analyse_one(&j->a->results[i], &j->a->campaign->samples[i],
+                                           j->a->campaign, j->opt, j->bases, j->rate_to_per_s,
+                                           &e);
+            if (st != ARRANK_OK) {
+                if (i < j->fail_at[w]) {
+                    j->fail_at[w] = i;
+                    j->fail_err[w] = e;
+                }
+                size_t seen = atomic_load(&j->first_fail);
+                while (i < seen && !atomic_compare_exchange_weak(&j->first_fail, &seen, i)) {
+                }
+                break;
+            }
+        }
+        size_t done = atomic_fetch_add(&j->done, end - start) + (end - start);
+        if (w == 0 && j->opt->progress) /* progress from the calling thread only */
+            j->opt->progress(j->opt->progress_ctx, "fitting samples", done < n ? done : n, n);
+    }
+}
+
+static arrank_status analyse_all(arrank_analysis *a, const arrank_options *opt,
+                                 const arrank_campaign_basis *bases, double rate_to_per_s,
+                                 arrank_error *err)
+{
+    analyse_job *j = calloc(1, sizeof *j);
+    if (!j)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    j->a = a;
+    j->opt = opt;
+    j->bases = bases;
+    j->rate_to_per_s = rate_to_per_s;
+    atomic_init(&j->next, 0);
+    atomic_init(&j->done, 0);
+    atomic_init(&j->first_fail, SIZE_MAX);
+    size_t workers = arrank_workers_for(a->n_results, ANALYSE_MIN_PER_WORKER);
+    if (workers > ANALYSE_MAX_WORKERS)
+        workers = ANALYSE_MAX_WORKERS;
+    arrank_workers_run(workers, analyse_worker, j);
+    size_t worst = SIZE_MAX, who = 0;
+    for (size_t w = 0; w < workers; w++)
+        if (j->fail_at[w] < worst) {
+            worst = j->fail_at[w];
+            who = w;
+        }
+    arrank_status st = ARRANK_OK;
+    if (worst != SIZE_MAX) {
+        *err = j->fail_err[who];
+        st = err->status;
+    }
+    free(j);
+    return st;
+}
+
 arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_options *options,
                                   arrank_analysis **out, arrank_error *err)
 {
@@ -205,54 +338,18 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
     st = arrank_models_prepare(campaign, &opt, &rate_to_per_s, err);
     if (st != ARRANK_OK)
         goto fail;
-    for (size_t i = 0; i < a->n_results; i++) {
-        arrank_result *res = &a->results[i];
-        const arrank_sample *s = &campaign->samples[i];
-        res->sample = s;
-        res->used = malloc(s->n_points ? s->n_points : 1);
-        if (!res->used) {
-            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-            goto fail;
-        }
-        memset(res->used, 1, s->n_points);
-        res->n_used = s->n_points;
-        if (opt.progress)
-            opt.progress(opt.progress_ctx, "fitting samples", i, a->n_results);
-        if (s->problem) {
-            set_result_error(res, s->problem, s->problem_line);
-            continue;
-        }
-        st = arrank_result_refit(res, err);
-        if (st != ARRANK_OK)
-            goto fail;
-        if (res->error)
-            continue;
-        if (opt.diagnose) {
-            st = arrank_diagnose_result_basis(res, campaign, &opt, &bases, err);
-            if (st != ARRANK_OK)
-                goto fail;
-            if (res->error)
-                continue;
-        }
-        /* rank.h: --errors absolute refits in rate space; --model adds its fit */
-        st = arrank_models_apply(res, &opt, rate_to_per_s, err);
-        if (st != ARRANK_OK)
-            goto fail;
-        if (res->error)
-            continue;
-        basic_flags(res);
-        if (want_T) {
-            st = arrank_fit_predict(&res->fit, opt.operating_temp_K, opt.confidence, &res->at_T,
-                                    err);
-            if (st == ARRANK_OK) /* rank.h: the model's prediction when one was fitted */
-                st = arrank_models_predict(res, &opt, err);
-            if (st != ARRANK_OK)
-                goto fail;
-            res->has_prediction = 1;
-            if (res->at_T.extrapolated)
-                res->flags |= ARRANK_FLAG_EXTRAPOLATED;
-        }
+    arrank_units *own_units = NULL;
+    if (opt.diagnose && !opt.units) { /* one database for every sample's criteria */
+        arrank_error ue;
+        arrank_error_clear(&ue);
+        own_units = arrank_units_create(&ue); /* NULL: diagnose notes why per sample */
+        opt.units = own_units;
     }
+    st = analyse_all(a, &opt, &bases, rate_to_per_s, err);
+    arrank_units_free(own_units);
+    opt.units = NULL;
+    if (st != ARRANK_OK)
+        goto fail;
 
     /* With nothing fitted there is nothing to show: report the first reason. */
     size_t n_fitted = 0;

@@ -1168,7 +1168,7 @@ static const char *wp_source(double order, int have, double *limit)
     return "general rule, Vannice, Kinetics of Catalytic Reactions (2005)";
 }
 
-static void criteria(work *wk, const arrank_campaign *c)
+static void criteria(work *wk, const arrank_campaign *c, arrank_units *shared)
 {
     arrank_diagnosis *d = wk->d;
     static const char *keys[] = {"particle_diameter", "particle_radius", "pellet_density",
@@ -1184,8 +1184,8 @@ static void criteria(work *wk, const arrank_campaign *c)
         return;
     arrank_error e;
     arrank_error_clear(&e);
-    /* udunits is loaded only for samples that carry particle data */
-    arrank_units *u = arrank_units_create(&e);
+    /* the caller's unit database, or one loaded for this sample */
+    arrank_units *u = shared ? shared : arrank_units_create(&e);
     if (!u) {
         note(wk, "transport criteria skipped: %s", e.message);
         return;
@@ -1217,7 +1217,8 @@ static void criteria(work *wk, const arrank_campaign *c)
     if (unit && arrank_units_rate(u, unit, &basis, &to_si, &e) == ARRANK_OK &&
         basis == ARRANK_BASIS_MASS)
         r_mass = to_si.scale * wk->pt[hot].rate + to_si.offset;
-    arrank_units_free(u);
+    if (u != shared)
+        arrank_units_free(u);
 
     double rho = isfinite(in.rho_p) ? in.rho_p : in.rho_bed;
     double r_v = r_mass * rho; /* mol/(m3 s) per particle (or bed) volume */
@@ -1914,7 +1915,7 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
     }
 
     /* 8. transport criteria, mixed basis */
-    criteria(&wk, c);
+    criteria(&wk, c, opt->units);
     char why[512];
     int mixed;
     if (opt_basis && opt_basis->known)
