@@ -104,10 +104,12 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
     if (!args->confidence_given && isfinite(s->campaign->confidence))
         args->options.confidence = s->campaign->confidence;
 
+    args->options.units = s->units;
     args->options.progress = ps ? show_progress : NULL;
     args->options.progress_ctx = ps;
     st = arrank_analysis_run(s->campaign, &args->options, &s->analysis, &err);
     end_progress(ps);
+    args->options.units = NULL;
     args->options.progress = NULL;
     args->options.progress_ctx = NULL;
     if (st != ARRANK_OK) {

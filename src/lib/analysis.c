@@ -319,6 +319,7 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
     a->options = opt;
     /* The callback serves this call only; the stored options must not point at it. */
     a->options.progress = NULL;
+    a->options.units = NULL;
     a->options.progress_ctx = NULL;
     a->n_results = campaign->n_samples;
     a->results = calloc(a->n_results ? a->n_results : 1, sizeof *a->results);
