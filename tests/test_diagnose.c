@@ -842,6 +842,293 @@ static void test_json_shape(void **state)
     one_free(&o);
 }
 
+/* ---- the series profile against the general engine ------------------------------ */
+
+/*
+ * diagnose.c profiles the series-resistance model over ln k_t with its own
+ * 2x2 solver; before, each grid point was a full arrank_nlfit_run.  The old
+ * way is kept behind a test switch (arrank_diagnose_series_reference,
+ * src/lib/internal.h), and here both run on the same data and must report
+ * the same series Ea, its standard error, ln k_t, rss_series, F, p and AICc
+ * to a relative 1e-6 (a claim about the optimum found, not about rounding:
+ * most differences seen are below 1e-8; the largest, 3e-7 in ln k_t, comes
+ * from the three-parameter fit stopping along a flat valley, with residual
+ * sums equal to 1e-14), with the full
+ * three-parameter fit (which gives the reported numbers) and without it
+ * (arrank_diagnose_series_full_fit(0): the profile's best grid point is
+ * reported, as when that fit fails).  A set that differs fails with both
+ * residual sums in the message, so the better optimum can be seen.
+ */
+#define PROFILE_REL_TOL 1e-6
+
+typedef struct {
+    size_t compared;     /* samples with a series profile */
+    size_t bits_differ;  /* ... whose numbers differ in some bit between the two ways */
+    double worst[7];     /* worst relative difference per field */
+} profile_tally;
+
+static const char *const profile_fields[7] = {"series Ea", "its se", "ln k_t", "rss_series",
+                                              "F",         "p",      "AICc"};
+
+/* |a - b| / max(|a|, |b|); 0 for two NANs or two equal values (infinities too). */
+static double rel_diff(double a, double b)
+{
+    if ((isnan(a) && isnan(b)) || a == b)
+        return 0.0;
+    if (isnan(a) || isnan(b))
+        return INFINITY;
+    return fabs(a - b) / fmax(fabs(a), fabs(b));
+}
+
+static void same_series(const arrank_curvature *fast, const arrank_curvature *ref,
+                        const char *where, profile_tally *t)
+{
+    if (fast->series_fitted != ref->series_fitted)
+        fail_msg("%s: series_fitted %d with the 2x2 solver, %d with the reference", where,
+                 fast->series_fitted, ref->series_fitted);
+    if (isnan(fast->rss_series) && isnan(ref->rss_series))
+        return; /* no profile: the plot does not bend down */
+    const double v[7][2] = {{fast->series_ea_J_mol, ref->series_ea_J_mol},
+                            {fast->series_ea_se_J_mol, ref->series_ea_se_J_mol},
+                            {fast->series_ln_kt, ref->series_ln_kt},
+                            {fast->rss_series, ref->rss_series},
+                            {fast->series_F, ref->series_F},
+                            {fast->series_p, ref->series_p},
+                            {fast->aicc_series, ref->aicc_series}};
+    int differ = 0;
+    for (size_t k = 0; k < 7; k++) {
+        const double d = rel_diff(v[k][0], v[k][1]);
+        if (!(d <= PROFILE_REL_TOL))
+            fail_msg("%s: %s %.17g with the 2x2 solver, %.17g with the reference (relative "
+                     "%.3g > %g); rss_series %.17g and %.17g",
+                     where, profile_fields[k], v[k][0], v[k][1], d, PROFILE_REL_TOL,
+                     fast->rss_series, ref->rss_series);
+        t->worst[k] = fmax(t->worst[k], d);
+        differ |= memcmp(&v[k][0], &v[k][1], sizeof(double)) != 0;
+    }
+    t->compared++;
+    t->bits_differ += differ;
+}
+
+/* Analyse c with each profile, with the full fit on or off, and compare
+   every sample. */
+static void both_profiles(const arrank_campaign *c, int full_fit, const char *label,
+                          profile_tally *t)
+{
+    arrank_options opt = arrank_options_defaults();
+    arrank_diagnose_series_full_fit(full_fit);
+    arrank_diagnose_series_reference(0);
+    arrank_analysis *fast = analyse(c, &opt);
+    arrank_diagnose_series_reference(1);
+    arrank_analysis *ref = analyse(c, &opt);
+    arrank_diagnose_series_reference(0);
+    arrank_diagnose_series_full_fit(1);
+    assert_int_equal(fast->n_results, ref->n_results);
+    for (size_t i = 0; i < fast->n_results; i++) {
+        const arrank_result *a = &fast->results[i], *b = &ref->results[i];
+        char where[160];
+        snprintf(where, sizeof where, "%s, sample '%s', full fit %s", label, a->sample->id,
+                 full_fit ? "on" : "off");
+        if (a->flags != b->flags)
+            fail_msg("%s: flags %#lx with the 2x2 solver, %#lx with the reference", where,
+                     (unsigned long)a->flags, (unsigned long)b->flags);
+        assert_true((a->diagnosis == NULL) == (b->diagnosis == NULL));
+        if (a->diagnosis)
+            same_series(&a->diagnosis->curvature, &b->diagnosis->curvature, where, t);
+    }
+    arrank_analysis_free(fast);
+    arrank_analysis_free(ref);
+}
+
+static void print_tally(const char *label, size_t sets, const profile_tally *t)
+{
+    printf("# %s: %zu of %zu with a series profile (%zu differ in some bit); worst relative "
+           "difference:",
+           label, t->compared, sets, t->bits_differ);
+    for (size_t k = 0; k < 7; k++)
+        printf(" %s %.2g%s", profile_fields[k], t->worst[k], k < 6 ? "," : "\n");
+}
+
+/* The demo's pore-limited extrudate (and every other demo sample). */
+static void test_series_profile_demo(void **state)
+{
+    (void)state;
+    arrank_campaign *c = NULL;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_load("campaigns/zeolite-ni-screen", units, &c, &err),
+                     ARRANK_OK);
+    for (int full_fit = 1; full_fit >= 0; full_fit--) {
+        profile_tally t = {0};
+        both_profiles(c, full_fit, "demo", &t);
+        print_tally(full_fit ? "demo, full fit" : "demo, profile only", c->n_samples, &t);
+        assert_true(t.compared >= 1);
+    }
+    /* ZN-12 is the sample whose plot bends: it must have been profiled */
+    arrank_options opt = arrank_options_defaults();
+    arrank_analysis *a = analyse(c, &opt);
+    int zn12 = 0;
+    for (size_t i = 0; i < a->n_results; i++)
+        if (strncmp(a->results[i].sample->id, "ZN-12", 5) == 0) {
+            assert_non_null(a->results[i].diagnosis);
+            assert_true(a->results[i].diagnosis->curvature.series_fitted);
+            zn12 = 1;
+        }
+    assert_true(zn12);
+    arrank_analysis_free(a);
+    arrank_campaign_free(c);
+}
+
+/* Simulated bent data sets: film control (a transport conductance
+   k_t (T/T_x)^m in series with the kinetics, crossing it at T_x) or pore
+   diffusion in a sphere (Thiele modulus phi_hot at the hottest point), with
+   lognormal scatter; with rate_sd, each point's sd is its own scatter. */
+typedef enum { SIM_FILM, SIM_PORE } sim_kind;
+
+typedef struct {
+    const char *id;
+    sim_kind kind;
+    size_t n_lo, n_hi;         /* points per set, drawn uniformly */
+    double sigma_lo, sigma_hi; /* scatter of ln r, drawn uniformly per set */
+    int with_sd;               /* every point carries rate_sd: weighted fits */
+    size_t sets;
+    unsigned long seed;
+    size_t min_compared; /* sets that must bend down enough to be profiled */
+} profile_case;
+
+static const profile_case profile_cases[] = {
+    {"film, unweighted", SIM_FILM, 6, 20, 0.004, 0.045, 0, 70, 914271, 50},
+    {"film, rate_sd", SIM_FILM, 6, 20, 0.004, 0.045, 1, 70, 3318807, 50},
+    {"pore, unweighted", SIM_PORE, 6, 20, 0.004, 0.045, 0, 70, 5550143, 50},
+    {"pore, rate_sd", SIM_PORE, 6, 20, 0.004, 0.045, 1, 70, 7071937, 50},
+    {"film, 6-8 points, low scatter", SIM_FILM, 6, 8, 0.0007, 0.008, 0, 40, 260417, 25},
+    {"pore, 16-20 points, high scatter", SIM_PORE, 16, 20, 0.03, 0.08, 1, 40, 1190623, 25},
+};
+
+static void simulate_bent(const profile_case *pc, gsl_rng *rng, data *dt, double *sd)
+{
+    const size_t n = pc->n_lo + gsl_rng_uniform_int(rng, pc->n_hi - pc->n_lo + 1);
+    const double lo_K = 430.0 + 70.0 * gsl_rng_uniform(rng);
+    const double span_K = 90.0 + 110.0 * gsl_rng_uniform(rng);
+    const double ea = 60000.0 + 90000.0 * gsl_rng_uniform(rng);
+    const double sigma = pc->sigma_lo + (pc->sigma_hi - pc->sigma_lo) * gsl_rng_uniform(rng);
+    memset(dt, 0, sizeof *dt);
+    temps(dt, n, lo_K, lo_K + span_K);
+    /* +/- 0.8 K off the set points: apart by more than SAME_TEMP_K still */
+    for (size_t i = 0; i < n; i++)
+        dt->T_K[i] += 1.6 * (gsl_rng_uniform(rng) - 0.5);
+    if (pc->kind == SIM_PORE) {
+        const double phi_hot = pow(10.0, 0.4 + 1.1 * gsl_rng_uniform(rng));
+        pore_data(dt, ea, phi_hot, dt->T_K[n - 1], 0.0, NULL);
+    } else {
+        const double T_x = lo_K + span_K * (0.45 + 0.45 * gsl_rng_uniform(rng));
+        const double m = 0.5 + 1.25 * gsl_rng_uniform(rng);
+        const double T_mid = lo_K + 0.5 * span_K, kt_x = k_kin(T_x, ea, 1.7, T_mid);
+        for (size_t i = 0; i < n; i++) {
+            const double T = dt->T_K[i];
+            dt->rate[i] = 1.0 / (1.0 / k_kin(T, ea, 1.7, T_mid) + 1.0 / (kt_x * pow(T / T_x, m)));
+        }
+    }
+    for (size_t i = 0; i < n; i++) {
+        const double s = pc->with_sd ? sigma * (0.5 + gsl_rng_uniform(rng)) : sigma;
+        dt->rate[i] *= exp(gsl_ran_gaussian(rng, s));
+        sd[i] = pc->with_sd ? s * dt->rate[i] : NAN;
+    }
+}
+
+static void test_series_profile_simulated(void **state)
+{
+    (void)state;
+    size_t total = 0, bits_differ = 0;
+    for (size_t ci = 0; ci < sizeof profile_cases / sizeof profile_cases[0]; ci++) {
+        const profile_case *pc = &profile_cases[ci];
+        gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+        assert_non_null(rng);
+        gsl_rng_set(rng, pc->seed);
+        profile_tally full = {0}, grid = {0};
+        for (size_t k = 0; k < pc->sets; k++) {
+            data dt;
+            double sd[64];
+            simulate_bent(pc, rng, &dt, sd);
+            const data *dts[1] = {&dt};
+            const char *ids[1] = {"Merlin-3"};
+            const char *ru[1] = {"umol/(g*s)"};
+            arrank_campaign *c = campaign_of(1, dts, ids, ru);
+            for (size_t i = 0; pc->with_sd && i < dt.n; i++)
+                c->samples[0].points[i].rate_sd = sd[i];
+            char label[96];
+            snprintf(label, sizeof label, "%s, set %zu (seed %lu)", pc->id, k, pc->seed);
+            both_profiles(c, 1, label, &full);
+            both_profiles(c, 0, label, &grid);
+            arrank_campaign_free(c);
+        }
+        gsl_rng_free(rng);
+        char label[96];
+        snprintf(label, sizeof label, "%s, full fit", pc->id);
+        print_tally(label, pc->sets, &full);
+        snprintf(label, sizeof label, "%s, profile only", pc->id);
+        print_tally(label, pc->sets, &grid);
+        assert_true(full.compared >= pc->min_compared);
+        assert_int_equal(full.compared, grid.compared);
+        total += full.compared;
+        bits_differ += full.bits_differ + grid.bits_differ;
+    }
+    /* the switch really changes the path: the two solvers do not agree to the bit */
+    assert_true(bits_differ > 0);
+    printf("# %zu simulated sets compared\n", total);
+}
+
+/* One large sample (1,500 points, a logging rig's record) through both
+   profiles: the 2x2 solver's scratch grows with the sample. */
+static void test_series_profile_large(void **state)
+{
+    (void)state;
+    const size_t n = 1500;
+    const double ea = 97300.0, lo_K = 455.0, hi_K = 615.0, T_x = 575.0;
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    assert_non_null(rng);
+    gsl_rng_set(rng, 4407713);
+    size_t cap = 128 + n * 64;
+    char *text = malloc(cap);
+    assert_non_null(text);
+    size_t len = (size_t)snprintf(text, cap, "# sample = Harrier-9\n"
+                                             "T [K], rate [umol/(g*s)], rate_sd [umol/(g*s)]\n");
+    const double kt_x = k_kin(T_x, ea, 0.93, 530.0);
+    for (size_t i = 0; i < n; i++) {
+        const double T = lo_K + (hi_K - lo_K) * (double)i / (double)(n - 1);
+        const double r = 1.0 / (1.0 / k_kin(T, ea, 0.93, 530.0) + 1.0 / (kt_x * pow(T / T_x, 0.8)));
+        const double s = 0.02 * (0.5 + gsl_rng_uniform(rng));
+        const double rm = r * exp(gsl_ran_gaussian(rng, s));
+        len += (size_t)snprintf(text + len, cap - len, "%.4f, %.10g, %.6g\n", T, rm, s * rm);
+    }
+    gsl_rng_free(rng);
+    arrank_campaign *c = calloc(1, sizeof *c);
+    assert_non_null(c);
+    c->path = xstrdup("memory");
+    c->name = xstrdup("memory");
+    c->title = xstrdup("memory");
+    c->operating_temp_K = NAN;
+    c->confidence = NAN;
+    c->samples = calloc(1, sizeof *c->samples);
+    assert_non_null(c->samples);
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_sample_parse("Harrier-9.csv", text, len, units, NULL, &c->samples[0],
+                                         &err),
+                     ARRANK_OK);
+    free(text);
+    c->n_samples = 1;
+    c->rate_unit = xstrdup("umol/(g*s)");
+    c->basis = c->samples[0].basis;
+    for (int full_fit = 1; full_fit >= 0; full_fit--) {
+        profile_tally t = {0};
+        both_profiles(c, full_fit, "1,500 points", &t);
+        print_tally(full_fit ? "1,500 points, full fit" : "1,500 points, profile only", 1, &t);
+        assert_int_equal(t.compared, 1);
+    }
+    arrank_campaign_free(c);
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
@@ -868,6 +1155,9 @@ int main(void)
         cmocka_unit_test(test_few_points),
         cmocka_unit_test(test_mixed_basis),
         cmocka_unit_test(test_json_shape),
+        cmocka_unit_test(test_series_profile_demo),
+        cmocka_unit_test(test_series_profile_simulated),
+        cmocka_unit_test(test_series_profile_large),
     };
     int rc = cmocka_run_group_tests_name("diagnose", tests, NULL, NULL);
     arrank_units_free(units);

@@ -101,4 +101,17 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
                                            const arrank_campaign_basis *opt_basis,
                                            arrank_error *err);
 
+/* ---- diagnose.c: test switches for the series-resistance model ---- */
+
+/* 0 (the default): the profile over ln k_t fits b0, b1 at each grid point
+   with diagnose.c's own 2x2 solver; 1: with arrank_nlfit_run, as before that
+   solver, to compare the two.  For tests only; not thread-safe. */
+void arrank_diagnose_series_reference(int on);
+
+/* 1 (the default): the profile's best point starts the full three-parameter
+   fit, which gives the reported numbers; 0: the fit is skipped and the
+   profile's best point is reported, as when that fit fails, so that a test
+   sees the profile itself.  For tests only; not thread-safe. */
+void arrank_diagnose_series_full_fit(int on);
+
 #endif
