@@ -743,11 +743,12 @@ static void on_row(int c, void *user)
 }
 
 /*
- * Lines without a quote character skip libcsv (its per-character state
+ * Lines without a quote character, the header included, skip libcsv (its
+ * per-character state
  * machine and callbacks were a third of the time spent reading a large
  * campaign) and are split here with libcsv's own rules for unquoted text, so
  * that the fields, rows, messages and columns are the same either way
- * (tests/test_robust.c reads every corpus and bad file both ways and
+ * (tests/test_reader_paths.c reads every corpus and bad file both ways and
  * compares): blanks (space, and tab unless tab is the delimiter) before a
  * field are skipped and after its text dropped; a delimiter ends a field; a
  * line of blanks only is no row; a row's end after a delimiter gives one more
@@ -1048,7 +1049,7 @@ static arrank_status parse_sample(parser *p, const char *data, size_t len)
     p->in_header = 1;
     p->line--;
     long quote_line = 0; /* line where a quoted field still open began */
-    int csv_between_rows = 0; /* libcsv has no row open: a plain line may skip it */
+    int csv_between_rows = 1; /* libcsv has no row open: a plain line may skip it */
     while (s < end && p->status == ARRANK_OK) {
         size_t term;
         int quote;
@@ -1059,7 +1060,7 @@ static arrank_status parse_sample(parser *p, const char *data, size_t len)
                  ARRANK_CAMPAIGN_MAX_LINE_BYTES);
             break;
         }
-        if (plain_lines && csv_between_rows && !quote && !p->in_header) {
+        if (plain_lines && csv_between_rows && !quote) {
             split_plain_line(p, s, n);
             s += n + term;
             continue;
