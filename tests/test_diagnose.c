@@ -715,6 +715,29 @@ static void test_outlier(void **state)
     assert_int_equal(o.d->n_outliers, 1);
     assert_true(o.res->flags & ARRANK_FLAG_OUTLIER);
     assert_int_equal(o.res->n_used, 9);
+    /* Every studentized residual against its definition: the deleted residual
+       y_i - yhat_(i)(x_i) over its standard error sqrt(s_(i)^2 + se(yhat_(i))^2),
+       both from a fit without point i (Belsley, Kuh & Welsch, Regression
+       Diagnostics, 1980, sec. 2.1), here by the library's own Arrhenius fit. */
+    const arrank_point *pt = o.c->samples[0].points; /* as read back from the CSV text */
+    for (size_t i = 0; i < dt.n; i++) {
+        double t8[9], r8[9];
+        size_t m = 0;
+        for (size_t k = 0; k < dt.n; k++)
+            if (k != i) {
+                t8[m] = pt[k].temp_K;
+                r8[m++] = pt[k].rate;
+            }
+        arrank_arrhenius f;
+        arrank_prediction pr;
+        arrank_error e;
+        arrank_error_clear(&e);
+        assert_int_equal(arrank_fit_arrhenius(t8, r8, NULL, m, &f, &e), ARRANK_OK);
+        assert_int_equal(arrank_fit_predict(&f, pt[i].temp_K, 0.95, &pr, &e), ARRANK_OK);
+        const double want = (log(pt[i].rate) - pr.ln_rate) /
+                            sqrt(f.resid_sd * f.resid_sd + pr.ln_rate_se * pr.ln_rate_se);
+        assert_true(fabs(o.d->points[i].student_resid - want) <= 1e-10 * fabs(want) + 1e-12);
+    }
     one_free(&o);
 
     opt.drop_outliers = 1;
@@ -1129,6 +1152,133 @@ static void test_series_profile_large(void **state)
     arrank_campaign_free(c);
 }
 
+/* ---- straight lines in closed form against the general QR path ------------ */
+
+/*
+ * The diagnostics fit most of their straight lines (local windows, the
+ * kinetic window, outliers, the line on every point) in closed form
+ * (line_direct in diagnose.c); the general QR path they share with the
+ * quadratic test is kept behind arrank_diagnose_line_reference.  Both are
+ * exact least squares, so they may differ only by rounding: every number of
+ * the diagnosis must agree to relative 1e-8 and every string, flag and
+ * decision exactly, on bent and straight simulated sets with and without
+ * rate_sd.  The tolerance is ours: the worst seen, 5.9e-10, is the standard
+ * error of a three-point window lying almost on a line, whose residual sum is
+ * a small difference of rounded numbers in either path.
+ */
+typedef struct {
+    size_t numbers, bits_differ;
+    double worst;
+    char worst_at[160];
+} json_tally;
+
+static void same_json(const json_t *a, const json_t *b, const char *where, json_tally *t)
+{
+    if (json_typeof(a) != json_typeof(b) && !(json_is_number(a) && json_is_number(b)))
+        fail_msg("%s: JSON types differ", where);
+    if (json_is_number(a)) {
+        const double x = json_number_value(a), y = json_number_value(b);
+        t->numbers++;
+        if (memcmp(&x, &y, sizeof x) != 0)
+            t->bits_differ++;
+        const double d = fabs(x - y), scale = fmax(fabs(x), fabs(y));
+        if (d > 0 && d / scale > t->worst) {
+            t->worst = d / scale;
+            snprintf(t->worst_at, sizeof t->worst_at, "%s", where);
+        }
+        if (d > 1e-8 * scale)
+            fail_msg("%s: %.17g against %.17g", where, x, y);
+    } else if (json_is_string(a)) {
+        if (strcmp(json_string_value(a), json_string_value(b)) != 0)
+            fail_msg("%s: '%s' against '%s'", where, json_string_value(a), json_string_value(b));
+    } else if (json_is_array(a)) {
+        if (json_array_size(a) != json_array_size(b))
+            fail_msg("%s: arrays of %zu and %zu", where, json_array_size(a), json_array_size(b));
+        for (size_t i = 0; i < json_array_size(a); i++)
+            same_json(json_array_get(a, i), json_array_get(b, i), where, t);
+    } else if (json_is_object(a)) {
+        const char *key;
+        const json_t *va;
+        if (json_object_size(a) != json_object_size(b))
+            fail_msg("%s: objects of different sizes", where);
+        json_object_foreach((json_t *)a, key, va) {
+            const json_t *vb = json_object_get(b, key);
+            if (!vb)
+                fail_msg("%s: key '%s' missing", where, key);
+            char sub[160];
+            snprintf(sub, sizeof sub, "%.100s.%s", where, key);
+            same_json(va, vb, sub, t);
+        }
+    } else if (!json_equal((json_t *)a, (json_t *)b)) {
+        fail_msg("%s: values differ", where);
+    }
+}
+
+static json_t *diagnosis_with(const arrank_campaign *c, int reference, unsigned *flags)
+{
+    arrank_options o = arrank_options_defaults();
+    o.units = units;
+    arrank_diagnose_line_reference(reference);
+    arrank_analysis *a = analyse(c, &o);
+    arrank_diagnose_line_reference(0);
+    json_t *j = json_object();
+    assert_non_null(j);
+    json_object_set_new(j, "diagnosis", arrank_diagnosis_json(&a->results[0]));
+    json_object_set_new(j, "ea", json_real(a->results[0].fit.ea_J_mol));
+    json_object_set_new(j, "ln_A", json_real(a->results[0].fit.ln_A));
+    json_object_set_new(j, "n_used", json_integer((json_int_t)a->results[0].n_used));
+    *flags = a->results[0].flags;
+    arrank_analysis_free(a);
+    return j;
+}
+
+static void test_line_paths(void **state)
+{
+    (void)state;
+    json_tally t = {0, 0, 0.0, ""};
+    size_t sets = 0, curved = 0;
+    for (size_t ci = 0; ci < sizeof profile_cases / sizeof profile_cases[0]; ci++) {
+        const profile_case *pc = &profile_cases[ci];
+        gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+        assert_non_null(rng);
+        gsl_rng_set(rng, pc->seed + 17);
+        for (size_t k = 0; k < 40; k++) {
+            data dt;
+            double sd[64];
+            simulate_bent(pc, rng, &dt, sd);
+            if (k % 2) /* every other set straight: the same temperatures, no bend */
+                kinetic_data(&dt, 70000.0 + 1000.0 * (double)k, 0.03, rng);
+            const data *dts[1] = {&dt};
+            const char *ids[1] = {"Osprey-5"};
+            const char *ru[1] = {"umol/(g*s)"};
+            arrank_campaign *c = campaign_of(1, dts, ids, ru);
+            for (size_t i = 0; pc->with_sd && i < dt.n; i++)
+                c->samples[0].points[i].rate_sd = sd[i];
+            unsigned f_fast, f_ref;
+            json_t *fast = diagnosis_with(c, 0, &f_fast);
+            json_t *ref = diagnosis_with(c, 1, &f_ref);
+            char where[96];
+            snprintf(where, sizeof where, "%s, set %zu", pc->id, k);
+            if (f_fast != f_ref)
+                fail_msg("%s: flags %#x against %#x", where, f_fast, f_ref);
+            same_json(fast, ref, where, &t);
+            curved += (f_fast & ARRANK_FLAG_CURVED) != 0;
+            sets++;
+            json_decref(fast);
+            json_decref(ref);
+            arrank_campaign_free(c);
+        }
+        gsl_rng_free(rng);
+    }
+    printf("# %zu sets (%zu curved), %zu numbers compared, %zu differ in the last bits, "
+           "worst relative difference %.2g (%s)\n",
+           sets, curved, t.numbers, t.bits_differ, t.worst, t.worst_at);
+    assert_true(curved >= sets / 4);
+    assert_true(t.numbers > 100 * sets);
+    /* the switch really changes the path */
+    assert_true(t.bits_differ > 0);
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
@@ -1158,6 +1308,7 @@ int main(void)
         cmocka_unit_test(test_series_profile_demo),
         cmocka_unit_test(test_series_profile_simulated),
         cmocka_unit_test(test_series_profile_large),
+        cmocka_unit_test(test_line_paths),
     };
     int rc = cmocka_run_group_tests_name("diagnose", tests, NULL, NULL);
     arrank_units_free(units);

@@ -424,12 +424,80 @@ static int set_scale(const work *wk, const size_t *idx, size_t n, xscale *sc)
  * columns go to wk->lsq, 3 np doubles owned by the diagnosis.
  */
 #define LSQ_MAXP 3
+
+/* 0 (the default): straight lines by line_direct; 1: by the general
+   Gram-Schmidt path below (arrank_diagnose_line_reference, for tests). */
+static int line_reference = 0;
+
+void arrank_diagnose_line_reference(int on)
+{
+    line_reference = on;
+}
+
+/*
+ * The straight line (columns 1 and z) in closed form, for design_fit: with
+ * W = sum w, zbar = sum w z / W, Szz = sum w (z - zbar)^2 and
+ * Szy = sum w (z - zbar)(y - ybar), b1 = Szy / Szz, b0 = ybar - b1 zbar,
+ * var b1 = s^2 / Szz, var b0 = s^2 (1/W + zbar^2/Szz), cov = -s^2 zbar / Szz
+ * (the two-pass centred formulas; Bjorck 1996, sec. 2.4, from memory).  z is
+ * already centred and scaled on the same weights, so zbar is rounding-small
+ * and nothing cancels.  A column 2 whose centred norm sqrt(Szz) is below
+ * max(n, 2) eps sqrt(sum w z^2) is singular, the test the general path makes.
+ * Same contract as design_fit; about a fifth of its cost on 3-12 points, and
+ * most fits in a diagnosis are lines (local windows, kinetic window).
+ */
+static int line_direct(const work *wk, const size_t *idx, size_t n, const xscale *sc, double *b,
+                       double *cov, double *rss)
+{
+    double sw = 0, swz = 0, swy = 0, swzz = 0;
+    for (size_t k = 0; k < n; k++) {
+        const size_t i = idx[k];
+        const double z = (wk->x[i] - sc->xm) / sc->sx, w = wk->w[i], y = wk->y[i];
+        if (!isfinite(y) || !isfinite(w) || w < 0 || !isfinite(z))
+            return 0;
+        sw += w;
+        swz += w * z;
+        swy += w * y;
+        swzz += w * z * z;
+    }
+    if (!(sw > 0))
+        return 0;
+    const double zbar = swz / sw, ybar = swy / sw;
+    double szz = 0, szy = 0;
+    for (size_t k = 0; k < n; k++) {
+        const size_t i = idx[k];
+        const double u = (wk->x[i] - sc->xm) / sc->sx - zbar;
+        szz += wk->w[i] * u * u;
+        szy += wk->w[i] * u * (wk->y[i] - ybar);
+    }
+    const double tol = (double)(n > 2 ? n : 2) * DBL_EPSILON;
+    if (!(sqrt(szz) > tol * sqrt(swzz)))
+        return 0;
+    b[1] = szy / szz;
+    b[0] = ybar - b[1] * zbar;
+    double chi2 = 0;
+    for (size_t k = 0; k < n; k++) {
+        const size_t i = idx[k];
+        const double z = (wk->x[i] - sc->xm) / sc->sx;
+        const double e = wk->y[i] - (b[0] + b[1] * z);
+        chi2 += wk->w[i] * e * e;
+    }
+    const double s2 = chi2 / (double)(n - 2);
+    cov[0] = s2 * (1.0 / sw + zbar * zbar / szz);
+    cov[1] = cov[2] = -s2 * zbar / szz;
+    cov[3] = s2 / szz;
+    *rss = chi2;
+    return 2;
+}
+
 static int design_fit(work *wk, const size_t *idx, size_t n, const xscale *sc, int quad,
                       const double *extra, double *b, double *cov, double *rss)
 {
     const size_t p = 2 + (quad ? 1 : 0) + (extra ? 1 : 0);
     if (n <= p || p > LSQ_MAXP)
         return 0;
+    if (p == 2 && !line_reference)
+        return line_direct(wk, idx, n, sc, b, cov, rss);
     double *q[LSQ_MAXP] = {wk->lsq, wk->lsq + n, wk->lsq + 2 * n};
     for (size_t k = 0; k < n; k++) {
         const size_t i = idx[k];
@@ -1404,8 +1472,46 @@ done:
 /* Externally studentized residuals and Cook's distance about the weighted
    line over idx (Belsley, Kuh & Welsch 1980; Cook 1977; formulas for the
    weighted simple regression with leverage h = w/Sw + w (x - xm)^2 / Sxx). */
+/* At most this many points of a sample get an exact leave-one-out refit. */
+#define EXACT_REFITS 8
+
+/* RSS of the weighted line over idx[0..n) without idx[skip] (two-pass centred
+   sums, as in line_direct). */
+static double rss_without(const work *wk, const size_t *idx, size_t n, size_t skip)
+{
+    double sw = 0, swx = 0, swy = 0;
+    for (size_t k = 0; k < n; k++) {
+        if (k == skip)
+            continue;
+        const size_t i = idx[k];
+        sw += wk->w[i];
+        swx += wk->w[i] * wk->x[i];
+        swy += wk->w[i] * wk->y[i];
+    }
+    const double xbar = swx / sw, ybar = swy / sw;
+    double sxx = 0, sxy = 0;
+    for (size_t k = 0; k < n; k++) {
+        if (k == skip)
+            continue;
+        const size_t i = idx[k];
+        sxx += wk->w[i] * (wk->x[i] - xbar) * (wk->x[i] - xbar);
+        sxy += wk->w[i] * (wk->x[i] - xbar) * (wk->y[i] - ybar);
+    }
+    const double b1 = sxx > 0 ? sxy / sxx : 0.0;
+    double rss = 0;
+    for (size_t k = 0; k < n; k++) {
+        if (k == skip)
+            continue;
+        const size_t i = idx[k];
+        const double e = wk->y[i] - ybar - b1 * (wk->x[i] - xbar);
+        rss += wk->w[i] * e * e;
+    }
+    return rss;
+}
+
 static void find_outliers(work *wk, const size_t *idx, size_t n)
 {
+    size_t exact_used = 0;
     arrank_diagnosis *d = wk->d;
     line_fit lf;
     if (n < 4 || fit_line(wk, idx, n, &lf) != 0)
@@ -1429,7 +1535,13 @@ static void find_outliers(work *wk, const size_t *idx, size_t n)
         arrank_point_diag *pd = &d->points[i];
         if (!(h < 1.0))
             continue;
-        double s2i = (lf.rss - we2 / (1.0 - h)) / dof_ext;
+        /* The deletion formula (Belsley, Kuh & Welsch 1980) subtracts nearly equal
+           numbers when this point carries most of the RSS; then refit without it. */
+        double drop = we2 / (1.0 - h);
+        double s2i = (drop > 0.5 * lf.rss && exact_used < EXACT_REFITS
+                          ? (exact_used++, rss_without(wk, idx, n, k))
+                          : lf.rss - drop) /
+                     dof_ext;
         pd->student_resid = s2i > 0 ? e * sqrt(wi) / sqrt(s2i * (1.0 - h))
                                     : (e != 0 ? copysign(INFINITY, e) : 0.0);
         pd->cooks_d = lf.s2 > 0 ? we2 * h / (2.0 * lf.s2 * (1.0 - h) * (1.0 - h)) : NAN;

@@ -114,4 +114,9 @@ void arrank_diagnose_series_reference(int on);
    sees the profile itself.  For tests only; not thread-safe. */
 void arrank_diagnose_series_full_fit(int on);
 
+/* 0 (the default): the diagnostics fit straight lines in closed form; 1: by
+   the general QR path they share with the quadratic test.  For the test that
+   compares the two (tests/test_diagnose.c); not thread-safe. */
+void arrank_diagnose_line_reference(int on);
+
 #endif
