@@ -804,17 +804,13 @@ static void split_plain_line(parser *p, const char *s, size_t n)
 }
 
 /* line_length, also telling whether the line holds a quote character. */
+static size_t line_length(const char *s, const char *end, size_t *term);
+
 static size_t line_length_quote(const char *s, const char *end, size_t *term, int *quote)
 {
-    const char *q = s;
-    int seen = 0;
-    for (; q < end && *q != '\n' && *q != '\r'; q++)
-        seen |= *q == '"';
-    *quote = seen;
-    *term = 0;
-    if (q < end)
-        *term = (*q == '\r' && q + 1 < end && q[1] == '\n') ? 2 : 1;
-    return (size_t)(q - s);
+    size_t n = line_length(s, end, term);
+    *quote = n > 0 && memchr(s, '"', n) != NULL;
+    return n;
 }
 
 /* Delimiter of a header line: the most frequent of ',', ';', tab outside quotes. */
@@ -842,9 +838,11 @@ static char detect_delimiter(const char *line, size_t n)
 /* Length of the line at s (up to end), and of its terminator (0, 1 or 2). */
 static size_t line_length(const char *s, const char *end, size_t *term)
 {
-    const char *q = s;
-    while (q < end && *q != '\n' && *q != '\r')
-        q++;
+    /* memchr scans many bytes a step: a line ends at the first LF or CR */
+    const char *nl = memchr(s, '\n', (size_t)(end - s));
+    const char *stop = nl ? nl : end;
+    const char *cr = stop > s ? memchr(s, '\r', (size_t)(stop - s)) : NULL;
+    const char *q = cr ? cr : stop;
     *term = 0;
     if (q < end)
         *term = (*q == '\r' && q + 1 < end && q[1] == '\n') ? 2 : 1;
