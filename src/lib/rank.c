@@ -3,14 +3,22 @@
  * (arrank/rank.h).
  *
  * Every key the ranking uses (ln r at the operating temperature, -Ea, ln A)
- * is linear in a sample's fitted parameters, key = g'p.  Drawing p = p_hat +
- * s L z (L the Cholesky factor of the covariance, z standard normal, s = 1
- * for the normal or sqrt(nu/W), W ~ chi2(nu), for the multivariate t) and
- * forming g'p is the same as key = g'p_hat + s (L'g)'z, so each sample keeps
- * only its key, the vector a = L'g and its dof.  One pass over the draws, no
- * allocation inside it, two or three normal deviates and one chi-square per
- * sample per draw, on two threads (below).
+ * is linear in a sample's fitted parameters, key = g'p.  Under the normal
+ * model p ~ N(p_hat, C) the key is N(g'p_hat, g'Cg) (a linear form of a
+ * multivariate normal is normal, any multivariate statistics text, e.g.
+ * Anderson, An Introduction to Multivariate Statistical Analysis, 3rd ed.,
+ * 2003, Thm. 2.4.4); under the multivariate t with nu dof, location p_hat
+ * and scale C, it is g'p_hat + sqrt(g'Cg) T with T ~ t_nu (a linear form of
+ * a multivariate t is a univariate t with the same dof: Kotz & Nadarajah,
+ * Multivariate t Distributions, 2004, ch. 1).  So the Monte Carlo draws one
+ * scalar per sample and draw, exactly, whatever the number of parameters:
+ * each sample keeps only its key, the key's scale sqrt(g'Cg) and its dof.
+ * One pass over the draws, no allocation inside it, on two threads (below).
  */
+/* GSL's inline gsl_rng_uniform (GSL manual, "Inline functions"): the Monte
+   Carlo's inner loop calls it most, and this saves a call per uniform. */
+#define HAVE_INLINE 1
+
 #include "arrank/rank.h"
 
 #include <math.h>
@@ -31,11 +39,10 @@
 #include "arrank/units.h"
 #include "internal.h"
 
-/* One sample in the Monte Carlo: key = mean + s * sum_k a[k] z_k. */
+/* One sample in the Monte Carlo: key = mean + se T, T ~ t_dof or N(0, 1). */
 typedef struct {
     double mean;
-    double a[3];
-    size_t n_z;
+    double se;  /* sqrt(g'Cg) */
     double dof; /* INFINITY: normal */
 } key_draw;
 
@@ -62,7 +69,9 @@ static void cholesky_small(const double C[3][3], size_t p, double L[3][3])
     }
 }
 
-/* key_draw from parameters p[np], covariance C and key gradient g (a = L'g). */
+/* key_draw from parameters p[np], covariance C and key gradient g.  The scale
+   is |L'g| = sqrt(g'Cg) through the Cholesky factor, which stays real (and
+   exactly 0 for fixed parameters) where rounding makes C slightly indefinite. */
 static key_draw make_draw(const double *p, const double C[3][3], const double *g, size_t np,
                           double dof, int normal)
 {
@@ -72,23 +81,16 @@ static key_draw make_draw(const double *p, const double C[3][3], const double *g
     kd.mean = 0;
     for (size_t k = 0; k < np; k++)
         kd.mean += g[k] * p[k];
-    for (size_t k = 0; k < 3; k++) {
-        kd.a[k] = 0;
+    double s = 0;
+    for (size_t k = 0; k < np; k++) {
+        double a = 0;
         for (size_t i = k; i < np; i++)
-            kd.a[k] += L[i][k] * g[i];
+            a += L[i][k] * g[i];
+        s += a * a;
     }
-    kd.n_z = np;
+    kd.se = sqrt(s);
     kd.dof = normal ? INFINITY : dof;
     return kd;
-}
-
-/* Standard error of the key: sqrt(g'Cg) = |L'g|. */
-static double draw_se(const key_draw *kd)
-{
-    double s = 0;
-    for (size_t k = 0; k < kd->n_z; k++)
-        s += kd->a[k] * kd->a[k];
-    return sqrt(s);
 }
 
 /* Key gradient of a plain Arrhenius fit over (b0, b1). */
@@ -122,6 +124,41 @@ static key_draw arrhenius_draw(const arrank_arrhenius *f, arrank_rank_by by, dou
 }
 
 /*
+ * The Student t variates come from Bailey's polar method (Bailey, Math. Comp.
+ * 62:779, 1994), exact for every nu > 0: (U, V) uniform in the unit disc,
+ * W = U^2 + V^2, then T = U sqrt(nu (W^(-2/nu) - 1) / W) ~ t_nu.  It costs
+ * about 2.5 uniforms, a log and an expm1, against a normal and a chi-square
+ * (a gamma variate) for N / sqrt(chi2/nu); expm1(-(2/nu) log W) keeps
+ * W^(-2/nu) - 1 accurate for large nu, where the method becomes Marsaglia's
+ * polar method for the normal.  The normal keys take one ziggurat variate
+ * (Marsaglia & Tsang, J. Stat. Softw. 5(8), 2000; GSL's implementation).
+ *
+ * The radius alone bounds the variate: |T| <= R(W) = sqrt(nu (W^(-2/nu) - 1)),
+ * which falls as W grows.  Once a draw's best key so far has reached a level
+ * m, a later sample whose W is at least w = (1 + u^2/nu)^(-nu/2), u = (m -
+ * mean)/se, has key <= m and cannot be best; when it is not in the pairwise
+ * matrix its key is not needed at all.  The uniforms are drawn all the same,
+ * so the counts are those of computing every key (tests/test_rank.c checks
+ * this bit for bit); only the log and expm1 are saved.
+ */
+static void polar_point(gsl_rng *rng, double *u, double *w)
+{
+    double x, r2;
+    do {
+        x = 2.0 * gsl_rng_uniform(rng) - 1.0;
+        const double y = 2.0 * gsl_rng_uniform(rng) - 1.0;
+        r2 = x * x + y * y;
+    } while (!(r2 <= 1.0 && r2 > 0.0));
+    *u = x;
+    *w = r2;
+}
+
+static double bailey_t(double u, double w, double dof, double two_over_dof)
+{
+    return u * sqrt(dof * expm1(-two_over_dof * log(w)) / w);
+}
+
+/*
  * The Monte Carlo runs as ARRANK_RANK_STREAMS independent streams, each with
  * its own generator (GSL taus2, L'Ecuyer 1996: fast, period 2^88) seeded with
  * seed + stream * STREAM_SEED_STEP, and an equal share of the draws.  The
@@ -131,10 +168,17 @@ static key_draw arrhenius_draw(const arrank_arrhenius *f, arrank_rank_by by, dou
 #define ARRANK_RANK_STREAMS 2
 #define STREAM_SEED_STEP 0x9E3779B97F4A7C15ull
 
+/* A candidate as the inner loop wants it. */
 typedef struct {
-    const key_draw *kd;
-    const size_t *cand; /* [n_cand] ascending: the samples that can be best */
-    size_t n, n_cand, n_top, draws;
+    double mean, se, dof, two_over_dof;
+    double w_skip; /* W from which the key stays below the skip level; 2: never skipped */
+    size_t index;  /* place in rank order */
+} cand_draw;
+
+typedef struct {
+    const cand_draw *cand; /* [n_cand] in rank order: the samples that can be best */
+    size_t n_cand, n_top, draws;
+    double skip_level;
     unsigned long seed;
     size_t *best;     /* [n] */
     size_t *beats;    /* [n_top * n_top] */
@@ -151,34 +195,40 @@ static void *mc_run(void *arg)
         return NULL;
     }
     gsl_rng_set(rng, m->seed);
-    const key_draw *kd = m->kd;
+    const cand_draw *cd = m->cand;
     const size_t n = m->n_cand, n_top = m->n_top;
+    const double skip_level = m->skip_level;
     for (size_t d = 0; d < m->draws; d++) {
         double best_key = -INFINITY;
         size_t arg_best = 0;
         for (size_t c = 0; c < n; c++) {
-            const size_t i = m->cand[c];
-            const key_draw *k = &kd[i];
-            double s = 0;
-            for (size_t j = 0; j < k->n_z; j++)
-                s += k->a[j] * gsl_ran_gaussian_ziggurat(rng, 1.0);
-            /* multivariate t: one chi-square per sample and draw scales the whole vector
-               (Kotz & Nadarajah, Multivariate t Distributions, 2004, eq. 1.1) */
-            if (isfinite(k->dof))
-                s *= sqrt(k->dof / gsl_ran_chisq(rng, k->dof));
-            const double key = k->mean + s;
-            if (i < n_top)
-                m->top_key[i] = key;
+            const cand_draw *k = &cd[c];
+            double key;
+            if (isfinite(k->dof)) {
+                double u, w;
+                polar_point(rng, &u, &w);
+                if (w >= k->w_skip && best_key >= skip_level)
+                    continue; /* key <= skip_level <= best_key: not best, not in the top */
+                key = k->mean + k->se * bailey_t(u, w, k->dof, k->two_over_dof);
+            } else {
+                key = k->mean + k->se * gsl_ran_gaussian_ziggurat(rng, 1.0);
+            }
+            if (k->index < n_top)
+                m->top_key[k->index] = key;
             if (key > best_key) {
                 best_key = key;
-                arg_best = i;
+                arg_best = k->index;
             }
         }
         m->best[arg_best]++;
+        /* ties (two exactly known keys) count for neither side, as before */
         for (size_t i = 0; i < n_top; i++)
-            for (size_t j = 0; j < n_top; j++)
+            for (size_t j = i + 1; j < n_top; j++) {
                 if (m->top_key[i] > m->top_key[j])
                     m->beats[i * n_top + j]++;
+                else if (m->top_key[j] > m->top_key[i])
+                    m->beats[j * n_top + i]++;
+            }
     }
     gsl_rng_free(rng);
     return NULL;
@@ -190,6 +240,27 @@ static double upper_quantile(double tail, double dof)
     return isfinite(dof) ? gsl_cdf_tdist_Qinv(tail, dof) : gsl_cdf_ugaussian_Qinv(tail);
 }
 
+/* upper_quantile for one tail, remembered per dof (a campaign has few distinct dof). */
+typedef struct {
+    double tail;
+    size_t n, next;
+    double dof[16], q[16];
+} quantile_memo;
+
+static double memo_quantile(quantile_memo *qm, double dof)
+{
+    for (size_t i = 0; i < qm->n; i++)
+        if (qm->dof[i] == dof)
+            return qm->q[i];
+    const double q = upper_quantile(qm->tail, dof);
+    qm->dof[qm->next] = dof;
+    qm->q[qm->next] = q;
+    qm->next = (qm->next + 1) % 16;
+    if (qm->n < 16)
+        qm->n++;
+    return q;
+}
+
 /*
  * The samples that can be best, ascending; the first n_top are always in.
  * For any level m and the sample L with the highest lower quantile
@@ -199,32 +270,59 @@ static double upper_quantile(double tail, double dof)
  * most 2 CULL_TAIL: far below the Monte Carlo's resolution of 1/draws.  Those
  * samples get P(best) = 0 and are not drawn, which makes a campaign of
  * thousands of samples cost what its few contenders cost.
+ *
+ * Samples with few points (a refit on a short kinetic window leaves 2 to 5
+ * dof) pass this test far below the leader: t_2's quantile at 1e-11 is
+ * 2.2e5.  That is their true tail, not a loose bound: P(T_2 > x) is about
+ * 1/(2 x^2), so a key 100 standard errors below the leader is best with
+ * probability near 1e-5, which no cull at 1e-7 may drop.  The Monte Carlo
+ * draws them, cheaply (the skip above).
+ *
+ * *skip_level gets the skip level of the Monte Carlo: the highest lower
+ * quantile at SKIP_TAIL, which a draw's best key reaches with probability at
+ * least 1 - SKIP_TAIL.  Any level gives the same counts; this one makes the
+ * skip frequent.
  */
 #define CULL_TAIL 1e-7
-static size_t candidates(const key_draw *kd, size_t n, size_t n_top, size_t *cand)
+#define SKIP_TAIL 0.01
+static size_t candidates(const key_draw *kd, size_t n, size_t n_top, size_t *cand,
+                         double *skip_level)
 {
-    const double tail = CULL_TAIL / (double)n;
-    double level = -INFINITY, last_dof = NAN, q = NAN;
+    quantile_memo cull = {.tail = CULL_TAIL / (double)n}, skip = {.tail = SKIP_TAIL};
+    double level = -INFINITY;
     for (size_t i = 0; i < n; i++) {
-        if (!(kd[i].dof == last_dof)) { /* dof repeat across samples: reuse the quantile */
-            last_dof = kd[i].dof;
-            q = upper_quantile(tail, last_dof);
-        }
-        const double lo = kd[i].mean - q * draw_se(&kd[i]);
+        const double lo = kd[i].mean - memo_quantile(&cull, kd[i].dof) * kd[i].se;
         if (lo > level)
             level = lo;
     }
     size_t k = 0;
-    last_dof = NAN;
+    *skip_level = -INFINITY;
     for (size_t i = 0; i < n; i++) {
-        if (!(kd[i].dof == last_dof)) {
-            last_dof = kd[i].dof;
-            q = upper_quantile(tail, last_dof);
-        }
-        if (i < n_top || !(kd[i].mean + q * draw_se(&kd[i]) < level))
+        if (i < n_top || !(kd[i].mean + memo_quantile(&cull, kd[i].dof) * kd[i].se < level)) {
             cand[k++] = i;
+            const double lo = kd[i].mean - memo_quantile(&skip, kd[i].dof) * kd[i].se;
+            if (lo > *skip_level)
+                *skip_level = lo;
+        }
     }
     return k;
+}
+
+/*
+ * W from which sample k's key stays below the skip level m (see the skip
+ * above), 2 (never) when not worth it.  u is shrunk by SKIP_MARGIN so that
+ * rounding in w and in the key cannot carry a skipped key up to m; with
+ * u >= SKIP_U_MIN the relative error of w (log1p and exp: a few ulp) moves
+ * R(W)^2 by at most 2 ulp / u^2, far inside the margin.
+ */
+#define SKIP_MARGIN 1e-6
+#define SKIP_U_MIN 1e-2
+static double skip_w(const key_draw *k, double m)
+{
+    const double u = (m - k->mean) / k->se * (1.0 - SKIP_MARGIN);
+    if (!isfinite(k->dof) || !(u >= SKIP_U_MIN))
+        return 2.0;
+    return exp(-0.5 * k->dof * log1p(u * u / k->dof)); /* 0 for se = 0: always below */
 }
 
 /* The Monte Carlo: see the top of this file and arrank_rank_pbest in rank.h. */
@@ -240,18 +338,31 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
     if (n == 0)
         return ARRANK_OK;
     size_t *cand = malloc(n * sizeof *cand);
-    if (!cand)
+    cand_draw *cd = malloc(n * sizeof *cd);
+    if (!cand || !cd) {
+        free(cand);
+        free(cd);
         return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu samples of draws", n);
-    const size_t n_cand = candidates(kd, n, n_top, cand);
+    }
+    double skip_level;
+    const size_t n_cand = candidates(kd, n, n_top, cand, &skip_level);
+    for (size_t c = 0; c < n_cand; c++) {
+        const key_draw *k = &kd[cand[c]];
+        cd[c].mean = k->mean;
+        cd[c].se = k->se;
+        cd[c].dof = k->dof;
+        cd[c].two_over_dof = 2.0 / k->dof;
+        cd[c].w_skip = cand[c] < n_top ? 2.0 : skip_w(k, skip_level);
+        cd[c].index = cand[c];
+    }
     mc_stream m[ARRANK_RANK_STREAMS];
     memset(m, 0, sizeof m);
     arrank_status st = ARRANK_OK;
     for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++) {
-        m[c].kd = kd;
-        m[c].cand = cand;
+        m[c].cand = cd;
         m[c].n_cand = n_cand;
-        m[c].n = n;
         m[c].n_top = n_top;
+        m[c].skip_level = skip_level;
         m[c].draws = draws / ARRANK_RANK_STREAMS + (c < draws % ARRANK_RANK_STREAMS);
         m[c].seed = (unsigned long)(seed + c * STREAM_SEED_STEP);
         m[c].best = calloc(n, sizeof *m[c].best);
@@ -297,6 +408,7 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
         free(m[c].top_key);
     }
     free(cand);
+    free(cd);
     return st;
 }
 
@@ -1014,7 +1126,7 @@ arrank_status arrank_rank_compute(arrank_analysis *a, arrank_error *err)
         }
         kd[k] = result_draw(res, opt);
         key[k] = kd[k].mean;
-        se[k] = draw_se(&kd[k]);
+        se[k] = kd[k].se;
         dof[k] = kd[k].dof;
         fits[k] = &res->fit;
         if (k < rs->n_top) {
