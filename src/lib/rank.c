@@ -5,15 +5,16 @@
  * Every key the ranking uses (ln r at the operating temperature, -Ea, ln A)
  * is linear in a sample's fitted parameters, key = g'p.  Under the normal
  * model p ~ N(p_hat, C) the key is N(g'p_hat, g'Cg) (a linear form of a
- * multivariate normal is normal, any multivariate statistics text, e.g.
- * Anderson, An Introduction to Multivariate Statistical Analysis, 3rd ed.,
- * 2003, Thm. 2.4.4); under the multivariate t with nu dof, location p_hat
- * and scale C, it is g'p_hat + sqrt(g'Cg) T with T ~ t_nu (a linear form of
- * a multivariate t is a univariate t with the same dof: Kotz & Nadarajah,
- * Multivariate t Distributions, 2004, ch. 1).  So the Monte Carlo draws one
- * scalar per sample and draw, exactly, whatever the number of parameters:
- * each sample keeps only its key, the key's scale sqrt(g'Cg) and its dof.
- * One pass over the draws, no allocation inside it, on two threads (below).
+ * multivariate normal is normal: Anderson, An Introduction to Multivariate
+ * Statistical Analysis, 3rd ed., 2003, ch. 2); under the multivariate t with
+ * nu dof, location p_hat and scale C, it is g'p_hat + sqrt(g'Cg) T with
+ * T ~ t_nu (a linear form of a multivariate t is a univariate t with the
+ * same dof: Kotz & Nadarajah, Multivariate t Distributions, 2004, sec.
+ * 1.10, as tests/test_rank.c cites it; chapter and verse from memory).  So
+ * the Monte Carlo draws one scalar per sample and draw, exactly, whatever
+ * the number of parameters: each sample keeps only its key, the key's scale
+ * sqrt(g'Cg) and its dof.  One pass over the draws, no allocation inside it,
+ * on two threads (below).
  */
 /* GSL's inline gsl_rng_uniform (GSL manual, "Inline functions"): the Monte
    Carlo's inner loop calls it most, and this saves a call per uniform. */
@@ -124,38 +125,67 @@ static key_draw arrhenius_draw(const arrank_arrhenius *f, arrank_rank_by by, dou
 }
 
 /*
- * The Student t variates come from Bailey's polar method (Bailey, Math. Comp.
- * 62:779, 1994), exact for every nu > 0: (U, V) uniform in the unit disc,
- * W = U^2 + V^2, then T = U sqrt(nu (W^(-2/nu) - 1) / W) ~ t_nu.  It costs
- * about 2.5 uniforms, a log and an expm1, against a normal and a chi-square
- * (a gamma variate) for N / sqrt(chi2/nu); expm1(-(2/nu) log W) keeps
- * W^(-2/nu) - 1 accurate for large nu, where the method becomes Marsaglia's
- * polar method for the normal.  The normal keys take one ziggurat variate
- * (Marsaglia & Tsang, J. Stat. Softw. 5(8), 2000; GSL's implementation).
+ * The variates.  A sample whose key the draw needs is drawn directly: a
+ * Student t by Bailey's polar method (Bailey, Math. Comp. 62:779, 1994),
+ * exact for every nu > 0: (U, V) uniform in the unit disc, W = U^2 + V^2,
+ * then T = U sqrt(nu (W^(-2/nu) - 1) / W) ~ t_nu; it costs about 2.5
+ * uniforms, a log and an expm1, against a normal and a chi-square (a gamma
+ * variate) for N / sqrt(chi2/nu), and expm1(-(2/nu) log W) keeps
+ * W^(-2/nu) - 1 accurate for large nu.  A normal key takes one ziggurat
+ * variate (Marsaglia & Tsang, J. Stat. Softw. 5(8), 2000; GSL's code).
  *
- * The radius alone bounds the variate: |T| <= R(W) = sqrt(nu (W^(-2/nu) - 1)),
- * which falls as W grows.  Once a draw's best key so far has reached a level
- * m, a later sample whose W is at least w = (1 + u^2/nu)^(-nu/2), u = (m -
- * mean)/se, has key <= m and cannot be best; when it is not in the pairwise
- * matrix its key is not needed at all.  The uniforms are drawn all the same,
- * so the counts are those of computing every key (tests/test_rank.c checks
- * this bit for bit); only the log and expm1 are saved.
+ * Bailey's method rests on the t's radial parent: with W uniform on (0, 1)
+ * and an independent uniform angle theta, R(W) cos(theta) ~ t_nu for
+ * R(W)^2 = nu (W^(-2/nu) - 1) (ibid.; for nu = inf, R^2 = -2 ln W, the
+ * normal's, Box & Muller, Ann. Math. Statist. 29:610, 1958).  So |T| <= R(W),
+ * and R falls as W grows: once a draw's best key has reached a level m, a
+ * sample with mean below m can beat it only when W < w = R^-1(u), u = (m -
+ * mean)/se, i.e. w = (1 + u^2/nu)^(-nu/2) (exp(-u^2/2) for the normal).
+ *
+ * So the samples outside the pairwise matrix with w < 1/4 (the tail) are
+ * not drawn one by one.  The events W_j < w_j are independent Bernoulli(w_j);
+ * the next tail sample (in rank order) with its event is found by inverting
+ * the waiting time, P(no event among the first k) = exp(-H_k) with H the
+ * running sum of -ln(1 - w_j): an exponential E = -ln U and a binary search
+ * for the first H_j >= H_last + E (the inversion method: Devroye,
+ * Non-Uniform Random Variate Generation, 1986, ch. II; the sequence starts
+ * afresh after each event).  Then W = w_j A, A uniform, is W given W < w_j,
+ * and only then are the angle and the key drawn.  Each tail sample's W is
+ * still uniform and independent of the rest, so the draw's winner has the
+ * distribution it has when every key is drawn, for one exponential a draw
+ * and one per event (sum(w) of them on average) instead of 2.5 uniforms per
+ * sample.  The other candidates (the head) are drawn first, directly; in a
+ * draw where they leave the best key below m, the tail is drawn directly
+ * too.  Ties (exactly known keys) go to the earlier sample in rank order,
+ * as when every key is drawn in order.
  */
-static void polar_point(gsl_rng *rng, double *u, double *w)
+#define TWO_PI 6.283185307179586477 /* 2 pi */
+
+/* R(W)^2 of the radial parent (above). */
+static double radius2(double w, double dof, double two_over_dof)
 {
-    double x, r2;
-    do {
-        x = 2.0 * gsl_rng_uniform(rng) - 1.0;
-        const double y = 2.0 * gsl_rng_uniform(rng) - 1.0;
-        r2 = x * x + y * y;
-    } while (!(r2 <= 1.0 && r2 > 0.0));
-    *u = x;
-    *w = r2;
+    return isfinite(dof) ? dof * expm1(-two_over_dof * log(w)) : -2.0 * log(w);
 }
 
-static double bailey_t(double u, double w, double dof, double two_over_dof)
+/* A candidate as the draws use it. */
+typedef struct {
+    double mean, se, dof, two_over_dof;
+    double w;     /* tail: the W below which the key can reach the skip level */
+    size_t index; /* place in rank order */
+} cand_draw;
+
+/* The key drawn directly: Bailey's polar method, or a ziggurat normal. */
+static double direct_key(gsl_rng *rng, const cand_draw *k)
 {
-    return u * sqrt(dof * expm1(-two_over_dof * log(w)) / w);
+    if (!isfinite(k->dof))
+        return k->mean + k->se * gsl_ran_gaussian_ziggurat(rng, 1.0);
+    double u, w;
+    do {
+        u = 2.0 * gsl_rng_uniform(rng) - 1.0;
+        const double v = 2.0 * gsl_rng_uniform(rng) - 1.0;
+        w = u * u + v * v;
+    } while (!(w <= 1.0 && w > 0.0));
+    return k->mean + k->se * u * sqrt(radius2(w, k->dof, k->two_over_dof) / w);
 }
 
 /*
@@ -168,16 +198,11 @@ static double bailey_t(double u, double w, double dof, double two_over_dof)
 #define ARRANK_RANK_STREAMS 2
 #define STREAM_SEED_STEP 0x9E3779B97F4A7C15ull
 
-/* A candidate as the inner loop wants it. */
 typedef struct {
-    double mean, se, dof, two_over_dof;
-    double w_skip; /* W from which the key stays below the skip level; 2: never skipped */
-    size_t index;  /* place in rank order */
-} cand_draw;
-
-typedef struct {
-    const cand_draw *cand; /* [n_cand] in rank order: the samples that can be best */
-    size_t n_cand, n_top, draws;
+    const cand_draw *head; /* [n_head] in rank order: the top and every sample drawn directly */
+    const cand_draw *tail; /* [n_tail] in rank order: drawn by thinning */
+    const double *hazard;  /* [n_tail] running sums of -ln(1 - w) */
+    size_t n_head, n_tail, n_top, draws;
     double skip_level;
     unsigned long seed;
     size_t *best;     /* [n] */
@@ -185,6 +210,15 @@ typedef struct {
     double *top_key;  /* [n_top] */
     int failed;
 } mc_stream;
+
+/* The draw's best so far, ties to the earlier sample in rank order. */
+static void offer(double key, size_t index, double *best_key, size_t *arg_best)
+{
+    if (key > *best_key || (key == *best_key && index < *arg_best)) {
+        *best_key = key;
+        *arg_best = index;
+    }
+}
 
 static void *mc_run(void *arg)
 {
@@ -195,39 +229,52 @@ static void *mc_run(void *arg)
         return NULL;
     }
     gsl_rng_set(rng, m->seed);
-    const cand_draw *cd = m->cand;
-    const size_t n = m->n_cand, n_top = m->n_top;
-    const double skip_level = m->skip_level;
+    const size_t n_top = m->n_top;
     for (size_t d = 0; d < m->draws; d++) {
         double best_key = -INFINITY;
-        size_t arg_best = 0;
-        for (size_t c = 0; c < n; c++) {
-            const cand_draw *k = &cd[c];
-            double key;
-            if (isfinite(k->dof)) {
-                double u, w;
-                polar_point(rng, &u, &w);
-                if (w >= k->w_skip && best_key >= skip_level)
-                    continue; /* key <= skip_level <= best_key: not best, not in the top */
-                key = k->mean + k->se * bailey_t(u, w, k->dof, k->two_over_dof);
-            } else {
-                key = k->mean + k->se * gsl_ran_gaussian_ziggurat(rng, 1.0);
-            }
+        size_t arg_best = SIZE_MAX;
+        for (size_t c = 0; c < m->n_head; c++) {
+            const cand_draw *k = &m->head[c];
+            const double key = direct_key(rng, k);
             if (k->index < n_top)
                 m->top_key[k->index] = key;
-            if (key > best_key) {
-                best_key = key;
-                arg_best = k->index;
-            }
+            offer(key, k->index, &best_key, &arg_best);
         }
-        m->best[arg_best]++;
-        /* ties (two exactly known keys) count for neither side, as before */
+        if (best_key >= m->skip_level) {
+            const double *h = m->hazard;
+            double target = 0;
+            for (size_t lo = 0; lo < m->n_tail;) {
+                /* the next tail sample whose W falls below its w: first h[j] >= target */
+                target += -log(gsl_rng_uniform_pos(rng));
+                size_t hi = m->n_tail;
+                while (lo < hi) {
+                    const size_t mid = lo + (hi - lo) / 2;
+                    if (h[mid] >= target)
+                        hi = mid;
+                    else
+                        lo = mid + 1;
+                }
+                if (lo == m->n_tail)
+                    break;
+                const cand_draw *k = &m->tail[lo];
+                const double w = k->w * gsl_rng_uniform_pos(rng);
+                const double t = sqrt(radius2(w, k->dof, k->two_over_dof)) *
+                                 cos(TWO_PI * gsl_rng_uniform(rng));
+                offer(k->mean + k->se * t, k->index, &best_key, &arg_best);
+                target = h[lo];
+                lo++;
+            }
+        } else {
+            for (size_t c = 0; c < m->n_tail; c++)
+                offer(direct_key(rng, &m->tail[c]), m->tail[c].index, &best_key, &arg_best);
+        }
+        m->best[arg_best == SIZE_MAX ? 0 : arg_best]++;
+        /* ties (two exactly known keys) count for neither side */
         for (size_t i = 0; i < n_top; i++)
             for (size_t j = i + 1; j < n_top; j++) {
-                if (m->top_key[i] > m->top_key[j])
-                    m->beats[i * n_top + j]++;
-                else if (m->top_key[j] > m->top_key[i])
-                    m->beats[j * n_top + i]++;
+                const double a = m->top_key[i], b = m->top_key[j];
+                m->beats[i * n_top + j] += a > b;
+                m->beats[j * n_top + i] += b > a;
             }
     }
     gsl_rng_free(rng);
@@ -276,12 +323,13 @@ static double memo_quantile(quantile_memo *qm, double dof)
  * 2.2e5.  That is their true tail, not a loose bound: P(T_2 > x) is about
  * 1/(2 x^2), so a key 100 standard errors below the leader is best with
  * probability near 1e-5, which no cull at 1e-7 may drop.  The Monte Carlo
- * draws them, cheaply (the skip above).
+ * draws them by thinning (above).
  *
- * *skip_level gets the skip level of the Monte Carlo: the highest lower
- * quantile at SKIP_TAIL, which a draw's best key reaches with probability at
- * least 1 - SKIP_TAIL.  Any level gives the same counts; this one makes the
- * skip frequent.
+ * *skip_level gets the level m of the thinning: the highest lower quantile
+ * at SKIP_TAIL among the candidates, which a draw's best key reaches with
+ * probability at least 1 - SKIP_TAIL (the sample that sets it has its mean
+ * above m, so it is in the head, drawn before the tail).  Any level gives
+ * the same distribution of counts; this one makes the thinning the rule.
  */
 #define CULL_TAIL 1e-7
 #define SKIP_TAIL 0.01
@@ -309,20 +357,19 @@ static size_t candidates(const key_draw *kd, size_t n, size_t n_top, size_t *can
 }
 
 /*
- * W from which sample k's key stays below the skip level m (see the skip
- * above), 2 (never) when not worth it.  u is shrunk by SKIP_MARGIN so that
- * rounding in w and in the key cannot carry a skipped key up to m; with
- * u >= SKIP_U_MIN the relative error of w (log1p and exp: a few ulp) moves
- * R(W)^2 by at most 2 ulp / u^2, far inside the margin.
+ * The w of a sample against the skip level m (see the variates above); 2,
+ * never thinned, for a mean at or above m.  0 for se = 0 below m: never
+ * above it.  u is shrunk by SKIP_MARGIN so that rounding in w (log1p and exp,
+ * a few ulp) cannot carry the bound R(w) <= u past m: a relative error e in
+ * w moves R(w)^2 by 2 (1/u^2 + 1/nu) e, and the tail's w < 1/4 means u > 1.6.
  */
 #define SKIP_MARGIN 1e-6
-#define SKIP_U_MIN 1e-2
 static double skip_w(const key_draw *k, double m)
 {
     const double u = (m - k->mean) / k->se * (1.0 - SKIP_MARGIN);
-    if (!isfinite(k->dof) || !(u >= SKIP_U_MIN))
+    if (!(u > 0))
         return 2.0;
-    return exp(-0.5 * k->dof * log1p(u * u / k->dof)); /* 0 for se = 0: always below */
+    return isfinite(k->dof) ? exp(-0.5 * k->dof * log1p(u * u / k->dof)) : exp(-0.5 * u * u);
 }
 
 /* The Monte Carlo: see the top of this file and arrank_rank_pbest in rank.h. */
@@ -338,29 +385,41 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
     if (n == 0)
         return ARRANK_OK;
     size_t *cand = malloc(n * sizeof *cand);
-    cand_draw *cd = malloc(n * sizeof *cd);
-    if (!cand || !cd) {
+    cand_draw *cd = malloc(2 * n * sizeof *cd);
+    double *hazard = malloc(n * sizeof *hazard);
+    if (!cand || !cd || !hazard) {
         free(cand);
         free(cd);
+        free(hazard);
         return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu samples of draws", n);
     }
     double skip_level;
     const size_t n_cand = candidates(kd, n, n_top, cand, &skip_level);
+    /* head and tail (the variates, above) */
+    cand_draw *head = cd, *tail = cd + n;
+    size_t n_head = 0, n_tail = 0;
+    double h = 0;
     for (size_t c = 0; c < n_cand; c++) {
         const key_draw *k = &kd[cand[c]];
-        cd[c].mean = k->mean;
-        cd[c].se = k->se;
-        cd[c].dof = k->dof;
-        cd[c].two_over_dof = 2.0 / k->dof;
-        cd[c].w_skip = cand[c] < n_top ? 2.0 : skip_w(k, skip_level);
-        cd[c].index = cand[c];
+        const double w = cand[c] < n_top ? 2.0 : skip_w(k, skip_level);
+        const cand_draw x = {k->mean, k->se, k->dof, 2.0 / k->dof, w, cand[c]};
+        if (w < 0.25) {
+            h += -log1p(-w);
+            hazard[n_tail] = h;
+            tail[n_tail++] = x;
+        } else {
+            head[n_head++] = x;
+        }
     }
     mc_stream m[ARRANK_RANK_STREAMS];
     memset(m, 0, sizeof m);
     arrank_status st = ARRANK_OK;
     for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++) {
-        m[c].cand = cd;
-        m[c].n_cand = n_cand;
+        m[c].head = head;
+        m[c].tail = tail;
+        m[c].hazard = hazard;
+        m[c].n_head = n_head;
+        m[c].n_tail = n_tail;
         m[c].n_top = n_top;
         m[c].skip_level = skip_level;
         m[c].draws = draws / ARRANK_RANK_STREAMS + (c < draws % ARRANK_RANK_STREAMS);
@@ -409,6 +468,7 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
     }
     free(cand);
     free(cd);
+    free(hazard);
     return st;
 }
 
@@ -467,6 +527,20 @@ arrank_status arrank_rank_holm(const double *p, size_t m, double *adj, arrank_er
     return ARRANK_OK;
 }
 
+/* Welch-Satterthwaite dof of key_i - key_j (Welch, Biometrika 34:28, 1947):
+   nu = v^2 / (si^4/nu_i + sj^4/nu_j), v = si^2 + sj^2, an infinite nu adding
+   nothing; INFINITY when both are infinite (then the test is a z test). */
+static inline double welch_dof(double si, double di, double sj, double dj)
+{
+    const double v = si * si + sj * sj;
+    double den = 0;
+    if (isfinite(di))
+        den += si * si * si * si / di;
+    if (isfinite(dj))
+        den += sj * sj * sj * sj / dj;
+    return den > 0 ? v * v / den : INFINITY;
+}
+
 /* Two-sided p of key_i - key_j with Welch-Satterthwaite dof (rank.h). */
 static double pair_p(double ki, double si, double di, double kj, double sj, double dj)
 {
@@ -475,15 +549,10 @@ static double pair_p(double ki, double si, double di, double kj, double sj, doub
     if (!(v > 0))
         return d > 0 ? 0.0 : 1.0;
     const double z = d / sqrt(v);
-    /* Welch (1947): nu = v^2 / (si^4/nu_i + sj^4/nu_j), an infinite nu adds nothing */
-    double den = 0;
-    if (isfinite(di))
-        den += si * si * si * si / di;
-    if (isfinite(dj))
-        den += sj * sj * sj * sj / dj;
-    if (!(den > 0))
+    const double nu = welch_dof(si, di, sj, dj);
+    if (isinf(nu))
         return 2.0 * gsl_cdf_ugaussian_Q(z);
-    return 2.0 * gsl_cdf_tdist_Q(z, v * v / den);
+    return 2.0 * gsl_cdf_tdist_Q(z, nu);
 }
 
 /*
@@ -493,46 +562,83 @@ static double pair_p(double ki, double si, double di, double kj, double sj, doub
  * the family is kept whole (m = G (G - 1)/2 tests), and what is saved is the
  * t CDF of the pairs whose decision does not hang on their exact p.
  *
- * Two facts bound a pair's p from its z alone.  The Welch-Satterthwaite dof
- * lies between min(nu_i, nu_j) and nu_i + nu_j (from its formula, by the
- * power-mean and Cauchy-Schwarz inequalities); and the two-sided t tail
- * P(|T_nu| > z) falls as nu grows (Student's t is more peaked for more
+ * A pair's p is bounded from its z and a bracket of its dof: the two-sided
+ * t tail P(|T_nu| > z) falls as nu grows (Student's t is more peaked for more
  * degrees of freedom: Birnbaum, Ann. Math. Statist. 19:76, 1948, from memory;
- * tests/test_rank.c checks the decisions against the full computation).  With
- * K_lo hypotheses known to be rejected and K_hi an upper bound on the
- * rejections, a pair with p <= alpha/(m - K_lo) is rejected (every p below it
- * in the order passes its own threshold) and a pair with
- * p > alpha/(m - K_hi + 1) is not (its threshold cannot be that high), which
- * are z against two t quantiles.  Sweeping until K_lo and K_hi settle leaves
- * the pairs near Holm's boundary: their exact p (the same GSL call as before)
- * go through the same two tests and then the step-down itself, whose
- * positions are known because every settled rejection lies below them and
- * every settled acceptance above.  The decisions are Holm's exactly; a
- * margin of Z_MARGIN in z keeps rounding in GSL's quantiles off the bounds.
+ * tests/test_rank.c checks the decisions against the full computation), so
+ * with nu in [lo, hi], p <= a when z >= t_crit(a, lo) and p > a when
+ * z < t_crit(a, hi).  The bracket is the cell of a fixed grid,
+ * 2^(k/CELLS_PER_OCTAVE), that holds the pair's own Welch dof (a few flops),
+ * so a sweep needs one quantile per cell in use and level instead of one
+ * CDF per pair.  With K_lo hypotheses known to be rejected and K_hi an upper
+ * bound on the rejections, a pair with p <= alpha/(m - K_lo) is rejected
+ * (every p below it in the order passes its own threshold) and a pair with
+ * p > alpha/(m - K_hi + 1) is not (its threshold cannot be that high).
+ * Sweeping until K_lo and K_hi settle leaves the pairs near Holm's boundary:
+ * their exact p (GSL's t CDF at the Welch dof) go through the same two tests
+ * and then the step-down itself, whose positions are known because every
+ * settled rejection lies below them and every settled acceptance above.  The
+ * decisions are Holm's exactly; a margin of Z_MARGIN in z keeps rounding in
+ * GSL's quantiles off the bounds.
  */
 #define Z_MARGIN 1e-7
 enum { PAIR_OPEN = 0, PAIR_REJECTED = 1, PAIR_KEPT = 2 };
 
-/* Two-sided critical |t| for level a and dof nu, remembered for the last
-   few (a, nu): the sweep asks for the same few again and again. */
+/* The dof grid: eighths of an octave, [2^e (1 + s/8), 2^e (1 + (s + 1)/8)],
+   for 2^CELL_OCT_MIN <= nu < 2^CELL_OCT_MAX (neighbouring edges at most 12.5 %
+   apart), read off the exponent and the top three fraction bits of nu (IEEE
+   754 binary64); cell 0 is (0, 2^CELL_OCT_MIN), then [2^CELL_OCT_MAX, inf)
+   and the z test (both dof infinite). */
+#define CELL_BITS 3
+#define CELLS_PER_OCTAVE (1 << CELL_BITS)
+#define CELL_OCT_MIN (-4)
+#define CELL_OCT_MAX 20
+enum {
+    CELL_STEPS = (CELL_OCT_MAX - CELL_OCT_MIN) * CELLS_PER_OCTAVE,
+    CELL_ABOVE = CELL_STEPS + 1,
+    CELL_Z = CELL_STEPS + 2,
+    N_CELLS = CELL_STEPS + 3
+};
+
+typedef struct {
+    double lo[N_CELLS], hi[N_CELLS]; /* dof bracket of each cell */
+} dof_cells;
+
+static void cells_init(dof_cells *dc)
+{
+    dc->lo[0] = 0.0;
+    dc->hi[0] = ldexp(1.0, CELL_OCT_MIN);
+    for (int e = CELL_OCT_MIN; e < CELL_OCT_MAX; e++)
+        for (int s = 0; s < CELLS_PER_OCTAVE; s++) {
+            const int c = 1 + (e - CELL_OCT_MIN) * CELLS_PER_OCTAVE + s;
+            dc->lo[c] = ldexp(1.0 + (double)s / CELLS_PER_OCTAVE, e);
+            dc->hi[c] = ldexp(1.0 + (double)(s + 1) / CELLS_PER_OCTAVE, e);
+        }
+    dc->lo[CELL_ABOVE] = ldexp(1.0, CELL_OCT_MAX);
+    dc->hi[CELL_ABOVE] = INFINITY;
+    dc->lo[CELL_Z] = dc->hi[CELL_Z] = INFINITY;
+}
+
+/* The cell whose bracket holds nu > 0. */
+static unsigned char cell_of(double nu)
+{
+    if (isinf(nu))
+        return CELL_Z;
+    uint64_t bits;
+    memcpy(&bits, &nu, sizeof bits);
+    const int e = (int)((bits >> 52) & 0x7ff) - 1023;
+    if (e < CELL_OCT_MIN)
+        return 0;
+    if (e >= CELL_OCT_MAX)
+        return CELL_ABOVE;
+    const int s = (int)((bits >> (52 - CELL_BITS)) & (CELLS_PER_OCTAVE - 1));
+    return (unsigned char)(1 + (e - CELL_OCT_MIN) * CELLS_PER_OCTAVE + s);
+}
+
+/* Two-sided critical |t| for level a at dof nu: infinite for nu = 0. */
 static double two_sided_crit(double a, double nu)
 {
-    enum { MEMO = 16 };
-    static _Thread_local struct {
-        double a, nu, t;
-    } memo[MEMO];
-    static _Thread_local unsigned n_memo, next_memo;
-    for (unsigned i = 0; i < n_memo; i++)
-        if (memo[i].a == a && memo[i].nu == nu)
-            return memo[i].t;
-    const double t = upper_quantile(0.5 * a, nu);
-    memo[next_memo].a = a;
-    memo[next_memo].nu = nu;
-    memo[next_memo].t = t;
-    next_memo = (next_memo + 1) % MEMO;
-    if (n_memo < MEMO)
-        n_memo++;
-    return t;
+    return nu > 0 ? upper_quantile(0.5 * a, nu) : INFINITY;
 }
 
 static int compare_double(const void *a, const void *b)
@@ -562,69 +668,91 @@ arrank_status arrank_rank_groups(const double *key, const double *key_se, const 
                                                      "error or dof for the group tests", i + 1);
     double *p = malloc((m ? m : 1) * sizeof *p);
     double *z = malloc((m ? m : 1) * sizeof *z);
+    size_t *open = malloc((m ? m : 1) * sizeof *open);
     unsigned char *state = calloc(m ? m : 1, 1);
-    if (!p || !z || !state) {
+    unsigned char *cell = malloc(m ? m : 1);
+    if (!p || !z || !open || !state || !cell) {
         free(p);
         free(z);
+        free(open);
         free(state);
+        free(cell);
         return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu pairwise tests", m);
     }
+    dof_cells dc;
+    cells_init(&dc);
     /* pair (i, j), i < j, at row-major upper-triangle position */
 #define PAIR(i, j) ((i) * (2 * G - (i)-1) / 2 + ((j) - (i)-1))
-    size_t k_lo = 0, k_hi = m;
+    size_t k_lo = 0, k_hi = m, n_open = 0;
     for (size_t i = 0; i < G; i++)
         for (size_t j = i + 1; j < G; j++) {
             const size_t h = PAIR(i, j);
             const double v = key_se[i] * key_se[i] + key_se[j] * key_se[j];
             const double d = fabs(key[i] - key[j]);
-            /* pair_p's exact answers without a CDF: 0 or 1 */
-            z[h] = v > 0 ? d / sqrt(v) : (d > 0 ? INFINITY : 0.0);
             if (!(v > 0)) {
+                /* pair_p's exact answers without a CDF: 0 or 1 */
+                z[h] = d > 0 ? INFINITY : 0.0;
                 p[h] = d > 0 ? 0.0 : 1.0;
                 state[h] = d > 0 ? PAIR_REJECTED : PAIR_KEPT;
                 if (d > 0)
                     k_lo++;
                 else
                     k_hi--;
+                continue;
             }
+            z[h] = d / sqrt(v);
+            cell[h] = cell_of(welch_dof(key_se[i], dof[i], key_se[j], dof[j]));
+            open[n_open++] = h;
         }
-    /* sweep with bounds on p until nothing more settles */
-    for (int changed = 1; changed;) {
+    /* sweep with bounds on p until nothing more settles; crit < 0: not yet computed */
+    double crit_rej[N_CELLS], crit_keep[N_CELLS];
+    for (int changed = n_open > 0; changed;) {
         changed = 0;
         const double a_lo = alpha / (double)(m - k_lo);
         const double a_hi = alpha / (double)(m - k_hi + 1);
-        for (size_t i = 0; i < G; i++)
-            for (size_t j = i + 1; j < G; j++) {
-                const size_t h = PAIR(i, j);
-                if (state[h] != PAIR_OPEN)
-                    continue;
-                const double nu_min = fmin(dof[i], dof[j]), nu_max = dof[i] + dof[j];
-                if (k_lo < m && z[h] >= two_sided_crit(a_lo, nu_min) * (1.0 + Z_MARGIN)) {
+        for (size_t c = 0; c < N_CELLS; c++)
+            crit_rej[c] = crit_keep[c] = -1.0;
+        size_t still = 0;
+        for (size_t q = 0; q < n_open; q++) {
+            const size_t h = open[q];
+            const unsigned c = cell[h];
+            if (k_lo < m) {
+                if (crit_rej[c] < 0)
+                    crit_rej[c] = two_sided_crit(a_lo, dc.lo[c]) * (1.0 + Z_MARGIN);
+                if (z[h] >= crit_rej[c]) {
                     state[h] = PAIR_REJECTED;
                     k_lo++;
                     changed = 1;
-                } else if (a_hi < 1 && z[h] < two_sided_crit(a_hi, nu_max) * (1.0 - Z_MARGIN)) {
+                    continue;
+                }
+            }
+            if (a_hi < 1) {
+                if (crit_keep[c] < 0)
+                    crit_keep[c] = two_sided_crit(a_hi, dc.hi[c]) * (1.0 - Z_MARGIN);
+                if (z[h] < crit_keep[c]) {
                     state[h] = PAIR_KEPT;
                     k_hi--;
                     changed = 1;
+                    continue;
                 }
             }
+            open[still++] = h;
+        }
+        n_open = still;
     }
     /* the pairs near the boundary: exact p, then the same two tests on it */
-    size_t n_open = 0;
-    for (size_t i = 0; i < G; i++)
-        for (size_t j = i + 1; j < G; j++) {
-            const size_t h = PAIR(i, j);
-            if (state[h] == PAIR_OPEN) {
-                p[h] = pair_p(key[i], key_se[i], dof[i], key[j], key_se[j], dof[j]);
-                n_open++;
+    if (n_open > 0)
+        for (size_t i = 0; i < G; i++)
+            for (size_t j = i + 1; j < G; j++) {
+                const size_t h = PAIR(i, j);
+                if (state[h] == PAIR_OPEN)
+                    p[h] = pair_p(key[i], key_se[i], dof[i], key[j], key_se[j], dof[j]);
             }
-        }
     for (int changed = n_open > 0; changed;) {
         changed = 0;
-        for (size_t h = 0; h < m; h++) {
-            if (state[h] != PAIR_OPEN)
-                continue;
+        size_t still = 0;
+        for (size_t q = 0; q < n_open; q++) {
+            const size_t h = open[q];
             /* (m - k) p at any position k >= k_lo is at most (m - k_lo) p */
             if ((double)(m - k_lo) * p[h] <= alpha) {
                 state[h] = PAIR_REJECTED;
@@ -634,15 +762,16 @@ arrank_status arrank_rank_groups(const double *key, const double *key_se, const 
                 state[h] = PAIR_KEPT;
                 k_hi--;
                 changed = 1;
+            } else {
+                open[still++] = h;
             }
         }
+        n_open = still;
     }
     /* step-down over what is left: settled rejections come first, in order */
     double p_stop = INFINITY; /* open pairs with p below this are rejected */
-    n_open = 0;
-    for (size_t h = 0; h < m; h++)
-        if (state[h] == PAIR_OPEN)
-            z[n_open++] = p[h];
+    for (size_t q = 0; q < n_open; q++)
+        z[q] = p[open[q]];
     qsort(z, n_open, sizeof *z, compare_double);
     for (size_t t = 0; t < n_open; t++) {
         double v = (double)(m - (k_lo + t)) * z[t];
@@ -666,7 +795,9 @@ arrank_status arrank_rank_groups(const double *key, const double *key_se, const 
 #undef PAIR
     free(p);
     free(z);
+    free(open);
     free(state);
+    free(cell);
     return ARRANK_OK;
 }
 
