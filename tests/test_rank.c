@@ -5,7 +5,11 @@
  * Sources, beside each check: the exact two-sample probability Phi(D/sigma)
  * for independent normal keys (and the Student-t cdf when one key is known
  * exactly: a linear function of a multivariate t is a univariate t, Kotz &
- * Nadarajah, Multivariate t Distributions, 2004, sec. 1.10); Holm's
+ * Nadarajah, Multivariate t Distributions, 2004, sec. 1.10); for two or
+ * more uncertain t or normal keys, P(best) = integral of f_i prod F_j by GSL
+ * quadrature; the engine's t and normal variates against GSL's cdf by a
+ * Kolmogorov-Smirnov bound (Dvoretzky-Kiefer-Wolfowitz with Massart's
+ * constant, Ann. Probab. 18:1269, 1990); Holm's
  * procedure by its definition (Holm, Scand. J. Statist. 6:65, 1979);
  * synthetic campaigns with stated true parameters for the compensation tests
  * (Krug, Hunter & Grieger, Nature 261:566, 1976); the 2019 SI exact values of
@@ -226,6 +230,251 @@ static void test_pbest_two_sample_t(void **state)
     key_moments(&B, ARRANK_BY_RATE, 487.3, &mB, &vB);
     bad += check_mc(pb[0], gsl_cdf_ugaussian_P((mA - mB) / sqrt(vA + vB)), draws,
                     "t with dof 1e7", "normal limit of the t");
+    assert_int_equal(bad, 0);
+}
+
+/* ---- the engine's variates against exact distributions -------------------- */
+
+static int compare_doubles(const void *a, const void *b)
+{
+    const double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+/* A key's distribution: location m, scale s, dof nu (INFINITY: normal). */
+typedef struct {
+    double m, s, nu;
+} key_dist;
+
+static double key_pdf(const key_dist *k, double x)
+{
+    const double z = (x - k->m) / k->s;
+    return (isfinite(k->nu) ? gsl_ran_tdist_pdf(z, k->nu) : gsl_ran_ugaussian_pdf(z)) / k->s;
+}
+
+static double key_cdf(const key_dist *k, double x)
+{
+    const double z = (x - k->m) / k->s;
+    return isfinite(k->nu) ? gsl_cdf_tdist_P(z, k->nu) : gsl_cdf_ugaussian_P(z);
+}
+
+typedef struct {
+    const key_dist *k;
+    size_t n, i;
+} best_ctx;
+
+static double best_integrand(double x, void *p)
+{
+    const best_ctx *c = p;
+    double v = key_pdf(&c->k[c->i], x);
+    for (size_t j = 0; j < c->n && v > 0; j++)
+        if (j != c->i)
+            v *= key_cdf(&c->k[j], x);
+    return v;
+}
+
+/* P(key i is the largest of n independent keys) = integral of f_i(x) prod_{j != i} F_j(x) dx
+   (the order-statistics identity, from memory), by GSL quadrature: adaptive Gauss-Kronrod
+   (QAG, 61 points) between the locations, QAGIL and QAGIU beyond them.  (QAGP's
+   extrapolation reports roundoff on these peaked, heavy-tailed integrands.) */
+static double p_best_exact(const key_dist *k, size_t n, size_t i)
+{
+    enum { MAXN = 16 };
+    assert_true(n <= MAXN);
+    double pts[MAXN + 2];
+    double lo = INFINITY, hi = -INFINITY;
+    for (size_t j = 0; j < n; j++) {
+        lo = fmin(lo, k[j].m - 40 * k[j].s);
+        hi = fmax(hi, k[j].m + 40 * k[j].s);
+    }
+    size_t np = 0;
+    pts[np++] = lo;
+    for (size_t j = 0; j < n; j++)
+        pts[np++] = k[j].m;
+    pts[np++] = hi;
+    qsort(pts + 1, n, sizeof *pts, compare_doubles);
+    best_ctx c = {k, n, i};
+    gsl_function fn = {best_integrand, &c};
+    gsl_integration_workspace *w = gsl_integration_workspace_alloc(2000);
+    assert_non_null(w);
+    double sum = 0, part, err;
+    assert_int_equal(gsl_integration_qagil(&fn, lo, 1e-11, 1e-8, 2000, w, &part, &err), 0);
+    sum += part;
+    for (size_t s = 0; s + 1 < np; s++) {
+        assert_int_equal(gsl_integration_qag(&fn, pts[s], pts[s + 1], 1e-11, 1e-8, 2000,
+                                             GSL_INTEG_GAUSS61, w, &part, &err),
+                         0);
+        sum += part;
+    }
+    assert_int_equal(gsl_integration_qagiu(&fn, hi, 1e-11, 1e-8, 2000, w, &part, &err), 0);
+    gsl_integration_workspace_free(w);
+    return sum + part;
+}
+
+/*
+ * The engine draws one scalar per sample: a Student t (Bailey's polar method)
+ * or a normal.  Sample 0 has key exactly T (b0 = 0, unit variance, at T_ref);
+ * samples 1..K are known exactly at the quantiles x_k of the target
+ * distribution and all are in the pairwise matrix, so 1 - P(0 beats k) is
+ * the empirical cdf of the same N draws of T at x_k.  Its largest distance
+ * from the exact cdf (GSL) over the grid is at most the Kolmogorov-Smirnov
+ * statistic D_N, and P(D_N > eps) <= 2 exp(-2 N eps^2) for any N (the
+ * Dvoretzky-Kiefer-Wolfowitz inequality with Massart's constant, Ann.
+ * Probab. 18:1269, 1990); eps is set for a false alarm of at most 0.001 per
+ * dof, 0.006 over the six.
+ */
+static void test_pbest_variates_ks(void **state)
+{
+    (void)state;
+    static const double prob[] = {0.001, 0.01, 0.05, 0.1, 0.15, 0.2, 0.25, 0.3, 0.35, 0.4,
+                                  0.45, 0.5, 0.55, 0.6, 0.65, 0.7, 0.75, 0.8, 0.85, 0.9,
+                                  0.95, 0.99, 0.999};
+    enum { K = sizeof prob / sizeof prob[0], N = K + 1 };
+    const double dofs[] = {1, 2, 3, 10, 50, INFINITY};
+    const size_t draws = 20000;
+    const double eps = sqrt(log(2.0 / 0.001) / (2.0 * (double)draws));
+    const double T = 503.7;
+    arrank_arrhenius f[N];
+    const arrank_arrhenius *fits[N];
+    static double pb[N], pp[N * N];
+    int bad = 0;
+    for (size_t c = 0; c < sizeof dofs / sizeof dofs[0]; c++) {
+        const double nu = dofs[c];
+        f[0] = make_fit(T, 0.0, -10230.0, 1.0, 0.31, 1.7e4, 7);
+        f[0].dof = nu;
+        fits[0] = &f[0];
+        for (size_t k = 0; k < K; k++) {
+            const double x = isfinite(nu) ? gsl_cdf_tdist_Pinv(prob[k], nu)
+                                          : gsl_cdf_ugaussian_Pinv(prob[k]);
+            f[k + 1] = make_fit(T, x, -10230.0, 0, 0, 0, 7);
+            f[k + 1].dof = INFINITY; /* exact anyway; a normal is the cheapest draw */
+            fits[k + 1] = &f[k + 1];
+        }
+        assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, T, draws, 1847 + c,
+                                           !isfinite(nu), N, pb, pp, NULL),
+                         ARRANK_OK);
+        double D = 0;
+        for (size_t k = 0; k < K; k++)
+            D = fmax(D, fabs(1.0 - pp[k + 1] - prob[k]));
+        printf("# %s dof %g: KS distance on the grid %.4f (bound %.4f, N = %zu)\n",
+               isfinite(nu) ? "t" : "normal", nu, D, eps, draws);
+        if (!(D <= eps)) {
+            printf("# not ok: draws do not follow the %s distribution [GSL cdf, DKW]\n",
+                   isfinite(nu) ? "t" : "normal");
+            bad++;
+        }
+    }
+    assert_int_equal(bad, 0);
+}
+
+/* Both keys uncertain with t distributions: P(A beats B) by quadrature. */
+static void test_pbest_two_sample_t_quadrature(void **state)
+{
+    (void)state;
+    const size_t draws = 100000;
+    const struct {
+        double dofA, dofB, T_op;
+    } cases[] = {{2, 5, 487.3}, {1, 3, 498.2}, {4, 4, 533.9}, {3, 30, 505.1}};
+    int bad = 0;
+    for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
+        arrank_arrhenius A = make_fit(512.4, 0.3171, -10873.0, 2.13e-3, 1.7e-2, 4.61e2,
+                                      cases[c].dofA);
+        arrank_arrhenius B = make_fit(509.8, 0.2515, -11904.0, 3.07e-3, -2.2e-2, 6.93e2,
+                                      cases[c].dofB);
+        const arrank_arrhenius *fits[2] = {&A, &B};
+        double pb[2], pp[4];
+        assert_int_equal(arrank_rank_pbest(fits, 2, ARRANK_BY_RATE, cases[c].T_op, draws,
+                                           4049 + c, 0, 2, pb, pp, NULL),
+                         ARRANK_OK);
+        double mA, vA, mB, vB;
+        key_moments(&A, ARRANK_BY_RATE, cases[c].T_op, &mA, &vA);
+        key_moments(&B, ARRANK_BY_RATE, cases[c].T_op, &mB, &vB);
+        const key_dist k[2] = {{mA, sqrt(vA), cases[c].dofA}, {mB, sqrt(vB), cases[c].dofB}};
+        const double want = p_best_exact(k, 2, 0);
+        printf("# t dof %g and %g: P(A best) %.5f, quadrature %.5f\n", cases[c].dofA,
+               cases[c].dofB, pb[0], want);
+        bad += check_mc(pb[0], want, draws, "two t keys", "GSL quadrature of f_A F_B");
+        bad += check_rel(pp[1], pb[0], 1e-12, "P(A beats B) = P(A best)", "same event");
+    }
+    assert_int_equal(bad, 0);
+}
+
+/*
+ * A leader, a close rival and samples far below with heavy tails (t, dof 1
+ * to 4) or, with normal draws, a few scales below (two of them wide, so
+ * that they still win about 1 % of the draws).  Samples whose
+ * mean lies more than about 1.7 scales below the leader's 1 % quantile are
+ * drawn by thinning in rank.c (its w < 1/4; the test counts them with
+ * rank.c's rule so that it knows that path runs); with the pairwise matrix
+ * over every sample all are drawn directly.  Either way each P(best)
+ * matches quadrature within 4 binomial standard errors.
+ */
+static void test_pbest_heavy_tails_quadrature(void **state)
+{
+    (void)state;
+    enum { N = 8 };
+    const struct {
+        const char *id;
+        int normal;
+        double m[N], s[N], nu[N];
+    } cases[] = {
+        {"t",
+         0,
+         {1.000, 0.985, 0.900, 0.930, 0.880, 0.950, 0.800, 0.700},
+         {0.010, 0.012, 0.010, 0.008, 0.015, 0.006, 0.020, 0.010},
+         {10, 6, 1, 2, 3, 1, 2, 4}},
+        /* wide Cauchy-like tails 4 scales below: each wins about 5 % of the draws */
+        {"t, wide",
+         0,
+         {1.000, 0.985, 0.770, 0.760, 0.800, 0.775, 0.700, 0.790},
+         {0.010, 0.012, 0.050, 0.050, 0.045, 0.060, 0.070, 0.040},
+         {10, 6, 1, 1, 2, 1, 1, 1.5}},
+        {"normal",
+         1,
+         {1.000, 0.990, 0.955, 0.885, 0.940, 0.860, 0.962, 0.930},
+         {0.010, 0.012, 0.012, 0.050, 0.015, 0.060, 0.011, 0.020},
+         {INFINITY, INFINITY, INFINITY, INFINITY, INFINITY, INFINITY, INFINITY, INFINITY}},
+    };
+    const size_t draws = 200000;
+    const double T = 500.0;
+    int bad = 0;
+    for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
+        arrank_arrhenius f[N];
+        const arrank_arrhenius *fits[N];
+        key_dist k[N];
+        /* rank.c's thinning level: the highest lower 1 % quantile */
+        double level = -INFINITY;
+        for (size_t i = 0; i < N; i++) {
+            const double q = cases[c].normal ? gsl_cdf_ugaussian_Qinv(0.01)
+                                             : gsl_cdf_tdist_Qinv(0.01, cases[c].nu[i]);
+            level = fmax(level, cases[c].m[i] - q * cases[c].s[i]);
+        }
+        size_t thinned = 0;
+        for (size_t i = 0; i < N; i++) {
+            f[i] = make_fit(T, cases[c].m[i], -9731.0, pow(cases[c].s[i], 2), 0.27, 2.2e4,
+                            cases[c].normal ? 7 : cases[c].nu[i]);
+            fits[i] = &f[i];
+            k[i] = (key_dist){cases[c].m[i], cases[c].s[i], cases[c].nu[i]};
+            const double u = (level - k[i].m) / k[i].s, nu = k[i].nu;
+            const double w = isfinite(nu) ? pow(1 + u * u / nu, -nu / 2) : exp(-u * u / 2);
+            thinned += u > 0 && w < 0.25;
+        }
+        printf("# %s: %zu of %d samples drawn by thinning\n", cases[c].id, thinned, N);
+        assert_true(thinned >= 4);
+        for (size_t n_top = 0; n_top <= N; n_top += N) {
+            double pb[N], pp[N * N];
+            assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, T, draws, 9127 + c,
+                                               cases[c].normal, n_top, pb, n_top ? pp : NULL,
+                                               NULL),
+                             ARRANK_OK);
+            for (size_t i = 0; i < N; i++) {
+                const double want = p_best_exact(k, N, i);
+                printf("# %s, pairs %zu, sample %zu: P(best) %.5f, quadrature %.5f\n",
+                       cases[c].id, n_top, i, pb[i], want);
+                bad += check_mc(pb[i], want, draws, cases[c].id, "GSL quadrature");
+            }
+        }
+    }
     assert_int_equal(bad, 0);
 }
 
@@ -1060,6 +1309,9 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_pbest_two_sample_normal),
         cmocka_unit_test(test_pbest_two_sample_t),
+        cmocka_unit_test(test_pbest_variates_ks),
+        cmocka_unit_test(test_pbest_two_sample_t_quadrature),
+        cmocka_unit_test(test_pbest_heavy_tails_quadrature),
         cmocka_unit_test(test_pbest_reproducible_and_pairs_capped),
         cmocka_unit_test(test_pbest_large),
         cmocka_unit_test(test_pbest_contenders),

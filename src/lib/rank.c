@@ -3,14 +3,23 @@
  * (arrank/rank.h).
  *
  * Every key the ranking uses (ln r at the operating temperature, -Ea, ln A)
- * is linear in a sample's fitted parameters, key = g'p.  Drawing p = p_hat +
- * s L z (L the Cholesky factor of the covariance, z standard normal, s = 1
- * for the normal or sqrt(nu/W), W ~ chi2(nu), for the multivariate t) and
- * forming g'p is the same as key = g'p_hat + s (L'g)'z, so each sample keeps
- * only its key, the vector a = L'g and its dof.  One pass over the draws, no
- * allocation inside it, two or three normal deviates and one chi-square per
- * sample per draw, on two threads (below).
+ * is linear in a sample's fitted parameters, key = g'p.  Under the normal
+ * model p ~ N(p_hat, C) the key is N(g'p_hat, g'Cg) (a linear form of a
+ * multivariate normal is normal: Anderson, An Introduction to Multivariate
+ * Statistical Analysis, 3rd ed., 2003, ch. 2); under the multivariate t with
+ * nu dof, location p_hat and scale C, it is g'p_hat + sqrt(g'Cg) T with
+ * T ~ t_nu (a linear form of a multivariate t is a univariate t with the
+ * same dof: Kotz & Nadarajah, Multivariate t Distributions, 2004, sec.
+ * 1.10, as tests/test_rank.c cites it; chapter and verse from memory).  So
+ * the Monte Carlo draws one scalar per sample and draw, exactly, whatever
+ * the number of parameters: each sample keeps only its key, the key's scale
+ * sqrt(g'Cg) and its dof.  One pass over the draws, no allocation inside it,
+ * on two threads (below).
  */
+/* GSL's inline gsl_rng_uniform (GSL manual, "Inline functions"): the Monte
+   Carlo's inner loop calls it most, and this saves a call per uniform. */
+#define HAVE_INLINE 1
+
 #include "arrank/rank.h"
 
 #include <math.h>
@@ -31,11 +40,10 @@
 #include "arrank/units.h"
 #include "internal.h"
 
-/* One sample in the Monte Carlo: key = mean + s * sum_k a[k] z_k. */
+/* One sample in the Monte Carlo: key = mean + se T, T ~ t_dof or N(0, 1). */
 typedef struct {
     double mean;
-    double a[3];
-    size_t n_z;
+    double se;  /* sqrt(g'Cg) */
     double dof; /* INFINITY: normal */
 } key_draw;
 
@@ -62,7 +70,9 @@ static void cholesky_small(const double C[3][3], size_t p, double L[3][3])
     }
 }
 
-/* key_draw from parameters p[np], covariance C and key gradient g (a = L'g). */
+/* key_draw from parameters p[np], covariance C and key gradient g.  The scale
+   is |L'g| = sqrt(g'Cg) through the Cholesky factor, which stays real (and
+   exactly 0 for fixed parameters) where rounding makes C slightly indefinite. */
 static key_draw make_draw(const double *p, const double C[3][3], const double *g, size_t np,
                           double dof, int normal)
 {
@@ -72,23 +82,16 @@ static key_draw make_draw(const double *p, const double C[3][3], const double *g
     kd.mean = 0;
     for (size_t k = 0; k < np; k++)
         kd.mean += g[k] * p[k];
-    for (size_t k = 0; k < 3; k++) {
-        kd.a[k] = 0;
+    double s = 0;
+    for (size_t k = 0; k < np; k++) {
+        double a = 0;
         for (size_t i = k; i < np; i++)
-            kd.a[k] += L[i][k] * g[i];
+            a += L[i][k] * g[i];
+        s += a * a;
     }
-    kd.n_z = np;
+    kd.se = sqrt(s);
     kd.dof = normal ? INFINITY : dof;
     return kd;
-}
-
-/* Standard error of the key: sqrt(g'Cg) = |L'g|. */
-static double draw_se(const key_draw *kd)
-{
-    double s = 0;
-    for (size_t k = 0; k < kd->n_z; k++)
-        s += kd->a[k] * kd->a[k];
-    return sqrt(s);
 }
 
 /* Key gradient of a plain Arrhenius fit over (b0, b1). */
@@ -122,6 +125,70 @@ static key_draw arrhenius_draw(const arrank_arrhenius *f, arrank_rank_by by, dou
 }
 
 /*
+ * The variates.  A sample whose key the draw needs is drawn directly: a
+ * Student t by Bailey's polar method (Bailey, Math. Comp. 62:779, 1994),
+ * exact for every nu > 0: (U, V) uniform in the unit disc, W = U^2 + V^2,
+ * then T = U sqrt(nu (W^(-2/nu) - 1) / W) ~ t_nu; it costs about 2.5
+ * uniforms, a log and an expm1, against a normal and a chi-square (a gamma
+ * variate) for N / sqrt(chi2/nu), and expm1(-(2/nu) log W) keeps
+ * W^(-2/nu) - 1 accurate for large nu.  A normal key takes one ziggurat
+ * variate (Marsaglia & Tsang, J. Stat. Softw. 5(8), 2000; GSL's code).
+ *
+ * Bailey's method rests on the t's radial parent: with W uniform on (0, 1)
+ * and an independent uniform angle theta, R(W) cos(theta) ~ t_nu for
+ * R(W)^2 = nu (W^(-2/nu) - 1) (ibid.; for nu = inf, R^2 = -2 ln W, the
+ * normal's, Box & Muller, Ann. Math. Statist. 29:610, 1958).  So |T| <= R(W),
+ * and R falls as W grows: once a draw's best key has reached a level m, a
+ * sample with mean below m can beat it only when W < w = R^-1(u), u = (m -
+ * mean)/se, i.e. w = (1 + u^2/nu)^(-nu/2) (exp(-u^2/2) for the normal).
+ *
+ * So the samples outside the pairwise matrix with w < 1/4 (the tail) are
+ * not drawn one by one.  The events W_j < w_j are independent Bernoulli(w_j);
+ * the next tail sample (in rank order) with its event is found by inverting
+ * the waiting time, P(no event among the first k) = exp(-H_k) with H the
+ * running sum of -ln(1 - w_j): an exponential E = -ln U and a binary search
+ * for the first H_j >= H_last + E (the inversion method: Devroye,
+ * Non-Uniform Random Variate Generation, 1986, ch. II; the sequence starts
+ * afresh after each event).  Then W = w_j A, A uniform, is W given W < w_j,
+ * and only then are the angle and the key drawn.  Each tail sample's W is
+ * still uniform and independent of the rest, so the draw's winner has the
+ * distribution it has when every key is drawn, for one exponential a draw
+ * and one per event (sum(w) of them on average) instead of 2.5 uniforms per
+ * sample.  The other candidates (the head) are drawn first, directly; in a
+ * draw where they leave the best key below m, the tail is drawn directly
+ * too.  Ties (exactly known keys) go to the earlier sample in rank order,
+ * as when every key is drawn in order.
+ */
+#define TWO_PI 6.283185307179586477 /* 2 pi */
+
+/* R(W)^2 of the radial parent (above). */
+static double radius2(double w, double dof, double two_over_dof)
+{
+    return isfinite(dof) ? dof * expm1(-two_over_dof * log(w)) : -2.0 * log(w);
+}
+
+/* A candidate as the draws use it. */
+typedef struct {
+    double mean, se, dof, two_over_dof;
+    double w;     /* tail: the W below which the key can reach the skip level */
+    size_t index; /* place in rank order */
+} cand_draw;
+
+/* The key drawn directly: Bailey's polar method, or a ziggurat normal. */
+static double direct_key(gsl_rng *rng, const cand_draw *k)
+{
+    if (!isfinite(k->dof))
+        return k->mean + k->se * gsl_ran_gaussian_ziggurat(rng, 1.0);
+    double u, w;
+    do {
+        u = 2.0 * gsl_rng_uniform(rng) - 1.0;
+        const double v = 2.0 * gsl_rng_uniform(rng) - 1.0;
+        w = u * u + v * v;
+    } while (!(w <= 1.0 && w > 0.0));
+    return k->mean + k->se * u * sqrt(radius2(w, k->dof, k->two_over_dof) / w);
+}
+
+/*
  * The Monte Carlo runs as ARRANK_RANK_STREAMS independent streams, each with
  * its own generator (GSL taus2, L'Ecuyer 1996: fast, period 2^88) seeded with
  * seed + stream * STREAM_SEED_STEP, and an equal share of the draws.  The
@@ -132,15 +199,26 @@ static key_draw arrhenius_draw(const arrank_arrhenius *f, arrank_rank_by by, dou
 #define STREAM_SEED_STEP 0x9E3779B97F4A7C15ull
 
 typedef struct {
-    const key_draw *kd;
-    const size_t *cand; /* [n_cand] ascending: the samples that can be best */
-    size_t n, n_cand, n_top, draws;
+    const cand_draw *head; /* [n_head] in rank order: the top and every sample drawn directly */
+    const cand_draw *tail; /* [n_tail] in rank order: drawn by thinning */
+    const double *hazard;  /* [n_tail] running sums of -ln(1 - w) */
+    size_t n_head, n_tail, n_top, draws;
+    double skip_level;
     unsigned long seed;
     size_t *best;     /* [n] */
     size_t *beats;    /* [n_top * n_top] */
     double *top_key;  /* [n_top] */
     int failed;
 } mc_stream;
+
+/* The draw's best so far, ties to the earlier sample in rank order. */
+static void offer(double key, size_t index, double *best_key, size_t *arg_best)
+{
+    if (key > *best_key || (key == *best_key && index < *arg_best)) {
+        *best_key = key;
+        *arg_best = index;
+    }
+}
 
 static void *mc_run(void *arg)
 {
@@ -151,34 +229,53 @@ static void *mc_run(void *arg)
         return NULL;
     }
     gsl_rng_set(rng, m->seed);
-    const key_draw *kd = m->kd;
-    const size_t n = m->n_cand, n_top = m->n_top;
+    const size_t n_top = m->n_top;
     for (size_t d = 0; d < m->draws; d++) {
         double best_key = -INFINITY;
-        size_t arg_best = 0;
-        for (size_t c = 0; c < n; c++) {
-            const size_t i = m->cand[c];
-            const key_draw *k = &kd[i];
-            double s = 0;
-            for (size_t j = 0; j < k->n_z; j++)
-                s += k->a[j] * gsl_ran_gaussian_ziggurat(rng, 1.0);
-            /* multivariate t: one chi-square per sample and draw scales the whole vector
-               (Kotz & Nadarajah, Multivariate t Distributions, 2004, eq. 1.1) */
-            if (isfinite(k->dof))
-                s *= sqrt(k->dof / gsl_ran_chisq(rng, k->dof));
-            const double key = k->mean + s;
-            if (i < n_top)
-                m->top_key[i] = key;
-            if (key > best_key) {
-                best_key = key;
-                arg_best = i;
-            }
+        size_t arg_best = SIZE_MAX;
+        for (size_t c = 0; c < m->n_head; c++) {
+            const cand_draw *k = &m->head[c];
+            const double key = direct_key(rng, k);
+            if (k->index < n_top)
+                m->top_key[k->index] = key;
+            offer(key, k->index, &best_key, &arg_best);
         }
-        m->best[arg_best]++;
+        if (best_key >= m->skip_level) {
+            const double *h = m->hazard;
+            double target = 0;
+            for (size_t lo = 0; lo < m->n_tail;) {
+                /* the next tail sample whose W falls below its w: first h[j] >= target */
+                target += -log(gsl_rng_uniform_pos(rng));
+                size_t hi = m->n_tail;
+                while (lo < hi) {
+                    const size_t mid = lo + (hi - lo) / 2;
+                    if (h[mid] >= target)
+                        hi = mid;
+                    else
+                        lo = mid + 1;
+                }
+                if (lo == m->n_tail)
+                    break;
+                const cand_draw *k = &m->tail[lo];
+                const double w = k->w * gsl_rng_uniform_pos(rng);
+                const double t = sqrt(radius2(w, k->dof, k->two_over_dof)) *
+                                 cos(TWO_PI * gsl_rng_uniform(rng));
+                offer(k->mean + k->se * t, k->index, &best_key, &arg_best);
+                target = h[lo];
+                lo++;
+            }
+        } else {
+            for (size_t c = 0; c < m->n_tail; c++)
+                offer(direct_key(rng, &m->tail[c]), m->tail[c].index, &best_key, &arg_best);
+        }
+        m->best[arg_best == SIZE_MAX ? 0 : arg_best]++;
+        /* ties (two exactly known keys) count for neither side */
         for (size_t i = 0; i < n_top; i++)
-            for (size_t j = 0; j < n_top; j++)
-                if (m->top_key[i] > m->top_key[j])
-                    m->beats[i * n_top + j]++;
+            for (size_t j = i + 1; j < n_top; j++) {
+                const double a = m->top_key[i], b = m->top_key[j];
+                m->beats[i * n_top + j] += a > b;
+                m->beats[j * n_top + i] += b > a;
+            }
     }
     gsl_rng_free(rng);
     return NULL;
@@ -190,6 +287,27 @@ static double upper_quantile(double tail, double dof)
     return isfinite(dof) ? gsl_cdf_tdist_Qinv(tail, dof) : gsl_cdf_ugaussian_Qinv(tail);
 }
 
+/* upper_quantile for one tail, remembered per dof (a campaign has few distinct dof). */
+typedef struct {
+    double tail;
+    size_t n, next;
+    double dof[16], q[16];
+} quantile_memo;
+
+static double memo_quantile(quantile_memo *qm, double dof)
+{
+    for (size_t i = 0; i < qm->n; i++)
+        if (qm->dof[i] == dof)
+            return qm->q[i];
+    const double q = upper_quantile(qm->tail, dof);
+    qm->dof[qm->next] = dof;
+    qm->q[qm->next] = q;
+    qm->next = (qm->next + 1) % 16;
+    if (qm->n < 16)
+        qm->n++;
+    return q;
+}
+
 /*
  * The samples that can be best, ascending; the first n_top are always in.
  * For any level m and the sample L with the highest lower quantile
@@ -199,32 +317,60 @@ static double upper_quantile(double tail, double dof)
  * most 2 CULL_TAIL: far below the Monte Carlo's resolution of 1/draws.  Those
  * samples get P(best) = 0 and are not drawn, which makes a campaign of
  * thousands of samples cost what its few contenders cost.
+ *
+ * Samples with few points (a refit on a short kinetic window leaves 2 to 5
+ * dof) pass this test far below the leader: t_2's quantile at 1e-11 is
+ * 2.2e5.  That is their true tail, not a loose bound: P(T_2 > x) is about
+ * 1/(2 x^2), so a key 100 standard errors below the leader is best with
+ * probability near 5e-5, which no cull at 1e-7 may drop (on the bench
+ * campaign the 88 such candidates win 0.4 % of the draws together).  The
+ * Monte Carlo draws most of them by thinning (above).
+ *
+ * *skip_level gets the level m of the thinning: the highest lower quantile
+ * at SKIP_TAIL among the candidates, which a draw's best key reaches with
+ * probability at least 1 - SKIP_TAIL (the sample that sets it has its mean
+ * above m, so it is in the head, drawn before the tail).  Any level gives
+ * the same distribution of counts; this one makes the thinning the rule.
  */
 #define CULL_TAIL 1e-7
-static size_t candidates(const key_draw *kd, size_t n, size_t n_top, size_t *cand)
+#define SKIP_TAIL 0.01
+static size_t candidates(const key_draw *kd, size_t n, size_t n_top, size_t *cand,
+                         double *skip_level)
 {
-    const double tail = CULL_TAIL / (double)n;
-    double level = -INFINITY, last_dof = NAN, q = NAN;
+    quantile_memo cull = {.tail = CULL_TAIL / (double)n}, skip = {.tail = SKIP_TAIL};
+    double level = -INFINITY;
     for (size_t i = 0; i < n; i++) {
-        if (!(kd[i].dof == last_dof)) { /* dof repeat across samples: reuse the quantile */
-            last_dof = kd[i].dof;
-            q = upper_quantile(tail, last_dof);
-        }
-        const double lo = kd[i].mean - q * draw_se(&kd[i]);
+        const double lo = kd[i].mean - memo_quantile(&cull, kd[i].dof) * kd[i].se;
         if (lo > level)
             level = lo;
     }
     size_t k = 0;
-    last_dof = NAN;
+    *skip_level = -INFINITY;
     for (size_t i = 0; i < n; i++) {
-        if (!(kd[i].dof == last_dof)) {
-            last_dof = kd[i].dof;
-            q = upper_quantile(tail, last_dof);
-        }
-        if (i < n_top || !(kd[i].mean + q * draw_se(&kd[i]) < level))
+        if (i < n_top || !(kd[i].mean + memo_quantile(&cull, kd[i].dof) * kd[i].se < level)) {
             cand[k++] = i;
+            const double lo = kd[i].mean - memo_quantile(&skip, kd[i].dof) * kd[i].se;
+            if (lo > *skip_level)
+                *skip_level = lo;
+        }
     }
     return k;
+}
+
+/*
+ * The w of a sample against the skip level m (see the variates above); 2,
+ * never thinned, for a mean at or above m.  0 for se = 0 below m: never
+ * above it.  u is shrunk by SKIP_MARGIN so that rounding in w (log1p and exp,
+ * a few ulp) cannot carry the bound R(w) <= u past m: a relative error e in
+ * w moves R(w)^2 by 2 (1/u^2 + 1/nu) e, and the tail's w < 1/4 means u > 1.6.
+ */
+#define SKIP_MARGIN 1e-6
+static double skip_w(const key_draw *k, double m)
+{
+    const double u = (m - k->mean) / k->se * (1.0 - SKIP_MARGIN);
+    if (!(u > 0))
+        return 2.0;
+    return isfinite(k->dof) ? exp(-0.5 * k->dof * log1p(u * u / k->dof)) : exp(-0.5 * u * u);
 }
 
 /* The Monte Carlo: see the top of this file and arrank_rank_pbest in rank.h. */
@@ -240,18 +386,43 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
     if (n == 0)
         return ARRANK_OK;
     size_t *cand = malloc(n * sizeof *cand);
-    if (!cand)
+    cand_draw *cd = malloc(2 * n * sizeof *cd);
+    double *hazard = malloc(n * sizeof *hazard);
+    if (!cand || !cd || !hazard) {
+        free(cand);
+        free(cd);
+        free(hazard);
         return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu samples of draws", n);
-    const size_t n_cand = candidates(kd, n, n_top, cand);
+    }
+    double skip_level;
+    const size_t n_cand = candidates(kd, n, n_top, cand, &skip_level);
+    /* head and tail (the variates, above) */
+    cand_draw *head = cd, *tail = cd + n;
+    size_t n_head = 0, n_tail = 0;
+    double h = 0;
+    for (size_t c = 0; c < n_cand; c++) {
+        const key_draw *k = &kd[cand[c]];
+        const double w = cand[c] < n_top ? 2.0 : skip_w(k, skip_level);
+        const cand_draw x = {k->mean, k->se, k->dof, 2.0 / k->dof, w, cand[c]};
+        if (w < 0.25) {
+            h += -log1p(-w);
+            hazard[n_tail] = h;
+            tail[n_tail++] = x;
+        } else {
+            head[n_head++] = x;
+        }
+    }
     mc_stream m[ARRANK_RANK_STREAMS];
     memset(m, 0, sizeof m);
     arrank_status st = ARRANK_OK;
     for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++) {
-        m[c].kd = kd;
-        m[c].cand = cand;
-        m[c].n_cand = n_cand;
-        m[c].n = n;
+        m[c].head = head;
+        m[c].tail = tail;
+        m[c].hazard = hazard;
+        m[c].n_head = n_head;
+        m[c].n_tail = n_tail;
         m[c].n_top = n_top;
+        m[c].skip_level = skip_level;
         m[c].draws = draws / ARRANK_RANK_STREAMS + (c < draws % ARRANK_RANK_STREAMS);
         m[c].seed = (unsigned long)(seed + c * STREAM_SEED_STEP);
         m[c].best = calloc(n, sizeof *m[c].best);
@@ -297,6 +468,8 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
         free(m[c].top_key);
     }
     free(cand);
+    free(cd);
+    free(hazard);
     return st;
 }
 
@@ -355,6 +528,20 @@ arrank_status arrank_rank_holm(const double *p, size_t m, double *adj, arrank_er
     return ARRANK_OK;
 }
 
+/* Welch-Satterthwaite dof of key_i - key_j (Welch, Biometrika 34:28, 1947):
+   nu = v^2 / (si^4/nu_i + sj^4/nu_j), v = si^2 + sj^2, an infinite nu adding
+   nothing; INFINITY when both are infinite (then the test is a z test). */
+static inline double welch_dof(double si, double di, double sj, double dj)
+{
+    const double v = si * si + sj * sj;
+    double den = 0;
+    if (isfinite(di))
+        den += si * si * si * si / di;
+    if (isfinite(dj))
+        den += sj * sj * sj * sj / dj;
+    return den > 0 ? v * v / den : INFINITY;
+}
+
 /* Two-sided p of key_i - key_j with Welch-Satterthwaite dof (rank.h). */
 static double pair_p(double ki, double si, double di, double kj, double sj, double dj)
 {
@@ -363,15 +550,10 @@ static double pair_p(double ki, double si, double di, double kj, double sj, doub
     if (!(v > 0))
         return d > 0 ? 0.0 : 1.0;
     const double z = d / sqrt(v);
-    /* Welch (1947): nu = v^2 / (si^4/nu_i + sj^4/nu_j), an infinite nu adds nothing */
-    double den = 0;
-    if (isfinite(di))
-        den += si * si * si * si / di;
-    if (isfinite(dj))
-        den += sj * sj * sj * sj / dj;
-    if (!(den > 0))
+    const double nu = welch_dof(si, di, sj, dj);
+    if (isinf(nu))
         return 2.0 * gsl_cdf_ugaussian_Q(z);
-    return 2.0 * gsl_cdf_tdist_Q(z, v * v / den);
+    return 2.0 * gsl_cdf_tdist_Q(z, nu);
 }
 
 /*
@@ -381,46 +563,83 @@ static double pair_p(double ki, double si, double di, double kj, double sj, doub
  * the family is kept whole (m = G (G - 1)/2 tests), and what is saved is the
  * t CDF of the pairs whose decision does not hang on their exact p.
  *
- * Two facts bound a pair's p from its z alone.  The Welch-Satterthwaite dof
- * lies between min(nu_i, nu_j) and nu_i + nu_j (from its formula, by the
- * power-mean and Cauchy-Schwarz inequalities); and the two-sided t tail
- * P(|T_nu| > z) falls as nu grows (Student's t is more peaked for more
+ * A pair's p is bounded from its z and a bracket of its dof: the two-sided
+ * t tail P(|T_nu| > z) falls as nu grows (Student's t is more peaked for more
  * degrees of freedom: Birnbaum, Ann. Math. Statist. 19:76, 1948, from memory;
- * tests/test_rank.c checks the decisions against the full computation).  With
- * K_lo hypotheses known to be rejected and K_hi an upper bound on the
- * rejections, a pair with p <= alpha/(m - K_lo) is rejected (every p below it
- * in the order passes its own threshold) and a pair with
- * p > alpha/(m - K_hi + 1) is not (its threshold cannot be that high), which
- * are z against two t quantiles.  Sweeping until K_lo and K_hi settle leaves
- * the pairs near Holm's boundary: their exact p (the same GSL call as before)
- * go through the same two tests and then the step-down itself, whose
- * positions are known because every settled rejection lies below them and
- * every settled acceptance above.  The decisions are Holm's exactly; a
- * margin of Z_MARGIN in z keeps rounding in GSL's quantiles off the bounds.
+ * tests/test_rank.c checks the decisions against the full computation), so
+ * with nu in [lo, hi], p <= a when z >= t_crit(a, lo) and p > a when
+ * z < t_crit(a, hi).  The bracket is the cell of a fixed grid,
+ * 2^(k/CELLS_PER_OCTAVE), that holds the pair's own Welch dof (a few flops),
+ * so a sweep needs one quantile per cell in use and level instead of one
+ * CDF per pair.  With K_lo hypotheses known to be rejected and K_hi an upper
+ * bound on the rejections, a pair with p <= alpha/(m - K_lo) is rejected
+ * (every p below it in the order passes its own threshold) and a pair with
+ * p > alpha/(m - K_hi + 1) is not (its threshold cannot be that high).
+ * Sweeping until K_lo and K_hi settle leaves the pairs near Holm's boundary:
+ * their exact p (GSL's t CDF at the Welch dof) go through the same two tests
+ * and then the step-down itself, whose positions are known because every
+ * settled rejection lies below them and every settled acceptance above.  The
+ * decisions are Holm's exactly; a margin of Z_MARGIN in z keeps rounding in
+ * GSL's quantiles off the bounds.
  */
 #define Z_MARGIN 1e-7
 enum { PAIR_OPEN = 0, PAIR_REJECTED = 1, PAIR_KEPT = 2 };
 
-/* Two-sided critical |t| for level a and dof nu, remembered for the last
-   few (a, nu): the sweep asks for the same few again and again. */
+/* The dof grid: eighths of an octave, [2^e (1 + s/8), 2^e (1 + (s + 1)/8)],
+   for 2^CELL_OCT_MIN <= nu < 2^CELL_OCT_MAX (neighbouring edges at most 12.5 %
+   apart), read off the exponent and the top three fraction bits of nu (IEEE
+   754 binary64); cell 0 is (0, 2^CELL_OCT_MIN), then [2^CELL_OCT_MAX, inf)
+   and the z test (both dof infinite). */
+#define CELL_BITS 3
+#define CELLS_PER_OCTAVE (1 << CELL_BITS)
+#define CELL_OCT_MIN (-4)
+#define CELL_OCT_MAX 20
+enum {
+    CELL_STEPS = (CELL_OCT_MAX - CELL_OCT_MIN) * CELLS_PER_OCTAVE,
+    CELL_ABOVE = CELL_STEPS + 1,
+    CELL_Z = CELL_STEPS + 2,
+    N_CELLS = CELL_STEPS + 3
+};
+
+typedef struct {
+    double lo[N_CELLS], hi[N_CELLS]; /* dof bracket of each cell */
+} dof_cells;
+
+static void cells_init(dof_cells *dc)
+{
+    dc->lo[0] = 0.0;
+    dc->hi[0] = ldexp(1.0, CELL_OCT_MIN);
+    for (int e = CELL_OCT_MIN; e < CELL_OCT_MAX; e++)
+        for (int s = 0; s < CELLS_PER_OCTAVE; s++) {
+            const int c = 1 + (e - CELL_OCT_MIN) * CELLS_PER_OCTAVE + s;
+            dc->lo[c] = ldexp(1.0 + (double)s / CELLS_PER_OCTAVE, e);
+            dc->hi[c] = ldexp(1.0 + (double)(s + 1) / CELLS_PER_OCTAVE, e);
+        }
+    dc->lo[CELL_ABOVE] = ldexp(1.0, CELL_OCT_MAX);
+    dc->hi[CELL_ABOVE] = INFINITY;
+    dc->lo[CELL_Z] = dc->hi[CELL_Z] = INFINITY;
+}
+
+/* The cell whose bracket holds nu > 0. */
+static unsigned char cell_of(double nu)
+{
+    if (isinf(nu))
+        return CELL_Z;
+    uint64_t bits;
+    memcpy(&bits, &nu, sizeof bits);
+    const int e = (int)((bits >> 52) & 0x7ff) - 1023;
+    if (e < CELL_OCT_MIN)
+        return 0;
+    if (e >= CELL_OCT_MAX)
+        return CELL_ABOVE;
+    const int s = (int)((bits >> (52 - CELL_BITS)) & (CELLS_PER_OCTAVE - 1));
+    return (unsigned char)(1 + (e - CELL_OCT_MIN) * CELLS_PER_OCTAVE + s);
+}
+
+/* Two-sided critical |t| for level a at dof nu: infinite for nu = 0. */
 static double two_sided_crit(double a, double nu)
 {
-    enum { MEMO = 16 };
-    static _Thread_local struct {
-        double a, nu, t;
-    } memo[MEMO];
-    static _Thread_local unsigned n_memo, next_memo;
-    for (unsigned i = 0; i < n_memo; i++)
-        if (memo[i].a == a && memo[i].nu == nu)
-            return memo[i].t;
-    const double t = upper_quantile(0.5 * a, nu);
-    memo[next_memo].a = a;
-    memo[next_memo].nu = nu;
-    memo[next_memo].t = t;
-    next_memo = (next_memo + 1) % MEMO;
-    if (n_memo < MEMO)
-        n_memo++;
-    return t;
+    return nu > 0 ? upper_quantile(0.5 * a, nu) : INFINITY;
 }
 
 static int compare_double(const void *a, const void *b)
@@ -450,69 +669,91 @@ arrank_status arrank_rank_groups(const double *key, const double *key_se, const 
                                                      "error or dof for the group tests", i + 1);
     double *p = malloc((m ? m : 1) * sizeof *p);
     double *z = malloc((m ? m : 1) * sizeof *z);
+    size_t *open = malloc((m ? m : 1) * sizeof *open);
     unsigned char *state = calloc(m ? m : 1, 1);
-    if (!p || !z || !state) {
+    unsigned char *cell = malloc(m ? m : 1);
+    if (!p || !z || !open || !state || !cell) {
         free(p);
         free(z);
+        free(open);
         free(state);
+        free(cell);
         return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu pairwise tests", m);
     }
+    dof_cells dc;
+    cells_init(&dc);
     /* pair (i, j), i < j, at row-major upper-triangle position */
 #define PAIR(i, j) ((i) * (2 * G - (i)-1) / 2 + ((j) - (i)-1))
-    size_t k_lo = 0, k_hi = m;
+    size_t k_lo = 0, k_hi = m, n_open = 0;
     for (size_t i = 0; i < G; i++)
         for (size_t j = i + 1; j < G; j++) {
             const size_t h = PAIR(i, j);
             const double v = key_se[i] * key_se[i] + key_se[j] * key_se[j];
             const double d = fabs(key[i] - key[j]);
-            /* pair_p's exact answers without a CDF: 0 or 1 */
-            z[h] = v > 0 ? d / sqrt(v) : (d > 0 ? INFINITY : 0.0);
             if (!(v > 0)) {
+                /* pair_p's exact answers without a CDF: 0 or 1 */
+                z[h] = d > 0 ? INFINITY : 0.0;
                 p[h] = d > 0 ? 0.0 : 1.0;
                 state[h] = d > 0 ? PAIR_REJECTED : PAIR_KEPT;
                 if (d > 0)
                     k_lo++;
                 else
                     k_hi--;
+                continue;
             }
+            z[h] = d / sqrt(v);
+            cell[h] = cell_of(welch_dof(key_se[i], dof[i], key_se[j], dof[j]));
+            open[n_open++] = h;
         }
-    /* sweep with bounds on p until nothing more settles */
-    for (int changed = 1; changed;) {
+    /* sweep with bounds on p until nothing more settles; crit < 0: not yet computed */
+    double crit_rej[N_CELLS], crit_keep[N_CELLS];
+    for (int changed = n_open > 0; changed;) {
         changed = 0;
         const double a_lo = alpha / (double)(m - k_lo);
         const double a_hi = alpha / (double)(m - k_hi + 1);
-        for (size_t i = 0; i < G; i++)
-            for (size_t j = i + 1; j < G; j++) {
-                const size_t h = PAIR(i, j);
-                if (state[h] != PAIR_OPEN)
-                    continue;
-                const double nu_min = fmin(dof[i], dof[j]), nu_max = dof[i] + dof[j];
-                if (k_lo < m && z[h] >= two_sided_crit(a_lo, nu_min) * (1.0 + Z_MARGIN)) {
+        for (size_t c = 0; c < N_CELLS; c++)
+            crit_rej[c] = crit_keep[c] = -1.0;
+        size_t still = 0;
+        for (size_t q = 0; q < n_open; q++) {
+            const size_t h = open[q];
+            const unsigned c = cell[h];
+            if (k_lo < m) {
+                if (crit_rej[c] < 0)
+                    crit_rej[c] = two_sided_crit(a_lo, dc.lo[c]) * (1.0 + Z_MARGIN);
+                if (z[h] >= crit_rej[c]) {
                     state[h] = PAIR_REJECTED;
                     k_lo++;
                     changed = 1;
-                } else if (a_hi < 1 && z[h] < two_sided_crit(a_hi, nu_max) * (1.0 - Z_MARGIN)) {
+                    continue;
+                }
+            }
+            if (a_hi < 1) {
+                if (crit_keep[c] < 0)
+                    crit_keep[c] = two_sided_crit(a_hi, dc.hi[c]) * (1.0 - Z_MARGIN);
+                if (z[h] < crit_keep[c]) {
                     state[h] = PAIR_KEPT;
                     k_hi--;
                     changed = 1;
+                    continue;
                 }
             }
+            open[still++] = h;
+        }
+        n_open = still;
     }
     /* the pairs near the boundary: exact p, then the same two tests on it */
-    size_t n_open = 0;
-    for (size_t i = 0; i < G; i++)
-        for (size_t j = i + 1; j < G; j++) {
-            const size_t h = PAIR(i, j);
-            if (state[h] == PAIR_OPEN) {
-                p[h] = pair_p(key[i], key_se[i], dof[i], key[j], key_se[j], dof[j]);
-                n_open++;
+    if (n_open > 0)
+        for (size_t i = 0; i < G; i++)
+            for (size_t j = i + 1; j < G; j++) {
+                const size_t h = PAIR(i, j);
+                if (state[h] == PAIR_OPEN)
+                    p[h] = pair_p(key[i], key_se[i], dof[i], key[j], key_se[j], dof[j]);
             }
-        }
     for (int changed = n_open > 0; changed;) {
         changed = 0;
-        for (size_t h = 0; h < m; h++) {
-            if (state[h] != PAIR_OPEN)
-                continue;
+        size_t still = 0;
+        for (size_t q = 0; q < n_open; q++) {
+            const size_t h = open[q];
             /* (m - k) p at any position k >= k_lo is at most (m - k_lo) p */
             if ((double)(m - k_lo) * p[h] <= alpha) {
                 state[h] = PAIR_REJECTED;
@@ -522,15 +763,16 @@ arrank_status arrank_rank_groups(const double *key, const double *key_se, const 
                 state[h] = PAIR_KEPT;
                 k_hi--;
                 changed = 1;
+            } else {
+                open[still++] = h;
             }
         }
+        n_open = still;
     }
     /* step-down over what is left: settled rejections come first, in order */
     double p_stop = INFINITY; /* open pairs with p below this are rejected */
-    n_open = 0;
-    for (size_t h = 0; h < m; h++)
-        if (state[h] == PAIR_OPEN)
-            z[n_open++] = p[h];
+    for (size_t q = 0; q < n_open; q++)
+        z[q] = p[open[q]];
     qsort(z, n_open, sizeof *z, compare_double);
     for (size_t t = 0; t < n_open; t++) {
         double v = (double)(m - (k_lo + t)) * z[t];
@@ -554,7 +796,9 @@ arrank_status arrank_rank_groups(const double *key, const double *key_se, const 
 #undef PAIR
     free(p);
     free(z);
+    free(open);
     free(state);
+    free(cell);
     return ARRANK_OK;
 }
 
@@ -1014,7 +1258,7 @@ arrank_status arrank_rank_compute(arrank_analysis *a, arrank_error *err)
         }
         kd[k] = result_draw(res, opt);
         key[k] = kd[k].mean;
-        se[k] = draw_se(&kd[k]);
+        se[k] = kd[k].se;
         dof[k] = kd[k].dof;
         fits[k] = &res->fit;
         if (k < rs->n_top) {
