@@ -31,6 +31,7 @@
 #include "arrank/fit.h"
 #include "arrank/units.h"
 #include "internal.h"
+#include "number.h"
 
 /* ---- thresholds ----------------------------------------------------------- */
 
@@ -1838,12 +1839,19 @@ static void describe(work *wk, const arrank_result *res, const size_t *sorted, s
                  "(needs %d points at %d temperatures)",
              cv->n, count_temps(wk->pt, sorted, n), MIN_TEST_POINTS, MIN_TEST_TEMPS);
     else if (!cv->detected) {
-        char scat[64] = "";
-        if (isfinite(wk->scatter))
-            snprintf(scat, sizeof scat, " and %.1f %% scatter", 100.0 * wk->scatter);
-        note(wk, "curvature not detected: quadratic term t = %.2f, p = %.2g (level %.2g) with "
+        /* every sample that passes gets this note: its numbers go through
+           number.c's exact formatters (the same bytes as printf, faster) */
+        char scat[64] = "", t_txt[48], p_txt[48], lv_txt[48], sc_txt[48];
+        if (isfinite(wk->scatter)) {
+            arrank_format_fixed(sc_txt, sizeof sc_txt, 1, 100.0 * wk->scatter);
+            snprintf(scat, sizeof scat, " and %s %% scatter", sc_txt);
+        }
+        arrank_format_fixed(t_txt, sizeof t_txt, 2, cv->quad_t);
+        arrank_format_general(p_txt, sizeof p_txt, 2, cv->quad_p);
+        arrank_format_general(lv_txt, sizeof lv_txt, 2, cv->level);
+        note(wk, "curvature not detected: quadratic term t = %s, p = %s (level %s) with "
                  "%zu points%s; only bending well beyond the scatter would show",
-             cv->quad_t, cv->quad_p, cv->level, cv->n, scat);
+             t_txt, p_txt, lv_txt, cv->n, scat);
     }
     else {
         char local[160] = "";
@@ -2076,8 +2084,8 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
             cv->direction = q.t < 0 ? ARRANK_BEND_DOWN : ARRANK_BEND_UP;
         /* The series-resistance model can only bend the plot down, and it
            serves as evidence for the cause of a detected bend; the decision
-           itself is the quadratic test's.  Fitting it (a profile of some 30
-           nonlinear fits) only where a downward bend was detected keeps a
+           itself is the quadratic test's.  Fitting it (a profile over 31
+           conductances, then a 3-parameter nonlinear fit) only where a downward bend was detected keeps a
            campaign of thousands of straight samples fast and changes no flag. */
         if (cv->detected && cv->direction == ARRANK_BEND_DOWN)
             fit_series(&wk, base, n, &lf_all, cv);
@@ -2182,7 +2190,12 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
     memcpy(win, cand, nc * sizeof *win); /* cand is sorted by T already */
     int still_bent = 0;
     quad_test qc;
-    int start_bent = cv->tested && fit_quad(&wk, cand, nc, &qc) == 0 && bends_down(&qc);
+    int start_bent = 0;
+    if (cv->tested && nc == n) { /* cand is base: the test above is this one */
+        qc = q;
+        start_bent = bends_down(&qc);
+    } else if (cv->tested)
+        start_bent = fit_quad(&wk, cand, nc, &qc) == 0 && bends_down(&qc);
     size_t ngc = group_temps(s->points, cand, nc, grp_c);
     if (start_bent && ngc <= MIN_WINDOW_TEMPS)
         still_bent = 1;
