@@ -97,6 +97,9 @@ typedef struct {
 
 int cli_session_open(cli_args *args, int need_T, cli_session *session);
 void cli_session_free(cli_session *session);
+/* At the end of a command that succeeded: keep the session for the exit
+   instead of freeing it (ARRANK_FREE_AT_EXIT=1: free it). */
+void cli_session_leave(cli_session *session);
 
 /* Tell on stderr which samples could not be fitted (FILE:LINE: reason). */
 void cli_report_unfitted(const cli_session *session);
