@@ -1,6 +1,7 @@
 /*
  * main.c - the arrank program: the command table and dispatch.
  */
+#include <malloc.h>
 #include <stdio.h>
 #include <string.h>
 
@@ -33,6 +34,8 @@ static void list_commands(FILE *f)
 
 int main(int argc, char **argv)
 {
+    mallopt(M_TOP_PAD, 16 << 20);
+    mallopt(M_TRIM_THRESHOLD, 256 << 20);
     if (argc < 2) {
         list_commands(stderr);
         return EXIT_USAGE;

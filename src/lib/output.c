@@ -416,15 +416,36 @@ static void fmt_rate(double v, char *buf, size_t n)
 }
 
 /* Table rows, gathered and written with one fwrite per few rows: per-cell
-   stdio calls were a good part of printing 10,000 rows. */
+   stdio calls were a good part of printing 10,000 rows.  With f NULL the rows
+   go to a growing block in memory (mem, mem_n) instead, for the workers. */
 typedef struct {
     FILE *f;
     size_t n;
     char buf[4096];
+    char *mem;
+    size_t mem_n, mem_cap;
+    int nomem;
 } row_buf;
 
 static void row_put(row_buf *r, const char *s, size_t len)
 {
+    if (!r->f) {
+        if (r->mem_n + len > r->mem_cap) {
+            size_t cap = r->mem_cap ? 2 * r->mem_cap : 1 << 16;
+            while (cap < r->mem_n + len)
+                cap *= 2;
+            char *m = r->nomem ? NULL : realloc(r->mem, cap);
+            if (!m) {
+                r->nomem = 1;
+                return;
+            }
+            r->mem = m;
+            r->mem_cap = cap;
+        }
+        memcpy(r->mem + r->mem_n, s, len);
+        r->mem_n += len;
+        return;
+    }
     if (len > sizeof r->buf - r->n) {
         fwrite(r->buf, 1, r->n, r->f);
         r->n = 0;
@@ -561,6 +582,191 @@ static void write_model_table(const arrank_analysis *a, FILE *f)
                    "    determined alone; fix n (0 or 1) or widen the span\n");
 }
 
+/* What every row of the table needs: the layout and the analysis. */
+typedef struct {
+    const arrank_analysis *a;
+    const size_t *order;
+    size_t name_w, w_rank, w_pb, w_grp, w_n, w_T, w_ea, w_lna, w_rate, w_boot;
+    int have_T, have_stats;
+} table_ctx;
+
+/* Row k of the table (display order) into r. */
+static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_flags,
+                      int *any_error)
+{
+    const arrank_analysis *a = tc->a;
+    const arrank_options *o = &a->options;
+    const size_t name_w = tc->name_w, w_rank = tc->w_rank, w_pb = tc->w_pb, w_grp = tc->w_grp,
+                 w_n = tc->w_n, w_T = tc->w_T, w_ea = tc->w_ea, w_lna = tc->w_lna,
+                 w_rate = tc->w_rate, w_boot = tc->w_boot;
+    const int have_T = tc->have_T, have_stats = tc->have_stats;
+    const arrank_result *res = &a->results[tc->order[k]];
+    const arrank_arrhenius *fit = &res->fit;
+    char name[4 * NAME_WIDTH_MAX + 8], cell[128];
+    fit_text(res->sample->id, name_w, name, sizeof name);
+    if (a->n_ranked) {
+        if (res->rank)
+            int_text(cell, res->rank);
+        else
+            snprintf(cell, sizeof cell, "-");
+        row_pad(r, cell, w_rank, 1);
+        row_put(r, "  ", 2);
+        if (have_stats) {
+            const struct arrank_sample_stats *ss = res->rank ? res->stats : NULL;
+            if (ss && isfinite(ss->p_best))
+                arrank_format_fixed(cell, sizeof cell, 3, ss->p_best);
+            else
+                snprintf(cell, sizeof cell, "-");
+            row_pad(r, cell, w_pb, 1);
+            row_put(r, "  ", 2);
+            if (ss && ss->group > 0)
+                int_text(cell, ss->group);
+            else
+                snprintf(cell, sizeof cell, "-");
+            row_pad(r, cell, w_grp, 1);
+            row_put(r, "  ", 2);
+        }
+    }
+    row_pad(r, name, name_w, 0);
+    row_put(r, "  ", 2);
+    if (res->error) {
+        snprintf(cell, sizeof cell, "%zu", res->sample->n_points);
+        row_pad(r, cell, w_n, 1);
+        row_put(r, "  ", 2);
+        row_text(r, "not fitted: ");
+        row_text(r, res->error);
+        row_put(r, "\n", 1);
+        *any_error = 1;
+        return;
+    }
+    double t = arrank_t_quantile(o->confidence, fit->dof);
+    if (fit->n < res->sample->n_points)
+        snprintf(cell, sizeof cell, "%zu/%zu", fit->n, res->sample->n_points);
+    else
+        int_text(cell, (long long)fit->n);
+    row_pad(r, cell, w_n, 1);
+    row_put(r, "  ", 2);
+    {
+        char lo[48], hi[48];
+        if (arrank_format_fixed(lo, sizeof lo, 0, fit->T_min_K) >= (int)sizeof lo ||
+            arrank_format_fixed(hi, sizeof hi, 0, fit->T_max_K) >= (int)sizeof hi)
+            snprintf(cell, sizeof cell, "%.0f-%.0f", fit->T_min_K, fit->T_max_K);
+        else
+            join_cut(cell, sizeof cell, (const char *const[]){lo, "-", hi}, 3);
+    }
+    row_pad(r, cell, w_T, 0);
+    row_put(r, "  ", 2);
+    double ea = fit->ea_J_mol / 1e3, se = fit->ea_se_J_mol / 1e3;
+    fmt_interval(cell, sizeof cell, 1, ea, ea - t * se, ea + t * se);
+    row_pad(r, cell, w_ea, 0);
+    row_put(r, "  ", 2);
+    fmt_interval(cell, sizeof cell, 2, fit->ln_A, fit->ln_A - t * fit->ln_A_se,
+                 fit->ln_A + t * fit->ln_A_se);
+    row_pad(r, cell, w_lna, 0);
+    if (have_T) {
+        row_put(r, "  ", 2);
+        char r0[48], r1[48], r2[48];
+        fmt_rate(res->at_T.rate, r0, sizeof r0);
+        fmt_rate(res->at_T.rate_lo, r1, sizeof r1);
+        fmt_rate(res->at_T.rate_hi, r2, sizeof r2);
+        interval_text(cell, sizeof cell, r0, r1, r2); /* %.3g: a few bytes each */
+        row_pad(r, cell, w_rate, 0);
+        if (have_stats && o->bootstrap > 0) {
+            row_put(r, "  ", 2);
+            const struct arrank_sample_stats *ss = res->stats;
+            if (ss && ss->has_bootstrap) {
+                fmt_rate(ss->rate_lo_boot, r1, sizeof r1);
+                fmt_rate(ss->rate_hi_boot, r2, sizeof r2);
+                snprintf(cell, sizeof cell, "[%s, %s]", r1, r2);
+            } else {
+                snprintf(cell, sizeof cell, "-");
+            }
+            row_pad(r, cell, w_boot, 0);
+        }
+    }
+    char flags[512];
+    flags_joined(res->flags, flags, sizeof flags, ", ");
+    row_put(r, "  ", 2);
+    row_text(r, flags[0] ? flags : "-");
+    row_put(r, "\n", 1);
+    *seen_flags |= res->flags;
+}
+
+/*
+ * The rows are formatted on the workers (util.c), TABLE_BLOCK rows at a time:
+ * each worker formats a contiguous share of the block into its own buffer and
+ * the buffers are written in order, so the table is the same for any number
+ * of workers (tests/test_workers.c).
+ */
+#define TABLE_BLOCK 4096
+#define TABLE_MIN_PER_WORKER 256
+#define TABLE_MAX_WORKERS 8
+
+typedef struct {
+    const table_ctx *tc;
+    size_t from, to, workers;
+    row_buf rows[TABLE_MAX_WORKERS];
+    unsigned seen[TABLE_MAX_WORKERS];
+    int any_error[TABLE_MAX_WORKERS];
+} table_job;
+
+static void table_worker(void *ctx, size_t w)
+{
+    table_job *j = ctx;
+    size_t n = j->to - j->from, share = (n + j->workers - 1) / j->workers;
+    size_t lo = j->from + w * share, hi = lo + share < j->to ? lo + share : j->to;
+    row_buf *r = &j->rows[w];
+    r->mem_n = 0;
+    for (size_t k = lo; k < hi; k++)
+        table_row(j->tc, k, r, &j->seen[w], &j->any_error[w]);
+}
+
+static arrank_status table_rows(const table_ctx *tc, FILE *f, unsigned *seen_flags,
+                                int *any_error, arrank_error *err)
+{
+    const size_t n = tc->a->n_results;
+    size_t workers = arrank_workers_for(n, TABLE_MIN_PER_WORKER);
+    if (workers > TABLE_MAX_WORKERS)
+        workers = TABLE_MAX_WORKERS;
+    if (workers <= 1) {
+        row_buf *row = calloc(1, sizeof *row);
+        if (!row)
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        row->f = f;
+        row->n = 0;
+        for (size_t k = 0; k < n; k++)
+            table_row(tc, k, row, seen_flags, any_error);
+        fwrite(row->buf, 1, row->n, f);
+        free(row);
+        return ARRANK_OK;
+    }
+    table_job *j = calloc(1, sizeof *j);
+    if (!j)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    j->tc = tc;
+    j->workers = workers;
+    arrank_status st = ARRANK_OK;
+    for (size_t from = 0; from < n && st == ARRANK_OK; from += TABLE_BLOCK) {
+        j->from = from;
+        j->to = from + TABLE_BLOCK < n ? from + TABLE_BLOCK : n;
+        arrank_workers_run(workers, table_worker, j);
+        for (size_t w = 0; w < workers; w++) {
+            if (j->rows[w].nomem) {
+                st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+                break;
+            }
+            fwrite(j->rows[w].mem, 1, j->rows[w].mem_n, f);
+        }
+    }
+    for (size_t w = 0; w < workers; w++) {
+        *seen_flags |= j->seen[w];
+        *any_error |= j->any_error[w];
+        free(j->rows[w].mem);
+    }
+    free(j);
+    return st;
+}
+
 static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error *err)
 {
     const arrank_campaign *c = a->campaign;
@@ -634,104 +840,24 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
     size_t *order = display_order(a);
     if (!order)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-    row_buf row;
-    row.f = f;
-    row.n = 0;
-    for (size_t k = 0; k < a->n_results; k++) {
-        const arrank_result *res = &a->results[order[k]];
-        const arrank_arrhenius *fit = &res->fit;
-        char name[4 * NAME_WIDTH_MAX + 8], cell[128];
-        row_buf *r = &row;
-        fit_text(res->sample->id, name_w, name, sizeof name);
-        if (a->n_ranked) {
-            if (res->rank)
-                int_text(cell, res->rank);
-            else
-                snprintf(cell, sizeof cell, "-");
-            row_pad(r, cell, w_rank, 1);
-            row_put(r, "  ", 2);
-            if (have_stats) {
-                const struct arrank_sample_stats *ss = res->rank ? res->stats : NULL;
-                if (ss && isfinite(ss->p_best))
-                    arrank_format_fixed(cell, sizeof cell, 3, ss->p_best);
-                else
-                    snprintf(cell, sizeof cell, "-");
-                row_pad(r, cell, w_pb, 1);
-                row_put(r, "  ", 2);
-                if (ss && ss->group > 0)
-                    int_text(cell, ss->group);
-                else
-                    snprintf(cell, sizeof cell, "-");
-                row_pad(r, cell, w_grp, 1);
-                row_put(r, "  ", 2);
-            }
-        }
-        row_pad(r, name, name_w, 0);
-        row_put(r, "  ", 2);
-        if (res->error) {
-            snprintf(cell, sizeof cell, "%zu", res->sample->n_points);
-            row_pad(r, cell, w_n, 1);
-            row_put(r, "  ", 2);
-            row_text(r, "not fitted: ");
-            row_text(r, res->error);
-            row_put(r, "\n", 1);
-            any_error = 1;
-            continue;
-        }
-        double t = arrank_t_quantile(o->confidence, fit->dof);
-        if (fit->n < res->sample->n_points)
-            snprintf(cell, sizeof cell, "%zu/%zu", fit->n, res->sample->n_points);
-        else
-            int_text(cell, (long long)fit->n);
-        row_pad(r, cell, w_n, 1);
-        row_put(r, "  ", 2);
-        {
-            char lo[48], hi[48];
-            if (arrank_format_fixed(lo, sizeof lo, 0, fit->T_min_K) >= (int)sizeof lo ||
-                arrank_format_fixed(hi, sizeof hi, 0, fit->T_max_K) >= (int)sizeof hi)
-                snprintf(cell, sizeof cell, "%.0f-%.0f", fit->T_min_K, fit->T_max_K);
-            else
-                join_cut(cell, sizeof cell, (const char *const[]){lo, "-", hi}, 3);
-        }
-        row_pad(r, cell, w_T, 0);
-        row_put(r, "  ", 2);
-        double ea = fit->ea_J_mol / 1e3, se = fit->ea_se_J_mol / 1e3;
-        fmt_interval(cell, sizeof cell, 1, ea, ea - t * se, ea + t * se);
-        row_pad(r, cell, w_ea, 0);
-        row_put(r, "  ", 2);
-        fmt_interval(cell, sizeof cell, 2, fit->ln_A, fit->ln_A - t * fit->ln_A_se,
-                     fit->ln_A + t * fit->ln_A_se);
-        row_pad(r, cell, w_lna, 0);
-        if (have_T) {
-            row_put(r, "  ", 2);
-            char r0[48], r1[48], r2[48];
-            fmt_rate(res->at_T.rate, r0, sizeof r0);
-            fmt_rate(res->at_T.rate_lo, r1, sizeof r1);
-            fmt_rate(res->at_T.rate_hi, r2, sizeof r2);
-            interval_text(cell, sizeof cell, r0, r1, r2); /* %.3g: a few bytes each */
-            row_pad(r, cell, w_rate, 0);
-            if (have_stats && o->bootstrap > 0) {
-                row_put(r, "  ", 2);
-                const struct arrank_sample_stats *ss = res->stats;
-                if (ss && ss->has_bootstrap) {
-                    fmt_rate(ss->rate_lo_boot, r1, sizeof r1);
-                    fmt_rate(ss->rate_hi_boot, r2, sizeof r2);
-                    snprintf(cell, sizeof cell, "[%s, %s]", r1, r2);
-                } else {
-                    snprintf(cell, sizeof cell, "-");
-                }
-                row_pad(r, cell, w_boot, 0);
-            }
-        }
-        char flags[512];
-        flags_joined(res->flags, flags, sizeof flags, ", ");
-        row_put(r, "  ", 2);
-        row_text(r, flags[0] ? flags : "-");
-        row_put(r, "\n", 1);
-        seen_flags |= res->flags;
-    }
-    fwrite(row.buf, 1, row.n, f);
+    const table_ctx tc = {.a = a,
+                          .order = order,
+                          .name_w = name_w,
+                          .w_rank = w_rank,
+                          .w_pb = w_pb,
+                          .w_grp = w_grp,
+                          .w_n = w_n,
+                          .w_T = w_T,
+                          .w_ea = w_ea,
+                          .w_lna = w_lna,
+                          .w_rate = w_rate,
+                          .w_boot = w_boot,
+                          .have_T = have_T,
+                          .have_stats = have_stats};
+    arrank_status rows_st = table_rows(&tc, f, &seen_flags, &any_error, err);
     free(order);
+    if (rows_st != ARRANK_OK)
+        return rows_st;
 
     if (seen_flags || any_error)
         fputc('\n', f);
