@@ -1002,6 +1002,66 @@ static void test_large_campaign(void **state)
  * R T / P = 22.413 969 54 L/mol (CODATA 2018 molar volume, from memory; it
  * follows from the exact R), so 50 mL/min is 3.7180e-5 mol/s.
  */
+/* Files around the reader's first read (64 KiB, campaign.c READ_FIRST_BYTES)
+   and far past it, empty, and of one line: read from a folder, each gives the
+   sample arrank_sample_parse gives from the same bytes in memory. */
+static void test_read_sizes(void **state)
+{
+    (void)state;
+    static const size_t sizes[] = {0, 40, 65535, 65536, 65537, 131072, 200001, 1000003};
+    for (size_t k = 0; k < sizeof sizes / sizeof sizes[0]; k++) {
+        const size_t want = sizes[k];
+        char *text = malloc(want + 64);
+        assert_non_null(text);
+        size_t n = 0;
+        if (want > 0) {
+            n = (size_t)snprintf(text, want + 64, "T [K],rate [umol/(g*s)]\n");
+            /* rows of 24 bytes; the last one padded with blanks to the size wanted */
+            for (unsigned row = 0; n + 24 <= want; row++)
+                n += (size_t)snprintf(text + n, want + 64 - n, "%9.3f,%12.6g\n",
+                                      480.0 + 1e-3 * (double)(row % 90001),
+                                      1.0 + 1e-6 * (double)row);
+            while (n < want)
+                text[n++] = ' ';
+        }
+        text[n] = '\0';
+        assert_int_equal(n, want);
+        char *dir = make_temp_dir();
+        write_file(dir, "S-01.csv", text);
+        arrank_campaign *c = NULL;
+        arrank_error e1, e2;
+        arrank_error_clear(&e1);
+        arrank_error_clear(&e2);
+        arrank_status st1 = arrank_campaign_load(dir, units, &c, &e1);
+        arrank_sample s;
+        arrank_status st2 = arrank_sample_parse("S-01.csv", text, n, units, NULL, &s, &e2);
+        assert_int_equal(st1, st2);
+        if (st1 == ARRANK_OK) {
+            assert_int_equal(c->samples[0].n_points, s.n_points);
+            assert_true(s.n_points > 0);
+            for (size_t i = 0; i < s.n_points; i++) { /* field by field: the struct has padding */
+                const arrank_point *a = &c->samples[0].points[i], *b = &s.points[i];
+                assert_memory_equal(&a->temp_K, &b->temp_K, sizeof a->temp_K);
+                assert_memory_equal(&a->rate, &b->rate, sizeof a->rate);
+                assert_memory_equal(&a->rate_sd, &b->rate_sd, sizeof a->rate_sd);
+                assert_int_equal(a->line, b->line);
+                assert_int_equal(a->run, b->run);
+            }
+            arrank_sample_clear(&s);
+            arrank_campaign_free(c);
+        } else {
+            assert_null(c);
+            assert_string_equal(strrchr(e1.message, ':') ? strrchr(e1.message, ':')
+                                                         : e1.message,
+                                strrchr(e2.message, ':') ? strrchr(e2.message, ':')
+                                                         : e2.message);
+        }
+        remove_tree(dir);
+        free(dir);
+        free(text);
+    }
+}
+
 static void test_derived_rates(void **state)
 {
     (void)state;
@@ -1057,6 +1117,7 @@ int main(void)
         cmocka_unit_test(test_folder),
         cmocka_unit_test(test_bad_corpus),
         cmocka_unit_test(test_large_campaign),
+        cmocka_unit_test(test_read_sizes),
         cmocka_unit_test(test_derived_rates),
     };
     return cmocka_run_group_tests(tests, setup, teardown);

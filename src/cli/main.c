@@ -34,6 +34,9 @@ static void list_commands(FILE *f)
 
 int main(int argc, char **argv)
 {
+    /* A campaign is many small blocks allocated on several threads: grow the
+       heap 16 MB at a time and do not hand memory back before the exit, so the
+       kernel is asked a few times rather than thousands (glibc mallopt). */
     mallopt(M_TOP_PAD, 16 << 20);
     mallopt(M_TRIM_THRESHOLD, 256 << 20);
     if (argc < 2) {

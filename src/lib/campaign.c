@@ -1464,6 +1464,9 @@ static void ini_entries_free(ini_state *st)
  * messages) with one read into *buf (grown as needed, reused between files).
  * O_NONBLOCK keeps a FIFO from hanging the open; it is refused just after.
  */
+/* The first read's size: more than any sample file a rig writes. */
+#define READ_FIRST_BYTES (64 * 1024)
+
 static arrank_status read_file(int dirfd, const char *name, const char *path, char **buf,
                                size_t *cap, size_t *len, arrank_error *err)
 {
@@ -1472,6 +1475,30 @@ static arrank_status read_file(int dirfd, const char *name, const char *path, ch
     if (fd < 0) {
         os_message(errno, os, sizeof os);
         return arrank_error_at(err, ARRANK_EIO, path, 0, 0, "cannot open the file: %s", os);
+    }
+    /* A sample file is small: one read gets it all and a second finds the end,
+       with no fstat.  Anything else - an empty read, a full buffer (a large
+       file or a device), an error (a FIFO with a writer says EAGAIN), more
+       data after a short read - takes the checked way below, which knows the
+       size and the kind of file from fstat. */
+    size_t got = 0;
+    if (grow((void **)buf, cap, READ_FIRST_BYTES, 1) != 0) {
+        close(fd);
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory reading a file");
+    }
+    ssize_t r1 = read(fd, *buf, *cap);
+    if (r1 > 0 && (size_t)r1 < *cap) {
+        got = (size_t)r1;
+        ssize_t r2 = read(fd, *buf + got, *cap - got);
+        if (r2 == 0) {
+            close(fd);
+            *len = got;
+            return ARRANK_OK;
+        }
+        if (r2 > 0)
+            got += (size_t)r2;
+    } else if (r1 > 0) {
+        got = (size_t)r1;
     }
     struct stat sb;
     if (fstat(fd, &sb) != 0) {
@@ -1489,7 +1516,8 @@ static arrank_status read_file(int dirfd, const char *name, const char *path, ch
                                ARRANK_CAMPAIGN_MAX_FILE_BYTES);
     }
     size_t want = (size_t)sb.st_size + 1; /* +1 notices a file that grew meanwhile */
-    size_t got = 0;
+    if (want <= got)
+        want = got + 1;
     for (;;) {
         if (grow((void **)buf, cap, want, 1) != 0) {
             close(fd);
