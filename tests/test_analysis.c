@@ -174,7 +174,8 @@ static void test_basic_flags(void **state)
     assert_false(l->flags & ARRANK_FLAG_NARROW_RANGE);
     /* 610 K is outside 450-600 K: extrapolated for every sample */
     assert_true(k->flags & ARRANK_FLAG_EXTRAPOLATED);
-    assert_false(k->flags & (ARRANK_FLAG_FEW_POINTS | ARRANK_FLAG_LOW_EA | ARRANK_FLAG_NARROW_RANGE));
+    assert_false(k->flags &
+                 (ARRANK_FLAG_FEW_POINTS | ARRANK_FLAG_LOW_EA | ARRANK_FLAG_NARROW_RANGE));
     arrank_analysis_free(a);
     arrank_campaign_free(c);
     a = analyse(dir, 560.0, ARRANK_BY_RATE, &c);

@@ -847,7 +847,8 @@ static void test_json_shape(void **state)
     assert_true(json_array_size(ex) >= 1);
     assert_int_equal(json_array_size(ex), 12 - o.res->n_used);
     json_t *e0 = json_array_get(ex, json_array_size(ex) - 1);
-    assert_int_equal(json_integer_value(json_object_get(e0, "line")), o.c->samples[0].points[11].line);
+    assert_int_equal(json_integer_value(json_object_get(e0, "line")),
+                     o.c->samples[0].points[11].line);
     assert_true(fabs(json_real_value(json_object_get(e0, "temp_K")) - 630.0) < 1e-9);
     assert_true(json_is_string(json_object_get(e0, "reason")));
     json_t *cv = json_object_get(j, "curvature");

@@ -24,6 +24,7 @@
 #include <jansson.h>
 #include <math.h>
 #include <stdarg.h>
+#include <stddef.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -377,6 +378,10 @@ static size_t count_temps(const arrank_point *pts, const size_t *idx, size_t n)
     free(g);
     return c;
 }
+
+/* Working arrays of a diagnosis up to this size live on the stack (about 60
+   points); larger samples allocate them. */
+#define SCRATCH_SMALL_BYTES 6144
 
 /* ---- regressions ------------------------------------------------------------ */
 
@@ -1991,26 +1996,45 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
     work wk = {s, s->points, np, NULL, NULL, NULL, NULL, NAN, 0, NULL};
     arrank_diagnosis *d = calloc(1, sizeof *d);
     size_t cap = np ? np : 1;
-    wk.x = malloc(cap * sizeof *wk.x);
-    wk.y = malloc(cap * sizeof *wk.y);
-    wk.w = malloc(cap * sizeof *wk.w);
-    wk.lsq = malloc(3 * cap * sizeof *wk.lsq);
-    size_t *base = malloc(cap * sizeof *base), *grp = malloc(cap * sizeof *grp);
-    size_t *cand = malloc(cap * sizeof *cand), *win = malloc(cap * sizeof *win);
-    size_t *grp_c = malloc(cap * sizeof *grp_c);
-    int *label = malloc(cap * sizeof *label);
+    /* The working arrays in one block, on the stack for a usual sample: doubles
+       (x, y, w and three lsq columns), then size_t (five index sets), int,
+       bytes, each part a multiple of 8 bytes long so the next stays aligned. */
+    const size_t scratch_bytes = cap * (6 * sizeof(double) + 5 * sizeof(size_t)) +
+                                 ((cap * sizeof(int) + 7) & ~(size_t)7) +
+                                 2 * ((cap + 7) & ~(size_t)7);
+    _Alignas(max_align_t) unsigned char scratch_small[SCRATCH_SMALL_BYTES];
+    unsigned char *scratch = scratch_bytes <= sizeof scratch_small ? scratch_small
+                                                                   : malloc(scratch_bytes);
+    double *dbl = (double *)(void *)scratch;
+    size_t *base = NULL, *grp = NULL, *cand = NULL, *win = NULL, *grp_c = NULL;
+    int *label = NULL;
+    unsigned char *used0 = NULL, *in_base = NULL;
+    int used_saved = 0; /* used0 holds res->used as it came in */
+    if (scratch) {
+        wk.x = dbl;
+        wk.y = dbl + cap;
+        wk.w = dbl + 2 * cap;
+        wk.lsq = dbl + 3 * cap;
+        base = (size_t *)(void *)(dbl + 6 * cap);
+        grp = base + cap;
+        cand = base + 2 * cap;
+        win = base + 3 * cap;
+        grp_c = base + 4 * cap;
+        label = (int *)(void *)(base + 5 * cap);
+        used0 = (unsigned char *)label + ((cap * sizeof(int) + 7) & ~(size_t)7);
+        in_base = used0 + ((cap + 7) & ~(size_t)7);
+        memset(in_base, 0, cap);
+    }
     char **names = NULL;
     int n_labels = 0;
-    unsigned char *used0 = malloc(cap);
-    unsigned char *in_base = calloc(cap, 1);
     arrank_status st = ARRANK_OK;
     if (d)
         d->points = calloc(cap, sizeof *d->points);
     wk.d = d;
-    if (!d || !d->points || !wk.x || !wk.y || !wk.w || !wk.lsq || !base || !grp || !cand || !win ||
-        !grp_c || !label || !used0 || !in_base)
+    if (!d || !d->points || !scratch)
         goto nomem;
     memcpy(used0, res->used, np);
+    used_saved = 1;
     d->n_points = np;
     d->conversion_limit = opt->conversion_limit > 0 && opt->conversion_limit < 1
                               ? opt->conversion_limit
@@ -2085,8 +2109,9 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
         /* The series-resistance model can only bend the plot down, and it
            serves as evidence for the cause of a detected bend; the decision
            itself is the quadratic test's.  Fitting it (a profile over 31
-           conductances, then a 3-parameter nonlinear fit) only where a downward bend was detected keeps a
-           campaign of thousands of straight samples fast and changes no flag. */
+           conductances, then a 3-parameter nonlinear fit) only where a
+           downward bend was detected keeps a campaign of thousands of
+           straight samples fast and changes no flag. */
         if (cv->detected && cv->direction == ARRANK_BEND_DOWN)
             fit_series(&wk, base, n, &lf_all, cv);
         else
@@ -2406,18 +2431,8 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
     for (int j = 0; j < n_labels; j++)
         free(names[j]);
     free(names);
-    free(wk.x);
-    free(wk.y);
-    free(wk.w);
-    free(wk.lsq);
-    free(base);
-    free(grp);
-    free(cand);
-    free(win);
-    free(grp_c);
-    free(label);
-    free(used0);
-    free(in_base);
+    if (scratch != scratch_small)
+        free(scratch);
     res->diagnosis = d;
     return ARRANK_OK;
 
@@ -2427,21 +2442,10 @@ fail:
     for (int j = 0; j < n_labels; j++)
         free(names[j]);
     free(names);
-    free(wk.x);
-    free(wk.y);
-    free(wk.w);
-    free(wk.lsq);
-    free(base);
-    free(grp);
-    free(cand);
-    free(win);
-    free(grp_c);
-    free(label);
-    free(in_base);
-    if (used0) {
+    if (used_saved)
         memcpy(res->used, used0, np);
-        free(used0);
-    }
+    if (scratch != scratch_small)
+        free(scratch);
     arrank_diagnosis_free(d);
     return st;
 }
