@@ -102,6 +102,17 @@ run "FIFO named a.csv" 10 64 3 "a.csv: not a regular file" fit "$T/fifo"
 ln -s /dev/zero "$T/dev/a.csv"
 run "/dev/zero named a.csv" 10 64 3 "a.csv: not a regular file" fit "$T/dev"
 
+# One sample of 300,000 rows, each temperature 3 K above the last (more than
+# the 2 K that makes one set point): 300,000 separate set points.  The local
+# windows once rescanned every point for every window (quadratic: hours);
+# the diagnostics must stay linear.
+mkdir "$T/rows"
+awk 'BEGIN { print "T [K],rate [umol/(g*s)]";
+             for (i = 0; i < 300000; i++)
+                 printf "%d,%.6g\n", 300 + 3 * i, exp(5 - 120.0 / (300 + 3 * i)) }' \
+    >"$T/rows/a.csv"
+run "300,000 set points in one sample" 60 256 0 "" fit "$T/rows" --at 500K
+
 # 100,000 sample files: hard links to a few valid files (a file takes at most
 # 65,000 links on ext4), so the folder is quick to make.
 mkdir "$T/many"

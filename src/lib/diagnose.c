@@ -1121,17 +1121,21 @@ static void local_windows(work *wk, const size_t *idx, const size_t *g, size_t n
         return;
     size_t nw = n_groups - 2;
     cv->local = calloc(nw, sizeof *cv->local);
-    size_t *sel = malloc(n * sizeof *sel);
-    if (!cv->local || !sel) {
-        free(sel);
+    if (!cv->local) {
         wk->nomem = 1;
         return;
     }
+    /* g rises along idx, so window k (groups k..k+2) is the run idx[lo..hi):
+       two pointers that only move forward keep this linear in n */
+    size_t lo = 0, hi = 0;
     for (size_t k = 0; k < nw; k++) {
-        size_t m = 0;
-        for (size_t j = 0; j < n; j++)
-            if (g[j] >= k && g[j] <= k + 2)
-                sel[m++] = idx[j];
+        while (lo < n && g[lo] < k)
+            lo++;
+        if (hi < lo)
+            hi = lo;
+        while (hi < n && g[hi] <= k + 2)
+            hi++;
+        const size_t *sel = idx + lo, m = hi - lo;
         arrank_local_ea *le = &cv->local[k];
         line_fit lf;
         le->n_points = m;
@@ -1145,7 +1149,6 @@ static void local_windows(work *wk, const size_t *idx, const size_t *g, size_t n
         }
     }
     cv->n_local = nw;
-    free(sel);
 }
 
 /* Local window index for group gi. */
