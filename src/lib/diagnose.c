@@ -379,6 +379,9 @@ static size_t count_temps(const arrank_point *pts, const size_t *idx, size_t n)
     return c;
 }
 
+/* Most steps the kinetic window takes from the cold end (see there). */
+#define WINDOW_MAX_STEPS 256
+
 /* Working arrays of a diagnosis up to this size live on the stack (about 60
    points); larger samples allocate them. */
 #define SCRATCH_SMALL_BYTES 6144
@@ -2237,9 +2240,14 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
             nw = nc;
         else {
             prev = cold;
-            for (size_t g = MIN_WINDOW_TEMPS; g < ngc; g++) {
+            /* One set point a step; a sample with more than WINDOW_MAX_STEPS
+               set points (a logger, not a rig) takes several a step, so that
+               the refits stay O(WINDOW_MAX_STEPS n), not O(n^2). */
+            const size_t step =
+                ngc > WINDOW_MAX_STEPS ? (ngc + WINDOW_MAX_STEPS - 1) / WINDOW_MAX_STEPS : 1;
+            for (size_t g = MIN_WINDOW_TEMPS; g < ngc; g += step) {
                 size_t k2 = nw;
-                while (k2 < nc && grp_c[k2] == g)
+                while (k2 < nc && grp_c[k2] < g + step)
                     k2++;
                 line_fit cur;
                 if (fit_line(&wk, cand, k2, &cur) != 0 || !(cur.dof > 0))
