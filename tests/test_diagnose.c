@@ -1158,7 +1158,7 @@ static void test_series_profile_large(void **state)
 /*
  * The diagnostics fit most of their straight lines (local windows, the
  * kinetic window, outliers, the line on every point) in closed form
- * (line_direct in diagnose.c); the general QR path they share with the
+ * (fit_line_direct in diagnose.c); the general QR path they share with the
  * quadratic test is kept behind arrank_diagnose_line_reference.  Both are
  * exact least squares, so they may differ only by rounding: every number of
  * the diagnosis must agree to relative 1e-8 and every string, flag and

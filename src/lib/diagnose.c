@@ -434,7 +434,7 @@ static int set_scale(const work *wk, const size_t *idx, size_t n, xscale *sc)
  */
 #define LSQ_MAXP 3
 
-/* 0 (the default): straight lines by line_direct; 1: by the general
+/* 0 (the default): straight lines by fit_line_direct; 1: by the general
    Gram-Schmidt path below (arrank_diagnose_line_reference, for tests). */
 static int line_reference = 0;
 
@@ -443,70 +443,12 @@ void arrank_diagnose_line_reference(int on)
     line_reference = on;
 }
 
-/*
- * The straight line (columns 1 and z) in closed form, for design_fit: with
- * W = sum w, zbar = sum w z / W, Szz = sum w (z - zbar)^2 and
- * Szy = sum w (z - zbar)(y - ybar), b1 = Szy / Szz, b0 = ybar - b1 zbar,
- * var b1 = s^2 / Szz, var b0 = s^2 (1/W + zbar^2/Szz), cov = -s^2 zbar / Szz
- * (the two-pass centred formulas; Bjorck 1996, sec. 2.4, from memory).  z is
- * already centred and scaled on the same weights, so zbar is rounding-small
- * and nothing cancels.  A column 2 whose centred norm sqrt(Szz) is below
- * max(n, 2) eps sqrt(sum w z^2) is singular, the test the general path makes.
- * Same contract as design_fit; about a fifth of its cost on 3-12 points, and
- * most fits in a diagnosis are lines (local windows, kinetic window).
- */
-static int line_direct(const work *wk, const size_t *idx, size_t n, const xscale *sc, double *b,
-                       double *cov, double *rss)
-{
-    double sw = 0, swz = 0, swy = 0, swzz = 0;
-    for (size_t k = 0; k < n; k++) {
-        const size_t i = idx[k];
-        const double z = (wk->x[i] - sc->xm) / sc->sx, w = wk->w[i], y = wk->y[i];
-        if (!isfinite(y) || !isfinite(w) || w < 0 || !isfinite(z))
-            return 0;
-        sw += w;
-        swz += w * z;
-        swy += w * y;
-        swzz += w * z * z;
-    }
-    if (!(sw > 0))
-        return 0;
-    const double zbar = swz / sw, ybar = swy / sw;
-    double szz = 0, szy = 0;
-    for (size_t k = 0; k < n; k++) {
-        const size_t i = idx[k];
-        const double u = (wk->x[i] - sc->xm) / sc->sx - zbar;
-        szz += wk->w[i] * u * u;
-        szy += wk->w[i] * u * (wk->y[i] - ybar);
-    }
-    const double tol = (double)(n > 2 ? n : 2) * DBL_EPSILON;
-    if (!(sqrt(szz) > tol * sqrt(swzz)))
-        return 0;
-    b[1] = szy / szz;
-    b[0] = ybar - b[1] * zbar;
-    double chi2 = 0;
-    for (size_t k = 0; k < n; k++) {
-        const size_t i = idx[k];
-        const double z = (wk->x[i] - sc->xm) / sc->sx;
-        const double e = wk->y[i] - (b[0] + b[1] * z);
-        chi2 += wk->w[i] * e * e;
-    }
-    const double s2 = chi2 / (double)(n - 2);
-    cov[0] = s2 * (1.0 / sw + zbar * zbar / szz);
-    cov[1] = cov[2] = -s2 * zbar / szz;
-    cov[3] = s2 / szz;
-    *rss = chi2;
-    return 2;
-}
-
 static int design_fit(work *wk, const size_t *idx, size_t n, const xscale *sc, int quad,
                       const double *extra, double *b, double *cov, double *rss)
 {
     const size_t p = 2 + (quad ? 1 : 0) + (extra ? 1 : 0);
     if (n <= p || p > LSQ_MAXP)
         return 0;
-    if (p == 2 && !line_reference)
-        return line_direct(wk, idx, n, sc, b, cov, rss);
     double *q[LSQ_MAXP] = {wk->lsq, wk->lsq + n, wk->lsq + 2 * n};
     for (size_t k = 0; k < n; k++) {
         const size_t i = idx[k];
@@ -600,8 +542,70 @@ typedef struct {
     double cov[4];
 } line_fit;
 
+/*
+ * The straight line in closed form, the two-pass centred formulas (Bjorck,
+ * Numerical Methods for Least Squares Problems, 1996, sec. 2.4, from memory),
+ * in three passes: the weighted means xm and ybar; Sxx = sum w (x - xm)^2 and
+ * Sxy = sum w (x - xm)(y - ybar); the residuals.  Then b1 = Sxy/Sxx per K,
+ * b0 = ybar at x = xm, and in design_fit's scaled terms (z = (x - xm)/sx,
+ * whose weighted mean is 0 and Szz = W) var b0 = s^2/W, var b1 = s^2/W, no
+ * covariance.  Most fits in a diagnosis are lines (local windows, kinetic
+ * window, outliers); centred, nothing cancels, and tests/test_diagnose.c
+ * compares every number with the general QR path.
+ */
+static int fit_line_direct(const work *wk, const size_t *idx, size_t n, line_fit *lf)
+{
+    if (n <= 2)
+        return -1;
+    double sw = 0, swx = 0, swy = 0;
+    for (size_t k = 0; k < n; k++) {
+        const size_t i = idx[k];
+        const double w = wk->w[i];
+        if (!isfinite(wk->x[i]) || !isfinite(wk->y[i]) || !isfinite(w) || w < 0)
+            return -1;
+        sw += w;
+        swx += w * wk->x[i];
+        swy += w * wk->y[i];
+    }
+    if (!(sw > 0))
+        return -1;
+    const double xm = swx / sw, ybar = swy / sw;
+    double sxx = 0, sxy = 0;
+    for (size_t k = 0; k < n; k++) {
+        const size_t i = idx[k];
+        const double u = wk->x[i] - xm;
+        sxx += wk->w[i] * u * u;
+        sxy += wk->w[i] * u * (wk->y[i] - ybar);
+    }
+    const double sx = sqrt(sxx / sw);
+    if (!(sx > 0) || !isfinite(sxx))
+        return -1;
+    const double b1 = sxy / sxx;
+    double chi2 = 0;
+    for (size_t k = 0; k < n; k++) {
+        const size_t i = idx[k];
+        const double e = wk->y[i] - ybar - b1 * (wk->x[i] - xm);
+        chi2 += wk->w[i] * e * e;
+    }
+    lf->sc.xm = xm;
+    lf->sc.sx = sx;
+    lf->sc.sxx = sxx;
+    lf->b0 = ybar;
+    lf->b1_K = b1;
+    lf->ea_J_mol = -R * b1;
+    lf->rss = chi2;
+    lf->dof = (double)n - 2.0;
+    lf->s2 = chi2 / lf->dof;
+    lf->ea_se_J_mol = R * sqrt(lf->s2 / sxx);
+    lf->cov[0] = lf->cov[3] = lf->s2 / sw;
+    lf->cov[1] = lf->cov[2] = 0.0;
+    return 0;
+}
+
 static int fit_line(work *wk, const size_t *idx, size_t n, line_fit *lf)
 {
+    if (!line_reference)
+        return fit_line_direct(wk, idx, n, lf);
     if (set_scale(wk, idx, n, &lf->sc) != 0)
         return -1;
     double b[2], cov[4], rss;
@@ -1488,7 +1492,7 @@ done:
 #define EXACT_REFITS 8
 
 /* RSS of the weighted line over idx[0..n) without idx[skip] (two-pass centred
-   sums, as in line_direct). */
+   sums, as in fit_line_direct). */
 static double rss_without(const work *wk, const size_t *idx, size_t n, size_t skip)
 {
     double sw = 0, swx = 0, swy = 0;
