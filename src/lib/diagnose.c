@@ -236,6 +236,40 @@ static void note(work *wk, const char *f, ...)
     va_end(ap);
 }
 
+/* A note made of the k texts joined: the one note every sample gets, built
+   without a printf pass. */
+static void note_join(work *wk, const char *const *parts, size_t k)
+{
+    size_t len = 0;
+    for (size_t i = 0; i < k; i++)
+        len += strlen(parts[i]);
+    char *s = malloc(len + 1);
+    if (s) {
+        size_t o = 0;
+        for (size_t i = 0; i < k; i++) {
+            size_t m = strlen(parts[i]);
+            memcpy(s + o, parts[i], m);
+            o += m;
+        }
+        s[o] = '\0';
+    }
+    push_str(wk, &wk->d->notes, &wk->d->n_notes, s);
+}
+
+/* %zu of v into out (at least 21 bytes). */
+static void size_t_text(char *out, size_t v)
+{
+    char tmp[24];
+    size_t k = 0;
+    do {
+        tmp[k++] = (char)('0' + v % 10);
+        v /= 10;
+    } while (v);
+    for (size_t i = 0; i < k; i++)
+        out[i] = tmp[k - 1 - i];
+    out[k] = '\0';
+}
+
 static void add_cause(work *wk, int supported, char *cause, char *evidence)
 {
     arrank_curvature *cv = &wk->d->curvature;
@@ -1856,17 +1890,30 @@ static void describe(work *wk, const arrank_result *res, const size_t *sorted, s
     else if (!cv->detected) {
         /* every sample that passes gets this note: its numbers go through
            number.c's exact formatters (the same bytes as printf, faster) */
-        char scat[64] = "", t_txt[48], p_txt[48], lv_txt[48], sc_txt[48];
-        if (isfinite(wk->scatter)) {
+        char t_txt[48], p_txt[48], lv_txt[48], sc_txt[48], n_txt[24];
+        const int have_scatter = isfinite(wk->scatter);
+        if (have_scatter)
             arrank_format_fixed(sc_txt, sizeof sc_txt, 1, 100.0 * wk->scatter);
-            snprintf(scat, sizeof scat, " and %s %% scatter", sc_txt);
-        }
         arrank_format_fixed(t_txt, sizeof t_txt, 2, cv->quad_t);
         arrank_format_general(p_txt, sizeof p_txt, 2, cv->quad_p);
         arrank_format_general(lv_txt, sizeof lv_txt, 2, cv->level);
-        note(wk, "curvature not detected: quadratic term t = %s, p = %s (level %s) with "
-                 "%zu points%s; only bending well beyond the scatter would show",
-             t_txt, p_txt, lv_txt, cv->n, scat);
+        size_t_text(n_txt, cv->n);
+        /* "curvature not detected: quadratic term t = %s, p = %s (level %s)
+           with %zu points[ and %s %% scatter]; only bending ... would show" */
+        const char *parts[] = {"curvature not detected: quadratic term t = ",
+                               t_txt,
+                               ", p = ",
+                               p_txt,
+                               " (level ",
+                               lv_txt,
+                               ") with ",
+                               n_txt,
+                               " points",
+                               have_scatter ? " and " : "",
+                               have_scatter ? sc_txt : "",
+                               have_scatter ? " % scatter" : "",
+                               "; only bending well beyond the scatter would show"};
+        note_join(wk, parts, sizeof parts / sizeof parts[0]);
     }
     else {
         char local[160] = "";
