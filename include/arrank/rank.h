@@ -132,11 +132,12 @@ void arrank_sample_stats_free(struct arrank_sample_stats *stats);
  * The P(best) engine on plain Arrhenius fits, for callers and tests.
  * fits[n] in rank order (best first); the key is ln r(temp_K) for by = RATE
  * (temp_K > 0 required), -Ea for EA, ln A for PREFACTOR.  (b0, b1) of each fit
- * is drawn from its fitted distribution: bivariate t with fit->dof degrees of
- * freedom (normal when normal_draws), mean (b0, b1), scale fit->cov through
- * its Cholesky factor; every sample is drawn independently.  Uses `draws`
- * draws from GSL's taus2 in two streams seeded from `seed` (rank.c; same
- * numbers on any number of cores).
+ * follows its fitted distribution: bivariate t with fit->dof degrees of
+ * freedom (normal when normal_draws), mean (b0, b1), scale fit->cov; every
+ * sample independently.  The key is linear in (b0, b1), so it is drawn
+ * directly as mean + se T with T a Student t (or normal) variate, which has
+ * the same distribution (rank.c).  Uses `draws` draws from GSL's taus2 in
+ * two streams seeded from `seed` (same numbers on any number of cores).
  * Outputs: p_best[n]; p_beats[n_top * n_top] (may be NULL when n_top is 0):
  * row i, column j is P(fits[i] beats fits[j]), NAN on the diagonal.
  * EINVAL for draws 0, n_top > n or a bad temperature; ENOMEM.
