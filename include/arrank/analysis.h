@@ -120,7 +120,10 @@ typedef struct {
  * Run the pipeline.  options may be NULL (defaults).  On success *out is owned
  * by the caller (arrank_analysis_free).  Samples that cannot be fitted do not
  * fail the call: they get `error` and rank 0.  EDATA (with the first sample's
- * reason and position) when no sample at all could be fitted.
+ * reason and position) when no sample at all could be fitted.  The samples
+ * are analysed on worker threads, as many as the machine has CPUs (at most
+ * 8; the environment variable ARRANK_THREADS=N sets the number); the results
+ * do not depend on it.  The campaign must not change during the call.
  */
 arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_options *options,
                                   arrank_analysis **out, arrank_error *err);

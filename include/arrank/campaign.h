@@ -107,7 +107,9 @@ arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_
  */
 typedef void (*arrank_progress_fn)(void *ctx, const char *stage, size_t done, size_t total);
 
-/* arrank_campaign_load that reports progress per sample file (progress may be NULL). */
+/* arrank_campaign_load that reports progress per sample file (progress may be NULL).
+   The files after the first are read on worker threads (as arrank_analysis_run,
+   analysis.h); the campaign and any error are the same as read in order. */
 arrank_status arrank_campaign_load_progress(const char *dir, arrank_units *units,
                                             arrank_progress_fn progress, void *progress_ctx,
                                             arrank_campaign **out, arrank_error *err);
