@@ -9,8 +9,6 @@
 #include "arrank/analysis.h"
 
 #include <math.h>
-#include <stdatomic.h>
-#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -217,89 +215,38 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
 }
 
 /*
- * The samples on the workers (util.c), ANALYSE_CHUNK at a time from a shared
- * counter.  Samples are independent, so the results are the same for any
+ * The samples on the workers (arrank_workers_each, util.c), ANALYSE_CHUNK at
+ * a time.  Samples are independent, so the results are the same for any
  * number of workers; a failure (out of memory) reported is the one with the
  * lowest sample index, as a loop in order would report it.
  */
 #define ANALYSE_CHUNK 8
 #define ANALYSE_MIN_PER_WORKER 32
-#define ANALYSE_MAX_WORKERS 8
 
 typedef struct {
     arrank_analysis *a;
     const arrank_options *opt;
     const arrank_campaign_basis *bases;
     double rate_to_per_s;
-    atomic_size_t next, done, first_fail;
-    size_t fail_at[ANALYSE_MAX_WORKERS];
-    arrank_error fail_err[ANALYSE_MAX_WORKERS];
 } analyse_job;
 
-static void analyse_worker(void *ctx, size_t w)
+static arrank_status analyse_item(void *ctx, size_t i, size_t w, arrank_error *err)
 {
-    analyse_job *j = ctx;
-    const size_t n = j->a->n_results;
-    j->fail_at[w] = SIZE_MAX;
-    for (;;) {
-        size_t start = atomic_fetch_add(&j->next, ANALYSE_CHUNK);
-        if (start >= n || start > atomic_load(&j->first_fail))
-            break;
-        size_t end = start + ANALYSE_CHUNK < n ? start + ANALYSE_CHUNK : n;
-        for (size_t i = start; i < end; i++) {
-            arrank_error e;
-            arrank_error_clear(&e);
-            arrank_status st = analyse_one(&j->a->results[i], &j->a->campaign->samples[i],
-                                           j->a->campaign, j->opt, j->bases, j->rate_to_per_s,
-                                           &e);
-            if (st != ARRANK_OK) {
-                if (i < j->fail_at[w]) {
-                    j->fail_at[w] = i;
-                    j->fail_err[w] = e;
-                }
-                size_t seen = atomic_load(&j->first_fail);
-                while (i < seen && !atomic_compare_exchange_weak(&j->first_fail, &seen, i)) {
-                }
-                break;
-            }
-        }
-        size_t done = atomic_fetch_add(&j->done, end - start) + (end - start);
-        if (w == 0 && j->opt->progress) /* progress from the calling thread only */
-            j->opt->progress(j->opt->progress_ctx, "fitting samples", done < n ? done : n, n);
-    }
+    (void)w;
+    const analyse_job *j = ctx;
+    return analyse_one(&j->a->results[i], &j->a->campaign->samples[i], j->a->campaign, j->opt,
+                       j->bases, j->rate_to_per_s, err);
 }
 
 static arrank_status analyse_all(arrank_analysis *a, const arrank_options *opt,
                                  const arrank_campaign_basis *bases, double rate_to_per_s,
                                  arrank_error *err)
 {
-    analyse_job *j = calloc(1, sizeof *j);
-    if (!j)
-        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-    j->a = a;
-    j->opt = opt;
-    j->bases = bases;
-    j->rate_to_per_s = rate_to_per_s;
-    atomic_init(&j->next, 0);
-    atomic_init(&j->done, 0);
-    atomic_init(&j->first_fail, SIZE_MAX);
-    size_t workers = arrank_workers_for(a->n_results, ANALYSE_MIN_PER_WORKER);
-    if (workers > ANALYSE_MAX_WORKERS)
-        workers = ANALYSE_MAX_WORKERS;
-    arrank_workers_run(workers, analyse_worker, j);
-    size_t worst = SIZE_MAX, who = 0;
-    for (size_t w = 0; w < workers; w++)
-        if (j->fail_at[w] < worst) {
-            worst = j->fail_at[w];
-            who = w;
-        }
-    arrank_status st = ARRANK_OK;
-    if (worst != SIZE_MAX) {
-        *err = j->fail_err[who];
-        st = err->status;
-    }
-    free(j);
-    return st;
+    analyse_job j = {a, opt, bases, rate_to_per_s};
+    return arrank_workers_each(0, a->n_results, ANALYSE_CHUNK,
+                               arrank_workers_for(a->n_results, ANALYSE_MIN_PER_WORKER),
+                               analyse_item, &j, opt->progress, opt->progress_ctx,
+                               "fitting samples", err);
 }
 
 arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_options *options,

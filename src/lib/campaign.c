@@ -35,7 +35,6 @@
 #include <fcntl.h>
 #include <math.h>
 #include <stdarg.h>
-#include <stdatomic.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -1736,66 +1735,30 @@ static arrank_status load_one(const char *dir, int dirfd, const char *name, arra
 }
 
 /*
- * Files 1..n-1 on the workers (util.c).  Each takes the next CHUNK files from
- * a shared counter and keeps its own read buffer; a sample depends only on
- * its file and the report unit, so the result is the same for any number of
- * workers.  The error reported is the one the serial reader would give: the
- * failure with the lowest file index.  Once a file has failed no worker
- * starts a chunk beyond it, and every chunk before it is still finished, so
- * the lowest failure is always found.
+ * Files 1..n-1 on the workers (arrank_workers_each, util.c), each worker with
+ * its own read buffer.  A sample depends only on its file and the report
+ * unit, so the result is the same for any number of workers, and the error
+ * is the first failing file's in name order.
  */
 #define LOAD_CHUNK 16
 #define LOAD_MIN_PER_WORKER 64
+#define LOAD_MAX_WORKERS 8
 
 typedef struct {
     const char *dir;
     int dirfd;
     char **names;
-    size_t n;
     arrank_units *units;
     arrank_campaign *c;
-    arrank_progress_fn progress;
-    void *progress_ctx;
-    atomic_size_t next, done, first_fail;
-    size_t reported; /* last count given to progress (worker 0 only) */
-    arrank_error fail_err[8]; /* per worker: its lowest failure */
-    size_t fail_at[8];
+    char *buf[LOAD_MAX_WORKERS];
+    size_t cap[LOAD_MAX_WORKERS];
 } load_job;
 
-static void load_worker(void *ctx, size_t w)
+static arrank_status load_item(void *ctx, size_t i, size_t w, arrank_error *err)
 {
     load_job *j = ctx;
-    char *buf = NULL;
-    size_t cap = 0;
-    j->fail_at[w] = SIZE_MAX;
-    for (;;) {
-        size_t start = atomic_fetch_add(&j->next, LOAD_CHUNK);
-        if (start >= j->n || start > atomic_load(&j->first_fail))
-            break;
-        size_t end = start + LOAD_CHUNK < j->n ? start + LOAD_CHUNK : j->n;
-        for (size_t i = start; i < end; i++) {
-            arrank_error e;
-            arrank_error_clear(&e);
-            arrank_status st = load_one(j->dir, j->dirfd, j->names[i], j->units, j->c->rate_unit,
-                                        &j->c->samples[i], &buf, &cap, &e);
-            if (st != ARRANK_OK) {
-                if (i < j->fail_at[w]) {
-                    j->fail_at[w] = i;
-                    j->fail_err[w] = e;
-                }
-                size_t seen = atomic_load(&j->first_fail);
-                while (i < seen && !atomic_compare_exchange_weak(&j->first_fail, &seen, i)) {
-                }
-                break; /* the rest of this chunk comes after the failure */
-            }
-        }
-        size_t done = atomic_fetch_add(&j->done, end - start) + (end - start);
-        if (w == 0 && j->progress) { /* progress from the calling thread only */
-            j->reported = done < j->n ? done : j->n;
-            j->progress(j->progress_ctx, "reading samples", j->reported, j->n);
-        }
-    }
-    free(buf);
+    return load_one(j->dir, j->dirfd, j->names[i], j->units, j->c->rate_unit, &j->c->samples[i],
+                    &j->buf[w], &j->cap[w], err);
 }
 
 static arrank_status load_rest(const char *dir, int dirfd, char **names, size_t n,
@@ -1803,40 +1766,20 @@ static arrank_status load_rest(const char *dir, int dirfd, char **names, size_t 
                                arrank_progress_fn progress, void *progress_ctx,
                                arrank_error *err)
 {
-    if (n <= 1)
-        return ARRANK_OK;
-    load_job *j = calloc(1, sizeof *j);
-    if (!j)
-        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
-    j->dir = dir;
-    j->dirfd = dirfd;
-    j->names = names;
-    j->n = n;
-    j->units = units;
-    j->c = c;
-    j->progress = progress;
-    j->progress_ctx = progress_ctx;
-    atomic_init(&j->next, 1);
-    atomic_init(&j->done, 1);
-    atomic_init(&j->first_fail, SIZE_MAX);
-    size_t workers = arrank_workers_for(n - 1, LOAD_MIN_PER_WORKER);
-    if (workers > sizeof j->fail_at / sizeof *j->fail_at)
-        workers = sizeof j->fail_at / sizeof *j->fail_at;
-    arrank_workers_run(workers, load_worker, j);
-    size_t worst = SIZE_MAX, who = 0;
-    for (size_t w = 0; w < workers; w++)
-        if (j->fail_at[w] < worst) {
-            worst = j->fail_at[w];
-            who = w;
-        }
-    arrank_status st = ARRANK_OK;
-    if (worst != SIZE_MAX) {
-        *err = j->fail_err[who];
-        st = err->status;
-    } else if (progress && j->reported < n) {
-        progress(progress_ctx, "reading samples", n, n);
-    }
-    free(j);
+    load_job j;
+    memset(&j, 0, sizeof j);
+    j.dir = dir;
+    j.dirfd = dirfd;
+    j.names = names;
+    j.units = units;
+    j.c = c;
+    size_t workers = n > 1 ? arrank_workers_for(n - 1, LOAD_MIN_PER_WORKER) : 1;
+    if (workers > LOAD_MAX_WORKERS)
+        workers = LOAD_MAX_WORKERS;
+    arrank_status st = arrank_workers_each(1, n, LOAD_CHUNK, workers, load_item, &j, progress,
+                                           progress_ctx, "reading samples", err);
+    for (size_t w = 0; w < LOAD_MAX_WORKERS; w++)
+        free(j.buf[w]);
     return st;
 }
 

@@ -43,6 +43,18 @@ void arrank_workers_force(int n);
    its work from a shared queue (an atomic counter), not a fixed slice. */
 void arrank_workers_run(size_t n, void (*fn)(void *ctx, size_t worker), void *ctx);
 
+/* Items first..n-1 on `workers` workers (at most 8): item(ctx, i, worker, err)
+   for each, `chunk` items at a time from a shared counter, so the items must
+   be independent; `worker` (0..workers-1) lets ctx keep per-worker state.
+   Returns ARRANK_OK, or the failure with the lowest i with its error in
+   *err, as a loop in order would.  progress (may be NULL) is called from the
+   calling thread only, with `stage`, done rising to n (done starts at first). */
+arrank_status arrank_workers_each(size_t first, size_t n, size_t chunk, size_t workers,
+                                  arrank_status (*item)(void *ctx, size_t i, size_t worker,
+                                                        arrank_error *err),
+                                  void *ctx, arrank_progress_fn progress, void *progress_ctx,
+                                  const char *stage, arrank_error *err);
+
 /* ---- campaign.c: test switch for the reader ---- */
 
 /* 1 (the default): data lines without a quote character are split directly

@@ -5,6 +5,7 @@
 #include <gsl/gsl_cdf.h>
 #include <pthread.h>
 #include <stdatomic.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 #include <unistd.h>
@@ -95,4 +96,99 @@ void arrank_workers_run(size_t n, void (*fn)(void *ctx, size_t worker), void *ct
         else /* no thread to be had: the work is still done, here */
             fn(ctx, w);
     }
+}
+
+/*
+ * The ordered work queue behind arrank_workers_each (internal.h).  Each
+ * worker takes the next `chunk` items from a shared counter.  The error
+ * reported is the one a loop in order would give: the failure with the
+ * lowest index.  Once an item has failed no worker starts a chunk beyond it,
+ * and every chunk before it is still finished, so the lowest failure is
+ * always found.
+ */
+typedef struct {
+    size_t n, chunk;
+    arrank_status (*item)(void *ctx, size_t i, size_t worker, arrank_error *err);
+    void *ctx;
+    arrank_progress_fn progress;
+    void *progress_ctx;
+    const char *stage;
+    atomic_size_t next, done, first_fail;
+    size_t reported; /* last count given to progress (worker 0 only) */
+    size_t fail_at[MAX_WORKERS];
+    arrank_error fail_err[MAX_WORKERS];
+} each_job;
+
+static void each_worker(void *ctx, size_t w)
+{
+    each_job *j = ctx;
+    j->fail_at[w] = SIZE_MAX;
+    for (;;) {
+        size_t start = atomic_fetch_add(&j->next, j->chunk);
+        if (start >= j->n || start > atomic_load(&j->first_fail))
+            break;
+        size_t end = start + j->chunk < j->n ? start + j->chunk : j->n;
+        for (size_t i = start; i < end; i++) {
+            arrank_error e;
+            arrank_error_clear(&e);
+            if (j->item(j->ctx, i, w, &e) != ARRANK_OK) {
+                if (i < j->fail_at[w]) {
+                    j->fail_at[w] = i;
+                    j->fail_err[w] = e;
+                }
+                size_t seen = atomic_load(&j->first_fail);
+                while (i < seen && !atomic_compare_exchange_weak(&j->first_fail, &seen, i)) {
+                }
+                break; /* the rest of this chunk comes after the failure */
+            }
+        }
+        size_t done = atomic_fetch_add(&j->done, end - start) + (end - start);
+        if (w == 0 && j->progress) { /* progress from the calling thread only */
+            j->reported = done < j->n ? done : j->n;
+            j->progress(j->progress_ctx, j->stage, j->reported, j->n);
+        }
+    }
+}
+
+arrank_status arrank_workers_each(size_t first, size_t n, size_t chunk, size_t workers,
+                                  arrank_status (*item)(void *ctx, size_t i, size_t worker,
+                                                        arrank_error *err),
+                                  void *ctx, arrank_progress_fn progress, void *progress_ctx,
+                                  const char *stage, arrank_error *err)
+{
+    if (first >= n)
+        return ARRANK_OK;
+    each_job *j = calloc(1, sizeof *j);
+    if (!j)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    j->n = n;
+    j->chunk = chunk ? chunk : 1;
+    j->item = item;
+    j->ctx = ctx;
+    j->progress = progress;
+    j->progress_ctx = progress_ctx;
+    j->stage = stage;
+    atomic_init(&j->next, first);
+    atomic_init(&j->done, first);
+    atomic_init(&j->first_fail, SIZE_MAX);
+    if (workers < 1)
+        workers = 1;
+    if (workers > MAX_WORKERS)
+        workers = MAX_WORKERS;
+    arrank_workers_run(workers, each_worker, j);
+    size_t worst = SIZE_MAX, who = 0;
+    for (size_t w = 0; w < workers; w++)
+        if (j->fail_at[w] < worst) {
+            worst = j->fail_at[w];
+            who = w;
+        }
+    arrank_status st = ARRANK_OK;
+    if (worst != SIZE_MAX) {
+        *err = j->fail_err[who];
+        st = err->status;
+    } else if (progress && j->reported < n) {
+        progress(progress_ctx, stage, n, n);
+    }
+    free(j);
+    return st;
 }
