@@ -40,7 +40,15 @@
 #define R_J_MOL_K 8.314462618 /* CODATA 2018 molar gas constant */
 
 static arrank_units *units;
-static char gen_dir[64];
+static char gen_dir[4096];
+
+/* A new folder under $TMPDIR (else /tmp), named from templ_name. */
+static int make_temp_dir(char *out, size_t n, const char *templ_name)
+{
+    const char *tmp = getenv("TMPDIR");
+    snprintf(out, n, "%s/%s", tmp && *tmp ? tmp : "/tmp", templ_name);
+    return mkdtemp(out) ? 0 : -1;
+}
 
 /* Small fixed-seed generator (xorshift64*, Vigna 2016) and Box-Muller normals. */
 static uint64_t rng_state = 0x2545F4914F6CDD1Dull;
@@ -70,7 +78,7 @@ static void write_text(const char *path, const char *text)
 /* Sample k of the generated campaign: the kind varies with k. */
 static void write_generated_sample(const char *dir, int k)
 {
-    char path[256], line[256];
+    char path[4200], line[256];
     snprintf(path, sizeof path, "%s/G%04d.csv", dir, k);
     FILE *f = fopen(path, "w");
     assert_non_null(f);
@@ -217,9 +225,8 @@ static void generated_has_bends_and_criteria(void **state)
 static void first_bad_file_is_reported(void **state)
 {
     (void)state;
-    char dir[64], path[128];
-    snprintf(dir, sizeof dir, "/tmp/arrank-workers-bad-XXXXXX");
-    assert_non_null(mkdtemp(dir));
+    char dir[4096], path[4200];
+    assert_int_equal(make_temp_dir(dir, sizeof dir, "arrank-workers-bad-XXXXXX"), 0);
     for (int k = 0; k < 200; k++) {
         snprintf(path, sizeof path, "%s/S%03d.csv", dir, k);
         if (k == 57)
@@ -229,7 +236,7 @@ static void first_bad_file_is_reported(void **state)
         else
             write_text(path, "T [K],rate [umol/(g*s)]\n500,1\n510,1.5\n520,2.2\n");
     }
-    char want[128];
+    char want[4200];
     snprintf(want, sizeof want, "%s/S057.csv", dir);
     for (int rep = 0; rep < 30; rep++) {
         int workers = 1 + rep % 4;
@@ -261,8 +268,7 @@ static int setup(void **state)
     units = arrank_units_create(&err);
     if (!units)
         return -1;
-    snprintf(gen_dir, sizeof gen_dir, "/tmp/arrank-workers-XXXXXX");
-    if (!mkdtemp(gen_dir))
+    if (make_temp_dir(gen_dir, sizeof gen_dir, "arrank-workers-XXXXXX") != 0)
         return -1;
     for (int k = 0; k < N_GEN; k++)
         write_generated_sample(gen_dir, k);
@@ -272,7 +278,7 @@ static int setup(void **state)
 static int teardown(void **state)
 {
     (void)state;
-    char path[256];
+    char path[4200];
     for (int k = 0; k < N_GEN; k++) {
         snprintf(path, sizeof path, "%s/G%04d.csv", gen_dir, k);
         unlink(path);
