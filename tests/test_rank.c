@@ -1301,6 +1301,75 @@ static void test_pipeline(void **state)
     free(t);
 }
 
+/*
+ * Each ranked sample's key (rank.h: key, key_se, key_dof, set on the worker
+ * that fitted it) against the fit it comes from, computed here the other way:
+ * ln r at T from arrank_fit_predict, -Ea and ln A with their standard errors.
+ * The order follows the keys, and T_hm is every used temperature's harmonic
+ * mean, summed here in long double.
+ */
+static void test_rank_keys(void **state)
+{
+    (void)state;
+    toy_campaign *t = malloc(sizeof *t);
+    assert_non_null(t);
+    toy_make(t, 40, ARRANK_BASIS_MASS, "umol/(g*s)");
+    const arrank_rank_by bys[] = {ARRANK_BY_RATE, ARRANK_BY_EA, ARRANK_BY_PREFACTOR};
+    for (size_t b = 0; b < sizeof bys / sizeof *bys; b++) {
+        arrank_options o = arrank_options_defaults();
+        o.operating_temp_K = 523.15;
+        o.by = bys[b];
+        o.draws = 500;
+        arrank_analysis *a = NULL;
+        arrank_error e;
+        arrank_error_clear(&e);
+        assert_int_equal(arrank_analysis_run(&t->c, &o, &a, &e), ARRANK_OK);
+        assert_int_equal(a->n_ranked, 40);
+        long double inv_T = 0;
+        size_t n_T = 0;
+        for (size_t k = 0; k < a->n_ranked; k++) {
+            const arrank_result *res = &a->results[a->order[k]];
+            const struct arrank_sample_stats *ss = res->stats;
+            assert_non_null(ss);
+            assert_true(ss->has_key);
+            double want, want_se;
+            if (o.by == ARRANK_BY_RATE) {
+                arrank_prediction p;
+                assert_int_equal(arrank_fit_predict(&res->fit, 523.15, 0.95, &p, NULL),
+                                 ARRANK_OK);
+                want = p.ln_rate;
+                want_se = p.ln_rate_se;
+            } else if (o.by == ARRANK_BY_EA) {
+                want = -res->fit.ea_J_mol;
+                want_se = res->fit.ea_se_J_mol;
+            } else {
+                want = res->fit.ln_A;
+                want_se = res->fit.ln_A_se;
+            }
+            assert_true(fabs(ss->key - want) <= 1e-12 * fabs(want));
+            assert_true(fabs(ss->key_se - want_se) <= 1e-9 * want_se);
+            assert_true(ss->key_dof == res->fit.dof);
+            if (k > 0)
+                assert_true(ss->key <= a->results[a->order[k - 1]].stats->key);
+            double sum = 0;
+            size_t used = 0;
+            for (size_t i = 0; i < res->sample->n_points; i++)
+                if (res->used[i]) {
+                    inv_T += 1.0L / res->sample->points[i].temp_K;
+                    sum += 1.0 / res->sample->points[i].temp_K;
+                    used++;
+                }
+            assert_int_equal(ss->n_T, used);
+            assert_true(fabs(ss->inv_T_sum_per_K - sum) <= 1e-15 * sum);
+            n_T += used;
+        }
+        const double T_hm = (double)((long double)n_T / inv_T);
+        assert_true(fabs(a->rank_stats->compensation.T_hm_K - T_hm) <= 1e-14 * T_hm);
+        arrank_analysis_free(a);
+    }
+    free(t);
+}
+
 /* ---- main ---------------------------------------------------------------- */
 
 int main(void)
@@ -1328,6 +1397,7 @@ int main(void)
         cmocka_unit_test(test_modified_recovers),
         cmocka_unit_test(test_eyring_recovers),
         cmocka_unit_test(test_pipeline),
+        cmocka_unit_test(test_rank_keys),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

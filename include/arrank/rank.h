@@ -52,6 +52,16 @@ struct arrank_sample_stats {
     /* modified or transition-state fit (options.model); valid when has_model */
     int has_model;
     arrank_model_fit model;
+    /* The sample's ranking key as P(best) draws it (key = mean + se T, T ~ t
+       with key_dof, INFINITY: normal): ln r at the operating temperature
+       (ln of the report unit), -Ea [J/mol] or ln A, by options.by.  Set with
+       the sample's fit, valid when has_key. */
+    int has_key;
+    double key, key_se, key_dof;
+    /* sum of 1/T [1/K] over the fitted points and their number: this
+       sample's share of the compensation's harmonic-mean temperature */
+    double inv_T_sum_per_K;
+    size_t n_T;
 };
 
 typedef enum {

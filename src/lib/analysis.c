@@ -154,19 +154,21 @@ static double rank_key(const arrank_result *res, arrank_rank_by by)
     return res->at_T.ln_rate;
 }
 
-static arrank_rank_by sort_by;
-static const arrank_result *sort_results;
+/* One fitted result in the ranking sort: its key read once, not per comparison. */
+typedef struct {
+    double key; /* larger is better (rank_key) */
+    const char *id;
+    size_t index;
+} rank_item;
 
 static int compare_rank(const void *a, const void *b)
 {
-    const arrank_result *ra = &sort_results[*(const size_t *)a];
-    const arrank_result *rb = &sort_results[*(const size_t *)b];
-    double ka = rank_key(ra, sort_by), kb = rank_key(rb, sort_by);
-    if (ka > kb)
+    const rank_item *ra = a, *rb = b;
+    if (ra->key > rb->key)
         return -1;
-    if (ka < kb)
+    if (ra->key < rb->key)
         return 1;
-    return strcmp(ra->sample->id, rb->sample->id);
+    return strcmp(ra->id, rb->id);
 }
 
 /* Everything that happens to one sample: refit, diagnose, models, flags,
@@ -211,6 +213,9 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
         if (res->at_T.extrapolated)
             res->flags |= ARRANK_FLAG_EXTRAPOLATED;
     }
+    /* the ranking's per-sample part while the sample is in this core's cache */
+    if (isfinite(opt->operating_temp_K) || opt->by != ARRANK_BY_RATE)
+        return arrank_rank_prepare(res, opt, err);
     return ARRANK_OK;
 }
 
@@ -318,9 +323,19 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
     /* Rank the fitted samples; ranking by rate needs an operating temperature. */
     if (want_T || opt.by != ARRANK_BY_RATE) {
         a->n_ranked = n_fitted;
-        sort_by = opt.by;
-        sort_results = a->results;
-        qsort(a->order, a->n_ranked, sizeof *a->order, compare_rank);
+        rank_item *items = malloc(n_fitted * sizeof *items);
+        if (!items) {
+            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+            goto fail;
+        }
+        for (size_t k = 0; k < n_fitted; k++) {
+            const arrank_result *res = &a->results[a->order[k]];
+            items[k] = (rank_item){rank_key(res, opt.by), res->sample->id, a->order[k]};
+        }
+        qsort(items, n_fitted, sizeof *items, compare_rank);
+        for (size_t k = 0; k < n_fitted; k++)
+            a->order[k] = items[k].index;
+        free(items);
         for (size_t k = 0; k < a->n_ranked; k++)
             a->results[a->order[k]].rank = (int)(k + 1);
         /* rank.h: P(best), groups, compensation, bootstrap */

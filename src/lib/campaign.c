@@ -1877,9 +1877,16 @@ arrank_status arrank_campaign_load_progress(const char *dir, arrank_units *units
     index = malloc(c->n_samples * sizeof *index);
     if (!index)
         goto nomem;
-    for (size_t i = 0; i < c->n_samples; i++)
+    /* Ids usually follow the file names, which are in order already: then
+       one pass shows it and the sort is not needed. */
+    int in_order = 1;
+    for (size_t i = 0; i < c->n_samples; i++) {
         index[i] = &c->samples[i];
-    qsort(index, c->n_samples, sizeof *index, compare_sample_ids);
+        if (in_order && i > 0 && compare_sample_ids(&index[i - 1], &index[i]) > 0)
+            in_order = 0;
+    }
+    if (!in_order)
+        qsort(index, c->n_samples, sizeof *index, compare_sample_ids);
     for (size_t i = 1; i < c->n_samples; i++) {
         if (strcmp(index[i]->id, index[i - 1]->id) == 0) {
             const arrank_sample *s = index[i];

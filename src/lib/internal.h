@@ -80,6 +80,13 @@ arrank_status arrank_models_apply(arrank_result *res, const arrank_options *opt,
 arrank_status arrank_models_predict(arrank_result *res, const arrank_options *opt,
                                     arrank_error *err);
 
+/* The sample's part of the ranking, done with its fit on the worker that
+   fitted it (analysis.c): res->stats (allocated here), its key and its share
+   of T_hm.  ENOMEM only.  arrank_rank_compute does it for any ranked result
+   that arrives without it. */
+arrank_status arrank_rank_prepare(arrank_result *res, const arrank_options *opt,
+                                  arrank_error *err);
+
 /* Per-sample JSON parts, to merge into the sample's object (json_object_update):
    "p_best", "group" (null when not grouped), "p_beats" (object keyed by the
    other sample's id; top samples only), "rate_at_T_ci_bootstrap" ([lo, hi],

@@ -1194,6 +1194,29 @@ static key_draw result_draw(const arrank_result *res, const arrank_options *opt)
     return arrhenius_draw(&res->fit, opt->by, opt->operating_temp_K, normal);
 }
 
+arrank_status arrank_rank_prepare(arrank_result *res, const arrank_options *opt,
+                                  arrank_error *err)
+{
+    struct arrank_sample_stats *ss = stats_of(res);
+    if (!ss)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    const key_draw kd = result_draw(res, opt);
+    ss->key = kd.mean;
+    ss->key_se = kd.se;
+    ss->key_dof = kd.dof;
+    double sum = 0;
+    size_t n_T = 0;
+    for (size_t i = 0; i < res->sample->n_points; i++)
+        if (res->used[i]) {
+            sum += 1.0 / res->sample->points[i].temp_K;
+            n_T++;
+        }
+    ss->inv_T_sum_per_K = sum;
+    ss->n_T = n_T;
+    ss->has_key = 1;
+    return ARRANK_OK;
+}
+
 static arrank_status bootstrap_result(arrank_result *res, const arrank_options *opt,
                                       unsigned long seed, arrank_error *err)
 {
@@ -1248,28 +1271,33 @@ arrank_status arrank_rank_compute(arrank_analysis *a, arrank_error *err)
         goto done;
     }
     double *p_best = buf, *key = buf + n, *se = buf + 2 * n, *dof = buf + 3 * n;
-    double inv_T_sum = 0;
+    double inv_T_sum = 0, inv_T_comp = 0;
     size_t n_T = 0;
     for (size_t k = 0; k < n; k++) {
         arrank_result *res = &a->results[a->order[k]];
-        if (!stats_of(res)) {
-            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-            goto done;
+        if (!(res->stats && res->stats->has_key)) {
+            st = arrank_rank_prepare(res, opt, err);
+            if (st != ARRANK_OK)
+                goto done;
         }
-        kd[k] = result_draw(res, opt);
-        key[k] = kd[k].mean;
-        se[k] = kd[k].se;
-        dof[k] = kd[k].dof;
+        const struct arrank_sample_stats *ss = res->stats;
+        kd[k] = (key_draw){ss->key, ss->key_se, ss->key_dof};
+        key[k] = ss->key;
+        se[k] = ss->key_se;
+        dof[k] = ss->key_dof;
         fits[k] = &res->fit;
         if (k < rs->n_top) {
             rs->top[k] = a->order[k];
             res->stats->top_index = k;
         }
-        for (size_t i = 0; i < res->sample->n_points; i++)
-            if (res->used[i]) {
-                inv_T_sum += 1.0 / res->sample->points[i].temp_K;
-                n_T++;
-            }
+        /* Neumaier's compensated sum (Z. angew. Math. Mech. 54:39, 1974): a
+           campaign has 1e5 and more terms */
+        const double t = inv_T_sum + ss->inv_T_sum_per_K;
+        inv_T_comp += fabs(inv_T_sum) >= fabs(ss->inv_T_sum_per_K)
+                          ? (inv_T_sum - t) + ss->inv_T_sum_per_K
+                          : (ss->inv_T_sum_per_K - t) + inv_T_sum;
+        inv_T_sum = t;
+        n_T += ss->n_T;
     }
     st = pbest_engine(kd, n, opt->draws, opt->seed, rs->n_top, p_best, rs->p_beats, err);
     if (st != ARRANK_OK)
@@ -1287,7 +1315,7 @@ arrank_status arrank_rank_compute(arrank_analysis *a, arrank_error *err)
             rs->n_groups = group[k];
     }
     /* Krug et al. (1976): T_hm = harmonic mean of every temperature in the fits. */
-    const double T_hm = n_T ? (double)n_T / inv_T_sum : NAN;
+    const double T_hm = n_T ? (double)n_T / (inv_T_sum + inv_T_comp) : NAN;
     st = arrank_rank_compensation(fits, n, T_hm, opt->confidence, &rs->compensation, err);
     if (st != ARRANK_OK)
         goto done;
