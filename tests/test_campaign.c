@@ -1101,6 +1101,57 @@ static void test_derived_rates(void **state)
     free(dir);
 }
 
+/*
+ * A repeated sample id, in and out of file-name order: the check skips its
+ * sort when the ids already follow the names (campaign.c), and must report
+ * the same file, line and message as the sorted path.
+ */
+static void test_duplicate_ids(void **state)
+{
+    (void)state;
+    static const struct {
+        const char *ids[3]; /* of a.csv, b.csv, c.csv; NULL: no such file */
+        const char *bad;    /* file reported, NULL: no error */
+        const char *message;
+    } cases[] = {
+        {{"Cu-1", "Cu-1", NULL}, "b.csv", "sample id 'Cu-1' is also the id of a.csv"},
+        {{"Cu-1", "Cu-2", "Cu-2"}, "c.csv", "sample id 'Cu-2' is also the id of b.csv"},
+        {{"Zn-9", "Cu-1", "Zn-9"}, "c.csv", "sample id 'Zn-9' is also the id of a.csv"},
+        {{"Zn-9", "Zn-9", "Cu-1"}, "b.csv", "sample id 'Zn-9' is also the id of a.csv"},
+        {{"Cu-1", "Cu-2", "Cu-3"}, NULL, NULL},
+        {{"Cu-3", "Cu-2", "Cu-1"}, NULL, NULL},
+    };
+    static const char *const files[] = {"a.csv", "b.csv", "c.csv"};
+    for (size_t k = 0; k < sizeof cases / sizeof *cases; k++) {
+        char *dir = make_temp_dir();
+        for (size_t f = 0; f < 3 && cases[k].ids[f]; f++) {
+            char text[256];
+            snprintf(text, sizeof text, "# mass = 5 mg\n# sample = %s\nT [K],rate [umol/(g*s)]\n"
+                                        "504.55,0.417\n518.05,0.862\n531.35,1.694\n",
+                     cases[k].ids[f]);
+            write_file(dir, files[f], text);
+        }
+        arrank_campaign *c = NULL;
+        arrank_error err;
+        arrank_error_clear(&err);
+        arrank_status st = arrank_campaign_load(dir, units, &c, &err);
+        if (!cases[k].bad) {
+            assert_int_equal(st, ARRANK_OK);
+            arrank_campaign_free(c);
+        } else {
+            assert_int_equal(st, ARRANK_EPARSE);
+            assert_null(c);
+            const char *slash = strrchr(err.path, '/');
+            assert_non_null(slash);
+            assert_string_equal(slash + 1, cases[k].bad);
+            assert_int_equal(err.line, 2);
+            assert_string_equal(err.message, cases[k].message);
+        }
+        remove_tree(dir);
+        free(dir);
+    }
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
@@ -1119,6 +1170,7 @@ int main(void)
         cmocka_unit_test(test_large_campaign),
         cmocka_unit_test(test_read_sizes),
         cmocka_unit_test(test_derived_rates),
+        cmocka_unit_test(test_duplicate_ids),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }

@@ -829,6 +829,57 @@ static void test_mixed_basis(void **state)
     arrank_campaign_free(c);
 }
 
+/*
+ * The campaign-wide basis check compares every sample's declared basis with
+ * the first one's.  A declaration in the same words as the first is taken as
+ * the same without normalising it (diagnose.c); every other wording goes
+ * through the aliases, case and blanks.  Both ways must agree.
+ */
+static void test_campaign_basis_words(void **state)
+{
+    (void)state;
+    static const struct {
+        const char *meta[4]; /* "basis" metadata of each sample; NULL: none */
+        int mixed;
+        const char *why; /* part of the reason, when mixed */
+    } cases[] = {
+        {{"mass", "mass", "mass", "mass"}, 0, NULL},
+        {{"mass", "Mass", "catalyst_mass", "per_mass"}, 0, NULL},
+        {{"catalyst_mass", "mass", "catalyst_mass", "MASS"}, 0, NULL},
+        {{NULL, "mass", "metal", "area"}, 0, NULL}, /* the first declares nothing */
+        {{"mass", NULL, "mass", NULL}, 0, NULL},
+        {{"mass", "mass", "metal_mass", "mass"}, 1,
+         "'Cu-1' declares basis 'mass' and 'Cu-3' declares 'metal_mass'"},
+        {{"surface", "bet_area", "area", "per_site"}, 1,
+         "'Cu-1' declares basis 'area' and 'Cu-4' declares 'site'"},
+    };
+    const char *ids[4] = {"Cu-1", "Cu-2", "Cu-3", "Cu-4"};
+    const char *ru[4] = {"umol/(g*s)", "umol/(g*s)", "umol/(g*s)", "umol/(g*s)"};
+    for (size_t k = 0; k < sizeof cases / sizeof *cases; k++) {
+        data d[4] = {{0}};
+        char meta[4][64];
+        const data *dts[4];
+        for (size_t i = 0; i < 4; i++) {
+            temps(&d[i], 5, 500.0, 540.0);
+            for (size_t j = 0; j < 5; j++)
+                d[i].rate[j] = k_kin(d[i].T_K[j], 90000.0 - 1000.0 * (double)i, 1.0, 515.0);
+            if (cases[k].meta[i]) {
+                snprintf(meta[i], sizeof meta[i], "# basis = %s\n", cases[k].meta[i]);
+                d[i].meta = meta[i];
+            }
+            dts[i] = &d[i];
+        }
+        arrank_campaign *c = campaign_of(4, dts, ids, ru);
+        char why[256];
+        assert_int_equal(arrank_diagnose_campaign_basis(c, why, sizeof why), cases[k].mixed);
+        if (cases[k].mixed)
+            assert_non_null(strstr(why, cases[k].why));
+        else
+            assert_string_equal(why, "");
+        arrank_campaign_free(c);
+    }
+}
+
 static void test_json_shape(void **state)
 {
     (void)state;
@@ -1305,6 +1356,7 @@ int main(void)
         cmocka_unit_test(test_concave_up),
         cmocka_unit_test(test_few_points),
         cmocka_unit_test(test_mixed_basis),
+        cmocka_unit_test(test_campaign_basis_words),
         cmocka_unit_test(test_json_shape),
         cmocka_unit_test(test_series_profile_demo),
         cmocka_unit_test(test_series_profile_simulated),
