@@ -1152,6 +1152,46 @@ static void test_duplicate_ids(void **state)
     }
 }
 
+/* A unit database still being read when the load starts (units.h:
+   arrank_units_create_background): the same campaign, or its failure. */
+static void test_background_units(void **state)
+{
+    (void)state;
+    char *dir = make_temp_dir();
+    write_file(dir, "a.csv", "# sample = Cu-1\nT [degC],rate [umol/(g*s)]\n"
+                             "231.4,0.417\n244.9,0.862\n258.2,1.694\n");
+    arrank_error err;
+    arrank_error_clear(&err);
+    arrank_units *bg = arrank_units_create_background(&err);
+    assert_non_null(bg);
+    arrank_campaign *c = NULL;
+    assert_int_equal(arrank_campaign_load(dir, bg, &c, &err), ARRANK_OK);
+    assert_int_equal(c->n_samples, 1);
+    check_close(c->samples[0].points[0].temp_K, 504.55, REL_TOL, "231.4 degC in K");
+    arrank_campaign_free(c);
+    arrank_units_free(bg);
+
+    const char *old = getenv("UDUNITS2_XML_PATH");
+    char *saved = old ? strdup(old) : NULL;
+    assert_int_equal(setenv("UDUNITS2_XML_PATH", "/nonexistent/udunits2.xml", 1), 0);
+    bg = arrank_units_create_background(&err);
+    assert_non_null(bg);
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_load(dir, bg, &c, &err), ARRANK_EIO);
+    assert_null(c);
+    assert_string_equal(err.message, "cannot load the udunits2 unit database from "
+                                     "'/nonexistent/udunits2.xml'");
+    arrank_units_free(bg);
+    if (saved) {
+        setenv("UDUNITS2_XML_PATH", saved, 1);
+        free(saved);
+    } else {
+        unsetenv("UDUNITS2_XML_PATH");
+    }
+    remove_tree(dir);
+    free(dir);
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
@@ -1171,6 +1211,7 @@ int main(void)
         cmocka_unit_test(test_read_sizes),
         cmocka_unit_test(test_derived_rates),
         cmocka_unit_test(test_duplicate_ids),
+        cmocka_unit_test(test_background_units),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }

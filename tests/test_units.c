@@ -19,7 +19,9 @@
 #include <cmocka.h>
 #include <gsl/gsl_errno.h>
 #include <math.h>
+#include <pthread.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "arrank/units.h"
@@ -392,6 +394,103 @@ static void test_arguments(void **state)
     arrank_units_free(NULL);
 }
 
+/*
+ * A database read in the background (arrank_units_create_background): every
+ * function waits for it and answers as with arrank_units_create, also when
+ * four threads make the first call at once; a database that cannot be read
+ * is each call's error; a handle freed unused is joined cleanly.
+ */
+typedef struct {
+    arrank_units *u;
+    arrank_status st;
+    arrank_conversion conv;
+    arrank_basis basis;
+} first_call;
+
+static void *call_rate(void *arg)
+{
+    first_call *fc = arg;
+    arrank_error err;
+    arrank_error_clear(&err);
+    fc->st = arrank_units_rate(fc->u, "mmol/(g*h)", &fc->basis, &fc->conv, &err);
+    return NULL;
+}
+
+static void test_background(void **state)
+{
+    (void)state;
+    arrank_error err;
+    arrank_error_clear(&err);
+    /* the answers equal the loaded database's, bit for bit */
+    arrank_units *bg = arrank_units_create_background(&err);
+    assert_non_null(bg);
+    for (size_t i = 0; i < sizeof conversions / sizeof *conversions; i++) {
+        arrank_conversion a, b;
+        assert_int_equal(arrank_units_conversion(bg, conversions[i].from, conversions[i].to, &a,
+                                                 &err),
+                         ARRANK_OK);
+        assert_int_equal(arrank_units_conversion(units, conversions[i].from, conversions[i].to,
+                                                 &b, &err),
+                         ARRANK_OK);
+        assert_true(a.scale == b.scale && a.offset == b.offset);
+    }
+    assert_int_equal(arrank_units_ready(bg, &err), ARRANK_OK);
+    arrank_units_free(bg);
+
+    /* four first calls at once */
+    bg = arrank_units_create_background(&err);
+    assert_non_null(bg);
+    pthread_t th[4];
+    first_call fc[4];
+    for (size_t i = 0; i < 4; i++) {
+        fc[i] = (first_call){.u = bg, .st = ARRANK_EINVAL};
+        assert_int_equal(pthread_create(&th[i], NULL, call_rate, &fc[i]), 0);
+    }
+    for (size_t i = 0; i < 4; i++) {
+        assert_int_equal(pthread_join(th[i], NULL), 0);
+        assert_int_equal(fc[i].st, ARRANK_OK);
+        assert_int_equal(fc[i].basis, ARRANK_BASIS_MASS);
+        /* exact by definition: 1e-3 mol / (1e-3 kg * 3600 s) */
+        check_close(fc[i].conv.scale, 1.0 / 3600.0, REL_TOL, "mmol/(g*h) to SI", "definition");
+    }
+    arrank_units_free(bg);
+
+    /* freed without a single call */
+    bg = arrank_units_create_background(&err);
+    assert_non_null(bg);
+    arrank_units_free(bg);
+
+    /* a database that cannot be read: every call says so, as creating it would */
+    const char *old = getenv("UDUNITS2_XML_PATH");
+    char *saved = old ? strdup(old) : NULL;
+    assert_int_equal(setenv("UDUNITS2_XML_PATH", "/nonexistent/udunits2.xml", 1), 0);
+    arrank_error want;
+    arrank_error_clear(&want);
+    assert_null(arrank_units_create(&want));
+    assert_int_equal(want.status, ARRANK_EIO);
+    bg = arrank_units_create_background(&err);
+    assert_non_null(bg);
+    arrank_conversion c;
+    double v;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_units_temperature(bg, "degC", &c, &err), ARRANK_EIO);
+    assert_string_equal(err.message, want.message);
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_units_parse_quantity(bg, "150 um", "m", &v, &err), ARRANK_EIO);
+    assert_string_equal(err.message, want.message);
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_units_ready(bg, &err), ARRANK_EIO);
+    assert_string_equal(err.message, "cannot load the udunits2 unit database from "
+                                     "'/nonexistent/udunits2.xml'");
+    arrank_units_free(bg);
+    if (saved) {
+        setenv("UDUNITS2_XML_PATH", saved, 1);
+        free(saved);
+    } else {
+        unsetenv("UDUNITS2_XML_PATH");
+    }
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
@@ -406,6 +505,7 @@ int main(void)
         cmocka_unit_test(test_parse_quantity),
         cmocka_unit_test(test_cache_replacement),
         cmocka_unit_test(test_arguments),
+        cmocka_unit_test(test_background),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }

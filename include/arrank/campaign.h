@@ -93,7 +93,9 @@ typedef struct {
 /*
  * Read the folder at dir.  On success *out is a new campaign owned by the
  * caller (free with arrank_campaign_free).  On failure *out is NULL and err
- * says which file, line and column.
+ * says which file, line and column.  units may still be reading its database
+ * (arrank_units_create_background): the folder is listed meanwhile, and a
+ * database that failed is reported as arrank_units_ready reports it.
  */
 arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_campaign **out,
                                    arrank_error *err);

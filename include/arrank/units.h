@@ -34,6 +34,19 @@ typedef struct {
  * Returns NULL and fills err on failure.  Free with arrank_units_free.
  */
 arrank_units *arrank_units_create(arrank_error *err);
+
+/*
+ * Like arrank_units_create, but the database is read on a thread of its own
+ * (about 8 ms) while the caller goes on, e.g. to list a campaign folder.
+ * Every function below waits for it where it needs it; when it could not be
+ * read, each fails with the reason arrank_units_create would have given
+ * (EIO).  arrank_units_ready waits and reports that reason.  NULL only when
+ * out of memory (or, with no thread to spare, when the database, read at
+ * once, fails).  Free with arrank_units_free, which waits first.
+ */
+arrank_units *arrank_units_create_background(arrank_error *err);
+arrank_status arrank_units_ready(arrank_units *units, arrank_error *err);
+
 void arrank_units_free(arrank_units *units);
 
 /*

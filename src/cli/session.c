@@ -63,13 +63,19 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
     arrank_error_clear(&err);
     gsl_set_error_handler_off();
 
-    s->units = arrank_units_create(&err);
+    /* The unit database is read while the campaign folder is listed. */
+    s->units = arrank_units_create_background(&err);
     if (!s->units) {
         cli_print_error(&err);
         return EXIT_IO;
     }
     double at_K = NAN;
     if (args->at_text) {
+        if (arrank_units_ready(s->units, &err) != ARRANK_OK) {
+            cli_print_error(&err);
+            cli_session_free(s);
+            return EXIT_IO;
+        }
         arrank_status st = arrank_units_parse_temperature(s->units, args->at_text, &at_K, &err);
         if (st != ARRANK_OK) {
             cli_fail("--at: %s", err.message);

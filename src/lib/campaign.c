@@ -1808,6 +1808,13 @@ arrank_status arrank_campaign_load_progress(const char *dir, arrank_units *units
         return arrank_error_at(err, ARRANK_EDATA, dir, 0, 0,
                                "no sample files (*.csv) in the folder");
     }
+    /* A database read in the background (arrank_units_create_background) has
+       had the listing's time; from here on it is needed. */
+    st = arrank_units_ready(units, err);
+    if (st != ARRANK_OK) {
+        list_free(names, n_names);
+        return st;
+    }
     /* Files are opened relative to the folder: no path walk per file. */
     int dirfd = open(dir, O_RDONLY | O_DIRECTORY | O_CLOEXEC);
     if (dirfd < 0) {

@@ -19,6 +19,7 @@
 #include <errno.h>
 #include <math.h>
 #include <pthread.h>
+#include <stdatomic.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -49,6 +50,12 @@ struct arrank_units {
     cache_entry cache[CACHE_SIZE];
     size_t n_cache;
     size_t next_evict;
+    /* arrank_units_create_background: the thread reading the database */
+    pthread_t loader;
+    atomic_int pending;        /* 1 until the loader has been joined */
+    pthread_mutex_t join_lock; /* one joiner */
+    arrank_status load_status; /* the loader's outcome, valid once joined */
+    arrank_error load_err;
 };
 
 /* UTF-8 spellings replaced before udunits sees the text. */
@@ -228,33 +235,47 @@ static arrank_status affine(const ut_unit *from, const ut_unit *to, const char *
 
 static void units_free(arrank_units *units);
 
-static arrank_units *units_create(arrank_error *err)
+/* A handle with no database yet; NULL when out of memory. */
+static arrank_units *units_alloc(arrank_error *err)
 {
-    /* udunits prints its own diagnostics by default; the library never prints. */
-    ut_set_error_message_handler(ut_ignore);
     arrank_units *units = calloc(1, sizeof *units);
-    if (!units) {
+    if (!units || pthread_mutex_init(&units->join_lock, NULL) != 0) {
+        free(units);
         arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the unit database");
         return NULL;
     }
+    atomic_init(&units->pending, 0);
+    units->load_status = ARRANK_OK;
+    return units;
+}
+
+/* Read the database into units (udunits lock held); on failure nothing stays loaded. */
+static arrank_status units_load(arrank_units *units, arrank_error *err)
+{
+    /* udunits prints its own diagnostics by default; the library never prints. */
+    ut_set_error_message_handler(ut_ignore);
     units->system = ut_read_xml(NULL);
     if (!units->system) {
         const char *env = getenv("UDUNITS2_XML_PATH");
-        arrank_errorf(err, ARRANK_EIO, "cannot load the udunits2 unit database%s%s%s",
-                      env ? " from '" : "", env ? env : "", env ? "'" : "");
-        free(units);
-        return NULL;
+        return arrank_errorf(err, ARRANK_EIO, "cannot load the udunits2 unit database%s%s%s",
+                             env ? " from '" : "", env ? env : "", env ? "'" : "");
     }
     units->kelvin = ut_parse(units->system, "K", UT_ASCII);
     units->rate_mass = ut_parse(units->system, "mol/(kg*s)", UT_ASCII);
     units->rate_area = ut_parse(units->system, "mol/(m2*s)", UT_ASCII);
     units->rate_site = ut_parse(units->system, "1/s", UT_ASCII);
     if (!units->kelvin || !units->rate_mass || !units->rate_area || !units->rate_site) {
-        arrank_errorf(err, ARRANK_EIO, "the udunits2 unit database lacks K, mol, kg, m or s");
-        units_free(units);
-        return NULL;
+        ut_free(units->kelvin);
+        ut_free(units->rate_mass);
+        ut_free(units->rate_area);
+        ut_free(units->rate_site);
+        ut_free_system(units->system);
+        units->kelvin = units->rate_mass = units->rate_area = units->rate_site = NULL;
+        units->system = NULL;
+        return arrank_errorf(err, ARRANK_EIO,
+                             "the udunits2 unit database lacks K, mol, kg, m or s");
     }
-    return units;
+    return ARRANK_OK;
 }
 
 static void units_free(arrank_units *units)
@@ -270,6 +291,7 @@ static void units_free(arrank_units *units)
     ut_free(units->rate_area);
     ut_free(units->rate_site);
     ut_free_system(units->system);
+    pthread_mutex_destroy(&units->join_lock);
     free(units);
 }
 
@@ -505,14 +527,85 @@ static pthread_mutex_t udunits_lock = PTHREAD_MUTEX_INITIALIZER;
 
 arrank_units *arrank_units_create(arrank_error *err)
 {
+    arrank_units *units = units_alloc(err);
+    if (!units)
+        return NULL;
     pthread_mutex_lock(&udunits_lock);
-    arrank_units *r = units_create(err);
+    arrank_status st = units_load(units, err);
+    if (st != ARRANK_OK) {
+        units_free(units);
+        units = NULL;
+    }
     pthread_mutex_unlock(&udunits_lock);
-    return r;
+    return units;
+}
+
+static void *loader_main(void *arg)
+{
+    arrank_units *units = arg;
+    arrank_error_clear(&units->load_err);
+    pthread_mutex_lock(&udunits_lock);
+    units->load_status = units_load(units, &units->load_err);
+    pthread_mutex_unlock(&udunits_lock);
+    return NULL;
+}
+
+arrank_units *arrank_units_create_background(arrank_error *err)
+{
+    arrank_units *units = units_alloc(err);
+    if (!units)
+        return NULL;
+    atomic_store(&units->pending, 1);
+    if (pthread_create(&units->loader, NULL, loader_main, units) != 0) {
+        /* no thread to spare: read it now, as arrank_units_create does */
+        atomic_store(&units->pending, 0);
+        pthread_mutex_lock(&udunits_lock);
+        arrank_status st = units_load(units, err);
+        if (st != ARRANK_OK) {
+            units_free(units);
+            units = NULL;
+        }
+        pthread_mutex_unlock(&udunits_lock);
+    }
+    return units;
+}
+
+/*
+ * Wait for a database read in the background; its failure, if any, as every
+ * call's.  Called before taking udunits_lock, which the loader holds while it
+ * reads.  The join happens once (join_lock); the acquire load pairs with the
+ * release store after it, so a thread that sees pending == 0 sees the
+ * loader's writes.
+ */
+static arrank_status units_ready(arrank_units *units, arrank_error *err)
+{
+    if (!units)
+        return ARRANK_OK; /* the functions below report a missing handle as before */
+    if (atomic_load_explicit(&units->pending, memory_order_acquire)) {
+        pthread_mutex_lock(&units->join_lock);
+        if (atomic_load_explicit(&units->pending, memory_order_relaxed)) {
+            pthread_join(units->loader, NULL);
+            atomic_store_explicit(&units->pending, 0, memory_order_release);
+        }
+        pthread_mutex_unlock(&units->join_lock);
+    }
+    if (units->load_status != ARRANK_OK) {
+        if (err)
+            *err = units->load_err;
+        return units->load_status;
+    }
+    return ARRANK_OK;
+}
+
+arrank_status arrank_units_ready(arrank_units *units, arrank_error *err)
+{
+    return units_ready(units, err);
 }
 
 void arrank_units_free(arrank_units *units)
 {
+    arrank_error ignored;
+    units_ready(units, &ignored);
     pthread_mutex_lock(&udunits_lock);
     units_free(units);
     pthread_mutex_unlock(&udunits_lock);
@@ -521,6 +614,9 @@ void arrank_units_free(arrank_units *units)
 arrank_status arrank_units_temperature(arrank_units *units, const char *unit,
                                        arrank_conversion *to_K, arrank_error *err)
 {
+    arrank_status ready = units_ready(units, err);
+    if (ready != ARRANK_OK)
+        return ready;
     pthread_mutex_lock(&udunits_lock);
     arrank_status r = units_temperature(units, unit, to_K, err);
     pthread_mutex_unlock(&udunits_lock);
@@ -530,6 +626,9 @@ arrank_status arrank_units_temperature(arrank_units *units, const char *unit,
 arrank_status arrank_units_rate(arrank_units *units, const char *unit, arrank_basis *basis,
                                 arrank_conversion *to_si, arrank_error *err)
 {
+    arrank_status ready = units_ready(units, err);
+    if (ready != ARRANK_OK)
+        return ready;
     pthread_mutex_lock(&udunits_lock);
     arrank_status r = units_rate(units, unit, basis, to_si, err);
     pthread_mutex_unlock(&udunits_lock);
@@ -539,6 +638,9 @@ arrank_status arrank_units_rate(arrank_units *units, const char *unit, arrank_ba
 arrank_status arrank_units_conversion(arrank_units *units, const char *from, const char *to,
                                       arrank_conversion *conv, arrank_error *err)
 {
+    arrank_status ready = units_ready(units, err);
+    if (ready != ARRANK_OK)
+        return ready;
     pthread_mutex_lock(&udunits_lock);
     arrank_status r = units_conversion(units, from, to, conv, err);
     pthread_mutex_unlock(&udunits_lock);
@@ -548,6 +650,9 @@ arrank_status arrank_units_conversion(arrank_units *units, const char *from, con
 arrank_status arrank_units_parse_temperature(arrank_units *units, const char *text,
                                              double *temp_K, arrank_error *err)
 {
+    arrank_status ready = units_ready(units, err);
+    if (ready != ARRANK_OK)
+        return ready;
     pthread_mutex_lock(&udunits_lock);
     arrank_status r = units_parse_temperature(units, text, temp_K, err);
     pthread_mutex_unlock(&udunits_lock);
@@ -558,6 +663,9 @@ arrank_status arrank_units_parse_quantity(arrank_units *units, const char *text,
                                           const char *si_unit, double *value_si,
                                           arrank_error *err)
 {
+    arrank_status ready = units_ready(units, err);
+    if (ready != ARRANK_OK)
+        return ready;
     pthread_mutex_lock(&udunits_lock);
     arrank_status r = units_parse_quantity(units, text, si_unit, value_si, err);
     pthread_mutex_unlock(&udunits_lock);
