@@ -10,6 +10,7 @@
  * to move the weights from ln r to r.
  */
 #include "arrank/models.h"
+#include "internal.h"
 
 #include <math.h>
 #include <stdint.h>
@@ -280,14 +281,9 @@ arrank_status arrank_model_fit_predict(const arrank_model_fit *fit, double temp_
                                        double confidence, arrank_prediction *pred,
                                        arrank_error *err)
 {
-    if (!fit || !pred)
-        return arrank_errorf(err, ARRANK_EINVAL, "'predict' needs a fit and a result record");
-    if (!isfinite(temp_K) || temp_K <= 0)
-        return arrank_errorf(err, ARRANK_EINVAL,
-                             "temperature '%g K' is not a positive absolute temperature", temp_K);
-    if (!(confidence > 0 && confidence < 1))
-        return arrank_errorf(err, ARRANK_EINVAL,
-                             "confidence '%g' is not between 0 and 1 (exclusive)", confidence);
+    const arrank_status st = arrank_predict_check(fit != NULL, temp_K, confidence, pred, err);
+    if (st != ARRANK_OK)
+        return st;
     if (!(fit->dof > 0) || !(fit->T_ref_K > 0))
         return arrank_errorf(err, ARRANK_EINVAL, "'predict' was given an empty model fit");
     const double g[3] = {1.0, log(temp_K / fit->T_ref_K), 1.0 / temp_K - 1.0 / fit->T_ref_K};
@@ -297,17 +293,7 @@ arrank_status arrank_model_fit_predict(const arrank_model_fit *fit, double temp_
     for (size_t k = 0; k < 3; k++)
         for (size_t j = 0; j < 3; j++)
             var += g[k] * fit->cov[k][j] * g[j];
-    const double se = sqrt(var > 0 ? var : 0);
-    const double t = arrank_t_quantile(confidence, fit->dof);
-    memset(pred, 0, sizeof *pred);
-    pred->temp_K = temp_K;
-    pred->ln_rate = ln_r;
-    pred->ln_rate_se = se;
-    pred->rate = exp(ln_r);
-    pred->rate_lo = exp(ln_r - t * se);
-    pred->rate_hi = exp(ln_r + t * se);
-    /* relative tolerance as in fit.c: a T equal to an end up to rounding is inside */
-    pred->extrapolated =
-        temp_K < fit->T_min_K * (1.0 - 1e-9) || temp_K > fit->T_max_K * (1.0 + 1e-9);
+    arrank_predict_fill(temp_K, confidence, fit->dof, fit->T_min_K, fit->T_max_K, ln_r,
+                        sqrt(var > 0 ? var : 0), pred);
     return ARRANK_OK;
 }
