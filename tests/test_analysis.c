@@ -25,19 +25,7 @@
 #include "arrank/analysis.h"
 #include "arrank/campaign.h"
 #include "arrank/output.h"
-
-static arrank_units *units;
-
-/* Write text to dir/name. */
-static void put_file(const char *dir, const char *name, const char *text)
-{
-    char path[512];
-    snprintf(path, sizeof path, "%s/%s", dir, name);
-    FILE *f = fopen(path, "w");
-    assert_non_null(f);
-    fputs(text, f);
-    assert_int_equal(fclose(f), 0);
-}
+#include "helpers.h"
 
 /* A sample file with an exact Arrhenius law: r = exp(lnA - Ea/(R T)), rate in 1/s. */
 static void put_arrhenius(const char *dir, const char *name, double ea_J_mol, double ln_A,
@@ -53,22 +41,7 @@ static void put_arrhenius(const char *dir, const char *name, double ea_J_mol, do
     }
     char file[128];
     snprintf(file, sizeof file, "%s.csv", name);
-    put_file(dir, file, text);
-}
-
-static char *make_dir(void)
-{
-    char *dir = strdup("/tmp/arrank-test-XXXXXX");
-    assert_non_null(mkdtemp(dir));
-    return dir;
-}
-
-static void remove_dir(char *dir)
-{
-    char cmd[600];
-    snprintf(cmd, sizeof cmd, "rm -rf '%s'", dir);
-    assert_int_equal(system(cmd), 0);
-    free(dir);
+    file_write(dir, file, text);
 }
 
 static arrank_analysis *analyse(const char *dir, double T_K, arrank_rank_by by,
@@ -115,7 +88,7 @@ static void test_flag_table(void **state)
 static void test_rank_orders(void **state)
 {
     (void)state;
-    char *dir = make_dir();
+    char *dir = temp_dir_make();
     /* Lines that cross inside the range: the order depends on T. */
     put_arrhenius(dir, "A", 60000.0, 8.0, 480, 620, 8, 0.0);
     put_arrhenius(dir, "B", 110000.0, 19.5, 480, 620, 8, 0.0);
@@ -153,14 +126,14 @@ static void test_rank_orders(void **state)
     assert_string_equal(a->results[a->order[0]].sample->id, "B"); /* highest ln A first */
     arrank_analysis_free(a);
     arrank_campaign_free(c);
-    remove_dir(dir);
+    temp_dir_remove(dir);
 }
 
 /* Flags: few points, narrow range, low Ea, extrapolated. */
 static void test_basic_flags(void **state)
 {
     (void)state;
-    char *dir = make_dir();
+    char *dir = temp_dir_make();
     put_arrhenius(dir, "narrow", 80000.0, 15.0, 500, 520, 3, 0.01);
     put_arrhenius(dir, "lowEa", 12000.0, 1.0, 450, 600, 8, 0.01);
     put_arrhenius(dir, "clean", 90000.0, 18.0, 450, 600, 8, 0.01);
@@ -182,7 +155,7 @@ static void test_basic_flags(void **state)
     assert_false(find(a, "clean")->flags & ARRANK_FLAG_EXTRAPOLATED);
     arrank_analysis_free(a);
     arrank_campaign_free(c);
-    remove_dir(dir);
+    temp_dir_remove(dir);
 }
 
 /* A sample that cannot be fitted is listed, unranked, with its reason; with
@@ -190,9 +163,9 @@ static void test_basic_flags(void **state)
 static void test_unfittable(void **state)
 {
     (void)state;
-    char *dir = make_dir();
+    char *dir = temp_dir_make();
     put_arrhenius(dir, "good", 70000.0, 14.0, 480, 560, 6, 0.02);
-    put_file(dir, "bad.csv", "T [K],rate [1/s]\n500,0.1\n510,0.2\n");
+    file_write(dir, "bad.csv", "T [K],rate [1/s]\n500,0.1\n510,0.2\n");
     arrank_campaign *c;
     arrank_analysis *a = analyse(dir, 520.0, ARRANK_BY_RATE, &c);
     const arrank_result *b = find(a, "bad");
@@ -254,15 +227,15 @@ static void test_unfittable(void **state)
     assert_non_null(strstr(err.path, "bad.csv"));
     assert_non_null(strstr(err.message, "2"));
     arrank_campaign_free(c);
-    remove_dir(dir);
+    temp_dir_remove(dir);
 }
 
 /* The table shortens long names, keeps control characters out, shows units. */
 static void test_table(void **state)
 {
     (void)state;
-    char *dir = make_dir();
-    put_file(dir, "x.csv", "# sample = Pt_1 on a very long support name that goes on and on\n"
+    char *dir = temp_dir_make();
+    file_write(dir, "x.csv", "# sample = Pt_1 on a very long support name that goes on and on\n"
                            "T [K],rate [umol/(g*s)]\n500,0.1\n520,0.22\n540,0.41\n560,0.8\n");
     arrank_campaign *c;
     arrank_analysis *a = analyse(dir, 530.0, ARRANK_BY_RATE, &c);
@@ -278,7 +251,7 @@ static void test_table(void **state)
     free(buf);
     arrank_analysis_free(a);
     arrank_campaign_free(c);
-    remove_dir(dir);
+    temp_dir_remove(dir);
 }
 
 /* Saving: parent folders created, no temp file left; a full device fails with
@@ -301,7 +274,7 @@ static arrank_status write_fails(FILE *f, void *ctx, arrank_error *err)
 static void test_atomic_save(void **state)
 {
     (void)state;
-    char *dir = make_dir();
+    char *dir = temp_dir_make();
     char path[600];
     snprintf(path, sizeof path, "%s/a/b/out.txt", dir);
     arrank_error err;
@@ -323,24 +296,16 @@ static void test_atomic_save(void **state)
                          ARRANK_EIO);
         assert_non_null(strstr(err.message, "/dev/full"));
     }
-    remove_dir(dir);
+    temp_dir_remove(dir);
 }
 
 int main(void)
 {
     gsl_set_error_handler_off();
-    arrank_error err;
-    units = arrank_units_create(&err);
-    if (!units) {
-        fprintf(stderr, "cannot load units: %s\n", err.message);
-        return 1;
-    }
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_flag_table),   cmocka_unit_test(test_rank_orders),
         cmocka_unit_test(test_basic_flags),  cmocka_unit_test(test_unfittable),
         cmocka_unit_test(test_table),        cmocka_unit_test(test_atomic_save),
     };
-    int rc = cmocka_run_group_tests_name("analysis", tests, NULL, NULL);
-    arrank_units_free(units);
-    return rc;
+    return cmocka_run_group_tests_name("analysis", tests, units_setup, units_teardown);
 }

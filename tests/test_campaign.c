@@ -28,38 +28,11 @@
 #include <unistd.h>
 
 #include "arrank/campaign.h"
+#include "helpers.h"
 
 #define REL_TOL 1e-12
-
-static arrank_units *units;
-
-static int setup(void **state)
-{
-    (void)state;
-    arrank_error err;
-    arrank_error_clear(&err);
-    units = arrank_units_create(&err);
-    if (!units)
-        print_error("arrank_units_create: %s\n", err.message);
-    return units ? 0 : -1;
-}
-
-static int teardown(void **state)
-{
-    (void)state;
-    arrank_units_free(units);
-    return 0;
-}
-
-static void check_close(double got, double want, double rel, const char *what)
-{
-    double scale = fabs(want) > 0 ? fabs(want) : 1.0;
-    if (!(fabs(got - want) <= rel * scale)) {
-        print_error("%s: got %.17g, want %.17g (rel tol %g; exact by definition of the units)\n",
-                     what, got, want, rel);
-        fail();
-    }
-}
+/* The source of every expected value compared with check_close here. */
+#define UNITS_EXACT "exact by definition of the units"
 
 static arrank_status parse(const char *name, const char *text, const char *report,
                            arrank_sample *s, arrank_error *err)
@@ -135,8 +108,8 @@ static void test_dialects(void **state)
             fail();
         }
         for (size_t k = 0; k < 3; k++) {
-            check_close(s.points[k].temp_K, dialect_T_K[k], REL_TOL, cases[i].what);
-            check_close(s.points[k].rate, dialect_rate[k], REL_TOL, cases[i].what);
+            check_close(s.points[k].temp_K, dialect_T_K[k], REL_TOL, cases[i].what, UNITS_EXACT);
+            check_close(s.points[k].rate, dialect_rate[k], REL_TOL, cases[i].what, UNITS_EXACT);
             assert_true(isnan(s.points[k].rate_sd));
             assert_true(isnan(s.points[k].conversion));
             assert_true(isnan(s.points[k].time_on_stream_s));
@@ -277,14 +250,18 @@ static void test_optional_columns(void **state)
     arrank_sample s;
     parse_ok("S05.csv", text, NULL, &s);
     assert_int_equal(s.n_points, 3);
-    check_close(s.points[0].rate_sd, 0.0873 / 3.6, REL_TOL, "rate_sd mol/(kg*h) -> umol/(g*s)");
+    check_close(s.points[0].rate_sd, 0.0873 / 3.6, REL_TOL,
+                "rate_sd mol/(kg*h) -> umol/(g*s)", UNITS_EXACT);
     assert_true(isnan(s.points[1].rate_sd));
-    check_close(s.points[2].rate_sd, 0.2412 / 3.6, REL_TOL, "rate_sd mol/(kg*h) -> umol/(g*s)");
-    check_close(s.points[0].conversion, 0.037, REL_TOL, "conversion %");
-    check_close(s.points[1].conversion, 0.0815, REL_TOL, "conversion %");
+    check_close(s.points[2].rate_sd, 0.2412 / 3.6, REL_TOL,
+                "rate_sd mol/(kg*h) -> umol/(g*s)", UNITS_EXACT);
+    check_close(s.points[0].conversion, 0.037, REL_TOL, "conversion %", UNITS_EXACT);
+    check_close(s.points[1].conversion, 0.0815, REL_TOL, "conversion %", UNITS_EXACT);
     assert_true(isnan(s.points[2].conversion));
-    check_close(s.points[0].time_on_stream_s, 750.0, REL_TOL, "time_on_stream min -> s");
-    check_close(s.points[1].time_on_stream_s, 2820.0, REL_TOL, "time_on_stream min -> s");
+    check_close(s.points[0].time_on_stream_s, 750.0, REL_TOL,
+                "time_on_stream min -> s", UNITS_EXACT);
+    check_close(s.points[1].time_on_stream_s, 2820.0, REL_TOL,
+                "time_on_stream min -> s", UNITS_EXACT);
     assert_true(isnan(s.points[2].time_on_stream_s));
     assert_int_equal(s.n_notes, 3);
     assert_string_equal(s.notes[0], "column 'pressure' ignored");
@@ -297,10 +274,10 @@ static void test_optional_columns(void **state)
     parse_ok("S06.csv", "Temperature [K];R [1/h];Conversion;RATE_SD [1/h]\n"
                         "600,2;7,31;0,042;0,35\n612,7;12,9;0,071;0,52\n",
              "1/s", &s);
-    check_close(s.points[0].conversion, 0.042, REL_TOL, "conversion fraction");
-    check_close(s.points[1].rate, 12.9 / 3600.0, REL_TOL, "1/h -> 1/s");
-    check_close(s.points[1].rate_sd, 0.52 / 3600.0, REL_TOL, "1/h -> 1/s");
-    check_close(s.points[1].temp_K, 612.7, REL_TOL, "K");
+    check_close(s.points[0].conversion, 0.042, REL_TOL, "conversion fraction", UNITS_EXACT);
+    check_close(s.points[1].rate, 12.9 / 3600.0, REL_TOL, "1/h -> 1/s", UNITS_EXACT);
+    check_close(s.points[1].rate_sd, 0.52 / 3600.0, REL_TOL, "1/h -> 1/s", UNITS_EXACT);
+    check_close(s.points[1].temp_K, 612.7, REL_TOL, "K", UNITS_EXACT);
     assert_string_equal(s.rate_unit_file, "1/h");
     assert_int_equal(s.basis, ARRANK_BASIS_SITE);
     arrank_sample_clear(&s);
@@ -326,15 +303,17 @@ static void test_same_data_other_units(void **state)
     for (size_t i = 1; i < 3; i++) {
         assert_int_equal(s[i].n_points, s[0].n_points);
         for (size_t k = 0; k < s[0].n_points; k++) {
-            check_close(s[i].points[k].temp_K, s[0].points[k].temp_K, REL_TOL, "T in K");
-            check_close(s[i].points[k].rate, s[0].points[k].rate, REL_TOL, "rate in mol/(kg*s)");
+            check_close(s[i].points[k].temp_K, s[0].points[k].temp_K, REL_TOL,
+                        "T in K", UNITS_EXACT);
+            check_close(s[i].points[k].rate, s[0].points[k].rate, REL_TOL,
+                        "rate in mol/(kg*s)", UNITS_EXACT);
             check_close(s[i].points[k].rate_sd, s[0].points[k].rate_sd, REL_TOL,
-                        "rate_sd in mol/(kg*s)");
+                        "rate_sd in mol/(kg*s)", UNITS_EXACT);
         }
     }
     /* And the values themselves: 0.417 umol/(g*s) = 4.17e-4 mol/(kg*s). */
-    check_close(s[0].points[0].rate, 4.17e-4, REL_TOL, "umol/(g*s) -> mol/(kg*s)");
-    check_close(s[0].points[3].temp_K, 544.75, REL_TOL, "degC -> K");
+    check_close(s[0].points[0].rate, 4.17e-4, REL_TOL, "umol/(g*s) -> mol/(kg*s)", UNITS_EXACT);
+    check_close(s[0].points[3].temp_K, 544.75, REL_TOL, "degC -> K", UNITS_EXACT);
     for (size_t i = 0; i < 3; i++)
         arrank_sample_clear(&s[i]);
 }
@@ -610,64 +589,21 @@ static void test_limits(void **state)
     free(buf);
 }
 
-/* ------------------------------------------------------- folder helpers */
-
-static void write_file(const char *dir, const char *name, const char *text)
-{
-    char path[4096];
-    snprintf(path, sizeof path, "%s/%s", dir, name);
-    FILE *f = fopen(path, "wb");
-    assert_non_null(f);
-    assert_int_equal(fwrite(text, 1, strlen(text), f), strlen(text));
-    assert_int_equal(fclose(f), 0);
-}
-
-static void remove_tree(const char *path)
-{
-    DIR *d = opendir(path);
-    if (d) {
-        struct dirent *e;
-        while ((e = readdir(d)) != NULL) {
-            if (strcmp(e->d_name, ".") == 0 || strcmp(e->d_name, "..") == 0)
-                continue;
-            char sub[4096];
-            snprintf(sub, sizeof sub, "%s/%s", path, e->d_name);
-            struct stat sb;
-            if (lstat(sub, &sb) == 0 && S_ISDIR(sb.st_mode))
-                remove_tree(sub);
-            else
-                unlink(sub);
-        }
-        closedir(d);
-        rmdir(path);
-    }
-}
-
-static char *make_temp_dir(void)
-{
-    const char *tmp = getenv("TMPDIR");
-    char templ[4096];
-    snprintf(templ, sizeof templ, "%s/arrank-test-XXXXXX", tmp && *tmp ? tmp : "/tmp");
-    char *d = mkdtemp(templ);
-    assert_non_null(d);
-    return strdup(d);
-}
-
 static void test_folder(void **state)
 {
     (void)state;
-    char *dir = make_temp_dir();
-    write_file(dir, "b-Co.csv", "T [degC],rate [mol/(kg*h)]\n231.4,1.5012\n244.9,3.1032\n"
+    char *dir = temp_dir_make();
+    file_write(dir, "b-Co.csv", "T [degC],rate [mol/(kg*h)]\n231.4,1.5012\n244.9,3.1032\n"
                                 "258.2,6.0984\n");
-    write_file(dir, "A-Ni.CSV", "# sample = Ni-05\nT [K],rate [\xc2\xb5mol/(g\xc2\xb7s)]\n"
+    file_write(dir, "A-Ni.CSV", "# sample = Ni-05\nT [K],rate [\xc2\xb5mol/(g\xc2\xb7s)]\n"
                                 "504.55,0.417\n518.05,0.862\n531.35,1.694\n");
-    write_file(dir, "c-Fe.csv", "T [K],rate [umol/(g*s)]\n504.55,0.11\n518.05,0.23\n");
-    write_file(dir, ".hidden.csv", "not even CSV\0");
-    write_file(dir, "notes.txt", "bench log\n");
+    file_write(dir, "c-Fe.csv", "T [K],rate [umol/(g*s)]\n504.55,0.11\n518.05,0.23\n");
+    file_write(dir, ".hidden.csv", "not even CSV\0");
+    file_write(dir, "notes.txt", "bench log\n");
     char sub[4096];
     snprintf(sub, sizeof sub, "%s/older", dir);
     assert_int_equal(mkdir(sub, 0700), 0);
-    write_file(sub, "S99.csv", "broken");
+    file_write(sub, "S99.csv", "broken");
 
     arrank_campaign *c = NULL;
     arrank_error err;
@@ -690,7 +626,7 @@ static void test_folder(void **state)
     assert_int_equal(c->basis, ARRANK_BASIS_MASS);
     for (size_t k = 0; k < 3; k++)
         check_close(c->samples[1].points[k].rate, c->samples[0].points[k].rate, REL_TOL,
-                    "mol/(kg*h) -> umol/(g*s)");
+                    "mol/(kg*h) -> umol/(g*s)", UNITS_EXACT);
     assert_non_null(c->samples[2].problem); /* 2 points: kept with a problem */
     assert_null(c->samples[0].problem);
     assert_true(isnan(c->operating_temp_K));
@@ -702,7 +638,7 @@ static void test_folder(void **state)
     arrank_campaign_free(c);
 
     /* campaign.ini: settings, sample sections, notes; a trailing slash on the folder. */
-    write_file(dir, "campaign.ini",
+    file_write(dir, "campaign.ini",
                "; bench 2 screening\n"
                "[campaign]\n"
                "title = Ni, Co and Fe on alumina\n"
@@ -727,11 +663,13 @@ static void test_folder(void **state)
     }
     assert_string_equal(c->name, base);
     assert_string_equal(c->title, "Ni, Co and Fe on alumina");
-    check_close(c->operating_temp_K, 503.15, REL_TOL, "230 C");
-    check_close(c->confidence, 0.9, REL_TOL, "confidence");
+    check_close(c->operating_temp_K, 503.15, REL_TOL, "230 C", UNITS_EXACT);
+    check_close(c->confidence, 0.9, REL_TOL, "confidence", UNITS_EXACT);
     assert_string_equal(c->rate_unit, "mol/(kg*s)");
-    check_close(c->samples[0].points[0].rate, 4.17e-4, REL_TOL, "umol/(g*s) -> mol/(kg*s)");
-    check_close(c->samples[1].points[0].rate, 4.17e-4, REL_TOL, "mol/(kg*h) -> mol/(kg*s)");
+    check_close(c->samples[0].points[0].rate, 4.17e-4, REL_TOL,
+                "umol/(g*s) -> mol/(kg*s)", UNITS_EXACT);
+    check_close(c->samples[1].points[0].rate, 4.17e-4, REL_TOL,
+                "mol/(kg*h) -> mol/(kg*s)", UNITS_EXACT);
     assert_string_equal(arrank_sample_meta(&c->samples[0], "mass"), "12.5 mg");
     assert_string_equal(c->samples[0].id, "Ni-05");
     const arrank_meta *m = &c->samples[0].meta[c->samples[0].n_meta - 1];
@@ -769,7 +707,7 @@ static void test_folder(void **state)
          "malformed line; expected '[section]', 'key = value' or a comment"},
     };
     for (size_t i = 0; i < sizeof bad_ini / sizeof bad_ini[0]; i++) {
-        write_file(dir, "campaign.ini", bad_ini[i].ini);
+        file_write(dir, "campaign.ini", bad_ini[i].ini);
         arrank_error_clear(&err);
         c = (arrank_campaign *)&err; /* must be reset to NULL */
         assert_int_equal(arrank_campaign_load(dir, units, &c, &err), bad_ini[i].status);
@@ -788,7 +726,7 @@ static void test_folder(void **state)
     int k = snprintf(longini, sizeof longini, "[campaign]\ntitle = ");
     memset(longini + k, 'z', 500);
     strcpy(longini + k + 500, "\n");
-    write_file(dir, "campaign.ini", longini);
+    file_write(dir, "campaign.ini", longini);
     arrank_error_clear(&err);
     assert_int_equal(arrank_campaign_load(dir, units, &c, &err), ARRANK_ELIMIT);
     assert_int_equal(err.line, 2);
@@ -796,7 +734,7 @@ static void test_folder(void **state)
     unlink(sub);
 
     /* Two files with one sample id. */
-    write_file(dir, "d-Ni.csv", "# mass = 2 mg\n# sample = Ni-05\nT [K],rate [umol/(g*s)]\n"
+    file_write(dir, "d-Ni.csv", "# mass = 2 mg\n# sample = Ni-05\nT [K],rate [umol/(g*s)]\n"
                                 "504.55,0.417\n518.05,0.862\n531.35,1.694\n");
     arrank_error_clear(&err);
     assert_int_equal(arrank_campaign_load(dir, units, &c, &err), ARRANK_EPARSE);
@@ -830,8 +768,7 @@ static void test_folder(void **state)
     assert_string_equal(err.message, "no sample files (*.csv) in the folder");
     assert_int_equal(arrank_campaign_load(NULL, units, &c, &err), ARRANK_EINVAL);
     arrank_campaign_free(NULL);
-    remove_tree(dir);
-    free(dir);
+    temp_dir_remove(dir);
 }
 
 /* ---------------------------------------------------- the bad corpus */
@@ -966,7 +903,7 @@ static void test_bad_corpus(void **state)
 static void test_large_campaign(void **state)
 {
     (void)state;
-    char *dir = make_temp_dir();
+    char *dir = temp_dir_make();
     const size_t n_files = 10000;
     char text[1024];
     for (size_t f = 0; f < n_files; f++) {
@@ -979,7 +916,7 @@ static void test_large_campaign(void **state)
                                  r < 6 ? "up" : "down");
         char name[32];
         snprintf(name, sizeof name, "P%05zu.csv", f);
-        write_file(dir, name, text);
+        file_write(dir, name, text);
     }
     arrank_campaign *c = NULL;
     arrank_error err;
@@ -990,8 +927,7 @@ static void test_large_campaign(void **state)
     assert_int_equal(c->samples[n_files - 1].n_points, 12);
     assert_string_equal(c->samples[4321].id, "P04321");
     arrank_campaign_free(c);
-    remove_tree(dir);
-    free(dir);
+    temp_dir_remove(dir);
 }
 
 /* ------------------------------------------------ rates from conversion */
@@ -1026,8 +962,8 @@ static void test_read_sizes(void **state)
         }
         text[n] = '\0';
         assert_int_equal(n, want);
-        char *dir = make_temp_dir();
-        write_file(dir, "S-01.csv", text);
+        char *dir = temp_dir_make();
+        file_write(dir, "S-01.csv", text);
         arrank_campaign *c = NULL;
         arrank_error e1, e2;
         arrank_error_clear(&e1);
@@ -1056,8 +992,7 @@ static void test_read_sizes(void **state)
                                 strrchr(e2.message, ':') ? strrchr(e2.message, ':')
                                                          : e2.message);
         }
-        remove_tree(dir);
-        free(dir);
+        temp_dir_remove(dir);
         free(text);
     }
 }
@@ -1065,13 +1000,13 @@ static void test_read_sizes(void **state)
 static void test_derived_rates(void **state)
 {
     (void)state;
-    char *dir = make_temp_dir();
-    write_file(dir, "D1.csv", "# feed_flow = 50 mL/min\n# feed_fraction = 5 %\n# mass = 40 mg\n"
+    char *dir = temp_dir_make();
+    file_write(dir, "D1.csv", "# feed_flow = 50 mL/min\n# feed_fraction = 5 %\n# mass = 40 mg\n"
                               "T [degC],conversion [%]\n220,1.2\n250,3.6\n280,9.4\n");
     /* integral form; feed data from campaign.ini */
-    write_file(dir, "D2.csv", "# rate_form = integral\nT [K],conversion\n500,0.02\n520,0.05\n"
+    file_write(dir, "D2.csv", "# rate_form = integral\nT [K],conversion\n500,0.02\n520,0.05\n"
                               "540,0.11\n");
-    write_file(dir, "campaign.ini", "[campaign]\nrate_unit = umol/(g*s)\n"
+    file_write(dir, "campaign.ini", "[campaign]\nrate_unit = umol/(g*s)\n"
                                     "[sample D2]\nfeed_flow = 2.5 umol/s\nfeed_fraction = 0.1\n"
                                     "catalyst_mass = 25 mg\n");
     arrank_campaign *c = NULL;
@@ -1091,14 +1026,13 @@ static void test_derived_rates(void **state)
     arrank_campaign_free(c);
 
     /* without the feed data: a clear error naming what is missing */
-    write_file(dir, "campaign.ini", "[campaign]\nrate_unit = umol/(g*s)\n");
+    file_write(dir, "campaign.ini", "[campaign]\nrate_unit = umol/(g*s)\n");
     arrank_error_clear(&err);
     assert_int_equal(arrank_campaign_load(dir, units, &c, &err), ARRANK_EPARSE);
     assert_non_null(strstr(err.path, "D2.csv"));
     assert_non_null(strstr(err.message, "metadata 'feed_flow' is missing"));
     assert_null(c);
-    remove_tree(dir);
-    free(dir);
+    temp_dir_remove(dir);
 }
 
 /*
@@ -1213,5 +1147,5 @@ int main(void)
         cmocka_unit_test(test_duplicate_ids),
         cmocka_unit_test(test_background_units),
     };
-    return cmocka_run_group_tests(tests, setup, teardown);
+    return cmocka_run_group_tests(tests, units_setup, units_teardown);
 }

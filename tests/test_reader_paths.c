@@ -30,10 +30,9 @@
 #include "arrank/campaign.h"
 #include "arrank/units.h"
 #include "../src/lib/internal.h"
+#include "helpers.h"
 
 #define DEMO "campaigns/zeolite-ni-screen"
-
-static arrank_units *units;
 
 /* Bitwise equality, so that NAN equals NAN and -0.0 differs from 0.0. */
 static int same_bits(double a, double b)
@@ -131,29 +130,6 @@ static int both_ways(const char *name, const char *data, size_t len)
     return ok;
 }
 
-static char *slurp(const char *path, size_t *len)
-{
-    FILE *f = fopen(path, "rb");
-    assert_non_null(f);
-    char *buf = NULL;
-    size_t cap = 0, n = 0;
-    for (;;) {
-        if (n == cap) {
-            cap = cap ? cap * 2 : 4096;
-            buf = realloc(buf, cap);
-            assert_non_null(buf);
-        }
-        size_t got = fread(buf + n, 1, cap - n, f);
-        n += got;
-        if (got == 0)
-            break;
-    }
-    assert_int_equal(ferror(f), 0);
-    fclose(f);
-    *len = n;
-    return buf;
-}
-
 static int is_dir(const char *path)
 {
     struct stat sb;
@@ -175,7 +151,7 @@ static void files_both_ways(const char *dir, size_t *files, size_t *samples)
         if (is_dir(path))
             continue;
         size_t len;
-        char *data = slurp(path, &len);
+        char *data = file_slurp(path, &len);
         *samples += (size_t)both_ways(path, data, len);
         (*files)++;
         free(data);
@@ -379,19 +355,10 @@ static void generated_files(void **state)
 int main(void)
 {
     gsl_set_error_handler_off();
-    arrank_error err;
-    arrank_error_clear(&err);
-    units = arrank_units_create(&err);
-    if (!units) {
-        fprintf(stderr, "units: %s\n", err.message);
-        return 1;
-    }
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(corpus_files), cmocka_unit_test(bad_files),
         cmocka_unit_test(demo_files),   cmocka_unit_test(folders),
         cmocka_unit_test(generated_files),
     };
-    int failed = cmocka_run_group_tests(tests, NULL, NULL);
-    arrank_units_free(units);
-    return failed;
+    return cmocka_run_group_tests(tests, units_setup, units_teardown);
 }

@@ -27,37 +27,13 @@
 #include "arrank/units.h"
 #include "fuzz/fuzz_targets.h"
 #include "../src/lib/number.h"
-
-static arrank_units *units;
+#include "helpers.h"
 
 typedef const char *(*target_fn)(arrank_units *, const uint8_t *, size_t);
 
 static int compare_names(const void *a, const void *b)
 {
     return strcmp(*(char *const *)a, *(char *const *)b);
-}
-
-static unsigned char *slurp(const char *path, size_t *len)
-{
-    FILE *f = fopen(path, "rb");
-    assert_non_null(f);
-    unsigned char *buf = NULL;
-    size_t cap = 0, n = 0;
-    for (;;) {
-        if (n == cap) {
-            cap = cap ? cap * 2 : 4096;
-            buf = realloc(buf, cap);
-            assert_non_null(buf);
-        }
-        size_t got = fread(buf + n, 1, cap - n, f);
-        n += got;
-        if (got == 0)
-            break;
-    }
-    assert_int_equal(ferror(f), 0);
-    fclose(f);
-    *len = n;
-    return buf;
 }
 
 /* Replay every file of one harness's corpus; returns how many were replayed. */
@@ -86,7 +62,7 @@ static size_t replay(const char *harness, target_fn target)
         char path[1024];
         snprintf(path, sizeof path, "%s/%s", dir, names[i]);
         size_t len;
-        unsigned char *data = slurp(path, &len);
+        unsigned char *data = (unsigned char *)file_slurp(path, &len);
         const char *why = target(units, data, len);
         if (why)
             fail_msg("%s: %s", path, why);
@@ -492,25 +468,9 @@ static void progress_reported(void **state)
     arrank_campaign_free(c);
 }
 
-static int setup(void **state)
-{
-    (void)state;
-    gsl_set_error_handler_off();
-    arrank_error err;
-    arrank_error_clear(&err);
-    units = arrank_units_create(&err);
-    return units ? 0 : -1;
-}
-
-static int teardown(void **state)
-{
-    (void)state;
-    arrank_units_free(units);
-    return 0;
-}
-
 int main(void)
 {
+    gsl_set_error_handler_off();
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(corpus_sample),   cmocka_unit_test(corpus_header),
         cmocka_unit_test(corpus_ini),      cmocka_unit_test(corpus_temperature),
@@ -519,5 +479,5 @@ int main(void)
         cmocka_unit_test(format_fast_path),
         cmocka_unit_test(progress_reported), cmocka_unit_test(fixed_conversion_overflow),
     };
-    return cmocka_run_group_tests(tests, setup, teardown);
+    return cmocka_run_group_tests(tests, units_setup, units_teardown);
 }

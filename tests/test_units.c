@@ -25,39 +25,9 @@
 #include <string.h>
 
 #include "arrank/units.h"
+#include "helpers.h"
 
 #define REL_TOL 1e-12
-
-static arrank_units *units;
-
-static int setup(void **state)
-{
-    (void)state;
-    arrank_error err;
-    arrank_error_clear(&err);
-    units = arrank_units_create(&err);
-    if (!units)
-        print_error("arrank_units_create: %s\n", err.message);
-    return units ? 0 : -1;
-}
-
-static int teardown(void **state)
-{
-    (void)state;
-    arrank_units_free(units);
-    units = NULL;
-    return 0;
-}
-
-static void check_close(double got, double want, double rel, const char *what, const char *source)
-{
-    double scale = fabs(want) > 0 ? fabs(want) : 1.0;
-    if (!(fabs(got - want) <= rel * scale)) {
-        print_error("%s: got %.17g, want %.17g (rel tol %g; source: %s)\n", what, got, want, rel,
-                    source);
-        fail();
-    }
-}
 
 /* ------------------------------------------------------------------ cases */
 
@@ -507,5 +477,5 @@ int main(void)
         cmocka_unit_test(test_arguments),
         cmocka_unit_test(test_background),
     };
-    return cmocka_run_group_tests(tests, setup, teardown);
+    return cmocka_run_group_tests(tests, units_setup, units_teardown);
 }

@@ -12,6 +12,7 @@
  * Sci. 62:2750, 2007).
  */
 #include "arrank/fit.h"
+#include "internal.h"
 
 #include <float.h>
 #include <math.h>
@@ -678,10 +679,11 @@ double arrank_t_quantile(double confidence, double dof)
  */
 #define EXTRAPOLATION_REL_TOL 1e-9
 
-arrank_status arrank_fit_predict(const arrank_arrhenius *fit, double temp_K, double confidence,
-                                 arrank_prediction *pred, arrank_error *err)
+/* The checks both predict functions make (internal.h): this one and models.c's. */
+arrank_status arrank_predict_check(int have_fit, double temp_K, double confidence,
+                                   const arrank_prediction *pred, arrank_error *err)
 {
-    if (!fit || !pred)
+    if (!have_fit || !pred)
         return arrank_errorf(err, ARRANK_EINVAL, "'predict' needs a fit and a result record");
     if (!isfinite(temp_K) || temp_K <= 0)
         return arrank_errorf(err, ARRANK_EINVAL,
@@ -689,16 +691,14 @@ arrank_status arrank_fit_predict(const arrank_arrhenius *fit, double temp_K, dou
     if (!(confidence > 0 && confidence < 1))
         return arrank_errorf(err, ARRANK_EINVAL,
                              "confidence '%g' is not between 0 and 1 (exclusive)", confidence);
-    if (!(fit->dof > 0) || !(fit->T_ref_K > 0))
-        return arrank_errorf(err, ARRANK_EINVAL, "'predict' was given an empty fit");
+    return ARRANK_OK;
+}
 
-    /* Delta method, var = cov00 + x^2 cov11 + 2 x cov01 (fit.h; README "The numbers"). */
-    const double x = 1.0 / temp_K - 1.0 / fit->T_ref_K;
-    const double ln_r = fit->b0 + fit->b1 * x;
-    const double var = fit->cov[0][0] + x * x * fit->cov[1][1] + 2.0 * x * fit->cov[0][1];
-    const double se = sqrt(var > 0 ? var : 0);
-    const double t = arrank_t_quantile(confidence, fit->dof);
-
+/* The interval and the range test both predict functions give (internal.h). */
+void arrank_predict_fill(double temp_K, double confidence, double dof, double T_min_K,
+                         double T_max_K, double ln_r, double se, arrank_prediction *pred)
+{
+    const double t = arrank_t_quantile(confidence, dof);
     memset(pred, 0, sizeof *pred);
     pred->temp_K = temp_K;
     pred->ln_rate = ln_r;
@@ -706,7 +706,24 @@ arrank_status arrank_fit_predict(const arrank_arrhenius *fit, double temp_K, dou
     pred->rate = exp(ln_r);
     pred->rate_lo = exp(ln_r - t * se);
     pred->rate_hi = exp(ln_r + t * se);
-    pred->extrapolated = temp_K < fit->T_min_K * (1.0 - EXTRAPOLATION_REL_TOL) ||
-                         temp_K > fit->T_max_K * (1.0 + EXTRAPOLATION_REL_TOL);
+    pred->extrapolated = temp_K < T_min_K * (1.0 - EXTRAPOLATION_REL_TOL) ||
+                         temp_K > T_max_K * (1.0 + EXTRAPOLATION_REL_TOL);
+}
+
+arrank_status arrank_fit_predict(const arrank_arrhenius *fit, double temp_K, double confidence,
+                                 arrank_prediction *pred, arrank_error *err)
+{
+    const arrank_status st = arrank_predict_check(fit != NULL, temp_K, confidence, pred, err);
+    if (st != ARRANK_OK)
+        return st;
+    if (!(fit->dof > 0) || !(fit->T_ref_K > 0))
+        return arrank_errorf(err, ARRANK_EINVAL, "'predict' was given an empty fit");
+
+    /* Delta method, var = cov00 + x^2 cov11 + 2 x cov01 (fit.h; README "The numbers"). */
+    const double x = 1.0 / temp_K - 1.0 / fit->T_ref_K;
+    const double ln_r = fit->b0 + fit->b1 * x;
+    const double var = fit->cov[0][0] + x * x * fit->cov[1][1] + 2.0 * x * fit->cov[0][1];
+    arrank_predict_fill(temp_K, confidence, fit->dof, fit->T_min_K, fit->T_max_K, ln_r,
+                        sqrt(var > 0 ? var : 0), pred);
     return ARRANK_OK;
 }

@@ -295,58 +295,22 @@ static void units_free(arrank_units *units)
     free(units);
 }
 
-static arrank_status units_temperature(arrank_units *units, const char *unit,
-                                       arrank_conversion *to_K, arrank_error *err)
+/* A temperature unit: its conversion to kelvin. */
+static arrank_status classify_temperature(const arrank_units *units, const ut_unit *u,
+                                          const char *shown, arrank_conversion *conv,
+                                          arrank_error *err)
 {
-    if (!units || !unit || !to_K)
-        return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_units_temperature");
-    cache_entry *e = cache_find(units, KIND_TEMPERATURE, unit, "");
-    if (e) {
-        *to_K = e->conv;
-        return ARRANK_OK;
-    }
-    char norm[UNIT_TEXT_MAX];
-    if (normalise(unit, 1, norm) != 0)
-        return arrank_errorf(err, ARRANK_EUNIT, "unit text is longer than %d bytes",
-                             UNIT_TEXT_MAX - 1);
-    arrank_status st;
-    ut_unit *u = parse_unit(units, norm, unit, err, &st);
-    if (!u)
-        return st;
-    if (!ut_are_convertible(u, units->kelvin)) {
-        ut_free(u);
-        return arrank_errorf(err, ARRANK_EUNIT, "'%s' is not a temperature unit", unit);
-    }
-    arrank_conversion conv;
-    st = affine(u, units->kelvin, unit, "K", &conv, err);
-    ut_free(u);
-    if (st != ARRANK_OK)
-        return st;
-    cache_put(units, KIND_TEMPERATURE, unit, "", conv, ARRANK_BASIS_UNKNOWN);
-    *to_K = conv;
-    return ARRANK_OK;
+    if (!ut_are_convertible(u, units->kelvin))
+        return arrank_errorf(err, ARRANK_EUNIT, "'%s' is not a temperature unit", shown);
+    return affine(u, units->kelvin, shown, "K", conv, err);
 }
 
-static arrank_status units_rate(arrank_units *units, const char *unit, arrank_basis *basis,
-                                arrank_conversion *to_si, arrank_error *err)
+/* A rate unit: its basis, which follows from the dimension alone (SI: amount,
+   mass, area, time), and its conversion to that basis's SI unit. */
+static arrank_status classify_rate(const arrank_units *units, const ut_unit *u,
+                                   const char *shown, arrank_conversion *conv,
+                                   arrank_basis *basis, arrank_error *err)
 {
-    if (!units || !unit || !basis || !to_si)
-        return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_units_rate");
-    cache_entry *e = cache_find(units, KIND_RATE, unit, "");
-    if (e) {
-        *basis = e->basis;
-        *to_si = e->conv;
-        return ARRANK_OK;
-    }
-    char norm[UNIT_TEXT_MAX];
-    if (normalise(unit, 0, norm) != 0)
-        return arrank_errorf(err, ARRANK_EUNIT, "unit text is longer than %d bytes",
-                             UNIT_TEXT_MAX - 1);
-    arrank_status st;
-    ut_unit *u = parse_unit(units, norm, unit, err, &st);
-    if (!u)
-        return st;
-    /* The basis follows from the dimension alone (SI: amount, mass, area, time). */
     const struct {
         const ut_unit *si;
         const char *si_name;
@@ -359,21 +323,67 @@ static arrank_status units_rate(arrank_units *units, const char *unit, arrank_ba
     for (size_t i = 0; i < sizeof bases / sizeof bases[0]; i++) {
         if (!ut_are_convertible(u, bases[i].si))
             continue;
-        arrank_conversion conv;
-        st = affine(u, bases[i].si, unit, bases[i].si_name, &conv, err);
-        ut_free(u);
-        if (st != ARRANK_OK)
-            return st;
-        cache_put(units, KIND_RATE, unit, "", conv, bases[i].basis);
         *basis = bases[i].basis;
-        *to_si = conv;
-        return ARRANK_OK;
+        return affine(u, bases[i].si, shown, bases[i].si_name, conv, err);
     }
-    ut_free(u);
     return arrank_errorf(err, ARRANK_EUNIT,
                          "'%s' is not a rate per mass, area or site "
                          "(such as umol/(g*s), umol/(m2*s) or 1/s)",
-                         unit);
+                         shown);
+}
+
+/*
+ * The lookup of one unit string, temperature or rate: the cache by the text
+ * as given, else normalise, parse, classify by kind and remember the answer
+ * (only a success is remembered).  Called with udunits_lock held, as every
+ * function below the public calls.
+ */
+static arrank_status lookup_unit(arrank_units *units, entry_kind kind, const char *unit,
+                                 arrank_conversion *conv, arrank_basis *basis,
+                                 arrank_error *err)
+{
+    const cache_entry *e = cache_find(units, kind, unit, "");
+    if (e) {
+        *conv = e->conv;
+        *basis = e->basis;
+        return ARRANK_OK;
+    }
+    char norm[UNIT_TEXT_MAX];
+    if (normalise(unit, kind == KIND_TEMPERATURE, norm) != 0)
+        return arrank_errorf(err, ARRANK_EUNIT, "unit text is longer than %d bytes",
+                             UNIT_TEXT_MAX - 1);
+    arrank_status st;
+    ut_unit *u = parse_unit(units, norm, unit, err, &st);
+    if (!u)
+        return st;
+    arrank_conversion c;
+    arrank_basis b = ARRANK_BASIS_UNKNOWN; /* a temperature has no basis */
+    st = kind == KIND_TEMPERATURE ? classify_temperature(units, u, unit, &c, err)
+                                  : classify_rate(units, u, unit, &c, &b, err);
+    ut_free(u);
+    if (st != ARRANK_OK)
+        return st;
+    cache_put(units, kind, unit, "", c, b);
+    *conv = c;
+    *basis = b;
+    return ARRANK_OK;
+}
+
+static arrank_status units_temperature(arrank_units *units, const char *unit,
+                                       arrank_conversion *to_K, arrank_error *err)
+{
+    if (!units || !unit || !to_K)
+        return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_units_temperature");
+    arrank_basis unused;
+    return lookup_unit(units, KIND_TEMPERATURE, unit, to_K, &unused, err);
+}
+
+static arrank_status units_rate(arrank_units *units, const char *unit, arrank_basis *basis,
+                                arrank_conversion *to_si, arrank_error *err)
+{
+    if (!units || !unit || !basis || !to_si)
+        return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_units_rate");
+    return lookup_unit(units, KIND_RATE, unit, to_si, basis, err);
 }
 
 static arrank_status units_conversion(arrank_units *units, const char *from, const char *to,
