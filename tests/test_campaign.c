@@ -1057,13 +1057,13 @@ static void test_duplicate_ids(void **state)
     };
     static const char *const files[] = {"a.csv", "b.csv", "c.csv"};
     for (size_t k = 0; k < sizeof cases / sizeof *cases; k++) {
-        char *dir = make_temp_dir();
+        char *dir = temp_dir_make();
         for (size_t f = 0; f < 3 && cases[k].ids[f]; f++) {
             char text[256];
             snprintf(text, sizeof text, "# mass = 5 mg\n# sample = %s\nT [K],rate [umol/(g*s)]\n"
                                         "504.55,0.417\n518.05,0.862\n531.35,1.694\n",
                      cases[k].ids[f]);
-            write_file(dir, files[f], text);
+            file_write(dir, files[f], text);
         }
         arrank_campaign *c = NULL;
         arrank_error err;
@@ -1081,8 +1081,7 @@ static void test_duplicate_ids(void **state)
             assert_int_equal(err.line, 2);
             assert_string_equal(err.message, cases[k].message);
         }
-        remove_tree(dir);
-        free(dir);
+        temp_dir_remove(dir);
     }
 }
 
@@ -1091,8 +1090,8 @@ static void test_duplicate_ids(void **state)
 static void test_background_units(void **state)
 {
     (void)state;
-    char *dir = make_temp_dir();
-    write_file(dir, "a.csv", "# sample = Cu-1\nT [degC],rate [umol/(g*s)]\n"
+    char *dir = temp_dir_make();
+    file_write(dir, "a.csv", "# sample = Cu-1\nT [degC],rate [umol/(g*s)]\n"
                              "231.4,0.417\n244.9,0.862\n258.2,1.694\n");
     arrank_error err;
     arrank_error_clear(&err);
@@ -1101,7 +1100,7 @@ static void test_background_units(void **state)
     arrank_campaign *c = NULL;
     assert_int_equal(arrank_campaign_load(dir, bg, &c, &err), ARRANK_OK);
     assert_int_equal(c->n_samples, 1);
-    check_close(c->samples[0].points[0].temp_K, 504.55, REL_TOL, "231.4 degC in K");
+    check_close(c->samples[0].points[0].temp_K, 504.55, REL_TOL, "231.4 degC in K", UNITS_EXACT);
     arrank_campaign_free(c);
     arrank_units_free(bg);
 
@@ -1122,8 +1121,7 @@ static void test_background_units(void **state)
     } else {
         unsetenv("UDUNITS2_XML_PATH");
     }
-    remove_tree(dir);
-    free(dir);
+    temp_dir_remove(dir);
 }
 
 int main(void)
