@@ -14,11 +14,6 @@
  *
  * Run from the top of the source tree (tests/run.sh does).
  */
-#include <setjmp.h>
-#include <stdarg.h>
-#include <stddef.h>
-#include <stdint.h>
-#include <cmocka.h>
 
 #include <gsl/gsl_errno.h>
 #include <math.h>
@@ -34,46 +29,14 @@
 #include "arrank/output.h"
 #include "arrank/units.h"
 #include "../src/lib/internal.h"
+#include "helpers.h"
 
 #define DEMO "campaigns/zeolite-ni-screen"
 #define N_GEN 300
 #define R_J_MOL_K 8.314462618 /* CODATA 2018 molar gas constant */
 
-static arrank_units *units;
-static char gen_dir[4096];
-
-/* A new folder under $TMPDIR (else /tmp), named from templ_name. */
-static int make_temp_dir(char *out, size_t n, const char *templ_name)
-{
-    const char *tmp = getenv("TMPDIR");
-    snprintf(out, n, "%s/%s", tmp && *tmp ? tmp : "/tmp", templ_name);
-    return mkdtemp(out) ? 0 : -1;
-}
-
-/* Small fixed-seed generator (xorshift64*, Vigna 2016) and Box-Muller normals. */
-static uint64_t rng_state = 0x2545F4914F6CDD1Dull;
-
-static double uniform01(void)
-{
-    rng_state ^= rng_state >> 12;
-    rng_state ^= rng_state << 25;
-    rng_state ^= rng_state >> 27;
-    return (double)((rng_state * 0x2545F4914F6CDD1Dull) >> 11) * 0x1.0p-53;
-}
-
-static double normal01(void)
-{
-    double u = uniform01(), v = uniform01();
-    return sqrt(-2.0 * log(u + 1e-300)) * cos(6.283185307179586 * v) /* 2 pi */;
-}
-
-static void write_text(const char *path, const char *text)
-{
-    FILE *f = fopen(path, "w");
-    assert_non_null(f);
-    assert_true(fputs(text, f) >= 0);
-    assert_int_equal(fclose(f), 0);
-}
+static char *gen_dir;
+static uint64_t rng_state = 0x2545F4914F6CDD1Dull; /* fixed seed (helpers.h: splitmix) */
 
 /* Sample k of the generated campaign: the kind varies with k. */
 static void write_generated_sample(const char *dir, int k)
@@ -82,7 +45,7 @@ static void write_generated_sample(const char *dir, int k)
     snprintf(path, sizeof path, "%s/G%04d.csv", dir, k);
     FILE *f = fopen(path, "w");
     assert_non_null(f);
-    double ea = 60e3 + 80e3 * uniform01(), ln_a = ea / (R_J_MOL_K * 520.0) + normal01();
+    double ea = 60e3 + 80e3 * uniform01(&rng_state), ln_a = ea / (R_J_MOL_K * 520.0) + gauss(&rng_state);
     int n = k % 11 == 0 ? 6 : 12, film = k % 7 == 0, with_sd = k % 2 == 0;
     fprintf(f, "# sample = gen %d\n", k);
     if (k % 5 == 0)
@@ -97,7 +60,7 @@ static void write_generated_sample(const char *dir, int k)
         double rk = exp(ln_a - ea / (R_J_MOL_K * t));
         double r = film ? 1.0 / (1.0 / rk + 1.0 / (0.3 * exp(ln_a - ea / (R_J_MOL_K * 545.0))))
                         : rk;
-        r *= exp(0.03 * normal01());
+        r *= exp(0.03 * gauss(&rng_state));
         if (with_sd)
             snprintf(line, sizeof line, "%.2f,%.6g,%.3g\n", t, r, 0.03 * r);
         else
@@ -225,16 +188,15 @@ static void generated_has_bends_and_criteria(void **state)
 static void first_bad_file_is_reported(void **state)
 {
     (void)state;
-    char dir[4096], path[4200];
-    assert_int_equal(make_temp_dir(dir, sizeof dir, "arrank-workers-bad-XXXXXX"), 0);
+    char *dir = temp_dir_make(), name[16];
     for (int k = 0; k < 200; k++) {
-        snprintf(path, sizeof path, "%s/S%03d.csv", dir, k);
+        snprintf(name, sizeof name, "S%03d.csv", k);
         if (k == 57)
-            write_text(path, "T [K],rate [umol/(g*s)]\n500,1\n510,zz\n");
+            file_write(dir, name, "T [K],rate [umol/(g*s)]\n500,1\n510,zz\n");
         else if (k == 140)
-            write_text(path, "T [K],rate [umol/(g*s)]\n500,1\n510,\n");
+            file_write(dir, name, "T [K],rate [umol/(g*s)]\n500,1\n510,\n");
         else
-            write_text(path, "T [K],rate [umol/(g*s)]\n500,1\n510,1.5\n520,2.2\n");
+            file_write(dir, name, "T [K],rate [umol/(g*s)]\n500,1\n510,1.5\n520,2.2\n");
     }
     char want[4200];
     snprintf(want, sizeof want, "%s/S057.csv", dir);
@@ -252,24 +214,14 @@ static void first_bad_file_is_reported(void **state)
         assert_int_equal(err.line, 3);
         assert_non_null(strstr(err.message, "'zz'"));
     }
-    for (int k = 0; k < 200; k++) {
-        snprintf(path, sizeof path, "%s/S%03d.csv", dir, k);
-        unlink(path);
-    }
-    rmdir(dir);
+    temp_dir_remove(dir);
 }
 
 static int setup(void **state)
 {
-    (void)state;
-    gsl_set_error_handler_off();
-    arrank_error err;
-    arrank_error_clear(&err);
-    units = arrank_units_create(&err);
-    if (!units)
+    if (units_setup(state) != 0)
         return -1;
-    if (make_temp_dir(gen_dir, sizeof gen_dir, "arrank-workers-XXXXXX") != 0)
-        return -1;
+    gen_dir = temp_dir_make();
     for (int k = 0; k < N_GEN; k++)
         write_generated_sample(gen_dir, k);
     return 0;
@@ -277,15 +229,8 @@ static int setup(void **state)
 
 static int teardown(void **state)
 {
-    (void)state;
-    char path[4200];
-    for (int k = 0; k < N_GEN; k++) {
-        snprintf(path, sizeof path, "%s/G%04d.csv", gen_dir, k);
-        unlink(path);
-    }
-    rmdir(gen_dir);
-    arrank_units_free(units);
-    return 0;
+    temp_dir_remove(gen_dir);
+    return units_teardown(state);
 }
 
 int main(void)
