@@ -293,11 +293,107 @@ static void add_cause(work *wk, int supported, char *cause, char *evidence)
     cv->n_causes++;
 }
 
+/*
+ * Two-sided p-value of Student's t, P(|T| > |t|), for integer degrees of
+ * freedom nu in closed form, as the regularized incomplete beta function
+ * I_x(nu/2, 1/2), x = nu / (nu + t^2) (Abramowitz & Stegun 26.7.1 with
+ * 26.5.27).  With theta = atan(t / sqrt(nu)), s = sin theta, c = cos theta
+ * and x = c^2, the finite sums of A&S 26.7.3 (nu odd) and 26.7.4 (nu even)
+ * give the central probability A = 1 - p:
+ *   nu even, n = nu/2:   A = s sum_{j<n} a_j x^j,  a_j = (2j-1)!!/(2j)!!
+ *   nu odd, m = (nu-1)/2: A = (2/pi) (theta + s c sum_{j<m} d_j x^j),
+ *                         d_j = (2j)!!/(2j+1)!!
+ * The same series summed to infinity give 1 (sum_j a_j x^j = (1 - x)^-1/2 and
+ * s c sum_j d_j x^j = pi/2 - theta, the binomial and arcsine series), so the
+ * tail is p itself as a sum of positive terms:
+ *   nu even:  p = s sum_{j>=n} a_j x^j
+ *   nu odd:   p = (2/pi) s c sum_{j>=m} d_j x^j
+ * The finite form, 1 - A, loses relative precision as p gets small (its
+ * rounding is absolute, a few DBL_EPSILON); the tail keeps full relative
+ * precision down to underflow but converges like x^j.  So: the finite form
+ * when it gives p >= T_FINITE_P_MIN, else the tail when x <= T_TAIL_X_MAX
+ * (at most about 140 terms), else GSL (large nu at moderate t).
+ */
+#define T_FAST_DOF_MAX 200
+#define TWO_OVER_PI 0.636619772367581343075535053490057 /* 2/pi */
+/* Below this the finite form's absolute rounding (a few 1e-16) would exceed
+   1e-14 of p: the tail takes over (our choice). */
+#define T_FINITE_P_MIN 0.05
+/* The tail's terms fall at least by x each: up to this x it needs at most
+   about 140 terms for full precision (our choice). */
+#define T_TAIL_X_MAX 0.75
+/* Above this |t|, nu / t^2 < 1e-196 is lost beside 1: c = sqrt(nu) / t and
+   s = 1, and t^2 would overflow further on. */
+#define T_HUGE 1e100
+
+/* p by the closed forms above, or NAN where they do not apply (then GSL). */
+static double t_two_sided_closed(double t, double dof)
+{
+    if (!(dof >= 1 && dof <= T_FAST_DOF_MAX && dof == floor(dof)))
+        return NAN;
+    const unsigned nu = (unsigned)dof;
+    t = fabs(t);
+    if (t == 0)
+        return 1.0;
+    double x, s, c;
+    if (t > T_HUGE) {
+        c = sqrt(dof) / t;
+        x = c * c;
+        s = 1.0;
+    } else {
+        const double tt = t * t, den = dof + tt;
+        x = dof / den;
+        s = sqrt(tt / den); /* 1 - x without the cancellation */
+        c = sqrt(x);
+    }
+    /* the finite sum, each term from the last by the ratio of coefficients */
+    double term = 1.0, sum = 1.0, p;
+    const int even = nu % 2 == 0;
+    const unsigned k = even ? nu / 2 : (nu - 1) / 2; /* n or m: terms in the sum */
+    if (even) {
+        for (unsigned j = 1; j < k; j++) {
+            term *= x * (double)(2 * j - 1) / (double)(2 * j);
+            sum += term;
+        }
+        p = 1.0 - s * sum;
+    } else {
+        for (unsigned j = 1; j < k; j++) {
+            term *= x * (double)(2 * j) / (double)(2 * j + 1);
+            sum += term;
+        }
+        /* pi/2 - theta = atan2(c, s); for nu = 1 the sum is empty */
+        p = TWO_OVER_PI * (atan2(c, s) - (k ? s * c * sum : 0.0));
+    }
+    if (p >= T_FINITE_P_MIN || (!even && k == 0))
+        return p;
+    if (!(x <= T_TAIL_X_MAX))
+        return NAN;
+    /* the tail from term k on, a_k x^k or d_k x^k, each term from the last
+       (term holds term k - 1 from the finite sum; k >= 1 here) */
+    const double lim = 0.25 * DBL_EPSILON * (1.0 - x);
+    double tail = 0.0;
+    for (unsigned j = k;; j++) {
+        term *= even ? x * (double)(2 * j - 1) / (double)(2 * j)
+                     : x * (double)(2 * j) / (double)(2 * j + 1);
+        tail += term;
+        /* what is left is below term x / (1 - x): stop when that is lost */
+        if (term * x <= lim * tail || term == 0.0)
+            break;
+    }
+    return even ? s * tail : TWO_OVER_PI * s * c * tail;
+}
+
 static double two_sided_p(double t, double dof)
 {
     if (!isfinite(t))
         return isnan(t) ? NAN : 0.0;
-    return 2.0 * gsl_cdf_tdist_Q(fabs(t), dof);
+    const double p = t_two_sided_closed(t, dof);
+    return isnan(p) ? 2.0 * gsl_cdf_tdist_Q(fabs(t), dof) : p;
+}
+
+double arrank_diagnose_t_p(double t, double dof)
+{
+    return two_sided_p(t, dof);
 }
 
 /*
