@@ -564,8 +564,9 @@ static int set_scale(const work *wk, const size_t *idx, size_t n, xscale *sc)
  */
 #define LSQ_MAXP 3
 
-/* 0 (the default): straight lines by fit_line_direct; 1: by the general
-   Gram-Schmidt path below (arrank_diagnose_line_reference, for tests). */
+/* 0 (the default): straight lines by fit_line_direct and the quadratic test
+   by quad_fit_direct; 1: both by the general Gram-Schmidt path below
+   (arrank_diagnose_line_reference, for tests). */
 static int line_reference = 0;
 
 void arrank_diagnose_line_reference(int on)
@@ -757,6 +758,94 @@ static double line_at(const line_fit *lf, double x)
     return lf->b0 + lf->b1_K * (x - lf->sc.xm);
 }
 
+/*
+ * The quadratic test's fit of y on [1, z, z^2] in closed form: the weighted
+ * moments of z and of y - ybar in two passes, the 3x3 normal equations by
+ * Cholesky, the residuals in a third pass, cov = s^2 G^-1 with G the Gram
+ * matrix (Bjorck 1996, sec. 2.1, from memory).  Normal equations square the
+ * condition number of the design, so they are used only where it is small:
+ * with z centred and scaled, G is within a factor of a few of diagonal unless
+ * the temperatures sit in two clusters; when a pivot of the Cholesky falls
+ * below QUAD_DIRECT_PIVOT of its diagonal (condition of G above about 1e3),
+ * the general QR path (design_fit) takes the set instead, and decides on
+ * singularity as before.  Returns 3 as design_fit, 0 where design_fit
+ * returns 0 for values that are not finite, -1 to hand the set to
+ * design_fit.  tests/test_diagnose.c (test_line_paths) compares every
+ * number of the diagnosis with the QR path.
+ */
+#define QUAD_DIRECT_PIVOT 1e-3
+
+static int quad_fit_direct(work *wk, const size_t *idx, size_t n, const xscale *sc, double b[3],
+                           double cov[9], double *rss)
+{
+    if (n <= 3)
+        return 0;
+    double *zs = wk->lsq; /* z per point, for the later passes */
+    double sw = 0, swy = 0, s1 = 0, s2 = 0, s3 = 0, s4 = 0;
+    for (size_t k = 0; k < n; k++) {
+        const size_t i = idx[k];
+        const double w = wk->w[i], y = wk->y[i];
+        const double z = (wk->x[i] - sc->xm) / sc->sx, z2 = z * z;
+        if (!isfinite(y) || !isfinite(w) || w < 0 || !isfinite(z) || !isfinite(z2))
+            return 0;
+        zs[k] = z;
+        sw += w;
+        swy += w * y;
+        s1 += w * z;
+        s2 += w * z2;
+        s3 += w * z2 * z;
+        s4 += w * z2 * z2;
+    }
+    if (!(sw > 0) || !isfinite(s4))
+        return -1;
+    const double ybar = swy / sw;
+    double t0 = 0, t1 = 0, t2 = 0;
+    for (size_t k = 0; k < n; k++) {
+        const size_t i = idx[k];
+        const double z = zs[k], wu = wk->w[i] * (wk->y[i] - ybar);
+        t0 += wu;
+        t1 += wu * z;
+        t2 += wu * z * z;
+    }
+    /* G = L L' */
+    const double l00 = sqrt(sw), l10 = s1 / l00, l20 = s2 / l00;
+    const double d1 = s2 - l10 * l10;
+    if (!(d1 > QUAD_DIRECT_PIVOT * s2))
+        return -1;
+    const double l11 = sqrt(d1), l21 = (s3 - l20 * l10) / l11;
+    const double d2 = s4 - l20 * l20 - l21 * l21;
+    if (!(d2 > QUAD_DIRECT_PIVOT * s4))
+        return -1;
+    const double l22 = sqrt(d2);
+    /* L^-1 (lower), then b' = L^-T L^-1 t for y - ybar */
+    const double m00 = 1.0 / l00, m11 = 1.0 / l11, m22 = 1.0 / l22;
+    const double m10 = -l10 * m00 * m11, m21 = -l21 * m11 * m22;
+    const double m20 = -(l20 * m00 + l21 * m10) * m22;
+    const double u0 = m00 * t0, u1 = m10 * t0 + m11 * t1, u2 = m20 * t0 + m21 * t1 + m22 * t2;
+    const double c2 = m22 * u2, c1 = m11 * u1 + m21 * u2, c0 = m00 * u0 + m10 * u1 + m20 * u2;
+    double chi2 = 0;
+    for (size_t k = 0; k < n; k++) {
+        const size_t i = idx[k];
+        const double z = zs[k];
+        const double e = (wk->y[i] - ybar) - (c0 + c1 * z + c2 * z * z);
+        chi2 += wk->w[i] * e * e;
+    }
+    b[0] = ybar + c0;
+    b[1] = c1;
+    b[2] = c2;
+    const double s2r = chi2 / (double)(n - 3);
+    const double m[3][3] = {{m00, 0, 0}, {m10, m11, 0}, {m20, m21, m22}};
+    for (int r = 0; r < 3; r++)
+        for (int c = 0; c < 3; c++) {
+            double s = 0;
+            for (int k = (r > c ? r : c); k < 3; k++)
+                s += m[k][r] * m[k][c];
+            cov[r * 3 + c] = s2r * s;
+        }
+    *rss = chi2;
+    return 3;
+}
+
 /* Quadratic test over idx. */
 typedef struct {
     double c_K2, c_se_K2, t, p, dof, ea_cold, ea_hot;
@@ -769,7 +858,10 @@ static int fit_quad(work *wk, const size_t *idx, size_t n, quad_test *q)
         set_scale(wk, idx, n, &sc) != 0)
         return -1;
     double b[3], cov[9], rss;
-    if (design_fit(wk, idx, n, &sc, 1, NULL, b, cov, &rss) != 3)
+    int p = line_reference ? -1 : quad_fit_direct(wk, idx, n, &sc, b, cov, &rss);
+    if (p < 0)
+        p = design_fit(wk, idx, n, &sc, 1, NULL, b, cov, &rss);
+    if (p != 3)
         return -1;
     q->dof = (double)n - 3.0;
     double se = sqrt(cov[8]);

@@ -133,8 +133,8 @@ void arrank_diagnose_series_full_fit(int on);
    hold it against GSL. */
 double arrank_diagnose_t_p(double t, double dof);
 
-/* 0 (the default): the diagnostics fit straight lines in closed form; 1: by
-   the general QR path they share with the quadratic test.  For the test that
+/* 0 (the default): the diagnostics fit straight lines and the quadratic
+   test in closed form; 1: by the general QR path.  For the test that
    compares the two (tests/test_diagnose.c); not thread-safe. */
 void arrank_diagnose_line_reference(int on);
 
