@@ -929,7 +929,7 @@ static int series_model(const double *p, size_t i, void *vctx, double *value, do
 /*
  * Profile of the series model over ln k_t: at each grid value the two free
  * parameters b0, b1 are fitted with ln k_t held, and the best grid point
- * starts the full three-parameter fit (arrank_nlfit_run), which gives the
+ * starts the full three-parameter fit (series_polish below), which gives the
  * reported numbers.  With ln k_t held the problem is small and smooth, so it
  * is solved here on the 2x2 normal equations, in a few passes over the data
  * and without allocation; tests/test_diagnose.c proves it gives the answers

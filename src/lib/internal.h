@@ -116,8 +116,9 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
 /* ---- diagnose.c: test switches for the series-resistance model ---- */
 
 /* 0 (the default): the profile over ln k_t fits b0, b1 at each grid point
-   with diagnose.c's own 2x2 solver; 1: with arrank_nlfit_run, as before that
-   solver, to compare the two.  For tests only; not thread-safe. */
+   with diagnose.c's own 2x2 solver, and the full fit from its best point
+   uses the own 3x3 solver; 1: both with arrank_nlfit_run, as before those
+   solvers, to compare the two.  For tests only; not thread-safe. */
 void arrank_diagnose_series_reference(int on);
 
 /* 1 (the default): the profile's best point starts the full three-parameter
