@@ -689,16 +689,20 @@ static int fit_line_direct(const work *wk, const size_t *idx, size_t n, line_fit
     if (n <= 2)
         return -1;
     double sw = 0, swx = 0, swy = 0;
+    int negative = 0;
     for (size_t k = 0; k < n; k++) {
         const size_t i = idx[k];
         const double w = wk->w[i];
-        if (!isfinite(wk->x[i]) || !isfinite(wk->y[i]) || !isfinite(w) || w < 0)
-            return -1;
+        negative |= !(w >= 0);
         sw += w;
         swx += w * wk->x[i];
         swy += w * wk->y[i];
     }
-    if (!(sw > 0))
+    /* An x, y or w that is not finite makes its sum not finite (w x is NaN
+       or infinite, 0 times infinity too, and infinities or NaN do not cancel
+       back to a finite sum), so the three sums are checked instead of every
+       point: the same sets are refused. */
+    if (negative || !isfinite(sw) || !isfinite(swx) || !isfinite(swy) || !(sw > 0))
         return -1;
     const double xm = swx / sw, ybar = swy / sw;
     double sxx = 0, sxy = 0;
