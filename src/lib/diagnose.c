@@ -1527,8 +1527,8 @@ static int series_polish(const profile_data *pd, double b[3], double *cols, doub
         if (!moved)
             break;
     }
-    /* pd->share holds the answer's shares: polish_pass ran last at b, or a
-       refused trial overwrote them, so evaluate once more */
+    /* a refused trial may have left its residuals and shares in pd->res and
+       pd->share: evaluate once more at the answer */
     if (!isfinite(polish_pass(pd, b, &eq)))
         return -1;
     double cov[9];
