@@ -293,11 +293,107 @@ static void add_cause(work *wk, int supported, char *cause, char *evidence)
     cv->n_causes++;
 }
 
+/*
+ * Two-sided p-value of Student's t, P(|T| > |t|), for integer degrees of
+ * freedom nu in closed form, as the regularized incomplete beta function
+ * I_x(nu/2, 1/2), x = nu / (nu + t^2) (Abramowitz & Stegun 26.7.1 with
+ * 26.5.27).  With theta = atan(t / sqrt(nu)), s = sin theta, c = cos theta
+ * and x = c^2, the finite sums of A&S 26.7.3 (nu odd) and 26.7.4 (nu even)
+ * give the central probability A = 1 - p:
+ *   nu even, n = nu/2:   A = s sum_{j<n} a_j x^j,  a_j = (2j-1)!!/(2j)!!
+ *   nu odd, m = (nu-1)/2: A = (2/pi) (theta + s c sum_{j<m} d_j x^j),
+ *                         d_j = (2j)!!/(2j+1)!!
+ * The same series summed to infinity give 1 (sum_j a_j x^j = (1 - x)^-1/2 and
+ * s c sum_j d_j x^j = pi/2 - theta, the binomial and arcsine series), so the
+ * tail is p itself as a sum of positive terms:
+ *   nu even:  p = s sum_{j>=n} a_j x^j
+ *   nu odd:   p = (2/pi) s c sum_{j>=m} d_j x^j
+ * The finite form, 1 - A, loses relative precision as p gets small (its
+ * rounding is absolute, a few DBL_EPSILON); the tail keeps full relative
+ * precision down to underflow but converges like x^j.  So: the finite form
+ * when it gives p >= T_FINITE_P_MIN, else the tail when x <= T_TAIL_X_MAX
+ * (at most about 140 terms), else GSL (large nu at moderate t).
+ */
+#define T_FAST_DOF_MAX 200
+#define TWO_OVER_PI 0.636619772367581343075535053490057 /* 2/pi */
+/* Below this the finite form's absolute rounding (a few 1e-16) would exceed
+   1e-14 of p: the tail takes over (our choice). */
+#define T_FINITE_P_MIN 0.05
+/* The tail's terms fall at least by x each: up to this x it needs at most
+   about 140 terms for full precision (our choice). */
+#define T_TAIL_X_MAX 0.75
+/* Above this |t|, nu / t^2 < 1e-196 is lost beside 1: c = sqrt(nu) / t and
+   s = 1, and t^2 would overflow further on. */
+#define T_HUGE 1e100
+
+/* p by the closed forms above, or NAN where they do not apply (then GSL). */
+static double t_two_sided_closed(double t, double dof)
+{
+    if (!(dof >= 1 && dof <= T_FAST_DOF_MAX && dof == floor(dof)))
+        return NAN;
+    const unsigned nu = (unsigned)dof;
+    t = fabs(t);
+    if (t == 0)
+        return 1.0;
+    double x, s, c;
+    if (t > T_HUGE) {
+        c = sqrt(dof) / t;
+        x = c * c;
+        s = 1.0;
+    } else {
+        const double tt = t * t, den = dof + tt;
+        x = dof / den;
+        s = sqrt(tt / den); /* 1 - x without the cancellation */
+        c = sqrt(x);
+    }
+    /* the finite sum, each term from the last by the ratio of coefficients */
+    double term = 1.0, sum = 1.0, p;
+    const int even = nu % 2 == 0;
+    const unsigned k = even ? nu / 2 : (nu - 1) / 2; /* n or m: terms in the sum */
+    if (even) {
+        for (unsigned j = 1; j < k; j++) {
+            term *= x * (double)(2 * j - 1) / (double)(2 * j);
+            sum += term;
+        }
+        p = 1.0 - s * sum;
+    } else {
+        for (unsigned j = 1; j < k; j++) {
+            term *= x * (double)(2 * j) / (double)(2 * j + 1);
+            sum += term;
+        }
+        /* pi/2 - theta = atan2(c, s); for nu = 1 the sum is empty */
+        p = TWO_OVER_PI * (atan2(c, s) - (k ? s * c * sum : 0.0));
+    }
+    if (p >= T_FINITE_P_MIN || (!even && k == 0))
+        return p;
+    if (!(x <= T_TAIL_X_MAX))
+        return NAN;
+    /* the tail from term k on, a_k x^k or d_k x^k, each term from the last
+       (term holds term k - 1 from the finite sum; k >= 1 here) */
+    const double lim = 0.25 * DBL_EPSILON * (1.0 - x);
+    double tail = 0.0;
+    for (unsigned j = k;; j++) {
+        term *= even ? x * (double)(2 * j - 1) / (double)(2 * j)
+                     : x * (double)(2 * j) / (double)(2 * j + 1);
+        tail += term;
+        /* what is left is below term x / (1 - x): stop when that is lost */
+        if (term * x <= lim * tail || term == 0.0)
+            break;
+    }
+    return even ? s * tail : TWO_OVER_PI * s * c * tail;
+}
+
 static double two_sided_p(double t, double dof)
 {
     if (!isfinite(t))
         return isnan(t) ? NAN : 0.0;
-    return 2.0 * gsl_cdf_tdist_Q(fabs(t), dof);
+    const double p = t_two_sided_closed(t, dof);
+    return isnan(p) ? 2.0 * gsl_cdf_tdist_Q(fabs(t), dof) : p;
+}
+
+double arrank_diagnose_t_p(double t, double dof)
+{
+    return two_sided_p(t, dof);
 }
 
 /*
@@ -468,8 +564,9 @@ static int set_scale(const work *wk, const size_t *idx, size_t n, xscale *sc)
  */
 #define LSQ_MAXP 3
 
-/* 0 (the default): straight lines by fit_line_direct; 1: by the general
-   Gram-Schmidt path below (arrank_diagnose_line_reference, for tests). */
+/* 0 (the default): straight lines by fit_line_direct and the quadratic test
+   by quad_fit_direct; 1: both by the general Gram-Schmidt path below
+   (arrank_diagnose_line_reference, for tests). */
 static int line_reference = 0;
 
 void arrank_diagnose_line_reference(int on)
@@ -592,16 +689,20 @@ static int fit_line_direct(const work *wk, const size_t *idx, size_t n, line_fit
     if (n <= 2)
         return -1;
     double sw = 0, swx = 0, swy = 0;
+    int negative = 0;
     for (size_t k = 0; k < n; k++) {
         const size_t i = idx[k];
         const double w = wk->w[i];
-        if (!isfinite(wk->x[i]) || !isfinite(wk->y[i]) || !isfinite(w) || w < 0)
-            return -1;
+        negative |= !(w >= 0);
         sw += w;
         swx += w * wk->x[i];
         swy += w * wk->y[i];
     }
-    if (!(sw > 0))
+    /* An x, y or w that is not finite makes its sum not finite (w x is NaN
+       or infinite, 0 times infinity too, and infinities or NaN do not cancel
+       back to a finite sum), so the three sums are checked instead of every
+       point: the same sets are refused. */
+    if (negative || !isfinite(sw) || !isfinite(swx) || !isfinite(swy) || !(sw > 0))
         return -1;
     const double xm = swx / sw, ybar = swy / sw;
     double sxx = 0, sxy = 0;
@@ -661,6 +762,94 @@ static double line_at(const line_fit *lf, double x)
     return lf->b0 + lf->b1_K * (x - lf->sc.xm);
 }
 
+/*
+ * The quadratic test's fit of y on [1, z, z^2] in closed form: the weighted
+ * moments of z and of y - ybar in two passes, the 3x3 normal equations by
+ * Cholesky, the residuals in a third pass, cov = s^2 G^-1 with G the Gram
+ * matrix (Bjorck 1996, sec. 2.1, from memory).  Normal equations square the
+ * condition number of the design, so they are used only where it is small:
+ * with z centred and scaled, G is within a factor of a few of diagonal unless
+ * the temperatures sit in two clusters; when a pivot of the Cholesky falls
+ * below QUAD_DIRECT_PIVOT of its diagonal (condition of G above about 1e3),
+ * the general QR path (design_fit) takes the set instead, and decides on
+ * singularity as before.  Returns 3 as design_fit, 0 where design_fit
+ * returns 0 for values that are not finite, -1 to hand the set to
+ * design_fit.  tests/test_diagnose.c (test_line_paths) compares every
+ * number of the diagnosis with the QR path.
+ */
+#define QUAD_DIRECT_PIVOT 1e-3
+
+static int quad_fit_direct(work *wk, const size_t *idx, size_t n, const xscale *sc, double b[3],
+                           double cov[9], double *rss)
+{
+    if (n <= 3)
+        return 0;
+    double *zs = wk->lsq; /* z per point, for the later passes */
+    double sw = 0, swy = 0, s1 = 0, s2 = 0, s3 = 0, s4 = 0;
+    for (size_t k = 0; k < n; k++) {
+        const size_t i = idx[k];
+        const double w = wk->w[i], y = wk->y[i];
+        const double z = (wk->x[i] - sc->xm) / sc->sx, z2 = z * z;
+        if (!isfinite(y) || !isfinite(w) || w < 0 || !isfinite(z) || !isfinite(z2))
+            return 0;
+        zs[k] = z;
+        sw += w;
+        swy += w * y;
+        s1 += w * z;
+        s2 += w * z2;
+        s3 += w * z2 * z;
+        s4 += w * z2 * z2;
+    }
+    if (!(sw > 0) || !isfinite(s4))
+        return -1;
+    const double ybar = swy / sw;
+    double t0 = 0, t1 = 0, t2 = 0;
+    for (size_t k = 0; k < n; k++) {
+        const size_t i = idx[k];
+        const double z = zs[k], wu = wk->w[i] * (wk->y[i] - ybar);
+        t0 += wu;
+        t1 += wu * z;
+        t2 += wu * z * z;
+    }
+    /* G = L L' */
+    const double l00 = sqrt(sw), l10 = s1 / l00, l20 = s2 / l00;
+    const double d1 = s2 - l10 * l10;
+    if (!(d1 > QUAD_DIRECT_PIVOT * s2))
+        return -1;
+    const double l11 = sqrt(d1), l21 = (s3 - l20 * l10) / l11;
+    const double d2 = s4 - l20 * l20 - l21 * l21;
+    if (!(d2 > QUAD_DIRECT_PIVOT * s4))
+        return -1;
+    const double l22 = sqrt(d2);
+    /* L^-1 (lower), then b' = L^-T L^-1 t for y - ybar */
+    const double m00 = 1.0 / l00, m11 = 1.0 / l11, m22 = 1.0 / l22;
+    const double m10 = -l10 * m00 * m11, m21 = -l21 * m11 * m22;
+    const double m20 = -(l20 * m00 + l21 * m10) * m22;
+    const double u0 = m00 * t0, u1 = m10 * t0 + m11 * t1, u2 = m20 * t0 + m21 * t1 + m22 * t2;
+    const double c2 = m22 * u2, c1 = m11 * u1 + m21 * u2, c0 = m00 * u0 + m10 * u1 + m20 * u2;
+    double chi2 = 0;
+    for (size_t k = 0; k < n; k++) {
+        const size_t i = idx[k];
+        const double z = zs[k];
+        const double e = (wk->y[i] - ybar) - (c0 + c1 * z + c2 * z * z);
+        chi2 += wk->w[i] * e * e;
+    }
+    b[0] = ybar + c0;
+    b[1] = c1;
+    b[2] = c2;
+    const double s2r = chi2 / (double)(n - 3);
+    const double m[3][3] = {{m00, 0, 0}, {m10, m11, 0}, {m20, m21, m22}};
+    for (int r = 0; r < 3; r++)
+        for (int c = 0; c < 3; c++) {
+            double s = 0;
+            for (int k = (r > c ? r : c); k < 3; k++)
+                s += m[k][r] * m[k][c];
+            cov[r * 3 + c] = s2r * s;
+        }
+    *rss = chi2;
+    return 3;
+}
+
 /* Quadratic test over idx. */
 typedef struct {
     double c_K2, c_se_K2, t, p, dof, ea_cold, ea_hot;
@@ -673,7 +862,10 @@ static int fit_quad(work *wk, const size_t *idx, size_t n, quad_test *q)
         set_scale(wk, idx, n, &sc) != 0)
         return -1;
     double b[3], cov[9], rss;
-    if (design_fit(wk, idx, n, &sc, 1, NULL, b, cov, &rss) != 3)
+    int p = line_reference ? -1 : quad_fit_direct(wk, idx, n, &sc, b, cov, &rss);
+    if (p < 0)
+        p = design_fit(wk, idx, n, &sc, 1, NULL, b, cov, &rss);
+    if (p != 3)
         return -1;
     q->dof = (double)n - 3.0;
     double se = sqrt(cov[8]);
@@ -741,7 +933,7 @@ static int series_model(const double *p, size_t i, void *vctx, double *value, do
 /*
  * Profile of the series model over ln k_t: at each grid value the two free
  * parameters b0, b1 are fitted with ln k_t held, and the best grid point
- * starts the full three-parameter fit (arrank_nlfit_run), which gives the
+ * starts the full three-parameter fit (series_polish below), which gives the
  * reported numbers.  With ln k_t held the problem is small and smooth, so it
  * is solved here on the 2x2 normal equations, in a few passes over the data
  * and without allocation; tests/test_diagnose.c proves it gives the answers
@@ -1069,6 +1261,298 @@ static int profile_grid_reference(const profile_data *pd, double ymax, const dou
     return 0;
 }
 
+/* ---- the full three-parameter fit ------------------------------------------ */
+
+/*
+ * From the profile's best point, the full fit of (b0, b1, ln k_t) by the
+ * same damped Newton iteration as profile_fit, on 3x3 equations, then the
+ * checks and the covariance that arrank_nlfit_run gives (jacobian_covariance
+ * and the relative-offset test in fit.c), so that the reported numbers are
+ * those of the general engine to its tolerances (arrank_diagnose_series_reference
+ * restores that engine for the test that compares the two).
+ *
+ * With q = (1, z, -1), the model's Jacobian row is (s, s z, 1 - s) and its
+ * Hessian -s (1 - s) q q' (series_model: d s / d lk = -s (1 - s) and
+ * d s / d lt = s (1 - s)), so Newton's matrix is J'WJ + sum w r s (1 - s) q q'.
+ * Symmetric 3x3 matrices are stored packed: 00, 01, 02, 11, 12, 22.
+ */
+typedef struct {
+    double a[6], h[6], g[3];
+} polish_eq;
+
+static double polish_pass(const profile_data *pd, const double b[3], polish_eq *eq)
+{
+    const size_t n = pd->n;
+    double *res = pd->res, *share = pd->share;
+    for (size_t k = 0; k < n; k++) {
+        const double lk = b[0] + b[1] * pd->z[k], lt = b[2] + pd->lt0[k];
+        if (!isfinite(lk) || !isfinite(lt))
+            return INFINITY;
+        const double gap = lk - lt;
+        const double e = exp(-fabs(gap));
+        res[k] = pd->y[k] - ((gap > 0 ? lt : lk) - log1p(e));
+        share[k] = gap > 0 ? e / (1.0 + e) : 1.0 / (1.0 + e);
+    }
+    double rss = 0, a[6] = {0}, c[6] = {0}, g[3] = {0};
+    for (size_t k = 0; k < n; k++) {
+        const double z = pd->z[k], r = res[k], s = share[k], w = pd->w[k];
+        const double j[3] = {s, s * z, 1.0 - s};
+        const double wc = w * r * s * (1.0 - s);
+        rss += w * r * r;
+        a[0] += w * j[0] * j[0];
+        a[1] += w * j[0] * j[1];
+        a[2] += w * j[0] * j[2];
+        a[3] += w * j[1] * j[1];
+        a[4] += w * j[1] * j[2];
+        a[5] += w * j[2] * j[2];
+        c[0] += wc;
+        c[1] += wc * z;
+        c[2] -= wc;
+        c[3] += wc * z * z;
+        c[4] -= wc * z;
+        c[5] += wc;
+        g[0] += w * r * j[0];
+        g[1] += w * r * j[1];
+        g[2] += w * r * j[2];
+    }
+    for (int i = 0; i < 6; i++) {
+        eq->a[i] = a[i];
+        eq->h[i] = a[i] + c[i];
+    }
+    for (int i = 0; i < 3; i++)
+        eq->g[i] = g[i];
+    return isfinite(rss) ? rss : INFINITY;
+}
+
+/* Solve (m + lambda diag a) d = g by Cholesky; 0, or -1 when that matrix is
+   not positive definite. */
+static int polish_step(const double m[6], const double a[6], double lambda, const double g[3],
+                       double d[3])
+{
+    const double m00 = m[0] + lambda * a[0], m11 = m[3] + lambda * a[3],
+                 m22 = m[5] + lambda * a[5];
+    if (!(m00 > 0) || !isfinite(m00))
+        return -1;
+    const double l00 = sqrt(m00), l10 = m[1] / l00, l20 = m[2] / l00;
+    const double d1 = m11 - l10 * l10;
+    if (!(d1 > 0))
+        return -1;
+    const double l11 = sqrt(d1), l21 = (m[4] - l20 * l10) / l11;
+    const double d2 = m22 - l20 * l20 - l21 * l21;
+    if (!(d2 > 0) || !isfinite(d2))
+        return -1;
+    const double l22 = sqrt(d2);
+    /* L u = g, then L' d = u */
+    const double u0 = g[0] / l00, u1 = (g[1] - l10 * u0) / l11,
+                 u2 = (g[2] - l20 * u0 - l21 * u1) / l22;
+    d[2] = u2 / l22;
+    d[1] = (u1 - l21 * d[2]) / l11;
+    d[0] = (u0 - l10 * d[1] - l20 * d[2]) / l00;
+    return isfinite(d[0]) && isfinite(d[1]) && isfinite(d[2]) ? 0 : -1;
+}
+
+static int polish_below_xtol(const double d[3], const double b[3])
+{
+    for (int k = 0; k < 3; k++)
+        if (!(fabs(d[k]) <= PROFILE_XTOL * (fabs(b[k]) + PROFILE_XTOL)))
+            return 0;
+    return 1;
+}
+
+/*
+ * Covariance (J'WJ)^-1 and the rank test of jacobian_covariance (fit.c) at
+ * the answer: the columns of W^1/2 J, each scaled by |b_k| (by the largest
+ * scaled norm over its own when b_k = 0), factored by QR with column pivoting
+ * (the largest remaining column first, as GSL's QRPT), by modified
+ * Gram-Schmidt with each projection taken twice ("twice is enough", as in
+ * design_fit); singular when a diagonal of R is at most max(n, 3) DBL_EPSILON
+ * times the first (gsl_multifit_nlinear_covar's test).  cols: 3 n scratch.
+ * 0 with cov[9] (unscaled, row-major), or -1.
+ */
+static int polish_covariance(const profile_data *pd, const double b[3], double *cols,
+                             double cov[9])
+{
+    const size_t n = pd->n;
+    double *q[3] = {cols, cols + n, cols + 2 * n};
+    double scale[3], norm[3], s_max = 0;
+    for (size_t k = 0; k < n; k++) {
+        const double sw = sqrt(pd->w[k]), s = pd->share[k];
+        q[0][k] = sw * s;
+        q[1][k] = sw * s * pd->z[k];
+        q[2][k] = sw * (1.0 - s);
+    }
+    for (int c = 0; c < 3; c++) {
+        double ss = 0;
+        for (size_t k = 0; k < n; k++)
+            ss += q[c][k] * q[c][k];
+        norm[c] = sqrt(ss);
+        if (!(norm[c] > 0) || !isfinite(norm[c]))
+            return -1;
+        if (fabs(b[c]) > 0 && norm[c] * fabs(b[c]) > s_max)
+            s_max = norm[c] * fabs(b[c]);
+    }
+    if (!(s_max > 0) || !isfinite(s_max))
+        s_max = 1.0;
+    for (int c = 0; c < 3; c++) {
+        scale[c] = fabs(b[c]) > 0 ? fabs(b[c]) : s_max / norm[c];
+        for (size_t k = 0; k < n; k++)
+            q[c][k] *= scale[c];
+    }
+    int perm[3] = {0, 1, 2};
+    double Rm[3][3] = {{0}};
+    const double epsrel = (double)(n > 3 ? n : 3) * DBL_EPSILON;
+    for (int j = 0; j < 3; j++) {
+        /* pivot: the remaining column with the largest norm */
+        int best = j;
+        double best_ss = -1;
+        for (int c = j; c < 3; c++) {
+            double ss = 0;
+            for (size_t k = 0; k < n; k++)
+                ss += q[perm[c]][k] * q[perm[c]][k];
+            if (ss > best_ss) {
+                best_ss = ss;
+                best = c;
+            }
+        }
+        int t = perm[j];
+        perm[j] = perm[best];
+        perm[best] = t;
+        for (int r = 0; r < j; r++) { /* R's columns follow the pivots */
+            double v = Rm[r][j];
+            Rm[r][j] = Rm[r][best];
+            Rm[r][best] = v;
+        }
+        const double rjj = sqrt(best_ss);
+        if (!(rjj > 0) || !isfinite(rjj) || (j > 0 && !(rjj > epsrel * Rm[0][0])))
+            return -1;
+        Rm[j][j] = rjj;
+        double *qj = q[perm[j]];
+        for (size_t k = 0; k < n; k++)
+            qj[k] /= rjj;
+        for (int c = j + 1; c < 3; c++) {
+            double *v = q[perm[c]];
+            for (int pass = 0; pass < 2; pass++) {
+                double r = 0;
+                for (size_t k = 0; k < n; k++)
+                    r += qj[k] * v[k];
+                for (size_t k = 0; k < n; k++)
+                    v[k] -= r * qj[k];
+                Rm[j][c] += r;
+            }
+        }
+    }
+    /* (R'R)^-1 = R^-1 R^-T in pivoted order, then back to parameters */
+    double Ri[3][3] = {{0}};
+    for (int c = 2; c >= 0; c--) {
+        Ri[c][c] = 1.0 / Rm[c][c];
+        for (int j = c + 1; j < 3; j++) {
+            double s = 0;
+            for (int m = c + 1; m <= j; m++)
+                s += Rm[c][m] * Ri[m][j];
+            Ri[c][j] = -s / Rm[c][c];
+        }
+    }
+    for (int r = 0; r < 3; r++)
+        for (int c = 0; c < 3; c++) {
+            double s = 0;
+            for (int m = (r > c ? r : c); m < 3; m++)
+                s += Ri[r][m] * Ri[c][m];
+            const int pr = perm[r], pc = perm[c];
+            cov[pr * 3 + pc] = s * scale[pr] * scale[pc];
+            if (!isfinite(cov[pr * 3 + pc]))
+                return -1;
+        }
+    for (int k = 0; k < 3; k++)
+        if (!(cov[k * 3 + k] > 0))
+            return -1;
+    return 0;
+}
+
+/* The full fit from b (b0, b1, ln k_t).  0 with b, *rss_out and se[3] set,
+   or -1 when it fails arrank_nlfit_run's checks (then the profile's point
+   is reported, as when that engine fails).  cols: 3 n scratch. */
+static int series_polish(const profile_data *pd, double b[3], double *cols, double *rss_out,
+                         double se[3])
+{
+    polish_eq eq;
+    double rss = polish_pass(pd, b, &eq);
+    if (!isfinite(rss))
+        return -1;
+    double lambda = 0;
+    for (size_t iter = 0; iter < PROFILE_MAX_ITER; iter++) {
+        const double *g = eq.g;
+        double gmax = 0;
+        for (int k = 0; k < 3; k++)
+            gmax = fmax(gmax, fabs(g[k]) * fmax(fabs(b[k]), 1.0));
+        if (gmax <= PROFILE_GTOL * fmax(0.5 * rss, 1.0))
+            break;
+        double d[3];
+        const double *m = eq.h;
+        if (polish_step(m, eq.a, 0.0, g, d) != 0) {
+            m = eq.a;
+            if (polish_step(m, eq.a, 0.0, g, d) != 0)
+                d[0] = d[1] = d[2] = NAN; /* J'WJ singular: only damped steps */
+        }
+        if (isfinite(d[0]) && (g[0] * d[0] + g[1] * d[1] + g[2] * d[2] <=
+                                   PROFILE_DECREMENT_REL * rss ||
+                               polish_below_xtol(d, b)))
+            break;
+        int moved = 0;
+        for (int refused = 0; refused < PROFILE_MAX_REFUSED && !moved; refused++) {
+            if (lambda > 0 || !isfinite(d[0])) {
+                if (!(lambda > 0))
+                    lambda = PROFILE_LAMBDA0;
+                if (polish_step(m, eq.a, lambda, g, d) != 0) {
+                    if (!(eq.a[0] > 0 && eq.a[3] > 0 && eq.a[5] > 0))
+                        return -1; /* a column of J is zero: no damping helps */
+                    lambda *= PROFILE_LAMBDA_FACTOR;
+                    d[0] = d[1] = d[2] = NAN;
+                    continue;
+                }
+                if (polish_below_xtol(d, b))
+                    break;
+            }
+            polish_eq t;
+            const double bt[3] = {b[0] + d[0], b[1] + d[1], b[2] + d[2]};
+            const double rt = polish_pass(pd, bt, &t);
+            if (rt < rss) {
+                memcpy(b, bt, sizeof bt);
+                rss = rt;
+                eq = t;
+                lambda = lambda > PROFILE_LAMBDA0 ? lambda / PROFILE_LAMBDA_FACTOR : 0.0;
+                moved = 1;
+            } else
+                lambda = lambda > 0 ? lambda * PROFILE_LAMBDA_FACTOR : PROFILE_LAMBDA0;
+        }
+        if (!moved)
+            break;
+    }
+    /* a refused trial may have left its residuals and shares in pd->res and
+       pd->share: evaluate once more at the answer */
+    if (!isfinite(polish_pass(pd, b, &eq)))
+        return -1;
+    double cov[9];
+    if (polish_covariance(pd, b, cols, cov) != 0)
+        return -1;
+    /* Bates & Watts' relative offset, as arrank_nlfit_run */
+    const double dof = (double)pd->n - 3.0;
+    if (rss > 0 && rss > PROFILE_EXACT_RSS_REL * pd->ysq) {
+        double proj2 = 0;
+        for (int r = 0; r < 3; r++)
+            for (int c = 0; c < 3; c++)
+                proj2 += eq.g[r] * cov[r * 3 + c] * eq.g[c];
+        const double orth2 = fmax(rss - proj2, DBL_MIN);
+        const double offset = sqrt(fmax(proj2, 0) / 3.0) / sqrt(orth2 / dof);
+        if (!(offset <= PROFILE_OFFSET_TOL))
+            return -1;
+    }
+    const double s2 = rss / dof;
+    for (int k = 0; k < 3; k++)
+        se[k] = sqrt(s2 * cov[k * 3 + k]);
+    *rss_out = rss;
+    return 0;
+}
+
 static void fit_series(work *wk, const size_t *idx, size_t n, const line_fit *lf,
                        arrank_curvature *cv)
 {
@@ -1079,8 +1563,9 @@ static void fit_series(work *wk, const size_t *idx, size_t n, const line_fit *lf
     cv->rss_series = NAN;
     if (n <= 3)
         return;
-    /* one block per sample: z, lt0, y, w and the profile's two scratch rows */
-    double *z = malloc(6 * n * sizeof *z);
+    /* one block per sample: z, lt0, y, w, the profile's two scratch rows and
+       the full fit's three columns */
+    double *z = malloc(9 * n * sizeof *z);
     if (!z) {
         wk->nomem = 1;
         return;
@@ -1110,29 +1595,39 @@ static void fit_series(work *wk, const size_t *idx, size_t n, const line_fit *lf
     cv->rss_series = best.rss;
     if (!isfinite(best.lkt))
         goto done; /* no finite conductance beats the straight line */
-    series_ctx c = {z, lt0, NAN, 3};
-    arrank_nlfit_options o = arrank_nlfit_defaults();
-    double p3[3] = {best.p[0], best.p[1], best.lkt};
-    arrank_nlfit f;
-    memset(&f, 0, sizeof f);
-    arrank_error e;
-    arrank_error_clear(&e);
-    arrank_status st = series_full_fit
-                           ? arrank_nlfit_run(series_model, &c, 3, y, w, n, p3, &o, &f, &e)
-                           : ARRANK_EFIT;
-    if (st == ARRANK_ENOMEM)
-        wk->nomem = 1;
+    double p3[3] = {best.p[0], best.p[1], best.lkt}, rss3 = NAN, se3[3] = {NAN, NAN, NAN};
+    int full_ok = 0;
+    if (series_full_fit && !series_reference)
+        full_ok = series_polish(&pd, p3, z + 6 * n, &rss3, se3) == 0;
+    else if (series_full_fit) {
+        /* the general engine, for the test that compares the two */
+        series_ctx c = {z, lt0, NAN, 3};
+        arrank_nlfit_options o = arrank_nlfit_defaults();
+        arrank_nlfit f;
+        memset(&f, 0, sizeof f);
+        arrank_error e;
+        arrank_error_clear(&e);
+        arrank_status st = arrank_nlfit_run(series_model, &c, 3, y, w, n, p3, &o, &f, &e);
+        if (st == ARRANK_ENOMEM)
+            wk->nomem = 1;
+        if (st == ARRANK_OK) {
+            full_ok = 1;
+            memcpy(p3, f.params, sizeof p3);
+            memcpy(se3, f.se, sizeof se3);
+            rss3 = f.rss;
+        }
+        arrank_nlfit_clear(&f);
+    }
     cv->series_fitted = 1;
-    if (st == ARRANK_OK && f.rss <= best.rss * (1.0 + 1e-9) && isfinite(f.params[2])) {
-        cv->rss_series = f.rss;
-        cv->series_ea_J_mol = -R * f.params[1] / lf->sc.sx;
-        cv->series_ea_se_J_mol = R * f.se[1] / lf->sc.sx;
-        cv->series_ln_kt = f.params[2];
+    if (full_ok && rss3 <= best.rss * (1.0 + 1e-9) && isfinite(p3[2])) {
+        cv->rss_series = rss3;
+        cv->series_ea_J_mol = -R * p3[1] / lf->sc.sx;
+        cv->series_ea_se_J_mol = R * se3[1] / lf->sc.sx;
+        cv->series_ln_kt = p3[2];
     } else {
         cv->series_ea_J_mol = -R * best.p[1] / lf->sc.sx;
         cv->series_ln_kt = best.lkt;
     }
-    arrank_nlfit_clear(&f);
 done:
     if (isfinite(cv->rss_series) && n > 3) {
         double rss2 = fmax(cv->rss_series, 0.0);

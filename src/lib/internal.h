@@ -137,8 +137,9 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
 /* ---- diagnose.c: test switches for the series-resistance model ---- */
 
 /* 0 (the default): the profile over ln k_t fits b0, b1 at each grid point
-   with diagnose.c's own 2x2 solver; 1: with arrank_nlfit_run, as before that
-   solver, to compare the two.  For tests only; not thread-safe. */
+   with diagnose.c's own 2x2 solver, and the full fit from its best point
+   uses the own 3x3 solver; 1: both with arrank_nlfit_run, as before those
+   solvers, to compare the two.  For tests only; not thread-safe. */
 void arrank_diagnose_series_reference(int on);
 
 /* 1 (the default): the profile's best point starts the full three-parameter
@@ -147,8 +148,15 @@ void arrank_diagnose_series_reference(int on);
    sees the profile itself.  For tests only; not thread-safe. */
 void arrank_diagnose_series_full_fit(int on);
 
-/* 0 (the default): the diagnostics fit straight lines in closed form; 1: by
-   the general QR path they share with the quadratic test.  For the test that
+/* Two-sided p-value of Student's t, P(|T| > |t|) with dof degrees of
+   freedom, as the diagnostics compute it: closed forms for integer dof up to
+   200 where they keep full precision, 2 gsl_cdf_tdist_Q(|t|, dof) elsewhere;
+   0 for infinite t, NAN for NAN.  Exposed so that tests/test_diagnose.c can
+   hold it against GSL. */
+double arrank_diagnose_t_p(double t, double dof);
+
+/* 0 (the default): the diagnostics fit straight lines and the quadratic
+   test in closed form; 1: by the general QR path.  For the test that
    compares the two (tests/test_diagnose.c); not thread-safe. */
 void arrank_diagnose_line_reference(int on);
 
