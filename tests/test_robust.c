@@ -363,6 +363,15 @@ static void format_fast_path(void **state)
             }
         }
     }
+    /* Every binary exponent of the fast %g range (1e-250 .. 1e250 is 2^-831 ..
+       2^830), at its power of two, just below it and half-way to the next. */
+    for (int b = -835; b <= 835; b++) {
+        const double at[] = {ldexp(1.0, b), nextafter(ldexp(1.0, b), 0.0), ldexp(1.5, b)};
+        for (size_t i = 0; i < sizeof at / sizeof at[0]; i++) {
+            check_format(at[i], 3, &n);
+            check_format(at[i], 1 + (b + 835) % 15, &n);
+        }
+    }
     for (int k = 0; k < 200000; k++) {
         uint64_t r = rng_next();
         int prec = (int)(r % 7);

@@ -113,24 +113,25 @@ static int scaled_round(double a, int p, uint64_t *out)
 {
     if (p > 22 || p < -22 || a < TINY)
         return 0;
-    double x, e;
-    if (p >= 0) {
+    double x;
+    if (p >= 0)
         x = a * powers_of_ten[p];
-        if (!(x < TWO_POW_52))
-            return 0;
-        e = fma(a, powers_of_ten[p], -x); /* exact: a * 10^p - x */
-    } else {
-        double d = powers_of_ten[-p];
-        x = a / d;
-        if (!(x < TWO_POW_52))
-            return 0;
-        e = -fma(x, d, -a); /* exact remainder a - x d: its sign is that of a/d - x */
-    }
+    else
+        x = a / powers_of_ten[-p];
+    if (!(x < TWO_POW_52))
+        return 0;
     /* 0 <= x < 2^52: the conversion truncates, which is floor, and x - n is exact */
     uint64_t n = (uint64_t)x;
     double f = x - (double)n;
-    if (f > 0.5 || (f == 0.5 && (e > 0.0 || (e == 0.0 && (n & 1)))))
+    if (f == 0.5) {
+        /* only here does the error of the rounded x decide (see above) */
+        double e = p >= 0 ? fma(a, powers_of_ten[p], -x)      /* exact: a * 10^p - x */
+                          : -fma(x, powers_of_ten[-p], -a);   /* exact a - x d: sign of a/d - x */
+        if (e > 0.0 || (e == 0.0 && (n & 1)))
+            n++;
+    } else if (f > 0.5) {
         n++;
+    }
     *out = n;
     return 1;
 }
@@ -141,9 +142,7 @@ static const char digit_pairs[] = "000102030405060708091011121314151617181920212
                                   "62636465666768697071727374757677787980818283848586878889909192"
                                   "93949596979899";
 
-/* The decimal digits of n, at least width of them (leading zeros), written to
-   end just before `end`; returns where they start. */
-static char *digits_before(char *end, uint64_t n, int width)
+char *arrank_digits_before(char *end, uint64_t n, int width)
 {
     char *p = end;
     while (n >= 100) {
@@ -175,7 +174,7 @@ int arrank_format_fixed(char *buf, size_t n, int prec, double v)
         m = 0;
     /* the digits of m with at least one before the point; the last prec are the fraction */
     char tmp[40], *end = tmp + sizeof tmp;
-    const char *d = digits_before(end, m, prec + 1);
+    const char *d = arrank_digits_before(end, m, prec + 1);
     const char *point = end - prec;
     char *s = buf;
     if (signbit(v))
@@ -213,9 +212,11 @@ static int decimal_exponent(double a)
     uint64_t bits;
     memcpy(&bits, &a, sizeof bits);
     int b = (int)((bits >> 52) & 0x7FF) - 1023; /* floor(log2 a): IEEE 754 binary64 */
-    /* floor(b log10 2): b log10 2 is an integer only for b = 0, and the double
-       product is far closer than its distance to the next integer for |b| < 1100 */
-    int k = (int)floor((double)b * 0.30102999566398119521);
+    /* floor(b log10 2) as floor(b 78913 / 2^18), 78913 / 2^18 = 0.301029968...: the
+       two agree for |b| <= 1100, beyond the +-831 that reach here (the fast range
+       1e-250 .. 1e250); test_robust checks 2^b for every b in it (common practice) */
+    int k = b >= 0 ? (int)(((unsigned)b * 78913u) >> 18)
+                   : -(int)((((unsigned)-b * 78913u) >> 18) + 1);
     if (k + 1 >= -22 && k + 1 <= 22 && a > nearest_powers_of_ten[k + 1 + 22])
         k++;
     return k;
@@ -251,7 +252,7 @@ int arrank_format_general(char *buf, size_t n, int prec, double v)
         *s++ = '-';
     if (x < -4 || x >= prec) { /* %e style: d.ddd then e+XX */
         char digits[24], *dend = digits + sizeof digits;
-        const char *d = digits_before(dend, m, prec), *last = dend;
+        const char *d = arrank_digits_before(dend, m, prec), *last = dend;
         while (last > d + 1 && last[-1] == '0')
             last--; /* %g drops trailing zeros of the fraction, and a point left alone */
         *s++ = *d++;
@@ -263,12 +264,12 @@ int arrank_format_general(char *buf, size_t n, int prec, double v)
         *s++ = 'e';
         *s++ = x < 0 ? '-' : '+';
         char ex[8], *eend = ex + sizeof ex;
-        for (const char *e = digits_before(eend, (uint64_t)(x < 0 ? -x : x), 2); e < eend; e++)
+        for (const char *e = arrank_digits_before(eend, (uint64_t)(x < 0 ? -x : x), 2); e < eend; e++)
             *s++ = *e;
     } else { /* %f style with prec - 1 - x decimals */
         int decimals = prec - 1 - x;
         char digits[24], *dend = digits + sizeof digits;
-        const char *d = digits_before(dend, m, decimals + 1);
+        const char *d = arrank_digits_before(dend, m, decimals + 1);
         const char *point = dend - decimals;
         while (d < point)
             *s++ = *d++;

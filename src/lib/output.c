@@ -275,17 +275,23 @@ static void csv_num(FILE *f, double v, int last)
     csv_field(f, buf, last);
 }
 
+/* The names of the flags set, joined by sep, into buf (size n), cut as snprintf cuts. */
 static void flags_joined(unsigned flags, char *buf, size_t n, const char *sep)
 {
     buf[0] = '\0';
-    size_t len = 0;
+    size_t len = 0, sep_len = strlen(sep);
     for (unsigned bit = 1; bit && bit < (1u << ARRANK_FLAG_COUNT); bit <<= 1) {
         if (!(flags & bit))
             continue;
-        int w = snprintf(buf + len, n - len, "%s%s", len ? sep : "", arrank_flag_name(bit));
-        if (w < 0 || (size_t)w >= n - len)
+        const char *name = arrank_flag_name(bit);
+        size_t name_len = strlen(name), s_len = len ? sep_len : 0;
+        if (s_len + name_len >= n - len) { /* does not fit: what snprintf keeps of it */
+            snprintf(buf + len, n - len, "%s%s", len ? sep : "", name);
             break;
-        len += (size_t)w;
+        }
+        memcpy(buf + len, sep, s_len);
+        memcpy(buf + len + s_len, name, name_len + 1);
+        len += s_len + name_len;
     }
 }
 
@@ -407,21 +413,19 @@ static void pad_print(FILE *f, const char *s, size_t width, int right)
             fputc(' ', f);
 }
 
-/* snprintf(cell, n, "%lld", v) for a cell of at least 24 bytes. */
-static void int_text(char *cell, long long value)
+/* snprintf(cell, n, "%lld", v) for a cell of at least 24 bytes; returns the length. */
+static size_t int_text(char *cell, long long value)
 {
-    char tmp[24];
-    size_t k = 0;
+    char tmp[24], *end = tmp + sizeof tmp;
     unsigned long long v = value < 0 ? 0ULL - (unsigned long long)value : (unsigned long long)value;
+    const char *d = arrank_digits_before(end, v, 1);
+    size_t k = 0;
     if (value < 0)
-        *cell++ = '-';
-    do {
-        tmp[k++] = (char)('0' + v % 10);
-        v /= 10;
-    } while (v);
-    for (size_t i = 0; i < k; i++)
-        cell[i] = tmp[k - 1 - i];
+        cell[k++] = '-';
+    while (d < end)
+        cell[k++] = *d++;
     cell[k] = '\0';
+    return k;
 }
 
 /*
@@ -466,9 +470,14 @@ static char *row_room(row_buf *r, size_t need)
     return r->mem + r->n;
 }
 
+/* k spaces at p; a short pad is one fixed-size copy (a row has room to spare). */
 static char *put_spaces(char *p, size_t k)
 {
-    memset(p, ' ', k);
+    static const char spaces[32] = "                                ";
+    if (k <= sizeof spaces)
+        memcpy(p, spaces, sizeof spaces);
+    else
+        memset(p, ' ', k);
     return p + k;
 }
 
@@ -618,8 +627,7 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
     char *const row = p, cell[CELL_MAX + 1];
     if (a->n_ranked) {
         if (res->rank) {
-            int_text(cell, res->rank);
-            p = put_right(p, cell, strlen(cell), tc->w_rank);
+            p = put_right(p, cell, int_text(cell, res->rank), tc->w_rank);
         } else {
             p = put_right(p, "-", 1, tc->w_rank);
         }
@@ -634,8 +642,7 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
             }
             p = put_text(p, "  ", 2);
             if (ss && ss->group > 0) {
-                int_text(cell, ss->group);
-                p = put_right(p, cell, strlen(cell), tc->w_grp);
+                p = put_right(p, cell, int_text(cell, ss->group), tc->w_grp);
             } else {
                 p = put_right(p, "-", 1, tc->w_grp);
             }
@@ -645,8 +652,7 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
     p = put_name(p, res->sample->id, tc->name_w);
     p = put_text(p, "  ", 2);
     if (res->error) {
-        int_text(cell, (long long)res->sample->n_points);
-        p = put_right(p, cell, strlen(cell), tc->w_n);
+        p = put_right(p, cell, int_text(cell, (long long)res->sample->n_points), tc->w_n);
         p = put_text(p, "  not fitted: ", 14);
         p = put_text(p, res->error, strlen(res->error));
         *p++ = '\n';
@@ -659,8 +665,7 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
         int len = snprintf(cell, sizeof cell, "%zu/%zu", fit->n, res->sample->n_points);
         p = put_right(p, cell, len < 0 ? 0 : (size_t)len, tc->w_n);
     } else {
-        int_text(cell, (long long)fit->n);
-        p = put_right(p, cell, strlen(cell), tc->w_n);
+        p = put_right(p, cell, int_text(cell, (long long)fit->n), tc->w_n);
     }
     p = put_text(p, "  ", 2);
     {
