@@ -749,6 +749,43 @@ typedef struct {
     int any_error[TABLE_MAX_WORKERS];
 } table_job;
 
+/*
+ * Rows go in rank order, so each row's result, sample, name and statistics
+ * sit at scattered addresses, and waiting for them from memory took about half
+ * the time of a row once the formatting was cheap (perf, 10,000 samples).
+ * They are asked for a few rows ahead, in the order the pointers lead to them.
+ */
+#if defined(__GNUC__)
+#define PREFETCH(addr) __builtin_prefetch(addr)
+#else
+#define PREFETCH(addr) ((void)(addr))
+#endif
+#define AHEAD 8 /* rows ahead for the result; its sample and stats at AHEAD / 2, the name at 2 */
+
+/* Row k of rows ..hi into r, the data of rows further on asked for first.  (The
+   asking sits with the row: gcc 12 drops a call to a function that only
+   prefetches, as one without effects.) */
+static void table_row_ahead(const table_ctx *tc, size_t k, size_t hi, row_buf *r,
+                            unsigned *seen_flags, int *any_error)
+{
+    const arrank_result *results = tc->a->results;
+    if (k + AHEAD < hi) {
+        const char *res = (const char *)&results[tc->order[k + AHEAD]];
+        for (size_t off = 0; off < sizeof(arrank_result); off += 64)
+            PREFETCH(res + off);
+        PREFETCH(res + sizeof(arrank_result) - 1);
+    }
+    if (k + AHEAD / 2 < hi) {
+        const arrank_result *res = &results[tc->order[k + AHEAD / 2]];
+        PREFETCH(res->sample);
+        if (res->stats)
+            PREFETCH(res->stats);
+    }
+    if (k + 2 < hi)
+        PREFETCH(results[tc->order[k + 2]].sample->id);
+    table_row(tc, k, r, seen_flags, any_error);
+}
+
 static void table_worker(void *ctx, size_t w)
 {
     table_job *j = ctx;
@@ -757,7 +794,7 @@ static void table_worker(void *ctx, size_t w)
     row_buf *r = &j->rows[w];
     r->n = 0;
     for (size_t k = lo; k < hi; k++)
-        table_row(j->tc, k, r, &j->seen[w], &j->any_error[w]);
+        table_row_ahead(j->tc, k, hi, r, &j->seen[w], &j->any_error[w]);
 }
 
 static arrank_status table_rows(const table_ctx *tc, FILE *f, unsigned *seen_flags,
@@ -770,7 +807,7 @@ static arrank_status table_rows(const table_ctx *tc, FILE *f, unsigned *seen_fla
     if (workers <= 1) {
         row_buf r = {0};
         for (size_t k = 0; k < n && !r.nomem; k++) {
-            table_row(tc, k, &r, seen_flags, any_error);
+            table_row_ahead(tc, k, n, &r, seen_flags, any_error);
             if (r.n >= TABLE_FLUSH) {
                 fwrite(r.mem, 1, r.n, f);
                 r.n = 0;
@@ -808,19 +845,31 @@ static arrank_status table_rows(const table_ctx *tc, FILE *f, unsigned *seen_fla
     return st;
 }
 
+/* Width of the name column: the widest name, at most NAME_WIDTH_MAX (so the
+   search can stop there), at least the heading's.  The names are asked for
+   ahead as in the rows (table_row_ahead). */
+static size_t name_width(const arrank_analysis *a)
+{
+    size_t name_w = strlen("sample");
+    const arrank_result *results = a->results;
+    for (size_t i = 0; i < a->n_results && name_w < NAME_WIDTH_MAX; i++) {
+        if (i + 2 * AHEAD < a->n_results)
+            PREFETCH(results[i + 2 * AHEAD].sample);
+        if (i + AHEAD < a->n_results)
+            PREFETCH(results[i + AHEAD].sample->id);
+        size_t w = text_width(results[i].sample->id);
+        if (w > name_w)
+            name_w = w;
+    }
+    return name_w > NAME_WIDTH_MAX ? NAME_WIDTH_MAX : name_w;
+}
+
 static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error *err)
 {
     const arrank_campaign *c = a->campaign;
     const arrank_options *o = &a->options;
     int have_T = isfinite(o->operating_temp_K);
-    size_t name_w = strlen("sample");
-    for (size_t i = 0; i < a->n_results; i++) {
-        size_t w = text_width(a->results[i].sample->id);
-        if (w > name_w)
-            name_w = w;
-    }
-    if (name_w > NAME_WIDTH_MAX)
-        name_w = NAME_WIDTH_MAX;
+    const size_t name_w = name_width(a);
 
     fprintf(f, "campaign '%s': %zu samples, rates in %s (%s basis), %g%% intervals\n",
             c->title ? c->title : c->name, c->n_samples, c->rate_unit,
