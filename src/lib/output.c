@@ -430,7 +430,7 @@ static size_t int_text(char *cell, long long value)
 
 /*
  * Table rows are written straight into a growing block of memory, each cell
- * formatted in place and padded with one memset: formatting into a cell, then
+ * formatted in place and padded in one go: formatting into a cell, then
  * measuring, copying and padding it, took most of the table's time.  Every
  * cell but the name and the error text is ASCII (numbers in the C locale,
  * "-", brackets), so its width in columns is its length in bytes.  Cells are
