@@ -135,6 +135,7 @@ static void expected_name(FILE *out, const char *s, size_t width)
 }
 
 /* A cell as snprintf into 128 bytes makes it, then left- or right-aligned. */
+__attribute__((format(printf, 4, 5)))
 static void cell(FILE *out, size_t width, int right, const char *fmt, ...)
 {
     char text[128];
