@@ -264,8 +264,9 @@ int arrank_format_general(char *buf, size_t n, int prec, double v)
         *s++ = 'e';
         *s++ = x < 0 ? '-' : '+';
         char ex[8], *eend = ex + sizeof ex;
-        for (const char *e = arrank_digits_before(eend, (uint64_t)(x < 0 ? -x : x), 2); e < eend; e++)
-            *s++ = *e;
+        const char *e = arrank_digits_before(eend, (uint64_t)(x < 0 ? -x : x), 2);
+        while (e < eend)
+            *s++ = *e++;
     } else { /* %f style with prec - 1 - x decimals */
         int decimals = prec - 1 - x;
         char digits[24], *dend = digits + sizeof digits;
