@@ -299,7 +299,7 @@ static void check_format(double v, int prec, size_t *fast)
     int b = snprintf(libc, sizeof libc, "%.*f", prec, v);
     if (a != b || strcmp(mine, libc) != 0)
         fail_msg("%%.%df of %a: '%s', snprintf '%s'", prec, v, mine, libc);
-    if (prec >= 1 && prec <= 6) {
+    if (prec >= 1 && prec <= 15) {
         a = arrank_format_general(mine, sizeof mine, prec, v);
         b = snprintf(libc, sizeof libc, "%.*g", prec, v);
         if (a != b || strcmp(mine, libc) != 0)
@@ -323,9 +323,36 @@ static void format_fast_path(void **state)
     for (size_t i = 0; i < sizeof edges / sizeof edges[0]; i++)
         for (int prec = 0; prec <= 17; prec++)
             check_format(edges[i], prec, &n);
+    /* Around every power of ten the fast %g path can take (its decimal exponent
+       comes from the binary one and one comparison): a few ulps either side. */
+    for (int e = -40; e <= 40; e++) {
+        double p10 = pow(10.0, e);
+        for (int sign = 0; sign < 2; sign++) {
+            double lo = sign ? -p10 : p10, hi = lo;
+            for (int step = 0; step < 4; step++) {
+                for (int prec = 1; prec <= 15; prec++) {
+                    check_format(lo, prec, &n);
+                    check_format(hi, prec, &n);
+                }
+                lo = nextafter(lo, 0.0);
+                hi = nextafter(hi, sign ? -INFINITY : INFINITY);
+            }
+        }
+    }
+    /* Every binary exponent of the fast %g range (1e-250 .. 1e250 is 2^-831 ..
+       2^830), at its power of two, just below it and half-way to the next. */
+    for (int b = -835; b <= 835; b++) {
+        const double at[] = {ldexp(1.0, b), nextafter(ldexp(1.0, b), 0.0), ldexp(1.5, b)};
+        for (size_t i = 0; i < sizeof at / sizeof at[0]; i++) {
+            check_format(at[i], 3, &n);
+            check_format(at[i], 1 + (b + 835) % 15, &n);
+        }
+    }
     for (int k = 0; k < 200000; k++) {
         uint64_t r = rng_next();
         int prec = (int)(r % 7);
+        if ((r >> 40) % 4 == 0)
+            prec = 7 + (int)((r >> 42) % 9); /* now and then up to 15 digits */
         double v;
         switch ((r >> 3) % 4) {
         case 0: /* any bit pattern of a double */

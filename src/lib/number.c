@@ -113,41 +113,55 @@ static int scaled_round(double a, int p, uint64_t *out)
 {
     if (p > 22 || p < -22 || a < TINY)
         return 0;
-    double x, e;
-    if (p >= 0) {
+    double x;
+    if (p >= 0)
         x = a * powers_of_ten[p];
-        if (!(x < TWO_POW_52))
-            return 0;
-        e = fma(a, powers_of_ten[p], -x); /* exact: a * 10^p - x */
-    } else {
-        double d = powers_of_ten[-p];
-        x = a / d;
-        if (!(x < TWO_POW_52))
-            return 0;
-        e = -fma(x, d, -a); /* exact remainder a - x d: its sign is that of a/d - x */
-    }
-    double r = floor(x), f = x - r;
-    uint64_t n = (uint64_t)r;
-    if (f > 0.5 || (f == 0.5 && (e > 0.0 || (e == 0.0 && (n & 1)))))
+    else
+        x = a / powers_of_ten[-p];
+    if (!(x < TWO_POW_52))
+        return 0;
+    /* 0 <= x < 2^52: the conversion truncates, which is floor, and x - n is exact */
+    uint64_t n = (uint64_t)x;
+    double f = x - (double)n;
+    if (f == 0.5) {
+        /* only here does the error of the rounded x decide (see above) */
+        double e = p >= 0 ? fma(a, powers_of_ten[p], -x)      /* exact: a * 10^p - x */
+                          : -fma(x, powers_of_ten[-p], -a);   /* exact a - x d: sign of a/d - x */
+        if (e > 0.0 || (e == 0.0 && (n & 1)))
+            n++;
+    } else if (f > 0.5) {
         n++;
+    }
     *out = n;
     return 1;
 }
 
-/* Decimal digits of n, at least width of them (leading zeros); returns the count. */
-static int put_digits(char *buf, uint64_t n, int width)
+/* "00" "01" .. "99": two digits per division by 100 (common practice). */
+static const char digit_pairs[] = "00010203040506070809101112131415161718192021222324252627282930"
+                                  "31323334353637383940414243444546474849505152535455565758596061"
+                                  "62636465666768697071727374757677787980818283848586878889909192"
+                                  "93949596979899";
+
+char *arrank_digits_before(char *end, uint64_t n, int width)
 {
-    char tmp[24];
-    int k = 0;
-    do {
-        tmp[k++] = (char)('0' + n % 10);
-        n /= 10;
-    } while (n);
-    while (k < width)
-        tmp[k++] = '0';
-    for (int i = 0; i < k; i++)
-        buf[i] = tmp[k - 1 - i];
-    return k;
+    char *p = end;
+    while (n >= 100) {
+        unsigned r = (unsigned)(n % 100);
+        n /= 100;
+        p -= 2;
+        p[0] = digit_pairs[2 * r];
+        p[1] = digit_pairs[2 * r + 1];
+    }
+    if (n >= 10) {
+        p -= 2;
+        p[0] = digit_pairs[2 * n];
+        p[1] = digit_pairs[2 * n + 1];
+    } else {
+        *--p = (char)('0' + n);
+    }
+    while (end - p < width)
+        *--p = '0';
+    return p;
 }
 
 int arrank_format_fixed(char *buf, size_t n, int prec, double v)
@@ -158,30 +172,54 @@ int arrank_format_fixed(char *buf, size_t n, int prec, double v)
         return snprintf(buf, n, "%.*f", prec, v);
     if (v == 0.0)
         m = 0;
+    /* the digits of m with at least one before the point; the last prec are the fraction */
+    char tmp[40], *end = tmp + sizeof tmp;
+    const char *d = arrank_digits_before(end, m, prec + 1);
+    const char *point = end - prec;
     char *s = buf;
     if (signbit(v))
         *s++ = '-'; /* printf keeps the sign of a value that rounds to zero */
-    uint64_t unit = (uint64_t)powers_of_ten[prec];
-    s += put_digits(s, m / unit, 1);
+    while (d < point)
+        *s++ = *d++;
     if (prec > 0) {
         *s++ = '.';
-        s += put_digits(s, m % unit, prec);
+        while (d < end)
+            *s++ = *d++;
     }
     *s = '\0';
     return (int)(s - buf);
 }
 
-/* Drop trailing zeros of a fraction, and the point when nothing is left (%g). */
-static char *strip_zeros(char *start, char *end)
+/*
+ * Decimal exponents of doubles without log10.  For a = f 2^b with 1 <= f < 2,
+ * floor(log10 a) is floor(b log10 2) or one more; it is one more when a
+ * reaches the next power of ten.  The comparison is made with the double
+ * nearest 10^k and is strict, so it never says "one more" wrongly: above the
+ * nearest double lies above 10^k itself.  Where 10^k is not a double it may
+ * say "not yet" for the few values within half an ulp above 10^k, and the
+ * caller's check of the digit count moves up by one then.
+ */
+static const double nearest_powers_of_ten[] = {
+    1e-22, 1e-21, 1e-20, 1e-19, 1e-18, 1e-17, 1e-16, 1e-15, 1e-14, 1e-13, 1e-12, 1e-11,
+    1e-10, 1e-9,  1e-8,  1e-7,  1e-6,  1e-5,  1e-4,  1e-3,  1e-2,  1e-1,  1e0,   1e1,
+    1e2,   1e3,   1e4,   1e5,   1e6,   1e7,   1e8,   1e9,   1e10,  1e11,  1e12,  1e13,
+    1e14,  1e15,  1e16,  1e17,  1e18,  1e19,  1e20,  1e21,  1e22,
+};
+
+/* floor(log10 a), or one less, for a normal positive double a. */
+static int decimal_exponent(double a)
 {
-    char *dot = memchr(start, '.', (size_t)(end - start));
-    if (!dot)
-        return end;
-    while (end > dot + 1 && end[-1] == '0')
-        end--;
-    if (end == dot + 1)
-        end--;
-    return end;
+    uint64_t bits;
+    memcpy(&bits, &a, sizeof bits);
+    int b = (int)((bits >> 52) & 0x7FF) - 1023; /* floor(log2 a): IEEE 754 binary64 */
+    /* floor(b log10 2) as floor(b 78913 / 2^18), 78913 / 2^18 = 0.301029968...: the
+       two agree for |b| <= 1100, beyond the +-831 that reach here (the fast range
+       1e-250 .. 1e250); test_robust checks 2^b for every b in it (common practice) */
+    int k = b >= 0 ? (int)(((unsigned)b * 78913u) >> 18)
+                   : -(int)((((unsigned)-b * 78913u) >> 18) + 1);
+    if (k + 1 >= -22 && k + 1 <= 22 && a > nearest_powers_of_ten[k + 1 + 22])
+        k++;
+    return k;
 }
 
 int arrank_format_general(char *buf, size_t n, int prec, double v)
@@ -193,15 +231,15 @@ int arrank_format_general(char *buf, size_t n, int prec, double v)
     if (n < 40 || prec < 1 || prec > 15 || !isfinite(v) || v == 0.0 || a < TINY || a > 1e250)
         return snprintf(buf, n, "%.*g", prec, v);
     /* X: decimal exponent of v rounded to prec digits; m: those digits. */
-    int x = (int)floor(log10(a));
+    int x = decimal_exponent(a);
     uint64_t m = 0, lo = (uint64_t)powers_of_ten[prec - 1], hi = lo * 10;
     for (int tries = 0;; tries++) {
         if (tries == 3 || !scaled_round(a, prec - 1 - x, &m))
             return snprintf(buf, n, "%.*g", prec, v);
         if (m < lo)
-            x--; /* log10 rounded up past a power of ten */
+            x--; /* not reached with decimal_exponent, which is never above */
         else if (m > hi)
-            x++;
+            x++; /* decimal_exponent was one below */
         else
             break;
     }
@@ -212,29 +250,41 @@ int arrank_format_general(char *buf, size_t n, int prec, double v)
     char *s = buf;
     if (v < 0.0)
         *s++ = '-';
-    char *start = s;
     if (x < -4 || x >= prec) { /* %e style: d.ddd then e+XX */
-        char digits[24];
-        int k = put_digits(digits, m, prec);
-        *s++ = digits[0];
-        if (k > 1) {
+        char digits[24], *dend = digits + sizeof digits;
+        const char *d = arrank_digits_before(dend, m, prec), *last = dend;
+        while (last > d + 1 && last[-1] == '0')
+            last--; /* %g drops trailing zeros of the fraction, and a point left alone */
+        *s++ = *d++;
+        if (d < last) {
             *s++ = '.';
-            memcpy(s, digits + 1, (size_t)(k - 1));
-            s += k - 1;
+            while (d < last)
+                *s++ = *d++;
         }
-        s = strip_zeros(start, s);
         *s++ = 'e';
         *s++ = x < 0 ? '-' : '+';
-        s += put_digits(s, (uint64_t)(x < 0 ? -x : x), 2);
+        char ex[8], *eend = ex + sizeof ex;
+        const char *e = arrank_digits_before(eend, (uint64_t)(x < 0 ? -x : x), 2);
+        while (e < eend)
+            *s++ = *e++;
     } else { /* %f style with prec - 1 - x decimals */
         int decimals = prec - 1 - x;
-        uint64_t unit = (uint64_t)powers_of_ten[decimals];
-        s += put_digits(s, m / unit, 1);
+        char digits[24], *dend = digits + sizeof digits;
+        const char *d = arrank_digits_before(dend, m, decimals + 1);
+        const char *point = dend - decimals;
+        while (d < point)
+            *s++ = *d++;
         if (decimals > 0) {
-            *s++ = '.';
-            s += put_digits(s, m % unit, decimals);
+            /* the fraction without its trailing zeros; no point when none is left */
+            const char *last = dend;
+            while (last > point && last[-1] == '0')
+                last--;
+            if (last > point) {
+                *s++ = '.';
+                while (d < last)
+                    *s++ = *d++;
+            }
         }
-        s = strip_zeros(start, s);
     }
     *s = '\0';
     return (int)(s - buf);

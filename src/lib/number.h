@@ -1,11 +1,12 @@
 /*
- * number.h - a fast, exact path for reading plain decimal numbers, inside
- * libarrank only.  See number.c.
+ * number.h - fast, exact paths for reading and writing plain decimal
+ * numbers, inside libarrank only.  See number.c.
  */
 #ifndef ARRANK_NUMBER_H
 #define ARRANK_NUMBER_H
 
 #include <stddef.h>
+#include <stdint.h>
 
 /*
  * If the whole of text is a plain decimal number - [+-]digits[.digits]
@@ -26,5 +27,12 @@ int arrank_decimal_fast(const char *text, double *value);
  */
 int arrank_format_fixed(char *buf, size_t n, int prec, double v);
 int arrank_format_general(char *buf, size_t n, int prec, double v);
+
+/*
+ * The decimal digits of n, at least width of them (leading zeros), written so
+ * that they end just before `end`; returns where they start.  Writes at most
+ * max(20, width) bytes before end, no NUL.
+ */
+char *arrank_digits_before(char *end, uint64_t n, int width);
 
 #endif
