@@ -24,6 +24,7 @@
 
 #include <math.h>
 #include <pthread.h>
+#include <stdatomic.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -648,6 +649,118 @@ static int compare_double(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
+/*
+ * The pair set-up and the first sweep, which settles most pairs, are one pass
+ * over the triangle, split into bands of rows that worker threads take from a
+ * shared counter (util.c).  The first sweep's levels depend only on the pairs
+ * with no variance at all (both se 0), which are counted before it; within a
+ * sweep every decision depends only on the pair and the sweep's two levels,
+ * so each worker decides its pairs alone, with its own copy of the cell
+ * quantiles (the same function of the same numbers), and the open pairs of
+ * each band are kept in row order.  The answer is the same on any number of
+ * workers; tests/test_rank.c runs 1, 2 and 5.  The later sweeps and the
+ * exact p-values touch only the open pairs (a few per cent), on one thread.
+ */
+
+/* A pair whose decision is still open: (i, j), i < j, its z and dof cell. */
+typedef struct {
+    double z;
+    uint16_t i, j;
+    unsigned char cell;
+} open_pair;
+
+_Static_assert(ARRANK_GROUP_MAX <= UINT16_MAX, "open_pair holds sample indices in 16 bits");
+
+/* pair (i, j), i < j, at its row-major upper-triangle position among G */
+static size_t pair_at(size_t G, size_t i, size_t j)
+{
+    return i * (2 * G - i - 1) / 2 + (j - i - 1);
+}
+
+/* Pairs per band of rows: enough work to be worth a trip to the shared counter. */
+#define BAND_PAIRS 2048
+/* Pairs below which the set-up stays on the calling thread (thread start costs
+   about as much as a few thousand pairs). */
+#define PAIRS_PER_WORKER 16384
+
+typedef struct {
+    size_t row0, row1;    /* rows [row0, row1) */
+    size_t n_open;        /* open pairs, written at opened[pair_at(G, row0, row0 + 1)] on */
+    size_t n_rej, n_keep; /* settled by the first sweep (pairs with variance only) */
+} pair_band;
+
+typedef struct {
+    const double *key, *s2, *q4; /* key, se^2 and se^4/dof (0 for infinite dof) of each sample */
+    size_t G, m, n_bands;
+    double a_lo, a_hi;           /* the first sweep's levels */
+    const dof_cells *dc;
+    pair_band *band;
+    unsigned char *state;        /* [m] */
+    open_pair *opened;           /* [m]: each band writes its open pairs at its own place */
+    atomic_size_t next;
+} pair_job;
+
+/* One band: every pair's z and cell, and the first sweep's bounds on it (above). */
+static void pair_band_run(pair_job *pj, pair_band *b, double *crit_rej, double *crit_keep)
+{
+    const size_t G = pj->G;
+    const double *key = pj->key, *s2 = pj->s2, *q4 = pj->q4;
+    open_pair *out = pj->opened + pair_at(G, b->row0, b->row0 + 1);
+    size_t n_open = 0, n_rej = 0, n_keep = 0;
+    for (size_t i = b->row0; i < b->row1; i++) {
+        unsigned char *st = pj->state + pair_at(G, i, i + 1); /* st[j - i - 1]: pair (i, j) */
+        for (size_t j = i + 1; j < G; j++) {
+            const double v = s2[i] + s2[j];
+            const double d = fabs(key[i] - key[j]);
+            if (!(v > 0)) { /* pair_p's exact answers without a CDF, counted beforehand */
+                st[j - i - 1] = d > 0 ? PAIR_REJECTED : PAIR_KEPT;
+                continue;
+            }
+            const double z = d / sqrt(v);
+            /* welch_dof: den is (0 + q_i) + q_j there, 0 + q = q exactly */
+            const double den = q4[i] + q4[j];
+            const unsigned c = cell_of(den > 0 ? v * v / den : INFINITY);
+            /* k_lo < m holds for any pair still open, so the bound applies */
+            if (crit_rej[c] < 0)
+                crit_rej[c] = two_sided_crit(pj->a_lo, pj->dc->lo[c]) * (1.0 + Z_MARGIN);
+            if (z >= crit_rej[c]) {
+                st[j - i - 1] = PAIR_REJECTED;
+                n_rej++;
+                continue;
+            }
+            if (pj->a_hi < 1) {
+                if (crit_keep[c] < 0)
+                    crit_keep[c] = two_sided_crit(pj->a_hi, pj->dc->hi[c]) * (1.0 - Z_MARGIN);
+                if (z < crit_keep[c]) {
+                    st[j - i - 1] = PAIR_KEPT;
+                    n_keep++;
+                    continue;
+                }
+            }
+            st[j - i - 1] = PAIR_OPEN;
+            out[n_open++] = (open_pair){z, (uint16_t)i, (uint16_t)j, (unsigned char)c};
+        }
+    }
+    b->n_open = n_open;
+    b->n_rej = n_rej;
+    b->n_keep = n_keep;
+}
+
+static void pair_worker(void *ctx, size_t worker)
+{
+    (void)worker;
+    pair_job *pj = ctx;
+    double crit_rej[N_CELLS], crit_keep[N_CELLS];
+    for (size_t c = 0; c < N_CELLS; c++)
+        crit_rej[c] = crit_keep[c] = -1.0;
+    for (;;) {
+        const size_t k = atomic_fetch_add(&pj->next, 1);
+        if (k >= pj->n_bands)
+            break;
+        pair_band_run(pj, &pj->band[k], crit_rej, crit_keep);
+    }
+}
+
 arrank_status arrank_rank_groups(const double *key, const double *key_se, const double *dof,
                                  size_t n, double alpha, int *group, size_t *n_tests,
                                  arrank_error *err)
@@ -667,47 +780,66 @@ arrank_status arrank_rank_groups(const double *key, const double *key_se, const 
         if (isnan(key[i]) || isnan(key_se[i]) || isnan(dof[i]) || !(dof[i] > 0))
             return arrank_errorf(err, ARRANK_EINVAL, "sample %zu has no usable key, standard "
                                                      "error or dof for the group tests", i + 1);
-    double *p = malloc((m ? m : 1) * sizeof *p);
-    double *z = malloc((m ? m : 1) * sizeof *z);
-    size_t *open = malloc((m ? m : 1) * sizeof *open);
-    unsigned char *state = calloc(m ? m : 1, 1);
-    unsigned char *cell = malloc(m ? m : 1);
-    if (!p || !z || !open || !state || !cell) {
-        free(p);
-        free(z);
-        free(open);
+    double *sample = malloc(2 * G * sizeof *sample);
+    pair_band *band = malloc(G * sizeof *band);
+    unsigned char *state = malloc(m ? m : 1);
+    /* untouched pages cost nothing: only the open pairs' share of this is written */
+    open_pair *opened = malloc((m ? m : 1) * sizeof *opened);
+    if (!sample || !band || !state || !opened) {
+        free(sample);
+        free(band);
         free(state);
-        free(cell);
+        free(opened);
         return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu pairwise tests", m);
     }
+    /* per sample, the terms of v = se_i^2 + se_j^2 and of welch_dof's denominator,
+       each rounded as welch_dof rounds it */
+    double *s2 = sample, *q4 = sample + G;
+    size_t k_lo = 0, k_hi = m;
+    for (size_t i = 0; i < G; i++) {
+        const double si = key_se[i];
+        s2[i] = si * si;
+        q4[i] = isfinite(dof[i]) ? si * si * si * si / dof[i] : 0.0;
+    }
+    /* the pairs with no variance (both se^2 0) are settled before the first sweep */
+    for (size_t i = 0; i < G; i++)
+        if (!(s2[i] > 0))
+            for (size_t j = i + 1; j < G; j++)
+                if (!(s2[i] + s2[j] > 0)) {
+                    if (fabs(key[i] - key[j]) > 0)
+                        k_lo++;
+                    else
+                        k_hi--;
+                }
     dof_cells dc;
     cells_init(&dc);
-    /* pair (i, j), i < j, at row-major upper-triangle position */
-#define PAIR(i, j) ((i) * (2 * G - (i)-1) / 2 + ((j) - (i)-1))
-    size_t k_lo = 0, k_hi = m, n_open = 0;
-    for (size_t i = 0; i < G; i++)
-        for (size_t j = i + 1; j < G; j++) {
-            const size_t h = PAIR(i, j);
-            const double v = key_se[i] * key_se[i] + key_se[j] * key_se[j];
-            const double d = fabs(key[i] - key[j]);
-            if (!(v > 0)) {
-                /* pair_p's exact answers without a CDF: 0 or 1 */
-                z[h] = d > 0 ? INFINITY : 0.0;
-                p[h] = d > 0 ? 0.0 : 1.0;
-                state[h] = d > 0 ? PAIR_REJECTED : PAIR_KEPT;
-                if (d > 0)
-                    k_lo++;
-                else
-                    k_hi--;
-                continue;
-            }
-            z[h] = d / sqrt(v);
-            cell[h] = cell_of(welch_dof(key_se[i], dof[i], key_se[j], dof[j]));
-            open[n_open++] = h;
-        }
+    pair_job pj = {.key = key, .s2 = s2, .q4 = q4, .G = G, .m = m, .dc = &dc, .band = band,
+                   .state = state, .opened = opened,
+                   .a_lo = alpha / (double)(m - k_lo), .a_hi = alpha / (double)(m - k_hi + 1)};
+    for (size_t i = 0; i + 1 < G;) {
+        pair_band *b = &band[pj.n_bands++];
+        b->row0 = i;
+        for (size_t pairs = 0; i + 1 < G && pairs < BAND_PAIRS; i++)
+            pairs += G - 1 - i;
+        b->row1 = i;
+    }
+    atomic_init(&pj.next, 0);
+    arrank_workers_run(arrank_workers_for(m, PAIRS_PER_WORKER), pair_worker, &pj);
+    /* the open pairs together, in row order; the first sweep's decisions counted */
+    size_t n_open = 0;
+    int changed = 0;
+    for (size_t k = 0; k < pj.n_bands; k++) {
+        const pair_band *b = &band[k];
+        memmove(opened + n_open, opened + pair_at(G, b->row0, b->row0 + 1),
+                b->n_open * sizeof *opened);
+        n_open += b->n_open;
+        k_lo += b->n_rej;
+        k_hi -= b->n_keep;
+        changed |= b->n_rej + b->n_keep > 0;
+    }
     /* sweep with bounds on p until nothing more settles; crit < 0: not yet computed */
     double crit_rej[N_CELLS], crit_keep[N_CELLS];
-    for (int changed = n_open > 0; changed;) {
+    while (changed && n_open > 0) {
         changed = 0;
         const double a_lo = alpha / (double)(m - k_lo);
         const double a_hi = alpha / (double)(m - k_hi + 1);
@@ -715,13 +847,14 @@ arrank_status arrank_rank_groups(const double *key, const double *key_se, const 
             crit_rej[c] = crit_keep[c] = -1.0;
         size_t still = 0;
         for (size_t q = 0; q < n_open; q++) {
-            const size_t h = open[q];
-            const unsigned c = cell[h];
+            const open_pair *o = &opened[q];
+            const unsigned c = o->cell;
+            unsigned char *st = &state[pair_at(G, o->i, o->j)];
             if (k_lo < m) {
                 if (crit_rej[c] < 0)
                     crit_rej[c] = two_sided_crit(a_lo, dc.lo[c]) * (1.0 + Z_MARGIN);
-                if (z[h] >= crit_rej[c]) {
-                    state[h] = PAIR_REJECTED;
+                if (o->z >= crit_rej[c]) {
+                    *st = PAIR_REJECTED;
                     k_lo++;
                     changed = 1;
                     continue;
@@ -730,75 +863,83 @@ arrank_status arrank_rank_groups(const double *key, const double *key_se, const 
             if (a_hi < 1) {
                 if (crit_keep[c] < 0)
                     crit_keep[c] = two_sided_crit(a_hi, dc.hi[c]) * (1.0 - Z_MARGIN);
-                if (z[h] < crit_keep[c]) {
-                    state[h] = PAIR_KEPT;
+                if (o->z < crit_keep[c]) {
+                    *st = PAIR_KEPT;
                     k_hi--;
                     changed = 1;
                     continue;
                 }
             }
-            open[still++] = h;
+            opened[still++] = *o;
         }
         n_open = still;
     }
-    /* the pairs near the boundary: exact p, then the same two tests on it */
-    if (n_open > 0)
-        for (size_t i = 0; i < G; i++)
-            for (size_t j = i + 1; j < G; j++) {
-                const size_t h = PAIR(i, j);
-                if (state[h] == PAIR_OPEN)
-                    p[h] = pair_p(key[i], key_se[i], dof[i], key[j], key_se[j], dof[j]);
-            }
-    for (int changed = n_open > 0; changed;) {
+    /* the pairs near the boundary: exact p, then the same two tests on it; z is
+       not needed any more and holds p from here on */
+    for (size_t q = 0; q < n_open; q++) {
+        open_pair *o = &opened[q];
+        o->z = pair_p(key[o->i], key_se[o->i], dof[o->i], key[o->j], key_se[o->j], dof[o->j]);
+    }
+    for (changed = n_open > 0; changed;) {
         changed = 0;
         size_t still = 0;
         for (size_t q = 0; q < n_open; q++) {
-            const size_t h = open[q];
+            const open_pair *o = &opened[q];
+            const double p = o->z;
+            unsigned char *st = &state[pair_at(G, o->i, o->j)];
             /* (m - k) p at any position k >= k_lo is at most (m - k_lo) p */
-            if ((double)(m - k_lo) * p[h] <= alpha) {
-                state[h] = PAIR_REJECTED;
+            if ((double)(m - k_lo) * p <= alpha) {
+                *st = PAIR_REJECTED;
                 k_lo++;
                 changed = 1;
-            } else if ((double)(m - k_hi + 1) * p[h] > alpha) {
-                state[h] = PAIR_KEPT;
+            } else if ((double)(m - k_hi + 1) * p > alpha) {
+                *st = PAIR_KEPT;
                 k_hi--;
                 changed = 1;
             } else {
-                open[still++] = h;
+                opened[still++] = *o;
             }
         }
         n_open = still;
     }
     /* step-down over what is left: settled rejections come first, in order */
     double p_stop = INFINITY; /* open pairs with p below this are rejected */
+    double *sorted = malloc((n_open ? n_open : 1) * sizeof *sorted);
+    if (!sorted) {
+        free(sample);
+        free(band);
+        free(state);
+        free(opened);
+        return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu pairwise tests", m);
+    }
     for (size_t q = 0; q < n_open; q++)
-        z[q] = p[open[q]];
-    qsort(z, n_open, sizeof *z, compare_double);
+        sorted[q] = opened[q].z;
+    qsort(sorted, n_open, sizeof *sorted, compare_double);
     for (size_t t = 0; t < n_open; t++) {
-        double v = (double)(m - (k_lo + t)) * z[t];
+        double v = (double)(m - (k_lo + t)) * sorted[t];
         if (v > alpha) {
-            p_stop = z[t];
+            p_stop = sorted[t];
             break;
         }
     }
+    for (size_t q = 0; q < n_open; q++)
+        state[pair_at(G, opened[q].i, opened[q].j)] =
+            opened[q].z < p_stop ? PAIR_REJECTED : PAIR_KEPT;
     int g = 1;
     size_t leader = 0;
     group[0] = 1;
     for (size_t k = 1; k < G; k++) {
-        const size_t h = PAIR(leader, k);
-        const int rejected = state[h] == PAIR_REJECTED || (state[h] == PAIR_OPEN && p[h] < p_stop);
-        if (rejected) {
+        if (state[pair_at(G, leader, k)] == PAIR_REJECTED) {
             g++;
             leader = k;
         }
         group[k] = g;
     }
-#undef PAIR
-    free(p);
-    free(z);
-    free(open);
+    free(sorted);
+    free(sample);
+    free(band);
     free(state);
-    free(cell);
+    free(opened);
     return ARRANK_OK;
 }
 
