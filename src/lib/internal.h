@@ -64,6 +64,12 @@ void arrank_campaign_plain_lines(int on);
 
 /* ---- rank.c: ranking statistics and extra models (rank.h, models.h) ---- */
 
+/* 0 (the default): the Monte Carlo counts the pairwise wins of the top a row
+   at a time with vector compares; 1: pair by pair in plain C, as before, to
+   compare the two (the counts are integers and must be equal).  For tests
+   only; not thread-safe. */
+void arrank_rank_pairs_reference(int on);
+
 /* For options.model == EYRING: refuse a campaign whose rates are not
    turnover frequencies (EINVAL) and give the factor from the report unit to
    1/s.  1 otherwise.  EUNIT when the unit cannot be read. */
