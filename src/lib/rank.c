@@ -175,15 +175,124 @@ typedef struct {
     size_t index; /* place in rank order */
 } cand_draw;
 
-/* The key drawn directly: Bailey's polar method, or a ziggurat normal. */
-static double direct_key(gsl_rng *rng, const cand_draw *k)
+/*
+ * The uniforms.  GSL's taus2 is L'Ecuyer's maximally equidistributed
+ * three-component Tausworthe generator (L'Ecuyer, Math. Comp. 65:203, 1996;
+ * GSL reference manual, "Random number generator algorithms"), returning
+ * s1 ^ s2 ^ s3 scaled by 2^-32; the shifts and masks below are GSL's (its
+ * rng/taus.c, from memory, and proved against GSL's own output by
+ * tests/test_rank.c, test_pbest_uniforms).  GSL draws each uniform through two
+ * pointers and a call; the draws here need 2.5 of them per key, so a stream
+ * seeds its generator with GSL (gsl_rng_set, whose seeding is GSL's own), copies
+ * the three words of its state (gsl_rng_state) and steps them in line.  The
+ * copy is used only when GSL's state is three unsigned longs and a clone of
+ * the generator gives the same first numbers through GSL as the copy does
+ * here; otherwise, for normal draws (GSL's ziggurat takes the generator) and
+ * for the test that compares the two (arrank_rank_rng_reference), every
+ * uniform goes through GSL.  The numbers are the same either way.
+ */
+typedef struct {
+    unsigned long s1, s2, s3; /* the state, when gsl is NULL */
+    gsl_rng *gsl;             /* non-NULL: every uniform from GSL */
+} uniforms;
+
+#define TAUS_MASK 0xffffffffUL
+/* One step of a component of the combined generator (L'Ecuyer 1996): x's
+   bits shifted by a, folded in and shifted by b, and x masked by c shifted by d,
+   all in 32 bits. */
+#define TAUS_STEP(x, a, b, c, d) \
+    ((((x) & (c)) << (d)) & TAUS_MASK) ^ (((((x) << (a)) & TAUS_MASK) ^ (x)) >> (b))
+
+static inline unsigned long taus_next(uniforms *g)
+{
+    g->s1 = TAUS_STEP(g->s1, 13, 19, 4294967294UL, 12);
+    g->s2 = TAUS_STEP(g->s2, 2, 25, 4294967288UL, 4);
+    g->s3 = TAUS_STEP(g->s3, 3, 11, 4294967280UL, 17);
+    return g->s1 ^ g->s2 ^ g->s3;
+}
+
+/* gsl_rng_uniform: [0, 1) */
+static inline double uniform(uniforms *g)
+{
+    if (g->gsl)
+        return gsl_rng_uniform(g->gsl);
+    return (double)taus_next(g) / 4294967296.0;
+}
+
+/* gsl_rng_uniform_pos: (0, 1), by skipping 0 as GSL does */
+static inline double uniform_pos(uniforms *g)
+{
+    double x;
+    do
+        x = uniform(g);
+    while (x == 0);
+    return x;
+}
+
+/* Take rng's taus2 state into g when it is the layout stepped here (above);
+   g->gsl = rng otherwise.  rng itself is left where it was. */
+static void uniforms_take(uniforms *g, gsl_rng *rng, int in_line)
+{
+    enum { PROBE = 8 };
+    memset(g, 0, sizeof *g);
+    g->gsl = rng;
+    if (!in_line || gsl_rng_size(rng) != 3 * sizeof(unsigned long))
+        return;
+    uniforms copy = {0, 0, 0, NULL};
+    memcpy(&copy.s1, (const unsigned char *)gsl_rng_state(rng), sizeof copy.s1);
+    memcpy(&copy.s2, (const unsigned char *)gsl_rng_state(rng) + sizeof copy.s1, sizeof copy.s2);
+    memcpy(&copy.s3, (const unsigned char *)gsl_rng_state(rng) + 2 * sizeof copy.s1,
+           sizeof copy.s3);
+    gsl_rng *probe = gsl_rng_clone(rng);
+    if (!probe)
+        return;
+    uniforms trial = copy;
+    int same = gsl_rng_max(probe) == TAUS_MASK && gsl_rng_min(probe) == 0;
+    for (int i = 0; same && i < PROBE; i++)
+        same = gsl_rng_get(probe) == taus_next(&trial);
+    gsl_rng_free(probe);
+    if (same)
+        *g = copy;
+}
+
+static int rng_reference = 0; /* 1: every uniform through GSL (arrank_rank_rng_reference) */
+
+void arrank_rank_rng_reference(int on)
+{
+    rng_reference = on;
+}
+
+int arrank_rank_uniforms(unsigned long seed, int in_line, double *out, size_t n)
+{
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_taus2);
+    if (!rng)
+        return -1;
+    gsl_rng_set(rng, seed);
+    uniforms g;
+    uniforms_take(&g, rng, in_line);
+    for (size_t i = 0; i < n; i++)
+        out[i] = uniform(&g);
+    const int stepped = g.gsl == NULL;
+    gsl_rng_free(rng);
+    return stepped;
+}
+
+/* The key drawn directly: Bailey's polar method, or a ziggurat normal (GSL's
+   generator: normal draws never take the copy, above).  In line in the draw
+   loop, so that the generator's state stays in registers. */
+#if defined(__GNUC__)
+#define ALWAYS_INLINE inline __attribute__((always_inline))
+#else
+#define ALWAYS_INLINE inline
+#endif
+static ALWAYS_INLINE double direct_key(uniforms *g, const cand_draw *k)
 {
     if (!isfinite(k->dof))
-        return k->mean + k->se * gsl_ran_gaussian_ziggurat(rng, 1.0);
+        return k->mean + k->se * gsl_ran_gaussian_ziggurat(g->gsl, 1.0);
     double u, w;
     do {
-        u = 2.0 * gsl_rng_uniform(rng) - 1.0;
-        const double v = 2.0 * gsl_rng_uniform(rng) - 1.0;
+        u = 2.0 * uniform(g) - 1.0;
+        const double v = 2.0 * uniform(g) - 1.0;
         w = u * u + v * v;
     } while (!(w <= 1.0 && w > 0.0));
     return k->mean + k->se * u * sqrt(radius2(w, k->dof, k->two_over_dof) / w);
@@ -211,6 +320,7 @@ typedef struct {
     int64_t *wins;     /* [n_top * n_pad]: row i, column j counts draws with key i > key j */
     double *top_key;   /* [n_pad], NAN beyond n_top (never greater, never less) */
     int pairs_by_pair; /* arrank_rank_pairs_reference */
+    int in_line;       /* 1: uniforms stepped in line (every key a t, no reference switch) */
     int failed;
 } mc_stream;
 
@@ -286,13 +396,15 @@ static void *mc_run(void *arg)
         return NULL;
     }
     gsl_rng_set(rng, m->seed);
+    uniforms g;
+    uniforms_take(&g, rng, m->in_line);
     const size_t n_top = m->n_top;
     for (size_t d = 0; d < m->draws; d++) {
         double best_key = -INFINITY;
         size_t arg_best = SIZE_MAX;
         for (size_t c = 0; c < m->n_head; c++) {
             const cand_draw *k = &m->head[c];
-            const double key = direct_key(rng, k);
+            const double key = direct_key(&g, k);
             if (k->index < n_top)
                 m->top_key[k->index] = key;
             offer(key, k->index, &best_key, &arg_best);
@@ -302,7 +414,7 @@ static void *mc_run(void *arg)
             double target = 0;
             for (size_t lo = 0; lo < m->n_tail;) {
                 /* the next tail sample whose W falls below its w: first h[j] >= target */
-                target += -log(gsl_rng_uniform_pos(rng));
+                target += -log(uniform_pos(&g));
                 size_t hi = m->n_tail;
                 while (lo < hi) {
                     const size_t mid = lo + (hi - lo) / 2;
@@ -314,16 +426,16 @@ static void *mc_run(void *arg)
                 if (lo == m->n_tail)
                     break;
                 const cand_draw *k = &m->tail[lo];
-                const double w = k->w * gsl_rng_uniform_pos(rng);
+                const double w = k->w * uniform_pos(&g);
                 const double t = sqrt(radius2(w, k->dof, k->two_over_dof)) *
-                                 cos(TWO_PI * gsl_rng_uniform(rng));
+                                 cos(TWO_PI * uniform(&g));
                 offer(k->mean + k->se * t, k->index, &best_key, &arg_best);
                 target = h[lo];
                 lo++;
             }
         } else {
             for (size_t c = 0; c < m->n_tail; c++)
-                offer(direct_key(rng, &m->tail[c]), m->tail[c].index, &best_key, &arg_best);
+                offer(direct_key(&g, &m->tail[c]), m->tail[c].index, &best_key, &arg_best);
         }
         m->best[arg_best == SIZE_MAX ? 0 : arg_best]++;
         /* ties (two exactly known keys) count for neither side */
@@ -464,6 +576,12 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
             head[n_head++] = x;
         }
     }
+    /* GSL's ziggurat draws the normal keys from GSL's generator (the uniforms, above) */
+    int all_t = 1;
+    for (size_t c = 0; c < n_head; c++)
+        all_t &= isfinite(head[c].dof) != 0;
+    for (size_t c = 0; c < n_tail; c++)
+        all_t &= isfinite(tail[c].dof) != 0;
     mc_stream m[ARRANK_RANK_STREAMS];
     memset(m, 0, sizeof m);
     arrank_status st = ARRANK_OK;
@@ -479,6 +597,7 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
         m[c].seed = (unsigned long)(seed + c * STREAM_SEED_STEP);
         m[c].n_pad = (n_top + WIN_BLOCK - 1) / WIN_BLOCK * WIN_BLOCK;
         m[c].pairs_by_pair = pairs_reference;
+        m[c].in_line = !rng_reference && all_t;
         m[c].best = calloc(n, sizeof *m[c].best);
         m[c].wins = calloc(n_top * m[c].n_pad + 1, sizeof *m[c].wins);
         m[c].top_key = malloc((m[c].n_pad + 1) * sizeof *m[c].top_key);
