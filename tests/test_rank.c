@@ -781,6 +781,17 @@ static void test_pbest_mc_paths(void **state)
     }
     /* the thinned far tail must have won somewhere, or it was not exercised */
     assert_true(thinned_cases >= 1);
+    /* no key ever above -inf (ln r of a zero rate): every draw goes to the first
+       sample in rank order, as a loop over the samples in order would give it */
+    arrank_arrhenius z[3];
+    const arrank_arrhenius *zf[3] = {&z[0], &z[1], &z[2]};
+    for (size_t i = 0; i < 3; i++)
+        z[i] = make_fit(T_op, -INFINITY, -8800.0, 0.02 * 0.02, 0, 1.7e4, 5);
+    double zb[3], zp[4];
+    assert_int_equal(arrank_rank_pbest(zf, 3, ARRANK_BY_RATE, T_op, 1001, 3, 0, 2, zb, zp, NULL),
+                     ARRANK_OK);
+    assert_true(zb[0] == 1.0 && zb[1] == 0.0 && zb[2] == 0.0);
+    assert_true(zp[1] == 0.0 && zp[2] == 0.0); /* -inf against -inf: a tie every time */
 }
 
 /* ---- Holm and groups ------------------------------------------------------ */
