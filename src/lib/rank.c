@@ -835,8 +835,10 @@ static int compare_double(const void *a, const void *b)
  * so each worker decides its pairs alone, with its own copy of the cell
  * quantiles (the same function of the same numbers), and the open pairs of
  * each band are kept in row order.  The answer is the same on any number of
- * workers; tests/test_rank.c runs 1, 2 and 5.  The later sweeps and the
- * exact p-values touch only the open pairs (a few per cent), on one thread.
+ * workers; tests/test_rank.c runs 1, 2 and 5.  The later sweeps touch only
+ * the pairs the first left open (a fifth on the bench campaign), on one
+ * thread; the exact p-values of the few still open after them (about 1 %)
+ * go to the workers again, each p to its own pair.
  */
 
 /* A pair whose decision is still open: (i, j), i < j, its z and dof cell. */
