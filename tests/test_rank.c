@@ -636,6 +636,164 @@ static void test_pbest_contenders(void **state)
     free(f);
 }
 
+/*
+ * The Monte Carlo's uniforms, stepped in line from the state GSL seeded
+ * (rank.c), against GSL's own taus2 (gsl_rng_uniform, drawn here): the same
+ * doubles, bit for bit, for seeds at the edges (0 is GSL's 1; 2^32 - 1 and
+ * above, where GSL's seeding wraps) and the stream seeds of rank.c.  The
+ * counts of P(best) hardly move under a perturbation of 1e-10 in a uniform,
+ * so they alone could not show a wrong generator: this test can.
+ */
+static void test_pbest_uniforms(void **state)
+{
+    (void)state;
+    enum { N = 20000 };
+    const unsigned long seeds[] = {0, 1, 2, 31, 20240611, 4294967295ul, 4294967296ul,
+                                   (unsigned long)(1 + 0x9E3779B97F4A7C15ull),
+                                   (unsigned long)(7 + 0x9E3779B97F4A7C15ull), ~0ul};
+    double *got = malloc(N * sizeof *got), *ref = malloc(N * sizeof *ref);
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_taus2);
+    assert_true(got && ref && rng);
+    for (size_t c = 0; c < sizeof seeds / sizeof seeds[0]; c++) {
+        gsl_rng_set(rng, seeds[c]);
+        for (size_t i = 0; i < N; i++)
+            ref[i] = gsl_rng_uniform(rng);
+        /* in line: this GSL's state must allow it, or the fast path is gone */
+        assert_int_equal(arrank_rank_uniforms(seeds[c], 1, got, N), 1);
+        assert_memory_equal(got, ref, N * sizeof *got);
+        assert_int_equal(arrank_rank_uniforms(seeds[c], 0, got, N), 0);
+        assert_memory_equal(got, ref, N * sizeof *got);
+    }
+    printf("# %d uniforms for each of %zu seeds, in line and through GSL: identical\n", N,
+           sizeof seeds / sizeof seeds[0]);
+    gsl_rng_free(rng);
+    free(got);
+    free(ref);
+}
+
+/*
+ * Two fast paths of the Monte Carlo (rank.c), each with its reference:
+ * the pairwise counts are kept a row at a time with vector compares
+ * (reference: pair by pair, arrank_rank_pairs_reference), and GSL's taus2
+ * generator is stepped in line from the state GSL seeded (reference: every
+ * uniform through GSL's calls, arrank_rank_rng_reference).  Counts are
+ * integers and the uniforms must be the same numbers, so all four
+ * combinations must give the same P(best) and P(i beats j), bit for bit: for
+ * tables whose size is and is not a multiple of the vector block, with t and
+ * normal draws (normal keys always take GSL's generator), with far-tail
+ * samples drawn by thinning (the generator's (0, 1) uniforms), and with
+ * exact ties: samples with no uncertainty in the key and equal means tie in
+ * every draw, and a tie counts for neither side (rank.h: P(i beats j) +
+ * P(j beats i) = 0 there).
+ */
+static void test_pbest_mc_paths(void **state)
+{
+    (void)state;
+    const struct {
+        size_t n, n_top, far; /* far: extra samples, dof 2, 30 to 60 se below */
+        int normal;
+        unsigned long seed;
+    } cases[] = {
+        {30, 1, 0, 0, 5113}, {30, 2, 0, 1, 2718}, {41, 7, 0, 0, 90211}, {64, 13, 0, 1, 4471},
+        {200, 20, 0, 0, 77}, {23, 23, 0, 0, 31337}, {9, 5, 0, 1, 8}, {12, 6, 400, 0, 1999},
+        {12, 3, 150, 0, 4000000007ul},
+    };
+    const double T_op = 503.7;
+    size_t thinned_cases = 0;
+    for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
+        const size_t n0 = cases[c].n, n = n0 + cases[c].far, P = cases[c].n_top;
+        arrank_arrhenius *f = realloc(spread_fits(n0, 1000 + c), n * sizeof *f);
+        const arrank_arrhenius **fits = malloc(n * sizeof *fits);
+        double *pb[4], *pp[4];
+        for (int r = 0; r < 4; r++) {
+            pb[r] = malloc(n * sizeof *pb[r]);
+            pp[r] = malloc(P * P * sizeof *pp[r]);
+            assert_true(pb[r] && pp[r]);
+        }
+        assert_true(f && fits);
+        /* samples 1, 2 (and 4) known exactly at T_op = T_ref: key b0, se 0, equal */
+        const size_t tied[3] = {1, 2, 4};
+        for (size_t t = 0; t < 3 && tied[t] < n0; t++) {
+            f[tied[t]].T_ref_K = T_op;
+            f[tied[t]].b0 = 0.0314;
+            f[tied[t]].cov[0][0] = f[tied[t]].cov[0][1] = f[tied[t]].cov[1][0] = 0.0;
+        }
+        /* far samples with heavy tails: candidates, but drawn by thinning */
+        uint64_t s = 0xFA5 + c;
+        double lowest = INFINITY;
+        for (size_t i = 0; i < n0; i++)
+            lowest = fmin(lowest, f[i].b0 + f[i].b1 * (1 / T_op - 1 / f[i].T_ref_K));
+        for (size_t i = n0; i < n; i++) {
+            const double sd = 0.011 + 0.02 * uniform01(&s);
+            f[i] = make_fit(T_op, lowest - sd * (30 + 30 * uniform01(&s)), -9100.0, sd * sd, 0,
+                            2.3e4, 2);
+        }
+        for (size_t i = 0; i < n; i++)
+            fits[i] = &f[i];
+        for (int r = 0; r < 4; r++) {
+            arrank_rank_pairs_reference(r & 1);
+            arrank_rank_rng_reference((r >> 1) & 1);
+            assert_int_equal(arrank_rank_pbest(fits, n, ARRANK_BY_RATE, T_op, 3001,
+                                               cases[c].seed, cases[c].normal, P, pb[r], pp[r],
+                                               NULL),
+                             ARRANK_OK);
+        }
+        arrank_rank_pairs_reference(0);
+        arrank_rank_rng_reference(0);
+        for (int r = 1; r < 4; r++) {
+            assert_memory_equal(pb[0], pb[r], n * sizeof *pb[0]);
+            assert_memory_equal(pp[0], pp[r], P * P * sizeof *pp[0]);
+        }
+        size_t contested = 0, ties = 0, far_wins = 0;
+        for (size_t i = n0; i < n; i++)
+            far_wins += pb[0][i] > 0;
+        thinned_cases += far_wins > 0;
+        for (size_t i = 0; i < P; i++)
+            for (size_t j = 0; j < P; j++) {
+                const double a = pp[0][i * P + j];
+                if (i == j) {
+                    assert_true(isnan(a));
+                    continue;
+                }
+                const int both_tied = (i == 1 || i == 2 || i == 4) && (j == 1 || j == 2 || j == 4);
+                const double sum = a + pp[0][j * P + i];
+                if (both_tied) {
+                    assert_true(sum == 0.0);
+                    ties++;
+                } else {
+                    assert_true(fabs(sum - 1.0) < 1e-12);
+                    contested += a > 0.0 && a < 1.0;
+                }
+            }
+        printf("# %zu samples, pairs %zu, %s: %zu contested, %zu tied entries, %zu far winners;"
+               " four paths identical\n", n, P, cases[c].normal ? "normal" : "t", contested, ties,
+               far_wins);
+        if (P >= 5)
+            assert_int_equal(ties, 6);
+        if (P >= 7)
+            assert_true(contested > 0);
+        for (int r = 0; r < 4; r++) {
+            free(pb[r]);
+            free(pp[r]);
+        }
+        free(fits);
+        free(f);
+    }
+    /* the thinned far tail must have won somewhere, or it was not exercised */
+    assert_true(thinned_cases >= 1);
+    /* no key ever above -inf (ln r of a zero rate): every draw goes to the first
+       sample in rank order, as a loop over the samples in order would give it */
+    arrank_arrhenius z[3];
+    const arrank_arrhenius *zf[3] = {&z[0], &z[1], &z[2]};
+    for (size_t i = 0; i < 3; i++)
+        z[i] = make_fit(T_op, -INFINITY, -8800.0, 0.02 * 0.02, 0, 1.7e4, 5);
+    double zb[3], zp[4];
+    assert_int_equal(arrank_rank_pbest(zf, 3, ARRANK_BY_RATE, T_op, 1001, 3, 0, 2, zb, zp, NULL),
+                     ARRANK_OK);
+    assert_true(zb[0] == 1.0 && zb[1] == 0.0 && zb[2] == 0.0);
+    assert_true(zp[1] == 0.0 && zp[2] == 0.0); /* -inf against -inf: a tie every time */
+}
+
 /* ---- Holm and groups ------------------------------------------------------ */
 
 static void test_holm_by_hand(void **state)
@@ -867,6 +1025,90 @@ static void test_groups_exact_holm(void **state)
     printf("# %zu boundary probes\n", boundary_probes);
     assert_true(groups_seen > 50);
     assert_true(boundary_probes >= 8);
+}
+
+/*
+ * The pair set-up, the first sweep and the exact p-values run on worker
+ * threads (rank.c); the groups must not depend on how many.  Forced to 1, 2
+ * and 5 workers (arrank_workers_force; forced workers take part wherever
+ * there is work, even a few open pairs), on campaigns made as above and on
+ * Holm's boundary, the groups and n_tests must be identical and equal to the
+ * reference by the definition.
+ */
+static void test_groups_workers(void **state)
+{
+    (void)state;
+    const struct {
+        size_t n;
+        double step_se, alpha;
+        uint64_t seed;
+    } cases[] = {
+        {ARRANK_GROUP_MAX, 0.12, 0.05, 0xA11CE}, {ARRANK_GROUP_MAX + 75, 0.6, 0.01, 0x5EED5},
+        {333, 0.25, 0.10, 0xD1CE}, {17, 0.9, 0.05, 0x17}, {2, 3.1, 0.05, 0x2},
+    };
+    const double dofs[] = {2, 3, 4, 6, 9, 13, 21, 55, INFINITY};
+    const size_t workers[3] = {1, 2, 5};
+    size_t probes = 0;
+    for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
+        const size_t n = cases[c].n;
+        double *key = malloc(n * sizeof *key), *se = malloc(n * sizeof *se);
+        double *dof = malloc(n * sizeof *dof);
+        int *g[3], *want = malloc(n * sizeof *want);
+        assert_true(key && se && dof && want);
+        for (int w = 0; w < 3; w++) {
+            g[w] = malloc(n * sizeof *g[w]);
+            assert_non_null(g[w]);
+        }
+        uint64_t s = cases[c].seed;
+        double k = 2.71;
+        for (size_t i = 0; i < n; i++) {
+            const double u = uniform01(&s);
+            se[i] = u < 0.04 ? 0.0 : 0.015 + 0.07 * uniform01(&s);
+            dof[i] = dofs[splitmix(&s) % (sizeof dofs / sizeof dofs[0])];
+            key[i] = k;
+            if (uniform01(&s) > 0.04) /* 4 % ties with the sample above */
+                k -= cases[c].step_se * 0.05 * -log(uniform01(&s));
+        }
+        double *adj = holm_reference(key, se, dof, n);
+        const size_t G = n < ARRANK_GROUP_MAX ? n : ARRANK_GROUP_MAX;
+        /* the case's level, then a hair either side of the adjusted p of the
+           first pair (0, j) with one in (1e-4, 0.3): that decision then hangs on
+           the exact p-values */
+        double alphas[3] = {cases[c].alpha, NAN, NAN};
+        for (size_t j = 1; j < G; j++)
+            if (adj[j - 1] > 1e-4 && adj[j - 1] < 0.3) {
+                alphas[1] = adj[j - 1] * (1 - 1e-9);
+                alphas[2] = adj[j - 1] * (1 + 1e-9);
+                break;
+            }
+        for (size_t a = 0; a < 3; a++) {
+            if (isnan(alphas[a]))
+                continue;
+            size_t m[3];
+            for (int w = 0; w < 3; w++) {
+                arrank_workers_force((int)workers[w]);
+                assert_int_equal(arrank_rank_groups(key, se, dof, n, alphas[a], g[w], &m[w], NULL),
+                                 ARRANK_OK);
+            }
+            arrank_workers_force(0);
+            groups_reference(adj, n, alphas[a], want);
+            for (int w = 0; w < 3; w++) {
+                assert_int_equal(m[w], G * (G - 1) / 2);
+                assert_memory_equal(g[w], want, n * sizeof *want);
+            }
+            printf("# %zu samples, alpha %.6g: %d groups on 1, 2 and 5 workers\n", n, alphas[a],
+                   want[G - 1]);
+            probes += a > 0;
+        }
+        free(adj);
+        free(key);
+        free(se);
+        free(dof);
+        free(want);
+        for (int w = 0; w < 3; w++)
+            free(g[w]);
+    }
+    assert_true(probes >= 4);
 }
 
 /* ---- compensation ------------------------------------------------------- */
@@ -1384,10 +1626,13 @@ int main(void)
         cmocka_unit_test(test_pbest_reproducible_and_pairs_capped),
         cmocka_unit_test(test_pbest_large),
         cmocka_unit_test(test_pbest_contenders),
+        cmocka_unit_test(test_pbest_uniforms),
+        cmocka_unit_test(test_pbest_mc_paths),
         cmocka_unit_test(test_holm_by_hand),
         cmocka_unit_test(test_groups),
         cmocka_unit_test(test_groups_capped),
         cmocka_unit_test(test_groups_exact_holm),
+        cmocka_unit_test(test_groups_workers),
         cmocka_unit_test(test_compensation_real),
         cmocka_unit_test(test_compensation_artifact),
         cmocka_unit_test(test_bootstrap_vs_delta),

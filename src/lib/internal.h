@@ -78,6 +78,24 @@ void arrank_campaign_plain_lines(int on);
 
 /* ---- rank.c: ranking statistics and extra models (rank.h, models.h) ---- */
 
+/* 0 (the default): the Monte Carlo counts the pairwise wins of the top a row
+   at a time with vector compares; 1: pair by pair in plain C, as before, to
+   compare the two (the counts are integers and must be equal).  For tests
+   only; not thread-safe. */
+void arrank_rank_pairs_reference(int on);
+
+/* 0 (the default): the Monte Carlo steps GSL's taus2 generator in line, from
+   the state GSL seeded, when every key is a t; 1: every uniform through GSL's
+   calls, as before, to compare the two (the numbers must be equal).  For
+   tests only; not thread-safe. */
+void arrank_rank_rng_reference(int on);
+
+/* Tests: out[n] gets the first n uniforms of the Monte Carlo's generator
+   seeded with seed, stepped in line (in_line 1) or through GSL (0).  Returns
+   1 when they were stepped in line (this GSL's state allows it), 0 when they
+   came through GSL, -1 when out of memory. */
+int arrank_rank_uniforms(unsigned long seed, int in_line, double *out, size_t n);
+
 /* For options.model == EYRING: refuse a campaign whose rates are not
    turnover frequencies (EINVAL) and give the factor from the report unit to
    1/s.  1 otherwise.  EUNIT when the unit cannot be read. */

@@ -24,6 +24,7 @@
 
 #include <math.h>
 #include <pthread.h>
+#include <stdatomic.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -174,15 +175,124 @@ typedef struct {
     size_t index; /* place in rank order */
 } cand_draw;
 
-/* The key drawn directly: Bailey's polar method, or a ziggurat normal. */
-static double direct_key(gsl_rng *rng, const cand_draw *k)
+/*
+ * The uniforms.  GSL's taus2 is L'Ecuyer's maximally equidistributed
+ * three-component Tausworthe generator (L'Ecuyer, Math. Comp. 65:203, 1996;
+ * GSL reference manual, "Random number generator algorithms"), returning
+ * s1 ^ s2 ^ s3 scaled by 2^-32; the shifts and masks below are GSL's (its
+ * rng/taus.c, from memory, and proved against GSL's own output by
+ * tests/test_rank.c, test_pbest_uniforms).  GSL draws each uniform through two
+ * pointers and a call; the draws here need 2.5 of them per key, so a stream
+ * seeds its generator with GSL (gsl_rng_set, whose seeding is GSL's own), copies
+ * the three words of its state (gsl_rng_state) and steps them in line.  The
+ * copy is used only when GSL's state is three unsigned longs and a clone of
+ * the generator gives the same first numbers through GSL as the copy does
+ * here; otherwise, for normal draws (GSL's ziggurat takes the generator) and
+ * for the test that compares the two (arrank_rank_rng_reference), every
+ * uniform goes through GSL.  The numbers are the same either way.
+ */
+typedef struct {
+    unsigned long s1, s2, s3; /* the state, when gsl is NULL */
+    gsl_rng *gsl;             /* non-NULL: every uniform from GSL */
+} uniforms;
+
+#define TAUS_MASK 0xffffffffUL
+/* One step of a component of the combined generator (L'Ecuyer 1996): x's
+   bits shifted by a, folded in and shifted by b, and x masked by c shifted by d,
+   all in 32 bits. */
+#define TAUS_STEP(x, a, b, c, d) \
+    ((((x) & (c)) << (d)) & TAUS_MASK) ^ (((((x) << (a)) & TAUS_MASK) ^ (x)) >> (b))
+
+static inline unsigned long taus_next(uniforms *g)
+{
+    g->s1 = TAUS_STEP(g->s1, 13, 19, 4294967294UL, 12);
+    g->s2 = TAUS_STEP(g->s2, 2, 25, 4294967288UL, 4);
+    g->s3 = TAUS_STEP(g->s3, 3, 11, 4294967280UL, 17);
+    return g->s1 ^ g->s2 ^ g->s3;
+}
+
+/* gsl_rng_uniform: [0, 1) */
+static inline double uniform(uniforms *g)
+{
+    if (g->gsl)
+        return gsl_rng_uniform(g->gsl);
+    return (double)taus_next(g) / 4294967296.0;
+}
+
+/* gsl_rng_uniform_pos: (0, 1), by skipping 0 as GSL does */
+static inline double uniform_pos(uniforms *g)
+{
+    double x;
+    do
+        x = uniform(g);
+    while (x == 0);
+    return x;
+}
+
+/* Take rng's taus2 state into g when it is the layout stepped here (above);
+   g->gsl = rng otherwise.  rng itself is left where it was. */
+static void uniforms_take(uniforms *g, gsl_rng *rng, int in_line)
+{
+    enum { PROBE = 8 };
+    memset(g, 0, sizeof *g);
+    g->gsl = rng;
+    if (!in_line || gsl_rng_size(rng) != 3 * sizeof(unsigned long))
+        return;
+    uniforms copy = {0, 0, 0, NULL};
+    memcpy(&copy.s1, (const unsigned char *)gsl_rng_state(rng), sizeof copy.s1);
+    memcpy(&copy.s2, (const unsigned char *)gsl_rng_state(rng) + sizeof copy.s1, sizeof copy.s2);
+    memcpy(&copy.s3, (const unsigned char *)gsl_rng_state(rng) + 2 * sizeof copy.s1,
+           sizeof copy.s3);
+    gsl_rng *probe = gsl_rng_clone(rng);
+    if (!probe)
+        return;
+    uniforms trial = copy;
+    int same = gsl_rng_max(probe) == TAUS_MASK && gsl_rng_min(probe) == 0;
+    for (int i = 0; same && i < PROBE; i++)
+        same = gsl_rng_get(probe) == taus_next(&trial);
+    gsl_rng_free(probe);
+    if (same)
+        *g = copy;
+}
+
+static int rng_reference = 0; /* 1: every uniform through GSL (arrank_rank_rng_reference) */
+
+void arrank_rank_rng_reference(int on)
+{
+    rng_reference = on;
+}
+
+int arrank_rank_uniforms(unsigned long seed, int in_line, double *out, size_t n)
+{
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_taus2);
+    if (!rng)
+        return -1;
+    gsl_rng_set(rng, seed);
+    uniforms g;
+    uniforms_take(&g, rng, in_line);
+    for (size_t i = 0; i < n; i++)
+        out[i] = uniform(&g);
+    const int stepped = g.gsl == NULL;
+    gsl_rng_free(rng);
+    return stepped;
+}
+
+/* The key drawn directly: Bailey's polar method, or a ziggurat normal (GSL's
+   generator: normal draws never take the copy, above).  In line in the draw
+   loop, so that the generator's state stays in registers. */
+#if defined(__GNUC__)
+#define ALWAYS_INLINE inline __attribute__((always_inline))
+#else
+#define ALWAYS_INLINE inline
+#endif
+static ALWAYS_INLINE double direct_key(uniforms *g, const cand_draw *k)
 {
     if (!isfinite(k->dof))
-        return k->mean + k->se * gsl_ran_gaussian_ziggurat(rng, 1.0);
+        return k->mean + k->se * gsl_ran_gaussian_ziggurat(g->gsl, 1.0);
     double u, w;
     do {
-        u = 2.0 * gsl_rng_uniform(rng) - 1.0;
-        const double v = 2.0 * gsl_rng_uniform(rng) - 1.0;
+        u = 2.0 * uniform(g) - 1.0;
+        const double v = 2.0 * uniform(g) - 1.0;
         w = u * u + v * v;
     } while (!(w <= 1.0 && w > 0.0));
     return k->mean + k->se * u * sqrt(radius2(w, k->dof, k->two_over_dof) / w);
@@ -203,13 +313,70 @@ typedef struct {
     const cand_draw *tail; /* [n_tail] in rank order: drawn by thinning */
     const double *hazard;  /* [n_tail] running sums of -ln(1 - w) */
     size_t n_head, n_tail, n_top, draws;
+    size_t n_pad;      /* n_top rounded up to WIN_BLOCK: the row length of wins */
     double skip_level;
     unsigned long seed;
-    size_t *best;     /* [n] */
-    size_t *beats;    /* [n_top * n_top] */
-    double *top_key;  /* [n_top] */
+    size_t *best;      /* [n] */
+    int64_t *wins;     /* [n_top * n_pad]: row i, column j counts draws with key i > key j */
+    double *top_key;   /* [n_pad], NAN beyond n_top (never greater, never less) */
+    int pairs_by_pair; /* arrank_rank_pairs_reference */
+    int in_line;       /* 1: uniforms stepped in line (every key a t, no reference switch) */
     int failed;
 } mc_stream;
+
+/*
+ * The pairwise counts of one draw.  Every ordered pair (i, j) of the top
+ * gets one compare, whole rows at a time, which the compiler's vector
+ * extension (GCC, Clang) does two doubles per instruction: a true compare is
+ * an all-ones lane, -1, so subtracting it counts the win.  Padding keys are
+ * NAN and the diagonal compares a key with itself: both add 0.  The plain
+ * loop (pair by pair, both directions, as the counts were first kept) stays
+ * for other compilers and for the test that compares the two
+ * (arrank_rank_pairs_reference); the counts are integers and equal.
+ */
+#define WIN_BLOCK 4
+static int pairs_reference = 0; /* 1: count pair by pair (arrank_rank_pairs_reference) */
+
+void arrank_rank_pairs_reference(int on)
+{
+    pairs_reference = on;
+}
+
+static void count_wins(const double *top_key, size_t n_top, size_t n_pad, int64_t *wins,
+                       int by_pair)
+{
+#if defined(__GNUC__)
+    typedef double v2d __attribute__((vector_size(16)));
+    typedef int64_t v2i __attribute__((vector_size(16)));
+    if (!by_pair) {
+        for (size_t i = 0; i < n_top; i++) {
+            const v2d a = {top_key[i], top_key[i]};
+            int64_t *row = wins + i * n_pad;
+            for (size_t j = 0; j < n_pad; j += WIN_BLOCK) {
+                v2d b0, b1;
+                v2i c0, c1;
+                /* memcpy: the loads and stores need no alignment */
+                memcpy(&b0, top_key + j, sizeof b0);
+                memcpy(&b1, top_key + j + 2, sizeof b1);
+                memcpy(&c0, row + j, sizeof c0);
+                memcpy(&c1, row + j + 2, sizeof c1);
+                c0 -= a > b0;
+                c1 -= a > b1;
+                memcpy(row + j, &c0, sizeof c0);
+                memcpy(row + j + 2, &c1, sizeof c1);
+            }
+        }
+        return;
+    }
+#endif
+    (void)by_pair;
+    for (size_t i = 0; i < n_top; i++)
+        for (size_t j = i + 1; j < n_top; j++) {
+            const double a = top_key[i], b = top_key[j];
+            wins[i * n_pad + j] += a > b;
+            wins[j * n_pad + i] += b > a;
+        }
+}
 
 /* The draw's best so far, ties to the earlier sample in rank order. */
 static void offer(double key, size_t index, double *best_key, size_t *arg_best)
@@ -229,13 +396,15 @@ static void *mc_run(void *arg)
         return NULL;
     }
     gsl_rng_set(rng, m->seed);
+    uniforms g;
+    uniforms_take(&g, rng, m->in_line);
     const size_t n_top = m->n_top;
     for (size_t d = 0; d < m->draws; d++) {
         double best_key = -INFINITY;
         size_t arg_best = SIZE_MAX;
         for (size_t c = 0; c < m->n_head; c++) {
             const cand_draw *k = &m->head[c];
-            const double key = direct_key(rng, k);
+            const double key = direct_key(&g, k);
             if (k->index < n_top)
                 m->top_key[k->index] = key;
             offer(key, k->index, &best_key, &arg_best);
@@ -245,7 +414,7 @@ static void *mc_run(void *arg)
             double target = 0;
             for (size_t lo = 0; lo < m->n_tail;) {
                 /* the next tail sample whose W falls below its w: first h[j] >= target */
-                target += -log(gsl_rng_uniform_pos(rng));
+                target += -log(uniform_pos(&g));
                 size_t hi = m->n_tail;
                 while (lo < hi) {
                     const size_t mid = lo + (hi - lo) / 2;
@@ -257,25 +426,20 @@ static void *mc_run(void *arg)
                 if (lo == m->n_tail)
                     break;
                 const cand_draw *k = &m->tail[lo];
-                const double w = k->w * gsl_rng_uniform_pos(rng);
+                const double w = k->w * uniform_pos(&g);
                 const double t = sqrt(radius2(w, k->dof, k->two_over_dof)) *
-                                 cos(TWO_PI * gsl_rng_uniform(rng));
+                                 cos(TWO_PI * uniform(&g));
                 offer(k->mean + k->se * t, k->index, &best_key, &arg_best);
                 target = h[lo];
                 lo++;
             }
         } else {
             for (size_t c = 0; c < m->n_tail; c++)
-                offer(direct_key(rng, &m->tail[c]), m->tail[c].index, &best_key, &arg_best);
+                offer(direct_key(&g, &m->tail[c]), m->tail[c].index, &best_key, &arg_best);
         }
         m->best[arg_best == SIZE_MAX ? 0 : arg_best]++;
         /* ties (two exactly known keys) count for neither side */
-        for (size_t i = 0; i < n_top; i++)
-            for (size_t j = i + 1; j < n_top; j++) {
-                const double a = m->top_key[i], b = m->top_key[j];
-                m->beats[i * n_top + j] += a > b;
-                m->beats[j * n_top + i] += b > a;
-            }
+        count_wins(m->top_key, n_top, m->n_pad, m->wins, m->pairs_by_pair);
     }
     gsl_rng_free(rng);
     return NULL;
@@ -412,6 +576,12 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
             head[n_head++] = x;
         }
     }
+    /* GSL's ziggurat draws the normal keys from GSL's generator (the uniforms, above) */
+    int all_t = 1;
+    for (size_t c = 0; c < n_head; c++)
+        all_t &= isfinite(head[c].dof) != 0;
+    for (size_t c = 0; c < n_tail; c++)
+        all_t &= isfinite(tail[c].dof) != 0;
     mc_stream m[ARRANK_RANK_STREAMS];
     memset(m, 0, sizeof m);
     arrank_status st = ARRANK_OK;
@@ -425,11 +595,18 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
         m[c].skip_level = skip_level;
         m[c].draws = draws / ARRANK_RANK_STREAMS + (c < draws % ARRANK_RANK_STREAMS);
         m[c].seed = (unsigned long)(seed + c * STREAM_SEED_STEP);
+        m[c].n_pad = (n_top + WIN_BLOCK - 1) / WIN_BLOCK * WIN_BLOCK;
+        m[c].pairs_by_pair = pairs_reference;
+        m[c].in_line = !rng_reference && all_t;
         m[c].best = calloc(n, sizeof *m[c].best);
-        m[c].beats = calloc(n_top * n_top + 1, sizeof *m[c].beats);
-        m[c].top_key = malloc((n_top + 1) * sizeof *m[c].top_key);
-        if (!m[c].best || !m[c].beats || !m[c].top_key)
+        m[c].wins = calloc(n_top * m[c].n_pad + 1, sizeof *m[c].wins);
+        m[c].top_key = malloc((m[c].n_pad + 1) * sizeof *m[c].top_key);
+        if (!m[c].best || !m[c].wins || !m[c].top_key) {
             st = arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu samples of draws", n);
+            continue;
+        }
+        for (size_t j = n_top; j < m[c].n_pad; j++)
+            m[c].top_key[j] = NAN;
     }
     if (st == ARRANK_OK) {
         pthread_t th[ARRANK_RANK_STREAMS];
@@ -455,16 +632,17 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
             p_best[i] = (double)b / (double)draws;
         }
         if (p_beats)
-            for (size_t i = 0; i < n_top * n_top; i++) {
-                size_t b = 0;
-                for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++)
-                    b += m[c].beats[i];
-                p_beats[i] = i / n_top == i % n_top ? NAN : (double)b / (double)draws;
-            }
+            for (size_t i = 0; i < n_top; i++)
+                for (size_t j = 0; j < n_top; j++) {
+                    size_t b = 0;
+                    for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++)
+                        b += (size_t)m[c].wins[i * m[c].n_pad + j];
+                    p_beats[i * n_top + j] = i == j ? NAN : (double)b / (double)draws;
+                }
     }
     for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++) {
         free(m[c].best);
-        free(m[c].beats);
+        free(m[c].wins);
         free(m[c].top_key);
     }
     free(cand);
@@ -648,6 +826,149 @@ static int compare_double(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
+/*
+ * The pair set-up and the first sweep, which settles most pairs, are one pass
+ * over the triangle, split into bands of rows that worker threads take from a
+ * shared counter (util.c).  The first sweep's levels depend only on the pairs
+ * with no variance at all (both se 0), which are counted before it; within a
+ * sweep every decision depends only on the pair and the sweep's two levels,
+ * so each worker decides its pairs alone, with its own copy of the cell
+ * quantiles (the same function of the same numbers), and the open pairs of
+ * each band are kept in row order.  The answer is the same on any number of
+ * workers; tests/test_rank.c runs 1, 2 and 5.  The later sweeps touch only
+ * the pairs the first left open (a fifth on the bench campaign), on one
+ * thread; the exact p-values of the few still open after them (about 1 %)
+ * go to the workers again, each p to its own pair.
+ */
+
+/* A pair whose decision is still open: (i, j), i < j, its z and dof cell. */
+typedef struct {
+    double z;
+    uint16_t i, j;
+    unsigned char cell;
+} open_pair;
+
+_Static_assert(ARRANK_GROUP_MAX <= UINT16_MAX, "open_pair holds sample indices in 16 bits");
+
+/* pair (i, j), i < j, at its row-major upper-triangle position among G */
+static size_t pair_at(size_t G, size_t i, size_t j)
+{
+    return i * (2 * G - i - 1) / 2 + (j - i - 1);
+}
+
+/* Pairs per band of rows: enough work to be worth a trip to the shared counter. */
+#define BAND_PAIRS 2048
+/* Pairs below which the set-up stays on the calling thread (thread start costs
+   about as much as a few thousand pairs). */
+#define PAIRS_PER_WORKER 16384
+
+typedef struct {
+    size_t row0, row1;    /* rows [row0, row1) */
+    size_t n_open;        /* open pairs, written at opened[pair_at(G, row0, row0 + 1)] on */
+    size_t n_rej, n_keep; /* settled by the first sweep (pairs with variance only) */
+} pair_band;
+
+typedef struct {
+    const double *key, *s2, *q4; /* key, se^2 and se^4/dof (0 for infinite dof) of each sample */
+    size_t G, m, n_bands;
+    double a_lo, a_hi;           /* the first sweep's levels */
+    const dof_cells *dc;
+    pair_band *band;
+    unsigned char *state;        /* [m] */
+    open_pair *opened;           /* [m]: each band writes its open pairs at its own place */
+    atomic_size_t next;
+} pair_job;
+
+/* One band: every pair's z and cell, and the first sweep's bounds on it (above). */
+static void pair_band_run(pair_job *pj, pair_band *b, double *crit_rej, double *crit_keep)
+{
+    const size_t G = pj->G;
+    const double *key = pj->key, *s2 = pj->s2, *q4 = pj->q4;
+    open_pair *out = pj->opened + pair_at(G, b->row0, b->row0 + 1);
+    size_t n_open = 0, n_rej = 0, n_keep = 0;
+    for (size_t i = b->row0; i < b->row1; i++) {
+        unsigned char *st = pj->state + pair_at(G, i, i + 1); /* st[j - i - 1]: pair (i, j) */
+        for (size_t j = i + 1; j < G; j++) {
+            const double v = s2[i] + s2[j];
+            const double d = fabs(key[i] - key[j]);
+            if (!(v > 0)) { /* pair_p's exact answers without a CDF, counted beforehand */
+                st[j - i - 1] = d > 0 ? PAIR_REJECTED : PAIR_KEPT;
+                continue;
+            }
+            const double z = d / sqrt(v);
+            /* welch_dof: den is (0 + q_i) + q_j there, 0 + q = q exactly */
+            const double den = q4[i] + q4[j];
+            const unsigned c = cell_of(den > 0 ? v * v / den : INFINITY);
+            /* k_lo < m holds for any pair still open, so the bound applies */
+            if (crit_rej[c] < 0)
+                crit_rej[c] = two_sided_crit(pj->a_lo, pj->dc->lo[c]) * (1.0 + Z_MARGIN);
+            if (z >= crit_rej[c]) {
+                st[j - i - 1] = PAIR_REJECTED;
+                n_rej++;
+                continue;
+            }
+            if (pj->a_hi < 1) {
+                if (crit_keep[c] < 0)
+                    crit_keep[c] = two_sided_crit(pj->a_hi, pj->dc->hi[c]) * (1.0 - Z_MARGIN);
+                if (z < crit_keep[c]) {
+                    st[j - i - 1] = PAIR_KEPT;
+                    n_keep++;
+                    continue;
+                }
+            }
+            st[j - i - 1] = PAIR_OPEN;
+            out[n_open++] = (open_pair){z, (uint16_t)i, (uint16_t)j, (unsigned char)c};
+        }
+    }
+    b->n_open = n_open;
+    b->n_rej = n_rej;
+    b->n_keep = n_keep;
+}
+
+static void pair_worker(void *ctx, size_t worker)
+{
+    (void)worker;
+    pair_job *pj = ctx;
+    double crit_rej[N_CELLS], crit_keep[N_CELLS];
+    for (size_t c = 0; c < N_CELLS; c++)
+        crit_rej[c] = crit_keep[c] = -1.0;
+    for (;;) {
+        const size_t k = atomic_fetch_add(&pj->next, 1);
+        if (k >= pj->n_bands)
+            break;
+        pair_band_run(pj, &pj->band[k], crit_rej, crit_keep);
+    }
+}
+
+/* The exact p of the pairs left open (a t CDF each, about 3,000 instructions):
+   on workers when there are enough of them; each p goes to its own pair. */
+#define EXACT_PER_WORKER 128
+#define EXACT_CHUNK 32
+
+typedef struct {
+    const double *key, *key_se, *dof;
+    open_pair *opened;
+    size_t n;
+    atomic_size_t next;
+} exact_job;
+
+static void exact_worker(void *ctx, size_t worker)
+{
+    (void)worker;
+    exact_job *ej = ctx;
+    for (;;) {
+        const size_t start = atomic_fetch_add(&ej->next, EXACT_CHUNK);
+        if (start >= ej->n)
+            break;
+        const size_t end = start + EXACT_CHUNK < ej->n ? start + EXACT_CHUNK : ej->n;
+        for (size_t q = start; q < end; q++) {
+            open_pair *o = &ej->opened[q];
+            o->z = pair_p(ej->key[o->i], ej->key_se[o->i], ej->dof[o->i], ej->key[o->j],
+                          ej->key_se[o->j], ej->dof[o->j]);
+        }
+    }
+}
+
 arrank_status arrank_rank_groups(const double *key, const double *key_se, const double *dof,
                                  size_t n, double alpha, int *group, size_t *n_tests,
                                  arrank_error *err)
@@ -667,47 +988,66 @@ arrank_status arrank_rank_groups(const double *key, const double *key_se, const 
         if (isnan(key[i]) || isnan(key_se[i]) || isnan(dof[i]) || !(dof[i] > 0))
             return arrank_errorf(err, ARRANK_EINVAL, "sample %zu has no usable key, standard "
                                                      "error or dof for the group tests", i + 1);
-    double *p = malloc((m ? m : 1) * sizeof *p);
-    double *z = malloc((m ? m : 1) * sizeof *z);
-    size_t *open = malloc((m ? m : 1) * sizeof *open);
-    unsigned char *state = calloc(m ? m : 1, 1);
-    unsigned char *cell = malloc(m ? m : 1);
-    if (!p || !z || !open || !state || !cell) {
-        free(p);
-        free(z);
-        free(open);
+    double *sample = malloc(2 * G * sizeof *sample);
+    pair_band *band = malloc(G * sizeof *band);
+    unsigned char *state = malloc(m ? m : 1);
+    /* untouched pages cost nothing: only the open pairs' share of this is written */
+    open_pair *opened = malloc((m ? m : 1) * sizeof *opened);
+    if (!sample || !band || !state || !opened) {
+        free(sample);
+        free(band);
         free(state);
-        free(cell);
+        free(opened);
         return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu pairwise tests", m);
     }
+    /* per sample, the terms of v = se_i^2 + se_j^2 and of welch_dof's denominator,
+       each rounded as welch_dof rounds it */
+    double *s2 = sample, *q4 = sample + G;
+    size_t k_lo = 0, k_hi = m;
+    for (size_t i = 0; i < G; i++) {
+        const double si = key_se[i];
+        s2[i] = si * si;
+        q4[i] = isfinite(dof[i]) ? si * si * si * si / dof[i] : 0.0;
+    }
+    /* the pairs with no variance (both se^2 0) are settled before the first sweep */
+    for (size_t i = 0; i < G; i++)
+        if (!(s2[i] > 0))
+            for (size_t j = i + 1; j < G; j++)
+                if (!(s2[i] + s2[j] > 0)) {
+                    if (fabs(key[i] - key[j]) > 0)
+                        k_lo++;
+                    else
+                        k_hi--;
+                }
     dof_cells dc;
     cells_init(&dc);
-    /* pair (i, j), i < j, at row-major upper-triangle position */
-#define PAIR(i, j) ((i) * (2 * G - (i)-1) / 2 + ((j) - (i)-1))
-    size_t k_lo = 0, k_hi = m, n_open = 0;
-    for (size_t i = 0; i < G; i++)
-        for (size_t j = i + 1; j < G; j++) {
-            const size_t h = PAIR(i, j);
-            const double v = key_se[i] * key_se[i] + key_se[j] * key_se[j];
-            const double d = fabs(key[i] - key[j]);
-            if (!(v > 0)) {
-                /* pair_p's exact answers without a CDF: 0 or 1 */
-                z[h] = d > 0 ? INFINITY : 0.0;
-                p[h] = d > 0 ? 0.0 : 1.0;
-                state[h] = d > 0 ? PAIR_REJECTED : PAIR_KEPT;
-                if (d > 0)
-                    k_lo++;
-                else
-                    k_hi--;
-                continue;
-            }
-            z[h] = d / sqrt(v);
-            cell[h] = cell_of(welch_dof(key_se[i], dof[i], key_se[j], dof[j]));
-            open[n_open++] = h;
-        }
+    pair_job pj = {.key = key, .s2 = s2, .q4 = q4, .G = G, .m = m, .dc = &dc, .band = band,
+                   .state = state, .opened = opened,
+                   .a_lo = alpha / (double)(m - k_lo), .a_hi = alpha / (double)(m - k_hi + 1)};
+    for (size_t i = 0; i + 1 < G;) {
+        pair_band *b = &band[pj.n_bands++];
+        b->row0 = i;
+        for (size_t pairs = 0; i + 1 < G && pairs < BAND_PAIRS; i++)
+            pairs += G - 1 - i;
+        b->row1 = i;
+    }
+    atomic_init(&pj.next, 0);
+    arrank_workers_run(arrank_workers_for(m, PAIRS_PER_WORKER), pair_worker, &pj);
+    /* the open pairs together, in row order; the first sweep's decisions counted */
+    size_t n_open = 0;
+    int changed = 0;
+    for (size_t k = 0; k < pj.n_bands; k++) {
+        const pair_band *b = &band[k];
+        memmove(opened + n_open, opened + pair_at(G, b->row0, b->row0 + 1),
+                b->n_open * sizeof *opened);
+        n_open += b->n_open;
+        k_lo += b->n_rej;
+        k_hi -= b->n_keep;
+        changed |= b->n_rej + b->n_keep > 0;
+    }
     /* sweep with bounds on p until nothing more settles; crit < 0: not yet computed */
     double crit_rej[N_CELLS], crit_keep[N_CELLS];
-    for (int changed = n_open > 0; changed;) {
+    while (changed && n_open > 0) {
         changed = 0;
         const double a_lo = alpha / (double)(m - k_lo);
         const double a_hi = alpha / (double)(m - k_hi + 1);
@@ -715,13 +1055,14 @@ arrank_status arrank_rank_groups(const double *key, const double *key_se, const 
             crit_rej[c] = crit_keep[c] = -1.0;
         size_t still = 0;
         for (size_t q = 0; q < n_open; q++) {
-            const size_t h = open[q];
-            const unsigned c = cell[h];
+            const open_pair *o = &opened[q];
+            const unsigned c = o->cell;
+            unsigned char *st = &state[pair_at(G, o->i, o->j)];
             if (k_lo < m) {
                 if (crit_rej[c] < 0)
                     crit_rej[c] = two_sided_crit(a_lo, dc.lo[c]) * (1.0 + Z_MARGIN);
-                if (z[h] >= crit_rej[c]) {
-                    state[h] = PAIR_REJECTED;
+                if (o->z >= crit_rej[c]) {
+                    *st = PAIR_REJECTED;
                     k_lo++;
                     changed = 1;
                     continue;
@@ -730,75 +1071,82 @@ arrank_status arrank_rank_groups(const double *key, const double *key_se, const 
             if (a_hi < 1) {
                 if (crit_keep[c] < 0)
                     crit_keep[c] = two_sided_crit(a_hi, dc.hi[c]) * (1.0 - Z_MARGIN);
-                if (z[h] < crit_keep[c]) {
-                    state[h] = PAIR_KEPT;
+                if (o->z < crit_keep[c]) {
+                    *st = PAIR_KEPT;
                     k_hi--;
                     changed = 1;
                     continue;
                 }
             }
-            open[still++] = h;
+            opened[still++] = *o;
         }
         n_open = still;
     }
-    /* the pairs near the boundary: exact p, then the same two tests on it */
-    if (n_open > 0)
-        for (size_t i = 0; i < G; i++)
-            for (size_t j = i + 1; j < G; j++) {
-                const size_t h = PAIR(i, j);
-                if (state[h] == PAIR_OPEN)
-                    p[h] = pair_p(key[i], key_se[i], dof[i], key[j], key_se[j], dof[j]);
-            }
-    for (int changed = n_open > 0; changed;) {
+    /* the pairs near the boundary: exact p, then the same two tests on it; z is
+       not needed any more and holds p from here on */
+    exact_job ej = {.key = key, .key_se = key_se, .dof = dof, .opened = opened, .n = n_open};
+    atomic_init(&ej.next, 0);
+    arrank_workers_run(arrank_workers_for(n_open, EXACT_PER_WORKER), exact_worker, &ej);
+    for (changed = n_open > 0; changed;) {
         changed = 0;
         size_t still = 0;
         for (size_t q = 0; q < n_open; q++) {
-            const size_t h = open[q];
+            const open_pair *o = &opened[q];
+            const double p = o->z;
+            unsigned char *st = &state[pair_at(G, o->i, o->j)];
             /* (m - k) p at any position k >= k_lo is at most (m - k_lo) p */
-            if ((double)(m - k_lo) * p[h] <= alpha) {
-                state[h] = PAIR_REJECTED;
+            if ((double)(m - k_lo) * p <= alpha) {
+                *st = PAIR_REJECTED;
                 k_lo++;
                 changed = 1;
-            } else if ((double)(m - k_hi + 1) * p[h] > alpha) {
-                state[h] = PAIR_KEPT;
+            } else if ((double)(m - k_hi + 1) * p > alpha) {
+                *st = PAIR_KEPT;
                 k_hi--;
                 changed = 1;
             } else {
-                open[still++] = h;
+                opened[still++] = *o;
             }
         }
         n_open = still;
     }
     /* step-down over what is left: settled rejections come first, in order */
     double p_stop = INFINITY; /* open pairs with p below this are rejected */
+    double *sorted = malloc((n_open ? n_open : 1) * sizeof *sorted);
+    if (!sorted) {
+        free(sample);
+        free(band);
+        free(state);
+        free(opened);
+        return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu pairwise tests", m);
+    }
     for (size_t q = 0; q < n_open; q++)
-        z[q] = p[open[q]];
-    qsort(z, n_open, sizeof *z, compare_double);
+        sorted[q] = opened[q].z;
+    qsort(sorted, n_open, sizeof *sorted, compare_double);
     for (size_t t = 0; t < n_open; t++) {
-        double v = (double)(m - (k_lo + t)) * z[t];
+        double v = (double)(m - (k_lo + t)) * sorted[t];
         if (v > alpha) {
-            p_stop = z[t];
+            p_stop = sorted[t];
             break;
         }
     }
+    for (size_t q = 0; q < n_open; q++)
+        state[pair_at(G, opened[q].i, opened[q].j)] =
+            opened[q].z < p_stop ? PAIR_REJECTED : PAIR_KEPT;
     int g = 1;
     size_t leader = 0;
     group[0] = 1;
     for (size_t k = 1; k < G; k++) {
-        const size_t h = PAIR(leader, k);
-        const int rejected = state[h] == PAIR_REJECTED || (state[h] == PAIR_OPEN && p[h] < p_stop);
-        if (rejected) {
+        if (state[pair_at(G, leader, k)] == PAIR_REJECTED) {
             g++;
             leader = k;
         }
         group[k] = g;
     }
-#undef PAIR
-    free(p);
-    free(z);
-    free(open);
+    free(sorted);
+    free(sample);
+    free(band);
     free(state);
-    free(cell);
+    free(opened);
     return ARRANK_OK;
 }
 
