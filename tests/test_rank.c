@@ -1427,7 +1427,7 @@ typedef struct {
     arrank_campaign c;
     arrank_sample s[40];
     arrank_point p[40][8];
-    char id[40][16];
+    char id[40][24]; /* "K" and any size_t */
 } toy_campaign;
 
 /* n samples of 6 points, 488-538 K, spread true parameters, noise 0.04. */
