@@ -1124,6 +1124,43 @@ static void test_background_units(void **state)
     temp_dir_remove(dir);
 }
 
+/* Samples come in strcmp order of their file names: names that share their
+   first 8 bytes or more, names shorter than 8 bytes, bytes above 0x7f. */
+static int compare_strings(const void *a, const void *b)
+{
+    return strcmp(*(char *const *)a, *(char *const *)b);
+}
+
+static void test_name_order(void **state)
+{
+    (void)state;
+    const char *names[] = {"Ni-2024-03-b.csv", "Ni-2024-03-a.csv", "Ni.csv", "N.csv",
+                           "Ni-2024-03.csv", "\xc3\xa9t\xc3\xa9.csv", "Z.csv", "a.csv",
+                           "Ni-2024-03-a.CSV.csv", "Ni-2024-0.csv", "Ni-2024-03-a-.csv",
+                           "0.csv", "Ni-2024-\x7f.csv", "Ni-2024-\x80.csv", "N.csv.csv",
+                           "N.csv-.csv"};
+    const size_t n = sizeof names / sizeof *names;
+    char *dir = temp_dir_make();
+    for (size_t i = 0; i < n; i++) {
+        char text[200];
+        snprintf(text, sizeof text, "# sample = S%02zu\nT [K],rate [umol/(g*s)]\n"
+                                    "504.55,0.417\n518.05,0.862\n531.35,1.694\n", i);
+        file_write(dir, names[i], text);
+    }
+    const char *want[sizeof names / sizeof *names];
+    memcpy(want, names, sizeof names);
+    qsort(want, n, sizeof *want, compare_strings);
+    arrank_campaign *c = NULL;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_load(dir, units, &c, &err), ARRANK_OK);
+    assert_int_equal(c->n_samples, n);
+    for (size_t i = 0; i < n; i++)
+        assert_string_equal(c->samples[i].file, want[i]);
+    arrank_campaign_free(c);
+    temp_dir_remove(dir);
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
@@ -1144,6 +1181,7 @@ int main(void)
         cmocka_unit_test(test_derived_rates),
         cmocka_unit_test(test_duplicate_ids),
         cmocka_unit_test(test_background_units),
+        cmocka_unit_test(test_name_order),
     };
     return cmocka_run_group_tests(tests, units_setup, units_teardown);
 }

@@ -124,6 +124,9 @@ static int has_csv_extension(const char *name)
 }
 
 /* Grow *array (element size elem) so that it holds at least need elements. */
+/* Points reserved from the line count before parsing (parse_sample). */
+#define POINTS_RESERVE_MAX 4096
+
 static int grow(void **array, size_t *cap, size_t need, size_t elem)
 {
     if (need <= *cap)
@@ -1039,6 +1042,25 @@ static arrank_status parse_sample(parser *p, const char *data, size_t len)
     }
     p->header_line = p->line;
     p->delim = detect_delimiter(header, header_len);
+    /* One point per line after the header, at most: reserve that many up
+       front (capped; a longer file grows as it goes), one block instead of
+       a few doublings. */
+    {
+        size_t lines = 0;
+        for (const char *q = header; q < end && lines <= POINTS_RESERVE_MAX; lines++) {
+            q = memchr(q, '\n', (size_t)(end - q));
+            if (!q)
+                break;
+            q++;
+        }
+        if (lines > 0 && lines <= POINTS_RESERVE_MAX && p->points_cap == 0) {
+            arrank_point *pts = malloc(lines * sizeof *pts);
+            if (!pts)
+                return nomem(p);
+            p->sample->points = pts;
+            p->points_cap = lines;
+        }
+    }
     struct csv_parser csv;
     if (csv_init(&csv, CSV_STRICT | CSV_STRICT_FINI) != 0)
         return nomem(p);
@@ -1548,9 +1570,43 @@ static arrank_status read_file(int dirfd, const char *name, const char *path, ch
     return ARRANK_OK;
 }
 
-static int compare_names(const void *a, const void *b)
+/* A name with its first 8 bytes as a big-endian number (NUL-padded): two
+   prefixes compare as strcmp compares those bytes, so only equal prefixes
+   need strcmp, and the sort does not chase a pointer per comparison. */
+typedef struct {
+    uint64_t prefix;
+    char *name;
+} name_key;
+
+static int compare_name_keys(const void *a, const void *b)
 {
-    return strcmp(*(char *const *)a, *(char *const *)b);
+    const name_key *x = a, *y = b;
+    if (x->prefix != y->prefix)
+        return x->prefix < y->prefix ? -1 : 1;
+    return strcmp(x->name, y->name);
+}
+
+/* Sort names in strcmp order; -1: no memory. */
+static int sort_names(char **names, size_t n)
+{
+    name_key *k = malloc(n * sizeof *k);
+    if (!k)
+        return -1;
+    for (size_t i = 0; i < n; i++) {
+        uint64_t v = 0;
+        const unsigned char *c = (const unsigned char *)names[i];
+        int ended = 0;
+        for (size_t j = 0; j < 8; j++) {
+            ended = ended || c[j] == '\0';
+            v = v << 8 | (ended ? 0u : c[j]);
+        }
+        k[i] = (name_key){v, names[i]};
+    }
+    qsort(k, n, sizeof *k, compare_name_keys);
+    for (size_t i = 0; i < n; i++)
+        names[i] = k[i].name;
+    free(k);
+    return 0;
 }
 
 static int compare_sample_ids(const void *a, const void *b)
@@ -1623,8 +1679,11 @@ static arrank_status list_folder(const char *dir, char ***names, size_t *n, int 
         os_message(saved, os, sizeof os);
         return arrank_error_at(err, ARRANK_EIO, dir, 0, 0, "cannot read the folder: %s", os);
     }
-    if (*n)
-        qsort(*names, *n, sizeof **names, compare_names);
+    if (*n > 1 && sort_names(*names, *n) != 0) {
+        list_free(*names, *n);
+        *names = NULL;
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory listing the folder");
+    }
     return ARRANK_OK;
 }
 
