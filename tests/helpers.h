@@ -140,6 +140,28 @@ static inline char *file_slurp(const char *path, size_t *len)
     return buf;
 }
 
+/* ---- environment ------------------------------------------------------- */
+
+/* Set name=value for a test; returns the old value (NULL: unset) for env_restore. */
+static inline char *env_set(const char *name, const char *value)
+{
+    const char *old = getenv(name);
+    char *saved = old ? strdup(old) : NULL;
+    assert_true(!old || saved);
+    assert_int_equal(setenv(name, value, 1), 0);
+    return saved;
+}
+
+/* Put back what env_set found, and free it. */
+static inline void env_restore(const char *name, char *saved)
+{
+    if (saved)
+        assert_int_equal(setenv(name, saved, 1), 0);
+    else
+        assert_int_equal(unsetenv(name), 0);
+    free(saved);
+}
+
 /* ---- comparisons ------------------------------------------------------- */
 
 /* Relative difference, with an absolute floor for values that should be 0. */

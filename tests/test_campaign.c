@@ -1104,9 +1104,7 @@ static void test_background_units(void **state)
     arrank_campaign_free(c);
     arrank_units_free(bg);
 
-    const char *old = getenv("UDUNITS2_XML_PATH");
-    char *saved = old ? strdup(old) : NULL;
-    assert_int_equal(setenv("UDUNITS2_XML_PATH", "/nonexistent/udunits2.xml", 1), 0);
+    char *saved = env_set("UDUNITS2_XML_PATH", "/nonexistent/udunits2.xml");
     bg = arrank_units_create_background(&err);
     assert_non_null(bg);
     arrank_error_clear(&err);
@@ -1115,12 +1113,7 @@ static void test_background_units(void **state)
     assert_string_equal(err.message, "cannot load the udunits2 unit database from "
                                      "'/nonexistent/udunits2.xml'");
     arrank_units_free(bg);
-    if (saved) {
-        setenv("UDUNITS2_XML_PATH", saved, 1);
-        free(saved);
-    } else {
-        unsetenv("UDUNITS2_XML_PATH");
-    }
+    env_restore("UDUNITS2_XML_PATH", saved);
     temp_dir_remove(dir);
 }
 

@@ -39,47 +39,11 @@
 #include "arrank/models.h"
 #include "arrank/rank.h"
 #include "../src/lib/internal.h"
+#include "helpers.h"
 
 #define R_GAS ARRANK_R_J_MOL_K
 
 /* ---- helpers ----------------------------------------------------------- */
-
-static double rel_diff(double got, double want)
-{
-    const double scale = fabs(want) > 0 ? fabs(want) : 1.0;
-    return fabs(got - want) / scale;
-}
-
-static int check_rel(double got, double want, double tol, const char *what, const char *source)
-{
-    const double d = rel_diff(got, want);
-    if (!(d <= tol)) {
-        printf("# %s: got %.15g want %.15g (rel diff %.3g > %.3g) [%s]\n", what, got, want, d,
-               tol, source);
-        return 1;
-    }
-    return 0;
-}
-
-/* Deterministic noise: splitmix64 and Box-Muller. */
-static uint64_t splitmix(uint64_t *s)
-{
-    uint64_t z = (*s += 0x9E3779B97F4A7C15ull);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ull;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBull;
-    return z ^ (z >> 31);
-}
-
-static double uniform01(uint64_t *s)
-{
-    return ((double)(splitmix(s) >> 11) + 0.5) / 9007199254740992.0;
-}
-
-static double gauss(uint64_t *s)
-{
-    const double u1 = uniform01(s), u2 = uniform01(s);
-    return sqrt(-2.0 * log(u1)) * cos(6.283185307179586 * u2);
-}
 
 /* An Arrhenius fit record with given centred parameters and covariance. */
 static arrank_arrhenius make_fit(double T_ref, double b0, double b1, double c00, double c01,

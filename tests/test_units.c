@@ -431,9 +431,7 @@ static void test_background(void **state)
     arrank_units_free(bg);
 
     /* a database that cannot be read: every call says so, as creating it would */
-    const char *old = getenv("UDUNITS2_XML_PATH");
-    char *saved = old ? strdup(old) : NULL;
-    assert_int_equal(setenv("UDUNITS2_XML_PATH", "/nonexistent/udunits2.xml", 1), 0);
+    char *saved = env_set("UDUNITS2_XML_PATH", "/nonexistent/udunits2.xml");
     arrank_error want;
     arrank_error_clear(&want);
     assert_null(arrank_units_create(&want));
@@ -453,12 +451,7 @@ static void test_background(void **state)
     assert_string_equal(err.message, "cannot load the udunits2 unit database from "
                                      "'/nonexistent/udunits2.xml'");
     arrank_units_free(bg);
-    if (saved) {
-        setenv("UDUNITS2_XML_PATH", saved, 1);
-        free(saved);
-    } else {
-        unsetenv("UDUNITS2_XML_PATH");
-    }
+    env_restore("UDUNITS2_XML_PATH", saved);
 }
 
 int main(void)

@@ -612,6 +612,16 @@ arrank_status arrank_units_ready(arrank_units *units, arrank_error *err)
     return units_ready(units, err);
 }
 
+/* The way into udunits for every public function: the database ready, then
+   the lock (not taken when the database failed: that failure is returned). */
+static arrank_status units_enter(arrank_units *units, arrank_error *err)
+{
+    arrank_status ready = units_ready(units, err);
+    if (ready == ARRANK_OK)
+        pthread_mutex_lock(&udunits_lock);
+    return ready;
+}
+
 void arrank_units_free(arrank_units *units)
 {
     arrank_error ignored;
@@ -624,11 +634,10 @@ void arrank_units_free(arrank_units *units)
 arrank_status arrank_units_temperature(arrank_units *units, const char *unit,
                                        arrank_conversion *to_K, arrank_error *err)
 {
-    arrank_status ready = units_ready(units, err);
-    if (ready != ARRANK_OK)
-        return ready;
-    pthread_mutex_lock(&udunits_lock);
-    arrank_status r = units_temperature(units, unit, to_K, err);
+    arrank_status r = units_enter(units, err);
+    if (r != ARRANK_OK)
+        return r;
+    r = units_temperature(units, unit, to_K, err);
     pthread_mutex_unlock(&udunits_lock);
     return r;
 }
@@ -636,11 +645,10 @@ arrank_status arrank_units_temperature(arrank_units *units, const char *unit,
 arrank_status arrank_units_rate(arrank_units *units, const char *unit, arrank_basis *basis,
                                 arrank_conversion *to_si, arrank_error *err)
 {
-    arrank_status ready = units_ready(units, err);
-    if (ready != ARRANK_OK)
-        return ready;
-    pthread_mutex_lock(&udunits_lock);
-    arrank_status r = units_rate(units, unit, basis, to_si, err);
+    arrank_status r = units_enter(units, err);
+    if (r != ARRANK_OK)
+        return r;
+    r = units_rate(units, unit, basis, to_si, err);
     pthread_mutex_unlock(&udunits_lock);
     return r;
 }
@@ -648,11 +656,10 @@ arrank_status arrank_units_rate(arrank_units *units, const char *unit, arrank_ba
 arrank_status arrank_units_conversion(arrank_units *units, const char *from, const char *to,
                                       arrank_conversion *conv, arrank_error *err)
 {
-    arrank_status ready = units_ready(units, err);
-    if (ready != ARRANK_OK)
-        return ready;
-    pthread_mutex_lock(&udunits_lock);
-    arrank_status r = units_conversion(units, from, to, conv, err);
+    arrank_status r = units_enter(units, err);
+    if (r != ARRANK_OK)
+        return r;
+    r = units_conversion(units, from, to, conv, err);
     pthread_mutex_unlock(&udunits_lock);
     return r;
 }
@@ -660,11 +667,10 @@ arrank_status arrank_units_conversion(arrank_units *units, const char *from, con
 arrank_status arrank_units_parse_temperature(arrank_units *units, const char *text,
                                              double *temp_K, arrank_error *err)
 {
-    arrank_status ready = units_ready(units, err);
-    if (ready != ARRANK_OK)
-        return ready;
-    pthread_mutex_lock(&udunits_lock);
-    arrank_status r = units_parse_temperature(units, text, temp_K, err);
+    arrank_status r = units_enter(units, err);
+    if (r != ARRANK_OK)
+        return r;
+    r = units_parse_temperature(units, text, temp_K, err);
     pthread_mutex_unlock(&udunits_lock);
     return r;
 }
@@ -673,11 +679,10 @@ arrank_status arrank_units_parse_quantity(arrank_units *units, const char *text,
                                           const char *si_unit, double *value_si,
                                           arrank_error *err)
 {
-    arrank_status ready = units_ready(units, err);
-    if (ready != ARRANK_OK)
-        return ready;
-    pthread_mutex_lock(&udunits_lock);
-    arrank_status r = units_parse_quantity(units, text, si_unit, value_si, err);
+    arrank_status r = units_enter(units, err);
+    if (r != ARRANK_OK)
+        return r;
+    r = units_parse_quantity(units, text, si_unit, value_si, err);
     pthread_mutex_unlock(&udunits_lock);
     return r;
 }
