@@ -33,29 +33,22 @@
 #include "arrank/output.h"
 #include "arrank/rank.h"
 #include "../src/lib/internal.h"
+#include "helpers.h"
 
 #define NAME_MAX_COLS 28 /* the table's widest name column (output.c NAME_WIDTH_MAX) */
 
-/* Small fixed-seed generator (xorshift64*, Vigna 2016). */
+/* Fixed-seed noise: helpers.h's splitmix64. */
 static uint64_t rng_state = 0x9E3779B97F4A7C15ull;
 
 static uint64_t rng_next(void)
 {
-    rng_state ^= rng_state >> 12;
-    rng_state ^= rng_state << 25;
-    rng_state ^= rng_state >> 27;
-    return rng_state * 0x2545F4914F6CDD1Dull;
-}
-
-static double uniform01(void)
-{
-    return (double)(rng_next() >> 11) / 9007199254740992.0;
+    return splitmix(&rng_state);
 }
 
 /* 10^u, u uniform in [lo, hi]. */
 static double log_uniform(double lo, double hi)
 {
-    return pow(10.0, lo + (hi - lo) * uniform01());
+    return pow(10.0, lo + (hi - lo) * uniform01(&rng_state));
 }
 
 /* A value that is now and then non-finite or too large for the fast formatters. */
@@ -176,8 +169,8 @@ static void make_fake(fake *fk, size_t n, int ranked, int with_T, int with_stats
     arrank_analysis *a = &fk->a;
     a->campaign = &fk->campaign;
     a->options = arrank_options_defaults();
-    a->options.operating_temp_K = with_T ? 400.0 + 300.0 * uniform01() : NAN;
-    a->options.confidence = 0.8 + 0.19 * uniform01();
+    a->options.operating_temp_K = with_T ? 400.0 + 300.0 * uniform01(&rng_state) : NAN;
+    a->options.confidence = 0.8 + 0.19 * uniform01(&rng_state);
     a->options.bootstrap = boot;
     a->n_results = n;
     a->results = calloc(n, sizeof *a->results);
@@ -207,23 +200,23 @@ static void make_fake(fake *fk, size_t n, int ranked, int with_T, int with_stats
         arrank_arrhenius *f = &res->fit;
         f->n = rng_next() % 4 == 0 ? s->n_points - 1 - rng_next() % 2 : s->n_points;
         f->dof = (double)f->n - 2.0;
-        f->T_min_K = odd_sometimes(300.0 + 400.0 * uniform01());
-        f->T_max_K = odd_sometimes(f->T_min_K + 200.0 * uniform01());
+        f->T_min_K = odd_sometimes(300.0 + 400.0 * uniform01(&rng_state));
+        f->T_max_K = odd_sometimes(f->T_min_K + 200.0 * uniform01(&rng_state));
         f->ea_J_mol = odd_sometimes(log_uniform(3.0, 5.7) * (rng_next() % 10 ? 1.0 : -1.0));
         f->ea_se_J_mol = odd_sometimes(log_uniform(1.0, 4.5));
-        f->ln_A = odd_sometimes(-30.0 + 90.0 * uniform01());
+        f->ln_A = odd_sometimes(-30.0 + 90.0 * uniform01(&rng_state));
         f->ln_A_se = odd_sometimes(log_uniform(-3.0, 1.0));
         res->has_prediction = with_T;
         double rate = log_uniform(-12.0, 12.0);
         res->at_T.rate = odd_sometimes(rate);
-        res->at_T.rate_lo = odd_sometimes(rate * (1.0 - 0.5 * uniform01()));
-        res->at_T.rate_hi = odd_sometimes(rate * (1.0 + 2.0 * uniform01()));
+        res->at_T.rate_lo = odd_sometimes(rate * (1.0 - 0.5 * uniform01(&rng_state)));
+        res->at_T.rate_hi = odd_sometimes(rate * (1.0 + 2.0 * uniform01(&rng_state)));
         struct arrank_sample_stats *ss = &fk->stats[i];
-        ss->p_best = rng_next() % 8 ? uniform01() * (rng_next() % 2 ? 1.0 : 1e-4) : NAN;
+        ss->p_best = rng_next() % 8 ? uniform01(&rng_state) * (rng_next() % 2 ? 1.0 : 1e-4) : NAN;
         ss->group = (int)(rng_next() % 60);
         ss->has_bootstrap = boot > 0 && rng_next() % 5 != 0;
-        ss->rate_lo_boot = odd_sometimes(rate * (1.0 - 0.4 * uniform01()));
-        ss->rate_hi_boot = odd_sometimes(rate * (1.0 + 1.5 * uniform01()));
+        ss->rate_lo_boot = odd_sometimes(rate * (1.0 - 0.4 * uniform01(&rng_state)));
+        ss->rate_hi_boot = odd_sometimes(rate * (1.0 + 1.5 * uniform01(&rng_state)));
         if (rng_next() % 10)
             res->stats = ss;
     }

@@ -223,15 +223,11 @@ static void limits_in_memory(void **state)
 
 /* ---- the fast decimal reader against strtod -------------------------------- */
 
-/* xorshift64* (Vigna, "An experimental exploration of Marsaglia's xorshift
-   generators, scrambled", ACM TOMS 42(4), 2016): a fixed, seeded sequence. */
+/* A fixed, seeded sequence: helpers.h's splitmix64. */
 static uint64_t rng_state = 0x9e3779b97f4a7c15ULL;
 static uint64_t rng_next(void)
 {
-    rng_state ^= rng_state >> 12;
-    rng_state ^= rng_state << 25;
-    rng_state ^= rng_state >> 27;
-    return rng_state * 2685821657736338717ULL;
+    return splitmix(&rng_state);
 }
 
 /* Bit-for-bit agreement with strtod where the fast path answers; count answers. */
