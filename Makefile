@@ -115,9 +115,11 @@ $(LIB): $(LIB_OBJ)
 $(ARRANK): $(CLI_OBJ) $(LIB)
 	$(CC) $(ALL_CFLAGS) -o $@ $(CLI_OBJ) $(LIB) $(LDLIBS)
 
+# The tests find their reference data in this source tree's tests/data.
 $(BUILD)/tests/%: tests/%.c $(LIB)
 	@mkdir -p $(dir $@)
-	$(CC) $(CPPFLAGS) $(ALL_CFLAGS) -o $@ $< $(LIB) $(LDLIBS) $(TEST_LIBS)
+	$(CC) $(CPPFLAGS) -DTESTS_DATA_DIR='"$(CURDIR)/tests/data"' $(ALL_CFLAGS) -o $@ $< \
+	    $(LIB) $(LDLIBS) $(TEST_LIBS)
 
 $(BUILD)/tools/%: src/tools/%.c $(LIB)
 	@mkdir -p $(dir $@)

@@ -124,3 +124,5 @@ ok_if "--model modified: table of E and n with the collinearity warning" \
     grep -q 'E and n are nearly collinear' "$T/out"
 "$A" rank "$DEMO" --csv - 2>/dev/null | head -1 >"$T/out"
 ok_if "rank --csv: p_best and group columns" grep -q ',p_best,group,flags,error$' "$T/out"
+
+tap_plan

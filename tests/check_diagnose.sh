@@ -78,3 +78,5 @@ print(" ".join("1" if c else "0" for c in checks))
 PY
 expect_eq "JSON: regime, excluded, curvature, criteria, quality; --use-all keeps all" \
     "$(cat "$T/py")" "1 1 1 1 1 1 1 1 1 1 1 1"
+
+tap_plan

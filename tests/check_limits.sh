@@ -133,3 +133,5 @@ run "100,000 sample files" 60 256 0 "" fit "$T/many" --no-diagnose --json "$T/ma
 echo "# 100,000 files read and fitted in $(($(date +%s) - t0)) s"
 ok_if "100,000 files: every sample in the JSON" \
     test "$(grep -c '"file": "s[0-9]*\.csv"' "$T/many.json")" -eq 100000
+
+tap_plan

@@ -274,3 +274,5 @@ set -- $("$PY" "$T/diag.py" "$T/nodiag/$d12" shades has=kinetic \
 expect_eq "--no-diagnose: no kinetic window shaded" "${1:-}" 0
 expect_eq "--no-diagnose: no regime key" "${2:-}" False
 expect_eq "--no-diagnose: the local-Ea panel says why it is empty" "${3:-}" True
+
+tap_plan

@@ -191,3 +191,5 @@ ok_if "screenshot not blank: over 2 % of pixels not white (got ${2:-?} %)" \
 
 chrome p --print-to-pdf="$T/report.pdf" --no-pdf-header-footer "file://$R" >/dev/null 2>"$T/pdf.err"
 ok_if "Chromium: prints to PDF" sh -c "head -c 5 '$T/report.pdf' | grep -q '%PDF-'"
+
+tap_plan

@@ -1,6 +1,7 @@
 # tap.sh - sourced by the shell checks: TAP output helpers.
 #   ok_if NAME CMD...     run CMD; "ok" when it succeeds, else "not ok"
 #   expect_eq NAME GOT WANT
+#   tap_plan              the closing plan line, last thing a script prints
 # Each failure prints got/want as TAP diagnostics.
 tap_n=0
 ok_if() {
@@ -21,4 +22,9 @@ expect_eq() {
         echo "not ok $tap_n - $1"
         printf '# got:  %s\n# want: %s\n' "$2" "$3"
     fi
+}
+# tap_plan: the closing plan "1..N", printed as the script's last line.  A
+# script that stops before it has no plan, and tests/run.sh counts it failed.
+tap_plan() {
+    echo "1..$tap_n"
 }

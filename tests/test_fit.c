@@ -3,9 +3,9 @@
  * certified and independently computed values.
  *
  * External references: NIST StRD certified values (read at run time from the
- * shared reference folder, ARRANK_NIST or ../shared/ref/nist relative to the
- * repository root; a missing folder is a failure, never a skip), the Student-t
- * table of the NIST/SEMATECH e-Handbook (copied into ../shared/ref/constants.md)
+ * repository's copy in tests/data/nist, or ARRANK_NIST; a missing file is a
+ * failure, never a skip), the Student-t table of the NIST/SEMATECH e-Handbook
+ * (copied into tests/data/constants.md)
  * and the 2019 SI values of N_A and k.  Everything else is checked against a
  * second, independent computation (the closed-form Arrhenius solution against
  * the SVD engine on the uncentred design) or against exact data.
@@ -48,10 +48,15 @@ typedef struct {
     double rss, resid_sd;
 } nist_set;
 
+/* The repository's copy (TESTS_DATA_DIR is set by the Makefile to the
+   source tree's tests/data), unless ARRANK_NIST names another folder. */
+#ifndef TESTS_DATA_DIR
+#define TESTS_DATA_DIR "tests/data"
+#endif
 static const char *nist_dir(void)
 {
     const char *d = getenv("ARRANK_NIST");
-    return d && *d ? d : "../shared/ref/nist";
+    return d && *d ? d : TESTS_DATA_DIR "/nist";
 }
 
 /* Parse numbers from s with strtod; returns how many were read. */
@@ -75,7 +80,7 @@ static size_t parse_numbers(const char *s, double *out, size_t max)
 }
 
 /*
- * Read a StRD file (layout in ref/nist/README.md): parameter lines "B0 est sd"
+ * Read a StRD file (layout in tests/data/nist/README.md): parameter lines "B0 est sd"
  * (linear) or "b1 = start1 start2 cert sd" (nonlinear), the residual SD and
  * RSS, and the data block from line 61 ("y x").  Returns 0 on success.
  */
@@ -86,7 +91,7 @@ static int nist_read(const char *name, nist_set *set)
     FILE *f = fopen(path, "r");
     if (!f) {
         printf("# cannot open '%s' (%s): the NIST StRD reference files are required; set "
-               "ARRANK_NIST or run from the repository root next to ../shared\n",
+               "ARRANK_NIST or keep tests/data/nist in the source tree\n",
                path, strerror(errno));
         return -1;
     }
@@ -288,7 +293,7 @@ static void test_linfit_errors(void **state)
 static void test_gas_constant(void **state)
 {
     (void)state;
-    /* R = N_A k, both exact in the 2019 SI (CODATA 2018; ref/constants.md). */
+    /* R = N_A k, both exact in the 2019 SI (CODATA 2018; tests/data/constants.md). */
     const double N_A = 6.02214076e23;
     assert_true(ARRANK_R_J_MOL_K == 8.31446261815324);
     assert_true(rel_diff(N_A * ARRANK_KB_J_K, ARRANK_R_J_MOL_K) < 4e-16);
@@ -299,7 +304,7 @@ static void test_gas_constant(void **state)
 static void test_t_quantiles(void **state)
 {
     (void)state;
-    /* NIST/SEMATECH e-Handbook 1.3.6.7.2, upper 0.025 critical values (ref/constants.md). */
+    /* NIST/SEMATECH e-Handbook 1.3.6.7.2, upper 0.025 critical values (tests/data/constants.md). */
     static const struct {
         double dof, t;
     } table[] = {
