@@ -5,6 +5,7 @@
 #   make demo       install missing dependencies, build, rank the demo campaign,
 #                   draw its figures and write its report into plots/<campaign>/
 #   make check      build and run the suite (no dependency step)
+#   make check-layers  every module calls and includes only down (DEVELOPERS.md)
 #   make test-asan  the suite under AddressSanitizer + UndefinedBehaviorSanitizer
 #   make test-valgrind  the program on the demo under valgrind (no errors, no definite leaks)
 #   make fuzz       each libFuzzer harness for FUZZ_SECONDS (default 30) seconds (clang)
@@ -45,8 +46,8 @@ ARRANK     := $(BUILD)/arrank
 
 DEMO       := campaigns/zeolite-ni-screen
 
-.PHONY: all deps test check demo demo-data test-asan test-valgrind fuzz fuzz-build bench \
-        clean install
+.PHONY: all deps test check check-layers demo demo-data test-asan test-valgrind fuzz fuzz-build \
+        bench clean install
 
 all: $(LIB) $(ARRANK) $(TOOL_BIN)
 
@@ -103,6 +104,10 @@ fuzz-build: $(FUZZ_BIN)
 $(BUILD)/fuzz/%: tests/fuzz/%.c tests/fuzz/fuzz_targets.h tests/fuzz/harness.h $(LIB)
 	@mkdir -p $(dir $@)
 	$(CC) $(CPPFLAGS) $(ALL_CFLAGS) -fsanitize=fuzzer -o $@ $< $(LIB) $(LDLIBS)
+
+# Every module calls and includes only down (the table in DEVELOPERS.md).
+check-layers: $(LIB)
+	@/usr/bin/python3 src/tools/check_layers.py --root . --objects $(BUILD)
 
 # Speed: arrank against the SciPy reference and the floor (tests/bench/run.sh).
 bench: all

@@ -100,14 +100,6 @@ typedef struct {
 arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_campaign **out,
                                    arrank_error *err);
 
-/*
- * Progress of a long step: `stage` is a static lowercase phrase ("reading
- * samples", "fitting samples"), `done` of `total` units finished.  Called
- * often (up to once per sample; the files are read on worker threads), always
- * from the calling thread, with done rising to total; it must be cheap.
- * The library never prints: the program decides whether and when to show it.
- */
-typedef void (*arrank_progress_fn)(void *ctx, const char *stage, size_t done, size_t total);
 
 /* arrank_campaign_load that reports progress per sample file (progress may be NULL).
    The files after the first are read on worker threads (as arrank_analysis_run,

@@ -66,4 +66,13 @@ const char *arrank_strerror(arrank_status status);
  */
 size_t arrank_error_format(const arrank_error *err, char *buf, size_t n);
 
+/*
+ * Progress of a long step: `stage` is a static lowercase phrase ("reading
+ * samples", "fitting samples"), `done` of `total` units finished.  Called
+ * often (up to once per sample; the files are read on worker threads), always
+ * from the calling thread, with done rising to total; it must be cheap.
+ * The library never prints: the program decides whether and when to show it.
+ */
+typedef void (*arrank_progress_fn)(void *ctx, const char *stage, size_t done, size_t total);
+
 #endif

@@ -15,6 +15,7 @@
 #include "arrank/diagnose.h"
 #include "arrank/rank.h"
 #include "internal.h"
+#include "stats.h"
 
 /* Thresholds for the basic flags (README "Flags"). */
 #define FEW_POINTS 4            /* fewer points than this: flag (common practice) */
@@ -137,7 +138,7 @@ static void basic_flags(arrank_result *res)
     if (f->ea_J_mol < LOW_EA_J_MOL)
         res->flags |= ARRANK_FLAG_LOW_EA;
     if (f->weighted && f->dof > 0 && isfinite(f->chi2_dof) &&
-        arrank_chi2_upper_p(f->chi2_dof * f->dof, f->dof) < POOR_FIT_P)
+        arrank_stats_chi2_q(f->chi2_dof * f->dof, f->dof) < POOR_FIT_P)
         res->flags |= ARRANK_FLAG_POOR_FIT;
     if (res->n_used < res->sample->n_points)
         res->flags |= ARRANK_FLAG_EXCLUDED;

@@ -20,7 +20,6 @@
 #include <string.h>
 
 #include <gsl/gsl_blas.h>
-#include <gsl/gsl_cdf.h>
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_matrix.h>
 #include <gsl/gsl_multifit.h>
@@ -643,34 +642,6 @@ arrank_status arrank_fit_arrhenius(const double *temp_K, const double *rate, con
     fit->chi2_dof = weighted ? s2 : NAN;
     free(w);
     return ARRANK_OK;
-}
-
-/*
- * A campaign asks for the same few (confidence, dof) pairs thousands of times
- * (one per sample and per table row), and gsl_cdf_tdist_Pinv costs some
- * 10 us: remember the last answers, per thread so the library stays
- * reentrant.  Exact-key lookup, so the value is the one GSL gives.
- */
-#define T_MEMO_SIZE 8
-
-double arrank_t_quantile(double confidence, double dof)
-{
-    if (!(confidence > 0 && confidence < 1) || !(dof > 0))
-        return NAN;
-    static _Thread_local struct {
-        double confidence, dof, t;
-    } memo[T_MEMO_SIZE];
-    static _Thread_local unsigned n_memo, next_memo;
-    for (unsigned i = 0; i < n_memo; i++)
-        if (memo[i].confidence == confidence && memo[i].dof == dof)
-            return memo[i].t;
-    const double P = 0.5 * (1.0 + confidence);
-    const double t = isinf(dof) ? gsl_cdf_ugaussian_Pinv(P) : gsl_cdf_tdist_Pinv(P, dof);
-    unsigned k = n_memo < T_MEMO_SIZE ? n_memo++ : next_memo++ % T_MEMO_SIZE;
-    memo[k].confidence = confidence;
-    memo[k].dof = dof;
-    memo[k].t = t;
-    return t;
 }
 
 /*

@@ -2,7 +2,6 @@
  * util.c - small helpers shared inside the library (internal.h): strings,
  * a chi-square tail, and the worker threads that read and analyse samples.
  */
-#include <gsl/gsl_cdf.h>
 #include <pthread.h>
 #include <stdatomic.h>
 #include <stdint.h>
@@ -10,7 +9,7 @@
 #include <string.h>
 #include <unistd.h>
 
-#include "internal.h"
+#include "util.h"
 
 char *arrank_strdup(const char *s)
 {
@@ -21,11 +20,6 @@ char *arrank_strdup(const char *s)
     if (d)
         memcpy(d, s, n);
     return d;
-}
-
-double arrank_chi2_upper_p(double x, double k)
-{
-    return gsl_cdf_chisq_Q(x, k);
 }
 
 /* ---- workers ---------------------------------------------------------------- */

@@ -1,0 +1,147 @@
+#!/usr/bin/env python3
+"""check_layers.py - every module of libarrank calls and includes only down.
+
+Usage: check_layers.py [--root DIR] [--objects DIR]
+
+The table of layers is the one in DEVELOPERS.md, between the lines
+`<!-- layers -->` and `<!-- /layers -->`: a row per layer, lowest first, with
+the layer's number and its modules (the stems of src/lib/NAME.c).  A module
+may include the headers of, and call functions defined in, modules of a lower
+layer only: never its own layer's other modules, never a higher one.
+
+Read from the code, not from comments:
+  - includes: every `#include "..."` in src/lib/*.c, src/lib/*.h and
+    include/arrank/*.h.  A header belongs to the module of its stem
+    (arrank/fit.h and fit.h to fit; NAME_internal.h and NAME_testing.h to
+    NAME); headers named in the table's `headers:` line belong to no module
+    and any layer may include them (types and constants only).
+  - calls: `nm -u` on each object src/lib/NAME.o under --objects, against the
+    global symbols that every other object defines (`nm --defined-only -g`).
+  - the program: src/cli/*.c include only arrank/*.h and call only what the
+    library exports through those headers.
+Prints one line per breach and exits 1 if there is any; 0 otherwise.
+"""
+import argparse
+import os
+import re
+import subprocess
+import sys
+
+INC = re.compile(r'^\s*#\s*include\s+"([^"]+)"', re.M)
+
+
+def read_table(path):
+    text = open(path, encoding="utf-8").read()
+    m = re.search(r"<!-- layers -->(.*?)<!-- /layers -->", text, re.S)
+    if not m:
+        sys.exit("check_layers: no <!-- layers --> table in %s" % path)
+    layer_of, free = {}, set()
+    for line in m.group(1).splitlines():
+        line = line.strip()
+        h = re.match(r"headers:\s*(.*)", line)
+        if h:
+            free.update(x.strip("` ") for x in h.group(1).split(",") if x.strip("` "))
+            continue
+        cells = [c.strip() for c in line.strip("|").split("|")]
+        if len(cells) < 2 or not re.fullmatch(r"\d+", cells[0]):
+            continue
+        for mod in re.findall(r"`([a-z0-9_]+)`", cells[1]):
+            if mod in layer_of:
+                sys.exit("check_layers: module %s is in two rows" % mod)
+            layer_of[mod] = int(cells[0])
+    return layer_of, free
+
+
+def header_module(name):
+    stem = os.path.basename(name)[:-2] if name.endswith(".h") else name
+    for suffix in ("_internal", "_testing"):
+        if stem.endswith(suffix):
+            stem = stem[: -len(suffix)]
+    return stem
+
+
+def nm(args, obj):
+    out = subprocess.run(["nm"] + args + [obj], capture_output=True, text=True, check=True)
+    return [l.split()[-1] for l in out.stdout.splitlines() if l.strip()]
+
+
+def main():
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--root", default=".")
+    ap.add_argument("--objects", default="build")
+    o = ap.parse_args()
+    root = o.root
+    layer_of, free = read_table(os.path.join(root, "DEVELOPERS.md"))
+    breaches = []
+    lib = os.path.join(root, "src", "lib")
+    inc = os.path.join(root, "include", "arrank")
+    sources = sorted(f for f in os.listdir(lib) if f.endswith(".c"))
+    modules = [f[:-2] for f in sources]
+    for m in modules:
+        if m not in layer_of:
+            breaches.append("src/lib/%s.c: module '%s' is in no layer of the table" % (m, m))
+
+    def check_include(where, owner, target):
+        if target in free:
+            return
+        tm = header_module(target)
+        if tm not in layer_of:
+            breaches.append("%s: includes %s, which belongs to no module in the table" % (where, target))
+        elif owner in layer_of and tm != owner and layer_of[tm] >= layer_of[owner]:
+            breaches.append("%s: includes %s (%s, layer %d) from %s (layer %d): not down"
+                            % (where, target, tm, layer_of[tm], owner, layer_of[owner]))
+
+    files = [(os.path.join("src/lib", f), os.path.join(lib, f)) for f in sorted(os.listdir(lib))
+             if f.endswith((".c", ".h"))]
+    files += [(os.path.join("include/arrank", f), os.path.join(inc, f))
+              for f in sorted(os.listdir(inc)) if f.endswith(".h")]
+    for rel, path in files:
+        base = os.path.basename(rel)
+        if base in free:
+            continue
+        owner = header_module(base)
+        for target in INC.findall(open(path, encoding="utf-8").read()):
+            check_include(rel, owner, os.path.basename(target))
+
+    # calls, from the objects
+    defined = {}
+    objs = {}
+    for m in modules:
+        obj = os.path.join(o.objects, "src", "lib", m + ".o")
+        if not os.path.exists(obj):
+            breaches.append("%s: not built (make BUILD=%s)" % (obj, o.objects))
+            continue
+        objs[m] = obj
+        for sym in nm(["--defined-only", "-g"], obj):
+            defined.setdefault(sym, m)
+    for m, obj in objs.items():
+        for sym in sorted(set(nm(["-u"], obj))):
+            d = defined.get(sym)
+            if d is None or d == m or m not in layer_of or d not in layer_of:
+                continue
+            if layer_of[d] >= layer_of[m]:
+                breaches.append("src/lib/%s.c: calls %s in %s (layer %d) from layer %d: not down"
+                                % (m, sym, d, layer_of[d], layer_of[m]))
+
+    # the program sees only the public headers
+    cli = os.path.join(root, "src", "cli")
+    for f in sorted(os.listdir(cli)):
+        if not f.endswith((".c", ".h")):
+            continue
+        for target in INC.findall(open(os.path.join(cli, f), encoding="utf-8").read()):
+            if not (target.startswith("arrank/") or os.path.exists(os.path.join(cli, target))):
+                breaches.append("src/cli/%s: includes %s, which is not a public header" % (f, target))
+
+    for b in breaches:
+        print(b)
+    if breaches:
+        print("check-layers: %d breach%s of the table in DEVELOPERS.md"
+              % (len(breaches), "" if len(breaches) == 1 else "es"))
+        return 1
+    print("check-layers: %d modules in %d layers, every include and call goes down"
+          % (len(objs), len(set(layer_of.values()))))
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
