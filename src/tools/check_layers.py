@@ -6,6 +6,8 @@ Usage: check_layers.py [--root DIR] [--objects DIR]
 The table of layers is the one in DEVELOPERS.md, between the lines
 `<!-- layers -->` and `<!-- /layers -->`: a row per layer, lowest first, with
 the layer's number and its modules (the stems of src/lib/NAME.c).  A module
+written `NAME*` is a family: NAME.c and every NAME_PART.c are one module, so
+its files may call each other.  A module
 may include the headers of, and call functions defined in, modules of a lower
 layer only: never its own layer's other modules, never a higher one.
 
@@ -45,19 +47,32 @@ def read_table(path):
         cells = [c.strip() for c in line.strip("|").split("|")]
         if len(cells) < 2 or not re.fullmatch(r"\d+", cells[0]):
             continue
-        for mod in re.findall(r"`([a-z0-9_]+)`", cells[1]):
+        for mod in re.findall(r"`([a-z0-9_]+\*?)`", cells[1]):
             if mod in layer_of:
                 sys.exit("check_layers: module %s is in two rows" % mod)
             layer_of[mod] = int(cells[0])
     return layer_of, free
 
 
-def header_module(name):
+def module_of(stem, layer_of):
+    """The table's module for a file stem: itself, or the family NAME* it is in."""
+    if stem in layer_of:
+        return stem
+    best = None
+    for mod in layer_of:
+        if mod.endswith("*"):
+            name = mod[:-1]
+            if (stem == name or stem.startswith(name + "_")) and (not best or len(mod) > len(best)):
+                best = mod
+    return best or stem
+
+
+def header_module(name, layer_of):
     stem = os.path.basename(name)[:-2] if name.endswith(".h") else name
     for suffix in ("_internal", "_testing"):
-        if stem.endswith(suffix):
+        if stem.endswith(suffix) and module_of(stem, layer_of) not in layer_of:
             stem = stem[: -len(suffix)]
-    return stem
+    return module_of(stem, layer_of)
 
 
 def nm(args, obj):
@@ -76,15 +91,15 @@ def main():
     lib = os.path.join(root, "src", "lib")
     inc = os.path.join(root, "include", "arrank")
     sources = sorted(f for f in os.listdir(lib) if f.endswith(".c"))
-    modules = [f[:-2] for f in sources]
-    for m in modules:
-        if m not in layer_of:
+    stems = [f[:-2] for f in sources]
+    for m in stems:
+        if module_of(m, layer_of) not in layer_of:
             breaches.append("src/lib/%s.c: module '%s' is in no layer of the table" % (m, m))
 
     def check_include(where, owner, target):
         if target in free:
             return
-        tm = header_module(target)
+        tm = header_module(target, layer_of)
         if tm not in layer_of:
             breaches.append("%s: includes %s, which belongs to no module in the table" % (where, target))
         elif owner in layer_of and tm != owner and layer_of[tm] >= layer_of[owner]:
@@ -99,29 +114,30 @@ def main():
         base = os.path.basename(rel)
         if base in free:
             continue
-        owner = header_module(base)
+        owner = header_module(base, layer_of)
         for target in INC.findall(open(path, encoding="utf-8").read()):
             check_include(rel, owner, os.path.basename(target))
 
     # calls, from the objects
     defined = {}
     objs = {}
-    for m in modules:
-        obj = os.path.join(o.objects, "src", "lib", m + ".o")
+    for stem in stems:
+        obj = os.path.join(o.objects, "src", "lib", stem + ".o")
         if not os.path.exists(obj):
             breaches.append("%s: not built (make BUILD=%s)" % (obj, o.objects))
             continue
-        objs[m] = obj
+        objs[stem] = obj
         for sym in nm(["--defined-only", "-g"], obj):
-            defined.setdefault(sym, m)
-    for m, obj in objs.items():
+            defined.setdefault(sym, module_of(stem, layer_of))
+    for stem, obj in objs.items():
+        m = module_of(stem, layer_of)
         for sym in sorted(set(nm(["-u"], obj))):
             d = defined.get(sym)
             if d is None or d == m or m not in layer_of or d not in layer_of:
                 continue
             if layer_of[d] >= layer_of[m]:
                 breaches.append("src/lib/%s.c: calls %s in %s (layer %d) from layer %d: not down"
-                                % (m, sym, d, layer_of[d], layer_of[m]))
+                                % (stem, sym, d, layer_of[d], layer_of[m]))
 
     # the program sees only the public headers
     cli = os.path.join(root, "src", "cli")
@@ -138,7 +154,7 @@ def main():
         print("check-layers: %d breach%s of the table in DEVELOPERS.md"
               % (len(breaches), "" if len(breaches) == 1 else "es"))
         return 1
-    print("check-layers: %d modules in %d layers, every include and call goes down"
+    print("check-layers: %d files in %d layers, every include and call goes down"
           % (len(objs), len(set(layer_of.values()))))
     return 0
 
