@@ -20,6 +20,7 @@
 #include <stddef.h>
 
 #include "arrank/error.h"
+#include "arrank/stats.h" /* arrank_t_quantile */
 
 /* Molar gas constant, J/(mol K): exact in the 2019 SI (N_A k; CODATA 2018). */
 #define ARRANK_R_J_MOL_K 8.31446261815324
@@ -135,7 +136,5 @@ typedef struct {
 arrank_status arrank_fit_predict(const arrank_arrhenius *fit, double temp_K, double confidence,
                                  arrank_prediction *pred, arrank_error *err);
 
-/* Two-sided t quantile t_{(1+confidence)/2, dof} (GSL gsl_cdf_tdist_Pinv). */
-double arrank_t_quantile(double confidence, double dof);
 
 #endif

@@ -5,7 +5,6 @@
 
 #include <gsl/gsl_cdf.h>
 
-#include "arrank/fit.h"
 #include "stats.h"
 
 #define MEMO_SIZE 16

@@ -1,6 +1,6 @@
 /*
  * stats.h - distribution quantiles and p-values for the whole library, inside
- * libarrank only (arrank_t_quantile is public, in arrank/fit.h).
+ * libarrank only (arrank_t_quantile is public: arrank/stats.h).
  *
  * One place for GSL's distribution functions.  Quantiles are remembered per
  * thread for the last few (kind, probability, dof) triples: a campaign asks
@@ -10,6 +10,8 @@
  */
 #ifndef ARRANK_STATS_H
 #define ARRANK_STATS_H
+
+#include "arrank/stats.h"
 
 /* Upper-tail t quantile: t with P(T > t) = tail (gsl_cdf_tdist_Qinv), cached. */
 double arrank_stats_t_upper(double tail, double dof);
