@@ -4,14 +4,15 @@
 #   tap_plan              the closing plan line, last thing a script prints
 # Each failure prints got/want as TAP diagnostics.
 tap_n=0
+# (Its variables start with tap_: a caller's own $name must survive the call.)
 ok_if() {
-    name=$1
+    tap_name=$1
     shift
     tap_n=$((tap_n + 1))
     if "$@"; then
-        echo "ok $tap_n - $name"
+        echo "ok $tap_n - $tap_name"
     else
-        echo "not ok $tap_n - $name"
+        echo "not ok $tap_n - $tap_name"
     fi
 }
 expect_eq() {

@@ -797,6 +797,8 @@ static const struct {
     {"missing-temperature-column", ARRANK_EPARSE, 1, 0},
     {"mixed-dimension", ARRANK_EUNIT, 3, 2},
     {"nan", ARRANK_EPARSE, 5, 2},
+    {"offset-ini-rate-unit", ARRANK_EUNIT, 2, 0},
+    {"offset-rate-unit", ARRANK_EUNIT, 3, 2},
     {"negative-rate", ARRANK_OK, 5, 0},
     {"no-csv", ARRANK_EDATA, 0, 0},
     {"non-numeric", ARRANK_EPARSE, 5, 1},

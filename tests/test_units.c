@@ -346,6 +346,43 @@ static void test_cache_replacement(void **state)
     }
 }
 
+/* udunits2 reads a shifted unit ('umol/(g*s) @ 5'); for a rate, its SD or a
+   metadata quantity that would move every value by the offset, so only
+   temperatures may carry one.  Logarithmic units are not linear at all. */
+static void test_offset_units(void **state)
+{
+    (void)state;
+    arrank_error err;
+    arrank_basis basis;
+    arrank_conversion c;
+    const char *rates[] = {"umol/(g*s) @ 5", "umol/(g*s)@1", "1/s @ 0.5", "mol/(m2*s) @ -2"};
+    for (size_t i = 0; i < sizeof rates / sizeof rates[0]; i++) {
+        arrank_error_clear(&err);
+        assert_int_equal(arrank_units_rate(units, rates[i], &basis, &c, &err), ARRANK_EUNIT);
+        assert_non_null(strstr(err.message, "has an offset"));
+    }
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_units_conversion(units, "umol/(g*s) @ 1", "umol/(g*s)", &c, &err),
+                     ARRANK_EUNIT);
+    assert_non_null(strstr(err.message, "has an offset"));
+    arrank_error_clear(&err);
+    double v;
+    assert_int_equal(arrank_units_parse_quantity(units, "0.25 mm @ 1", "m", &v, &err),
+                     ARRANK_EUNIT);
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_units_rate(units, "lg(re umol/(g*s))", &basis, &c, &err),
+                     ARRANK_EUNIT);
+    /* Temperatures keep their offsets: 25 degC is 298.15 K (exact by definition). */
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_units_conversion(units, "degC", "K", &c, &err), ARRANK_OK);
+    check_close(c.scale * 25.0 + c.offset, 298.15, REL_TOL, "25 degC", "exact by definition");
+    /* A plain multiple still converts. */
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_units_conversion(units, "umol/(g*s)", "mol/(kg*s)", &c, &err),
+                     ARRANK_OK);
+    assert_true(c.offset == 0.0);
+}
+
 static void test_arguments(void **state)
 {
     (void)state;
@@ -467,6 +504,7 @@ int main(void)
         cmocka_unit_test(test_conversion_errors),
         cmocka_unit_test(test_parse_quantity),
         cmocka_unit_test(test_cache_replacement),
+        cmocka_unit_test(test_offset_units),
         cmocka_unit_test(test_arguments),
         cmocka_unit_test(test_background),
     };

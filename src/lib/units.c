@@ -210,10 +210,15 @@ static ut_unit *parse_unit(arrank_units *units, const char *norm, const char *sh
 /*
  * Affine conversion between two convertible units.  The scale is measured
  * away from the offset (at 1e6) so that for degF -> K it is not the
- * difference of two numbers near 255.
+ * difference of two numbers near 255.  Only temperatures may have an offset
+ * (allow_offset): udunits2 also reads a shifted unit such as
+ * 'umol/(g*s) @ 5', which for a rate, its SD or a metadata quantity would
+ * silently move every value, so those must be plain multiples.  Logarithmic
+ * units fail the linearity check.
  */
 static arrank_status affine(const ut_unit *from, const ut_unit *to, const char *shown_from,
-                            const char *shown_to, arrank_conversion *conv, arrank_error *err)
+                            const char *shown_to, int allow_offset, arrank_conversion *conv,
+                            arrank_error *err)
 {
     cv_converter *cv = ut_get_converter((ut_unit *)from, (ut_unit *)to);
     if (!cv)
@@ -228,6 +233,11 @@ static arrank_status affine(const ut_unit *from, const ut_unit *to, const char *
     if (!isfinite(scale) || !isfinite(offset) || scale == 0.0 ||
         fabs(at2 - want2) > 1e-9 * (fabs(want2) + fabs(offset) + 1e-300))
         return arrank_errorf(err, ARRANK_EUNIT, "unit '%s' is not a linear unit", shown_from);
+    if (offset != 0.0 && !allow_offset)
+        return arrank_errorf(err, ARRANK_EUNIT,
+                             "unit '%s' has an offset from '%s' (such as '@'): only a "
+                             "temperature may; this must be a plain multiple of its unit",
+                             shown_from, shown_to);
     conv->scale = scale;
     conv->offset = offset;
     return ARRANK_OK;
@@ -302,7 +312,7 @@ static arrank_status classify_temperature(const arrank_units *units, const ut_un
 {
     if (!ut_are_convertible(u, units->kelvin))
         return arrank_errorf(err, ARRANK_EUNIT, "'%s' is not a temperature unit", shown);
-    return affine(u, units->kelvin, shown, "K", conv, err);
+    return affine(u, units->kelvin, shown, "K", 1, conv, err);
 }
 
 /* A rate unit: its basis, which follows from the dimension alone (SI: amount,
@@ -324,7 +334,7 @@ static arrank_status classify_rate(const arrank_units *units, const ut_unit *u,
         if (!ut_are_convertible(u, bases[i].si))
             continue;
         *basis = bases[i].basis;
-        return affine(u, bases[i].si, shown, bases[i].si_name, conv, err);
+        return affine(u, bases[i].si, shown, bases[i].si_name, 0, conv, err);
     }
     return arrank_errorf(err, ARRANK_EUNIT,
                          "'%s' is not a rate per mass, area or site "
@@ -413,7 +423,7 @@ static arrank_status units_conversion(arrank_units *units, const char *from, con
     if (!ut_are_convertible(uf, ut))
         st = arrank_errorf(err, ARRANK_EUNIT, "unit '%s' is not convertible to '%s'", from, to);
     else
-        st = affine(uf, ut, from, to, &c, err);
+        st = affine(uf, ut, from, to, ut_are_convertible(uf, units->kelvin), &c, err);
     ut_free(uf);
     ut_free(ut);
     if (st != ARRANK_OK)
