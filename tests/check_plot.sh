@@ -160,9 +160,9 @@ ARRANK_GNUPLOT="$T/fakegp" "$A" plot "$DEMO" --at 270C --out "$T/fail" >/dev/nul
 expect_eq "failing gnuplot: exit 4" "$st" 4
 ok_if "failing gnuplot: its own message is shown" \
     grep -q "fake-gnuplot: line 12: simulated failure on this figure" "$T/fail.err"
-ok_if "failing gnuplot: results.json still written" test -s "$T/fail/results.json"
-ok_if "failing gnuplot: no figure and no temporary left" \
-    sh -c "! ls -a '$T/fail' | grep -q -e svg -e tmp"
+ok_if "failing gnuplot: all or nothing, so no output folder at all" test ! -e "$T/fail"
+ok_if "failing gnuplot: no private folder left beside it" \
+    sh -c "! ls -a '$T' | grep -q arrank-"
 # A real gnuplot error: a program that is gnuplot but exits on a bad command.
 cat >"$T/badgp" <<'EOF'
 #!/bin/sh

@@ -7,6 +7,7 @@
 #define ARRANK_CLI_H
 
 #include <stddef.h>
+#include <stdio.h>
 
 #include "arrank/analysis.h"
 #include "arrank/campaign.h"
@@ -113,6 +114,27 @@ int cli_write_outputs(const cli_args *args, const cli_session *session);
 int cli_make_out_dir(const char *dir);
 char *cli_default_out_dir(const arrank_campaign *campaign);
 unsigned cli_plot_formats(const cli_args *args);
+
+/*
+ * Outputs, all or nothing (stage.c).  cli_stage_begin names the campaign
+ * whose folder and inputs are never written.  cli_stage_file stages one
+ * output file (a temporary made with mkstemp beside it) and returns the
+ * stream to write it to; cli_stage_dir stages a whole output folder (a
+ * private folder made with mkdtemp) and returns the folder to write into.
+ * Both refuse a destination that is an input or inside the campaign folder
+ * (EXIT_USAGE) and return NULL with *rc set (already printed); otherwise *rc
+ * is -1.  cli_stage_commit, after every output of the run is written,
+ * creates missing folders and renames everything into place (-1, or an exit
+ * status with everything removed); cli_stage_abort removes every temporary.
+ * SIGINT, SIGTERM and SIGHUP remove them too.  cli_stage_check only checks a
+ * destination (-1 or an exit status, printed).
+ */
+void cli_stage_begin(const arrank_campaign *campaign);
+int cli_stage_check(const char *path, int is_dir);
+FILE *cli_stage_file(const char *path, int *rc);
+const char *cli_stage_dir(const char *dir, int *rc);
+int cli_stage_commit(void);
+void cli_stage_abort(void);
 
 /*
  * The whole of `fit` and `rank` after parsing: open the session, print the

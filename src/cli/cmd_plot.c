@@ -39,44 +39,16 @@ static const char usage[] =
     "  --errors, --model, --seed, --draws, --pairs, --bootstrap, --normal\n"
     "                      as for 'arrank rank'\n"
     "\n"
-    "gnuplot is run from ARRANK_GNUPLOT if set, else found on PATH.\n"
+    "gnuplot is run from ARRANK_GNUPLOT if set, else found on PATH.  Every\n"
+    "file is written to a private folder first and moved into DIR only when\n"
+    "all of them are written: a run that fails writes nothing.  DIR may not\n"
+    "be the campaign folder or inside it.\n"
     "\n"
-    "Exit status: 0 ok, 1 bad input data or nothing fittable, 2 usage,\n"
-    "3 a file could not be read or written, 4 gnuplot failed on a figure (its\n"
-    "message is shown), 5 gnuplot not found (results.json and results.csv are\n"
-    "still written; install it with 'apt-get install gnuplot-nox').\n";
-
-int cli_make_out_dir(const char *dir)
-{
-    char *p = strdup(dir);
-    if (!p) {
-        cli_fail("out of memory");
-        return EXIT_IO;
-    }
-    /* mkdir -p: each prefix in turn; an existing folder is fine. */
-    for (char *s = p + 1;; s++) {
-        if (*s == '/' || *s == '\0') {
-            char c = *s;
-            *s = '\0';
-            struct stat st;
-            if (mkdir(p, 0777) != 0 && errno != EEXIST) {
-                cli_fail("%s: cannot make the folder: %s", p, strerror(errno));
-                free(p);
-                return EXIT_IO;
-            }
-            if (stat(p, &st) != 0 || !S_ISDIR(st.st_mode)) {
-                cli_fail("%s: is not a folder", p);
-                free(p);
-                return EXIT_IO;
-            }
-            *s = c;
-            if (c == '\0')
-                break;
-        }
-    }
-    free(p);
-    return -1;
-}
+    "Exit status: 0 ok, 1 bad input data or nothing fittable, 2 usage (also an\n"
+    "output inside the campaign folder), 3 a file could not be read or written,\n"
+    "4 gnuplot failed on a figure (its message is shown; nothing is written),\n"
+    "5 gnuplot not found (results.json and results.csv are still written;\n"
+    "install it with 'apt-get install gnuplot-nox').\n";
 
 char *cli_default_out_dir(const arrank_campaign *campaign)
 {
@@ -142,30 +114,43 @@ int cmd_plot(int argc, char **argv)
         cli_session_free(&s);
         return EXIT_IO;
     }
-    rc = cli_make_out_dir(dir);
+    /* everything goes into a private folder first, moved into dir only
+       when every file is written (stage.c) */
+    cli_stage_begin(s.campaign);
+    const char *priv = cli_stage_dir(dir, &rc);
+    if (priv)
+        rc = save(&s, priv, "results.json", ARRANK_OUTPUT_JSON);
     if (rc == -1)
-        rc = save(&s, dir, "results.json", ARRANK_OUTPUT_JSON);
-    if (rc == -1)
-        rc = save(&s, dir, "results.csv", ARRANK_OUTPUT_CSV);
+        rc = save(&s, priv, "results.csv", ARRANK_OUTPUT_CSV);
+    arrank_plot_files files = {0};
     if (rc == -1) {
         cli_report_unfitted(&s);
         arrank_plot_options po = arrank_plot_defaults();
         po.formats = cli_plot_formats(&args);
-        arrank_plot_files files;
         arrank_error err;
         arrank_error_clear(&err);
-        arrank_status st = arrank_plot_write(s.analysis, dir, &po, &files, &err);
+        arrank_status st = arrank_plot_write(s.analysis, priv, &po, &files, &err);
         if (st != ARRANK_OK) {
             cli_print_error(&err);
             rc = cli_exit_status(st, &err);
-        } else {
-            printf("%s/results.json\n%s/results.csv\n", dir, dir);
-            for (size_t k = 0; k < files.n; k++)
-                printf("%s\n", files.files[k].path);
-            arrank_plot_files_clear(&files);
-            rc = fflush(stdout) == 0 ? EXIT_OK : EXIT_IO;
         }
+        /* without gnuplot the results are still worth having (exit 5) */
+        if (st == ARRANK_ENOGNUPLOT && (rc = cli_stage_commit()) == -1)
+            rc = cli_exit_status(st, &err);
     }
+    if (rc == -1)
+        rc = cli_stage_commit();
+    else
+        cli_stage_abort();
+    if (rc == -1) {
+        printf("%s/results.json\n%s/results.csv\n", dir, dir);
+        for (size_t k = 0; k < files.n; k++) {
+            const char *slash = strrchr(files.files[k].path, '/');
+            printf("%s/%s\n", dir, slash ? slash + 1 : files.files[k].path);
+        }
+        rc = fflush(stdout) == 0 ? EXIT_OK : EXIT_IO;
+    }
+    arrank_plot_files_clear(&files);
     free(dir);
     cli_session_free(&s);
     return rc;

@@ -2,6 +2,7 @@
  * cmd_report.c - `arrank report CAMPAIGN --at T --out DIR`: the self-contained
  * review report, DIR/report.html.
  */
+#include <limits.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -88,32 +89,42 @@ int cmd_report(int argc, char **argv)
         return rc;
     char *dir = args.out_dir ? strdup(args.out_dir) : cli_default_out_dir(s.campaign);
     char *cmd = command_line(argc, argv);
-    char *path = dir ? malloc(strlen(dir) + 16) : NULL;
+    char *path = dir ? malloc(strlen(dir) + PATH_MAX + 16) : NULL; /* dir's or the private folder's */
     if (!dir || !cmd || !path) {
         cli_fail("out of memory");
         rc = EXIT_IO;
         goto done;
     }
-    rc = cli_make_out_dir(dir);
-    if (rc != -1)
+    cli_stage_begin(s.campaign);
+    const char *priv = cli_stage_dir(dir, &rc);
+    if (!priv)
         goto done;
     cli_report_unfitted(&s);
-    sprintf(path, "%s/report.html", dir);
+    sprintf(path, "%s/report.html", priv);
     arrank_report_options ro = arrank_report_defaults();
     ro.command_line = cmd;
     arrank_error err;
     arrank_error_clear(&err);
     arrank_status st = arrank_report_write(s.analysis, path, &ro, &err);
+    sprintf(path, "%s/report.html", dir);
     if (st == ARRANK_EPLOT || st == ARRANK_ENOGNUPLOT) {
+        /* the page is still written, with a note where the figures were */
         cli_print_error(&err);
-        cli_fail("%s written without figures", path);
-        rc = cli_exit_status(st, &err);
+        rc = cli_stage_commit();
+        if (rc == -1) {
+            cli_fail("%s written without figures", path);
+            rc = cli_exit_status(st, &err);
+        }
     } else if (st != ARRANK_OK) {
         cli_print_error(&err);
+        cli_stage_abort();
         rc = cli_exit_status(st, &err);
     } else {
-        printf("%s\n", path);
-        rc = fflush(stdout) == 0 ? EXIT_OK : EXIT_IO;
+        rc = cli_stage_commit();
+        if (rc == -1) {
+            printf("%s\n", path);
+            rc = fflush(stdout) == 0 ? EXIT_OK : EXIT_IO;
+        }
     }
 done:
     free(path);

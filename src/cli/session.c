@@ -171,6 +171,22 @@ void cli_report_unfitted(const cli_session *s)
     }
 }
 
+/* The --json/--csv destinations: refused before any work is shown when one
+   is an input or inside the campaign folder.  -1 or an exit status. */
+static int check_outputs(const cli_args *args, const cli_session *s)
+{
+    cli_stage_begin(s->campaign);
+    const char *paths[] = {args->json_path, args->csv_path};
+    for (size_t i = 0; i < sizeof paths / sizeof paths[0]; i++) {
+        if (!paths[i] || strcmp(paths[i], "-") == 0)
+            continue;
+        int rc = cli_stage_check(paths[i], 0);
+        if (rc != -1)
+            return rc;
+    }
+    return -1;
+}
+
 int cli_write_outputs(const cli_args *args, const cli_session *s)
 {
     arrank_error err;
@@ -179,16 +195,27 @@ int cli_write_outputs(const cli_args *args, const cli_session *s)
         const char *path;
         arrank_output_format format;
     } out[] = {{args->json_path, ARRANK_OUTPUT_JSON}, {args->csv_path, ARRANK_OUTPUT_CSV}};
-    for (size_t i = 0; i < 2; i++) {
+    cli_stage_begin(s->campaign);
+    for (size_t i = 0; i < sizeof out / sizeof out[0]; i++) {
         if (!out[i].path)
             continue;
-        arrank_status st = arrank_output_save(s->analysis, out[i].format, out[i].path, &err);
+        int to_stdout = strcmp(out[i].path, "-") == 0;
+        int rc = -1;
+        FILE *f = to_stdout ? stdout : cli_stage_file(out[i].path, &rc);
+        if (!f) {
+            cli_stage_abort();
+            return rc;
+        }
+        arrank_status st = arrank_output_write(s->analysis, out[i].format, f, &err);
+        if (st == ARRANK_OK && to_stdout && fflush(stdout) != 0)
+            st = arrank_errorf(&err, ARRANK_EIO, "cannot write to standard output");
         if (st != ARRANK_OK) {
             cli_print_error(&err);
+            cli_stage_abort();
             return cli_exit_status(st, &err);
         }
     }
-    return -1;
+    return cli_stage_commit();
 }
 
 int cli_analyse_and_print(cli_args *args, int need_T)
@@ -197,6 +224,11 @@ int cli_analyse_and_print(cli_args *args, int need_T)
     int rc = cli_session_open(args, need_T, &s);
     if (rc != -1)
         return rc;
+    rc = check_outputs(args, &s);
+    if (rc != -1) {
+        cli_session_free(&s);
+        return rc;
+    }
     arrank_error err;
     arrank_error_clear(&err);
     /* JSON or CSV on stdout replaces the table there */
