@@ -107,4 +107,17 @@ expect_eq "gnuplot runs in a private folder made by mkdtemp" "$gp_private" yes
 ok_if "gnuplot's script names no path outside its folder" \
     sh -c "! grep '^set output' '$T/gp.script' | grep -q /"
 
+# ---- messages: text from files cannot reach the terminal raw ----------------
+mkdir "$T/esc"
+printf '# sample = X\033[2J\n# mass = 40 mg\nT [degC],rate [umol/(g*s)]\n231,0.4\n245,0.8\n' \
+    >"$T/esc/a
+b.csv"
+cp "$C/ZN-01.csv" "$T/esc/good.csv"
+"$A" fit "$T/esc" >/dev/null 2>"$T/err"
+expect_eq "a file name with a newline: the message stays one line" "$(wc -l <"$T/err")" 1
+ok_if "a file name with a newline: shown escaped" grep -q 'a\\nb.csv' "$T/err"
+ok_if "an id with ESC: shown escaped as backslash 033" grep -q "sample 'X\\\\033\[2J'" "$T/err"
+ok_if "an id with ESC: no raw ESC byte on the terminal" \
+    sh -c "! grep -q \"\$(printf '\033')\" '$T/err'"
+
 tap_plan

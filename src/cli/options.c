@@ -13,6 +13,7 @@
 #include <string.h>
 
 #include "arrank/version.h"
+#include "arrank/text.h"
 #include "cli.h"
 
 typedef struct {
@@ -42,14 +43,20 @@ static const option_spec option_table[] = {
     {"--format", OPT_FORMAT, 1},
 };
 
+/* Every message is one line on the terminal: whatever reached it from a
+   file (ids, units, file names) is shown with its control characters and
+   invalid bytes escaped (arrank/text.h), so that a name cannot clear the
+   screen or split the message. */
 void cli_fail(const char *fmt, ...)
 {
+    char msg[ARRANK_ERROR_PATH_MAX + ARRANK_ERROR_MSG_MAX + 256];
+    char shown[4 * sizeof msg];
     va_list ap;
-    fputs("arrank: ", stderr);
     va_start(ap, fmt);
-    vfprintf(stderr, fmt, ap);
+    vsnprintf(msg, sizeof msg, fmt, ap);
     va_end(ap);
-    fputc('\n', stderr);
+    arrank_text_escape(msg, shown, sizeof shown);
+    fprintf(stderr, "arrank: %s\n", shown);
 }
 
 void cli_print_error(const arrank_error *err)

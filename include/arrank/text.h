@@ -1,0 +1,23 @@
+/*
+ * arrank/text.h - text from files made safe to show on a terminal or in a log.
+ */
+#ifndef ARRANK_TEXT_H
+#define ARRANK_TEXT_H
+
+#include <stddef.h>
+
+/*
+ * Copy text into out (n bytes, always NUL-terminated when n > 0) with every
+ * control character written as an escape a reader can see: \n, \r, \t, \\
+ * stays as it is, and any other byte below 0x20 or 0x7f as \ooo in octal
+ * (ESC is \033).  Bytes that are not valid UTF-8 are written as \xHH; valid
+ * UTF-8 (°C, µmol) passes unchanged.  A cut never splits an escape or a
+ * character.  Returns the length the whole escaped text needs (without the
+ * NUL), so a return value >= n means it was cut.
+ */
+size_t arrank_text_escape(const char *text, char *out, size_t n);
+
+/* 1 when text is valid UTF-8 with no control character, else 0. */
+int arrank_text_is_clean(const char *text);
+
+#endif
