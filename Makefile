@@ -134,13 +134,55 @@ $(BUILD)/%.o: %.c
 	@mkdir -p $(dir $@)
 	$(CC) $(CPPFLAGS) $(ALL_CFLAGS) -c -o $@ $<
 
-install: all
-	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/lib $(DESTDIR)$(PREFIX)/include/arrank
+# Installed like a Unix tool (README "Installing"): the program, its manual
+# page and bash completion (both made from the program's own --help texts),
+# the static and the shared library with its soname, the public headers and
+# a pkg-config file.  PREFIX and DESTDIR as usual.
+VERSION    := $(shell sed -n 's/^\#define ARRANK_VERSION "\(.*\)"/\1/p' include/arrank/version.h)
+SOVERSION  := 0
+PIC_OBJ    := $(LIB_SRC:%.c=$(BUILD)/pic/%.o)
+SHLIB      := $(BUILD)/libarrank.so.$(VERSION)
+MAN_DATE   := $(shell git log -1 --format=%ct 2>/dev/null)
+
+$(BUILD)/pic/%.o: %.c
+	@mkdir -p $(dir $@)
+	$(CC) $(CPPFLAGS) $(ALL_CFLAGS) -fPIC -c -o $@ $<
+
+$(SHLIB): $(PIC_OBJ)
+	$(CC) $(ALL_CFLAGS) -shared -Wl,-soname,libarrank.so.$(SOVERSION) -o $@ $(PIC_OBJ) $(LDLIBS)
+
+$(BUILD)/arrank.1: $(ARRANK) src/tools/mkman.sh
+	SOURCE_DATE_EPOCH="$${SOURCE_DATE_EPOCH:-$(MAN_DATE)}" sh src/tools/mkman.sh $(ARRANK) >$@.tmp
+	mv $@.tmp $@
+
+$(BUILD)/arrank.bash: $(ARRANK) src/tools/mkcompletion.sh
+	sh src/tools/mkcompletion.sh $(ARRANK) >$@.tmp
+	mv $@.tmp $@
+
+$(BUILD)/arrank.pc: Makefile include/arrank/version.h
+	@mkdir -p $(dir $@)
+	printf '%s\n' 'prefix=$(PREFIX)' 'exec_prefix=$${prefix}' 'libdir=$${exec_prefix}/lib' \
+	    'includedir=$${prefix}/include' '' 'Name: arrank' \
+	    'Description: Arrhenius fits, diagnostics and rankings for catalyst screening campaigns' \
+	    'Version: $(VERSION)' 'Requires.private: $(PKGS)' 'Libs: -L$${libdir} -larrank' \
+	    'Libs.private: -lcsv -lm -pthread' 'Cflags: -I$${includedir}' >$@
+
+install: all $(SHLIB) $(BUILD)/arrank.1 $(BUILD)/arrank.bash $(BUILD)/arrank.pc
+	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/lib/pkgconfig \
+	    $(DESTDIR)$(PREFIX)/include/arrank $(DESTDIR)$(PREFIX)/share/man/man1 \
+	    $(DESTDIR)$(PREFIX)/share/bash-completion/completions
 	install -m 755 $(ARRANK) $(DESTDIR)$(PREFIX)/bin/arrank
 	install -m 644 $(LIB) $(DESTDIR)$(PREFIX)/lib/libarrank.a
+	install -m 755 $(SHLIB) $(DESTDIR)$(PREFIX)/lib/
+	ln -sf libarrank.so.$(VERSION) $(DESTDIR)$(PREFIX)/lib/libarrank.so.$(SOVERSION)
+	ln -sf libarrank.so.$(SOVERSION) $(DESTDIR)$(PREFIX)/lib/libarrank.so
 	install -m 644 include/arrank/*.h $(DESTDIR)$(PREFIX)/include/arrank/
+	install -m 644 $(BUILD)/arrank.pc $(DESTDIR)$(PREFIX)/lib/pkgconfig/arrank.pc
+	install -m 644 $(BUILD)/arrank.1 $(DESTDIR)$(PREFIX)/share/man/man1/arrank.1
+	install -m 644 $(BUILD)/arrank.bash \
+	    $(DESTDIR)$(PREFIX)/share/bash-completion/completions/arrank
 
 clean:
 	rm -rf build build-*
 
--include $(LIB_OBJ:.o=.d) $(CLI_OBJ:.o=.d) $(TEST_BIN:=.d)
+-include $(LIB_OBJ:.o=.d) $(CLI_OBJ:.o=.d) $(TEST_BIN:=.d) $(PIC_OBJ:.o=.d)
