@@ -43,7 +43,6 @@
 #include "arrank/groups.h"
 #include "arrank/pbest.h"
 #include "../src/lib/rank_out.h"
-#include "../src/lib/util.h"
 #include "helpers.h"
 
 #define R_GAS ARRANK_R_J_MOL_K
@@ -935,14 +934,12 @@ static void test_groups_exact_holm(void **state)
 }
 
 /*
- * The pair set-up, the first sweep and the exact p-values run on worker
- * threads (groups.c); the groups must not depend on how many.  Forced to 1, 2
- * and 5 workers (arrank_workers_force; forced workers take part wherever
- * there is work, even a few open pairs), on campaigns made as above and on
- * Holm's boundary, the groups and n_tests must be identical and equal to the
- * reference by the definition.
+ * Campaigns of up to ARRANK_GROUP_MAX + 75 samples with mixed dof (normal
+ * ones too), exactly known keys and ties, at the case's level and a hair
+ * either side of an adjusted p (Holm's boundary): the groups and n_tests
+ * must equal the reference by the definition.
  */
-static void test_groups_workers(void **state)
+static void test_groups_campaigns(void **state)
 {
     (void)state;
     const struct {
@@ -954,18 +951,13 @@ static void test_groups_workers(void **state)
         {333, 0.25, 0.10, 0xD1CE}, {17, 0.9, 0.05, 0x17}, {2, 3.1, 0.05, 0x2},
     };
     const double dofs[] = {2, 3, 4, 6, 9, 13, 21, 55, INFINITY};
-    const size_t workers[3] = {1, 2, 5};
     size_t probes = 0;
     for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
         const size_t n = cases[c].n;
         double *key = malloc(n * sizeof *key), *se = malloc(n * sizeof *se);
         double *dof = malloc(n * sizeof *dof);
-        int *g[3], *want = malloc(n * sizeof *want);
-        assert_true(key && se && dof && want);
-        for (int w = 0; w < 3; w++) {
-            g[w] = malloc(n * sizeof *g[w]);
-            assert_non_null(g[w]);
-        }
+        int *g = malloc(n * sizeof *g), *want = malloc(n * sizeof *want);
+        assert_true(key && se && dof && g && want);
         uint64_t s = cases[c].seed;
         double k = 2.71;
         for (size_t i = 0; i < n; i++) {
@@ -991,20 +983,13 @@ static void test_groups_workers(void **state)
         for (size_t a = 0; a < 3; a++) {
             if (isnan(alphas[a]))
                 continue;
-            size_t m[3];
-            for (int w = 0; w < 3; w++) {
-                arrank_workers_force((int)workers[w]);
-                assert_int_equal(arrank_groups_run(key, se, dof, n, alphas[a], g[w], &m[w], NULL),
-                                 ARRANK_OK);
-            }
-            arrank_workers_force(0);
+            size_t m = 0;
+            assert_int_equal(arrank_groups_run(key, se, dof, n, alphas[a], g, &m, NULL),
+                             ARRANK_OK);
             groups_reference(adj, n, alphas[a], want);
-            for (int w = 0; w < 3; w++) {
-                assert_int_equal(m[w], G * (G - 1) / 2);
-                assert_memory_equal(g[w], want, n * sizeof *want);
-            }
-            printf("# %zu samples, alpha %.6g: %d groups on 1, 2 and 5 workers\n", n, alphas[a],
-                   want[G - 1]);
+            assert_int_equal(m, G * (G - 1) / 2);
+            assert_memory_equal(g, want, n * sizeof *want);
+            printf("# %zu samples, alpha %.6g: %d groups\n", n, alphas[a], want[G - 1]);
             probes += a > 0;
         }
         free(adj);
@@ -1012,8 +997,7 @@ static void test_groups_workers(void **state)
         free(se);
         free(dof);
         free(want);
-        for (int w = 0; w < 3; w++)
-            free(g[w]);
+        free(g);
     }
     assert_true(probes >= 4);
 }
@@ -1544,7 +1528,7 @@ int main(void)
         cmocka_unit_test(test_groups),
         cmocka_unit_test(test_groups_capped),
         cmocka_unit_test(test_groups_exact_holm),
-        cmocka_unit_test(test_groups_workers),
+        cmocka_unit_test(test_groups_campaigns),
         cmocka_unit_test(test_compensation_real),
         cmocka_unit_test(test_compensation_artifact),
         cmocka_unit_test(test_bootstrap_vs_delta),

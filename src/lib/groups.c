@@ -5,7 +5,6 @@
 #include "arrank/groups.h"
 
 #include <math.h>
-#include <stdatomic.h>
 #include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
@@ -13,7 +12,6 @@
 #include <gsl/gsl_sort.h>
 
 #include "stats.h"
-#include "util.h"
 
 arrank_status arrank_groups_holm(const double *p, size_t m, double *adj, arrank_error *err)
 {
@@ -166,22 +164,8 @@ static int compare_double(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
-/*
- * The pair set-up and the first sweep, which settles most pairs, are one pass
- * over the triangle, split into bands of rows that worker threads take from a
- * shared counter (util.c).  The first sweep's levels depend only on the pairs
- * with no variance at all (both se 0), which are counted before it; within a
- * sweep every decision depends only on the pair and the sweep's two levels,
- * so each worker decides its pairs alone, with its own copy of the cell
- * quantiles (the same function of the same numbers), and the open pairs of
- * each band are kept in row order.  The answer is the same on any number of
- * workers; tests/test_rank.c runs 1, 2 and 5.  The later sweeps touch only
- * the pairs the first left open (a fifth on the bench campaign), on one
- * thread; the exact p-values of the few still open after them (about 1 %)
- * go to the workers again, each p to its own pair.
- */
-
-/* A pair whose decision is still open: (i, j), i < j, its z and dof cell. */
+/* A pair whose decision is still open: (i, j), i < j, its z (later its p) and
+   dof cell. */
 typedef struct {
     double z;
     uint16_t i, j;
@@ -196,117 +180,150 @@ static size_t pair_at(size_t G, size_t i, size_t j)
     return i * (2 * G - i - 1) / 2 + (j - i - 1);
 }
 
-/* Pairs per band of rows: enough work to be worth a trip to the shared counter. */
-#define BAND_PAIRS 2048
-/* Pairs below which the set-up stays on the calling thread (thread start costs
-   about as much as a few thousand pairs). */
-#define PAIRS_PER_WORKER 16384
-
+/* Holm's family among the first G samples, as the steps below settle it. */
 typedef struct {
-    size_t row0, row1;    /* rows [row0, row1) */
-    size_t n_open;        /* open pairs, written at opened[pair_at(G, row0, row0 + 1)] on */
-    size_t n_rej, n_keep; /* settled by the first sweep (pairs with variance only) */
-} pair_band;
+    const double *key, *key_se, *dof;
+    size_t G, m;
+    double alpha;
+    unsigned char *state; /* [m] at pair_at: PAIR_OPEN, _REJECTED or _KEPT */
+    open_pair *opened;    /* [n_open] the pairs still open, in row order */
+    size_t n_open;
+    size_t k_lo, k_hi;    /* rejections known; an upper bound on them */
+    dof_cells dc;
+} holm_family;
 
-typedef struct {
-    const double *key, *s2, *q4; /* key, se^2 and se^4/dof (0 for infinite dof) of each sample */
-    size_t G, m, n_bands;
-    double a_lo, a_hi;           /* the first sweep's levels */
-    const dof_cells *dc;
-    pair_band *band;
-    unsigned char *state;        /* [m] */
-    open_pair *opened;           /* [m]: each band writes its open pairs at its own place */
-    atomic_size_t next;
-} pair_job;
-
-/* One band: every pair's z and cell, and the first sweep's bounds on it (above). */
-static void pair_band_run(pair_job *pj, pair_band *b, double *crit_rej, double *crit_keep)
+/* Step 1: every pair's z and dof cell.  A pair with no variance at all (both
+   se 0) is settled here, with pair_p's exact answer and without a CDF. */
+static void pairs_set_up(holm_family *h)
 {
-    const size_t G = pj->G;
-    const double *key = pj->key, *s2 = pj->s2, *q4 = pj->q4;
-    open_pair *out = pj->opened + pair_at(G, b->row0, b->row0 + 1);
-    size_t n_open = 0, n_rej = 0, n_keep = 0;
-    for (size_t i = b->row0; i < b->row1; i++) {
-        unsigned char *st = pj->state + pair_at(G, i, i + 1); /* st[j - i - 1]: pair (i, j) */
+    const size_t G = h->G;
+    for (size_t i = 0; i < G; i++) {
+        const double si = h->key_se[i];
+        const double s2i = si * si;
+        const double q4i = isfinite(h->dof[i]) ? si * si * si * si / h->dof[i] : 0.0;
         for (size_t j = i + 1; j < G; j++) {
-            const double v = s2[i] + s2[j];
-            const double d = fabs(key[i] - key[j]);
-            if (!(v > 0)) { /* pair_p's exact answers without a CDF, counted beforehand */
-                st[j - i - 1] = d > 0 ? PAIR_REJECTED : PAIR_KEPT;
+            const double sj = h->key_se[j];
+            const double v = s2i + sj * sj;
+            const double d = fabs(h->key[i] - h->key[j]);
+            unsigned char *st = &h->state[pair_at(G, i, j)];
+            if (!(v > 0)) {
+                *st = d > 0 ? PAIR_REJECTED : PAIR_KEPT;
+                if (d > 0)
+                    h->k_lo++;
+                else
+                    h->k_hi--;
                 continue;
             }
-            const double z = d / sqrt(v);
-            /* welch_dof: den is (0 + q_i) + q_j there, 0 + q = q exactly */
-            const double den = q4[i] + q4[j];
-            const unsigned c = cell_of(den > 0 ? v * v / den : INFINITY);
-            /* k_lo < m holds for any pair still open, so the bound applies */
-            if (crit_rej[c] < 0)
-                crit_rej[c] = two_sided_crit(pj->a_lo, pj->dc->lo[c]) * (1.0 + Z_MARGIN);
-            if (z >= crit_rej[c]) {
-                st[j - i - 1] = PAIR_REJECTED;
-                n_rej++;
-                continue;
-            }
-            if (pj->a_hi < 1) {
-                if (crit_keep[c] < 0)
-                    crit_keep[c] = two_sided_crit(pj->a_hi, pj->dc->hi[c]) * (1.0 - Z_MARGIN);
-                if (z < crit_keep[c]) {
-                    st[j - i - 1] = PAIR_KEPT;
-                    n_keep++;
+            /* welch_dof's denominator, rounded as welch_dof rounds it */
+            const double den = q4i + (isfinite(h->dof[j]) ? sj * sj * sj * sj / h->dof[j] : 0.0);
+            *st = PAIR_OPEN;
+            h->opened[h->n_open++] =
+                (open_pair){d / sqrt(v), (uint16_t)i, (uint16_t)j,
+                            (unsigned char)cell_of(den > 0 ? v * v / den : INFINITY)};
+        }
+    }
+}
+
+/* Step 2: sweep with bounds on p until nothing more settles (see above);
+   crit < 0: not yet computed for this sweep. */
+static void sweep_bounds(holm_family *h)
+{
+    double crit_rej[N_CELLS], crit_keep[N_CELLS];
+    const size_t m = h->m;
+    for (int changed = 1; changed && h->n_open > 0;) {
+        changed = 0;
+        const double a_lo = h->alpha / (double)(m - h->k_lo);
+        const double a_hi = h->alpha / (double)(m - h->k_hi + 1);
+        for (size_t c = 0; c < N_CELLS; c++)
+            crit_rej[c] = crit_keep[c] = -1.0;
+        size_t still = 0;
+        for (size_t q = 0; q < h->n_open; q++) {
+            const open_pair *o = &h->opened[q];
+            const unsigned c = o->cell;
+            unsigned char *st = &h->state[pair_at(h->G, o->i, o->j)];
+            if (h->k_lo < m) {
+                if (crit_rej[c] < 0)
+                    crit_rej[c] = two_sided_crit(a_lo, h->dc.lo[c]) * (1.0 + Z_MARGIN);
+                if (o->z >= crit_rej[c]) {
+                    *st = PAIR_REJECTED;
+                    h->k_lo++;
+                    changed = 1;
                     continue;
                 }
             }
-            st[j - i - 1] = PAIR_OPEN;
-            out[n_open++] = (open_pair){z, (uint16_t)i, (uint16_t)j, (unsigned char)c};
+            if (a_hi < 1) {
+                if (crit_keep[c] < 0)
+                    crit_keep[c] = two_sided_crit(a_hi, h->dc.hi[c]) * (1.0 - Z_MARGIN);
+                if (o->z < crit_keep[c]) {
+                    *st = PAIR_KEPT;
+                    h->k_hi--;
+                    changed = 1;
+                    continue;
+                }
+            }
+            h->opened[still++] = *o;
         }
-    }
-    b->n_open = n_open;
-    b->n_rej = n_rej;
-    b->n_keep = n_keep;
-}
-
-static void pair_worker(void *ctx, size_t worker)
-{
-    (void)worker;
-    pair_job *pj = ctx;
-    double crit_rej[N_CELLS], crit_keep[N_CELLS];
-    for (size_t c = 0; c < N_CELLS; c++)
-        crit_rej[c] = crit_keep[c] = -1.0;
-    for (;;) {
-        const size_t k = atomic_fetch_add(&pj->next, 1);
-        if (k >= pj->n_bands)
-            break;
-        pair_band_run(pj, &pj->band[k], crit_rej, crit_keep);
+        h->n_open = still;
     }
 }
 
-/* The exact p of the pairs left open (a t CDF each, about 3,000 instructions):
-   on workers when there are enough of them; each p goes to its own pair. */
-#define EXACT_PER_WORKER 128
-#define EXACT_CHUNK 32
-
-typedef struct {
-    const double *key, *key_se, *dof;
-    open_pair *opened;
-    size_t n;
-    atomic_size_t next;
-} exact_job;
-
-static void exact_worker(void *ctx, size_t worker)
+/* Step 3: the pairs near the boundary get their exact p (GSL's t CDF at the
+   Welch dof), then the same two tests on it; z holds p from here on. */
+static void settle_exact(holm_family *h)
 {
-    (void)worker;
-    exact_job *ej = ctx;
-    for (;;) {
-        const size_t start = atomic_fetch_add(&ej->next, EXACT_CHUNK);
-        if (start >= ej->n)
+    for (size_t q = 0; q < h->n_open; q++) {
+        open_pair *o = &h->opened[q];
+        o->z = pair_p(h->key[o->i], h->key_se[o->i], h->dof[o->i], h->key[o->j],
+                      h->key_se[o->j], h->dof[o->j]);
+    }
+    const size_t m = h->m;
+    for (int changed = h->n_open > 0; changed;) {
+        changed = 0;
+        size_t still = 0;
+        for (size_t q = 0; q < h->n_open; q++) {
+            const open_pair *o = &h->opened[q];
+            const double p = o->z;
+            unsigned char *st = &h->state[pair_at(h->G, o->i, o->j)];
+            /* (m - k) p at any position k >= k_lo is at most (m - k_lo) p */
+            if ((double)(m - h->k_lo) * p <= h->alpha) {
+                *st = PAIR_REJECTED;
+                h->k_lo++;
+                changed = 1;
+            } else if ((double)(m - h->k_hi + 1) * p > h->alpha) {
+                *st = PAIR_KEPT;
+                h->k_hi--;
+                changed = 1;
+            } else {
+                h->opened[still++] = *o;
+            }
+        }
+        h->n_open = still;
+    }
+}
+
+/* Step 4: the step-down over what is left; settled rejections come first, in
+   order.  ENOMEM only. */
+static arrank_status step_down(holm_family *h, arrank_error *err)
+{
+    double p_stop = INFINITY; /* open pairs with p below this are rejected */
+    double *sorted = malloc((h->n_open ? h->n_open : 1) * sizeof *sorted);
+    if (!sorted)
+        return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu pairwise tests", h->m);
+    for (size_t q = 0; q < h->n_open; q++)
+        sorted[q] = h->opened[q].z;
+    qsort(sorted, h->n_open, sizeof *sorted, compare_double);
+    for (size_t t = 0; t < h->n_open; t++) {
+        double v = (double)(h->m - (h->k_lo + t)) * sorted[t];
+        if (v > h->alpha) {
+            p_stop = sorted[t];
             break;
-        const size_t end = start + EXACT_CHUNK < ej->n ? start + EXACT_CHUNK : ej->n;
-        for (size_t q = start; q < end; q++) {
-            open_pair *o = &ej->opened[q];
-            o->z = pair_p(ej->key[o->i], ej->key_se[o->i], ej->dof[o->i], ej->key[o->j],
-                          ej->key_se[o->j], ej->dof[o->j]);
         }
     }
+    for (size_t q = 0; q < h->n_open; q++)
+        h->state[pair_at(h->G, h->opened[q].i, h->opened[q].j)] =
+            h->opened[q].z < p_stop ? PAIR_REJECTED : PAIR_KEPT;
+    free(sorted);
+    return ARRANK_OK;
 }
 
 arrank_status arrank_groups_run(const double *key, const double *key_se, const double *dof,
@@ -328,164 +345,32 @@ arrank_status arrank_groups_run(const double *key, const double *key_se, const d
         if (isnan(key[i]) || isnan(key_se[i]) || isnan(dof[i]) || !(dof[i] > 0))
             return arrank_errorf(err, ARRANK_EINVAL, "sample %zu has no usable key, standard "
                                                      "error or dof for the group tests", i + 1);
-    double *sample = malloc(2 * G * sizeof *sample);
-    pair_band *band = malloc(G * sizeof *band);
-    unsigned char *state = malloc(m ? m : 1);
-    /* untouched pages cost nothing: only the open pairs' share of this is written */
-    open_pair *opened = malloc((m ? m : 1) * sizeof *opened);
-    if (!sample || !band || !state || !opened) {
-        free(sample);
-        free(band);
-        free(state);
-        free(opened);
-        return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu pairwise tests", m);
+    holm_family h = {.key = key, .key_se = key_se, .dof = dof, .G = G, .m = m, .alpha = alpha,
+                     .state = malloc(m ? m : 1),
+                     .opened = malloc((m ? m : 1) * sizeof *h.opened), .k_hi = m};
+    arrank_status st = ARRANK_OK;
+    if (!h.state || !h.opened)
+        st = arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu pairwise tests", m);
+    if (st == ARRANK_OK) {
+        cells_init(&h.dc);
+        pairs_set_up(&h);
+        sweep_bounds(&h);
+        settle_exact(&h);
+        st = step_down(&h, err);
     }
-    /* per sample, the terms of v = se_i^2 + se_j^2 and of welch_dof's denominator,
-       each rounded as welch_dof rounds it */
-    double *s2 = sample, *q4 = sample + G;
-    size_t k_lo = 0, k_hi = m;
-    for (size_t i = 0; i < G; i++) {
-        const double si = key_se[i];
-        s2[i] = si * si;
-        q4[i] = isfinite(dof[i]) ? si * si * si * si / dof[i] : 0.0;
-    }
-    /* the pairs with no variance (both se^2 0) are settled before the first sweep */
-    for (size_t i = 0; i < G; i++)
-        if (!(s2[i] > 0))
-            for (size_t j = i + 1; j < G; j++)
-                if (!(s2[i] + s2[j] > 0)) {
-                    if (fabs(key[i] - key[j]) > 0)
-                        k_lo++;
-                    else
-                        k_hi--;
-                }
-    dof_cells dc;
-    cells_init(&dc);
-    pair_job pj = {.key = key, .s2 = s2, .q4 = q4, .G = G, .m = m, .dc = &dc, .band = band,
-                   .state = state, .opened = opened,
-                   .a_lo = alpha / (double)(m - k_lo), .a_hi = alpha / (double)(m - k_hi + 1)};
-    for (size_t i = 0; i + 1 < G;) {
-        pair_band *b = &band[pj.n_bands++];
-        b->row0 = i;
-        for (size_t pairs = 0; i + 1 < G && pairs < BAND_PAIRS; i++)
-            pairs += G - 1 - i;
-        b->row1 = i;
-    }
-    atomic_init(&pj.next, 0);
-    arrank_workers_run(arrank_workers_for(m, PAIRS_PER_WORKER), pair_worker, &pj);
-    /* the open pairs together, in row order; the first sweep's decisions counted */
-    size_t n_open = 0;
-    int changed = 0;
-    for (size_t k = 0; k < pj.n_bands; k++) {
-        const pair_band *b = &band[k];
-        memmove(opened + n_open, opened + pair_at(G, b->row0, b->row0 + 1),
-                b->n_open * sizeof *opened);
-        n_open += b->n_open;
-        k_lo += b->n_rej;
-        k_hi -= b->n_keep;
-        changed |= b->n_rej + b->n_keep > 0;
-    }
-    /* sweep with bounds on p until nothing more settles; crit < 0: not yet computed */
-    double crit_rej[N_CELLS], crit_keep[N_CELLS];
-    while (changed && n_open > 0) {
-        changed = 0;
-        const double a_lo = alpha / (double)(m - k_lo);
-        const double a_hi = alpha / (double)(m - k_hi + 1);
-        for (size_t c = 0; c < N_CELLS; c++)
-            crit_rej[c] = crit_keep[c] = -1.0;
-        size_t still = 0;
-        for (size_t q = 0; q < n_open; q++) {
-            const open_pair *o = &opened[q];
-            const unsigned c = o->cell;
-            unsigned char *st = &state[pair_at(G, o->i, o->j)];
-            if (k_lo < m) {
-                if (crit_rej[c] < 0)
-                    crit_rej[c] = two_sided_crit(a_lo, dc.lo[c]) * (1.0 + Z_MARGIN);
-                if (o->z >= crit_rej[c]) {
-                    *st = PAIR_REJECTED;
-                    k_lo++;
-                    changed = 1;
-                    continue;
-                }
+    if (st == ARRANK_OK) { /* step 5: the leader rule (groups.h) */
+        int g = 1;
+        size_t leader = 0;
+        group[0] = 1;
+        for (size_t k = 1; k < G; k++) {
+            if (h.state[pair_at(G, leader, k)] == PAIR_REJECTED) {
+                g++;
+                leader = k;
             }
-            if (a_hi < 1) {
-                if (crit_keep[c] < 0)
-                    crit_keep[c] = two_sided_crit(a_hi, dc.hi[c]) * (1.0 - Z_MARGIN);
-                if (o->z < crit_keep[c]) {
-                    *st = PAIR_KEPT;
-                    k_hi--;
-                    changed = 1;
-                    continue;
-                }
-            }
-            opened[still++] = *o;
-        }
-        n_open = still;
-    }
-    /* the pairs near the boundary: exact p, then the same two tests on it; z is
-       not needed any more and holds p from here on */
-    exact_job ej = {.key = key, .key_se = key_se, .dof = dof, .opened = opened, .n = n_open};
-    atomic_init(&ej.next, 0);
-    arrank_workers_run(arrank_workers_for(n_open, EXACT_PER_WORKER), exact_worker, &ej);
-    for (changed = n_open > 0; changed;) {
-        changed = 0;
-        size_t still = 0;
-        for (size_t q = 0; q < n_open; q++) {
-            const open_pair *o = &opened[q];
-            const double p = o->z;
-            unsigned char *st = &state[pair_at(G, o->i, o->j)];
-            /* (m - k) p at any position k >= k_lo is at most (m - k_lo) p */
-            if ((double)(m - k_lo) * p <= alpha) {
-                *st = PAIR_REJECTED;
-                k_lo++;
-                changed = 1;
-            } else if ((double)(m - k_hi + 1) * p > alpha) {
-                *st = PAIR_KEPT;
-                k_hi--;
-                changed = 1;
-            } else {
-                opened[still++] = *o;
-            }
-        }
-        n_open = still;
-    }
-    /* step-down over what is left: settled rejections come first, in order */
-    double p_stop = INFINITY; /* open pairs with p below this are rejected */
-    double *sorted = malloc((n_open ? n_open : 1) * sizeof *sorted);
-    if (!sorted) {
-        free(sample);
-        free(band);
-        free(state);
-        free(opened);
-        return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu pairwise tests", m);
-    }
-    for (size_t q = 0; q < n_open; q++)
-        sorted[q] = opened[q].z;
-    qsort(sorted, n_open, sizeof *sorted, compare_double);
-    for (size_t t = 0; t < n_open; t++) {
-        double v = (double)(m - (k_lo + t)) * sorted[t];
-        if (v > alpha) {
-            p_stop = sorted[t];
-            break;
+            group[k] = g;
         }
     }
-    for (size_t q = 0; q < n_open; q++)
-        state[pair_at(G, opened[q].i, opened[q].j)] =
-            opened[q].z < p_stop ? PAIR_REJECTED : PAIR_KEPT;
-    int g = 1;
-    size_t leader = 0;
-    group[0] = 1;
-    for (size_t k = 1; k < G; k++) {
-        if (state[pair_at(G, leader, k)] == PAIR_REJECTED) {
-            g++;
-            leader = k;
-        }
-        group[k] = g;
-    }
-    free(sorted);
-    free(sample);
-    free(band);
-    free(state);
-    free(opened);
-    return ARRANK_OK;
+    free(h.state);
+    free(h.opened);
+    return st;
 }
