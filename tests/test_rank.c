@@ -1437,6 +1437,28 @@ static void test_pipeline(void **state)
     assert_null(a);
     assert_string_equal(e.message, "model 'eyring' needs turnover frequencies (a rate unit of "
                                    "1/time); 'umol/(g*s)' is a rate per mass");
+
+    /* --model eyring on turnover frequencies per minute: the factor to 1/s
+       comes from the caller's unit database (options.units), or from the one
+       the pipeline loads when none is given; the same fit either way, and
+       dS is that of the same numbers per second less R ln 60 (dS = R (b0 +
+       ln c - ...), models.h, with c = 1/60) */
+    toy_make(t, 8, ARRANK_BASIS_SITE, "1/min");
+    o.diagnose = 0;
+    double dS[3];
+    for (int run = 0; run < 3; run++) {
+        t->c.rate_unit = run == 2 ? "1/s" : "1/min";
+        o.units = run == 0 ? units : NULL;
+        arrank_error_clear(&e);
+        assert_int_equal(arrank_analysis_run(&t->c, &o, &a, &e), ARRANK_OK);
+        const struct arrank_sample_stats *ss = a->results[0].stats;
+        assert_true(ss && ss->has_model && ss->model.eyring);
+        dS[run] = ss->model.dS_J_mol_K;
+        arrank_analysis_free(a);
+    }
+    o.units = NULL;
+    assert_true(dS[0] == dS[1]);
+    assert_true(fabs(dS[2] - R_GAS * log(60.0) - dS[0]) < 1e-9 * fabs(dS[0]) + 1e-9);
     free(t);
 }
 
@@ -1540,5 +1562,5 @@ int main(void)
         cmocka_unit_test(test_pipeline),
         cmocka_unit_test(test_rank_keys),
     };
-    return cmocka_run_group_tests(tests, NULL, NULL);
+    return cmocka_run_group_tests(tests, units_setup, units_teardown);
 }
