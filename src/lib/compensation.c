@@ -96,6 +96,63 @@ static void compensation_sentence(arrank_compensation *c)
     }
 }
 
+/* The isokinetic temperature of the slope c1 (se se1, n samples) and its
+   interval, and whether T_hm lies in it. */
+static void isokinetic(arrank_compensation *out, double c1, double se1, size_t n)
+{
+    const double R = ARRANK_R_J_MOL_K, T_hm_K = out->T_hm_K;
+    /* ln A = alpha + Ea/(R T_iso) (Constable 1925): T_iso = 1/(R slope). */
+    out->T_iso_K = 1.0 / (R * c1);
+    /* Fieller for a reciprocal: T_iso is in the set {1/(R b)} over b in the
+       slope's t interval, bounded when that interval excludes 0. */
+    const double t = arrank_t_quantile(out->confidence, (double)n - 2.0);
+    const double lo = c1 - t * se1, hi = c1 + t * se1;
+    if (lo > 0 || hi < 0) {
+        out->T_iso_bounded = 1;
+        out->T_iso_lo_K = 1.0 / (R * hi);
+        out->T_iso_hi_K = 1.0 / (R * lo);
+        out->T_hm_inside = T_hm_K >= out->T_iso_lo_K && T_hm_K <= out->T_iso_hi_K;
+    } else {
+        /* the outside of (1/(R lo), 1/(R hi)): lo_K > hi_K marks it (compensation.h) */
+        out->T_iso_bounded = 0;
+        out->T_iso_lo_K = hi > 0 ? 1.0 / (R * hi) : INFINITY;
+        out->T_iso_hi_K = lo < 0 ? 1.0 / (R * lo) : -INFINITY;
+        out->T_hm_inside = T_hm_K >= out->T_iso_lo_K || T_hm_K <= out->T_iso_hi_K;
+    }
+}
+
+/* Exner (1964): ln r(T2) on ln r(T1) over the common range [t1, t2] (else
+   the whole range [tmin, tmax]); l1, l2 are scratch [n]. */
+static void exner(arrank_compensation *out, const arrank_arrhenius *const *fits, size_t n,
+                  double *l1, double *l2)
+{
+    double t1 = 0, t2 = INFINITY, tmin = INFINITY, tmax = 0;
+    for (size_t i = 0; i < n; i++) {
+        t1 = fmax(t1, fits[i]->T_min_K);
+        t2 = fmin(t2, fits[i]->T_max_K);
+        tmin = fmin(tmin, fits[i]->T_min_K);
+        tmax = fmax(tmax, fits[i]->T_max_K);
+    }
+    if (!(t2 > t1)) {
+        t1 = tmin;
+        t2 = tmax;
+    }
+    out->exner_T1_K = t1;
+    out->exner_T2_K = t2;
+    for (size_t i = 0; i < n; i++) {
+        l1[i] = ln_rate_at(fits[i], t1);
+        l2[i] = ln_rate_at(fits[i], t2);
+    }
+    double e0, e1, ese0, ese1, ep;
+    if (t2 > t1 && line_fit(l1, l2, n, &e0, &e1, &ese0, &ese1, &ep) == 0) {
+        out->exner_slope = e1;
+        out->exner_slope_se = ese1;
+        /* slope b = (1/T_iso - 1/T2)/(1/T_iso - 1/T1) solved for T_iso */
+        const double den = e1 * t2 - t1;
+        out->exner_T_iso_K = (e1 != 1.0 && den != 0) ? t1 * t2 * (e1 - 1.0) / den : NAN;
+    }
+}
+
 arrank_status arrank_compensation_run(const arrank_arrhenius *const *fits, size_t n,
                                       double T_hm_K, double confidence,
                                       arrank_compensation *out, arrank_error *err)
@@ -121,16 +178,11 @@ arrank_status arrank_compensation_run(const arrank_arrhenius *const *fits, size_
     if (!buf)
         return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu samples", n);
     double *ea = buf, *lnA = buf + n, *l1 = buf + 2 * n, *l2 = buf + 3 * n;
-    double t1 = 0, t2 = INFINITY, tmin = INFINITY, tmax = 0;
     for (size_t i = 0; i < n; i++) {
         ea[i] = fits[i]->ea_J_mol;
         lnA[i] = fits[i]->ln_A;
-        t1 = fmax(t1, fits[i]->T_min_K);
-        t2 = fmin(t2, fits[i]->T_max_K);
-        tmin = fmin(tmin, fits[i]->T_min_K);
-        tmax = fmax(tmax, fits[i]->T_max_K);
     }
-    const double alpha = 1.0 - confidence, R = ARRANK_R_J_MOL_K;
+    const double alpha = 1.0 - confidence;
     double c0, c1, se0, se1, p1;
     if (line_fit(ea, lnA, n, &c0, &c1, &se0, &se1, &p1) != 0) {
         /* every Ea equal: no line at all */
@@ -146,24 +198,7 @@ arrank_status arrank_compensation_run(const arrank_arrhenius *const *fits, size_
     out->slope_se_mol_J = se1;
     out->slope_p = p1;
     out->corr = gsl_stats_correlation(ea, 1, lnA, 1, n);
-    /* ln A = alpha + Ea/(R T_iso) (Constable 1925): T_iso = 1/(R slope). */
-    out->T_iso_K = 1.0 / (R * c1);
-    /* Fieller for a reciprocal: T_iso is in the set {1/(R b)} over b in the
-       slope's t interval, bounded when that interval excludes 0. */
-    const double t = arrank_t_quantile(confidence, (double)n - 2.0);
-    const double lo = c1 - t * se1, hi = c1 + t * se1;
-    if (lo > 0 || hi < 0) {
-        out->T_iso_bounded = 1;
-        out->T_iso_lo_K = 1.0 / (R * hi);
-        out->T_iso_hi_K = 1.0 / (R * lo);
-        out->T_hm_inside = T_hm_K >= out->T_iso_lo_K && T_hm_K <= out->T_iso_hi_K;
-    } else {
-        /* the outside of (1/(R lo), 1/(R hi)): lo_K > hi_K marks it (compensation.h) */
-        out->T_iso_bounded = 0;
-        out->T_iso_lo_K = hi > 0 ? 1.0 / (R * hi) : INFINITY;
-        out->T_iso_hi_K = lo < 0 ? 1.0 / (R * lo) : -INFINITY;
-        out->T_hm_inside = T_hm_K >= out->T_iso_lo_K || T_hm_K <= out->T_iso_hi_K;
-    }
+    isokinetic(out, c1, se1, n);
 
     /* Krug, Hunter & Grieger (1976): ln r(T_hm) and Ea have uncorrelated errors. */
     for (size_t i = 0; i < n; i++)
@@ -176,26 +211,7 @@ arrank_status arrank_compensation_run(const arrank_arrhenius *const *fits, size_
     } else {
         out->hm_p = 1.0;
     }
-
-    /* Exner (1964): ln r(T2) on ln r(T1) over the common range (else the whole range). */
-    if (!(t2 > t1)) {
-        t1 = tmin;
-        t2 = tmax;
-    }
-    out->exner_T1_K = t1;
-    out->exner_T2_K = t2;
-    for (size_t i = 0; i < n; i++) {
-        l1[i] = ln_rate_at(fits[i], t1);
-        l2[i] = ln_rate_at(fits[i], t2);
-    }
-    double e0, e1, ese0, ese1, ep;
-    if (t2 > t1 && line_fit(l1, l2, n, &e0, &e1, &ese0, &ese1, &ep) == 0) {
-        out->exner_slope = e1;
-        out->exner_slope_se = ese1;
-        /* slope b = (1/T_iso - 1/T2)/(1/T_iso - 1/T1) solved for T_iso */
-        const double den = e1 * t2 - t1;
-        out->exner_T_iso_K = (e1 != 1.0 && den != 0) ? t1 * t2 * (e1 - 1.0) / den : NAN;
-    }
+    exner(out, fits, n, l1, l2);
     free(buf);
 
     if (!(c1 > 0) || !(p1 < alpha))

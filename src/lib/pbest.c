@@ -354,6 +354,69 @@ static double skip_w(const key_draw *k, double m)
     return isfinite(k->dof) ? exp(-0.5 * k->dof * log1p(u * u / k->dof)) : exp(-0.5 * u * u);
 }
 
+/* The candidates cand[n_cand] split into the head, drawn directly, and the
+   tail, drawn by thinning, each in rank order (the variates, above);
+   hazard[n_tail] gets the running sums of -ln(1 - w). */
+static void head_and_tail(const key_draw *kd, const size_t *cand, size_t n_cand, size_t n_top,
+                          double skip_level, cand_draw *head, size_t *n_head, cand_draw *tail,
+                          size_t *n_tail, double *hazard)
+{
+    double h = 0;
+    *n_head = *n_tail = 0;
+    for (size_t c = 0; c < n_cand; c++) {
+        const key_draw *k = &kd[cand[c]];
+        const double w = cand[c] < n_top ? 2.0 : skip_w(k, skip_level);
+        const cand_draw x = {k->mean, k->se, k->dof, 2.0 / k->dof, w, cand[c]};
+        if (w < 0.25) {
+            h += -log1p(-w);
+            hazard[*n_tail] = h;
+            tail[(*n_tail)++] = x;
+        } else {
+            head[(*n_head)++] = x;
+        }
+    }
+}
+
+/* The streams, on threads when the system gives them (above). */
+static arrank_status run_streams(mc_stream *m, arrank_error *err)
+{
+    pthread_t th[ARRANK_RANK_STREAMS];
+    int started[ARRANK_RANK_STREAMS] = {0};
+    for (size_t c = 1; c < ARRANK_RANK_STREAMS; c++)
+        started[c] = pthread_create(&th[c], NULL, mc_run, &m[c]) == 0;
+    mc_run(&m[0]);
+    for (size_t c = 1; c < ARRANK_RANK_STREAMS; c++) {
+        if (started[c])
+            pthread_join(th[c], NULL);
+        else
+            mc_run(&m[c]);
+    }
+    for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++)
+        if (m[c].failed)
+            return arrank_errorf(err, ARRANK_ENOMEM, "no memory for a random generator");
+    return ARRANK_OK;
+}
+
+/* The streams' counts as probabilities. */
+static void sum_counts(const mc_stream *m, size_t n, size_t n_top, size_t draws, double *p_best,
+                       double *p_beats)
+{
+    for (size_t i = 0; i < n; i++) {
+        size_t b = 0;
+        for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++)
+            b += m[c].best[i];
+        p_best[i] = (double)b / (double)draws;
+    }
+    if (p_beats)
+        for (size_t i = 0; i < n_top; i++)
+            for (size_t j = 0; j < n_top; j++) {
+                size_t b = 0;
+                for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++)
+                    b += m[c].wins[i * n_top + j];
+                p_beats[i * n_top + j] = i == j ? NAN : (double)b / (double)draws;
+            }
+}
+
 /* The Monte Carlo: see the top of this file and arrank_pbest_run in pbest.h. */
 static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, unsigned long seed,
                                   size_t n_top, double *p_best, double *p_beats,
@@ -369,43 +432,12 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
     size_t *cand = malloc(n * sizeof *cand);
     cand_draw *cd = malloc(2 * n * sizeof *cd);
     double *hazard = malloc(n * sizeof *hazard);
-    if (!cand || !cd || !hazard) {
-        free(cand);
-        free(cd);
-        free(hazard);
-        return arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu samples of draws", n);
-    }
-    double skip_level;
-    const size_t n_cand = candidates(kd, n, n_top, cand, &skip_level);
-    /* head and tail (the variates, above) */
-    cand_draw *head = cd, *tail = cd + n;
-    size_t n_head = 0, n_tail = 0;
-    double h = 0;
-    for (size_t c = 0; c < n_cand; c++) {
-        const key_draw *k = &kd[cand[c]];
-        const double w = cand[c] < n_top ? 2.0 : skip_w(k, skip_level);
-        const cand_draw x = {k->mean, k->se, k->dof, 2.0 / k->dof, w, cand[c]};
-        if (w < 0.25) {
-            h += -log1p(-w);
-            hazard[n_tail] = h;
-            tail[n_tail++] = x;
-        } else {
-            head[n_head++] = x;
-        }
-    }
     mc_stream m[ARRANK_RANK_STREAMS];
     memset(m, 0, sizeof m);
     arrank_status st = ARRANK_OK;
-    for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++) {
-        m[c].head = head;
-        m[c].tail = tail;
-        m[c].hazard = hazard;
-        m[c].n_head = n_head;
-        m[c].n_tail = n_tail;
-        m[c].n_top = n_top;
-        m[c].skip_level = skip_level;
-        m[c].draws = draws / ARRANK_RANK_STREAMS + (c < draws % ARRANK_RANK_STREAMS);
-        m[c].seed = (unsigned long)(seed + c * STREAM_SEED_STEP);
+    if (!cand || !cd || !hazard)
+        st = arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu samples of draws", n);
+    for (size_t c = 0; st == ARRANK_OK && c < ARRANK_RANK_STREAMS; c++) {
         m[c].best = calloc(n, sizeof *m[c].best);
         m[c].wins = calloc(n_top * n_top + 1, sizeof *m[c].wins);
         m[c].top_key = malloc((n_top + 1) * sizeof *m[c].top_key);
@@ -413,37 +445,25 @@ static arrank_status pbest_engine(const key_draw *kd, size_t n, size_t draws, un
             st = arrank_errorf(err, ARRANK_ENOMEM, "no memory for %zu samples of draws", n);
     }
     if (st == ARRANK_OK) {
-        pthread_t th[ARRANK_RANK_STREAMS];
-        int started[ARRANK_RANK_STREAMS] = {0};
-        for (size_t c = 1; c < ARRANK_RANK_STREAMS; c++)
-            started[c] = pthread_create(&th[c], NULL, mc_run, &m[c]) == 0;
-        mc_run(&m[0]);
-        for (size_t c = 1; c < ARRANK_RANK_STREAMS; c++) {
-            if (started[c])
-                pthread_join(th[c], NULL);
-            else
-                mc_run(&m[c]);
+        double skip_level;
+        const size_t n_cand = candidates(kd, n, n_top, cand, &skip_level);
+        size_t n_head, n_tail;
+        head_and_tail(kd, cand, n_cand, n_top, skip_level, cd, &n_head, cd + n, &n_tail, hazard);
+        for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++) {
+            m[c].head = cd;
+            m[c].tail = cd + n;
+            m[c].hazard = hazard;
+            m[c].n_head = n_head;
+            m[c].n_tail = n_tail;
+            m[c].n_top = n_top;
+            m[c].skip_level = skip_level;
+            m[c].draws = draws / ARRANK_RANK_STREAMS + (c < draws % ARRANK_RANK_STREAMS);
+            m[c].seed = (unsigned long)(seed + c * STREAM_SEED_STEP);
         }
-        for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++)
-            if (m[c].failed)
-                st = arrank_errorf(err, ARRANK_ENOMEM, "no memory for a random generator");
+        st = run_streams(m, err);
     }
-    if (st == ARRANK_OK) {
-        for (size_t i = 0; i < n; i++) {
-            size_t b = 0;
-            for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++)
-                b += m[c].best[i];
-            p_best[i] = (double)b / (double)draws;
-        }
-        if (p_beats)
-            for (size_t i = 0; i < n_top; i++)
-                for (size_t j = 0; j < n_top; j++) {
-                    size_t b = 0;
-                    for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++)
-                        b += m[c].wins[i * n_top + j];
-                    p_beats[i * n_top + j] = i == j ? NAN : (double)b / (double)draws;
-                }
-    }
+    if (st == ARRANK_OK)
+        sum_counts(m, n, n_top, draws, p_best, p_beats);
     for (size_t c = 0; c < ARRANK_RANK_STREAMS; c++) {
         free(m[c].best);
         free(m[c].wins);
