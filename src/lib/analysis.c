@@ -13,6 +13,7 @@
 #include <string.h>
 
 #include "arrank/diagnose.h"
+#include "analysis_internal.h"
 #include "analysis_models.h"
 #include "analysis_rank.h"
 #include "internal.h"

@@ -9,9 +9,10 @@
 
 #include "arrank/models.h"
 #include "arrank/units.h"
+#include "analysis_internal.h"
 #include "analysis_models.h"
 #include "analysis_rank.h"
-#include "internal.h"
+#include "util.h"
 
 arrank_status arrank_analysis_models_prepare(const arrank_campaign *campaign,
                                              const arrank_options *opt, double *rate_to_per_s,

@@ -12,8 +12,8 @@
 #include "arrank/compensation.h"
 #include "arrank/groups.h"
 #include "arrank/pbest.h"
+#include "analysis_internal.h"
 #include "analysis_rank.h"
-#include "internal.h"
 
 struct arrank_sample_stats *arrank_analysis_stats_of(arrank_result *res)
 {

@@ -11,12 +11,6 @@
 #include "arrank/analysis.h"
 #include "util.h"
 
-/* Copy the points marked in res->used into temp_K, rate, rate_sd (each with
-   room for the sample's n_points); *have_sd is 1 when every copied rate_sd is
-   finite.  Returns the number copied (analysis.c). */
-size_t arrank_result_used_points(const arrank_result *res, double *temp_K, double *rate,
-                                 double *rate_sd, int *have_sd);
-
 /* Refit a result on the points marked in res->used (analysis.c).  A fit that
    is impossible sets res->error; only ENOMEM is returned as a failure. */
 arrank_status arrank_result_refit(arrank_result *res, arrank_error *err);
