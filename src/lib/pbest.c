@@ -221,7 +221,6 @@ static void count_wins(const double *top_key, size_t n_top, size_t *wins)
         }
 }
 
-
 /* The draw's best so far, ties to the earlier sample in rank order. */
 static void offer(double key, size_t index, double *best_key, size_t *arg_best)
 {
