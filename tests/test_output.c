@@ -31,7 +31,7 @@
 #include "arrank/campaign.h"
 #include "arrank/fit.h"
 #include "arrank/output.h"
-#include "arrank/rank.h"
+#include "arrank/analysis_stats.h"
 #include "../src/lib/internal.h"
 #include "helpers.h"
 

@@ -22,7 +22,7 @@
 
 #include "arrank/analysis.h"
 #include "arrank/plot.h"
-#include "arrank/rank.h"
+#include "arrank/analysis_stats.h"
 
 /* ---- quoting ------------------------------------------------------------ */
 
@@ -372,7 +372,7 @@ static void test_names_only_quoted(void **state)
     free(text);
 }
 
-/* With ranking statistics (rank.h) the rate figure brackets groups of two or
+/* With ranking statistics (analysis_stats.h) the rate figure brackets groups of two or
    more and names P(best); the Ea-ln A figure draws the compensation line. */
 static void test_rank_stats_drawn(void **state)
 {
@@ -389,7 +389,7 @@ static void test_rank_stats_drawn(void **state)
     assert_non_null(strstr(text, "*x with lines dt 3 lw 1.8 lc rgb '#555555' title "
                                  "'compensation line'"));
     free(text);
-    /* Without them, none of it (the figures must not depend on rank.h). */
+    /* Without them, none of it (the figures must not depend on them). */
     struct arrank_rank_stats *saved = fx->a->rank_stats;
     fx->a->rank_stats = NULL;
     text = script_of(fx->a, ARRANK_PLOT_SVG);

@@ -1,5 +1,6 @@
 /*
- * test_rank.c - the ranking statistics (rank.h) and the extra rate laws
+ * test_rank.c - the ranking statistics (pbest.h, groups.h, compensation.h,
+ * bootstrap.h, and the pipeline's analysis_rank.c) and the extra rate laws
  * (models.h) against exact results.
  *
  * Sources, beside each check: the exact two-sample probability Phi(D/sigma)
@@ -37,8 +38,11 @@
 
 #include "arrank/analysis.h"
 #include "arrank/models.h"
-#include "arrank/rank.h"
-#include "../src/lib/internal.h"
+#include "arrank/bootstrap.h"
+#include "arrank/compensation.h"
+#include "arrank/groups.h"
+#include "arrank/pbest.h"
+#include "../src/lib/rank_out.h"
 #include "helpers.h"
 
 #define R_GAS ARRANK_R_J_MOL_K
@@ -67,7 +71,7 @@ static arrank_arrhenius make_fit(double T_ref, double b0, double b1, double c00,
     return f;
 }
 
-/* Mean and variance of the key of f (rank.h: ln r(T), -Ea or ln A). */
+/* Mean and variance of the key of f (pbest.h: ln r(T), -Ea or ln A). */
 static void key_moments(const arrank_arrhenius *f, arrank_rank_by by, double T, double *m,
                         double *v)
 {
@@ -132,7 +136,7 @@ static void test_pbest_two_sample_normal(void **state)
         double pb[2], pp[4];
         arrank_error e;
         arrank_error_clear(&e);
-        assert_int_equal(arrank_rank_pbest(fits, 2, k->by, k->T_op, draws, 20240611, 1, 2, pb,
+        assert_int_equal(arrank_pbest_fits(fits, 2, k->by, k->T_op, draws, 20240611, 1, 2, pb,
                                            pp, &e),
                          ARRANK_OK);
         double mA, vA, mB, vB;
@@ -171,7 +175,7 @@ static void test_pbest_two_sample_t(void **state)
         const arrank_arrhenius *fits[2] = {&A, &B};
         const double T = 495.6;
         double pb[2];
-        assert_int_equal(arrank_rank_pbest(fits, 2, ARRANK_BY_RATE, T, draws, 77, 0, 0, pb, NULL,
+        assert_int_equal(arrank_pbest_fits(fits, 2, ARRANK_BY_RATE, T, draws, 77, 0, 0, pb, NULL,
                                            NULL),
                          ARRANK_OK);
         double mA, vA, mB, vB;
@@ -187,7 +191,7 @@ static void test_pbest_two_sample_t(void **state)
     arrank_arrhenius B = make_fit(509.8, 0.2515, -11904.0, 3.07e-3, -2.2e-2, 6.93e2, 1e7);
     const arrank_arrhenius *fits[2] = {&A, &B};
     double pb[2], mA, vA, mB, vB;
-    assert_int_equal(arrank_rank_pbest(fits, 2, ARRANK_BY_RATE, 487.3, draws, 5, 0, 0, pb, NULL,
+    assert_int_equal(arrank_pbest_fits(fits, 2, ARRANK_BY_RATE, 487.3, draws, 5, 0, 0, pb, NULL,
                                        NULL),
                      ARRANK_OK);
     key_moments(&A, ARRANK_BY_RATE, 487.3, &mA, &vA);
@@ -314,7 +318,7 @@ static void test_pbest_variates_ks(void **state)
             f[k + 1].dof = INFINITY; /* exact anyway; a normal is the cheapest draw */
             fits[k + 1] = &f[k + 1];
         }
-        assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, T, draws, 1847 + c,
+        assert_int_equal(arrank_pbest_fits(fits, N, ARRANK_BY_RATE, T, draws, 1847 + c,
                                            !isfinite(nu), N, pb, pp, NULL),
                          ARRANK_OK);
         double D = 0;
@@ -347,7 +351,7 @@ static void test_pbest_two_sample_t_quadrature(void **state)
                                       cases[c].dofB);
         const arrank_arrhenius *fits[2] = {&A, &B};
         double pb[2], pp[4];
-        assert_int_equal(arrank_rank_pbest(fits, 2, ARRANK_BY_RATE, cases[c].T_op, draws,
+        assert_int_equal(arrank_pbest_fits(fits, 2, ARRANK_BY_RATE, cases[c].T_op, draws,
                                            4049 + c, 0, 2, pb, pp, NULL),
                          ARRANK_OK);
         double mA, vA, mB, vB;
@@ -368,8 +372,8 @@ static void test_pbest_two_sample_t_quadrature(void **state)
  * to 4) or, with normal draws, a few scales below (two of them wide, so
  * that they still win about 1 % of the draws).  Samples whose
  * mean lies more than about 1.7 scales below the leader's 1 % quantile are
- * drawn by thinning in rank.c (its w < 1/4; the test counts them with
- * rank.c's rule so that it knows that path runs); with the pairwise matrix
+ * drawn by thinning in pbest.c (its w < 1/4; the test counts them with
+ * pbest.c's rule so that it knows that path runs); with the pairwise matrix
  * over every sample all are drawn directly.  Either way each P(best)
  * matches quadrature within 4 binomial standard errors.
  */
@@ -406,7 +410,7 @@ static void test_pbest_heavy_tails_quadrature(void **state)
         arrank_arrhenius f[N];
         const arrank_arrhenius *fits[N];
         key_dist k[N];
-        /* rank.c's thinning level: the highest lower 1 % quantile */
+        /* pbest.c's thinning level: the highest lower 1 % quantile */
         double level = -INFINITY;
         for (size_t i = 0; i < N; i++) {
             const double q = cases[c].normal ? gsl_cdf_ugaussian_Qinv(0.01)
@@ -427,7 +431,7 @@ static void test_pbest_heavy_tails_quadrature(void **state)
         assert_true(thinned >= 4);
         for (size_t n_top = 0; n_top <= N; n_top += N) {
             double pb[N], pp[N * N];
-            assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, T, draws, 9127 + c,
+            assert_int_equal(arrank_pbest_fits(fits, N, ARRANK_BY_RATE, T, draws, 9127 + c,
                                                cases[c].normal, n_top, pb, n_top ? pp : NULL,
                                                NULL),
                              ARRANK_OK);
@@ -463,13 +467,13 @@ static void test_pbest_reproducible_and_pairs_capped(void **state)
     for (size_t i = 0; i < N; i++)
         fits[i] = &f[i];
     double pb1[N], pb2[N], pb3[N], pp1[TOP * TOP], pp2[TOP * TOP];
-    assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, 512.0, draws, 31, 0, TOP, pb1,
+    assert_int_equal(arrank_pbest_fits(fits, N, ARRANK_BY_RATE, 512.0, draws, 31, 0, TOP, pb1,
                                        pp1, NULL),
                      ARRANK_OK);
-    assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, 512.0, draws, 31, 0, TOP, pb2,
+    assert_int_equal(arrank_pbest_fits(fits, N, ARRANK_BY_RATE, 512.0, draws, 31, 0, TOP, pb2,
                                        pp2, NULL),
                      ARRANK_OK);
-    assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, 512.0, draws, 32, 0, 0, pb3, NULL,
+    assert_int_equal(arrank_pbest_fits(fits, N, ARRANK_BY_RATE, 512.0, draws, 32, 0, 0, pb3, NULL,
                                        NULL),
                      ARRANK_OK);
     /* same seed: bit for bit; another seed: different counts somewhere */
@@ -495,12 +499,12 @@ static void test_pbest_reproducible_and_pairs_capped(void **state)
     /* errors: no draws, more pairs than samples, no temperature for a rate ranking */
     arrank_error e;
     arrank_error_clear(&e);
-    assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, 512.0, 0, 1, 0, 0, pb3, NULL, &e),
+    assert_int_equal(arrank_pbest_fits(fits, N, ARRANK_BY_RATE, 512.0, 0, 1, 0, 0, pb3, NULL, &e),
                      ARRANK_EINVAL);
     assert_string_equal(e.message, "'draws' must be at least 1");
-    assert_int_equal(arrank_rank_pbest(fits, 3, ARRANK_BY_RATE, 512.0, 10, 1, 0, 4, pb3, pp1, &e),
+    assert_int_equal(arrank_pbest_fits(fits, 3, ARRANK_BY_RATE, 512.0, 10, 1, 0, 4, pb3, pp1, &e),
                      ARRANK_EINVAL);
-    assert_int_equal(arrank_rank_pbest(fits, 3, ARRANK_BY_RATE, NAN, 10, 1, 0, 0, pb3, NULL, &e),
+    assert_int_equal(arrank_pbest_fits(fits, 3, ARRANK_BY_RATE, NAN, 10, 1, 0, 0, pb3, NULL, &e),
                      ARRANK_EINVAL);
     free(f);
 }
@@ -519,7 +523,7 @@ static void test_pbest_large(void **state)
     assert_true(fits && pb && pp);
     for (size_t i = 0; i < N; i++)
         fits[i] = &f[i];
-    assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, 512.0, 10000, 1, 0, P, pb, pp,
+    assert_int_equal(arrank_pbest_fits(fits, N, ARRANK_BY_RATE, 512.0, 10000, 1, 0, P, pb, pp,
                                        NULL),
                      ARRANK_OK);
     double sum = 0.0;
@@ -579,7 +583,7 @@ static void test_pbest_contenders(void **state)
     }
     const size_t draws = 40000;
     /* at T = T_ref the key is b0 alone */
-    assert_int_equal(arrank_rank_pbest(fits, N, ARRANK_BY_RATE, 500.0, draws, 7, 1, 0, pb, NULL,
+    assert_int_equal(arrank_pbest_fits(fits, N, ARRANK_BY_RATE, 500.0, draws, 7, 1, 0, pb, NULL,
                                        NULL),
                      ARRANK_OK);
     gsl_integration_workspace *w = gsl_integration_workspace_alloc(1000);
@@ -601,56 +605,13 @@ static void test_pbest_contenders(void **state)
 }
 
 /*
- * The Monte Carlo's uniforms, stepped in line from the state GSL seeded
- * (rank.c), against GSL's own taus2 (gsl_rng_uniform, drawn here): the same
- * doubles, bit for bit, for seeds at the edges (0 is GSL's 1; 2^32 - 1 and
- * above, where GSL's seeding wraps) and the stream seeds of rank.c.  The
- * counts of P(best) hardly move under a perturbation of 1e-10 in a uniform,
- * so they alone could not show a wrong generator: this test can.
+ * The Monte Carlo's counts on tables whose size varies, with t and normal
+ * draws, with far-tail samples drawn by thinning, and with exact ties:
+ * samples with no uncertainty in the key and equal means tie in every draw,
+ * and a tie counts for neither side (pbest.h: P(i beats j) + P(j beats i) =
+ * 0 there); every other pair sums to 1.
  */
-static void test_pbest_uniforms(void **state)
-{
-    (void)state;
-    enum { N = 20000 };
-    const unsigned long seeds[] = {0, 1, 2, 31, 20240611, 4294967295ul, 4294967296ul,
-                                   (unsigned long)(1 + 0x9E3779B97F4A7C15ull),
-                                   (unsigned long)(7 + 0x9E3779B97F4A7C15ull), ~0ul};
-    double *got = malloc(N * sizeof *got), *ref = malloc(N * sizeof *ref);
-    gsl_rng *rng = gsl_rng_alloc(gsl_rng_taus2);
-    assert_true(got && ref && rng);
-    for (size_t c = 0; c < sizeof seeds / sizeof seeds[0]; c++) {
-        gsl_rng_set(rng, seeds[c]);
-        for (size_t i = 0; i < N; i++)
-            ref[i] = gsl_rng_uniform(rng);
-        /* in line: this GSL's state must allow it, or the fast path is gone */
-        assert_int_equal(arrank_rank_uniforms(seeds[c], 1, got, N), 1);
-        assert_memory_equal(got, ref, N * sizeof *got);
-        assert_int_equal(arrank_rank_uniforms(seeds[c], 0, got, N), 0);
-        assert_memory_equal(got, ref, N * sizeof *got);
-    }
-    printf("# %d uniforms for each of %zu seeds, in line and through GSL: identical\n", N,
-           sizeof seeds / sizeof seeds[0]);
-    gsl_rng_free(rng);
-    free(got);
-    free(ref);
-}
-
-/*
- * Two fast paths of the Monte Carlo (rank.c), each with its reference:
- * the pairwise counts are kept a row at a time with vector compares
- * (reference: pair by pair, arrank_rank_pairs_reference), and GSL's taus2
- * generator is stepped in line from the state GSL seeded (reference: every
- * uniform through GSL's calls, arrank_rank_rng_reference).  Counts are
- * integers and the uniforms must be the same numbers, so all four
- * combinations must give the same P(best) and P(i beats j), bit for bit: for
- * tables whose size is and is not a multiple of the vector block, with t and
- * normal draws (normal keys always take GSL's generator), with far-tail
- * samples drawn by thinning (the generator's (0, 1) uniforms), and with
- * exact ties: samples with no uncertainty in the key and equal means tie in
- * every draw, and a tie counts for neither side (rank.h: P(i beats j) +
- * P(j beats i) = 0 there).
- */
-static void test_pbest_mc_paths(void **state)
+static void test_pbest_counts(void **state)
 {
     (void)state;
     const struct {
@@ -668,13 +629,8 @@ static void test_pbest_mc_paths(void **state)
         const size_t n0 = cases[c].n, n = n0 + cases[c].far, P = cases[c].n_top;
         arrank_arrhenius *f = realloc(spread_fits(n0, 1000 + c), n * sizeof *f);
         const arrank_arrhenius **fits = malloc(n * sizeof *fits);
-        double *pb[4], *pp[4];
-        for (int r = 0; r < 4; r++) {
-            pb[r] = malloc(n * sizeof *pb[r]);
-            pp[r] = malloc(P * P * sizeof *pp[r]);
-            assert_true(pb[r] && pp[r]);
-        }
-        assert_true(f && fits);
+        double *pb = malloc(n * sizeof *pb), *pp = malloc(P * P * sizeof *pp);
+        assert_true(f && fits && pb && pp);
         /* samples 1, 2 (and 4) known exactly at T_op = T_ref: key b0, se 0, equal */
         const size_t tied[3] = {1, 2, 4};
         for (size_t t = 0; t < 3 && tied[t] < n0; t++) {
@@ -694,33 +650,22 @@ static void test_pbest_mc_paths(void **state)
         }
         for (size_t i = 0; i < n; i++)
             fits[i] = &f[i];
-        for (int r = 0; r < 4; r++) {
-            arrank_rank_pairs_reference(r & 1);
-            arrank_rank_rng_reference((r >> 1) & 1);
-            assert_int_equal(arrank_rank_pbest(fits, n, ARRANK_BY_RATE, T_op, 3001,
-                                               cases[c].seed, cases[c].normal, P, pb[r], pp[r],
-                                               NULL),
-                             ARRANK_OK);
-        }
-        arrank_rank_pairs_reference(0);
-        arrank_rank_rng_reference(0);
-        for (int r = 1; r < 4; r++) {
-            assert_memory_equal(pb[0], pb[r], n * sizeof *pb[0]);
-            assert_memory_equal(pp[0], pp[r], P * P * sizeof *pp[0]);
-        }
+        assert_int_equal(arrank_pbest_fits(fits, n, ARRANK_BY_RATE, T_op, 3001, cases[c].seed,
+                                           cases[c].normal, P, pb, pp, NULL),
+                         ARRANK_OK);
         size_t contested = 0, ties = 0, far_wins = 0;
         for (size_t i = n0; i < n; i++)
-            far_wins += pb[0][i] > 0;
+            far_wins += pb[i] > 0;
         thinned_cases += far_wins > 0;
         for (size_t i = 0; i < P; i++)
             for (size_t j = 0; j < P; j++) {
-                const double a = pp[0][i * P + j];
+                const double a = pp[i * P + j];
                 if (i == j) {
                     assert_true(isnan(a));
                     continue;
                 }
                 const int both_tied = (i == 1 || i == 2 || i == 4) && (j == 1 || j == 2 || j == 4);
-                const double sum = a + pp[0][j * P + i];
+                const double sum = a + pp[j * P + i];
                 if (both_tied) {
                     assert_true(sum == 0.0);
                     ties++;
@@ -729,17 +674,14 @@ static void test_pbest_mc_paths(void **state)
                     contested += a > 0.0 && a < 1.0;
                 }
             }
-        printf("# %zu samples, pairs %zu, %s: %zu contested, %zu tied entries, %zu far winners;"
-               " four paths identical\n", n, P, cases[c].normal ? "normal" : "t", contested, ties,
-               far_wins);
+        printf("# %zu samples, pairs %zu, %s: %zu contested, %zu tied entries, %zu far winners\n",
+               n, P, cases[c].normal ? "normal" : "t", contested, ties, far_wins);
         if (P >= 5)
             assert_int_equal(ties, 6);
         if (P >= 7)
             assert_true(contested > 0);
-        for (int r = 0; r < 4; r++) {
-            free(pb[r]);
-            free(pp[r]);
-        }
+        free(pb);
+        free(pp);
         free(fits);
         free(f);
     }
@@ -752,7 +694,7 @@ static void test_pbest_mc_paths(void **state)
     for (size_t i = 0; i < 3; i++)
         z[i] = make_fit(T_op, -INFINITY, -8800.0, 0.02 * 0.02, 0, 1.7e4, 5);
     double zb[3], zp[4];
-    assert_int_equal(arrank_rank_pbest(zf, 3, ARRANK_BY_RATE, T_op, 1001, 3, 0, 2, zb, zp, NULL),
+    assert_int_equal(arrank_pbest_fits(zf, 3, ARRANK_BY_RATE, T_op, 1001, 3, 0, 2, zb, zp, NULL),
                      ARRANK_OK);
     assert_true(zb[0] == 1.0 && zb[1] == 0.0 && zb[2] == 0.0);
     assert_true(zp[1] == 0.0 && zp[2] == 0.0); /* -inf against -inf: a tie every time */
@@ -776,21 +718,21 @@ static void test_holm_by_hand(void **state)
     const double want2[3] = {1.0, 0.6, 1.0};
     double adj[4];
     int bad = 0;
-    assert_int_equal(arrank_rank_holm(p1, 4, adj, NULL), ARRANK_OK);
+    assert_int_equal(arrank_groups_holm(p1, 4, adj, NULL), ARRANK_OK);
     for (size_t i = 0; i < 4; i++)
         bad += check_rel(adj[i], want1[i], 1e-15, "Holm case 1", "Holm 1979 by hand");
     size_t rejected = 0;
     for (size_t i = 0; i < 4; i++)
         rejected += adj[i] <= 0.05;
     assert_int_equal(rejected, 2);
-    assert_int_equal(arrank_rank_holm(p2, 3, adj, NULL), ARRANK_OK);
+    assert_int_equal(arrank_groups_holm(p2, 3, adj, NULL), ARRANK_OK);
     for (size_t i = 0; i < 3; i++)
         bad += check_rel(adj[i], want2[i], 1e-15, "Holm case 2", "Holm 1979 by hand");
     assert_int_equal(bad, 0);
     arrank_error e;
     arrank_error_clear(&e);
     const double p3[2] = {0.2, 1.3};
-    assert_int_equal(arrank_rank_holm(p3, 2, adj, &e), ARRANK_EINVAL);
+    assert_int_equal(arrank_groups_holm(p3, 2, adj, &e), ARRANK_EINVAL);
     assert_string_equal(e.message, "p-value 2 is '1.3', not in [0, 1]");
 }
 
@@ -819,7 +761,7 @@ static void test_groups(void **state)
     for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
         int g[5] = {-1, -1, -1, -1, -1};
         size_t m = 0;
-        assert_int_equal(arrank_rank_groups(cases[c].key, cases[c].se, cases[c].dof, cases[c].n,
+        assert_int_equal(arrank_groups_run(cases[c].key, cases[c].se, cases[c].dof, cases[c].n,
                                             0.05, g, &m, NULL),
                          ARRANK_OK);
         printf("# %s: groups", cases[c].id);
@@ -845,7 +787,7 @@ static void test_groups_capped(void **state)
         dof[i] = 6;
     }
     size_t m = 0;
-    assert_int_equal(arrank_rank_groups(key, se, dof, N, 0.05, g, &m, NULL), ARRANK_OK);
+    assert_int_equal(arrank_groups_run(key, se, dof, N, 0.05, g, &m, NULL), ARRANK_OK);
     assert_int_equal(m, (size_t)ARRANK_GROUP_MAX * (ARRANK_GROUP_MAX - 1) / 2);
     assert_int_equal(g[0], 1);
     assert_true(g[ARRANK_GROUP_MAX - 1] > 1);
@@ -860,9 +802,9 @@ static void test_groups_capped(void **state)
 }
 
 /*
- * arrank_rank_groups computes exact p-values only near Holm's boundary (rank.c).
- * Reference: the whole family by the definition in rank.h -- every pair's
- * Welch t p-value (GSL), Holm's adjusted values from arrank_rank_holm (checked
+ * arrank_groups_run computes exact p-values only near Holm's boundary (groups.c).
+ * Reference: the whole family by the definition in groups.h -- every pair's
+ * Welch t p-value (GSL), Holm's adjusted values from arrank_groups_holm (checked
  * by hand above), the leader rule -- on campaigns built so that many pairs sit
  * near the boundary: keys a few standard errors apart, dofs from 2 to 40 and
  * infinite, some zero and some equal standard errors, ties in the keys.
@@ -890,11 +832,11 @@ static double *holm_reference(const double *key, const double *se, const double 
             const double zz = d / sqrt(v);
             p[h] = den > 0 ? 2.0 * gsl_cdf_tdist_Q(zz, v * v / den) : 2.0 * gsl_cdf_ugaussian_Q(zz);
         }
-    assert_int_equal(arrank_rank_holm(p, m, p, NULL), ARRANK_OK);
+    assert_int_equal(arrank_groups_holm(p, m, p, NULL), ARRANK_OK);
     return p;
 }
 
-/* The leader rule of rank.h on the adjusted p-values. */
+/* The leader rule of groups.h on the adjusted p-values. */
 static void groups_reference(const double *p, size_t n, double alpha, int *group)
 {
     const size_t G = n < ARRANK_GROUP_MAX ? n : ARRANK_GROUP_MAX;
@@ -950,7 +892,7 @@ static void test_groups_exact_holm(void **state)
             }
         }
         size_t m = 0;
-        assert_int_equal(arrank_rank_groups(key, se, dof, n, cases[c].alpha, g, &m, NULL),
+        assert_int_equal(arrank_groups_run(key, se, dof, n, cases[c].alpha, g, &m, NULL),
                          ARRANK_OK);
         double *adj = holm_reference(key, se, dof, n);
         groups_reference(adj, n, cases[c].alpha, want);
@@ -961,7 +903,7 @@ static void test_groups_exact_holm(void **state)
         assert_memory_equal(g, want, n * sizeof *g);
         groups_seen += (size_t)want[G - 1];
         /* alpha a hair either side of a leader pair's adjusted p: that decision
-           then hangs on Holm's boundary, where rank.c computes p exactly */
+           then hangs on Holm's boundary, where groups.c computes p exactly */
         const size_t probe[3] = {1, 2, G / 2};
         for (size_t q = 0; q < 3; q++) {
             const double a = adj[probe[q] - 1]; /* pair (0, probe) */
@@ -969,7 +911,7 @@ static void test_groups_exact_holm(void **state)
                 continue;
             for (int side = -1; side <= 1; side += 2) {
                 const double alpha = a * (1.0 + side * 1e-9);
-                assert_int_equal(arrank_rank_groups(key, se, dof, n, alpha, g, NULL, NULL),
+                assert_int_equal(arrank_groups_run(key, se, dof, n, alpha, g, NULL, NULL),
                                  ARRANK_OK);
                 groups_reference(adj, n, alpha, want);
                 assert_memory_equal(g, want, n * sizeof *g);
@@ -992,14 +934,12 @@ static void test_groups_exact_holm(void **state)
 }
 
 /*
- * The pair set-up, the first sweep and the exact p-values run on worker
- * threads (rank.c); the groups must not depend on how many.  Forced to 1, 2
- * and 5 workers (arrank_workers_force; forced workers take part wherever
- * there is work, even a few open pairs), on campaigns made as above and on
- * Holm's boundary, the groups and n_tests must be identical and equal to the
- * reference by the definition.
+ * Campaigns of up to ARRANK_GROUP_MAX + 75 samples with mixed dof (normal
+ * ones too), exactly known keys and ties, at the case's level and a hair
+ * either side of an adjusted p (Holm's boundary): the groups and n_tests
+ * must equal the reference by the definition.
  */
-static void test_groups_workers(void **state)
+static void test_groups_campaigns(void **state)
 {
     (void)state;
     const struct {
@@ -1011,18 +951,13 @@ static void test_groups_workers(void **state)
         {333, 0.25, 0.10, 0xD1CE}, {17, 0.9, 0.05, 0x17}, {2, 3.1, 0.05, 0x2},
     };
     const double dofs[] = {2, 3, 4, 6, 9, 13, 21, 55, INFINITY};
-    const size_t workers[3] = {1, 2, 5};
     size_t probes = 0;
     for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
         const size_t n = cases[c].n;
         double *key = malloc(n * sizeof *key), *se = malloc(n * sizeof *se);
         double *dof = malloc(n * sizeof *dof);
-        int *g[3], *want = malloc(n * sizeof *want);
-        assert_true(key && se && dof && want);
-        for (int w = 0; w < 3; w++) {
-            g[w] = malloc(n * sizeof *g[w]);
-            assert_non_null(g[w]);
-        }
+        int *g = malloc(n * sizeof *g), *want = malloc(n * sizeof *want);
+        assert_true(key && se && dof && g && want);
         uint64_t s = cases[c].seed;
         double k = 2.71;
         for (size_t i = 0; i < n; i++) {
@@ -1048,20 +983,13 @@ static void test_groups_workers(void **state)
         for (size_t a = 0; a < 3; a++) {
             if (isnan(alphas[a]))
                 continue;
-            size_t m[3];
-            for (int w = 0; w < 3; w++) {
-                arrank_workers_force((int)workers[w]);
-                assert_int_equal(arrank_rank_groups(key, se, dof, n, alphas[a], g[w], &m[w], NULL),
-                                 ARRANK_OK);
-            }
-            arrank_workers_force(0);
+            size_t m = 0;
+            assert_int_equal(arrank_groups_run(key, se, dof, n, alphas[a], g, &m, NULL),
+                             ARRANK_OK);
             groups_reference(adj, n, alphas[a], want);
-            for (int w = 0; w < 3; w++) {
-                assert_int_equal(m[w], G * (G - 1) / 2);
-                assert_memory_equal(g[w], want, n * sizeof *want);
-            }
-            printf("# %zu samples, alpha %.6g: %d groups on 1, 2 and 5 workers\n", n, alphas[a],
-                   want[G - 1]);
+            assert_int_equal(m, G * (G - 1) / 2);
+            assert_memory_equal(g, want, n * sizeof *want);
+            printf("# %zu samples, alpha %.6g: %d groups\n", n, alphas[a], want[G - 1]);
             probes += a > 0;
         }
         free(adj);
@@ -1069,8 +997,7 @@ static void test_groups_workers(void **state)
         free(se);
         free(dof);
         free(want);
-        for (int w = 0; w < 3; w++)
-            free(g[w]);
+        free(g);
     }
     assert_true(probes >= 4);
 }
@@ -1102,7 +1029,7 @@ static void comp_campaign(size_t n_s, const double *ea, const double *lnA, doubl
         assert_int_equal(arrank_fit_arrhenius(T, r, NULL, n_t, &fit[s], NULL), ARRANK_OK);
         fits[s] = &fit[s];
     }
-    assert_int_equal(arrank_rank_compensation(fits, n_s, (double)n_T / inv_sum, 0.95, c, NULL),
+    assert_int_equal(arrank_compensation_run(fits, n_s, (double)n_T / inv_sum, 0.95, c, NULL),
                      ARRANK_OK);
     printf("# slope %.4g mol/J, r %.4f, T_iso %.1f K [%.1f, %.1f], T_hm %.1f K, "
            "Ea~ln r(T_hm) p %.3g, Exner T_iso %.1f K\n#   %s\n",
@@ -1155,7 +1082,7 @@ static void test_compensation_artifact(void **state)
     /* too few samples */
     comp_campaign(3, ea, lnA, 501.0, 529.0, 6, 0.05, 7, &c);
     assert_int_equal(c.verdict, ARRANK_COMP_TOO_FEW);
-    assert_string_equal(arrank_comp_verdict_words(c.verdict), "too few samples");
+    assert_string_equal(arrank_compensation_words(c.verdict), "too few samples");
 }
 
 /* ---- bootstrap ------------------------------------------------------------ */
@@ -1189,7 +1116,7 @@ static void test_bootstrap_vs_delta(void **state)
         assert_int_equal(arrank_fit_predict(&fit, cases[c].T_op, 0.95, &pr, NULL), ARRANK_OK);
         double lo, hi, lo2, hi2;
         size_t ok = 0;
-        assert_int_equal(arrank_rank_bootstrap(T, r, cases[c].weighted ? w : NULL, N, &fit,
+        assert_int_equal(arrank_bootstrap_rate(T, r, cases[c].weighted ? w : NULL, N, &fit,
                                                cases[c].T_op, 0.95, 4000, 17, &lo, &hi, &ok,
                                                NULL),
                          ARRANK_OK);
@@ -1201,7 +1128,7 @@ static void test_bootstrap_vs_delta(void **state)
         bad += check_rel(wb, wd, 0.10, "bootstrap vs delta width", "Davison & Hinkley 1997 ch. 6");
         assert_true(lo < pr.rate && pr.rate < hi);
         /* seeded: the same numbers again */
-        assert_int_equal(arrank_rank_bootstrap(T, r, cases[c].weighted ? w : NULL, N, &fit,
+        assert_int_equal(arrank_bootstrap_rate(T, r, cases[c].weighted ? w : NULL, N, &fit,
                                                cases[c].T_op, 0.95, 4000, 17, &lo2, &hi2, NULL,
                                                NULL),
                          ARRANK_OK);
@@ -1477,7 +1404,13 @@ static void test_pipeline(void **state)
     json_t *comp = json_object_get(top, "compensation");
     assert_non_null(comp);
     assert_non_null(json_object_get(comp, "verdict"));
-    assert_non_null(json_object_get(top, "ranking_uncertainty"));
+    json_t *u = json_object_get(top, "ranking_uncertainty");
+    assert_non_null(u);
+    /* one name for the key: the spelling of the JSON's "ranked_by" */
+    assert_string_equal(json_string_value(json_object_get(u, "by")), "rate_at_T");
+    assert_string_equal(arrank_rank_by_name(ARRANK_BY_RATE), "rate_at_T");
+    assert_string_equal(arrank_rank_by_name(ARRANK_BY_EA), "ea");
+    assert_string_equal(arrank_rank_by_name(ARRANK_BY_PREFACTOR), "prefactor");
     char *text = json_dumps(top, JSON_COMPACT);
     assert_non_null(text);
     printf("# %.300s...\n", text);
@@ -1504,11 +1437,33 @@ static void test_pipeline(void **state)
     assert_null(a);
     assert_string_equal(e.message, "model 'eyring' needs turnover frequencies (a rate unit of "
                                    "1/time); 'umol/(g*s)' is a rate per mass");
+
+    /* --model eyring on turnover frequencies per minute: the factor to 1/s
+       comes from the caller's unit database (options.units), or from the one
+       the pipeline loads when none is given; the same fit either way, and
+       dS is that of the same numbers per second less R ln 60 (dS = R (b0 +
+       ln c - ...), models.h, with c = 1/60) */
+    toy_make(t, 8, ARRANK_BASIS_SITE, "1/min");
+    o.diagnose = 0;
+    double dS[3];
+    for (int run = 0; run < 3; run++) {
+        t->c.rate_unit = run == 2 ? "1/s" : "1/min";
+        o.units = run == 0 ? units : NULL;
+        arrank_error_clear(&e);
+        assert_int_equal(arrank_analysis_run(&t->c, &o, &a, &e), ARRANK_OK);
+        const struct arrank_sample_stats *ss = a->results[0].stats;
+        assert_true(ss && ss->has_model && ss->model.eyring);
+        dS[run] = ss->model.dS_J_mol_K;
+        arrank_analysis_free(a);
+    }
+    o.units = NULL;
+    assert_true(dS[0] == dS[1]);
+    assert_true(fabs(dS[2] - R_GAS * log(60.0) - dS[0]) < 1e-9 * fabs(dS[0]) + 1e-9);
     free(t);
 }
 
 /*
- * Each ranked sample's key (rank.h: key, key_se, key_dof, set on the worker
+ * Each ranked sample's key (analysis_stats.h: key, key_se, key_dof, set on the worker
  * that fitted it) against the fit it comes from, computed here the other way:
  * ln r at T from arrank_fit_predict, -Ea and ln A with their standard errors.
  * The order follows the keys, and T_hm is every used temperature's harmonic
@@ -1590,13 +1545,12 @@ int main(void)
         cmocka_unit_test(test_pbest_reproducible_and_pairs_capped),
         cmocka_unit_test(test_pbest_large),
         cmocka_unit_test(test_pbest_contenders),
-        cmocka_unit_test(test_pbest_uniforms),
-        cmocka_unit_test(test_pbest_mc_paths),
+        cmocka_unit_test(test_pbest_counts),
         cmocka_unit_test(test_holm_by_hand),
         cmocka_unit_test(test_groups),
         cmocka_unit_test(test_groups_capped),
         cmocka_unit_test(test_groups_exact_holm),
-        cmocka_unit_test(test_groups_workers),
+        cmocka_unit_test(test_groups_campaigns),
         cmocka_unit_test(test_compensation_real),
         cmocka_unit_test(test_compensation_artifact),
         cmocka_unit_test(test_bootstrap_vs_delta),
@@ -1608,5 +1562,5 @@ int main(void)
         cmocka_unit_test(test_pipeline),
         cmocka_unit_test(test_rank_keys),
     };
-    return cmocka_run_group_tests(tests, NULL, NULL);
+    return cmocka_run_group_tests(tests, units_setup, units_teardown);
 }

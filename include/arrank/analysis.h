@@ -12,20 +12,15 @@
 
 #include <stddef.h>
 
+#include "arrank/analysis_stats.h" /* the ranking statistics in the results */
 #include "arrank/campaign.h"
 #include "arrank/error.h"
 #include "arrank/fit.h"
+#include "arrank/pbest.h" /* arrank_rank_by: what "best" means */
 
 struct arrank_diagnosis;
 struct arrank_sample_stats;
 struct arrank_rank_stats;
-
-/* What "best" means in the ranking. */
-typedef enum {
-    ARRANK_BY_RATE = 0,      /* highest rate at the operating temperature */
-    ARRANK_BY_EA = 1,        /* lowest apparent activation energy */
-    ARRANK_BY_PREFACTOR = 2  /* highest pre-exponential factor */
-} arrank_rank_by;
 
 /* Sample flags: a bit each; names and plain words from arrank_flag_name/_words. */
 enum {
@@ -72,7 +67,7 @@ typedef struct {
     int drop_outliers;        /* 1: leave flagged outliers out of the fit */
     double conversion_limit;  /* differential-reactor limit, fraction; default 0.10 */
     int diagnose;             /* 1: run the diagnostics (default 1) */
-    /* ranking statistics (rank.h) */
+    /* ranking statistics (analysis_stats.h) */
     arrank_error_model errors;
     arrank_model model;
     unsigned long seed;       /* Monte Carlo and bootstrap seed, default 1 */
@@ -103,7 +98,7 @@ typedef struct {
     int rank;                     /* 1 = best; 0 = not ranked */
     unsigned flags;               /* ARRANK_FLAG_* bits */
     struct arrank_diagnosis *diagnosis; /* diagnose.h; NULL when not run */
-    struct arrank_sample_stats *stats;  /* rank.h; NULL when not computed */
+    struct arrank_sample_stats *stats;  /* analysis_stats.h; NULL when not computed */
 } arrank_result;
 
 typedef struct {
@@ -113,7 +108,8 @@ typedef struct {
     size_t n_results;
     size_t *order;                   /* [n_ranked] result indices, best first */
     size_t n_ranked;
-    struct arrank_rank_stats *rank_stats; /* rank.h: P(best), groups, compensation; may be NULL */
+    struct arrank_rank_stats *rank_stats; /* analysis_stats.h: P(best), groups, compensation;
+                                             may be NULL */
 } arrank_analysis;
 
 /*

@@ -13,7 +13,9 @@
 #include <string.h>
 
 #include "arrank/diagnose.h"
-#include "arrank/rank.h"
+#include "analysis_internal.h"
+#include "analysis_models.h"
+#include "analysis_rank.h"
 #include "internal.h"
 #include "stats.h"
 
@@ -198,16 +200,16 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
         if (st != ARRANK_OK || res->error)
             return st;
     }
-    /* rank.h: --errors absolute refits in rate space; --model adds its fit */
-    st = arrank_models_apply(res, opt, rate_to_per_s, err);
+    /* analysis_models.c: --errors absolute refits in rate space; --model adds its fit */
+    st = arrank_analysis_models_apply(res, opt, rate_to_per_s, err);
     if (st != ARRANK_OK || res->error)
         return st;
     basic_flags(res);
     if (isfinite(opt->operating_temp_K)) {
         st = arrank_fit_predict(&res->fit, opt->operating_temp_K, opt->confidence, &res->at_T,
                                 err);
-        if (st == ARRANK_OK) /* rank.h: the model's prediction when one was fitted */
-            st = arrank_models_predict(res, opt, err);
+        if (st == ARRANK_OK) /* the model's prediction when one was fitted */
+            st = arrank_analysis_models_predict(res, opt, err);
         if (st != ARRANK_OK)
             return st;
         res->has_prediction = 1;
@@ -216,7 +218,7 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
     }
     /* the ranking's per-sample part while the sample is in this core's cache */
     if (isfinite(opt->operating_temp_K) || opt->by != ARRANK_BY_RATE)
-        return arrank_rank_prepare(res, opt, err);
+        return arrank_analysis_rank_prepare(res, opt, err);
     return ARRANK_OK;
 }
 
@@ -287,19 +289,26 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
     arrank_campaign_basis bases = {1, 0, ""};
     if (opt.diagnose)
         bases.mixed = arrank_diagnose_campaign_basis(campaign, bases.why, sizeof bases.why);
-    /* rank.h: --model eyring needs turnover frequencies and their factor to 1/s */
-    double rate_to_per_s = 1.0;
-    st = arrank_models_prepare(campaign, &opt, &rate_to_per_s, err);
-    if (st != ARRANK_OK)
-        goto fail;
+    /* one unit database for every sample's criteria and the eyring factor */
+    const int eyring = opt.model == ARRANK_MODEL_EYRING;
     arrank_units *own_units = NULL;
-    if (opt.diagnose && !opt.units) { /* one database for every sample's criteria */
-        arrank_error ue;
-        arrank_error_clear(&ue);
+    arrank_error ue;
+    arrank_error_clear(&ue);
+    if ((opt.diagnose || eyring) && !opt.units) {
         own_units = arrank_units_create(&ue); /* NULL: diagnose notes why per sample */
         opt.units = own_units;
     }
-    st = analyse_all(a, &opt, &bases, rate_to_per_s, err);
+    /* --model eyring needs turnover frequencies and their factor to 1/s */
+    double rate_to_per_s = 1.0;
+    if (eyring && !opt.units && campaign->basis == ARRANK_BASIS_SITE && ue.status != ARRANK_OK) {
+        if (err)
+            *err = ue; /* why the database could not be read */
+        st = ue.status;
+    } else {
+        st = arrank_analysis_models_prepare(campaign, &opt, &rate_to_per_s, err);
+    }
+    if (st == ARRANK_OK)
+        st = analyse_all(a, &opt, &bases, rate_to_per_s, err);
     arrank_units_free(own_units);
     opt.units = NULL;
     if (st != ARRANK_OK)
@@ -339,10 +348,10 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
         free(items);
         for (size_t k = 0; k < a->n_ranked; k++)
             a->results[a->order[k]].rank = (int)(k + 1);
-        /* rank.h: P(best), groups, compensation, bootstrap */
+        /* analysis_rank.c: P(best), groups, compensation, bootstrap */
         if (opt.progress)
             opt.progress(opt.progress_ctx, "ranking samples", 0, 1);
-        st = arrank_rank_compute(a, err);
+        st = arrank_analysis_rank_compute(a, err);
         if (st != ARRANK_OK)
             goto fail;
     }

@@ -12,7 +12,7 @@
  * Sci. 62:2750, 2007).
  */
 #include "arrank/fit.h"
-#include "internal.h"
+#include "fit_internal.h"
 
 #include <float.h>
 #include <math.h>
@@ -650,7 +650,7 @@ arrank_status arrank_fit_arrhenius(const double *temp_K, const double *rate, con
  */
 #define EXTRAPOLATION_REL_TOL 1e-9
 
-/* The checks both predict functions make (internal.h): this one and models.c's. */
+/* The checks both predict functions make (fit_internal.h): this one and models.c's. */
 arrank_status arrank_predict_check(int have_fit, double temp_K, double confidence,
                                    const arrank_prediction *pred, arrank_error *err)
 {
@@ -665,7 +665,7 @@ arrank_status arrank_predict_check(int have_fit, double temp_K, double confidenc
     return ARRANK_OK;
 }
 
-/* The interval and the range test both predict functions give (internal.h). */
+/* The interval and the range test both predict functions give (fit_internal.h). */
 void arrank_predict_fill(double temp_K, double confidence, double dof, double T_min_K,
                          double T_max_K, double ln_r, double se, arrank_prediction *pred)
 {

@@ -11,29 +11,9 @@
 #include "arrank/analysis.h"
 #include "util.h"
 
-/* Copy the points marked in res->used into temp_K, rate, rate_sd (each with
-   room for the sample's n_points); *have_sd is 1 when every copied rate_sd is
-   finite.  Returns the number copied (analysis.c). */
-size_t arrank_result_used_points(const arrank_result *res, double *temp_K, double *rate,
-                                 double *rate_sd, int *have_sd);
-
 /* Refit a result on the points marked in res->used (analysis.c).  A fit that
    is impossible sets res->error; only ENOMEM is returned as a failure. */
 arrank_status arrank_result_refit(arrank_result *res, arrank_error *err);
-
-/* ---- fit.c: the parts of a prediction shared by fit.c and models.c ---- */
-
-/* The argument checks of arrank_fit_predict and arrank_model_fit_predict:
-   have_fit is 0 when the caller was given no fit; temp_K in kelvin.  ARRANK_OK,
-   or EINVAL with the message in *err.  Each caller then checks its own fit. */
-arrank_status arrank_predict_check(int have_fit, double temp_K, double confidence,
-                                   const arrank_prediction *pred, arrank_error *err);
-
-/* Fill *pred at temp_K from ln r and its standard error se: the two-sided
-   `confidence` interval exp(ln r -/+ t se) with t on dof degrees of freedom,
-   and extrapolated when temp_K is outside [T_min_K, T_max_K] beyond rounding. */
-void arrank_predict_fill(double temp_K, double confidence, double dof, double T_min_K,
-                         double T_max_K, double ln_r, double se, arrank_prediction *pred);
 
 /* ---- campaign.c: test switch for the reader ---- */
 
@@ -41,61 +21,6 @@ void arrank_predict_fill(double temp_K, double confidence, double dof, double T_
    instead of through libcsv, with the same result; 0: every line goes through
    libcsv.  For tests that compare the two readings; not thread-safe. */
 void arrank_campaign_plain_lines(int on);
-
-/* ---- rank.c: ranking statistics and extra models (rank.h, models.h) ---- */
-
-/* 0 (the default): the Monte Carlo counts the pairwise wins of the top a row
-   at a time with vector compares; 1: pair by pair in plain C, as before, to
-   compare the two (the counts are integers and must be equal).  For tests
-   only; not thread-safe. */
-void arrank_rank_pairs_reference(int on);
-
-/* 0 (the default): the Monte Carlo steps GSL's taus2 generator in line, from
-   the state GSL seeded, when every key is a t; 1: every uniform through GSL's
-   calls, as before, to compare the two (the numbers must be equal).  For
-   tests only; not thread-safe. */
-void arrank_rank_rng_reference(int on);
-
-/* Tests: out[n] gets the first n uniforms of the Monte Carlo's generator
-   seeded with seed, stepped in line (in_line 1) or through GSL (0).  Returns
-   1 when they were stepped in line (this GSL's state allows it), 0 when they
-   came through GSL, -1 when out of memory. */
-int arrank_rank_uniforms(unsigned long seed, int in_line, double *out, size_t n);
-
-/* For options.model == EYRING: refuse a campaign whose rates are not
-   turnover frequencies (EINVAL) and give the factor from the report unit to
-   1/s.  1 otherwise.  EUNIT when the unit cannot be read. */
-arrank_status arrank_models_prepare(const arrank_campaign *campaign, const arrank_options *opt,
-                                    double *rate_to_per_s, arrank_error *err);
-
-/* Per-sample fit step for --errors absolute (replaces res->fit by the
-   rate-space fit) and --model modified|eyring (fills res->stats->model).  A fit
-   that fails sets res->error; only ENOMEM is returned as a failure. */
-arrank_status arrank_models_apply(arrank_result *res, const arrank_options *opt,
-                                  double rate_to_per_s, arrank_error *err);
-
-/* Replace res->at_T by the model's prediction when a model was fitted. */
-arrank_status arrank_models_predict(arrank_result *res, const arrank_options *opt,
-                                    arrank_error *err);
-
-/* The sample's part of the ranking, done with its fit on the worker that
-   fitted it (analysis.c): res->stats (allocated here), its key and its share
-   of T_hm.  ENOMEM only.  arrank_rank_compute does it for any ranked result
-   that arrives without it. */
-arrank_status arrank_rank_prepare(arrank_result *res, const arrank_options *opt,
-                                  arrank_error *err);
-
-/* Per-sample JSON parts, to merge into the sample's object (json_object_update):
-   "p_best", "group" (null when not grouped), "p_beats" (object keyed by the
-   other sample's id; top samples only), "rate_at_T_ci_bootstrap" ([lo, hi],
-   report unit) with "bootstrap_resamples", and "model" when one was fitted.
-   New reference (an empty object when nothing was computed); NULL on ENOMEM. */
-json_t *arrank_sample_stats_json(const arrank_analysis *a, size_t result_index);
-
-/* Campaign-level JSON parts, to merge into the top object: "compensation"
-   and "ranking_uncertainty" (draws, seed, distribution, group rule, ...).
-   New reference; an empty object when no statistics were computed. */
-json_t *arrank_rank_stats_json(const arrank_analysis *a);
 
 /* Diagnostics of one result as a JSON object (diagnose.c): regime per point
    (file order), excluded points with reasons, kinetic window, curvature,

@@ -10,7 +10,7 @@
  * to move the weights from ln r to r.
  */
 #include "arrank/models.h"
-#include "internal.h"
+#include "fit_internal.h"
 
 #include <math.h>
 #include <stdint.h>

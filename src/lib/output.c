@@ -20,21 +20,11 @@
 #include <unistd.h>
 
 #include "arrank/version.h"
-#include "arrank/rank.h"
 #include "internal.h"
 #include "number.h"
+#include "rank_out.h"
 
 #define NAME_WIDTH_MAX 28 /* longer sample names are shortened in the table */
-
-static const char *by_name(arrank_rank_by by)
-{
-    switch (by) {
-    case ARRANK_BY_EA: return "ea";
-    case ARRANK_BY_PREFACTOR: return "prefactor";
-    case ARRANK_BY_RATE: break;
-    }
-    return "rate_at_T";
-}
 
 /* Ranked samples first, in rank order, then the others in file order.
    Returns a new array of n_results indices, or NULL when out of memory. */
@@ -179,7 +169,7 @@ static json_t *analysis_json(const arrank_analysis *a)
     json_object_set_new(root, "rate_unit", json_string(c->rate_unit));
     json_object_set_new(root, "basis", json_string(arrank_basis_name(c->basis)));
     json_object_set_new(root, "confidence", json_real(a->options.confidence));
-    json_object_set_new(root, "ranked_by", a->n_ranked ? json_string(by_name(a->options.by))
+    json_object_set_new(root, "ranked_by", a->n_ranked ? json_string(arrank_rank_by_name(a->options.by))
                                                        : json_null());
     json_object_set_new(root, "R_J_mol_K", json_real(ARRANK_R_J_MOL_K));
     json_object_set_new(root, "samples", json_array());

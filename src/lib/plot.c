@@ -38,7 +38,7 @@
 #include <gsl/gsl_cdf.h>
 
 #include "arrank/diagnose.h"
-#include "arrank/rank.h"
+#include "arrank/analysis_stats.h"
 #include "internal.h"
 
 #define INSTALL_HINT "install it (Debian/Ubuntu: apt-get install gnuplot-nox) or name the " \

@@ -40,7 +40,7 @@
 
 #include "arrank/diagnose.h"
 #include "arrank/fit.h"
-#include "arrank/rank.h"
+#include "arrank/analysis_stats.h"
 #include "arrank/version.h"
 #include "internal.h"
 
@@ -431,7 +431,7 @@ static void put_flag_names(FILE *f, unsigned flags)
         fputs("&ndash;", f);
 }
 
-/* P(best) and group cells from the ranking statistics (rank.h). */
+/* P(best) and group cells from the ranking statistics (analysis_stats.h). */
 static void put_stats_cells(FILE *f, const arrank_result *r)
 {
     const struct arrank_sample_stats *st = r->stats;

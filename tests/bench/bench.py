@@ -137,7 +137,7 @@ def main():
           f"the same relative order: {same_rest} of {len(rest)}")
 
     # P(best) with 10^4 draws over 1,000 samples (rank statistics, issue 5).
-    if os.path.exists("include/arrank/rank.h"):
+    if os.path.exists("include/arrank/pbest.h"):
         c1k = campaign("c1k", 1000)
         cmd = [ARRANK, "rank", c1k, "--draws", "10000"]
         m, t = medians({"pbest": cmd}, REPS)

@@ -1,0 +1,142 @@
+/*
+ * rank_out.c - the ranking statistics as JSON parts and the ranking key's
+ * name (rank_out.h), for the writers: the one place that spells them.
+ */
+#include "rank_out.h"
+
+#include <math.h>
+#include <stdint.h>
+
+/* A number, or null for NAN and infinities (JSON has neither). */
+static json_t *num(double x)
+{
+    return isfinite(x) ? json_real(x) : json_null();
+}
+
+const char *arrank_rank_by_name(arrank_rank_by by)
+{
+    switch (by) {
+    case ARRANK_BY_EA: return "ea";
+    case ARRANK_BY_PREFACTOR: return "prefactor";
+    case ARRANK_BY_RATE: break;
+    }
+    return "rate_at_T";
+}
+
+static json_t *model_json(const arrank_model_fit *m)
+{
+    json_t *o = json_object();
+    if (!o)
+        return NULL;
+    json_object_set_new(o, "form", json_string(m->eyring ? "eyring" : "modified"));
+    json_object_set_new(o, "errors", json_string(m->absolute ? "absolute" : "relative"));
+    json_object_set_new(o, "T_ref_K", num(m->T_ref_K));
+    json_object_set_new(o, "E_J_mol", num(m->E_J_mol));
+    json_object_set_new(o, "E_se_J_mol", num(m->E_se_J_mol));
+    json_object_set_new(o, "ln_A", num(m->ln_A));
+    json_object_set_new(o, "ln_A_se", num(m->ln_A_se));
+    json_object_set_new(o, "dof", num(m->dof));
+    if (m->eyring) {
+        json_object_set_new(o, "dH_J_mol", num(m->dH_J_mol));
+        json_object_set_new(o, "dH_se_J_mol", num(m->dH_se_J_mol));
+        json_object_set_new(o, "dS_J_mol_K", num(m->dS_J_mol_K));
+        json_object_set_new(o, "dS_se_J_mol_K", num(m->dS_se_J_mol_K));
+    } else {
+        json_object_set_new(o, "n", num(m->n_T));
+        json_object_set_new(o, "n_se", num(m->n_T_se));
+        json_object_set_new(o, "corr_E_n", num(m->corr_E_n));
+        json_object_set_new(o, "E_n_collinear", json_boolean(m->collinear));
+        json_object_set_new(o, "ea_apparent_at_T_ref_J_mol", num(m->ea_app_J_mol));
+    }
+    return o;
+}
+
+json_t *arrank_sample_stats_json(const arrank_analysis *a, size_t index)
+{
+    const arrank_result *res = &a->results[index];
+    const struct arrank_sample_stats *ss = res->stats;
+    const struct arrank_rank_stats *rs = a->rank_stats;
+    json_t *o = json_object();
+    if (!o)
+        return NULL;
+    if (!ss)
+        return o;
+    if (rs && res->rank > 0) {
+        json_object_set_new(o, "p_best", num(ss->p_best));
+        json_object_set_new(o, "group", ss->group > 0 ? json_integer(ss->group) : json_null());
+    }
+    if (rs && ss->top_index != SIZE_MAX && ss->top_index < rs->n_top) {
+        json_t *pb = json_object();
+        for (size_t j = 0; pb && j < rs->n_top; j++) {
+            if (j == ss->top_index)
+                continue;
+            const char *id = a->results[rs->top[j]].sample->id;
+            json_object_set_new(pb, id, num(rs->p_beats[ss->top_index * rs->n_top + j]));
+        }
+        json_object_set_new(o, "p_beats", pb);
+    }
+    if (ss->has_bootstrap) {
+        json_t *ci = json_array();
+        json_array_append_new(ci, num(ss->rate_lo_boot));
+        json_array_append_new(ci, num(ss->rate_hi_boot));
+        json_object_set_new(o, "rate_at_T_ci_bootstrap", ci);
+        json_object_set_new(o, "bootstrap_resamples", json_integer((json_int_t)ss->boot_ok));
+    }
+    if (ss->has_model)
+        json_object_set_new(o, "model", model_json(&ss->model));
+    return o;
+}
+
+json_t *arrank_rank_stats_json(const arrank_analysis *a)
+{
+    const struct arrank_rank_stats *rs = a->rank_stats;
+    json_t *o = json_object();
+    if (!o || !rs)
+        return o;
+    json_t *u = json_object();
+    json_object_set_new(u, "by", json_string(arrank_rank_by_name(rs->by)));
+    json_object_set_new(u, "draws", json_integer((json_int_t)rs->draws));
+    json_object_set_new(u, "seed", json_integer((json_int_t)rs->seed));
+    json_object_set_new(u, "distribution", json_string(rs->normal_draws ? "normal" : "t"));
+    json_object_set_new(u, "pairs", json_integer((json_int_t)rs->n_top));
+    json_object_set_new(u, "groups", json_integer(rs->n_groups));
+    json_object_set_new(u, "grouped_samples", json_integer((json_int_t)rs->n_grouped));
+    json_object_set_new(u, "holm_tests", json_integer((json_int_t)rs->n_tests));
+    json_object_set_new(u, "group_rule",
+                        json_string("a sample joins the group of the best sample above it "
+                                    "(the leader) unless it differs from the leader after Holm's "
+                                    "correction over all pairs among the top ranks"));
+    json_object_set_new(u, "bootstrap", json_integer((json_int_t)rs->bootstrap));
+    json_object_set_new(o, "ranking_uncertainty", u);
+
+    const arrank_compensation *c = &rs->compensation;
+    json_t *k = json_object();
+    json_object_set_new(k, "verdict", json_string(arrank_compensation_words(c->verdict)));
+    json_object_set_new(k, "sentence", json_string(c->sentence));
+    json_object_set_new(k, "samples", json_integer((json_int_t)c->n));
+    json_object_set_new(k, "regression", json_string("unweighted least squares of ln A on Ea"));
+    json_object_set_new(k, "slope_mol_J", num(c->slope_mol_J));
+    json_object_set_new(k, "slope_se_mol_J", num(c->slope_se_mol_J));
+    json_object_set_new(k, "intercept", num(c->intercept));
+    json_object_set_new(k, "intercept_se", num(c->intercept_se));
+    json_object_set_new(k, "r", num(c->corr));
+    json_object_set_new(k, "slope_p", num(c->slope_p));
+    json_object_set_new(k, "T_iso_K", num(c->T_iso_K));
+    json_object_set_new(k, "T_iso_interval", json_string("Fieller (inverted t interval of the "
+                                                        "slope)"));
+    json_object_set_new(k, "T_iso_bounded", json_boolean(c->T_iso_bounded));
+    json_object_set_new(k, "T_iso_lo_K", c->T_iso_bounded ? num(c->T_iso_lo_K) : json_null());
+    json_object_set_new(k, "T_iso_hi_K", c->T_iso_bounded ? num(c->T_iso_hi_K) : json_null());
+    json_object_set_new(k, "T_hm_K", num(c->T_hm_K));
+    json_object_set_new(k, "T_hm_inside_T_iso_interval", json_boolean(c->T_hm_inside));
+    json_object_set_new(k, "ea_vs_ln_rate_at_T_hm_slope_mol_J", num(c->hm_slope_mol_J));
+    json_object_set_new(k, "ea_vs_ln_rate_at_T_hm_p", num(c->hm_p));
+    json_object_set_new(k, "exner_T1_K", num(c->exner_T1_K));
+    json_object_set_new(k, "exner_T2_K", num(c->exner_T2_K));
+    json_object_set_new(k, "exner_slope", num(c->exner_slope));
+    json_object_set_new(k, "exner_slope_se", num(c->exner_slope_se));
+    json_object_set_new(k, "exner_T_iso_K", num(c->exner_T_iso_K));
+    json_object_set_new(k, "confidence", num(c->confidence));
+    json_object_set_new(o, "compensation", k);
+    return o;
+}
