@@ -113,8 +113,11 @@ check-layers: $(LIB)
 bench: all
 	@sh tests/bench/run.sh $(BUILD)
 
+# Made anew each time, so that a module removed from src/lib leaves no stale
+# member behind.
 $(LIB): $(LIB_OBJ)
 	@mkdir -p $(dir $@)
+	@rm -f $@
 	$(AR) rcs $@ $^
 
 $(ARRANK): $(CLI_OBJ) $(LIB)
