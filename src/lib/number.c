@@ -47,13 +47,7 @@ static void make_c_locale(void)
     c_locale = newlocale(LC_ALL_MASK, "C", (locale_t)0);
 }
 
-typedef struct {
-    locale_t locale; /* the thread's locale before, (locale_t)0 if not switched */
-    int rounding;    /* the rounding mode before */
-} c_env;
-
-/* Switch this thread to the C locale and rounding to nearest. */
-static void enter_c(c_env *saved)
+void arrank_numbers_c_enter(arrank_numbers_env *saved)
 {
     pthread_once(&c_locale_once, make_c_locale);
     saved->locale = c_locale ? uselocale(c_locale) : (locale_t)0;
@@ -62,7 +56,7 @@ static void enter_c(c_env *saved)
         fesetround(FE_TONEAREST);
 }
 
-static void leave_c(const c_env *saved)
+void arrank_numbers_c_leave(const arrank_numbers_env *saved)
 {
     if (saved->rounding != FE_TONEAREST)
         fesetround(saved->rounding);
@@ -80,11 +74,10 @@ static const char *foreign_point(void)
     return dp && strcmp(dp, ".") != 0 ? dp : NULL;
 }
 
-/* strtod in the C locale, rounding to nearest. */
-static double strtod_c(const char *text, char **end)
+double arrank_decimal_prefix(const char *text, char **end)
 {
-    c_env saved;
-    enter_c(&saved);
+    arrank_numbers_env saved;
+    arrank_numbers_c_enter(&saved);
     const char *dp = foreign_point();
     double v;
     if (!dp) {
@@ -108,7 +101,7 @@ static double strtod_c(const char *text, char **end)
         }
     }
     int e = errno;
-    leave_c(&saved);
+    arrank_numbers_c_leave(&saved);
     errno = e;
     return v;
 }
@@ -116,8 +109,8 @@ static double strtod_c(const char *text, char **end)
 /* snprintf "%.*f" (general 0) or "%.*g" (general 1) in the C locale, rounding to nearest. */
 static int snprintf_c(char *buf, size_t n, int general, int prec, double v)
 {
-    c_env saved;
-    enter_c(&saved);
+    arrank_numbers_env saved;
+    arrank_numbers_c_enter(&saved);
     int r = general ? snprintf(buf, n, "%.*g", prec, v) : snprintf(buf, n, "%.*f", prec, v);
     const char *dp = foreign_point();
     char *at = dp && r >= 0 ? strstr(buf, dp) : NULL;
@@ -127,7 +120,7 @@ static int snprintf_c(char *buf, size_t n, int general, int prec, double v)
         memmove(at + 1, at + k, strlen(at + k) + 1);
         r -= (int)(k - 1);
     }
-    leave_c(&saved);
+    arrank_numbers_c_leave(&saved);
     return r;
 }
 
@@ -142,7 +135,7 @@ static const double powers_of_ten[] = {
 int arrank_decimal_fast(const char *text, double *value)
 {
     if (fegetround() != FE_TONEAREST)
-        return 0; /* the one operation below would round another way than strtod_c */
+        return 0; /* the one operation below would round another way than strtod in C */
     const char *s = text;
     int negative = 0;
     if (*s == '+' || *s == '-')
@@ -211,7 +204,7 @@ int arrank_decimal_read(const char *text, double *value)
             return 1;
     char *end;
     errno = 0;
-    v = strtod_c(text, &end);
+    v = arrank_decimal_prefix(text, &end);
     if (end == text || *end != '\0')
         return 1;
     if (isnan(v) || (isinf(v) && errno != ERANGE))

@@ -6,8 +6,30 @@
 #ifndef ARRANK_NUMBER_H
 #define ARRANK_NUMBER_H
 
+#include <locale.h>
 #include <stddef.h>
 #include <stdint.h>
+
+/*
+ * The C library's number paths (strtod, printf, and libraries built on them
+ * such as udunits2) follow the calling thread's locale and rounding mode.
+ * arrank_numbers_c_enter switches this thread to the C locale (uselocale,
+ * never the process-wide setlocale) and to rounding to nearest, and saves
+ * what was there; arrank_numbers_c_leave puts it back.
+ */
+typedef struct {
+    locale_t locale; /* the thread's locale before; (locale_t)0 if not switched */
+    int rounding;    /* the rounding mode before */
+} arrank_numbers_env;
+
+void arrank_numbers_c_enter(arrank_numbers_env *saved);
+void arrank_numbers_c_leave(const arrank_numbers_env *saved);
+
+/*
+ * strtod(text, end) as in the C locale rounding to nearest, whatever the
+ * caller's locale and rounding mode (errno as strtod sets it).
+ */
+double arrank_decimal_prefix(const char *text, char **end);
 
 /*
  * If the whole of text is a plain decimal number - [+-]digits[.digits]

@@ -30,4 +30,16 @@ arrank_status arrank_sample_derive_rates(arrank_sample *sample, arrank_units *un
 int arrank_sample_add_meta(arrank_sample *sample, const char *key, const char *value,
                            const char *source, long line);
 
+/* ---- between sample.c and sample_derive.c ---- */
+
+/* Problems that keep the sample but keep it out of the fit: fewer than 3
+   points, one temperature (a rate <= 0 is set while reading).  Sets
+   sample->problem unless one is set; -1 when out of memory. */
+int arrank_sample_fit_problem(arrank_sample *sample);
+
+/* arrank_sample_derive_rates with the conversion from mol/(kg*s) to the
+   report unit given. */
+arrank_status arrank_sample_derive_with(arrank_sample *sample, arrank_units *units,
+                                        const arrank_conversion *to_report, arrank_error *err);
+
 #endif
