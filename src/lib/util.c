@@ -190,24 +190,10 @@ arrank_status arrank_workers_each(size_t first, size_t n, size_t chunk, size_t w
 
 /* ---- text of the input files ------------------------------------------------ */
 
-static int ascii_lower(int c)
-{
-    return (c >= 'A' && c <= 'Z') ? c - 'A' + 'a' : c;
-}
-
-int arrank_ascii_casecmp(const char *a, const char *b)
-{
-    for (;; a++, b++) {
-        int ca = ascii_lower((unsigned char)*a), cb = ascii_lower((unsigned char)*b);
-        if (ca != cb || ca == 0)
-            return ca - cb;
-    }
-}
-
 int arrank_ascii_casecmp_n(const char *a, const char *b, size_t n)
 {
     for (size_t i = 0; i < n; i++) {
-        int ca = ascii_lower((unsigned char)a[i]), cb = ascii_lower((unsigned char)b[i]);
+        int ca = arrank_ascii_lower((unsigned char)a[i]), cb = arrank_ascii_lower((unsigned char)b[i]);
         if (ca != cb || ca == 0)
             return ca - cb;
     }
@@ -230,7 +216,7 @@ const char *arrank_base_name(const char *path)
     return slash ? slash + 1 : path;
 }
 
-int arrank_grow(void **array, size_t *cap, size_t need, size_t elem)
+int arrank_grow_to(void **array, size_t *cap, size_t need, size_t elem)
 {
     if (need <= *cap)
         return 0;
@@ -266,19 +252,6 @@ void arrank_list_free(char **list, size_t n)
     free(list);
 }
 
-size_t arrank_line_length(const char *s, const char *end, size_t *term)
-{
-    /* memchr scans many bytes a step: a line ends at the first LF or CR */
-    const char *nl = memchr(s, '\n', (size_t)(end - s));
-    const char *stop = nl ? nl : end;
-    const char *cr = stop > s ? memchr(s, '\r', (size_t)(stop - s)) : NULL;
-    const char *q = cr ? cr : stop;
-    *term = 0;
-    if (q < end)
-        *term = (*q == '\r' && q + 1 < end && q[1] == '\n') ? 2 : 1;
-    return (size_t)(q - s);
-}
-
 long arrank_nul_line(const char *data, size_t len)
 {
     const char *nul = memchr(data, '\0', len);
@@ -295,5 +268,5 @@ void arrank_os_message(int errnum, char *buf, size_t n)
 {
     snprintf(buf, n, "%s", strerror(errnum));
     if (buf[0] >= 'A' && buf[0] <= 'Z' && !(buf[1] >= 'A' && buf[1] <= 'Z'))
-        buf[0] = (char)ascii_lower((unsigned char)buf[0]);
+        buf[0] = (char)arrank_ascii_lower((unsigned char)buf[0]);
 }
