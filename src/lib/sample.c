@@ -48,7 +48,6 @@ static int is_blank(char c)
     return c == ' ' || c == '\t';
 }
 
-
 /* Copy text into out (size n), cut if it does not fit; snprintf costs more per cell. */
 static void copy_cut(char *out, size_t n, const char *text)
 {

@@ -1,6 +1,6 @@
 /*
- * util.c - small helpers shared inside the library (internal.h): strings,
- * a chi-square tail, and the worker threads that read and analyse samples.
+ * util.c - small helpers shared inside the library (util.h): strings, the
+ * lines of input text, and the worker threads that read and analyse samples.
  */
 #include <pthread.h>
 #include <stdio.h>
