@@ -940,9 +940,10 @@ static void test_large_campaign(void **state)
  * R T / P = 22.413 969 54 L/mol (CODATA 2018 molar volume, from memory; it
  * follows from the exact R), so 50 mL/min is 3.7180e-5 mol/s.
  */
-/* Files around the reader's first read (64 KiB, campaign.c READ_FIRST_BYTES)
-   and far past it, empty, and of one line: read from a folder, each gives the
-   sample arrank_sample_parse gives from the same bytes in memory. */
+/* Files around 64 KiB (the first read of an earlier reader) and far past it,
+   empty, and of one line: read from a folder (campaign.c reads to the end,
+   past the size fstat gave), each gives the sample arrank_sample_parse gives
+   from the same bytes in memory. */
 static void test_read_sizes(void **state)
 {
     (void)state;
@@ -1038,9 +1039,9 @@ static void test_derived_rates(void **state)
 }
 
 /*
- * A repeated sample id, in and out of file-name order: the check skips its
- * sort when the ids already follow the names (campaign.c), and must report
- * the same file, line and message as the sorted path.
+ * A repeated sample id, in and out of file-name order: the check sorts the
+ * ids (campaign.c) and must report the same file, line and message in
+ * either order.
  */
 static void test_duplicate_ids(void **state)
 {

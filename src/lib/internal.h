@@ -15,12 +15,6 @@
    is impossible sets res->error; only ENOMEM is returned as a failure. */
 arrank_status arrank_result_refit(arrank_result *res, arrank_error *err);
 
-/* ---- campaign.c: test switch for the reader ---- */
-
-/* 1 (the default): data lines without a quote character are split directly
-   instead of through libcsv, with the same result; 0: every line goes through
-   libcsv.  For tests that compare the two readings; not thread-safe. */
-void arrank_campaign_plain_lines(int on);
 
 /* Diagnostics of one result as a JSON object (diagnose.c): regime per point
    (file order), excluded points with reasons, kinetic window, curvature,

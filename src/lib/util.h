@@ -6,6 +6,7 @@
 #define ARRANK_UTIL_H
 
 #include <stddef.h>
+#include <string.h>
 
 #include "arrank/error.h"
 
@@ -40,5 +41,69 @@ arrank_status arrank_workers_each(size_t first, size_t n, size_t chunk, size_t w
                                                         arrank_error *err),
                                   void *ctx, arrank_progress_fn progress, void *progress_ctx,
                                   const char *stage, arrank_error *err);
+
+/* ---- util.c: text of the input files (the sample and campaign.ini readers) ---- */
+
+/* Case-insensitive comparison of ASCII letters, independent of the locale;
+   the _n form compares at most n bytes.  Inline: the readers call it per
+   column and per metadata lookup. */
+static inline int arrank_ascii_lower(int c)
+{
+    return (c >= 'A' && c <= 'Z') ? c - 'A' + 'a' : c;
+}
+
+static inline int arrank_ascii_casecmp(const char *a, const char *b)
+{
+    for (;; a++, b++) {
+        int ca = arrank_ascii_lower((unsigned char)*a), cb = arrank_ascii_lower((unsigned char)*b);
+        if (ca != cb || ca == 0)
+            return ca - cb;
+    }
+}
+
+int arrank_ascii_casecmp_n(const char *a, const char *b, size_t n);
+
+/* A NUL-terminated copy of the n bytes at s; NULL when out of memory. */
+char *arrank_dup_range(const char *s, size_t n);
+
+/* What follows the last '/' of path (all of it when there is none). */
+const char *arrank_base_name(const char *path);
+
+/* Grow *array (element size elem) so that it holds at least need elements,
+   doubling from *cap (8 when 0).  0, or -1 when out of memory.  Inline
+   when there is room (a call per data row). */
+int arrank_grow_to(void **array, size_t *cap, size_t need, size_t elem);
+
+static inline int arrank_grow(void **array, size_t *cap, size_t need, size_t elem)
+{
+    return need <= *cap ? 0 : arrank_grow_to(array, cap, need, elem);
+}
+
+/* Append a copy of text to a string list of *n entries (room *cap); -1 when
+   out of memory.  arrank_list_free frees the entries and the list. */
+int arrank_list_add(char ***list, size_t *n, size_t *cap, const char *text);
+void arrank_list_free(char **list, size_t n);
+
+/* Length of the line at s (up to end), without its line end, and the length
+   of that line end in *term: 0 at the end of the text, 1 for LF or CR, 2 for
+   CRLF.  Inline: a call per line of every file. */
+static inline size_t arrank_line_length(const char *s, const char *end, size_t *term)
+{
+    /* memchr scans many bytes a step: a line ends at the first LF or CR */
+    const char *nl = memchr(s, '\n', (size_t)(end - s));
+    const char *stop = nl ? nl : end;
+    const char *cr = stop > s ? memchr(s, '\r', (size_t)(stop - s)) : NULL;
+    const char *q = cr ? cr : stop;
+    *term = 0;
+    if (q < end)
+        *term = (*q == '\r' && q + 1 < end && q[1] == '\n') ? 2 : 1;
+    return (size_t)(q - s);
+}
+
+/* Line (1-based) of the first NUL byte of the len bytes at data; 0 if none. */
+long arrank_nul_line(const char *data, size_t len);
+
+/* strerror(errnum) with a lowercase first letter (message style), into buf. */
+void arrank_os_message(int errnum, char *buf, size_t n);
 
 #endif
