@@ -188,23 +188,6 @@ arrank_status arrank_diagnosis_write_text(FILE *stream, const arrank_result *res
                                           arrank_error *err);
 
 /*
- * Rates from a flow reactor's conversion, per point i < n:
- *   differential (integral = 0):  r = F y X / W
- *   integral, first order plug flow (integral = 1):  r = F y ln(1/(1 - X)) / W,
- * i.e. the first-order rate constant k_w = (Q/W) ln(1/(1 - X)) times the feed
- * concentration (Fogler, Elements of Chemical Reaction Engineering, plug-flow
- * design equation; no volume change).
- * conversion[i]: fraction 0 <= X < 1; flow_mol_s[i]: total molar feed flow,
- * mol/s; mole_fraction[i]: reactant mole fraction in the feed, 0 < y <= 1;
- * mass_kg[i]: catalyst mass, kg.  rate_mol_kg_s[n] receives mol/(kg s).
- * EINVAL naming the first bad entry.
- */
-arrank_status arrank_diagnose_derive_rate(const double *conversion, const double *flow_mol_s,
-                                          const double *mole_fraction, const double *mass_kg,
-                                          size_t n, int integral, double *rate_mol_kg_s,
-                                          arrank_error *err);
-
-/*
  * Weisz-Prater observable, Phi = r_v R_p^2 / (D_e C_s) (Weisz & Prater,
  * Adv. Catal. 6:143, 1954): r_v rate per particle volume, mol/(m3 s); R_p
  * particle radius, m; D_e effective diffusivity, m2/s; C_s surface

@@ -24,7 +24,7 @@
  * are NAN; a data row whose first field starts with '#' is a comment.
  */
 #include "arrank/campaign.h"
-#include "arrank/diagnose.h"
+#include "arrank/rates.h"
 #include "arrank/fit.h"
 #include "internal.h"
 #include "number.h"
@@ -1170,7 +1170,7 @@ static int meta_quantity(arrank_sample *s, arrank_units *units, const char *key,
  *   mass            catalyst mass;
  *   rate_form       differential (default): r = F y X / W, or integral
  *                   (first-order plug flow): r = F y ln(1/(1 - X)) / W.
- * The formulas are arrank_diagnose_derive_rate's (diagnose.h).
+ * The formulas are arrank_rates_derive's (rates.h).
  */
 static arrank_status derive_rates(arrank_sample *s, arrank_units *units,
                                   const arrank_conversion *to_report, arrank_error *err)
@@ -1247,7 +1247,7 @@ static arrank_status derive_rates(arrank_sample *s, arrank_units *units,
     double *rate = malloc((n ? n : 1) * sizeof *rate);
     arrank_error de;
     arrank_error_clear(&de);
-    arrank_status st = rate ? arrank_diagnose_derive_rate(X, F, y, W, n, integral, rate, &de)
+    arrank_status st = rate ? arrank_rates_derive(X, F, y, W, n, integral, rate, &de)
                             : ARRANK_ENOMEM;
     free(buf);
     if (st != ARRANK_OK) {

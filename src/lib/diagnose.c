@@ -20,7 +20,6 @@
 
 #include <ctype.h>
 #include <float.h>
-#include <gsl/gsl_cdf.h>
 #include <jansson.h>
 #include <math.h>
 #include <stdarg.h>
@@ -33,6 +32,7 @@
 #include "arrank/units.h"
 #include "internal.h"
 #include "number.h"
+#include "stats.h"
 
 /* ---- thresholds ----------------------------------------------------------- */
 
@@ -291,135 +291,6 @@ static void add_cause(work *wk, int supported, char *cause, char *evidence)
     a[cv->n_causes].evidence = evidence;
     a[cv->n_causes].supported = supported;
     cv->n_causes++;
-}
-
-/*
- * Two-sided p-value of Student's t, P(|T| > |t|), for integer degrees of
- * freedom nu in closed form, as the regularized incomplete beta function
- * I_x(nu/2, 1/2), x = nu / (nu + t^2) (Abramowitz & Stegun 26.7.1 with
- * 26.5.27).  With theta = atan(t / sqrt(nu)), s = sin theta, c = cos theta
- * and x = c^2, the finite sums of A&S 26.7.3 (nu odd) and 26.7.4 (nu even)
- * give the central probability A = 1 - p:
- *   nu even, n = nu/2:   A = s sum_{j<n} a_j x^j,  a_j = (2j-1)!!/(2j)!!
- *   nu odd, m = (nu-1)/2: A = (2/pi) (theta + s c sum_{j<m} d_j x^j),
- *                         d_j = (2j)!!/(2j+1)!!
- * The same series summed to infinity give 1 (sum_j a_j x^j = (1 - x)^-1/2 and
- * s c sum_j d_j x^j = pi/2 - theta, the binomial and arcsine series), so the
- * tail is p itself as a sum of positive terms:
- *   nu even:  p = s sum_{j>=n} a_j x^j
- *   nu odd:   p = (2/pi) s c sum_{j>=m} d_j x^j
- * The finite form, 1 - A, loses relative precision as p gets small (its
- * rounding is absolute, a few DBL_EPSILON); the tail keeps full relative
- * precision down to underflow but converges like x^j.  So: the finite form
- * when it gives p >= T_FINITE_P_MIN, else the tail when x <= T_TAIL_X_MAX
- * (at most about 140 terms), else GSL (large nu at moderate t).
- */
-#define T_FAST_DOF_MAX 200
-#define TWO_OVER_PI 0.636619772367581343075535053490057 /* 2/pi */
-/* Below this the finite form's absolute rounding (a few 1e-16) would exceed
-   1e-14 of p: the tail takes over (our choice). */
-#define T_FINITE_P_MIN 0.05
-/* The tail's terms fall at least by x each: up to this x it needs at most
-   about 140 terms for full precision (our choice). */
-#define T_TAIL_X_MAX 0.75
-/* Above this |t|, nu / t^2 < 1e-196 is lost beside 1: c = sqrt(nu) / t and
-   s = 1, and t^2 would overflow further on. */
-#define T_HUGE 1e100
-
-/* p by the closed forms above, or NAN where they do not apply (then GSL). */
-static double t_two_sided_closed(double t, double dof)
-{
-    if (!(dof >= 1 && dof <= T_FAST_DOF_MAX && dof == floor(dof)))
-        return NAN;
-    const unsigned nu = (unsigned)dof;
-    t = fabs(t);
-    if (t == 0)
-        return 1.0;
-    double x, s, c;
-    if (t > T_HUGE) {
-        c = sqrt(dof) / t;
-        x = c * c;
-        s = 1.0;
-    } else {
-        const double tt = t * t, den = dof + tt;
-        x = dof / den;
-        s = sqrt(tt / den); /* 1 - x without the cancellation */
-        c = sqrt(x);
-    }
-    /* the finite sum, each term from the last by the ratio of coefficients */
-    double term = 1.0, sum = 1.0, p;
-    const int even = nu % 2 == 0;
-    const unsigned k = even ? nu / 2 : (nu - 1) / 2; /* n or m: terms in the sum */
-    if (even) {
-        for (unsigned j = 1; j < k; j++) {
-            term *= x * (double)(2 * j - 1) / (double)(2 * j);
-            sum += term;
-        }
-        p = 1.0 - s * sum;
-    } else {
-        for (unsigned j = 1; j < k; j++) {
-            term *= x * (double)(2 * j) / (double)(2 * j + 1);
-            sum += term;
-        }
-        /* pi/2 - theta = atan2(c, s); for nu = 1 the sum is empty */
-        p = TWO_OVER_PI * (atan2(c, s) - (k ? s * c * sum : 0.0));
-    }
-    if (p >= T_FINITE_P_MIN || (!even && k == 0))
-        return p;
-    if (!(x <= T_TAIL_X_MAX))
-        return NAN;
-    /* the tail from term k on, a_k x^k or d_k x^k, each term from the last
-       (term holds term k - 1 from the finite sum; k >= 1 here) */
-    const double lim = 0.25 * DBL_EPSILON * (1.0 - x);
-    double tail = 0.0;
-    for (unsigned j = k;; j++) {
-        term *= even ? x * (double)(2 * j - 1) / (double)(2 * j)
-                     : x * (double)(2 * j) / (double)(2 * j + 1);
-        tail += term;
-        /* what is left is below term x / (1 - x): stop when that is lost */
-        if (term * x <= lim * tail || term == 0.0)
-            break;
-    }
-    return even ? s * tail : TWO_OVER_PI * s * c * tail;
-}
-
-static double two_sided_p(double t, double dof)
-{
-    if (!isfinite(t))
-        return isnan(t) ? NAN : 0.0;
-    const double p = t_two_sided_closed(t, dof);
-    return isnan(p) ? 2.0 * gsl_cdf_tdist_Q(fabs(t), dof) : p;
-}
-
-double arrank_diagnose_t_p(double t, double dof)
-{
-    return two_sided_p(t, dof);
-}
-
-/*
- * Upper-tail t quantile, gsl_cdf_tdist_Qinv(tail, dof), remembered per thread
- * for the last few (tail, dof) pairs: the same few levels and degrees of
- * freedom recur sample after sample, and each inversion costs as much as a
- * whole small fit.  The value returned is GSL's, unchanged.
- */
-#define T_UPPER_MEMO 16
-static double t_upper(double tail, double dof)
-{
-    static _Thread_local struct {
-        double tail, dof, t;
-    } memo[T_UPPER_MEMO];
-    static _Thread_local unsigned n_memo, next_memo;
-    for (unsigned i = 0; i < n_memo; i++)
-        if (memo[i].tail == tail && memo[i].dof == dof)
-            return memo[i].t;
-    const double t = gsl_cdf_tdist_Qinv(tail, dof);
-    memo[next_memo].tail = tail;
-    memo[next_memo].dof = dof;
-    memo[next_memo].t = t;
-    next_memo = (next_memo + 1) % T_UPPER_MEMO;
-    if (n_memo < T_UPPER_MEMO)
-        n_memo++;
-    return t;
 }
 
 /* Sort indices by temperature, ties by file order.  The points are per
@@ -870,7 +741,7 @@ static int fit_quad(work *wk, const size_t *idx, size_t n, quad_test *q)
     q->dof = (double)n - 3.0;
     double se = sqrt(cov[8]);
     q->t = se > 0 ? b[2] / se : (b[2] < 0 ? -INFINITY : b[2] > 0 ? INFINITY : 0.0);
-    q->p = two_sided_p(q->t, q->dof);
+    q->p = arrank_stats_t_p(q->t, q->dof);
     q->c_K2 = b[2] / (sc.sx * sc.sx);
     q->c_se_K2 = se / (sc.sx * sc.sx);
     double xmin = INFINITY, xmax = -INFINITY;
@@ -1634,7 +1505,7 @@ done:
         double drop = fmax(cv->rss_line - rss2, 0.0);
         /* extra-sum-of-squares F test (DOMAIN notes, "Detecting curvature") */
         cv->series_F = rss2 > 0 ? drop / (rss2 / ((double)n - 3.0)) : INFINITY;
-        cv->series_p = isfinite(cv->series_F) ? gsl_cdf_fdist_Q(cv->series_F, 1.0, (double)n - 3.0)
+        cv->series_p = isfinite(cv->series_F) ? arrank_stats_f_q(cv->series_F, 1.0, (double)n - 3.0)
                                               : 0.0;
         /* AICc = n ln(RSS/n) + 2K + 2K(K+1)/(n-K-1), K counting the variance
            (Burnham & Anderson, Model Selection, 2002; from memory) */
@@ -1695,34 +1566,6 @@ static size_t window_of(size_t gi, size_t n_groups)
 }
 
 /* ---- public pieces ---------------------------------------------------------- */
-
-arrank_status arrank_diagnose_derive_rate(const double *conversion, const double *flow_mol_s,
-                                          const double *mole_fraction, const double *mass_kg,
-                                          size_t n, int integral, double *rate_mol_kg_s,
-                                          arrank_error *err)
-{
-    for (size_t i = 0; i < n; i++) {
-        double X = conversion[i], F = flow_mol_s[i], y = mole_fraction[i], W = mass_kg[i];
-        if (!(isfinite(X) && X >= 0.0 && X < 1.0))
-            return arrank_errorf(err, ARRANK_EINVAL,
-                                 "conversion %g at point %zu is not a fraction in [0, 1)", X,
-                                 i + 1);
-        if (!(isfinite(F) && F > 0.0))
-            return arrank_errorf(err, ARRANK_EINVAL, "feed flow %g at point %zu is not positive",
-                                 F, i + 1);
-        if (!(isfinite(y) && y > 0.0 && y <= 1.0))
-            return arrank_errorf(err, ARRANK_EINVAL,
-                                 "mole fraction %g at point %zu is not in (0, 1]", y, i + 1);
-        if (!(isfinite(W) && W > 0.0))
-            return arrank_errorf(err, ARRANK_EINVAL,
-                                 "catalyst mass %g at point %zu is not positive", W, i + 1);
-        /* differential: r = F_A0 X / W; integral first order: -ln(1 - X) in
-           place of X (plug-flow design equation; DOMAIN notes, rate data) */
-        double ext = integral ? -log1p(-X) : X;
-        rate_mol_kg_s[i] = F * y * ext / W;
-    }
-    return ARRANK_OK;
-}
 
 double arrank_diagnose_weisz_prater(double rate_mol_m3_s, double radius_m, double diff_m2_s,
                                     double conc_mol_m3)
@@ -1941,7 +1784,7 @@ static void compare_runs(work *wk, const size_t *sorted, const size_t *grp, size
         if (isfinite(rs->shift_ln) && rs->dof > 0) {
             rs->t = rs->shift_ln_se > 0 ? rs->shift_ln / rs->shift_ln_se
                                         : (rs->shift_ln < 0 ? -INFINITY : INFINITY);
-            rs->p = two_sided_p(rs->t, rs->dof);
+            rs->p = arrank_stats_t_p(rs->t, rs->dof);
             rs->change = expm1(rs->shift_ln);
             if (rs->p < RUN_LEVEL && fabs(rs->change) >= RUN_MIN_CHANGE)
                 rs->verdict = rs->shift_ln < 0 ? -1 : 1;
@@ -2009,7 +1852,7 @@ static void test_drift(work *wk, const size_t *base, size_t n)
     dr->slope_se = sqrt(cov[8]);
     dr->dof = (double)m - 3.0;
     dr->t = dr->slope_se > 0 ? b[2] / dr->slope_se : (b[2] < 0 ? -INFINITY : INFINITY);
-    dr->p = two_sided_p(dr->t, dr->dof);
+    dr->p = arrank_stats_t_p(dr->t, dr->dof);
     dr->change = expm1(b[2] * dr->span_h);
     if (dr->p < RUN_LEVEL && fabs(dr->change) >= RUN_MIN_CHANGE)
         dr->verdict = b[2] < 0 ? -1 : 1;
@@ -2075,8 +1918,8 @@ static void find_outliers(work *wk, const size_t *idx, size_t n)
         sxx += wk->w[idx[k]] * u * u;
     }
     double dof_ext = (double)n - 3.0;
-    d->outlier_t_limit = t_upper(OUTLIER_FAMILY / (2.0 * (double)n), dof_ext);
-    double t_influence = t_upper(INFLUENCE_LEVEL / 2.0, dof_ext);
+    d->outlier_t_limit = arrank_stats_t_upper(OUTLIER_FAMILY / (2.0 * (double)n), dof_ext);
+    double t_influence = arrank_stats_t_upper(INFLUENCE_LEVEL / 2.0, dof_ext);
     for (size_t k = 0; k < n; k++) {
         size_t i = idx[k];
         double u = wk->x[i] - lf.sc.xm, wi = wk->w[i];
@@ -2804,7 +2647,7 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
                 line_fit cur;
                 if (fit_line(&wk, cand, k2, &cur) != 0 || !(cur.dof > 0))
                     break;
-                double tcrit = t_upper(TRIM_LEVEL, cur.dof);
+                double tcrit = arrank_stats_t_upper(TRIM_LEVEL, cur.dof);
                 double var_d = R * R * cur.s2 * (1.0 / cold.sc.sxx - 1.0 / cur.sc.sxx);
                 int lower = var_d > 0 && (cur.ea_J_mol - cold.ea_J_mol) / sqrt(var_d) < -tcrit;
                 /* mean residual of the new temperature against the colder
@@ -2822,9 +2665,9 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
                              prev.s2 / sw;
                 int below = prev.dof > 0 &&
                             (ey - line_at(&prev, ex)) / sqrt(var) <
-                                -t_upper(TRIM_LEVEL, prev.dof);
+                                -arrank_stats_t_upper(TRIM_LEVEL, prev.dof);
                 int bent = fit_quad(&wk, cand, k2, &qc) == 0 && qc.t < 0 &&
-                           qc.t < -t_upper(TRIM_LEVEL, qc.dof);
+                           qc.t < -arrank_stats_t_upper(TRIM_LEVEL, qc.dof);
                 if (lower || below || bent)
                     break;
                 nw = k2;
@@ -2842,7 +2685,7 @@ arrank_status arrank_diagnose_result_basis(arrank_result *res, const arrank_camp
                     nw = k3;
             }
             still_bent = fit_quad(&wk, cand, nw, &qc) == 0 && qc.t < 0 &&
-                         qc.t < -t_upper(TRIM_LEVEL, qc.dof);
+                         qc.t < -arrank_stats_t_upper(TRIM_LEVEL, qc.dof);
         }
         for (size_t j = nw; j < nc; j++)
             d->points[cand[j]].excluded = 2; /* provisional: hotter than the window */

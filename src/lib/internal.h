@@ -132,13 +132,6 @@ void arrank_diagnose_series_reference(int on);
    sees the profile itself.  For tests only; not thread-safe. */
 void arrank_diagnose_series_full_fit(int on);
 
-/* Two-sided p-value of Student's t, P(|T| > |t|) with dof degrees of
-   freedom, as the diagnostics compute it: closed forms for integer dof up to
-   200 where they keep full precision, 2 gsl_cdf_tdist_Q(|t|, dof) elsewhere;
-   0 for infinite t, NAN for NAN.  Exposed so that tests/test_diagnose.c can
-   hold it against GSL. */
-double arrank_diagnose_t_p(double t, double dof);
-
 /* 0 (the default): the diagnostics fit straight lines and the quadratic
    test in closed form; 1: by the general QR path.  For the test that
    compares the two (tests/test_diagnose.c); not thread-safe. */
