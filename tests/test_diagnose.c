@@ -37,13 +37,17 @@
 #include <gsl/gsl_rng.h>
 #include <jansson.h>
 
-#include "../src/lib/internal.h"
+#include "../src/lib/diagnosis_out.h"
+#include "../src/lib/regress_testing.h"
+#include "../src/lib/series_testing.h"
 #include "../src/lib/stats.h"
 #include "arrank/analysis.h"
 #include "arrank/campaign.h"
 #include "arrank/diagnose.h"
+#include "arrank/diagnosis_out.h"
 #include "arrank/fit.h"
 #include "arrank/rates.h"
+#include "arrank/transport.h"
 #include "arrank/units.h"
 
 static const double R = ARRANK_R_J_MOL_K;
@@ -462,12 +466,12 @@ static void test_window_coverage(void **state)
 static void test_weisz_prater_mears(void **state)
 {
     (void)state;
-    double wp = arrank_diagnose_weisz_prater(4.625, 1.5e-4, 2.0e-7, 8.2);
-    double me = arrank_diagnose_mears(4.625, 1.5e-4, 1.0, 0.05, 8.2);
+    double wp = arrank_transport_weisz_prater(4.625, 1.5e-4, 2.0e-7, 8.2);
+    double me = arrank_transport_mears(4.625, 1.5e-4, 1.0, 0.05, 8.2);
     assert_true(fabs(wp / 0.0634527439 - 1.0) < 1e-9);
     assert_true(fabs(me / 1.69207317e-3 - 1.0) < 1e-8);
-    assert_true(isnan(arrank_diagnose_weisz_prater(-1.0, 1.5e-4, 2.0e-7, 8.2)));
-    assert_true(isnan(arrank_diagnose_mears(4.625, 1.5e-4, 1.0, 0.0, 8.2)));
+    assert_true(isnan(arrank_transport_weisz_prater(-1.0, 1.5e-4, 2.0e-7, 8.2)));
+    assert_true(isnan(arrank_transport_mears(4.625, 1.5e-4, 1.0, 0.0, 8.2)));
 
     /* the same numbers from sample metadata, rate at the hottest point */
     data dt = {0};
@@ -927,15 +931,15 @@ static void test_json_shape(void **state)
  * diagnose.c profiles the series-resistance model over ln k_t with its own
  * 2x2 solver and then fits all three parameters with its own 3x3 solver;
  * before, each grid point and the full fit were arrank_nlfit_run.  The old
- * way is kept behind a test switch (arrank_diagnose_series_reference,
- * src/lib/internal.h), and here both run on the same data and must report
+ * way is kept behind a test switch (arrank_series_reference,
+ * src/lib/series_testing.h), and here both run on the same data and must report
  * the same series Ea, its standard error, ln k_t, rss_series, F, p and AICc
  * to a relative 1e-6 (a claim about the optimum found, not about rounding:
  * most differences seen are below 1e-8; the largest, 7e-7 in ln k_t, comes
  * from the three-parameter fits stopping along a flat valley, with residual
  * sums equal to 1e-14), with the full
  * three-parameter fit (which gives the reported numbers) and without it
- * (arrank_diagnose_series_full_fit(0): the profile's best grid point is
+ * (arrank_series_full_fit(0): the profile's best grid point is
  * reported, as when that fit fails).  A set that differs fails with both
  * residual sums in the message, so the better optimum can be seen.
  */
@@ -996,13 +1000,13 @@ static void both_profiles(const arrank_campaign *c, int full_fit, const char *la
                           profile_tally *t)
 {
     arrank_options opt = arrank_options_defaults();
-    arrank_diagnose_series_full_fit(full_fit);
-    arrank_diagnose_series_reference(0);
+    arrank_series_full_fit(full_fit);
+    arrank_series_reference(0);
     arrank_analysis *fast = analyse(c, &opt);
-    arrank_diagnose_series_reference(1);
+    arrank_series_reference(1);
     arrank_analysis *ref = analyse(c, &opt);
-    arrank_diagnose_series_reference(0);
-    arrank_diagnose_series_full_fit(1);
+    arrank_series_reference(0);
+    arrank_series_full_fit(1);
     assert_int_equal(fast->n_results, ref->n_results);
     for (size_t i = 0; i < fast->n_results; i++) {
         const arrank_result *a = &fast->results[i], *b = &ref->results[i];
@@ -1215,7 +1219,7 @@ static void test_series_profile_large(void **state)
  * The diagnostics fit most of their straight lines (local windows, the
  * kinetic window, outliers, the line on every point) in closed form
  * (fit_line_direct in diagnose.c); the general QR path they share with the
- * quadratic test is kept behind arrank_diagnose_line_reference.  Both are
+ * quadratic test is kept behind arrank_regress_reference.  Both are
  * exact least squares, so they may differ only by rounding: every number of
  * the diagnosis must agree to relative 1e-8 and every string, flag and
  * decision exactly, on bent and straight simulated sets with and without
@@ -1275,9 +1279,9 @@ static json_t *diagnosis_with(const arrank_campaign *c, int reference, unsigned 
 {
     arrank_options o = arrank_options_defaults();
     o.units = units;
-    arrank_diagnose_line_reference(reference);
+    arrank_regress_reference(reference);
     arrank_analysis *a = analyse(c, &o);
-    arrank_diagnose_line_reference(0);
+    arrank_regress_reference(0);
     json_t *j = json_object();
     assert_non_null(j);
     json_object_set_new(j, "diagnosis", arrank_diagnosis_json(&a->results[0]));

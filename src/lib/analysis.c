@@ -12,8 +12,10 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "analysis_diagnose.h"
 #include "arrank/diagnose.h"
 #include "arrank/rank.h"
+#include "arrank/screen.h"
 #include "internal.h"
 #include "stats.h"
 
@@ -176,9 +178,8 @@ static int compare_rank(const void *a, const void *b)
    prediction.  Reads only its own sample and the campaign; writes only its
    own result.  A failure other than the sample's own is returned (ENOMEM). */
 static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
-                                 const arrank_campaign *campaign, const arrank_options *opt,
-                                 const arrank_campaign_basis *bases, double rate_to_per_s,
-                                 arrank_error *err)
+                                 const arrank_options *opt, const arrank_diagnose_options *dopt,
+                                 double rate_to_per_s, arrank_error *err)
 {
     res->sample = s;
     res->used = malloc(s->n_points ? s->n_points : 1);
@@ -190,11 +191,12 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
         set_result_error(res, s->problem, s->problem_line);
         return ARRANK_OK;
     }
+    res->n_used = arrank_screen_mark(s, res->used);
     arrank_status st = arrank_result_refit(res, err);
     if (st != ARRANK_OK || res->error)
         return st;
     if (opt->diagnose) {
-        st = arrank_diagnose_result_basis(res, campaign, opt, bases, err);
+        st = arrank_analysis_diagnose(res, dopt, err);
         if (st != ARRANK_OK || res->error)
             return st;
     }
@@ -232,7 +234,7 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
 typedef struct {
     arrank_analysis *a;
     const arrank_options *opt;
-    const arrank_campaign_basis *bases;
+    const arrank_diagnose_options *dopt;
     double rate_to_per_s;
 } analyse_job;
 
@@ -240,15 +242,15 @@ static arrank_status analyse_item(void *ctx, size_t i, size_t w, arrank_error *e
 {
     (void)w;
     const analyse_job *j = ctx;
-    return analyse_one(&j->a->results[i], &j->a->campaign->samples[i], j->a->campaign, j->opt,
-                       j->bases, j->rate_to_per_s, err);
+    return analyse_one(&j->a->results[i], &j->a->campaign->samples[i], j->opt, j->dopt,
+                       j->rate_to_per_s, err);
 }
 
 static arrank_status analyse_all(arrank_analysis *a, const arrank_options *opt,
-                                 const arrank_campaign_basis *bases, double rate_to_per_s,
+                                 const arrank_diagnose_options *dopt, double rate_to_per_s,
                                  arrank_error *err)
 {
-    analyse_job j = {a, opt, bases, rate_to_per_s};
+    analyse_job j = {a, opt, dopt, rate_to_per_s};
     return arrank_workers_each(0, a->n_results, ANALYSE_CHUNK,
                                arrank_workers_for(a->n_results, ANALYSE_MIN_PER_WORKER),
                                analyse_item, &j, opt->progress, opt->progress_ctx,
@@ -283,23 +285,23 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
     }
 
     arrank_status st = ARRANK_OK;
-    /* one pass for the campaign-wide basis check, not one per sample */
-    arrank_campaign_basis bases = {1, 0, ""};
-    if (opt.diagnose)
-        bases.mixed = arrank_diagnose_campaign_basis(campaign, bases.why, sizeof bases.why);
     /* rank.h: --model eyring needs turnover frequencies and their factor to 1/s */
     double rate_to_per_s = 1.0;
     st = arrank_models_prepare(campaign, &opt, &rate_to_per_s, err);
     if (st != ARRANK_OK)
         goto fail;
     arrank_units *own_units = NULL;
+    arrank_error ue;
+    arrank_error_clear(&ue);
     if (opt.diagnose && !opt.units) { /* one database for every sample's criteria */
-        arrank_error ue;
-        arrank_error_clear(&ue);
         own_units = arrank_units_create(&ue); /* NULL: diagnose notes why per sample */
         opt.units = own_units;
     }
-    st = analyse_all(a, &opt, &bases, rate_to_per_s, err);
+    /* the diagnosis's options, with the campaign-wide basis check done once */
+    arrank_diagnose_options dopt = arrank_diagnose_options_defaults();
+    if (opt.diagnose)
+        dopt = arrank_analysis_diagnose_options(campaign, &opt, ue.message);
+    st = analyse_all(a, &opt, &dopt, rate_to_per_s, err);
     arrank_units_free(own_units);
     opt.units = NULL;
     if (st != ARRANK_OK)

@@ -21,6 +21,7 @@
 
 #include "arrank/version.h"
 #include "arrank/rank.h"
+#include "diagnosis_out.h"
 #include "internal.h"
 #include "number.h"
 

@@ -39,6 +39,7 @@
 #include <nettle/sha2.h>
 
 #include "arrank/diagnose.h"
+#include "arrank/diagnosis_out.h"
 #include "arrank/fit.h"
 #include "arrank/rank.h"
 #include "arrank/version.h"
