@@ -839,9 +839,8 @@ static void test_mixed_basis(void **state)
 
 /*
  * The campaign-wide basis check compares every sample's declared basis with
- * the first one's.  A declaration in the same words as the first is taken as
- * the same without normalising it (diagnose.c); every other wording goes
- * through the aliases, case and blanks.  Both ways must agree.
+ * the first one's, after the aliases, case and blanks: the same words,
+ * another wording of the same basis and a real mix.
  */
 static void test_campaign_basis_words(void **state)
 {

@@ -262,9 +262,6 @@ int arrank_diagnose_campaign_basis(const arrank_campaign *c, char *why, size_t n
     const arrank_sample *ref = &c->samples[0];
     char mine[32], other[32];
     declared_basis(ref, mine, sizeof mine);
-    /* declared_basis is a function of the metadata text alone: a sample that
-       declares it in the same words as the first declares the same basis */
-    const char *ref_text = arrank_sample_meta(ref, "basis");
     for (size_t i = 1; i < c->n_samples; i++) {
         const arrank_sample *o = &c->samples[i];
         if (o->basis != ARRANK_BASIS_UNKNOWN && ref->basis != ARRANK_BASIS_UNKNOWN &&
@@ -274,9 +271,6 @@ int arrank_diagnose_campaign_basis(const arrank_campaign *c, char *why, size_t n
                          arrank_basis_name(ref->basis), o->id, arrank_basis_name(o->basis));
             return 1;
         }
-        const char *text = arrank_sample_meta(o, "basis");
-        if (text == ref_text || (text && ref_text && strcmp(text, ref_text) == 0))
-            continue;
         declared_basis(o, other, sizeof other);
         if (mine[0] && other[0] && strcmp(mine, other) != 0) {
             if (why)
