@@ -138,6 +138,9 @@ struct arrank_diagnosis {
                                   (unweighted fits); NAN when weighted or unknown */
     int has_repeats;           /* runs, repeat passes or a drift test: deactivation testable */
     int window_proposed;       /* 1 when the proposed window leaves hot points out */
+    size_t *order;             /* [n_order] the usable points of the first fit (file
+                                  indices), coldest first */
+    size_t n_order;
     char **findings;           /* plain-words problems, each with its evidence */
     size_t n_findings;
     char **notes;              /* plain-words statements that are not problems */

@@ -9,7 +9,6 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "arrank/screen.h"
 
 arrank_diagnose_options arrank_analysis_diagnose_options(const arrank_campaign *c,
                                                          const arrank_options *opt,
@@ -113,15 +112,12 @@ arrank_status arrank_analysis_diagnose(arrank_result *res, const arrank_diagnose
     if (st == ARRANK_OK)
         st = arrank_diagnose_conclude(d, &in, res->error ? NULL : &res->fit,
                                       applied && d->window_proposed, dopt, err);
-    size_t n_base = 0;
-    for (size_t i = 0; i < np; i++)
-        n_base += used0[i] && arrank_screen_usable(&s->points[i]);
     if (st != ARRANK_OK) {
         memcpy(res->used, used0, np);
         arrank_diagnosis_free(d);
     } else {
         res->diagnosis = d;
-        diagnosis_flags(res, n_base);
+        diagnosis_flags(res, d->n_order);
     }
     if (used0 != small)
         free(used0);

@@ -837,7 +837,7 @@ static arrank_diagnosis *diagnosis_new(size_t np, const arrank_arrhenius *fit, d
 }
 
 /* The usable points of the input's fit, in temperature order; in_base[i]
-   (may be NULL) marks them.  Returns their number. */
+   marks them.  Returns their number. */
 static size_t base_points(const arrank_diagnose_input *in, size_t *base, unsigned char *in_base)
 {
     const arrank_sample *s = in->sample;
@@ -846,8 +846,7 @@ static size_t base_points(const arrank_diagnose_input *in, size_t *base, unsigne
         if (!in->used[i] || !arrank_screen_usable(&s->points[i]))
             continue;
         base[n++] = i;
-        if (in_base)
-            in_base[i] = 1;
+        in_base[i] = 1;
     }
     arrank_regress_sort(s->points, base, n);
     return n;
@@ -965,8 +964,15 @@ arrank_status arrank_diagnose_propose(const arrank_diagnose_input *in,
     memset(in_base, 0, cap);
 
     size_t n = base_points(in, base, in_base);
+    d->order = malloc((n ? n : 1) * sizeof *d->order);
+    if (d->order) {
+        memcpy(d->order, base, n * sizeof *base);
+        d->n_order = n;
+    } else
+        wk.nomem = 1;
     int weighted = set_xyw(&wk, base, n);
-    propose_steps(&wk, base, grp, cand, grp_c, label, in_base, n, weighted, opt);
+    if (!wk.nomem)
+        propose_steps(&wk, base, grp, cand, grp_c, label, in_base, n, weighted, opt);
     if (scratch != scratch_small)
         free(scratch);
     if (wk.nomem) {
@@ -1003,12 +1009,7 @@ arrank_status arrank_diagnose_conclude(arrank_diagnosis *d, const arrank_diagnos
         opt = &defaults;
     const arrank_sample *s = in->sample;
     arrank_dwork wk = {s, s->points, s->n_points, NULL, NULL, NULL, d, d->scatter_ln, 0, NULL};
-    size_t cap = s->n_points ? s->n_points : 1;
-    size_t small[64];
-    size_t *base = cap <= 64 ? small : malloc(cap * sizeof *base);
-    if (!base)
-        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-    size_t n = base_points(in, base, NULL);
+    const size_t *base = d->order, n = d->n_order;
     d->window_applied = window_applied;
     if (final_fit) {
         d->window_lo_K = final_fit->T_min_K;
@@ -1033,8 +1034,6 @@ arrank_status arrank_diagnose_conclude(arrank_diagnosis *d, const arrank_diagnos
                                                               : d->ea_all_J_mol,
                     d->has_repeats);
     describe(&wk, final_fit, base, n);
-    if (base != small)
-        free(base);
     if (wk.nomem)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     return ARRANK_OK;
@@ -1048,6 +1047,7 @@ void arrank_diagnosis_free(arrank_diagnosis *d)
         for (size_t i = 0; i < d->n_points; i++)
             free(d->points[i].reason);
     free(d->points);
+    free(d->order);
     arrank_curvature *cv = &d->curvature;
     free(cv->local);
     for (size_t k = 0; k < cv->n_causes; k++) {
