@@ -1340,6 +1340,117 @@ static void test_line_paths(void **state)
 }
 
 
+/*
+ * When the points left after the proposed exclusions cannot be fitted, the
+ * pipeline withdraws every proposal (arrank_diagnose_withdraw) and refits on
+ * every point: here four of five points are above the conversion limit, so
+ * one point would be left.
+ */
+static void test_withdraw(void **state)
+{
+    (void)state;
+    data dt = {0};
+    temps(&dt, 5, 480.0, 540.0);
+    dt.with_conv = 1;
+    for (size_t i = 0; i < dt.n; i++) {
+        dt.rate[i] = k_kin(dt.T_K[i], 91000.0, 2.2, 515.0);
+        dt.conv[i] = i == 0 ? 0.05 : 0.20;
+    }
+    arrank_options opt = arrank_options_defaults();
+    one o = run_one(&dt, &opt);
+    print_findings(o.res);
+    assert_int_equal(o.d->n_high_conversion, 4);
+    assert_true(o.res->flags & ARRANK_FLAG_HIGH_CONVERSION);
+    assert_false(o.res->flags & ARRANK_FLAG_EXCLUDED);
+    assert_int_equal(o.res->n_used, 5);
+    assert_int_equal(o.res->fit.n, 5);
+    for (size_t i = 0; i < 5; i++) {
+        assert_true(o.res->used[i]);
+        assert_int_equal(o.d->points[i].excluded, 0);
+        assert_null(o.d->points[i].reason);
+    }
+    int noted = 0;
+    for (size_t k = 0; k < o.d->n_notes; k++)
+        noted |= strstr(o.d->notes[k], "cannot be fitted") != NULL &&
+                 strstr(o.d->notes[k], "every point is kept") != NULL;
+    assert_true(noted);
+    assert_false(o.d->window_applied);
+    one_free(&o);
+}
+
+/* ---- the stage on its own -------------------------------------------------------- */
+
+/*
+ * The diagnosis is a pure stage: arrank_diagnose_propose reads the sample,
+ * its fit and its used points and changes none of them; the points it
+ * proposes to leave out are those the pipeline leaves out; conclude on the
+ * pipeline's final fit gives the pipeline's findings and notes, word for
+ * word.  A bent sample (pore diffusion, as test_pore_sphere) so that there
+ * is a window to propose.
+ */
+static void test_stage_pure(void **state)
+{
+    (void)state;
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    gsl_rng_set(rng, 20240611);
+    data dt = {0};
+    temps(&dt, 12, 450.0, 630.0);
+    pore_data(&dt, 112400.0, 1.0, 523.0, 0.015, rng);
+    gsl_rng_free(rng);
+    arrank_options opt = arrank_options_defaults();
+    opt.units = units;
+    one o = run_one(&dt, &opt);
+    const arrank_sample *s = o.res->sample;
+    const size_t np = s->n_points;
+
+    /* the first fit, on every point, as the pipeline made it */
+    double T[64], r[64];
+    for (size_t i = 0; i < np; i++) {
+        T[i] = s->points[i].temp_K;
+        r[i] = s->points[i].rate;
+    }
+    arrank_arrhenius first, first_copy;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_fit_arrhenius(T, r, NULL, np, &first, &err), ARRANK_OK);
+    first_copy = first;
+    unsigned char used[64], used_copy[64];
+    memset(used, 1, np);
+    memcpy(used_copy, used, np);
+    arrank_diagnose_options dopt = arrank_diagnose_options_defaults();
+    dopt.units = units;
+    dopt.rate_unit = o.c->rate_unit;
+    dopt.basis.known = 1;
+    const arrank_diagnose_input in = {s, &first, used};
+    arrank_diagnosis *d = NULL;
+    assert_int_equal(arrank_diagnose_propose(&in, &dopt, &d, &err), ARRANK_OK);
+    assert_non_null(d);
+    assert_memory_equal(used, used_copy, np);
+    assert_memory_equal(&first, &first_copy, sizeof first);
+    size_t proposed = 0;
+    for (size_t i = 0; i < np; i++) {
+        assert_int_equal(d->points[i].excluded, !o.res->used[i]);
+        proposed += d->points[i].excluded;
+        if (d->points[i].excluded)
+            assert_string_equal(d->points[i].reason, o.d->points[i].reason);
+    }
+    assert_true(proposed > 0);
+    assert_true(d->window_proposed);
+    /* the window's finding comes with the final fit, in conclude */
+    assert_true(d->n_findings < o.d->n_findings);
+    assert_int_equal(arrank_diagnose_conclude(d, &in, &o.res->fit, 1, &dopt, &err), ARRANK_OK);
+    assert_int_equal(d->n_findings, o.d->n_findings);
+    for (size_t k = 0; k < d->n_findings; k++)
+        assert_string_equal(d->findings[k], o.d->findings[k]);
+    assert_int_equal(d->n_notes, o.d->n_notes);
+    for (size_t k = 0; k < d->n_notes; k++)
+        assert_string_equal(d->notes[k], o.d->notes[k]);
+    assert_true(d->window_applied);
+    assert_true(d->window_lo_K == o.d->window_lo_K && d->window_hi_K == o.d->window_hi_K);
+    arrank_diagnosis_free(d);
+    one_free(&o);
+}
+
 /* ---- Student's t p-value (stats.c, GSL) against SciPy ---------------------- */
 
 /*
@@ -1429,6 +1540,8 @@ int main(void)
         cmocka_unit_test(test_series_profile_simulated),
         cmocka_unit_test(test_series_profile_large),
         cmocka_unit_test(test_line_paths),
+        cmocka_unit_test(test_withdraw),
+        cmocka_unit_test(test_stage_pure),
         cmocka_unit_test(test_t_p_scipy),
     };
     int rc = cmocka_run_group_tests_name("diagnose", tests, NULL, NULL);
