@@ -540,8 +540,9 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
         const arrank_point_diag *pd = &d->points[i];
         if (!pd->outlier)
             continue;
-        finding(wk, "point at %.1f K (line %ld) is %s: studentized residual %.2f (limit %.2f), "
-                    "Cook's distance %.2f (limit %.0f); %s",
+        finding(wk,
+                "point at %.1f K (line %ld) is %s: studentized residual %.2f (limit %.2f), "
+                "Cook's distance %.2f (limit %.0f); %s",
                 wk->pt[i].temp_K, wk->pt[i].line,
                 fabs(pd->student_resid) > d->outlier_t_limit ? "an outlier" : "influential",
                 pd->student_resid, d->outlier_t_limit, pd->cooks_d, ARRANK_COOK_LIMIT,
@@ -726,8 +727,8 @@ static size_t kinetic_window(arrank_dwork *wk, const size_t *cand, size_t nc, si
     if (cv->tested && q_base) /* cand is base: the test above is this one */
         start_bent = arrank_curvature_bends_down(q_base);
     else if (cv->tested)
-        start_bent = arrank_curvature_quad(wk, cand, nc, &qc) == 0 &&
-                     arrank_curvature_bends_down(&qc);
+        start_bent =
+            arrank_curvature_quad(wk, cand, nc, &qc) == 0 && arrank_curvature_bends_down(&qc);
     size_t ngc = arrank_regress_groups(wk->pt, cand, nc, grp_c);
     if (!start_bent)
         return nc;
@@ -872,9 +873,9 @@ static int set_xyw(arrank_dwork *wk, const size_t *base, size_t n)
 }
 
 /* Steps 1-6 on prepared working arrays (see arrank_diagnose_propose). */
-static void propose_steps(arrank_dwork *wk, size_t *base, size_t *grp, size_t *cand,
-                          size_t *grp_c, int *label, const unsigned char *in_base, size_t n,
-                          int weighted, const arrank_diagnose_options *opt)
+static void propose_steps(arrank_dwork *wk, size_t *base, size_t *grp, size_t *cand, size_t *grp_c,
+                          int *label, const unsigned char *in_base, size_t n, int weighted,
+                          const arrank_diagnose_options *opt)
 {
     arrank_diagnosis *d = wk->d;
     size_t n_groups = arrank_regress_groups(wk->pt, base, n, grp);
@@ -893,8 +894,8 @@ static void propose_steps(arrank_dwork *wk, size_t *base, size_t *grp, size_t *c
         return;
 
     /* 3. runs and repeats, drift */
-    d->has_repeats = arrank_quality_runs(wk, base, grp, n, n_groups, in_base, label,
-                                         have_line ? &lf_all : NULL);
+    d->has_repeats =
+        arrank_quality_runs(wk, base, grp, n, n_groups, in_base, label, have_line ? &lf_all : NULL);
     if (wk->nomem)
         return;
 

@@ -61,7 +61,7 @@ static void note(arrank_dwork *wk, const char *f, ...)
 }
 
 double arrank_transport_weisz_prater(double rate_mol_m3_s, double radius_m, double diff_m2_s,
-                                    double conc_mol_m3)
+                                     double conc_mol_m3)
 {
     if (!(rate_mol_m3_s > 0 && radius_m > 0 && diff_m2_s > 0 && conc_mol_m3 > 0) ||
         !isfinite(rate_mol_m3_s * radius_m * diff_m2_s * conc_mol_m3))
@@ -69,8 +69,8 @@ double arrank_transport_weisz_prater(double rate_mol_m3_s, double radius_m, doub
     return rate_mol_m3_s * radius_m * radius_m / (diff_m2_s * conc_mol_m3);
 }
 
-double arrank_transport_mears(double rate_mol_m3_s, double radius_m, double order,
-                             double film_m_s, double conc_mol_m3)
+double arrank_transport_mears(double rate_mol_m3_s, double radius_m, double order, double film_m_s,
+                              double conc_mol_m3)
 {
     if (!(rate_mol_m3_s > 0 && radius_m > 0 && order > 0 && film_m_s > 0 && conc_mol_m3 > 0) ||
         !isfinite(rate_mol_m3_s * radius_m * order * film_m_s * conc_mol_m3))
