@@ -74,7 +74,7 @@ typedef struct {
 
 /*
  * The diagnosis in two calls around the caller's refit (the pipeline,
- * analysis.c, drives it):
+ * analysis_diagnose.c, drives it):
  *  1. arrank_diagnose_propose: conversion, curvature (quadratic test,
  *     series-resistance model, local apparent Ea), runs and repeats, drift,
  *     the kinetic window, regimes and outliers.  *out (free with
