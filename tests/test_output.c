@@ -32,7 +32,7 @@
 #include "arrank/fit.h"
 #include "arrank/output.h"
 #include "arrank/analysis_stats.h"
-#include "../src/lib/internal.h"
+#include "../src/lib/util.h"
 #include "helpers.h"
 
 #define NAME_MAX_COLS 28 /* the table's widest name column (output.c NAME_WIDTH_MAX) */

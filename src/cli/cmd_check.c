@@ -12,6 +12,7 @@
 #include <string.h>
 
 #include "arrank/diagnose.h"
+#include "arrank/diagnosis_out.h"
 #include "arrank/output.h"
 #include "cli.h"
 

@@ -12,11 +12,13 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "analysis_diagnose.h"
 #include "arrank/diagnose.h"
 #include "analysis_internal.h"
 #include "analysis_models.h"
 #include "analysis_rank.h"
-#include "internal.h"
+#include "arrank/screen.h"
+#include "util.h"
 #include "stats.h"
 
 /* Thresholds for the basic flags (README "Flags"). */
@@ -178,9 +180,8 @@ static int compare_rank(const void *a, const void *b)
    prediction.  Reads only its own sample and the campaign; writes only its
    own result.  A failure other than the sample's own is returned (ENOMEM). */
 static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
-                                 const arrank_campaign *campaign, const arrank_options *opt,
-                                 const arrank_campaign_basis *bases, double rate_to_per_s,
-                                 arrank_error *err)
+                                 const arrank_options *opt, const arrank_diagnose_options *dopt,
+                                 double rate_to_per_s, arrank_error *err)
 {
     res->sample = s;
     res->used = malloc(s->n_points ? s->n_points : 1);
@@ -192,11 +193,12 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
         set_result_error(res, s->problem, s->problem_line);
         return ARRANK_OK;
     }
+    res->n_used = arrank_screen_mark(s, res->used);
     arrank_status st = arrank_result_refit(res, err);
     if (st != ARRANK_OK || res->error)
         return st;
     if (opt->diagnose) {
-        st = arrank_diagnose_result_basis(res, campaign, opt, bases, err);
+        st = arrank_analysis_diagnose(res, dopt, err);
         if (st != ARRANK_OK || res->error)
             return st;
     }
@@ -234,7 +236,7 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
 typedef struct {
     arrank_analysis *a;
     const arrank_options *opt;
-    const arrank_campaign_basis *bases;
+    const arrank_diagnose_options *dopt;
     double rate_to_per_s;
 } analyse_job;
 
@@ -242,15 +244,15 @@ static arrank_status analyse_item(void *ctx, size_t i, size_t w, arrank_error *e
 {
     (void)w;
     const analyse_job *j = ctx;
-    return analyse_one(&j->a->results[i], &j->a->campaign->samples[i], j->a->campaign, j->opt,
-                       j->bases, j->rate_to_per_s, err);
+    return analyse_one(&j->a->results[i], &j->a->campaign->samples[i], j->opt, j->dopt,
+                       j->rate_to_per_s, err);
 }
 
 static arrank_status analyse_all(arrank_analysis *a, const arrank_options *opt,
-                                 const arrank_campaign_basis *bases, double rate_to_per_s,
+                                 const arrank_diagnose_options *dopt, double rate_to_per_s,
                                  arrank_error *err)
 {
-    analyse_job j = {a, opt, bases, rate_to_per_s};
+    analyse_job j = {a, opt, dopt, rate_to_per_s};
     return arrank_workers_each(0, a->n_results, ANALYSE_CHUNK,
                                arrank_workers_for(a->n_results, ANALYSE_MIN_PER_WORKER),
                                analyse_item, &j, opt->progress, opt->progress_ctx,
@@ -285,10 +287,6 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
     }
 
     arrank_status st = ARRANK_OK;
-    /* one pass for the campaign-wide basis check, not one per sample */
-    arrank_campaign_basis bases = {1, 0, ""};
-    if (opt.diagnose)
-        bases.mixed = arrank_diagnose_campaign_basis(campaign, bases.why, sizeof bases.why);
     /* one unit database for every sample's criteria and the eyring factor */
     const int eyring = opt.model == ARRANK_MODEL_EYRING;
     arrank_units *own_units = NULL;
@@ -307,8 +305,12 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
     } else {
         st = arrank_analysis_models_prepare(campaign, &opt, &rate_to_per_s, err);
     }
+    /* the diagnosis's options, with the campaign-wide basis check done once */
+    arrank_diagnose_options dopt = arrank_diagnose_options_defaults();
+    if (st == ARRANK_OK && opt.diagnose)
+        dopt = arrank_analysis_diagnose_options(campaign, &opt, ue.message);
     if (st == ARRANK_OK)
-        st = analyse_all(a, &opt, &bases, rate_to_per_s, err);
+        st = analyse_all(a, &opt, &dopt, rate_to_per_s, err);
     arrank_units_free(own_units);
     opt.units = NULL;
     if (st != ARRANK_OK)

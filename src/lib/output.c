@@ -20,7 +20,8 @@
 #include <unistd.h>
 
 #include "arrank/version.h"
-#include "internal.h"
+#include "diagnosis_out.h"
+#include "util.h"
 #include "number.h"
 #include "rank_out.h"
 

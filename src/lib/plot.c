@@ -39,7 +39,7 @@
 
 #include "arrank/diagnose.h"
 #include "arrank/analysis_stats.h"
-#include "internal.h"
+#include "util.h"
 
 #define INSTALL_HINT "install it (Debian/Ubuntu: apt-get install gnuplot-nox) or name the " \
                      "program in ARRANK_GNUPLOT"

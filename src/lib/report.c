@@ -39,10 +39,11 @@
 #include <nettle/sha2.h>
 
 #include "arrank/diagnose.h"
+#include "arrank/diagnosis_out.h"
 #include "arrank/fit.h"
 #include "arrank/analysis_stats.h"
 #include "arrank/version.h"
-#include "internal.h"
+#include "util.h"
 
 #define ZERO_C_K 273.15 /* 0 degC in K, exact by definition */
 

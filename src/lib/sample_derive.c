@@ -4,7 +4,7 @@
  * part of the sample module (sample.c reads the file; the campaign reader
  * calls arrank_sample_derive_rates once campaign.ini's keys are in).
  */
-#include "arrank/diagnose.h"
+#include "arrank/rates.h"
 #include "arrank/sample.h"
 #include "number.h"
 #include "sample_internal.h"
@@ -146,7 +146,7 @@ static arrank_status derived_rates(const arrank_sample *s, const feed *f, double
     }
     arrank_error de;
     arrank_error_clear(&de);
-    arrank_status st = arrank_diagnose_derive_rate(X, F, y, W, n, f->integral, rate, &de);
+    arrank_status st = arrank_rates_derive(X, F, y, W, n, f->integral, rate, &de);
     free(buf);
     if (st == ARRANK_ENOMEM)
         return arrank_errorf(err, st, "out of memory");
@@ -164,7 +164,7 @@ static arrank_status derived_rates(const arrank_sample *s, const feed *f, double
  *   mass            catalyst mass;
  *   rate_form       differential (default): r = F y X / W, or integral
  *                   (first-order plug flow): r = F y ln(1/(1 - X)) / W.
- * The formulas are arrank_diagnose_derive_rate's (diagnose.h).  Step 4 here:
+ * The formulas are arrank_rates_derive's (rates.h).  Step 4 here:
  * the rates in the report unit, a problem for a rate of 0, the note.
  */
 arrank_status arrank_sample_derive_with(arrank_sample *s, arrank_units *units,

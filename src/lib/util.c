@@ -3,9 +3,11 @@
  * lines of input text, and the worker threads that read and analyse samples.
  */
 #include <pthread.h>
+#include <stdarg.h>
 #include <stdio.h>
 #include <stdatomic.h>
 #include <stdint.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <unistd.h>
@@ -21,6 +23,51 @@ char *arrank_strdup(const char *s)
     if (d)
         memcpy(d, s, n);
     return d;
+}
+
+char *arrank_vstrfmt(const char *f, va_list ap)
+{
+    /* One formatting pass into a stack buffer covers every message of the
+       diagnosis; a longer one (a long sample name) is formatted again at its
+       length. */
+    char small[512];
+    va_list ap2;
+    va_copy(ap2, ap);
+    int n = vsnprintf(small, sizeof small, f, ap2);
+    va_end(ap2);
+    if (n < 0)
+        return NULL;
+    char *s = malloc((size_t)n + 1);
+    if (!s)
+        return NULL;
+    if ((size_t)n < sizeof small)
+        memcpy(s, small, (size_t)n + 1);
+    else
+        vsnprintf(s, (size_t)n + 1, f, ap);
+    return s;
+}
+
+char *arrank_strfmt(const char *f, ...)
+{
+    va_list ap;
+    va_start(ap, f);
+    char *s = arrank_vstrfmt(f, ap);
+    va_end(ap);
+    return s;
+}
+
+int arrank_strings_push(char ***arr, size_t *n, char *s)
+{
+    if (!s)
+        return -1;
+    char **a = realloc(*arr, (*n + 1) * sizeof *a);
+    if (!a) {
+        free(s);
+        return -1;
+    }
+    a[(*n)++] = s;
+    *arr = a;
+    return 0;
 }
 
 /* ---- workers ---------------------------------------------------------------- */

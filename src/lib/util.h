@@ -5,6 +5,7 @@
 #ifndef ARRANK_UTIL_H
 #define ARRANK_UTIL_H
 
+#include <stdarg.h>
 #include <stddef.h>
 #include <string.h>
 
@@ -12,6 +13,22 @@
 
 /* strdup that returns NULL for NULL. */
 char *arrank_strdup(const char *s);
+
+/* printf into a new string (malloc); NULL when out of memory. */
+char *arrank_strfmt(const char *f, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 1, 2)))
+#endif
+    ;
+char *arrank_vstrfmt(const char *f, va_list ap)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 1, 0)))
+#endif
+    ;
+
+/* Append s (owned from here on) to the list *arr of *n strings.  0, or -1
+   when s is NULL or memory runs out (s is freed). */
+int arrank_strings_push(char ***arr, size_t *n, char *s);
 
 /* ---- util.c: worker threads ---- */
 

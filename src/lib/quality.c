@@ -1,0 +1,463 @@
+/*
+ * quality.c - the data-quality checks of one sample's diagnosis
+ * (quality.h): conversion above the differential limit, shifts between runs
+ * and repeated passes (deactivation or activation), drift with time on
+ * stream, and outliers and influential points.
+ */
+#include "quality.h"
+
+#include <math.h>
+#include <stdarg.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "regress.h"
+#include "stats.h"
+#include "util.h"
+
+/* Runs, repeats and drift: two-sided 5 % test and at least a 5 % change
+   (ARRANK_RUN_MIN_CHANGE) ("loss > 5-10 % = flag", DOMAIN notes, from
+   memory). */
+#define RUN_LEVEL 0.05
+/* |corr(1/T, time)| above this: drift and temperature cannot be separated. */
+#define DRIFT_COLLINEAR 0.95
+/* The drift fit has three parameters (ln r on 1/T and time): with scatter
+   it needs five points, as the quadratic test (common practice). */
+#define DRIFT_MIN_POINTS 5
+/* Outliers: externally studentized residual beyond the Bonferroni-corrected
+   t quantile at family level 5 %; influence: Cook's distance above
+   ARRANK_COOK_LIMIT (both common practice in regression diagnostics, e.g.
+   Cook & Weisberg 1982, from memory). */
+#define OUTLIER_FAMILY 0.05
+/* Influential means Cook's distance above its limit and also off the line
+   beyond the pointwise two-sided 1 % t quantile: in windows of 4-6 points an
+   end point alone often has D > 1 (our choice). */
+#define INFLUENCE_LEVEL 0.01
+
+static char *fmt(arrank_dwork *wk, const char *f, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 2, 3)))
+#endif
+    ;
+
+static char *fmt(arrank_dwork *wk, const char *f, ...)
+{
+    va_list ap;
+    va_start(ap, f);
+    char *s = arrank_vstrfmt(f, ap);
+    va_end(ap);
+    if (!s)
+        wk->nomem = 1;
+    return s;
+}
+
+/* ---- conversion ------------------------------------------------------------ */
+
+size_t arrank_quality_conversion(arrank_dwork *wk, const size_t *base, size_t n, size_t *cand)
+{
+    arrank_diagnosis *d = wk->d;
+    size_t nc = 0;
+    for (size_t k = 0; k < n; k++) {
+        size_t i = base[k];
+        double X = wk->pt[i].conversion;
+        if (isfinite(X) && X > d->conversion_limit) {
+            d->points[i].high_conversion = 1;
+            d->n_high_conversion++;
+        } else
+            cand[nc++] = i;
+    }
+    return nc;
+}
+
+/* ---- runs, repeats and drift ---------------------------------------------- */
+
+/* Compare label j's points with label 0's over the base set. */
+static void compare_runs(arrank_dwork *wk, const size_t *sorted, const size_t *grp, size_t n,
+                         const int *label, int n_labels, char **names, const arrank_line *base)
+{
+    arrank_diagnosis *d = wk->d;
+    if (n_labels < 2)
+        return;
+    d->runs = calloc((size_t)n_labels - 1, sizeof *d->runs);
+    size_t n_groups = n ? grp[n - 1] + 1 : 0;
+    double *acc = calloc(4 * (n_groups ? n_groups : 1), sizeof *acc);
+    double *dif = malloc((n_groups ? n_groups : 1) * sizeof *dif);
+    size_t *sel = malloc((n ? n : 1) * sizeof *sel);
+    if (!d->runs || !acc || !dif || !sel) {
+        wk->nomem = 1;
+        goto done;
+    }
+    for (int j = 1; j < n_labels; j++) {
+        arrank_run_shift *rs = &d->runs[d->n_runs++];
+        rs->label_ref = arrank_strdup(names[0]);
+        rs->label = arrank_strdup(names[j]);
+        if (!rs->label_ref || !rs->label)
+            wk->nomem = 1;
+        rs->shift_ln = rs->shift_ln_se = rs->t = rs->p = rs->dof = rs->change = NAN;
+        /* sums per group: n0, y0 - b1 x0, n1, y1 - b1 x1 */
+        memset(acc, 0, 4 * n_groups * sizeof *acc);
+        for (size_t k = 0; k < n; k++) {
+            size_t i = sorted[k];
+            double adj = wk->y[i] - base->b1_K * wk->x[i];
+            if (label[i] == 0) {
+                acc[4 * grp[k]] += 1;
+                acc[4 * grp[k] + 1] += adj;
+            } else if (label[i] == j) {
+                acc[4 * grp[k] + 2] += 1;
+                acc[4 * grp[k] + 3] += adj;
+            }
+        }
+        size_t np = 0;
+        for (size_t g = 0; g < n_groups; g++)
+            if (acc[4 * g] > 0 && acc[4 * g + 2] > 0)
+                dif[np++] = acc[4 * g + 3] / acc[4 * g + 2] - acc[4 * g + 1] / acc[4 * g];
+        if (np >= 1) {
+            /* paired differences at the same set points, corrected to a common
+               temperature with the fitted slope: robust to a bent plot */
+            rs->method = "paired";
+            rs->n_pairs = np;
+            double m = 0;
+            for (size_t k = 0; k < np; k++)
+                m += dif[k];
+            m /= (double)np;
+            rs->shift_ln = m;
+            if (np >= 3) {
+                double v = 0;
+                for (size_t k = 0; k < np; k++)
+                    v += (dif[k] - m) * (dif[k] - m);
+                rs->shift_ln_se = sqrt(v / ((double)np - 1.0) / (double)np);
+                rs->dof = (double)np - 1.0;
+            }
+        }
+        if (np < 3) {
+            /* too few common set points for their own spread: compare the
+               run's points with the line through the reference run, whose
+               scatter and prediction variance give the standard error */
+            rs->method = "reference line";
+            size_t m0 = 0, m1 = 0;
+            double sx = 0;
+            for (size_t k = 0; k < n; k++) {
+                size_t i = sorted[k];
+                if (label[i] == 0)
+                    sel[m0++] = i;
+            }
+            arrank_line lr;
+            rs->shift_ln = NAN;
+            if (m0 >= 3 && arrank_regress_line(wk, sel, m0, &lr) == 0) {
+                double sd = 0;
+                for (size_t k = 0; k < n; k++) {
+                    size_t i = sorted[k];
+                    if (label[i] != j)
+                        continue;
+                    sd += wk->y[i] - arrank_regress_line_at(&lr, wk->x[i]);
+                    sx += wk->x[i];
+                    m1++;
+                }
+                if (m1 > 0) {
+                    double u = (sx / (double)m1 - lr.sc.xm) / lr.sc.sx;
+                    double var = lr.cov[0] + 2 * u * lr.cov[1] + u * u * lr.cov[3];
+                    double wmean = 0;
+                    for (size_t k = 0; k < m0; k++)
+                        wmean += wk->w[sel[k]];
+                    wmean /= (double)m0;
+                    /* unit weight of a point relative to the reference run's mean weight */
+                    rs->shift_ln = sd / (double)m1;
+                    rs->shift_ln_se = sqrt(var + lr.s2 / (wmean * (double)m1));
+                    rs->dof = lr.dof;
+                    rs->n_pairs = m1;
+                }
+            }
+        }
+        if (isfinite(rs->shift_ln) && rs->dof > 0) {
+            rs->t = rs->shift_ln_se > 0 ? rs->shift_ln / rs->shift_ln_se
+                                        : (rs->shift_ln < 0 ? -INFINITY : INFINITY);
+            rs->p = arrank_stats_t_p(rs->t, rs->dof);
+            rs->change = expm1(rs->shift_ln);
+            if (rs->p < RUN_LEVEL && fabs(rs->change) >= ARRANK_RUN_MIN_CHANGE)
+                rs->verdict = rs->shift_ln < 0 ? -1 : 1;
+        }
+    }
+done:
+    free(acc);
+    free(dif);
+    free(sel);
+}
+
+static void test_drift(arrank_dwork *wk, const size_t *base, size_t n)
+{
+    arrank_drift *dr = &wk->d->drift;
+    dr->slope_ln_per_h = dr->slope_se = dr->t = dr->p = dr->dof = dr->span_h = dr->change = NAN;
+    size_t *sel = malloc((n ? n : 1) * sizeof *sel);
+    double *th = malloc((n ? n : 1) * sizeof *th);
+    if (!sel || !th) {
+        wk->nomem = 1;
+        goto done;
+    }
+    size_t m = 0;
+    for (size_t k = 0; k < n; k++)
+        if (isfinite(wk->pt[base[k]].time_on_stream_s)) {
+            sel[m] = base[k];
+            th[m] = wk->pt[base[k]].time_on_stream_s / 3600.0;
+            m++;
+        }
+    if (m == 0)
+        goto done;
+    if (m < DRIFT_MIN_POINTS) {
+        dr->note = fmt(wk, "only %zu points have a time on stream: too few to test for drift", m);
+        goto done;
+    }
+    double tmin = INFINITY, tmax = -INFINITY, mx = 0, mt = 0;
+    for (size_t k = 0; k < m; k++) {
+        tmin = fmin(tmin, th[k]);
+        tmax = fmax(tmax, th[k]);
+        mx += wk->x[sel[k]];
+        mt += th[k];
+    }
+    mx /= (double)m;
+    mt /= (double)m;
+    double sxx = 0, stt = 0, sxt = 0;
+    for (size_t k = 0; k < m; k++) {
+        double a = wk->x[sel[k]] - mx, b = th[k] - mt;
+        sxx += a * a;
+        stt += b * b;
+        sxt += a * b;
+    }
+    double corr = sxx > 0 && stt > 0 ? sxt / sqrt(sxx * stt) : 1.0;
+    dr->span_h = tmax - tmin;
+    if (!(stt > 0) || fabs(corr) > DRIFT_COLLINEAR) {
+        dr->note = fmt(wk, "time on stream follows temperature (correlation %.2f): drift cannot "
+                           "be told apart from the temperature dependence",
+                       corr);
+        goto done;
+    }
+    arrank_xscale sc;
+    double b[3], cov[9], rss;
+    if (arrank_regress_scale(wk, sel, m, &sc) != 0 ||
+        arrank_regress_design(wk, sel, m, &sc, 0, th, b, cov, &rss) != 3)
+        goto done;
+    dr->tested = 1;
+    dr->slope_ln_per_h = b[2];
+    dr->slope_se = sqrt(cov[8]);
+    dr->dof = (double)m - 3.0;
+    dr->t = dr->slope_se > 0 ? b[2] / dr->slope_se : (b[2] < 0 ? -INFINITY : INFINITY);
+    dr->p = arrank_stats_t_p(dr->t, dr->dof);
+    dr->change = expm1(b[2] * dr->span_h);
+    if (dr->p < RUN_LEVEL && fabs(dr->change) >= ARRANK_RUN_MIN_CHANGE)
+        dr->verdict = b[2] < 0 ? -1 : 1;
+done:
+    free(sel);
+    free(th);
+}
+
+static void free_names(char **names, int n_labels)
+{
+    for (int j = 0; j < n_labels; j++)
+        free(names[j]);
+    free(names);
+}
+
+/* Label each point of base by its run, labels numbered in order of first
+   appearance in the file; names[] owned by the caller.  Returns the number
+   of labels; -1 when out of memory. */
+static int label_runs(const arrank_dwork *wk, const size_t *base, size_t n,
+                      const unsigned char *in_base, int *label, char ***names_out)
+{
+    const arrank_sample *s = wk->s;
+    int n_labels = 0;
+    int all = 1;
+    for (size_t k = 0; k < n; k++)
+        all &= s->points[base[k]].run >= 0;
+    if (!all)
+        return 0;
+    int *map = malloc(s->n_runs * sizeof *map);
+    char **names = calloc(s->n_runs, sizeof *names);
+    if (!map || !names) {
+        free(map);
+        free(names);
+        return -1;
+    }
+    for (size_t r = 0; r < s->n_runs; r++)
+        map[r] = -1;
+    for (size_t i = 0; i < wk->np; i++) {
+        int r = s->points[i].run;
+        if (!in_base[i])
+            continue;
+        if (map[r] < 0) {
+            names[n_labels] = arrank_strdup(s->runs[r]);
+            if (!names[n_labels]) {
+                free(map);
+                free_names(names, n_labels);
+                return -1;
+            }
+            map[r] = n_labels++;
+        }
+        label[i] = map[r];
+    }
+    free(map);
+    *names_out = names;
+    return n_labels;
+}
+
+/* Label each point of base by its pass over a repeated set point (file
+   order), names "pass 1", "pass 2", ...  Returns the number of labels
+   (0 when no set point repeats); -1 when out of memory. */
+static int label_passes(arrank_dwork *wk, const size_t *base, const size_t *grp, size_t n,
+                        size_t n_groups, const unsigned char *in_base, int *label,
+                        char ***names_out)
+{
+    const size_t np = wk->np;
+    size_t *seen = calloc(n_groups ? n_groups : 1, sizeof *seen);
+    size_t *gof = malloc((np ? np : 1) * sizeof *gof);
+    if (!seen || !gof) {
+        free(seen);
+        free(gof);
+        return -1;
+    }
+    for (size_t k = 0; k < n; k++)
+        gof[base[k]] = grp[k];
+    size_t max_pass = 0;
+    for (size_t i = 0; i < np; i++) {
+        label[i] = -1;
+        if (!in_base[i])
+            continue;
+        label[i] = (int)seen[gof[i]]++;
+        if (seen[gof[i]] > max_pass)
+            max_pass = seen[gof[i]];
+    }
+    free(seen);
+    free(gof);
+    if (max_pass < 2)
+        return 0;
+    char **names = calloc(max_pass, sizeof *names);
+    if (!names)
+        return -1;
+    for (size_t j = 0; j < max_pass; j++) {
+        names[j] = fmt(wk, "pass %zu", j + 1);
+        if (!names[j]) {
+            free_names(names, (int)j);
+            return -1;
+        }
+    }
+    *names_out = names;
+    return (int)max_pass;
+}
+
+int arrank_quality_runs(arrank_dwork *wk, const size_t *base, const size_t *grp, size_t n,
+                        size_t n_groups, const unsigned char *in_base, int *label,
+                        const arrank_line *lf_all)
+{
+    const arrank_sample *s = wk->s;
+    char **names = NULL;
+    int n_labels = 0;
+    for (size_t i = 0; i < wk->np; i++)
+        label[i] = -1;
+    if (s->n_runs >= 2) {
+        n_labels = label_runs(wk, base, n, in_base, label, &names);
+        if (n_labels < 0) {
+            wk->nomem = 1;
+            return 0;
+        }
+    }
+    if (n_labels < 2 && n_groups < n) {
+        free_names(names, n_labels);
+        names = NULL;
+        n_labels = label_passes(wk, base, grp, n, n_groups, in_base, label, &names);
+        if (n_labels < 0) {
+            wk->nomem = 1;
+            return 0;
+        }
+    }
+    int has_repeats = n_labels >= 2;
+    if (lf_all && n_labels >= 2)
+        compare_runs(wk, base, grp, n, label, n_labels, names, lf_all);
+    free_names(names, n_labels);
+    test_drift(wk, base, n);
+    return has_repeats | wk->d->drift.tested;
+}
+
+/* ---- outliers --------------------------------------------------------------- */
+
+/* Externally studentized residuals and Cook's distance about the weighted
+   line over idx (Belsley, Kuh & Welsch 1980; Cook 1977; formulas for the
+   weighted simple regression with leverage h = w/Sw + w (x - xm)^2 / Sxx). */
+/* At most this many points of a sample get an exact leave-one-out refit. */
+#define EXACT_REFITS 8
+
+/* RSS of the weighted line over idx[0..n) without idx[skip] (two-pass centred
+   sums, as in fit_line_direct). */
+static double rss_without(const arrank_dwork *wk, const size_t *idx, size_t n, size_t skip)
+{
+    double sw = 0, swx = 0, swy = 0;
+    for (size_t k = 0; k < n; k++) {
+        if (k == skip)
+            continue;
+        const size_t i = idx[k];
+        sw += wk->w[i];
+        swx += wk->w[i] * wk->x[i];
+        swy += wk->w[i] * wk->y[i];
+    }
+    const double xbar = swx / sw, ybar = swy / sw;
+    double sxx = 0, sxy = 0;
+    for (size_t k = 0; k < n; k++) {
+        if (k == skip)
+            continue;
+        const size_t i = idx[k];
+        sxx += wk->w[i] * (wk->x[i] - xbar) * (wk->x[i] - xbar);
+        sxy += wk->w[i] * (wk->x[i] - xbar) * (wk->y[i] - ybar);
+    }
+    const double b1 = sxx > 0 ? sxy / sxx : 0.0;
+    double rss = 0;
+    for (size_t k = 0; k < n; k++) {
+        if (k == skip)
+            continue;
+        const size_t i = idx[k];
+        const double e = wk->y[i] - ybar - b1 * (wk->x[i] - xbar);
+        rss += wk->w[i] * e * e;
+    }
+    return rss;
+}
+
+void arrank_quality_outliers(arrank_dwork *wk, const size_t *idx, size_t n)
+{
+    size_t exact_used = 0;
+    arrank_diagnosis *d = wk->d;
+    arrank_line lf;
+    if (n < 4 || arrank_regress_line(wk, idx, n, &lf) != 0)
+        return;
+    double sw = 0, sxx = 0;
+    for (size_t k = 0; k < n; k++)
+        sw += wk->w[idx[k]];
+    for (size_t k = 0; k < n; k++) {
+        double u = wk->x[idx[k]] - lf.sc.xm;
+        sxx += wk->w[idx[k]] * u * u;
+    }
+    double dof_ext = (double)n - 3.0;
+    d->outlier_t_limit = arrank_stats_t_upper(OUTLIER_FAMILY / (2.0 * (double)n), dof_ext);
+    double t_influence = arrank_stats_t_upper(INFLUENCE_LEVEL / 2.0, dof_ext);
+    for (size_t k = 0; k < n; k++) {
+        size_t i = idx[k];
+        double u = wk->x[i] - lf.sc.xm, wi = wk->w[i];
+        double h = wi / sw + wi * u * u / sxx;
+        double e = wk->y[i] - arrank_regress_line_at(&lf, wk->x[i]);
+        double we2 = wi * e * e;
+        arrank_point_diag *pd = &d->points[i];
+        if (!(h < 1.0))
+            continue;
+        /* The deletion formula (Belsley, Kuh & Welsch 1980) subtracts nearly equal
+           numbers when this point carries most of the RSS; then refit without it. */
+        double drop = we2 / (1.0 - h);
+        double s2i = (drop > 0.5 * lf.rss && exact_used < EXACT_REFITS
+                          ? (exact_used++, rss_without(wk, idx, n, k))
+                          : lf.rss - drop) /
+                     dof_ext;
+        pd->student_resid = s2i > 0 ? e * sqrt(wi) / sqrt(s2i * (1.0 - h))
+                                    : (e != 0 ? copysign(INFINITY, e) : 0.0);
+        pd->cooks_d = lf.s2 > 0 ? we2 * h / (2.0 * lf.s2 * (1.0 - h) * (1.0 - h)) : NAN;
+        if (fabs(pd->student_resid) > d->outlier_t_limit ||
+            (isfinite(pd->cooks_d) && pd->cooks_d > ARRANK_COOK_LIMIT &&
+             fabs(pd->student_resid) > t_influence)) {
+            pd->outlier = 1;
+            d->n_outliers++;
+        }
+    }
+}
