@@ -113,6 +113,26 @@ awk 'BEGIN { print "T [K],rate [umol/(g*s)]";
     >"$T/rows/a.csv"
 run "300,000 set points in one sample" 60 256 0 "" fit "$T/rows" --at 500K
 
+# One file alternating between two set points: every return to a set point
+# is a new pass, so 1,000,000 rows make 500,000 passes to compare with the
+# first.  The comparison once walked every point for every pass (quadratic:
+# 11 s at 100,000 rows, about 20 minutes at a million); it must stay linear.
+# The same with 80,000 run labels in a run column.  README: "linear time".
+for rows in 10000 100000 999999; do
+    mkdir "$T/two$rows"
+    awk -v n="$rows" 'BEGIN { print "T [degC],rate [umol/(g*s)]"; srand(7);
+        for (i = 0; i < n; i++) { t = (i % 2) ? 270 : 250;
+            printf "%d,%.5g\n", t, ((i % 2) ? 2.5 : 1.0) * (1 + 0.05 * (rand() - 0.5)) } }' \
+        >"$T/two$rows/a.csv"
+    run "$rows rows at two set points" 60 512 0 "" fit "$T/two$rows"
+done
+mkdir "$T/labels"
+awk 'BEGIN { print "T [degC],rate [umol/(g*s)],run"; srand(11);
+    for (i = 0; i < 160000; i++) { t = (i % 2) ? 270 : 250;
+        printf "%d,%.5g,r%d\n", t, ((i % 2) ? 2.5 : 1.0) * (1 + 0.05 * (rand() - 0.5)), i / 2 } }' \
+    >"$T/labels/a.csv"
+run "80,000 run labels" 60 512 0 "" check "$T/labels"
+
 # 100,000 sample files: hard links to a few valid files (a file takes at most
 # 65,000 links on ext4), so the folder is quick to make.
 mkdir "$T/many"

@@ -71,115 +71,163 @@ size_t arrank_quality_conversion(arrank_dwork *wk, const size_t *base, size_t n,
 
 /* ---- runs, repeats and drift ---------------------------------------------- */
 
-/* Compare label j's points with label 0's over the base set. */
+/* The run's shift against the reference run: t, p, change and verdict. */
+static void run_verdict(arrank_run_shift *rs)
+{
+    if (!(isfinite(rs->shift_ln) && rs->dof > 0))
+        return;
+    rs->t = rs->shift_ln_se > 0 ? rs->shift_ln / rs->shift_ln_se
+                                : (rs->shift_ln < 0 ? -INFINITY : INFINITY);
+    rs->p = arrank_stats_t_p(rs->t, rs->dof);
+    rs->change = expm1(rs->shift_ln);
+    if (rs->p < RUN_LEVEL && fabs(rs->change) >= ARRANK_RUN_MIN_CHANGE)
+        rs->verdict = rs->shift_ln < 0 ? -1 : 1;
+}
+
+/* Paired differences at the same set points, corrected to a common
+   temperature with the fitted slope (robust to a bent plot): the mean of
+   dif[0..np-1], and its standard error from their spread when np >= 3. */
+static void run_paired(arrank_run_shift *rs, const double *dif, size_t np)
+{
+    rs->method = "paired";
+    rs->n_pairs = np;
+    double m = 0;
+    for (size_t k = 0; k < np; k++)
+        m += dif[k];
+    m /= (double)np;
+    rs->shift_ln = m;
+    if (np >= 3) {
+        double v = 0;
+        for (size_t k = 0; k < np; k++)
+            v += (dif[k] - m) * (dif[k] - m);
+        rs->shift_ln_se = sqrt(v / ((double)np - 1.0) / (double)np);
+        rs->dof = (double)np - 1.0;
+    }
+}
+
+/* The line through the reference run (label 0), fitted once for every
+   other run: its prediction variance and scatter give the standard error
+   when a run shares too few set points with it. */
+typedef struct {
+    int ok;
+    arrank_line lr;
+    double wmean; /* mean weight of the reference run's points */
+} ref_line;
+
+/* Compare the run's m1 points (positions ks[] in sorted order) with the
+   reference line. */
+static void run_against_line(arrank_dwork *wk, arrank_run_shift *rs, const ref_line *rl,
+                             const size_t *sorted, const size_t *ks, size_t m1)
+{
+    rs->method = "reference line";
+    rs->shift_ln = NAN;
+    if (!rl->ok || m1 == 0)
+        return;
+    double sd = 0, sx = 0;
+    for (size_t q = 0; q < m1; q++) {
+        size_t i = sorted[ks[q]];
+        sd += wk->y[i] - arrank_regress_line_at(&rl->lr, wk->x[i]);
+        sx += wk->x[i];
+    }
+    double u = (sx / (double)m1 - rl->lr.sc.xm) / rl->lr.sc.sx;
+    double var = rl->lr.cov[0] + 2 * u * rl->lr.cov[1] + u * u * rl->lr.cov[3];
+    /* unit weight of a point relative to the reference run's mean weight */
+    rs->shift_ln = sd / (double)m1;
+    rs->shift_ln_se = sqrt(var + rl->lr.s2 / (rl->wmean * (double)m1));
+    rs->dof = rl->lr.dof;
+    rs->n_pairs = m1;
+}
+
+/*
+ * Compare each run (label j >= 1) with the reference run (label 0) over the
+ * base set, in linear time: the reference run's sums per set point once, the
+ * other runs' points bucketed by label (a counting sort that keeps their
+ * order, so set points stay ascending within a run), then one walk per run
+ * over its own points only.  Every sum adds the same terms in the same order
+ * as one pass per run over all points would.
+ */
 static void compare_runs(arrank_dwork *wk, const size_t *sorted, const size_t *grp, size_t n,
                          const int *label, int n_labels, char **names, const arrank_line *base)
 {
     arrank_diagnosis *d = wk->d;
     if (n_labels < 2)
         return;
-    d->runs = calloc((size_t)n_labels - 1, sizeof *d->runs);
-    size_t n_groups = n ? grp[n - 1] + 1 : 0;
-    double *acc = calloc(4 * (n_groups ? n_groups : 1), sizeof *acc);
-    double *dif = malloc((n_groups ? n_groups : 1) * sizeof *dif);
+    const size_t nl = (size_t)n_labels, n_groups = n ? grp[n - 1] + 1 : 0;
+    d->runs = calloc(nl - 1, sizeof *d->runs);
+    double *n0 = calloc(n_groups ? n_groups : 1, sizeof *n0);
+    double *s0 = calloc(n_groups ? n_groups : 1, sizeof *s0);
+    double *dif = malloc((n ? n : 1) * sizeof *dif);
+    size_t *start = calloc(nl + 1, sizeof *start);
+    size_t *ks = malloc((n ? n : 1) * sizeof *ks);
     size_t *sel = malloc((n ? n : 1) * sizeof *sel);
-    if (!d->runs || !acc || !dif || !sel) {
+    if (!d->runs || !n0 || !s0 || !dif || !start || !ks || !sel) {
         wk->nomem = 1;
         goto done;
     }
-    for (int j = 1; j < n_labels; j++) {
+    /* 1. the reference run per set point, and its points for the line */
+    size_t m0 = 0;
+    for (size_t k = 0; k < n; k++) {
+        size_t i = sorted[k];
+        if (label[i] != 0)
+            continue;
+        n0[grp[k]] += 1;
+        s0[grp[k]] += wk->y[i] - base->b1_K * wk->x[i];
+        sel[m0++] = i;
+    }
+    ref_line rl = {0};
+    if (m0 >= 3 && arrank_regress_line(wk, sel, m0, &rl.lr) == 0) {
+        rl.ok = 1;
+        for (size_t k = 0; k < m0; k++)
+            rl.wmean += wk->w[sel[k]];
+        rl.wmean /= (double)m0;
+    }
+    /* 2. the other runs' positions, bucketed by label in sorted order */
+    for (size_t k = 0; k < n; k++)
+        if (label[sorted[k]] > 0)
+            start[label[sorted[k]] + 1]++;
+    for (size_t j = 1; j <= nl; j++)
+        start[j] += start[j - 1];
+    for (size_t k = 0; k < n; k++) {
+        int lab = label[sorted[k]];
+        if (lab > 0)
+            ks[start[lab]++] = k;
+    }
+    for (size_t j = nl; j > 0; j--) /* start[j] was advanced to the end of bucket j */
+        start[j] = start[j - 1];
+    start[0] = 0;
+    /* 3. each run: paired differences where set points are shared, else the line */
+    for (size_t j = 1; j < nl; j++) {
         arrank_run_shift *rs = &d->runs[d->n_runs++];
         rs->label_ref = arrank_strdup(names[0]);
         rs->label = arrank_strdup(names[j]);
         if (!rs->label_ref || !rs->label)
             wk->nomem = 1;
         rs->shift_ln = rs->shift_ln_se = rs->t = rs->p = rs->dof = rs->change = NAN;
-        /* sums per group: n0, y0 - b1 x0, n1, y1 - b1 x1 */
-        memset(acc, 0, 4 * n_groups * sizeof *acc);
-        for (size_t k = 0; k < n; k++) {
-            size_t i = sorted[k];
-            double adj = wk->y[i] - base->b1_K * wk->x[i];
-            if (label[i] == 0) {
-                acc[4 * grp[k]] += 1;
-                acc[4 * grp[k] + 1] += adj;
-            } else if (label[i] == j) {
-                acc[4 * grp[k] + 2] += 1;
-                acc[4 * grp[k] + 3] += adj;
-            }
-        }
+        const size_t *own = ks + start[j], m1 = start[j + 1] - start[j];
         size_t np = 0;
-        for (size_t g = 0; g < n_groups; g++)
-            if (acc[4 * g] > 0 && acc[4 * g + 2] > 0)
-                dif[np++] = acc[4 * g + 3] / acc[4 * g + 2] - acc[4 * g + 1] / acc[4 * g];
-        if (np >= 1) {
-            /* paired differences at the same set points, corrected to a common
-               temperature with the fitted slope: robust to a bent plot */
-            rs->method = "paired";
-            rs->n_pairs = np;
-            double m = 0;
-            for (size_t k = 0; k < np; k++)
-                m += dif[k];
-            m /= (double)np;
-            rs->shift_ln = m;
-            if (np >= 3) {
-                double v = 0;
-                for (size_t k = 0; k < np; k++)
-                    v += (dif[k] - m) * (dif[k] - m);
-                rs->shift_ln_se = sqrt(v / ((double)np - 1.0) / (double)np);
-                rs->dof = (double)np - 1.0;
+        for (size_t q = 0; q < m1;) {
+            const size_t g = grp[own[q]];
+            double nj = 0, sj = 0;
+            for (; q < m1 && grp[own[q]] == g; q++) {
+                size_t i = sorted[own[q]];
+                nj += 1;
+                sj += wk->y[i] - base->b1_K * wk->x[i];
             }
+            if (n0[g] > 0)
+                dif[np++] = sj / nj - s0[g] / n0[g];
         }
-        if (np < 3) {
-            /* too few common set points for their own spread: compare the
-               run's points with the line through the reference run, whose
-               scatter and prediction variance give the standard error */
-            rs->method = "reference line";
-            size_t m0 = 0, m1 = 0;
-            double sx = 0;
-            for (size_t k = 0; k < n; k++) {
-                size_t i = sorted[k];
-                if (label[i] == 0)
-                    sel[m0++] = i;
-            }
-            arrank_line lr;
-            rs->shift_ln = NAN;
-            if (m0 >= 3 && arrank_regress_line(wk, sel, m0, &lr) == 0) {
-                double sd = 0;
-                for (size_t k = 0; k < n; k++) {
-                    size_t i = sorted[k];
-                    if (label[i] != j)
-                        continue;
-                    sd += wk->y[i] - arrank_regress_line_at(&lr, wk->x[i]);
-                    sx += wk->x[i];
-                    m1++;
-                }
-                if (m1 > 0) {
-                    double u = (sx / (double)m1 - lr.sc.xm) / lr.sc.sx;
-                    double var = lr.cov[0] + 2 * u * lr.cov[1] + u * u * lr.cov[3];
-                    double wmean = 0;
-                    for (size_t k = 0; k < m0; k++)
-                        wmean += wk->w[sel[k]];
-                    wmean /= (double)m0;
-                    /* unit weight of a point relative to the reference run's mean weight */
-                    rs->shift_ln = sd / (double)m1;
-                    rs->shift_ln_se = sqrt(var + lr.s2 / (wmean * (double)m1));
-                    rs->dof = lr.dof;
-                    rs->n_pairs = m1;
-                }
-            }
-        }
-        if (isfinite(rs->shift_ln) && rs->dof > 0) {
-            rs->t = rs->shift_ln_se > 0 ? rs->shift_ln / rs->shift_ln_se
-                                        : (rs->shift_ln < 0 ? -INFINITY : INFINITY);
-            rs->p = arrank_stats_t_p(rs->t, rs->dof);
-            rs->change = expm1(rs->shift_ln);
-            if (rs->p < RUN_LEVEL && fabs(rs->change) >= ARRANK_RUN_MIN_CHANGE)
-                rs->verdict = rs->shift_ln < 0 ? -1 : 1;
-        }
+        if (np >= 1)
+            run_paired(rs, dif, np);
+        if (np < 3)
+            run_against_line(wk, rs, &rl, sorted, own, m1);
+        run_verdict(rs);
     }
 done:
-    free(acc);
+    free(n0);
+    free(s0);
     free(dif);
+    free(start);
+    free(ks);
     free(sel);
 }
 
