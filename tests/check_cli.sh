@@ -140,4 +140,17 @@ ok_if "LC_ALL=$loc: CSV byte for byte as in C" cmp -s "$T/lc-c.csv" "$T/lc-de.cs
 ok_if "LC_ALL=$loc: table byte for byte as in C" cmp -s "$T/lc-c.txt" "$T/lc-de.txt"
 ok_if "LC_ALL=$loc: the JSON has numbers" grep -q '"T_K": 503.15' "$T/lc-de.json"
 
+# Ranking by rate far outside every sample's range is refused unless asked for.
+"$A" rank "$DEMO" --at 2000C >"$T/out" 2>"$T/err"; st=$?
+expect_eq "--at 2000C (1,600 K past every range): refused with exit 2" "$st" 2
+ok_if "--at 2000C: one line naming the distance and --extrapolate" \
+    sh -c "test \$(wc -l <'$T/err') -eq 1 && grep -q 'outside the measured range of every sample.*--extrapolate' '$T/err'"
+ok_if "--at 2000C: nothing on standard output" test ! -s "$T/out"
+"$A" rank "$DEMO" --at 2000C --extrapolate >"$T/out" 2>/dev/null; st=$?
+expect_eq "--at 2000C --extrapolate: ranks (exit 0)" "$st" 0
+"$A" rank "$DEMO" --at 300C >/dev/null 2>&1; st=$?
+expect_eq "--at 300C (at the edge of the ranges): ranks without --extrapolate" "$st" 0
+"$A" rank "$DEMO" --at 270C --by EA >/dev/null 2>&1; st=$?
+expect_eq "--by EA: case does not matter" "$st" 0
+
 tap_plan

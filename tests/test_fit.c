@@ -603,6 +603,19 @@ static void test_arrhenius_predict(void **state)
     assert_int_equal(pe.extrapolated, 1);
     assert_int_equal(arrank_fit_predict(&fit, fit.T_max_K + 0.01, 0.95, &pe, NULL), ARRANK_OK);
     assert_int_equal(pe.extrapolated, 1);
+    /* how far out, in kelvin and against the span (exact arithmetic) */
+    const double span_K = fit.T_max_K - fit.T_min_K;
+    assert_int_equal(arrank_fit_predict(&fit, fit.T_max_K + 25.0, 0.95, &pe, NULL), ARRANK_OK);
+    assert_true(fabs(pe.extrapolation_K - 25.0) < 1e-9);
+    assert_true(fabs(pe.extrapolation_rel - 25.0 / span_K) < 1e-12);
+    assert_int_equal(arrank_fit_predict(&fit, fit.T_min_K - 40.0, 0.95, &pe, NULL), ARRANK_OK);
+    assert_true(fabs(pe.extrapolation_K - 40.0) < 1e-9);
+    assert_int_equal(arrank_fit_predict(&fit, 0.5 * (fit.T_min_K + fit.T_max_K), 0.95, &pe, NULL),
+                     ARRANK_OK);
+    assert_true(pe.extrapolation_K == 0.0 && pe.extrapolation_rel == 0.0);
+    assert_int_equal(arrank_fit_predict(&fit, fit.T_max_K * (1 + 1e-13), 0.95, &pe, NULL),
+                     ARRANK_OK);
+    assert_true(pe.extrapolation_K == 0.0); /* rounding-level: inside, no distance */
 
     arrank_error err;
     arrank_error_clear(&err);

@@ -62,6 +62,10 @@ typedef struct {
     double confidence;        /* two-sided level for every interval, default 0.95 */
     double operating_temp_K;  /* NAN: none (fit only) */
     arrank_rank_by by;
+    /* ranking by rate at an operating temperature more than this far (K)
+       outside every fitted sample's measured range is refused (EINVAL);
+       default 100; INFINITY: no limit */
+    double max_extrapolation_K;
     /* diagnostics (diagnose.h) */
     int use_all;              /* 1: fit every point, no kinetic window */
     int drop_outliers;        /* 1: leave flagged outliers out of the fit */
@@ -82,6 +86,9 @@ typedef struct {
     arrank_progress_fn progress;
     void *progress_ctx;
 } arrank_options;
+
+/* How far outside every sample's range a rate ranking goes by default (K). */
+#define ARRANK_MAX_EXTRAPOLATION_K 100.0
 
 /* Defaults: confidence 0.95, no operating temperature, rank by rate. */
 arrank_options arrank_options_defaults(void);

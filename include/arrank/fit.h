@@ -126,6 +126,8 @@ typedef struct {
     double rate;                /* exp(ln_rate): the median estimate, report unit */
     double rate_lo, rate_hi;    /* exp(ln_rate -/+ t se), t with dof of the fit */
     int extrapolated;           /* temp_K outside [T_min_K, T_max_K] */
+    double extrapolation_K;     /* how far outside [T_min_K, T_max_K], in K; 0 inside */
+    double extrapolation_rel;   /* extrapolation_K / (T_max_K - T_min_K); 0 inside */
 } arrank_prediction;
 
 /*

@@ -12,6 +12,8 @@ static const char usage[] =
     "\n"
     "  --at T              temperature with its unit: 250C, 250degC, 523.15K, 482F\n"
     "                      (default: operating_temperature in campaign.ini, if any)\n"
+    "  --extrapolate       rank by rate even when T lies more than 100 K outside\n"
+    "                      every sample's measured range (refused otherwise)\n"
     "  --json FILE|-       write the results as JSON ('-' for standard output)\n"
     "  --csv FILE|-        write the results as CSV ('-' for standard output)\n"
     "  --confidence C      two-sided level of every interval, 0.95 or 95% (default\n"

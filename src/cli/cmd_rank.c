@@ -14,6 +14,8 @@ static const char usage[] =
     "  --at T              operating temperature with its unit: 250C, 250degC,\n"
     "                      523.15K, 482F (default: operating_temperature in\n"
     "                      campaign.ini; one of the two is needed)\n"
+    "  --extrapolate       rank by rate even when T lies more than 100 K outside\n"
+    "                      every sample's measured range (refused otherwise)\n"
     "  --by KEY            rate (default), ea or prefactor\n"
     "  --json FILE|-       write the results as JSON ('-' for standard output)\n"
     "  --csv FILE|-        write the results as CSV ('-' for standard output)\n"

@@ -22,6 +22,8 @@ static const char usage[] =
     "\n"
     "  --at T              operating temperature with its unit, e.g. 250C or 523.15K\n"
     "                      (default: operating_temperature in campaign.ini)\n"
+    "  --extrapolate       rank by rate even when T lies more than 100 K outside\n"
+    "                      every sample's measured range (refused otherwise)\n"
     "  --out DIR           output folder, made if missing\n"
     "  --confidence C      two-sided level of every interval (default 0.95)\n"
     "  --by KEY            rank by rate (default), ea or prefactor\n"

@@ -11,6 +11,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 
 #include "arrank/version.h"
 #include "arrank/text.h"
@@ -24,6 +25,7 @@ typedef struct {
 
 static const option_spec option_table[] = {
     {"--at", OPT_AT, 1},
+    {"--extrapolate", OPT_AT, 0},
     {"--json", OPT_OUTPUTS, 1},
     {"--csv", OPT_OUTPUTS, 1},
     {"--confidence", OPT_CONFIDENCE, 1},
@@ -128,17 +130,19 @@ static int apply(cli_args *a, const char *name, const char *value)
         return parse_fraction(name, value, &o->confidence);
     } else if (strcmp(name, "--by") == 0) {
         a->by_given = 1;
-        if (strcmp(value, "rate") == 0)
+        if (strcasecmp(value, "rate") == 0)
             o->by = ARRANK_BY_RATE;
-        else if (strcmp(value, "ea") == 0)
+        else if (strcasecmp(value, "ea") == 0)
             o->by = ARRANK_BY_EA;
-        else if (strcmp(value, "prefactor") == 0)
+        else if (strcasecmp(value, "prefactor") == 0)
             o->by = ARRANK_BY_PREFACTOR;
         else {
             cli_fail("--by '%s' is not known; use rate, ea or prefactor", value);
             return EXIT_USAGE;
         }
-    } else if (strcmp(name, "--use-all") == 0)
+    } else if (strcmp(name, "--extrapolate") == 0)
+        o->max_extrapolation_K = INFINITY;
+    else if (strcmp(name, "--use-all") == 0)
         o->use_all = 1;
     else if (strcmp(name, "--drop-outliers") == 0)
         o->drop_outliers = 1;

@@ -70,6 +70,7 @@ arrank_options arrank_options_defaults(void)
     o.confidence = 0.95;
     o.operating_temp_K = NAN;
     o.by = ARRANK_BY_RATE;
+    o.max_extrapolation_K = ARRANK_MAX_EXTRAPOLATION_K;
     o.conversion_limit = 0.10;
     o.diagnose = 1;
     o.errors = ARRANK_ERRORS_RELATIVE;
@@ -78,6 +79,26 @@ arrank_options arrank_options_defaults(void)
     o.draws = 10000;
     o.pairs = 20;
     return o;
+}
+
+/* EINVAL when the operating temperature lies more than max_K outside the
+   measured range of every fitted sample (a->order[0..n_fitted-1]). */
+static arrank_status check_extrapolation(const arrank_analysis *a, size_t n_fitted, double max_K,
+                                         arrank_error *err)
+{
+    double nearest_K = INFINITY;
+    for (size_t k = 0; k < n_fitted; k++) {
+        const arrank_result *res = &a->results[a->order[k]];
+        if (res->has_prediction && res->at_T.extrapolation_K < nearest_K)
+            nearest_K = res->at_T.extrapolation_K;
+    }
+    if (!(nearest_K > max_K) || !isfinite(nearest_K))
+        return ARRANK_OK;
+    return arrank_errorf(err, ARRANK_EINVAL,
+                         "the operating temperature %.2f K lies %.1f K or more outside the "
+                         "measured range of every sample; fitted kinetics say nothing reliable "
+                         "there (give --extrapolate to rank anyway)",
+                         a->options.operating_temp_K, nearest_K);
 }
 
 static void set_result_error(arrank_result *res, const char *msg, long line)
@@ -330,6 +351,14 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
             st = arrank_errorf(err, ARRANK_EDATA, "no sample in '%s' could be fitted",
                                campaign->path);
         goto fail;
+    }
+
+    /* A rate ranking far outside every sample's measured range is a guess,
+       not a measurement: refuse it unless the caller lifted the limit. */
+    if (want_T && opt.by == ARRANK_BY_RATE) {
+        st = check_extrapolation(a, n_fitted, opt.max_extrapolation_K, err);
+        if (st != ARRANK_OK)
+            goto fail;
     }
 
     /* Rank the fitted samples; ranking by rate needs an operating temperature. */

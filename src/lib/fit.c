@@ -679,6 +679,11 @@ void arrank_predict_fill(double temp_K, double confidence, double dof, double T_
     pred->rate_hi = exp(ln_r + t * se);
     pred->extrapolated = temp_K < T_min_K * (1.0 - EXTRAPOLATION_REL_TOL) ||
                          temp_K > T_max_K * (1.0 + EXTRAPOLATION_REL_TOL);
+    /* how far out, in kelvin and against the span measured */
+    const double out_K = temp_K < T_min_K ? T_min_K - temp_K : temp_K > T_max_K ? temp_K - T_max_K : 0.0;
+    pred->extrapolation_K = pred->extrapolated ? out_K : 0.0;
+    pred->extrapolation_rel =
+        pred->extrapolated && T_max_K > T_min_K ? out_K / (T_max_K - T_min_K) : 0.0;
 }
 
 arrank_status arrank_fit_predict(const arrank_arrhenius *fit, double temp_K, double confidence,
