@@ -153,4 +153,8 @@ expect_eq "--at 300C (at the edge of the ranges): ranks without --extrapolate" "
 "$A" rank "$DEMO" --at 270C --by EA >/dev/null 2>&1; st=$?
 expect_eq "--by EA: case does not matter" "$st" 0
 
+"$A" rank "$DEMO" --at 270C --conversion-limit 5 >/dev/null 2>"$T/err"; st=$?
+expect_eq "--conversion-limit 5: usage error" "$st" 2
+ok_if "--conversion-limit 5: says 5% or 0.05" grep -q "for 5 % write 5% or 0.05" "$T/err"
+
 tap_plan

@@ -107,7 +107,13 @@ static int parse_fraction(const char *name, const char *text, double *out)
     else if (end == text || *end)
         v = NAN;
     if (errno || !(v > 0.0 && v < 1.0)) {
-        cli_fail("%s '%s' must be a fraction between 0 and 1, e.g. 0.95 or 95%%", name, text);
+        /* "5" for 5 %: say both readings rather than guess */
+        if (isfinite(v) && v >= 1.0 && v < 100.0 && *end == '\0')
+            cli_fail("%s '%s' must be a fraction between 0 and 1: for %s %% write %s%% or %g",
+                     name, text, text, text, v / 100.0);
+        else
+            cli_fail("%s '%s' must be a fraction between 0 and 1, e.g. 0.95 or 95%%", name,
+                     text);
         return EXIT_USAGE;
     }
     *out = v;
