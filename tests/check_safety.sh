@@ -107,6 +107,26 @@ expect_eq "gnuplot runs in a private folder made by mkdtemp" "$gp_private" yes
 ok_if "gnuplot's script names no path outside its folder" \
     sh -c "! grep '^set output' '$T/gp.script' | grep -q /"
 
+# ---- outputs never collide: two campaigns in folders of the same name -----
+AA=$(cd "$(dirname "$A")" && pwd)/$(basename "$A") # the program, from another folder
+mkdir -p "$T/co/2026-03" "$T/co/2026-05"
+cp -r "$DEMO" "$T/co/2026-03/screen"
+cp -r "$DEMO" "$T/co/2026-05/screen"
+(cd "$T/co" && "$AA" plot 2026-03/screen --at 270C >/dev/null 2>&1); st=$?
+expect_eq "collision: the first campaign plots into plots/screen" "$st" 0
+before_co=$(sums "$T/co/plots/screen")
+(cd "$T/co" && "$AA" plot 2026-05/screen --at 270C >/dev/null 2>"$T/err"); st=$?
+expect_eq "collision: another campaign into the same default folder is refused (exit 2)" "$st" 2
+ok_if "collision: the message names both campaigns and --out" \
+    sh -c "grep -q '2026-03/screen.*2026-05/screen.*--out' '$T/err'"
+(cd "$T/co" && "$AA" report 2026-05/screen --at 270C >/dev/null 2>&1); st=$?
+expect_eq "collision: report into that folder is refused too" "$st" 2
+expect_eq "collision: the first campaign's figures are untouched" "$(sums "$T/co/plots/screen")" "$before_co"
+(cd "$T/co" && "$AA" report 2026-03/screen --at 270C >/dev/null 2>&1); st=$?
+expect_eq "collision: the same campaign again is fine" "$st" 0
+(cd "$T/co" && "$AA" plot 2026-05/screen --at 270C --out plots/screen >/dev/null 2>&1); st=$?
+expect_eq "collision: an explicit --out is the user's choice" "$st" 0
+
 # ---- messages: text from files cannot reach the terminal raw ----------------
 mkdir "$T/esc"
 printf '# sample = X\033[2J\n# mass = 40 mg\nT [degC],rate [umol/(g*s)]\n231,0.4\n245,0.8\n' \

@@ -130,6 +130,17 @@ unsigned cli_plot_formats(const cli_args *args);
  * destination (-1 or an exit status, printed).
  */
 void cli_stage_begin(const arrank_campaign *campaign);
+
+/* The file in an output folder that names the campaign its outputs belong to
+   (the campaign folder's absolute path, one line). */
+#define CLI_CAMPAIGN_MARK ".arrank.campaign"
+
+/* Outputs that never collide: when dir is the default output folder
+   (is_default), refuse if it holds another campaign's outputs (EXIT_USAGE,
+   printed, naming both), else record this campaign in the staged private
+   folder priv.  A folder named with --out is left as the user chose it.
+   -1 when the run may go on. */
+int cli_stage_claim(const char *dir, const char *priv, int is_default);
 int cli_stage_check(const char *path, int is_dir);
 FILE *cli_stage_file(const char *path, int *rc);
 const char *cli_stage_dir(const char *dir, int *rc);

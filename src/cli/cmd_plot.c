@@ -121,6 +121,8 @@ int cmd_plot(int argc, char **argv)
     cli_stage_begin(s.campaign);
     const char *priv = cli_stage_dir(dir, &rc);
     if (priv)
+        rc = cli_stage_claim(dir, priv, args.out_dir == NULL);
+    if (rc == -1)
         rc = save(&s, priv, "results.json", ARRANK_OUTPUT_JSON);
     if (rc == -1)
         rc = save(&s, priv, "results.csv", ARRANK_OUTPUT_CSV);

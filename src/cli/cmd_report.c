@@ -99,8 +99,12 @@ int cmd_report(int argc, char **argv)
     }
     cli_stage_begin(s.campaign);
     const char *priv = cli_stage_dir(dir, &rc);
-    if (!priv)
+    if (priv)
+        rc = cli_stage_claim(dir, priv, args.out_dir == NULL);
+    if (rc != -1) {
+        cli_stage_abort();
         goto done;
+    }
     cli_report_unfitted(&s);
     sprintf(path, "%s/report.html", priv);
     arrank_report_options ro = arrank_report_defaults();

@@ -365,6 +365,18 @@ static int make_folders(const char *dir)
     }
 }
 
+/* 1 for an entry of a private folder that belongs in the destination: not
+   . or .., not a writer's own hidden temporary (".arrank-*", ".*.tmp"). */
+static int moved_name(const char *name)
+{
+    if (name[0] != '.')
+        return 1;
+    size_t n = strlen(name);
+    return strcmp(name, CLI_CAMPAIGN_MARK) == 0 ||
+           !(n <= 2 || strncmp(name, ".arrank-", 8) == 0 ||
+             (n > 4 && strcmp(name + n - 4, ".tmp") == 0));
+}
+
 /* 0 when dest may be replaced by a rename (absent, or a plain file); else
    prints why and returns EXIT_IO. */
 static int replaceable(const char *dest)
@@ -398,7 +410,7 @@ static int preflight(void)
         DIR *d = opendir(it->temp);
         struct dirent *e;
         while (d && (e = readdir(d))) {
-            if (e->d_name[0] == '.')
+            if (!moved_name(e->d_name))
                 continue;
             snprintf(to, sizeof to, "%s/%s", it->final, e->d_name);
             if (replaceable(to)) {
@@ -450,7 +462,7 @@ static int move_folder(const stage_item *it)
     struct dirent *e;
     char from[PATH_MAX], to[PATH_MAX];
     while ((e = readdir(d))) {
-        if (e->d_name[0] == '.')
+        if (!moved_name(e->d_name))
             continue; /* ., .., and the writers' own hidden temporaries */
         snprintf(from, sizeof from, "%s/%s", it->temp, e->d_name);
         snprintf(to, sizeof to, "%s/%s", it->final, e->d_name);
@@ -523,4 +535,35 @@ void cli_stage_abort(void)
     }
     stage.n = 0;
     sigprocmask(SIG_SETMASK, &old, NULL);
+}
+
+/* ---- whose folder ---------------------------------------------------------- */
+
+int cli_stage_claim(const char *dir, const char *priv, int is_default)
+{
+    const char *mine = stage.campaign_real[0] ? stage.campaign_real : NULL;
+    if (!mine || !is_default) /* a folder named with --out is the user's choice */
+        return -1;
+    char path[PATH_MAX], theirs[PATH_MAX];
+    snprintf(path, sizeof path, "%s/%s", dir, CLI_CAMPAIGN_MARK);
+    FILE *f = fopen(path, "r");
+    if (f) {
+        size_t n = fread(theirs, 1, sizeof theirs - 1, f);
+        fclose(f);
+        theirs[n] = '\0';
+        theirs[strcspn(theirs, "\n")] = '\0';
+        if (theirs[0] && strcmp(theirs, mine) != 0) {
+            cli_fail("%s holds the outputs of the campaign '%s', not of '%s'; give --out to "
+                     "write this one elsewhere",
+                     dir, theirs, mine);
+            return EXIT_USAGE;
+        }
+    }
+    snprintf(path, sizeof path, "%s/%s", priv, CLI_CAMPAIGN_MARK);
+    f = fopen(path, "w");
+    if (!f || fprintf(f, "%s\n", mine) < 0 || fclose(f) != 0) {
+        cli_fail("%s: cannot write: %s", path, strerror(errno));
+        return EXIT_IO;
+    }
+    return -1;
 }
