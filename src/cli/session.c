@@ -171,6 +171,15 @@ void cli_report_unfitted(const cli_session *s)
     }
 }
 
+int cli_outputs_to_stdout(const cli_args *args)
+{
+    const char *paths[] = {args->json_path, args->csv_path, args->points_path};
+    for (size_t i = 0; i < sizeof paths / sizeof *paths; i++)
+        if (paths[i] && strcmp(paths[i], "-") == 0)
+            return 1;
+    return 0;
+}
+
 int cli_write_outputs(const cli_args *args, const cli_session *s)
 {
     arrank_error err;
@@ -178,8 +187,11 @@ int cli_write_outputs(const cli_args *args, const cli_session *s)
     const struct {
         const char *path;
         arrank_output_format format;
-    } out[] = {{args->json_path, ARRANK_OUTPUT_JSON}, {args->csv_path, ARRANK_OUTPUT_CSV}};
-    for (size_t i = 0; i < 2; i++) {
+    } out[] = {{args->json_path,
+                args->json_points ? ARRANK_OUTPUT_JSON_POINTS : ARRANK_OUTPUT_JSON},
+               {args->csv_path, ARRANK_OUTPUT_CSV},
+               {args->points_path, ARRANK_OUTPUT_POINTS}};
+    for (size_t i = 0; i < sizeof out / sizeof *out; i++) {
         if (!out[i].path)
             continue;
         arrank_status st = arrank_output_save(s->analysis, out[i].format, out[i].path, &err);
@@ -200,8 +212,7 @@ int cli_analyse_and_print(cli_args *args, int need_T)
     arrank_error err;
     arrank_error_clear(&err);
     /* JSON or CSV on stdout replaces the table there */
-    int to_stdout = (args->json_path && strcmp(args->json_path, "-") == 0) ||
-                    (args->csv_path && strcmp(args->csv_path, "-") == 0);
+    int to_stdout = cli_outputs_to_stdout(args);
     if (!to_stdout) {
         arrank_status st = arrank_output_write(s.analysis, ARRANK_OUTPUT_TABLE, stdout, &err);
         if (st == ARRANK_OK && fflush(stdout) != 0)

@@ -1,0 +1,33 @@
+/*
+ * files.h - writing an output file atomically (files.c): temporary file in
+ * the target's folder, fsync, rename.  Inside libarrank only; the public
+ * entry is arrank_output_save_with (arrank/output.h).
+ */
+#ifndef ARRANK_FILES_H
+#define ARRANK_FILES_H
+
+#include <stdio.h>
+
+#include "arrank/error.h"
+
+/* Produces the content on stream; EIO on a write error. */
+typedef arrank_status (*arrank_files_writer)(FILE *stream, void *ctx, arrank_error *err);
+
+/*
+ * Write to path through writer(stream, ctx, err): atomically (temp file +
+ * fsync + rename) for a regular file, in place for a device or pipe, to
+ * stdout when path is "-".  Parent folders are created.  EIO with the path on
+ * failure; nothing is left behind.
+ */
+arrank_status arrank_files_save(const char *path, arrank_files_writer writer, void *ctx,
+                                arrank_error *err);
+
+/* One CSV field and its separator (',' or, when last, a line break): quoted
+   (RFC 4180, libcsv) only when it holds a comma, quote, line break or edge
+   space, so numbers stay plain for spreadsheets and scripts. */
+void arrank_files_csv_field(FILE *f, const char *s, int last);
+
+/* A number as a CSV field, "%.10g" (empty when not finite). */
+void arrank_files_csv_num(FILE *f, double v, int last);
+
+#endif
