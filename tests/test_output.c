@@ -200,6 +200,8 @@ static void make_fake(fake *fk, size_t n, int ranked, int with_T, int with_stats
         arrank_arrhenius *f = &res->fit;
         f->n = rng_next() % 4 == 0 ? s->n_points - 1 - rng_next() % 2 : s->n_points;
         f->dof = (double)f->n - 2.0;
+        /* the pipeline's quantile (analysis.c), which the table reads */
+        res->t_quantile = arrank_t_quantile(a->options.confidence, f->dof);
         f->T_min_K = odd_sometimes(300.0 + 400.0 * uniform01(&rng_state));
         f->T_max_K = odd_sometimes(f->T_min_K + 200.0 * uniform01(&rng_state));
         f->ea_J_mol = odd_sometimes(log_uniform(3.0, 5.7) * (rng_next() % 10 ? 1.0 : -1.0));
