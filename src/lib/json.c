@@ -17,6 +17,7 @@
 #include <string.h>
 
 #include "arrank/version.h"
+#include "util.h"
 #include "internal.h" /* arrank_diagnosis_json, arrank_sample_stats_json, arrank_rank_stats_json */
 
 static const char *by_name(arrank_rank_by by)
@@ -201,50 +202,138 @@ static json_t *analysis_json(const arrank_analysis *a)
 #define JSON_FLAGS (JSON_INDENT(2) | JSON_REAL_PRECISION(15) | JSON_PRESERVE_ORDER)
 #define SAMPLE_INDENT "\n    " /* a sample's lines sit 4 spaces in, inside "samples" */
 
-/* A growing text: one sample's JSON, indented to its depth. */
+/* A growing text: samples' JSON, indented to their depth. */
 typedef struct {
     char *mem;
     size_t n, cap;
 } text_buf;
 
+/* Room for need more bytes; -1 when out of memory. */
+static int text_room(text_buf *b, size_t need)
+{
+    if (b->cap - b->n >= need)
+        return 0;
+    size_t cap = b->cap ? 2 * b->cap : (size_t)1 << 16;
+    while (cap - b->n < need)
+        cap *= 2;
+    char *m = realloc(b->mem, cap);
+    if (!m)
+        return -1;
+    b->mem = m;
+    b->cap = cap;
+    return 0;
+}
+
 static int text_put(text_buf *b, const char *s, size_t len)
 {
-    if (b->cap - b->n < len) {
-        size_t cap = b->cap ? 2 * b->cap : 8192;
-        while (cap - b->n < len)
-            cap *= 2;
-        char *m = realloc(b->mem, cap);
-        if (!m)
-            return -1;
-        b->mem = m;
-        b->cap = cap;
-    }
+    if (text_room(b, len))
+        return -1;
     memcpy(b->mem + b->n, s, len);
     b->n += len;
     return 0;
 }
 
 /* json_dump_callback's sink: every line break (jansson writes none inside a
-   string, where it escapes them) gets the sample's indentation after it. */
+   string, where it escapes them) gets the sample's indentation after it.
+   jansson hands over a token at a time, so the bytes are copied one by one
+   into room for the worst case (every byte a line break). */
 static int indent_sink(const char *s, size_t len, void *data)
 {
     text_buf *b = data;
-    for (const char *nl; len && (nl = memchr(s, '\n', len)) != NULL;) {
-        size_t k = (size_t)(nl - s);
-        if (text_put(b, s, k) || text_put(b, SAMPLE_INDENT, sizeof SAMPLE_INDENT - 1))
-            return -1;
-        s = nl + 1;
-        len -= k + 1;
+    const size_t step = sizeof SAMPLE_INDENT - 1;
+    if (text_room(b, len * step))
+        return -1;
+    char *p = b->mem + b->n;
+    for (size_t k = 0; k < len; k++) {
+        if (s[k] == '\n') {
+            memcpy(p, SAMPLE_INDENT, step);
+            p += step;
+        } else {
+            *p++ = s[k];
+        }
     }
-    return text_put(b, s, len);
+    b->n = (size_t)(p - b->mem);
+    return 0;
+}
+
+/* One sample's text, its separator first, appended to b; -1 when out of memory. */
+static int sample_text(const arrank_analysis *a, size_t i, int detail, text_buf *b)
+{
+    json_t *o = sample_json(a, &a->results[i], detail);
+    int bad = !o || text_put(b, i ? "," SAMPLE_INDENT : SAMPLE_INDENT,
+                             (i ? 1 : 0) + sizeof SAMPLE_INDENT - 1) ||
+              json_dump_callback(o, indent_sink, b, JSON_FLAGS) != 0;
+    json_decref(o);
+    return bad ? -1 : 0;
+}
+
+/*
+ * The samples are built and dumped on the workers (util.c), JSON_BLOCK at a
+ * time: each worker writes a contiguous share of the block into its own
+ * buffer and the buffers are written in order, so the file is the same for
+ * any number of workers (tests/test_workers.c).  A block bounds the memory
+ * held to a few megabytes whatever the campaign's size.
+ */
+#define JSON_BLOCK 2048
+#define JSON_MIN_PER_WORKER 64
+#define JSON_MAX_WORKERS 8
+
+typedef struct {
+    const arrank_analysis *a;
+    int detail;
+    size_t from, to, workers;
+    text_buf out[JSON_MAX_WORKERS];
+    int nomem[JSON_MAX_WORKERS];
+} json_job;
+
+static void json_worker(void *ctx, size_t w)
+{
+    json_job *j = ctx;
+    size_t n = j->to - j->from, share = (n + j->workers - 1) / j->workers;
+    size_t lo = j->from + w * share, hi = lo + share < j->to ? lo + share : j->to;
+    j->out[w].n = 0;
+    for (size_t i = lo; i < hi && !j->nomem[w]; i++)
+        j->nomem[w] = sample_text(j->a, i, j->detail, &j->out[w]) != 0;
+}
+
+static arrank_status write_samples(const arrank_analysis *a, int detail, FILE *f,
+                                   arrank_error *err)
+{
+    json_job *j = calloc(1, sizeof *j);
+    if (!j)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    j->a = a;
+    j->detail = detail;
+    j->workers = arrank_workers_for(a->n_results, JSON_MIN_PER_WORKER);
+    if (j->workers > JSON_MAX_WORKERS)
+        j->workers = JSON_MAX_WORKERS;
+    arrank_status st = ARRANK_OK;
+    for (size_t from = 0; from < a->n_results && st == ARRANK_OK; from += JSON_BLOCK) {
+        j->from = from;
+        j->to = from + JSON_BLOCK < a->n_results ? from + JSON_BLOCK : a->n_results;
+        if (j->workers > 1)
+            arrank_workers_run(j->workers, json_worker, j);
+        else
+            json_worker(j, 0);
+        for (size_t w = 0; w < j->workers && st == ARRANK_OK; w++) {
+            if (j->nomem[w])
+                st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+            else
+                fwrite(j->out[w].mem, 1, j->out[w].n, f);
+        }
+    }
+    for (size_t w = 0; w < j->workers; w++)
+        free(j->out[w].mem);
+    free(j);
+    return st;
 }
 
 /*
  * The document is streamed: what comes before and after the samples is
- * dumped once with an empty "samples" array and split there, and each sample
- * is built, dumped (indented to its depth: jansson indents by nesting only,
- * so the bytes are those of one whole dump) and written before the next is
- * built.  Memory holds one sample at a time, whatever the campaign's size.
+ * dumped once with an empty "samples" array and split there, and the samples
+ * are built, dumped (indented to their depth: jansson indents by nesting
+ * only, so the bytes are those of one whole dump) and written a block at a
+ * time.  Memory holds one block, whatever the campaign's size.
  */
 static arrank_status write_json(const arrank_analysis *a, FILE *f, int detail, arrank_error *err)
 {
@@ -259,21 +348,7 @@ static arrank_status write_json(const arrank_analysis *a, FILE *f, int detail, a
     }
     size_t head = (size_t)(at - text) + sizeof placeholder - 2; /* up to and with the '[' */
     fwrite(text, 1, head, f);
-    arrank_status st = ARRANK_OK;
-    text_buf b = {0};
-    for (size_t i = 0; i < a->n_results && st == ARRANK_OK; i++) {
-        json_t *o = sample_json(a, &a->results[i], detail);
-        b.n = 0;
-        int bad = !o || text_put(&b, i ? "," SAMPLE_INDENT : SAMPLE_INDENT,
-                                 (i ? 1 : 0) + sizeof SAMPLE_INDENT - 1) ||
-                  json_dump_callback(o, indent_sink, &b, JSON_FLAGS) != 0;
-        json_decref(o);
-        if (bad)
-            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-        else
-            fwrite(b.mem, 1, b.n, f);
-    }
-    free(b.mem);
+    arrank_status st = write_samples(a, detail, f, err);
     if (st == ARRANK_OK) {
         if (a->n_results)
             fputs("\n  ", f);

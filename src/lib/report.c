@@ -42,7 +42,7 @@
 #include "arrank/fit.h"
 #include "arrank/rank.h"
 #include "arrank/version.h"
-#include "internal.h"
+#include "util.h"
 
 #define ZERO_C_K 273.15 /* 0 degC in K, exact by definition */
 
@@ -744,7 +744,7 @@ static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure
         return;
     }
     const arrank_arrhenius *fit = &r->fit;
-    double t = arrank_t_quantile(a->options.confidence, fit->dof);
+    const double t = r->t_quantile; /* the pipeline's (analysis.c) */
     fprintf(f, "<table><thead><tr><th>quantity</th><th>estimate</th><th>%.4g %% interval</th>"
                "</tr></thead><tbody>\n",
             100 * a->options.confidence);
