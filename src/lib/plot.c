@@ -428,15 +428,16 @@ int arrank_plot_point_used(const arrank_result *r, size_t k)
 /* Write the points of sample i that pass the filter as the data block
    $<tag><i>: columns 1000/T [1/K], ln r, sd of ln r (sd/r, delta method).
    Returns the count; writes nothing when it is 0. */
-size_t arrank_plot_block_points(FILE *f, const arrank_result *r, size_t i, const char *tag, int used,
-                           int with_sd)
+size_t arrank_plot_block_points(FILE *f, const arrank_result *r, size_t i, const char *tag,
+                                int used, int with_sd)
 {
     size_t n = 0;
     const arrank_sample *smp = r->sample;
     for (size_t k = 0; k < smp->n_points; k++) {
         const arrank_point *p = &smp->points[k];
         int has_sd = isfinite(p->rate_sd) && p->rate_sd > 0;
-        if (!arrank_plot_usable_point(p) || arrank_plot_point_used(r, k) != used || has_sd != with_sd)
+        if (!arrank_plot_usable_point(p) || arrank_plot_point_used(r, k) != used ||
+            has_sd != with_sd)
             continue;
         if (n == 0)
             fprintf(f, "$%s%zu << EOD\n", tag, i);

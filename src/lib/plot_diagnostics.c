@@ -92,7 +92,8 @@ static void block_residuals(FILE *f, const arrank_result *r, size_t i,
             size_t n = 0;
             for (size_t k = 0; k < smp->n_points; k++) {
                 const arrank_point *p = &smp->points[k];
-                if (!arrank_plot_usable_point(p) || arrank_plot_point_used(r, k) == out || regime_of(r, k) != m)
+                if (!arrank_plot_usable_point(p) || arrank_plot_point_used(r, k) == out ||
+                    regime_of(r, k) != m)
                     continue;
                 if (n == 0) {
                     if (m < 0)
@@ -212,57 +213,34 @@ static size_t block_runs(FILE *f, const arrank_result *r, size_t i, int *drawn)
 #define DIAG_RIGHT_L 0.615
 #define DIAG_RIGHT_R 0.975
 
-void arrank_plot_fig_diagnostics(script *s, size_t i)
+/* What both panels of a sample's diagnostics need. */
+typedef struct {
+    const arrank_result *r;
+    const char *c;                    /* the sample's colour */
+    double conf_pc;                   /* the confidence level in percent */
+    size_t cnt[2 * (N_REGIMES + 1)];  /* points per regime mark, in the fit and left out */
+    size_t nloc, n_runs, n_hcv, n_olr;
+    int run_drawn[MAX_RUN_LINES];
+    int has_window, any_pore, any_out;
+    double win_lo_K, win_hi_K;
+    double xa, xb, xp, ca, cb, cp;    /* the panels' spans: 1000/T and degC, with padding */
+    double ea;                        /* the fitted Ea, kJ/mol */
+} diag_panels;
+
+/* Left panel: residuals against 1000/T, degC along the top, with the +-2 s
+   lines; marker shape by regime, open when left out of the fit. */
+static void diag_left(script *s, size_t i, const diag_panels *dp)
 {
     FILE *f = s->f;
-    const arrank_analysis *a = s->a;
-    const arrank_result *r = &a->results[i];
+    const diag_panels *P = dp;
+    const arrank_result *r = P->r;
     const arrank_arrhenius *fit = &r->fit;
-    const arrank_sample *smp = r->sample;
     const arrank_diagnosis *d = r->diagnosis;
-    const char *c = arrank_plot_color(i);
-    double conf_pc = 100.0 * a->options.confidence;
-
-    size_t cnt[2 * (N_REGIMES + 1)];
-    block_residuals(f, r, i, cnt);
-    size_t nloc = block_local_ea(f, r, i);
-    int run_drawn[MAX_RUN_LINES] = {0};
-    size_t n_runs = block_runs(f, r, i, run_drawn);
-    size_t n_hcv = block_marked(f, r, i, 0), n_olr = block_marked(f, r, i, 1);
-    double win_lo_K = NAN, win_hi_K = NAN;
-    int has_window = kinetic_window(r, &win_lo_K, &win_hi_K);
-    int any_pore = 0, any_out = 0;
-    for (size_t m = 0; m <= N_REGIMES; m++)
-        any_out |= cnt[2 * m + 1] > 0;
-    for (size_t m = 0; m < N_REGIMES; m++)
-        if (regime_marks[m].regime == ARRANK_REGIME_PORE)
-            any_pore = cnt[2 * (m + 1)] + cnt[2 * (m + 1) + 1] > 0;
-
-    /* Both panels span the sample's points with 5 % to spare. */
-    double t_lo = INFINITY, t_hi = -INFINITY;
-    for (size_t k = 0; k < smp->n_points; k++)
-        if (arrank_plot_usable_point(&smp->points[k])) {
-            t_lo = fmin(t_lo, smp->points[k].temp_K);
-            t_hi = fmax(t_hi, smp->points[k].temp_K);
-        }
-    double xa = X_SCALE / t_hi, xb = X_SCALE / t_lo, xp = 0.05 * (xb - xa);
-    double ca = t_lo - ZERO_C_K, cb = t_hi - ZERO_C_K, cp = 0.05 * (cb - ca);
-
-    /* The fitted Ea and its interval over the fit's range; a thin dashed
-       line carries it across the panel for comparison. */
-    const double t = r->t_quantile; /* the pipeline's (analysis.c) */
-    double ea = fit->ea_J_mol / 1000.0, w = isfinite(t) ? t * fit->ea_se_J_mol / 1000.0 : 0.0;
-    fprintf(f, "$eab%zu << EOD\n%.9g %.9g %.9g %.9g\n%.9g %.9g %.9g %.9g\nEOD\n", i,
-            fit->T_min_K - ZERO_C_K, ea, ea - w, ea + w, fit->T_max_K - ZERO_C_K, ea, ea - w,
-            ea + w);
-
-    fputs("set multiplot title ", f);
-    arrank_plot_put_qf(f, "Diagnostics: %s", arrank_plot_sample_name(r));
-    fprintf(f, " font ',%d'\n", arrank_plot_font_of(s, 1.1));
-    fprintf(f, "set tmargin at screen %.3f\nset bmargin at screen %.3f\n", DIAG_TOP, DIAG_BOTTOM);
-
-    /* Left: residuals against 1000/T, degC along the top, with the +-2 s
-       lines; marker shape by regime, open when left out of the fit. */
+    const char *c = P->c;
+    const size_t *cnt = P->cnt, n_runs = P->n_runs, n_hcv = P->n_hcv, n_olr = P->n_olr;
+    const int *run_drawn = P->run_drawn, has_window = P->has_window, any_out = P->any_out;
+    const double win_lo_K = P->win_lo_K, win_hi_K = P->win_hi_K;
+    const double xa = P->xa, xb = P->xb, xp = P->xp;
     fprintf(f, "set lmargin at screen %.3f\nset rmargin at screen %.3f\n", DIAG_LEFT_L,
             DIAG_LEFT_R);
     /* Panel headings at one height over both panels (a title would sit
@@ -285,8 +263,8 @@ void arrank_plot_fig_diagnostics(script *s, size_t i)
         fprintf(f, "set xrange [%.9g:%.9g]\nset xtics %.9g\n", xa - xp, xb + xp,
                 arrank_plot_nice_step(xb - xa + 2 * xp, 5.0));
         fputs("set link x2 via 1000./x - 273.15 inverse 1000./(x + 273.15)\n", f);
-        arrank_plot_put_celsius_tics(f, X_SCALE / (xb + xp) - ZERO_C_K, X_SCALE / (xa - xp) - ZERO_C_K,
-                         6.0);
+        arrank_plot_put_celsius_tics(f, X_SCALE / (xb + xp) - ZERO_C_K,
+                                     X_SCALE / (xa - xp) - ZERO_C_K, 6.0);
     }
     if (has_window) {
         double pad = 0.012 * (xb - xa + 2 * xp);
@@ -355,12 +333,26 @@ void arrank_plot_fig_diagnostics(script *s, size_t i)
         arrank_plot_next_elem(f, &first);
         fputs("keyentry with filledcurves fc rgb '" WINDOW_FILL "' fs solid 1.0 noborder "
               "title ", f);
-        arrank_plot_put_qf(f, "kinetic window %.0f–%.0f °C", win_lo_K - ZERO_C_K, win_hi_K - ZERO_C_K);
+        arrank_plot_put_qf(f, "kinetic window %.0f–%.0f °C", win_lo_K - ZERO_C_K,
+                           win_hi_K - ZERO_C_K);
     }
     fputs("\n", f);
 
-    /* Right: the diagnosis's local apparent Ea windows against T, with the
-       fitted Ea and its interval. */
+}
+
+/* Right panel: the diagnosis's local apparent Ea windows against T, with
+   the fitted Ea and its interval. */
+static void diag_right(script *s, size_t i, const diag_panels *dp)
+{
+    FILE *f = s->f;
+    const diag_panels *P = dp;
+    const arrank_diagnosis *d = P->r->diagnosis;
+    const char *c = P->c;
+    const size_t nloc = P->nloc;
+    const int has_window = P->has_window, any_pore = P->any_pore;
+    const double win_lo_K = P->win_lo_K, win_hi_K = P->win_hi_K, ea = P->ea, conf_pc = P->conf_pc;
+    const double ca = P->ca, cb = P->cb, cp = P->cp;
+    int first = 1;
     fputs("unset object 1\nunset arrow\nunset link x2\nunset x2tics\nunset x2label\n"
           "set xtics mirror\n",
           f);
@@ -386,10 +378,10 @@ void arrank_plot_fig_diagnostics(script *s, size_t i)
         fprintf(f, "set label 7 'local apparent Ea not shown: diagnostics turned off' at "
                    "graph 0.5, graph 0.93 center font ',%d' tc rgb '#444444' front\n",
                 arrank_plot_font_of(s, 0.8));
-    first = 1;
     arrank_plot_next_elem(f, &first);
     fprintf(f, "$eab%zu using 1:3:4 with filledcurves lc rgb '%s' title ", i, c);
-    arrank_plot_put_qf(f, "fitted Ea%s, %.4g %% interval", has_window ? " (kinetic window)" : "", conf_pc);
+    arrank_plot_put_qf(f, "fitted Ea%s, %.4g %% interval", has_window ? " (kinetic window)" : "",
+                       conf_pc);
     arrank_plot_next_elem(f, &first);
     fprintf(f, "$eab%zu using 1:2 with lines lw 2.2 lc rgb '%s'", i, c);
     arrank_plot_next_elem(f, &first);
@@ -412,5 +404,57 @@ void arrank_plot_fig_diagnostics(script *s, size_t i)
               "title 'kinetic window'", f);
     }
     fputs("\nunset multiplot\n", f);
+}
+
+void arrank_plot_fig_diagnostics(script *s, size_t i)
+{
+    FILE *f = s->f;
+    const arrank_analysis *a = s->a;
+    const arrank_result *r = &a->results[i];
+    const arrank_arrhenius *fit = &r->fit;
+    const arrank_sample *smp = r->sample;
+    diag_panels dp = {.r = r, .c = arrank_plot_color(i), .conf_pc = 100.0 * a->options.confidence,
+                      .win_lo_K = NAN, .win_hi_K = NAN};
+    block_residuals(f, r, i, dp.cnt);
+    dp.nloc = block_local_ea(f, r, i);
+    dp.n_runs = block_runs(f, r, i, dp.run_drawn);
+    dp.n_hcv = block_marked(f, r, i, 0);
+    dp.n_olr = block_marked(f, r, i, 1);
+    dp.has_window = kinetic_window(r, &dp.win_lo_K, &dp.win_hi_K);
+    for (size_t m = 0; m <= N_REGIMES; m++)
+        dp.any_out |= dp.cnt[2 * m + 1] > 0;
+    for (size_t m = 0; m < N_REGIMES; m++)
+        if (regime_marks[m].regime == ARRANK_REGIME_PORE)
+            dp.any_pore = dp.cnt[2 * (m + 1)] + dp.cnt[2 * (m + 1) + 1] > 0;
+
+    /* Both panels span the sample's points with 5 % to spare. */
+    double t_lo = INFINITY, t_hi = -INFINITY;
+    for (size_t k = 0; k < smp->n_points; k++)
+        if (arrank_plot_usable_point(&smp->points[k])) {
+            t_lo = fmin(t_lo, smp->points[k].temp_K);
+            t_hi = fmax(t_hi, smp->points[k].temp_K);
+        }
+    dp.xa = X_SCALE / t_hi;
+    dp.xb = X_SCALE / t_lo;
+    dp.xp = 0.05 * (dp.xb - dp.xa);
+    dp.ca = t_lo - ZERO_C_K;
+    dp.cb = t_hi - ZERO_C_K;
+    dp.cp = 0.05 * (dp.cb - dp.ca);
+
+    /* The fitted Ea and its interval over the fit's range; a thin dashed
+       line carries it across the panel for comparison. */
+    const double t = r->t_quantile; /* the pipeline's (analysis.c) */
+    double ea = fit->ea_J_mol / 1000.0, w = isfinite(t) ? t * fit->ea_se_J_mol / 1000.0 : 0.0;
+    dp.ea = ea;
+    fprintf(f, "$eab%zu << EOD\n%.9g %.9g %.9g %.9g\n%.9g %.9g %.9g %.9g\nEOD\n", i,
+            fit->T_min_K - ZERO_C_K, ea, ea - w, ea + w, fit->T_max_K - ZERO_C_K, ea, ea - w,
+            ea + w);
+
+    fputs("set multiplot title ", f);
+    arrank_plot_put_qf(f, "Diagnostics: %s", arrank_plot_sample_name(r));
+    fprintf(f, " font ',%d'\n", arrank_plot_font_of(s, 1.1));
+    fprintf(f, "set tmargin at screen %.3f\nset bmargin at screen %.3f\n", DIAG_TOP, DIAG_BOTTOM);
+    diag_left(s, i, &dp);
+    diag_right(s, i, &dp);
 }
 

@@ -15,7 +15,9 @@
 #include "arrank/rank.h"
 #include "plot_internal.h"
 
-void arrank_plot_fig_arrhenius(script *s)
+/* The Arrhenius plot's axes (1000/T below, degC above), labels, key and the
+   operating temperature's mark. */
+static void arrhenius_axes(script *s, double T_op, int show_op)
 {
     FILE *f = s->f;
     const arrank_analysis *a = s->a;
@@ -29,8 +31,6 @@ void arrank_plot_fig_arrhenius(script *s)
                 x_hi = fmax(x_hi, x);
             }
     }
-    double T_op = a->options.operating_temp_K;
-    int show_op = isfinite(T_op) && T_op > 0;
     if (show_op) {
         x_lo = fmin(x_lo, X_SCALE / T_op);
         x_hi = fmax(x_hi, X_SCALE / T_op);
@@ -52,8 +52,8 @@ void arrank_plot_fig_arrhenius(script *s)
     fputs("set link x2 via 1000./x - 273.15 inverse 1000./(x + 273.15)\n"
           "set xtics nomirror\n",
           f);
-    arrank_plot_put_celsius_tics(f, X_SCALE / (x_hi + pad) - ZERO_C_K, X_SCALE / (x_lo - pad) - ZERO_C_K,
-                     8.0);
+    arrank_plot_put_celsius_tics(f, X_SCALE / (x_hi + pad) - ZERO_C_K,
+                                 X_SCALE / (x_lo - pad) - ZERO_C_K, 8.0);
     fputs("set mytics 2\n"
           "set style fill transparent solid 0.14 noborder\n",
           f);
@@ -67,6 +67,15 @@ void arrank_plot_fig_arrhenius(script *s)
                    "tc rgb '#444444' front\n",
                 T_op - ZERO_C_K, X_SCALE / T_op);
     }
+}
+
+void arrank_plot_fig_arrhenius(script *s)
+{
+    FILE *f = s->f;
+    const arrank_analysis *a = s->a;
+    double T_op = a->options.operating_temp_K;
+    int show_op = isfinite(T_op) && T_op > 0;
+    arrhenius_axes(s, T_op, show_op);
 
     /* Data blocks first: gnuplot needs them defined before the plot command.
        Four point blocks per sample: {in the fit, left out} x {with sd, without}. */
@@ -122,7 +131,8 @@ void arrank_plot_fig_arrhenius(script *s)
                     arrank_plot_point_type(i, hollow), c);
             if (!titled) {
                 fputs(" title ", f);
-                arrank_plot_put_qf(f, "%s%s", arrank_plot_sample_name(r), arrank_plot_fitted(r) ? "" : " (not fitted)");
+                arrank_plot_put_qf(f, "%s%s", arrank_plot_sample_name(r),
+                                   arrank_plot_fitted(r) ? "" : " (not fitted)");
                 titled = 1;
             }
         }
@@ -259,6 +269,30 @@ static void put_log_tics(FILE *f, const char *axis, double lo, double hi)
         fprintf(f, "set %stics autofreq\nset format %s '%%.3g'\n", axis, axis);
 }
 
+/* Samples without a rate at T_op are named under the figure, not dropped
+   silently: at most five, then a count. */
+static void put_unranked_note(script *s)
+{
+    FILE *f = s->f;
+    const arrank_analysis *a = s->a;
+    size_t n_out = 0;
+    for (size_t i = 0; i < a->n_results; i++)
+        if (!(a->results[i].has_prediction && arrank_plot_fitted(&a->results[i]))) {
+            if (n_out == 0)
+                fputs("set label 3 'not fitted: '", f);
+            if (n_out < 5) {
+                fputs(n_out ? " . ', ' . " : " . ", f);
+                arrank_plot_put_q(f, arrank_plot_sample_name(&a->results[i]));
+            }
+            n_out++;
+        }
+    if (n_out > 5)
+        fprintf(f, " . ' (and %zu more)'", n_out - 5);
+    if (n_out)
+        fprintf(f, " at character 0.6, character 0.6 left font ',%d' tc rgb '#444444'\n",
+                arrank_plot_font_of(s, 0.7));
+}
+
 void arrank_plot_fig_rate_at_T(script *s)
 {
     FILE *f = s->f;
@@ -272,7 +306,8 @@ void arrank_plot_fig_rate_at_T(script *s)
         return;
     if (a->n_ranked > 0 && a->order) {
         for (size_t k = 0; k < a->n_ranked; k++)
-            if (a->results[a->order[k]].has_prediction && arrank_plot_fitted(&a->results[a->order[k]]))
+            if (a->results[a->order[k]].has_prediction &&
+                arrank_plot_fitted(&a->results[a->order[k]]))
                 rows[n_rows++] = a->order[k];
     } else {
         for (size_t i = 0; i < a->n_results; i++)
@@ -295,7 +330,8 @@ void arrank_plot_fig_rate_at_T(script *s)
     double widen = pow(10.0, 0.06 * (span > 0.2 ? span : 0.2));
 
     fputs("set title ", f);
-    arrank_plot_put_qf(f, "Rate at %.4g °C with %.4g %% interval", T_C, 100.0 * a->options.confidence);
+    arrank_plot_put_qf(f, "Rate at %.4g °C with %.4g %% interval", T_C,
+                       100.0 * a->options.confidence);
     fputs(" . \"\\n\" . ", f);
     arrank_plot_put_q(f, s->title);
     fputs("\nset xlabel ", f);
@@ -347,24 +383,7 @@ void arrank_plot_fig_rate_at_T(script *s)
                    "(Holm, %.4g %%)' at character 0.6, character 2.4 left font ',%d' "
                    "tc rgb '#444444'\n",
                 100.0 * a->options.confidence, arrank_plot_font_of(s, 0.7));
-    /* Samples without a rate at T_op are named under the figure, not dropped
-       silently: at most five, then a count. */
-    size_t n_out = 0;
-    for (size_t i = 0; i < a->n_results; i++)
-        if (!(a->results[i].has_prediction && arrank_plot_fitted(&a->results[i]))) {
-            if (n_out == 0)
-                fputs("set label 3 'not fitted: '", f);
-            if (n_out < 5) {
-                fputs(n_out ? " . ', ' . " : " . ", f);
-                arrank_plot_put_q(f, arrank_plot_sample_name(&a->results[i]));
-            }
-            n_out++;
-        }
-    if (n_out > 5)
-        fprintf(f, " . ' (and %zu more)'", n_out - 5);
-    if (n_out)
-        fprintf(f, " at character 0.6, character 0.6 left font ',%d' tc rgb '#444444'\n",
-                arrank_plot_font_of(s, 0.7));
+    put_unranked_note(s);
     if (any_flag)
         fprintf(f, "set label 2 'open marker: flagged (flags at right)' at character 0.6, "
                    "character 1.5 left font ',%d' tc rgb '#444444'\n",
@@ -419,8 +438,8 @@ static void put_compensation_note(FILE *f, const arrank_analysis *a, int font_pt
     fprintf(f, " at graph 0.02, graph 0.91 left font ',%d' tc rgb '#444444' front\n", font_pt);
     if (isfinite(c->T_iso_K) && c->T_iso_K > 0 && c->verdict != ARRANK_COMP_NONE) {
         fputs("set label 6 ", f);
-        arrank_plot_put_qf(f, "T_iso = %.0f K (%.0f °C); T_hm = %.0f K", c->T_iso_K, c->T_iso_K - ZERO_C_K,
-               c->T_hm_K);
+        arrank_plot_put_qf(f, "T_iso = %.0f K (%.0f °C); T_hm = %.0f K", c->T_iso_K,
+                           c->T_iso_K - ZERO_C_K, c->T_hm_K);
         fprintf(f, " at graph 0.02, graph 0.86 left font ',%d' tc rgb '#444444' front\n",
                 font_pt);
     }
