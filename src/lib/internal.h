@@ -35,6 +35,14 @@ arrank_status arrank_predict_check(int have_fit, double temp_K, double confidenc
 void arrank_predict_fill(double temp_K, double confidence, double dof, double T_min_K,
                          double T_max_K, double ln_r, double se, arrank_prediction *pred);
 
+/* ---- json.c: test switch for the record per sample ---- */
+
+/* 0 (the default): the JSON record per sample writes the sample's own keys
+   directly, with the bytes jansson would write; 1: every key through
+   jansson, as the --json-points document is written, to compare the two.
+   For tests only; not thread-safe. */
+void arrank_json_reference(int on);
+
 /* ---- campaign.c: test switch for the reader ---- */
 
 /* 1 (the default): data lines without a quote character are split directly

@@ -17,6 +17,7 @@
 #include <string.h>
 
 #include "arrank/version.h"
+#include "number.h"
 #include "util.h"
 #include "internal.h" /* arrank_diagnosis_json, arrank_sample_stats_json, arrank_rank_stats_json */
 
@@ -107,6 +108,19 @@ static void merge_diagnosis(json_t *o, const arrank_result *res, int detail)
     json_decref(diag);
 }
 
+/* The keys that follow a sample's own into o: the diagnosis's (diagnose.c:
+   excluded, kinetic window, curvature, ...) and the ranking statistics'
+   (rank.c: p_best, group, p_beats, bootstrap interval, model). */
+static void merge_rest(json_t *o, const arrank_analysis *a, const arrank_result *res, int detail)
+{
+    merge_diagnosis(o, res, detail);
+    json_t *stats = arrank_sample_stats_json(a, (size_t)(res - a->results));
+    if (stats) {
+        json_object_update(o, stats);
+        json_decref(stats);
+    }
+}
+
 static json_t *sample_json(const arrank_analysis *a, const arrank_result *res, int detail)
 {
     const double t = res->t_quantile; /* the pipeline's (analysis.c) */
@@ -158,14 +172,7 @@ static json_t *sample_json(const arrank_analysis *a, const arrank_result *res, i
     json_object_set_new(o, "notes", notes);
     if (detail)
         json_object_set_new(o, "points", points_json(res));
-    /* diagnostics (diagnose.c): excluded, kinetic window, curvature, ... */
-    merge_diagnosis(o, res, detail);
-    /* rank.c: p_best, group, p_beats, bootstrap interval, model */
-    json_t *stats = arrank_sample_stats_json(a, (size_t)(res - a->results));
-    if (stats) {
-        json_object_update(o, stats);
-        json_decref(stats);
-    }
+    merge_rest(o, a, res, detail);
     return o;
 }
 
@@ -256,9 +263,299 @@ static int indent_sink(const char *s, size_t len, void *data)
     return 0;
 }
 
+/*
+ * The record per sample written directly (the fast path): the sample's own
+ * keys go straight into the text with the bytes jansson would write for them
+ * (json_dumps with JSON_FLAGS), and only the diagnosis summary and the
+ * ranking statistics, whose keys belong to diagnose.c and rank.c, go through
+ * jansson.  Building every number as a jansson object and printing it with
+ * printf took most of the JSON's time.  The general path (jansson for
+ * everything, arrank_json_reference(1)) is kept for the test that holds the
+ * two byte for byte (tests/test_output.c).
+ */
+static int json_reference = 0;
+
+void arrank_json_reference(int on)
+{
+    json_reference = on;
+}
+
+#define KEY_INDENT "\n      "      /* a sample's keys: 6 spaces in */
+#define ELEM_INDENT "\n        "    /* the elements of their arrays: 8 */
+
+static void put_text(text_buf *b, int *bad, const char *s, size_t len)
+{
+    if (text_put(b, s, len))
+        *bad = 1;
+}
+
+#define PUT(lit) put_text(b, bad, lit, sizeof lit - 1)
+
+/* A real as jansson prints it with JSON_REAL_PRECISION(15): "%.15g" (number.c
+   writes what snprintf would), ".0" added when it has neither '.' nor 'e', the
+   exponent without '+' and leading zeros; null when not finite (jnum). */
+static void put_real(text_buf *b, int *bad, double v)
+{
+    if (!isfinite(v)) {
+        PUT("null");
+        return;
+    }
+    char buf[64];
+    int len = arrank_format_general(buf, sizeof buf - 3, 15, v);
+    if (len <= 0 || (size_t)len >= sizeof buf - 3) {
+        *bad = 1;
+        return;
+    }
+    char *e = memchr(buf, 'e', (size_t)len);
+    if (!e && !memchr(buf, '.', (size_t)len)) {
+        memcpy(buf + len, ".0", 2);
+        len += 2;
+    }
+    if (e) {
+        char *start = e + 1, *end = e + 2;
+        if (*start == '-')
+            start++;
+        while (*end == '0')
+            end++;
+        if (end != start) {
+            memmove(start, end, (size_t)(buf + len - end));
+            len -= (int)(end - start);
+        }
+    }
+    put_text(b, bad, buf, (size_t)len);
+}
+
+static void put_int(text_buf *b, int *bad, long long v)
+{
+    char buf[32];
+    int len = snprintf(buf, sizeof buf, "%lld", v);
+    put_text(b, bad, buf, (size_t)len);
+}
+
+/* Length of the valid UTF-8 sequence at s (1 to 4), 0 when invalid, as
+   jansson checks it (RFC 3629: no overlong forms, no surrogates, at most
+   U+10FFFF). */
+static size_t utf8_len(const unsigned char *s)
+{
+    unsigned c = s[0];
+    if (c < 0x80)
+        return 1;
+    size_t n = c >= 0xF0 ? 4 : c >= 0xE0 ? 3 : c >= 0xC2 ? 2 : 0;
+    if (n == 0 || c > 0xF4)
+        return 0;
+    unsigned long cp = c & (0x7F >> n);
+    for (size_t k = 1; k < n; k++) {
+        if ((s[k] & 0xC0) != 0x80)
+            return 0;
+        cp = (cp << 6) | (s[k] & 0x3F);
+    }
+    if ((n == 3 && cp < 0x800) || (n == 4 && cp < 0x10000) || cp > 0x10FFFF ||
+        (cp >= 0xD800 && cp <= 0xDFFF))
+        return 0;
+    return n;
+}
+
+/* 1 when json_string would take s (valid UTF-8). */
+static int utf8_ok(const char *s)
+{
+    for (const unsigned char *p = (const unsigned char *)s; *p;) {
+        size_t n = utf8_len(p);
+        if (!n)
+            return 0;
+        p += n;
+    }
+    return 1;
+}
+
+/* s as a JSON string, escaped as jansson escapes it: \\ \" \b \f \n \r \t
+   and \u00XX for the other control characters; UTF-8 as it stands. */
+static void put_string(text_buf *b, int *bad, const char *s)
+{
+    PUT("\"");
+    const char *run = s;
+    for (const char *p = s;; p++) {
+        unsigned char c = (unsigned char)*p;
+        if (c >= 0x20 && c != '"' && c != '\\')
+            continue;
+        put_text(b, bad, run, (size_t)(p - run));
+        if (c == '\0')
+            break;
+        char esc[8];
+        const char *t = c == '"' ? "\\\"" : c == '\\' ? "\\\\" : c == '\b' ? "\\b"
+                      : c == '\f' ? "\\f" : c == '\n' ? "\\n" : c == '\r' ? "\\r"
+                      : c == '\t' ? "\\t" : NULL;
+        if (!t) {
+            snprintf(esc, sizeof esc, "\\u%04X", (unsigned)c);
+            t = esc;
+        }
+        put_text(b, bad, t, strlen(t));
+        run = p + 1;
+    }
+    PUT("\"");
+}
+
+/* The next key of the sample; *first says whether it is the first. */
+static void put_key(text_buf *b, int *bad, int *first, const char *key)
+{
+    if (*first)
+        PUT(KEY_INDENT);
+    else
+        PUT("," KEY_INDENT);
+    *first = 0;
+    PUT("\"");
+    put_text(b, bad, key, strlen(key));
+    PUT("\": ");
+}
+
+static void key_real(text_buf *b, int *bad, int *first, const char *key, double v)
+{
+    put_key(b, bad, first, key);
+    put_real(b, bad, v);
+}
+
+static void key_pair(text_buf *b, int *bad, int *first, const char *key, double lo, double hi)
+{
+    put_key(b, bad, first, key);
+    PUT("[" ELEM_INDENT);
+    put_real(b, bad, lo);
+    PUT("," ELEM_INDENT);
+    put_real(b, bad, hi);
+    PUT(KEY_INDENT "]");
+}
+
+/* A string key: left out when s is not valid UTF-8 or NULL (json_string
+   fails and json_object_set_new sets nothing), except that NULL is null
+   where null_if_null (jstr). */
+static void key_string(text_buf *b, int *bad, int *first, const char *key, const char *s,
+                       int null_if_null)
+{
+    if (!s ? !null_if_null : !utf8_ok(s))
+        return;
+    put_key(b, bad, first, key);
+    if (s)
+        put_string(b, bad, s);
+    else
+        PUT("null");
+}
+
+/* An array of strings (flags, notes); the ones json_string refuses are left out. */
+static void key_strings(text_buf *b, int *bad, int *first, const char *key,
+                        const char *const *v, size_t n)
+{
+    put_key(b, bad, first, key);
+    size_t k = 0;
+    for (size_t i = 0; i < n; i++) {
+        if (!v[i] || !utf8_ok(v[i]))
+            continue;
+        if (k++ == 0)
+            PUT("[" ELEM_INDENT);
+        else
+            PUT("," ELEM_INDENT);
+        put_string(b, bad, v[i]);
+    }
+    if (k)
+        PUT(KEY_INDENT "]");
+    else
+        PUT("[]");
+}
+
+/* The sample's own keys, in sample_json's order. */
+static void put_own_keys(text_buf *b, int *bad, const arrank_result *res)
+{
+    const double t = res->t_quantile;
+    const arrank_sample *s = res->sample;
+    const arrank_arrhenius *f = &res->fit;
+    int ok = res->error == NULL, first = 1, *fi = &first;
+    double nan = NAN;
+    double ea = ok ? f->ea_J_mol / 1000.0 : nan, ea_se = ok ? f->ea_se_J_mol / 1000.0 : nan;
+    double lnA = ok ? f->ln_A : nan, lnA_se = ok ? f->ln_A_se : nan;
+    key_string(b, bad, fi, "id", s->id, 0);
+    key_string(b, bad, fi, "file", s->file, 0);
+    key_string(b, bad, fi, "basis", arrank_basis_name(s->basis), 0);
+    key_string(b, bad, fi, "rate_unit_in_file", s->rate_unit_file, 1);
+    put_key(b, bad, fi, "n_points");
+    put_int(b, bad, (long long)s->n_points);
+    put_key(b, bad, fi, "n_used");
+    put_int(b, bad, (long long)(ok ? f->n : res->n_used));
+    key_real(b, bad, fi, "ea_kJ_mol", ea);
+    key_real(b, bad, fi, "ea_kJ_mol_se", ea_se);
+    key_pair(b, bad, fi, "ea_kJ_mol_ci", ea - t * ea_se, ea + t * ea_se);
+    key_real(b, bad, fi, "ln_A", lnA);
+    key_real(b, bad, fi, "ln_A_se", lnA_se);
+    key_pair(b, bad, fi, "ln_A_ci", lnA - t * lnA_se, lnA + t * lnA_se);
+    key_real(b, bad, fi, "corr_ea_lnA", ok ? f->corr_ea_lnA : nan);
+    key_real(b, bad, fi, "T_ref_K", ok ? f->T_ref_K : nan);
+    key_real(b, bad, fi, "T_min_K", ok ? f->T_min_K : nan);
+    key_real(b, bad, fi, "T_max_K", ok ? f->T_max_K : nan);
+    key_real(b, bad, fi, "ln_rate_at_T_ref", ok ? f->b0 : nan);
+    key_real(b, bad, fi, "ln_rate_at_T_ref_se", ok ? sqrt(f->cov[0][0]) : nan);
+    key_real(b, bad, fi, "cov_ea_kJ_mol_ln_A", ok ? f->cov_ea_lnA_J_mol / 1000.0 : nan);
+    key_real(b, bad, fi, "dof", ok ? f->dof : nan);
+    key_real(b, bad, fi, "t_quantile", ok ? t : nan);
+    key_real(b, bad, fi, "resid_sd_ln_rate", ok ? f->resid_sd : nan);
+    key_real(b, bad, fi, "r2", ok ? f->r2 : nan);
+    put_key(b, bad, fi, "weighted");
+    if (ok && f->weighted)
+        PUT("true");
+    else
+        PUT("false");
+    key_real(b, bad, fi, "chi2_dof", ok ? f->chi2_dof : nan);
+    int pred = ok && res->has_prediction;
+    key_real(b, bad, fi, "rate_at_T", pred ? res->at_T.rate : nan);
+    key_pair(b, bad, fi, "rate_at_T_ci", pred ? res->at_T.rate_lo : nan,
+             pred ? res->at_T.rate_hi : nan);
+    key_real(b, bad, fi, "ln_rate_at_T_se", pred ? res->at_T.ln_rate_se : nan);
+    put_key(b, bad, fi, "rank");
+    if (res->rank > 0)
+        put_int(b, bad, res->rank);
+    else
+        PUT("null");
+    const char *flags[ARRANK_FLAG_COUNT];
+    size_t n_flags = 0;
+    for (unsigned bit = 1; bit && bit < (1u << ARRANK_FLAG_COUNT); bit <<= 1)
+        if (res->flags & bit)
+            flags[n_flags++] = arrank_flag_name(bit);
+    key_strings(b, bad, fi, "flags", flags, n_flags);
+    key_string(b, bad, fi, "error", res->error, 1);
+    put_key(b, bad, fi, "error_line");
+    if (res->error && res->error_line > 0)
+        put_int(b, bad, res->error_line);
+    else
+        PUT("null");
+    key_strings(b, bad, fi, "notes", (const char *const *)s->notes, s->n_notes);
+}
+
+/* The record per sample by the fast path: the own keys, then the diagnosis
+   summary and the ranking statistics dumped by jansson and spliced in at
+   their depth. */
+static int record_text(const arrank_analysis *a, size_t i, text_buf *b)
+{
+    int bad = 0;
+    put_text(b, &bad, i ? ",\n    {" : "\n    {", i ? 7 : 6);
+    put_own_keys(b, &bad, &a->results[i]);
+    json_t *rest = json_object();
+    if (rest)
+        merge_rest(rest, a, &a->results[i], 0);
+    char *text = rest ? json_dumps(rest, JSON_FLAGS) : NULL;
+    json_decref(rest);
+    if (!text)
+        return -1;
+    size_t len = strlen(text);
+    if (len > 4) { /* "{\n  ...\n}": the keys, 2 spaces in, go 6 spaces in */
+        put_text(b, &bad, ",\n      ", 8);
+        if (indent_sink(text + 4, len - 6, b))
+            bad = 1;
+    }
+    free(text);
+    put_text(b, &bad, "\n    }", 6);
+    return bad ? -1 : 0;
+}
+
 /* One sample's text, its separator first, appended to b; -1 when out of memory. */
 static int sample_text(const arrank_analysis *a, size_t i, int detail, text_buf *b)
 {
+    if (!detail && !json_reference)
+        return record_text(a, i, b);
     json_t *o = sample_json(a, &a->results[i], detail);
     int bad = !o || text_put(b, i ? "," SAMPLE_INDENT : SAMPLE_INDENT,
                              (i ? 1 : 0) + sizeof SAMPLE_INDENT - 1) ||
