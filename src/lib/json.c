@@ -525,30 +525,94 @@ static void put_own_keys(text_buf *b, int *bad, const arrank_result *res)
     key_strings(b, bad, fi, "notes", (const char *const *)s->notes, s->n_notes);
 }
 
+/* Two spaces per depth after a line break, as JSON_INDENT(2) indents. */
+static void put_indent(text_buf *b, int *bad, int depth)
+{
+    static const char spaces[] = "\n                                ";
+    int n = 2 * depth;
+    if (n > (int)sizeof spaces - 2) {
+        *bad = 1;
+        return;
+    }
+    put_text(b, bad, spaces, (size_t)n + 1);
+}
+
+/* v as json_dumps writes it with JSON_FLAGS at depth (objects keep their
+   keys in insertion order, as jansson iterates them). */
+static void put_value(text_buf *b, int *bad, json_t *v, int depth)
+{
+    switch (json_typeof(v)) {
+    case JSON_OBJECT: {
+        if (json_object_size(v) == 0) {
+            PUT("{}");
+            return;
+        }
+        const char *key;
+        json_t *value;
+        int first = 1;
+        PUT("{");
+        json_object_foreach(v, key, value) {
+            if (!first)
+                PUT(",");
+            first = 0;
+            put_indent(b, bad, depth + 1);
+            put_string(b, bad, key);
+            PUT(": ");
+            put_value(b, bad, value, depth + 1);
+        }
+        put_indent(b, bad, depth);
+        PUT("}");
+        return;
+    }
+    case JSON_ARRAY: {
+        if (json_array_size(v) == 0) {
+            PUT("[]");
+            return;
+        }
+        size_t i;
+        json_t *value;
+        PUT("[");
+        json_array_foreach(v, i, value) {
+            if (i)
+                PUT(",");
+            put_indent(b, bad, depth + 1);
+            put_value(b, bad, value, depth + 1);
+        }
+        put_indent(b, bad, depth);
+        PUT("]");
+        return;
+    }
+    case JSON_STRING: put_string(b, bad, json_string_value(v)); return;
+    case JSON_INTEGER: put_int(b, bad, (long long)json_integer_value(v)); return;
+    case JSON_REAL: put_real(b, bad, json_real_value(v)); return;
+    case JSON_TRUE: PUT("true"); return;
+    case JSON_FALSE: PUT("false"); return;
+    case JSON_NULL: PUT("null"); return;
+    }
+}
+
 /* The record per sample by the fast path: the own keys, then the diagnosis
-   summary and the ranking statistics dumped by jansson and spliced in at
-   their depth. */
+   summary and the ranking statistics, built by jansson and written here. */
 static int record_text(const arrank_analysis *a, size_t i, text_buf *b)
 {
-    int bad = 0;
-    put_text(b, &bad, i ? ",\n    {" : "\n    {", i ? 7 : 6);
-    put_own_keys(b, &bad, &a->results[i]);
+    int failed = 0, *bad = &failed;
+    put_text(b, bad, i ? ",\n    {" : "\n    {", i ? 7 : 6);
+    put_own_keys(b, bad, &a->results[i]);
     json_t *rest = json_object();
-    if (rest)
-        merge_rest(rest, a, &a->results[i], 0);
-    char *text = rest ? json_dumps(rest, JSON_FLAGS) : NULL;
-    json_decref(rest);
-    if (!text)
+    if (!rest)
         return -1;
-    size_t len = strlen(text);
-    if (len > 4) { /* "{\n  ...\n}": the keys, 2 spaces in, go 6 spaces in */
-        put_text(b, &bad, ",\n      ", 8);
-        if (indent_sink(text + 4, len - 6, b))
-            bad = 1;
+    merge_rest(rest, a, &a->results[i], 0);
+    const char *key;
+    json_t *value;
+    json_object_foreach(rest, key, value) {
+        PUT("," KEY_INDENT);
+        put_string(b, bad, key);
+        PUT(": ");
+        put_value(b, bad, value, 3);
     }
-    free(text);
-    put_text(b, &bad, "\n    }", 6);
-    return bad ? -1 : 0;
+    json_decref(rest);
+    put_text(b, bad, "\n    }", 6);
+    return failed ? -1 : 0;
 }
 
 /* One sample's text, its separator first, appended to b; -1 when out of memory. */
