@@ -127,23 +127,51 @@ arrank_status arrank_files_save(const char *path, arrank_files_writer writer, vo
 
 /* ---- CSV fields ----------------------------------------------------------- */
 
-void arrank_files_csv_field(FILE *f, const char *s, int last)
+void arrank_files_csv_flush(arrank_csv_row *row)
 {
-    size_t n = strlen(s);
-    if (strpbrk(s, ",\"\r\n") || (n && (s[0] == ' ' || s[n - 1] == ' ')))
-        csv_fwrite(f, s, n);
-    else
-        fwrite(s, 1, n, f);
-    putc(last ? '\n' : ',', f);
+    if (row->n)
+        fwrite(row->buf, 1, row->n, row->f);
+    row->n = 0;
 }
 
-void arrank_files_csv_num(FILE *f, double v, int last)
+/* Room for len more bytes in the row; 0 when they cannot fit even after a flush. */
+static int row_room(arrank_csv_row *row, size_t len)
 {
-    char buf[64];
-    if (isfinite(v)) {
-        int len = arrank_format_general(buf, sizeof buf, 10, v); /* "%.10g", number.c */
-        if (len > 0 && (size_t)len < sizeof buf)
-            fwrite(buf, 1, (size_t)len, f);
+    if (sizeof row->buf - row->n < len)
+        arrank_files_csv_flush(row);
+    return sizeof row->buf - row->n >= len;
+}
+
+static void row_end(arrank_csv_row *row, int last)
+{
+    if (!row_room(row, 1))
+        return;
+    row->buf[row->n++] = last ? '\n' : ',';
+    if (last && row->n > sizeof row->buf / 2)
+        arrank_files_csv_flush(row);
+}
+
+void arrank_files_csv_field(arrank_csv_row *row, const char *s, int last)
+{
+    size_t n = strlen(s);
+    if (strpbrk(s, ",\"\r\n") || (n && (s[0] == ' ' || s[n - 1] == ' '))) {
+        arrank_files_csv_flush(row);
+        csv_fwrite(row->f, s, n);
+    } else if (row_room(row, n)) {
+        memcpy(row->buf + row->n, s, n);
+        row->n += n;
+    } else {
+        fwrite(s, 1, n, row->f);
     }
-    putc(last ? '\n' : ',', f);
+    row_end(row, last);
+}
+
+void arrank_files_csv_num(arrank_csv_row *row, double v, int last)
+{
+    if (isfinite(v) && row_room(row, 64)) {
+        int len = arrank_format_general(row->buf + row->n, 64, 10, v); /* "%.10g", number.c */
+        if (len > 0 && len < 64)
+            row->n += (size_t)len;
+    }
+    row_end(row, last);
 }

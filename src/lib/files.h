@@ -22,12 +22,24 @@ typedef arrank_status (*arrank_files_writer)(FILE *stream, void *ctx, arrank_err
 arrank_status arrank_files_save(const char *path, arrank_files_writer writer, void *ctx,
                                 arrank_error *err);
 
+/* CSV rows built in memory and written a few kilobytes at a time (stdio's
+   per-call locking cost more than the formatting).  Set f and n = 0; call
+   arrank_files_csv_flush at the end. */
+typedef struct {
+    FILE *f;
+    size_t n;
+    char buf[8192];
+} arrank_csv_row;
+
 /* One CSV field and its separator (',' or, when last, a line break): quoted
    (RFC 4180, libcsv) only when it holds a comma, quote, line break or edge
    space, so numbers stay plain for spreadsheets and scripts. */
-void arrank_files_csv_field(FILE *f, const char *s, int last);
+void arrank_files_csv_field(arrank_csv_row *row, const char *s, int last);
 
 /* A number as a CSV field, "%.10g" (empty when not finite). */
-void arrank_files_csv_num(FILE *f, double v, int last);
+void arrank_files_csv_num(arrank_csv_row *row, double v, int last);
+
+/* Write out what the row buffer holds. */
+void arrank_files_csv_flush(arrank_csv_row *row);
 
 #endif
