@@ -78,7 +78,7 @@ def ranked(cmd):
                   key=lambda s: s["rank"])
 
 
-def out(name):
+def out_file(name):
     """An output file of the timed runs, in BUILD/bench/out/."""
     os.makedirs(os.path.join(BUILD, "bench", "out"), exist_ok=True)
     return os.path.join(BUILD, "bench", "out", name)
@@ -97,11 +97,12 @@ def main():
         # sort) plus P(best), groups and compensation, without the diagnostics.
         "no-diag": [ARRANK, "rank", c10k, "--no-diagnose"],
         # What users run to hand the results on: JSON and CSV files (and points.csv).
-        "files": [ARRANK, "rank", c10k, "--json", out("r.json"), "--csv", out("r.csv")],
-        "points": [ARRANK, "rank", c10k, "--json", out("p.json"), "--csv", out("p.csv"),
-                   "--points", out("points.csv")],
+        "files": [ARRANK, "rank", c10k, "--json", out_file("r.json"),
+                  "--csv", out_file("r.csv")],
+        "points": [ARRANK, "rank", c10k, "--json", out_file("p.json"),
+                   "--csv", out_file("p.csv"), "--points", out_file("points.csv")],
         "scipy": ["/usr/bin/python3", os.path.join(HERE, "reference.py"), c10k, T_OP_K,
-                  "--json", out("scipy.json")],
+                  "--json", out_file("scipy.json")],
     }
     med, times = medians(cmds, REPS)
     for k, cmd in cmds.items():
@@ -109,7 +110,7 @@ def main():
         print(f"  {k:8s} {med[k]:8.3f} s   ({runs})   {' '.join(cmd)}")
     runs_mem = ("arrank", "no-diag", "files", "points")
     mem = {k: peak_kb(cmds[k]) for k in runs_mem}
-    json_per_sample = os.path.getsize(out("r.json")) / 10000
+    json_per_sample = os.path.getsize(out_file("r.json")) / 10000
     for k in runs_mem:
         line = (f"  {k:8s} / floor = {med[k] / med['floor']:.2f}x   "
                 f"scipy / {k} = {med['scipy'] / med[k]:.1f}x")
@@ -142,7 +143,7 @@ def main():
           f"({json_per_sample:.0f} bytes)")
     print(f"  points: with --points F as well: {med['points']:.3f} s, "
           f"{med['points'] / med['floor']:.2f}x the floor, "
-          f"points.csv {os.path.getsize(out('points.csv')) / 10000:.0f} bytes a sample")
+          f"points.csv {os.path.getsize(out_file('points.csv')) / 10000:.0f} bytes a sample")
 
     # Same answer: the ranked order against the reference's.
     ids = os.path.join(BUILD, "bench", "reference-ids.txt")
