@@ -240,7 +240,7 @@ typedef struct {
    model_t_quantile), so that the writers compute no statistics.  The joint
    region of (Ea, ln A) is 2 F(2, n-2; confidence), the F-based region of a
    linear regression (Draper & Smith, Applied Regression Analysis, 3rd ed.,
-   1998, sec. 5.4). */
+   1998, sec. 5.4; from memory). */
 static void result_quantiles(arrank_result *res, const arrank_options *opt)
 {
     res->t_quantile = res->region_quantile = res->model_t_quantile = NAN;
