@@ -16,6 +16,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "arrank/diagnose.h"
 #include "arrank/version.h"
 #include "number.h"
 #include "util.h"
@@ -591,6 +592,166 @@ static void put_value(text_buf *b, int *bad, json_t *v, int depth)
     }
 }
 
+/* The next key of an object whose keys sit at depth (2 spaces each). */
+static void put_key_at(text_buf *b, int *bad, int *first, int depth, const char *key)
+{
+    if (!*first)
+        PUT(",");
+    *first = 0;
+    put_indent(b, bad, depth);
+    put_string(b, bad, key);
+    PUT(": ");
+}
+
+static void put_bool(text_buf *b, int *bad, int v)
+{
+    if (v)
+        PUT("true");
+    else
+        PUT("false");
+}
+
+/* An array of strings at depth (its elements one deeper); the ones
+   json_string refuses (invalid UTF-8) are left out, as jansson leaves them. */
+static void put_strings_at(text_buf *b, int *bad, int depth, char *const *v, size_t n)
+{
+    size_t k = 0;
+    for (size_t i = 0; i < n; i++) {
+        if (!v[i] || !utf8_ok(v[i]))
+            continue;
+        if (k++)
+            PUT(",");
+        else
+            PUT("[");
+        put_indent(b, bad, depth + 1);
+        put_string(b, bad, v[i]);
+    }
+    if (k) {
+        put_indent(b, bad, depth);
+        PUT("]");
+    } else {
+        PUT("[]");
+    }
+}
+
+/*
+ * The diagnosis summary of the record (the fast path): the keys and values
+ * arrank_diagnosis_json (diagnose.c) gives for excluded, kinetic_window,
+ * curvature (its verdict keys) and the plain words, written from the
+ * diagnosis itself.  Building the whole diagnosis as jansson objects to keep
+ * these took three quarters of the JSON's time on 10,000 samples.  The names
+ * are diagnose.c's, repeated here: test_output holds this path against that
+ * function byte for byte, so a renamed key there fails the test.
+ */
+static void put_diagnosis_summary(text_buf *b, int *bad, int *first, const arrank_result *res)
+{
+    const struct arrank_diagnosis *d = res->diagnosis;
+    if (!d) {
+        put_key_at(b, bad, first, 3, "excluded");
+        PUT("null");
+        put_key_at(b, bad, first, 3, "curvature");
+        PUT("null");
+        return;
+    }
+    const arrank_sample *s = res->sample;
+    put_key_at(b, bad, first, 3, "excluded");
+    size_t n_out = 0;
+    for (size_t i = 0; i < d->n_points; i++) {
+        if (res->used[i])
+            continue;
+        const char *reason = d->points[i].reason ? d->points[i].reason
+                                                 : "left out before the diagnostics";
+        if (!utf8_ok(reason)) /* json_pack fails on it and the entry is left out */
+            continue;
+        if (n_out++)
+            PUT(",");
+        else
+            PUT("[");
+        put_indent(b, bad, 4);
+        int f2 = 1;
+        PUT("{");
+        put_key_at(b, bad, &f2, 5, "line");
+        put_int(b, bad, s->points[i].line);
+        put_key_at(b, bad, &f2, 5, "temp_K");
+        put_real(b, bad, s->points[i].temp_K);
+        put_key_at(b, bad, &f2, 5, "reason");
+        put_string(b, bad, reason);
+        put_indent(b, bad, 4);
+        PUT("}");
+    }
+    if (n_out) {
+        put_indent(b, bad, 3);
+        PUT("]");
+    } else {
+        PUT("[]");
+    }
+    int f2 = 1;
+    put_key_at(b, bad, first, 3, "kinetic_window");
+    PUT("{");
+    put_key_at(b, bad, &f2, 4, "applied");
+    put_bool(b, bad, d->window_applied);
+    put_key_at(b, bad, &f2, 4, "temp_lo_K");
+    put_real(b, bad, d->window_lo_K);
+    put_key_at(b, bad, &f2, 4, "temp_hi_K");
+    put_real(b, bad, d->window_hi_K);
+    put_key_at(b, bad, &f2, 4, "n_points");
+    put_int(b, bad, (long long)d->window_n);
+    put_key_at(b, bad, &f2, 4, "ea_all_points_kJ_mol");
+    put_real(b, bad, d->ea_all_J_mol / 1000.0);
+    put_key_at(b, bad, &f2, 4, "ea_all_points_kJ_mol_se");
+    put_real(b, bad, d->ea_all_se_J_mol / 1000.0);
+    put_indent(b, bad, 3);
+    PUT("}");
+    const arrank_curvature *cv = &d->curvature;
+    f2 = 1;
+    put_key_at(b, bad, first, 3, "curvature");
+    PUT("{");
+    put_key_at(b, bad, &f2, 4, "verdict");
+    put_string(b, bad, cv->detected ? "detected" : "not detected");
+    put_key_at(b, bad, &f2, 4, "tested");
+    put_bool(b, bad, cv->tested);
+    put_key_at(b, bad, &f2, 4, "direction");
+    put_string(b, bad, arrank_bend_name(cv->direction));
+    put_key_at(b, bad, &f2, 4, "level");
+    put_real(b, bad, cv->level);
+    put_key_at(b, bad, &f2, 4, "n_points");
+    put_int(b, bad, (long long)cv->n);
+    put_key_at(b, bad, &f2, 4, "causes");
+    size_t n_causes = 0;
+    for (size_t k = 0; k < cv->n_causes; k++) {
+        const arrank_cause *c = &cv->causes[k];
+        if (!c->cause || !c->evidence || !utf8_ok(c->cause) || !utf8_ok(c->evidence))
+            continue; /* json_pack fails on them */
+        if (n_causes++)
+            PUT(",");
+        else
+            PUT("[");
+        put_indent(b, bad, 5);
+        int f3 = 1;
+        PUT("{");
+        put_key_at(b, bad, &f3, 6, "cause");
+        put_string(b, bad, c->cause);
+        put_key_at(b, bad, &f3, 6, "evidence");
+        put_string(b, bad, c->evidence);
+        put_key_at(b, bad, &f3, 6, "supported");
+        put_bool(b, bad, c->supported);
+        put_indent(b, bad, 5);
+        PUT("}");
+    }
+    if (n_causes) {
+        put_indent(b, bad, 4);
+        PUT("]");
+    } else {
+        PUT("[]");
+    }
+    put_indent(b, bad, 3);
+    PUT("}");
+    put_key_at(b, bad, first, 3, "findings");
+    put_strings_at(b, bad, 3, d->findings, d->n_findings);
+    put_key_at(b, bad, first, 3, "diagnosis_notes");
+    put_strings_at(b, bad, 3, d->notes, d->n_notes);
+}
+
 /* The record per sample by the fast path: the own keys, then the diagnosis
    summary and the ranking statistics, built by jansson and written here. */
 static int record_text(const arrank_analysis *a, size_t i, text_buf *b)
@@ -598,19 +759,19 @@ static int record_text(const arrank_analysis *a, size_t i, text_buf *b)
     int failed = 0, *bad = &failed;
     put_text(b, bad, i ? ",\n    {" : "\n    {", i ? 7 : 6);
     put_own_keys(b, bad, &a->results[i]);
-    json_t *rest = json_object();
-    if (!rest)
+    int first = 0; /* the own keys came first */
+    put_diagnosis_summary(b, bad, &first, &a->results[i]);
+    /* rank.c: p_best, group, p_beats, bootstrap interval, model */
+    json_t *stats = arrank_sample_stats_json(a, i);
+    if (!stats)
         return -1;
-    merge_rest(rest, a, &a->results[i], 0);
     const char *key;
     json_t *value;
-    json_object_foreach(rest, key, value) {
-        PUT("," KEY_INDENT);
-        put_string(b, bad, key);
-        PUT(": ");
+    json_object_foreach(stats, key, value) {
+        put_key_at(b, bad, &first, 3, key);
         put_value(b, bad, value, 3);
     }
-    json_decref(rest);
+    json_decref(stats);
     put_text(b, bad, "\n    }", 6);
     return failed ? -1 : 0;
 }
