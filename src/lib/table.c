@@ -478,10 +478,17 @@ static void table_worker(void *ctx, size_t w)
     table_job *j = ctx;
     size_t n = j->to - j->from, share = (n + j->workers - 1) / j->workers;
     size_t lo = j->from + w * share, hi = lo + share < j->to ? lo + share : j->to;
-    row_buf *r = &j->rows[w];
-    r->n = 0;
+    /* The worker's buffer and findings are kept in locals while the rows are
+       written: the workers' entries share cache lines in j. */
+    row_buf r = j->rows[w];
+    unsigned seen = j->seen[w];
+    int any_error = j->any_error[w];
+    r.n = 0;
     for (size_t k = lo; k < hi; k++)
-        table_row_ahead(j->tc, k, hi, r, &j->seen[w], &j->any_error[w]);
+        table_row_ahead(j->tc, k, hi, &r, &seen, &any_error);
+    j->rows[w] = r;
+    j->seen[w] = seen;
+    j->any_error[w] = any_error;
 }
 
 static arrank_status table_rows(const table_ctx *tc, FILE *f, unsigned *seen_flags,
