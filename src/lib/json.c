@@ -779,8 +779,20 @@ static int record_text(const arrank_analysis *a, size_t i, text_buf *b)
 /* One sample's text, its separator first, appended to b; -1 when out of memory. */
 static int sample_text(const arrank_analysis *a, size_t i, int detail, text_buf *b)
 {
-    if (!detail && !json_reference)
-        return record_text(a, i, b);
+    if (!json_reference) {
+        if (!detail)
+            return record_text(a, i, b);
+        /* the detail: built by jansson, written by put_value (no dump and
+           re-indent) */
+        json_t *o = sample_json(a, &a->results[i], 1);
+        int failed = !o, *bad = &failed;
+        if (o) {
+            put_text(b, bad, i ? ",\n    " : "\n    ", i ? 6 : 5);
+            put_value(b, bad, o, 2);
+        }
+        json_decref(o);
+        return failed ? -1 : 0;
+    }
     json_t *o = sample_json(a, &a->results[i], detail);
     int bad = !o || text_put(b, i ? "," SAMPLE_INDENT : SAMPLE_INDENT,
                              (i ? 1 : 0) + sizeof SAMPLE_INDENT - 1) ||
