@@ -138,7 +138,7 @@ LC_ALL=$loc "$A" rank "$DEMO" --json "$T/lc-de.json" --csv "$T/lc-de.csv" >"$T/l
 ok_if "LC_ALL=$loc: JSON byte for byte as in C" cmp -s "$T/lc-c.json" "$T/lc-de.json"
 ok_if "LC_ALL=$loc: CSV byte for byte as in C" cmp -s "$T/lc-c.csv" "$T/lc-de.csv"
 ok_if "LC_ALL=$loc: table byte for byte as in C" cmp -s "$T/lc-c.txt" "$T/lc-de.txt"
-ok_if "LC_ALL=$loc: the JSON has numbers" grep -q '"T_K": 503.15' "$T/lc-de.json"
+ok_if "LC_ALL=$loc: the JSON has numbers with a decimal point" grep -q '"T_min_K": 503.15,' "$T/lc-de.json"
 
 # Ranking by rate far outside every sample's range is refused unless asked for.
 "$A" rank "$DEMO" --at 2000C >"$T/out" 2>"$T/err"; st=$?

@@ -47,8 +47,9 @@ ok_if "check --use-all: no point left out" sh -c "! grep -q 'left out:' '$T/all'
 "$A" check "$DEMO" --no-diagnose >/dev/null 2>"$T/err"; st=$?
 expect_eq "check --no-diagnose: usage status 2" "$st" 2
 
-# fit and rank take the same flags and use the kinetic window
-"$A" rank "$DEMO" --json "$T/r.json" >/dev/null 2>&1; st=$?
+# fit and rank take the same flags and use the kinetic window (the per-point
+# detail and the whole diagnosis are in the JSON with --json-points)
+"$A" rank "$DEMO" --json "$T/r.json" --json-points >/dev/null 2>&1; st=$?
 expect_eq "rank with diagnostics exits 0" "$st" 0
 "$A" rank "$DEMO" --use-all --json "$T/a.json" >/dev/null 2>&1
 "$A" fit "$DEMO" --drop-outliers --conversion-limit 0.05 >/dev/null 2>&1; st=$?

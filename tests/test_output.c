@@ -33,6 +33,7 @@
 #include "arrank/output.h"
 #include "arrank/analysis_stats.h"
 #include "../src/lib/util.h"
+#include "../src/lib/json_testing.h"
 #include "helpers.h"
 
 #define NAME_MAX_COLS 28 /* the table's widest name column (output.c NAME_WIDTH_MAX) */
@@ -200,6 +201,8 @@ static void make_fake(fake *fk, size_t n, int ranked, int with_T, int with_stats
         arrank_arrhenius *f = &res->fit;
         f->n = rng_next() % 4 == 0 ? s->n_points - 1 - rng_next() % 2 : s->n_points;
         f->dof = (double)f->n - 2.0;
+        /* the pipeline's quantile (analysis.c), which the table reads */
+        res->t_quantile = arrank_t_quantile(a->options.confidence, f->dof);
         f->T_min_K = odd_sometimes(300.0 + 400.0 * uniform01(&rng_state));
         f->T_max_K = odd_sometimes(f->T_min_K + 200.0 * uniform01(&rng_state));
         f->ea_J_mol = odd_sometimes(log_uniform(3.0, 5.7) * (rng_next() % 10 ? 1.0 : -1.0));
@@ -459,12 +462,105 @@ static void cases_are_covered(void **state)
     free_fake(&fk);
 }
 
+/* The JSON of a, lean (the record per sample) or with detail, by the fast
+   path or the general one (json.c: arrank_json_reference), into *text. */
+static char *json_of(const arrank_analysis *a, arrank_output_format format, int reference)
+{
+    char *text = NULL;
+    size_t len = 0;
+    FILE *out = open_memstream(&text, &len);
+    assert_non_null(out);
+    arrank_error err;
+    arrank_error_clear(&err);
+    arrank_json_reference(reference);
+    arrank_status st = arrank_output_write(a, format, out, &err);
+    arrank_json_reference(0);
+    assert_int_equal(st, ARRANK_OK);
+    assert_int_equal(fclose(out), 0);
+    return text;
+}
+
+static void same_json_as(const arrank_analysis *a, arrank_output_format format, const char *what)
+{
+    char *fast = json_of(a, format, 0), *general = json_of(a, format, 1);
+    if (strcmp(fast, general) != 0) {
+        size_t i = 0;
+        while (fast[i] && fast[i] == general[i])
+            i++;
+        size_t from = i > 60 ? i - 60 : 0;
+        fail_msg("%s: JSON bytes differ at %zu:\n fast    '%.120s'\n general '%.120s'", what, i,
+                 fast + from, general + from);
+    }
+    free(fast);
+    free(general);
+}
+
+/* The record per sample, and with points (real analyses: the made-up ones
+   have no points) the --json-points document, both ways. */
+static void same_json(const arrank_analysis *a, const char *what, int with_points)
+{
+    same_json_as(a, ARRANK_OUTPUT_JSON, what);
+    if (with_points)
+        same_json_as(a, ARRANK_OUTPUT_JSON_POINTS, what);
+}
+
+/* The record per sample written directly (json.c's fast path) is the
+   document jansson writes for the same keys, byte for byte: made-up analyses
+   (names of every kind, control characters, quotes, invalid UTF-8 in names,
+   notes and errors; huge, tiny, negative and non-finite numbers) and the
+   demo campaign under several option sets, whose --json-points document is
+   compared too. */
+static void json_record_as_jansson_writes_it(void **state)
+{
+    (void)state;
+    static char *const notes[] = {"plain note", "quote \" and backslash \\ and tab\t",
+                                  "bell \a and del \x7f and \xc3\xa9t\xc3\xa9",
+                                  "invalid \xc3\x28 UTF-8", "overlong \xc0\xaf", NULL};
+    for (int rep = 0; rep < 4; rep++) {
+        fake fk;
+        make_fake(&fk, 1500, rep != 1, rep != 2, rep != 3, rep == 0 ? 100 : 0, rep == 3);
+        for (size_t i = 0; i < fk.a.n_results; i++) {
+            arrank_sample *smp = &fk.samples[i];
+            smp->file = i % 7 ? smp->id : NULL;
+            smp->rate_unit_file = i % 3 ? "umol/(g*s)" : NULL;
+            smp->notes = (char **)notes;
+            smp->n_notes = i % 6;
+            fk.a.results[i].error_line = (long)(i % 5);
+            if (fk.a.results[i].error && i % 4 == 0)
+                fk.a.results[i].error = strcpy(fk.a.results[i].error, "bad \xff byte\n");
+        }
+        same_json(&fk.a, "made-up analysis", 0);
+        free_fake(&fk);
+    }
+    arrank_campaign *c = NULL;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_load("campaigns/zeolite-ni-screen", units, &c, &err),
+                     ARRANK_OK);
+    for (int opt = 0; opt < 4; opt++) {
+        arrank_options o = arrank_options_defaults();
+        o.operating_temp_K = 543.15;
+        o.units = units;
+        o.diagnose = opt != 1;
+        o.model = opt == 2 ? ARRANK_MODEL_MODIFIED : ARRANK_MODEL_ARRHENIUS;
+        o.bootstrap = opt == 3 ? 50 : 0;
+        o.draws = 2000;
+        arrank_analysis *a = NULL;
+        assert_int_equal(arrank_analysis_run(c, &o, &a, &err), ARRANK_OK);
+        same_json(a, "demo campaign", 1);
+        arrank_analysis_free(a);
+    }
+    arrank_campaign_free(c);
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(rows_as_printf_writes_them),
         cmocka_unit_test(cases_are_covered),
+        cmocka_unit_test_setup_teardown(json_record_as_jansson_writes_it, units_setup,
+                                        units_teardown),
     };
     return cmocka_run_group_tests_name("output", tests, NULL, NULL);
 }

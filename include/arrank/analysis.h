@@ -106,6 +106,11 @@ typedef struct {
     unsigned flags;               /* ARRANK_FLAG_* bits */
     struct arrank_diagnosis *diagnosis; /* diagnose.h; NULL when not run */
     struct arrank_sample_stats *stats;  /* analysis_stats.h; NULL when not computed */
+    /* Quantiles the outputs need, computed by the pipeline so that no writer
+       computes statistics; NAN when they do not apply. */
+    double t_quantile;       /* two-sided `confidence` t on fit.dof: interval = estimate -/+ t se */
+    double region_quantile;  /* 2 F(2, fit.dof; confidence): joint (Ea, ln A) confidence region */
+    double model_t_quantile; /* two-sided `confidence` t on the --model fit's dof (stats->model) */
 } arrank_result;
 
 typedef struct {

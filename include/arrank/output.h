@@ -1,5 +1,6 @@
 /*
- * arrank/output.h - the table for people, JSON and CSV for programs.
+ * arrank/output.h - the table for people, JSON and CSV for programs, and
+ * points.csv (every point, one row each); README "JSON keys".
  *
  * Writers take the stream to write to; they never open stdout themselves.
  * arrank_output_save writes through a temporary file in the target's folder
@@ -14,12 +15,15 @@
 #include "arrank/error.h"
 
 typedef enum {
-    ARRANK_OUTPUT_TABLE = 0,
-    ARRANK_OUTPUT_JSON = 1,
-    ARRANK_OUTPUT_CSV = 2
+    ARRANK_OUTPUT_TABLE = 0,       /* the table for people */
+    ARRANK_OUTPUT_JSON = 1,        /* one record per sample, the diagnosis summarised */
+    ARRANK_OUTPUT_CSV = 2,         /* one row per sample */
+    ARRANK_OUTPUT_JSON_POINTS = 3, /* JSON with every point and the whole diagnosis */
+    ARRANK_OUTPUT_POINTS = 4       /* points.csv: one row per point */
 } arrank_output_format;
 
-/* Write the analysis in the given format to stream.  EIO on a write error. */
+/* Write the analysis in the given format to stream, streamed (a sample or
+   row at a time, never the whole document in memory).  EIO on a write error. */
 arrank_status arrank_output_write(const arrank_analysis *analysis, arrank_output_format format,
                                   FILE *stream, arrank_error *err);
 

@@ -27,7 +27,7 @@ enum {
 /* Which options a command accepts (bit set). */
 enum {
     OPT_AT = 1u << 0,         /* --at T */
-    OPT_OUTPUTS = 1u << 1,    /* --json FILE|-, --csv FILE|- */
+    OPT_OUTPUTS = 1u << 1,    /* --json FILE|-, --csv FILE|-, --json-points, --points FILE|- */
     OPT_CONFIDENCE = 1u << 2, /* --confidence 0.95 */
     OPT_BY = 1u << 3,         /* --by rate|ea|prefactor */
     OPT_DIAGNOSE = 1u << 4,   /* --use-all, --drop-outliers, --conversion-limit */
@@ -45,6 +45,8 @@ typedef struct {
     const char *at_text;      /* --at as written, NULL if not given */
     const char *json_path;    /* NULL if not asked */
     const char *csv_path;
+    const char *points_path;  /* --points FILE|-: points.csv; NULL if not asked */
+    int json_points;          /* --json-points: the JSON keeps every point and the whole diagnosis */
     const char *out_dir;
     const char *formats[CLI_MAX_FORMATS];
     size_t n_formats;
@@ -105,13 +107,15 @@ void cli_session_leave(cli_session *session);
 /* Tell on stderr which samples could not be fitted (FILE:LINE: reason). */
 void cli_report_unfitted(const cli_session *session);
 
-/* Write --json/--csv outputs (if asked).  Returns -1 or an exit status. */
+/* Write --json/--csv/--points outputs (if asked).  Returns -1 or an exit status. */
 int cli_write_outputs(const cli_args *args, const cli_session *session);
 
-/* Output folder helpers (cmd_plot.c): make dir and its parents (-1 or an
-   exit status, already printed); "plots/<campaign name>" (caller frees);
-   the --format options as ARRANK_PLOT_* bits (SVG when none). */
-int cli_make_out_dir(const char *dir);
+/* 1 when one of those outputs goes to standard output ('-'), which then
+   holds nothing else. */
+int cli_outputs_to_stdout(const cli_args *args);
+
+/* Output folder helpers (cmd_plot.c): "plots/<campaign name>" (caller
+   frees); the --format options as ARRANK_PLOT_* bits (SVG when none). */
 char *cli_default_out_dir(const arrank_campaign *campaign);
 unsigned cli_plot_formats(const cli_args *args);
 

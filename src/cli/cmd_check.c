@@ -36,8 +36,11 @@ static const char usage[] =
     "  --conversion-limit X  differential-reactor limit, e.g. 5% or 0.05\n"
     "                      (default 10%)\n"
     "  --confidence C      two-sided level of every interval (default 0.95)\n"
-    "  --json FILE|-       also write the results with the diagnostics as JSON\n"
+    "  --json FILE|-       also write the results with a summary of the diagnostics\n"
+    "                      as JSON, one record per sample\n"
+    "  --json-points       the JSON also holds every point and the whole diagnosis\n"
     "  --csv FILE|-        also write the results as CSV\n"
+    "  --points FILE|-     also write every point as CSV, one row each (points.csv)\n"
     "\n"
     "Fitted kinetics are apparent and hold only within the tested conditions;\n"
     "do not use them for reactor design or safety limits.\n"
@@ -63,8 +66,7 @@ int cmd_check(int argc, char **argv)
     arrank_error err;
     arrank_error_clear(&err);
     const arrank_analysis *a = s.analysis;
-    int to_stdout = (args.json_path && strcmp(args.json_path, "-") == 0) ||
-                    (args.csv_path && strcmp(args.csv_path, "-") == 0);
+    int to_stdout = cli_outputs_to_stdout(&args);
     arrank_status st = ARRANK_OK;
     FILE *out = to_stdout ? stderr : stdout;
     size_t with_problems = 0;

@@ -1,9 +1,10 @@
 /*
  * cmd_plot.c - `arrank plot CAMPAIGN --at T`: the review figures, with the
- * results as JSON and CSV beside them.
+ * results as JSON and CSV and every point as points.csv beside them.
  *
  * The numbers are written before gnuplot is started, so a machine without
- * gnuplot still gets results.json and results.csv (and exit status 5).
+ * gnuplot still gets results.json, results.csv and points.csv (and exit
+ * status 5).
  */
 #include <errno.h>
 #include <stdio.h>
@@ -19,7 +20,8 @@ static const char usage[] =
     "usage: arrank plot CAMPAIGN [--at T] [--out DIR] [--format svg|png|pdf]... [options]\n"
     "\n"
     "Fit every sample and draw the review figures with gnuplot, in DIR (default\n"
-    "plots/<campaign folder name>/), with results.json and results.csv beside them:\n"
+    "plots/<campaign folder name>/), with results.json, results.csv and points.csv\n"
+    "(every point, one row each) beside them:\n"
     "  arrhenius.EXT            ln r against 1000/T, all samples, fitted lines with\n"
     "                           confidence bands, degC along the top\n"
     "  rate-at-T.EXT            rate at the operating temperature with its interval\n"
@@ -49,8 +51,8 @@ static const char usage[] =
     "Exit status: 0 ok, 1 bad input data or nothing fittable, 2 usage (also an\n"
     "output inside the campaign folder), 3 a file could not be read or written,\n"
     "4 gnuplot failed on a figure (its message is shown; nothing is written),\n"
-    "5 gnuplot not found (results.json and results.csv are still written;\n"
-    "install it with 'apt-get install gnuplot-nox').\n";
+    "5 gnuplot not found (results.json, results.csv and points.csv are still\n"
+    "written; install it with 'apt-get install gnuplot-nox').\n";
 
 char *cli_default_out_dir(const arrank_campaign *campaign)
 {
@@ -126,6 +128,8 @@ int cmd_plot(int argc, char **argv)
         rc = save(&s, priv, "results.json", ARRANK_OUTPUT_JSON);
     if (rc == -1)
         rc = save(&s, priv, "results.csv", ARRANK_OUTPUT_CSV);
+    if (rc == -1)
+        rc = save(&s, priv, "points.csv", ARRANK_OUTPUT_POINTS);
     arrank_plot_files files = {0};
     if (rc == -1) {
         cli_report_unfitted(&s);
@@ -147,7 +151,7 @@ int cmd_plot(int argc, char **argv)
     else
         cli_stage_abort();
     if (rc == -1) {
-        printf("%s/results.json\n%s/results.csv\n", dir, dir);
+        printf("%s/results.json\n%s/results.csv\n%s/points.csv\n", dir, dir, dir);
         for (size_t k = 0; k < files.n; k++) {
             const char *slash = strrchr(files.files[k].path, '/');
             printf("%s/%s\n", dir, slash ? slash + 1 : files.files[k].path);

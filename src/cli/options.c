@@ -28,6 +28,8 @@ static const option_spec option_table[] = {
     {"--extrapolate", OPT_AT, 0},
     {"--json", OPT_OUTPUTS, 1},
     {"--csv", OPT_OUTPUTS, 1},
+    {"--json-points", OPT_OUTPUTS, 0},
+    {"--points", OPT_OUTPUTS, 1},
     {"--confidence", OPT_CONFIDENCE, 1},
     {"--by", OPT_BY, 1},
     {"--use-all", OPT_DIAGNOSE, 0},
@@ -129,6 +131,10 @@ static int apply(cli_args *a, const char *name, const char *value)
         a->json_path = value;
     else if (strcmp(name, "--csv") == 0)
         a->csv_path = value;
+    else if (strcmp(name, "--json-points") == 0)
+        a->json_points = 1;
+    else if (strcmp(name, "--points") == 0)
+        a->points_path = value;
     else if (strcmp(name, "--out") == 0)
         a->out_dir = value;
     else if (strcmp(name, "--confidence") == 0) {
@@ -271,6 +277,11 @@ int cli_parse(int argc, char **argv, unsigned accepted, const char *usage, cli_a
     if (!args->campaign_dir) {
         cli_fail("%s: no campaign folder given; see 'arrank %s --help'", args->command,
                  args->command);
+        return EXIT_USAGE;
+    }
+    if (args->json_points && !args->json_path) {
+        cli_fail("%s: '--json-points' needs '--json FILE'; see 'arrank %s --help'",
+                 args->command, args->command);
         return EXIT_USAGE;
     }
     return -1;

@@ -171,12 +171,12 @@ void cli_report_unfitted(const cli_session *s)
     }
 }
 
-/* The --json/--csv destinations: refused before any work is shown when one
-   is an input or inside the campaign folder.  -1 or an exit status. */
+/* The --json/--csv/--points destinations: refused before any work is shown
+   when one is an input or inside the campaign folder.  -1 or an exit status. */
 static int check_outputs(const cli_args *args, const cli_session *s)
 {
     cli_stage_begin(s->campaign);
-    const char *paths[] = {args->json_path, args->csv_path};
+    const char *paths[] = {args->json_path, args->csv_path, args->points_path};
     for (size_t i = 0; i < sizeof paths / sizeof paths[0]; i++) {
         if (!paths[i] || strcmp(paths[i], "-") == 0)
             continue;
@@ -187,6 +187,15 @@ static int check_outputs(const cli_args *args, const cli_session *s)
     return -1;
 }
 
+int cli_outputs_to_stdout(const cli_args *args)
+{
+    const char *paths[] = {args->json_path, args->csv_path, args->points_path};
+    for (size_t i = 0; i < sizeof paths / sizeof *paths; i++)
+        if (paths[i] && strcmp(paths[i], "-") == 0)
+            return 1;
+    return 0;
+}
+
 int cli_write_outputs(const cli_args *args, const cli_session *s)
 {
     arrank_error err;
@@ -194,9 +203,12 @@ int cli_write_outputs(const cli_args *args, const cli_session *s)
     const struct {
         const char *path;
         arrank_output_format format;
-    } out[] = {{args->json_path, ARRANK_OUTPUT_JSON}, {args->csv_path, ARRANK_OUTPUT_CSV}};
+    } out[] = {{args->json_path,
+                args->json_points ? ARRANK_OUTPUT_JSON_POINTS : ARRANK_OUTPUT_JSON},
+               {args->csv_path, ARRANK_OUTPUT_CSV},
+               {args->points_path, ARRANK_OUTPUT_POINTS}};
     cli_stage_begin(s->campaign);
-    for (size_t i = 0; i < sizeof out / sizeof out[0]; i++) {
+    for (size_t i = 0; i < sizeof out / sizeof *out; i++) {
         if (!out[i].path)
             continue;
         int to_stdout = strcmp(out[i].path, "-") == 0;
@@ -232,8 +244,7 @@ int cli_analyse_and_print(cli_args *args, int need_T)
     arrank_error err;
     arrank_error_clear(&err);
     /* JSON or CSV on stdout replaces the table there */
-    int to_stdout = (args->json_path && strcmp(args->json_path, "-") == 0) ||
-                    (args->csv_path && strcmp(args->csv_path, "-") == 0);
+    int to_stdout = cli_outputs_to_stdout(args);
     if (!to_stdout) {
         arrank_status st = arrank_output_write(s.analysis, ARRANK_OUTPUT_TABLE, stdout, &err);
         if (st == ARRANK_OK && fflush(stdout) != 0)

@@ -745,7 +745,7 @@ static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure
         return;
     }
     const arrank_arrhenius *fit = &r->fit;
-    double t = arrank_t_quantile(a->options.confidence, fit->dof);
+    const double t = r->t_quantile; /* the pipeline's (analysis.c) */
     fprintf(f, "<table><thead><tr><th>quantity</th><th>estimate</th><th>%.4g %% interval</th>"
                "</tr></thead><tbody>\n",
             100 * a->options.confidence);

@@ -7,10 +7,12 @@ whether each target of the hardening issue is met, and exits 0 either way.
     bench.py BUILD [REPS]
 
 Campaigns are written once by gen_bench into BUILD/bench/.  Each repetition
-runs the floor, `arrank rank` (default: diagnostics on), `arrank rank
---no-diagnose` and the reference one after the other, so all see the same
-machine load; medians over REPS (default 5) after one warm-up run.  Wall-clock
-times; peak memory from GNU time (/usr/bin/time -f %M).
+runs the floor, `arrank rank` (default: diagnostics on, the table only),
+`arrank rank --no-diagnose`, what users run to hand the results on (`rank
+--json F --csv F`, and with `--points F`), and the reference (which writes
+its JSON too) one after the other, so all see the same machine load; medians
+over REPS (default 5) after one warm-up run.  Wall-clock times; peak memory
+from GNU time (/usr/bin/time -f %M); JSON bytes per sample.
 
 The reference does what `--no-diagnose` does (read, weighted fit, rate at T_op
 with its interval, sort) minus P(best), groups and compensation; the default
@@ -76,6 +78,12 @@ def ranked(cmd):
                   key=lambda s: s["rank"])
 
 
+def out_file(name):
+    """An output file of the timed runs, in BUILD/bench/out/."""
+    os.makedirs(os.path.join(BUILD, "bench", "out"), exist_ok=True)
+    return os.path.join(BUILD, "bench", "out", name)
+
+
 def main():
     c10k = campaign("c10k", 10000)
     print(f"bench: {REPS} repetitions, medians of wall-clock time; machine load: "
@@ -88,14 +96,22 @@ def main():
         # The reference's work (read, weighted fit, rate at T_op with interval,
         # sort) plus P(best), groups and compensation, without the diagnostics.
         "no-diag": [ARRANK, "rank", c10k, "--no-diagnose"],
-        "scipy": ["/usr/bin/python3", os.path.join(HERE, "reference.py"), c10k, T_OP_K],
+        # What users run to hand the results on: JSON and CSV files (and points.csv).
+        "files": [ARRANK, "rank", c10k, "--json", out_file("r.json"),
+                  "--csv", out_file("r.csv")],
+        "points": [ARRANK, "rank", c10k, "--json", out_file("p.json"),
+                   "--csv", out_file("p.csv"), "--points", out_file("points.csv")],
+        "scipy": ["/usr/bin/python3", os.path.join(HERE, "reference.py"), c10k, T_OP_K,
+                  "--json", out_file("scipy.json")],
     }
     med, times = medians(cmds, REPS)
     for k, cmd in cmds.items():
         runs = " ".join(f"{t:.3f}" for t in times[k])
         print(f"  {k:8s} {med[k]:8.3f} s   ({runs})   {' '.join(cmd)}")
-    mem = {k: peak_kb(cmds[k]) for k in ("arrank", "no-diag")}
-    for k in ("arrank", "no-diag"):
+    runs_mem = ("arrank", "no-diag", "files", "points")
+    mem = {k: peak_kb(cmds[k]) for k in runs_mem}
+    json_per_sample = os.path.getsize(out_file("r.json")) / 10000
+    for k in runs_mem:
         line = (f"  {k:8s} / floor = {med[k] / med['floor']:.2f}x   "
                 f"scipy / {k} = {med['scipy'] / med[k]:.1f}x")
         if mem[k] is not None:
@@ -113,6 +129,21 @@ def main():
         if mem[k] is not None:
             print(f"    peak memory <= 64 MB:     {verdict(mem[k] <= 64 * 1024)}  "
                   f"({mem[k] / 1024:.1f} MB)")
+    print("  files: rank --json F --csv F (default rank, the results handed on as files)")
+    k = "files"
+    print(f"    pass <= 0.3 s:            {verdict(med[k] <= 0.3)}  ({med[k]:.3f} s)")
+    print(f"    <= 3.5x the floor:        {verdict(med[k] <= 3.5 * med['floor'])}  "
+          f"({med[k] / med['floor']:.2f}x)")
+    print(f"    >= 15x faster than SciPy: {verdict(med['scipy'] >= 15 * med[k])}  "
+          f"({med['scipy'] / med[k]:.1f}x)")
+    if mem[k] is not None:
+        print(f"    peak memory <= 96 MB:     {verdict(mem[k] <= 96 * 1024)}  "
+              f"({mem[k] / 1024:.1f} MB)")
+    print(f"    JSON <= 2 kB a sample:    {verdict(json_per_sample <= 2048)}  "
+          f"({json_per_sample:.0f} bytes)")
+    print(f"  points: with --points F as well: {med['points']:.3f} s, "
+          f"{med['points'] / med['floor']:.2f}x the floor, "
+          f"points.csv {os.path.getsize(out_file('points.csv')) / 10000:.0f} bytes a sample")
 
     # Same answer: the ranked order against the reference's.
     ids = os.path.join(BUILD, "bench", "reference-ids.txt")

@@ -11,12 +11,15 @@ variance, absolute_sigma=False, as arrank does), predict the rate at the
 operating temperature with its t-based interval (scipy.stats.t.ppf, delta
 method with the full covariance), and sort by that rate, highest first.
 
-    reference.py CAMPAIGN T_OP_K [--ids FILE]
+    reference.py CAMPAIGN T_OP_K [--ids FILE] [--json FILE]
 
 Prints the ranked table on stdout; --ids writes the ranked sample ids, one a
-line, so the benchmark can check both programs agree on the order.
+line, so the benchmark can check both programs agree on the order; --json
+writes the results as JSON, one record per sample (rank, id, Ea, rate at T
+with its interval), as a script that hands its results on would.
 """
 import csv
+import json
 import math
 import os
 import sys
@@ -76,7 +79,8 @@ def fit_and_predict(T, r, sd, T_op, confidence):
 
 def main():
     folder, T_op = sys.argv[1], float(sys.argv[2])
-    ids_path = sys.argv[4] if len(sys.argv) > 4 and sys.argv[3] == "--ids" else None
+    opts = dict(zip(sys.argv[3::2], sys.argv[4::2]))
+    ids_path, json_path = opts.get("--ids"), opts.get("--json")
     results = []
     for name in sorted(os.listdir(folder)):
         if not name.endswith(".csv"):
@@ -91,6 +95,14 @@ def main():
     if ids_path:
         with open(ids_path, "w") as f:
             f.writelines(row[0] + "\n" for row in results)
+    if json_path:
+        with open(json_path, "w") as f:
+            json.dump({"operating_temperature_K": T_op, "rate_unit": "umol/(g*s)",
+                       "confidence": 0.95,
+                       "samples": [{"rank": k, "id": sid, "ea_kJ_mol": ea, "rate_at_T": rate,
+                                    "rate_at_T_ci": [lo, hi]}
+                                   for k, (sid, ea, rate, lo, hi) in enumerate(results, 1)]},
+                      f, indent=2)
 
 
 if __name__ == "__main__":

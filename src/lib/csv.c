@@ -1,0 +1,117 @@
+/*
+ * csv.c - the results as CSV, one row per sample (ranked samples first, in
+ * rank order), units in the header; streamed row by row.  Quantiles come
+ * from the pipeline (analysis.c).
+ */
+#include "csv.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "arrank/analysis_stats.h"
+#include "files.h"
+
+static void write_row(const arrank_analysis *a, const arrank_result *res, arrank_csv_row *row);
+
+static arrank_status write_csv(const arrank_analysis *a, FILE *f, arrank_error *err)
+{
+    arrank_csv_row *row = malloc(sizeof *row);
+    if (!row)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    row->f = f;
+    row->n = 0;
+    const char *u = a->campaign->rate_unit;
+    char h[6][160];
+    snprintf(h[0], sizeof h[0], "ln_A [ln(%s)]", u);
+    snprintf(h[1], sizeof h[1], "ln_A_se [ln(%s)]", u);
+    snprintf(h[2], sizeof h[2], "ln_A_ci_low [ln(%s)]", u);
+    snprintf(h[3], sizeof h[3], "ln_A_ci_high [ln(%s)]", u);
+    const char *fixed[] = {"rank", "id", "file", "n_points", "n_used", "ea [kJ/mol]",
+                           "ea_se [kJ/mol]", "ea_ci_low [kJ/mol]", "ea_ci_high [kJ/mol]"};
+    for (size_t i = 0; i < sizeof fixed / sizeof *fixed; i++)
+        arrank_files_csv_field(row, fixed[i], 0);
+    for (int i = 0; i < 4; i++)
+        arrank_files_csv_field(row, h[i], 0);
+    char rh[3][200];
+    snprintf(rh[0], sizeof rh[0], "rate_at_T [%s]", u);
+    snprintf(rh[1], sizeof rh[1], "rate_at_T_ci_low [%s]", u);
+    snprintf(rh[2], sizeof rh[2], "rate_at_T_ci_high [%s]", u);
+    const char *tail[] = {"corr_ea_lnA", "T_ref [K]", "T_min [K]", "T_max [K]", "T_op [K]",
+                          rh[0], rh[1], rh[2], "confidence", "p_best", "group", "flags", "error"};
+    for (size_t i = 0; i < sizeof tail / sizeof *tail; i++)
+        arrank_files_csv_field(row, tail[i], i + 1 == sizeof tail / sizeof *tail);
+
+    /* ranked samples first, in rank order, then the others in file order */
+    for (size_t k = 0; k < a->n_ranked; k++)
+        write_row(a, &a->results[a->order[k]], row);
+    for (size_t i = 0; i < a->n_results; i++)
+        if (a->results[i].rank == 0)
+            write_row(a, &a->results[i], row);
+    arrank_files_csv_flush(row);
+    free(row);
+    if (ferror(f))
+        return arrank_errorf(err, ARRANK_EIO, "write failed");
+    return ARRANK_OK;
+}
+
+/* One sample's row. */
+static void write_row(const arrank_analysis *a, const arrank_result *res, arrank_csv_row *row)
+{
+    const arrank_arrhenius *fit = &res->fit;
+    int ok = !res->error;
+    double t = res->t_quantile; /* the pipeline's (analysis.c) */
+    char rank[32] = "";
+    if (res->rank)
+        snprintf(rank, sizeof rank, "%d", res->rank);
+    arrank_files_csv_field(row, rank, 0);
+    arrank_files_csv_field(row, res->sample->id, 0);
+    arrank_files_csv_field(row, res->sample->file, 0);
+    arrank_files_csv_num(row, (double)res->sample->n_points, 0);
+    arrank_files_csv_num(row, (double)(ok ? fit->n : res->n_used), 0);
+    double ea = ok ? fit->ea_J_mol / 1e3 : NAN, se = ok ? fit->ea_se_J_mol / 1e3 : NAN;
+    arrank_files_csv_num(row, ea, 0);
+    arrank_files_csv_num(row, se, 0);
+    arrank_files_csv_num(row, ea - t * se, 0);
+    arrank_files_csv_num(row, ea + t * se, 0);
+    double la = ok ? fit->ln_A : NAN, lse = ok ? fit->ln_A_se : NAN;
+    arrank_files_csv_num(row, la, 0);
+    arrank_files_csv_num(row, lse, 0);
+    arrank_files_csv_num(row, la - t * lse, 0);
+    arrank_files_csv_num(row, la + t * lse, 0);
+    arrank_files_csv_num(row, ok ? fit->corr_ea_lnA : NAN, 0);
+    arrank_files_csv_num(row, ok ? fit->T_ref_K : NAN, 0);
+    arrank_files_csv_num(row, ok ? fit->T_min_K : NAN, 0);
+    arrank_files_csv_num(row, ok ? fit->T_max_K : NAN, 0);
+    arrank_files_csv_num(row, a->options.operating_temp_K, 0);
+    int p = ok && res->has_prediction;
+    arrank_files_csv_num(row, p ? res->at_T.rate : NAN, 0);
+    arrank_files_csv_num(row, p ? res->at_T.rate_lo : NAN, 0);
+    arrank_files_csv_num(row, p ? res->at_T.rate_hi : NAN, 0);
+    arrank_files_csv_num(row, a->options.confidence, 0);
+    const struct arrank_sample_stats *ss = res->stats;
+    arrank_files_csv_num(row, ss ? ss->p_best : NAN, 0);
+    arrank_files_csv_num(row, ss && ss->group > 0 ? (double)ss->group : NAN, 0);
+    /* flag names are [a-z_]: never quoted */
+    char flags[512];
+    size_t n = 0;
+    for (unsigned bit = 1; bit && bit < (1u << ARRANK_FLAG_COUNT); bit <<= 1)
+        if (res->flags & bit) {
+            const char *name = arrank_flag_name(bit);
+            size_t len = strlen(name);
+            if (n)
+                flags[n++] = ';';
+            memcpy(flags + n, name, len); /* 13 names of under 20 bytes fit */
+            n += len;
+        }
+    flags[n] = '\0';
+    arrank_files_csv_field(row, flags, 0);
+    arrank_files_csv_field(row, res->error ? res->error : "", 1);
+}
+
+
+arrank_status arrank_csv_write(const arrank_analysis *analysis, FILE *stream, arrank_error *err)
+{
+    return write_csv(analysis, stream, err);
+}
