@@ -36,9 +36,9 @@ ok_if "planted: the copy of fit.c compiles" test -s "$T/obj/src/lib/fit.o"
 "$PY" src/tools/check_layers.py --root "$T/tree" --objects "$T/obj" >"$T/out" 2>&1; st=$?
 expect_eq "planted upward call: check-layers fails" "$st" 1
 ok_if "planted: the upward include is named" \
-    grep -q '^src/lib/fit.c: includes analysis.h (analysis\*, layer 12) from fit (layer 8)' "$T/out"
+    grep -q '^src/lib/fit.c: includes analysis.h (analysis\*, layer 13) from fit (layer 9)' "$T/out"
 ok_if "planted: the upward call is named" \
-    grep -q '^src/lib/fit.c: calls arrank_analysis_run in analysis\* (layer 12) from layer 8' "$T/out"
+    grep -q '^src/lib/fit.c: calls arrank_analysis_run in analysis\* (layer 13) from layer 9' "$T/out"
 
 # The program including a private header of the library.
 printf '#include "../lib/stats.h"\n' >>"$T/tree/src/cli/main.c"

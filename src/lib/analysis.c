@@ -20,6 +20,7 @@
 #include "arrank/screen.h"
 #include "util.h"
 #include "stats.h"
+#include "number.h"
 
 /* Thresholds for the basic flags (README "Flags"). */
 #define FEW_POINTS 4            /* fewer points than this: flag (common practice) */
@@ -300,8 +301,9 @@ static arrank_status analyse_all(arrank_analysis *a, const arrank_options *opt,
                                "fitting samples", err);
 }
 
-arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_options *options,
-                                  arrank_analysis **out, arrank_error *err)
+static arrank_status analysis_run_in_c(const arrank_campaign *campaign,
+                                       const arrank_options *options, arrank_analysis **out,
+                                       arrank_error *err)
 {
     *out = NULL;
     arrank_options opt = options ? *options : arrank_options_defaults();
@@ -411,6 +413,18 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
 
 fail:
     arrank_analysis_free(a);
+    return st;
+}
+
+/* The public entry: the work in the C locale, rounding to nearest, whatever the
+   host program set (number.h), and then the host's settings back. */
+arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_options *options,
+                                  arrank_analysis **out, arrank_error *err)
+{
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    arrank_status st = analysis_run_in_c(campaign, options, out, err);
+    arrank_numbers_c_leave(&env);
     return st;
 }
 

@@ -12,6 +12,7 @@
 #include "sample_internal.h"
 #include "units_internal.h"
 #include "util.h"
+#include "number.h"
 
 #include <dirent.h>
 #include <errno.h>
@@ -482,9 +483,9 @@ arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_
     return arrank_campaign_load_progress(dir, units, NULL, NULL, out, err);
 }
 
-arrank_status arrank_campaign_load_progress(const char *dir, arrank_units *units,
-                                            arrank_progress_fn progress, void *progress_ctx,
-                                            arrank_campaign **out, arrank_error *err)
+static arrank_status campaign_load_progress_in_c(const char *dir, arrank_units *units,
+                                                 arrank_progress_fn progress, void *progress_ctx,
+                                                 arrank_campaign **out, arrank_error *err)
 {
     if (out)
         *out = NULL;
@@ -519,6 +520,19 @@ arrank_status arrank_campaign_load_progress(const char *dir, arrank_units *units
     }
     *out = ls.c;
     return ARRANK_OK;
+}
+
+/* The public entry: the work in the C locale, rounding to nearest, whatever the
+   host program set (number.h), and then the host's settings back. */
+arrank_status arrank_campaign_load_progress(const char *dir, arrank_units *units,
+                                            arrank_progress_fn progress, void *progress_ctx,
+                                            arrank_campaign **out, arrank_error *err)
+{
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    arrank_status st = campaign_load_progress_in_c(dir, units, progress, progress_ctx, out, err);
+    arrank_numbers_c_leave(&env);
+    return st;
 }
 
 arrank_status arrank_campaign_parse_ini(const char *name, const char *data, size_t len,

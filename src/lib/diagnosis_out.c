@@ -13,6 +13,7 @@
 #include "arrank/analysis.h"
 #include "arrank/diagnose.h"
 #include "diagnosis_out.h"
+#include "number.h"
 
 /* ---- JSON ------------------------------------------------------------------- */
 
@@ -249,7 +250,7 @@ static size_t basic_problems(FILE *f, const arrank_result *res, int *bad)
     return k;
 }
 
-arrank_status arrank_diagnosis_write_text(FILE *f, const arrank_result *res, arrank_error *err)
+static arrank_status diagnosis_write_text_in_c(FILE *f, const arrank_result *res, arrank_error *err)
 {
     const arrank_sample *s = res->sample;
     const arrank_diagnosis *d = res->diagnosis;
@@ -289,4 +290,15 @@ arrank_status arrank_diagnosis_write_text(FILE *f, const arrank_result *res, arr
     if (bad || ferror(f))
         return arrank_errorf(err, ARRANK_EIO, "cannot write the diagnostics of '%s'", s->id);
     return ARRANK_OK;
+}
+
+/* The public entry: the work in the C locale, rounding to nearest, whatever the
+   host program set (number.h), and then the host's settings back. */
+arrank_status arrank_diagnosis_write_text(FILE *f, const arrank_result *res, arrank_error *err)
+{
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    arrank_status st = diagnosis_write_text_in_c(f, res, err);
+    arrank_numbers_c_leave(&env);
+    return st;
 }

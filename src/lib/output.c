@@ -12,9 +12,10 @@
 #include "json.h"
 #include "points.h"
 #include "table.h"
+#include "number.h"
 
-arrank_status arrank_output_write(const arrank_analysis *analysis, arrank_output_format format,
-                                  FILE *stream, arrank_error *err)
+static arrank_status output_write_in_c(const arrank_analysis *analysis, arrank_output_format format,
+                                       FILE *stream, arrank_error *err)
 {
     switch (format) {
     case ARRANK_OUTPUT_JSON: return arrank_json_write(analysis, 0, stream, err);
@@ -24,6 +25,18 @@ arrank_status arrank_output_write(const arrank_analysis *analysis, arrank_output
     case ARRANK_OUTPUT_TABLE: return arrank_table_write(analysis, stream, err);
     }
     return arrank_errorf(err, ARRANK_EINVAL, "unknown output format %d", (int)format);
+}
+
+/* The public entry: the work in the C locale, rounding to nearest, whatever the
+   host program set (number.h), and then the host's settings back. */
+arrank_status arrank_output_write(const arrank_analysis *analysis, arrank_output_format format,
+                                  FILE *stream, arrank_error *err)
+{
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    arrank_status st = output_write_in_c(analysis, format, stream, err);
+    arrank_numbers_c_leave(&env);
+    return st;
 }
 
 arrank_status arrank_output_save_with(const char *path,
@@ -44,9 +57,21 @@ static arrank_status save_writer(FILE *f, void *ctx, arrank_error *err)
     return arrank_output_write(s->analysis, s->format, f, err);
 }
 
-arrank_status arrank_output_save(const arrank_analysis *analysis, arrank_output_format format,
-                                 const char *path, arrank_error *err)
+static arrank_status output_save_in_c(const arrank_analysis *analysis, arrank_output_format format,
+                                      const char *path, arrank_error *err)
 {
     struct save_ctx ctx = {analysis, format};
     return arrank_files_save(path, save_writer, &ctx, err);
+}
+
+/* The public entry: the work in the C locale, rounding to nearest, whatever the
+   host program set (number.h), and then the host's settings back. */
+arrank_status arrank_output_save(const arrank_analysis *analysis, arrank_output_format format,
+                                 const char *path, arrank_error *err)
+{
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    arrank_status st = output_save_in_c(analysis, format, path, err);
+    arrank_numbers_c_leave(&env);
+    return st;
 }

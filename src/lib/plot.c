@@ -39,6 +39,7 @@
 #include "arrank/analysis_stats.h"
 #include "plot_internal.h"
 #include "util.h"
+#include "number.h"
 
 
 
@@ -567,8 +568,8 @@ static void write_script(const arrank_analysis *a, const figure *figs, const out
     }
 }
 
-arrank_status arrank_plot_script(const arrank_analysis *a, unsigned formats, FILE *stream,
-                                 arrank_error *err)
+static arrank_status plot_script_in_c(const arrank_analysis *a, unsigned formats, FILE *stream,
+                                      arrank_error *err)
 {
     figure *figs = malloc((a->n_results + 3) * sizeof *figs);
     output *outs = malloc((a->n_results + 3) * N_FORMATS * sizeof *outs);
@@ -586,6 +587,18 @@ arrank_status arrank_plot_script(const arrank_analysis *a, unsigned formats, FIL
         return arrank_errorf(err, ARRANK_EIO, "cannot write the gnuplot script: %s",
                              strerror(errno));
     return ARRANK_OK;
+}
+
+/* The public entry: the work in the C locale, rounding to nearest, whatever the
+   host program set (number.h), and then the host's settings back. */
+arrank_status arrank_plot_script(const arrank_analysis *a, unsigned formats, FILE *stream,
+                                 arrank_error *err)
+{
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    arrank_status st = plot_script_in_c(a, formats, stream, err);
+    arrank_numbers_c_leave(&env);
+    return st;
 }
 
 void arrank_plot_files_clear(arrank_plot_files *files)
@@ -610,9 +623,9 @@ static char *join_path(const char *dir, const char *name)
     return p;
 }
 
-arrank_status arrank_plot_write(const arrank_analysis *a, const char *out_dir,
-                                const arrank_plot_options *options, arrank_plot_files *written,
-                                arrank_error *err)
+static arrank_status plot_write_in_c(const arrank_analysis *a, const char *out_dir,
+                                     const arrank_plot_options *options, arrank_plot_files *written,
+                                     arrank_error *err)
 {
     arrank_plot_options opt = options ? *options : arrank_plot_defaults();
     if (written) {
@@ -724,5 +737,18 @@ done:
     free(figs);
     free(outs);
     free(program);
+    return st;
+}
+
+/* The public entry: the work in the C locale, rounding to nearest, whatever the
+   host program set (number.h), and then the host's settings back. */
+arrank_status arrank_plot_write(const arrank_analysis *a, const char *out_dir,
+                                const arrank_plot_options *options, arrank_plot_files *written,
+                                arrank_error *err)
+{
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    arrank_status st = plot_write_in_c(a, out_dir, options, written, err);
+    arrank_numbers_c_leave(&env);
     return st;
 }

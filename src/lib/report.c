@@ -44,6 +44,7 @@
 #include "arrank/analysis_stats.h"
 #include "arrank/version.h"
 #include "util.h"
+#include "number.h"
 
 #define ZERO_C_K 273.15 /* 0 degC in K, exact by definition */
 
@@ -988,8 +989,8 @@ static char *dir_of(const char *path)
     return d;
 }
 
-arrank_status arrank_report_write(const arrank_analysis *a, const char *path,
-                                  const arrank_report_options *options, arrank_error *err)
+static arrank_status report_write_in_c(const arrank_analysis *a, const char *path,
+                                       const arrank_report_options *options, arrank_error *err)
 {
     arrank_report_options o = options ? *options : arrank_report_defaults();
     time_t made;
@@ -1047,5 +1048,17 @@ done:
     free(tmp);
     free_figures(&fs);
     free(dir);
+    return st;
+}
+
+/* The public entry: the work in the C locale, rounding to nearest, whatever the
+   host program set (number.h), and then the host's settings back. */
+arrank_status arrank_report_write(const arrank_analysis *a, const char *path,
+                                  const arrank_report_options *options, arrank_error *err)
+{
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    arrank_status st = report_write_in_c(a, path, options, err);
+    arrank_numbers_c_leave(&env);
     return st;
 }

@@ -12,6 +12,7 @@
 #include <string.h>
 #include <unistd.h>
 
+#include "number.h"
 #include "util.h"
 
 char *arrank_strdup(const char *s)
@@ -113,10 +114,20 @@ typedef struct {
     size_t worker;
 } worker_start;
 
+/* Every worker runs in the C locale, rounding to nearest, whatever the host
+   program set: the library's numbers never depend on it (number.h). */
+static void run_in_c(void (*fn)(void *ctx, size_t worker), void *ctx, size_t worker)
+{
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    fn(ctx, worker);
+    arrank_numbers_c_leave(&env);
+}
+
 static void *worker_main(void *arg)
 {
     worker_start *ws = arg;
-    ws->fn(ws->ctx, ws->worker);
+    run_in_c(ws->fn, ws->ctx, ws->worker);
     return NULL;
 }
 
@@ -131,12 +142,12 @@ void arrank_workers_run(size_t n, void (*fn)(void *ctx, size_t worker), void *ct
         ws[w] = (worker_start){fn, ctx, w};
         started[w] = pthread_create(&th[w], NULL, worker_main, &ws[w]) == 0;
     }
-    fn(ctx, 0);
+    run_in_c(fn, ctx, 0);
     for (size_t w = 1; w < n; w++) {
         if (started[w])
             pthread_join(th[w], NULL);
         else /* no thread to be had: the work is still done, here */
-            fn(ctx, w);
+            run_in_c(fn, ctx, w);
     }
 }
 
