@@ -263,22 +263,17 @@ static int jacobian_covariance(const gsl_matrix *J, const gsl_vector *b, gsl_mat
     return 0;
 }
 
-arrank_status arrank_nlfit_run(arrank_model_fn model, void *ctx, size_t n_params, const double *y,
-                               const double *w, size_t n, const double *start,
-                               const arrank_nlfit_options *options, arrank_nlfit *out,
-                               arrank_error *err)
+/* Step 1 of arrank_nlfit_run: the arguments, before anything is allocated
+   (no residual degrees of freedom, no fit). */
+static arrank_status nlfit_check(size_t n_params, const double *y, const double *w, size_t n,
+                                 const double *start, const arrank_nlfit_options *opt,
+                                 arrank_error *err)
 {
-    if (!model || !y || !start || !out || n_params == 0)
-        return arrank_errorf(err, ARRANK_EINVAL, "'nonlinear fit' needs a model, data, a "
-                                                 "starting point and a result record");
-    memset(out, 0, sizeof *out);
-    /* Refuse before allocating anything: no residual degrees of freedom, no fit. */
     if (n <= n_params)
         return arrank_errorf(err, ARRANK_EFIT,
                              "%zu points are too few for %zu parameters; at least %zu are needed",
                              n, n_params, n_params + 1);
-    const arrank_nlfit_options opt = options ? *options : arrank_nlfit_defaults();
-    if (opt.max_iter == 0 || !(opt.xtol >= 0) || !(opt.gtol >= 0) || !(opt.ftol >= 0))
+    if (opt->max_iter == 0 || !(opt->xtol >= 0) || !(opt->gtol >= 0) || !(opt->ftol >= 0))
         return arrank_errorf(err, ARRANK_EINVAL,
                              "'nonlinear fit' options need max_iter > 0 and tolerances >= 0");
     for (size_t i = 0; i < n; i++) {
@@ -290,9 +285,74 @@ arrank_status arrank_nlfit_run(arrank_model_fn model, void *ctx, size_t n_params
     for (size_t k = 0; k < n_params; k++)
         if (!isfinite(start[k]))
             return arrank_errorf(err, ARRANK_EFIT, "starting value %zu is not finite", k + 1);
+    return ARRANK_OK;
+}
+
+/*
+ * Step 3 of arrank_nlfit_run: is the point where the driver stopped a
+ * minimum?  Only if the residual is orthogonal to the tangent plane: the
+ * relative offset criterion of Bates & Watts (Nonlinear Regression Analysis
+ * and Its Applications, 1988, sec. 2.2.3), with their tolerance 0.001.  The
+ * driver's step test alone also passes where the trust region has shrunk to
+ * nothing against the edge of the domain.  A residual at rounding level
+ * (exact data) leaves the offset ratio as noise over noise: then the fit is
+ * exact and the test does not apply.
+ */
+static arrank_status nlfit_minimum(gsl_multifit_nlinear_workspace *work, const gsl_matrix *covm,
+                                   const double *y, const double *w, size_t n, size_t p,
+                                   double rss, int stalled, int stall_why, size_t refused,
+                                   size_t iterations, arrank_error *err)
+{
+    const double dof = (double)(n - p);
+    double ysq = 0.0;
+    for (size_t i = 0; i < n; i++)
+        ysq += (w ? w[i] : 1.0) * y[i] * y[i];
+    const int exact = rss <= EXACT_FIT_RSS_REL * ysq;
+    if (!(rss > 0 && !exact))
+        return ARRANK_OK; /* exact: a stall there is the answer too */
+    gsl_vector *g = gsl_vector_alloc(p), *Cg = gsl_vector_alloc(p);
+    if (!g || !Cg) {
+        gsl_vector_free(g);
+        gsl_vector_free(Cg);
+        return arrank_errorf(err, ARRANK_ENOMEM, "no memory for a nonlinear fit of %zu points", n);
+    }
+    const gsl_vector *f = gsl_multifit_nlinear_residual(work);
+    gsl_blas_dgemv(CblasTrans, 1.0, gsl_multifit_nlinear_jac(work), f, 0.0, g);
+    gsl_blas_dsymv(CblasUpper, 1.0, covm, g, 0.0, Cg);
+    double proj2;
+    gsl_blas_ddot(g, Cg, &proj2);
+    gsl_vector_free(g);
+    gsl_vector_free(Cg);
+    const double orth2 = fmax(rss - proj2, DBL_MIN);
+    const double offset = sqrt(fmax(proj2, 0) / (double)p) / sqrt(orth2 / dof);
+    if (offset <= RELATIVE_OFFSET_TOL)
+        return ARRANK_OK;
+    if (stalled)
+        return arrank_errorf(err, ARRANK_ENOCONV,
+                             "the nonlinear fit did not converge after %zu iterations: %s",
+                             iterations, gsl_strerror(stall_why));
+    return arrank_errorf(err, ARRANK_ENOCONV,
+                         "the nonlinear fit stopped away from a minimum after %zu "
+                         "iterations (relative offset %.2g > %g; %zu trial points were "
+                         "outside the model's domain)",
+                         iterations, offset, RELATIVE_OFFSET_TOL, refused);
+}
+
+arrank_status arrank_nlfit_run(arrank_model_fn model, void *ctx, size_t n_params, const double *y,
+                               const double *w, size_t n, const double *start,
+                               const arrank_nlfit_options *options, arrank_nlfit *out,
+                               arrank_error *err)
+{
+    if (!model || !y || !start || !out || n_params == 0)
+        return arrank_errorf(err, ARRANK_EINVAL, "'nonlinear fit' needs a model, data, a "
+                                                 "starting point and a result record");
+    memset(out, 0, sizeof *out);
+    const arrank_nlfit_options opt = options ? *options : arrank_nlfit_defaults();
+    arrank_status st = nlfit_check(n_params, y, w, n, start, &opt, err);
+    if (st != ARRANK_OK)
+        return st;
 
     const size_t p = n_params;
-    arrank_status st = ARRANK_OK;
     nl_problem pb = { model, ctx, y, n, p, NULL, 0, 0 };
     gsl_multifit_nlinear_workspace *work = NULL;
     gsl_vector *x0 = gsl_vector_alloc(p);
@@ -387,60 +447,12 @@ arrank_status arrank_nlfit_run(arrank_model_fn model, void *ctx, size_t n_params
                            "effect there or the parameters are not separable from these data");
         goto done;
     }
-    /*
-     * A stop is a minimum only if the residual is orthogonal to the tangent
-     * plane: the relative offset criterion of Bates & Watts (Nonlinear
-     * Regression Analysis and Its Applications, 1988, sec. 2.2.3), with their
-     * tolerance 0.001.  The driver's step test alone also passes where the
-     * trust region has shrunk to nothing against the edge of the domain.
-     */
-    const double dof = (double)(n - p);
-    /* A residual at rounding level (exact data) leaves the offset ratio as
-       noise over noise: then the fit is exact and the test does not apply. */
-    double ysq = 0.0;
-    for (size_t i = 0; i < n; i++)
-        ysq += (w ? w[i] : 1.0) * y[i] * y[i];
-    const int exact = rss <= EXACT_FIT_RSS_REL * ysq;
-    if (stalled && !(rss > 0 && !exact)) {
-        if (!exact) {
-            st = arrank_errorf(err, ARRANK_ENOCONV,
-                               "the nonlinear fit did not converge after %zu iterations: %s",
-                               out->iterations, gsl_strerror(stall_why));
-            goto done;
-        }
-    } else if (rss > 0 && !exact) {
-        gsl_vector *g = gsl_vector_alloc(p), *Cg = gsl_vector_alloc(p);
-        if (!g || !Cg) {
-            gsl_vector_free(g);
-            gsl_vector_free(Cg);
-            st = arrank_errorf(err, ARRANK_ENOMEM, "no memory for a nonlinear fit of %zu points",
-                               n);
-            goto done;
-        }
-        gsl_blas_dgemv(CblasTrans, 1.0, gsl_multifit_nlinear_jac(work), f, 0.0, g);
-        gsl_blas_dsymv(CblasUpper, 1.0, covm, g, 0.0, Cg);
-        double proj2;
-        gsl_blas_ddot(g, Cg, &proj2);
-        gsl_vector_free(g);
-        gsl_vector_free(Cg);
-        const double orth2 = fmax(rss - proj2, DBL_MIN);
-        const double offset = sqrt(fmax(proj2, 0) / (double)p) / sqrt(orth2 / dof);
-        if (!(offset <= RELATIVE_OFFSET_TOL) && stalled) {
-            st = arrank_errorf(err, ARRANK_ENOCONV,
-                               "the nonlinear fit did not converge after %zu iterations: %s",
-                               out->iterations, gsl_strerror(stall_why));
-            goto done;
-        }
-        if (!(offset <= RELATIVE_OFFSET_TOL)) {
-            st = arrank_errorf(err, ARRANK_ENOCONV,
-                               "the nonlinear fit stopped away from a minimum after %zu "
-                               "iterations (relative offset %.2g > %g; %zu trial points were "
-                               "outside the model's domain)",
-                               out->iterations, offset, RELATIVE_OFFSET_TOL, pb.refused);
-            goto done;
-        }
-    }
+    st = nlfit_minimum(work, covm, y, w, n, p, rss, stalled, stall_why, pb.refused,
+                       out->iterations, err);
+    if (st != ARRANK_OK)
+        goto done;
     /* covariance s^2 (J'WJ)^-1 with s^2 = rss/dof, for an unknown error scale */
+    const double dof = (double)(n - p);
     const double s2 = rss / dof;
     for (size_t k = 0; k < p; k++) {
         out->params[k] = gsl_vector_get(x, k);
