@@ -1,5 +1,5 @@
 /*
- * test_heat.c - the heat checks of the diagnosis (transport.c): Mears'
+ * test_transport.c - the heat checks of the diagnosis (transport.c): Mears'
  * interphase and Anderson's intraparticle heat criteria, Prater's
  * temperature rise, the hot-spot caution with the feed's adiabatic rise,
  * the `heat` flag, the entries each check needs, and the units of the
