@@ -36,9 +36,10 @@ enum {
     ARRANK_FLAG_OUTLIER = 1u << 9,         /* an influential or outlying point */
     ARRANK_FLAG_MIXED_BASIS = 1u << 10,    /* campaign mixes per-mass/area/site rates */
     ARRANK_FLAG_EXCLUDED = 1u << 11,       /* some points left out of the fit */
-    ARRANK_FLAG_POOR_FIT = 1u << 12        /* chi2/dof far above 1: rate_sd understated */
+    ARRANK_FLAG_POOR_FIT = 1u << 12,       /* chi2/dof far above 1: rate_sd understated */
+    ARRANK_FLAG_HEAT = 1u << 13            /* a heat criterion (Mears, Anderson) fails */
 };
-#define ARRANK_FLAG_COUNT 13
+#define ARRANK_FLAG_COUNT 14
 
 /* JSON name of one flag bit ("extrapolated"), or NULL for an unknown bit. */
 const char *arrank_flag_name(unsigned flag);

@@ -70,16 +70,52 @@ typedef struct {
     size_t n_causes;
 } arrank_curvature;
 
-/* A dimensionless transport criterion (Weisz-Prater, Mears). */
+/* A dimensionless transport criterion (Weisz-Prater, Mears; the heat
+   criteria of Mears and Anderson). */
 typedef struct {
     int computed;          /* 0: metadata missing or unusable; see detail */
     double value;          /* the number */
     double threshold;      /* limit below which the transport effect is negligible */
     const char *source;    /* where the threshold comes from (static string) */
-    double temp_K;         /* temperature of the observed rate used (the hottest point) */
+    double temp_K;         /* temperature of the observed rate used: the hottest point
+                              (Weisz-Prater, Mears), the used point with the largest
+                              value (the heat criteria) */
     int passes;            /* 1: value < threshold */
-    char *detail;          /* inputs used, or why it was not computed */
+    char *detail;          /* inputs used, or why it was not computed (NULL: no transport
+                              or heat metadata given, nothing to say) */
 } arrank_criterion;
+
+/* Prater's bound on the temperature difference between a pellet's centre
+   and its surface (Prater, Chem. Eng. Sci. 8:284, 1958). */
+typedef struct {
+    int computed;          /* 0: metadata missing or unusable; see detail */
+    double rise_K;         /* (-dH) D_e C_s / lambda_e: centre at most this much hotter
+                              (colder when negative: endothermic) than the surface */
+    double beta;           /* rise_K / T_s, T_s = temp_K */
+    double temp_K;         /* surface temperature taken: the hottest used point */
+    const char *source;    /* static string */
+    char *detail;          /* inputs used, or what is missing; NULL: nothing to say */
+} arrank_prater;
+
+/* An exothermic reaction run above the differential conversion limit. */
+typedef struct {
+    double enthalpy_J_mol;   /* reaction_enthalpy (negative: exothermic); NAN if not given */
+    double conversion_max;   /* highest conversion of a usable point (fraction); NAN if none */
+    double temp_K;           /* temperature of that point; NAN if none */
+    long line;               /* its line in the file; 0 if none */
+    int caution;             /* 1: exothermic and some point above the conversion limit */
+    double adiabatic_rise_K; /* (-dH) y_A0 X_max / c_p of the feed; NAN when not computed */
+    char *detail;            /* inputs of the adiabatic rise, or the entries it needs;
+                                NULL when there is no caution */
+} arrank_hot_spot;
+
+/* The heat checks of one sample (transport.c). */
+typedef struct {
+    arrank_criterion interphase;    /* Mears (1971) interphase heat criterion */
+    arrank_criterion intraparticle; /* Anderson (1963) intraparticle heat criterion */
+    arrank_prater prater;
+    arrank_hot_spot hot_spot;
+} arrank_heat_checks;
 
 /* Comparison of one run (or repeat pass) with the first. */
 typedef struct {
@@ -124,6 +160,7 @@ struct arrank_diagnosis {
     double window_lo_K, window_hi_K; /* kinetic window; NAN if none */
     size_t window_n;
     arrank_criterion weisz_prater, mears;
+    arrank_heat_checks heat;   /* heat criteria, Prater's rise, the hot-spot caution */
     double conversion_limit;
     size_t n_high_conversion;
     arrank_run_shift *runs;    /* [n_runs] each later run against the first */

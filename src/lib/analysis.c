@@ -46,6 +46,9 @@ static const struct {
     {ARRANK_FLAG_MIXED_BASIS, "mixed_basis", "campaign mixes normalisation bases"},
     {ARRANK_FLAG_EXCLUDED, "excluded", "points left out of the fit"},
     {ARRANK_FLAG_POOR_FIT, "poor_fit", "scatter larger than rate_sd allows"},
+    {ARRANK_FLAG_HEAT, "heat",
+     "heat transfer may limit: the bed or pellet may be hotter (colder if endothermic) than "
+     "measured"},
 };
 
 const char *arrank_flag_name(unsigned flag)

@@ -56,6 +56,10 @@ static void diagnosis_flags(arrank_result *res, size_t n_base)
         res->flags |= ARRANK_FLAG_OUTLIER;
     if (d->mixed_basis)
         res->flags |= ARRANK_FLAG_MIXED_BASIS;
+    const arrank_heat_checks *h = &d->heat;
+    if ((h->interphase.computed && !h->interphase.passes) ||
+        (h->intraparticle.computed && !h->intraparticle.passes))
+        res->flags |= ARRANK_FLAG_HEAT;
     if (res->n_used < n_base)
         res->flags |= ARRANK_FLAG_EXCLUDED;
 }

@@ -1019,7 +1019,8 @@ arrank_status arrank_diagnose_conclude(arrank_diagnosis *d, const arrank_diagnos
     }
 
     /* 8. transport criteria, mixed basis */
-    arrank_transport_criteria(&wk, opt->rate_unit, opt->units, opt->units_why);
+    arrank_transport_criteria(&wk, final_fit ? final_fit->ea_J_mol : d->ea_all_J_mol,
+                              opt->rate_unit, opt->units, opt->units_why);
     char why[512];
     int mixed = own_basis_mismatch(s, why, sizeof why) ||
                 (opt->basis.known && opt->basis.mixed &&
@@ -1035,6 +1036,7 @@ arrank_status arrank_diagnose_conclude(arrank_diagnosis *d, const arrank_diagnos
                                                               : d->ea_all_J_mol,
                     d->has_repeats);
     describe(&wk, final_fit, base, n);
+    arrank_transport_describe(&wk);
     if (wk.nomem)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     return ARRANK_OK;
@@ -1056,8 +1058,7 @@ void arrank_diagnosis_free(arrank_diagnosis *d)
         free(cv->causes[k].evidence);
     }
     free(cv->causes);
-    free(d->weisz_prater.detail);
-    free(d->mears.detail);
+    arrank_transport_free(d);
     for (size_t j = 0; j < d->n_runs; j++) {
         free(d->runs[j].label_ref);
         free(d->runs[j].label);

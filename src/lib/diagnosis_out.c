@@ -50,6 +50,39 @@ static json_t *criterion_json(const arrank_criterion *c)
     return o;
 }
 
+/* Prater's temperature rise: rise_K (centre above the surface, at most),
+   beta, the surface temperature, source and inputs. */
+static json_t *prater_json(const arrank_prater *p)
+{
+    json_t *o = json_object();
+    if (!o)
+        return NULL;
+    json_object_set_new(o, "computed", json_boolean(p->computed));
+    json_object_set_new(o, "rise_K", p->computed ? jnum(p->rise_K) : json_null());
+    json_object_set_new(o, "beta", p->computed ? jnum(p->beta) : json_null());
+    json_object_set_new(o, "temp_K", jnum(p->temp_K));
+    json_object_set_new(o, "source", jstr(p->source));
+    json_object_set_new(o, "detail", jstr(p->detail));
+    return o;
+}
+
+/* The hot-spot caution: enthalpy, highest conversion and where, the
+   adiabatic rise of the feed there. */
+static json_t *hot_spot_json(const arrank_hot_spot *h)
+{
+    json_t *o = json_object();
+    if (!o)
+        return NULL;
+    json_object_set_new(o, "caution", json_boolean(h->caution));
+    json_object_set_new(o, "reaction_enthalpy_kJ_mol", jkj(h->enthalpy_J_mol));
+    json_object_set_new(o, "conversion_max", jnum(h->conversion_max));
+    json_object_set_new(o, "temp_K", jnum(h->temp_K));
+    json_object_set_new(o, "line", h->line > 0 ? json_integer((json_int_t)h->line) : json_null());
+    json_object_set_new(o, "adiabatic_rise_K", jnum(h->adiabatic_rise_K));
+    json_object_set_new(o, "detail", jstr(h->detail));
+    return o;
+}
+
 static json_t *curvature_json(const arrank_curvature *cv)
 {
     json_t *o = json_object(), *q = json_object(), *sr = json_object(), *loc = json_array(),
@@ -170,6 +203,10 @@ json_t *arrank_diagnosis_json(const arrank_result *res)
     json_object_set_new(o, "curvature", curvature_json(&d->curvature));
     json_object_set_new(crit, "weisz_prater", criterion_json(&d->weisz_prater));
     json_object_set_new(crit, "mears", criterion_json(&d->mears));
+    json_object_set_new(crit, "interphase_heat", criterion_json(&d->heat.interphase));
+    json_object_set_new(crit, "intraparticle_heat", criterion_json(&d->heat.intraparticle));
+    json_object_set_new(crit, "prater_rise", prater_json(&d->heat.prater));
+    json_object_set_new(crit, "hot_spot", hot_spot_json(&d->heat.hot_spot));
     json_object_set_new(o, "criteria", crit);
     json_object_set_new(qual, "conversion_limit", jnum(d->conversion_limit));
     json_object_set_new(qual, "high_conversion", hc);
