@@ -526,12 +526,11 @@ static int arrhenius_weights(const double *rate, const double *rate_sd, size_t n
     return 1;
 }
 
-arrank_status arrank_fit_arrhenius(const double *temp_K, const double *rate, const double *rate_sd,
-                                   size_t n, arrank_arrhenius *fit, arrank_error *err)
+/* Step 1 of arrank_fit_arrhenius: the points are fit to be fitted; their
+   temperature range in *T_min, *T_max. */
+static arrank_status arrhenius_check(const double *temp_K, const double *rate, size_t n,
+                                     double *T_min_out, double *T_max_out, arrank_error *err)
 {
-    if (!fit || (n > 0 && (!temp_K || !rate)))
-        return arrank_errorf(err, ARRANK_EINVAL, "'arrhenius fit' needs temperatures, rates "
-                                                 "and a result record");
     if (n < 3)
         return arrank_errorf(err, ARRANK_EFIT,
                              "3 points are needed for a fit with an interval; this sample has %zu",
@@ -555,6 +554,50 @@ arrank_status arrank_fit_arrhenius(const double *temp_K, const double *rate, con
         return arrank_errorf(err, ARRANK_EFIT,
                              "all %zu points are at one temperature (%g K); a slope needs two",
                              n, T_min);
+    *T_min_out = T_min;
+    *T_max_out = T_max;
+    return ARRANK_OK;
+}
+
+/* Step 3 of arrank_fit_arrhenius: the fit record from the centred line
+   y = b0 + b1 (1/T - u_mean) and its covariance [c00 c01; c01 c11]. */
+static void arrhenius_store(arrank_arrhenius *fit, size_t n, int weighted, double u_mean,
+                            double b0, double b1, double c00, double c01, double c11, double s2)
+{
+    fit->n = n;
+    fit->weighted = weighted;
+    fit->T_ref_K = 1.0 / u_mean;
+    fit->b0 = b0;
+    fit->b1 = b1;
+    fit->cov[0][0] = c00;
+    fit->cov[1][1] = c11;
+    fit->cov[0][1] = fit->cov[1][0] = c01;
+    fit->dof = (double)(n - 2);
+    /* Ea = -R b1 and ln A = b0 - b1 / T_ref: README "The numbers". */
+    const double R = ARRANK_R_J_MOL_K;
+    fit->ea_J_mol = -R * b1;
+    fit->ea_se_J_mol = R * sqrt(c11);
+    fit->ln_A = b0 - b1 * u_mean;
+    const double var_lnA = c00 + u_mean * u_mean * c11 - 2.0 * u_mean * c01;
+    fit->ln_A_se = sqrt(var_lnA > 0 ? var_lnA : 0);
+    /* cov(-R b1, b0 - u b1) = -R cov01 + R u cov11 */
+    fit->cov_ea_lnA_J_mol = -R * c01 + R * u_mean * c11;
+    const double sd_prod = fit->ea_se_J_mol * fit->ln_A_se;
+    fit->corr_ea_lnA = sd_prod > 0 ? fit->cov_ea_lnA_J_mol / sd_prod : NAN;
+    fit->resid_sd = sqrt(s2);
+    fit->chi2_dof = weighted ? s2 : NAN;
+}
+
+arrank_status arrank_fit_arrhenius(const double *temp_K, const double *rate, const double *rate_sd,
+                                   size_t n, arrank_arrhenius *fit, arrank_error *err)
+{
+    if (!fit || (n > 0 && (!temp_K || !rate)))
+        return arrank_errorf(err, ARRANK_EINVAL, "'arrhenius fit' needs temperatures, rates "
+                                                 "and a result record");
+    double T_min = NAN, T_max = NAN;
+    arrank_status st = arrhenius_check(temp_K, rate, n, &T_min, &T_max, err);
+    if (st != ARRANK_OK)
+        return st;
 
     double *w = malloc(3 * n * sizeof *w);
     if (!w)
@@ -618,7 +661,7 @@ arrank_status arrank_fit_arrhenius(const double *temp_K, const double *rate, con
     }
     const double dof = (double)(n - 2);
     /*
-     * Covariance s^2 (X'WX)^-1 with s^2 = chi2/dof, the convention for an
+     * Step 2: covariance s^2 (X'WX)^-1 with s^2 = chi2/dof, the convention for an
      * unknown error scale (the weights give relative precision only); the
      * same as SciPy curve_fit with absolute_sigma=False.
      */
@@ -626,32 +669,11 @@ arrank_status arrank_fit_arrhenius(const double *temp_K, const double *rate, con
     const double c00 = s2 * swxx / det, c11 = s2 * sw / det, c01 = -s2 * swx / det;
 
     memset(fit, 0, sizeof *fit);
-    fit->n = n;
-    fit->weighted = weighted;
-    fit->T_ref_K = 1.0 / u_mean;
+    arrhenius_store(fit, n, weighted, u_mean, b0, b1, c00, c01, c11, s2);
     fit->T_min_K = T_min;
     fit->T_max_K = T_max;
-    fit->b0 = b0;
-    fit->b1 = b1;
-    fit->cov[0][0] = c00;
-    fit->cov[1][1] = c11;
-    fit->cov[0][1] = fit->cov[1][0] = c01;
-    fit->dof = dof;
-    /* Ea = -R b1 and ln A = b0 - b1 / T_ref: README "The numbers". */
-    const double R = ARRANK_R_J_MOL_K;
-    fit->ea_J_mol = -R * b1;
-    fit->ea_se_J_mol = R * sqrt(c11);
-    fit->ln_A = b0 - b1 * u_mean;
-    const double var_lnA = c00 + u_mean * u_mean * c11 - 2.0 * u_mean * c01;
-    fit->ln_A_se = sqrt(var_lnA > 0 ? var_lnA : 0);
-    /* cov(-R b1, b0 - u b1) = -R cov01 + R u cov11 */
-    fit->cov_ea_lnA_J_mol = -R * c01 + R * u_mean * c11;
-    const double sd_prod = fit->ea_se_J_mol * fit->ln_A_se;
-    fit->corr_ea_lnA = sd_prod > 0 ? fit->cov_ea_lnA_J_mol / sd_prod : NAN;
-    fit->resid_sd = sqrt(s2);
     /* swyy is the weighted total sum of squares about the weighted mean. */
     fit->r2 = swyy > 0 ? 1.0 - rss / swyy : NAN;
-    fit->chi2_dof = weighted ? s2 : NAN;
     free(w);
     return ARRANK_OK;
 }
