@@ -145,11 +145,67 @@ static void test_compensation_power(void **state)
     assert_true((double)narrow.real_new >= 0.90 * COMP_CAMPAIGNS); /* reported, not asked */
 }
 
+/* ---- bootstrap coverage ------------------------------------------------------ */
+
+/* Coverage of the rate at T_op by the bootstrap interval and by the delta
+   method (fit.h), over `reps` simulated samples of n points evenly over
+   480-560 K, sd(ln r) 5 %, true Ea 90 kJ/mol; the interval's resamples 999
+   (so that the 2.5 % and 97.5 % order statistics exist exactly). */
+static void boot_coverage(size_t n, double T_op, size_t reps, uint64_t seed, double *cov_boot,
+                          double *cov_delta)
+{
+    double T[12], r[12];
+    const double ea = 90e3, lnA = 22.0;
+    const double truth = lnA - ea / (R_GAS * T_op);
+    size_t in_b = 0, in_d = 0;
+    for (size_t k = 0; k < reps; k++) {
+        for (size_t i = 0; i < n; i++) {
+            T[i] = 480.0 + 80.0 * (double)i / (double)(n - 1);
+            r[i] = exp(lnA - ea / (R_GAS * T[i]) + 0.05 * gauss(&seed));
+        }
+        arrank_arrhenius fit;
+        assert_int_equal(arrank_fit_arrhenius(T, r, NULL, n, &fit, NULL), ARRANK_OK);
+        double lo, hi;
+        size_t ok;
+        assert_int_equal(arrank_bootstrap_rate(T, r, NULL, n, &fit, T_op, 0.95, 999,
+                                               (unsigned long)(k + 1), &lo, &hi, &ok, NULL),
+                         ARRANK_OK);
+        in_b += log(lo) <= truth && truth <= log(hi);
+        arrank_prediction p;
+        assert_int_equal(arrank_fit_predict(&fit, T_op, 0.95, &p, NULL), ARRANK_OK);
+        in_d += log(p.rate_lo) <= truth && truth <= log(p.rate_hi);
+    }
+    *cov_boot = (double)in_b / (double)reps;
+    *cov_delta = (double)in_d / (double)reps;
+}
+
+/* Samples per size in the suite; the README gives the same seeds' figures. */
+#define BOOT_REPS 2000
+
+static void test_bootstrap_coverage(void **state)
+{
+    (void)state;
+    const size_t sizes[] = {5, 8, 12};
+    const double temps[] = {520.0, 600.0}; /* inside the window, and 40 K above it */
+    for (size_t a = 0; a < 3; a++)
+        for (size_t b = 0; b < 2; b++) {
+            double cb, cd;
+            boot_coverage(sizes[a], temps[b], BOOT_REPS, 0xB0075EEDull + 31 * a + b, &cb, &cd);
+            printf("# bootstrap coverage n = %zu, T = %.0f K: %.2f %% (MC se %.2f %%), delta "
+                   "method %.2f %% (MC se %.2f %%), %d samples of 999 resamples\n",
+                   sizes[a], temps[b], 100 * cb, 100 * mc_se(cb, BOOT_REPS), 100 * cd,
+                   100 * mc_se(cd, BOOT_REPS), BOOT_REPS);
+            /* nominal 95 %: within 2.5 points, about 5 Monte Carlo standard errors */
+            assert_true(fabs(cb - 0.95) <= 0.025);
+        }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_compensation_staggered_level),
         cmocka_unit_test(test_compensation_power),
+        cmocka_unit_test(test_bootstrap_coverage),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
