@@ -200,12 +200,117 @@ static void test_bootstrap_coverage(void **state)
         }
 }
 
+/* ---- the deactivation flag's false-alarm rate ---------------------------------- */
+
+/* A stable catalyst measured on a heating ramp (run "up", 8 set points
+   480-550 K) and back down (run "down"), 0.5 h per point on stream, sd(ln r)
+   5 %: both the run comparison and the drift test apply.  Batches of 40
+   samples through the pipeline (diagnosis on, no operating temperature). */
+#define DEACT_BATCH 40
+#define DEACT_POINTS 16
+
+typedef struct {
+    arrank_campaign c;
+    arrank_sample s[DEACT_BATCH];
+    arrank_point p[DEACT_BATCH][DEACT_POINTS];
+    char id[DEACT_BATCH][24];
+} deact_campaign;
+
+static char *deact_runs[2] = {"up", "down"};
+
+static void deact_batch(deact_campaign *t, uint64_t *seed, double loss_per_h, int design)
+{
+    memset(t, 0, sizeof *t);
+    t->c.path = t->c.name = t->c.title = "stable";
+    t->c.rate_unit = "umol/(g*s)";
+    t->c.basis = ARRANK_BASIS_MASS;
+    t->c.operating_temp_K = NAN;
+    t->c.confidence = NAN;
+    t->c.samples = t->s;
+    t->c.n_samples = DEACT_BATCH;
+    for (size_t s = 0; s < DEACT_BATCH; s++) {
+        snprintf(t->id[s], sizeof t->id[s], "S%02zu", s + 1);
+        arrank_sample *sm = &t->s[s];
+        sm->id = sm->path = sm->file = t->id[s];
+        sm->basis = ARRANK_BASIS_MASS;
+        sm->points = t->p[s];
+        sm->n_points = design == 0 ? DEACT_POINTS : 12;
+        sm->runs = design == 0 ? deact_runs : NULL;
+        sm->n_runs = design == 0 ? 2 : 0;
+        for (size_t i = 0; i < sm->n_points; i++) {
+            arrank_point *q = &t->p[s][i];
+            const size_t step = design == 0 ? (i < 8 ? i : 15 - i) : (i < 8 ? i : (i - 8) % 4);
+            q->temp_K = 480.0 + 10.0 * (double)step;
+            q->time_on_stream_s = 1800.0 * (double)(i + 1);
+            q->rate = exp(20.0 - 90e3 / (R_GAS * q->temp_K) + 0.05 * gauss(seed) -
+                          loss_per_h * q->time_on_stream_s / 3600.0);
+            q->rate_sd = NAN;
+            q->conversion = NAN;
+            q->run = design == 0 ? (i < 8 ? 0 : 1) : -1;
+            q->line = (long)i + 2;
+        }
+    }
+}
+
+/* Samples in the suite (a multiple of DEACT_BATCH). */
+#define DEACT_SAMPLES 2000
+
+static void deact_rates(double loss_per_h, int design, uint64_t seed, double *deact, double *either)
+{
+    deact_campaign *t = malloc(sizeof *t);
+    assert_non_null(t);
+    size_t n_deact = 0, n_either = 0;
+    arrank_options o = arrank_options_defaults();
+    for (size_t b = 0; b < DEACT_SAMPLES / DEACT_BATCH; b++) {
+        deact_batch(t, &seed, loss_per_h, design);
+        arrank_analysis *a = NULL;
+        arrank_error e;
+        arrank_error_clear(&e);
+        assert_int_equal(arrank_analysis_run(&t->c, &o, &a, &e), ARRANK_OK);
+        for (size_t i = 0; i < a->n_results; i++) {
+            unsigned f = a->results[i].flags;
+            n_deact += (f & ARRANK_FLAG_DEACTIVATION) != 0;
+            n_either += (f & (ARRANK_FLAG_DEACTIVATION | ARRANK_FLAG_ACTIVATION)) != 0;
+        }
+        arrank_analysis_free(a);
+    }
+    free(t);
+    *deact = (double)n_deact / DEACT_SAMPLES;
+    *either = (double)n_either / DEACT_SAMPLES;
+}
+
+static void test_deactivation_level(void **state)
+{
+    (void)state;
+    static const char *designs[2] = {"runs up and down", "a ramp up and 4 cold set points "
+                                                         "repeated"};
+    int bad = 0;
+    for (int d = 0; d < 2; d++) {
+        double pd, pe, qd, qe;
+        deact_rates(0.0, d, 0xDEAC0001 + 2 * (uint64_t)d, &pd, &pe);
+        printf("# stable catalyst, %s, with time on stream, %d samples: flag deactivation "
+               "%.2f %% (MC se %.2f %%), deactivation or activation %.2f %% (MC se %.2f %%)\n",
+               designs[d], DEACT_SAMPLES, 100 * pd, 100 * mc_se(pd, DEACT_SAMPLES), 100 * pe,
+               100 * mc_se(pe, DEACT_SAMPLES));
+        /* a 2 %/h loss (about 20-30 % over the measurements): still seen */
+        deact_rates(0.02, d, 0xDEAC0002 + 2 * (uint64_t)d, &qd, &qe);
+        printf("# 2 %%/h loss, %s, %d samples: flag deactivation %.2f %% (MC se %.2f %%)\n",
+               designs[d], DEACT_SAMPLES, 100 * qd, 100 * mc_se(qd, DEACT_SAMPLES));
+        /* nominal 5 % for either flag (a two-sided family, Holm); bound 6 %;
+           power asked of the up-and-down design only (the other's few
+           repeats see a slow loss less often: reported) */
+        bad += !(pe <= 0.06) + (d == 0 && !(qd >= 0.80));
+    }
+    assert_int_equal(bad, 0);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_compensation_staggered_level),
         cmocka_unit_test(test_compensation_power),
         cmocka_unit_test(test_bootstrap_coverage),
+        cmocka_unit_test(test_deactivation_level),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -502,6 +502,14 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
                     "(standard error %.1f), against %.1f kJ/mol (%.1f) on every point",
                 d->window_lo_K, d->window_hi_K, d->window_n, kj(f->ea_J_mol),
                 kj(f->ea_se_J_mol), kj(d->ea_all_J_mol), kj(d->ea_all_se_J_mol));
+    /* the run comparisons and the drift test are one family (Holm, quality.c) */
+    size_t n_family = d->drift.tested && isfinite(d->drift.p);
+    for (size_t j = 0; j < d->n_runs; j++)
+        n_family += isfinite(d->runs[j].p);
+    char family[96] = "";
+    if (n_family >= 2)
+        snprintf(family, sizeof family, " (Holm's correction over the %zu run and drift tests)",
+                 n_family);
     for (size_t j = 0; j < d->n_runs; j++) {
         const arrank_run_shift *rs = &d->runs[j];
         if (!isfinite(rs->shift_ln))
@@ -520,8 +528,8 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
             finding(wk, "%s: the catalyst gained activity during the measurements (activation)",
                     what);
         else
-            note(wk, "%s: no significant shift of at least %.0f %%", what,
-                 100.0 * ARRANK_RUN_MIN_CHANGE);
+            note(wk, "%s: no significant shift of at least %.0f %%%s", what,
+                 100.0 * ARRANK_RUN_MIN_CHANGE, family);
     }
     const arrank_drift *dr = &d->drift;
     if (dr->tested) {
@@ -531,8 +539,8 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
                     dr->verdict < 0 ? "down" : "up", 100.0 * fabs(dr->change), dr->span_h, dr->t,
                     dr->p, dr->verdict < 0 ? "deactivation" : "activation");
         else
-            note(wk, "no significant drift with time on stream (%.1f %% over %.1f h, p = %.2g)",
-                 100.0 * dr->change, dr->span_h, dr->p);
+            note(wk, "no significant drift with time on stream (%.1f %% over %.1f h, p = %.2g)%s",
+                 100.0 * dr->change, dr->span_h, dr->p, family);
     } else if (dr->note)
         note(wk, "%s", dr->note);
     for (size_t k = 0; k < n; k++) {
