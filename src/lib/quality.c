@@ -398,30 +398,40 @@ static int label_passes(arrank_dwork *wk, const size_t *base, const size_t *grp,
  * the K p-values must be below RUN_LEVEL / (K - k + 1), and every smaller
  * one rejected.  A verdict that fails it is cleared.
  */
-static void holm_family(arrank_diagnosis *d)
+static int cmp_double(const void *a, const void *b)
 {
-    double p[65];
-    size_t K = 0;
-    for (size_t j = 0; j < d->n_runs && K < 64; j++)
-        if (isfinite(d->runs[j].p))
-            p[K++] = d->runs[j].p;
-    if (d->drift.tested && isfinite(d->drift.p))
-        p[K++] = d->drift.p;
+    const double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+static void holm_family(arrank_dwork *wk)
+{
+    arrank_diagnosis *d = wk->d;
+    size_t K = d->drift.tested && isfinite(d->drift.p);
+    for (size_t j = 0; j < d->n_runs; j++)
+        K += isfinite(d->runs[j].p);
     if (K < 2)
         return;
-    /* the Holm threshold is the smallest p not rejected: every p below it is */
-    for (size_t a = 1; a < K; a++) /* insertion sort: K is small */
-        for (size_t b = a; b > 0 && p[b] < p[b - 1]; b--) {
-            double t = p[b];
-            p[b] = p[b - 1];
-            p[b - 1] = t;
-        }
+    double *p = malloc(K * sizeof *p);
+    if (!p) {
+        wk->nomem = 1;
+        return;
+    }
+    size_t m = 0;
+    for (size_t j = 0; j < d->n_runs; j++)
+        if (isfinite(d->runs[j].p))
+            p[m++] = d->runs[j].p;
+    if (d->drift.tested && isfinite(d->drift.p))
+        p[m++] = d->drift.p;
+    qsort(p, K, sizeof *p, cmp_double);
+    /* the smallest p not rejected: every p below it is rejected */
     double cut = INFINITY;
     for (size_t k = 0; k < K; k++)
         if (!(p[k] < RUN_LEVEL / (double)(K - k))) {
             cut = p[k];
             break;
         }
+    free(p);
     for (size_t j = 0; j < d->n_runs; j++)
         if (!(d->runs[j].p < cut))
             d->runs[j].verdict = 0;
@@ -459,7 +469,7 @@ int arrank_quality_runs(arrank_dwork *wk, const size_t *base, const size_t *grp,
         compare_runs(wk, base, grp, n, label, n_labels, names, lf_all);
     free_names(names, n_labels);
     test_drift(wk, base, n);
-    holm_family(wk->d);
+    holm_family(wk);
     return has_repeats | wk->d->drift.tested;
 }
 
