@@ -26,7 +26,7 @@ ok_if "check: pore diffusion named as a likely cause" \
 ok_if "check: Weisz-Prater number above its limit" \
     grep -q "Weisz-Prater number .* is above" "$T/out"
 ok_if "check: points left out with their reason" \
-    grep -q "left out: line .*pore-diffusion-like" "$T/out"
+    grep -q "left out: line .*pore-limited point" "$T/out"
 ok_if "check: deactivation between heating and cooling ramps" \
     grep -q "run 'cool' is .* below 'heat'.*(deactivation)" "$T/out"
 ok_if "check: conversion above the 10 % limit" \

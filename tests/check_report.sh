@@ -86,7 +86,7 @@ expect_eq "check: ZN-12 has 7 points left out (the demo's pore-diffusion sample)
     "$(sed -n '/^ZN-12 /,/^$/p' "$T/check.txt" | grep -c 'left out: ')" 7
 ok_if "report: ZN-12's likely cause in words" grep -q 'likely cause: pore diffusion' "$R"
 ok_if "report: pore-diffusion-like rows in ZN-12's table" \
-    grep -q '<td>pore-diffusion-like</td><td>pore-diffusion-like: hotter than the kinetic' "$R"
+    grep -q '<td>pore-diffusion-like</td><td>pore-limited point: hotter than the kinetic' "$R"
 ok_if "report: ZN-14's high-conversion rows" \
     grep -q '<td>conversion 20.4 % above the 10 % differential limit</td>' "$R"
 ok_if "report: Weisz-Prater verdict for ZN-12 (check: 8.78 above 0.6)" \

@@ -361,6 +361,143 @@ static void test_film(void **state)
     one_free(&o);
 }
 
+/* ---- causes named from the local Ea's ratio and level (issue 14 item 2) ------------ */
+
+typedef struct {
+    size_t sets, curved, film_named, pore_named, transport_unsure, excluded;
+    size_t reason_film, reason_pore, reason_onset, reason_other, deepest_film, deepest_pore;
+    size_t deepest_onset;
+} cause_tally;
+
+static int cause_supported(const arrank_diagnosis *d, const char *name)
+{
+    for (size_t k = 0; k < d->curvature.n_causes; k++)
+        if (d->curvature.causes[k].supported && strcmp(d->curvature.causes[k].cause, name) == 0)
+            return 1;
+    return 0;
+}
+
+static void tally_causes(const one *o, cause_tally *t)
+{
+    const arrank_diagnosis *d = o->d;
+    t->sets++;
+    if (!(d->curvature.detected && d->curvature.direction == ARRANK_BEND_DOWN))
+        return;
+    t->curved++;
+    t->film_named += cause_supported(d, "film (external) mass transfer");
+    t->pore_named += cause_supported(d, "pore diffusion");
+    for (size_t k = 0; k < d->curvature.n_causes; k++)
+        t->transport_unsure += strcmp(d->curvature.causes[k].cause,
+                                      "transport limitation (pore or film)") == 0;
+    /* every excluded point's reason, and the reason of the most limited one
+       (lowest local Ea among the excluded) */
+    size_t deepest = SIZE_MAX;
+    for (size_t i = 0; i < d->n_points; i++) {
+        const arrank_point_diag *pd = &d->points[i];
+        if (!pd->excluded || !pd->reason)
+            continue;
+        t->excluded++;
+        if (strncmp(pd->reason, "film-limited point", 18) == 0)
+            t->reason_film++;
+        else if (strncmp(pd->reason, "pore-limited point", 18) == 0)
+            t->reason_pore++;
+        else if (strncmp(pd->reason, "where the bend begins", 21) == 0)
+            t->reason_onset++;
+        else
+            t->reason_other++;
+        if (isfinite(pd->local_ea_J_mol) &&
+            (deepest == SIZE_MAX || pd->local_ea_J_mol < d->points[deepest].local_ea_J_mol))
+            deepest = i;
+    }
+    if (deepest != SIZE_MAX) {
+        const char *r = d->points[deepest].reason;
+        t->deepest_film += strncmp(r, "film-limited point", 18) == 0;
+        t->deepest_pore += strncmp(r, "pore-limited point", 18) == 0;
+        t->deepest_onset += strncmp(r, "where the bend begins", 21) == 0;
+    }
+}
+
+static void print_causes(const char *what, const cause_tally *t)
+{
+    printf("# %s: %zu sets, %zu bent down; named: film %zu, pore %zu, 'pore or film' %zu; "
+           "%zu excluded points: film-limited %zu, pore-limited %zu, bend begins %zu, "
+           "other %zu; the most limited excluded point: film %zu, pore %zu, bend begins %zu\n",
+           what, t->sets, t->curved, t->film_named, t->pore_named, t->transport_unsure,
+           t->excluded, t->reason_film, t->reason_pore, t->reason_onset, t->reason_other,
+           t->deepest_film, t->deepest_pore, t->deepest_onset);
+}
+
+/*
+ * Seeded bent sets of the two transport regimes, 10 points over 470-590 K,
+ * 1.5 % scatter, intrinsic Ea 90 kJ/mol:
+ *  - film only: 1/r = 1/k + 1/(k_t T/T_ref), no pore term (the series form
+ *    of film control, Adiabatic Fixed-Bed Reactors sec. 2.6), with k = k_t
+ *    at 525-545 K, so that the hottest points reach k/k_t of about 4-8 and a
+ *    local Ea near or below 30 kJ/mol (ratio under 0.4, as in the issue's
+ *    case; a milder film limitation whose local Ea stays in the pore-like
+ *    range cannot be told from pore diffusion by the local Ea);
+ *  - pore only: Thiele's first-order sphere, eta = (3/phi^2)(phi coth phi -
+ *    1) (Thiele 1939), phi = 1 at 480-500 K, so that the hottest local Ea
+ *    approaches half the intrinsic one (Weisz & Prater 1954).
+ * Required: film sets name film control and not pore diffusion, and their
+ * most limited points are left out as film-limited; pore sets name pore
+ * diffusion and not film control; "where the bend begins" only for points
+ * whose local Ea is still above 0.8 of the window's.
+ */
+#define CAUSE_SETS 60
+
+static void test_causes_film_and_pore(void **state)
+{
+    (void)state;
+    const double ea = 90e3;
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    gsl_rng_set(rng, 14002);
+    cause_tally film = {0}, pore = {0};
+    arrank_options opt = arrank_options_defaults();
+    for (size_t k = 0; k < CAUSE_SETS; k++) {
+        data dt = {0};
+        temps(&dt, 10, 470.0, 590.0);
+        const double T_eq = 525.0 + 20.0 * (double)(k % 5) / 4.0;
+        const double kt_ref = k_kin(T_eq, ea, 1.0, 500.0);
+        for (size_t i = 0; i < dt.n; i++) {
+            const double T = dt.T_K[i], kk = k_kin(T, ea, 1.0, 500.0);
+            const double kt = kt_ref * T / T_eq;
+            dt.rate[i] = 1.0 / (1.0 / kk + 1.0 / kt) * exp(gsl_ran_gaussian(rng, 0.015));
+        }
+        one o = run_one(&dt, &opt);
+        if (k == 0)
+            print_findings(o.res);
+        tally_causes(&o, &film);
+        one_free(&o);
+    }
+    for (size_t k = 0; k < CAUSE_SETS; k++) {
+        data dt = {0};
+        temps(&dt, 10, 470.0, 590.0);
+        pore_data(&dt, ea, 1.0, 480.0 + 20.0 * (double)(k % 5) / 4.0, 0.015, rng);
+        one o = run_one(&dt, &opt);
+        if (k == 0)
+            print_findings(o.res);
+        tally_causes(&o, &pore);
+        one_free(&o);
+    }
+    gsl_rng_free(rng);
+    print_causes("film only", &film);
+    print_causes("pore only", &pore);
+    /* the sets bend (power of the curvature test, measured above) */
+    assert_true(film.curved >= CAUSE_SETS * 9 / 10);
+    assert_true(pore.curved >= CAUSE_SETS * 9 / 10);
+    /* film: named in every bent set, pore diffusion never as supported */
+    assert_int_equal(film.film_named, film.curved);
+    assert_int_equal(film.pore_named, 0);
+    assert_int_equal(film.deepest_film, film.curved);
+    assert_int_equal(film.reason_pore, 0);
+    /* pore: named in most bent sets, film control in none */
+    assert_true(pore.pore_named >= pore.curved * 9 / 10);
+    assert_int_equal(pore.film_named, 0);
+    assert_int_equal(pore.reason_film, 0);
+    assert_int_equal(film.reason_other + pore.reason_other, 0);
+}
+
 /* ---- false alarms and power ----------------------------------------------------- */
 
 /*
@@ -1489,6 +1626,7 @@ int main(void)
         cmocka_unit_test(test_pore_sphere),
         cmocka_unit_test(test_use_all),
         cmocka_unit_test(test_film),
+        cmocka_unit_test(test_causes_film_and_pore),
         cmocka_unit_test(test_false_alarm_and_power),
         cmocka_unit_test(test_window_coverage),
         cmocka_unit_test(test_weisz_prater_mears),

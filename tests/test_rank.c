@@ -1428,7 +1428,36 @@ static void test_pipeline(void **state)
     assert_int_equal(arrank_model_fit_predict(&r0->stats->model, 523.15, 0.95, &p, NULL),
                      ARRANK_OK);
     assert_true(r0->at_T.rate == p.rate);
+    /* issue 14 item 3: the dof and t the result carries are the model's
+       (n - 3), and they are the ones rate_at_T's interval used: exp(ln r -/+
+       t se) (fit.h), t from GSL's inverse t cdf (NIST/SEMATECH t table) */
+    for (size_t i = 0; i < a->n_results; i++) {
+        const arrank_result *ri = &a->results[i];
+        assert_true(ri->stats && ri->stats->has_model);
+        assert_true(ri->interval_dof == (double)ri->stats->model.n - 3.0);
+        assert_true(ri->interval_dof == ri->fit.dof - 1.0);
+        assert_true(ri->interval_t == arrank_t_quantile(0.95, ri->interval_dof));
+        check_close(ri->at_T.rate_hi,
+                    exp(ri->at_T.ln_rate + ri->interval_t * ri->at_T.ln_rate_se), 1e-13,
+                    "upper end with the carried t", "fit.h: exp(ln r + t se)");
+        check_close(ri->at_T.rate_lo,
+                    exp(ri->at_T.ln_rate - ri->interval_t * ri->at_T.ln_rate_se), 1e-13,
+                    "lower end with the carried t", "fit.h: exp(ln r - t se)");
+    }
     arrank_analysis_free(a);
+    /* the straight line: n - 2 */
+    o.model = ARRANK_MODEL_ARRHENIUS;
+    assert_int_equal(arrank_analysis_run(&t->c, &o, &a, &e), ARRANK_OK);
+    for (size_t i = 0; i < a->n_results; i++) {
+        const arrank_result *ri = &a->results[i];
+        assert_true(ri->interval_dof == (double)ri->fit.n - 2.0);
+        assert_true(ri->interval_t == arrank_t_quantile(0.95, ri->interval_dof));
+        check_close(ri->at_T.rate_hi,
+                    exp(ri->at_T.ln_rate + ri->interval_t * ri->at_T.ln_rate_se), 1e-13,
+                    "upper end with the carried t", "fit.h: exp(ln r + t se)");
+    }
+    arrank_analysis_free(a);
+    o.model = ARRANK_MODEL_MODIFIED;
 
     /* --model eyring on rates per mass is refused */
     o.model = ARRANK_MODEL_EYRING;

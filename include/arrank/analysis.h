@@ -103,6 +103,10 @@ typedef struct {
     arrank_arrhenius fit;         /* valid when error == NULL */
     int has_prediction;           /* 1 when an operating temperature was given */
     arrank_prediction at_T;       /* rate at the operating temperature */
+    /* degrees of freedom and two-sided t quantile at options.confidence of the
+       model in force, the ones rate_at_T's interval uses: the straight line's
+       n - 2, the modified form's n - 3 (--model); valid when error == NULL */
+    double interval_dof, interval_t;
     int rank;                     /* 1 = best; 0 = not ranked */
     unsigned flags;               /* ARRANK_FLAG_* bits */
     struct arrank_diagnosis *diagnosis; /* diagnose.h; NULL when not run */

@@ -45,9 +45,17 @@ typedef struct {
     int T_iso_bounded;          /* 1 when the slope's interval excludes 0 */
     double T_hm_K;              /* harmonic mean of every temperature in the fits */
     int T_hm_inside;            /* 1 when T_hm lies in the interval of T_iso */
-    /* Krug et al.: Ea against ln r(T_hm), estimates with uncorrelated errors;
-       least squares of ln r(T_hm) on Ea */
+    /* Krug et al.: least squares of ln r(T_hm) on Ea.  Descriptive only: its
+       errors are uncorrelated with Ea's only for a sample centred at T_hm, so
+       with staggered windows its p is too small (README "Ranking statistics") */
     double hm_slope_mol_J, hm_slope_se_mol_J, hm_p;
+    /* The test the verdict uses: each sample's ln r at its own centring
+       temperature T_ref (b0, whose error is uncorrelated with Ea's by the
+       centring) on (1, 1/T_hm - 1/T_ref, Ea) by least squares; own_slope is
+       the coefficient of Ea, d ln r(T_hm)/d Ea along the samples, with a
+       heteroscedasticity-consistent (HC3) standard error and a t test with
+       own_dof = n - 3 (n - 2 when every T_ref is the same) */
+    double own_slope_mol_J, own_slope_se_mol_J, own_p, own_dof;
     /* Exner: ln r(T2) on ln r(T1); T1, T2 span the common measured range */
     double exner_T1_K, exner_T2_K;
     double exner_slope, exner_slope_se;

@@ -43,6 +43,8 @@ arrank_status arrank_analysis_models_apply(arrank_result *res, const arrank_opti
                                            double rate_to_per_s, arrank_error *err)
 {
     const int absolute = opt->errors == ARRANK_ERRORS_ABSOLUTE;
+    res->interval_dof = res->fit.dof;
+    res->interval_t = arrank_t_quantile(opt->confidence, res->fit.dof);
     if (!absolute && opt->model == ARRANK_MODEL_ARRHENIUS)
         return ARRANK_OK;
     const arrank_sample *s = res->sample;
@@ -72,6 +74,14 @@ arrank_status arrank_analysis_models_apply(arrank_result *res, const arrank_opti
         ss->has_model = st == ARRANK_OK;
     }
     free(buf);
+    if (st == ARRANK_OK && res->stats && res->stats->has_model) {
+        /* the model's prediction is the one in force (arrank_analysis_models_predict) */
+        res->interval_dof = res->stats->model.dof;
+        res->interval_t = arrank_t_quantile(opt->confidence, res->stats->model.dof);
+    } else if (st == ARRANK_OK) { /* the absolute-error refit changed the fit */
+        res->interval_dof = res->fit.dof;
+        res->interval_t = arrank_t_quantile(opt->confidence, res->fit.dof);
+    }
     if (st == ARRANK_ENOMEM)
         return arrank_errorf(err, st, "out of memory");
     if (st != ARRANK_OK) {

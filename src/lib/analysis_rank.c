@@ -95,6 +95,11 @@ static arrank_status bootstrap_result(arrank_result *res, const arrank_options *
                                              err);
     ss->has_bootstrap = st == ARRANK_OK;
     free(buf);
+    if (st == ARRANK_EFIT) { /* no resample with scatter (bootstrap.h): no interval */
+        arrank_error_clear(err);
+        ss->rate_lo_boot = ss->rate_hi_boot = NAN;
+        return ARRANK_OK;
+    }
     return st;
 }
 

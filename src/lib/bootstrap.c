@@ -1,5 +1,5 @@
 /*
- * bootstrap.c - a residual bootstrap interval for the rate at the operating
+ * bootstrap.c - a studentized residual bootstrap interval for the rate at the operating
  * temperature (arrank/bootstrap.h).
  */
 #include "arrank/bootstrap.h"
@@ -59,6 +59,23 @@ arrank_status arrank_bootstrap_rate(const double *temp_K, const double *rate, co
         res[i] -= rmean;
     gsl_rng_set(rng, seed);
     const double x_op = 1.0 / temp_op_K - 1.0 / fit->T_ref_K;
+    /* The studentized (percentile-t) interval (Davison & Hinkley 1997,
+       sec. 5.2.1, eq. 5.7, and Alg. 6.1 for the resamples): each resample's
+       t* = (theta* - theta) / se*, se* the delta-method standard error of
+       ln r(T) from the resample's own scatter, s*^2 (1/Sw + (x - xbar)^2 /
+       Sxx) (fit.h); the interval [theta - t*_(1-a/2) se, theta - t*_(a/2) se]
+       with the fit's se.  The percentile interval of theta* it replaces ignores
+       that s itself is estimated from n - 2 residuals and covered 84 % at
+       n = 5 and 90-91 % at n = 8-12 (README "Ranking statistics"). */
+    const double lev_op = 1.0 / sw + (x_op - xbar) * (x_op - xbar) / sxx;
+    double rss = 0;
+    for (size_t i = 0; i < n; i++) {
+        const double e = log(rate[i]) - yhat[i];
+        rss += wt[i] * e * e;
+    }
+    const double dof = (double)n - 2.0;
+    const double theta = fit->b0 + fit->b1 * x_op, se = sqrt(rss / dof * lev_op);
+    size_t used = 0;
     for (size_t b = 0; b < resamples; b++) {
         double swy = 0;
         for (size_t i = 0; i < n; i++) {
@@ -70,11 +87,30 @@ arrank_status arrank_bootstrap_rate(const double *temp_K, const double *rate, co
         double sxy = 0;
         for (size_t i = 0; i < n; i++)
             sxy += wt[i] * (x[i] - xbar) * (ys[i] - ybar);
-        out[b] = ybar + (sxy / sxx) * (x_op - xbar);
+        const double b1 = sxy / sxx;
+        double rss_b = 0;
+        for (size_t i = 0; i < n; i++) {
+            const double e = ys[i] - ybar - b1 * (x[i] - xbar);
+            rss_b += wt[i] * e * e;
+        }
+        const double se_b = sqrt(rss_b / dof * lev_op);
+        /* a resample that drew one residual n times has no scatter: no t */
+        if (!(se_b > 0))
+            continue;
+        out[used++] = (ybar + b1 * (x_op - xbar) - theta) / se_b;
     }
-    gsl_sort(out, 1, resamples);
-    *rate_lo = exp(gsl_stats_quantile_from_sorted_data(out, 1, resamples, 0.5 * (1 - confidence)));
-    *rate_hi = exp(gsl_stats_quantile_from_sorted_data(out, 1, resamples, 0.5 * (1 + confidence)));
+    if (used < 2) {
+        free(buf);
+        gsl_rng_free(rng);
+        return arrank_errorf(err, ARRANK_EFIT, "bootstrap: fewer than 2 of %zu resamples have "
+                                               "any scatter", resamples);
+    }
+    gsl_sort(out, 1, used);
+    const double t_hi = gsl_stats_quantile_from_sorted_data(out, 1, used, 0.5 * (1 + confidence));
+    const double t_lo = gsl_stats_quantile_from_sorted_data(out, 1, used, 0.5 * (1 - confidence));
+    *rate_lo = exp(theta - t_hi * se);
+    *rate_hi = exp(theta - t_lo * se);
+    resamples = used;
     if (n_ok)
         *n_ok = resamples;
     free(buf);

@@ -46,11 +46,14 @@
    is the usual "suspect" line (from memory; the issue quotes 10-20). */
 #define FILM_EA_J_MOL 20000.0
 /* Pore diffusion halves the apparent Ea in the strong limit (Weisz & Prater
-   1954); for a first-order sphere E_app/E = 0.73 at phi = 3 and 0.56 at
-   phi = 10 (DOMAIN notes, computed).  A local Ea between these fractions of
-   the kinetic window's Ea is called pore-diffusion-like; 0.35 leaves room for
-   scatter below the strong-limit half (our choice). */
-#define PORE_RATIO_LO 0.35
+   1954) and no further; for a first-order sphere E_app/E = 0.73 at phi = 3
+   and 0.56 at phi = 10 (DOMAIN notes, computed).  A local Ea between these
+   fractions of the kinetic window's Ea is pore-diffusion-like; below
+   PORE_RATIO_LO it has gone past what pore diffusion can do, which only a
+   film (series) resistance does: 1/r = 1/k + 1/k_t takes the local Ea
+   towards k_t's few kJ/mol (issue 14: 0.4 leaves room for scatter below the
+   strong-limit half, our choice). */
+#define PORE_RATIO_LO 0.40
 #define PORE_RATIO_HI 0.80
 /* A local Ea whose standard error exceeds this fraction of the window's Ea
    is too uncertain to classify (our choice). */
@@ -383,14 +386,22 @@ static void name_causes(arrank_dwork *wk, const size_t *sorted, size_t n, double
                                        : ""));
         if (n_film)
             add_cause(wk, 1, fmt(wk, "film (external) mass transfer"),
-                      fmt(wk, "local apparent Ea falls to %.0f kJ/mol at %.0f K, below %.0f kJ/mol "
-                              "where film control is suspected; %s%s%s",
-                          kj(lo_film), t_film, kj(FILM_EA_J_MOL), series,
+                      fmt(wk, "local apparent Ea falls to %.0f kJ/mol at %.0f K against %.0f "
+                              "kJ/mol in the kinetic window (ratio %.2f), below %.0f kJ/mol or "
+                              "%.1f of the window's: past the one half that pore diffusion gives "
+                              "at most; %s%s%s",
+                          kj(lo_film), t_film, kj(ea_window), lo_film / ea_window,
+                          kj(FILM_EA_J_MOL), PORE_RATIO_LO, series,
                           me->computed ? "; " : "",
                           me->computed ? (me->passes ? "but the Mears number is below its limit, "
                                                        "which argues against it"
                                                      : "and the Mears number is above its limit")
                                        : ""));
+        if (n_film && !n_pore)
+            add_cause(wk, 0, fmt(wk, "pore diffusion as well"),
+                      fmt(wk, "not told apart: film control takes the local apparent Ea through "
+                              "the pore-like range (%.1f-%.1f of the window's) on its way down",
+                          PORE_RATIO_LO, PORE_RATIO_HI));
         if (!n_pore && !n_film)
             add_cause(wk, 0, fmt(wk, "transport limitation (pore or film)"),
                       fmt(wk, "%s; the local slopes do not single out a transport regime", series));
@@ -502,6 +513,14 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
                     "(standard error %.1f), against %.1f kJ/mol (%.1f) on every point",
                 d->window_lo_K, d->window_hi_K, d->window_n, kj(f->ea_J_mol),
                 kj(f->ea_se_J_mol), kj(d->ea_all_J_mol), kj(d->ea_all_se_J_mol));
+    /* the run comparisons and the drift test are one family (Holm, quality.c) */
+    size_t n_family = d->drift.tested && isfinite(d->drift.p);
+    for (size_t j = 0; j < d->n_runs; j++)
+        n_family += isfinite(d->runs[j].p);
+    char family[96] = "";
+    if (n_family >= 2)
+        snprintf(family, sizeof family, " (Holm's correction over the %zu run and drift tests)",
+                 n_family);
     for (size_t j = 0; j < d->n_runs; j++) {
         const arrank_run_shift *rs = &d->runs[j];
         if (!isfinite(rs->shift_ln))
@@ -520,8 +539,8 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
             finding(wk, "%s: the catalyst gained activity during the measurements (activation)",
                     what);
         else
-            note(wk, "%s: no significant shift of at least %.0f %%", what,
-                 100.0 * ARRANK_RUN_MIN_CHANGE);
+            note(wk, "%s: no significant shift of at least %.0f %%%s", what,
+                 100.0 * ARRANK_RUN_MIN_CHANGE, family);
     }
     const arrank_drift *dr = &d->drift;
     if (dr->tested) {
@@ -531,8 +550,8 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
                     dr->verdict < 0 ? "down" : "up", 100.0 * fabs(dr->change), dr->span_h, dr->t,
                     dr->p, dr->verdict < 0 ? "deactivation" : "activation");
         else
-            note(wk, "no significant drift with time on stream (%.1f %% over %.1f h, p = %.2g)",
-                 100.0 * dr->change, dr->span_h, dr->p);
+            note(wk, "no significant drift with time on stream (%.1f %% over %.1f h, p = %.2g)%s",
+                 100.0 * dr->change, dr->span_h, dr->p, family);
     } else if (dr->note)
         note(wk, "%s", dr->note);
     for (size_t k = 0; k < n; k++) {
@@ -569,6 +588,9 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
     }
 }
 
+/* The regime of a point hotter than the kinetic window, from its local Ea's
+   level and its ratio to the window's Ea ea_w: film-like below FILM_EA_J_MOL
+   or PORE_RATIO_LO, pore-like up to PORE_RATIO_HI. */
 static void regime_of_excluded(arrank_dwork *wk, size_t i, double ea_w)
 {
     arrank_point_diag *pd = &wk->d->points[i];
@@ -576,9 +598,9 @@ static void regime_of_excluded(arrank_dwork *wk, size_t i, double ea_w)
     pd->regime = ARRANK_REGIME_UNCLASSIFIED;
     if (!isfinite(le) || !(ea_w > 0))
         return;
-    if (le < FILM_EA_J_MOL)
+    if (le < FILM_EA_J_MOL || le < PORE_RATIO_LO * ea_w)
         pd->regime = ARRANK_REGIME_FILM;
-    else if (le >= PORE_RATIO_LO * ea_w && le <= PORE_RATIO_HI * ea_w)
+    else if (le <= PORE_RATIO_HI * ea_w)
         pd->regime = ARRANK_REGIME_PORE;
 }
 
@@ -753,24 +775,68 @@ static void regimes(arrank_dwork *wk, const size_t *base, const size_t *grp, siz
 {
     arrank_diagnosis *d = wk->d;
     const arrank_curvature *cv = &d->curvature;
+    /* 1. the points hotter than the window: regime from the local Ea, unless
+       its standard error is too large to tell */
+    int film_reached = 0;
+    for (size_t k = 0; k < n; k++) {
+        arrank_point_diag *pd = &d->points[base[k]];
+        if (pd->excluded != 2)
+            continue;
+        regime_of_excluded(wk, base[k], ea_w);
+        if (pd->regime != ARRANK_REGIME_UNCLASSIFIED && cv->n_local &&
+            cv->local[arrank_curvature_window_of(grp[k], n_groups)].ea_se_J_mol >
+                THIN_SE_FRAC * ea_w)
+            pd->regime = ARRANK_REGIME_UNCLASSIFIED;
+        film_reached |= pd->regime == ARRANK_REGIME_FILM;
+    }
+    /* 2. every point's regime and the reasons of the left-out ones.  When the
+       local Ea goes below what pore diffusion can give, the film resistance
+       is what bends the plot, and the points on the way down through the
+       pore-like range are the same film resistance growing (1/r = 1/k +
+       1/k_t passes every ratio between 1 and 0), so they are film-limited too */
     for (size_t k = 0; k < n; k++) {
         size_t i = base[k];
         arrank_point_diag *pd = &d->points[i];
         if (pd->excluded == 2) {
-            regime_of_excluded(wk, i, ea_w);
             pd->excluded = 0;
-            if (pd->regime != ARRANK_REGIME_UNCLASSIFIED && cv->n_local &&
-                cv->local[arrank_curvature_window_of(grp[k], n_groups)].ea_se_J_mol >
-                    THIN_SE_FRAC * ea_w)
-                pd->regime = ARRANK_REGIME_UNCLASSIFIED;
-            const char *rname = pd->regime == ARRANK_REGIME_PORE   ? "pore-diffusion-like"
-                                : pd->regime == ARRANK_REGIME_FILM ? "film-diffusion-like"
-                                                                   : "where the bend begins";
+            const int on_way = film_reached && pd->regime == ARRANK_REGIME_PORE;
+            if (on_way)
+                pd->regime = ARRANK_REGIME_FILM;
+            const double le = pd->local_ea_J_mol, ratio = le / ea_w;
+            char *why;
+            if (pd->regime == ARRANK_REGIME_FILM && on_way)
+                why = fmt(wk, "film-limited point: hotter than the kinetic window, local apparent "
+                              "Ea %.0f kJ/mol against %.0f kJ/mol in the window (ratio %.2f), "
+                              "on the way down to the film control of the hotter points",
+                          kj(le), kj(ea_w), ratio);
+            else if (pd->regime == ARRANK_REGIME_FILM)
+                why = fmt(wk, "film-limited point: hotter than the kinetic window, local apparent "
+                              "Ea %.0f kJ/mol against %.0f kJ/mol in the window (ratio %.2f; "
+                              "below %.0f kJ/mol or %.1f of the window's, past what pore "
+                              "diffusion can do)",
+                          kj(le), kj(ea_w), ratio, kj(FILM_EA_J_MOL), PORE_RATIO_LO);
+            else if (pd->regime == ARRANK_REGIME_PORE)
+                why = fmt(wk, "pore-limited point: hotter than the kinetic window, local apparent "
+                              "Ea %.0f kJ/mol against %.0f kJ/mol in the window (ratio %.2f; "
+                              "pore diffusion gives %.1f-%.1f, one half in the strong limit)",
+                          kj(le), kj(ea_w), ratio, PORE_RATIO_LO, PORE_RATIO_HI);
+            else if (isfinite(le) && ea_w > 0 && ratio > PORE_RATIO_HI)
+                why = fmt(wk, "where the bend begins: hotter than the kinetic window, local "
+                              "apparent Ea %.0f kJ/mol against %.0f kJ/mol in the window "
+                              "(ratio %.2f, above %.1f)",
+                          kj(le), kj(ea_w), ratio, PORE_RATIO_HI);
+            else if (isfinite(le) && ea_w > 0)
+                why = fmt(wk, "hotter than the kinetic window: local apparent Ea %.0f kJ/mol "
+                              "against %.0f kJ/mol in the window (ratio %.2f), too uncertain "
+                              "to name a regime",
+                          kj(le), kj(ea_w), ratio);
+            else
+                why = fmt(wk, "hotter than the kinetic window: no local apparent Ea to name a "
+                              "regime");
             if (!use_all)
-                set_excluded(wk, i,
-                             fmt(wk, "%s: hotter than the kinetic window, local apparent Ea "
-                                     "%.0f kJ/mol against %.0f kJ/mol in the window",
-                                 rname, kj(pd->local_ea_J_mol), kj(ea_w)));
+                set_excluded(wk, i, why);
+            else
+                free(why);
         } else if (film_all)
             pd->regime = ARRANK_REGIME_FILM;
         else if (pd->high_conversion)

@@ -390,6 +390,55 @@ static int label_passes(arrank_dwork *wk, const size_t *base, const size_t *grp,
     return (int)max_pass;
 }
 
+/*
+ * The deactivation flag is one decision over every run comparison and the
+ * drift test: each at 5 % gave 7 % false alarms on a stable catalyst
+ * (README "Diagnostics").  Holm's step-down procedure (Holm, Scand. J.
+ * Statist. 6:65, 1979) keeps the family at RUN_LEVEL: the k-th smallest of
+ * the K p-values must be below RUN_LEVEL / (K - k + 1), and every smaller
+ * one rejected.  A verdict that fails it is cleared.
+ */
+static int cmp_double(const void *a, const void *b)
+{
+    const double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+static void holm_family(arrank_dwork *wk)
+{
+    arrank_diagnosis *d = wk->d;
+    size_t K = d->drift.tested && isfinite(d->drift.p);
+    for (size_t j = 0; j < d->n_runs; j++)
+        K += isfinite(d->runs[j].p);
+    if (K < 2)
+        return;
+    double *p = malloc(K * sizeof *p);
+    if (!p) {
+        wk->nomem = 1;
+        return;
+    }
+    size_t m = 0;
+    for (size_t j = 0; j < d->n_runs; j++)
+        if (isfinite(d->runs[j].p))
+            p[m++] = d->runs[j].p;
+    if (d->drift.tested && isfinite(d->drift.p))
+        p[m++] = d->drift.p;
+    qsort(p, K, sizeof *p, cmp_double);
+    /* the smallest p not rejected: every p below it is rejected */
+    double cut = INFINITY;
+    for (size_t k = 0; k < K; k++)
+        if (!(p[k] < RUN_LEVEL / (double)(K - k))) {
+            cut = p[k];
+            break;
+        }
+    free(p);
+    for (size_t j = 0; j < d->n_runs; j++)
+        if (!(d->runs[j].p < cut))
+            d->runs[j].verdict = 0;
+    if (!(d->drift.p < cut))
+        d->drift.verdict = 0;
+}
+
 int arrank_quality_runs(arrank_dwork *wk, const size_t *base, const size_t *grp, size_t n,
                         size_t n_groups, const unsigned char *in_base, int *label,
                         const arrank_line *lf_all)
@@ -420,6 +469,7 @@ int arrank_quality_runs(arrank_dwork *wk, const size_t *base, const size_t *grp,
         compare_runs(wk, base, grp, n, label, n_labels, names, lf_all);
     free_names(names, n_labels);
     test_drift(wk, base, n);
+    holm_family(wk);
     return has_repeats | wk->d->drift.tested;
 }
 

@@ -131,6 +131,15 @@ json_t *arrank_rank_stats_json(const arrank_analysis *a)
     json_object_set_new(k, "T_hm_inside_T_iso_interval", json_boolean(c->T_hm_inside));
     json_object_set_new(k, "ea_vs_ln_rate_at_T_hm_slope_mol_J", num(c->hm_slope_mol_J));
     json_object_set_new(k, "ea_vs_ln_rate_at_T_hm_p", num(c->hm_p));
+    json_object_set_new(k, "ea_vs_ln_rate_at_own_T_ref_slope_mol_J", num(c->own_slope_mol_J));
+    json_object_set_new(k, "ea_vs_ln_rate_at_own_T_ref_slope_se_mol_J",
+                        num(c->own_slope_se_mol_J));
+    json_object_set_new(k, "ea_vs_ln_rate_at_own_T_ref_dof", num(c->own_dof));
+    json_object_set_new(k, "ea_vs_ln_rate_at_own_T_ref_p", num(c->own_p));
+    json_object_set_new(k, "verdict_test",
+                        json_string("least squares of each sample's ln r at its own centring "
+                                    "temperature on 1/T_hm - 1/T_ref and Ea, HC3 standard "
+                                    "error, t test of the Ea coefficient"));
     json_object_set_new(k, "exner_T1_K", num(c->exner_T1_K));
     json_object_set_new(k, "exner_T2_K", num(c->exner_T2_K));
     json_object_set_new(k, "exner_slope", num(c->exner_slope));
