@@ -125,4 +125,19 @@ ok_if "--model modified: table of E and n with the collinearity warning" \
 "$A" rank "$DEMO" --csv - 2>/dev/null | head -1 >"$T/out"
 ok_if "rank --csv: p_best and group columns" grep -q ',p_best,group,flags,error$' "$T/out"
 
+# the user's locale: with a decimal comma (LC_ALL=de_DE.UTF-8) the program
+# reads and writes exactly what it does in C.  The locale must exist (it is
+# a test dependency: sh src/tools/deps.sh --test generates it).
+loc=$(locale -a 2>/dev/null | grep -ix 'de_DE\.utf-\?8' | head -n 1)
+ok_if "locale de_DE.UTF-8 installed (else: sh src/tools/deps.sh --test)" test -n "$loc"
+loc=${loc:-de_DE.UTF-8}
+expect_eq "LC_ALL=$loc: the locale has a decimal comma" \
+    "$(LC_ALL=$loc /usr/bin/printf '%.2f' 1.25 2>/dev/null)" "1,25"
+LC_ALL=C "$A" rank "$DEMO" --json "$T/lc-c.json" --csv "$T/lc-c.csv" >"$T/lc-c.txt" 2>&1
+LC_ALL=$loc "$A" rank "$DEMO" --json "$T/lc-de.json" --csv "$T/lc-de.csv" >"$T/lc-de.txt" 2>&1
+ok_if "LC_ALL=$loc: JSON byte for byte as in C" cmp -s "$T/lc-c.json" "$T/lc-de.json"
+ok_if "LC_ALL=$loc: CSV byte for byte as in C" cmp -s "$T/lc-c.csv" "$T/lc-de.csv"
+ok_if "LC_ALL=$loc: table byte for byte as in C" cmp -s "$T/lc-c.txt" "$T/lc-de.txt"
+ok_if "LC_ALL=$loc: the JSON has numbers" grep -q '"T_K": 503.15' "$T/lc-de.json"
+
 tap_plan

@@ -1,8 +1,8 @@
 /*
  * test_reader_paths.c - the sample reader's two ways through a data line give
- * one answer.  campaign.c splits a data line without a quote character itself
+ * one answer.  sample.c splits a data line without a quote character itself
  * and hands every other line (and the header) to libcsv; here each input is
- * read both ways (arrank_campaign_plain_lines, src/lib/internal.h) and the
+ * read both ways (arrank_sample_plain_lines, src/lib/sample_testing.h) and the
  * results must be identical: the same sample down to the bits of every number,
  * or the same error (status, path, line, column, message).
  *
@@ -29,7 +29,7 @@
 
 #include "arrank/campaign.h"
 #include "arrank/units.h"
-#include "../src/lib/internal.h"
+#include "../src/lib/sample_testing.h"
 #include "helpers.h"
 
 #define DEMO "campaigns/zeolite-ni-screen"
@@ -108,11 +108,11 @@ static int both_ways_unit(const char *name, const char *data, size_t len,
     arrank_error ef, es;
     arrank_error_clear(&ef);
     arrank_error_clear(&es);
-    arrank_campaign_plain_lines(1);
+    arrank_sample_plain_lines(1);
     arrank_status sf = arrank_sample_parse(name, data, len, units, report_unit, &fast, &ef);
-    arrank_campaign_plain_lines(0);
+    arrank_sample_plain_lines(0);
     arrank_status ss = arrank_sample_parse(name, data, len, units, report_unit, &slow, &es);
-    arrank_campaign_plain_lines(1);
+    arrank_sample_plain_lines(1);
     same_error(sf, &ef, ss, &es, name);
     if (sf == ARRANK_OK) {
         same_sample(&fast, &slow, name);
@@ -224,11 +224,11 @@ static void load_both_ways(const char *dir, void *ctx)
     arrank_error ef, es;
     arrank_error_clear(&ef);
     arrank_error_clear(&es);
-    arrank_campaign_plain_lines(1);
+    arrank_sample_plain_lines(1);
     arrank_status sf = arrank_campaign_load(dir, units, &fast, &ef);
-    arrank_campaign_plain_lines(0);
+    arrank_sample_plain_lines(0);
     arrank_status ss = arrank_campaign_load(dir, units, &slow, &es);
-    arrank_campaign_plain_lines(1);
+    arrank_sample_plain_lines(1);
     same_error(sf, &ef, ss, &es, dir);
     if (sf == ARRANK_OK) {
         if (fast->n_samples != slow->n_samples || !same_text(fast->rate_unit, slow->rate_unit))

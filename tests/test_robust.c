@@ -16,6 +16,8 @@
 #include <cmocka.h>
 
 #include <dirent.h>
+#include <fenv.h>
+#include <locale.h>
 #include <gsl/gsl_errno.h>
 #include <math.h>
 #include <stdio.h>
@@ -24,6 +26,7 @@
 
 #include "arrank/analysis.h"
 #include "arrank/campaign.h"
+#include "arrank/output.h"
 #include "arrank/units.h"
 #include "fuzz/fuzz_targets.h"
 #include "../src/lib/number.h"
@@ -230,6 +233,26 @@ static uint64_t rng_next(void)
     return splitmix(&rng_state);
 }
 
+/* A random decimal (64 bytes of room): 1-20 digits, a point anywhere or none,
+   a sign or none, an exponent -30..30 or none. */
+static void random_decimal(char *text, size_t room)
+{
+    size_t n = 0;
+    uint64_t r = rng_next();
+    if (r & 1)
+        text[n++] = (r & 2) ? '-' : '+';
+    int ndig = 1 + (int)((r >> 2) % 20);
+    int point = (int)((r >> 8) % (uint64_t)(ndig + 2)) - 1; /* -1: none */
+    for (int d = 0; d < ndig; d++) {
+        if (d == point)
+            text[n++] = '.';
+        text[n++] = (char)('0' + rng_next() % 10);
+    }
+    if ((r >> 16) & 1)
+        n += (size_t)snprintf(text + n, room - n, "e%d", (int)((r >> 20) % 61) - 30);
+    text[n] = '\0';
+}
+
 /* Bit-for-bit agreement with strtod where the fast path answers; count answers. */
 static void check_decimal(const char *text, size_t *answered)
 {
@@ -267,24 +290,37 @@ static void decimal_fast_path(void **state)
     /* 300,000 random decimals: 1-20 digits, a point anywhere or none, exponents -30..30. */
     for (int k = 0; k < 300000; k++) {
         char text[64];
-        size_t n = 0;
-        uint64_t r = rng_next();
-        if (r & 1)
-            text[n++] = (r & 2) ? '-' : '+';
-        int ndig = 1 + (int)((r >> 2) % 20);
-        int point = (int)((r >> 8) % (uint64_t)(ndig + 2)) - 1; /* -1: none */
-        for (int d = 0; d < ndig; d++) {
-            if (d == point)
-                text[n++] = '.';
-            text[n++] = (char)('0' + rng_next() % 10);
-        }
-        if ((r >> 16) & 1)
-            n += (size_t)snprintf(text + n, sizeof text - n, "e%d", (int)((r >> 20) % 61) - 30);
-        text[n] = '\0';
+        random_decimal(text, sizeof text);
         check_decimal(text, &answered);
     }
     /* Most short decimals take the fast path; if none did, it would test nothing. */
     assert_true(answered > 100000);
+}
+
+/* A random value to print and its precision (0-6, now and then up to 15). */
+static double random_printed(int *prec)
+{
+    uint64_t r = rng_next();
+    *prec = (int)(r % 7);
+    if ((r >> 40) % 4 == 0)
+        *prec = 7 + (int)((r >> 42) % 9); /* now and then up to 15 digits */
+    double v;
+    switch ((r >> 3) % 4) {
+    case 0: /* any bit pattern of a double */
+        r = rng_next();
+        memcpy(&v, &r, sizeof v);
+        break;
+    case 1: /* a decimal tie at the printed precision, as near as a double gets */
+        v = ((double)(rng_next() % 2000000) + 0.5) / pow(10.0, (int)(r >> 8) % 8);
+        break;
+    case 2: /* log-uniform over 1e-12 .. 1e12, either sign */
+        v = pow(10.0, -12.0 + 24.0 * (double)(rng_next() >> 11) / 9007199254740992.0);
+        break;
+    default: /* a short decimal written and read back, as in a table */
+        v = (double)(rng_next() % 100000) / pow(10.0, (int)(r >> 8) % 6);
+        break;
+    }
+    return ((r >> 20) & 1) ? -v : v;
 }
 
 /* Byte-for-byte agreement of the fast formatters with snprintf. */
@@ -345,28 +381,8 @@ static void format_fast_path(void **state)
         }
     }
     for (int k = 0; k < 200000; k++) {
-        uint64_t r = rng_next();
-        int prec = (int)(r % 7);
-        if ((r >> 40) % 4 == 0)
-            prec = 7 + (int)((r >> 42) % 9); /* now and then up to 15 digits */
-        double v;
-        switch ((r >> 3) % 4) {
-        case 0: /* any bit pattern of a double */
-            r = rng_next();
-            memcpy(&v, &r, sizeof v);
-            break;
-        case 1: /* a decimal tie at the printed precision, as near as a double gets */
-            v = ((double)(rng_next() % 2000000) + 0.5) / pow(10.0, (int)(r >> 8) % 8);
-            break;
-        case 2: /* log-uniform over 1e-12 .. 1e12, either sign */
-            v = pow(10.0, -12.0 + 24.0 * (double)(rng_next() >> 11) / 9007199254740992.0);
-            break;
-        default: /* a short decimal written and read back, as in a table */
-            v = (double)(rng_next() % 100000) / pow(10.0, (int)(r >> 8) % 6);
-            break;
-        }
-        if ((r >> 20) & 1)
-            v = -v;
+        int prec;
+        double v = random_printed(&prec);
         check_format(v, prec, &n);
         /* the neighbours of a value sit on either side of a rounding boundary */
         check_format(nextafter(v, INFINITY), prec, &n);
@@ -491,6 +507,275 @@ static void progress_reported(void **state)
     arrank_campaign_free(c);
 }
 
+/* ---- the host program's locale and rounding mode ---------------------------- */
+
+/*
+ * The library is embedded in programs that may set a locale with a decimal
+ * comma or another rounding mode; strtod and printf follow both, number.c
+ * must not.  Everything below is computed once as the C locale and rounding
+ * to nearest give it, then again in the other setting, and must be the same
+ * bytes.
+ */
+
+#define DEMO "campaigns/zeolite-ni-screen"
+#define COMMA_LOCALE "de_DE.UTF-8"
+#define N_LOCALE_VALUES 20000
+
+/* Every way a number goes through number.c, and through the readers, as text. */
+typedef struct {
+    char *numbers; /* one line per value: decimal read, then each format */
+    char *sample;  /* the points of a small CSV (decimal commas, quotes, long digits) */
+    char *json;    /* the demo campaign analysed, as JSON */
+} number_bytes;
+
+static void append(char **buf, size_t *len, const char *text)
+{
+    size_t n = strlen(text);
+    char *p = realloc(*buf, *len + n + 1);
+    assert_non_null(p);
+    memcpy(p + *len, text, n + 1);
+    *buf = p;
+    *len += n;
+}
+
+static char *numbers_text(void)
+{
+    rng_state = 0x243f6a8885a308d3ULL; /* the same values every time */
+    char *out = NULL;
+    size_t len = 0;
+    static const char *const texts[] = {"1.25", "-0.5e-3", "12345678901234567890.5",
+                                        "1e-300", "2.2250738585072014e-308", "1e400"};
+    for (size_t i = 0; i < N_LOCALE_VALUES + sizeof texts / sizeof texts[0]; i++) {
+        char text[64], line[512];
+        if (i < sizeof texts / sizeof texts[0])
+            snprintf(text, sizeof text, "%s", texts[i]);
+        else
+            random_decimal(text, sizeof text);
+        double v = NAN;
+        int r = arrank_decimal_read(text, &v);
+        uint64_t bits;
+        memcpy(&bits, &v, sizeof bits);
+        int prec;
+        double w = random_printed(&prec);
+        char f1[64], f2[64], f3[64], f4[64];
+        arrank_format_fixed(f1, sizeof f1, prec, w);
+        arrank_format_general(f2, sizeof f2, prec ? prec : 1, w);
+        arrank_format_fixed(f3, sizeof f3, 2, v);     /* read values printed back */
+        arrank_format_general(f4, sizeof f4, 17, v);  /* beyond the fast range: snprintf */
+        snprintf(line, sizeof line, "%s %d %016llx | %s | %s | %s | %s\n", text, r,
+                 (unsigned long long)bits, f1, f2, f3, f4);
+        append(&out, &len, line);
+    }
+    return out;
+}
+
+static char *sample_text(void)
+{
+    static const char csv[] = "# sample = comma-1\n"
+                              "T [degC];rate [umol/(g*s)];rate_sd [umol/(g*s)]\n"
+                              "250;1,25;0.5\n"
+                              "260,5;2.5e-1;12345678901234567890123e-22\n"
+                              "270;\"3,75\";1e-3\n"
+                              "280.25;4,125E+00;0,000000000000000000001234\n";
+    static const char one_T[] = "T [K];rate [umol/(g*s)]\n523.156;1\n523.156;2\n523.156;3\n";
+    arrank_sample s;
+    arrank_error err;
+    arrank_error_clear(&err);
+    char *out = NULL;
+    size_t len = 0;
+    const char *const files[] = {csv, one_T};
+    for (size_t f = 0; f < 2; f++) {
+        if (arrank_sample_parse("comma.csv", files[f], strlen(files[f]), units, NULL, &s, &err) !=
+            ARRANK_OK)
+            fail_msg("%s", err.message);
+        for (size_t i = 0; i < s.n_points; i++) {
+            const double x[] = {s.points[i].temp_K, s.points[i].rate, s.points[i].rate_sd};
+            uint64_t bits[3];
+            memcpy(bits, x, sizeof bits); /* the bits: printf's own text follows the locale */
+            char line[256];
+            snprintf(line, sizeof line, "%016llx %016llx %016llx\n", (unsigned long long)bits[0],
+                     (unsigned long long)bits[1], (unsigned long long)bits[2]);
+            append(&out, &len, line);
+        }
+        append(&out, &len, s.problem ? s.problem : "no problem");
+        append(&out, &len, "\n");
+        arrank_sample_clear(&s);
+    }
+    return out;
+}
+
+static char *json_text(void)
+{
+    arrank_campaign *c = NULL;
+    arrank_error err;
+    arrank_error_clear(&err);
+    if (arrank_campaign_load(DEMO, units, &c, &err) != ARRANK_OK)
+        fail_msg("%s: %s", DEMO, err.message);
+    arrank_options o = arrank_options_defaults();
+    o.operating_temp_K = 530.0;
+    o.draws = 2000;
+    o.units = units;
+    arrank_analysis *a = NULL;
+    if (arrank_analysis_run(c, &o, &a, &err) != ARRANK_OK)
+        fail_msg("analysis: %s", err.message);
+    char *text = NULL;
+    size_t len = 0;
+    FILE *f = open_memstream(&text, &len);
+    assert_non_null(f);
+    assert_int_equal(arrank_output_write(a, ARRANK_OUTPUT_JSON, f, &err), ARRANK_OK);
+    assert_int_equal(fclose(f), 0);
+    arrank_analysis_free(a);
+    arrank_campaign_free(c);
+    /* Every string's content blanked: the messages of the diagnosis and the
+       ranking print their numbers with printf in the caller's locale (not
+       number.c's paths); the numbers, keys and layout are compared byte for
+       byte. */
+    char *o_ = text, *i_ = text;
+    while (*i_) {
+        char ch = *i_++;
+        *o_++ = ch;
+        if (ch != '"')
+            continue;
+        while (*i_ && *i_ != '"')
+            i_ += (*i_ == '\\' && i_[1]) ? 2 : 1;
+        if (*i_)
+            *o_++ = *i_++;
+    }
+    *o_ = '\0';
+    return text;
+}
+
+static number_bytes all_bytes(void)
+{
+    number_bytes b = {numbers_text(), sample_text(), json_text()};
+    return b;
+}
+
+static void same_bytes(const number_bytes *want, const number_bytes *got, const char *where)
+{
+    const char *const w[] = {want->numbers, want->sample, want->json};
+    const char *const g[] = {got->numbers, got->sample, got->json};
+    const char *const what[] = {"numbers", "sample", "JSON"};
+    for (int i = 0; i < 3; i++) {
+        if (strcmp(w[i], g[i]) == 0)
+            continue;
+        size_t k = 0;
+        while (w[i][k] == g[i][k])
+            k++;
+        size_t from = k > 40 ? k - 40 : 0;
+        fail_msg("%s: %s differ from the C locale's at byte %zu: '%.80s' against '%.80s'", where,
+                 what[i], k, g[i] + from, w[i] + from);
+    }
+}
+
+static void free_bytes(number_bytes *b)
+{
+    free(b->numbers);
+    free(b->sample);
+    free(b->json);
+}
+
+/* The host program's locale and rounding mode back to C and to nearest. */
+static int host_restore(void **state)
+{
+    (void)state;
+    uselocale(LC_GLOBAL_LOCALE);
+    setlocale(LC_NUMERIC, "C");
+    fesetround(FE_TONEAREST);
+    return 0;
+}
+
+static void decimal_comma_locale(void **state)
+{
+    (void)state;
+    number_bytes c = all_bytes();
+    /* The host sets a decimal-comma locale for the whole process (source of
+       the comma: the locale's own LC_NUMERIC, checked here). */
+    if (!setlocale(LC_NUMERIC, COMMA_LOCALE))
+        fail_msg("no locale %s with a decimal comma on this machine: run "
+                 "'sh src/tools/deps.sh --test' (Debian: the locales package, then "
+                 "'localedef -i de_DE -f UTF-8 de_DE.UTF-8')", COMMA_LOCALE);
+    char probe[32];
+    snprintf(probe, sizeof probe, "%.2f", 1.25);
+    assert_string_equal(probe, "1,25"); /* the locale is in force: the test can fail */
+    number_bytes de = all_bytes();
+    same_bytes(&c, &de, "setlocale(LC_NUMERIC, \"" COMMA_LOCALE "\")");
+    snprintf(probe, sizeof probe, "%.2f", 1.25);
+    assert_string_equal(probe, "1,25"); /* and the library left it as it was */
+    free_bytes(&de);
+    setlocale(LC_NUMERIC, "C");
+    /* The same locale for this thread only (uselocale). */
+    locale_t comma = newlocale(LC_NUMERIC_MASK, COMMA_LOCALE, (locale_t)0);
+    assert_non_null(comma);
+    uselocale(comma);
+    snprintf(probe, sizeof probe, "%.2f", 1.25);
+    assert_string_equal(probe, "1,25");
+    number_bytes th = all_bytes();
+    same_bytes(&c, &th, "uselocale(" COMMA_LOCALE ")");
+    assert_true(uselocale((locale_t)0) == comma);
+    uselocale(LC_GLOBAL_LOCALE);
+    freelocale(comma);
+    free_bytes(&th);
+    free_bytes(&c);
+}
+
+/* Under each directed rounding mode, number.c's fast paths and its library
+   paths give the bits and bytes that strtod and snprintf give in the C
+   locale rounding to nearest, on the generators of the fast-path tests. */
+static void rounding_modes(void **state)
+{
+    (void)state;
+    static const int modes[] = {FE_UPWARD, FE_DOWNWARD, FE_TOWARDZERO};
+    static const char *const names[] = {"FE_UPWARD", "FE_DOWNWARD", "FE_TOWARDZERO"};
+    volatile double one = 1.0, three = 3.0;
+    double third = one / three;
+    size_t fast_reads = 0, fast_prints = 0;
+    for (int m = 0; m < 3; m++) {
+        assert_int_equal(fesetround(modes[m]), 0);
+        double third_m = one / three;
+        if (modes[m] == FE_UPWARD)
+            assert_true(third_m > third); /* the mode is in force: the test can fail */
+        fesetround(FE_TONEAREST);
+        rng_state = 0x13198a2e03707344ULL + (uint64_t)m;
+        for (int k = 0; k < 100000; k++) {
+            char text[64];
+            random_decimal(text, sizeof text);
+            char *end;
+            double want = strtod(text, &end), got = NAN, fast = NAN;
+            int fast_ok = arrank_decimal_fast(text, &fast); /* to nearest: may answer */
+            fesetround(modes[m]);
+            int r = arrank_decimal_read(text, &got);
+            int fast_m = arrank_decimal_fast(text, &fast);
+            fesetround(FE_TONEAREST);
+            if (fast_m)
+                fail_msg("%s: the fast reader answered for '%s'", names[m], text);
+            fast_reads += (size_t)fast_ok;
+            if (*end == '\0' && r == 0 && memcmp(&want, &got, sizeof want) != 0)
+                fail_msg("%s: '%s' read %a, to nearest %a", names[m], text, got, want);
+            int prec;
+            double v = random_printed(&prec);
+            char lib[64], mine[64];
+            for (int general = 0; general < 2; general++) {
+                int p = general && prec == 0 ? 1 : prec;
+                int b = general ? snprintf(lib, sizeof lib, "%.*g", p, v)
+                                : snprintf(lib, sizeof lib, "%.*f", p, v);
+                fesetround(modes[m]);
+                int a = general ? arrank_format_general(mine, sizeof mine, p, v)
+                                : arrank_format_fixed(mine, sizeof mine, p, v);
+                int mode_after = fegetround();
+                fesetround(FE_TONEAREST);
+                assert_int_equal(mode_after, modes[m]); /* the caller's mode is kept */
+                if (a != b || strcmp(mine, lib) != 0)
+                    fail_msg("%s: %%.%d%c of %a: '%s', to nearest '%s'", names[m], p,
+                             general ? 'g' : 'f', v, mine, lib);
+                fast_prints++;
+            }
+        }
+    }
+    assert_true(fast_reads > 100000); /* most values took the fast path to nearest */
+    assert_true(fast_prints == 600000);
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
@@ -501,6 +786,8 @@ int main(void)
         cmocka_unit_test(ini_from_memory), cmocka_unit_test(decimal_fast_path),
         cmocka_unit_test(format_fast_path),
         cmocka_unit_test(progress_reported), cmocka_unit_test(fixed_conversion_overflow),
+        cmocka_unit_test_teardown(decimal_comma_locale, host_restore),
+        cmocka_unit_test_teardown(rounding_modes, host_restore),
     };
     return cmocka_run_group_tests(tests, units_setup, units_teardown);
 }

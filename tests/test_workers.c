@@ -3,7 +3,7 @@
  * single thread gives.  The files of a campaign are read, and its samples
  * fitted and diagnosed, a few at a time by as many workers as the machine has
  * (src/lib/util.c); here the worker count is forced (arrank_workers_force,
- * src/lib/internal.h) to 1 and then to several, and the whole JSON output
+ * src/lib/util.h) to 1 and then to several, and the whole JSON output
  * must be the same byte for byte, and a campaign with bad files must fail on
  * the first bad file in name order, as a reader in order would.
  *
@@ -28,7 +28,7 @@
 #include "arrank/diagnose.h"
 #include "arrank/output.h"
 #include "arrank/units.h"
-#include "../src/lib/internal.h"
+#include "../src/lib/util.h"
 #include "helpers.h"
 
 #define DEMO "campaigns/zeolite-ni-screen"

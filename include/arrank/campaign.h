@@ -20,61 +20,11 @@
 #include <stddef.h>
 
 #include "arrank/error.h"
+#include "arrank/sample.h"
 #include "arrank/units.h"
 
-/*
- * Resource limits.  Input beyond any of them is refused with ARRANK_ELIMIT
- * (and the file, line, column where it was met), so a stray log file or a
- * runaway export cannot exhaust memory.  Each file is read with one read into
- * a buffer of its size, so memory per file is bounded by the file-size limit.
- */
-#define ARRANK_CAMPAIGN_MAX_LINE_BYTES (1024L * 1024L) /* bytes in one line, terminator excluded */
-#define ARRANK_CAMPAIGN_MAX_COLUMNS 1000L             /* fields in the header or a row */
-#define ARRANK_CAMPAIGN_MAX_ROWS 1000000L             /* data rows in one file */
-#define ARRANK_CAMPAIGN_MAX_FILES 200000L             /* sample files in one folder */
-#define ARRANK_CAMPAIGN_MAX_FILE_BYTES (256L * 1024L * 1024L) /* size of one sample file */
-
-/* One measured point.  Quantities absent from the file are NAN. */
-typedef struct {
-    double temp_K;           /* temperature, K */
-    double rate;             /* rate in the campaign's report unit (campaign.rate_unit) */
-    double rate_sd;          /* standard deviation of rate, same unit; NAN if not given */
-    double conversion;       /* fractional conversion 0..1 (file may say % ); NAN if none */
-    double time_on_stream_s; /* s; NAN if none */
-    int run;                 /* index into sample.runs; -1 if no run column */
-    long line;               /* physical line of the point in its file (1-based) */
-} arrank_point;
-
-/* A metadata entry: "# key = value" in the file or a [sample ID] key in campaign.ini. */
-typedef struct {
-    char *key;
-    char *value;
-    char *source; /* file the entry came from (sample CSV or campaign.ini) */
-    long line;
-} arrank_meta;
-
-typedef struct {
-    char *id;             /* sample id: metadata "sample", else the file stem */
-    char *path;           /* path of the CSV as opened */
-    char *file;           /* base name of the CSV */
-    arrank_basis basis;   /* from the rate unit's dimension */
-    char *rate_unit_file; /* rate unit as written in the file's header */
-    arrank_point *points; /* in file order */
-    size_t n_points;
-    char **runs; /* distinct run labels in order of first appearance */
-    size_t n_runs;
-    arrank_meta *meta;
-    size_t n_meta;
-    char **notes; /* things kept but ignored (unknown columns, unknown keys) */
-    size_t n_notes;
-    /* Set when the sample is readable but cannot be fitted; NULL otherwise.
-       problem_line is the line it points at (0 if the whole file). */
-    char *problem;
-    long problem_line;
-    /* 1 when the file has no rate column and the rates were derived from its
-       conversion column and feed metadata (README "Rates from conversion"). */
-    int rates_derived;
-} arrank_sample;
+/* Sample files in one folder (the other limits: arrank/sample.h). */
+#define ARRANK_CAMPAIGN_MAX_FILES 200000L
 
 typedef struct {
     char *path;                 /* folder as given */
@@ -121,20 +71,5 @@ void arrank_campaign_free(arrank_campaign *campaign);
 arrank_status arrank_campaign_parse_ini(const char *name, const char *data, size_t len,
                                         arrank_units *units, arrank_campaign **out,
                                         arrank_error *err);
-
-/*
- * Read one sample file from a memory buffer (for tests and fuzzing).  name is
- * used as path in messages and for the id.  report_unit may be NULL: the
- * file's own rate unit is then used (and returned in sample->rate_unit_file).
- * On success the sample is filled (free with arrank_sample_clear).
- */
-arrank_status arrank_sample_parse(const char *name, const char *data, size_t len,
-                                  arrank_units *units, const char *report_unit,
-                                  arrank_sample *sample, arrank_error *err);
-
-void arrank_sample_clear(arrank_sample *sample);
-
-/* Value of metadata key (last one wins), or NULL. */
-const char *arrank_sample_meta(const arrank_sample *sample, const char *key);
 
 #endif

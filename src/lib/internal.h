@@ -35,13 +35,6 @@ arrank_status arrank_predict_check(int have_fit, double temp_K, double confidenc
 void arrank_predict_fill(double temp_K, double confidence, double dof, double T_min_K,
                          double T_max_K, double ln_r, double se, arrank_prediction *pred);
 
-/* ---- campaign.c: test switch for the reader ---- */
-
-/* 1 (the default): data lines without a quote character are split directly
-   instead of through libcsv, with the same result; 0: every line goes through
-   libcsv.  For tests that compare the two readings; not thread-safe. */
-void arrank_campaign_plain_lines(int on);
-
 /* ---- rank.c: ranking statistics and extra models (rank.h, models.h) ---- */
 
 /* 0 (the default): the Monte Carlo counts the pairwise wins of the top a row

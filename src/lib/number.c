@@ -1,5 +1,7 @@
 /*
- * number.c - reading plain decimal numbers without strtod's general machinery.
+ * number.c - reading and printing plain decimal numbers without strtod's and
+ * printf's general machinery, and those library calls made independent of
+ * the calling program's locale and rounding mode.
  *
  * A campaign of 10,000 samples holds some 400,000 numbers, and glibc's strtod
  * takes several hundred instructions for each, because it handles any length
@@ -12,10 +14,115 @@
  * returns (W. D. Clinger, "How to read floating point numbers accurately",
  * PLDI 1990, section 3).  Anything else is left to strtod.  test_robust.c
  * checks the two agree bit for bit on a million random decimals.
+ *
+ * The library is embedded in programs that may have set a locale with a
+ * decimal comma (setlocale(LC_NUMERIC, "de_DE.UTF-8")) or another rounding
+ * mode (fesetround).  strtod and snprintf follow both; a file must read, and
+ * a number print, the same in any of them.  So every call of theirs here runs
+ * in the C locale (uselocale, which is per thread, never setlocale, which is
+ * per process) and rounding to nearest (saved and restored around the call).
+ * Clinger's one operation rounds in the current mode, so the fast reader
+ * answers only when that mode is to nearest; the fast printer's rounding
+ * decision does not depend on the mode (see scaled_round).
  */
 #include "number.h"
 
+#include <errno.h>
+#include <fenv.h>
+#include <locale.h>
+#include <math.h>
+#include <pthread.h>
 #include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* ---- the C library's paths, in the C locale and rounding to nearest ---- */
+
+static locale_t c_locale; /* (locale_t)0 when newlocale failed */
+static pthread_once_t c_locale_once = PTHREAD_ONCE_INIT;
+
+static void make_c_locale(void)
+{
+    c_locale = newlocale(LC_ALL_MASK, "C", (locale_t)0);
+}
+
+void arrank_numbers_c_enter(arrank_numbers_env *saved)
+{
+    pthread_once(&c_locale_once, make_c_locale);
+    saved->locale = c_locale ? uselocale(c_locale) : (locale_t)0;
+    saved->rounding = fegetround();
+    if (saved->rounding != FE_TONEAREST)
+        fesetround(FE_TONEAREST);
+}
+
+void arrank_numbers_c_leave(const arrank_numbers_env *saved)
+{
+    if (saved->rounding != FE_TONEAREST)
+        fesetround(saved->rounding);
+    if (saved->locale)
+        uselocale(saved->locale);
+}
+
+/* The decimal point of the thread's locale when the switch to C failed
+   (newlocale out of memory); NULL when it is "." already. */
+static const char *foreign_point(void)
+{
+    if (c_locale)
+        return NULL;
+    const char *dp = localeconv()->decimal_point;
+    return dp && strcmp(dp, ".") != 0 ? dp : NULL;
+}
+
+double arrank_decimal_prefix(const char *text, char **end)
+{
+    arrank_numbers_env saved;
+    arrank_numbers_c_enter(&saved);
+    const char *dp = foreign_point();
+    double v;
+    if (!dp) {
+        v = strtod(text, end);
+    } else { /* the same text with the locale's decimal point in place of '.' */
+        size_t n = strlen(text), k = strlen(dp);
+        const char *point = strchr(text, '.');
+        char *alt = point ? malloc(n + k) : NULL;
+        if (!alt) {
+            v = strtod(text, end);
+        } else {
+            size_t at = (size_t)(point - text);
+            memcpy(alt, text, at);
+            memcpy(alt + at, dp, k);
+            memcpy(alt + at + k, point + 1, n - at);
+            char *alt_end;
+            v = strtod(alt, &alt_end);
+            size_t used = (size_t)(alt_end - alt);
+            *end = (char *)text + (used > at ? used - (k - 1) : used);
+            free(alt);
+        }
+    }
+    int e = errno;
+    arrank_numbers_c_leave(&saved);
+    errno = e;
+    return v;
+}
+
+/* snprintf "%.*f" (general 0) or "%.*g" (general 1) in the C locale, rounding to nearest. */
+static int snprintf_c(char *buf, size_t n, int general, int prec, double v)
+{
+    arrank_numbers_env saved;
+    arrank_numbers_c_enter(&saved);
+    int r = general ? snprintf(buf, n, "%.*g", prec, v) : snprintf(buf, n, "%.*f", prec, v);
+    const char *dp = foreign_point();
+    char *at = dp && r >= 0 ? strstr(buf, dp) : NULL;
+    if (at) { /* the locale's point back to '.' */
+        size_t k = strlen(dp);
+        *at = '.';
+        memmove(at + 1, at + k, strlen(at + k) + 1);
+        r -= (int)(k - 1);
+    }
+    arrank_numbers_c_leave(&saved);
+    return r;
+}
 
 /* 10^0 .. 10^22: all exact in binary64 (5^22 < 2^53). */
 static const double powers_of_ten[] = {
@@ -27,6 +134,8 @@ static const double powers_of_ten[] = {
 
 int arrank_decimal_fast(const char *text, double *value)
 {
+    if (fegetround() != FE_TONEAREST)
+        return 0; /* the one operation below would round another way than strtod in C */
     const char *s = text;
     int negative = 0;
     if (*s == '+' || *s == '-')
@@ -83,6 +192,51 @@ int arrank_decimal_fast(const char *text, double *value)
     return 1;
 }
 
+int arrank_decimal_read(const char *text, double *value)
+{
+    double v;
+    if (arrank_decimal_fast(text, &v)) {
+        *value = v;
+        return 0;
+    }
+    for (const char *p = text; *p; p++)
+        if (*p == 'x' || *p == 'X') /* strtod reads hexadecimal; a lab file does not */
+            return 1;
+    char *end;
+    errno = 0;
+    v = arrank_decimal_prefix(text, &end);
+    if (end == text || *end != '\0')
+        return 1;
+    if (isnan(v) || (isinf(v) && errno != ERANGE))
+        return 2;
+    if (errno == ERANGE)
+        return 3;
+    *value = v;
+    return 0;
+}
+
+static int is_cell_blank(char c)
+{
+    return c == ' ' || c == '\t' || c == '\r' || c == '\n';
+}
+
+int arrank_decimal_cell(char *text, char delim, double *value)
+{
+    char *s = text;
+    while (is_cell_blank(*s))
+        s++;
+    size_t n = strlen(s);
+    while (n > 0 && is_cell_blank(s[n - 1]))
+        s[--n] = '\0';
+    if (*s == '\0')
+        return 1;
+    if (delim != ',')
+        for (char *p = s; *p; p++)
+            if (*p == ',')
+                *p = '.';
+    return arrank_decimal_read(s, value);
+}
+
 /*
  * Writing numbers.  A table of 10,000 samples prints some 120,000 numbers
  * with %.1f, %.2f or %.3g, and glibc's printf spends about 1,500 instructions
@@ -100,10 +254,6 @@ int arrank_decimal_fast(const char *text, double *value)
  * of that range, and non-finite ones, go to snprintf.  test_robust.c compares
  * the two on millions of values, ties and near-ties among them.
  */
-#include <math.h>
-#include <stdio.h>
-#include <string.h>
-
 #define TWO_POW_52 4503599627370496.0 /* 2^52 */
 #define TINY 1e-250                   /* far above the underflow of an fma error */
 
@@ -169,7 +319,7 @@ int arrank_format_fixed(char *buf, size_t n, int prec, double v)
     uint64_t m;
     if (n < 40 || prec < 0 || prec > 17 || !isfinite(v) ||
         !(v == 0.0 || scaled_round(fabs(v), prec, &m)))
-        return snprintf(buf, n, "%.*f", prec, v);
+        return snprintf_c(buf, n, 0, prec, v);
     if (v == 0.0)
         m = 0;
     /* the digits of m with at least one before the point; the last prec are the fraction */
@@ -229,13 +379,13 @@ int arrank_format_general(char *buf, size_t n, int prec, double v)
     double a = fabs(v);
     /* prec <= 15 keeps 10^(prec + 3), the unit of the smallest %f-style value, in 64 bits */
     if (n < 40 || prec < 1 || prec > 15 || !isfinite(v) || v == 0.0 || a < TINY || a > 1e250)
-        return snprintf(buf, n, "%.*g", prec, v);
+        return snprintf_c(buf, n, 1, prec, v);
     /* X: decimal exponent of v rounded to prec digits; m: those digits. */
     int x = decimal_exponent(a);
     uint64_t m = 0, lo = (uint64_t)powers_of_ten[prec - 1], hi = lo * 10;
     for (int tries = 0;; tries++) {
         if (tries == 3 || !scaled_round(a, prec - 1 - x, &m))
-            return snprintf(buf, n, "%.*g", prec, v);
+            return snprintf_c(buf, n, 1, prec, v);
         if (m < lo)
             x--; /* not reached with decimal_exponent, which is never above */
         else if (m > hi)

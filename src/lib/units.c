@@ -13,6 +13,7 @@
  * offset); logarithmic units are refused.
  */
 #include "arrank/units.h"
+#include "number.h"
 #include "units_internal.h"
 
 #include <ctype.h>
@@ -198,7 +199,10 @@ static ut_unit *parse_unit(arrank_units *units, const char *norm, const char *sh
         *st = arrank_errorf(err, ARRANK_EUNIT, "empty unit");
         return NULL;
     }
+    arrank_numbers_env env; /* numbers in a unit ("0.001 mol/s") read as in C */
+    arrank_numbers_c_enter(&env);
     ut_unit *u = ut_parse(units->system, norm, UT_UTF8);
+    arrank_numbers_c_leave(&env);
     if (!u) {
         *st = arrank_errorf(err, ARRANK_EUNIT, "unknown unit '%s'", shown);
         return NULL;
@@ -264,7 +268,10 @@ static arrank_status units_load(arrank_units *units, arrank_error *err)
 {
     /* udunits prints its own diagnostics by default; the library never prints. */
     ut_set_error_message_handler(ut_ignore);
+    arrank_numbers_env nums; /* the database's numbers read as in C, in any locale */
+    arrank_numbers_c_enter(&nums);
     units->system = ut_read_xml(NULL);
+    arrank_numbers_c_leave(&nums);
     if (!units->system) {
         const char *env = getenv("UDUNITS2_XML_PATH");
         return arrank_errorf(err, ARRANK_EIO, "cannot load the udunits2 unit database%s%s%s",
@@ -449,7 +456,8 @@ static void trimmed_copy(const char *text, char *out)
 
 /*
  * Split "VALUE UNIT" into the number and the trimmed unit text.  The number
- * uses a decimal point only (strtod in the C locale).  Returns 0, or -1 when
+ * uses a decimal point only (strtod as in the C locale, number.c), whatever
+ * the caller's locale.  Returns 0, or -1 when
  * the text does not start with a finite number.
  */
 static int split_value(const char *text, double *value, const char **unit)
@@ -467,7 +475,7 @@ static int split_value(const char *text, double *value, const char **unit)
         return -1;
     char *end;
     errno = 0;
-    double v = strtod(text, &end);
+    double v = arrank_decimal_prefix(text, &end);
     if (end == text || errno == ERANGE || !isfinite(v))
         return -1;
     while (is_space(*end))

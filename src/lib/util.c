@@ -3,6 +3,7 @@
  * a chi-square tail, and the worker threads that read and analyse samples.
  */
 #include <pthread.h>
+#include <stdio.h>
 #include <stdatomic.h>
 #include <stdint.h>
 #include <stdlib.h>
@@ -185,4 +186,114 @@ arrank_status arrank_workers_each(size_t first, size_t n, size_t chunk, size_t w
     }
     free(j);
     return st;
+}
+
+/* ---- text of the input files ------------------------------------------------ */
+
+static int ascii_lower(int c)
+{
+    return (c >= 'A' && c <= 'Z') ? c - 'A' + 'a' : c;
+}
+
+int arrank_ascii_casecmp(const char *a, const char *b)
+{
+    for (;; a++, b++) {
+        int ca = ascii_lower((unsigned char)*a), cb = ascii_lower((unsigned char)*b);
+        if (ca != cb || ca == 0)
+            return ca - cb;
+    }
+}
+
+int arrank_ascii_casecmp_n(const char *a, const char *b, size_t n)
+{
+    for (size_t i = 0; i < n; i++) {
+        int ca = ascii_lower((unsigned char)a[i]), cb = ascii_lower((unsigned char)b[i]);
+        if (ca != cb || ca == 0)
+            return ca - cb;
+    }
+    return 0;
+}
+
+char *arrank_dup_range(const char *s, size_t n)
+{
+    char *d = malloc(n + 1);
+    if (!d)
+        return NULL;
+    memcpy(d, s, n);
+    d[n] = '\0';
+    return d;
+}
+
+const char *arrank_base_name(const char *path)
+{
+    const char *slash = strrchr(path, '/');
+    return slash ? slash + 1 : path;
+}
+
+int arrank_grow(void **array, size_t *cap, size_t need, size_t elem)
+{
+    if (need <= *cap)
+        return 0;
+    size_t n = *cap ? *cap : 8;
+    while (n < need) {
+        if (n > SIZE_MAX / 2 / elem)
+            return -1;
+        n *= 2;
+    }
+    void *p = realloc(*array, n * elem);
+    if (!p)
+        return -1;
+    *array = p;
+    *cap = n;
+    return 0;
+}
+
+int arrank_list_add(char ***list, size_t *n, size_t *cap, const char *text)
+{
+    if (arrank_grow((void **)list, cap, *n + 1, sizeof **list) != 0)
+        return -1;
+    char *copy = arrank_strdup(text);
+    if (!copy)
+        return -1;
+    (*list)[(*n)++] = copy;
+    return 0;
+}
+
+void arrank_list_free(char **list, size_t n)
+{
+    for (size_t i = 0; i < n; i++)
+        free(list[i]);
+    free(list);
+}
+
+size_t arrank_line_length(const char *s, const char *end, size_t *term)
+{
+    /* memchr scans many bytes a step: a line ends at the first LF or CR */
+    const char *nl = memchr(s, '\n', (size_t)(end - s));
+    const char *stop = nl ? nl : end;
+    const char *cr = stop > s ? memchr(s, '\r', (size_t)(stop - s)) : NULL;
+    const char *q = cr ? cr : stop;
+    *term = 0;
+    if (q < end)
+        *term = (*q == '\r' && q + 1 < end && q[1] == '\n') ? 2 : 1;
+    return (size_t)(q - s);
+}
+
+long arrank_nul_line(const char *data, size_t len)
+{
+    const char *nul = memchr(data, '\0', len);
+    if (!nul)
+        return 0;
+    long line = 1;
+    for (const char *q = data; q < nul; q++)
+        if (*q == '\n' || (*q == '\r' && !(q + 1 < nul && q[1] == '\n')))
+            line++;
+    return line;
+}
+
+void arrank_os_message(int errnum, char *buf, size_t n)
+{
+    snprintf(buf, n, "%s", strerror(errnum));
+    if (buf[0] >= 'A' && buf[0] <= 'Z' && !(buf[1] >= 'A' && buf[1] <= 'Z'))
+        buf[0] = (char)ascii_lower((unsigned char)buf[0]);
 }

@@ -41,4 +41,37 @@ arrank_status arrank_workers_each(size_t first, size_t n, size_t chunk, size_t w
                                   void *ctx, arrank_progress_fn progress, void *progress_ctx,
                                   const char *stage, arrank_error *err);
 
+/* ---- util.c: text of the input files (the sample and campaign.ini readers) ---- */
+
+/* Case-insensitive comparison of ASCII letters, independent of the locale;
+   the _n form compares at most n bytes. */
+int arrank_ascii_casecmp(const char *a, const char *b);
+int arrank_ascii_casecmp_n(const char *a, const char *b, size_t n);
+
+/* A NUL-terminated copy of the n bytes at s; NULL when out of memory. */
+char *arrank_dup_range(const char *s, size_t n);
+
+/* What follows the last '/' of path (all of it when there is none). */
+const char *arrank_base_name(const char *path);
+
+/* Grow *array (element size elem) so that it holds at least need elements,
+   doubling from *cap (8 when 0).  0, or -1 when out of memory. */
+int arrank_grow(void **array, size_t *cap, size_t need, size_t elem);
+
+/* Append a copy of text to a string list of *n entries (room *cap); -1 when
+   out of memory.  arrank_list_free frees the entries and the list. */
+int arrank_list_add(char ***list, size_t *n, size_t *cap, const char *text);
+void arrank_list_free(char **list, size_t n);
+
+/* Length of the line at s (up to end), without its line end, and the length
+   of that line end in *term: 0 at the end of the text, 1 for LF or CR, 2 for
+   CRLF. */
+size_t arrank_line_length(const char *s, const char *end, size_t *term);
+
+/* Line (1-based) of the first NUL byte of the len bytes at data; 0 if none. */
+long arrank_nul_line(const char *data, size_t len);
+
+/* strerror(errnum) with a lowercase first letter (message style), into buf. */
+void arrank_os_message(int errnum, char *buf, size_t n);
+
 #endif

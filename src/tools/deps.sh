@@ -4,12 +4,14 @@
 #
 #   deps.sh          what `make demo` needs (build, gnuplot)
 #   deps.sh --test   and what `make test` needs besides (SciPy, headless
-#                    Chromium for the report check, clang for the fuzzers)
+#                    Chromium for the report check, clang for the fuzzers,
+#                    a locale with a decimal comma for the locale tests)
 set -eu
 for_test=0
 [ "${1:-}" = "--test" ] && for_test=1
 
 need=""
+need_locale=0
 have_pc() { pkg-config --exists "$1" 2>/dev/null; }
 have_header() { [ -f "/usr/include/$1" ]; }
 
@@ -37,18 +39,30 @@ if [ "$for_test" -eq 1 ]; then
         need="$need libclang-rt-14-dev"
     command -v valgrind >/dev/null 2>&1 || need="$need valgrind"
     [ -x /usr/bin/time ] || need="$need time"
+    # tests/test_locale.c and check_cli.sh run under de_DE.UTF-8 (a decimal
+    # comma): Debian's locales package has its source, localedef builds it.
+    if ! locale -a 2>/dev/null | grep -qix 'de_DE\.utf-\?8'; then
+        need_locale=1
+        [ -f /usr/share/i18n/locales/de_DE ] || need="$need locales"
+    fi
 fi
 [ -n "${ARRANK_DEPS_EXTRA:-}" ] && need="$need $ARRANK_DEPS_EXTRA"
 
-if [ -z "$need" ]; then
+if [ -z "$need" ] && [ "$need_locale" -eq 0 ]; then
     echo "deps: all build and test dependencies present"
     exit 0
 fi
 
-echo "deps: installing:$need"
 if [ "$(id -u)" -eq 0 ]; then sudo=""; else sudo="sudo"; fi
-export DEBIAN_FRONTEND=noninteractive
-$sudo apt-get update -qq
-# shellcheck disable=SC2086
-$sudo apt-get install -y -qq --no-install-recommends $need >/dev/null
-echo "deps: installed:$need"
+if [ -n "$need" ]; then
+    echo "deps: installing:$need"
+    export DEBIAN_FRONTEND=noninteractive
+    $sudo apt-get update -qq
+    # shellcheck disable=SC2086
+    $sudo apt-get install -y -qq --no-install-recommends $need >/dev/null
+    echo "deps: installed:$need"
+fi
+if [ "$need_locale" -eq 1 ]; then
+    echo "deps: generating the locale de_DE.UTF-8"
+    $sudo localedef -i de_DE -f UTF-8 de_DE.UTF-8
+fi
