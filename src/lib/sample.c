@@ -142,16 +142,25 @@ static const struct {
     const char *name;
     column_kind kind;
 } column_names[] = {
-    {"t", COL_TEMP},          {"temperature", COL_TEMP}, {"rate", COL_RATE},
-    {"r", COL_RATE},          {"rate_sd", COL_RATE_SD},  {"run", COL_RUN},
-    {"time_on_stream", COL_TIME}, {"conversion", COL_CONVERSION},
+    {"t", COL_TEMP},          {"temp", COL_TEMP},         {"temperature", COL_TEMP},
+    {"t_bed", COL_TEMP},      {"rate", COL_RATE},         {"r", COL_RATE},
+    {"tof", COL_RATE},        {"rate_sd", COL_RATE_SD},   {"sd", COL_RATE_SD},
+    {"run", COL_RUN},         {"time_on_stream", COL_TIME}, {"conversion", COL_CONVERSION},
+    {"x", COL_CONVERSION},
 };
+
+/* The accepted header forms, for messages. */
+#define HEADER_FORMS "'T [degC]', 'Temperature (°C)' or 'T / K'"
+#define TEMP_NAMES "T, Temp, temperature, T_bed"
+#define RATE_NAMES "rate, r, TOF"
+
 
 typedef struct {
     column_kind kind;
     char *name; /* as written */
     char *unit; /* as written, NULL if none */
     arrank_conversion conv;
+    int relative; /* rate_sd [%]: a percentage of the rate */
 } data_column;
 
 typedef struct {
@@ -174,6 +183,11 @@ typedef struct {
     arrank_point point;
     char rate_text[64];
     arrank_conversion derived_conv; /* mol/(kg*s) to the report unit, derived rates only */
+    int lenient;          /* arrank_read_options.strict == 0 */
+    int row_has_text;     /* a cell of the row holds more than blanks */
+    double sd_rel;        /* rate_sd [%] of the row as a fraction; NAN if none */
+    char omit_reason[256]; /* why the row's point is left out; "" if usable */
+    long omit_column;
     /* storage */
     char *cell;
     size_t cell_cap;
@@ -206,6 +220,123 @@ static arrank_status nomem(parser *p)
     return fail(p, ARRANK_ENOMEM, 0, "out of memory");
 }
 
+static void omit(parser *p, long colno, const char *fmt, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 3, 4)))
+#endif
+    ;
+
+/* A cell that leaves its point out (lenient reading): the row's first reason
+   is kept; the point is stored with it at the end of the row (on_row). */
+static void omit(parser *p, long colno, const char *fmt, ...)
+{
+    if (p->omit_reason[0])
+        return;
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(p->omit_reason, sizeof p->omit_reason, fmt, ap);
+    va_end(ap);
+    if (!p->omit_reason[0])
+        snprintf(p->omit_reason, sizeof p->omit_reason, "left out");
+    p->omit_column = colno;
+}
+
+/* Whether the round brackets of text pair up. */
+static int brackets_balanced(const char *text)
+{
+    long depth = 0;
+    for (; *text; text++) {
+        if (*text == '(')
+            depth++;
+        else if (*text == ')' && --depth < 0)
+            return 0;
+    }
+    return depth == 0;
+}
+
+/*
+ * Split a header field into name and unit.  Three forms (README "Headers"):
+ * 'name [unit]', 'name (unit)' (the unit in the last bracket pair, which may
+ * hold brackets of its own: 'rate (mol/(kg*h))') and the quantity / unit form
+ * 'name / unit' (a slash with blanks on both sides).  A field without any is
+ * a name alone (*unit NULL).  Brackets that do not pair up are an error with
+ * the column.  0, or -1 after failing.
+ */
+static int split_header(parser *p, long colno, char *s, char **name, char **unit)
+{
+    *name = s;
+    *unit = NULL;
+    char *open = strchr(s, '[');
+    char *u = NULL;
+    char *slash = strstr(s, " / ");
+    if (!slash)
+        slash = strstr(s, "\t/ ");
+    if (slash && !memchr(s, '(', (size_t)(slash - s)) && !memchr(s, '[', (size_t)(slash - s))) {
+        *slash = '\0';
+        u = slash + 3;
+    } else if (open) {
+        char *close = strchr(open + 1, ']');
+        if (!close) {
+            fail(p, ARRANK_EPARSE, colno, "unclosed '[' in header field '%s'", s);
+            return -1;
+        }
+        char *after = close + 1;
+        while (is_blank(*after))
+            after++;
+        if (*after) {
+            fail(p, ARRANK_EPARSE, colno,
+                 "text after ']' in header field '%s'; write it as 'name [unit]'", s);
+            return -1;
+        }
+        *open = '\0';
+        *close = '\0';
+        u = open + 1;
+    } else if (strchr(s, '(') || strchr(s, ')')) {
+        size_t n = strlen(s);
+        long depth = 0;
+        char *match = NULL;
+        if (n > 0 && s[n - 1] == ')')
+            for (size_t i = n; i-- > 0;) {
+                if (s[i] == ')')
+                    depth++;
+                else if (s[i] == '(' && --depth == 0) {
+                    match = s + i;
+                    break;
+                }
+            }
+        if (!match || memchr(s, '(', (size_t)(match - s)) || memchr(s, ')', (size_t)(match - s))) {
+            fail(p, ARRANK_EPARSE, colno,
+                 "brackets do not pair up in header field '%s'; write it as 'name (unit)' or "
+                 "'name [unit]'", s);
+            return -1;
+        }
+        s[n - 1] = '\0';
+        *match = '\0';
+        u = match + 1;
+    }
+    if (u) {
+        u = trim(u);
+        if (!brackets_balanced(u)) {
+            fail(p, ARRANK_EUNIT, colno, "brackets do not pair up in unit '%s' of column '%s'", u,
+                 trim(s));
+            return -1;
+        }
+        /* 'T / (K)' and 'rate [(mol/(kg*h))]': one pair around the whole unit is dropped */
+        size_t n = strlen(u);
+        if (n >= 2 && u[0] == '(' && u[n - 1] == ')') {
+            u[n - 1] = '\0';
+            if (brackets_balanced(u + 1))
+                u = trim(u + 1);
+            else
+                u[n - 1] = ')';
+        }
+        if (*u)
+            *unit = u;
+    }
+    *name = trim(s);
+    return 0;
+}
+
 /* Split a header field "name [unit]" and record the column. */
 static void header_field(parser *p, char *text)
 {
@@ -217,29 +348,9 @@ static void header_field(parser *p, char *text)
     }
     char *s = trim(text);
     char *unit = NULL;
-    char *open = strchr(s, '[');
-    if (open) {
-        char *close = strchr(open + 1, ']');
-        if (!close) {
-            fail(p, ARRANK_EPARSE, colno, "unclosed '[' in header field '%s'", s);
-            return;
-        }
-        char *after = close + 1;
-        while (is_blank(*after))
-            after++;
-        if (*after) {
-            fail(p, ARRANK_EPARSE, colno,
-                 "text after ']' in header field '%s'; write it as 'name [unit]'", s);
-            return;
-        }
-        *open = '\0';
-        *close = '\0';
-        unit = trim(open + 1);
-        if (*unit == '\0')
-            unit = NULL;
-        s = trim(s);
-    }
-    data_column c = {COL_IGNORED, NULL, NULL, {1.0, 0.0}};
+    if (split_header(p, colno, s, &s, &unit) != 0)
+        return;
+    data_column c = {COL_IGNORED, NULL, NULL, {1.0, 0.0}, 0};
     for (size_t k = 0; k < sizeof column_names / sizeof column_names[0]; k++)
         if (arrank_ascii_casecmp(s, column_names[k].name) == 0)
             c.kind = column_names[k].kind;
@@ -304,19 +415,43 @@ static void unit_fail(parser *p, size_t idx, const arrank_error *uerr)
          p->cols[idx].name, msg + head);
 }
 
+/* "'a', 'b', 'c'" for the column names of the header, cut to n bytes. */
+static void found_columns(const parser *p, char *out, size_t n)
+{
+    size_t o = 0;
+    out[0] = '\0';
+    for (size_t i = 0; i < p->n_cols && o + 8 < n; i++) {
+        int w = snprintf(out + o, n - o, "%s'%.40s'", i ? ", " : "", p->cols[i].name);
+        if (w < 0 || (size_t)w >= n - o) {
+            snprintf(out + o, n - o, ", ...");
+            break;
+        }
+        o += (size_t)w;
+    }
+    if (p->n_cols == 0)
+        snprintf(out, n, "no column names");
+}
+
 /* Header step 1: the required columns; without a rate column the rates will
    be derived from conversion. */
 static void header_required(parser *p)
 {
     arrank_sample *s = p->sample;
     if (!p->col_of[COL_TEMP]) {
-        fail(p, ARRANK_EPARSE, 0, "no temperature column; the header needs e.g. 'T [degC]'");
+        char found[160];
+        found_columns(p, found, sizeof found);
+        fail(p, ARRANK_EPARSE, 0,
+             "no temperature column (found %s); the header needs one named " TEMP_NAMES
+             " with its unit, as " HEADER_FORMS, found);
         return;
     }
     if (!p->col_of[COL_RATE] && !p->col_of[COL_CONVERSION]) {
+        char found[160];
+        found_columns(p, found, sizeof found);
         fail(p, ARRANK_EPARSE, 0,
-             "no rate column; the header needs e.g. 'rate [umol/(g*s)]' (or a 'conversion' "
-             "column with feed metadata, to derive the rates)");
+             "no rate column (found %s); the header needs one named " RATE_NAMES
+             " with its unit, as 'rate [umol/(g*s)]' (or a 'conversion' column with feed "
+             "metadata, to derive the rates)", found);
         return;
     }
     if (p->col_of[COL_RATE])
@@ -409,7 +544,16 @@ static void header_optional_columns(parser *p)
     const char *rate_unit = p->report_unit ? p->report_unit : p->sample->rate_unit_file;
     for (size_t i = 0; i < p->n_cols && p->status == ARRANK_OK; i++) {
         data_column *c = &p->cols[i];
-        if (c->kind == COL_RATE_SD) {
+        if (c->kind == COL_RATE_SD && c->unit && strcmp(c->unit, "%") == 0) {
+            /* a relative standard deviation, percent of the rate (common on GC data) */
+            if (p->sample->rates_derived)
+                fail(p, ARRANK_EUNIT, (long)i + 1,
+                     "a relative '%s [%%]' needs a rate column; rates derived from conversion "
+                     "take an sd in a rate unit", c->name);
+            c->relative = 1;
+            c->conv.scale = 0.01;
+            c->conv.offset = 0.0;
+        } else if (c->kind == COL_RATE_SD) {
             const char *u = required_unit(p, i, rate_unit);
             if (u && arrank_units_conversion(p->units, u, rate_unit, &c->conv, &uerr) !=
                          ARRANK_OK)
@@ -450,7 +594,34 @@ static void start_point(parser *p)
     p->point.time_on_stream_s = NAN;
     p->point.run = -1;
     p->point.line = p->line;
+    p->point.omitted = NULL;
+    p->point.omitted_column = 0;
     p->rate_text[0] = '\0';
+    p->row_has_text = 0;
+    p->sd_rel = NAN;
+    p->omit_reason[0] = '\0';
+    p->omit_column = 0;
+}
+
+/*
+ * What a cell that is not a number says, in lenient reading: 1 no value
+ * ('n.d.', 'nd', 'n/a', 'NA', '-', '--', '?'), 2 below a detection limit
+ * ('< 0.01', '<LOD', 'LOD', 'LOQ', 'bdl', 'b.d.l.'), 0 neither.
+ */
+static int missing_kind(const char *cell)
+{
+    static const char *const none[] = {"n.d.", "n.d", "nd", "n/a", "na", "-", "--", "---",
+                                       "?", "none", "null", "n.a.", "\xe2\x80\x93",
+                                       "\xe2\x80\x94"};
+    static const char *const limit[] = {"lod", "loq", "bdl", "b.d.l.", "<lod", "<loq",
+                                        "< lod", "< loq", "<dl", "< dl"};
+    for (size_t i = 0; i < sizeof none / sizeof none[0]; i++)
+        if (arrank_ascii_casecmp(cell, none[i]) == 0)
+            return 1;
+    for (size_t i = 0; i < sizeof limit / sizeof limit[0]; i++)
+        if (arrank_ascii_casecmp(cell, limit[i]) == 0)
+            return 2;
+    return cell[0] == '<' ? 2 : 0;
 }
 
 /* Cell step 1: the run label of a run column. */
@@ -488,11 +659,30 @@ static int cell_number(parser *p, const data_column *c, long colno, char *cell, 
     }
     copy_cut(shown, SHOWN_MAX, cell);
     int bad = arrank_decimal_cell(cell, p->delim, v);
+    int needed = c->kind == COL_TEMP || c->kind == COL_RATE ||
+                 (c->kind == COL_CONVERSION && p->sample->rates_derived);
     if (bad == 1 && shown[0] == '\0') {
-        if (c->kind == COL_TEMP || c->kind == COL_RATE ||
-            (c->kind == COL_CONVERSION && p->sample->rates_derived))
+        if (needed && p->lenient)
+            omit(p, colno, "no value in column '%s'", c->name);
+        else if (needed)
             fail(p, ARRANK_EPARSE, colno, "empty cell in column '%s'", c->name);
         return 0; /* optional quantity not given */
+    }
+    if (bad && p->lenient) {
+        int kind = missing_kind(shown);
+        if (kind && !needed)
+            return 0; /* an optional quantity not given */
+        if (kind == 1)
+            omit(p, colno, "no value ('%s') in column '%s'", shown, c->name);
+        else if (kind == 2)
+            omit(p, colno, "below detection limit: %s in column '%s'", shown, c->name);
+        else if (bad == 2)
+            omit(p, colno, "'%s' is not a finite number in column '%s'", shown, c->name);
+        else if (bad == 3)
+            omit(p, colno, "'%s' is out of range in column '%s'", shown, c->name);
+        else
+            omit(p, colno, "'%s' is not a number in column '%s'", shown, c->name);
+        return 0;
     }
     if (bad == 1)
         fail(p, ARRANK_EPARSE, colno, "'%s' is not a number in column '%s'", shown, c->name);
@@ -527,8 +717,22 @@ static void store_value(parser *p, const data_column *c, long colno, double conv
                         const char *shown)
 {
     if (!isfinite(conv)) { /* e.g. 1e306 mol/(kg*s) is 1e309 umol/(g*s): past double */
-        fail(p, ARRANK_EPARSE, colno, "'%s' is out of range in column '%s' once converted",
-             shown, c->name);
+        if (p->lenient)
+            omit(p, colno, "'%s' is out of range in column '%s' once converted", shown, c->name);
+        else
+            fail(p, ARRANK_EPARSE, colno, "'%s' is out of range in column '%s' once converted",
+                 shown, c->name);
+        return;
+    }
+    if (p->lenient && !value_ok(c->kind, conv) && c->kind != COL_RATE) {
+        if (c->kind == COL_TEMP)
+            omit(p, colno, "temperature '%s %s' is at or below absolute zero (0 K)", shown,
+                 c->unit);
+        else if (c->kind == COL_RATE_SD)
+            omit(p, colno, "'%s' in column '%s' is negative", shown, c->name);
+        else if (c->kind == COL_CONVERSION)
+            omit(p, colno, "conversion '%s' is outside 0..1; a percentage needs '%s [%%]'", shown,
+                 c->name);
         return;
     }
     switch (c->kind) {
@@ -546,7 +750,10 @@ static void store_value(parser *p, const data_column *c, long colno, double conv
     case COL_RATE_SD:
         if (conv < 0.0)
             fail(p, ARRANK_EPARSE, colno, "'%s' in column '%s' is negative", shown, c->name);
-        p->point.rate_sd = conv;
+        if (c->relative)
+            p->sd_rel = conv; /* times the rate at the end of the row */
+        else
+            p->point.rate_sd = conv;
         break;
     case COL_TIME:
         p->point.time_on_stream_s = conv;
@@ -580,12 +787,14 @@ static void data_field(parser *p, char *text)
     long colno = (long)idx + 1;
     if (c->kind == COL_IGNORED)
         return;
+    char *cell = trim(text);
+    if (*cell)
+        p->row_has_text = 1;
     if (c->kind == COL_RUN) {
-        run_cell(p, text);
+        run_cell(p, cell);
         return;
     }
     char shown[SHOWN_MAX]; /* the cell as written, cut to fit, for messages */
-    char *cell = trim(text);
     double v = NAN;
     if (!cell_number(p, c, colno, cell, shown, &v))
         return;
@@ -634,6 +843,8 @@ static void on_row(int c, void *user)
     }
     if (p->row_is_comment)
         return;
+    if (p->lenient && !p->row_has_text)
+        return; /* delimiters and blanks only: what spreadsheets leave at the end */
     if (n != p->n_cols) {
         long colno = (long)(n < p->n_cols ? n : p->n_cols) + 1;
         fail(p, ARRANK_EPARSE, colno, "row has %zu fields but the header has %zu%s", n, p->n_cols,
@@ -651,8 +862,21 @@ static void on_row(int c, void *user)
         nomem(p);
         return;
     }
+    if (isfinite(p->sd_rel))
+        p->point.rate_sd = p->sd_rel * p->point.rate;
+    if (p->lenient && !p->omit_reason[0] && !s->rates_derived && !(p->point.rate > 0.0))
+        omit(p, (long)p->col_of[COL_RATE],
+             "rate %s is not positive; a logarithm needs a positive rate", p->rate_text);
+    if (p->omit_reason[0]) {
+        if (!(p->point.omitted = strdup(p->omit_reason))) {
+            nomem(p);
+            return;
+        }
+        p->point.omitted_column = (int)p->omit_column;
+        s->n_omitted++;
+    }
     s->points[s->n_points++] = p->point;
-    if (!s->rates_derived && !(p->point.rate > 0.0) && !s->problem) {
+    if (!s->rates_derived && !(p->point.rate > 0.0) && !s->problem && !p->point.omitted) {
         char msg[256];
         snprintf(msg, sizeof msg,
                  "rate %s at line %ld is not positive; a logarithm needs a positive rate",
@@ -825,6 +1049,8 @@ void arrank_sample_clear(arrank_sample *sample)
     free(sample->path);
     free(sample->file);
     free(sample->rate_unit_file);
+    for (size_t i = 0; i < sample->n_points; i++)
+        free(sample->points[i].omitted);
     free(sample->points);
     arrank_list_free(sample->runs, sample->n_runs);
     for (size_t i = 0; i < sample->n_meta; i++) {
@@ -843,20 +1069,29 @@ int arrank_sample_fit_problem(arrank_sample *s)
     if (s->problem)
         return 0;
     char msg[256];
-    if (s->n_points < 3) {
+    size_t n = 0, first = 0; /* usable points; the first of them */
+    for (size_t i = s->n_points; i-- > 0;)
+        if (!s->points[i].omitted) {
+            n++;
+            first = i;
+        }
+    char left[64] = "";
+    if (n < s->n_points)
+        snprintf(left, sizeof left, " (%zu left out)", s->n_points - n);
+    if (n < 3) {
         snprintf(msg, sizeof msg,
-                 "only %zu data point%s; a fit with uncertainties needs at least 3",
-                 s->n_points, s->n_points == 1 ? "" : "s");
+                 "only %zu %sdata point%s%s; a fit with uncertainties needs at least 3", n,
+                 n < s->n_points ? "usable " : "", n == 1 ? "" : "s", left);
     } else {
-        for (size_t i = 1; i < s->n_points; i++)
-            if (s->points[i].temp_K != s->points[0].temp_K)
+        for (size_t i = first + 1; i < s->n_points; i++)
+            if (!s->points[i].omitted && s->points[i].temp_K != s->points[first].temp_K)
                 return 0;
         char temp[48];
-        arrank_format_fixed(temp, sizeof temp, 2, s->points[0].temp_K); /* %.2f, any locale */
+        arrank_format_fixed(temp, sizeof temp, 2, s->points[first].temp_K); /* %.2f, any locale */
         snprintf(msg, sizeof msg,
-                 "all %zu points are at one temperature (%s K); an activation energy "
+                 "all %zu %spoints are at one temperature (%s K)%s; an activation energy "
                  "needs at least two",
-                 s->n_points, temp);
+                 n, n < s->n_points ? "usable " : "", temp, left);
     }
     s->problem = strdup(msg);
     s->problem_line = 0;
@@ -903,6 +1138,47 @@ static void parser_free(parser *p)
     free(p->runs.slots);
 }
 
+/*
+ * A file whose delimiter is ';' or tab may write its numbers with a decimal
+ * comma, and its metadata follow it: '# mass = 48,5 mg' is 48.5 mg.  A value
+ * that starts with digits, one comma and digits (then an exponent, a blank
+ * and a unit, or nothing) gets a point for the comma; ids and notes are text
+ * and kept as written.
+ */
+static void metadata_decimal_commas(arrank_sample *s)
+{
+    for (size_t i = 0; i < s->n_meta; i++) {
+        const char *key = s->meta[i].key;
+        if (arrank_ascii_casecmp(key, "sample") == 0 || arrank_ascii_casecmp(key, "note") == 0 ||
+            arrank_ascii_casecmp(key, "title") == 0)
+            continue;
+        char *v = s->meta[i].value, *t = v;
+        if (*t == '+' || *t == '-')
+            t++;
+        if (!(*t >= '0' && *t <= '9'))
+            continue;
+        while (*t >= '0' && *t <= '9')
+            t++;
+        if (*t != ',' || !(t[1] >= '0' && t[1] <= '9'))
+            continue;
+        char *comma = t++;
+        while (*t >= '0' && *t <= '9')
+            t++;
+        if (*t == 'e' || *t == 'E') {
+            char *e = t + 1;
+            if (*e == '+' || *e == '-')
+                e++;
+            if (*e >= '0' && *e <= '9') {
+                while (*e >= '0' && *e <= '9')
+                    e++;
+                t = e;
+            }
+        }
+        if (*t == '\0' || is_blank(*t))
+            *comma = '.';
+    }
+}
+
 /* Read step 1: the text check, the byte order mark, the metadata and comment
    lines up to the header.  *header gets the header line (at p->line), *hlen
    its length; p->delim its delimiter. */
@@ -940,7 +1216,7 @@ static arrank_status read_preamble(parser *p, const char *data, size_t len, cons
         s += n + term;
     }
     if (!*header) {
-        p->line = 0;
+        p->line = s == data || p->sample->n_meta == 0 ? 1 : p->line;
         return fail(p, ARRANK_EPARSE, 0,
                     "%s; a sample file needs a header such as 'T [degC], rate [umol/(g*s)]' "
                     "and data rows",
@@ -949,6 +1225,8 @@ static arrank_status read_preamble(parser *p, const char *data, size_t len, cons
     }
     p->header_line = p->line;
     p->delim = detect_delimiter(*header, *hlen);
+    if (p->delim != ',')
+        metadata_decimal_commas(p->sample);
     return ARRANK_OK;
 }
 
@@ -1043,7 +1321,8 @@ static arrank_status parse_sample(parser *p, const char *data, size_t len)
 
 static arrank_status sample_parse(const char *name, const char *data, size_t len,
                                   arrank_units *units, const char *report_unit,
-                                  arrank_sample *sample, int defer_derived, arrank_error *err)
+                                  const arrank_read_options *opt, arrank_sample *sample,
+                                  int defer_derived, arrank_error *err)
 {
     if (!name || (!data && len) || !units || !sample)
         return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_sample_parse");
@@ -1055,13 +1334,14 @@ static arrank_status sample_parse(const char *name, const char *data, size_t len
     p.report_unit = report_unit;
     p.sample = sample;
     p.err = err;
+    p.lenient = opt && !opt->strict;
     arrank_status st = parse_sample(&p, data ? data : "", len);
     if (st == ARRANK_OK)
         st = sample_ids(&p);
     if (st == ARRANK_OK && sample->rates_derived && !defer_derived) {
         arrank_conversion identity = {1.0, 0.0};
         st = arrank_sample_derive_with(sample, units, report_unit ? &p.derived_conv : &identity,
-                                       err);
+                                       !p.lenient, err);
     }
     parser_free(&p);
     if (st != ARRANK_OK)
@@ -1073,12 +1353,21 @@ arrank_status arrank_sample_parse(const char *name, const char *data, size_t len
                                   arrank_units *units, const char *report_unit,
                                   arrank_sample *sample, arrank_error *err)
 {
-    return sample_parse(name, data, len, units, report_unit, sample, 0, err);
+    return sample_parse(name, data, len, units, report_unit, NULL, sample, 0, err);
+}
+
+arrank_status arrank_sample_parse_with(const char *name, const char *data, size_t len,
+                                       arrank_units *units, const char *report_unit,
+                                       const arrank_read_options *opt, arrank_sample *sample,
+                                       arrank_error *err)
+{
+    return sample_parse(name, data, len, units, report_unit, opt, sample, 0, err);
 }
 
 arrank_status arrank_sample_parse_deferred(const char *name, const char *data, size_t len,
                                            arrank_units *units, const char *report_unit,
+                                           const arrank_read_options *opt,
                                            arrank_sample *sample, arrank_error *err)
 {
-    return sample_parse(name, data, len, units, report_unit, sample, 1, err);
+    return sample_parse(name, data, len, units, report_unit, opt, sample, 1, err);
 }

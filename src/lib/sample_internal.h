@@ -17,13 +17,14 @@
    fills them. */
 arrank_status arrank_sample_parse_deferred(const char *name, const char *data, size_t len,
                                            arrank_units *units, const char *report_unit,
+                                           const arrank_read_options *opt,
                                            arrank_sample *sample, arrank_error *err);
 
 /* The rates of a rates_derived sample from its conversion column and feed
    metadata, in report_unit (NULL: mol/(kg*s)), with the problem and the note
    that go with them. */
 arrank_status arrank_sample_derive_rates(arrank_sample *sample, arrank_units *units,
-                                         const char *report_unit, arrank_error *err);
+                                         const char *report_unit, int strict, arrank_error *err);
 
 /* Append a metadata entry (copies of key, value and source; line in source).
    0, or -1 when out of memory (the sample is unchanged). */
@@ -40,6 +41,7 @@ int arrank_sample_fit_problem(arrank_sample *sample);
 /* arrank_sample_derive_rates with the conversion from mol/(kg*s) to the
    report unit given. */
 arrank_status arrank_sample_derive_with(arrank_sample *sample, arrank_units *units,
-                                        const arrank_conversion *to_report, arrank_error *err);
+                                        const arrank_conversion *to_report, int strict,
+                                        arrank_error *err);
 
 #endif
