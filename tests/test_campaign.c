@@ -394,12 +394,15 @@ static const struct {
     {"duplicate rate", "r [1/s],T [K],RATE [1/s]\n0.417,504.55,0.417\n", NULL, ARRANK_EPARSE, 3, 3,
      "column 'RATE' repeats column 1 'r'"},
     {"missing rate column", "T [degC],rate_sd [umol/(g*s)]\n231.4,0.417\n", NULL, ARRANK_EPARSE, 3,
-     0, "no rate column; the header needs e.g. 'rate [umol/(g*s)]' (or a 'conversion' "
-        "column with feed metadata, to derive the rates)"},
+     0, "no rate column (found 'T', 'rate_sd'); the header needs one named rate, r, TOF with "
+        "its unit, as 'rate [umol/(g*s)]' (or a 'conversion' column with feed metadata, to "
+        "derive the rates)"},
     {"missing temperature column", "rate [umol/(g*s)],run\n0.417,a\n", NULL, ARRANK_EPARSE, 3, 0,
-     "no temperature column; the header needs e.g. 'T [degC]'"},
+     "no temperature column (found 'rate', 'run'); the header needs one named T, Temp, "
+     "temperature, T_bed with its unit, as 'T [degC]', 'Temperature (°C)' or 'T / K'"},
     {"data without header", "231.4,0.417\n244.9,0.862\n", NULL, ARRANK_EPARSE, 3, 0,
-     "no temperature column; the header needs e.g. 'T [degC]'"},
+     "no temperature column (found '231.4', '0.417'); the header needs one named T, Temp, "
+     "temperature, T_bed with its unit, as 'T [degC]', 'Temperature (°C)' or 'T / K'"},
     {"stray quote", "T [degC],rate [umol/(g*s)],run\n231.4,0.417,u\"p\n", NULL, ARRANK_EPARSE, 4,
      3, "malformed quoting: a '\"' inside an unquoted field or text after a closing quote"},
     {"text after closing quote", "T [degC],rate [umol/(g*s)],run\n231.4,\"0.417\"x,up\n", NULL,
@@ -469,12 +472,13 @@ static void test_errors(void **state)
     assert_int_equal(err.column, 0);
     assert_string_equal(err.message,
                         "the file is not text (it has a NUL byte); a sample file is CSV");
+    /* an empty file is refused at its line 1 (issue 18: every such error has a line) */
     assert_int_equal(parse("e.csv", "", NULL, &s, &err), ARRANK_EPARSE);
-    assert_int_equal(err.line, 0);
+    assert_int_equal(err.line, 1);
     assert_string_equal(err.message, "the file is empty; a sample file needs a header such as "
                                      "'T [degC], rate [umol/(g*s)]' and data rows");
     assert_int_equal(parse("e.csv", "\n\r\n  \n", NULL, &s, &err), ARRANK_EPARSE);
-    assert_int_equal(err.line, 0);
+    assert_int_equal(err.line, 1);
     /* An empty sample id. */
     assert_int_equal(parse("e.csv", "# mass = 3 mg\n# sample =\nT [K],rate [1/s]\n600,0.1\n", NULL,
                            &s, &err),
@@ -785,7 +789,7 @@ static const struct {
     {"duplicate-column", ARRANK_EPARSE, 1, 3},
     {"duplicate-sample-id", ARRANK_EPARSE, 2, 0},
     {"empty-cell", ARRANK_EPARSE, 5, 2},
-    {"empty-file", ARRANK_EPARSE, 0, 0},
+    {"empty-file", ARRANK_EPARSE, 1, 0},
     {"header-only", ARRANK_EPARSE, 3, 0},
     {"inf", ARRANK_EPARSE, 6, 1},
     {"ini-bad-confidence", ARRANK_EPARSE, 3, 0},
@@ -860,7 +864,8 @@ static void test_bad_corpus(void **state)
     for (size_t i = 0; i < n_cases; i++) {
         char dir[256], expect_path[300], status_line[64], want[2048], got[2048];
         snprintf(dir, sizeof dir, "tests/bad/%s", corpus[i].name);
-        snprintf(expect_path, sizeof expect_path, "%s/expect", dir);
+        /* arrank_campaign_load reads strictly: expect-strict (the CLI's --strict) */
+        snprintf(expect_path, sizeof expect_path, "%s/expect-strict", dir);
         assert_int_equal(read_line(expect_path, 1, status_line, sizeof status_line), 0);
         assert_int_equal(read_line(expect_path, 2, want, sizeof want), 0);
         assert_string_equal(status_line, "1"); /* all are data errors (exit status 1) */

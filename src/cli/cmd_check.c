@@ -90,7 +90,6 @@ int cmd_check(int argc, char **argv)
         cli_session_free(&s);
         return cli_exit_status(st, &err);
     }
-    cli_report_unfitted(&s);
     rc = cli_write_outputs(&args, &s);
     cli_session_free(&s);
     return rc == -1 ? EXIT_OK : rc;

@@ -552,7 +552,8 @@ static arrank_status read_first(load_state *ls, size_t *next, arrank_error *err)
     return ARRANK_OK;
 }
 
-/* Whether files a and b of the folder hold the same bytes (read again, both). */
+/* Whether files a and b of the folder hold the same bytes (read again, both;
+   only for files of one sample id with equal hashes and sizes). */
 static int same_bytes(load_state *ls, size_t a, size_t b)
 {
     char *bufa = NULL, *bufb = NULL;
@@ -568,46 +569,22 @@ static int same_bytes(load_state *ls, size_t a, size_t b)
     return same;
 }
 
-/* Order of files by content hash, then size, then name order. */
-static _Thread_local const load_state *sort_ls;
-
-static int compare_content(const void *a, const void *b)
-{
-    size_t i = *(const size_t *)a, j = *(const size_t *)b;
-    const load_state *ls = sort_ls;
-    if (ls->hash[i] != ls->hash[j])
-        return ls->hash[i] < ls->hash[j] ? -1 : 1;
-    if (ls->size[i] != ls->size[j])
-        return ls->size[i] < ls->size[j] ? -1 : 1;
-    return i < j ? -1 : i > j;
-}
-
-/* Load step 5: a file byte-identical to another (a copy left in the folder)
-   is not used; a note names the one kept.  Files are sorted by content hash,
-   so only files with equal hashes are compared byte for byte. */
-static arrank_status drop_copies(load_state *ls, arrank_error *err)
+/* Load step 8a: in a group of files with one sample id, a file
+   byte-identical to another (a copy left in the folder) is not used; a note
+   names the one kept (the shorter name: 'MT-A1.csv' beside 'MT-A1 -
+   Copy.csv').  Files of different ids are different samples, whatever their
+   bytes.  Returns how many of group[0..n) are left, moved to the front. */
+static size_t drop_copies(load_state *ls, arrank_sample **group, size_t n, arrank_error *err,
+                          arrank_status *st)
 {
     arrank_campaign *c = ls->c;
-    size_t n = ls->n_names;
-    size_t *order = malloc((n ? n : 1) * sizeof *order);
-    if (!order)
-        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
-    for (size_t i = 0; i < n; i++)
-        order[i] = i;
-    sort_ls = ls;
-    qsort(order, n, sizeof *order, compare_content);
-    for (size_t k = 1; k < n; k++) {
-        size_t i = order[k];
-        if (ls->size[i] == 0)
-            continue;
-        for (size_t m = k; m-- > 0;) {
-            size_t j = order[m];
-            if (ls->hash[j] != ls->hash[i] || ls->size[j] != ls->size[i])
-                break;
-            if (ls->drop[j] || !same_bytes(ls, j, i))
+    for (size_t a = 0; a < n; a++)
+        for (size_t b = a + 1; b < n; b++) {
+            size_t i = (size_t)(group[a] - c->samples), j = (size_t)(group[b] - c->samples);
+            if (ls->drop[i] || ls->drop[j] || ls->hash[i] != ls->hash[j] ||
+                ls->size[i] != ls->size[j] || !same_bytes(ls, i, j))
                 continue;
-            /* the copy is the longer name ('MT-A1 - Copy.csv' beside 'MT-A1.csv') */
-            size_t copy = strlen(ls->names[j]) > strlen(ls->names[i]) ? j : i;
+            size_t copy = strlen(ls->names[j]) < strlen(ls->names[i]) ? i : j;
             size_t kept = copy == i ? j : i;
             ls->drop[copy] = 1;
             char line[ARRANK_ERROR_PATH_MAX + 128];
@@ -616,14 +593,15 @@ static arrank_status drop_copies(load_state *ls, arrank_error *err)
             if (arrank_list_add(&c->unused, &c->n_unused, &ls->unused_cap, line) != 0 ||
                 campaign_note(ls, "%s is byte-identical to %s; not used", ls->names[copy],
                               ls->names[kept]) != 0) {
-                free(order);
-                return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+                *st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+                return 0;
             }
-            break;
         }
-    }
-    free(order);
-    return ARRANK_OK;
+    size_t left = 0;
+    for (size_t a = 0; a < n; a++)
+        if (!ls->drop[group[a] - c->samples])
+            group[left++] = group[a];
+    return left;
 }
 
 /* Load step 6: sample ids must be unique unless files are merged; sort an
@@ -784,7 +762,10 @@ static arrank_status merge_and_compact(load_state *ls, arrank_error *err)
         while (j < ls->n_index && strcmp(ls->index[j]->id, ls->index[i]->id) == 0)
             j++;
         if (j - i > 1) {
-            arrank_status st = merge_group(ls, ls->index + i, j - i, err);
+            arrank_status st = ARRANK_OK;
+            size_t left = drop_copies(ls, ls->index + i, j - i, err, &st);
+            if (st == ARRANK_OK && left > 1)
+                st = merge_group(ls, ls->index + i, left, err);
             if (st != ARRANK_OK)
                 return st;
         }
@@ -853,8 +834,6 @@ arrank_status arrank_campaign_load_with(const char *dir, arrank_units *units,
         st = load_rest(&ls, next, progress, progress_ctx, err);
         ls.c->n_samples = ls.n_names; /* the rest are parsed or zeroed: both free cleanly */
     }
-    if (st == ARRANK_OK && !ls.opt.no_merge)
-        st = drop_copies(&ls, err);
     if (st == ARRANK_OK)
         st = check_ids(&ls, err);
     if (st == ARRANK_OK)

@@ -1216,7 +1216,7 @@ static arrank_status read_preamble(parser *p, const char *data, size_t len, cons
         s += n + term;
     }
     if (!*header) {
-        p->line = s == data || p->sample->n_meta == 0 ? 1 : p->line;
+        p->line = s == data || p->sample->n_meta == 0 ? 1 : 0;
         return fail(p, ARRANK_EPARSE, 0,
                     "%s; a sample file needs a header such as 'T [degC], rate [umol/(g*s)]' "
                     "and data rows",
