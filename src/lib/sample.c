@@ -76,56 +76,6 @@ static int has_csv_extension(const char *name)
     return n > 4 && arrank_ascii_casecmp(name + n - 4, ".csv") == 0;
 }
 
-/* ------------------------------------------------------- run label lookup */
-
-/* Open-addressing table of run labels -> index in sample->runs, so a file
-   with many distinct labels is not searched quadratically. */
-typedef struct {
-    size_t *slots; /* index + 1; 0 = empty */
-    size_t cap;    /* power of two */
-} run_table;
-
-static size_t hash_text(const char *s)
-{
-    /* FNV-1a, 64-bit offset basis and prime (Fowler, Noll, Vo; public domain). */
-    uint64_t h = 1469598103934665603ULL;
-    for (; *s; s++) {
-        h ^= (unsigned char)*s;
-        h *= 1099511628211ULL;
-    }
-    return (size_t)h;
-}
-
-/* Index of label in sample->runs, adding it if new; -1 when out of memory. */
-static long run_index(run_table *t, arrank_sample *s, size_t *runs_cap, const char *label)
-{
-    if ((s->n_runs + 1) * 2 > t->cap) {
-        size_t ncap = t->cap ? t->cap * 2 : 16;
-        size_t *slots = calloc(ncap, sizeof *slots);
-        if (!slots)
-            return -1;
-        for (size_t i = 0; i < s->n_runs; i++) {
-            size_t h = hash_text(s->runs[i]) & (ncap - 1);
-            while (slots[h])
-                h = (h + 1) & (ncap - 1);
-            slots[h] = i + 1;
-        }
-        free(t->slots);
-        t->slots = slots;
-        t->cap = ncap;
-    }
-    size_t h = hash_text(label) & (t->cap - 1);
-    while (t->slots[h]) {
-        if (strcmp(s->runs[t->slots[h] - 1], label) == 0)
-            return (long)(t->slots[h] - 1);
-        h = (h + 1) & (t->cap - 1);
-    }
-    if (arrank_list_add(&s->runs, &s->n_runs, runs_cap, label) != 0)
-        return -1;
-    t->slots[h] = s->n_runs;
-    return (long)(s->n_runs - 1);
-}
-
 /* ------------------------------------------------------------ sample file */
 
 typedef enum {
@@ -192,7 +142,7 @@ typedef struct {
     char *cell;
     size_t cell_cap;
     size_t points_cap, meta_cap, notes_cap, runs_cap;
-    run_table runs;
+    arrank_run_table runs;
 } parser;
 
 static arrank_status fail(parser *p, arrank_status st, long colno, const char *fmt, ...)
@@ -241,102 +191,6 @@ static void omit(parser *p, long colno, const char *fmt, ...)
     p->omit_column = colno;
 }
 
-/* Whether the round brackets of text pair up. */
-static int brackets_balanced(const char *text)
-{
-    long depth = 0;
-    for (; *text; text++) {
-        if (*text == '(')
-            depth++;
-        else if (*text == ')' && --depth < 0)
-            return 0;
-    }
-    return depth == 0;
-}
-
-/*
- * Split a header field into name and unit.  Three forms (README "Headers"):
- * 'name [unit]', 'name (unit)' (the unit in the last bracket pair, which may
- * hold brackets of its own: 'rate (mol/(kg*h))') and the quantity / unit form
- * 'name / unit' (a slash with blanks on both sides).  A field without any is
- * a name alone (*unit NULL).  Brackets that do not pair up are an error with
- * the column.  0, or -1 after failing.
- */
-static int split_header(parser *p, long colno, char *s, char **name, char **unit)
-{
-    *name = s;
-    *unit = NULL;
-    char *open = strchr(s, '[');
-    char *u = NULL;
-    char *slash = strstr(s, " / ");
-    if (!slash)
-        slash = strstr(s, "\t/ ");
-    if (slash && !memchr(s, '(', (size_t)(slash - s)) && !memchr(s, '[', (size_t)(slash - s))) {
-        *slash = '\0';
-        u = slash + 3;
-    } else if (open) {
-        char *close = strchr(open + 1, ']');
-        if (!close) {
-            fail(p, ARRANK_EPARSE, colno, "unclosed '[' in header field '%s'", s);
-            return -1;
-        }
-        char *after = close + 1;
-        while (is_blank(*after))
-            after++;
-        if (*after) {
-            fail(p, ARRANK_EPARSE, colno,
-                 "text after ']' in header field '%s'; write it as 'name [unit]'", s);
-            return -1;
-        }
-        *open = '\0';
-        *close = '\0';
-        u = open + 1;
-    } else if (strchr(s, '(') || strchr(s, ')')) {
-        size_t n = strlen(s);
-        long depth = 0;
-        char *match = NULL;
-        if (n > 0 && s[n - 1] == ')')
-            for (size_t i = n; i-- > 0;) {
-                if (s[i] == ')')
-                    depth++;
-                else if (s[i] == '(' && --depth == 0) {
-                    match = s + i;
-                    break;
-                }
-            }
-        if (!match || memchr(s, '(', (size_t)(match - s)) || memchr(s, ')', (size_t)(match - s))) {
-            fail(p, ARRANK_EPARSE, colno,
-                 "brackets do not pair up in header field '%s'; write it as 'name (unit)' or "
-                 "'name [unit]'", s);
-            return -1;
-        }
-        s[n - 1] = '\0';
-        *match = '\0';
-        u = match + 1;
-    }
-    if (u) {
-        u = trim(u);
-        if (!brackets_balanced(u)) {
-            fail(p, ARRANK_EUNIT, colno, "brackets do not pair up in unit '%s' of column '%s'", u,
-                 trim(s));
-            return -1;
-        }
-        /* 'T / (K)' and 'rate [(mol/(kg*h))]': one pair around the whole unit is dropped */
-        size_t n = strlen(u);
-        if (n >= 2 && u[0] == '(' && u[n - 1] == ')') {
-            u[n - 1] = '\0';
-            if (brackets_balanced(u + 1))
-                u = trim(u + 1);
-            else
-                u[n - 1] = ')';
-        }
-        if (*u)
-            *unit = u;
-    }
-    *name = trim(s);
-    return 0;
-}
-
 /* Split a header field "name [unit]" and record the column. */
 static void header_field(parser *p, char *text)
 {
@@ -348,8 +202,12 @@ static void header_field(parser *p, char *text)
     }
     char *s = trim(text);
     char *unit = NULL;
-    if (split_header(p, colno, s, &s, &unit) != 0)
+    arrank_status st = ARRANK_OK;
+    char msg[ARRANK_ERROR_MSG_MAX];
+    if (arrank_sample_split_header(s, &s, &unit, &st, msg, sizeof msg) != 0) {
+        fail(p, st, colno, "%s", msg);
         return;
+    }
     data_column c = {COL_IGNORED, NULL, NULL, {1.0, 0.0}, 0};
     for (size_t k = 0; k < sizeof column_names / sizeof column_names[0]; k++)
         if (arrank_ascii_casecmp(s, column_names[k].name) == 0)
@@ -603,34 +461,13 @@ static void start_point(parser *p)
     p->omit_column = 0;
 }
 
-/*
- * What a cell that is not a number says, in lenient reading: 1 no value
- * ('n.d.', 'nd', 'n/a', 'NA', '-', '--', '?'), 2 below a detection limit
- * ('< 0.01', '<LOD', 'LOD', 'LOQ', 'bdl', 'b.d.l.'), 0 neither.
- */
-static int missing_kind(const char *cell)
-{
-    static const char *const none[] = {"n.d.", "n.d", "nd", "n/a", "na", "-", "--", "---",
-                                       "?", "none", "null", "n.a.", "\xe2\x80\x93",
-                                       "\xe2\x80\x94"};
-    static const char *const limit[] = {"lod", "loq", "bdl", "b.d.l.", "<lod", "<loq",
-                                        "< lod", "< loq", "<dl", "< dl"};
-    for (size_t i = 0; i < sizeof none / sizeof none[0]; i++)
-        if (arrank_ascii_casecmp(cell, none[i]) == 0)
-            return 1;
-    for (size_t i = 0; i < sizeof limit / sizeof limit[0]; i++)
-        if (arrank_ascii_casecmp(cell, limit[i]) == 0)
-            return 2;
-    return cell[0] == '<' ? 2 : 0;
-}
-
 /* Cell step 1: the run label of a run column. */
 static void run_cell(parser *p, char *text)
 {
     char *label = trim(text);
     if (!*label)
         return;
-    long r = run_index(&p->runs, p->sample, &p->runs_cap, label);
+    long r = arrank_sample_run_index(&p->runs, p->sample, &p->runs_cap, label);
     if (r < 0) {
         nomem(p);
         return;
@@ -669,7 +506,7 @@ static int cell_number(parser *p, const data_column *c, long colno, char *cell, 
         return 0; /* optional quantity not given */
     }
     if (bad && p->lenient) {
-        int kind = missing_kind(shown);
+        int kind = arrank_sample_missing_kind(shown);
         if (kind && !needed)
             return 0; /* an optional quantity not given */
         if (kind == 1)
@@ -1138,47 +975,6 @@ static void parser_free(parser *p)
     free(p->runs.slots);
 }
 
-/*
- * A file whose delimiter is ';' or tab may write its numbers with a decimal
- * comma, and its metadata follow it: '# mass = 48,5 mg' is 48.5 mg.  A value
- * that starts with digits, one comma and digits (then an exponent, a blank
- * and a unit, or nothing) gets a point for the comma; ids and notes are text
- * and kept as written.
- */
-static void metadata_decimal_commas(arrank_sample *s)
-{
-    for (size_t i = 0; i < s->n_meta; i++) {
-        const char *key = s->meta[i].key;
-        if (arrank_ascii_casecmp(key, "sample") == 0 || arrank_ascii_casecmp(key, "note") == 0 ||
-            arrank_ascii_casecmp(key, "title") == 0)
-            continue;
-        char *v = s->meta[i].value, *t = v;
-        if (*t == '+' || *t == '-')
-            t++;
-        if (!(*t >= '0' && *t <= '9'))
-            continue;
-        while (*t >= '0' && *t <= '9')
-            t++;
-        if (*t != ',' || !(t[1] >= '0' && t[1] <= '9'))
-            continue;
-        char *comma = t++;
-        while (*t >= '0' && *t <= '9')
-            t++;
-        if (*t == 'e' || *t == 'E') {
-            char *e = t + 1;
-            if (*e == '+' || *e == '-')
-                e++;
-            if (*e >= '0' && *e <= '9') {
-                while (*e >= '0' && *e <= '9')
-                    e++;
-                t = e;
-            }
-        }
-        if (*t == '\0' || is_blank(*t))
-            *comma = '.';
-    }
-}
-
 /* Read step 1: the text check, the byte order mark, the metadata and comment
    lines up to the header.  *header gets the header line (at p->line), *hlen
    its length; p->delim its delimiter. */
@@ -1226,7 +1022,7 @@ static arrank_status read_preamble(parser *p, const char *data, size_t len, cons
     p->header_line = p->line;
     p->delim = detect_delimiter(*header, *hlen);
     if (p->delim != ',')
-        metadata_decimal_commas(p->sample);
+        arrank_sample_decimal_commas(p->sample);
     return ARRANK_OK;
 }
 

@@ -44,4 +44,37 @@ arrank_status arrank_sample_derive_with(arrank_sample *sample, arrank_units *uni
                                         const arrank_conversion *to_report, int strict,
                                         arrank_error *err);
 
+/* ---- between sample.c and sample_text.c ---- */
+
+/* Open-addressing table of run labels -> index in sample->runs, so a file
+   with many distinct labels is not searched quadratically. */
+typedef struct {
+    size_t *slots; /* index + 1; 0 = empty */
+    size_t cap;    /* power of two */
+} arrank_run_table;
+
+/* Index of label in sample->runs, adding it if new (*runs_cap: room of
+   sample->runs); -1 when out of memory. */
+long arrank_sample_run_index(arrank_run_table *t, arrank_sample *s, size_t *runs_cap,
+                             const char *label);
+
+/*
+ * Split a header field s (trimmed; cut in place) into *name and *unit (NULL
+ * when none): 'name [unit]', 'name (unit)' (the last bracket pair, which may
+ * hold brackets: 'rate (mol/(kg*h))') or 'name / unit' (IUPAC; a slash with a
+ * blank on each side).  0; or -1 with *st and the message (msg, n bytes) when
+ * brackets do not pair up or text follows ']'.
+ */
+int arrank_sample_split_header(char *s, char **name, char **unit, arrank_status *st, char *msg,
+                               size_t n);
+
+/* A cell that holds no number, as the lenient reader sees it: 1 no value
+   ('n.d.', 'nd', '-', ...), 2 below a detection limit ('< 0.01', '<LOD'), 0
+   neither. */
+int arrank_sample_missing_kind(const char *cell);
+
+/* Metadata numbers written with a decimal comma ('48,5 mg') given a point,
+   for a file whose delimiter is not ','; ids and notes untouched. */
+void arrank_sample_decimal_commas(arrank_sample *sample);
+
 #endif
