@@ -794,6 +794,7 @@ static const struct {
     {"inf", ARRANK_EPARSE, 6, 1},
     {"ini-bad-confidence", ARRANK_EPARSE, 3, 0},
     {"ini-bare-temperature", ARRANK_EPARSE, 4, 0},
+    {"ini-key-outside-section", ARRANK_EPARSE, 2, 0},
     {"ini-syntax-error", ARRANK_EPARSE, 3, 0},
     {"metadata-only", ARRANK_EPARSE, 0, 0},
     {"missing-rate-column", ARRANK_EPARSE, 3, 0},
