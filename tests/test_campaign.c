@@ -791,6 +791,7 @@ static const struct {
     {"empty-cell", ARRANK_EPARSE, 5, 2},
     {"empty-file", ARRANK_EPARSE, 1, 0},
     {"header-only", ARRANK_EPARSE, 3, 0},
+    {"id-not-utf8", ARRANK_EPARSE, 1, 0},
     {"inf", ARRANK_EPARSE, 6, 1},
     {"ini-bad-confidence", ARRANK_EPARSE, 3, 0},
     {"ini-bare-temperature", ARRANK_EPARSE, 4, 0},

@@ -27,6 +27,7 @@
  * (sample_derive.c).
  */
 #include "arrank/sample.h"
+#include "arrank/text.h"
 #include "number.h"
 #include "sample_internal.h"
 #include "sample_testing.h"
@@ -950,6 +951,15 @@ static arrank_status sample_ids(parser *p)
             }
         return fail(p, ARRANK_EPARSE, 0, "empty sample id; write '# sample = NAME' or leave "
                                          "the line out to use the file name");
+    }
+    if (meta_id && !arrank_text_is_clean(meta_id)) {
+        for (size_t i = s->n_meta; i-- > 0;)
+            if (arrank_ascii_casecmp(s->meta[i].key, "sample") == 0) {
+                p->line = s->meta[i].line;
+                break;
+            }
+        return fail(p, ARRANK_EPARSE, 0, "the sample id is not valid UTF-8 text (or holds a "
+                                         "control character); save the file as UTF-8");
     }
     if (meta_id) {
         s->id = strdup(meta_id);
