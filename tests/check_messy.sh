@@ -150,6 +150,26 @@ arrank: 2 of 2 files not used; see above
 arrank: no sample in 'T/allbad' could be fitted"
 ok_if "all files bad: nothing written" test ! -e "$T/a.json"
 
+# --- metadata errors carry their line (issue 18) ---------------------------
+meta_case() { # META WANT: one derived-rate file with META on line 5, read with --strict
+    rm -rf "$T/meta"
+    mkdir "$T/meta"
+    printf '# sample = MT-H1\n# feed_flow = 50 mL/min\n# feed_fraction = 5 %%\n# mass = 50 mg\n%s\nT [degC],conversion [%%]\n220,1.0\n240,2.0\n260,4.0\n' \
+        "$1" >"$T/meta/MT-H1.csv"
+    "$A" fit --strict "$T/meta" >/dev/null 2>"$T/err"
+    expect_eq "metadata '$1': refused at its line" "$(sed "s|$T/meta/||" "$T/err")" "arrank: MT-H1.csv:5: $2"
+}
+meta_case "# mass = 0 mg" "mass '0 mg' is not positive; rates from conversion need a positive value"
+meta_case "# feed_flow = 0 mL/min" \
+    "feed_flow '0 mL/min' is not positive; rates from conversion need a positive value"
+meta_case "# feed_fraction = 0" \
+    "feed_fraction '0' is not positive; rates from conversion need a positive value"
+meta_case "# feed_flow = 50 furlongs" \
+    "feed_flow '50 furlongs' is neither an amount nor a volume per time (e.g. 2.5 umol/s or 50 mL/min)"
+# once garbled ('...bsolute zero'): the message was formatted into itself
+meta_case "# flow_reference_temperature = 0 K" \
+    "flow_reference_temperature '0 K': temperature '0 K' is at or below absolute zero"
+
 expect_eq "the campaign folder is untouched" "$(cd "$C" && ls -la | md5sum; cat ./* | md5sum)" \
     "$sums_before"
 tap_plan
