@@ -1040,6 +1040,7 @@ static void test_derived_rates(void **state)
     assert_int_equal(arrank_campaign_load(dir, units, &c, &err), ARRANK_EPARSE);
     assert_non_null(strstr(err.path, "D2.csv"));
     assert_non_null(strstr(err.message, "metadata 'feed_flow' is missing"));
+    assert_true(err.line > 0); /* the header's line (issue 18: every metadata error has one) */
     assert_null(c);
     temp_dir_remove(dir);
 }

@@ -77,6 +77,7 @@ typedef struct {
        on without it (arrank_campaign_load_with). */
     int skipped;
     size_t n_omitted; /* points with `omitted` set */
+    long header_line; /* line of the header row (messages about the columns) */
     /* 1 when the file has no rate column and the rates were derived from its
        conversion column and feed metadata (README "Rates from conversion"). */
     int rates_derived;

@@ -1142,8 +1142,10 @@ static arrank_status sample_parse(const char *name, const char *data, size_t len
     p.err = err;
     p.lenient = opt && !opt->strict;
     arrank_status st = parse_sample(&p, data ? data : "", len);
-    if (st == ARRANK_OK)
+    if (st == ARRANK_OK) {
+        sample->header_line = p.header_line;
         st = sample_ids(&p);
+    }
     if (st == ARRANK_OK && sample->rates_derived && !defer_derived) {
         arrank_conversion identity = {1.0, 0.0};
         st = arrank_sample_derive_with(sample, units, report_unit ? &p.derived_conv : &identity,

@@ -115,8 +115,8 @@ static arrank_status feed_metadata(arrank_sample *s, arrank_units *units, feed *
         return ARRANK_EPARSE;
     if (gm == 0 && !missing)
         missing = "mass";
-    if (missing)
-        return arrank_error_at(err, ARRANK_EPARSE, s->path, 0, 0,
+    if (missing) /* at the header, whose 'conversion' column asks for it */
+        return arrank_error_at(err, ARRANK_EPARSE, s->path, s->header_line, 0,
                                "no rate column, so the rates are derived from 'conversion', "
                                "but metadata '%s' is missing; add e.g. '# feed_flow = 50 "
                                "mL/min', '# feed_fraction = 5 %%' and '# mass = 50 mg'",
