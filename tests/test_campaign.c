@@ -1006,6 +1006,72 @@ static void test_read_sizes(void **state)
     }
 }
 
+/* The default reader (arrank_campaign_load_with, opt NULL): a file that
+   cannot be read becomes a skipped sample with its error, a bad cell leaves
+   its point out, files of one id are one sample, a copy is not used; the
+   strict load stops at the first bad file as before (issue 13). */
+static void test_lenient_folder(void **state)
+{
+    (void)state;
+    char *dir = temp_dir_make();
+    const char *good = "# sample = MT-K1\nT [degC],rate [umol/(g*s)]\n220,0.41\n240,0.86\n"
+                       "260,1.69\n";
+    file_write(dir, "MT-K1.csv", good);
+    file_write(dir, "MT-K1 - Copy.csv", good);
+    file_write(dir, "MT-K2.csv", "T [degC],rate [umol/(g*sx)]\n220,0.41\n240,0.86\n260,1.7\n");
+    file_write(dir, "MT-K3.csv", "Temp (degC);rate (umol/(gcat*sec));sd [%]\n220,0;0,31;5\n"
+                                 "230,0;n.d.;5\n240,0;0,72;4\n250,0;< 0,01;4\n260,0;1,43;4\n;;\n");
+    file_write(dir, "MT-K4a.csv", "# sample = MT-K4\nT / K,r / (umol/(g*s))\n500,0.5\n520,1.1\n");
+    file_write(dir, "MT-K4b.csv", "# sample = MT-K4\nT / K,r / (umol/(g*s)),run\n510,0.8,b\n"
+                                  "530,1.6,b\n");
+    arrank_campaign *c = NULL;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_load_with(dir, units, NULL, NULL, NULL, &c, &err), ARRANK_OK);
+    assert_int_equal(c->n_files, 6);
+    assert_int_equal(c->n_samples, 4); /* K1, K2 (skipped), K3, K4 (two files) */
+    assert_int_equal(c->n_unused, 1);
+    assert_non_null(strstr(c->unused[0], "MT-K1 - Copy.csv: byte-identical to MT-K1.csv"));
+    const arrank_sample *k2 = &c->samples[1], *k3 = &c->samples[2], *k4 = &c->samples[3];
+    assert_string_equal(k2->file, "MT-K2.csv");
+    assert_true(k2->skipped);
+    assert_int_equal(k2->n_points, 0);
+    assert_int_equal(k2->problem_line, 1);
+    assert_int_equal(k2->problem_column, 2);
+    assert_string_equal(k2->problem, "unknown unit 'umol/(g*sx)' in column 'rate'");
+    /* K3: two points left out with their reasons, the ';;' row skipped, sd 5 % of the rate */
+    assert_false(k3->skipped);
+    assert_null(k3->problem);
+    assert_int_equal(k3->n_points, 5);
+    assert_int_equal(k3->n_omitted, 2);
+    assert_string_equal(k3->points[1].omitted, "no value ('n.d.') in column 'rate'");
+    assert_int_equal(k3->points[1].omitted_column, 2);
+    assert_string_equal(k3->points[3].omitted, "below detection limit: < 0,01 in column 'rate'");
+    assert_null(k3->points[0].omitted);
+    assert_true(fabs(k3->points[0].rate_sd - 0.05 * k3->points[0].rate) <= 1e-15);
+    assert_true(fabs(k3->points[0].rate - 0.31) <= 1e-15); /* gcat = g, sec = s */
+    /* K4: one sample, two runs (a file name, then that file's run label) */
+    assert_string_equal(k4->id, "MT-K4");
+    assert_int_equal(k4->n_points, 4);
+    assert_int_equal(k4->n_runs, 2);
+    assert_string_equal(k4->runs[k4->points[0].run], "MT-K4a.csv");
+    assert_string_equal(k4->runs[k4->points[2].run], "b");
+    assert_null(k4->problem);
+    arrank_campaign_free(c);
+
+    /* strict: the copy's id is a repeated id, and with it gone the bad unit stops the load */
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_load(dir, units, &c, &err), ARRANK_EUNIT);
+    assert_null(c);
+    assert_non_null(strstr(err.path, "MT-K2.csv"));
+    arrank_load_options no_merge = {0, 1};
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_load_with(dir, units, &no_merge, NULL, NULL, &c, &err),
+                     ARRANK_EPARSE);
+    assert_non_null(strstr(err.message, "sample id 'MT-K1' is also the id of"));
+    temp_dir_remove(dir);
+}
+
 static void test_derived_rates(void **state)
 {
     (void)state;
@@ -1182,6 +1248,7 @@ int main(void)
         cmocka_unit_test(test_large_campaign),
         cmocka_unit_test(test_read_sizes),
         cmocka_unit_test(test_derived_rates),
+        cmocka_unit_test(test_lenient_folder),
         cmocka_unit_test(test_duplicate_ids),
         cmocka_unit_test(test_background_units),
         cmocka_unit_test(test_name_order),
