@@ -1019,7 +1019,8 @@ static void test_lenient_folder(void **state)
     file_write(dir, "MT-K1.csv", good);
     file_write(dir, "MT-K1 - Copy.csv", good);
     file_write(dir, "MT-K2.csv", "T [degC],rate [umol/(g*sx)]\n220,0.41\n240,0.86\n260,1.7\n");
-    file_write(dir, "MT-K3.csv", "Temp (degC);rate (umol/(gcat*sec));sd [%]\n220,0;0,31;5\n"
+    file_write(dir, "MT-K3.csv", "# particle_diameter = 0,25 mm\n# sample = K3,5\n"
+                                 "Temp (degC);rate (umol/(gcat*sec));sd [%]\n220,0;0,31;5\n"
                                  "230,0;n.d.;5\n240,0;0,72;4\n250,0;< 0,01;4\n260,0;1,43;4\n;;\n");
     file_write(dir, "MT-K4a.csv", "# sample = MT-K4\nT / K,r / (umol/(g*s))\n500,0.5\n520,1.1\n");
     file_write(dir, "MT-K4b.csv", "# sample = MT-K4\nT / K,r / (umol/(g*s)),run\n510,0.8,b\n"
@@ -1041,6 +1042,9 @@ static void test_lenient_folder(void **state)
     assert_string_equal(k2->problem, "unknown unit 'umol/(g*sx)' in column 'rate'");
     /* K3: two points left out with their reasons, the ';;' row skipped, sd 5 % of the rate */
     assert_false(k3->skipped);
+    /* metadata numbers follow the file's decimal comma; the id is text, kept as written */
+    assert_string_equal(arrank_sample_meta(k3, "particle_diameter"), "0.25 mm");
+    assert_string_equal(k3->id, "K3,5");
     assert_null(k3->problem);
     assert_int_equal(k3->n_points, 5);
     assert_int_equal(k3->n_omitted, 2);
