@@ -134,10 +134,23 @@ printf '# sample = X\033[2J\n# mass = 40 mg\nT [degC],rate [umol/(g*s)]\n231,0.4
 b.csv"
 cp "$C/ZN-01.csv" "$T/esc/good.csv"
 "$A" fit "$T/esc" >/dev/null 2>"$T/err"
-expect_eq "a file name with a newline: the message stays one line" "$(wc -l <"$T/err")" 1
-ok_if "a file name with a newline: shown escaped" grep -q 'a\\nb.csv' "$T/err"
-ok_if "an id with ESC: shown escaped as backslash 033" grep -q "sample 'X\\\\033\[2J'" "$T/err"
+# An id with a control character is refused at its line since issue 18 (the
+# file is not used): two lines, the file's and the summary, each one line.
+expect_eq "a file name with a newline: each message stays one line" "$(wc -l <"$T/err")" 2
+ok_if "a file name with a newline: shown escaped" grep -q 'a\\nb.csv:1: ' "$T/err"
+ok_if "an id with ESC: refused at its line, the file not used" \
+    grep -q "the sample id is not valid UTF-8 text (or holds a control character).*; file not used" "$T/err"
 ok_if "an id with ESC: no raw ESC byte on the terminal" \
+    sh -c "! grep -q \"\$(printf '\033')\" '$T/err'"
+
+# An id from a file name (no '# sample' line) may still hold ESC: shown escaped.
+mkdir "$T/esc2"
+printf 'T [degC],rate [umol/(g*s)]\n231,0.4\n245,0.8\n' >"$T/esc2/$(printf 'X\033[2J').csv"
+cp "$C/ZN-01.csv" "$T/esc2/good.csv"
+"$A" fit "$T/esc2" >/dev/null 2>"$T/err"
+ok_if "an id with ESC from a file name: shown escaped as backslash 033" \
+    grep -q "sample 'X\\\\033\[2J'" "$T/err"
+ok_if "an id with ESC from a file name: no raw ESC byte on the terminal" \
     sh -c "! grep -q \"\$(printf '\033')\" '$T/err'"
 
 tap_plan

@@ -394,12 +394,15 @@ static const struct {
     {"duplicate rate", "r [1/s],T [K],RATE [1/s]\n0.417,504.55,0.417\n", NULL, ARRANK_EPARSE, 3, 3,
      "column 'RATE' repeats column 1 'r'"},
     {"missing rate column", "T [degC],rate_sd [umol/(g*s)]\n231.4,0.417\n", NULL, ARRANK_EPARSE, 3,
-     0, "no rate column; the header needs e.g. 'rate [umol/(g*s)]' (or a 'conversion' "
-        "column with feed metadata, to derive the rates)"},
+     0, "no rate column (found 'T', 'rate_sd'); the header needs one named rate, r, TOF with "
+        "its unit, as 'rate [umol/(g*s)]' (or a 'conversion' column with feed metadata, to "
+        "derive the rates)"},
     {"missing temperature column", "rate [umol/(g*s)],run\n0.417,a\n", NULL, ARRANK_EPARSE, 3, 0,
-     "no temperature column; the header needs e.g. 'T [degC]'"},
+     "no temperature column (found 'rate', 'run'); the header needs one named T, Temp, "
+     "temperature, T_bed with its unit, as 'T [degC]', 'Temperature (°C)' or 'T / K'"},
     {"data without header", "231.4,0.417\n244.9,0.862\n", NULL, ARRANK_EPARSE, 3, 0,
-     "no temperature column; the header needs e.g. 'T [degC]'"},
+     "no temperature column (found '231.4', '0.417'); the header needs one named T, Temp, "
+     "temperature, T_bed with its unit, as 'T [degC]', 'Temperature (°C)' or 'T / K'"},
     {"stray quote", "T [degC],rate [umol/(g*s)],run\n231.4,0.417,u\"p\n", NULL, ARRANK_EPARSE, 4,
      3, "malformed quoting: a '\"' inside an unquoted field or text after a closing quote"},
     {"text after closing quote", "T [degC],rate [umol/(g*s)],run\n231.4,\"0.417\"x,up\n", NULL,
@@ -469,12 +472,13 @@ static void test_errors(void **state)
     assert_int_equal(err.column, 0);
     assert_string_equal(err.message,
                         "the file is not text (it has a NUL byte); a sample file is CSV");
+    /* an empty file is refused at its line 1 (issue 18: every such error has a line) */
     assert_int_equal(parse("e.csv", "", NULL, &s, &err), ARRANK_EPARSE);
-    assert_int_equal(err.line, 0);
+    assert_int_equal(err.line, 1);
     assert_string_equal(err.message, "the file is empty; a sample file needs a header such as "
                                      "'T [degC], rate [umol/(g*s)]' and data rows");
     assert_int_equal(parse("e.csv", "\n\r\n  \n", NULL, &s, &err), ARRANK_EPARSE);
-    assert_int_equal(err.line, 0);
+    assert_int_equal(err.line, 1);
     /* An empty sample id. */
     assert_int_equal(parse("e.csv", "# mass = 3 mg\n# sample =\nT [K],rate [1/s]\n600,0.1\n", NULL,
                            &s, &err),
@@ -785,11 +789,13 @@ static const struct {
     {"duplicate-column", ARRANK_EPARSE, 1, 3},
     {"duplicate-sample-id", ARRANK_EPARSE, 2, 0},
     {"empty-cell", ARRANK_EPARSE, 5, 2},
-    {"empty-file", ARRANK_EPARSE, 0, 0},
+    {"empty-file", ARRANK_EPARSE, 1, 0},
     {"header-only", ARRANK_EPARSE, 3, 0},
+    {"id-not-utf8", ARRANK_EPARSE, 1, 0},
     {"inf", ARRANK_EPARSE, 6, 1},
     {"ini-bad-confidence", ARRANK_EPARSE, 3, 0},
     {"ini-bare-temperature", ARRANK_EPARSE, 4, 0},
+    {"ini-key-outside-section", ARRANK_EPARSE, 2, 0},
     {"ini-syntax-error", ARRANK_EPARSE, 3, 0},
     {"metadata-only", ARRANK_EPARSE, 0, 0},
     {"missing-rate-column", ARRANK_EPARSE, 3, 0},
@@ -860,7 +866,8 @@ static void test_bad_corpus(void **state)
     for (size_t i = 0; i < n_cases; i++) {
         char dir[256], expect_path[300], status_line[64], want[2048], got[2048];
         snprintf(dir, sizeof dir, "tests/bad/%s", corpus[i].name);
-        snprintf(expect_path, sizeof expect_path, "%s/expect", dir);
+        /* arrank_campaign_load reads strictly: expect-strict (the CLI's --strict) */
+        snprintf(expect_path, sizeof expect_path, "%s/expect-strict", dir);
         assert_int_equal(read_line(expect_path, 1, status_line, sizeof status_line), 0);
         assert_int_equal(read_line(expect_path, 2, want, sizeof want), 0);
         assert_string_equal(status_line, "1"); /* all are data errors (exit status 1) */
@@ -1000,6 +1007,76 @@ static void test_read_sizes(void **state)
     }
 }
 
+/* The default reader (arrank_campaign_load_with, opt NULL): a file that
+   cannot be read becomes a skipped sample with its error, a bad cell leaves
+   its point out, files of one id are one sample, a copy is not used; the
+   strict load stops at the first bad file as before (issue 13). */
+static void test_lenient_folder(void **state)
+{
+    (void)state;
+    char *dir = temp_dir_make();
+    const char *good = "# sample = MT-K1\nT [degC],rate [umol/(g*s)]\n220,0.41\n240,0.86\n"
+                       "260,1.69\n";
+    file_write(dir, "MT-K1.csv", good);
+    file_write(dir, "MT-K1 - Copy.csv", good);
+    file_write(dir, "MT-K2.csv", "T [degC],rate [umol/(g*sx)]\n220,0.41\n240,0.86\n260,1.7\n");
+    file_write(dir, "MT-K3.csv", "# particle_diameter = 0,25 mm\n# sample = K3,5\n"
+                                 "Temp (degC);rate (umol/(gcat*sec));sd [%]\n220,0;0,31;5\n"
+                                 "230,0;n.d.;5\n240,0;0,72;4\n250,0;< 0,01;4\n260,0;1,43;4\n;;\n");
+    file_write(dir, "MT-K4a.csv", "# sample = MT-K4\nT / K,r / (umol/(g*s))\n500,0.5\n520,1.1\n");
+    file_write(dir, "MT-K4b.csv", "# sample = MT-K4\nT / K,r / (umol/(g*s)),run\n510,0.8,b\n"
+                                  "530,1.6,b\n");
+    arrank_campaign *c = NULL;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_load_with(dir, units, NULL, NULL, NULL, &c, &err), ARRANK_OK);
+    assert_int_equal(c->n_files, 6);
+    assert_int_equal(c->n_samples, 4); /* K1, K2 (skipped), K3, K4 (two files) */
+    assert_int_equal(c->n_unused, 1);
+    assert_non_null(strstr(c->unused[0], "MT-K1 - Copy.csv: byte-identical to MT-K1.csv"));
+    const arrank_sample *k2 = &c->samples[1], *k3 = &c->samples[2], *k4 = &c->samples[3];
+    assert_string_equal(k2->file, "MT-K2.csv");
+    assert_true(k2->skipped);
+    assert_int_equal(k2->n_points, 0);
+    assert_int_equal(k2->problem_line, 1);
+    assert_int_equal(k2->problem_column, 2);
+    assert_string_equal(k2->problem, "unknown unit 'umol/(g*sx)' in column 'rate'");
+    /* K3: two points left out with their reasons, the ';;' row skipped, sd 5 % of the rate */
+    assert_false(k3->skipped);
+    /* metadata numbers follow the file's decimal comma; the id is text, kept as written */
+    assert_string_equal(arrank_sample_meta(k3, "particle_diameter"), "0.25 mm");
+    assert_string_equal(k3->id, "K3,5");
+    assert_null(k3->problem);
+    assert_int_equal(k3->n_points, 5);
+    assert_int_equal(k3->n_omitted, 2);
+    assert_string_equal(k3->points[1].omitted, "no value ('n.d.') in column 'rate'");
+    assert_int_equal(k3->points[1].omitted_column, 2);
+    assert_string_equal(k3->points[3].omitted, "below detection limit: < 0,01 in column 'rate'");
+    assert_null(k3->points[0].omitted);
+    assert_true(fabs(k3->points[0].rate_sd - 0.05 * k3->points[0].rate) <= 1e-15);
+    assert_true(fabs(k3->points[0].rate - 0.31) <= 1e-15); /* gcat = g, sec = s */
+    /* K4: one sample, two runs (a file name, then that file's run label) */
+    assert_string_equal(k4->id, "MT-K4");
+    assert_int_equal(k4->n_points, 4);
+    assert_int_equal(k4->n_runs, 2);
+    assert_string_equal(k4->runs[k4->points[0].run], "MT-K4a.csv");
+    assert_string_equal(k4->runs[k4->points[2].run], "b");
+    assert_null(k4->problem);
+    arrank_campaign_free(c);
+
+    /* strict: the copy's id is a repeated id, and with it gone the bad unit stops the load */
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_load(dir, units, &c, &err), ARRANK_EUNIT);
+    assert_null(c);
+    assert_non_null(strstr(err.path, "MT-K2.csv"));
+    arrank_load_options no_merge = {0, 1};
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_campaign_load_with(dir, units, &no_merge, NULL, NULL, &c, &err),
+                     ARRANK_EPARSE);
+    assert_non_null(strstr(err.message, "sample id 'MT-K1' is also the id of"));
+    temp_dir_remove(dir);
+}
+
 static void test_derived_rates(void **state)
 {
     (void)state;
@@ -1034,6 +1111,7 @@ static void test_derived_rates(void **state)
     assert_int_equal(arrank_campaign_load(dir, units, &c, &err), ARRANK_EPARSE);
     assert_non_null(strstr(err.path, "D2.csv"));
     assert_non_null(strstr(err.message, "metadata 'feed_flow' is missing"));
+    assert_true(err.line > 0); /* the header's line (issue 18: every metadata error has one) */
     assert_null(c);
     temp_dir_remove(dir);
 }
@@ -1175,6 +1253,7 @@ int main(void)
         cmocka_unit_test(test_large_campaign),
         cmocka_unit_test(test_read_sizes),
         cmocka_unit_test(test_derived_rates),
+        cmocka_unit_test(test_lenient_folder),
         cmocka_unit_test(test_duplicate_ids),
         cmocka_unit_test(test_background_units),
         cmocka_unit_test(test_name_order),

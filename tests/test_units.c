@@ -51,11 +51,25 @@ static const struct {
     {"m\xc2\xb2", "cm2", 0.0317, 317.0, "exact by definition: 1e4"},
     {"degC", "K", 231.4, 504.55, "Celsius scale definition"},
     {"degF", "K", 482.0, 523.15, "Fahrenheit scale definition"},
+    /* the alias table (units.c): words rigs write, as whole words only */
+    {"mmol/(gcat*hr)", "mol/(kg*h)", 0.0412, 0.0412, "alias: gcat = g, hr = h"},
+    {"umol/(g_cat*sec)", "umol/(g*s)", 0.8626, 0.8626, "alias: g_cat = g, sec = s"},
+    {"mol/(kgcat*hrs)", "mol/(kg*s)", 36.0, 0.01, "alias: kgcat = kg, hrs = h; exact: 1/3600"},
+    {"mins", "s", 2.0, 120.0, "alias: mins = min; exact by definition: 60 s"},
 };
 
 static void test_conversions(void **state)
 {
     (void)state;
+    /* an alias is a whole word: 'gcats' and 'xhr' are not rewritten (unknown units) */
+    static const char *const not_aliases[] = {"mol/(gcats*h)", "mol/(g*xhr)"};
+    for (size_t i = 0; i < sizeof not_aliases / sizeof not_aliases[0]; i++) {
+        arrank_error err;
+        arrank_error_clear(&err);
+        arrank_conversion c;
+        assert_int_equal(arrank_units_conversion(units, not_aliases[i], "mol/(kg*s)", &c, &err),
+                         ARRANK_EUNIT);
+    }
     for (size_t i = 0; i < sizeof conversions / sizeof conversions[0]; i++) {
         arrank_error err;
         arrank_error_clear(&err);

@@ -96,8 +96,10 @@ arrank_options arrank_options_defaults(void);
 
 typedef struct {
     const arrank_sample *sample;  /* borrowed from the campaign */
-    char *error;                  /* why the sample was not fitted, NULL if it was */
+    char *error;                  /* why the sample was not fitted, NULL if it was; for a
+                                     file that could not be read (sample->skipped), why */
     long error_line;              /* line the error points at, 0 if none */
+    long error_column;            /* column the error points at, 0 if none */
     unsigned char *used;          /* [sample->n_points]: 1 if the point is in the fit */
     size_t n_used;
     arrank_arrhenius fit;         /* valid when error == NULL */

@@ -8,8 +8,10 @@
  * after it see one unit system.
  *
  * Two kinds of problem:
- *  - a malformed file (bad unit, non-numeric cell, ragged row, ...) stops the
- *    load: the call returns an error with path, line and column;
+ *  - a malformed file (bad unit, non-numeric cell, ragged row, ...) stops a
+ *    strict load: the call returns an error with path, line and column; the
+ *    default load of arrank_campaign_load_with keeps it as a `skipped` sample
+ *    with that error as its problem, and reads the rest;
  *  - a well-formed sample that cannot be fitted (fewer than 3 points, a single
  *    temperature, a rate <= 0) is kept, with `problem` set; the analysis lists
  *    it with that reason and leaves it out of the ranking.
@@ -38,7 +40,29 @@ typedef struct {
     size_t n_samples;
     char **notes;               /* campaign-level notes (unknown ini keys, ...) */
     size_t n_notes;
+    size_t n_files;             /* sample files found in the folder (*.csv, arrank's own
+                                   outputs left out) */
+    /* Files read but not used that are no row of their own: "PATH: why" (a
+       byte-identical copy of another file).  Files that could not be read are
+       samples with `skipped` set. */
+    char **unused;
+    size_t n_unused;
 } arrank_campaign;
+
+/* How a folder is read (arrank_campaign_load_with). */
+typedef struct {
+    /* 1: all or nothing - a file that cannot be read, or a cell that is not a
+       number, stops the load with its error (arrank_read_options.strict); two
+       files with one sample id are an error.  0 (default): such a file
+       becomes a sample with `skipped` and its reason, such a cell leaves its
+       point out, and the rest is read. */
+    int strict;
+    /* 1: two files with one sample id are an error (also with strict).
+       0 (default): they are one sample whose runs are the files (run label:
+       the file's run column, else its name), and a file byte-identical to an
+       earlier one is not used, with a note naming that one. */
+    int no_merge;
+} arrank_load_options;
 
 /*
  * Read the folder at dir.  On success *out is a new campaign owned by the
@@ -57,6 +81,19 @@ arrank_status arrank_campaign_load(const char *dir, arrank_units *units, arrank_
 arrank_status arrank_campaign_load_progress(const char *dir, arrank_units *units,
                                             arrank_progress_fn progress, void *progress_ctx,
                                             arrank_campaign **out, arrank_error *err);
+
+/*
+ * arrank_campaign_load_progress with load options; opt NULL is the default
+ * (strict 0, no_merge 0: keep going, merge by id).  arrank_campaign_load and
+ * arrank_campaign_load_progress read strictly (strict 1, no_merge 1).  Errors
+ * of the campaign as a whole (campaign.ini, the folder, no *.csv, out of
+ * memory) stop the load in every mode.  Files the program writes itself
+ * (results.csv, points.csv, plan.csv) are not read as samples; a note says so.
+ */
+arrank_status arrank_campaign_load_with(const char *dir, arrank_units *units,
+                                        const arrank_load_options *opt,
+                                        arrank_progress_fn progress, void *progress_ctx,
+                                        arrank_campaign **out, arrank_error *err);
 
 void arrank_campaign_free(arrank_campaign *campaign);
 

@@ -34,7 +34,14 @@ typedef struct {
     double conversion;       /* fractional conversion 0..1 (file may say % ); NAN if none */
     double time_on_stream_s; /* s; NAN if none */
     int run;                 /* index into sample.runs; -1 if no run column */
+    int omitted_column;      /* column of the cell that left the point out (1-based), 0 if none */
     long line;               /* physical line of the point in its file (1-based) */
+    /* Why the point is left out before the fit, NULL when it is usable: a cell
+       with no value ('n.d.', '-', blank), below a detection limit ('< 0.01'),
+       not a number, or a rate <= 0 (README "Cells").  Such a point keeps the
+       values that could be read (NAN for the others); the analysis never fits
+       it.  Owned by the sample. */
+    char *omitted;
 } arrank_point;
 
 /* A metadata entry: "# key = value" in the file or a [sample ID] key in campaign.ini. */
@@ -63,6 +70,14 @@ typedef struct {
        problem_line is the line it points at (0 if the whole file). */
     char *problem;
     long problem_line;
+    long problem_column; /* column of problem_line it points at, 0 if none */
+    /* 1 when the file could not be read at all (bad header, unit, cell, an
+       unreadable file): `problem` is why, in the form the strict reader's
+       error would have had, and the sample has no points.  The campaign goes
+       on without it (arrank_campaign_load_with). */
+    int skipped;
+    size_t n_omitted; /* points with `omitted` set */
+    long header_line; /* line of the header row (messages about the columns) */
     /* 1 when the file has no rate column and the rates were derived from its
        conversion column and feed metadata (README "Rates from conversion"). */
     int rates_derived;
@@ -77,6 +92,24 @@ typedef struct {
 arrank_status arrank_sample_parse(const char *name, const char *data, size_t len,
                                   arrank_units *units, const char *report_unit,
                                   arrank_sample *sample, arrank_error *err);
+
+/*
+ * How forgiving the reader is.  strict = 1 is all-or-nothing: any cell that
+ * is not a number stops the read with an error (arrank_sample_parse).
+ * strict = 0 leaves points out instead (arrank_point.omitted): cells with no
+ * value, below a detection limit or not a number, rates <= 0; and skips rows
+ * of delimiters and blanks only.  The headers, units and metadata forms read
+ * are the same in both.
+ */
+typedef struct {
+    int strict;
+} arrank_read_options;
+
+/* arrank_sample_parse with read options (NULL: strict). */
+arrank_status arrank_sample_parse_with(const char *name, const char *data, size_t len,
+                                       arrank_units *units, const char *report_unit,
+                                       const arrank_read_options *opt, arrank_sample *sample,
+                                       arrank_error *err);
 
 void arrank_sample_clear(arrank_sample *sample);
 

@@ -34,7 +34,8 @@ enum {
     OPT_STATS = 1u << 5,      /* --seed, --draws, --pairs, --bootstrap, --normal */
     OPT_MODEL = 1u << 6,      /* --errors, --model */
     OPT_OUT_DIR = 1u << 7,    /* --out DIR */
-    OPT_FORMAT = 1u << 8      /* --format svg|png|pdf (repeatable) */
+    OPT_FORMAT = 1u << 8,     /* --format svg|png|pdf (repeatable) */
+    OPT_READ = 1u << 9        /* --strict, --no-merge: every command that reads a campaign */
 };
 
 #define CLI_MAX_FORMATS 8
@@ -53,6 +54,7 @@ typedef struct {
     int confidence_given;
     int by_given;
     arrank_options options;
+    arrank_load_options load; /* --strict, --no-merge */
     int argc;                 /* the whole command line, for the report */
     char **argv;
 } cli_args;
@@ -104,7 +106,9 @@ void cli_session_free(cli_session *session);
    instead of freeing it (ARRANK_FREE_AT_EXIT=1: free it). */
 void cli_session_leave(cli_session *session);
 
-/* Tell on stderr which samples could not be fitted (FILE:LINE: reason). */
+/* Tell on stderr which files were not used (FILE:LINE:COLUMN: reason; file
+   not used), which points were left out and which samples could not be
+   fitted, then one summary line when files were not used. */
 void cli_report_unfitted(const cli_session *session);
 
 /* Write --json/--csv/--points outputs (if asked).  Returns -1 or an exit status. */

@@ -28,6 +28,11 @@ static const char usage[] =
     "  --drop-outliers     leave flagged outliers out of the fit\n"
     "  --conversion-limit X  differential-reactor limit, e.g. 10% (default)\n"
     "  --no-diagnose       skip the diagnostics\n"
+    "  --strict            all or nothing: a file that cannot be read or a cell that\n"
+    "                      is not a number stops the run (default: that file is\n"
+    "                      skipped, that point left out, each named on stderr)\n"
+    "  --no-merge          two files with one sample id are an error (default: one\n"
+    "                      sample, each file a run; a byte-identical copy unused)\n"
     "  --errors relative|absolute   error model of the rates (default relative)\n"
     "  --model arrhenius|modified|eyring   rate law (default arrhenius)\n"
     "  --seed N            seed of the Monte Carlo draws and the bootstrap (default 1)\n"
@@ -36,7 +41,8 @@ static const char usage[] =
     "  --bootstrap N       also give a residual-bootstrap interval, N resamples\n"
     "  --normal            draw from the normal rather than the t distribution\n"
     "\n"
-    "Exit status: 0 ok, 1 bad input data or nothing fittable, 2 usage,\n"
+    "Exit status: 0 ok (at least one sample fitted; files not used are named on\n"
+    "stderr), 1 bad input data or nothing fittable, 2 usage,\n"
     "3 a file could not be read or written.\n";
 
 int cmd_rank(int argc, char **argv)

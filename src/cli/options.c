@@ -45,6 +45,8 @@ static const option_spec option_table[] = {
     {"--model", OPT_MODEL, 1},
     {"--out", OPT_OUT_DIR, 1},
     {"--format", OPT_FORMAT, 1},
+    {"--strict", OPT_READ, 0},
+    {"--no-merge", OPT_READ, 0},
 };
 
 /* Every message is one line on the terminal: whatever reached it from a
@@ -160,6 +162,10 @@ static int apply(cli_args *a, const char *name, const char *value)
         o->drop_outliers = 1;
     else if (strcmp(name, "--no-diagnose") == 0)
         o->diagnose = 0;
+    else if (strcmp(name, "--strict") == 0)
+        a->load.strict = 1;
+    else if (strcmp(name, "--no-merge") == 0)
+        a->load.no_merge = 1;
     else if (strcmp(name, "--conversion-limit") == 0)
         return parse_fraction(name, value, &o->conversion_limit);
     else if (strcmp(name, "--seed") == 0) {
@@ -217,6 +223,7 @@ static int apply(cli_args *a, const char *name, const char *value)
 int cli_parse(int argc, char **argv, unsigned accepted, const char *usage, cli_args *args)
 {
     memset(args, 0, sizeof *args);
+    accepted |= OPT_READ; /* every command reads a campaign */
     args->command = argv[0];
     args->options = arrank_options_defaults();
     args->argc = argc;

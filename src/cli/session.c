@@ -90,9 +90,9 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
         clock_gettime(CLOCK_MONOTONIC, &ps_store.start);
         ps = &ps_store;
     }
-    arrank_status st = arrank_campaign_load_progress(args->campaign_dir, s->units,
-                                                     ps ? show_progress : NULL, ps, &s->campaign,
-                                                     &err);
+    arrank_status st = arrank_campaign_load_with(args->campaign_dir, s->units, &args->load,
+                                                 ps ? show_progress : NULL, ps, &s->campaign,
+                                                 &err);
     end_progress(ps);
     if (st != ARRANK_OK) {
         cli_print_error(&err);
@@ -119,6 +119,14 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
     args->options.units = NULL;
     args->options.progress = NULL;
     args->options.progress_ctx = NULL;
+    if (st == ARRANK_EDATA && !args->load.strict) {
+        /* nothing could be fitted: every file and sample with its reason, then why the
+           run stops */
+        cli_report_unfitted(s);
+        cli_fail("no sample in '%s' could be fitted", args->campaign_dir);
+        cli_session_free(s);
+        return EXIT_DATA;
+    }
     if (st != ARRANK_OK) {
         cli_print_error(&err);
         cli_session_free(s);
@@ -159,16 +167,40 @@ void cli_session_free(cli_session *s)
 
 void cli_report_unfitted(const cli_session *s)
 {
+    const arrank_campaign *c = s->campaign;
     const arrank_analysis *a = s->analysis;
-    for (size_t i = 0; i < a->n_results; i++) {
-        const arrank_result *r = &a->results[i];
-        if (!r->error)
-            continue;
+    size_t not_used = c->n_unused;
+    for (size_t i = 0; i < c->n_samples; i++) {
+        const arrank_sample *smp = &c->samples[i];
         arrank_error e;
-        arrank_error_at(&e, ARRANK_EDATA, r->sample->path, r->error_line, 0,
-                        "%s; sample '%s' not fitted", r->error, r->sample->id);
+        if (smp->skipped) {
+            arrank_error_at(&e, ARRANK_EDATA, smp->path, smp->problem_line, smp->problem_column,
+                            "%s; file not used", smp->problem);
+            cli_print_error(&e);
+            not_used++;
+            continue;
+        }
+        for (size_t k = 0; smp->n_omitted && k < smp->n_points; k++) {
+            const arrank_point *p = &smp->points[k];
+            if (!p->omitted)
+                continue;
+            arrank_error_at(&e, ARRANK_EDATA, smp->path, p->line, p->omitted_column,
+                            "%s; point left out", p->omitted);
+            cli_print_error(&e);
+        }
+        /* the analysis's reason, or the reader's when nothing could be fitted */
+        const char *why = a && i < a->n_results ? a->results[i].error : smp->problem;
+        long line = a && i < a->n_results ? a->results[i].error_line : smp->problem_line;
+        if (!why)
+            continue;
+        arrank_error_at(&e, ARRANK_EDATA, smp->path, line, 0, "%s; sample '%s' not fitted", why,
+                        smp->id);
         cli_print_error(&e);
     }
+    for (size_t i = 0; i < c->n_unused; i++)
+        cli_fail("%s", c->unused[i]);
+    if (not_used)
+        cli_fail("%zu of %zu files not used; see above", not_used, c->n_files);
 }
 
 /* The --json/--csv/--points destinations: refused before any work is shown

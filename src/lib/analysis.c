@@ -110,6 +110,7 @@ static void set_result_error(arrank_result *res, const char *msg, long line)
     free(res->error);
     res->error = arrank_strdup(msg);
     res->error_line = line;
+    res->error_column = 0;
 }
 
 size_t arrank_result_used_points(const arrank_result *res, double *temp_K, double *rate,
@@ -153,6 +154,7 @@ arrank_status arrank_result_refit(arrank_result *res, arrank_error *err)
         free(res->error);
         res->error = NULL;
         res->error_line = 0;
+        res->error_column = 0;
     }
     return ARRANK_OK;
 }
@@ -201,6 +203,25 @@ static int compare_rank(const void *a, const void *b)
     return strcmp(ra->id, rb->id);
 }
 
+/* The reader's reasons for the points it left out, as the diagnosis's
+   reasons for leaving them out of the fit, so that every list of left-out
+   points names them. */
+static arrank_status omitted_reasons(arrank_result *res, arrank_error *err)
+{
+    const arrank_sample *s = res->sample;
+    arrank_diagnosis *d = res->diagnosis;
+    if (!d || !s->n_omitted)
+        return ARRANK_OK;
+    for (size_t i = 0; i < s->n_points && i < d->n_points; i++) {
+        if (!s->points[i].omitted || d->points[i].reason)
+            continue;
+        if (!(d->points[i].reason = arrank_strdup(s->points[i].omitted)))
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        d->points[i].excluded = 1;
+    }
+    return ARRANK_OK;
+}
+
 /* Everything that happens to one sample: refit, diagnose, models, flags,
    prediction.  Reads only its own sample and the campaign; writes only its
    own result.  A failure other than the sample's own is returned (ENOMEM). */
@@ -214,8 +235,15 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     memset(res->used, 1, s->n_points);
     res->n_used = s->n_points;
+    /* points the reader left out (arrank_point.omitted) are never fitted */
+    for (size_t i = 0; s->n_omitted && i < s->n_points; i++)
+        if (s->points[i].omitted) {
+            res->used[i] = 0;
+            res->n_used--;
+        }
     if (s->problem) {
         set_result_error(res, s->problem, s->problem_line);
+        res->error_column = s->problem_column;
         return ARRANK_OK;
     }
     res->n_used = arrank_screen_mark(s, res->used);
@@ -225,6 +253,9 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
     if (opt->diagnose) {
         st = arrank_analysis_diagnose(res, dopt, err);
         if (st != ARRANK_OK || res->error)
+            return st;
+        st = omitted_reasons(res, err);
+        if (st != ARRANK_OK)
             return st;
     }
     /* analysis_models.c: --errors absolute refits in rate space; --model adds its fit */
@@ -370,7 +401,8 @@ static arrank_status analysis_run_in_c(const arrank_campaign *campaign,
     if (n_fitted == 0) {
         const arrank_result *first = a->n_results ? &a->results[0] : NULL;
         if (first && first->error)
-            st = arrank_error_at(err, ARRANK_EDATA, first->sample->path, first->error_line, 0,
+            st = arrank_error_at(err, ARRANK_EDATA, first->sample->path, first->error_line,
+                                 first->error_column,
                                  "%s", first->error);
         else
             st = arrank_errorf(err, ARRANK_EDATA, "no sample in '%s' could be fitted",

@@ -18,6 +18,8 @@
 #include <errno.h>
 #include <fcntl.h>
 #include <math.h>
+#include <stdarg.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -119,12 +121,25 @@ void arrank_campaign_free(arrank_campaign *campaign)
     free(campaign->title);
     free(campaign->rate_unit);
     arrank_list_free(campaign->notes, campaign->n_notes);
+    arrank_list_free(campaign->unused, campaign->n_unused);
     free(campaign);
 }
 
-/* Sorted list of the *.csv names in dir (hidden files skipped). */
+/* Files arrank itself writes (plot, report, --csv/--json): never read as samples. */
+static int own_output(const char *name)
+{
+    static const char *const outputs[] = {"results.csv", "points.csv", "plan.csv",
+                                           "results.json", "report.html"};
+    for (size_t i = 0; i < sizeof outputs / sizeof outputs[0]; i++)
+        if (strcmp(name, outputs[i]) == 0)
+            return 1;
+    return 0;
+}
+
+/* Sorted list of the *.csv names in dir (hidden files and arrank's own
+   outputs skipped; those go to *outputs). */
 static arrank_status list_folder(const char *dir, char ***names, size_t *n, int *has_ini,
-                                 arrank_error *err)
+                                 char ***outputs, size_t *n_outputs, arrank_error *err)
 {
     char os[256];
     DIR *d = opendir(dir);
@@ -143,6 +158,16 @@ static arrank_status list_folder(const char *dir, char ***names, size_t *n, int 
             continue;
         if (strcmp(e->d_name, "campaign.ini") == 0)
             *has_ini = 1;
+        if (own_output(e->d_name)) {
+            size_t ocap = *n_outputs;
+            if (arrank_list_add(outputs, n_outputs, &ocap, e->d_name) != 0) {
+                closedir(d);
+                arrank_list_free(*names, *n);
+                *names = NULL;
+                return arrank_errorf(err, ARRANK_ENOMEM, "out of memory listing the folder");
+            }
+            continue;
+        }
         if (!has_csv_extension(e->d_name))
             continue;
         if (*n >= (size_t)ARRANK_CAMPAIGN_MAX_FILES) {
@@ -238,6 +263,8 @@ static arrank_status apply_ini_entries(const arrank_ini *ini, arrank_campaign *c
                 hi = mid;
         }
         if (lo == n || strcmp(index[lo]->id, e->section_id) != 0) {
+            if (n == 0 && c->n_samples > 0) /* every file skipped: no note for each key */
+                continue;
             /* One note per section, not per key. */
             if (i > 0 && strcmp(ini->entries[i - 1].section_id, e->section_id) == 0)
                 continue;
@@ -248,44 +275,124 @@ static arrank_status apply_ini_entries(const arrank_ini *ini, arrank_campaign *c
                 return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
             continue;
         }
-        if (arrank_sample_add_meta(index[lo], e->key, e->value, ini_path, e->line) != 0)
-            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        /* files merged into one sample: each gets the section's keys */
+        for (size_t k = lo; k < n && strcmp(index[k]->id, e->section_id) == 0; k++)
+            if (arrank_sample_add_meta(index[k], e->key, e->value, ini_path, e->line) != 0)
+                return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     }
     return ARRANK_OK;
 }
 
-/* Read and parse one file of the folder into *sample. */
-static arrank_status load_one(const char *dir, int dirfd, const char *name, arrank_units *units,
-                              const char *report_unit, arrank_sample *sample, char **buf,
+/* What a load holds while it runs; load_free releases all but the campaign. */
+typedef struct {
+    const char *dir;
+    arrank_units *units;
+    arrank_load_options opt;
+    char **names;
+    size_t n_names;
+    char **outputs; /* arrank's own outputs found in the folder */
+    size_t n_outputs;
+    int has_ini;
+    int dirfd;
+    arrank_ini ini;
+    size_t notes_cap; /* room of c->notes */
+    size_t unused_cap; /* room of c->unused */
+    char *buf;        /* the read buffer of the calling thread */
+    size_t cap;
+    uint64_t *hash;   /* [n_names]: FNV-1a of each file's bytes (merging only) */
+    size_t *size;     /* [n_names]: bytes of each file */
+    unsigned char *drop; /* [n_names]: 1 when the sample is not kept (copy, merged) */
+    arrank_sample **index; /* the samples sorted by id (none dropped or skipped) */
+    size_t n_index;
+    arrank_campaign *c;
+} load_state;
+
+static uint64_t hash_bytes(const char *s, size_t n)
+{
+    /* FNV-1a, 64-bit offset basis and prime (Fowler, Noll, Vo; public domain). */
+    uint64_t h = 1469598103934665603ULL;
+    for (size_t i = 0; i < n; i++) {
+        h ^= (unsigned char)s[i];
+        h *= 1099511628211ULL;
+    }
+    return h;
+}
+
+/*
+ * A file that could not be read, as a sample: the file stem as its id, no
+ * points, `skipped`, and the error as its problem (at its line and column;
+ * an error in another file, campaign.ini, is named in the text).
+ */
+static arrank_status skip_file(arrank_sample *s, const char *path, const arrank_error *why,
+                               arrank_error *err)
+{
+    arrank_sample_clear(s);
+    const char *base = arrank_base_name(path);
+    size_t n = strlen(base);
+    if (has_csv_extension(base))
+        n -= 4;
+    s->path = strdup(path);
+    s->file = strdup(base);
+    s->id = arrank_dup_range(base, n);
+    if (why->path[0] && strcmp(why->path, path) != 0) {
+        char msg[ARRANK_ERROR_MSG_MAX + 64];
+        snprintf(msg, sizeof msg, "%s:%ld: %s", arrank_base_name(why->path), why->line,
+                 why->message);
+        s->problem = strdup(msg);
+    } else {
+        s->problem = strdup(why->message);
+        s->problem_line = why->line;
+        s->problem_column = why->column;
+    }
+    s->skipped = 1;
+    if (!s->path || !s->file || !s->id || !s->problem)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+    return ARRANK_OK;
+}
+
+/* Read and parse file i of the folder into its sample; in a lenient load a
+   file that cannot be read becomes a skipped sample. */
+static arrank_status load_one(load_state *ls, size_t i, const char *report_unit, char **buf,
                               size_t *cap, arrank_error *err)
 {
-    char *path = join_path(dir, name);
+    const char *name = ls->names[i];
+    arrank_sample *sample = &ls->c->samples[i];
+    char *path = join_path(ls->dir, name);
     if (!path)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
     size_t len = 0;
-    arrank_status st = read_file(dirfd, name, path, buf, cap, &len, err);
-    if (st == ARRANK_OK)
-        st = arrank_sample_parse_deferred(path, *buf, len, units, report_unit, sample, err);
+    arrank_read_options ro = {ls->opt.strict};
+    arrank_error fe;
+    arrank_error_clear(&fe);
+    arrank_status st = read_file(ls->dirfd, name, path, buf, cap, &len, &fe);
+    if (st == ARRANK_OK) {
+        if (ls->hash) {
+            ls->hash[i] = hash_bytes(*buf, len);
+            ls->size[i] = len;
+        }
+        st = arrank_sample_parse_deferred(path, *buf, len, ls->units, report_unit, &ro, sample,
+                                          &fe);
+    }
+    if (st != ARRANK_OK && st != ARRANK_ENOMEM && !ls->opt.strict)
+        st = skip_file(sample, path, &fe, err);
+    else if (st != ARRANK_OK && err)
+        *err = fe;
     free(path);
     return st;
 }
 
 /*
- * Files 1..n-1 on the workers (arrank_workers_each, util.c), each worker with
- * its own read buffer.  A sample depends only on its file and the report
- * unit, so the result is the same for any number of workers, and the error
- * is the first failing file's in name order.
+ * Files after the first read on the workers (arrank_workers_each, util.c),
+ * each worker with its own read buffer.  A sample depends only on its file
+ * and the report unit, so the result is the same for any number of workers,
+ * and the error is the first failing file's in name order.
  */
 #define LOAD_CHUNK 16
 #define LOAD_MIN_PER_WORKER 64
 #define LOAD_MAX_WORKERS 8
 
 typedef struct {
-    const char *dir;
-    int dirfd;
-    char **names;
-    arrank_units *units;
-    arrank_campaign *c;
+    load_state *ls;
     char *buf[LOAD_MAX_WORKERS];
     size_t cap[LOAD_MAX_WORKERS];
 } load_job;
@@ -293,54 +400,38 @@ typedef struct {
 static arrank_status load_item(void *ctx, size_t i, size_t w, arrank_error *err)
 {
     load_job *j = ctx;
-    return load_one(j->dir, j->dirfd, j->names[i], j->units, j->c->rate_unit, &j->c->samples[i],
-                    &j->buf[w], &j->cap[w], err);
+    return load_one(j->ls, i, j->ls->c->rate_unit, &j->buf[w], &j->cap[w], err);
 }
 
-static arrank_status load_rest(const char *dir, int dirfd, char **names, size_t n,
-                               arrank_units *units, arrank_campaign *c,
-                               arrank_progress_fn progress, void *progress_ctx,
-                               arrank_error *err)
+static arrank_status load_rest(load_state *ls, size_t first, arrank_progress_fn progress,
+                               void *progress_ctx, arrank_error *err)
 {
+    size_t n = ls->n_names;
+    if (first >= n)
+        return ARRANK_OK;
     load_job j;
     memset(&j, 0, sizeof j);
-    j.dir = dir;
-    j.dirfd = dirfd;
-    j.names = names;
-    j.units = units;
-    j.c = c;
-    size_t workers = n > 1 ? arrank_workers_for(n - 1, LOAD_MIN_PER_WORKER) : 1;
+    j.ls = ls;
+    size_t workers = arrank_workers_for(n - first, LOAD_MIN_PER_WORKER);
     if (workers > LOAD_MAX_WORKERS)
         workers = LOAD_MAX_WORKERS;
-    arrank_status st = arrank_workers_each(1, n, LOAD_CHUNK, workers, load_item, &j, progress,
+    arrank_status st = arrank_workers_each(first, n, LOAD_CHUNK, workers, load_item, &j, progress,
                                            progress_ctx, "reading samples", err);
     for (size_t w = 0; w < LOAD_MAX_WORKERS; w++)
         free(j.buf[w]);
     return st;
 }
 
-/* What a load holds while it runs; load_free releases all but the campaign. */
-typedef struct {
-    const char *dir;
-    arrank_units *units;
-    char **names;
-    size_t n_names;
-    int has_ini;
-    int dirfd;
-    arrank_ini ini;
-    size_t notes_cap; /* room of c->notes */
-    char *buf;        /* the read buffer of the calling thread */
-    size_t cap;
-    arrank_sample **index; /* the samples sorted by id */
-    arrank_campaign *c;
-} load_state;
-
 static void load_free(load_state *ls)
 {
     free(ls->index);
     free(ls->buf);
+    free(ls->hash);
+    free(ls->size);
+    free(ls->drop);
     arrank_ini_free(&ls->ini);
     arrank_list_free(ls->names, ls->n_names);
+    arrank_list_free(ls->outputs, ls->n_outputs);
     if (ls->dirfd >= 0)
         close(ls->dirfd);
 }
@@ -348,7 +439,8 @@ static void load_free(load_state *ls)
 /* Load step 1: the folder listed, the unit database ready, the folder open. */
 static arrank_status open_folder(load_state *ls, arrank_error *err)
 {
-    arrank_status st = list_folder(ls->dir, &ls->names, &ls->n_names, &ls->has_ini, err);
+    arrank_status st = list_folder(ls->dir, &ls->names, &ls->n_names, &ls->has_ini,
+                                   &ls->outputs, &ls->n_outputs, err);
     if (st != ARRANK_OK)
         return st;
     if (ls->n_names == 0)
@@ -366,7 +458,30 @@ static arrank_status open_folder(load_state *ls, arrank_error *err)
         arrank_os_message(errno, os, sizeof os);
         return arrank_error_at(err, ARRANK_EIO, ls->dir, 0, 0, "cannot read the folder: %s", os);
     }
+    if (!ls->opt.no_merge) {
+        ls->hash = calloc(ls->n_names, sizeof *ls->hash);
+        ls->size = calloc(ls->n_names, sizeof *ls->size);
+        if (!ls->hash || !ls->size)
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+    }
     return ARRANK_OK;
+}
+
+/* Add a campaign note (printf-style); -1 when out of memory. */
+static int campaign_note(load_state *ls, const char *fmt, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 2, 3)))
+#endif
+    ;
+
+static int campaign_note(load_state *ls, const char *fmt, ...)
+{
+    char note[ARRANK_ERROR_MSG_MAX];
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(note, sizeof note, fmt, ap);
+    va_end(ap);
+    return arrank_list_add(&ls->c->notes, &ls->c->n_notes, &ls->notes_cap, note);
 }
 
 /* Load step 2: the campaign with its path, name and campaign.ini. */
@@ -378,6 +493,7 @@ static arrank_status new_campaign(load_state *ls, arrank_error *err)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
     c->operating_temp_K = NAN;
     c->confidence = NAN;
+    c->n_files = ls->n_names;
     c->path = strdup(dir);
     /* Folder name without trailing slashes. */
     size_t n = strlen(dir);
@@ -397,46 +513,116 @@ static arrank_status new_campaign(load_state *ls, arrank_error *err)
     }
     if (!c->title && !(c->title = strdup(c->name)))
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+    for (size_t i = 0; i < ls->n_outputs; i++)
+        if (campaign_note(ls, "%s looks like an output of arrank; not read as a sample",
+                          ls->outputs[i]) != 0)
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
     return ARRANK_OK;
 }
 
-/* Load step 3: the first sample (in name order), which sets the report unit
-   the others are converted to unless campaign.ini has. */
-static arrank_status read_first(load_state *ls, arrank_error *err)
+/* Load step 3: the first readable sample (in name order), which sets the
+   report unit the others are converted to unless campaign.ini has.  *next
+   gets the index of the file after it. */
+static arrank_status read_first(load_state *ls, size_t *next, arrank_error *err)
 {
     arrank_campaign *c = ls->c;
     c->samples = calloc(ls->n_names, sizeof *c->samples);
     if (!c->samples)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
-    arrank_status st = load_one(ls->dir, ls->dirfd, ls->names[0], ls->units, c->rate_unit,
-                                &c->samples[0], &ls->buf, &ls->cap, err);
-    if (st != ARRANK_OK)
-        return st;
-    c->n_samples = 1;
+    size_t i = 0;
+    for (; i < ls->n_names; i++) {
+        arrank_status st = load_one(ls, i, c->rate_unit, &ls->buf, &ls->cap, err);
+        c->n_samples = i + 1;
+        if (st != ARRANK_OK)
+            return st;
+        if (!c->samples[i].skipped)
+            break;
+    }
+    *next = i + 1;
     if (c->rate_unit) /* campaign.ini has set it */
         return ARRANK_OK;
     char spelled[UNIT_MAX];
-    const char *u = c->samples[0].rate_unit_file;
+    /* no file readable: the derived-rate unit, so that the campaign is whole */
+    const char *u = i < ls->n_names ? c->samples[i].rate_unit_file
+                                    : ARRANK_SAMPLE_DERIVED_RATE_UNIT;
     if (arrank_units_spelling(u, spelled, sizeof spelled) != 0)
         snprintf(spelled, sizeof spelled, "%s", u);
     if (!(c->rate_unit = strdup(spelled)))
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
-    c->basis = c->samples[0].basis;
+    c->basis = i < ls->n_names ? c->samples[i].basis : ARRANK_BASIS_MASS;
     return ARRANK_OK;
 }
 
-/* Load step 5: sample ids must be unique; sort an index rather than compare
-   all pairs (the index, by id, then finds campaign.ini's sections). */
+/* Whether files a and b of the folder hold the same bytes (read again, both;
+   only for files of one sample id with equal hashes and sizes). */
+static int same_bytes(load_state *ls, size_t a, size_t b)
+{
+    char *bufa = NULL, *bufb = NULL;
+    size_t capa = 0, capb = 0, lena = 0, lenb = 0;
+    arrank_error ignored;
+    int same = read_file(ls->dirfd, ls->names[a], ls->names[a], &bufa, &capa, &lena, &ignored) ==
+                   ARRANK_OK &&
+               read_file(ls->dirfd, ls->names[b], ls->names[b], &bufb, &capb, &lenb, &ignored) ==
+                   ARRANK_OK &&
+               lena == lenb && memcmp(bufa, bufb, lena) == 0;
+    free(bufa);
+    free(bufb);
+    return same;
+}
+
+/* Load step 8a: in a group of files with one sample id, a file
+   byte-identical to another (a copy left in the folder) is not used; a note
+   names the one kept (the shorter name: 'MT-A1.csv' beside 'MT-A1 -
+   Copy.csv').  Files of different ids are different samples, whatever their
+   bytes.  Returns how many of group[0..n) are left, moved to the front. */
+static size_t drop_copies(load_state *ls, arrank_sample **group, size_t n, arrank_error *err,
+                          arrank_status *st)
+{
+    arrank_campaign *c = ls->c;
+    for (size_t a = 0; a < n; a++)
+        for (size_t b = a + 1; b < n; b++) {
+            size_t i = (size_t)(group[a] - c->samples), j = (size_t)(group[b] - c->samples);
+            if (ls->drop[i] || ls->drop[j] || ls->hash[i] != ls->hash[j] ||
+                ls->size[i] != ls->size[j] || !same_bytes(ls, i, j))
+                continue;
+            size_t copy = strlen(ls->names[j]) < strlen(ls->names[i]) ? i : j;
+            size_t kept = copy == i ? j : i;
+            ls->drop[copy] = 1;
+            char line[ARRANK_ERROR_PATH_MAX + 128];
+            snprintf(line, sizeof line, "%s: byte-identical to %s; not used",
+                     c->samples[copy].path, ls->names[kept]);
+            if (arrank_list_add(&c->unused, &c->n_unused, &ls->unused_cap, line) != 0 ||
+                campaign_note(ls, "%s is byte-identical to %s; not used", ls->names[copy],
+                              ls->names[kept]) != 0) {
+                *st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+                return 0;
+            }
+        }
+    size_t left = 0;
+    for (size_t a = 0; a < n; a++)
+        if (!ls->drop[group[a] - c->samples])
+            group[left++] = group[a];
+    return left;
+}
+
+/* Load step 6: sample ids must be unique unless files are merged; sort an
+   index rather than compare all pairs (the index, by id, then finds
+   campaign.ini's sections).  Dropped copies and skipped files are left out. */
 static arrank_status check_ids(load_state *ls, arrank_error *err)
 {
     arrank_campaign *c = ls->c;
-    arrank_sample **index = ls->index = malloc(c->n_samples * sizeof *index);
+    arrank_sample **index = ls->index = malloc((c->n_samples ? c->n_samples : 1) * sizeof *index);
     if (!index)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+    size_t n = 0;
     for (size_t i = 0; i < c->n_samples; i++)
-        index[i] = &c->samples[i];
-    qsort(index, c->n_samples, sizeof *index, compare_sample_ids);
-    for (size_t i = 1; i < c->n_samples; i++) {
+        if (!ls->drop[i] && !c->samples[i].skipped)
+            index[n++] = &c->samples[i];
+    qsort(index, n, sizeof *index, compare_sample_ids);
+    ls->n_index = n;
+    if (!ls->opt.no_merge)
+        return ARRANK_OK;
+    for (size_t i = 1; i < n; i++) {
         if (strcmp(index[i]->id, index[i - 1]->id) != 0)
             continue;
         const arrank_sample *s = index[i];
@@ -451,8 +637,7 @@ static arrank_status check_ids(load_state *ls, arrank_error *err)
     }
     return ARRANK_OK;
 }
-
-/* Load step 6: campaign.ini's [sample ID] keys, then the rates derived from
+/* Load step 7: campaign.ini's [sample ID] keys, then the rates derived from
    conversion, which need every metadata entry, campaign.ini's included. */
 static arrank_status finish_samples(load_state *ls, arrank_error *err)
 {
@@ -462,18 +647,144 @@ static arrank_status finish_samples(load_state *ls, arrank_error *err)
         if (!ini_path)
             return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
         arrank_status st = apply_ini_entries(&ls->ini, c, &ls->notes_cap, ls->index,
-                                             c->n_samples, ini_path, err);
+                                             ls->n_index, ini_path, err);
         free(ini_path);
         if (st != ARRANK_OK)
             return st;
     }
     for (size_t i = 0; i < c->n_samples; i++) {
-        if (!c->samples[i].rates_derived)
+        arrank_sample *s = &c->samples[i];
+        if (!s->rates_derived || s->skipped || ls->drop[i])
             continue;
-        arrank_status st = arrank_sample_derive_rates(&c->samples[i], ls->units, c->rate_unit, err);
+        arrank_error de;
+        arrank_error_clear(&de);
+        arrank_status st = arrank_sample_derive_rates(s, ls->units, c->rate_unit,
+                                                      ls->opt.strict, &de);
+        if (st != ARRANK_OK && st != ARRANK_ENOMEM && !ls->opt.strict) {
+            char *path = strdup(s->path);
+            st = path ? skip_file(s, path, &de, err)
+                      : arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+            free(path);
+        } else if (st != ARRANK_OK && err)
+            *err = de;
         if (st != ARRANK_OK)
             return st;
     }
+    return ARRANK_OK;
+}
+
+/* Index of label in *runs (added when new); -1 when out of memory. */
+static int run_label(char ***runs, size_t *n, size_t *cap, const char *label)
+{
+    for (size_t i = 0; i < *n; i++)
+        if (strcmp((*runs)[i], label) == 0)
+            return (int)i;
+    if (arrank_list_add(runs, n, cap, label) != 0)
+        return -1;
+    return (int)(*n - 1);
+}
+
+/* The files group[0..n) of one sample id made one sample, in group[0]: the
+   points in file order, each file's points a run (its run column's labels,
+   else the file name). */
+static arrank_status merge_group(load_state *ls, arrank_sample **group, size_t n,
+                                 arrank_error *err)
+{
+    arrank_sample *dst = group[0];
+    size_t total = 0;
+    for (size_t k = 0; k < n; k++)
+        total += group[k]->n_points;
+    arrank_point *pts = malloc((total ? total : 1) * sizeof *pts);
+    char **runs = NULL;
+    size_t n_runs = 0, runs_cap = 0, at = 0;
+    if (!pts)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+    char files[768] = "";
+    size_t used = 0;
+    for (size_t k = 0; k < n; k++) {
+        arrank_sample *s = group[k];
+        int w = snprintf(files + used, sizeof files - used, "%s%s", k ? ", " : "", s->file);
+        if (w > 0 && (size_t)w < sizeof files - used)
+            used += (size_t)w;
+        for (size_t i = 0; i < s->n_points; i++) {
+            arrank_point p = s->points[i];
+            const char *label = p.run >= 0 ? s->runs[p.run] : s->file;
+            p.run = run_label(&runs, &n_runs, &runs_cap, label);
+            if (p.run < 0) {
+                free(pts);
+                arrank_list_free(runs, n_runs);
+                return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+            }
+            pts[at++] = p;
+        }
+    }
+    /* the points (and their reasons) now belong to dst alone */
+    size_t n_omitted = 0;
+    for (size_t k = 0; k < n; k++) {
+        n_omitted += group[k]->n_omitted;
+        if (k > 0) {
+            group[k]->n_points = 0;
+            ls->drop[group[k] - ls->c->samples] = 1;
+        }
+    }
+    free(dst->points);
+    dst->points = pts;
+    dst->n_points = total;
+    dst->n_omitted = n_omitted;
+    arrank_list_free(dst->runs, dst->n_runs);
+    dst->runs = runs;
+    dst->n_runs = n_runs;
+    char note[ARRANK_ERROR_MSG_MAX];
+    snprintf(note, sizeof note,
+             "sample '%s' is read from %zu files (%s), one run each unless a file has a run "
+             "column; the metadata are those of %s",
+             dst->id, n, files, dst->file);
+    size_t cap = dst->n_notes;
+    if (arrank_list_add(&dst->notes, &dst->n_notes, &cap, note) != 0 ||
+        campaign_note(ls, "%s", note) != 0)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+    if (!dst->rates_derived || dst->problem) { /* a problem of one file may not hold for all */
+        free(dst->problem);
+        dst->problem = NULL;
+        dst->problem_line = 0;
+        if (arrank_sample_fit_problem(dst) != 0)
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+    }
+    return ARRANK_OK;
+}
+
+/* Load step 8: files with one sample id merged (the index is sorted by id,
+   then file name), and the samples not kept removed, the rest in name order. */
+static arrank_status merge_and_compact(load_state *ls, arrank_error *err)
+{
+    arrank_campaign *c = ls->c;
+    for (size_t i = 0; !ls->opt.no_merge && i < ls->n_index;) {
+        size_t j = i + 1;
+        while (j < ls->n_index && strcmp(ls->index[j]->id, ls->index[i]->id) == 0)
+            j++;
+        if (j - i > 1) {
+            arrank_status st = ARRANK_OK;
+            size_t left = drop_copies(ls, ls->index + i, j - i, err, &st);
+            if (st == ARRANK_OK && left > 1)
+                st = merge_group(ls, ls->index + i, left, err);
+            if (st != ARRANK_OK)
+                return st;
+        }
+        i = j;
+    }
+    size_t kept = 0;
+    for (size_t i = 0; i < c->n_samples; i++) {
+        if (ls->drop[i]) {
+            arrank_sample_clear(&c->samples[i]);
+            continue;
+        }
+        if (c->samples[i].skipped) /* no data: the campaign's basis, so no basis check trips */
+            c->samples[i].basis = c->basis;
+        if (kept != i)
+            c->samples[kept] = c->samples[i];
+        kept++;
+    }
+    c->n_samples = kept;
     return ARRANK_OK;
 }
 
@@ -487,6 +798,15 @@ static arrank_status campaign_load_progress_in_c(const char *dir, arrank_units *
                                                  arrank_progress_fn progress, void *progress_ctx,
                                                  arrank_campaign **out, arrank_error *err)
 {
+    arrank_load_options strict = {1, 1};
+    return arrank_campaign_load_with(dir, units, &strict, progress, progress_ctx, out, err);
+}
+
+arrank_status arrank_campaign_load_with(const char *dir, arrank_units *units,
+                                        const arrank_load_options *opt,
+                                        arrank_progress_fn progress, void *progress_ctx,
+                                        arrank_campaign **out, arrank_error *err)
+{
     if (out)
         *out = NULL;
     if (!dir || !units || !out)
@@ -496,23 +816,31 @@ static arrank_status campaign_load_progress_in_c(const char *dir, arrank_units *
     ls.dir = dir;
     ls.units = units;
     ls.dirfd = -1;
+    if (opt)
+        ls.opt = *opt;
+    if (ls.opt.strict)
+        ls.opt.no_merge = 1;
     arrank_status st = open_folder(&ls, err);
     if (st == ARRANK_OK)
         st = new_campaign(&ls, err);
+    if (st == ARRANK_OK && !(ls.drop = calloc(ls.n_names, 1)))
+        st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+    size_t next = 0;
     if (st == ARRANK_OK)
-        st = read_first(&ls, err);
+        st = read_first(&ls, &next, err);
     if (st == ARRANK_OK) {
         /* Load step 4: the rest, on the workers. */
         if (progress)
-            progress(progress_ctx, "reading samples", 1, ls.n_names);
-        st = load_rest(dir, ls.dirfd, ls.names, ls.n_names, units, ls.c, progress, progress_ctx,
-                       err);
+            progress(progress_ctx, "reading samples", next, ls.n_names);
+        st = load_rest(&ls, next, progress, progress_ctx, err);
         ls.c->n_samples = ls.n_names; /* the rest are parsed or zeroed: both free cleanly */
     }
     if (st == ARRANK_OK)
         st = check_ids(&ls, err);
     if (st == ARRANK_OK)
         st = finish_samples(&ls, err);
+    if (st == ARRANK_OK)
+        st = merge_and_compact(&ls, err);
     load_free(&ls);
     if (st != ARRANK_OK) {
         arrank_campaign_free(ls.c);

@@ -171,6 +171,17 @@ static int on_ini_key(void *user, const char *section, const char *name, const c
         while (*id == ' ' || *id == '\t')
             id++;
         r = sample_key(st, section, id, name, value);
+    } else if (arrank_ascii_casecmp(name, "operating_temperature") == 0 ||
+               arrank_ascii_casecmp(name, "rate_unit") == 0 ||
+               arrank_ascii_casecmp(name, "confidence") == 0 ||
+               arrank_ascii_casecmp(name, "title") == 0) {
+        /* a campaign setting that would silently not apply: its line says where it goes */
+        st->status = arrank_error_at(st->err, ARRANK_EPARSE, st->path, st->line, 0,
+                                     "key '%s' %s%s%s applies only under [campaign]; put a "
+                                     "'[campaign]' line above it",
+                                     name, section[0] ? "in [" : "outside a section",
+                                     section[0] ? section : "", section[0] ? "]" : "");
+        return 0;
     } else {
         r = (section[0] ? ini_note(st, "key '%s' in unknown section [%s] ignored", name, section)
                         : ini_note(st, "key '%s' outside a section ignored", name)) != 0

@@ -27,6 +27,7 @@
  * (sample_derive.c).
  */
 #include "arrank/sample.h"
+#include "arrank/text.h"
 #include "number.h"
 #include "sample_internal.h"
 #include "sample_testing.h"
@@ -75,56 +76,6 @@ static int has_csv_extension(const char *name)
     return n > 4 && arrank_ascii_casecmp(name + n - 4, ".csv") == 0;
 }
 
-/* ------------------------------------------------------- run label lookup */
-
-/* Open-addressing table of run labels -> index in sample->runs, so a file
-   with many distinct labels is not searched quadratically. */
-typedef struct {
-    size_t *slots; /* index + 1; 0 = empty */
-    size_t cap;    /* power of two */
-} run_table;
-
-static size_t hash_text(const char *s)
-{
-    /* FNV-1a, 64-bit offset basis and prime (Fowler, Noll, Vo; public domain). */
-    uint64_t h = 1469598103934665603ULL;
-    for (; *s; s++) {
-        h ^= (unsigned char)*s;
-        h *= 1099511628211ULL;
-    }
-    return (size_t)h;
-}
-
-/* Index of label in sample->runs, adding it if new; -1 when out of memory. */
-static long run_index(run_table *t, arrank_sample *s, size_t *runs_cap, const char *label)
-{
-    if ((s->n_runs + 1) * 2 > t->cap) {
-        size_t ncap = t->cap ? t->cap * 2 : 16;
-        size_t *slots = calloc(ncap, sizeof *slots);
-        if (!slots)
-            return -1;
-        for (size_t i = 0; i < s->n_runs; i++) {
-            size_t h = hash_text(s->runs[i]) & (ncap - 1);
-            while (slots[h])
-                h = (h + 1) & (ncap - 1);
-            slots[h] = i + 1;
-        }
-        free(t->slots);
-        t->slots = slots;
-        t->cap = ncap;
-    }
-    size_t h = hash_text(label) & (t->cap - 1);
-    while (t->slots[h]) {
-        if (strcmp(s->runs[t->slots[h] - 1], label) == 0)
-            return (long)(t->slots[h] - 1);
-        h = (h + 1) & (t->cap - 1);
-    }
-    if (arrank_list_add(&s->runs, &s->n_runs, runs_cap, label) != 0)
-        return -1;
-    t->slots[h] = s->n_runs;
-    return (long)(s->n_runs - 1);
-}
-
 /* ------------------------------------------------------------ sample file */
 
 typedef enum {
@@ -141,16 +92,25 @@ static const struct {
     const char *name;
     column_kind kind;
 } column_names[] = {
-    {"t", COL_TEMP},          {"temperature", COL_TEMP}, {"rate", COL_RATE},
-    {"r", COL_RATE},          {"rate_sd", COL_RATE_SD},  {"run", COL_RUN},
-    {"time_on_stream", COL_TIME}, {"conversion", COL_CONVERSION},
+    {"t", COL_TEMP},          {"temp", COL_TEMP},         {"temperature", COL_TEMP},
+    {"t_bed", COL_TEMP},      {"rate", COL_RATE},         {"r", COL_RATE},
+    {"tof", COL_RATE},        {"rate_sd", COL_RATE_SD},   {"sd", COL_RATE_SD},
+    {"run", COL_RUN},         {"time_on_stream", COL_TIME}, {"conversion", COL_CONVERSION},
+    {"x", COL_CONVERSION},
 };
+
+/* The accepted header forms, for messages. */
+#define HEADER_FORMS "'T [degC]', 'Temperature (°C)' or 'T / K'"
+#define TEMP_NAMES "T, Temp, temperature, T_bed"
+#define RATE_NAMES "rate, r, TOF"
+
 
 typedef struct {
     column_kind kind;
     char *name; /* as written */
     char *unit; /* as written, NULL if none */
     arrank_conversion conv;
+    int relative; /* rate_sd [%]: a percentage of the rate */
 } data_column;
 
 typedef struct {
@@ -173,11 +133,16 @@ typedef struct {
     arrank_point point;
     char rate_text[64];
     arrank_conversion derived_conv; /* mol/(kg*s) to the report unit, derived rates only */
+    int lenient;          /* arrank_read_options.strict == 0 */
+    int row_has_text;     /* a cell of the row holds more than blanks */
+    double sd_rel;        /* rate_sd [%] of the row as a fraction; NAN if none */
+    char omit_reason[256]; /* why the row's point is left out; "" if usable */
+    long omit_column;
     /* storage */
     char *cell;
     size_t cell_cap;
     size_t points_cap, meta_cap, notes_cap, runs_cap;
-    run_table runs;
+    arrank_run_table runs;
 } parser;
 
 static arrank_status fail(parser *p, arrank_status st, long colno, const char *fmt, ...)
@@ -205,6 +170,27 @@ static arrank_status nomem(parser *p)
     return fail(p, ARRANK_ENOMEM, 0, "out of memory");
 }
 
+static void omit(parser *p, long colno, const char *fmt, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 3, 4)))
+#endif
+    ;
+
+/* A cell that leaves its point out (lenient reading): the row's first reason
+   is kept; the point is stored with it at the end of the row (on_row). */
+static void omit(parser *p, long colno, const char *fmt, ...)
+{
+    if (p->omit_reason[0])
+        return;
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(p->omit_reason, sizeof p->omit_reason, fmt, ap);
+    va_end(ap);
+    if (!p->omit_reason[0])
+        snprintf(p->omit_reason, sizeof p->omit_reason, "left out");
+    p->omit_column = colno;
+}
+
 /* Split a header field "name [unit]" and record the column. */
 static void header_field(parser *p, char *text)
 {
@@ -216,29 +202,13 @@ static void header_field(parser *p, char *text)
     }
     char *s = trim(text);
     char *unit = NULL;
-    char *open = strchr(s, '[');
-    if (open) {
-        char *close = strchr(open + 1, ']');
-        if (!close) {
-            fail(p, ARRANK_EPARSE, colno, "unclosed '[' in header field '%s'", s);
-            return;
-        }
-        char *after = close + 1;
-        while (is_blank(*after))
-            after++;
-        if (*after) {
-            fail(p, ARRANK_EPARSE, colno,
-                 "text after ']' in header field '%s'; write it as 'name [unit]'", s);
-            return;
-        }
-        *open = '\0';
-        *close = '\0';
-        unit = trim(open + 1);
-        if (*unit == '\0')
-            unit = NULL;
-        s = trim(s);
+    arrank_status st = ARRANK_OK;
+    char msg[ARRANK_ERROR_MSG_MAX];
+    if (arrank_sample_split_header(s, &s, &unit, &st, msg, sizeof msg) != 0) {
+        fail(p, st, colno, "%s", msg);
+        return;
     }
-    data_column c = {COL_IGNORED, NULL, NULL, {1.0, 0.0}};
+    data_column c = {COL_IGNORED, NULL, NULL, {1.0, 0.0}, 0};
     for (size_t k = 0; k < sizeof column_names / sizeof column_names[0]; k++)
         if (arrank_ascii_casecmp(s, column_names[k].name) == 0)
             c.kind = column_names[k].kind;
@@ -303,19 +273,43 @@ static void unit_fail(parser *p, size_t idx, const arrank_error *uerr)
          p->cols[idx].name, msg + head);
 }
 
+/* "'a', 'b', 'c'" for the column names of the header, cut to n bytes. */
+static void found_columns(const parser *p, char *out, size_t n)
+{
+    size_t o = 0;
+    out[0] = '\0';
+    for (size_t i = 0; i < p->n_cols && o + 8 < n; i++) {
+        int w = snprintf(out + o, n - o, "%s'%.40s'", i ? ", " : "", p->cols[i].name);
+        if (w < 0 || (size_t)w >= n - o) {
+            snprintf(out + o, n - o, ", ...");
+            break;
+        }
+        o += (size_t)w;
+    }
+    if (p->n_cols == 0)
+        snprintf(out, n, "no column names");
+}
+
 /* Header step 1: the required columns; without a rate column the rates will
    be derived from conversion. */
 static void header_required(parser *p)
 {
     arrank_sample *s = p->sample;
     if (!p->col_of[COL_TEMP]) {
-        fail(p, ARRANK_EPARSE, 0, "no temperature column; the header needs e.g. 'T [degC]'");
+        char found[160];
+        found_columns(p, found, sizeof found);
+        fail(p, ARRANK_EPARSE, 0,
+             "no temperature column (found %s); the header needs one named " TEMP_NAMES
+             " with its unit, as " HEADER_FORMS, found);
         return;
     }
     if (!p->col_of[COL_RATE] && !p->col_of[COL_CONVERSION]) {
+        char found[160];
+        found_columns(p, found, sizeof found);
         fail(p, ARRANK_EPARSE, 0,
-             "no rate column; the header needs e.g. 'rate [umol/(g*s)]' (or a 'conversion' "
-             "column with feed metadata, to derive the rates)");
+             "no rate column (found %s); the header needs one named " RATE_NAMES
+             " with its unit, as 'rate [umol/(g*s)]' (or a 'conversion' column with feed "
+             "metadata, to derive the rates)", found);
         return;
     }
     if (p->col_of[COL_RATE])
@@ -408,7 +402,16 @@ static void header_optional_columns(parser *p)
     const char *rate_unit = p->report_unit ? p->report_unit : p->sample->rate_unit_file;
     for (size_t i = 0; i < p->n_cols && p->status == ARRANK_OK; i++) {
         data_column *c = &p->cols[i];
-        if (c->kind == COL_RATE_SD) {
+        if (c->kind == COL_RATE_SD && c->unit && strcmp(c->unit, "%") == 0) {
+            /* a relative standard deviation, percent of the rate (common on GC data) */
+            if (p->sample->rates_derived)
+                fail(p, ARRANK_EUNIT, (long)i + 1,
+                     "a relative '%s [%%]' needs a rate column; rates derived from conversion "
+                     "take an sd in a rate unit", c->name);
+            c->relative = 1;
+            c->conv.scale = 0.01;
+            c->conv.offset = 0.0;
+        } else if (c->kind == COL_RATE_SD) {
             const char *u = required_unit(p, i, rate_unit);
             if (u && arrank_units_conversion(p->units, u, rate_unit, &c->conv, &uerr) !=
                          ARRANK_OK)
@@ -449,7 +452,13 @@ static void start_point(parser *p)
     p->point.time_on_stream_s = NAN;
     p->point.run = -1;
     p->point.line = p->line;
+    p->point.omitted = NULL;
+    p->point.omitted_column = 0;
     p->rate_text[0] = '\0';
+    p->row_has_text = 0;
+    p->sd_rel = NAN;
+    p->omit_reason[0] = '\0';
+    p->omit_column = 0;
 }
 
 /* Cell step 1: the run label of a run column. */
@@ -458,7 +467,7 @@ static void run_cell(parser *p, char *text)
     char *label = trim(text);
     if (!*label)
         return;
-    long r = run_index(&p->runs, p->sample, &p->runs_cap, label);
+    long r = arrank_sample_run_index(&p->runs, p->sample, &p->runs_cap, label);
     if (r < 0) {
         nomem(p);
         return;
@@ -487,11 +496,30 @@ static int cell_number(parser *p, const data_column *c, long colno, char *cell, 
     }
     copy_cut(shown, SHOWN_MAX, cell);
     int bad = arrank_decimal_cell(cell, p->delim, v);
+    int needed = c->kind == COL_TEMP || c->kind == COL_RATE ||
+                 (c->kind == COL_CONVERSION && p->sample->rates_derived);
     if (bad == 1 && shown[0] == '\0') {
-        if (c->kind == COL_TEMP || c->kind == COL_RATE ||
-            (c->kind == COL_CONVERSION && p->sample->rates_derived))
+        if (needed && p->lenient)
+            omit(p, colno, "no value in column '%s'", c->name);
+        else if (needed)
             fail(p, ARRANK_EPARSE, colno, "empty cell in column '%s'", c->name);
         return 0; /* optional quantity not given */
+    }
+    if (bad && p->lenient) {
+        int kind = arrank_sample_missing_kind(shown);
+        if (kind && !needed)
+            return 0; /* an optional quantity not given */
+        if (kind == 1)
+            omit(p, colno, "no value ('%s') in column '%s'", shown, c->name);
+        else if (kind == 2)
+            omit(p, colno, "below detection limit: %s in column '%s'", shown, c->name);
+        else if (bad == 2)
+            omit(p, colno, "'%s' is not a finite number in column '%s'", shown, c->name);
+        else if (bad == 3)
+            omit(p, colno, "'%s' is out of range in column '%s'", shown, c->name);
+        else
+            omit(p, colno, "'%s' is not a number in column '%s'", shown, c->name);
+        return 0;
     }
     if (bad == 1)
         fail(p, ARRANK_EPARSE, colno, "'%s' is not a number in column '%s'", shown, c->name);
@@ -526,8 +554,22 @@ static void store_value(parser *p, const data_column *c, long colno, double conv
                         const char *shown)
 {
     if (!isfinite(conv)) { /* e.g. 1e306 mol/(kg*s) is 1e309 umol/(g*s): past double */
-        fail(p, ARRANK_EPARSE, colno, "'%s' is out of range in column '%s' once converted",
-             shown, c->name);
+        if (p->lenient)
+            omit(p, colno, "'%s' is out of range in column '%s' once converted", shown, c->name);
+        else
+            fail(p, ARRANK_EPARSE, colno, "'%s' is out of range in column '%s' once converted",
+                 shown, c->name);
+        return;
+    }
+    if (p->lenient && !value_ok(c->kind, conv) && c->kind != COL_RATE) {
+        if (c->kind == COL_TEMP)
+            omit(p, colno, "temperature '%s %s' is at or below absolute zero (0 K)", shown,
+                 c->unit);
+        else if (c->kind == COL_RATE_SD)
+            omit(p, colno, "'%s' in column '%s' is negative", shown, c->name);
+        else if (c->kind == COL_CONVERSION)
+            omit(p, colno, "conversion '%s' is outside 0..1; a percentage needs '%s [%%]'", shown,
+                 c->name);
         return;
     }
     switch (c->kind) {
@@ -545,7 +587,10 @@ static void store_value(parser *p, const data_column *c, long colno, double conv
     case COL_RATE_SD:
         if (conv < 0.0)
             fail(p, ARRANK_EPARSE, colno, "'%s' in column '%s' is negative", shown, c->name);
-        p->point.rate_sd = conv;
+        if (c->relative)
+            p->sd_rel = conv; /* times the rate at the end of the row */
+        else
+            p->point.rate_sd = conv;
         break;
     case COL_TIME:
         p->point.time_on_stream_s = conv;
@@ -579,12 +624,14 @@ static void data_field(parser *p, char *text)
     long colno = (long)idx + 1;
     if (c->kind == COL_IGNORED)
         return;
+    char *cell = trim(text);
+    if (*cell)
+        p->row_has_text = 1;
     if (c->kind == COL_RUN) {
-        run_cell(p, text);
+        run_cell(p, cell);
         return;
     }
     char shown[SHOWN_MAX]; /* the cell as written, cut to fit, for messages */
-    char *cell = trim(text);
     double v = NAN;
     if (!cell_number(p, c, colno, cell, shown, &v))
         return;
@@ -633,6 +680,8 @@ static void on_row(int c, void *user)
     }
     if (p->row_is_comment)
         return;
+    if (p->lenient && !p->row_has_text)
+        return; /* delimiters and blanks only: what spreadsheets leave at the end */
     if (n != p->n_cols) {
         long colno = (long)(n < p->n_cols ? n : p->n_cols) + 1;
         fail(p, ARRANK_EPARSE, colno, "row has %zu fields but the header has %zu%s", n, p->n_cols,
@@ -650,8 +699,21 @@ static void on_row(int c, void *user)
         nomem(p);
         return;
     }
+    if (isfinite(p->sd_rel))
+        p->point.rate_sd = p->sd_rel * p->point.rate;
+    if (p->lenient && !p->omit_reason[0] && !s->rates_derived && !(p->point.rate > 0.0))
+        omit(p, (long)p->col_of[COL_RATE],
+             "rate %s is not positive; a logarithm needs a positive rate", p->rate_text);
+    if (p->omit_reason[0]) {
+        if (!(p->point.omitted = strdup(p->omit_reason))) {
+            nomem(p);
+            return;
+        }
+        p->point.omitted_column = (int)p->omit_column;
+        s->n_omitted++;
+    }
     s->points[s->n_points++] = p->point;
-    if (!s->rates_derived && !(p->point.rate > 0.0) && !s->problem) {
+    if (!s->rates_derived && !(p->point.rate > 0.0) && !s->problem && !p->point.omitted) {
         char msg[256];
         snprintf(msg, sizeof msg,
                  "rate %s at line %ld is not positive; a logarithm needs a positive rate",
@@ -824,6 +886,8 @@ void arrank_sample_clear(arrank_sample *sample)
     free(sample->path);
     free(sample->file);
     free(sample->rate_unit_file);
+    for (size_t i = 0; i < sample->n_points; i++)
+        free(sample->points[i].omitted);
     free(sample->points);
     arrank_list_free(sample->runs, sample->n_runs);
     for (size_t i = 0; i < sample->n_meta; i++) {
@@ -842,20 +906,29 @@ int arrank_sample_fit_problem(arrank_sample *s)
     if (s->problem)
         return 0;
     char msg[256];
-    if (s->n_points < 3) {
+    size_t n = 0, first = 0; /* usable points; the first of them */
+    for (size_t i = s->n_points; i-- > 0;)
+        if (!s->points[i].omitted) {
+            n++;
+            first = i;
+        }
+    char left[64] = "";
+    if (n < s->n_points)
+        snprintf(left, sizeof left, " (%zu left out)", s->n_points - n);
+    if (n < 3) {
         snprintf(msg, sizeof msg,
-                 "only %zu data point%s; a fit with uncertainties needs at least 3",
-                 s->n_points, s->n_points == 1 ? "" : "s");
+                 "only %zu %sdata point%s%s; a fit with uncertainties needs at least 3", n,
+                 n < s->n_points ? "usable " : "", n == 1 ? "" : "s", left);
     } else {
-        for (size_t i = 1; i < s->n_points; i++)
-            if (s->points[i].temp_K != s->points[0].temp_K)
+        for (size_t i = first + 1; i < s->n_points; i++)
+            if (!s->points[i].omitted && s->points[i].temp_K != s->points[first].temp_K)
                 return 0;
         char temp[48];
-        arrank_format_fixed(temp, sizeof temp, 2, s->points[0].temp_K); /* %.2f, any locale */
+        arrank_format_fixed(temp, sizeof temp, 2, s->points[first].temp_K); /* %.2f, any locale */
         snprintf(msg, sizeof msg,
-                 "all %zu points are at one temperature (%s K); an activation energy "
+                 "all %zu %spoints are at one temperature (%s K)%s; an activation energy "
                  "needs at least two",
-                 s->n_points, temp);
+                 n, n < s->n_points ? "usable " : "", temp, left);
     }
     s->problem = strdup(msg);
     s->problem_line = 0;
@@ -877,6 +950,15 @@ static arrank_status sample_ids(parser *p)
             }
         return fail(p, ARRANK_EPARSE, 0, "empty sample id; write '# sample = NAME' or leave "
                                          "the line out to use the file name");
+    }
+    if (meta_id && !arrank_text_is_clean(meta_id)) {
+        for (size_t i = s->n_meta; i-- > 0;)
+            if (arrank_ascii_casecmp(s->meta[i].key, "sample") == 0) {
+                p->line = s->meta[i].line;
+                break;
+            }
+        return fail(p, ARRANK_EPARSE, 0, "the sample id is not valid UTF-8 text (or holds a "
+                                         "control character); save the file as UTF-8");
     }
     if (meta_id) {
         s->id = strdup(meta_id);
@@ -939,7 +1021,7 @@ static arrank_status read_preamble(parser *p, const char *data, size_t len, cons
         s += n + term;
     }
     if (!*header) {
-        p->line = 0;
+        p->line = s == data || p->sample->n_meta == 0 ? 1 : 0;
         return fail(p, ARRANK_EPARSE, 0,
                     "%s; a sample file needs a header such as 'T [degC], rate [umol/(g*s)]' "
                     "and data rows",
@@ -948,6 +1030,8 @@ static arrank_status read_preamble(parser *p, const char *data, size_t len, cons
     }
     p->header_line = p->line;
     p->delim = detect_delimiter(*header, *hlen);
+    if (p->delim != ',')
+        arrank_sample_decimal_commas(p->sample);
     return ARRANK_OK;
 }
 
@@ -1042,7 +1126,8 @@ static arrank_status parse_sample(parser *p, const char *data, size_t len)
 
 static arrank_status sample_parse(const char *name, const char *data, size_t len,
                                   arrank_units *units, const char *report_unit,
-                                  arrank_sample *sample, int defer_derived, arrank_error *err)
+                                  const arrank_read_options *opt, arrank_sample *sample,
+                                  int defer_derived, arrank_error *err)
 {
     if (!name || (!data && len) || !units || !sample)
         return arrank_errorf(err, ARRANK_EINVAL, "missing argument to arrank_sample_parse");
@@ -1054,13 +1139,16 @@ static arrank_status sample_parse(const char *name, const char *data, size_t len
     p.report_unit = report_unit;
     p.sample = sample;
     p.err = err;
+    p.lenient = opt && !opt->strict;
     arrank_status st = parse_sample(&p, data ? data : "", len);
-    if (st == ARRANK_OK)
+    if (st == ARRANK_OK) {
+        sample->header_line = p.header_line;
         st = sample_ids(&p);
+    }
     if (st == ARRANK_OK && sample->rates_derived && !defer_derived) {
         arrank_conversion identity = {1.0, 0.0};
         st = arrank_sample_derive_with(sample, units, report_unit ? &p.derived_conv : &identity,
-                                       err);
+                                       !p.lenient, err);
     }
     parser_free(&p);
     if (st != ARRANK_OK)
@@ -1072,12 +1160,21 @@ arrank_status arrank_sample_parse(const char *name, const char *data, size_t len
                                   arrank_units *units, const char *report_unit,
                                   arrank_sample *sample, arrank_error *err)
 {
-    return sample_parse(name, data, len, units, report_unit, sample, 0, err);
+    return sample_parse(name, data, len, units, report_unit, NULL, sample, 0, err);
+}
+
+arrank_status arrank_sample_parse_with(const char *name, const char *data, size_t len,
+                                       arrank_units *units, const char *report_unit,
+                                       const arrank_read_options *opt, arrank_sample *sample,
+                                       arrank_error *err)
+{
+    return sample_parse(name, data, len, units, report_unit, opt, sample, 0, err);
 }
 
 arrank_status arrank_sample_parse_deferred(const char *name, const char *data, size_t len,
                                            arrank_units *units, const char *report_unit,
+                                           const arrank_read_options *opt,
                                            arrank_sample *sample, arrank_error *err)
 {
-    return sample_parse(name, data, len, units, report_unit, sample, 1, err);
+    return sample_parse(name, data, len, units, report_unit, opt, sample, 1, err);
 }

@@ -19,6 +19,15 @@
    (the value of ARRANK_R_J_MOL_K in arrank/fit.h, a higher layer). */
 #define GAS_CONSTANT_J_MOL_K 8.31446261815324
 
+/* The metadata entry of key that counts (the last), or NULL. */
+static const arrank_meta *meta_entry(const arrank_sample *s, const char *key)
+{
+    for (size_t i = s->n_meta; i-- > 0;)
+        if (arrank_ascii_casecmp(s->meta[i].key, key) == 0)
+            return &s->meta[i];
+    return NULL;
+}
+
 /* Metadata value, as a quantity converted to si_unit; 1 when present and valid,
    0 when absent, -1 (err filled) when present but not a quantity of that kind. */
 static int meta_quantity(arrank_sample *s, arrank_units *units, const char *key,
@@ -31,12 +40,7 @@ static int meta_quantity(arrank_sample *s, arrank_units *units, const char *key,
     arrank_error_clear(&qe);
     if (arrank_units_parse_quantity(units, text, si_unit, value, &qe) != ARRANK_OK ||
         !isfinite(*value)) {
-        const arrank_meta *m = NULL;
-        for (size_t i = s->n_meta; i-- > 0;)
-            if (arrank_ascii_casecmp(s->meta[i].key, key) == 0) {
-                m = &s->meta[i];
-                break;
-            }
+        const arrank_meta *m = meta_entry(s, key);
         arrank_error_at(err, ARRANK_EPARSE, m ? m->source : s->path, m ? m->line : 0, 0,
                         "%s '%s' is not a quantity in %s: %s", key, text, si_unit, qe.message);
         return -1;
@@ -62,16 +66,22 @@ static arrank_status feed_flow(arrank_sample *s, arrank_units *units, double *fl
     arrank_error_clear(&ignored);
     if (meta_quantity(s, units, "feed_flow", "m3/s", &vol, &ignored) != 1) {
         const char *text = arrank_sample_meta(s, "feed_flow");
-        return arrank_error_at(err, ARRANK_EUNIT, s->path, 0, 0,
+        const arrank_meta *m = meta_entry(s, "feed_flow");
+        return arrank_error_at(err, ARRANK_EUNIT, m ? m->source : s->path, m ? m->line : 0, 0,
                                "feed_flow '%s' is neither an amount nor a volume per time "
                                "(e.g. 2.5 umol/s or 50 mL/min)", text);
     }
     if (meta_quantity(s, units, "flow_reference_pressure", "Pa", &P_ref, err) < 0)
         return ARRANK_EPARSE;
     const char *tr = arrank_sample_meta(s, "flow_reference_temperature");
-    if (tr && arrank_units_parse_temperature(units, tr, &T_ref, err) != ARRANK_OK)
-        return arrank_error_at(err, ARRANK_EPARSE, s->path, 0, 0,
-                               "flow_reference_temperature '%s': %s", tr, err->message);
+    arrank_error te;
+    arrank_error_clear(&te);
+    if (tr && arrank_units_parse_temperature(units, tr, &T_ref, &te) != ARRANK_OK) {
+        /* the message of its own record: formatting err->message into itself overlaps */
+        const arrank_meta *m = meta_entry(s, "flow_reference_temperature");
+        return arrank_error_at(err, ARRANK_EPARSE, m ? m->source : s->path, m ? m->line : 0, 0,
+                               "flow_reference_temperature '%s': %s", tr, te.message);
+    }
     *flow = P_ref * vol / (GAS_CONSTANT_J_MOL_K * T_ref); /* ideal gas */
     return ARRANK_OK;
 }
@@ -105,18 +115,33 @@ static arrank_status feed_metadata(arrank_sample *s, arrank_units *units, feed *
         return ARRANK_EPARSE;
     if (gm == 0 && !missing)
         missing = "mass";
-    if (missing)
-        return arrank_error_at(err, ARRANK_EPARSE, s->path, 0, 0,
+    if (missing) /* at the header, whose 'conversion' column asks for it */
+        return arrank_error_at(err, ARRANK_EPARSE, s->path, s->header_line, 0,
                                "no rate column, so the rates are derived from 'conversion', "
                                "but metadata '%s' is missing; add e.g. '# feed_flow = 50 "
                                "mL/min', '# feed_fraction = 5 %%' and '# mass = 50 mg'",
                                missing);
+    /* a flow, fraction or mass of zero (or less) derives no rate: said at its line */
+    static const char *const keys[] = {"feed_flow", "feed_fraction", "mass", "catalyst_mass"};
+    const double values[] = {f->flow_mol_s, f->fraction, f->mass_kg, f->mass_kg};
+    for (size_t k = 0; k < sizeof keys / sizeof keys[0]; k++) {
+        const arrank_meta *m = meta_entry(s, keys[k]);
+        if (!m || (k == 2 && gm == 0) || (k == 3 && meta_entry(s, "mass")))
+            continue;
+        if (!(values[k] > 0.0) || (k == 1 && values[k] > 1.0))
+            return arrank_error_at(err, ARRANK_EPARSE, m->source, m->line, 0,
+                                   "%s '%s' %s; rates from conversion need a positive value",
+                                   m->key, m->value,
+                                   k == 1 && values[k] > 1.0 ? "is above 1 (100 %)"
+                                                             : "is not positive");
+    }
     const char *form = arrank_sample_meta(s, "rate_form");
     f->integral = 0;
     if (form && arrank_ascii_casecmp(form, "integral") == 0)
         f->integral = 1;
     else if (form && arrank_ascii_casecmp(form, "differential") != 0)
-        return arrank_error_at(err, ARRANK_EPARSE, s->path, 0, 0,
+        return arrank_error_at(err, ARRANK_EPARSE, meta_entry(s, "rate_form")->source,
+                               meta_entry(s, "rate_form")->line, 0,
                                "rate_form '%s' is not known; use differential or integral",
                                form);
     return ARRANK_OK;
@@ -168,7 +193,8 @@ static arrank_status derived_rates(const arrank_sample *s, const feed *f, double
  * the rates in the report unit, a problem for a rate of 0, the note.
  */
 arrank_status arrank_sample_derive_with(arrank_sample *s, arrank_units *units,
-                                        const arrank_conversion *to_report, arrank_error *err)
+                                        const arrank_conversion *to_report, int strict,
+                                        arrank_error *err)
 {
     feed f = {NAN, NAN, NAN, 0};
     arrank_status st = feed_metadata(s, units, &f, err);
@@ -181,6 +207,18 @@ arrank_status arrank_sample_derive_with(arrank_sample *s, arrank_units *units,
     for (size_t i = 0; st == ARRANK_OK && i < s->n_points; i++) {
         arrank_point *pt = &s->points[i];
         pt->rate = to_report->scale * rate[i] + to_report->offset;
+        if (pt->omitted)
+            continue;
+        if (!strict && !(pt->rate > 0.0)) {
+            char x[48], msg[256];
+            arrank_format_general(x, sizeof x, 6, pt->conversion); /* %g, in any locale */
+            snprintf(msg, sizeof msg,
+                     "conversion %s gives a rate of 0; a logarithm needs a positive rate", x);
+            if (!(pt->omitted = strdup(msg)))
+                st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+            s->n_omitted++;
+            continue;
+        }
         if (!(pt->rate > 0.0) && !s->problem) {
             char x[48], msg[256];
             arrank_format_general(x, sizeof x, 6, pt->conversion); /* %g, in any locale */
@@ -208,13 +246,13 @@ arrank_status arrank_sample_derive_with(arrank_sample *s, arrank_units *units,
 }
 
 arrank_status arrank_sample_derive_rates(arrank_sample *sample, arrank_units *units,
-                                         const char *report_unit, arrank_error *err)
+                                         const char *report_unit, int strict, arrank_error *err)
 {
     arrank_conversion conv = {1.0, 0.0};
     arrank_status st = ARRANK_OK;
     if (report_unit)
         st = arrank_units_conversion(units, ARRANK_SAMPLE_DERIVED_RATE_UNIT, report_unit, &conv,
                                      err);
-    return st == ARRANK_OK ? arrank_sample_derive_with(sample, units, &conv, err) : st;
+    return st == ARRANK_OK ? arrank_sample_derive_with(sample, units, &conv, strict, err) : st;
 }
 

@@ -59,6 +59,35 @@ struct arrank_units {
     arrank_error load_err;
 };
 
+/*
+ * Words rigs and spreadsheets write for units that udunits2 spells otherwise
+ * (README "Units"): a whole word (letters and '_', between other characters)
+ * is replaced, and only these.  "gcat" is grams of catalyst: the rate is per
+ * mass of catalyst either way.
+ */
+static const struct {
+    const char *from;
+    const char *to;
+} aliases[] = {
+    {"gcat", "g"},   {"g_cat", "g"}, {"kgcat", "kg"}, {"kg_cat", "kg"}, {"mgcat", "mg"},
+    {"mg_cat", "mg"}, {"hr", "h"},   {"hrs", "h"},    {"sec", "s"},     {"secs", "s"},
+    {"mins", "min"},
+};
+
+static int is_word_char(char c)
+{
+    return (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z') || c == '_';
+}
+
+/* The alias of the word of n bytes at w, or NULL. */
+static const char *alias_of(const char *w, size_t n)
+{
+    for (size_t k = 0; k < sizeof aliases / sizeof aliases[0]; k++)
+        if (strlen(aliases[k].from) == n && memcmp(aliases[k].from, w, n) == 0)
+            return aliases[k].to;
+    return NULL;
+}
+
 /* UTF-8 spellings replaced before udunits sees the text. */
 static const struct {
     const char *from;
@@ -107,6 +136,21 @@ static int normalise(const char *text, int temperature, char *out)
         len--;
     size_t o = 0;
     for (size_t i = 0; i < len;) {
+        if (is_word_char(text[i]) && (i == 0 || !is_word_char(text[i - 1]))) {
+            size_t n = 1;
+            while (i + n < len && is_word_char(text[i + n]))
+                n++;
+            const char *rep = alias_of(text + i, n);
+            if (rep) {
+                size_t add = strlen(rep);
+                if (o + add >= UNIT_TEXT_MAX)
+                    return -1;
+                memcpy(out + o, rep, add);
+                o += add;
+                i += n;
+                continue;
+            }
+        }
         /* Every spelling replaced starts with a non-ASCII byte: plain ASCII is copied. */
         if ((unsigned char)text[i] < 0x80) {
             if (o + 1 >= UNIT_TEXT_MAX)

@@ -57,8 +57,15 @@ static inline const char *fuzz_check_sample(const arrank_sample *s)
         return "sample without id, path, file or rate unit";
     if (s->n_points == 0 || !s->points)
         return "sample loaded with no points";
+    size_t n_omitted = 0;
     for (size_t i = 0; i < s->n_points; i++) {
         const arrank_point *p = &s->points[i];
+        if (p->omitted) { /* left out by the lenient reader: a reason and a line */
+            n_omitted++;
+            if (!p->omitted[0] || p->line < 1 || p->omitted_column < 0)
+                return "point left out without a reason, line or column";
+            continue;
+        }
         if (!(p->temp_K > 0.0) || !isfinite(p->temp_K))
             return "point with a temperature at or below 0 K or not finite";
         if (!isfinite(p->rate))
@@ -72,6 +79,8 @@ static inline const char *fuzz_check_sample(const arrank_sample *s)
         if (p->line < 1)
             return "point without a line number";
     }
+    if (n_omitted != s->n_omitted)
+        return "n_omitted differs from the points left out";
     for (size_t i = 0; i < s->n_meta; i++)
         if (!s->meta[i].key || !s->meta[i].value || !s->meta[i].source)
             return "metadata entry with a missing part";
@@ -90,17 +99,20 @@ static inline const char *fuzz_fit_sample(const arrank_sample *s)
     if (!T || !r || !sd)
         goto done;
     int all_sd = 1;
+    size_t n = 0;
     for (size_t i = 0; i < s->n_points; i++) {
-        T[i] = s->points[i].temp_K;
-        r[i] = s->points[i].rate;
-        sd[i] = s->points[i].rate_sd;
-        if (isnan(sd[i]))
+        if (s->points[i].omitted)
+            continue;
+        T[n] = s->points[i].temp_K;
+        r[n] = s->points[i].rate;
+        sd[n] = s->points[i].rate_sd;
+        if (isnan(sd[n++]))
             all_sd = 0;
     }
     arrank_arrhenius fit;
     arrank_error err;
     arrank_error_clear(&err);
-    arrank_status st = arrank_fit_arrhenius(T, r, all_sd ? sd : NULL, s->n_points, &fit, &err);
+    arrank_status st = arrank_fit_arrhenius(T, r, all_sd ? sd : NULL, n, &fit, &err);
     if (st != ARRANK_OK) {
         why = fuzz_check_error(st, &err);
         goto done;
@@ -119,10 +131,16 @@ done:
     return why;
 }
 
+static inline const char *fuzz_sample_lenient(arrank_units *units, const uint8_t *data,
+                                              size_t size);
+
 /* A sample file, whole: read it, then read it again into another report unit, then fit it. */
 static inline const char *fuzz_sample_one(arrank_units *units,
                                        const uint8_t *data, size_t size)
 {
+    const char *lenient_why = fuzz_sample_lenient(units, data, size);
+    if (lenient_why)
+        return lenient_why;
     arrank_sample s;
     arrank_error err;
     arrank_error_clear(&err);
@@ -144,6 +162,38 @@ static inline const char *fuzz_sample_one(arrank_units *units,
         return fuzz_check_error(st, &err);
     why = fuzz_check_sample(&s);
     arrank_sample_clear(&s);
+    return why;
+}
+
+/* The lenient reader (what the program does by default): its own rules, and a
+   file the strict reader reads is read with the same points. */
+static inline const char *fuzz_sample_lenient(arrank_units *units, const uint8_t *data,
+                                              size_t size)
+{
+    arrank_read_options lenient = {0};
+    arrank_sample s, strict;
+    arrank_error err, serr;
+    arrank_error_clear(&err);
+    arrank_error_clear(&serr);
+    arrank_status st = arrank_sample_parse_with("fuzz.csv", (const char *)data, size, units, NULL,
+                                                &lenient, &s, &err);
+    arrank_status sst = arrank_sample_parse("fuzz.csv", (const char *)data, size, units, NULL,
+                                            &strict, &serr);
+    const char *why = NULL;
+    if (st != ARRANK_OK)
+        why = sst == ARRANK_OK ? "read strictly but refused by the lenient reader"
+                               : fuzz_check_error(st, &err);
+    else {
+        why = fuzz_check_sample(&s);
+        if (!why)
+            why = fuzz_fit_sample(&s);
+        if (!why && sst == ARRANK_OK && strict.n_points != s.n_points)
+            why = "the lenient reader found other points than the strict one";
+    }
+    if (st == ARRANK_OK)
+        arrank_sample_clear(&s);
+    if (sst == ARRANK_OK)
+        arrank_sample_clear(&strict);
     return why;
 }
 
@@ -185,6 +235,20 @@ static inline const char *fuzz_header_one(arrank_units *units,
         arrank_error_clear(&err);
         st = arrank_units_conversion(units, text, to, &c, &err);
         why = st == ARRANK_OK ? fuzz_check_conversion(&c) : fuzz_check_error(st, &err);
+    }
+    /* The first line as a header field (forms 'T [u]', 'T (u)', 'T / u' and the
+       names): beside a rate column, then as the rate column beside a temperature. */
+    static const char *const rows[][2] = {{"", ",rate [1/s]\n500,1\n510,2\n520,4\n"},
+                                          {"T [K],", "\n500,1\n510,2\n520,4\n"}};
+    size_t line = strlen(text);
+    for (size_t k = 0; !why && line < FUZZ_TEXT_MAX && k < 2; k++) {
+        size_t n = strlen(rows[k][0]) + line + strlen(rows[k][1]);
+        char *file = malloc(n + 1);
+        if (!file)
+            break;
+        snprintf(file, n + 1, "%s%s%s", rows[k][0], text, rows[k][1]);
+        why = fuzz_sample_lenient(units, (const uint8_t *)file, n);
+        free(file);
     }
     free(text);
     return why;
