@@ -154,6 +154,47 @@ arrank_status arrank_fit_arrhenius_absolute(const double *temp_K, const double *
     return ARRANK_OK;
 }
 
+/* Step 4 of arrank_model_fit_run: E, ln A, n and their errors, the apparent
+   Ea, and for the transition-state form dH and dS, from out's b0, n_T, b1
+   and their covariance. */
+static void model_derived(arrank_model_fit *out, int eyring, double T_ref, double rate_to_per_s)
+{
+    const double R = ARRANK_R_J_MOL_K, u = 1.0 / T_ref;
+    const double c00 = out->cov[0][0], c02 = out->cov[0][2], c22 = out->cov[2][2];
+    out->E_J_mol = -R * out->b1;
+    out->E_se_J_mol = R * sqrt(c22 > 0 ? c22 : 0);
+    /* At T = T_ref the (T/T_ref)^n factor is 1, so ln A = b0 + E/(R T_ref) = b0 - b1/T_ref. */
+    out->ln_A = out->b0 - out->b1 * u;
+    const double var_lnA = c00 + u * u * c22 - 2.0 * u * c02;
+    out->ln_A_se = sqrt(var_lnA > 0 ? var_lnA : 0);
+    out->n_T_se = eyring ? 0.0 : sqrt(out->cov[1][1] > 0 ? out->cov[1][1] : 0);
+    if (eyring) {
+        out->corr_E_n = NAN;
+    } else {
+        /* corr(E, n) = corr(-R b1, n) = -corr(b1, n) */
+        const double d = sqrt(out->cov[1][1] * c22);
+        out->corr_E_n = d > 0 ? -out->cov[1][2] / d : NAN;
+        out->collinear = fabs(out->corr_E_n) > ARRANK_COLLINEAR_CORR;
+    }
+    /* IUPAC Gold Book: Ea = R T^2 d ln k/dT = E + n R T. */
+    out->ea_app_J_mol = out->E_J_mol + out->n_T * R * T_ref;
+    if (eyring) {
+        /*
+         * ln(r_si / T) = ln(k_B/h) + dS/R - dH/(R T) (transition-state form,
+         * kappa = 1), compared term by term with
+         * ln r_si = ln c + b0 + ln(T/T_ref) + b1 (1/T - 1/T_ref).
+         */
+        out->dH_J_mol = out->E_J_mol;
+        out->dH_se_J_mol = out->E_se_J_mol;
+        out->dS_J_mol_K = R * (out->b0 + log(rate_to_per_s) - log(T_ref) - out->b1 * u -
+                               log(ARRANK_KB_J_K / ARRANK_H_J_S));
+        out->dS_se_J_mol_K = R * out->ln_A_se;
+    } else {
+        out->dH_J_mol = out->dH_se_J_mol = NAN;
+        out->dS_J_mol_K = out->dS_se_J_mol_K = NAN;
+    }
+}
+
 arrank_status arrank_model_fit_run(int eyring, int absolute, const double *temp_K,
                                    const double *rate, const double *rate_sd, size_t n,
                                    double rate_to_per_s, arrank_model_fit *out,
@@ -249,40 +290,7 @@ arrank_status arrank_model_fit_run(int eyring, int absolute, const double *temp_
     out->n_T = eyring ? 1.0 : b[1];
     out->b1 = eyring ? b[1] : b[2];
 
-    const double R = ARRANK_R_J_MOL_K, u = 1.0 / T_ref;
-    const double c00 = out->cov[0][0], c02 = out->cov[0][2], c22 = out->cov[2][2];
-    out->E_J_mol = -R * out->b1;
-    out->E_se_J_mol = R * sqrt(c22 > 0 ? c22 : 0);
-    /* At T = T_ref the (T/T_ref)^n factor is 1, so ln A = b0 + E/(R T_ref) = b0 - b1/T_ref. */
-    out->ln_A = out->b0 - out->b1 * u;
-    const double var_lnA = c00 + u * u * c22 - 2.0 * u * c02;
-    out->ln_A_se = sqrt(var_lnA > 0 ? var_lnA : 0);
-    out->n_T_se = eyring ? 0.0 : sqrt(out->cov[1][1] > 0 ? out->cov[1][1] : 0);
-    if (eyring) {
-        out->corr_E_n = NAN;
-    } else {
-        /* corr(E, n) = corr(-R b1, n) = -corr(b1, n) */
-        const double d = sqrt(out->cov[1][1] * c22);
-        out->corr_E_n = d > 0 ? -out->cov[1][2] / d : NAN;
-        out->collinear = fabs(out->corr_E_n) > ARRANK_COLLINEAR_CORR;
-    }
-    /* IUPAC Gold Book: Ea = R T^2 d ln k/dT = E + n R T. */
-    out->ea_app_J_mol = out->E_J_mol + out->n_T * R * T_ref;
-    if (eyring) {
-        /*
-         * ln(r_si / T) = ln(k_B/h) + dS/R - dH/(R T) (transition-state form,
-         * kappa = 1), compared term by term with
-         * ln r_si = ln c + b0 + ln(T/T_ref) + b1 (1/T - 1/T_ref).
-         */
-        out->dH_J_mol = out->E_J_mol;
-        out->dH_se_J_mol = out->E_se_J_mol;
-        out->dS_J_mol_K = R * (out->b0 + log(rate_to_per_s) - log(T_ref) - out->b1 * u -
-                               log(ARRANK_KB_J_K / ARRANK_H_J_S));
-        out->dS_se_J_mol_K = R * out->ln_A_se;
-    } else {
-        out->dH_J_mol = out->dH_se_J_mol = NAN;
-        out->dS_J_mol_K = out->dS_se_J_mol_K = NAN;
-    }
+    model_derived(out, eyring, T_ref, rate_to_per_s);
     return ARRANK_OK;
 }
 
