@@ -55,6 +55,9 @@ typedef struct {
 typedef struct {
     char *id;             /* sample id: metadata "sample", else the file stem */
     char *path;           /* path of the CSV as opened */
+    /* device and inode of the CSV as read (0 when it could not be opened):
+       how a caller knows never to write over an input (the CLI does) */
+    unsigned long long file_dev, file_ino;
     char *file;           /* base name of the CSV */
     arrank_basis basis;   /* from the rate unit's dimension */
     char *rate_unit_file; /* rate unit as written in the file's header */

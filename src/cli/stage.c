@@ -187,14 +187,16 @@ static int is_within(const char *real, const char *inside)
     return strncmp(real, inside, n) == 0 && (real[n] == '\0' || real[n] == '/');
 }
 
-/* 1 when the file at path is the same file as an input of the campaign. */
+/* 1 when the file out is the same file as an input of the campaign: the
+   device and inode the reader saw for each sample file (no system call per
+   sample, however many there are). */
 static int same_as_input(const struct stat *out)
 {
     const arrank_campaign *c = stage.campaign;
-    struct stat st;
     for (size_t i = 0; c && i < c->n_samples; i++)
-        if (stat(c->samples[i].path, &st) == 0 && st.st_dev == out->st_dev &&
-            st.st_ino == out->st_ino)
+        if (c->samples[i].file_ino != 0 &&
+            c->samples[i].file_dev == (unsigned long long)out->st_dev &&
+            c->samples[i].file_ino == (unsigned long long)out->st_ino)
             return 1;
     return 0;
 }

@@ -41,7 +41,7 @@ static int has_csv_extension(const char *name)
  * the open; it is refused just after.
  */
 static arrank_status read_file(int dirfd, const char *name, const char *path, char **buf,
-                               size_t *cap, size_t *len, arrank_error *err)
+                               size_t *cap, size_t *len, struct stat *st_out, arrank_error *err)
 {
     char os[256];
     int fd = openat(dirfd, name, O_RDONLY | O_NONBLOCK | O_CLOEXEC);
@@ -59,6 +59,8 @@ static arrank_status read_file(int dirfd, const char *name, const char *path, ch
         close(fd);
         return arrank_error_at(err, ARRANK_EIO, path, 0, 0, "not a regular file");
     }
+    if (st_out)
+        *st_out = sb;
     if (sb.st_size > ARRANK_CAMPAIGN_MAX_FILE_BYTES) {
         close(fd);
         return arrank_error_at(err, ARRANK_ELIMIT, path, 0, 0, "the file is larger than %ld bytes",
@@ -222,7 +224,7 @@ static arrank_status read_ini(const char *dir, int dirfd, arrank_units *units, a
     if (!path)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     size_t len = 0;
-    arrank_status s = read_file(dirfd, "campaign.ini", path, buf, cap, &len, err);
+    arrank_status s = read_file(dirfd, "campaign.ini", path, buf, cap, &len, NULL, err);
     if (s == ARRANK_OK)
         s = arrank_ini_parse(path, *buf, len, units, ini, err);
     free(path);
@@ -364,7 +366,9 @@ static arrank_status load_one(load_state *ls, size_t i, const char *report_unit,
     arrank_read_options ro = {ls->opt.strict};
     arrank_error fe;
     arrank_error_clear(&fe);
-    arrank_status st = read_file(ls->dirfd, name, path, buf, cap, &len, &fe);
+    struct stat sb;
+    memset(&sb, 0, sizeof sb);
+    arrank_status st = read_file(ls->dirfd, name, path, buf, cap, &len, &sb, &fe);
     if (st == ARRANK_OK) {
         if (ls->hash) {
             ls->hash[i] = hash_bytes(*buf, len);
@@ -377,6 +381,8 @@ static arrank_status load_one(load_state *ls, size_t i, const char *report_unit,
         st = skip_file(sample, path, &fe, err);
     else if (st != ARRANK_OK && err)
         *err = fe;
+    sample->file_dev = (unsigned long long)sb.st_dev; /* the file as read; 0 if never opened */
+    sample->file_ino = (unsigned long long)sb.st_ino;
     free(path);
     return st;
 }
@@ -560,9 +566,9 @@ static int same_bytes(load_state *ls, size_t a, size_t b)
     char *bufa = NULL, *bufb = NULL;
     size_t capa = 0, capb = 0, lena = 0, lenb = 0;
     arrank_error ignored;
-    int same = read_file(ls->dirfd, ls->names[a], ls->names[a], &bufa, &capa, &lena, &ignored) ==
+    int same = read_file(ls->dirfd, ls->names[a], ls->names[a], &bufa, &capa, &lena, NULL, &ignored) ==
                    ARRANK_OK &&
-               read_file(ls->dirfd, ls->names[b], ls->names[b], &bufb, &capb, &lenb, &ignored) ==
+               read_file(ls->dirfd, ls->names[b], ls->names[b], &bufb, &capb, &lenb, NULL, &ignored) ==
                    ARRANK_OK &&
                lena == lenb && memcmp(bufa, bufb, lena) == 0;
     free(bufa);
