@@ -12,8 +12,10 @@ T=$(mktemp -d)
 trap 'rm -rf "$T"' EXIT
 D="$T/dest"
 B="$BUILD-install"
-env -u MAKEFLAGS -u MFLAGS -u MAKELEVEL make -s -j2 BUILD="$B" DESTDIR="$D" PREFIX=/usr \
-    install >"$T/make.log" 2>&1; st=$?
+# Plain flags named on the command line: make exports the variables a parent
+# make was given (make test-asan's SAN, OPT) into this script's environment.
+env -u MAKEFLAGS -u MFLAGS -u MAKELEVEL make -s -j2 BUILD="$B" SAN= OPT="-O2 -g" CFLAGS= \
+    DESTDIR="$D" PREFIX=/usr install >"$T/make.log" 2>&1; st=$?
 expect_eq "make install DESTDIR=... PREFIX=/usr: exit 0" "$st" 0
 [ "$st" -eq 0 ] || sed 's/^/# /' "$T/make.log" | tail -20
 for f in bin/arrank lib/libarrank.a lib/libarrank.so lib/libarrank.so.0 lib/pkgconfig/arrank.pc \
