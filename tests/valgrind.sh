@@ -36,7 +36,11 @@ ARRANK_FREE_AT_EXIT=0 run 0 rank "$DEMO"
 mkdir "$T/bad"
 cp "$DEMO"/*.csv "$T/bad/"
 printf 'T [degC],rate [umol/(g*s)]\n250,1\n260,x\n' >"$T/bad/ZZ.csv"
-run 1 rank "$T/bad"
+printf 'T [degC],rate [mol/(kq*h)]\n250,1\n260,2\n270,3\n' >"$T/bad/ZY.csv"
+# the reader keeps going: ZZ's bad cell and ZY's bad unit are left out and named
+run 0 rank "$T/bad" --at 250C --json "$T/b.json"
+# all or nothing: the first bad file stops the run
+run 1 rank "$T/bad" --at 250C --strict
 run 2 rank "$DEMO" --at 250
 [ "$fail" -eq 0 ] && echo "valgrind: no errors, no definite leaks"
 exit "$fail"
