@@ -157,4 +157,22 @@ expect_eq "--by EA: case does not matter" "$st" 0
 expect_eq "--conversion-limit 5: usage error" "$st" 2
 ok_if "--conversion-limit 5: says 5% or 0.05" grep -q "for 5 % write 5% or 0.05" "$T/err"
 
+# --run: one run of every sample that has it; the others listed as not having it.
+"$A" rank "$DEMO" --at 270C --run heat --json "$T/run.json" >"$T/out" 2>"$T/err"; st=$?
+expect_eq "--run heat: exit 0" "$st" 0
+/usr/bin/python3 - "$T/run.json" >"$T/py" <<'PY'
+import json, sys
+d = json.load(open(sys.argv[1]))
+by = {s["id"]: s for s in d["samples"]}
+ranked = sorted(s["id"] for s in d["samples"] if s["rank"])
+print(" ".join(ranked))
+z13 = by["ZN-13 Ni-rich Y"]
+print(z13["n_points"], z13["n_used"] <= 8)
+print(by["ZN-01 H-beta"]["error"])
+PY
+expect_eq "--run heat: only the samples with a 'heat' run are ranked" \
+    "$(sed -n 1p "$T/py")" "ZN-05 ferrierite ZN-13 Ni-rich Y"
+expect_eq "--run heat: ZN-13 fitted on its heat run only (8 of 16 points)" "$(sed -n 2p "$T/py")" "16 True"
+expect_eq "--run heat: a sample without it says so" "$(sed -n 3p "$T/py")" "has no run 'heat' (--run)"
+
 tap_plan

@@ -72,6 +72,10 @@ typedef struct {
     int drop_outliers;        /* 1: leave flagged outliers out of the fit */
     double conversion_limit;  /* differential-reactor limit, fraction; default 0.10 */
     int diagnose;             /* 1: run the diagnostics (default 1) */
+    /* NULL (default): every run of a sample; else only the points of the run
+       with this label (arrank_sample.runs), and a sample without such a run
+       is listed as not fitted, with that reason */
+    const char *run;
     /* ranking statistics (analysis_stats.h) */
     arrank_error_model errors;
     arrank_model model;

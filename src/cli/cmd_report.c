@@ -29,7 +29,7 @@ static const char usage[] =
     "  --by KEY            rank by rate (default), ea or prefactor\n"
     "  --use-all, --drop-outliers, --conversion-limit X, --no-diagnose,\n"
     "  --errors, --model, --seed, --draws, --pairs, --bootstrap, --normal,\n"
-    "  --strict, --no-merge\n"
+    "  --strict, --no-merge, --run LABEL\n"
     "                      as for 'arrank rank'\n"
     "\n"
     "gnuplot is run from ARRANK_GNUPLOT if set, else found on PATH.\n"

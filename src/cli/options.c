@@ -36,6 +36,7 @@ static const option_spec option_table[] = {
     {"--drop-outliers", OPT_DIAGNOSE, 0},
     {"--conversion-limit", OPT_DIAGNOSE, 1},
     {"--no-diagnose", OPT_DIAGNOSE, 0},
+    {"--run", OPT_DIAGNOSE, 1},
     {"--seed", OPT_STATS, 1},
     {"--draws", OPT_STATS, 1},
     {"--pairs", OPT_STATS, 1},
@@ -162,6 +163,8 @@ static int apply(cli_args *a, const char *name, const char *value)
         o->drop_outliers = 1;
     else if (strcmp(name, "--no-diagnose") == 0)
         o->diagnose = 0;
+    else if (strcmp(name, "--run") == 0)
+        o->run = value;
     else if (strcmp(name, "--strict") == 0)
         a->load.strict = 1;
     else if (strcmp(name, "--no-merge") == 0)

@@ -9,6 +9,7 @@
 #include "arrank/analysis.h"
 
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -225,6 +226,29 @@ static arrank_status omitted_reasons(arrank_result *res, arrank_error *err)
 /* Everything that happens to one sample: refit, diagnose, models, flags,
    prediction.  Reads only its own sample and the campaign; writes only its
    own result.  A failure other than the sample's own is returned (ENOMEM). */
+/* --run: keep only the points of the run labelled `label`; 0 (with the
+   result's error set) when the sample has no such run. */
+static int keep_run(arrank_result *res, const char *label)
+{
+    const arrank_sample *s = res->sample;
+    size_t r = 0;
+    while (r < s->n_runs && strcmp(s->runs[r], label) != 0)
+        r++;
+    if (r == s->n_runs) {
+        char msg[320];
+        snprintf(msg, sizeof msg, "has no run '%.200s' (--run)", label);
+        set_result_error(res, msg, 0);
+        return 0;
+    }
+    res->n_used = 0;
+    for (size_t i = 0; i < s->n_points; i++) {
+        if (s->points[i].run != (int)r)
+            res->used[i] = 0;
+        res->n_used += res->used[i];
+    }
+    return 1;
+}
+
 static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
                                  const arrank_options *opt, const arrank_diagnose_options *dopt,
                                  double rate_to_per_s, arrank_error *err)
@@ -247,6 +271,8 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
         return ARRANK_OK;
     }
     res->n_used = arrank_screen_mark(s, res->used);
+    if (opt->run && !keep_run(res, opt->run))
+        return ARRANK_OK; /* not fitted, with the reason */
     arrank_status st = arrank_result_refit(res, err);
     if (st != ARRANK_OK || res->error)
         return st;
