@@ -146,6 +146,8 @@ expect_eq "--at 2000C (1,600 K past every range): refused with exit 2" "$st" 2
 ok_if "--at 2000C: one line naming the distance and --extrapolate" \
     sh -c "test \$(wc -l <'$T/err') -eq 1 && grep -q 'outside the measured range of every sample.*--extrapolate' '$T/err'"
 ok_if "--at 2000C: nothing on standard output" test ! -s "$T/out"
+"$A" fit "$DEMO" --at 2000C >/dev/null 2>&1; st=$?
+expect_eq "fit --at 2000C: fit shows each sample's extrapolation, not refused" "$st" 0
 "$A" rank "$DEMO" --at 2000C --extrapolate >"$T/out" 2>/dev/null; st=$?
 expect_eq "--at 2000C --extrapolate: ranks (exit 0)" "$st" 0
 "$A" rank "$DEMO" --at 300C >/dev/null 2>&1; st=$?

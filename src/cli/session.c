@@ -111,6 +111,10 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
     if (!args->confidence_given && isfinite(s->campaign->confidence))
         args->options.confidence = s->campaign->confidence;
 
+    /* only a ranking is refused far outside every sample's range: fit and
+       check show each sample's own extrapolation, flagged */
+    if (strcmp(args->command, "fit") == 0 || strcmp(args->command, "check") == 0)
+        args->options.max_extrapolation_K = INFINITY;
     args->options.units = s->units;
     args->options.progress = ps ? show_progress : NULL;
     args->options.progress_ctx = ps;
