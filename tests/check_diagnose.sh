@@ -80,4 +80,12 @@ PY
 expect_eq "JSON: regime, excluded, curvature, criteria, quality; --use-all keeps all" \
     "$(cat "$T/py")" "1 1 1 1 1 1 1 1 1 1 1 1"
 
+# intervals at the run's level with the standard error named beside them;
+# temperatures to 0.01 K, so that inside or outside a range can be seen
+"$A" check "$DEMO" >"$T/plain" 2>/dev/null
+ok_if "check: Ea with its 95 % interval and the standard error named" \
+    grep -q '^ZN-01 H-beta (ZN-01.csv): no problem found; Ea 61.9 kJ/mol (95 % interval 59.5-64.4, standard error 1.0) on 9 points$' "$T/plain"
+"$A" check "$DEMO" --at 340C >"$T/ext" 2>/dev/null
+ok_if "check: an operating temperature against the range to 0.01 K" \
+    grep -q 'measured range: 613.15 K against 503.15-583.35 K measured' "$T/ext"
 tap_plan

@@ -196,11 +196,18 @@ static void make_fake(fake *fk, size_t n, int ranked, int with_T, int with_stats
             res->error = strdup(rng_next() % 2 ? "only 2 data points; a fit needs 3"
                                                : "'x' is not a number in column 'T'");
             assert_non_null(res->error);
+            s->skipped = rng_next() % 2; /* a file the reader could not read */
             continue;
         }
         arrank_arrhenius *f = &res->fit;
         f->n = rng_next() % 4 == 0 ? s->n_points - 1 - rng_next() % 2 : s->n_points;
         f->dof = (double)f->n - 2.0;
+        f->weighted = (int)(rng_next() % 2);
+        f->resid_sd = log_uniform(-3.0, 0.5);
+        f->chi2_dof = f->weighted ? f->resid_sd * f->resid_sd : NAN;
+        /* the model in force: now and then the modified form's n - 3 */
+        res->interval_dof = f->dof - (double)(rng_next() % 2);
+        res->interval_t = arrank_t_quantile(a->options.confidence, res->interval_dof);
         /* the pipeline's quantile (analysis.c), which the table reads */
         res->t_quantile = arrank_t_quantile(a->options.confidence, f->dof);
         f->T_min_K = odd_sometimes(300.0 + 400.0 * uniform01(&rng_state));
@@ -315,7 +322,8 @@ static char *expected_rows(const fake *fk)
         fputs("  ", out);
         if (res->error) {
             cell(out, 5, 1, "%zu", res->sample->n_points);
-            fprintf(out, "  not fitted: %s\n", res->error);
+            fprintf(out, "  %s: %s\n", res->sample->skipped ? "file not used" : "not fitted",
+                    res->error);
             continue;
         }
         double t = arrank_t_quantile(o->confidence, f->dof);
@@ -526,6 +534,7 @@ static void json_record_as_jansson_writes_it(void **state)
             smp->notes = (char **)notes;
             smp->n_notes = i % 6;
             fk.a.results[i].error_line = (long)(i % 5);
+            fk.a.results[i].error_column = (long)(i % 3);
             if (fk.a.results[i].error && i % 4 == 0)
                 fk.a.results[i].error = strcpy(fk.a.results[i].error, "bad \xff byte\n");
         }
@@ -550,6 +559,21 @@ static void json_record_as_jansson_writes_it(void **state)
         same_json(a, "demo campaign", 1);
         arrank_analysis_free(a);
     }
+    arrank_campaign_free(c);
+    /* a folder as people leave it (the default reader): unreadable files
+       (skipped, error_column), points left out by the reader (left_out), a
+       copy not used (files_not_used), weighted fits (sqrt_chi2_dof) */
+    arrank_load_options lo = {0, 0};
+    assert_int_equal(arrank_campaign_load_with("tests/messy", units, &lo, NULL, NULL, &c, &err),
+                     ARRANK_OK);
+    arrank_options o = arrank_options_defaults();
+    o.operating_temp_K = 523.15;
+    o.units = units;
+    o.draws = 2000;
+    arrank_analysis *a = NULL;
+    assert_int_equal(arrank_analysis_run(c, &o, &a, &err), ARRANK_OK);
+    same_json(a, "messy campaign", 1);
+    arrank_analysis_free(a);
     arrank_campaign_free(c);
 }
 

@@ -39,7 +39,8 @@ static arrank_status write_csv(const arrank_analysis *a, FILE *f, arrank_error *
     snprintf(rh[1], sizeof rh[1], "rate_at_T_ci_low [%s]", u);
     snprintf(rh[2], sizeof rh[2], "rate_at_T_ci_high [%s]", u);
     const char *tail[] = {"corr_ea_lnA", "T_ref [K]", "T_min [K]", "T_max [K]", "T_op [K]",
-                          rh[0], rh[1], rh[2], "confidence", "p_best", "group", "flags", "error"};
+                          rh[0], rh[1], rh[2], "confidence", "p_best", "group", "flags", "error", "error_line",
+                          "error_column"};
     for (size_t i = 0; i < sizeof tail / sizeof *tail; i++)
         arrank_files_csv_field(row, tail[i], i + 1 == sizeof tail / sizeof *tail);
 
@@ -107,7 +108,13 @@ static void write_row(const arrank_analysis *a, const arrank_result *res, arrank
         }
     flags[n] = '\0';
     arrank_files_csv_field(row, flags, 0);
-    arrank_files_csv_field(row, res->error ? res->error : "", 1);
+    arrank_files_csv_field(row, res->error ? res->error : "", 0);
+    /* where the error points in the sample's file; empty when nowhere */
+    arrank_files_csv_num(row, res->error && res->error_line > 0 ? (double)res->error_line : NAN,
+                         0);
+    arrank_files_csv_num(row,
+                         res->error && res->error_column > 0 ? (double)res->error_column : NAN,
+                         1);
 }
 
 

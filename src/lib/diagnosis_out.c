@@ -259,7 +259,7 @@ static size_t basic_problems(FILE *f, const arrank_result *res, int *bad)
     if (res->flags & ARRANK_FLAG_NARROW_RANGE) {
         k++;
         if (f)
-            *bad |= fprintf(f, "  problem: %s: %.1f-%.1f K\n",
+            *bad |= fprintf(f, "  problem: %s: %.2f-%.2f K\n",
                             arrank_flag_words(ARRANK_FLAG_NARROW_RANGE), fit->T_min_K,
                             fit->T_max_K) < 0;
     }
@@ -279,12 +279,25 @@ static size_t basic_problems(FILE *f, const arrank_result *res, int *bad)
         k++;
         if (f)
             *bad |= fprintf(f,
-                            "  problem: %s: %.1f K against %.1f-%.1f K measured; fitted kinetics "
+                            "  problem: %s: %.2f K against %.2f-%.2f K measured; fitted kinetics "
                             "are not valid outside the tested window\n",
                             arrank_flag_words(ARRANK_FLAG_EXTRAPOLATED), res->at_T.temp_K,
                             fit->T_min_K, fit->T_max_K) < 0;
     }
     return k;
+}
+
+/* One point left out of the fit: its line, its temperature ("\u2014" when the
+   reader could not read one) and why: the reader's reason when it left the
+   point out (arrank_point.omitted), else the diagnosis's.  1 on a write error. */
+static int left_out_line(FILE *f, const arrank_point *p, const arrank_point_diag *pd)
+{
+    const char *why = p->omitted      ? p->omitted
+                      : pd->reason    ? pd->reason
+                                      : "left out before the diagnostics";
+    if (isfinite(p->temp_K))
+        return fprintf(f, "  left out: line %ld, %.1f K: %s\n", p->line, p->temp_K, why) < 0;
+    return fprintf(f, "  left out: line %ld, \xE2\x80\x94: %s\n", p->line, why) < 0;
 }
 
 static arrank_status diagnosis_write_text_in_c(FILE *f, const arrank_result *res, arrank_error *err)
@@ -293,7 +306,8 @@ static arrank_status diagnosis_write_text_in_c(FILE *f, const arrank_result *res
     const arrank_diagnosis *d = res->diagnosis;
     int bad = 0;
     if (res->error)
-        bad |= fprintf(f, "%s (%s): not fitted: %s\n", s->id, s->file, res->error) < 0;
+        bad |= fprintf(f, "%s (%s): %s: %s\n", s->id, s->file,
+                       s->skipped ? "file not used" : "not fitted", res->error) < 0;
     else if (!d)
         bad |= fprintf(f, "%s (%s): diagnostics not run\n", s->id, s->file) < 0;
     else {
@@ -301,12 +315,16 @@ static arrank_status diagnosis_write_text_in_c(FILE *f, const arrank_result *res
         for (size_t i = 0; i < s->n_points; i++)
             n_out += !res->used[i];
         size_t n_problems = d->n_findings + basic_problems(NULL, res, &bad);
+        /* Ea with its interval at the run's level (the pipeline's t), the
+           standard error named beside it */
+        const double ea = res->fit.ea_J_mol / 1000.0, se = res->fit.ea_se_J_mol / 1000.0,
+                     t = res->t_quantile;
         if (n_problems == 0)
             bad |= fprintf(f,
-                           "%s (%s): no problem found; Ea %.1f kJ/mol (standard error %.1f) on "
-                           "%zu points\n",
-                           s->id, s->file, res->fit.ea_J_mol / 1000.0,
-                           res->fit.ea_se_J_mol / 1000.0, res->fit.n) < 0;
+                           "%s (%s): no problem found; Ea %.1f kJ/mol (%.4g %% interval "
+                           "%.1f-%.1f, standard error %.1f) on %zu points\n",
+                           s->id, s->file, ea, 100.0 * res->confidence, ea - t * se,
+                           ea + t * se, se, res->fit.n) < 0;
         else
             bad |= fprintf(f, "%s (%s): %zu problem%s found\n", s->id, s->file, n_problems,
                            n_problems == 1 ? "" : "s") < 0;
@@ -315,10 +333,7 @@ static arrank_status diagnosis_write_text_in_c(FILE *f, const arrank_result *res
         basic_problems(f, res, &bad);
         for (size_t i = 0; i < s->n_points; i++)
             if (!res->used[i])
-                bad |= fprintf(f, "  left out: line %ld, %.1f K: %s\n", s->points[i].line,
-                               s->points[i].temp_K,
-                               d->points[i].reason ? d->points[i].reason
-                                                   : "left out before the diagnostics") < 0;
+                bad |= left_out_line(f, &s->points[i], &d->points[i]);
         if (n_out == 0 && n_problems > 0)
             bad |= fprintf(f, "  every point is in the fit\n") < 0;
         for (size_t k = 0; k < d->n_notes; k++)

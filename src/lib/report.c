@@ -450,6 +450,17 @@ static void put_stats_cells(FILE *f, const arrank_result *r)
     fputs("</td>", f);
 }
 
+/* "v (lo&ndash;hi)": an estimate with its interval v -/+ t se. */
+static void put_estimate(FILE *f, double v, double se, double t, int digits)
+{
+    html_num(f, v, digits);
+    fputs(" (", f);
+    html_num(f, v - t * se, digits);
+    fputs("&ndash;", f);
+    html_num(f, v + t * se, digits);
+    fputs(")", f);
+}
+
 static void put_ranking(FILE *f, const arrank_analysis *a)
 {
     double T_op = a->options.operating_temp_K;
@@ -462,7 +473,10 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
     int stats = a->rank_stats != NULL;
     if (stats)
         fputs("<th>P(best)</th><th>group</th>", f);
-    fputs("<th>Ea [kJ/mol]</th><th>ln A</th><th>points</th><th>T range [&deg;C]</th>"
+    fprintf(f, "<th>Ea [kJ/mol] (%.4g %% interval)</th><th>ln A (%.4g %% interval)</th>"
+               "<th>points</th>",
+            100 * a->options.confidence, 100 * a->options.confidence);
+    fputs("<th>T range [&deg;C]</th>"
           "<th>flags</th></tr></thead>\n<tbody>\n",
           f);
     /* Ranked first, in order, then the rest in campaign order. */
@@ -483,8 +497,8 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
             html_text(f, r->sample->id);
             fputs("</td>", f);
             if (r->error) {
-                fprintf(f, "<td colspan=\"%d\">not fitted: ",
-                        (isfinite(T_op) ? 7 : 5) + (stats ? 2 : 0));
+                fprintf(f, "<td colspan=\"%d\">%s: ", (isfinite(T_op) ? 7 : 5) + (stats ? 2 : 0),
+                        r->sample->skipped ? "file not used" : "not fitted");
                 html_text(f, r->error);
                 fputs("</td></tr>\n", f);
                 continue;
@@ -503,14 +517,13 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
             }
             if (stats)
                 put_stats_cells(f, r);
+            /* the estimate and its interval at the run's level (the
+               pipeline's t, analysis.c), never a bare standard error */
+            const double t = r->t_quantile;
             fputs("<td class=\"n\">", f);
-            html_num(f, r->fit.ea_J_mol / 1000, 1);
-            fputs(" &plusmn; ", f);
-            html_num(f, r->fit.ea_se_J_mol / 1000, 1);
+            put_estimate(f, r->fit.ea_J_mol / 1000, r->fit.ea_se_J_mol / 1000, t, 1);
             fputs("</td><td class=\"n\">", f);
-            html_num(f, r->fit.ln_A, 2);
-            fputs(" &plusmn; ", f);
-            html_num(f, r->fit.ln_A_se, 2);
+            put_estimate(f, r->fit.ln_A, r->fit.ln_A_se, t, 2);
             fprintf(f, "</td><td class=\"n\">%zu of %zu</td><td class=\"n\">", r->n_used,
                     r->sample->n_points);
             html_num(f, r->fit.T_min_K - ZERO_C_K, 0);
@@ -522,9 +535,10 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
         }
     }
     fputs("</tbody></table>\n", f);
-    fputs("<p>Ea and ln A are given &plusmn; one standard error; ln A is the natural logarithm "
-          "of A in the report unit.",
-          f);
+    fprintf(f, "<p>Ea and ln A are given with their %.4g %% intervals (Student t on the "
+               "line's degrees of freedom); ln A is the natural logarithm of A in the report "
+               "unit.",
+            100 * a->options.confidence);
     if (stats) {
         const struct arrank_rank_stats *rs = a->rank_stats;
         fprintf(f, " P(best) is the share of %zu random draws from each sample's fitted "
@@ -670,6 +684,8 @@ static void put_left_out(FILE *f, const arrank_result *r)
             reason = d->points[k].reason ? d->points[k].reason
                                          : "left out before the diagnostics";
         }
+        if (p->omitted) /* the reader's own reason for a point it could not use */
+            reason = p->omitted;
         fputs("<td>", f);
         html_text(f, reason);
         fputs("</td></tr>\n", f);
@@ -740,7 +756,8 @@ static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure
     }
     fputs(".</p>\n", f);
     if (r->error) {
-        fputs("<p class=\"note\">Not fitted and not ranked: ", f);
+        fputs(s->skipped ? "<p class=\"note\">File not used and not ranked: "
+                         : "<p class=\"note\">Not fitted and not ranked: ", f);
         html_text(f, r->error);
         fputs(".</p>\n</section>\n", f);
         return;
@@ -763,14 +780,18 @@ static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure
     }
     fputs("</tbody></table>\n<p>", f);
     fprintf(f, "Fitted on %zu of %zu points, %.1f&ndash;%.1f &deg;C, T<sub>ref</sub> = "
-               "%.2f K; correlation of Ea and ln A %.4f; residual SD %.3g in ln r; "
-               "R&sup2; = %.4f",
+               "%.2f K; correlation of Ea and ln A %.4f",
             r->n_used, s->n_points, fit->T_min_K - ZERO_C_K, fit->T_max_K - ZERO_C_K,
-            fit->T_ref_K, fit->corr_ea_lnA, fit->resid_sd, fit->r2);
+            fit->T_ref_K, fit->corr_ea_lnA);
+    /* s = sqrt(rss/dof) is the scatter of ln r only without weights; with
+       rate_sd it is sqrt(chi2/dof), how far the scatter is from the stated sd */
     if (fit->weighted && isfinite(fit->chi2_dof))
-        fprintf(f, "; weighted by rate_sd, &chi;&sup2;/dof = %.3g", fit->chi2_dof);
+        fprintf(f, "; R&sup2; = %.4f; weighted by rate_sd, &chi;&sup2;/dof = %.3g, "
+                   "&radic;(&chi;&sup2;/dof) = %.3g",
+                fit->r2, fit->chi2_dof, fit->resid_sd);
     else
-        fputs("; unweighted (no rate_sd)", f);
+        fprintf(f, "; residual SD %.3g in ln r; R&sup2; = %.4f; unweighted (no rate_sd)",
+                fit->resid_sd, fit->r2);
     fputs(".</p>\n", f);
     if (r->flags) {
         fputs("<ul class=\"flags\">\n", f);

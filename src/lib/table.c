@@ -5,7 +5,7 @@
  * compensation verdict and, with --model, the model's parameters.
  *
  * The writer reads only the analysis: every quantile comes from the pipeline
- * (arrank_result.t_quantile, model_t_quantile).
+ * (arrank_result.t_quantile, interval_t).
  */
 #include "table.h"
 
@@ -262,7 +262,7 @@ static void write_model_table(const arrank_analysis *a, FILE *f)
         if (res->error || !res->stats || !res->stats->has_model)
             continue;
         const arrank_model_fit *m = &res->stats->model;
-        const double t = res->model_t_quantile; /* the pipeline's (analysis.c) */
+        const double t = res->interval_t; /* the model's, the pipeline's (analysis_models.c) */
         char name[4 * NAME_WIDTH_MAX + 8], c1[64], c2[64];
         fit_text(res->sample->id, NAME_WIDTH_MAX, name, sizeof name);
         if (eyring) {
@@ -340,7 +340,10 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
     p = put_text(p, "  ", 2);
     if (res->error) {
         p = put_right(p, cell, int_text(cell, (long long)res->sample->n_points), tc->w_n);
-        p = put_text(p, "  not fitted: ", 14);
+        if (res->sample->skipped) /* a file the reader could not read */
+            p = put_text(p, "  file not used: ", 17);
+        else
+            p = put_text(p, "  not fitted: ", 14);
         p = put_text(p, res->error, strlen(res->error));
         *p++ = '\n';
         r->n += (size_t)(p - row);
