@@ -221,6 +221,12 @@ static void make_fake(fake *fk, size_t n, int ranked, int with_T, int with_stats
         res->at_T.rate = odd_sometimes(rate);
         res->at_T.rate_lo = odd_sometimes(rate * (1.0 - 0.5 * uniform01(&rng_state)));
         res->at_T.rate_hi = odd_sometimes(rate * (1.0 + 2.0 * uniform01(&rng_state)));
+        /* how far outside the range: none, under a kelvin, around 9.95 K, far */
+        if (res->flags & ARRANK_FLAG_EXTRAPOLATED) {
+            static const double far_K[] = {0.0, 0.2, 9.94, 9.96, 12.0, 150.5};
+            res->at_T.extrapolation_K = far_K[rng_next() % 6];
+            res->at_T.extrapolation_rel = res->at_T.extrapolation_K / 80.0;
+        }
         struct arrank_sample_stats *ss = &fk->stats[i];
         ss->p_best = rng_next() % 8 ? uniform01(&rng_state) * (rng_next() % 2 ? 1.0 : 1e-4) : NAN;
         ss->group = (int)(rng_next() % 60);
@@ -262,13 +268,21 @@ static void free_fake(fake *fk)
     free(fk->stats);
 }
 
-/* The flags as the table lists them. */
-static void expected_flags(FILE *out, unsigned flags)
+/* The flags as the table lists them: the extrapolated one with how far
+   ("%.1f" under 9.95 K, else "%.0f"). */
+static void expected_flags(FILE *out, const arrank_result *res)
 {
+    unsigned flags = res->flags;
     int any = 0;
     for (unsigned bit = 1; bit < (1u << ARRANK_FLAG_COUNT); bit <<= 1)
-        if (flags & bit)
-            fprintf(out, "%s%s", any++ ? ", " : "", arrank_flag_name(bit));
+        if (flags & bit) {
+            double out_K = res->at_T.extrapolation_K;
+            if (bit == ARRANK_FLAG_EXTRAPOLATED && res->has_prediction && out_K > 0)
+                fprintf(out, "%sextrapolated %.*f K", any++ ? ", " : "", out_K < 9.95 ? 1 : 0,
+                        out_K);
+            else
+                fprintf(out, "%s%s", any++ ? ", " : "", arrank_flag_name(bit));
+        }
     if (!any)
         fputc('-', out);
 }
@@ -353,7 +367,7 @@ static char *expected_rows(const fake *fk)
             }
         }
         fputs("  ", out);
-        expected_flags(out, res->flags);
+        expected_flags(out, res);
         fputc('\n', out);
     }
     free(shown);

@@ -16,6 +16,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "arrank/cautions.h"
 #include "arrank/diagnose.h"
 #include "arrank/version.h"
 #include "number.h"
@@ -163,6 +164,8 @@ static json_t *sample_json(const arrank_analysis *a, const arrank_result *res, i
     json_object_set_new(o, "rate_at_T_ci",
                         jpair(pred ? res->at_T.rate_lo : nan, pred ? res->at_T.rate_hi : nan));
     json_object_set_new(o, "ln_rate_at_T_se", jnum(pred ? res->at_T.ln_rate_se : nan));
+    json_object_set_new(o, "extrapolation_K", jnum(pred ? res->at_T.extrapolation_K : nan));
+    json_object_set_new(o, "extrapolation_rel", jnum(pred ? res->at_T.extrapolation_rel : nan));
     json_object_set_new(o, "rank", res->rank > 0 ? json_integer(res->rank) : json_null());
     json_object_set_new(o, "flags", flags_json(res->flags));
     json_object_set_new(o, "error", jstr(res->error));
@@ -242,6 +245,19 @@ static json_t *analysis_json(const arrank_analysis *a)
     json_object_set_new(root, "notes", notes);
     json_object_set_new(root, "n_files", json_integer((json_int_t)c->n_files));
     json_object_set_new(root, "files_not_used", files_not_used_json(a));
+    /* cautions.c: the same lines as the table's and check's */
+    json_t *cautions = json_array();
+    char **lines = NULL;
+    size_t n = 0;
+    if (!cautions || arrank_cautions_list(a, &lines, &n, NULL) != ARRANK_OK) {
+        json_decref(cautions);
+        json_decref(root);
+        return NULL;
+    }
+    for (size_t k = 0; k < n; k++)
+        json_array_append_new(cautions, json_string(lines[k]));
+    arrank_cautions_free(lines, n);
+    json_object_set_new(root, "cautions", cautions);
     return root;
 }
 
@@ -550,6 +566,8 @@ static void put_own_keys(text_buf *b, int *bad, const arrank_result *res)
     key_pair(b, bad, fi, "rate_at_T_ci", pred ? res->at_T.rate_lo : nan,
              pred ? res->at_T.rate_hi : nan);
     key_real(b, bad, fi, "ln_rate_at_T_se", pred ? res->at_T.ln_rate_se : nan);
+    key_real(b, bad, fi, "extrapolation_K", pred ? res->at_T.extrapolation_K : nan);
+    key_real(b, bad, fi, "extrapolation_rel", pred ? res->at_T.extrapolation_rel : nan);
     put_key(b, bad, fi, "rank");
     if (res->rank > 0)
         put_int(b, bad, res->rank);

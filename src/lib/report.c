@@ -38,6 +38,7 @@
 
 #include <nettle/sha2.h>
 
+#include "arrank/cautions.h"
 #include "arrank/diagnose.h"
 #include "arrank/diagnosis_out.h"
 #include "arrank/fit.h"
@@ -854,12 +855,31 @@ static void put_methods(FILE *f, const arrank_analysis *a)
                   "what remains.");
 }
 
-static void put_cautions(FILE *f)
+/* The caution box: the cautions every output carries (cautions.c: apparent
+   kinetics, the samples extrapolated far, the ranking beyond the isokinetic
+   temperature), then the page's own on scale-up, heat and gases. */
+static void put_cautions(FILE *f, const arrank_analysis *a)
 {
-    fputs("<div class=\"caution\">\n<p><b>Cautions.</b></p>\n<ul>\n"
-          "<li>The fitted parameters are apparent values, valid only for the conditions and "
-          "the temperature range tested.  Do not extrapolate them to reactor design or to "
-          "safety limits.</li>\n"
+    char **lines = NULL;
+    size_t n = 0;
+    if (arrank_cautions_list(a, &lines, &n, NULL) != ARRANK_OK)
+        n = 0;
+    fputs("<div class=\"caution\">\n<p><b>Cautions.</b></p>\n<ul>\n", f);
+    for (size_t k = 0; k < n; k++) {
+        fputs("<li><b>", f);
+        if (lines[k][0] >= 'a' && lines[k][0] <= 'z') /* a sentence here */
+            fputc(lines[k][0] - 'a' + 'A', f);
+        html_text(f, lines[k] + (lines[k][0] >= 'a' && lines[k][0] <= 'z'));
+        fputs(".</b>", f);
+        if (k == 0)
+            fputs(" The fitted parameters are apparent values, valid only for the conditions "
+                  "and the temperature range tested.  Do not extrapolate them to reactor design "
+                  "or to safety limits.",
+                  f);
+        fputs("</li>\n", f);
+    }
+    arrank_cautions_free(lines, n);
+    fputs(
           "<li>Scale-up needs its own transport and hazard studies (calorimetry, runaway and "
           "parametric-sensitivity criteria); a screening ranking is not one.</li>\n"
           "<li>Exothermic reactions cause hot spots and can run away; a thermocouple outside "
@@ -933,7 +953,7 @@ static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_opti
                 a->options.operating_temp_K - ZERO_C_K, a->options.operating_temp_K);
     fprintf(f, "; %.4g %% intervals.</p>\n</header>\n", 100 * a->options.confidence);
 
-    put_cautions(f);
+    put_cautions(f, a);
     if (fs->status != ARRANK_OK) {
         fputs("<p class=\"note\">The figures could not be drawn: ", f);
         html_text(f, fs->message);

@@ -15,6 +15,8 @@
 #include <string.h>
 
 #include "arrank/analysis_stats.h"
+#include "arrank/cautions.h"
+#include "arrank/text.h"
 #include "number.h"
 #include "util.h"
 
@@ -36,15 +38,16 @@ static size_t *display_order(const arrank_analysis *a)
     return order;
 }
 
-/* The names of the flags set, joined by sep, into buf (size n), cut as snprintf cuts. */
-static void flags_joined(unsigned flags, char *buf, size_t n, const char *sep)
+/* The names of the flags set, joined by sep, into buf (size n), cut as snprintf
+   cuts; the extrapolated flag says how far when extra (its text) is given. */
+static void flags_joined(unsigned flags, char *buf, size_t n, const char *sep, const char *extra)
 {
     buf[0] = '\0';
     size_t len = 0, sep_len = strlen(sep);
     for (unsigned bit = 1; bit && bit < (1u << ARRANK_FLAG_COUNT); bit <<= 1) {
         if (!(flags & bit))
             continue;
-        const char *name = arrank_flag_name(bit);
+        const char *name = bit == ARRANK_FLAG_EXTRAPOLATED && extra ? extra : arrank_flag_name(bit);
         size_t name_len = strlen(name), s_len = len ? sep_len : 0;
         if (s_len + name_len >= n - len) { /* does not fit: what snprintf keeps of it */
             snprintf(buf + len, n - len, "%s%s", len ? sep : "", name);
@@ -408,7 +411,15 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
     }
     p = put_text(p, "  ", 2);
     if (res->flags) {
-        flags_joined(res->flags, p, 512, ", "); /* as many bytes as ever: under 512 */
+        /* how far the operating temperature lies outside the measured range */
+        char extra[64], *how_far = NULL;
+        if ((res->flags & ARRANK_FLAG_EXTRAPOLATED) && res->has_prediction &&
+            res->at_T.extrapolation_K > 0 && res->at_T.extrapolation_K < 1e9) {
+            const double out_K = res->at_T.extrapolation_K;
+            snprintf(extra, sizeof extra, "extrapolated %.*f K", out_K < 9.95 ? 1 : 0, out_K);
+            how_far = extra;
+        }
+        flags_joined(res->flags, p, 512, ", ", how_far); /* as many bytes as ever: under 512 */
         p += strlen(p);
     } else {
         *p++ = '-';
@@ -628,7 +639,8 @@ static void write_heading(const table_ctx *tc, FILE *f)
 
 /* The lines below the rows: the flags in words, P(best) and groups, the
    compensation sentence, the model table, the caution on extrapolation. */
-static void write_footer(const table_ctx *tc, FILE *f, unsigned seen_flags, int any_error)
+static arrank_status write_footer(const table_ctx *tc, FILE *f, unsigned seen_flags,
+                                  int any_error, arrank_error *err)
 {
     const arrank_analysis *a = tc->a;
     const arrank_options *o = &a->options;
@@ -663,9 +675,23 @@ static void write_footer(const table_ctx *tc, FILE *f, unsigned seen_flags, int 
     }
     if (o->model != ARRANK_MODEL_ARRHENIUS)
         write_model_table(a, f);
-    if (tc->have_T && (seen_flags & ARRANK_FLAG_EXTRAPOLATED))
-        fprintf(f, "\nCaution: rates outside the measured temperature range are extrapolations of\n"
-                   "apparent kinetics; do not use them for reactor design or safety limits.\n");
+    /* cautions.c: apparent kinetics, samples extrapolated far, the ranking
+       beyond the isokinetic temperature */
+    {
+        char **lines = NULL;
+        size_t n = 0;
+        arrank_status st = arrank_cautions_list(a, &lines, &n, err);
+        if (st != ARRANK_OK)
+            return st;
+        fputc('\n', f);
+        for (size_t k = 0; k < n; k++) {
+            char shown[2048]; /* ids escaped for the terminal (text.h), a long list cut */
+            arrank_text_escape(lines[k], shown, sizeof shown);
+            fprintf(f, "Caution: %s.\n", shown);
+        }
+        arrank_cautions_free(lines, n);
+    }
+    return ARRANK_OK;
 }
 
 static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error *err)
@@ -681,7 +707,9 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
     free(order);
     if (rows_st != ARRANK_OK)
         return rows_st;
-    write_footer(&tc, f, seen_flags, any_error);
+    arrank_status st = write_footer(&tc, f, seen_flags, any_error, err);
+    if (st != ARRANK_OK)
+        return st;
     if (ferror(f))
         return arrank_errorf(err, ARRANK_EIO, "write failed");
     return ARRANK_OK;
