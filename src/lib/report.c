@@ -945,8 +945,8 @@ static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_opti
     html_text(f, title);
     fputs("</h1>\n<p>Review report of the campaign <code>", f);
     html_text(f, c && c->name ? c->name : "");
-    fprintf(f, "</code>: %zu samples, %zu fitted, %zu ranked; rates in ", a->n_results, n_fit,
-            a->n_ranked);
+    fprintf(f, "</code>: %zu sample%s, %zu fitted, %zu ranked; rates in ", a->n_results,
+            a->n_results == 1 ? "" : "s", n_fit, a->n_ranked);
     html_text(f, unit_of(a));
     if (isfinite(a->options.operating_temp_K))
         fprintf(f, "; operating temperature %.2f &deg;C (%.2f K)",

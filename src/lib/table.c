@@ -596,8 +596,9 @@ static void write_heading(const table_ctx *tc, FILE *f)
     const arrank_analysis *a = tc->a;
     const arrank_campaign *c = a->campaign;
     const arrank_options *o = &a->options;
-    fprintf(f, "campaign '%s': %zu samples, rates in %s (%s basis), %g%% intervals\n",
-            c->title ? c->title : c->name, c->n_samples, c->rate_unit,
+    fprintf(f, "campaign '%s': %zu sample%s, rates in %s (%s basis), %g%% intervals\n",
+            c->title ? c->title : c->name, c->n_samples, c->n_samples == 1 ? "" : "s",
+            c->rate_unit,
             arrank_basis_name(c->basis), 100.0 * o->confidence);
     if (tc->have_T)
         fprintf(f, "operating temperature %.2f K (%.2f degC)%s%s\n", o->operating_temp_K,
