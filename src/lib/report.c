@@ -11,8 +11,9 @@
  *
  * Each sample's section carries the diagnostics in plain words (the text of
  * arrank_diagnosis_write_text, one list item per line), the points left out
- * of the fit with the reason for each, and the Weisz-Prater and Mears
- * verdicts when they could be computed.
+ * of the fit with the reason for each, and the Weisz-Prater, Mears and heat
+ * criteria (Mears' interphase, Anderson's intraparticle, Prater's rise) when
+ * they could be computed.
  *
  * Reproducible output: the generation date is the current time unless the
  * environment variable SOURCE_DATE_EPOCH holds a whole number of seconds
@@ -694,13 +695,35 @@ static void put_left_out(FILE *f, const arrank_result *r)
     fputs("</tbody></table>\n", f);
 }
 
-/* The Weisz-Prater and Mears numbers that the sample's metadata let the
-   diagnostics compute; one that was not computed is left out (the
-   diagnosis's notes say what it needs). */
+/* Prater's bound on the temperature rise inside the pellet: a row of the
+   criteria table, a note rather than a pass or fail (transport.c). */
+static void put_prater(FILE *f, const arrank_prater *p)
+{
+    fputs("<tr><th>Prater temperature rise inside the pellet</th><td class=\"n\">", f);
+    html_num(f, p->rise_K, -3);
+    fputs(" K (&beta; = ", f);
+    html_num(f, p->beta, -3);
+    fputs(")</td><td class=\"n\">&ndash;</td><td class=\"n\">", f);
+    html_num(f, p->temp_K, 1);
+    fputs("</td><td>the most the centre can be hotter than the surface</td><td>", f);
+    html_text(f, p->detail);
+    if (p->source) {
+        fputs(" (", f);
+        html_text(f, p->source);
+        fputs(")", f);
+    }
+    fputs("</td></tr>\n", f);
+}
+
+/* The transport and heat numbers that the sample's metadata let the
+   diagnostics compute (Weisz-Prater, Mears, Mears' interphase and
+   Anderson's intraparticle heat criteria, Prater's rise); one that was not
+   computed is left out (the diagnosis's notes say what it needs). */
 static void put_criteria(FILE *f, const arrank_result *r)
 {
     const arrank_diagnosis *d = r->diagnosis;
-    if (!d || !(d->weisz_prater.computed || d->mears.computed))
+    if (!d || !(d->weisz_prater.computed || d->mears.computed || d->heat.interphase.computed ||
+                d->heat.intraparticle.computed || d->heat.prater.computed))
         return;
     const struct {
         const char *name, *above;
@@ -708,8 +731,16 @@ static void put_criteria(FILE *f, const arrank_result *r)
     } rows[] = {
         {"Weisz&ndash;Prater", "internal (pore) diffusion may limit the rate", &d->weisz_prater},
         {"Mears", "external (film) mass transfer may limit the rate", &d->mears},
+        {"Mears: heat transfer across the gas film",
+         "the pellet may be hotter than the gas: the measured temperature is not the "
+         "catalyst's",
+         &d->heat.interphase},
+        {"Anderson: heat conduction inside the pellet",
+         "the pellet's inside may be hotter than its surface: the measured temperature is not "
+         "the catalyst's",
+         &d->heat.intraparticle},
     };
-    fputs("<table class=\"criteria\"><caption>Transport criteria</caption>\n"
+    fputs("<table class=\"criteria\"><caption>Transport and heat criteria</caption>\n"
           "<thead><tr><th>criterion</th><th>value</th><th>limit</th><th>at T [K]</th>"
           "<th>verdict</th><th>inputs and source</th></tr></thead><tbody>\n",
           f);
@@ -734,6 +765,8 @@ static void put_criteria(FILE *f, const arrank_result *r)
         }
         fputs("</td></tr>\n", f);
     }
+    if (d->heat.prater.computed)
+        put_prater(f, &d->heat.prater);
     fputs("</tbody></table>\n", f);
 }
 
