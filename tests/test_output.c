@@ -3,8 +3,9 @@
  * built here with printf, cell by cell, the way the layout is specified:
  * every number with snprintf ("%.1f", "%.2f", "%.0f", "%.3f", "%.3g"), each
  * cell cut at 127 bytes as a 128-byte snprintf buffer cuts it, padded with
- * "%-*s" / "%*s", and the sample name shortened to the column by code points,
- * control characters shown as '?'.  output.c writes rows in place with
+ * "%-*s" / "%*s", and the sample name escaped (arrank/text.h: control
+ * characters as \n, \033, bytes that are not UTF-8 as \xHH) and shortened to
+ * the column by code points.  output.c writes rows in place with
  * number.c's formatters, takes a shortcut for plain ASCII names, and
  * formats the rows on worker threads; this checks all of it byte for byte.
  *
@@ -32,6 +33,7 @@
 #include "arrank/fit.h"
 #include "arrank/output.h"
 #include "arrank/analysis_stats.h"
+#include "arrank/text.h"
 #include "../src/lib/util.h"
 #include "../src/lib/json_testing.h"
 #include "helpers.h"
@@ -110,15 +112,19 @@ static size_t code_points(const char *s)
  * follow it), at most 116 bytes of the name (the table's 120-byte name
  * buffer), control characters as '?', then spaces up to width code points.
  */
-static void expected_name(FILE *out, const char *s, size_t width)
+static void expected_name(FILE *out, const char *raw, size_t width)
 {
+    /* control characters and bytes that are not UTF-8 escaped first
+       (arrank/text.h): "a\\nb" for a name with a line break */
+    char s[1024];
+    arrank_text_escape(raw, s, sizeof s);
     size_t cps = code_points(s), keep = cps > width ? width - 3 : cps, kept = 0, bytes = 0;
     char shown[200];
     for (const char *p = s; *p && bytes < 116; p++) {
         unsigned char c = (unsigned char)*p;
         if ((c & 0xC0) != 0x80 && kept++ == keep)
             break;
-        shown[bytes++] = (c < 0x20 || c == 0x7F) ? '?' : (char)c;
+        shown[bytes++] = (char)c;
     }
     shown[bytes] = '\0';
     if (cps > width)
@@ -294,9 +300,12 @@ static char *expected_rows(const fake *fk)
     const arrank_options *o = &a->options;
     int have_T = isfinite(o->operating_temp_K), have_stats = a->rank_stats != NULL;
     size_t name_w = 6; /* "sample" */
-    for (size_t i = 0; i < a->n_results; i++)
-        if (code_points(a->results[i].sample->id) > name_w)
-            name_w = code_points(a->results[i].sample->id);
+    for (size_t i = 0; i < a->n_results; i++) {
+        char esc[1024];
+        arrank_text_escape(a->results[i].sample->id, esc, sizeof esc);
+        if (code_points(esc) > name_w)
+            name_w = code_points(esc);
+    }
     if (name_w > NAME_MAX_COLS)
         name_w = NAME_MAX_COLS;
     char head[200];

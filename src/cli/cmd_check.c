@@ -80,8 +80,10 @@ int cmd_check(int argc, char **argv)
     arrank_status st = ARRANK_OK;
     FILE *out = to_stdout ? stderr : stdout;
     size_t with_problems = 0;
-    if (fprintf(out, "campaign '%s': %zu sample%s checked\n\n", a->campaign->title,
-                a->n_results, a->n_results == 1 ? "" : "s") < 0)
+    char title[512]; /* from campaign.ini or the folder's name: escaped for the terminal */
+    arrank_text_escape(a->campaign->title, title, sizeof title);
+    if (fprintf(out, "campaign '%s': %zu sample%s checked\n\n", title, a->n_results,
+                a->n_results == 1 ? "" : "s") < 0)
         st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
     for (size_t i = 0; st == ARRANK_OK && i < a->n_results; i++) {
         const arrank_result *r = &a->results[i];

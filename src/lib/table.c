@@ -69,10 +69,32 @@ static size_t text_width(const char *s)
     return w;
 }
 
-/* Copy s into buf shortened to at most width code points ("..." at the end),
-   with control characters shown as '?', so a name cannot break the layout. */
-static void fit_text(const char *s, size_t width, char *buf, size_t n)
+/* Width of text from a file as the table shows it: control characters and
+   bytes that are not UTF-8 escaped (arrank/text.h, "a\\nb"). */
+static size_t shown_width(const char *s)
 {
+    if (arrank_text_is_clean(s))
+        return text_width(s);
+    char esc[4 * NAME_WIDTH_MAX + 64]; /* cut: still wider than any name column */
+    arrank_text_escape(s, esc, sizeof esc);
+    return text_width(esc);
+}
+
+/* Copy raw into buf shortened to at most width code points ("..." at the
+   end), control characters and bytes that are not UTF-8 escaped first
+   (arrank/text.h: a name "a<line break>b" is shown "a\\nb" on one line), so
+   a name cannot break the layout or the terminal. */
+static void fit_text(const char *raw, size_t width, char *buf, size_t n)
+{
+    /* an escaped text cut at 175 bytes still has more than NAME_WIDTH_MAX
+       code points (4 bytes each at most), so "..." is decided as for the
+       whole */
+    char esc[4 * NAME_WIDTH_MAX + 64];
+    const char *s = raw;
+    if (!arrank_text_is_clean(raw)) {
+        arrank_text_escape(raw, esc, sizeof esc);
+        s = esc;
+    }
     size_t w = text_width(s), out = 0, cps = 0, keep = w > width ? width - 3 : w;
     for (const char *p = s; *p && out + 4 < n; p++) {
         unsigned char c = (unsigned char)*p;
@@ -311,7 +333,8 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
     const arrank_options *o = &a->options;
     const arrank_result *res = &a->results[tc->order[k]];
     const arrank_arrhenius *fit = &res->fit;
-    char *p = row_room(r, ROW_ROOM + (res->error ? strlen(res->error) : 0));
+    /* an error text escaped takes at most 4 bytes a byte (arrank/text.h) */
+    char *p = row_room(r, ROW_ROOM + (res->error ? 4 * strlen(res->error) + 1 : 0));
     if (!p)
         return;
     char *const row = p, cell[CELL_MAX + 1];
@@ -347,7 +370,12 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
             p = put_text(p, "  file not used: ", 17);
         else
             p = put_text(p, "  not fitted: ", 14);
-        p = put_text(p, res->error, strlen(res->error));
+        if (arrank_text_is_clean(res->error)) {
+            p = put_text(p, res->error, strlen(res->error));
+        } else { /* text from a file: escaped for the terminal */
+            size_t len = arrank_text_escape(res->error, p, 4 * strlen(res->error) + 1);
+            p += len;
+        }
         *p++ = '\n';
         r->n += (size_t)(p - row);
         *any_error = 1;
@@ -565,7 +593,7 @@ static size_t name_width(const arrank_analysis *a)
             PREFETCH(results[i + 2 * AHEAD].sample);
         if (i + AHEAD < a->n_results)
             PREFETCH(results[i + AHEAD].sample->id);
-        size_t w = text_width(results[i].sample->id);
+        size_t w = shown_width(results[i].sample->id);
         if (w > name_w)
             name_w = w;
     }
@@ -596,9 +624,11 @@ static void write_heading(const table_ctx *tc, FILE *f)
     const arrank_analysis *a = tc->a;
     const arrank_campaign *c = a->campaign;
     const arrank_options *o = &a->options;
-    fprintf(f, "campaign '%s': %zu sample%s, rates in %s (%s basis), %g%% intervals\n",
-            c->title ? c->title : c->name, c->n_samples, c->n_samples == 1 ? "" : "s",
-            c->rate_unit,
+    char title[512], unit[256]; /* from files: escaped for the terminal (text.h) */
+    arrank_text_escape(c->title ? c->title : c->name, title, sizeof title);
+    arrank_text_escape(c->rate_unit, unit, sizeof unit);
+    fprintf(f, "campaign '%s': %zu sample%s, rates in %s (%s basis), %g%% intervals\n", title,
+            c->n_samples, c->n_samples == 1 ? "" : "s", unit,
             arrank_basis_name(c->basis), 100.0 * o->confidence);
     if (tc->have_T)
         fprintf(f, "operating temperature %.2f K (%.2f degC)%s%s\n", o->operating_temp_K,
