@@ -122,8 +122,11 @@ ok_if "--model eyring: table of dH and dS" grep -q 'dH \[kJ/mol\] *dS \[J/(mol\*
 "$A" rank "$DEMO" --model modified >"$T/out" 2>&1
 ok_if "--model modified: table of E and n with the collinearity warning" \
     grep -q 'E and n are nearly collinear' "$T/out"
+"$A" rank "$DEMO" --csv - 2>/dev/null | grep -v '^#' | head -1 >"$T/out"
+ok_if "rank --csv: p_best and group columns" grep -q ',p_best,group,flags,error,error_line,error_column,extrapolation \[K\],extrapolation_rel$' "$T/out"
 "$A" rank "$DEMO" --csv - 2>/dev/null | head -1 >"$T/out"
-ok_if "rank --csv: p_best and group columns" grep -q ',p_best,group,flags,error$' "$T/out"
+ok_if "--csv: the caution as a comment line at the top" \
+    grep -qx '# caution: apparent kinetics of these samples in this window; not for reactor design, scale-up or safety limits' "$T/out"
 
 # the user's locale: with a decimal comma (LC_ALL=de_DE.UTF-8) the program
 # reads and writes exactly what it does in C.  The locale must exist (it is

@@ -80,4 +80,28 @@ PY
 expect_eq "JSON: regime, excluded, curvature, criteria, quality; --use-all keeps all" \
     "$(cat "$T/py")" "1 1 1 1 1 1 1 1 1 1 1 1"
 
+# intervals at the run's level with the standard error named beside them;
+# temperatures to 0.01 K, so that inside or outside a range can be seen
+"$A" check "$DEMO" >"$T/plain" 2>/dev/null
+ok_if "check: Ea with its 95 % interval and the standard error named" \
+    grep -q '^ZN-01 H-beta (ZN-01.csv): no problem found; Ea 61.9 kJ/mol (95 % interval 59.5-64.4, standard error 1.0) on 9 points$' "$T/plain"
+# fitting on the kinetic window is what the fit did, not a problem of the data
+ok_if "check: the kinetic window is a note, not a problem" \
+    grep -q '^  note: fitted on the kinetic window 483.2-543.5 K (7 points)' "$T/plain"
+ok_if "check: ZN-12's three problems (the window not counted)" \
+    grep -q '^ZN-12 beta extrudate (ZN-12.csv): 3 problems found$' "$T/plain"
+# counts agree with their nouns
+mkdir "$T/three"
+cp "$DEMO/ZN-01.csv" "$DEMO/ZN-02.csv" "$DEMO/ZN-13.csv" "$T/three/"
+"$A" check "$T/three" >"$T/three.out" 2>/dev/null
+ok_if "check: '1 of 3 samples has problems'" \
+    grep -qx '1 of 3 samples has problems or could not be fitted' "$T/three.out"
+ok_if "check: '1 problem found'" grep -q '(ZN-13.csv): 1 problem found$' "$T/three.out"
+mkdir "$T/one"
+cp "$DEMO/ZN-01.csv" "$T/one/"
+"$A" fit "$T/one" >"$T/one.out" 2>/dev/null
+ok_if "table: 'campaign ...: 1 sample,'" grep -q "^campaign 'one': 1 sample, rates in" "$T/one.out"
+"$A" check "$DEMO" --at 340C >"$T/ext" 2>/dev/null
+ok_if "check: an operating temperature against the range to 0.01 K" \
+    grep -q 'measured range: 613.15 K against 503.15-583.35 K measured (29.80 K outside, 37 % of the span)' "$T/ext"
 tap_plan

@@ -99,4 +99,16 @@ while IFS= read -r line; do
     esac
 done <"$T/py"
 ok_if "json: six checks ran" test "$(wc -l <"$T/py")" -eq 6
+# the report: the heat criteria and Prater's rise in each sample's table
+SOURCE_DATE_EPOCH=0 "$A" report "$C" --at 540K --out "$T/rep" >/dev/null 2>&1
+R="$T/rep/report.html"
+wren1=$(sed -n '/<h3 id="sample-1">/,/<\/section>/p' "$R")
+has() { case $wren1 in *"$1"*) echo true ;; *) echo false ;; esac; }
+ok_if "report: Wren-1's Anderson row, heat conduction inside the pellet, above its limit" \
+    "$(has '<th>Anderson: heat conduction inside the pellet</th><td class="n">0.786</td><td class="n">0.75</td>')"
+ok_if "report: Wren-1's Prater rise of 0.82 K" \
+    "$(has '<th>Prater temperature rise inside the pellet</th><td class="n">0.82 K')"
+wren2=$(sed -n '/<h3 id="sample-2">/,/<\/section>/p' "$R")
+case $wren2 in *'<th>Mears: heat transfer across the gas film</th><td class="n">0.143</td><td class="n">0.15</td>'*'below the limit: negligible'*) b=true ;; *) b=false ;; esac
+ok_if "report: Wren-2's Mears row, heat transfer across the gas film, below its limit" $b
 tap_plan

@@ -58,9 +58,11 @@ expect_eq "rank: one summary line, last" "$(tail -n 1 "$T/err")" \
 for id in MT-A1 MT-A3 MT-B1 MT-B3 MT-C1 MT-E1; do
     ok_if "rank: $id ranked in the table" grep -Eq "^ +[1-6] .* $id " "$T/out"
 done
-for id in MT-A2 MT-B2 MT-D1 MT-D2 MT-D3; do
-    ok_if "rank: $id listed, not fitted" grep -Eq "^ +- .* $id +[0-9]+ +not fitted: " "$T/out"
+for id in MT-A2 MT-B2 MT-D1 MT-D2; do
+    ok_if "rank: $id listed, file not used" grep -Eq "^ +- .* $id +[0-9]+ +file not used: " "$T/out"
 done
+ok_if "rank: MT-D3 (readable, two points) listed, not fitted" \
+    grep -Eq "^ +- .* MT-D3 +[0-9]+ +not fitted: " "$T/out"
 ok_if "rank: the copy is no row of its own" test "$(grep -c 'MT-A1' "$T/out")" -eq 1
 
 # JSON: the reasons reach the results, every point keeps its reason.
@@ -101,6 +103,26 @@ say("MT-A1 - Copy.csv is byte-identical to MT-A1.csv; not used" in d["notes"],
     "json: a note names the copy and the file kept")
 say("results.csv looks like an output of arrank; not read as a sample" in d["notes"],
     "json: arrank's own results.csv is not read, with a note")
+say(d["n_files"] == 13, "json: n_files counts the 13 sample files found")
+say(d["files_not_used"] == [
+    {"file": "MT-A2.csv", "line": 2, "column": 2,
+     "reason": "unknown unit 'mol/(kq*h)' in column 'rate'"},
+    {"file": "MT-B2.csv", "line": 2, "column": 2,
+     "reason": "brackets do not pair up in unit 'mol/(kg*h))' of column 'rate'"},
+    {"file": "MT-D1.csv", "line": 2, "column": 2,
+     "reason": "rate unit '1/h' of MT-D1.csv is not convertible to the campaign's 'mol/(kg*h)'"},
+    {"file": "MT-D2.csv", "line": 2, "column": None, "reason": s["MT-D2"]["error"]},
+    {"file": "MT-A1 - Copy.csv", "line": None, "column": None,
+     "reason": "byte-identical to MT-A1.csv; not used"}],
+    "json: files_not_used lists the four unreadable files and the copy, with line and column")
+say([k for k, x in s.items() if x["skipped"]] == ["MT-A2", "MT-B2", "MT-D1", "MT-D2"]
+    and s["MT-D3"]["skipped"] is False, "json: skipped is true for the unreadable files only")
+say(s["MT-A2"]["error_column"] == 2 and s["MT-D2"]["error_column"] is None
+    and s["MT-A1"]["error_column"] is None, "json: error_column, null when none")
+lo = {p["line"]: (p["left_out"], p["left_out_column"]) for p in s["MT-B3"]["points"]}
+say(lo[9] == ("'2S0.0' is not a number in column 'Temp'", 1)
+    and lo[7] == ("below detection limit: <LOD in column 'Rate'", 2) and lo[8] == (None, None),
+    "json-points: each point's left_out reason and column, null when usable")
 say(s["MT-E1"]["rank"] is not None and s["MT-E1"]["n_used"] == 6,
     "json: '# mass = 48,5 mg' in a decimal-comma file is read (rates derived)")
 PYEOF
@@ -121,7 +143,36 @@ ok_if "check: the non-numeric temperature named" \
 ok_if "check: the detection limit named" \
     grep -q "left out: line 6, .*below detection limit: < 0.01 in column 'r'" "$T/check"
 ok_if "check: the skipped file with its reason" \
-    grep -q "^MT-B2 (MT-B2.csv): not fitted: brackets do not pair up" "$T/check"
+    grep -q "^MT-B2 (MT-B2.csv): file not used: brackets do not pair up" "$T/check"
+ok_if "check: a temperature it could not read is shown as a dash, not nan K" \
+    grep -q "left out: line 9, —: '2S0.0'" "$T/check"
+ok_if "check: never 'nan K'" sh -c '! grep -qi "nan K" "$1"' _ "$T/check"
+
+# CSV and points.csv: where a skipped file's error points; the reader's reasons
+"$A" fit "$C" --csv "$T/r.csv" --points "$T/p.csv" >/dev/null 2>&1
+cat >"$T/rows.py" <<'PYEOF'
+import csv, sys
+def rows(path):
+    with open(path, newline="") as f:
+        return list(csv.DictReader(line for line in f if not line.startswith("#")))
+r = {x["id"]: x for x in rows(sys.argv[1])}
+print(("ok " if (r["MT-A2"]["error_line"], r["MT-A2"]["error_column"]) == ("2", "2")
+       and (r["MT-D2"]["error_line"], r["MT-D2"]["error_column"]) == ("2", "")
+       and (r["MT-A1"]["error_line"], r["MT-A1"]["error_column"]) == ("", "") else "not ok ")
+      + "csv: error_line and error_column of a skipped file, empty when none")
+p = {(x["sample"], x["line"]): x["reason"] for x in rows(sys.argv[2])}
+print(("ok " if p[("MT-B3", "9")] == "'2S0.0' is not a number in column 'Temp'"
+       and p[("MT-D3", "3")].startswith("sample not fitted: ") else "not ok ")
+      + "points.csv: the reader's reason for a point it left out")
+PYEOF
+"$PY" "$T/rows.py" "$T/r.csv" "$T/p.csv" >"$T/py" 2>&1 || echo "not ok csv checks ran" >>"$T/py"
+while IFS= read -r line; do
+    case $line in
+    "ok "*) ok_if "${line#ok }" true ;;
+    "not ok "*) ok_if "${line#not ok }" false ;;
+    *) echo "# $line" ;;
+    esac
+done <"$T/py"
 
 # --- --strict: all or nothing, the reader as before ----------------------
 "$A" rank "$C" --at 250C --strict --json "$T/s.json" >"$T/out" 2>"$T/err"

@@ -84,6 +84,15 @@ for s in ZN-12 ZN-13 ZN-14; do
 done
 expect_eq "check: ZN-12 has 7 points left out (the demo's pore-diffusion sample)" \
     "$(sed -n '/^ZN-12 /,/^$/p' "$T/check.txt" | grep -c 'left out: ')" 7
+# intervals at the run's level, never a bare standard error; a weighted fit's
+# sqrt(chi2/dof) named as such, not as a residual SD in ln r
+ok_if "report: no bare +- standard error" sh -c '! grep -q "&plusmn;" "$1"' _ "$R"
+ok_if "report: Ea and ln A columns with their 95 % intervals" \
+    grep -q 'Ea \[kJ/mol\] (95 % interval)</th><th>ln A (95 % interval)' "$R"
+ok_if "report: a weighted fit shows sqrt(chi2/dof) by that name" \
+    grep -q 'weighted by rate_sd, &chi;&sup2;/dof = [0-9.e+-]*, &radic;(&chi;&sup2;/dof) = ' "$R"
+ok_if "report: 'residual SD' only for unweighted fits" \
+    sh -c '! grep -q "residual SD [^;]*in ln r; R&sup2; = [0-9.]*; weighted" "$1"' _ "$R"
 ok_if "report: ZN-12's likely cause in words" grep -q 'likely cause: pore diffusion' "$R"
 ok_if "report: pore-diffusion-like rows in ZN-12's table" \
     grep -q '<td>pore-diffusion-like</td><td>pore-limited point: hotter than the kinetic' "$R"

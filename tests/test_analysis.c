@@ -202,15 +202,20 @@ static void test_unfittable(void **state)
     json_decref(root);
     free(buf);
 
-    /* CSV: header + one row per sample */
+    /* CSV: the caution as a comment line, header + one row per sample */
     buf = NULL;
     mem = open_memstream(&buf, &len);
     assert_int_equal(arrank_output_write(a, ARRANK_OUTPUT_CSV, mem, &err), ARRANK_OK);
     fclose(mem);
-    size_t lines = 0;
+    size_t lines = 0, comments = 0;
     for (char *p = buf; *p; p++)
-        lines += *p == '\n';
-    assert_int_equal(lines, 3);
+        if (*p == '\n') {
+            lines++;
+            comments += p[1] == '#';
+        }
+    assert_true(buf[0] == '#');
+    assert_int_equal(lines, 4);
+    assert_int_equal(comments + 1, 1); /* the first line only */
     free(buf);
     arrank_analysis_free(a);
     arrank_campaign_free(c);

@@ -3,8 +3,9 @@
  * built here with printf, cell by cell, the way the layout is specified:
  * every number with snprintf ("%.1f", "%.2f", "%.0f", "%.3f", "%.3g"), each
  * cell cut at 127 bytes as a 128-byte snprintf buffer cuts it, padded with
- * "%-*s" / "%*s", and the sample name shortened to the column by code points,
- * control characters shown as '?'.  output.c writes rows in place with
+ * "%-*s" / "%*s", and the sample name escaped (arrank/text.h: control
+ * characters as \n, \033, bytes that are not UTF-8 as \xHH) and shortened to
+ * the column by code points.  output.c writes rows in place with
  * number.c's formatters, takes a shortcut for plain ASCII names, and
  * formats the rows on worker threads; this checks all of it byte for byte.
  *
@@ -32,6 +33,7 @@
 #include "arrank/fit.h"
 #include "arrank/output.h"
 #include "arrank/analysis_stats.h"
+#include "arrank/text.h"
 #include "../src/lib/util.h"
 #include "../src/lib/json_testing.h"
 #include "helpers.h"
@@ -110,15 +112,19 @@ static size_t code_points(const char *s)
  * follow it), at most 116 bytes of the name (the table's 120-byte name
  * buffer), control characters as '?', then spaces up to width code points.
  */
-static void expected_name(FILE *out, const char *s, size_t width)
+static void expected_name(FILE *out, const char *raw, size_t width)
 {
+    /* control characters and bytes that are not UTF-8 escaped first
+       (arrank/text.h): "a\\nb" for a name with a line break */
+    char s[1024];
+    arrank_text_escape(raw, s, sizeof s);
     size_t cps = code_points(s), keep = cps > width ? width - 3 : cps, kept = 0, bytes = 0;
     char shown[200];
     for (const char *p = s; *p && bytes < 116; p++) {
         unsigned char c = (unsigned char)*p;
         if ((c & 0xC0) != 0x80 && kept++ == keep)
             break;
-        shown[bytes++] = (c < 0x20 || c == 0x7F) ? '?' : (char)c;
+        shown[bytes++] = (char)c;
     }
     shown[bytes] = '\0';
     if (cps > width)
@@ -196,11 +202,18 @@ static void make_fake(fake *fk, size_t n, int ranked, int with_T, int with_stats
             res->error = strdup(rng_next() % 2 ? "only 2 data points; a fit needs 3"
                                                : "'x' is not a number in column 'T'");
             assert_non_null(res->error);
+            s->skipped = rng_next() % 2; /* a file the reader could not read */
             continue;
         }
         arrank_arrhenius *f = &res->fit;
         f->n = rng_next() % 4 == 0 ? s->n_points - 1 - rng_next() % 2 : s->n_points;
         f->dof = (double)f->n - 2.0;
+        f->weighted = (int)(rng_next() % 2);
+        f->resid_sd = log_uniform(-3.0, 0.5);
+        f->chi2_dof = f->weighted ? f->resid_sd * f->resid_sd : NAN;
+        /* the model in force: now and then the modified form's n - 3 */
+        res->interval_dof = f->dof - (double)(rng_next() % 2);
+        res->interval_t = arrank_t_quantile(a->options.confidence, res->interval_dof);
         /* the pipeline's quantile (analysis.c), which the table reads */
         res->t_quantile = arrank_t_quantile(a->options.confidence, f->dof);
         f->T_min_K = odd_sometimes(300.0 + 400.0 * uniform01(&rng_state));
@@ -214,6 +227,12 @@ static void make_fake(fake *fk, size_t n, int ranked, int with_T, int with_stats
         res->at_T.rate = odd_sometimes(rate);
         res->at_T.rate_lo = odd_sometimes(rate * (1.0 - 0.5 * uniform01(&rng_state)));
         res->at_T.rate_hi = odd_sometimes(rate * (1.0 + 2.0 * uniform01(&rng_state)));
+        /* how far outside the range: none, under a kelvin, around 9.95 K, far */
+        if (res->flags & ARRANK_FLAG_EXTRAPOLATED) {
+            static const double far_K[] = {0.0, 0.2, 9.94, 9.96, 12.0, 150.5};
+            res->at_T.extrapolation_K = far_K[rng_next() % 6];
+            res->at_T.extrapolation_rel = res->at_T.extrapolation_K / 80.0;
+        }
         struct arrank_sample_stats *ss = &fk->stats[i];
         ss->p_best = rng_next() % 8 ? uniform01(&rng_state) * (rng_next() % 2 ? 1.0 : 1e-4) : NAN;
         ss->group = (int)(rng_next() % 60);
@@ -255,13 +274,21 @@ static void free_fake(fake *fk)
     free(fk->stats);
 }
 
-/* The flags as the table lists them. */
-static void expected_flags(FILE *out, unsigned flags)
+/* The flags as the table lists them: the extrapolated one with how far
+   ("%.1f" under 9.95 K, else "%.0f"). */
+static void expected_flags(FILE *out, const arrank_result *res)
 {
+    unsigned flags = res->flags;
     int any = 0;
     for (unsigned bit = 1; bit < (1u << ARRANK_FLAG_COUNT); bit <<= 1)
-        if (flags & bit)
-            fprintf(out, "%s%s", any++ ? ", " : "", arrank_flag_name(bit));
+        if (flags & bit) {
+            double out_K = res->at_T.extrapolation_K;
+            if (bit == ARRANK_FLAG_EXTRAPOLATED && res->has_prediction && out_K > 0)
+                fprintf(out, "%sextrapolated %.*f K", any++ ? ", " : "", out_K < 9.95 ? 1 : 0,
+                        out_K);
+            else
+                fprintf(out, "%s%s", any++ ? ", " : "", arrank_flag_name(bit));
+        }
     if (!any)
         fputc('-', out);
 }
@@ -273,9 +300,12 @@ static char *expected_rows(const fake *fk)
     const arrank_options *o = &a->options;
     int have_T = isfinite(o->operating_temp_K), have_stats = a->rank_stats != NULL;
     size_t name_w = 6; /* "sample" */
-    for (size_t i = 0; i < a->n_results; i++)
-        if (code_points(a->results[i].sample->id) > name_w)
-            name_w = code_points(a->results[i].sample->id);
+    for (size_t i = 0; i < a->n_results; i++) {
+        char esc[1024];
+        arrank_text_escape(a->results[i].sample->id, esc, sizeof esc);
+        if (code_points(esc) > name_w)
+            name_w = code_points(esc);
+    }
     if (name_w > NAME_MAX_COLS)
         name_w = NAME_MAX_COLS;
     char head[200];
@@ -315,7 +345,8 @@ static char *expected_rows(const fake *fk)
         fputs("  ", out);
         if (res->error) {
             cell(out, 5, 1, "%zu", res->sample->n_points);
-            fprintf(out, "  not fitted: %s\n", res->error);
+            fprintf(out, "  %s: %s\n", res->sample->skipped ? "file not used" : "not fitted",
+                    res->error);
             continue;
         }
         double t = arrank_t_quantile(o->confidence, f->dof);
@@ -345,7 +376,7 @@ static char *expected_rows(const fake *fk)
             }
         }
         fputs("  ", out);
-        expected_flags(out, res->flags);
+        expected_flags(out, res);
         fputc('\n', out);
     }
     free(shown);
@@ -526,6 +557,7 @@ static void json_record_as_jansson_writes_it(void **state)
             smp->notes = (char **)notes;
             smp->n_notes = i % 6;
             fk.a.results[i].error_line = (long)(i % 5);
+            fk.a.results[i].error_column = (long)(i % 3);
             if (fk.a.results[i].error && i % 4 == 0)
                 fk.a.results[i].error = strcpy(fk.a.results[i].error, "bad \xff byte\n");
         }
@@ -550,6 +582,21 @@ static void json_record_as_jansson_writes_it(void **state)
         same_json(a, "demo campaign", 1);
         arrank_analysis_free(a);
     }
+    arrank_campaign_free(c);
+    /* a folder as people leave it (the default reader): unreadable files
+       (skipped, error_column), points left out by the reader (left_out), a
+       copy not used (files_not_used), weighted fits (sqrt_chi2_dof) */
+    arrank_load_options lo = {0, 0};
+    assert_int_equal(arrank_campaign_load_with("tests/messy", units, &lo, NULL, NULL, &c, &err),
+                     ARRANK_OK);
+    arrank_options o = arrank_options_defaults();
+    o.operating_temp_K = 523.15;
+    o.units = units;
+    o.draws = 2000;
+    arrank_analysis *a = NULL;
+    assert_int_equal(arrank_analysis_run(c, &o, &a, &err), ARRANK_OK);
+    same_json(a, "messy campaign", 1);
+    arrank_analysis_free(a);
     arrank_campaign_free(c);
 }
 

@@ -119,9 +119,11 @@ typedef struct {
     struct arrank_sample_stats *stats;  /* analysis_stats.h; NULL when not computed */
     /* Quantiles the outputs need, computed by the pipeline so that no writer
        computes statistics; NAN when they do not apply. */
+    double confidence;       /* options.confidence: the level of every interval of this result */
     double t_quantile;       /* two-sided `confidence` t on fit.dof: interval = estimate -/+ t se */
     double region_quantile;  /* 2 F(2, fit.dof; confidence): joint (Ea, ln A) confidence region */
-    double model_t_quantile; /* two-sided `confidence` t on the --model fit's dof (stats->model) */
+    /* (the --model fit's t quantile is interval_t above: when a model was
+       fitted, the model is the one in force) */
 } arrank_result;
 
 typedef struct {

@@ -11,9 +11,11 @@
 #include <stdio.h>
 #include <string.h>
 
+#include "arrank/cautions.h"
 #include "arrank/diagnose.h"
 #include "arrank/diagnosis_out.h"
 #include "arrank/output.h"
+#include "arrank/text.h"
 #include "cli.h"
 
 static const char usage[] =
@@ -24,8 +26,11 @@ static const char usage[] =
     "(transport limitation, deactivation, too much conversion, ...), points that\n"
     "look pore- or film-diffusion limited, the kinetic window used for the fit\n"
     "and every point left out with its reason, the Weisz-Prater and Mears numbers\n"
-    "when the sample's metadata give particle and transport data, shifts between\n"
-    "runs, drift with time on stream, outliers and mixed normalisation bases.\n"
+    "when the sample's metadata give particle and transport data, the heat\n"
+    "criteria (Mears' interphase and Anderson's intraparticle numbers, Prater's\n"
+    "temperature rise) and the hot-spot caution for an exothermic reaction run\n"
+    "above the conversion limit, shifts between runs, drift with time on stream,\n"
+    "outliers and mixed normalisation bases.\n"
     "A bend that is not detected is not shown to be absent: with few points or\n"
     "much scatter only strong bending can be seen.\n"
     "\n"
@@ -78,8 +83,10 @@ int cmd_check(int argc, char **argv)
     arrank_status st = ARRANK_OK;
     FILE *out = to_stdout ? stderr : stdout;
     size_t with_problems = 0;
-    if (fprintf(out, "campaign '%s': %zu sample%s checked\n\n", a->campaign->title,
-                a->n_results, a->n_results == 1 ? "" : "s") < 0)
+    char title[512]; /* from campaign.ini or the folder's name: escaped for the terminal */
+    arrank_text_escape(a->campaign->title, title, sizeof title);
+    if (fprintf(out, "campaign '%s': %zu sample%s checked\n\n", title, a->n_results,
+                a->n_results == 1 ? "" : "s") < 0)
         st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
     for (size_t i = 0; st == ARRANK_OK && i < a->n_results; i++) {
         const arrank_result *r = &a->results[i];
@@ -91,9 +98,22 @@ int cmd_check(int argc, char **argv)
             with_problems++;
     }
     if (st == ARRANK_OK &&
-        fprintf(out, "%zu of %zu samples have problems or could not be fitted\n", with_problems,
-                a->n_results) < 0)
+        fprintf(out, "%zu of %zu sample%s %s problems or could not be fitted\n", with_problems,
+                a->n_results, a->n_results == 1 ? "" : "s", with_problems == 1 ? "has" : "have") < 0)
         st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
+    /* the cautions every output carries (arrank/cautions.h), one line each,
+       ids escaped for the terminal */
+    char **cautions = NULL;
+    size_t n_cautions = 0;
+    if (st == ARRANK_OK)
+        st = arrank_cautions_list(a, &cautions, &n_cautions, &err);
+    for (size_t k = 0; st == ARRANK_OK && k < n_cautions; k++) {
+        char shown[4096];
+        arrank_text_escape(cautions[k], shown, sizeof shown);
+        if (fprintf(out, "caution: %s\n", shown) < 0)
+            st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
+    }
+    arrank_cautions_free(cautions, n_cautions);
     if (st == ARRANK_OK && fflush(out) != 0)
         st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
     if (st != ARRANK_OK) {

@@ -204,7 +204,8 @@ void cli_report_unfitted(const cli_session *s)
     for (size_t i = 0; i < c->n_unused; i++)
         cli_fail("%s", c->unused[i]);
     if (not_used)
-        cli_fail("%zu of %zu files not used; see above", not_used, c->n_files);
+        cli_fail("%zu of %zu file%s not used; see above", not_used, c->n_files,
+                 c->n_files == 1 ? "" : "s");
 }
 
 /* The --json/--csv/--points destinations: refused before any work is shown

@@ -322,21 +322,21 @@ typedef struct {
     double rate_to_per_s;
 } analyse_job;
 
-/* The quantiles every output reads (the result's t_quantile, region_quantile,
-   model_t_quantile), so that the writers compute no statistics.  The joint
+/* The quantiles every output reads (the result's t_quantile and
+   region_quantile; the model's interval_t is set by analysis_models.c), so
+   that the writers compute no statistics.  The joint
    region of (Ea, ln A) is 2 F(2, n-2; confidence), the F-based region of a
    linear regression (Draper & Smith, Applied Regression Analysis, 3rd ed.,
    1998, sec. 5.4; from memory). */
 static void result_quantiles(arrank_result *res, const arrank_options *opt)
 {
-    res->t_quantile = res->region_quantile = res->model_t_quantile = NAN;
+    res->confidence = opt->confidence;
+    res->t_quantile = res->region_quantile = NAN;
     if (res->error)
         return;
     res->t_quantile = arrank_t_quantile(opt->confidence, res->fit.dof);
     if (res->fit.dof > 0)
         res->region_quantile = 2.0 * arrank_stats_f_lower(opt->confidence, 2.0, res->fit.dof);
-    if (res->stats && res->stats->has_model)
-        res->model_t_quantile = arrank_t_quantile(opt->confidence, res->stats->model.dof);
 }
 
 static arrank_status analyse_item(void *ctx, size_t i, size_t w, arrank_error *err)

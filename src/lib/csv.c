@@ -11,6 +11,8 @@
 #include <string.h>
 
 #include "arrank/analysis_stats.h"
+#include "arrank/cautions.h"
+#include "arrank/text.h"
 #include "files.h"
 
 static void write_row(const arrank_analysis *a, const arrank_result *res, arrank_csv_row *row);
@@ -22,6 +24,23 @@ static arrank_status write_csv(const arrank_analysis *a, FILE *f, arrank_error *
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     row->f = f;
     row->n = 0;
+    /* the cautions (cautions.c) as comment lines above the header: readers
+       skip lines that start with '#' (README "results.csv") */
+    char **lines = NULL;
+    size_t n_lines = 0;
+    arrank_status st = arrank_cautions_list(a, &lines, &n_lines, err);
+    if (st != ARRANK_OK) {
+        free(row);
+        return st;
+    }
+    for (size_t k = 0; k < n_lines; k++) {
+        /* a control character in an id would end the comment line: escaped
+           here (text.h); the rows keep every id exact */
+        char shown[4096];
+        arrank_text_escape(lines[k], shown, sizeof shown);
+        fprintf(f, "# caution: %s\n", shown);
+    }
+    arrank_cautions_free(lines, n_lines);
     const char *u = a->campaign->rate_unit;
     char h[6][160];
     snprintf(h[0], sizeof h[0], "ln_A [ln(%s)]", u);
@@ -39,7 +58,8 @@ static arrank_status write_csv(const arrank_analysis *a, FILE *f, arrank_error *
     snprintf(rh[1], sizeof rh[1], "rate_at_T_ci_low [%s]", u);
     snprintf(rh[2], sizeof rh[2], "rate_at_T_ci_high [%s]", u);
     const char *tail[] = {"corr_ea_lnA", "T_ref [K]", "T_min [K]", "T_max [K]", "T_op [K]",
-                          rh[0], rh[1], rh[2], "confidence", "p_best", "group", "flags", "error"};
+                          rh[0], rh[1], rh[2], "confidence", "p_best", "group", "flags", "error", "error_line",
+                          "error_column", "extrapolation [K]", "extrapolation_rel"};
     for (size_t i = 0; i < sizeof tail / sizeof *tail; i++)
         arrank_files_csv_field(row, tail[i], i + 1 == sizeof tail / sizeof *tail);
 
@@ -107,7 +127,17 @@ static void write_row(const arrank_analysis *a, const arrank_result *res, arrank
         }
     flags[n] = '\0';
     arrank_files_csv_field(row, flags, 0);
-    arrank_files_csv_field(row, res->error ? res->error : "", 1);
+    arrank_files_csv_field(row, res->error ? res->error : "", 0);
+    /* where the error points in the sample's file; empty when nowhere */
+    arrank_files_csv_num(row, res->error && res->error_line > 0 ? (double)res->error_line : NAN,
+                         0);
+    arrank_files_csv_num(row,
+                         res->error && res->error_column > 0 ? (double)res->error_column : NAN,
+                         0);
+    /* how far the operating temperature lies outside the measured range: K,
+       and against the span; 0 inside, empty without a prediction */
+    arrank_files_csv_num(row, p ? res->at_T.extrapolation_K : NAN, 0);
+    arrank_files_csv_num(row, p ? res->at_T.extrapolation_rel : NAN, 1);
 }
 
 

@@ -508,8 +508,9 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
                     100.0 * wk->pt[i].conversion, wk->pt[i].temp_K, wk->pt[i].line,
                     100.0 * d->conversion_limit);
     }
+    /* what the fit did, not a problem of the data: a note */
     if (d->window_applied && f)
-        finding(wk, "fitted on the kinetic window %.1f-%.1f K (%zu points): Ea %.1f kJ/mol "
+        note(wk, "fitted on the kinetic window %.1f-%.1f K (%zu points): Ea %.1f kJ/mol "
                     "(standard error %.1f), against %.1f kJ/mol (%.1f) on every point",
                 d->window_lo_K, d->window_hi_K, d->window_n, kj(f->ea_J_mol),
                 kj(f->ea_se_J_mol), kj(d->ea_all_J_mol), kj(d->ea_all_se_J_mol));

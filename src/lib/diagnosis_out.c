@@ -8,10 +8,12 @@
 #include <jansson.h>
 #include <math.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "arrank/analysis.h"
 #include "arrank/diagnose.h"
+#include "arrank/text.h"
 #include "diagnosis_out.h"
 #include "number.h"
 
@@ -259,7 +261,7 @@ static size_t basic_problems(FILE *f, const arrank_result *res, int *bad)
     if (res->flags & ARRANK_FLAG_NARROW_RANGE) {
         k++;
         if (f)
-            *bad |= fprintf(f, "  problem: %s: %.1f-%.1f K\n",
+            *bad |= fprintf(f, "  problem: %s: %.2f-%.2f K\n",
                             arrank_flag_words(ARRANK_FLAG_NARROW_RANGE), fit->T_min_K,
                             fit->T_max_K) < 0;
     }
@@ -279,12 +281,60 @@ static size_t basic_problems(FILE *f, const arrank_result *res, int *bad)
         k++;
         if (f)
             *bad |= fprintf(f,
-                            "  problem: %s: %.1f K against %.1f-%.1f K measured; fitted kinetics "
-                            "are not valid outside the tested window\n",
+                            "  problem: %s: %.2f K against %.2f-%.2f K measured (%.2f K outside, "
+                            "%.0f %% of the span); fitted kinetics are not valid outside the "
+                            "tested window\n",
                             arrank_flag_words(ARRANK_FLAG_EXTRAPOLATED), res->at_T.temp_K,
-                            fit->T_min_K, fit->T_max_K) < 0;
+                            fit->T_min_K, fit->T_max_K, res->at_T.extrapolation_K,
+                            100.0 * res->at_T.extrapolation_rel) < 0;
     }
     return k;
+}
+
+/* Text from a file as a terminal may show it (arrank/text.h: control
+   characters and bytes that are not UTF-8 escaped, "a\\nb" for a name with a
+   line break): s itself when it is clean, else an escaped copy in *own, which
+   the caller frees; "" for NULL or when out of memory. */
+static const char *shown(const char *s, char **own)
+{
+    *own = NULL;
+    if (!s)
+        return "";
+    if (arrank_text_is_clean(s))
+        return s;
+    size_t n = arrank_text_escape(s, NULL, 0) + 1;
+    if (!(*own = malloc(n)))
+        return "";
+    arrank_text_escape(s, *own, n);
+    return *own;
+}
+
+/* A line: lead, shown(text), a line break; 1 on a write error. */
+static int put_shown(FILE *f, const char *lead, const char *text)
+{
+    char *own;
+    int bad = fprintf(f, "%s%s\n", lead, shown(text, &own)) < 0;
+    free(own);
+    return bad;
+}
+
+/* One point left out of the fit: its line, its temperature ("\u2014" when the
+   reader could not read one) and why: the reader's reason when it left the
+   point out (arrank_point.omitted), else the diagnosis's.  1 on a write error. */
+static int left_out_line(FILE *f, const arrank_point *p, const arrank_point_diag *pd)
+{
+    const char *why = p->omitted      ? p->omitted
+                      : pd->reason    ? pd->reason
+                                      : "left out before the diagnostics";
+    char *own;
+    const char *text = shown(why, &own);
+    int bad;
+    if (isfinite(p->temp_K))
+        bad = fprintf(f, "  left out: line %ld, %.1f K: %s\n", p->line, p->temp_K, text) < 0;
+    else
+        bad = fprintf(f, "  left out: line %ld, \xE2\x80\x94: %s\n", p->line, text) < 0;
+    free(own);
+    return bad;
 }
 
 static arrank_status diagnosis_write_text_in_c(FILE *f, const arrank_result *res, arrank_error *err)
@@ -292,38 +342,46 @@ static arrank_status diagnosis_write_text_in_c(FILE *f, const arrank_result *res
     const arrank_sample *s = res->sample;
     const arrank_diagnosis *d = res->diagnosis;
     int bad = 0;
-    if (res->error)
-        bad |= fprintf(f, "%s (%s): not fitted: %s\n", s->id, s->file, res->error) < 0;
-    else if (!d)
-        bad |= fprintf(f, "%s (%s): diagnostics not run\n", s->id, s->file) < 0;
+    /* the id and the file name as they may be shown on a terminal */
+    char *own_id, *own_file;
+    const char *id = shown(s->id, &own_id), *file = shown(s->file, &own_file);
+    if (res->error) {
+        bad |= fprintf(f, "%s (%s): %s: ", id, file,
+                       s->skipped ? "file not used" : "not fitted") < 0;
+        bad |= put_shown(f, "", res->error);
+    } else if (!d)
+        bad |= fprintf(f, "%s (%s): diagnostics not run\n", id, file) < 0;
     else {
         size_t n_out = 0;
         for (size_t i = 0; i < s->n_points; i++)
             n_out += !res->used[i];
         size_t n_problems = d->n_findings + basic_problems(NULL, res, &bad);
+        /* Ea with its interval at the run's level (the pipeline's t), the
+           standard error named beside it */
+        const double ea = res->fit.ea_J_mol / 1000.0, se = res->fit.ea_se_J_mol / 1000.0,
+                     t = res->t_quantile;
         if (n_problems == 0)
             bad |= fprintf(f,
-                           "%s (%s): no problem found; Ea %.1f kJ/mol (standard error %.1f) on "
-                           "%zu points\n",
-                           s->id, s->file, res->fit.ea_J_mol / 1000.0,
-                           res->fit.ea_se_J_mol / 1000.0, res->fit.n) < 0;
+                           "%s (%s): no problem found; Ea %.1f kJ/mol (%.4g %% interval "
+                           "%.1f-%.1f, standard error %.1f) on %zu points\n",
+                           id, file, ea, 100.0 * res->confidence, ea - t * se, ea + t * se, se,
+                           res->fit.n) < 0;
         else
-            bad |= fprintf(f, "%s (%s): %zu problem%s found\n", s->id, s->file, n_problems,
+            bad |= fprintf(f, "%s (%s): %zu problem%s found\n", id, file, n_problems,
                            n_problems == 1 ? "" : "s") < 0;
         for (size_t k = 0; k < d->n_findings; k++)
-            bad |= fprintf(f, "  problem: %s\n", d->findings[k]) < 0;
+            bad |= put_shown(f, "  problem: ", d->findings[k]);
         basic_problems(f, res, &bad);
         for (size_t i = 0; i < s->n_points; i++)
             if (!res->used[i])
-                bad |= fprintf(f, "  left out: line %ld, %.1f K: %s\n", s->points[i].line,
-                               s->points[i].temp_K,
-                               d->points[i].reason ? d->points[i].reason
-                                                   : "left out before the diagnostics") < 0;
+                bad |= left_out_line(f, &s->points[i], &d->points[i]);
         if (n_out == 0 && n_problems > 0)
             bad |= fprintf(f, "  every point is in the fit\n") < 0;
         for (size_t k = 0; k < d->n_notes; k++)
-            bad |= fprintf(f, "  note: %s\n", d->notes[k]) < 0;
+            bad |= put_shown(f, "  note: ", d->notes[k]);
     }
+    free(own_id);
+    free(own_file);
     if (bad || ferror(f))
         return arrank_errorf(err, ARRANK_EIO, "cannot write the diagnostics of '%s'", s->id);
     return ARRANK_OK;

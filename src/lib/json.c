@@ -16,6 +16,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "arrank/cautions.h"
 #include "arrank/diagnose.h"
 #include "arrank/version.h"
 #include "number.h"
@@ -63,6 +64,11 @@ static json_t *points_json(const arrank_result *res)
         json_object_set_new(o, "time_on_stream_s", jnum(p->time_on_stream_s));
         json_object_set_new(o, "run", p->run >= 0 ? json_string(s->runs[p->run]) : json_null());
         json_object_set_new(o, "used", json_boolean(res->used[i]));
+        /* why the reader left the point out (arrank_point.omitted), null when usable */
+        json_object_set_new(o, "left_out", jstr(p->omitted));
+        json_object_set_new(o, "left_out_column", p->omitted && p->omitted_column > 0
+                                                      ? json_integer(p->omitted_column)
+                                                      : json_null());
         json_array_append_new(arr, o);
     }
     return arr;
@@ -143,22 +149,31 @@ static json_t *sample_json(const arrank_analysis *a, const arrank_result *res, i
     json_object_set_new(o, "ln_rate_at_T_ref", jnum(ok ? f->b0 : nan));
     json_object_set_new(o, "ln_rate_at_T_ref_se", jnum(ok ? sqrt(f->cov[0][0]) : nan));
     json_object_set_new(o, "cov_ea_kJ_mol_ln_A", jnum(ok ? f->cov_ea_lnA_J_mol / 1000.0 : nan));
-    json_object_set_new(o, "dof", jnum(ok ? f->dof : nan));
-    json_object_set_new(o, "t_quantile", jnum(ok ? t : nan));
-    json_object_set_new(o, "resid_sd_ln_rate", jnum(ok ? f->resid_sd : nan));
+    /* the model in force: the ones rate_at_T_ci uses (analysis_models.c) */
+    json_object_set_new(o, "dof", jnum(ok ? res->interval_dof : nan));
+    json_object_set_new(o, "t_quantile", jnum(ok ? res->interval_t : nan));
+    /* s = sqrt(rss/dof) is the scatter of ln r only for unweighted fits; for
+       weighted ones it is sqrt(chi2/dof), named so */
+    json_object_set_new(o, "resid_sd_ln_rate", jnum(ok && !f->weighted ? f->resid_sd : nan));
     json_object_set_new(o, "r2", jnum(ok ? f->r2 : nan));
     json_object_set_new(o, "weighted", json_boolean(ok && f->weighted));
     json_object_set_new(o, "chi2_dof", jnum(ok ? f->chi2_dof : nan));
+    json_object_set_new(o, "sqrt_chi2_dof", jnum(ok && f->weighted ? f->resid_sd : nan));
     int pred = ok && res->has_prediction;
     json_object_set_new(o, "rate_at_T", jnum(pred ? res->at_T.rate : nan));
     json_object_set_new(o, "rate_at_T_ci",
                         jpair(pred ? res->at_T.rate_lo : nan, pred ? res->at_T.rate_hi : nan));
     json_object_set_new(o, "ln_rate_at_T_se", jnum(pred ? res->at_T.ln_rate_se : nan));
+    json_object_set_new(o, "extrapolation_K", jnum(pred ? res->at_T.extrapolation_K : nan));
+    json_object_set_new(o, "extrapolation_rel", jnum(pred ? res->at_T.extrapolation_rel : nan));
     json_object_set_new(o, "rank", res->rank > 0 ? json_integer(res->rank) : json_null());
     json_object_set_new(o, "flags", flags_json(res->flags));
     json_object_set_new(o, "error", jstr(res->error));
     json_object_set_new(o, "error_line", res->error && res->error_line > 0
                                              ? json_integer(res->error_line) : json_null());
+    json_object_set_new(o, "error_column", res->error && res->error_column > 0
+                                               ? json_integer(res->error_column) : json_null());
+    json_object_set_new(o, "skipped", json_boolean(s->skipped));
     json_t *notes = json_array();
     for (size_t i = 0; i < s->n_notes; i++)
         json_array_append_new(notes, json_string(s->notes[i]));
@@ -167,6 +182,38 @@ static json_t *sample_json(const arrank_analysis *a, const arrank_result *res, i
         json_object_set_new(o, "points", points_json(res));
     merge_rest(o, a, res, detail);
     return o;
+}
+
+/* The files the campaign did not use: each unreadable file (a sample with
+   `skipped`) with the line, column and reason of its error, then each file
+   read but not used ("PATH: why" in campaign->unused, a byte-identical copy),
+   without a line or column. */
+static json_t *files_not_used_json(const arrank_analysis *a)
+{
+    const arrank_campaign *c = a->campaign;
+    json_t *arr = json_array();
+    for (size_t i = 0; arr && i < a->n_results; i++) {
+        const arrank_sample *s = a->results[i].sample;
+        if (!s->skipped)
+            continue;
+        json_array_append_new(
+            arr, json_pack("{s:o, s:o, s:o, s:o}", "file", jstr(s->file), "line",
+                           s->problem_line > 0 ? json_integer(s->problem_line) : json_null(),
+                           "column",
+                           s->problem_column > 0 ? json_integer(s->problem_column) : json_null(),
+                           "reason", jstr(s->problem)));
+    }
+    for (size_t k = 0; arr && k < c->n_unused; k++) {
+        /* the base name, as a sample's "file" */
+        const char *u = c->unused[k], *slash = strrchr(u, '/'), *base = slash ? slash + 1 : u;
+        const char *sep = strstr(base, ": ");
+        json_t *file = sep ? json_stringn(base, (size_t)(sep - base)) : json_string(base);
+        json_array_append_new(arr, json_pack("{s:o, s:o, s:o, s:o}", "file",
+                                             file ? file : json_null(), "line", json_null(),
+                                             "column", json_null(), "reason",
+                                             jstr(sep ? sep + 2 : NULL)));
+    }
+    return arr;
 }
 
 /* The whole document except the samples, whose array is left empty: write_json streams them. */
@@ -196,6 +243,21 @@ static json_t *analysis_json(const arrank_analysis *a)
     for (size_t i = 0; i < c->n_notes; i++)
         json_array_append_new(notes, json_string(c->notes[i]));
     json_object_set_new(root, "notes", notes);
+    json_object_set_new(root, "n_files", json_integer((json_int_t)c->n_files));
+    json_object_set_new(root, "files_not_used", files_not_used_json(a));
+    /* cautions.c: the same lines as the table's and check's */
+    json_t *cautions = json_array();
+    char **lines = NULL;
+    size_t n = 0;
+    if (!cautions || arrank_cautions_list(a, &lines, &n, NULL) != ARRANK_OK) {
+        json_decref(cautions);
+        json_decref(root);
+        return NULL;
+    }
+    for (size_t k = 0; k < n; k++)
+        json_array_append_new(cautions, json_string(lines[k]));
+    arrank_cautions_free(lines, n);
+    json_object_set_new(root, "cautions", cautions);
     return root;
 }
 
@@ -387,6 +449,14 @@ static void put_string(text_buf *b, int *bad, const char *s)
     PUT("\"");
 }
 
+static void put_bool(text_buf *b, int *bad, int v)
+{
+    if (v)
+        PUT("true");
+    else
+        PUT("false");
+}
+
 /* The next key of the sample; *first says whether it is the first. */
 static void put_key(text_buf *b, int *bad, int *first, const char *key)
 {
@@ -483,21 +553,21 @@ static void put_own_keys(text_buf *b, int *bad, const arrank_result *res)
     key_real(b, bad, fi, "ln_rate_at_T_ref", ok ? f->b0 : nan);
     key_real(b, bad, fi, "ln_rate_at_T_ref_se", ok ? sqrt(f->cov[0][0]) : nan);
     key_real(b, bad, fi, "cov_ea_kJ_mol_ln_A", ok ? f->cov_ea_lnA_J_mol / 1000.0 : nan);
-    key_real(b, bad, fi, "dof", ok ? f->dof : nan);
-    key_real(b, bad, fi, "t_quantile", ok ? t : nan);
-    key_real(b, bad, fi, "resid_sd_ln_rate", ok ? f->resid_sd : nan);
+    key_real(b, bad, fi, "dof", ok ? res->interval_dof : nan);
+    key_real(b, bad, fi, "t_quantile", ok ? res->interval_t : nan);
+    key_real(b, bad, fi, "resid_sd_ln_rate", ok && !f->weighted ? f->resid_sd : nan);
     key_real(b, bad, fi, "r2", ok ? f->r2 : nan);
     put_key(b, bad, fi, "weighted");
-    if (ok && f->weighted)
-        PUT("true");
-    else
-        PUT("false");
+    put_bool(b, bad, ok && f->weighted);
     key_real(b, bad, fi, "chi2_dof", ok ? f->chi2_dof : nan);
+    key_real(b, bad, fi, "sqrt_chi2_dof", ok && f->weighted ? f->resid_sd : nan);
     int pred = ok && res->has_prediction;
     key_real(b, bad, fi, "rate_at_T", pred ? res->at_T.rate : nan);
     key_pair(b, bad, fi, "rate_at_T_ci", pred ? res->at_T.rate_lo : nan,
              pred ? res->at_T.rate_hi : nan);
     key_real(b, bad, fi, "ln_rate_at_T_se", pred ? res->at_T.ln_rate_se : nan);
+    key_real(b, bad, fi, "extrapolation_K", pred ? res->at_T.extrapolation_K : nan);
+    key_real(b, bad, fi, "extrapolation_rel", pred ? res->at_T.extrapolation_rel : nan);
     put_key(b, bad, fi, "rank");
     if (res->rank > 0)
         put_int(b, bad, res->rank);
@@ -515,6 +585,13 @@ static void put_own_keys(text_buf *b, int *bad, const arrank_result *res)
         put_int(b, bad, res->error_line);
     else
         PUT("null");
+    put_key(b, bad, fi, "error_column");
+    if (res->error && res->error_column > 0)
+        put_int(b, bad, res->error_column);
+    else
+        PUT("null");
+    put_key(b, bad, fi, "skipped");
+    put_bool(b, bad, s->skipped);
     key_strings(b, bad, fi, "notes", (const char *const *)s->notes, s->n_notes);
 }
 
@@ -593,14 +670,6 @@ static void put_key_at(text_buf *b, int *bad, int *first, int depth, const char 
     put_indent(b, bad, depth);
     put_string(b, bad, key);
     PUT(": ");
-}
-
-static void put_bool(text_buf *b, int *bad, int v)
-{
-    if (v)
-        PUT("true");
-    else
-        PUT("false");
 }
 
 /* An array of strings at depth (its elements one deeper); the ones

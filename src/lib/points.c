@@ -7,7 +7,8 @@
  * T_file_unit, rate, rate_sd (report unit), conversion (fraction),
  * time_on_stream_s, run, used (1/0), regime, local_ea_kJ_mol, fitted (the
  * fitted ln r at the point's temperature, ln of the report unit), residual
- * (ln rate - fitted), reason (why the point is left out; empty when used).
+ * (ln rate - fitted), reason (why the point is left out: the reader's reason
+ * for a point it could not use, else the diagnosis's; empty when used).
  * T_file and T_file_unit stay empty until the reader keeps the temperature
  * as the file wrote it.
  */
@@ -25,10 +26,13 @@ static const char *const columns[] = {
     "time_on_stream_s", "run", "used", "regime", "local_ea_kJ_mol", "fitted", "residual",
     "reason"};
 
-/* Why point k of res is not in the fit: the diagnosis's reason, or the
-   sample's own when it was not fitted at all. */
+/* Why point k of res is not in the fit: the reader's reason when it left the
+   point out (arrank_point.omitted), else the diagnosis's, or the sample's own
+   when it was not fitted at all. */
 static const char *left_out_reason(const arrank_result *res, size_t k, char *buf, size_t n)
 {
+    if (res->sample->points[k].omitted)
+        return res->sample->points[k].omitted;
     if (res->error) {
         snprintf(buf, n, "sample not fitted: %s", res->error);
         return buf;

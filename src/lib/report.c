@@ -11,8 +11,9 @@
  *
  * Each sample's section carries the diagnostics in plain words (the text of
  * arrank_diagnosis_write_text, one list item per line), the points left out
- * of the fit with the reason for each, and the Weisz-Prater and Mears
- * verdicts when they could be computed.
+ * of the fit with the reason for each, and the Weisz-Prater, Mears and heat
+ * criteria (Mears' interphase, Anderson's intraparticle, Prater's rise) when
+ * they could be computed.
  *
  * Reproducible output: the generation date is the current time unless the
  * environment variable SOURCE_DATE_EPOCH holds a whole number of seconds
@@ -38,6 +39,7 @@
 
 #include <nettle/sha2.h>
 
+#include "arrank/cautions.h"
 #include "arrank/diagnose.h"
 #include "arrank/diagnosis_out.h"
 #include "arrank/fit.h"
@@ -450,6 +452,17 @@ static void put_stats_cells(FILE *f, const arrank_result *r)
     fputs("</td>", f);
 }
 
+/* "v (lo&ndash;hi)": an estimate with its interval v -/+ t se. */
+static void put_estimate(FILE *f, double v, double se, double t, int digits)
+{
+    html_num(f, v, digits);
+    fputs(" (", f);
+    html_num(f, v - t * se, digits);
+    fputs("&ndash;", f);
+    html_num(f, v + t * se, digits);
+    fputs(")", f);
+}
+
 static void put_ranking(FILE *f, const arrank_analysis *a)
 {
     double T_op = a->options.operating_temp_K;
@@ -462,7 +475,10 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
     int stats = a->rank_stats != NULL;
     if (stats)
         fputs("<th>P(best)</th><th>group</th>", f);
-    fputs("<th>Ea [kJ/mol]</th><th>ln A</th><th>points</th><th>T range [&deg;C]</th>"
+    fprintf(f, "<th>Ea [kJ/mol] (%.4g %% interval)</th><th>ln A (%.4g %% interval)</th>"
+               "<th>points</th>",
+            100 * a->options.confidence, 100 * a->options.confidence);
+    fputs("<th>T range [&deg;C]</th>"
           "<th>flags</th></tr></thead>\n<tbody>\n",
           f);
     /* Ranked first, in order, then the rest in campaign order. */
@@ -483,8 +499,8 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
             html_text(f, r->sample->id);
             fputs("</td>", f);
             if (r->error) {
-                fprintf(f, "<td colspan=\"%d\">not fitted: ",
-                        (isfinite(T_op) ? 7 : 5) + (stats ? 2 : 0));
+                fprintf(f, "<td colspan=\"%d\">%s: ", (isfinite(T_op) ? 7 : 5) + (stats ? 2 : 0),
+                        r->sample->skipped ? "file not used" : "not fitted");
                 html_text(f, r->error);
                 fputs("</td></tr>\n", f);
                 continue;
@@ -503,14 +519,13 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
             }
             if (stats)
                 put_stats_cells(f, r);
+            /* the estimate and its interval at the run's level (the
+               pipeline's t, analysis.c), never a bare standard error */
+            const double t = r->t_quantile;
             fputs("<td class=\"n\">", f);
-            html_num(f, r->fit.ea_J_mol / 1000, 1);
-            fputs(" &plusmn; ", f);
-            html_num(f, r->fit.ea_se_J_mol / 1000, 1);
+            put_estimate(f, r->fit.ea_J_mol / 1000, r->fit.ea_se_J_mol / 1000, t, 1);
             fputs("</td><td class=\"n\">", f);
-            html_num(f, r->fit.ln_A, 2);
-            fputs(" &plusmn; ", f);
-            html_num(f, r->fit.ln_A_se, 2);
+            put_estimate(f, r->fit.ln_A, r->fit.ln_A_se, t, 2);
             fprintf(f, "</td><td class=\"n\">%zu of %zu</td><td class=\"n\">", r->n_used,
                     r->sample->n_points);
             html_num(f, r->fit.T_min_K - ZERO_C_K, 0);
@@ -522,9 +537,10 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
         }
     }
     fputs("</tbody></table>\n", f);
-    fputs("<p>Ea and ln A are given &plusmn; one standard error; ln A is the natural logarithm "
-          "of A in the report unit.",
-          f);
+    fprintf(f, "<p>Ea and ln A are given with their %.4g %% intervals (Student t on the "
+               "line's degrees of freedom); ln A is the natural logarithm of A in the report "
+               "unit.",
+            100 * a->options.confidence);
     if (stats) {
         const struct arrank_rank_stats *rs = a->rank_stats;
         fprintf(f, " P(best) is the share of %zu random draws from each sample's fitted "
@@ -670,6 +686,8 @@ static void put_left_out(FILE *f, const arrank_result *r)
             reason = d->points[k].reason ? d->points[k].reason
                                          : "left out before the diagnostics";
         }
+        if (p->omitted) /* the reader's own reason for a point it could not use */
+            reason = p->omitted;
         fputs("<td>", f);
         html_text(f, reason);
         fputs("</td></tr>\n", f);
@@ -677,13 +695,35 @@ static void put_left_out(FILE *f, const arrank_result *r)
     fputs("</tbody></table>\n", f);
 }
 
-/* The Weisz-Prater and Mears numbers that the sample's metadata let the
-   diagnostics compute; one that was not computed is left out (the
-   diagnosis's notes say what it needs). */
+/* Prater's bound on the temperature rise inside the pellet: a row of the
+   criteria table, a note rather than a pass or fail (transport.c). */
+static void put_prater(FILE *f, const arrank_prater *p)
+{
+    fputs("<tr><th>Prater temperature rise inside the pellet</th><td class=\"n\">", f);
+    html_num(f, p->rise_K, -3);
+    fputs(" K (&beta; = ", f);
+    html_num(f, p->beta, -3);
+    fputs(")</td><td class=\"n\">&ndash;</td><td class=\"n\">", f);
+    html_num(f, p->temp_K, 1);
+    fputs("</td><td>the most the centre can be hotter than the surface</td><td>", f);
+    html_text(f, p->detail);
+    if (p->source) {
+        fputs(" (", f);
+        html_text(f, p->source);
+        fputs(")", f);
+    }
+    fputs("</td></tr>\n", f);
+}
+
+/* The transport and heat numbers that the sample's metadata let the
+   diagnostics compute (Weisz-Prater, Mears, Mears' interphase and
+   Anderson's intraparticle heat criteria, Prater's rise); one that was not
+   computed is left out (the diagnosis's notes say what it needs). */
 static void put_criteria(FILE *f, const arrank_result *r)
 {
     const arrank_diagnosis *d = r->diagnosis;
-    if (!d || !(d->weisz_prater.computed || d->mears.computed))
+    if (!d || !(d->weisz_prater.computed || d->mears.computed || d->heat.interphase.computed ||
+                d->heat.intraparticle.computed || d->heat.prater.computed))
         return;
     const struct {
         const char *name, *above;
@@ -691,8 +731,16 @@ static void put_criteria(FILE *f, const arrank_result *r)
     } rows[] = {
         {"Weisz&ndash;Prater", "internal (pore) diffusion may limit the rate", &d->weisz_prater},
         {"Mears", "external (film) mass transfer may limit the rate", &d->mears},
+        {"Mears: heat transfer across the gas film",
+         "the pellet may be hotter than the gas: the measured temperature is not the "
+         "catalyst's",
+         &d->heat.interphase},
+        {"Anderson: heat conduction inside the pellet",
+         "the pellet's inside may be hotter than its surface: the measured temperature is not "
+         "the catalyst's",
+         &d->heat.intraparticle},
     };
-    fputs("<table class=\"criteria\"><caption>Transport criteria</caption>\n"
+    fputs("<table class=\"criteria\"><caption>Transport and heat criteria</caption>\n"
           "<thead><tr><th>criterion</th><th>value</th><th>limit</th><th>at T [K]</th>"
           "<th>verdict</th><th>inputs and source</th></tr></thead><tbody>\n",
           f);
@@ -717,6 +765,8 @@ static void put_criteria(FILE *f, const arrank_result *r)
         }
         fputs("</td></tr>\n", f);
     }
+    if (d->heat.prater.computed)
+        put_prater(f, &d->heat.prater);
     fputs("</tbody></table>\n", f);
 }
 
@@ -740,7 +790,8 @@ static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure
     }
     fputs(".</p>\n", f);
     if (r->error) {
-        fputs("<p class=\"note\">Not fitted and not ranked: ", f);
+        fputs(s->skipped ? "<p class=\"note\">File not used and not ranked: "
+                         : "<p class=\"note\">Not fitted and not ranked: ", f);
         html_text(f, r->error);
         fputs(".</p>\n</section>\n", f);
         return;
@@ -763,14 +814,18 @@ static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure
     }
     fputs("</tbody></table>\n<p>", f);
     fprintf(f, "Fitted on %zu of %zu points, %.1f&ndash;%.1f &deg;C, T<sub>ref</sub> = "
-               "%.2f K; correlation of Ea and ln A %.4f; residual SD %.3g in ln r; "
-               "R&sup2; = %.4f",
+               "%.2f K; correlation of Ea and ln A %.4f",
             r->n_used, s->n_points, fit->T_min_K - ZERO_C_K, fit->T_max_K - ZERO_C_K,
-            fit->T_ref_K, fit->corr_ea_lnA, fit->resid_sd, fit->r2);
+            fit->T_ref_K, fit->corr_ea_lnA);
+    /* s = sqrt(rss/dof) is the scatter of ln r only without weights; with
+       rate_sd it is sqrt(chi2/dof), how far the scatter is from the stated sd */
     if (fit->weighted && isfinite(fit->chi2_dof))
-        fprintf(f, "; weighted by rate_sd, &chi;&sup2;/dof = %.3g", fit->chi2_dof);
+        fprintf(f, "; R&sup2; = %.4f; weighted by rate_sd, &chi;&sup2;/dof = %.3g, "
+                   "&radic;(&chi;&sup2;/dof) = %.3g",
+                fit->r2, fit->chi2_dof, fit->resid_sd);
     else
-        fputs("; unweighted (no rate_sd)", f);
+        fprintf(f, "; residual SD %.3g in ln r; R&sup2; = %.4f; unweighted (no rate_sd)",
+                fit->resid_sd, fit->r2);
     fputs(".</p>\n", f);
     if (r->flags) {
         fputs("<ul class=\"flags\">\n", f);
@@ -812,7 +867,8 @@ static void put_methods(FILE *f, const arrank_analysis *a)
             "errors (ordinary least squares on ln r); with rate_sd each point is weighted by "
             "(r/sd)&sup2;.</li>\n"
             "<li><b>Intervals.</b> Two-sided %.4g %% intervals from Student's t with n &minus; 2 "
-            "degrees of freedom and the covariance scaled by the residual variance.  The rate "
+            "degrees of freedom (n &minus; 3 for the rate at a temperature with the modified "
+            "form) and the covariance scaled by the residual variance.  The rate "
             "at a temperature has its interval from the full covariance (delta method) and is "
             "asymmetric in r.  The ellipses in the Ea&ndash;ln A figure are joint regions with "
             "the 2&middot;F(2, n &minus; 2) quantile.</li>\n"
@@ -833,12 +889,31 @@ static void put_methods(FILE *f, const arrank_analysis *a)
                   "what remains.");
 }
 
-static void put_cautions(FILE *f)
+/* The caution box: the cautions every output carries (cautions.c: apparent
+   kinetics, the samples extrapolated far, the ranking beyond the isokinetic
+   temperature), then the page's own on scale-up, heat and gases. */
+static void put_cautions(FILE *f, const arrank_analysis *a)
 {
-    fputs("<div class=\"caution\">\n<p><b>Cautions.</b></p>\n<ul>\n"
-          "<li>The fitted parameters are apparent values, valid only for the conditions and "
-          "the temperature range tested.  Do not extrapolate them to reactor design or to "
-          "safety limits.</li>\n"
+    char **lines = NULL;
+    size_t n = 0;
+    if (arrank_cautions_list(a, &lines, &n, NULL) != ARRANK_OK)
+        n = 0;
+    fputs("<div class=\"caution\">\n<p><b>Cautions.</b></p>\n<ul>\n", f);
+    for (size_t k = 0; k < n; k++) {
+        fputs("<li><b>", f);
+        if (lines[k][0] >= 'a' && lines[k][0] <= 'z') /* a sentence here */
+            fputc(lines[k][0] - 'a' + 'A', f);
+        html_text(f, lines[k] + (lines[k][0] >= 'a' && lines[k][0] <= 'z'));
+        fputs(".</b>", f);
+        if (k == 0)
+            fputs(" The fitted parameters are apparent values, valid only for the conditions "
+                  "and the temperature range tested.  Do not extrapolate them to reactor design "
+                  "or to safety limits.",
+                  f);
+        fputs("</li>\n", f);
+    }
+    arrank_cautions_free(lines, n);
+    fputs(
           "<li>Scale-up needs its own transport and hazard studies (calorimetry, runaway and "
           "parametric-sensitivity criteria); a screening ranking is not one.</li>\n"
           "<li>Exothermic reactions cause hot spots and can run away; a thermocouple outside "
@@ -904,15 +979,15 @@ static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_opti
     html_text(f, title);
     fputs("</h1>\n<p>Review report of the campaign <code>", f);
     html_text(f, c && c->name ? c->name : "");
-    fprintf(f, "</code>: %zu samples, %zu fitted, %zu ranked; rates in ", a->n_results, n_fit,
-            a->n_ranked);
+    fprintf(f, "</code>: %zu sample%s, %zu fitted, %zu ranked; rates in ", a->n_results,
+            a->n_results == 1 ? "" : "s", n_fit, a->n_ranked);
     html_text(f, unit_of(a));
     if (isfinite(a->options.operating_temp_K))
         fprintf(f, "; operating temperature %.2f &deg;C (%.2f K)",
                 a->options.operating_temp_K - ZERO_C_K, a->options.operating_temp_K);
     fprintf(f, "; %.4g %% intervals.</p>\n</header>\n", 100 * a->options.confidence);
 
-    put_cautions(f);
+    put_cautions(f, a);
     if (fs->status != ARRANK_OK) {
         fputs("<p class=\"note\">The figures could not be drawn: ", f);
         html_text(f, fs->message);

@@ -5,7 +5,7 @@
  * compensation verdict and, with --model, the model's parameters.
  *
  * The writer reads only the analysis: every quantile comes from the pipeline
- * (arrank_result.t_quantile, model_t_quantile).
+ * (arrank_result.t_quantile, interval_t).
  */
 #include "table.h"
 
@@ -15,6 +15,8 @@
 #include <string.h>
 
 #include "arrank/analysis_stats.h"
+#include "arrank/cautions.h"
+#include "arrank/text.h"
 #include "number.h"
 #include "util.h"
 
@@ -36,15 +38,16 @@ static size_t *display_order(const arrank_analysis *a)
     return order;
 }
 
-/* The names of the flags set, joined by sep, into buf (size n), cut as snprintf cuts. */
-static void flags_joined(unsigned flags, char *buf, size_t n, const char *sep)
+/* The names of the flags set, joined by sep, into buf (size n), cut as snprintf
+   cuts; the extrapolated flag says how far when extra (its text) is given. */
+static void flags_joined(unsigned flags, char *buf, size_t n, const char *sep, const char *extra)
 {
     buf[0] = '\0';
     size_t len = 0, sep_len = strlen(sep);
     for (unsigned bit = 1; bit && bit < (1u << ARRANK_FLAG_COUNT); bit <<= 1) {
         if (!(flags & bit))
             continue;
-        const char *name = arrank_flag_name(bit);
+        const char *name = bit == ARRANK_FLAG_EXTRAPOLATED && extra ? extra : arrank_flag_name(bit);
         size_t name_len = strlen(name), s_len = len ? sep_len : 0;
         if (s_len + name_len >= n - len) { /* does not fit: what snprintf keeps of it */
             snprintf(buf + len, n - len, "%s%s", len ? sep : "", name);
@@ -66,10 +69,32 @@ static size_t text_width(const char *s)
     return w;
 }
 
-/* Copy s into buf shortened to at most width code points ("..." at the end),
-   with control characters shown as '?', so a name cannot break the layout. */
-static void fit_text(const char *s, size_t width, char *buf, size_t n)
+/* Width of text from a file as the table shows it: control characters and
+   bytes that are not UTF-8 escaped (arrank/text.h, "a\\nb"). */
+static size_t shown_width(const char *s)
 {
+    if (arrank_text_is_clean(s))
+        return text_width(s);
+    char esc[4 * NAME_WIDTH_MAX + 64]; /* cut: still wider than any name column */
+    arrank_text_escape(s, esc, sizeof esc);
+    return text_width(esc);
+}
+
+/* Copy raw into buf shortened to at most width code points ("..." at the
+   end), control characters and bytes that are not UTF-8 escaped first
+   (arrank/text.h: a name "a<line break>b" is shown "a\\nb" on one line), so
+   a name cannot break the layout or the terminal. */
+static void fit_text(const char *raw, size_t width, char *buf, size_t n)
+{
+    /* an escaped text cut at 175 bytes still has more than NAME_WIDTH_MAX
+       code points (4 bytes each at most), so "..." is decided as for the
+       whole */
+    char esc[4 * NAME_WIDTH_MAX + 64];
+    const char *s = raw;
+    if (!arrank_text_is_clean(raw)) {
+        arrank_text_escape(raw, esc, sizeof esc);
+        s = esc;
+    }
     size_t w = text_width(s), out = 0, cps = 0, keep = w > width ? width - 3 : w;
     for (const char *p = s; *p && out + 4 < n; p++) {
         unsigned char c = (unsigned char)*p;
@@ -262,7 +287,7 @@ static void write_model_table(const arrank_analysis *a, FILE *f)
         if (res->error || !res->stats || !res->stats->has_model)
             continue;
         const arrank_model_fit *m = &res->stats->model;
-        const double t = res->model_t_quantile; /* the pipeline's (analysis.c) */
+        const double t = res->interval_t; /* the model's, the pipeline's (analysis_models.c) */
         char name[4 * NAME_WIDTH_MAX + 8], c1[64], c2[64];
         fit_text(res->sample->id, NAME_WIDTH_MAX, name, sizeof name);
         if (eyring) {
@@ -308,7 +333,8 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
     const arrank_options *o = &a->options;
     const arrank_result *res = &a->results[tc->order[k]];
     const arrank_arrhenius *fit = &res->fit;
-    char *p = row_room(r, ROW_ROOM + (res->error ? strlen(res->error) : 0));
+    /* an error text escaped takes at most 4 bytes a byte (arrank/text.h) */
+    char *p = row_room(r, ROW_ROOM + (res->error ? 4 * strlen(res->error) + 1 : 0));
     if (!p)
         return;
     char *const row = p, cell[CELL_MAX + 1];
@@ -340,8 +366,16 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
     p = put_text(p, "  ", 2);
     if (res->error) {
         p = put_right(p, cell, int_text(cell, (long long)res->sample->n_points), tc->w_n);
-        p = put_text(p, "  not fitted: ", 14);
-        p = put_text(p, res->error, strlen(res->error));
+        if (res->sample->skipped) /* a file the reader could not read */
+            p = put_text(p, "  file not used: ", 17);
+        else
+            p = put_text(p, "  not fitted: ", 14);
+        if (arrank_text_is_clean(res->error)) {
+            p = put_text(p, res->error, strlen(res->error));
+        } else { /* text from a file: escaped for the terminal */
+            size_t len = arrank_text_escape(res->error, p, 4 * strlen(res->error) + 1);
+            p += len;
+        }
         *p++ = '\n';
         r->n += (size_t)(p - row);
         *any_error = 1;
@@ -405,7 +439,15 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
     }
     p = put_text(p, "  ", 2);
     if (res->flags) {
-        flags_joined(res->flags, p, 512, ", "); /* as many bytes as ever: under 512 */
+        /* how far the operating temperature lies outside the measured range */
+        char extra[64], *how_far = NULL;
+        if ((res->flags & ARRANK_FLAG_EXTRAPOLATED) && res->has_prediction &&
+            res->at_T.extrapolation_K > 0 && res->at_T.extrapolation_K < 1e9) {
+            const double out_K = res->at_T.extrapolation_K;
+            snprintf(extra, sizeof extra, "extrapolated %.*f K", out_K < 9.95 ? 1 : 0, out_K);
+            how_far = extra;
+        }
+        flags_joined(res->flags, p, 512, ", ", how_far); /* as many bytes as ever: under 512 */
         p += strlen(p);
     } else {
         *p++ = '-';
@@ -551,7 +593,7 @@ static size_t name_width(const arrank_analysis *a)
             PREFETCH(results[i + 2 * AHEAD].sample);
         if (i + AHEAD < a->n_results)
             PREFETCH(results[i + AHEAD].sample->id);
-        size_t w = text_width(results[i].sample->id);
+        size_t w = shown_width(results[i].sample->id);
         if (w > name_w)
             name_w = w;
     }
@@ -582,8 +624,11 @@ static void write_heading(const table_ctx *tc, FILE *f)
     const arrank_analysis *a = tc->a;
     const arrank_campaign *c = a->campaign;
     const arrank_options *o = &a->options;
-    fprintf(f, "campaign '%s': %zu samples, rates in %s (%s basis), %g%% intervals\n",
-            c->title ? c->title : c->name, c->n_samples, c->rate_unit,
+    char title[512], unit[256]; /* from files: escaped for the terminal (text.h) */
+    arrank_text_escape(c->title ? c->title : c->name, title, sizeof title);
+    arrank_text_escape(c->rate_unit, unit, sizeof unit);
+    fprintf(f, "campaign '%s': %zu sample%s, rates in %s (%s basis), %g%% intervals\n", title,
+            c->n_samples, c->n_samples == 1 ? "" : "s", unit,
             arrank_basis_name(c->basis), 100.0 * o->confidence);
     if (tc->have_T)
         fprintf(f, "operating temperature %.2f K (%.2f degC)%s%s\n", o->operating_temp_K,
@@ -625,7 +670,8 @@ static void write_heading(const table_ctx *tc, FILE *f)
 
 /* The lines below the rows: the flags in words, P(best) and groups, the
    compensation sentence, the model table, the caution on extrapolation. */
-static void write_footer(const table_ctx *tc, FILE *f, unsigned seen_flags, int any_error)
+static arrank_status write_footer(const table_ctx *tc, FILE *f, unsigned seen_flags,
+                                  int any_error, arrank_error *err)
 {
     const arrank_analysis *a = tc->a;
     const arrank_options *o = &a->options;
@@ -660,9 +706,23 @@ static void write_footer(const table_ctx *tc, FILE *f, unsigned seen_flags, int 
     }
     if (o->model != ARRANK_MODEL_ARRHENIUS)
         write_model_table(a, f);
-    if (tc->have_T && (seen_flags & ARRANK_FLAG_EXTRAPOLATED))
-        fprintf(f, "\nCaution: rates outside the measured temperature range are extrapolations of\n"
-                   "apparent kinetics; do not use them for reactor design or safety limits.\n");
+    /* cautions.c: apparent kinetics, samples extrapolated far, the ranking
+       beyond the isokinetic temperature */
+    {
+        char **lines = NULL;
+        size_t n = 0;
+        arrank_status st = arrank_cautions_list(a, &lines, &n, err);
+        if (st != ARRANK_OK)
+            return st;
+        fputc('\n', f);
+        for (size_t k = 0; k < n; k++) {
+            char shown[2048]; /* ids escaped for the terminal (text.h), a long list cut */
+            arrank_text_escape(lines[k], shown, sizeof shown);
+            fprintf(f, "Caution: %s.\n", shown);
+        }
+        arrank_cautions_free(lines, n);
+    }
+    return ARRANK_OK;
 }
 
 static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error *err)
@@ -678,7 +738,9 @@ static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error
     free(order);
     if (rows_st != ARRANK_OK)
         return rows_st;
-    write_footer(&tc, f, seen_flags, any_error);
+    arrank_status st = write_footer(&tc, f, seen_flags, any_error, err);
+    if (st != ARRANK_OK)
+        return st;
     if (ferror(f))
         return arrank_errorf(err, ARRANK_EIO, "write failed");
     return ARRANK_OK;
