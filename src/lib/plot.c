@@ -3,12 +3,15 @@
  * fed to one gnuplot child process through a pipe.
  *
  * Safety rule (DESIGN "Plotting"): the script is built from our own fixed text,
- * numbers printed by printf, and user strings passed through quote(), which
- * makes a single-quoted gnuplot string with every ' spliced in by
- * concatenation.  gnuplot expands backquotes and macros in double-quoted
- * strings and in bare command text, never inside single quotes.  Data blocks
- * hold only numbers written by "%.9g", so no line of a block can be "EOD" or
- * anything but numbers, and no sample name ever enters one.
+ * numbers printed by printf, and user strings passed through put_quoted(),
+ * which makes one double-quoted gnuplot string with \ and " escaped and every
+ * backquote written as the escape \140 (gnuplot substitutes `command` inside
+ * double quotes, but never an escaped one, and expands no macro inside a
+ * string); in a tic label, which gnuplot reads as a printf format, '%' is
+ * doubled too.  Terminals are noenhanced, so ^ _ @ & { } are drawn as
+ * themselves.  Data blocks hold only numbers written by "%.9g", so no line of
+ * a block can be "EOD" or anything but numbers, and no sample name ever
+ * enters one.
  *
  * Output files are written by gnuplot under temporary names in the output
  * folder (the child runs with that folder as its working directory, so no
@@ -120,10 +123,18 @@ static size_t utf8_seq(const unsigned char *s, unsigned long *cp)
     return n;
 }
 
-void arrank_plot_put_q(FILE *f, const char *text)
+/* text as one double-quoted gnuplot string, written in one pass (linear in
+   the text: a name of many quotes once became a chain of concatenations that
+   gnuplot took quadratic time to join).  Inside double quotes gnuplot reads
+   backslash escapes and substitutes `command` (scanner.c), so \ and " are
+   escaped and a backquote is written as the octal escape \140, which the
+   scanner never sees as one; '@' macros and '$' are not expanded inside a
+   string.  With as_format, each '%' is doubled: gnuplot reads the labels of
+   an explicit tic list as printf formats of the tic's value (gprintf). */
+static void put_quoted(FILE *f, const char *text, int as_format)
 {
     const unsigned char *s = (const unsigned char *)(text ? text : "");
-    fputs("('", f);
+    fputs("(\"", f);
     while (*s) {
         unsigned long cp;
         size_t n = utf8_seq(s, &cp);
@@ -136,13 +147,27 @@ void arrank_plot_put_q(FILE *f, const char *text)
             s += n;
             continue;
         }
-        if (cp == '\'')
-            fputs("' . \"'\" . '", f);
+        if (cp == '\\' || cp == '"')
+            fputc('\\', f);
+        if (cp == '`')
+            fputs("\\140", f);
+        else if (cp == '%' && as_format)
+            fputs("%%", f);
         else
             fwrite(s, 1, n, f);
         s += n;
     }
-    fputs("')", f);
+    fputs("\")", f);
+}
+
+void arrank_plot_put_q(FILE *f, const char *text)
+{
+    put_quoted(f, text, 0);
+}
+
+void arrank_plot_put_q_tic(FILE *f, const char *text)
+{
+    put_quoted(f, text, 1);
 }
 
 char *arrank_plot_quote(const char *text)
@@ -473,6 +498,21 @@ int arrank_plot_any_extrapolation(double T_op, const arrank_arrhenius *fit)
     return isfinite(T_op) && (T_op < fit->T_min_K || T_op > fit->T_max_K);
 }
 
+/* The pad that keeps an axis over [lo, hi] from being empty to gnuplot: pad,
+   or more when [lo - pad, hi + pad] would be narrower than 2e-3 of scale.
+   Points a hair apart (a fitted sample at one set point, 1e-7 K apart) would
+   otherwise give a range whose ends print alike in "%.9g", which gnuplot
+   refuses ("empty x range").  The floor (our choice) shows such points as one
+   value with the axis about 0.1 % of scale to each side. */
+double arrank_plot_min_pad(double lo, double hi, double pad, double scale)
+{
+    double min_half = 1e-3 * fabs(scale);
+    if (!(min_half > 0))
+        min_half = 1e-3;
+    double need = min_half - 0.5 * (hi - lo);
+    return pad >= need ? pad : need;
+}
+
 /* The smallest step of 1, 2, 2.5 or 5 times a power of ten that puts at
    most max_tics tics on span (common practice for axis labels). */
 double arrank_plot_nice_step(double span, double max_tics)
@@ -558,7 +598,7 @@ static void write_script(const arrank_analysis *a, const figure *figs, const out
     s.title = a->campaign && a->campaign->title ? a->campaign->title
               : a->campaign && a->campaign->name ? a->campaign->name
                                                  : "";
-    fputs("# arrank figures.  Text from the data appears only in single-quoted strings;\n"
+    fputs("# arrank figures.  Text from the data appears only in quoted strings;\n"
           "# data blocks hold numbers only.\n",
           f);
     for (size_t k = 0; k < n_outs; k++) {
