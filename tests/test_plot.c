@@ -24,6 +24,7 @@
 #include "arrank/analysis.h"
 #include "arrank/plot.h"
 #include "arrank/analysis_stats.h"
+#include "helpers.h"
 
 /* ---- quoting ------------------------------------------------------------ */
 
@@ -428,6 +429,86 @@ static void test_rank_stats_drawn(void **state)
     fx->a->rank_stats = saved;
 }
 
+/* No entry of dir whose name starts with prefix. */
+static int none_named(const char *dir, const char *prefix)
+{
+    DIR *d = opendir(dir);
+    assert_non_null(d);
+    struct dirent *e;
+    int none = 1;
+    while ((e = readdir(d)) != NULL)
+        none &= strncmp(e->d_name, prefix, strlen(prefix)) != 0;
+    closedir(d);
+    return none;
+}
+
+/* The library makes no file at a predictable name: links planted at the
+   names it once used for gnuplot's outputs (".NAME.PID.tmp" in the output
+   folder, PID this process) are neither followed nor removed, the figures
+   arrive, and the private folder gnuplot wrote into is gone. */
+static void test_write_no_predictable_names(void **state)
+{
+    fixture *fx = *state;
+    char *dir = temp_dir_make();
+    file_write(dir, "victim", "keep\n");
+    char link1[4200], link2[4200], target2[4200], victim[4200];
+    snprintf(victim, sizeof victim, "%s/victim", dir);
+    snprintf(target2, sizeof target2, "%s/made-through-a-link", dir);
+    snprintf(link1, sizeof link1, "%s/.arrhenius.svg.%ld.tmp", dir, (long)getpid());
+    snprintf(link2, sizeof link2, "%s/.ea-lnA.svg.%ld.tmp", dir, (long)getpid());
+    assert_int_equal(symlink(victim, link1), 0);
+    assert_int_equal(symlink(target2, link2), 0); /* dangling: would create target2 */
+    arrank_plot_files written;
+    arrank_error err;
+    arrank_error_clear(&err);
+    arrank_status st = arrank_plot_write(fx->a, dir, NULL, &written, &err);
+    if (st != ARRANK_OK)
+        print_error("plot: %s\n", err.message);
+    assert_int_equal(st, ARRANK_OK);
+    assert_int_equal(written.n, 3 + 8); /* three campaign figures, 8 fitted samples */
+    for (size_t k = 0; k < written.n; k++) {
+        struct stat sb;
+        assert_int_equal(lstat(written.files[k].path, &sb), 0);
+        assert_true(S_ISREG(sb.st_mode) && sb.st_size > 0);
+    }
+    arrank_plot_files_clear(&written);
+    size_t len = 0;
+    char *kept = file_slurp(victim, &len);
+    assert_int_equal(len, 5);
+    assert_memory_equal(kept, "keep\n", 5);
+    free(kept);
+    struct stat sb;
+    assert_int_equal(lstat(link1, &sb), 0);
+    assert_true(S_ISLNK(sb.st_mode));
+    assert_int_equal(lstat(link2, &sb), 0);
+    assert_true(S_ISLNK(sb.st_mode));
+    assert_int_not_equal(lstat(target2, &sb), 0);
+    assert_true(none_named(dir, ".arrank-figures."));
+    temp_dir_remove(dir);
+}
+
+/* All or none: a folder where one figure should go is found before any
+   figure moves; nothing is written and the private folder is gone. */
+static void test_write_all_or_none(void **state)
+{
+    fixture *fx = *state;
+    char *dir = temp_dir_make();
+    char blocker[4200];
+    snprintf(blocker, sizeof blocker, "%s/rate-at-T.svg", dir);
+    assert_int_equal(mkdir(blocker, 0700), 0);
+    arrank_plot_files written;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_plot_write(fx->a, dir, NULL, &written, &err), ARRANK_EIO);
+    assert_non_null(strstr(err.message, "rate-at-T.svg"));
+    assert_int_equal(written.n, 0);
+    assert_true(none_named(dir, "arrhenius"));
+    assert_true(none_named(dir, "diagnostics-"));
+    assert_true(none_named(dir, ".arrank-figures."));
+    assert_int_equal(rmdir(blocker), 0);
+    temp_dir_remove(dir);
+}
+
 static void test_find_gnuplot_missing(void **state)
 {
     (void)state;
@@ -454,6 +535,8 @@ int main(void)
         cmocka_unit_test(test_figure_names),
         cmocka_unit_test(test_names_only_quoted),
         cmocka_unit_test(test_rank_stats_drawn),
+        cmocka_unit_test(test_write_no_predictable_names),
+        cmocka_unit_test(test_write_all_or_none),
         cmocka_unit_test(test_find_gnuplot_missing),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
