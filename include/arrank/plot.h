@@ -74,12 +74,16 @@ typedef struct {
 /*
  * Draw every figure of the analysis into the existing folder out_dir.
  * options may be NULL (defaults).  written may be NULL; otherwise on success
- * it lists the files made (free with arrank_plot_files_clear).  Each file is
- * written under a temporary name and renamed into place only when gnuplot has
- * finished without error, so a failure never leaves a half figure.
+ * it lists the files made (free with arrank_plot_files_clear).  gnuplot
+ * writes every file into a private folder made by mkdtemp inside out_dir (no
+ * file is ever made at a name anyone could guess, so a link planted in out_dir
+ * is never followed); the files are renamed into place only when gnuplot has
+ * finished without error and no destination is a folder, so a failure leaves
+ * no figure, half or whole; the private folder is removed in every case.
  * Returns ENOGNUPLOT when the program cannot be found or run (message says
  * how to install it), EPLOT with gnuplot's own message when gnuplot fails,
- * EIO when out_dir is not a folder or a rename fails, EDATA when there is
+ * EIO when out_dir is not a folder, a private folder cannot be made in it, a
+ * destination is a folder or a rename fails, EDATA when there is
  * nothing to draw, ENOMEM.
  */
 arrank_status arrank_plot_write(const arrank_analysis *analysis, const char *out_dir,
