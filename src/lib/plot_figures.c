@@ -333,6 +333,33 @@ static int row_ends(const arrank_prediction *p, double x_lo, double x_hi, double
     return clipped;
 }
 
+/* The rate figure's axis: it spans the finite positive rates and interval
+   ends, widened by 6 % of the decades on each side, within [RATE_AXIS_MIN,
+   RATE_AXIS_MAX]; what lies beyond is clipped to the axis edge and drawn
+   open-ended (row_ends). */
+static void rate_axis(const arrank_analysis *a, const size_t *rows, size_t n_rows, double *x_lo,
+                      double *x_hi)
+{
+    double lo = INFINITY, hi = -INFINITY;
+    for (size_t k = 0; k < n_rows; k++) {
+        const arrank_prediction *p = &a->results[rows[k]].at_T;
+        const double v[3] = {p->rate, p->rate_lo, p->rate_hi};
+        for (int j = 0; j < 3; j++)
+            if (isfinite(v[j]) && v[j] > 0) {
+                lo = fmin(lo, fmin(fmax(v[j], RATE_AXIS_MIN), RATE_AXIS_MAX));
+                hi = fmax(hi, fmin(fmax(v[j], RATE_AXIS_MIN), RATE_AXIS_MAX));
+            }
+    }
+    if (!(lo > 0) || !isfinite(hi)) {
+        lo = 1e-3;
+        hi = 1.0;
+    }
+    double span = log10(hi / lo);
+    double widen = pow(10.0, 0.06 * (span > 0.2 ? span : 0.2));
+    *x_lo = lo / widen >= RATE_AXIS_MIN ? lo / widen : RATE_AXIS_MIN;
+    *x_hi = hi * widen <= RATE_AXIS_MAX ? hi * widen : RATE_AXIS_MAX;
+}
+
 void arrank_plot_fig_rate_at_T(script *s)
 {
     FILE *f = s->f;
@@ -354,28 +381,8 @@ void arrank_plot_fig_rate_at_T(script *s)
             if (a->results[i].has_prediction && arrank_plot_fitted(&a->results[i]))
                 rows[n_rows++] = i;
     }
-    /* The axis spans the finite positive rates and interval ends, within
-       [RATE_AXIS_MIN, RATE_AXIS_MAX]; what lies beyond is clipped to the axis
-       edge and drawn open-ended (row_ends). */
-    double lo = INFINITY, hi = -INFINITY;
-    for (size_t k = 0; k < n_rows; k++) {
-        const arrank_prediction *p = &a->results[rows[k]].at_T;
-        const double v[3] = {p->rate, p->rate_lo, p->rate_hi};
-        for (int j = 0; j < 3; j++)
-            if (isfinite(v[j]) && v[j] > 0) {
-                lo = fmin(lo, fmin(fmax(v[j], RATE_AXIS_MIN), RATE_AXIS_MAX));
-                hi = fmax(hi, fmin(fmax(v[j], RATE_AXIS_MIN), RATE_AXIS_MAX));
-            }
-    }
-    if (!(lo > 0) || !isfinite(hi)) {
-        lo = 1e-3;
-        hi = 1.0;
-    }
-    double span = log10(hi / lo);
-    double widen = pow(10.0, 0.06 * (span > 0.2 ? span : 0.2));
-    double x_lo = lo / widen, x_hi = hi * widen;
-    x_lo = x_lo >= RATE_AXIS_MIN ? x_lo : RATE_AXIS_MIN;
-    x_hi = x_hi <= RATE_AXIS_MAX ? x_hi : RATE_AXIS_MAX;
+    double x_lo, x_hi;
+    rate_axis(a, rows, n_rows, &x_lo, &x_hi);
 
     fputs("set title ", f);
     arrank_plot_put_qf(f, "Rate at %.4g °C with %.4g %% interval", T_C,
