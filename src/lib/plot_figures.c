@@ -438,7 +438,8 @@ void arrank_plot_fig_rate_at_T(script *s)
         any_flag |= r->flags != 0;
     }
     /* Notes go under the axis label, one row each, with room kept for them. */
-    fputs("set bmargin 6.6\n", f);
+    /* (a row more for the clipping note) */
+    fputs(any_clipped ? "set bmargin 7.6\n" : "set bmargin 6.6\n", f);
     if (put_group_brackets(f, a, rows, n_rows) > 0)
         fprintf(f, "set label 4 'bracket at right: not told apart from the first of its group "
                    "(Holm, %.4g %%)' at character 0.6, character 2.4 left font ',%d' "
