@@ -8,7 +8,8 @@
 #   make check-layers  every module calls and includes only down (DEVELOPERS.md)
 #   make test-asan  the suite under AddressSanitizer + UndefinedBehaviorSanitizer
 #   make test-valgrind  the program on the demo under valgrind (no errors, no definite leaks)
-#   make fuzz       each libFuzzer harness for FUZZ_SECONDS (default 30) seconds (clang)
+#   make fuzz       each libFuzzer harness, then the pipeline fuzzer, for FUZZ_SECONDS
+#                   (default 30) seconds each (clang, sanitizers)
 #   make bench      speed against a SciPy reference and the file-reading floor (not a test)
 #
 # BUILD selects the object folder (default build/), so several configurations
@@ -87,8 +88,14 @@ test-asan:
 test-valgrind: all
 	@sh tests/valgrind.sh $(ARRANK) $(DEMO)
 
-# libFuzzer harnesses tests/fuzz/fuzz_*.c, built with clang in their own folder.
+# libFuzzer harnesses tests/fuzz/fuzz_*.c, built with clang in their own folder,
+# then the pipeline fuzzer (tests/fuzz/pipeline.py: random campaigns through
+# fit, rank, check, plot and report) on the arrank program built in the same
+# folder with the same sanitizers; each for FUZZ_SECONDS.  FUZZ_SEED fixes the
+# pipeline's seed (default: the time, printed).  Failing campaigns are kept in
+# FUZZ_BUILD/pipeline-failures/, crashes in FUZZ_BUILD/fuzz-artifacts/.
 FUZZ_SECONDS ?= 30
+FUZZ_SEED    ?=
 FUZZ_BUILD   ?= $(BUILD)-fuzz
 FUZZ_SAN     := -fsanitize=address,undefined -fno-sanitize-recover=all -fno-omit-frame-pointer
 FUZZ_NAMES   := $(basename $(notdir $(sort $(wildcard tests/fuzz/fuzz_*.c))))
@@ -97,9 +104,13 @@ FUZZ_BIN     := $(FUZZ_NAMES:%=$(BUILD)/fuzz/%)
 fuzz:
 	@$(MAKE) --no-print-directory BUILD=$(FUZZ_BUILD) CC=clang OPT="-O1 -g" \
 	    SAN="$(FUZZ_SAN) -fsanitize=fuzzer-no-link" fuzz-build
-	@sh tests/fuzz/run.sh $(FUZZ_BUILD) $(FUZZ_SECONDS) $(FUZZ_NAMES)
+	@st=0; sh tests/fuzz/run.sh $(FUZZ_BUILD) $(FUZZ_SECONDS) $(FUZZ_NAMES) || st=1; \
+	    echo "fuzz: pipeline for $(FUZZ_SECONDS)s"; \
+	    /usr/bin/python3 tests/fuzz/pipeline.py $(FUZZ_BUILD)/arrank $(FUZZ_SECONDS) \
+	        $(FUZZ_SEED) || { st=1; echo "fuzz: pipeline FAILED, see above"; }; \
+	    exit $$st
 
-fuzz-build: $(FUZZ_BIN)
+fuzz-build: $(FUZZ_BIN) $(ARRANK)
 
 $(BUILD)/fuzz/%: tests/fuzz/%.c tests/fuzz/fuzz_targets.h tests/fuzz/harness.h $(LIB)
 	@mkdir -p $(dir $@)

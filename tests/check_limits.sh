@@ -2,7 +2,7 @@
 # check_limits.sh - input that could exhaust memory or hang a reader: a huge
 # line, a million columns, a 1 GB (sparse) file, a folder of 100,000 sample
 # files, symlink loops (of files and of folders), a FIFO, a device, a CSV that
-# is really binary.  Each must end within its time limit with a clear one-line
+# is really binary, an id of a million apostrophes to plot.  Each must end within its time limit with a clear one-line
 # error (with --strict, which stops at the first file that cannot be read;
 # tests/check_messy.sh holds the default, which goes on without it), or be
 # processed, in bounded memory (peak resident set from GNU time
@@ -134,6 +134,17 @@ awk 'BEGIN { print "T [degC],rate [umol/(g*s)],run"; srand(11);
         printf "%d,%.5g,r%d\n", t, ((i % 2) ? 2.5 : 1.0) * (1 + 0.05 * (rand() - 0.5)), i / 2 } }' \
     >"$T/labels/a.csv"
 run "80,000 run labels" 60 512 0 "" check "$T/labels"
+
+# An id of 1,000,000 apostrophes (the longest the reader's 1 MiB line allows):
+# quoted for gnuplot in one pass it plots in about a second; each quote made a
+# concatenation before, which gnuplot joined in quadratic time (577 s).
+mkdir "$T/apos"
+{ printf '# sample = '; head -c 1000000 /dev/zero | tr '\0' "'"; echo; echo "$head"
+  printf '250,1.2\n260,1.9\n270,2.9\n280,4.1\n'; } >"$T/apos/a.csv"
+run "id of 1,000,000 apostrophes plotted" 60 256 0 "" plot "$T/apos" --at 260C \
+    --out "$T/apos-out"
+ok_if "1,000,000 apostrophes: all four figures written" \
+    test "$(ls "$T/apos-out" 2>/dev/null | grep -c '\.svg$')" -eq 4
 
 # 100,000 sample files: hard links to a few valid files (a file takes at most
 # 65,000 links on ext4), so the folder is quick to make.

@@ -47,6 +47,8 @@ kw set output 'k'; plot sin(x); reset; exit
 at @GPVAL_PWD $pue1 EOD
 xml Pt_1 & <b>bold</b> &amp;
 back\slash\
+pct Pd 5% %s%n%x %d 100%%
+enh a^2_{x} & @y µ-Ni/Al₂O₃ "q" 'it'
 EOF
 # A newline is possible in a file name: the sample id is then the file stem.
 nl_file=$(printf '%s/nl\nline two.csv' "$C")
@@ -54,7 +56,7 @@ awk 'BEGIN { print "T [degC], rate [umol/(g*s)]";
              for (t = 210; t <= 270; t += 12)
         printf "%d, %.6g\n", t, exp(-6000 / (t + 273.15) + 11) }' >"$nl_file"
 count=$(ls "$C" | grep -c .)
-expect_eq "hostile campaign has its files" "$count" 11
+expect_eq "hostile campaign has its files" "$count" 13
 
 W="$T/work"
 mkdir -p "$W"
@@ -82,8 +84,9 @@ for kind in arrhenius rate-at-T ea-lnA; do
     done
 done
 ndiag=$(ls "$T/out" | grep -c '^diagnostics-.*\.svg$')
-expect_eq "hostile: one diagnostics figure per sample" "$ndiag" 10
+expect_eq "hostile: one diagnostics figure per sample" "$ndiag" 12
 ok_if "hostile: no temporary figure left" sh -c "! ls -a '$T/out' | grep -q '\\.tmp\$'"
+ok_if "hostile: no private figure folder left" sh -c "! ls -a '$T/out' | grep -q 'arrank-'"
 ok_if "hostile: report.html written" test -s "$T/out/report.html"
 
 # Every name, control characters removed, must be the text of some SVG <text>
@@ -121,11 +124,62 @@ PY
 "$PY" "$T/names.py" "$T/out" "$C" >"$T/names.txt" 2>&1
 total=$(grep -c . "$T/names.txt")
 missing=$(grep -vc '^ok ' "$T/names.txt")
-expect_eq "hostile: all 10 names x 5 places checked" "$total" 50
+expect_eq "hostile: all 12 names x 5 places checked" "$total" 60
 expect_eq "hostile: every name drawn literally in every SVG and the report" "$missing" 0
 grep -v '^ok ' "$T/names.txt" | sed 's/^/# /'
 ok_if "hostile: report has no unescaped <b> from a name" \
     sh -c "! grep -q 'Pt_1 & <b>' '$T/out/report.html'"
+
+# ---- degenerate data that arrank fits ------------------------------------
+# Points 1e-7 K apart (fitted, narrow_range: their rate at T overflows), rates
+# near 1e300 whose interval goes past the largest double, and a plain sample.
+# gnuplot once refused the first ("empty x range") and read the second's
+# widened axis as the variable "inf"; the '%' in an id was read as a format in
+# the rate figure's tic labels.  Every figure must now be drawn.
+G="$T/degenerate"
+mkdir -p "$G"
+{ echo '# sample = narrow %s%n 5%'; echo 'T [degC],rate [umol/(g*s)]'
+  awk 'BEGIN { for (k = 0; k < 6; k++)
+      printf "%.10f,%.6g\n", 250 + k * 1e-7, 1.5 * (1 + 0.02 * sin(3 * k)) }'; } >"$G/narrow.csv"
+{ echo '# sample = huge ^_&@'; echo 'T [degC],rate [umol/(g*s)]'
+  awk 'BEGIN { for (k = 0; k < 12; k++)
+      printf "%d,%.6g\n", 250 + 10 * k, 10 ^ (250 + 57 * (0.5 + 0.5 * sin(7 * k))) }'; } \
+    >"$G/huge.csv"
+{ echo '# sample = plain'; echo 'T [degC],rate [umol/(g*s)]'
+  awk 'BEGIN { for (k = 0; k < 6; k++) { t = 250 + 10 * k
+      printf "%d,%.6g\n", t, exp(20 - 10000 / (t + 273.15)) * (1 + 0.03 * sin(5 * k)) } }'; } \
+    >"$G/plain.csv"
+"$A" rank "$G" --at 300C >"$T/deg.check" 2>&1
+ok_if "degenerate: the 1e-7 K sample is fitted, flagged narrow_range" \
+    grep -q 'narrow_range' "$T/deg.check"
+"$A" plot "$G" --at 300C --out "$T/deg" >"$T/deg.out" 2>"$T/deg.err"; st=$?
+expect_eq "degenerate: plot exit 0" "$st" 0
+[ "$st" -eq 0 ] || sed 's/^/# /' "$T/deg.err"
+listed=0 there=0
+while IFS= read -r f; do
+    listed=$((listed + 1))
+    [ -s "$f" ] && there=$((there + 1))
+done <"$T/deg.out"
+expect_eq "degenerate: every file listed (3 results, 3 figures, 3 diagnostics)" "$listed" 9
+expect_eq "degenerate: every file listed is written" "$there" "$listed"
+"$A" report "$G" --at 300C --out "$T/deg" >/dev/null 2>"$T/deg-rep.err"; st=$?
+expect_eq "degenerate: report exit 0 (with its figures)" "$st" 0
+ok_if "degenerate: report has no 'without figures' note" \
+    sh -c "! grep -q 'without figures' '$T/deg-rep.err'"
+cat >"$T/degtext.py" <<'PY'
+import glob, sys, xml.etree.ElementTree as ET
+ns = "{http://www.w3.org/2000/svg}"
+texts = set()
+for f in glob.glob(sys.argv[1] + "/*.svg"):
+    texts |= {"".join(t.itertext()).strip() for t in ET.parse(f).getroot().iter(ns + "text")}
+for want in sys.argv[2:]:
+    print("ok" if any(want in t for t in texts) else "MISSING " + want)
+PY
+"$PY" "$T/degtext.py" "$T/deg" 'narrow %s%n 5%' 'huge ^_&@' \
+    'arrow at the edge: the interval (or rate) goes beyond the axis, clipped' >"$T/degtext.txt"
+expect_eq "degenerate: ids with % ^ _ & @ drawn as written; the clipping note shown" \
+    "$(grep -vc '^ok' "$T/degtext.txt")" 0
+grep -v '^ok' "$T/degtext.txt" | sed 's/^/# /'
 
 # ---- gnuplot missing -------------------------------------------------------
 ARRANK_GNUPLOT=/nonexistent/gnuplot "$A" plot "$DEMO" --at 270C --out "$T/nogp" \

@@ -100,7 +100,8 @@ sleep 0.1
 
 # ---- gnuplot never writes to a guessable name in the user's folder ----------
 case "$(cat "$T/gp.cwd")" in
-"$T/w/.arrank-"??????) gp_private=yes ;;
+# (the library's own mkdtemp folder inside the run's private folder)
+"$T/w/.arrank-"??????/.arrank-figures.??????) gp_private=yes ;;
 *) gp_private="no: $(cat "$T/gp.cwd")" ;;
 esac
 expect_eq "gnuplot runs in a private folder made by mkdtemp" "$gp_private" yes

@@ -4,9 +4,10 @@
  * and data blocks that hold numbers only.  Running gnuplot on hostile names
  * is tests/check_plot.sh.
  *
- * Expected quoted strings follow the rule in DESIGN "Plotting" (single-quoted,
- * each ' spliced in as "'", control characters removed); they were written
- * by hand from that rule, not produced by the code under test.
+ * Expected quoted strings follow the rule in plot.c (double-quoted, \ and "
+ * escaped, each backquote written as \140, control characters removed);
+ * they were written by hand from that rule, not produced by the code under
+ * test.
  */
 #include <setjmp.h>
 #include <stdarg.h>
@@ -23,6 +24,7 @@
 #include "arrank/analysis.h"
 #include "arrank/plot.h"
 #include "arrank/analysis_stats.h"
+#include "helpers.h"
 
 /* ---- quoting ------------------------------------------------------------ */
 
@@ -31,24 +33,27 @@ static const struct {
     const char *in;
     const char *want;
 } quote_cases[] = {
-    {"plain with underscore", "Pt_1", "('Pt_1')"},
-    {"apostrophe inside", "it's", "('it' . \"'\" . 's')"},
-    {"only a quote", "'", "('' . \"'\" . '')"},
-    {"leading doubled quote (gnuplot 5.4 rejects '''x')", "''x",
-     "('' . \"'\" . '' . \"'\" . 'x')"},
-    {"backquotes stay literal inside single quotes", "a`touch x`b", "('a`touch x`b')"},
-    {"double quotes and system()", "s system(\"touch M\")", "('s system(\"touch M\")')"},
-    {"bang command", "'; !touch x; '", "('' . \"'\" . '; !touch x; ' . \"'\" . '')"},
-    {"C0 controls and DEL removed", "a\nb\tc\rd\x7f" "e", "('abcde')"},
-    {"C1 control (U+0085) removed", "x\xC2\x85y", "('xy')"},
-    {"valid UTF-8 kept", "250 \xC2\xB0" "C \xC2\xB5mol", "('250 \xC2\xB0" "C \xC2\xB5mol')"},
-    {"stray byte becomes U+FFFD", "a\xFF" "b", "('a\xEF\xBF\xBD" "b')"},
+    {"plain with underscore", "Pt_1", "(\"Pt_1\")"},
+    {"apostrophe needs nothing in double quotes", "it's", "(\"it's\")"},
+    {"only a quote", "'", "(\"'\")"},
+    {"leading doubled quote", "''x", "(\"''x\")"},
+    {"backquotes written as the escape \\140, never bare", "a`touch x`b",
+     "(\"a\\140touch x\\140b\")"},
+    {"double quotes escaped", "s system(\"touch M\")", "(\"s system(\\\"touch M\\\")\")"},
+    {"bang command", "'; !touch x; '", "(\"'; !touch x; '\")"},
+    {"C0 controls and DEL removed", "a\nb\tc\rd\x7f" "e", "(\"abcde\")"},
+    {"C1 control (U+0085) removed", "x\xC2\x85y", "(\"xy\")"},
+    {"valid UTF-8 kept", "250 \xC2\xB0" "C \xC2\xB5mol", "(\"250 \xC2\xB0" "C \xC2\xB5mol\")"},
+    {"stray byte becomes U+FFFD", "a\xFF" "b", "(\"a\xEF\xBF\xBD" "b\")"},
     {"overlong encoding rejected byte by byte", "\xE0\x80\x80",
-     "('\xEF\xBF\xBD\xEF\xBF\xBD\xEF\xBF\xBD')"},
-    {"surrogate rejected", "\xED\xA0\x80", "('\xEF\xBF\xBD\xEF\xBF\xBD\xEF\xBF\xBD')"},
-    {"backslash is literal in single quotes", "back\\slash\\", "('back\\slash\\')"},
-    {"empty", "", "('')"},
-    {"data block terminator as a name", "EOD", "('EOD')"},
+     "(\"\xEF\xBF\xBD\xEF\xBF\xBD\xEF\xBF\xBD\")"},
+    {"surrogate rejected", "\xED\xA0\x80", "(\"\xEF\xBF\xBD\xEF\xBF\xBD\xEF\xBF\xBD\")"},
+    {"backslash escaped", "back\\slash\\", "(\"back\\\\slash\\\\\")"},
+    {"empty", "", "(\"\")"},
+    {"data block terminator as a name", "EOD", "(\"EOD\")"},
+    {"macro and variable signs stay (no expansion inside a string)", "@foo $x", "(\"@foo $x\")"},
+    {"percent kept outside tic labels", "5% %s%n", "(\"5% %s%n\")"},
+    {"enhanced-text signs kept (terminals are noenhanced)", "a^2_b &{c}", "(\"a^2_b &{c}\")"},
 };
 
 static void test_quote_table(void **state)
@@ -65,48 +70,45 @@ static void test_quote_table(void **state)
         free(q);
     }
     char *q = arrank_plot_quote(NULL);
-    assert_string_equal(q, "('')");
+    assert_string_equal(q, "(\"\")");
     free(q);
 }
 
 /*
  * Read a quoted expression the way gnuplot's scanner does for this grammar:
- * '(' { single-quoted string | "'" } joined by ' . ' ')'.  Returns the text
- * it stands for (caller frees), or NULL if anything lies outside a string
- * that is not part of that grammar.
+ * '("' { character other than " \ ` | \\ | \" | \140 } '")'.  Returns the
+ * text it stands for (caller frees), or NULL if anything lies outside that
+ * grammar: above all a bare backquote, which gnuplot would run as a command
+ * even inside double quotes.
  */
 static char *unquote(const char *q)
 {
     size_t n = strlen(q);
     char *out = malloc(n + 1), *o = out;
     const char *p = q;
-    if (*p++ != '(')
+    if (strncmp(p, "(\"", 2) != 0)
         goto bad;
+    p += 2;
     for (;;) {
-        if (*p == '\'') {
-            const char *end = strchr(p + 1, '\'');
-            if (!end)
-                goto bad;
-            memcpy(o, p + 1, (size_t)(end - p - 1));
-            o += end - p - 1;
-            p = end + 1;
-            /* A quote right after a closing quote would be gnuplot's doubled
-               quote: our strings must never produce one. */
-            if (*p == '\'')
-                goto bad;
-        } else if (strncmp(p, "\"'\"", 3) == 0) {
-            *o++ = '\'';
-            p += 3;
-        } else
+        if (*p == '\0' || *p == '`')
             goto bad;
-        if (strncmp(p, " . ", 3) == 0) {
-            p += 3;
+        if (*p == '"')
+            break;
+        if (*p == '\\') {
+            if (p[1] == '\\' || p[1] == '"') {
+                *o++ = p[1];
+                p += 2;
+            } else if (strncmp(p + 1, "140", 3) == 0) {
+                *o++ = '`';
+                p += 4;
+            } else
+                goto bad;
             continue;
         }
-        if (p[0] == ')' && p[1] == '\0')
-            break;
-        goto bad;
+        *o++ = *p++;
     }
+    if (strcmp(p, "\")") != 0)
+        goto bad;
     *o = '\0';
     return out;
 bad:
@@ -114,12 +116,36 @@ bad:
     return NULL;
 }
 
+/* Linear: a name of 200,000 apostrophes and backquotes quotes to one string
+   of bounded size (the old form made a concatenation per quote, which
+   gnuplot joined in quadratic time). */
+static void test_quote_long(void **state)
+{
+    (void)state;
+    size_t n = 200000;
+    char *in = malloc(n + 1);
+    assert_non_null(in);
+    for (size_t k = 0; k < n; k++)
+        in[k] = k % 3 == 0 ? '`' : '\'';
+    in[n] = '\0';
+    char *q = arrank_plot_quote(in);
+    assert_non_null(q);
+    assert_true(strlen(q) <= 4 * n + 4);
+    assert_null(strstr(q, "\" . "));
+    char *back = unquote(q);
+    assert_non_null(back);
+    assert_string_equal(back, in);
+    free(back);
+    free(q);
+    free(in);
+}
+
 /* Random strings over a hostile alphabet: every result must scan as string
    constants only and stand for the input minus its control characters. */
 static void test_quote_random(void **state)
 {
     (void)state;
-    static const char alphabet[] = "ab'\"`$@!;\\#\n\t\x7f()., EOD";
+    static const char alphabet[] = "ab'\"`$@!;\\#\n\t\x7f()., EOD%^_&{}";
     unsigned long seed = 20240611UL;
     for (int round = 0; round < 5000; round++) {
         char in[40], want[40];
@@ -173,7 +199,7 @@ static void test_palette(void **state)
 
 #define N_SAMPLES 9
 static const char *const names[N_SAMPLES] = {
-    "ZQ-1 fresh", "it's `x`", "EOD", "Pt_1", "a\nb", "set output 'x'", "s7", "s8", "s9"};
+    "ZQ-1 fresh", "it's `x`", "EOD", "Pt_1", "a\nb", "set output 'x'", "s7 5% %s%n", "s8", "s9"};
 
 typedef struct {
     arrank_campaign c;
@@ -364,11 +390,15 @@ static void test_names_only_quoted(void **state)
 {
     fixture *fx = *state;
     char *text = script_of(fx->a, ARRANK_PLOT_SVG);
-    assert_null(strstr(text, "\nb'"));      /* "a\nb" was not split */
-    assert_non_null(strstr(text, "('ab')")); /* ...but drawn without its newline */
-    assert_non_null(strstr(text, "('set output ' . \"'\" . 'x' . \"'\" . '')"));
-    assert_non_null(strstr(text, "('it' . \"'\" . 's `x`')"));
-    assert_null(strstr(text, "`x`\""));
+    assert_null(strstr(text, "\nb\""));      /* "a\nb" was not split */
+    assert_non_null(strstr(text, "(\"ab\")")); /* ...but drawn without its newline */
+    assert_non_null(strstr(text, "(\"set output 'x'\")"));
+    assert_non_null(strstr(text, "(\"it's \\140x\\140\")"));
+    assert_null(strstr(text, "`x`"));
+    /* A tic label is a format to gnuplot: its '%' doubled; a title is not. */
+    assert_non_null(strstr(text, "set ytics ("));
+    assert_non_null(strstr(text, "(\"s7 5%% %%s%%n\") "));
+    assert_non_null(strstr(text, "title (\"s7 5% %s%n\")"));
     free(text);
 }
 
@@ -385,7 +415,7 @@ static void test_rank_stats_drawn(void **state)
     char *text = script_of(fx->a, ARRANK_PLOT_SVG);
     assert_non_null(strstr(text, "set arrow from graph 1.015, first "));
     assert_non_null(strstr(text, "bracket at right: not told apart"));
-    assert_non_null(strstr(text, "('P(best) "));
+    assert_non_null(strstr(text, "(\"P(best) "));
     assert_non_null(strstr(text, "*x with lines dt 3 lw 1.8 lc rgb '#555555' title "
                                  "'compensation line'"));
     free(text);
@@ -397,6 +427,86 @@ static void test_rank_stats_drawn(void **state)
     assert_null(strstr(text, "compensation line"));
     free(text);
     fx->a->rank_stats = saved;
+}
+
+/* No entry of dir whose name starts with prefix. */
+static int none_named(const char *dir, const char *prefix)
+{
+    DIR *d = opendir(dir);
+    assert_non_null(d);
+    struct dirent *e;
+    int none = 1;
+    while ((e = readdir(d)) != NULL)
+        none &= strncmp(e->d_name, prefix, strlen(prefix)) != 0;
+    closedir(d);
+    return none;
+}
+
+/* The library makes no file at a predictable name: links planted at the
+   names it once used for gnuplot's outputs (".NAME.PID.tmp" in the output
+   folder, PID this process) are neither followed nor removed, the figures
+   arrive, and the private folder gnuplot wrote into is gone. */
+static void test_write_no_predictable_names(void **state)
+{
+    fixture *fx = *state;
+    char *dir = temp_dir_make();
+    file_write(dir, "victim", "keep\n");
+    char link1[4200], link2[4200], target2[4200], victim[4200];
+    snprintf(victim, sizeof victim, "%s/victim", dir);
+    snprintf(target2, sizeof target2, "%s/made-through-a-link", dir);
+    snprintf(link1, sizeof link1, "%s/.arrhenius.svg.%ld.tmp", dir, (long)getpid());
+    snprintf(link2, sizeof link2, "%s/.ea-lnA.svg.%ld.tmp", dir, (long)getpid());
+    assert_int_equal(symlink(victim, link1), 0);
+    assert_int_equal(symlink(target2, link2), 0); /* dangling: would create target2 */
+    arrank_plot_files written;
+    arrank_error err;
+    arrank_error_clear(&err);
+    arrank_status st = arrank_plot_write(fx->a, dir, NULL, &written, &err);
+    if (st != ARRANK_OK)
+        print_error("plot: %s\n", err.message);
+    assert_int_equal(st, ARRANK_OK);
+    assert_int_equal(written.n, 3 + 8); /* three campaign figures, 8 fitted samples */
+    for (size_t k = 0; k < written.n; k++) {
+        struct stat sb;
+        assert_int_equal(lstat(written.files[k].path, &sb), 0);
+        assert_true(S_ISREG(sb.st_mode) && sb.st_size > 0);
+    }
+    arrank_plot_files_clear(&written);
+    size_t len = 0;
+    char *kept = file_slurp(victim, &len);
+    assert_int_equal(len, 5);
+    assert_memory_equal(kept, "keep\n", 5);
+    free(kept);
+    struct stat sb;
+    assert_int_equal(lstat(link1, &sb), 0);
+    assert_true(S_ISLNK(sb.st_mode));
+    assert_int_equal(lstat(link2, &sb), 0);
+    assert_true(S_ISLNK(sb.st_mode));
+    assert_int_not_equal(lstat(target2, &sb), 0);
+    assert_true(none_named(dir, ".arrank-figures."));
+    temp_dir_remove(dir);
+}
+
+/* All or none: a folder where one figure should go is found before any
+   figure moves; nothing is written and the private folder is gone. */
+static void test_write_all_or_none(void **state)
+{
+    fixture *fx = *state;
+    char *dir = temp_dir_make();
+    char blocker[4200];
+    snprintf(blocker, sizeof blocker, "%s/rate-at-T.svg", dir);
+    assert_int_equal(mkdir(blocker, 0700), 0);
+    arrank_plot_files written;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_plot_write(fx->a, dir, NULL, &written, &err), ARRANK_EIO);
+    assert_non_null(strstr(err.message, "rate-at-T.svg"));
+    assert_int_equal(written.n, 0);
+    assert_true(none_named(dir, "arrhenius"));
+    assert_true(none_named(dir, "diagnostics-"));
+    assert_true(none_named(dir, ".arrank-figures."));
+    assert_int_equal(rmdir(blocker), 0);
+    temp_dir_remove(dir);
 }
 
 static void test_find_gnuplot_missing(void **state)
@@ -418,12 +528,15 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_quote_table),
         cmocka_unit_test(test_quote_random),
+        cmocka_unit_test(test_quote_long),
         cmocka_unit_test(test_palette),
         cmocka_unit_test(test_blocks_numeric),
         cmocka_unit_test(test_colour_per_sample),
         cmocka_unit_test(test_figure_names),
         cmocka_unit_test(test_names_only_quoted),
         cmocka_unit_test(test_rank_stats_drawn),
+        cmocka_unit_test(test_write_no_predictable_names),
+        cmocka_unit_test(test_write_all_or_none),
         cmocka_unit_test(test_find_gnuplot_missing),
     };
     return cmocka_run_group_tests(tests, setup, teardown);

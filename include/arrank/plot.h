@@ -4,9 +4,10 @@
  * One call starts one gnuplot process, feeds it a generated script on its
  * standard input and waits for it.  Data reach gnuplot as inline data blocks
  * that hold numbers only; every string that comes from user data (sample
- * names, campaign title, rate unit) reaches it only as a single-quoted string
- * made by arrank_plot_quote, so nothing in a campaign can run a command.
- * Text is drawn noenhanced: "Pt_1" shows its underscore.
+ * names, campaign title, rate unit) reaches it only as a quoted string made
+ * by arrank_plot_quote (in a tic label, with '%' doubled, since gnuplot reads
+ * those as formats), so nothing in a campaign can run a command or be read
+ * as a format.  Text is drawn noenhanced: "Pt_1" shows its underscore.
  *
  * Figures (file stems; one file per stem and format, in the output folder):
  *   arrhenius              ln r against 1000/T, every sample, fitted lines with
@@ -73,12 +74,16 @@ typedef struct {
 /*
  * Draw every figure of the analysis into the existing folder out_dir.
  * options may be NULL (defaults).  written may be NULL; otherwise on success
- * it lists the files made (free with arrank_plot_files_clear).  Each file is
- * written under a temporary name and renamed into place only when gnuplot has
- * finished without error, so a failure never leaves a half figure.
+ * it lists the files made (free with arrank_plot_files_clear).  gnuplot
+ * writes every file into a private folder made by mkdtemp inside out_dir (no
+ * file is ever made at a name anyone could guess, so a link planted in out_dir
+ * is never followed); the files are renamed into place only when gnuplot has
+ * finished without error and no destination is a folder, so a failure leaves
+ * no figure, half or whole; the private folder is removed in every case.
  * Returns ENOGNUPLOT when the program cannot be found or run (message says
  * how to install it), EPLOT with gnuplot's own message when gnuplot fails,
- * EIO when out_dir is not a folder or a rename fails, EDATA when there is
+ * EIO when out_dir is not a folder, a private folder cannot be made in it, a
+ * destination is a folder or a rename fails, EDATA when there is
  * nothing to draw, ENOMEM.
  */
 arrank_status arrank_plot_write(const arrank_analysis *analysis, const char *out_dir,
@@ -98,11 +103,12 @@ arrank_status arrank_plot_script(const arrank_analysis *analysis, unsigned forma
 
 /*
  * text as a gnuplot string expression that can only ever be a string
- * constant: "(" 'part' . "'" . 'part' ")".  Control characters (C0, DEL, C1)
- * are removed, bytes that are not UTF-8 become U+FFFD, and each single quote
- * is spliced in by concatenation with "'" (a doubled quote is not used:
- * gnuplot 5.4 rejects a string that starts with one).  NULL text gives ('').
- * Returns a new string owned by the caller (free), or NULL when out of memory.
+ * constant: ("...") with \ and " escaped by a backslash and each backquote
+ * written as \140 (gnuplot would run `...` inside double quotes; the escape
+ * it never does).  Control characters (C0, DEL, C1) are removed and bytes that
+ * are not UTF-8 become U+FFFD.  One pass, linear in the text.  NULL text gives
+ * ("").  Returns a new string owned by the caller (free), or NULL when out of
+ * memory.
  */
 char *arrank_plot_quote(const char *text);
 

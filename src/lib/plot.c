@@ -3,17 +3,21 @@
  * fed to one gnuplot child process through a pipe.
  *
  * Safety rule (DESIGN "Plotting"): the script is built from our own fixed text,
- * numbers printed by printf, and user strings passed through quote(), which
- * makes a single-quoted gnuplot string with every ' spliced in by
- * concatenation.  gnuplot expands backquotes and macros in double-quoted
- * strings and in bare command text, never inside single quotes.  Data blocks
- * hold only numbers written by "%.9g", so no line of a block can be "EOD" or
- * anything but numbers, and no sample name ever enters one.
+ * numbers printed by printf, and user strings passed through put_quoted(),
+ * which makes one double-quoted gnuplot string with \ and " escaped and every
+ * backquote written as the escape \140 (gnuplot substitutes `command` inside
+ * double quotes, but never an escaped one, and expands no macro inside a
+ * string); in a tic label, which gnuplot reads as a printf format, '%' is
+ * doubled too.  Terminals are noenhanced, so ^ _ @ & { } are drawn as
+ * themselves.  Data blocks hold only numbers written by "%.9g", so no line of
+ * a block can be "EOD" or anything but numbers, and no sample name ever
+ * enters one.
  *
- * Output files are written by gnuplot under temporary names in the output
- * folder (the child runs with that folder as its working directory, so no
- * path from the command line enters the script either) and renamed into place
- * once gnuplot exits with status 0.
+ * Output files are written by gnuplot under their own names into a private
+ * folder made by mkdtemp inside the output folder (the child runs with that
+ * folder as its working directory, so no path from the command line enters
+ * the script either, and no file is ever made at a name anyone could guess)
+ * and renamed into place once gnuplot exits with status 0.
  */
 /* realpath is an XSI function. */
 #define _XOPEN_SOURCE 700
@@ -34,6 +38,7 @@
 #include <sys/wait.h>
 #include <time.h>
 #include <unistd.h>
+#include <dirent.h>
 
 #include "arrank/diagnose.h"
 #include "arrank/analysis_stats.h"
@@ -120,10 +125,18 @@ static size_t utf8_seq(const unsigned char *s, unsigned long *cp)
     return n;
 }
 
-void arrank_plot_put_q(FILE *f, const char *text)
+/* text as one double-quoted gnuplot string, written in one pass (linear in
+   the text: a name of many quotes once became a chain of concatenations that
+   gnuplot took quadratic time to join).  Inside double quotes gnuplot reads
+   backslash escapes and substitutes `command` (scanner.c), so \ and " are
+   escaped and a backquote is written as the octal escape \140, which the
+   scanner never sees as one; '@' macros and '$' are not expanded inside a
+   string.  With as_format, each '%' is doubled: gnuplot reads the labels of
+   an explicit tic list as printf formats of the tic's value (gprintf). */
+static void put_quoted(FILE *f, const char *text, int as_format)
 {
     const unsigned char *s = (const unsigned char *)(text ? text : "");
-    fputs("('", f);
+    fputs("(\"", f);
     while (*s) {
         unsigned long cp;
         size_t n = utf8_seq(s, &cp);
@@ -136,13 +149,27 @@ void arrank_plot_put_q(FILE *f, const char *text)
             s += n;
             continue;
         }
-        if (cp == '\'')
-            fputs("' . \"'\" . '", f);
+        if (cp == '\\' || cp == '"')
+            fputc('\\', f);
+        if (cp == '`')
+            fputs("\\140", f);
+        else if (cp == '%' && as_format)
+            fputs("%%", f);
         else
             fwrite(s, 1, n, f);
         s += n;
     }
-    fputs("')", f);
+    fputs("\")", f);
+}
+
+void arrank_plot_put_q(FILE *f, const char *text)
+{
+    put_quoted(f, text, 0);
+}
+
+void arrank_plot_put_q_tic(FILE *f, const char *text)
+{
+    put_quoted(f, text, 1);
 }
 
 char *arrank_plot_quote(const char *text)
@@ -473,6 +500,21 @@ int arrank_plot_any_extrapolation(double T_op, const arrank_arrhenius *fit)
     return isfinite(T_op) && (T_op < fit->T_min_K || T_op > fit->T_max_K);
 }
 
+/* The pad that keeps an axis over [lo, hi] from being empty to gnuplot: pad,
+   or more when [lo - pad, hi + pad] would be narrower than 2e-3 of scale.
+   Points a hair apart (a fitted sample at one set point, 1e-7 K apart) would
+   otherwise give a range whose ends print alike in "%.9g", which gnuplot
+   refuses ("empty x range").  The floor (our choice) shows such points as one
+   value with the axis about 0.1 % of scale to each side. */
+double arrank_plot_min_pad(double lo, double hi, double pad, double scale)
+{
+    double min_half = 1e-3 * fabs(scale);
+    if (!(min_half > 0))
+        min_half = 1e-3;
+    double need = min_half - 0.5 * (hi - lo);
+    return pad >= need ? pad : need;
+}
+
 /* The smallest step of 1, 2, 2.5 or 5 times a power of ten that puts at
    most max_tics tics on span (common practice for axis labels). */
 double arrank_plot_nice_step(double span, double max_tics)
@@ -558,7 +600,7 @@ static void write_script(const arrank_analysis *a, const figure *figs, const out
     s.title = a->campaign && a->campaign->title ? a->campaign->title
               : a->campaign && a->campaign->name ? a->campaign->name
                                                  : "";
-    fputs("# arrank figures.  Text from the data appears only in single-quoted strings;\n"
+    fputs("# arrank figures.  Text from the data appears only in quoted strings;\n"
           "# data blocks hold numbers only.\n",
           f);
     for (size_t k = 0; k < n_outs; k++) {
@@ -623,6 +665,89 @@ static char *join_path(const char *dir, const char *name)
     return p;
 }
 
+/* Empty the private folder (gnuplot writes only the outputs into it, but a
+   failed run may leave part of one) and remove it. */
+static void remove_private(const char *priv)
+{
+    DIR *d = opendir(priv);
+    if (d) {
+        struct dirent *e;
+        while ((e = readdir(d)) != NULL) {
+            if (strcmp(e->d_name, ".") == 0 || strcmp(e->d_name, "..") == 0)
+                continue;
+            char *p = join_path(priv, e->d_name);
+            if (p)
+                unlink(p);
+            free(p);
+        }
+        closedir(d);
+    }
+    rmdir(priv);
+}
+
+/* Step 3: every finished figure from the private folder priv into out_dir
+   under its own name.  A destination that cannot take a file (a folder) is
+   found before anything moves, so a figure set goes in whole or not at all. */
+static arrank_status move_figures(const figure *figs, const output *outs, size_t n_outs,
+                                  const char *priv, const char *out_dir,
+                                  arrank_plot_files *written, arrank_error *err)
+{
+    for (size_t k = 0; k < n_outs; k++) {
+        char *to = join_path(out_dir, outs[k].name);
+        if (!to)
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        struct stat st;
+        int is_dir = lstat(to, &st) == 0 && S_ISDIR(st.st_mode);
+        if (is_dir) {
+            arrank_status e = arrank_error_at(err, ARRANK_EIO, to, 0, 0,
+                                              "cannot write '%s': %s", to, strerror(EISDIR));
+            free(to);
+            return e;
+        }
+        free(to);
+    }
+    if (written) {
+        written->files = calloc(n_outs ? n_outs : 1, sizeof *written->files);
+        if (!written->files)
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    }
+    for (size_t k = 0; k < n_outs; k++) {
+        char *from = join_path(priv, outs[k].name);
+        char *to = join_path(out_dir, outs[k].name);
+        if (!from || !to) {
+            free(from);
+            free(to);
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        }
+        if (rename(from, to) != 0) {
+            arrank_status e = arrank_error_at(err, ARRANK_EIO, to, 0, 0, "cannot write '%s': %s",
+                                              to, strerror(errno));
+            free(from);
+            free(to);
+            return e;
+        }
+        free(from);
+        if (!written) {
+            free(to);
+            continue;
+        }
+        arrank_plot_file *pf = &written->files[written->n++];
+        pf->kind = figs[outs[k].fig].kind;
+        pf->sample = figs[outs[k].fig].sample;
+        pf->format = outs[k].format;
+        pf->name = arrank_strdup(outs[k].name);
+        pf->path = to;
+        if (!pf->name)
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    }
+    return ARRANK_OK;
+}
+
+/* gnuplot writes every figure under its final name into a private folder
+   made by mkdtemp inside out_dir (mode 0700, a name nobody can guess, so a
+   link planted in out_dir is never followed); the figures are renamed into
+   out_dir only when gnuplot has finished without error, and the folder is
+   removed in every case. */
 static arrank_status plot_write_in_c(const arrank_analysis *a, const char *out_dir,
                                      const arrank_plot_options *options, arrank_plot_files *written,
                                      arrank_error *err)
@@ -643,96 +768,51 @@ static arrank_status plot_write_in_c(const arrank_analysis *a, const char *out_d
 
     figure *figs = malloc((a->n_results + 3) * sizeof *figs);
     output *outs = malloc((a->n_results + 3) * N_FORMATS * sizeof *outs);
-    char **tmp = calloc((a->n_results + 3) * N_FORMATS, sizeof *tmp);
+    char *priv = join_path(out_dir, ".arrank-figures.XXXXXX");
+    int have_priv = 0;
     char *text = NULL;
     size_t text_len = 0;
-    size_t n_outs = 0;
-    if (!figs || !outs || !tmp) {
+    if (!figs || !outs || !priv) {
         st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
         goto done;
     }
+    /* Step 1: the figures and the script. */
     size_t n_figs = list_figures(a, figs);
     if (n_figs == 0) {
         st = arrank_errorf(err, ARRANK_EDATA, "nothing to draw: no sample has a positive rate");
         goto done;
     }
-    n_outs = list_outputs(figs, n_figs, opt.formats, outs);
-    for (size_t k = 0; k < n_outs; k++) {
-        size_t n = strlen(outs[k].name) + 40;
-        tmp[k] = malloc(n);
-        if (!tmp[k]) {
-            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-            goto done;
-        }
-        snprintf(tmp[k], n, ".%s.%ld.tmp", outs[k].name, (long)getpid());
-    }
+    size_t n_outs = list_outputs(figs, n_figs, opt.formats, outs);
     FILE *mem = open_memstream(&text, &text_len);
     if (!mem) {
         st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
         goto done;
     }
-    write_script(a, figs, outs, n_outs, tmp, mem);
+    write_script(a, figs, outs, n_outs, NULL, mem);
     fputs("exit\n", mem);
     if (fclose(mem) != 0) {
         st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
         goto done;
     }
-    st = arrank_plot_run_gnuplot(program, out_dir, text, text_len, err);
-    if (st != ARRANK_OK)
+    /* Step 2: gnuplot in the private folder. */
+    if (!mkdtemp(priv)) {
+        st = arrank_error_at(err, ARRANK_EIO, out_dir, 0, 0,
+                             "cannot make a private folder in '%s': %s", out_dir,
+                             strerror(errno));
         goto done;
-    if (written) {
-        written->files = calloc(n_outs, sizeof *written->files);
-        if (!written->files) {
-            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-            goto done;
-        }
     }
-    for (size_t k = 0; k < n_outs; k++) {
-        char *from = join_path(out_dir, tmp[k]);
-        char *to = join_path(out_dir, outs[k].name);
-        if (!from || !to) {
-            free(from);
-            free(to);
-            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-            goto done;
-        }
-        if (rename(from, to) != 0) {
-            st = arrank_error_at(err, ARRANK_EIO, to, 0, 0, "cannot write '%s': %s", to,
-                                 strerror(errno));
-            free(from);
-            free(to);
-            goto done;
-        }
-        free(from);
-        if (written) {
-            arrank_plot_file *pf = &written->files[written->n++];
-            pf->kind = figs[outs[k].fig].kind;
-            pf->sample = figs[outs[k].fig].sample;
-            pf->format = outs[k].format;
-            pf->name = arrank_strdup(outs[k].name);
-            pf->path = to;
-            if (!pf->name) {
-                st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-                goto done;
-            }
-        } else
-            free(to);
-    }
+    have_priv = 1;
+    st = arrank_plot_run_gnuplot(program, priv, text, text_len, err);
+    /* Step 3: the figures into place. */
+    if (st == ARRANK_OK)
+        st = move_figures(figs, outs, n_outs, priv, out_dir, written, err);
 
 done:
-    /* Whatever is left under a temporary name is a failed or partial figure. */
-    for (size_t k = 0; tmp && k < n_outs; k++) {
-        if (!tmp[k])
-            continue;
-        char *from = join_path(out_dir, tmp[k]);
-        if (from)
-            unlink(from);
-        free(from);
-        free(tmp[k]);
-    }
+    if (have_priv)
+        remove_private(priv);
     if (st != ARRANK_OK && written)
         arrank_plot_files_clear(written);
-    free(tmp);
+    free(priv);
     free(text);
     free(figs);
     free(outs);

@@ -436,10 +436,11 @@ void arrank_plot_fig_diagnostics(script *s, size_t i)
         }
     dp.xa = X_SCALE / t_hi;
     dp.xb = X_SCALE / t_lo;
-    dp.xp = 0.05 * (dp.xb - dp.xa);
+    dp.xp = arrank_plot_min_pad(dp.xa, dp.xb, 0.05 * (dp.xb - dp.xa), dp.xb);
     dp.ca = t_lo - ZERO_C_K;
     dp.cb = t_hi - ZERO_C_K;
-    dp.cp = 0.05 * (dp.cb - dp.ca);
+    /* degC: the floor relative to the temperature in K (0 degC is no scale) */
+    dp.cp = arrank_plot_min_pad(dp.ca, dp.cb, 0.05 * (dp.cb - dp.ca), t_hi);
 
     /* The fitted Ea and its interval over the fit's range; a thin dashed
        line carries it across the panel for comparison. */

@@ -38,6 +38,7 @@ static void arrhenius_axes(script *s, double T_op, int show_op)
     double pad = 0.04 * (x_hi - x_lo);
     if (!(pad > 0))
         pad = 0.01 * x_hi;
+    pad = arrank_plot_min_pad(x_lo, x_hi, pad, x_hi);
 
     fputs("set title ", f);
     fputs("'Arrhenius plot' . \"\\n\" . ", f);
@@ -293,6 +294,72 @@ static void put_unranked_note(script *s)
                 arrank_plot_font_of(s, 0.7));
 }
 
+/* The rate figure's log axis never goes beyond these (gnuplot reads and
+   prints them; a widened 1e308 would reach it as "inf"); our choice. */
+#define RATE_AXIS_MIN 1e-300
+#define RATE_AXIS_MAX 1e300
+
+/* Whether the end of the interval on side (0 low, 1 high) lies beyond the
+   axis [x_lo, x_hi]: infinite, not positive (low end), or past the edge. */
+static int clipped_end(const arrank_prediction *p, int side, double x_lo, double x_hi)
+{
+    double v = side ? p->rate_hi : p->rate_lo;
+    if (side)
+        return !(v <= x_hi) || !(p->rate <= x_hi);
+    return !(v >= x_lo) || !(p->rate >= x_lo);
+}
+
+/* Rate, low and high end of a row, clipped to the axis [x_lo, x_hi].  An end
+   that is missing (NaN) is the rate itself, as before; one that is infinite
+   or beyond the axis is put at the edge.  Returns whether anything was
+   clipped. */
+static int row_ends(const arrank_prediction *p, double x_lo, double x_hi, double e[3])
+{
+    double rate = p->rate;
+    double l = isnan(p->rate_lo) ? rate : p->rate_lo;
+    double h = isnan(p->rate_hi) ? rate : p->rate_hi;
+    const double v[3] = {rate, l, h};
+    int clipped = 0;
+    for (int j = 0; j < 3; j++) {
+        e[j] = v[j];
+        if (!(e[j] >= x_lo)) { /* NaN rate, 0, negative or too small */
+            e[j] = x_lo;
+            clipped = 1;
+        } else if (!(e[j] <= x_hi)) {
+            e[j] = x_hi;
+            clipped = 1;
+        }
+    }
+    return clipped;
+}
+
+/* The rate figure's axis: it spans the finite positive rates and interval
+   ends, widened by 6 % of the decades on each side, within [RATE_AXIS_MIN,
+   RATE_AXIS_MAX]; what lies beyond is clipped to the axis edge and drawn
+   open-ended (row_ends). */
+static void rate_axis(const arrank_analysis *a, const size_t *rows, size_t n_rows, double *x_lo,
+                      double *x_hi)
+{
+    double lo = INFINITY, hi = -INFINITY;
+    for (size_t k = 0; k < n_rows; k++) {
+        const arrank_prediction *p = &a->results[rows[k]].at_T;
+        const double v[3] = {p->rate, p->rate_lo, p->rate_hi};
+        for (int j = 0; j < 3; j++)
+            if (isfinite(v[j]) && v[j] > 0) {
+                lo = fmin(lo, fmin(fmax(v[j], RATE_AXIS_MIN), RATE_AXIS_MAX));
+                hi = fmax(hi, fmin(fmax(v[j], RATE_AXIS_MIN), RATE_AXIS_MAX));
+            }
+    }
+    if (!(lo > 0) || !isfinite(hi)) {
+        lo = 1e-3;
+        hi = 1.0;
+    }
+    double span = log10(hi / lo);
+    double widen = pow(10.0, 0.06 * (span > 0.2 ? span : 0.2));
+    *x_lo = lo / widen >= RATE_AXIS_MIN ? lo / widen : RATE_AXIS_MIN;
+    *x_hi = hi * widen <= RATE_AXIS_MAX ? hi * widen : RATE_AXIS_MAX;
+}
+
 void arrank_plot_fig_rate_at_T(script *s)
 {
     FILE *f = s->f;
@@ -314,20 +381,8 @@ void arrank_plot_fig_rate_at_T(script *s)
             if (a->results[i].has_prediction && arrank_plot_fitted(&a->results[i]))
                 rows[n_rows++] = i;
     }
-    double lo = INFINITY, hi = -INFINITY;
-    for (size_t k = 0; k < n_rows; k++) {
-        const arrank_prediction *p = &a->results[rows[k]].at_T;
-        double l = isfinite(p->rate_lo) && p->rate_lo > 0 ? p->rate_lo : p->rate;
-        double h = isfinite(p->rate_hi) ? p->rate_hi : p->rate;
-        lo = fmin(lo, l);
-        hi = fmax(hi, h);
-    }
-    if (!(lo > 0) || !isfinite(hi)) {
-        lo = 1e-3;
-        hi = 1.0;
-    }
-    double span = log10(hi / lo);
-    double widen = pow(10.0, 0.06 * (span > 0.2 ? span : 0.2));
+    double x_lo, x_hi;
+    rate_axis(a, rows, n_rows, &x_lo, &x_hi);
 
     fputs("set title ", f);
     arrank_plot_put_qf(f, "Rate at %.4g °C with %.4g %% interval", T_C,
@@ -342,8 +397,8 @@ void arrank_plot_fig_rate_at_T(script *s)
           "set xtics mirror\n"
           "set key off\n",
           f);
-    fprintf(f, "set xrange [%.9g:%.9g]\n", lo / widen, hi * widen);
-    put_log_tics(f, "x", lo / widen, hi * widen);
+    fprintf(f, "set xrange [%.9g:%.9g]\n", x_lo, x_hi);
+    put_log_tics(f, "x", x_lo, x_hi);
     /* Room at the right for the flag names (in characters of the base font;
        they are drawn at 0.7 of it). */
     size_t flag_chars = arrank_plot_longest_row_note(a);
@@ -355,17 +410,23 @@ void arrank_plot_fig_rate_at_T(script *s)
     for (size_t k = 0; k < n_rows; k++) {
         if (k)
             fputs(", ", f);
-        arrank_plot_put_q(f, arrank_plot_sample_name(&a->results[rows[k]]));
+        arrank_plot_put_q_tic(f, arrank_plot_sample_name(&a->results[rows[k]]));
         fprintf(f, " %zu", n_rows - k);
     }
     fputs(")\n", f);
-    int any_flag = 0;
+    int any_flag = 0, any_clipped = 0;
     for (size_t k = 0; k < n_rows; k++) {
         const arrank_result *r = &a->results[rows[k]];
-        const arrank_prediction *p = &r->at_T;
-        fprintf(f, "$rate%zu << EOD\n%.9g %zu %.9g %.9g\nEOD\n", k, p->rate, n_rows - k,
-                isfinite(p->rate_lo) && p->rate_lo > 0 ? p->rate_lo : p->rate,
-                isfinite(p->rate_hi) ? p->rate_hi : p->rate);
+        double e[3];
+        any_clipped |= row_ends(&r->at_T, x_lo, x_hi, e);
+        fprintf(f, "$rate%zu << EOD\n%.9g %zu %.9g %.9g\nEOD\n", k, e[0], n_rows - k, e[1],
+                e[2]);
+        for (int side = 0; side < 2; side++)
+            if (e[1 + side] == (side ? x_hi : x_lo) && clipped_end(&r->at_T, side, x_lo, x_hi))
+                fprintf(f, "set arrow from graph %s, first %zu to graph %s, first %zu head "
+                           "filled size graph 0.02,20 lw 2 lc rgb '%s' front\n",
+                        side ? "0.96" : "0.04", n_rows - k, side ? "1" : "0", n_rows - k,
+                        arrank_plot_color(rows[k]));
         char buf[512];
         row_note(r, buf, sizeof buf);
         if (buf[0]) {
@@ -377,13 +438,19 @@ void arrank_plot_fig_rate_at_T(script *s)
         any_flag |= r->flags != 0;
     }
     /* Notes go under the axis label, one row each, with room kept for them. */
-    fputs("set bmargin 6.6\n", f);
+    /* (a row more for the clipping note) */
+    fputs(any_clipped ? "set bmargin 7.6\n" : "set bmargin 6.6\n", f);
     if (put_group_brackets(f, a, rows, n_rows) > 0)
         fprintf(f, "set label 4 'bracket at right: not told apart from the first of its group "
                    "(Holm, %.4g %%)' at character 0.6, character 2.4 left font ',%d' "
                    "tc rgb '#444444'\n",
                 100.0 * a->options.confidence, arrank_plot_font_of(s, 0.7));
     put_unranked_note(s);
+    if (any_clipped)
+        fprintf(f, "set label 6 'arrow at the edge: the interval (or rate) goes beyond "
+                   "the axis, clipped' at character 0.6, character 3.3 left font ',%d' "
+                   "tc rgb '#444444'\n",
+                arrank_plot_font_of(s, 0.7));
     if (any_flag)
         fprintf(f, "set label 2 'open marker: flagged (flags at right)' at character 0.6, "
                    "character 1.5 left font ',%d' tc rgb '#444444'\n",

@@ -112,14 +112,18 @@ static int write_all(int fd, const char *buf, size_t len)
     return 0;
 }
 
-/* gnuplot's stderr as one line: the figure it was drawing (from our
-   "arrank-figure:" markers) and its error lines, joined with "; ".  Echoed
-   command lines ("gnuplot> ...") and caret lines are left out. */
-static void gnuplot_message(FILE *log, char *msg, size_t n)
+/* One reading of gnuplot's stderr: the figure of the first message line
+   (from our "arrank-figure:" markers) and the message lines joined with "; ".
+   With skip_warnings, gnuplot's warnings are left out, so that the error
+   that stopped it is the one named.  Echoed command lines ("gnuplot> ...")
+   and caret lines are always left out.  Returns whether any line was found. */
+static int gnuplot_lines(FILE *log, int skip_warnings, char *figure_name, size_t fn,
+                         char *text, size_t tn)
 {
-    char line[1024], figure_name[160] = "", text[ARRANK_ERROR_MSG_MAX] = "";
+    char line[1024];
     size_t len = 0;
     int found = 0;
+    figure_name[0] = text[0] = '\0';
     rewind(log);
     while (fgets(line, sizeof line, log)) {
         line[strcspn(line, "\r\n")] = '\0';
@@ -132,17 +136,37 @@ static void gnuplot_message(FILE *log, char *msg, size_t n)
         if (!*l || *l == '^' || strncmp(l, "gnuplot>", 8) == 0)
             continue;
         if (strncmp(l, "arrank-figure: ", 15) == 0) {
-            if (!found)
-                snprintf(figure_name, sizeof figure_name, "%s", l + 15);
+            if (!found) {
+                size_t m = strlen(l + 15) < fn - 1 ? strlen(l + 15) : fn - 1;
+                memcpy(figure_name, l + 15, m);
+                figure_name[m] = '\0';
+            }
             continue;
         }
+        if (skip_warnings && (strstr(l, "warning:") || strstr(l, "Warning") ||
+                              strncmp(l, "Check plot boundary", 19) == 0))
+            continue;
         found = 1;
-        int w = snprintf(text + len, sizeof text - len, "%s%s", len ? "; " : "", l);
-        if (w < 0 || (size_t)w >= sizeof text - len)
+        size_t need = (len ? 2 : 0) + strlen(l);
+        if (len + need >= tn)
             break;
-        len += (size_t)w;
+        if (len) {
+            memcpy(text + len, "; ", 2);
+            len += 2;
+        }
+        memcpy(text + len, l, strlen(l) + 1);
+        len += strlen(l);
     }
-    if (!found)
+    return found;
+}
+
+/* gnuplot's stderr as one line: the figure it failed on and its error lines;
+   its warnings only when there is nothing else. */
+static void gnuplot_message(FILE *log, char *msg, size_t n)
+{
+    char figure_name[160], text[ARRANK_ERROR_MSG_MAX - 200]; /* room for the figure name */
+    if (!gnuplot_lines(log, 1, figure_name, sizeof figure_name, text, sizeof text) &&
+        !gnuplot_lines(log, 0, figure_name, sizeof figure_name, text, sizeof text))
         snprintf(text, sizeof text, "no message on its error output");
     if (figure_name[0])
         snprintf(msg, n, "gnuplot failed on '%s': %s", figure_name, text);

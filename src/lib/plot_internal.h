@@ -39,10 +39,13 @@ int arrank_plot_point_used(const arrank_result *r, size_t k);
 /* The sample's id, "" when it has none. */
 const char *arrank_plot_sample_name(const arrank_result *r);
 
-/* text as a single-quoted gnuplot string (arrank_plot_quote) on f. */
+/* text as a quoted gnuplot string (arrank_plot_quote) on f. */
 void arrank_plot_put_q(FILE *f, const char *text);
+/* The same for the label of an explicit tic list, which gnuplot reads as a
+   printf format of the tic's value: each '%' doubled, so it shows as itself. */
+void arrank_plot_put_q_tic(FILE *f, const char *text);
 /* Format (printf) and quote the result: user text passed as a %s argument
-   ends up inside the single-quoted string like everything else. */
+   ends up inside the quoted string like everything else. */
 void arrank_plot_put_qf(FILE *f, const char *fmt, ...)
 #if defined(__GNUC__)
     __attribute__((format(printf, 2, 3)))
@@ -68,6 +71,9 @@ void arrank_plot_block_line(FILE *f, const arrank_result *r, const char *tag, si
                             double x0, double x1, int steps);
 /* The operating temperature is outside the fit's range. */
 int arrank_plot_any_extrapolation(double T_op, const arrank_arrhenius *fit);
+/* pad, or more when [lo - pad, hi + pad] would be narrower than 2e-3 of
+   scale: an axis over points a hair apart is never empty to gnuplot. */
+double arrank_plot_min_pad(double lo, double hi, double pad, double scale);
 /* The smallest step of 1, 2, 2.5 or 5 times a power of ten that puts at most
    max_tics tics on span (common practice for axis labels). */
 double arrank_plot_nice_step(double span, double max_tics);
