@@ -338,6 +338,53 @@ static arrank_status nlfit_minimum(gsl_multifit_nlinear_workspace *work, const g
                          iterations, offset, RELATIVE_OFFSET_TOL, refused);
 }
 
+/* Step 2 of arrank_nlfit_run: from a start inside the model's domain, the
+   trust-region driver.  A stop without convergence (*stalled, with the
+   reason in *stall_why) is still accepted when the point is a minimum by the
+   relative-offset test (nlfit_minimum): a start that is already the optimum
+   makes no progress, yet is the answer. */
+static arrank_status nlfit_drive(nl_problem *pb, const double *start, gsl_vector *x0,
+                                 gsl_vector *wv, gsl_multifit_nlinear_workspace *work,
+                                 const arrank_nlfit_options *opt, int *stalled, int *stall_why,
+                                 size_t *iterations, arrank_error *err)
+{
+    const size_t n = pb->n, p = pb->p;
+    for (size_t i = 0; i < n; i++) {
+        double v = NAN;
+        if (pb->model(start, i, pb->ctx, &v, NULL) != 0 || !isfinite(v))
+            return arrank_errorf(err, ARRANK_EFIT,
+                                 "the starting point is outside the model's domain "
+                                 "(observation %zu)", i + 1);
+    }
+    gsl_multifit_nlinear_fdf fdf;
+    memset(&fdf, 0, sizeof fdf);
+    fdf.f = nl_f;
+    fdf.df = nl_df;
+    fdf.fvv = NULL; /* geodesic acceleration by finite differences of f */
+    fdf.n = n;
+    fdf.p = p;
+    fdf.params = pb;
+    int gs = wv ? gsl_multifit_nlinear_winit(x0, wv, &fdf, work)
+                : gsl_multifit_nlinear_init(x0, &fdf, work);
+    if (gs != GSL_SUCCESS || pb->grad_failed)
+        return arrank_errorf(err, ARRANK_EFIT, "the nonlinear fit could not start: %s",
+                             pb->grad_failed ? "the model's gradient is not finite at the start"
+                                             : gsl_strerror(gs));
+    int info = 0;
+    gs = gsl_multifit_nlinear_driver(opt->max_iter, opt->xtol, opt->gtol, opt->ftol, NULL, NULL,
+                                     &info, work);
+    *iterations = gsl_multifit_nlinear_niter(work);
+    if (gs == GSL_EMAXITER || gs == GSL_ENOPROG) {
+        /* the driver returns EMAXITER with info ENOPROG when not one step succeeded */
+        *stall_why = (gs == GSL_EMAXITER && info == GSL_ENOPROG) ? GSL_ENOPROG : gs;
+        *stalled = 1;
+        gs = GSL_SUCCESS;
+    }
+    if (gs != GSL_SUCCESS)
+        return arrank_errorf(err, ARRANK_EFIT, "the nonlinear fit failed: %s", gsl_strerror(gs));
+    return ARRANK_OK;
+}
+
 arrank_status arrank_nlfit_run(arrank_model_fn model, void *ctx, size_t n_params, const double *y,
                                const double *w, size_t n, const double *start,
                                const arrank_nlfit_options *options, arrank_nlfit *out,
@@ -383,51 +430,10 @@ arrank_status arrank_nlfit_run(arrank_model_fn model, void *ctx, size_t n_params
     for (size_t i = 0; w && i < n; i++)
         gsl_vector_set(wv, i, w[i]);
 
-    /* the start must be inside the domain: the solver cannot recover from there */
-    for (size_t i = 0; i < n; i++) {
-        double v = NAN;
-        if (model(start, i, ctx, &v, NULL) != 0 || !isfinite(v)) {
-            st = arrank_errorf(err, ARRANK_EFIT,
-                               "the starting point is outside the model's domain "
-                               "(observation %zu)", i + 1);
-            goto done;
-        }
-    }
-
-    gsl_multifit_nlinear_fdf fdf;
-    memset(&fdf, 0, sizeof fdf);
-    fdf.f = nl_f;
-    fdf.df = nl_df;
-    fdf.fvv = NULL; /* geodesic acceleration by finite differences of f */
-    fdf.n = n;
-    fdf.p = p;
-    fdf.params = &pb;
-    int gs = wv ? gsl_multifit_nlinear_winit(x0, wv, &fdf, work)
-                : gsl_multifit_nlinear_init(x0, &fdf, work);
-    if (gs != GSL_SUCCESS || pb.grad_failed) {
-        st = arrank_errorf(err, ARRANK_EFIT, "the nonlinear fit could not start: %s",
-                           pb.grad_failed ? "the model's gradient is not finite at the start"
-                                          : gsl_strerror(gs));
-        goto done;
-    }
-    int info = 0;
-    gs = gsl_multifit_nlinear_driver(opt.max_iter, opt.xtol, opt.gtol, opt.ftol, NULL, NULL,
-                                     &info, work);
-    out->iterations = gsl_multifit_nlinear_niter(work);
-    /* A stop without convergence is still accepted when the point is a minimum
-       by the relative-offset test below: a start that is already the optimum
-       makes no progress, yet is the answer. */
     int stalled = 0, stall_why = 0;
-    if (gs == GSL_EMAXITER || gs == GSL_ENOPROG) {
-        /* the driver returns EMAXITER with info ENOPROG when not one step succeeded */
-        stall_why = (gs == GSL_EMAXITER && info == GSL_ENOPROG) ? GSL_ENOPROG : gs;
-        stalled = 1;
-        gs = GSL_SUCCESS;
-    }
-    if (gs != GSL_SUCCESS) {
-        st = arrank_errorf(err, ARRANK_EFIT, "the nonlinear fit failed: %s", gsl_strerror(gs));
+    st = nlfit_drive(&pb, start, x0, wv, work, &opt, &stalled, &stall_why, &out->iterations, err);
+    if (st != ARRANK_OK)
         goto done;
-    }
     if (pb.grad_failed) {
         st = arrank_errorf(err, ARRANK_EFIT, "the model's gradient failed at an accepted point");
         goto done;

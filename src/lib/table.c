@@ -326,6 +326,51 @@ typedef struct {
 } table_ctx;
 
 /* Row k of the table (display order) appended to r. */
+/* The row's rank, P(best) and group cells, each followed by two spaces. */
+static char *put_rank_cells(const table_ctx *tc, const arrank_result *res, char *p)
+{
+    char cell[CELL_MAX + 1];
+    if (res->rank)
+        p = put_right(p, cell, int_text(cell, res->rank), tc->w_rank);
+    else
+        p = put_right(p, "-", 1, tc->w_rank);
+    p = put_text(p, "  ", 2);
+    if (!tc->have_stats)
+        return p;
+    const struct arrank_sample_stats *ss = res->rank ? res->stats : NULL;
+    if (ss && isfinite(ss->p_best)) {
+        int len = arrank_format_fixed(cell, sizeof cell, 3, ss->p_best);
+        p = put_right(p, cell, len < 0 ? 0 : (size_t)len, tc->w_pb);
+    } else {
+        p = put_right(p, "-", 1, tc->w_pb);
+    }
+    p = put_text(p, "  ", 2);
+    if (ss && ss->group > 0)
+        p = put_right(p, cell, int_text(cell, ss->group), tc->w_grp);
+    else
+        p = put_right(p, "-", 1, tc->w_grp);
+    return put_text(p, "  ", 2);
+}
+
+/* The row's flags cell: the flags in words (the extrapolation with how far
+   the operating temperature lies outside the measured range), or "-". */
+static char *put_flags_cell(const arrank_result *res, char *p)
+{
+    if (!res->flags) {
+        *p++ = '-';
+        return p;
+    }
+    char extra[64], *how_far = NULL;
+    if ((res->flags & ARRANK_FLAG_EXTRAPOLATED) && res->has_prediction &&
+        res->at_T.extrapolation_K > 0 && res->at_T.extrapolation_K < 1e9) {
+        const double out_K = res->at_T.extrapolation_K;
+        snprintf(extra, sizeof extra, "extrapolated %.*f K", out_K < 9.95 ? 1 : 0, out_K);
+        how_far = extra;
+    }
+    flags_joined(res->flags, p, 512, ", ", how_far); /* as many bytes as ever: under 512 */
+    return p + strlen(p);
+}
+
 static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_flags,
                       int *any_error)
 {
@@ -338,30 +383,8 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
     if (!p)
         return;
     char *const row = p, cell[CELL_MAX + 1];
-    if (a->n_ranked) {
-        if (res->rank) {
-            p = put_right(p, cell, int_text(cell, res->rank), tc->w_rank);
-        } else {
-            p = put_right(p, "-", 1, tc->w_rank);
-        }
-        p = put_text(p, "  ", 2);
-        if (tc->have_stats) {
-            const struct arrank_sample_stats *ss = res->rank ? res->stats : NULL;
-            if (ss && isfinite(ss->p_best)) {
-                int len = arrank_format_fixed(cell, sizeof cell, 3, ss->p_best);
-                p = put_right(p, cell, len < 0 ? 0 : (size_t)len, tc->w_pb);
-            } else {
-                p = put_right(p, "-", 1, tc->w_pb);
-            }
-            p = put_text(p, "  ", 2);
-            if (ss && ss->group > 0) {
-                p = put_right(p, cell, int_text(cell, ss->group), tc->w_grp);
-            } else {
-                p = put_right(p, "-", 1, tc->w_grp);
-            }
-            p = put_text(p, "  ", 2);
-        }
-    }
+    if (a->n_ranked)
+        p = put_rank_cells(tc, res, p);
     p = put_name(p, res->sample->id, tc->name_w);
     p = put_text(p, "  ", 2);
     if (res->error) {
@@ -438,20 +461,7 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
         }
     }
     p = put_text(p, "  ", 2);
-    if (res->flags) {
-        /* how far the operating temperature lies outside the measured range */
-        char extra[64], *how_far = NULL;
-        if ((res->flags & ARRANK_FLAG_EXTRAPOLATED) && res->has_prediction &&
-            res->at_T.extrapolation_K > 0 && res->at_T.extrapolation_K < 1e9) {
-            const double out_K = res->at_T.extrapolation_K;
-            snprintf(extra, sizeof extra, "extrapolated %.*f K", out_K < 9.95 ? 1 : 0, out_K);
-            how_far = extra;
-        }
-        flags_joined(res->flags, p, 512, ", ", how_far); /* as many bytes as ever: under 512 */
-        p += strlen(p);
-    } else {
-        *p++ = '-';
-    }
+    p = put_flags_cell(res, p);
     *p++ = '\n';
     r->n += (size_t)(p - row);
     *seen_flags |= res->flags;
