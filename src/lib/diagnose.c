@@ -93,55 +93,10 @@ const char *arrank_bend_name(arrank_bend bend)
     return "none";
 }
 
-static char *fmt(arrank_dwork *wk, const char *f, ...)
-#if defined(__GNUC__)
-    __attribute__((format(printf, 2, 3)))
-#endif
-    ;
-
-static char *fmt(arrank_dwork *wk, const char *f, ...)
-{
-    va_list ap;
-    va_start(ap, f);
-    char *s = arrank_vstrfmt(f, ap);
-    va_end(ap);
-    if (!s)
-        wk->nomem = 1;
-    return s;
-}
-
 static void push_str(arrank_dwork *wk, char ***arr, size_t *n, char *s)
 {
     if (arrank_strings_push(arr, n, s) != 0)
         wk->nomem = 1;
-}
-
-static void finding(arrank_dwork *wk, const char *f, ...)
-#if defined(__GNUC__)
-    __attribute__((format(printf, 2, 3)))
-#endif
-    ;
-
-static void finding(arrank_dwork *wk, const char *f, ...)
-{
-    va_list ap;
-    va_start(ap, f);
-    push_str(wk, &wk->d->findings, &wk->d->n_findings, arrank_vstrfmt(f, ap));
-    va_end(ap);
-}
-
-static void note(arrank_dwork *wk, const char *f, ...)
-#if defined(__GNUC__)
-    __attribute__((format(printf, 2, 3)))
-#endif
-    ;
-
-static void note(arrank_dwork *wk, const char *f, ...)
-{
-    va_list ap;
-    va_start(ap, f);
-    push_str(wk, &wk->d->notes, &wk->d->n_notes, arrank_vstrfmt(f, ap));
-    va_end(ap);
 }
 
 /* A note made of the k texts joined: the one note every sample gets, built
@@ -364,17 +319,17 @@ static void name_causes(arrank_dwork *wk, const size_t *sorted, size_t n, double
 
     if (cv->direction == ARRANK_BEND_DOWN) {
         if (hot_conv)
-            add_cause(wk, 1, fmt(wk, "conversion above the differential limit"),
-                      fmt(wk, "%zu point(s) in the hot half are above the %.0f %% limit, so their "
+            add_cause(wk, 1, arrank_dwork_fmt(wk, "conversion above the differential limit"),
+                      arrank_dwork_fmt(wk, "%zu point(s) in the hot half are above the %.0f %% limit, so their "
                               "rates understate the differential rate",
                           hot_conv, 100.0 * d->conversion_limit));
         if (runs_down)
-            add_cause(wk, 1, fmt(wk, "deactivation during the measurements"),
-                      fmt(wk, "later runs or later times show lower activity at the same "
+            add_cause(wk, 1, arrank_dwork_fmt(wk, "deactivation during the measurements"),
+                      arrank_dwork_fmt(wk, "later runs or later times show lower activity at the same "
                               "temperature (see the run and drift checks)"));
         if (n_pore)
-            add_cause(wk, 1, fmt(wk, "pore diffusion"),
-                      fmt(wk, "local apparent Ea falls to %.0f kJ/mol at %.0f K against %.0f "
+            add_cause(wk, 1, arrank_dwork_fmt(wk, "pore diffusion"),
+                      arrank_dwork_fmt(wk, "local apparent Ea falls to %.0f kJ/mol at %.0f K against %.0f "
                               "kJ/mol in the kinetic window (ratio %.2f; strong pore diffusion "
                               "gives about one half); %s%s%s",
                           kj(lo_pore), t_pore, kj(ea_window), lo_pore / ea_window, series,
@@ -385,8 +340,8 @@ static void name_causes(arrank_dwork *wk, const size_t *sorted, size_t n, double
                                                        "its limit")
                                        : ""));
         if (n_film)
-            add_cause(wk, 1, fmt(wk, "film (external) mass transfer"),
-                      fmt(wk, "local apparent Ea falls to %.0f kJ/mol at %.0f K against %.0f "
+            add_cause(wk, 1, arrank_dwork_fmt(wk, "film (external) mass transfer"),
+                      arrank_dwork_fmt(wk, "local apparent Ea falls to %.0f kJ/mol at %.0f K against %.0f "
                               "kJ/mol in the kinetic window (ratio %.2f), below %.0f kJ/mol or "
                               "%.1f of the window's: past the one half that pore diffusion gives "
                               "at most; %s%s%s",
@@ -398,35 +353,35 @@ static void name_causes(arrank_dwork *wk, const size_t *sorted, size_t n, double
                                                      : "and the Mears number is above its limit")
                                        : ""));
         if (n_film && !n_pore)
-            add_cause(wk, 0, fmt(wk, "pore diffusion as well"),
-                      fmt(wk, "not told apart: film control takes the local apparent Ea through "
+            add_cause(wk, 0, arrank_dwork_fmt(wk, "pore diffusion as well"),
+                      arrank_dwork_fmt(wk, "not told apart: film control takes the local apparent Ea through "
                               "the pore-like range (%.1f-%.1f of the window's) on its way down",
                           PORE_RATIO_LO, PORE_RATIO_HI));
         if (!n_pore && !n_film)
-            add_cause(wk, 0, fmt(wk, "transport limitation (pore or film)"),
-                      fmt(wk, "%s; the local slopes do not single out a transport regime", series));
+            add_cause(wk, 0, arrank_dwork_fmt(wk, "transport limitation (pore or film)"),
+                      arrank_dwork_fmt(wk, "%s; the local slopes do not single out a transport regime", series));
         if (!runs_down && !has_repeats)
-            add_cause(wk, 0, fmt(wk, "deactivation on a rising temperature ramp"),
-                      fmt(wk, "not testable: no repeat, cooling branch or time on stream; "
+            add_cause(wk, 0, arrank_dwork_fmt(wk, "deactivation on a rising temperature ramp"),
+                      arrank_dwork_fmt(wk, "not testable: no repeat, cooling branch or time on stream; "
                               "repeat a cold point at the end to check"));
-        add_cause(wk, 0, fmt(wk, "adsorption-equilibrium shift or change of rate-determining step"),
-                  fmt(wk, "bends the plot the same way; not testable from rate against "
+        add_cause(wk, 0, arrank_dwork_fmt(wk, "adsorption-equilibrium shift or change of rate-determining step"),
+                  arrank_dwork_fmt(wk, "bends the plot the same way; not testable from rate against "
                           "temperature alone (vary partial pressures)"));
-        add_cause(wk, 0, fmt(wk, "approach to equilibrium"),
-                  fmt(wk, "check the equilibrium conversion at the hottest point"));
+        add_cause(wk, 0, arrank_dwork_fmt(wk, "approach to equilibrium"),
+                  arrank_dwork_fmt(wk, "check the equilibrium conversion at the hottest point"));
     } else if (cv->direction == ARRANK_BEND_UP) {
         if (runs_up)
-            add_cause(wk, 1, fmt(wk, "activation during the measurements"),
-                      fmt(wk, "later runs or later times show higher activity at the same "
+            add_cause(wk, 1, arrank_dwork_fmt(wk, "activation during the measurements"),
+                      arrank_dwork_fmt(wk, "later runs or later times show higher activity at the same "
                               "temperature (see the run and drift checks)"));
-        add_cause(wk, 0, fmt(wk, "a second route with a higher activation energy"),
-                  fmt(wk, "the apparent Ea rises from %.0f kJ/mol at the cold end to %.0f kJ/mol "
+        add_cause(wk, 0, arrank_dwork_fmt(wk, "a second route with a higher activation energy"),
+                  arrank_dwork_fmt(wk, "the apparent Ea rises from %.0f kJ/mol at the cold end to %.0f kJ/mol "
                           "at the hot end (quadratic fit)",
                       kj(cv->ea_cold_J_mol), kj(cv->ea_hot_J_mol)));
-        add_cause(wk, 0, fmt(wk, "blank activity of the reactor or support"),
-                  fmt(wk, "not testable from these data: measure an empty or support-only run"));
-        add_cause(wk, 0, fmt(wk, "hot spots (bed hotter than the thermocouple)"),
-                  fmt(wk, "likely with an exothermic reaction at high conversion: use an in-bed "
+        add_cause(wk, 0, arrank_dwork_fmt(wk, "blank activity of the reactor or support"),
+                  arrank_dwork_fmt(wk, "not testable from these data: measure an empty or support-only run"));
+        add_cause(wk, 0, arrank_dwork_fmt(wk, "hot spots (bed hotter than the thermocouple)"),
+                  arrank_dwork_fmt(wk, "likely with an exothermic reaction at high conversion: use an in-bed "
                           "thermocouple and dilute the bed"));
     }
 }
@@ -438,7 +393,7 @@ static void describe_curvature(arrank_dwork *wk, const size_t *sorted, size_t n)
     arrank_diagnosis *d = wk->d;
     arrank_curvature *cv = &d->curvature;
     if (!cv->tested)
-        note(wk,
+        arrank_dwork_note(wk,
              "curvature not detected: %zu points at %zu temperatures are too few to test "
              "(needs %d points at %d temperatures)",
              cv->n, arrank_regress_count_temps(wk->pt, sorted, n), ARRANK_CURVE_MIN_POINTS,
@@ -479,7 +434,7 @@ static void describe_curvature(arrank_dwork *wk, const size_t *sorted, size_t n)
                      kj(cv->local[0].ea_J_mol), cv->local[0].temp_lo_K, cv->local[0].temp_hi_K,
                      kj(cv->local[cv->n_local - 1].ea_J_mol),
                      cv->local[cv->n_local - 1].temp_lo_K, cv->local[cv->n_local - 1].temp_hi_K);
-        finding(wk, "the Arrhenius plot bends %s (%s): quadratic term t = %.2f, p = %.2g at level "
+        arrank_dwork_finding(wk, "the Arrhenius plot bends %s (%s): quadratic term t = %.2f, p = %.2g at level "
                     "%.2g%s",
                 arrank_bend_name(cv->direction),
                 cv->direction == ARRANK_BEND_DOWN ? "slope flattens at the hot end"
@@ -487,10 +442,10 @@ static void describe_curvature(arrank_dwork *wk, const size_t *sorted, size_t n)
                 cv->quad_t, cv->quad_p, cv->level, local);
         for (size_t k = 0; k < cv->n_causes; k++)
             if (cv->causes[k].supported)
-                finding(wk, "likely cause: %s: %s", cv->causes[k].cause, cv->causes[k].evidence);
+                arrank_dwork_finding(wk, "likely cause: %s: %s", cv->causes[k].cause, cv->causes[k].evidence);
         for (size_t k = 0; k < cv->n_causes; k++)
             if (!cv->causes[k].supported)
-                note(wk, "possible cause: %s: %s", cv->causes[k].cause, cv->causes[k].evidence);
+                arrank_dwork_note(wk, "possible cause: %s: %s", cv->causes[k].cause, cv->causes[k].evidence);
     }
 }
 
@@ -503,14 +458,14 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
         size_t i = sorted[k];
         const arrank_point_diag *pd = &d->points[i];
         if (pd->high_conversion)
-            finding(wk, "conversion %.1f %% at %.1f K (line %ld) is above the %.0f %% "
+            arrank_dwork_finding(wk, "conversion %.1f %% at %.1f K (line %ld) is above the %.0f %% "
                         "differential limit: the rate there is not a differential rate",
                     100.0 * wk->pt[i].conversion, wk->pt[i].temp_K, wk->pt[i].line,
                     100.0 * d->conversion_limit);
     }
     /* what the fit did, not a problem of the data: a note */
     if (d->window_applied && f)
-        note(wk, "fitted on the kinetic window %.1f-%.1f K (%zu points): Ea %.1f kJ/mol "
+        arrank_dwork_note(wk, "fitted on the kinetic window %.1f-%.1f K (%zu points): Ea %.1f kJ/mol "
                     "(standard error %.1f), against %.1f kJ/mol (%.1f) on every point",
                 d->window_lo_K, d->window_hi_K, d->window_n, kj(f->ea_J_mol),
                 kj(f->ea_se_J_mol), kj(d->ea_all_J_mol), kj(d->ea_all_se_J_mol));
@@ -534,33 +489,33 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
                  strcmp(rs->method, "paired") == 0 ? "common temperatures" : "points", rs->t,
                  rs->p);
         if (rs->verdict < 0)
-            finding(wk, "%s: the catalyst lost activity during the measurements (deactivation)",
+            arrank_dwork_finding(wk, "%s: the catalyst lost activity during the measurements (deactivation)",
                     what);
         else if (rs->verdict > 0)
-            finding(wk, "%s: the catalyst gained activity during the measurements (activation)",
+            arrank_dwork_finding(wk, "%s: the catalyst gained activity during the measurements (activation)",
                     what);
         else
-            note(wk, "%s: no significant shift of at least %.0f %%%s", what,
+            arrank_dwork_note(wk, "%s: no significant shift of at least %.0f %%%s", what,
                  100.0 * ARRANK_RUN_MIN_CHANGE, family);
     }
     const arrank_drift *dr = &d->drift;
     if (dr->tested) {
         if (dr->verdict)
-            finding(wk, "the rate drifts %s by %.0f %% over %.1f h on stream at fixed temperature "
+            arrank_dwork_finding(wk, "the rate drifts %s by %.0f %% over %.1f h on stream at fixed temperature "
                         "dependence (t = %.2f, p = %.2g): %s",
                     dr->verdict < 0 ? "down" : "up", 100.0 * fabs(dr->change), dr->span_h, dr->t,
                     dr->p, dr->verdict < 0 ? "deactivation" : "activation");
         else
-            note(wk, "no significant drift with time on stream (%.1f %% over %.1f h, p = %.2g)%s",
+            arrank_dwork_note(wk, "no significant drift with time on stream (%.1f %% over %.1f h, p = %.2g)%s",
                  100.0 * dr->change, dr->span_h, dr->p, family);
     } else if (dr->note)
-        note(wk, "%s", dr->note);
+        arrank_dwork_note(wk, "%s", dr->note);
     for (size_t k = 0; k < n; k++) {
         size_t i = sorted[k];
         const arrank_point_diag *pd = &d->points[i];
         if (!pd->outlier)
             continue;
-        finding(wk,
+        arrank_dwork_finding(wk,
                 "point at %.1f K (line %ld) is %s: studentized residual %.2f (limit %.2f), "
                 "Cook's distance %.2f (limit %.0f); %s",
                 wk->pt[i].temp_K, wk->pt[i].line,
@@ -579,12 +534,12 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
         if (!cr[k]->detail)
             continue;
         if (!cr[k]->computed)
-            note(wk, "%s %s", crname[k], cr[k]->detail);
+            arrank_dwork_note(wk, "%s %s", crname[k], cr[k]->detail);
         else if (cr[k]->passes)
-            note(wk, "%s %.3g at %.1f K is below %.3g (%s): %s; %s", crname[k], cr[k]->value,
+            arrank_dwork_note(wk, "%s %.3g at %.1f K is below %.3g (%s): %s; %s", crname[k], cr[k]->value,
                  cr[k]->temp_K, cr[k]->threshold, cr[k]->source, crgood[k], cr[k]->detail);
         else
-            finding(wk, "%s %.3g at %.1f K is above %.3g (%s): %s; %s", crname[k], cr[k]->value,
+            arrank_dwork_finding(wk, "%s %.3g at %.1f K is above %.3g (%s): %s; %s", crname[k], cr[k]->value,
                     cr[k]->temp_K, cr[k]->threshold, cr[k]->source, crbad[k], cr[k]->detail);
     }
 }
@@ -806,33 +761,33 @@ static void regimes(arrank_dwork *wk, const size_t *base, const size_t *grp, siz
             const double le = pd->local_ea_J_mol, ratio = le / ea_w;
             char *why;
             if (pd->regime == ARRANK_REGIME_FILM && on_way)
-                why = fmt(wk, "film-limited point: hotter than the kinetic window, local apparent "
+                why = arrank_dwork_fmt(wk, "film-limited point: hotter than the kinetic window, local apparent "
                               "Ea %.0f kJ/mol against %.0f kJ/mol in the window (ratio %.2f), "
                               "on the way down to the film control of the hotter points",
                           kj(le), kj(ea_w), ratio);
             else if (pd->regime == ARRANK_REGIME_FILM)
-                why = fmt(wk, "film-limited point: hotter than the kinetic window, local apparent "
+                why = arrank_dwork_fmt(wk, "film-limited point: hotter than the kinetic window, local apparent "
                               "Ea %.0f kJ/mol against %.0f kJ/mol in the window (ratio %.2f; "
                               "below %.0f kJ/mol or %.1f of the window's, past what pore "
                               "diffusion can do)",
                           kj(le), kj(ea_w), ratio, kj(FILM_EA_J_MOL), PORE_RATIO_LO);
             else if (pd->regime == ARRANK_REGIME_PORE)
-                why = fmt(wk, "pore-limited point: hotter than the kinetic window, local apparent "
+                why = arrank_dwork_fmt(wk, "pore-limited point: hotter than the kinetic window, local apparent "
                               "Ea %.0f kJ/mol against %.0f kJ/mol in the window (ratio %.2f; "
                               "pore diffusion gives %.1f-%.1f, one half in the strong limit)",
                           kj(le), kj(ea_w), ratio, PORE_RATIO_LO, PORE_RATIO_HI);
             else if (isfinite(le) && ea_w > 0 && ratio > PORE_RATIO_HI)
-                why = fmt(wk, "where the bend begins: hotter than the kinetic window, local "
+                why = arrank_dwork_fmt(wk, "where the bend begins: hotter than the kinetic window, local "
                               "apparent Ea %.0f kJ/mol against %.0f kJ/mol in the window "
                               "(ratio %.2f, above %.1f)",
                           kj(le), kj(ea_w), ratio, PORE_RATIO_HI);
             else if (isfinite(le) && ea_w > 0)
-                why = fmt(wk, "hotter than the kinetic window: local apparent Ea %.0f kJ/mol "
+                why = arrank_dwork_fmt(wk, "hotter than the kinetic window: local apparent Ea %.0f kJ/mol "
                               "against %.0f kJ/mol in the window (ratio %.2f), too uncertain "
                               "to name a regime",
                           kj(le), kj(ea_w), ratio);
             else
-                why = fmt(wk, "hotter than the kinetic window: no local apparent Ea to name a "
+                why = arrank_dwork_fmt(wk, "hotter than the kinetic window: no local apparent Ea to name a "
                               "regime");
             if (!use_all)
                 set_excluded(wk, i, why);
@@ -848,7 +803,7 @@ static void regimes(arrank_dwork *wk, const size_t *base, const size_t *grp, siz
             pd->regime = ARRANK_REGIME_UNCLASSIFIED;
         if (pd->high_conversion && !use_all)
             set_excluded(wk, i,
-                         fmt(wk, "conversion %.1f %% above the %.0f %% differential limit",
+                         arrank_dwork_fmt(wk, "conversion %.1f %% above the %.0f %% differential limit",
                              100.0 * wk->pt[i].conversion, 100.0 * d->conversion_limit));
     }
 }
@@ -865,7 +820,7 @@ static void outliers(arrank_dwork *wk, const size_t *fitset, size_t nfit, int dr
         const arrank_point_diag *pd = &d->points[i];
         if (pd->outlier)
             set_excluded(wk, i,
-                         fmt(wk, "outlier: studentized residual %.2f (limit %.2f), Cook's "
+                         arrank_dwork_fmt(wk, "outlier: studentized residual %.2f (limit %.2f), Cook's "
                                  "distance %.2f",
                              pd->student_resid, d->outlier_t_limit, pd->cooks_d));
     }
@@ -976,11 +931,11 @@ static void propose_steps(arrank_dwork *wk, size_t *base, size_t *grp, size_t *c
     int film_all = have_line && lf_all.ea_J_mol < FILM_EA_J_MOL;
     regimes(wk, base, grp, n, n_groups, ea_w, film_all, opt->use_all);
     if (still_bent)
-        note(wk, "the hot end was trimmed down to %d temperatures and the rest still bends: the "
+        arrank_dwork_note(wk, "the hot end was trimmed down to %d temperatures and the rest still bends: the "
                  "window's Ea may still understate the intrinsic value",
              MIN_WINDOW_TEMPS);
     if (film_all)
-        finding(wk, "apparent Ea %.1f kJ/mol on every point is below %.0f kJ/mol: the whole "
+        arrank_dwork_finding(wk, "apparent Ea %.1f kJ/mol on every point is below %.0f kJ/mol: the whole "
                     "sample may be film-controlled (no kinetic window)",
                 kj(lf_all.ea_J_mol), kj(FILM_EA_J_MOL));
 
@@ -1094,7 +1049,7 @@ arrank_status arrank_diagnose_conclude(arrank_diagnosis *d, const arrank_diagnos
                  snprintf(why, sizeof why, "%s", opt->basis.why) >= 0);
     if (mixed) {
         d->mixed_basis = 1;
-        finding(&wk, "normalisation bases are mixed: %s; rankings across bases can invert", why);
+        arrank_dwork_finding(&wk, "normalisation bases are mixed: %s; rankings across bases can invert", why);
     }
 
     /* 9. causes and words */

@@ -34,23 +34,6 @@
    end point alone often has D > 1 (our choice). */
 #define INFLUENCE_LEVEL 0.01
 
-static char *fmt(arrank_dwork *wk, const char *f, ...)
-#if defined(__GNUC__)
-    __attribute__((format(printf, 2, 3)))
-#endif
-    ;
-
-static char *fmt(arrank_dwork *wk, const char *f, ...)
-{
-    va_list ap;
-    va_start(ap, f);
-    char *s = arrank_vstrfmt(f, ap);
-    va_end(ap);
-    if (!s)
-        wk->nomem = 1;
-    return s;
-}
-
 /* ---- conversion ------------------------------------------------------------ */
 
 size_t arrank_quality_conversion(arrank_dwork *wk, const size_t *base, size_t n, size_t *cand)
@@ -251,7 +234,7 @@ static void test_drift(arrank_dwork *wk, const size_t *base, size_t n)
     if (m == 0)
         goto done;
     if (m < DRIFT_MIN_POINTS) {
-        dr->note = fmt(wk, "only %zu points have a time on stream: too few to test for drift", m);
+        dr->note = arrank_dwork_fmt(wk, "only %zu points have a time on stream: too few to test for drift", m);
         goto done;
     }
     double tmin = INFINITY, tmax = -INFINITY, mx = 0, mt = 0;
@@ -273,7 +256,7 @@ static void test_drift(arrank_dwork *wk, const size_t *base, size_t n)
     double corr = sxx > 0 && stt > 0 ? sxt / sqrt(sxx * stt) : 1.0;
     dr->span_h = tmax - tmin;
     if (!(stt > 0) || fabs(corr) > DRIFT_COLLINEAR) {
-        dr->note = fmt(wk, "time on stream follows temperature (correlation %.2f): drift cannot "
+        dr->note = arrank_dwork_fmt(wk, "time on stream follows temperature (correlation %.2f): drift cannot "
                            "be told apart from the temperature dependence",
                        corr);
         goto done;
@@ -380,7 +363,7 @@ static int label_passes(arrank_dwork *wk, const size_t *base, const size_t *grp,
     if (!names)
         return -1;
     for (size_t j = 0; j < max_pass; j++) {
-        names[j] = fmt(wk, "pass %zu", j + 1);
+        names[j] = arrank_dwork_fmt(wk, "pass %zu", j + 1);
         if (!names[j]) {
             free_names(names, (int)j);
             return -1;

@@ -44,10 +44,6 @@
 
 /* ---------------------------------------------------------------- helpers */
 
-static int is_blank(char c)
-{
-    return c == ' ' || c == '\t';
-}
 
 /* Copy text into out (size n), cut if it does not fit; snprintf costs more per cell. */
 static void copy_cut(char *out, size_t n, const char *text)
@@ -59,16 +55,6 @@ static void copy_cut(char *out, size_t n, const char *text)
     out[len] = '\0';
 }
 
-/* Trim blanks and line-end characters in place; returns the start. */
-static char *trim(char *s)
-{
-    while (is_blank(*s) || *s == '\r' || *s == '\n')
-        s++;
-    size_t n = strlen(s);
-    while (n > 0 && (is_blank(s[n - 1]) || s[n - 1] == '\r' || s[n - 1] == '\n'))
-        s[--n] = '\0';
-    return s;
-}
 
 static int has_csv_extension(const char *name)
 {
@@ -200,7 +186,7 @@ static void header_field(parser *p, char *text)
              ARRANK_CAMPAIGN_MAX_COLUMNS);
         return;
     }
-    char *s = trim(text);
+    char *s = arrank_trim(text);
     char *unit = NULL;
     arrank_status st = ARRANK_OK;
     char msg[ARRANK_ERROR_MSG_MAX];
@@ -464,7 +450,7 @@ static void start_point(parser *p)
 /* Cell step 1: the run label of a run column. */
 static void run_cell(parser *p, char *text)
 {
-    char *label = trim(text);
+    char *label = arrank_trim(text);
     if (!*label)
         return;
     long r = arrank_sample_run_index(&p->runs, p->sample, &p->runs_cap, label);
@@ -613,7 +599,7 @@ static void data_field(parser *p, char *text)
     size_t idx = p->field;
     if (idx == 0) {
         char *t = text;
-        while (is_blank(*t))
+        while (arrank_is_blank(*t))
             t++;
         p->row_is_comment = *t == '#';
         start_point(p);
@@ -624,7 +610,7 @@ static void data_field(parser *p, char *text)
     long colno = (long)idx + 1;
     if (c->kind == COL_IGNORED)
         return;
-    char *cell = trim(text);
+    char *cell = arrank_trim(text);
     if (*cell)
         p->row_has_text = 1;
     if (c->kind == COL_RUN) {
@@ -855,13 +841,13 @@ static int metadata_line(parser *p, const char *s, size_t n)
     if (!eq)
         return 0;
     const char *k0 = s, *k1 = eq, *v0 = eq + 1, *v1 = end;
-    while (k0 < k1 && is_blank(*k0))
+    while (k0 < k1 && arrank_is_blank(*k0))
         k0++;
-    while (k1 > k0 && is_blank(k1[-1]))
+    while (k1 > k0 && arrank_is_blank(k1[-1]))
         k1--;
-    while (v0 < v1 && is_blank(*v0))
+    while (v0 < v1 && arrank_is_blank(*v0))
         v0++;
-    while (v1 > v0 && is_blank(v1[-1]))
+    while (v1 > v0 && arrank_is_blank(v1[-1]))
         v1--;
     if (k0 == k1)
         return 0;
@@ -1009,7 +995,7 @@ static arrank_status read_preamble(parser *p, const char *data, size_t len, cons
             return fail(p, ARRANK_ELIMIT, 0, "line longer than %ld bytes",
                         ARRANK_CAMPAIGN_MAX_LINE_BYTES);
         const char *t = s;
-        while (t < s + n && is_blank(*t))
+        while (t < s + n && arrank_is_blank(*t))
             t++;
         if (t < s + n && *t != '#') {
             *header = s;

@@ -12,21 +12,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-static int is_blank(char c)
-{
-    return c == ' ' || c == '\t';
-}
 
-/* Trim blanks and line-end characters in place; returns the start. */
-static char *trim(char *s)
-{
-    while (is_blank(*s) || *s == '\r' || *s == '\n')
-        s++;
-    size_t n = strlen(s);
-    while (n > 0 && (is_blank(s[n - 1]) || s[n - 1] == '\r' || s[n - 1] == '\n'))
-        s[--n] = '\0';
-    return s;
-}
 
 
 static size_t hash_text(const char *s)
@@ -112,7 +98,7 @@ int arrank_sample_split_header(char *s, char **name, char **unit, arrank_status 
             return -1;
         }
         char *after = close + 1;
-        while (is_blank(*after))
+        while (arrank_is_blank(*after))
             after++;
         if (*after) {
             *st = ARRANK_EPARSE;
@@ -147,10 +133,10 @@ int arrank_sample_split_header(char *s, char **name, char **unit, arrank_status 
         u = match + 1;
     }
     if (u) {
-        u = trim(u);
+        u = arrank_trim(u);
         if (!brackets_balanced(u)) {
             *st = ARRANK_EUNIT;
-            snprintf(msg, msg_n, "brackets do not pair up in unit '%s' of column '%s'", u, trim(s));
+            snprintf(msg, msg_n, "brackets do not pair up in unit '%s' of column '%s'", u, arrank_trim(s));
             return -1;
         }
         /* 'T / (K)' and 'rate [(mol/(kg*h))]': one pair around the whole unit is dropped */
@@ -158,14 +144,14 @@ int arrank_sample_split_header(char *s, char **name, char **unit, arrank_status 
         if (n >= 2 && u[0] == '(' && u[n - 1] == ')') {
             u[n - 1] = '\0';
             if (brackets_balanced(u + 1))
-                u = trim(u + 1);
+                u = arrank_trim(u + 1);
             else
                 u[n - 1] = ')';
         }
         if (*u)
             *unit = u;
     }
-    *name = trim(s);
+    *name = arrank_trim(s);
     return 0;
 }
 
@@ -226,7 +212,7 @@ void arrank_sample_decimal_commas(arrank_sample *s)
                 t = e;
             }
         }
-        if (*t == '\0' || is_blank(*t))
+        if (*t == '\0' || arrank_is_blank(*t))
             *comma = '.';
     }
 }

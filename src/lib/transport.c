@@ -39,55 +39,6 @@
 #define HEAT_MEARS_LIMIT 0.15
 #define HEAT_ANDERSON_LIMIT 0.75
 
-static char *fmt(arrank_dwork *wk, const char *f, ...)
-#if defined(__GNUC__)
-    __attribute__((format(printf, 2, 3)))
-#endif
-    ;
-
-static char *fmt(arrank_dwork *wk, const char *f, ...)
-{
-    va_list ap;
-    va_start(ap, f);
-    char *s = arrank_vstrfmt(f, ap);
-    va_end(ap);
-    if (!s)
-        wk->nomem = 1;
-    return s;
-}
-
-static void note(arrank_dwork *wk, const char *f, ...)
-#if defined(__GNUC__)
-    __attribute__((format(printf, 2, 3)))
-#endif
-    ;
-
-static void note(arrank_dwork *wk, const char *f, ...)
-{
-    va_list ap;
-    va_start(ap, f);
-    char *s = arrank_vstrfmt(f, ap);
-    va_end(ap);
-    if (arrank_strings_push(&wk->d->notes, &wk->d->n_notes, s) != 0)
-        wk->nomem = 1;
-}
-
-static void finding(arrank_dwork *wk, const char *f, ...)
-#if defined(__GNUC__)
-    __attribute__((format(printf, 2, 3)))
-#endif
-    ;
-
-static void finding(arrank_dwork *wk, const char *f, ...)
-{
-    va_list ap;
-    va_start(ap, f);
-    char *s = arrank_vstrfmt(f, ap);
-    va_end(ap);
-    if (arrank_strings_push(&wk->d->findings, &wk->d->n_findings, s) != 0)
-        wk->nomem = 1;
-}
-
 double arrank_transport_weisz_prater(double rate_mol_m3_s, double radius_m, double diff_m2_s,
                                      double conc_mol_m3)
 {
@@ -183,7 +134,7 @@ static double meta_quantity(arrank_dwork *wk, arrank_units *u, const char *key, 
     arrank_error e;
     arrank_error_clear(&e);
     if (arrank_units_parse_quantity(u, v, si, &out, &e) != ARRANK_OK) {
-        note(wk, "metadata '%s = %s' could not be read (%s); criteria that need it are skipped",
+        arrank_dwork_note(wk, "metadata '%s = %s' could not be read (%s); criteria that need it are skipped",
              key, v, e.message);
         return NAN;
     }
@@ -211,7 +162,7 @@ static char *needs_text(arrank_dwork *wk, const entry *e, size_t n)
     for (size_t j = 0; j < m && len < sizeof buf; j++)
         len += (size_t)snprintf(buf + len, sizeof buf - len, "%s%s",
                                 j == 0 ? "" : (j + 1 == m ? " and " : ", "), e[miss[j]].name);
-    return fmt(wk, "%s", buf);
+    return arrank_dwork_fmt(wk, "%s", buf);
 }
 
 static const char *wp_source(double order, int have, double *limit)
@@ -286,14 +237,14 @@ static void mass_criteria(arrank_dwork *wk, const criteria_in *in, const rate_si
                               {"effective_diffusivity", isfinite(in->de)},
                               {"bulk_concentration", isfinite(in->cb)}};
     if (rs->why)
-        wp->detail = fmt(wk, "not computed: %s", rs->why);
+        wp->detail = arrank_dwork_fmt(wk, "not computed: %s", rs->why);
     else if (!(wp->detail = needs_text(wk, wp_needs, sizeof wp_needs / sizeof *wp_needs))) {
         /* surface concentration taken as the bulk one (film resistance
            neglected: common practice for this check) */
         wp->value = arrank_transport_weisz_prater(r_mass * in->rho_p, rad, in->de, in->cb);
         wp->computed = isfinite(wp->value);
         wp->passes = wp->computed && wp->value < wp->threshold;
-        wp->detail = fmt(wk,
+        wp->detail = arrank_dwork_fmt(wk,
                          "r_v = %.4g mol/(m3 s) at %.1f K, R_p = %.4g m (half the diameter), "
                          "D_e = %.4g m2/s, C_s = C_b = %.4g mol/m3",
                          r_mass * in->rho_p, wp->temp_K, rad, in->de, in->cb);
@@ -307,12 +258,12 @@ static void mass_criteria(arrank_dwork *wk, const criteria_in *in, const rate_si
                               {"film_coefficient", isfinite(in->kc)},
                               {"bulk_concentration", isfinite(in->cb)}};
     if (rs->why)
-        me->detail = fmt(wk, "not computed: %s", rs->why);
+        me->detail = arrank_dwork_fmt(wk, "not computed: %s", rs->why);
     else if (!(me->detail = needs_text(wk, me_needs, sizeof me_needs / sizeof *me_needs))) {
         me->value = arrank_transport_mears(r_v, rad, in->order, in->kc, in->cb);
         me->computed = isfinite(me->value);
         me->passes = me->computed && me->value < me->threshold;
-        me->detail = fmt(wk,
+        me->detail = arrank_dwork_fmt(wk,
                          "r_v = %.4g mol/(m3 s) at %.1f K (%s density), R_p = %.4g m, n = %g%s, "
                          "k_c = %.4g m/s, C_b = %.4g mol/m3",
                          r_v, me->temp_K, isfinite(in->rho_p) ? "pellet" : "bed", rad, in->order,
@@ -348,13 +299,13 @@ static void heat_criteria(arrank_dwork *wk, const criteria_in *in, const rate_si
     for (int c = 0; c < 2; c++) {
         arrank_criterion *k = cr[c];
         if (rs->why) {
-            k->detail = fmt(wk, "not computed: %s", rs->why);
+            k->detail = arrank_dwork_fmt(wk, "not computed: %s", rs->why);
             continue;
         }
         if ((k->detail = needs_text(wk, needs[c], 4)) != NULL)
             continue;
         if (!(ea_J_mol > 0 && isfinite(ea_J_mol))) {
-            k->detail = fmt(wk, "not computed: the fitted apparent Ea (%.1f kJ/mol) is not "
+            k->detail = arrank_dwork_fmt(wk, "not computed: the fitted apparent Ea (%.1f kJ/mol) is not "
                                 "positive",
                             ea_J_mol / 1000.0);
             continue;
@@ -381,9 +332,9 @@ static void heat_criteria(arrank_dwork *wk, const criteria_in *in, const rate_si
         k->computed = isfinite(k->value);
         k->passes = k->computed && k->value < k->threshold;
         if (!k->computed)
-            k->detail = fmt(wk, "not computed: no point of the fit gives a finite value");
+            k->detail = arrank_dwork_fmt(wk, "not computed: no point of the fit gives a finite value");
         else
-            k->detail = fmt(wk,
+            k->detail = arrank_dwork_fmt(wk,
                             "largest of %zu points of the fit: r_v = %.4g mol/(m3 s) at %.1f K, "
                             "R_p = %.4g m (half the diameter), dH = %.4g kJ/mol, Ea = %.1f "
                             "kJ/mol (the fit), %s = %.4g %s",
@@ -415,11 +366,11 @@ static void prater_rise(arrank_dwork *wk, const criteria_in *in)
     pr->computed = isfinite(pr->rise_K) && isfinite(pr->beta);
     if (!pr->computed) {
         pr->rise_K = pr->beta = NAN;
-        pr->detail = fmt(wk, "not computed: the inputs give no finite rise");
+        pr->detail = arrank_dwork_fmt(wk, "not computed: the inputs give no finite rise");
         return;
     }
     /* surface concentration taken as the bulk one, as for Weisz-Prater */
-    pr->detail = fmt(wk,
+    pr->detail = arrank_dwork_fmt(wk,
                      "dH = %.4g kJ/mol, D_e = %.4g m2/s, C_s = C_b = %.4g mol/m3, lambda_e = "
                      "%.4g W/(m K), centre concentration taken as zero (the bound)",
                      in->dh_J_mol / 1000.0, in->de, in->cb, in->lambda_W_m_K);
@@ -441,17 +392,17 @@ static void hot_spot(arrank_dwork *wk, const criteria_in *in)
     char *missing = needs_text(wk, needs, sizeof needs / sizeof *needs);
     if (missing) {
         /* "not computed: needs ..." */
-        hs->detail = fmt(wk, "adiabatic temperature rise %s", missing);
+        hs->detail = arrank_dwork_fmt(wk, "adiabatic temperature rise %s", missing);
         free(missing);
         return;
     }
     hs->adiabatic_rise_K = arrank_transport_adiabatic_rise(in->dh_J_mol, in->y_feed,
                                                            hs->conversion_max, in->cp_J_mol_K);
     if (isfinite(hs->adiabatic_rise_K))
-        hs->detail = fmt(wk, "y_A0 = %.4g, X = %.4g, c_p = %.4g J/(mol K)", in->y_feed,
+        hs->detail = arrank_dwork_fmt(wk, "y_A0 = %.4g, X = %.4g, c_p = %.4g J/(mol K)", in->y_feed,
                          hs->conversion_max, in->cp_J_mol_K);
     else
-        hs->detail = fmt(wk, "adiabatic temperature rise not computed: feed_fraction %.4g or "
+        hs->detail = arrank_dwork_fmt(wk, "adiabatic temperature rise not computed: feed_fraction %.4g or "
                              "feed_heat_capacity %.4g J/(mol K) out of range",
                          in->y_feed, in->cp_J_mol_K);
 }
@@ -499,7 +450,7 @@ void arrank_transport_criteria(arrank_dwork *wk, double ea_J_mol, const char *ra
     if (!any)
         return;
     if (!u) { /* the caller's database only: none is loaded here */
-        note(wk, "transport criteria skipped: %s", units_why ? units_why : "no unit database");
+        arrank_dwork_note(wk, "transport criteria skipped: %s", units_why ? units_why : "no unit database");
         return;
     }
     criteria_in in;
@@ -534,12 +485,12 @@ static void describe_criterion(arrank_dwork *wk, const arrank_criterion *c, cons
     if (!c->detail)
         return;
     if (!c->computed)
-        note(wk, "%s %s", name, c->detail);
+        arrank_dwork_note(wk, "%s %s", name, c->detail);
     else if (c->passes)
-        note(wk, "%s %.3g at %.1f K is below %.3g (%s): %s; %s", name, c->value, c->temp_K,
+        arrank_dwork_note(wk, "%s %.3g at %.1f K is below %.3g (%s): %s; %s", name, c->value, c->temp_K,
              c->threshold, c->source, good, c->detail);
     else
-        finding(wk, "%s %.3g at %.1f K is above %.3g (%s): %s; %s", name, c->value, c->temp_K,
+        arrank_dwork_finding(wk, "%s %.3g at %.1f K is above %.3g (%s): %s; %s", name, c->value, c->temp_K,
                 c->threshold, c->source, bad, c->detail);
 }
 
@@ -557,9 +508,9 @@ void arrank_transport_describe(arrank_dwork *wk)
                        "no temperature difference inside the pellet expected");
     const arrank_prater *pr = &h->prater;
     if (pr->detail && !pr->computed)
-        note(wk, "Prater temperature rise %s", pr->detail);
+        arrank_dwork_note(wk, "Prater temperature rise %s", pr->detail);
     else if (pr->detail)
-        note(wk, "Prater temperature rise (%s): the pellet centre is at most %.3g K %s than its "
+        arrank_dwork_note(wk, "Prater temperature rise (%s): the pellet centre is at most %.3g K %s than its "
                  "surface (beta = %.3g at %.1f K); %s",
              pr->source, fabs(pr->rise_K), pr->rise_K >= 0 ? "hotter" : "colder", pr->beta,
              pr->temp_K, pr->detail);
@@ -576,7 +527,7 @@ void arrank_transport_describe(arrank_dwork *wk)
                      hs->adiabatic_rise_K, hs->detail);
         else if (hs->detail)
             snprintf(rise, sizeof rise, "; %s", hs->detail);
-        finding(wk, "hot-spot caution for %s: the reaction is exothermic (dH = %.4g kJ/mol) and "
+        arrank_dwork_finding(wk, "hot-spot caution for %s: the reaction is exothermic (dH = %.4g kJ/mol) and "
                     "conversion reaches %.1f %% at %.1f K (line %ld), above the %.0f %% limit: "
                     "the bed is likely hotter than the thermocouple, which biases the rates and "
                     "Ea there; dilute the bed with inert solid, run at lower conversion or "
@@ -584,11 +535,11 @@ void arrank_transport_describe(arrank_dwork *wk)
                 wk->s->id, hs->enthalpy_J_mol / 1000.0, 100.0 * hs->conversion_max, hs->temp_K,
                 hs->line, 100.0 * d->conversion_limit, rise);
     } else if (hs->enthalpy_J_mol > 0)
-        note(wk, "endothermic reaction (dH = %.4g kJ/mol) at up to %.1f %% conversion: the bed "
+        arrank_dwork_note(wk, "endothermic reaction (dH = %.4g kJ/mol) at up to %.1f %% conversion: the bed "
                  "may be colder than the thermocouple",
              hs->enthalpy_J_mol / 1000.0, 100.0 * hs->conversion_max);
     else if (!arrank_sample_meta(wk->s, "reaction_enthalpy"))
-        note(wk, "hot spots not assessed: conversion reaches %.1f %% at %.1f K; give "
+        arrank_dwork_note(wk, "hot spots not assessed: conversion reaches %.1f %% at %.1f K; give "
                  "reaction_enthalpy (negative when exothermic, e.g. -120 kJ/mol) to have them "
                  "checked",
              100.0 * hs->conversion_max, hs->temp_K);

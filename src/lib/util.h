@@ -64,6 +64,23 @@ arrank_status arrank_workers_each(size_t first, size_t n, size_t chunk, size_t w
 /* Case-insensitive comparison of ASCII letters, independent of the locale;
    the _n form compares at most n bytes.  Inline: the readers call it per
    column and per metadata lookup. */
+/* A blank inside a line: space or tab. */
+static inline int arrank_is_blank(char c)
+{
+    return c == ' ' || c == '\t';
+}
+
+/* Trim blanks and line-end characters in place; returns the start. */
+static inline char *arrank_trim(char *s)
+{
+    while (arrank_is_blank(*s) || *s == '\r' || *s == '\n')
+        s++;
+    size_t n = strlen(s);
+    while (n > 0 && (arrank_is_blank(s[n - 1]) || s[n - 1] == '\r' || s[n - 1] == '\n'))
+        s[--n] = '\0';
+    return s;
+}
+
 static inline int arrank_ascii_lower(int c)
 {
     return (c >= 'A' && c <= 'Z') ? c - 'A' + 'a' : c;

@@ -10,10 +10,12 @@
 #ifndef ARRANK_VERDICT_WORK_H
 #define ARRANK_VERDICT_WORK_H
 
+#include <stdarg.h>
 #include <stddef.h>
 
 #include "arrank/campaign.h"
 #include "arrank/verdicts.h"
+#include "util.h"
 
 typedef struct {
     const arrank_sample *s;
@@ -25,5 +27,58 @@ typedef struct {
     int nomem;          /* set by any step that ran out of memory */
     double *lsq;        /* [3 np] columns for the general least-squares path */
 } arrank_dwork;
+
+/* printf into a new string for the diagnosis's texts; NULL (and wk->nomem
+   set) when out of memory.  Shared by the diagnosis parts. */
+static inline char *arrank_dwork_fmt(arrank_dwork *wk, const char *f, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 2, 3)))
+#endif
+    ;
+
+static inline char *arrank_dwork_fmt(arrank_dwork *wk, const char *f, ...)
+{
+    va_list ap;
+    va_start(ap, f);
+    char *s = arrank_vstrfmt(f, ap);
+    va_end(ap);
+    if (!s)
+        wk->nomem = 1;
+    return s;
+}
+
+/* A note, and a finding, of the diagnosis (printf into a new string that
+   joins wk->d's list); out of memory sets wk->nomem. */
+static inline void arrank_dwork_note(arrank_dwork *wk, const char *f, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 2, 3)))
+#endif
+    ;
+
+static inline void arrank_dwork_note(arrank_dwork *wk, const char *f, ...)
+{
+    va_list ap;
+    va_start(ap, f);
+    char *s = arrank_vstrfmt(f, ap);
+    va_end(ap);
+    if (arrank_strings_push(&wk->d->notes, &wk->d->n_notes, s) != 0)
+        wk->nomem = 1;
+}
+
+static inline void arrank_dwork_finding(arrank_dwork *wk, const char *f, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 2, 3)))
+#endif
+    ;
+
+static inline void arrank_dwork_finding(arrank_dwork *wk, const char *f, ...)
+{
+    va_list ap;
+    va_start(ap, f);
+    char *s = arrank_vstrfmt(f, ap);
+    va_end(ap);
+    if (arrank_strings_push(&wk->d->findings, &wk->d->n_findings, s) != 0)
+        wk->nomem = 1;
+}
 
 #endif
