@@ -329,4 +329,10 @@ expect_eq "--no-diagnose: no kinetic window shaded" "${1:-}" 0
 expect_eq "--no-diagnose: no regime key" "${2:-}" False
 expect_eq "--no-diagnose: the local-Ea panel says why it is empty" "${3:-}" True
 
+# Every figure carries the caution (issue: cautions wherever results go).
+"$A" plot "$DEMO" --at 270C --out "$T/caution" >/dev/null 2>&1
+n_svg=$(ls "$T/caution"/*.svg | wc -l)
+n_caution=$(grep -l 'not for reactor design, scale-up or safety limits' "$T/caution"/*.svg | wc -l)
+ok_if "every figure carries the caution line ($n_caution of $n_svg)" test "$n_svg" -gt 3 -a "$n_caution" -eq "$n_svg"
+
 tap_plan

@@ -557,6 +557,12 @@ static void put_figure(script *s, const figure *fig, unsigned format, const char
     arrank_plot_put_q(f, outname);
     fputs("\n", f);
     common_style(f);
+    /* every figure carries the caution, where it is seen with the figure on
+       a slide (README "Cautions") */
+    fprintf(f, "set label 99 \"apparent kinetics of these samples in this window; not for "
+               "reactor design, scale-up or safety limits\" at screen 0.995, screen 0.982 right "
+               "font \",%d\" textcolor rgb \"#666666\" front\n",
+            arrank_plot_font_of(s, 0.55));
     switch (fig->kind) {
     case ARRANK_FIGURE_ARRHENIUS: arrank_plot_fig_arrhenius(s); break;
     case ARRANK_FIGURE_RATE_AT_T: arrank_plot_fig_rate_at_T(s); break;
