@@ -47,7 +47,7 @@ arrank: tests/messy/MT-B3.csv:7:2: below detection limit: <LOD in column 'Rate';
 arrank: tests/messy/MT-B3.csv:9:1: '2S0.0' is not a number in column 'Temp'; point left out
 arrank: tests/messy/MT-D1.csv:2:2: rate unit '1/h' of MT-D1.csv is not convertible to the campaign's 'mol/(kg*h)'; file not used
 arrank: tests/messy/MT-D2.csv:2: no temperature column (found 'Temperatur', 'Umsatzrate'); the header needs one named T, Temp, temperature, T_bed with its unit, as 'T [degC]', 'Temperature (°C)' or 'T / K'; file not used
-arrank: tests/messy/MT-D3.csv: only 2 data points; a fit with uncertainties needs at least 3; sample 'MT-D3' not fitted
+arrank: tests/messy/MT-D3.csv:2: only 2 data points; a fit with uncertainties needs at least 3; sample 'MT-D3' not fitted
 arrank: tests/messy/MT-A1 - Copy.csv: byte-identical to MT-A1.csv; not used
 arrank: 5 of 13 files not used; see above
 WANT

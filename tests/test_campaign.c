@@ -500,13 +500,13 @@ static void test_problems(void **state)
         long line;
     } cases[] = {
         {"T [degC],rate [umol/(g*s)]\n231.4,0.417\n244.9,0.862\n",
-         "only 2 data points; a fit with uncertainties needs at least 3", 0},
+         "only 2 data points; a fit with uncertainties needs at least 3", 1}, /* the header */
         {"T [degC],rate [umol/(g*s)]\n231.4,0.417\n",
-         "only 1 data point; a fit with uncertainties needs at least 3", 0},
+         "only 1 data point; a fit with uncertainties needs at least 3", 1},
         {"T [degC],rate [umol/(g*s)]\n250,0.417\n250,0.431\n250,0.409\n250,0.422\n",
          "all 4 points are at one temperature (523.15 K); an activation energy needs at least "
          "two",
-         0},
+         1},
         {"# sample = Fe-02\n\nT [degC],rate [umol/(g*s)]\n231.4,0.417\n244.9,0.862\n258.2,0\n"
          "271.6,3.108\n",
          "rate 0 at line 6 is not positive; a logarithm needs a positive rate", 6},

@@ -149,8 +149,8 @@ arrank_status arrank_result_refit(arrank_result *res, arrank_error *err)
     free(buf);
     if (st == ARRANK_ENOMEM)
         return arrank_errorf(err, st, "out of memory");
-    if (st != ARRANK_OK)
-        set_result_error(res, fe.message, 0);
+    if (st != ARRANK_OK) /* pointed at the header: the columns the fit could not use */
+        set_result_error(res, fe.message, s->header_line);
     else {
         free(res->error);
         res->error = NULL;
@@ -237,7 +237,7 @@ static int keep_run(arrank_result *res, const char *label)
     if (r == s->n_runs) {
         char msg[320];
         snprintf(msg, sizeof msg, "has no run '%.200s' (--run)", label);
-        set_result_error(res, msg, 0);
+        set_result_error(res, msg, s->header_line);
         return 0;
     }
     res->n_used = 0;

@@ -917,7 +917,7 @@ int arrank_sample_fit_problem(arrank_sample *s)
                  n, n < s->n_points ? "usable " : "", temp, left);
     }
     s->problem = strdup(msg);
-    s->problem_line = 0;
+    s->problem_line = s->header_line; /* the columns that do not give enough */
     return s->problem ? 0 : -1;
 }
 
@@ -1014,7 +1014,7 @@ static arrank_status read_preamble(parser *p, const char *data, size_t len, cons
                     s == data || p->sample->n_meta == 0 ? "the file is empty"
                                                         : "no header line");
     }
-    p->header_line = p->line;
+    p->header_line = p->sample->header_line = p->line;
     p->delim = detect_delimiter(*header, *hlen);
     if (p->delim != ',')
         arrank_sample_decimal_commas(p->sample);
