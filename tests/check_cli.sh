@@ -180,4 +180,13 @@ expect_eq "--run heat: only the samples with a 'heat' run are ranked" \
 expect_eq "--run heat: ZN-13 fitted on its heat run only (8 of 16 points)" "$(sed -n 2p "$T/py")" "16 True"
 expect_eq "--run heat: a sample without it says so" "$(sed -n 3p "$T/py")" "has no run 'heat' (--run)"
 
+# fit and rank are distinct: fit lists the fits in file order with no ranking columns.
+"$A" fit "$DEMO" --at 270C >"$T/fit.txt" 2>/dev/null
+"$A" rank "$DEMO" --at 270C >"$T/rank.txt" 2>/dev/null
+ok_if "fit: no rank, P(best) or group columns" sh -c "! grep -q 'P(best)' '$T/fit.txt' && ! grep -q '^rank ' '$T/fit.txt'"
+expect_eq "fit: samples in file order" \
+    "$(grep -o '^ZN-[0-9]*' "$T/fit.txt" | tr '\n' ' ')" \
+    "$(ls "$DEMO"/*.csv | sed 's|.*/||; s|\.csv$||' | tr '\n' ' ')"
+ok_if "rank: the ranking columns" grep -q '^rank  P(best)  group' "$T/rank.txt"
+
 tap_plan

@@ -63,6 +63,7 @@ typedef struct {
     double confidence;        /* two-sided level for every interval, default 0.95 */
     double operating_temp_K;  /* NAN: none (fit only) */
     arrank_rank_by by;
+    int rank;                 /* 1 (default): rank the samples; 0: fits only, in file order */
     /* ranking by rate at an operating temperature more than this far (K)
        outside every fitted sample's measured range is refused (EINVAL);
        default 100; INFINITY: no limit */

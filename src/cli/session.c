@@ -115,6 +115,9 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
        check show each sample's own extrapolation, flagged */
     if (strcmp(args->command, "fit") == 0 || strcmp(args->command, "check") == 0)
         args->options.max_extrapolation_K = INFINITY;
+    /* fit shows each sample's parameters in file order; rank orders them */
+    if (strcmp(args->command, "fit") == 0)
+        args->options.rank = 0;
     args->options.units = s->units;
     args->options.progress = ps ? show_progress : NULL;
     args->options.progress_ctx = ps;

@@ -78,6 +78,7 @@ arrank_options arrank_options_defaults(void)
     o.max_extrapolation_K = ARRANK_MAX_EXTRAPOLATION_K;
     o.conversion_limit = 0.10;
     o.diagnose = 1;
+    o.rank = 1;
     o.errors = ARRANK_ERRORS_RELATIVE;
     o.model = ARRANK_MODEL_ARRHENIUS;
     o.seed = 1;
@@ -301,7 +302,7 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
             res->flags |= ARRANK_FLAG_EXTRAPOLATED;
     }
     /* the ranking's per-sample part while the sample is in this core's cache */
-    if (isfinite(opt->operating_temp_K) || opt->by != ARRANK_BY_RATE)
+    if (opt->rank && (isfinite(opt->operating_temp_K) || opt->by != ARRANK_BY_RATE))
         return arrank_analysis_rank_prepare(res, opt, err);
     return ARRANK_OK;
 }
@@ -445,7 +446,7 @@ static arrank_status analysis_run_in_c(const arrank_campaign *campaign,
     }
 
     /* Rank the fitted samples; ranking by rate needs an operating temperature. */
-    if (want_T || opt.by != ARRANK_BY_RATE) {
+    if (opt.rank && (want_T || opt.by != ARRANK_BY_RATE)) {
         a->n_ranked = n_fitted;
         rank_item *items = malloc(n_fitted * sizeof *items);
         if (!items) {
