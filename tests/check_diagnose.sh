@@ -104,4 +104,30 @@ ok_if "table: 'campaign ...: 1 sample,'" grep -q "^campaign 'one': 1 sample, rat
 "$A" check "$DEMO" --at 340C >"$T/ext" 2>/dev/null
 ok_if "check: an operating temperature against the range to 0.01 K" \
     grep -q 'measured range: 613.15 K against 503.15-583.35 K measured (29.80 K outside, 37 % of the span)' "$T/ext"
+# The local Ea windows carry their interval at the run's level: Ea -/+ t se
+# with t on the window's n - 2 degrees of freedom (t quantile from SciPy,
+# scipy.stats.t.ppf), and the figure's legend says so (no bare standard error).
+"$A" rank "$DEMO" --at 270C --json "$T/loc.json" --json-points >/dev/null 2>&1
+/usr/bin/python3 - "$T/loc.json" >"$T/loc.py" <<'PY'
+import json, sys
+from scipy.stats import t
+d = json.load(open(sys.argv[1]))
+n = bad = 0
+for s in d["samples"]:
+    for w in ((s.get("curvature") or {}).get("local_ea") or []):
+        if w["ea_kJ_mol_se"] is None or w["n_points"] < 3:
+            continue
+        q = t.ppf(0.975, w["n_points"] - 2)
+        lo, hi = w["ea_kJ_mol_ci"]
+        n += 1
+        if abs(lo - (w["ea_kJ_mol"] - q * w["ea_kJ_mol_se"])) > 1e-9 * abs(lo) + 1e-9 or \
+           abs(hi - (w["ea_kJ_mol"] + q * w["ea_kJ_mol_se"])) > 1e-9 * abs(hi) + 1e-9:
+            bad += 1
+print(n > 20, bad)
+PY
+expect_eq "local Ea windows: 95 % intervals with t on n - 2 dof (SciPy)" "$(cat "$T/loc.py")" "True 0"
+"$A" plot "$DEMO" --at 270C --out "$T/locfig" >/dev/null 2>&1
+ok_if "diagnostics figure: the local Ea bars are the 95 % interval, no bare SE" \
+    sh -c "grep -q 'local Ea, 3 neighbouring temperatures, 95 % interval' '$T/locfig/diagnostics-12-ZN-12_beta_extrudate.svg' && ! grep -q '1 SE' '$T/locfig/diagnostics-12-ZN-12_beta_extrudate.svg'"
+
 tap_plan

@@ -60,6 +60,7 @@ typedef struct {
     const char *rate_unit;    /* unit of the sample's rates (the campaign's report unit);
                                  NULL: the sample's own */
     arrank_campaign_basis basis; /* the campaign's verdict; known 0: the sample's own check only */
+    double confidence;        /* two-sided level of the intervals it gives (default 0.95) */
 } arrank_diagnose_options;
 
 /* Defaults: every option off, conversion limit 0.10, no units, basis unknown. */

@@ -37,6 +37,9 @@ typedef struct {
     double temp_mid_K;           /* 1 / mean of 1/T over the window's points */
     size_t n_points;
     double ea_J_mol, ea_se_J_mol;
+    /* two-sided interval at the run's confidence, t on the window's n - 2
+       degrees of freedom; NAN when the window has no standard error */
+    double ea_lo_J_mol, ea_hi_J_mol;
 } arrank_local_ea;
 
 /* A possible cause of the bend. */

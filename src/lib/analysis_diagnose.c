@@ -22,6 +22,7 @@ arrank_diagnose_options arrank_analysis_diagnose_options(const arrank_campaign *
     d.units = opt->units;
     d.units_why = units_why;
     d.rate_unit = c ? c->rate_unit : NULL;
+    d.confidence = opt->confidence;
     /* one pass for the campaign-wide basis check, not one per sample */
     d.basis.known = 1;
     d.basis.mixed = arrank_diagnose_campaign_basis(c, d.basis.why, sizeof d.basis.why);

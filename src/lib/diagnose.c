@@ -450,7 +450,8 @@ static void describe_curvature(arrank_dwork *wk, const size_t *sorted, size_t n)
 }
 
 /* Every conclusion in plain words, in a fixed order; f is the final fit. */
-static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *sorted, size_t n)
+static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *sorted, size_t n,
+                     double conf)
 {
     arrank_diagnosis *d = wk->d;
     describe_curvature(wk, sorted, n);
@@ -464,11 +465,15 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
                     100.0 * d->conversion_limit);
     }
     /* what the fit did, not a problem of the data: a note */
+    const double t_win = f ? arrank_t_quantile(conf, f->dof) : NAN;
     if (d->window_applied && f)
         arrank_dwork_note(wk, "fitted on the kinetic window %.1f-%.1f K (%zu points): Ea %.1f kJ/mol "
-                    "(standard error %.1f), against %.1f kJ/mol (%.1f) on every point",
+                    "(%.4g %% interval %.1f-%.1f, standard error %.1f), against %.1f kJ/mol "
+                    "(standard error %.1f) on every point",
                 d->window_lo_K, d->window_hi_K, d->window_n, kj(f->ea_J_mol),
-                kj(f->ea_se_J_mol), kj(d->ea_all_J_mol), kj(d->ea_all_se_J_mol));
+                100.0 * conf, kj(f->ea_J_mol - t_win * f->ea_se_J_mol),
+                kj(f->ea_J_mol + t_win * f->ea_se_J_mol), kj(f->ea_se_J_mol),
+                kj(d->ea_all_J_mol), kj(d->ea_all_se_J_mol));
     /* the run comparisons and the drift test are one family (Holm, quality.c) */
     size_t n_family = d->drift.tested && isfinite(d->drift.p);
     for (size_t j = 0; j < d->n_runs; j++)
@@ -565,6 +570,7 @@ arrank_diagnose_options arrank_diagnose_options_defaults(void)
     arrank_diagnose_options o;
     memset(&o, 0, sizeof o);
     o.conversion_limit = 0.10;
+    o.confidence = 0.95;
     return o;
 }
 
@@ -573,6 +579,21 @@ arrank_diagnose_options arrank_diagnose_options_defaults(void)
 /* The quadratic test over base (q receives it; cv->tested says whether it
    ran), the series-resistance model for a downward bend, and the local
    apparent Ea of every point. */
+/* Each local Ea window's interval at the run's confidence (t on the
+   window's n - 2 degrees of freedom: wide for three temperatures, as it
+   should be). */
+static void local_intervals(arrank_curvature *cv, double confidence)
+{
+    for (size_t k = 0; k < cv->n_local; k++) {
+        arrank_local_ea *le = &cv->local[k];
+        const double t = le->n_points > 2 ? arrank_t_quantile(confidence, (double)le->n_points - 2)
+                                          : NAN;
+        const double w = t * le->ea_se_J_mol;
+        le->ea_lo_J_mol = isfinite(w) ? le->ea_J_mol - w : NAN;
+        le->ea_hi_J_mol = isfinite(w) ? le->ea_J_mol + w : NAN;
+    }
+}
+
 static void curvature_step(arrank_dwork *wk, const size_t *base, const size_t *grp, size_t n,
                            size_t n_groups, const arrank_line *lf_all, int have_line,
                            arrank_quad_test *q)
@@ -912,6 +933,8 @@ static void propose_steps(arrank_dwork *wk, size_t *base, size_t *grp, size_t *c
         wk->scatter = sqrt(lf_all.s2);
     arrank_quad_test q;
     curvature_step(wk, base, grp, n, n_groups, &lf_all, have_line, &q);
+    local_intervals(&d->curvature, opt->confidence > 0 && opt->confidence < 1 ? opt->confidence
+                                                                              : 0.95);
     if (wk->nomem)
         return;
 
@@ -1057,7 +1080,8 @@ arrank_status arrank_diagnose_conclude(arrank_diagnosis *d, const arrank_diagnos
         name_causes(&wk, base, n, isfinite(d->ea_window_J_mol) ? d->ea_window_J_mol
                                                               : d->ea_all_J_mol,
                     d->has_repeats);
-    describe(&wk, final_fit, base, n);
+    describe(&wk, final_fit, base, n,
+             opt->confidence > 0 && opt->confidence < 1 ? opt->confidence : 0.95);
     arrank_transport_describe(&wk);
     if (wk.nomem)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");

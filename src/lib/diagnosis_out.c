@@ -126,10 +126,12 @@ static json_t *curvature_json(const arrank_curvature *cv)
     for (size_t k = 0; k < cv->n_local; k++) {
         const arrank_local_ea *le = &cv->local[k];
         json_array_append_new(
-            loc, json_pack("{s:o, s:o, s:o, s:I, s:o, s:o}", "temp_lo_K", jnum(le->temp_lo_K),
-                           "temp_hi_K", jnum(le->temp_hi_K), "temp_mid_K", jnum(le->temp_mid_K),
-                           "n_points", (json_int_t)le->n_points, "ea_kJ_mol",
-                           jkj(le->ea_J_mol), "ea_kJ_mol_se", jkj(le->ea_se_J_mol)));
+            loc, json_pack("{s:o, s:o, s:o, s:I, s:o, s:o, s:[o, o]}", "temp_lo_K",
+                           jnum(le->temp_lo_K), "temp_hi_K", jnum(le->temp_hi_K), "temp_mid_K",
+                           jnum(le->temp_mid_K), "n_points", (json_int_t)le->n_points,
+                           "ea_kJ_mol", jkj(le->ea_J_mol), "ea_kJ_mol_se",
+                           jkj(le->ea_se_J_mol), "ea_kJ_mol_ci", jkj(le->ea_lo_J_mol),
+                           jkj(le->ea_hi_J_mol)));
     }
     json_object_set_new(o, "local_ea", loc);
     for (size_t k = 0; k < cv->n_causes; k++)

@@ -559,9 +559,12 @@ static void put_figure(script *s, const figure *fig, unsigned format, const char
     common_style(f);
     /* every figure carries the caution, where it is seen with the figure on
        a slide (README "Cautions") */
+    /* top right, clear of the titles; the diagnostics' multiplot title is
+       wide, and their bottom right is free */
     fprintf(f, "set label 99 \"apparent kinetics of these samples in this window; not for "
-               "reactor design, scale-up or safety limits\" at screen 0.995, screen 0.982 right "
+               "reactor design, scale-up or safety limits\" at screen 0.995, %s right "
                "font \",%d\" textcolor rgb \"#666666\" front\n",
+            fig->kind == ARRANK_FIGURE_DIAGNOSTICS ? "character 0.6" : "screen 0.982",
             arrank_plot_font_of(s, 0.55));
     switch (fig->kind) {
     case ARRANK_FIGURE_ARRHENIUS: arrank_plot_fig_arrhenius(s); break;

@@ -113,9 +113,10 @@ static void block_residuals(FILE *f, const arrank_result *r, size_t i,
 }
 
 /* The diagnosis's local apparent Ea windows as the block $loc<i>: T_mid
-   [degC], Ea [kJ/mol], standard error [kJ/mol] (0 when not known).  Returns
-   the number of rows. */
-static size_t block_local_ea(FILE *f, const arrank_result *r, size_t i)
+   [degC], Ea, and its interval at the run's confidence [kJ/mol] (the value
+   itself when not known).  Returns the number of rows; *lo, *hi widen to
+   the values (not the intervals), which set the panel's range. */
+static size_t block_local_ea(FILE *f, const arrank_result *r, size_t i, double *lo, double *hi)
 {
     const arrank_diagnosis *d = r->diagnosis;
     size_t rows = 0;
@@ -125,8 +126,12 @@ static size_t block_local_ea(FILE *f, const arrank_result *r, size_t i)
             continue;
         if (rows == 0)
             fprintf(f, "$loc%zu << EOD\n", i);
-        double se = isfinite(le->ea_se_J_mol) ? le->ea_se_J_mol / 1000.0 : 0.0;
-        fprintf(f, "%.9g %.9g %.9g\n", le->temp_mid_K - ZERO_C_K, le->ea_J_mol / 1000.0, se);
+        const double ea = le->ea_J_mol / 1000.0;
+        const double a = isfinite(le->ea_lo_J_mol) ? le->ea_lo_J_mol / 1000.0 : ea;
+        const double b = isfinite(le->ea_hi_J_mol) ? le->ea_hi_J_mol / 1000.0 : ea;
+        fprintf(f, "%.9g %.9g %.9g %.9g\n", le->temp_mid_K - ZERO_C_K, ea, a, b);
+        *lo = fmin(*lo, ea);
+        *hi = fmax(*hi, ea);
         rows++;
     }
     if (rows)
@@ -225,6 +230,7 @@ typedef struct {
     double win_lo_K, win_hi_K;
     double xa, xb, xp, ca, cb, cp;    /* the panels' spans: 1000/T and degC, with padding */
     double ea;                        /* the fitted Ea, kJ/mol */
+    double ea_lo, ea_hi;              /* the right panel's range from the values, kJ/mol */
 } diag_panels;
 
 /* Left panel: residuals against 1000/T, degC along the top, with the +-2 s
@@ -370,6 +376,12 @@ static void diag_right(script *s, size_t i, const diag_panels *dp)
     if (cb > ca)
         fprintf(f, "set xrange [%.9g:%.9g]\nset xtics %.9g\n", ca - cp, cb + cp,
                 arrank_plot_nice_step(cb - ca + 2 * cp, 6.0));
+    if (isfinite(P->ea_lo) && isfinite(P->ea_hi)) {
+        const double span = P->ea_hi - P->ea_lo;
+        const double pad = arrank_plot_min_pad(P->ea_lo, P->ea_hi, 0.15 * span, P->ea_hi);
+        fprintf(f, "set offsets 0, 0, 0, 0\nset yrange [%.9g:%.9g]\n", P->ea_lo - pad,
+                P->ea_hi + pad);
+    }
     if (has_window) {
         double pad = 0.012 * (cb - ca + 2 * cp);
         put_window_shade(f, win_lo_K - ZERO_C_K - pad, win_hi_K - ZERO_C_K + pad);
@@ -388,8 +400,10 @@ static void diag_right(script *s, size_t i, const diag_panels *dp)
     fprintf(f, "%.9g with lines lw 1 dt 2 lc rgb '%s'", ea, c);
     if (nloc) {
         arrank_plot_next_elem(f, &first);
-        fprintf(f, "$loc%zu using 1:2:3 with yerrorlines pt 7 ps 1.3*PS lw 1.5 lc rgb '%s' "
-                   "title 'local Ea, 3 neighbouring temperatures, ±1 SE'", i, c);
+        fprintf(f, "$loc%zu using 1:2:3:4 with yerrorlines pt 7 ps 1.3*PS lw 1.5 lc rgb '%s' "
+                   "title ",
+                i, c);
+        arrank_plot_put_qf(f, "local Ea, 3 neighbouring temperatures, %.4g %% interval", conf_pc);
     }
     /* Strong pore diffusion halves the apparent Ea (Weisz & Prater, Adv.
        Catal. 6:143, 1954): the line the hot-end local Ea tends to. */
@@ -414,9 +428,9 @@ void arrank_plot_fig_diagnostics(script *s, size_t i)
     const arrank_arrhenius *fit = &r->fit;
     const arrank_sample *smp = r->sample;
     diag_panels dp = {.r = r, .c = arrank_plot_color(i), .conf_pc = 100.0 * a->options.confidence,
-                      .win_lo_K = NAN, .win_hi_K = NAN};
+                      .win_lo_K = NAN, .win_hi_K = NAN, .ea_lo = INFINITY, .ea_hi = -INFINITY};
     block_residuals(f, r, i, dp.cnt);
-    dp.nloc = block_local_ea(f, r, i);
+    dp.nloc = block_local_ea(f, r, i, &dp.ea_lo, &dp.ea_hi);
     dp.n_runs = block_runs(f, r, i, dp.run_drawn);
     dp.n_hcv = block_marked(f, r, i, 0);
     dp.n_olr = block_marked(f, r, i, 1);
@@ -447,6 +461,12 @@ void arrank_plot_fig_diagnostics(script *s, size_t i)
     const double t = r->t_quantile; /* the pipeline's (analysis.c) */
     double ea = fit->ea_J_mol / 1000.0, w = isfinite(t) ? t * fit->ea_se_J_mol / 1000.0 : 0.0;
     dp.ea = ea;
+    /* the right panel spans the values and the fit's band, not the local
+       intervals: three temperatures give wide ones, which run off the panel */
+    dp.ea_lo = fmin(dp.ea_lo, ea - w);
+    dp.ea_hi = fmax(dp.ea_hi, ea + w);
+    if (dp.any_pore)
+        dp.ea_lo = fmin(dp.ea_lo, ea / 2.0);
     fprintf(f, "$eab%zu << EOD\n%.9g %.9g %.9g %.9g\n%.9g %.9g %.9g %.9g\nEOD\n", i,
             fit->T_min_K - ZERO_C_K, ea, ea - w, ea + w, fit->T_max_K - ZERO_C_K, ea, ea - w,
             ea + w);

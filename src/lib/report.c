@@ -269,8 +269,10 @@ static const char *figure_caption(arrank_figure_kind kind)
     case ARRANK_FIGURE_DIAGNOSTICS:
         return "Residuals of the fit against 1000/T (left; marker shape: the point's regime, "
                "open: left out of the fit, lines: runs) and the local apparent activation "
-               "energy over three neighbouring temperatures with one standard error (right), "
-               "against the fitted value and its interval.  The grey band is the kinetic "
+               "energy over three neighbouring temperatures with its interval at the run's "
+               "level (right; three temperatures leave one degree of freedom, so the "
+               "intervals are wide and may run off the panel), against the fitted value and "
+               "its interval.  The grey band is the kinetic "
                "window the fit uses.  A local Ea that falls with temperature suggests transport "
                "limitation or another bend in the Arrhenius plot.";
     }
