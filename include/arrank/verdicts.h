@@ -159,6 +159,7 @@ struct arrank_diagnosis {
     arrank_curvature curvature;
     /* fit on every usable point, before the kinetic window */
     double ea_all_J_mol, ea_all_se_J_mol;
+    double ea_all_dof; /* degrees of freedom of that fit on every point */
     int window_applied;        /* 1 when points were left out for the kinetic window */
     double window_lo_K, window_hi_K; /* kinetic window; NAN if none */
     size_t window_n;

@@ -466,14 +466,16 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
     }
     /* what the fit did, not a problem of the data: a note */
     const double t_win = f ? arrank_t_quantile(conf, f->dof) : NAN;
+    const double t_all = arrank_t_quantile(conf, d->ea_all_dof);
     if (d->window_applied && f)
         arrank_dwork_note(wk, "fitted on the kinetic window %.1f-%.1f K (%zu points): Ea %.1f kJ/mol "
                     "(%.4g %% interval %.1f-%.1f, standard error %.1f), against %.1f kJ/mol "
-                    "(standard error %.1f) on every point",
+                    "(%.1f-%.1f, standard error %.1f) on every point",
                 d->window_lo_K, d->window_hi_K, d->window_n, kj(f->ea_J_mol),
                 100.0 * conf, kj(f->ea_J_mol - t_win * f->ea_se_J_mol),
                 kj(f->ea_J_mol + t_win * f->ea_se_J_mol), kj(f->ea_se_J_mol),
-                kj(d->ea_all_J_mol), kj(d->ea_all_se_J_mol));
+                kj(d->ea_all_J_mol), kj(d->ea_all_J_mol - t_all * d->ea_all_se_J_mol),
+                kj(d->ea_all_J_mol + t_all * d->ea_all_se_J_mol), kj(d->ea_all_se_J_mol));
     /* the run comparisons and the drift test are one family (Holm, quality.c) */
     size_t n_family = d->drift.tested && isfinite(d->drift.p);
     for (size_t j = 0; j < d->n_runs; j++)
@@ -866,6 +868,7 @@ static arrank_diagnosis *diagnosis_new(size_t np, const arrank_arrhenius *fit, d
     d->conversion_limit = limit > 0 && limit < 1 ? limit : 0.10;
     d->ea_all_J_mol = fit->ea_J_mol;
     d->ea_all_se_J_mol = fit->ea_se_J_mol;
+    d->ea_all_dof = fit->dof;
     d->window_lo_K = d->window_hi_K = NAN;
     d->outlier_t_limit = NAN;
     d->ea_window_J_mol = d->scatter_ln = NAN;
