@@ -335,4 +335,9 @@ n_svg=$(ls "$T/caution"/*.svg | wc -l)
 n_caution=$(grep -l 'not for reactor design, scale-up or safety limits' "$T/caution"/*.svg | wc -l)
 ok_if "every figure carries the caution line ($n_caution of $n_svg)" test "$n_svg" -gt 3 -a "$n_caution" -eq "$n_svg"
 
+# The figures say how far a rate is extrapolated, as the table does.
+"$A" plot "$DEMO" --at 300C --out "$T/far" >/dev/null 2>&1
+ok_if "rate-at-T at 300 degC: ZN-07's extrapolation in kelvin (0.2 K)" \
+    grep -q 'extrapolated 0.2 K' "$T/far/rate-at-T.svg"
+
 tap_plan

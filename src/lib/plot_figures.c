@@ -158,17 +158,24 @@ void arrank_plot_fig_arrhenius(script *s)
     free(cnt);
 }
 
-/* Short names of the flags set in mask, comma-separated, into buf. */
-static void flag_list(unsigned mask, char *buf, size_t n)
+/* Short names of the result's flags, comma-separated, into buf; the
+   extrapolation says how far, as the table does ("extrapolated 12 K"). */
+static void flag_list(const arrank_result *r, char *buf, size_t n)
 {
     buf[0] = '\0';
     size_t len = 0;
     for (unsigned b = 0; b < ARRANK_FLAG_COUNT; b++) {
-        if (!(mask & (1u << b)))
+        if (!(r->flags & (1u << b)))
             continue;
         const char *name = arrank_flag_name(1u << b);
         if (!name)
             continue;
+        char far[48];
+        const double out_K = r->has_prediction ? r->at_T.extrapolation_K : 0.0;
+        if ((1u << b) == ARRANK_FLAG_EXTRAPOLATED && out_K > 0 && out_K < 1e9) {
+            snprintf(far, sizeof far, "extrapolated %.*f K", out_K < 9.95 ? 1 : 0, out_K);
+            name = far;
+        }
         int w = snprintf(buf + len, n - len, "%s%s", len ? ", " : "", name);
         if (w < 0 || (size_t)w >= n - len)
             break;
@@ -181,7 +188,7 @@ static void flag_list(unsigned mask, char *buf, size_t n)
 static void row_note(const arrank_result *r, char *buf, size_t n)
 {
     char flags[400];
-    flag_list(r->flags, flags, sizeof flags);
+    flag_list(r, flags, sizeof flags);
     double p = r->stats ? r->stats->p_best : NAN;
     if (isfinite(p) && p < 0.005)
         snprintf(buf, n, "P(best) < 0.01%s%s", flags[0] ? "; " : "", flags);
