@@ -71,13 +71,7 @@ say(abs(float(rows["ZN-07 H-Y"]["extrapolation [K]"]) - 0.2) < 1e-9
     "csv: extrapolation [K] and extrapolation_rel at the end, read once comments are skipped")
 PYEOF
 "$PY" "$T/check.py" "$T" "$GENERAL" >"$T/py" 2>&1 || echo "not ok json and csv checks ran" >>"$T/py"
-while IFS= read -r line; do
-    case $line in
-    "ok "*) ok_if "${line#ok }" true ;;
-    "not ok "*) ok_if "${line#not ok }" false ;;
-    *) echo "# $line" ;;
-    esac
-done <"$T/py"
+tap_relay "$T/py"
 
 # the report: the cautions in its caution box
 SOURCE_DATE_EPOCH=0 "$A" report "$DEMO" --at 380C --out "$T/rep" >/dev/null 2>&1

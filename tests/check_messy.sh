@@ -127,13 +127,7 @@ say(s["MT-E1"]["rank"] is not None and s["MT-E1"]["n_used"] == 6,
     "json: '# mass = 48,5 mg' in a decimal-comma file is read (rates derived)")
 PYEOF
 "$PY" "$T/check.py" "$T/r.json" >"$T/py" 2>&1 || echo "not ok json checks ran" >>"$T/py"
-while IFS= read -r line; do
-    case $line in
-    "ok "*) ok_if "${line#ok }" true ;;
-    "not ok "*) ok_if "${line#not ok }" false ;;
-    *) echo "# $line" ;;
-    esac
-done <"$T/py"
+tap_relay "$T/py"
 
 # check: the points left out, with the reader's reasons
 "$A" check "$C" >"$T/check" 2>"$T/check_err"
@@ -166,13 +160,7 @@ print(("ok " if p[("MT-B3", "9")] == "'2S0.0' is not a number in column 'Temp'"
       + "points.csv: the reader's reason for a point it left out")
 PYEOF
 "$PY" "$T/rows.py" "$T/r.csv" "$T/p.csv" >"$T/py" 2>&1 || echo "not ok csv checks ran" >>"$T/py"
-while IFS= read -r line; do
-    case $line in
-    "ok "*) ok_if "${line#ok }" true ;;
-    "not ok "*) ok_if "${line#not ok }" false ;;
-    *) echo "# $line" ;;
-    esac
-done <"$T/py"
+tap_relay "$T/py"
 
 # --- --strict: all or nothing, the reader as before ----------------------
 "$A" rank "$C" --at 250C --strict --json "$T/s.json" >"$T/out" 2>"$T/err"
