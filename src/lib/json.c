@@ -262,9 +262,11 @@ static json_t *analysis_json(const arrank_analysis *a)
 }
 
 #define JSON_FLAGS (JSON_INDENT(2) | JSON_REAL_PRECISION(15) | JSON_PRESERVE_ORDER)
-#define SAMPLE_INDENT "\n    " /* a sample's lines sit 4 spaces in, inside "samples" */
+/* A sample's record: one line, 4 spaces in inside "samples" (jansson
+   without an indent writes ", " and ": " and no line break). */
+#define RECORD_FLAGS (JSON_REAL_PRECISION(15) | JSON_PRESERVE_ORDER)
 
-/* A growing text: samples' JSON, indented to their depth. */
+/* A growing text: samples' JSON records. */
 typedef struct {
     char *mem;
     size_t n, cap;
@@ -295,27 +297,10 @@ static int text_put(text_buf *b, const char *s, size_t len)
     return 0;
 }
 
-/* json_dump_callback's sink: every line break (jansson writes none inside a
-   string, where it escapes them) gets the sample's indentation after it.
-   jansson hands over a token at a time, so the bytes are copied one by one
-   into room for the worst case (every byte a line break). */
-static int indent_sink(const char *s, size_t len, void *data)
+/* json_dump_callback's sink: the bytes appended as they come. */
+static int text_sink(const char *s, size_t len, void *data)
 {
-    text_buf *b = data;
-    const size_t step = sizeof SAMPLE_INDENT - 1;
-    if (text_room(b, len * step))
-        return -1;
-    char *p = b->mem + b->n;
-    for (size_t k = 0; k < len; k++) {
-        if (s[k] == '\n') {
-            memcpy(p, SAMPLE_INDENT, step);
-            p += step;
-        } else {
-            *p++ = s[k];
-        }
-    }
-    b->n = (size_t)(p - b->mem);
-    return 0;
+    return text_put(data, s, len);
 }
 
 /*
@@ -335,8 +320,6 @@ void arrank_json_reference(int on)
     json_reference = on;
 }
 
-#define KEY_INDENT "\n      "      /* a sample's keys: 6 spaces in */
-#define ELEM_INDENT "\n        "    /* the elements of their arrays: 8 */
 
 static void put_text(text_buf *b, int *bad, const char *s, size_t len)
 {
@@ -460,10 +443,8 @@ static void put_bool(text_buf *b, int *bad, int v)
 /* The next key of the sample; *first says whether it is the first. */
 static void put_key(text_buf *b, int *bad, int *first, const char *key)
 {
-    if (*first)
-        PUT(KEY_INDENT);
-    else
-        PUT("," KEY_INDENT);
+    if (!*first)
+        PUT(", ");
     *first = 0;
     PUT("\"");
     put_text(b, bad, key, strlen(key));
@@ -479,11 +460,11 @@ static void key_real(text_buf *b, int *bad, int *first, const char *key, double 
 static void key_pair(text_buf *b, int *bad, int *first, const char *key, double lo, double hi)
 {
     put_key(b, bad, first, key);
-    PUT("[" ELEM_INDENT);
+    PUT("[");
     put_real(b, bad, lo);
-    PUT("," ELEM_INDENT);
+    PUT(", ");
     put_real(b, bad, hi);
-    PUT(KEY_INDENT "]");
+    PUT("]");
 }
 
 /* A string key: left out when s is not valid UTF-8 or NULL (json_string
@@ -511,13 +492,13 @@ static void key_strings(text_buf *b, int *bad, int *first, const char *key,
         if (!v[i] || !utf8_ok(v[i]))
             continue;
         if (k++ == 0)
-            PUT("[" ELEM_INDENT);
+            PUT("[");
         else
-            PUT("," ELEM_INDENT);
+            PUT(", ");
         put_string(b, bad, v[i]);
     }
     if (k)
-        PUT(KEY_INDENT "]");
+        PUT("]");
     else
         PUT("[]");
 }
@@ -595,21 +576,18 @@ static void put_own_keys(text_buf *b, int *bad, const arrank_result *res)
     key_strings(b, bad, fi, "notes", (const char *const *)s->notes, s->n_notes);
 }
 
-/* Two spaces per depth after a line break, as JSON_INDENT(2) indents. */
-static void put_indent(text_buf *b, int *bad, int depth)
+/* Where JSON_INDENT(2) would break the line: on one line jansson writes a
+   space after a comma and nothing after an opening or before a closing
+   bracket.  The byte before tells which (a value never ends in a comma). */
+static void put_gap(text_buf *b, int *bad)
 {
-    static const char spaces[] = "\n                                ";
-    int n = 2 * depth;
-    if (n > (int)sizeof spaces - 2) {
-        *bad = 1;
-        return;
-    }
-    put_text(b, bad, spaces, (size_t)n + 1);
+    if (b->n && b->mem[b->n - 1] == ',')
+        put_text(b, bad, " ", 1);
 }
 
-/* v as json_dumps writes it with JSON_FLAGS at depth (objects keep their
+/* v as json_dumps writes it with RECORD_FLAGS (objects keep their
    keys in insertion order, as jansson iterates them). */
-static void put_value(text_buf *b, int *bad, json_t *v, int depth)
+static void put_value(text_buf *b, int *bad, json_t *v)
 {
     switch (json_typeof(v)) {
     case JSON_OBJECT: {
@@ -625,12 +603,12 @@ static void put_value(text_buf *b, int *bad, json_t *v, int depth)
             if (!first)
                 PUT(",");
             first = 0;
-            put_indent(b, bad, depth + 1);
+            put_gap(b, bad);
             put_string(b, bad, key);
             PUT(": ");
-            put_value(b, bad, value, depth + 1);
+            put_value(b, bad, value);
         }
-        put_indent(b, bad, depth);
+        put_gap(b, bad);
         PUT("}");
         return;
     }
@@ -645,10 +623,10 @@ static void put_value(text_buf *b, int *bad, json_t *v, int depth)
         json_array_foreach(v, i, value) {
             if (i)
                 PUT(",");
-            put_indent(b, bad, depth + 1);
-            put_value(b, bad, value, depth + 1);
+            put_gap(b, bad);
+            put_value(b, bad, value);
         }
-        put_indent(b, bad, depth);
+        put_gap(b, bad);
         PUT("]");
         return;
     }
@@ -661,20 +639,20 @@ static void put_value(text_buf *b, int *bad, json_t *v, int depth)
     }
 }
 
-/* The next key of an object whose keys sit at depth (2 spaces each). */
-static void put_key_at(text_buf *b, int *bad, int *first, int depth, const char *key)
+/* The next key of an object inside a record. */
+static void put_key_at(text_buf *b, int *bad, int *first, const char *key)
 {
     if (!*first)
         PUT(",");
     *first = 0;
-    put_indent(b, bad, depth);
+    put_gap(b, bad);
     put_string(b, bad, key);
     PUT(": ");
 }
 
-/* An array of strings at depth (its elements one deeper); the ones
+/* An array of strings inside a record; the ones
    json_string refuses (invalid UTF-8) are left out, as jansson leaves them. */
-static void put_strings_at(text_buf *b, int *bad, int depth, char *const *v, size_t n)
+static void put_strings_at(text_buf *b, int *bad, char *const *v, size_t n)
 {
     size_t k = 0;
     for (size_t i = 0; i < n; i++) {
@@ -684,11 +662,11 @@ static void put_strings_at(text_buf *b, int *bad, int depth, char *const *v, siz
             PUT(",");
         else
             PUT("[");
-        put_indent(b, bad, depth + 1);
+        put_gap(b, bad);
         put_string(b, bad, v[i]);
     }
     if (k) {
-        put_indent(b, bad, depth);
+        put_gap(b, bad);
         PUT("]");
     } else {
         PUT("[]");
@@ -708,14 +686,14 @@ static void put_diagnosis_summary(text_buf *b, int *bad, int *first, const arran
 {
     const struct arrank_diagnosis *d = res->diagnosis;
     if (!d) {
-        put_key_at(b, bad, first, 3, "excluded");
+        put_key_at(b, bad, first, "excluded");
         PUT("null");
-        put_key_at(b, bad, first, 3, "curvature");
+        put_key_at(b, bad, first, "curvature");
         PUT("null");
         return;
     }
     const arrank_sample *s = res->sample;
-    put_key_at(b, bad, first, 3, "excluded");
+    put_key_at(b, bad, first, "excluded");
     size_t n_out = 0;
     for (size_t i = 0; i < d->n_points; i++) {
         if (res->used[i])
@@ -728,56 +706,56 @@ static void put_diagnosis_summary(text_buf *b, int *bad, int *first, const arran
             PUT(",");
         else
             PUT("[");
-        put_indent(b, bad, 4);
+        put_gap(b, bad);
         int f2 = 1;
         PUT("{");
-        put_key_at(b, bad, &f2, 5, "line");
+        put_key_at(b, bad, &f2, "line");
         put_int(b, bad, s->points[i].line);
-        put_key_at(b, bad, &f2, 5, "temp_K");
+        put_key_at(b, bad, &f2, "temp_K");
         put_real(b, bad, s->points[i].temp_K);
-        put_key_at(b, bad, &f2, 5, "reason");
+        put_key_at(b, bad, &f2, "reason");
         put_string(b, bad, reason);
-        put_indent(b, bad, 4);
+        put_gap(b, bad);
         PUT("}");
     }
     if (n_out) {
-        put_indent(b, bad, 3);
+        put_gap(b, bad);
         PUT("]");
     } else {
         PUT("[]");
     }
     int f2 = 1;
-    put_key_at(b, bad, first, 3, "kinetic_window");
+    put_key_at(b, bad, first, "kinetic_window");
     PUT("{");
-    put_key_at(b, bad, &f2, 4, "applied");
+    put_key_at(b, bad, &f2, "applied");
     put_bool(b, bad, d->window_applied);
-    put_key_at(b, bad, &f2, 4, "temp_lo_K");
+    put_key_at(b, bad, &f2, "temp_lo_K");
     put_real(b, bad, d->window_lo_K);
-    put_key_at(b, bad, &f2, 4, "temp_hi_K");
+    put_key_at(b, bad, &f2, "temp_hi_K");
     put_real(b, bad, d->window_hi_K);
-    put_key_at(b, bad, &f2, 4, "n_points");
+    put_key_at(b, bad, &f2, "n_points");
     put_int(b, bad, (long long)d->window_n);
-    put_key_at(b, bad, &f2, 4, "ea_all_points_kJ_mol");
+    put_key_at(b, bad, &f2, "ea_all_points_kJ_mol");
     put_real(b, bad, d->ea_all_J_mol / 1000.0);
-    put_key_at(b, bad, &f2, 4, "ea_all_points_kJ_mol_se");
+    put_key_at(b, bad, &f2, "ea_all_points_kJ_mol_se");
     put_real(b, bad, d->ea_all_se_J_mol / 1000.0);
-    put_indent(b, bad, 3);
+    put_gap(b, bad);
     PUT("}");
     const arrank_curvature *cv = &d->curvature;
     f2 = 1;
-    put_key_at(b, bad, first, 3, "curvature");
+    put_key_at(b, bad, first, "curvature");
     PUT("{");
-    put_key_at(b, bad, &f2, 4, "verdict");
+    put_key_at(b, bad, &f2, "verdict");
     put_string(b, bad, cv->detected ? "detected" : "not detected");
-    put_key_at(b, bad, &f2, 4, "tested");
+    put_key_at(b, bad, &f2, "tested");
     put_bool(b, bad, cv->tested);
-    put_key_at(b, bad, &f2, 4, "direction");
+    put_key_at(b, bad, &f2, "direction");
     put_string(b, bad, arrank_bend_name(cv->direction));
-    put_key_at(b, bad, &f2, 4, "level");
+    put_key_at(b, bad, &f2, "level");
     put_real(b, bad, cv->level);
-    put_key_at(b, bad, &f2, 4, "n_points");
+    put_key_at(b, bad, &f2, "n_points");
     put_int(b, bad, (long long)cv->n);
-    put_key_at(b, bad, &f2, 4, "causes");
+    put_key_at(b, bad, &f2, "causes");
     size_t n_causes = 0;
     for (size_t k = 0; k < cv->n_causes; k++) {
         const arrank_cause *c = &cv->causes[k];
@@ -787,30 +765,30 @@ static void put_diagnosis_summary(text_buf *b, int *bad, int *first, const arran
             PUT(",");
         else
             PUT("[");
-        put_indent(b, bad, 5);
+        put_gap(b, bad);
         int f3 = 1;
         PUT("{");
-        put_key_at(b, bad, &f3, 6, "cause");
+        put_key_at(b, bad, &f3, "cause");
         put_string(b, bad, c->cause);
-        put_key_at(b, bad, &f3, 6, "evidence");
+        put_key_at(b, bad, &f3, "evidence");
         put_string(b, bad, c->evidence);
-        put_key_at(b, bad, &f3, 6, "supported");
+        put_key_at(b, bad, &f3, "supported");
         put_bool(b, bad, c->supported);
-        put_indent(b, bad, 5);
+        put_gap(b, bad);
         PUT("}");
     }
     if (n_causes) {
-        put_indent(b, bad, 4);
+        put_gap(b, bad);
         PUT("]");
     } else {
         PUT("[]");
     }
-    put_indent(b, bad, 3);
+    put_gap(b, bad);
     PUT("}");
-    put_key_at(b, bad, first, 3, "findings");
-    put_strings_at(b, bad, 3, d->findings, d->n_findings);
-    put_key_at(b, bad, first, 3, "diagnosis_notes");
-    put_strings_at(b, bad, 3, d->notes, d->n_notes);
+    put_key_at(b, bad, first, "findings");
+    put_strings_at(b, bad, d->findings, d->n_findings);
+    put_key_at(b, bad, first, "diagnosis_notes");
+    put_strings_at(b, bad, d->notes, d->n_notes);
 }
 
 /* The record per sample by the fast path: the own keys, then the diagnosis
@@ -829,11 +807,11 @@ static int record_text(const arrank_analysis *a, size_t i, text_buf *b)
     const char *key;
     json_t *value;
     json_object_foreach(stats, key, value) {
-        put_key_at(b, bad, &first, 3, key);
-        put_value(b, bad, value, 3);
+        put_key_at(b, bad, &first, key);
+        put_value(b, bad, value);
     }
     json_decref(stats);
-    put_text(b, bad, "\n    }", 6);
+    PUT("}");
     return failed ? -1 : 0;
 }
 
@@ -843,21 +821,20 @@ static int sample_text(const arrank_analysis *a, size_t i, int detail, text_buf 
     if (!json_reference) {
         if (!detail)
             return record_text(a, i, b);
-        /* the detail: built by jansson, written by put_value (no dump and
-           re-indent) */
+        /* the detail: built by jansson, written by put_value (its reals
+           by number.c, faster than jansson's printf) */
         json_t *o = sample_json(a, &a->results[i], 1);
         int failed = !o, *bad = &failed;
         if (o) {
             put_text(b, bad, i ? ",\n    " : "\n    ", i ? 6 : 5);
-            put_value(b, bad, o, 2);
+            put_value(b, bad, o);
         }
         json_decref(o);
         return failed ? -1 : 0;
     }
     json_t *o = sample_json(a, &a->results[i], detail);
-    int bad = !o || text_put(b, i ? "," SAMPLE_INDENT : SAMPLE_INDENT,
-                             (i ? 1 : 0) + sizeof SAMPLE_INDENT - 1) ||
-              json_dump_callback(o, indent_sink, b, JSON_FLAGS) != 0;
+    int bad = !o || text_put(b, i ? ",\n    " : "\n    ", i ? 6 : 5) ||
+              json_dump_callback(o, text_sink, b, RECORD_FLAGS) != 0;
     json_decref(o);
     return bad ? -1 : 0;
 }
@@ -933,9 +910,9 @@ static arrank_status write_samples(const arrank_analysis *a, int detail, FILE *f
 /*
  * The document is streamed: what comes before and after the samples is
  * dumped once with an empty "samples" array and split there, and the samples
- * are built, dumped (indented to their depth: jansson indents by nesting
- * only, so the bytes are those of one whole dump) and written a block at a
- * time.  Memory holds one block, whatever the campaign's size.
+ * are built, dumped one record a line (greppable, and a third smaller than
+ * indented records: README "JSON keys") and written a block at a time.
+ * Memory holds one block, whatever the campaign's size.
  */
 static arrank_status write_json(const arrank_analysis *a, FILE *f, int detail, arrank_error *err)
 {
