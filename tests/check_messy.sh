@@ -141,6 +141,8 @@ ok_if "check: the skipped file with its reason" \
 ok_if "check: a temperature it could not read is shown as a dash, not nan K" \
     grep -q "left out: line 9, —: '2S0.0'" "$T/check"
 ok_if "check: never 'nan K'" sh -c '! grep -qi "nan K" "$1"' _ "$T/check"
+ok_if "check: the byte-identical copy named as not used" \
+    grep -qx "MT-A1 - Copy.csv: byte-identical to MT-A1.csv; not used" "$T/check"
 
 # CSV and points.csv: where a skipped file's error points; the reader's reasons
 "$A" fit "$C" --csv "$T/r.csv" --points "$T/p.csv" >/dev/null 2>&1

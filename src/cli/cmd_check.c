@@ -97,6 +97,16 @@ int cmd_check(int argc, char **argv)
             (r->flags & ~(unsigned)ARRANK_FLAG_EXCLUDED))
             with_problems++;
     }
+    /* files read but not used as a sample of their own (a byte-identical
+       copy): named as the rank command names them on standard error */
+    const arrank_campaign *c = a->campaign;
+    for (size_t k = 0; st == ARRANK_OK && k < c->n_unused; k++) {
+        const char *u = c->unused[k], *slash = strrchr(u, '/');
+        char shown[4096];
+        arrank_text_escape(slash ? slash + 1 : u, shown, sizeof shown);
+        if (fprintf(out, "%s\n\n", shown) < 0)
+            st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
+    }
     if (st == ARRANK_OK &&
         fprintf(out, "%zu of %zu sample%s %s problems or could not be fitted\n", with_problems,
                 a->n_results, a->n_results == 1 ? "" : "s", with_problems == 1 ? "has" : "have") < 0)
