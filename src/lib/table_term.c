@@ -43,6 +43,7 @@ static const struct {
 #define NAME_MAX_W 28  /* the widest id column, as piped (table.c NAME_WIDTH_MAX) */
 #define NAME_MIN 10    /* the id column narrows down to this before anything else gives */
 #define FLAGS_MIN 16   /* the flags wrap at no less than this width (common flag names fit) */
+#define CELL_MIN 12    /* and any other column down to this, its cells wrapping */
 #define SPAN_MIN 20    /* a reason of a sample not fitted wraps at no less than this */
 #define CELL_MAX 127   /* bytes of a cell, as the piped table cuts them */
 
@@ -318,6 +319,19 @@ static void compact(const arrank_analysis *a, term_layout *L, const size_t *cell
                            ? L->w[C_NAME] - over
                            : name_min;
     }
+    /* Cells too wide for any room (a huge number): the widest columns give,
+       down to CELL_MIN, and their cells wrap. */
+    while (!fits(L)) {
+        int widest = -1;
+        for (int c = 0; c < C_FLAGS; c++)
+            if (L->shown[c] && L->w[c] > CELL_MIN && (widest < 0 || L->w[c] > L->w[widest]))
+                widest = c;
+        if (widest < 0)
+            break;
+        size_t flags = L->flags_need < FLAGS_MIN ? L->flags_need : FLAGS_MIN;
+        size_t over = fixed_width(L) + flags - L->width;
+        L->w[widest] = L->w[widest] - CELL_MIN > over ? L->w[widest] - over : CELL_MIN;
+    }
 }
 
 /* Widths for the rows: the piped ones when the piped table fits, else the
@@ -416,38 +430,38 @@ static void write_heads(FILE *f, const term_layout *L)
     }
 }
 
-/* A row, on as many lines as its id, flags or reason need. */
+/* A row, on as many lines as its cells need: a cell wider than its column
+   (an id, the flags, a reason, a number too wide for the room) wraps. */
 static void write_row(FILE *f, const term_layout *L, const term_row *r)
 {
-    const char *name = r->cell[C_NAME], *flags = r->cell[C_FLAGS], *error = r->error;
-    for (int line = 0; line == 0 || *name || (flags && *flags) || (error && *error); line++) {
+    const char *rest[N_COLS], *error = r->error;
+    int more = 1;
+    for (int c = 0; c < N_COLS; c++)
+        rest[c] = r->cell[c] ? r->cell[c] : "";
+    for (int line = 0; more; line++) {
         line_out o = {f, 0, L->colour};
         int first = 1;
         size_t at = 0; /* columns written so far, for the reason's span */
+        more = 0;
         for (int c = 0; c < N_COLS; c++) {
             if (!L->shown[c])
                 continue;
-            if (r->error && c > C_N) { /* the reason spans the rest of the line */
+            if (error && c > C_N) { /* the reason spans the rest of the line */
                 size_t span = L->width > at + 2 + SPAN_MIN ? L->width - at - 2 : 0;
                 if (L->width && span == 0)
                     span = SPAN_MIN;
                 o.pending += 2;
                 const char *s = error;
                 put_text(&o, s, next_chunk(&error, span), SGR_ERROR);
+                more |= *error != '\0';
                 break;
             }
             o.pending += first ? 0 : 2;
             at += first ? L->w[c] : L->w[c] + 2;
             first = 0;
-            const char *s = line == 0 ? r->cell[c] : "";
-            size_t len = s ? strlen(s) : 0;
-            if (c == C_NAME) {
-                s = name;
-                len = next_chunk(&name, L->w[c]);
-            } else if (c == C_FLAGS) {
-                s = flags;
-                len = next_chunk(&flags, L->w[c]);
-            }
+            const char *s = rest[c];
+            size_t len = next_chunk(&rest[c], L->w[c]);
+            more |= *rest[c] != '\0';
             put_cell(&o, L, c, s, len, c == C_FLAGS && r->flagged ? SGR_FLAGS : NULL);
         }
         fputc('\n', f);
