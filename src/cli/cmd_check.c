@@ -85,8 +85,14 @@ int cmd_check(int argc, char **argv)
     size_t with_problems = 0;
     char title[512]; /* from campaign.ini or the folder's name: escaped for the terminal */
     arrank_text_escape(a->campaign->title, title, sizeof title);
-    if (fprintf(out, "campaign '%s': %zu sample%s checked\n\n", title, a->n_results,
-                a->n_results == 1 ? "" : "s") < 0)
+    char run[256] = ""; /* --run: one run of each sample, said as the table says it */
+    if (args.options.run) {
+        char label[200];
+        arrank_text_escape(args.options.run, label, sizeof label);
+        snprintf(run, sizeof run, "; only run '%s' of each sample (--run)", label);
+    }
+    if (fprintf(out, "campaign '%s': %zu sample%s checked%s\n\n", title, a->n_results,
+                a->n_results == 1 ? "" : "s", run) < 0)
         st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
     for (size_t i = 0; st == ARRANK_OK && i < a->n_results; i++) {
         const arrank_result *r = &a->results[i];

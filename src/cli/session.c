@@ -131,7 +131,13 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
         /* nothing could be fitted: every file and sample with its reason, then why the
            run stops */
         cli_report_unfitted(s);
-        cli_fail("no sample in '%s' could be fitted", args->campaign_dir);
+        if (args->options.run) { /* the analysis's reasons are gone with it: the first */
+            cli_print_error(&err);
+            cli_fail("no sample in '%s' could be fitted on run '%s' (--run)",
+                     args->campaign_dir, args->options.run);
+        } else {
+            cli_fail("no sample in '%s' could be fitted", args->campaign_dir);
+        }
         cli_session_free(s);
         return EXIT_DATA;
     }

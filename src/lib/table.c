@@ -428,8 +428,10 @@ static void table_row(const arrank_table_ctx *tc, size_t k, row_buf *r, unsigned
         return;
     }
     const double t = res->t_quantile; /* the pipeline's (analysis.c) */
-    if (fit->n < res->sample->n_points) {
-        int len = snprintf(cell, sizeof cell, "%zu/%zu", fit->n, res->sample->n_points);
+    /* n of the points offered: with --run, of the run's */
+    const size_t offered = o->run ? res->n_offered : res->sample->n_points;
+    if (fit->n < offered) {
+        int len = snprintf(cell, sizeof cell, "%zu/%zu", fit->n, offered);
         p = put_right(p, cell, len < 0 ? 0 : (size_t)len, tc->w_n);
     } else {
         p = put_right(p, cell, int_text(cell, (long long)fit->n), tc->w_n);

@@ -131,17 +131,19 @@ static char *fixed_cell(double v, int prec, int ok)
 }
 
 /* The cells of the rank, P(best), group and n columns. */
-static int rank_cells(const arrank_result *res, term_row *r)
+static int rank_cells(const arrank_analysis *a, const arrank_result *res, term_row *r)
 {
+    /* n of the points offered: with --run, of the run's (table.c) */
+    const size_t offered = a->options.run ? res->n_offered : res->sample->n_points;
     const struct arrank_sample_stats *ss = res->rank ? res->stats : NULL;
     r->cell[C_RANK] = fixed_cell(res->rank, 0, res->rank > 0);
     r->cell[C_PB] = fixed_cell(ss ? ss->p_best : NAN, 3, ss && isfinite(ss->p_best));
     r->cell[C_GRP] = fixed_cell(ss ? ss->group : 0, 0, ss && ss->group > 0);
     char buf[64];
-    if (res->error || res->fit.n >= res->sample->n_points)
+    if (res->error || res->fit.n >= offered)
         snprintf(buf, sizeof buf, "%zu", res->error ? res->sample->n_points : res->fit.n);
     else
-        snprintf(buf, sizeof buf, "%zu/%zu", res->fit.n, res->sample->n_points);
+        snprintf(buf, sizeof buf, "%zu/%zu", res->fit.n, offered);
     r->cell[C_N] = dup_len(buf, strlen(buf));
     return r->cell[C_RANK] && r->cell[C_PB] && r->cell[C_GRP] && r->cell[C_N];
 }
@@ -208,7 +210,7 @@ static int make_row(const arrank_table_ctx *tc, size_t k, term_row *r)
     if (!(r->cell[C_NAME] = malloc(n)))
         return 0;
     arrank_text_escape(id, r->cell[C_NAME], n); /* text from a file: escaped (text.h) */
-    if (!rank_cells(res, r))
+    if (!rank_cells(tc->a, res, r))
         return 0;
     if (res->error) {
         const char *lead = res->sample->skipped ? "file not used: " : "not fitted: ";
