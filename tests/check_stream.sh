@@ -74,6 +74,22 @@ st=$?
 expect_eq "check --out without gnuplot: exit 5" "$st" 5
 ok_if "check --out without gnuplot: no folder made" test ! -e "$T/nognu"
 
+# a sample held at one temperature: not fitted, its rates drawn as measured
+# with the reason there is no drift line
+mkdir "$T/iso"
+awk 'BEGIN {
+    print "# sample = I1 one temperature"
+    print "T [K], rate [umol/(g*s)], time_on_stream [h]"
+    for (k = 1; k <= 8; k++)
+        printf "530, %.6g, %d\n", 10 * exp(-0.02 * k), k
+}' >"$T/iso/I1.csv"
+cp "$C/S2.csv" "$T/iso/"
+"$A" check "$T/iso" --out "$T/iso-out" >/dev/null 2>&1; st=$?
+expect_eq "one temperature: check --out exit 0" "$st" 0
+ok_if "one temperature: the figure says why there is no drift line" \
+    grep -q 'rates as measured; no drift line: sample not fitted: all 8 points are at one temperature' \
+    "$T/iso-out/time-on-stream-01-I1_one_temperature.svg"
+
 # the demo has no time_on_stream column: no such figure
 "$A" plot campaigns/zeolite-ni-screen --out "$T/demo" >/dev/null 2>&1
 ok_if "demo: no time-on-stream figure" sh -c "! ls '$T/demo' | grep -q time-on-stream"

@@ -128,10 +128,14 @@ static void put_subtitle(script *s, const arrank_result *r, const arrank_drift *
                            dr->temp_ref_K - ZERO_C_K);
     } else {
         const arrank_diagnosis *d = r->diagnosis;
-        arrank_plot_put_qf(f, "rates as measured; no drift line: %s",
-                           !d                ? "no diagnosis (--no-diagnose)"
-                           : d->drift.note   ? d->drift.note
-                                             : "the drift test did not run");
+        if (r->error) /* text from a file reaches gnuplot quoted, as all of it */
+            arrank_plot_put_qf(f, "rates as measured; no drift line: sample not fitted: %s",
+                               r->error);
+        else
+            arrank_plot_put_qf(f, "rates as measured; no drift line: %s",
+                               !d              ? "no diagnosis (--no-diagnose)"
+                               : d->drift.note ? d->drift.note
+                                               : "the drift test did not run");
     }
     fprintf(f, " at screen 0.5, screen 0.885 center font \",%d\" noenhanced\n",
             arrank_plot_font_of(s, 0.62));
