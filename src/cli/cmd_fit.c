@@ -48,8 +48,9 @@ int cmd_fit(int argc, char **argv)
 {
     cli_args args;
     int rc = cli_parse(argc, argv,
-                       OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_DIAGNOSE | OPT_MODEL | OPT_TABLE, usage,
-                       &args);
+                       OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_DIAGNOSE | OPT_MODEL |
+                           OPT_TABLE,
+                       usage, &args);
     if (rc != -1)
         return rc;
     return cli_analyse_and_print(&args, 0);

@@ -463,7 +463,8 @@ static void table_row(const arrank_table_ctx *tc, size_t k, row_buf *r, unsigned
     p = end_left(start, arrank_table_put_interval(p, 1, ea, ea - t * se, ea + t * se), tc->w_ea);
     p = put_text(p, "  ", 2);
     start = p;
-    p = arrank_table_put_interval(p, 2, fit->ln_A, fit->ln_A - t * fit->ln_A_se, fit->ln_A + t * fit->ln_A_se);
+    p = arrank_table_put_interval(p, 2, fit->ln_A, fit->ln_A - t * fit->ln_A_se,
+                                  fit->ln_A + t * fit->ln_A_se);
     p = end_left(start, p, tc->w_lna);
     if (tc->fit_stats) {
         p = put_text(p, "  ", 2);
