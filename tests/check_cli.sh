@@ -178,7 +178,38 @@ PY
 expect_eq "--run heat: only the samples with a 'heat' run are ranked" \
     "$(sed -n 1p "$T/py")" "ZN-05 ferrierite ZN-13 Ni-rich Y"
 expect_eq "--run heat: ZN-13 fitted on its heat run only (8 of 16 points)" "$(sed -n 2p "$T/py")" "16 True"
-expect_eq "--run heat: a sample without it says so" "$(sed -n 3p "$T/py")" "has no run 'heat' (--run)"
+expect_eq "--run heat: a sample without it says so" "$(sed -n 3p "$T/py")" \
+    "has no run 'heat' (--run); its points carry no run label"
+# the other runs' points: left out with their run named, in points.csv, check
+# and the JSON; no 'excluded' flag for them, n counted against the run
+"$A" rank "$DEMO" --at 270C --run heat --points "$T/run-points.csv" --json "$T/run.json" \
+    >"$T/out" 2>/dev/null
+ok_if "--run heat: the table says only that run is used" \
+    grep -q "; only run 'heat' of each sample (--run)$" "$T/out"
+ok_if "--run heat: ZN-13 n is its run's 8 points, no 'excluded' flag" \
+    grep -q "ZN-13 Ni-rich Y  *8  .*  -$" "$T/out"
+expect_eq "--run heat: points.csv names the other run for each of ZN-13's cool points" \
+    "$(grep -c "^ZN-13 Ni-rich Y,.*,cool,0,.*,\"run 'cool', not 'heat' (--run)\"$" "$T/run-points.csv")" 8
+expect_eq "--run heat: its heat points used" \
+    "$(grep -c '^ZN-13 Ni-rich Y,.*,heat,1,' "$T/run-points.csv")" 8
+"$A" rank "$DEMO" --at 270C --run heat --no-diagnose --points - 2>/dev/null >"$T/nd.csv"
+expect_eq "--run heat --no-diagnose: the same reason without a diagnosis" \
+    "$(grep -c "^ZN-13 Ni-rich Y,.*run 'cool', not 'heat' (--run)" "$T/nd.csv")" 8
+"$A" check "$DEMO" --run heat >"$T/out" 2>/dev/null
+ok_if "--run heat: check names the run of each point left out" \
+    grep -q "left out: line 14, 573.6 K: run 'cool', not 'heat' (--run)" "$T/out"
+"$A" rank "$DEMO" --at 270C --run fresh 2>"$T/err" >/dev/null; st=$?
+expect_eq "--run fresh: no sample has it, nothing fitted (exit 1)" "$st" 1
+ok_if "--run fresh: the first sample's reason" \
+    grep -q "ZN-01.csv:5: has no run 'fresh' (--run); its points carry no run label$" "$T/err"
+ok_if "--run fresh: the last line says which run" \
+    sh -c "tail -n 1 '$T/err' | grep -q \"could be fitted on run 'fresh' (--run)$\""
+mkdir "$T/runs"
+cp "$DEMO/ZN-13.csv" "$T/runs/A.csv"
+sed 's/^# sample = .*/# sample = B/; s/,heat$/,fresh/' "$DEMO/ZN-13.csv" >"$T/runs/B.csv"
+"$A" rank "$T/runs" --at 270C --run fresh --json - 2>/dev/null >"$T/fresh.json"
+ok_if "--run: a sample without the run lists the runs it has" \
+    grep -q "has no run 'fresh' (--run); its runs: 'heat', 'cool'" "$T/fresh.json"
 
 # fit and rank are distinct: fit lists the fits in file order with no ranking columns.
 "$A" fit "$DEMO" --at 270C >"$T/fit.txt" 2>/dev/null

@@ -353,6 +353,11 @@ static char *expected_rows(const fake *fk)
         f->n < res->sample->n_points ? cell(out, 5, 1, "%zu/%zu", f->n, res->sample->n_points)
                                      : cell(out, 5, 1, "%zu", f->n);
         fputs("  ", out);
+        if (!o->rank) { /* fit's table: the line's dof (table.c) */
+            isfinite(f->dof) && f->dof >= 0 ? cell(out, 3, 1, "%.0f", f->dof)
+                                             : cell(out, 3, 1, "-");
+            fputs("  ", out);
+        }
         cell(out, 11, 0, "%.0f-%.0f", f->T_min_K, f->T_max_K);
         fputs("  ", out);
         double ea = f->ea_J_mol / 1e3, se = f->ea_se_J_mol / 1e3;
@@ -360,6 +365,12 @@ static char *expected_rows(const fake *fk)
         fputs("  ", out);
         cell(out, w_lna, 0, "%.2f [%.2f, %.2f]", f->ln_A, f->ln_A - t * f->ln_A_se,
              f->ln_A + t * f->ln_A_se);
+        if (!o->rank) { /* and the scatter: ln r's SD in %, or sqrt(chi2/dof) in "sd" */
+            fputs("  ", out);
+            double sp = 100.0 * f->resid_sd;
+            f->weighted ? cell(out, 9, 0, "%.2f sd", f->resid_sd)
+                        : cell(out, 9, 0, "%.*f%%", sp < 9.95 ? 1 : 0, sp);
+        }
         if (have_T) {
             char r0[48], r1[48], r2[48];
             fputs("  ", out);
@@ -440,15 +451,102 @@ static void rows_as_printf_writes_them(void **state)
         {"nothing ranked", 300, 0, 1, 0, 0, 1},
         {"one sample", 1, 1, 1, 1, 50, 0},
         {"many rows for several workers", 5000, 1, 1, 1, 0, 0},
+        {"fit's table: dof and scatter", 600, 0, 1, 0, 0, 0},
+        {"fit's table without an operating temperature", 300, 0, 0, 0, 0, 1},
     };
     for (size_t c = 0; c < sizeof cases / sizeof cases[0]; c++) {
         for (int rep = 0; rep < 3; rep++) {
             fake fk;
             make_fake(&fk, cases[c].n, cases[c].ranked, cases[c].with_T, cases[c].with_stats,
                       cases[c].boot, cases[c].short_names);
+            if (strncmp(cases[c].what, "fit's", 5) == 0)
+                fk.a.options.rank = 0; /* fit: each sample's fit, no ranking */
             check_rows(&fk, cases[c].what);
             free_fake(&fk);
         }
+    }
+}
+
+/* The table of fk for a terminal width columns wide (arrank_output_table). */
+static char *term_table_of(const fake *fk, size_t width, int colour)
+{
+    char *text = NULL;
+    size_t len = 0;
+    FILE *out = open_memstream(&text, &len);
+    assert_non_null(out);
+    arrank_error err;
+    arrank_error_clear(&err);
+    const arrank_table_options t = {width, colour};
+    assert_int_equal(arrank_output_table(&fk->a, &t, out, &err), ARRANK_OK);
+    assert_int_equal(fclose(out), 0);
+    return text;
+}
+
+/* The widest line of text in code points, ANSI colour sequences (ESC [ ... m)
+   not counted; *colours: how many sequences there were. */
+static size_t widest_line(const char *text, size_t *colours)
+{
+    size_t widest = 0, w = 0;
+    *colours = 0;
+    for (const char *p = text; *p; p++) {
+        if (*p == '\033' && p[1] == '[') {
+            p += 2;
+            while (*p && *p != 'm')
+                p++;
+            ++*colours;
+            if (!*p)
+                break;
+            continue;
+        }
+        if (*p == '\n') {
+            widest = w > widest ? w : widest;
+            w = 0;
+        } else {
+            w += ((unsigned char)*p & 0xC0) != 0x80;
+        }
+    }
+    return w > widest ? w : widest;
+}
+
+/* On a terminal: no line wider than the terminal, whatever the names and
+   numbers (ids of every kind, cells of 127 bytes, long reasons); colour only
+   when asked; width 0 without colour is the piped table, byte for byte; a
+   line names the columns left out (from 60 columns: below that the
+   essential columns alone may not fit). */
+static void table_fits_the_terminal(void **state)
+{
+    (void)state;
+    static const size_t widths[] = {60, 72, 80, 100, 120, 200};
+    for (int mode = 0; mode < 4; mode++) {
+        fake fk;
+        make_fake(&fk, 300, mode != 3, mode != 2, mode < 2, mode == 0 ? 100 : 0, 0);
+        if (mode == 3)
+            fk.a.options.rank = 0;
+        char *piped = NULL;
+        size_t piped_len = 0;
+        table_of(&fk, 1, &piped, &piped_len);
+        char *same = term_table_of(&fk, 0, 0);
+        assert_string_equal(same, piped);
+        free(same);
+        size_t colours, piped_w = widest_line(piped, &colours);
+        for (size_t k = 0; k < sizeof widths / sizeof *widths; k++) {
+            for (int colour = 0; colour <= 1; colour++) {
+                char *text = term_table_of(&fk, widths[k], colour);
+                size_t w = widest_line(text, &colours);
+                if (w > widths[k] && getenv("SHOW_TABLE"))
+                    fputs(text, stderr);
+                if (w > widths[k])
+                    fail_msg("mode %d, %zu columns: a line of %zu", mode, widths[k], w);
+                assert_true(colour ? colours > 0 : colours == 0);
+                /* the piped table is wider than every width tried: something is
+                   left out and said so */
+                assert_true(piped_w > widths[k]);
+                assert_non_null(strstr(text, "left out to fit"));
+                free(text);
+            }
+        }
+        free(piped);
+        free_fake(&fk);
     }
 }
 
@@ -606,6 +704,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(rows_as_printf_writes_them),
         cmocka_unit_test(cases_are_covered),
+        cmocka_unit_test(table_fits_the_terminal),
         cmocka_unit_test_setup_teardown(json_record_as_jansson_writes_it, units_setup,
                                         units_teardown),
     };

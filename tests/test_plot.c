@@ -15,13 +15,16 @@
 #include <stdint.h>
 #include <cmocka.h>
 
+#include <gsl/gsl_cdf.h>
 #include <gsl/gsl_errno.h>
+#include <gsl/gsl_multifit.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "arrank/analysis.h"
+#include "arrank/diagnose.h"
 #include "arrank/plot.h"
 #include "arrank/analysis_stats.h"
 #include "helpers.h"
@@ -233,6 +236,8 @@ static int setup(void **state)
             s->points[k].rate_sd = i == 3 ? 0.05 * exp(lr) : NAN;
             s->points[k].run = -1;
             s->points[k].line = (long)k + 3;
+            s->points[k].time_on_stream_s = NAN; /* no time_on_stream column */
+            s->points[k].conversion = NAN;
         }
         if (i == 8)
             s->problem = "only 2 data points";
@@ -522,6 +527,141 @@ static void test_find_gnuplot_missing(void **state)
     assert_non_null(strstr(err.message, "apt-get install gnuplot-nox"));
 }
 
+/* ---- rate against time on stream ------------------------------------------ */
+
+#define TOS_N 14
+
+/* Rows of data block $name in script: up to max rows of cols numbers. */
+static size_t block_rows(const char *script, const char *name, size_t cols, double *v,
+                         size_t max)
+{
+    char head[64];
+    snprintf(head, sizeof head, "$%s << EOD\n", name);
+    const char *p = strstr(script, head);
+    if (!p)
+        return 0;
+    p += strlen(head);
+    size_t n = 0;
+    while (n < max && strncmp(p, "EOD", 3) != 0) {
+        for (size_t c = 0; c < cols; c++) {
+            char *end;
+            v[n * cols + c] = strtod(p, &end);
+            assert_true(end != p);
+            p = end;
+        }
+        p = strchr(p, '\n') + 1;
+        n++;
+    }
+    return n;
+}
+
+/* A sample measured over 27 h on stream, temperatures going up and back so
+   that time does not follow temperature, losing 1.2 %/h; a second one
+   without a time_on_stream column.  The figure of the first draws the
+   diagnosis's drift fit: its line and band are those of ordinary least
+   squares of ln r on [1, 1/T, t] (GSL gsl_multifit_linear, an independent
+   path from the diagnosis's QR in regress.c; the prediction's variance
+   x0' cov x0 and its t quantile on n - 3 dof: Draper & Smith, Applied
+   Regression Analysis, 3rd ed., sec. 5.4); the second has no such figure. */
+static void test_time_on_stream(void **state)
+{
+    (void)state;
+    static const double temps_K[TOS_N] = {500, 510, 520, 530, 540, 550, 560,
+                                          500, 520, 540, 560, 510, 530, 550};
+    arrank_campaign c = {0};
+    arrank_sample smp[2] = {{0}};
+    arrank_point pts[2][TOS_N];
+    c.name = c.title = "tos";
+    c.rate_unit = "umol/(g*s)";
+    c.samples = smp;
+    c.n_samples = 2;
+    gsl_matrix *X = gsl_matrix_alloc(TOS_N, 3), *cov = gsl_matrix_alloc(3, 3);
+    gsl_vector *y = gsl_vector_alloc(TOS_N), *b = gsl_vector_alloc(3);
+    for (size_t i = 0; i < 2; i++) {
+        smp[i].id = i == 0 ? "A drifting" : "B no time";
+        smp[i].path = smp[i].file = "none.csv";
+        smp[i].points = pts[i];
+        smp[i].n_points = TOS_N;
+        for (size_t k = 0; k < TOS_N; k++) {
+            const double t_h = 2.0 * (double)k + 1.0, T = temps_K[k];
+            const double lr = 30.0 - 90e3 / (8.314462618 * T) - 0.012 * t_h +
+                              0.01 * sin(2.3 * (double)k);
+            pts[i][k] = (arrank_point){.temp_K = T, .rate = exp(lr), .rate_sd = NAN,
+                                       .conversion = NAN, .run = -1, .line = (long)k + 3,
+                                       .time_on_stream_s = i == 0 ? 3600.0 * t_h : NAN};
+            gsl_matrix_set(X, k, 0, 1.0);
+            gsl_matrix_set(X, k, 1, 1.0 / T);
+            gsl_matrix_set(X, k, 2, t_h);
+            gsl_vector_set(y, k, lr);
+        }
+    }
+    double chisq;
+    gsl_multifit_linear_workspace *ws = gsl_multifit_linear_alloc(TOS_N, 3);
+    assert_int_equal(gsl_multifit_linear(X, y, b, cov, &chisq, ws), 0);
+    gsl_multifit_linear_free(ws);
+    arrank_options o = arrank_options_defaults();
+    o.operating_temp_K = 530.0;
+    arrank_analysis *a = NULL;
+    arrank_error err;
+    arrank_error_clear(&err);
+    assert_int_equal(arrank_analysis_run(&c, &o, &a, &err), ARRANK_OK);
+    const arrank_drift *dr = &a->results[0].diagnosis->drift;
+    assert_true(dr->tested);
+    assert_int_equal(dr->n_points, TOS_N);
+    char *script = script_of(a, ARRANK_PLOT_SVG);
+    /* the figure for the sample with the column, none for the other */
+    assert_non_null(strstr(script, "set output (\"time-on-stream-01-A_drifting.svg\")"));
+    assert_null(strstr(script, "time-on-stream-02"));
+    assert_null(strstr(script, "$drift1"));
+    /* the drawn line and band against least squares done independently */
+    const double src_T_ref = 1.0 / ((1.0 / 500 + 1.0 / 510 + 1.0 / 520 + 1.0 / 530 + 1.0 / 540 +
+                                     1.0 / 550 + 1.0 / 560) * 2.0 / 14.0);
+    check_close(dr->temp_ref_K, src_T_ref, 1e-12, "drift T_ref", "1 / mean of 1/T");
+    check_close(dr->slope_ln_per_h, gsl_vector_get(b, 2), 1e-8, "drift slope",
+                "GSL gsl_multifit_linear");
+    const double tq = gsl_cdf_tdist_Pinv(0.975, TOS_N - 3.0);
+    double line[61 * 4];
+    size_t n_line = block_rows(script, "drift0", 4, line, 61);
+    assert_int_equal(n_line, 61);
+    assert_true(fabs(line[0] - 1.0) < 1e-9 && fabs(line[60 * 4] - 27.0) < 1e-9);
+    for (size_t k = 0; k < n_line; k += 10) {
+        const double t_h = line[k * 4], x0[3] = {1.0, 1.0 / src_T_ref, t_h};
+        double pred = 0, var = 0;
+        for (int u = 0; u < 3; u++) {
+            pred += x0[u] * gsl_vector_get(b, u);
+            for (int w = 0; w < 3; w++)
+                var += x0[u] * gsl_matrix_get(cov, u, w) * x0[w];
+        }
+        check_close(line[k * 4 + 1], exp(pred), 1e-7, "drift line", "GSL least squares");
+        check_close(line[k * 4 + 2], exp(pred - tq * sqrt(var)), 1e-7, "band, lower",
+                    "GSL least squares, t on n - 3 (GSL gsl_cdf_tdist_Pinv)");
+        check_close(line[k * 4 + 3], exp(pred + tq * sqrt(var)), 1e-7, "band, upper",
+                    "GSL least squares, t on n - 3 (GSL gsl_cdf_tdist_Pinv)");
+    }
+    /* the points brought to T_ref with the fit's own temperature slope */
+    double tos[TOS_N * 2];
+    assert_int_equal(block_rows(script, "tos0", 2, tos, TOS_N), TOS_N);
+    for (size_t k = 0; k < TOS_N; k++) {
+        const double want = pts[0][k].rate * exp(-gsl_vector_get(b, 1) *
+                                                 (1.0 / temps_K[k] - 1.0 / src_T_ref));
+        check_close(tos[2 * k + 1], want, 1e-7, "point at T_ref", "GSL least squares");
+    }
+    free(script);
+    /* only the kinds asked for: none of them for a campaign without the column */
+    arrank_analysis_free(a);
+    for (size_t k = 0; k < TOS_N; k++)
+        pts[0][k].time_on_stream_s = NAN;
+    assert_int_equal(arrank_analysis_run(&c, &o, &a, &err), ARRANK_OK);
+    script = script_of(a, ARRANK_PLOT_SVG);
+    assert_null(strstr(script, "time-on-stream"));
+    free(script);
+    arrank_analysis_free(a);
+    gsl_matrix_free(X);
+    gsl_matrix_free(cov);
+    gsl_vector_free(y);
+    gsl_vector_free(b);
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
@@ -538,6 +678,7 @@ int main(void)
         cmocka_unit_test(test_write_no_predictable_names),
         cmocka_unit_test(test_write_all_or_none),
         cmocka_unit_test(test_find_gnuplot_missing),
+        cmocka_unit_test(test_time_on_stream),
     };
     return cmocka_run_group_tests(tests, setup, teardown);
 }

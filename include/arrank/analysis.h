@@ -107,6 +107,10 @@ typedef struct {
     long error_column;            /* column the error points at, 0 if none */
     unsigned char *used;          /* [sample->n_points]: 1 if the point is in the fit */
     size_t n_used;
+    /* points the fit was offered: every point of the sample, or with
+       options.run those of that run (the others are no part of this fit:
+       they raise no flag and the tables count n against these) */
+    size_t n_offered;
     arrank_arrhenius fit;         /* valid when error == NULL */
     int has_prediction;           /* 1 when an operating temperature was given */
     arrank_prediction at_T;       /* rate at the operating temperature */
@@ -151,5 +155,14 @@ arrank_status arrank_analysis_run(const arrank_campaign *campaign, const arrank_
                                   arrank_analysis **out, arrank_error *err);
 
 void arrank_analysis_free(arrank_analysis *analysis);
+
+/*
+ * Why point k of res is no part of its fit because of options.run, in one
+ * wording for every output ("run 'cool', not 'heat' (--run)", or "no run
+ * label, not 'heat' (--run)"), written into buf (n bytes); NULL when the
+ * point belongs to the chosen run or no run was chosen.
+ */
+const char *arrank_analysis_run_reason(const arrank_analysis *analysis, const arrank_result *res,
+                                       size_t k, char *buf, size_t n);
 
 #endif

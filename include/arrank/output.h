@@ -28,6 +28,25 @@ arrank_status arrank_output_write(const arrank_analysis *analysis, arrank_output
                                   FILE *stream, arrank_error *err);
 
 /*
+ * The table for a terminal (README "The table on a terminal").  The library
+ * never looks at the terminal: the caller says how wide it is and whether to
+ * colour.  width 0 is no limit; colour 1 marks flags and reasons with ANSI
+ * colours.  With width 0 and colour 0 (or options NULL) the table is the one
+ * arrank_output_write writes, byte for byte; otherwise, when the whole table
+ * does not fit in width columns, columns are left out in a stated order of
+ * priority and a line under the rows names them, and ids, flags and reasons
+ * wrap onto more lines (widths counted in code points).
+ */
+typedef struct {
+    size_t width; /* columns of the terminal; 0: no limit */
+    int colour;   /* 1: ANSI colours (the caller checks NO_COLOR and the terminal) */
+} arrank_table_options;
+
+arrank_status arrank_output_table(const arrank_analysis *analysis,
+                                  const arrank_table_options *options, FILE *stream,
+                                  arrank_error *err);
+
+/*
  * Write to path atomically (temp file + fsync + rename), or to stdout when
  * path is "-".  EIO with the path on failure; nothing is left behind.
  */

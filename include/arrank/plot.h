@@ -22,6 +22,11 @@
  *                          1-based position in the campaign; ID is the sample id
  *                          with each run of characters other than [A-Za-z0-9._-]
  *                          made one '_' (at most 40 characters).
+ *   time-on-stream-NN[-ID] per sample whose file has a time_on_stream column:
+ *                          rate against time on stream, brought to one
+ *                          temperature by the diagnosis's drift fit, with that
+ *                          fit's drift line and its confidence band (the
+ *                          rates as measured, and why, without a drift test)
  * Each sample has one colour in every figure and one marker shape in every
  * figure but its diagnostics, where the shape tells each point's regime.
  */
@@ -45,7 +50,8 @@ typedef enum {
     ARRANK_FIGURE_ARRHENIUS = 0,
     ARRANK_FIGURE_RATE_AT_T = 1,
     ARRANK_FIGURE_EA_LNA = 2,
-    ARRANK_FIGURE_DIAGNOSTICS = 3
+    ARRANK_FIGURE_DIAGNOSTICS = 3,
+    ARRANK_FIGURE_TIME_ON_STREAM = 4
 } arrank_figure_kind;
 
 typedef struct {
@@ -53,6 +59,8 @@ typedef struct {
     const char *gnuplot; /* program to run; NULL: the environment variable
                             ARRANK_GNUPLOT if set and not empty, else "gnuplot"
                             searched on PATH.  A name with a '/' is used as is. */
+    unsigned kinds;      /* which figures: OR of (1u << arrank_figure_kind);
+                            0 (default) means every kind */
 } arrank_plot_options;
 
 /* Defaults: SVG, gnuplot from ARRANK_GNUPLOT or PATH. */
@@ -60,7 +68,8 @@ arrank_plot_options arrank_plot_defaults(void);
 
 typedef struct {
     arrank_figure_kind kind;
-    size_t sample;   /* result index for DIAGNOSTICS; (size_t)-1 for the others */
+    size_t sample;   /* result index for DIAGNOSTICS and TIME_ON_STREAM; (size_t)-1
+                        for the others */
     unsigned format; /* one ARRANK_PLOT_* bit */
     char *name;      /* file name in the output folder, e.g. "arrhenius.svg" */
     char *path;      /* out_dir joined with name */

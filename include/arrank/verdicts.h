@@ -139,6 +139,17 @@ typedef struct {
     double change;            /* exp(slope * span) - 1 */
     int verdict;              /* -1 deactivation, +1 activation, 0 none */
     char *note;               /* why not tested, or NULL */
+    /* The whole drift fit, ln r = ln_rate_ref + temp_slope_K (1/T - 1/temp_ref_K)
+       + slope_ln_per_h t (t in hours on stream), for the figure of rate against
+       time on stream (plot_stream.c); NAN when not tested. */
+    size_t n_points;          /* points of the test (usable, with a time on stream) */
+    double temp_ref_K;        /* 1 / weighted mean of 1/T over those points */
+    double temp_slope_K;      /* d ln r / d(1/T) at fixed time (-Ea/R of this fit) */
+    double ln_rate_ref;       /* ln r at temp_ref_K and time 0 (report unit) */
+    double ln_rate_ref_var;   /* its variance */
+    double cov_ref_slope;     /* covariance of ln_rate_ref and slope_ln_per_h */
+    double time_min_h, time_max_h; /* the times on stream of the points */
+    double t_quantile;        /* two-sided t at the diagnosis's confidence on dof */
 } arrank_drift;
 
 /* Per point, in file order. */

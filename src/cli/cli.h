@@ -35,7 +35,8 @@ enum {
     OPT_MODEL = 1u << 6,      /* --errors, --model */
     OPT_OUT_DIR = 1u << 7,    /* --out DIR */
     OPT_FORMAT = 1u << 8,     /* --format svg|png|pdf (repeatable) */
-    OPT_READ = 1u << 9        /* --strict, --no-merge: every command that reads a campaign */
+    OPT_READ = 1u << 9,       /* --strict, --no-merge: every command that reads a campaign */
+    OPT_TABLE = 1u << 10      /* --wide: the table on a terminal */
 };
 
 #define CLI_MAX_FORMATS 8
@@ -48,6 +49,7 @@ typedef struct {
     const char *csv_path;
     const char *points_path;  /* --points FILE|-: points.csv; NULL if not asked */
     int json_points;          /* --json-points: the JSON keeps every point and the whole diagnosis */
+    int wide;                 /* --wide: every column of the table on a terminal too */
     const char *out_dir;
     const char *formats[CLI_MAX_FORMATS];
     size_t n_formats;

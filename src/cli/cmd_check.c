@@ -15,6 +15,7 @@
 #include "arrank/diagnose.h"
 #include "arrank/diagnosis_out.h"
 #include "arrank/output.h"
+#include "arrank/plot.h"
 #include "arrank/text.h"
 #include "cli.h"
 
@@ -49,6 +50,13 @@ static const char usage[] =
     "  --json-points       the JSON also holds every point and the whole diagnosis\n"
     "  --csv FILE|-        also write the results as CSV\n"
     "  --points FILE|-     also write every point as CSV, one row each (points.csv)\n"
+    "  --out DIR           also draw each sample's figures of the checks into DIR\n"
+    "                      (made if missing; as 'arrank plot' draws them):\n"
+    "                      diagnostics-NN[-ID].EXT (residuals, local apparent Ea)\n"
+    "                      and, for a file with a time_on_stream column,\n"
+    "                      time-on-stream-NN[-ID].EXT (rate against time on stream\n"
+    "                      with the drift test's fitted line and its interval)\n"
+    "  --format F          svg (default), png or pdf for --out; repeat for more\n"
     "  --strict            all or nothing: a file that cannot be read or a cell that\n"
     "                      is not a number stops the run (default: that file is\n"
     "                      skipped, that point left out, each named on stderr)\n"
@@ -59,13 +67,41 @@ static const char usage[] =
     "do not use them for reactor design or safety limits.\n"
     "\n"
     "Exit status: 0 the campaign was checked (problems found or not), 1 bad input\n"
-    "data, 2 usage, 3 a file could not be read or written.\n";
+    "data, 2 usage, 3 a file could not be read or written, 4 gnuplot failed on a\n"
+    "figure, 5 gnuplot not found (--out; nothing is written then).\n";
+
+/* --out DIR: the per-sample figures of the checks, staged with the run's
+   other outputs (stage.c: all or nothing).  -1 or an exit status (printed). */
+static int draw_figures(const cli_args *args, const cli_session *s, arrank_plot_files *files)
+{
+    cli_stage_begin(s->campaign);
+    int rc = -1;
+    const char *priv = cli_stage_dir(args->out_dir, &rc);
+    if (!priv)
+        return rc;
+    rc = cli_stage_claim(args->out_dir, priv, 0);
+    if (rc != -1)
+        return rc;
+    arrank_plot_options po = arrank_plot_defaults();
+    po.formats = cli_plot_formats(args);
+    po.kinds = 1u << ARRANK_FIGURE_DIAGNOSTICS | 1u << ARRANK_FIGURE_TIME_ON_STREAM;
+    arrank_error err;
+    arrank_error_clear(&err);
+    arrank_status st = arrank_plot_write(s->analysis, priv, &po, files, &err);
+    if (st != ARRANK_OK) {
+        cli_print_error(&err);
+        return cli_exit_status(st, &err);
+    }
+    return -1;
+}
 
 int cmd_check(int argc, char **argv)
 {
     cli_args args;
-    int rc = cli_parse(argc, argv, OPT_AT | OPT_DIAGNOSE | OPT_CONFIDENCE | OPT_OUTPUTS, usage,
-                       &args);
+    int rc = cli_parse(argc, argv,
+                       OPT_AT | OPT_DIAGNOSE | OPT_CONFIDENCE | OPT_OUTPUTS | OPT_OUT_DIR |
+                           OPT_FORMAT,
+                       usage, &args);
     if (rc != -1)
         return rc;
     if (!args.options.diagnose) {
@@ -76,6 +112,13 @@ int cmd_check(int argc, char **argv)
     rc = cli_session_open(&args, 0, &s);
     if (rc != -1)
         return rc;
+    /* --out refused before any of the report is shown, as rank refuses its
+       outputs (an input, inside the campaign folder) */
+    cli_stage_begin(s.campaign);
+    if (args.out_dir && (rc = cli_stage_check(args.out_dir, 1)) != -1) {
+        cli_session_free(&s);
+        return rc;
+    }
     arrank_error err;
     arrank_error_clear(&err);
     const arrank_analysis *a = s.analysis;
@@ -85,8 +128,14 @@ int cmd_check(int argc, char **argv)
     size_t with_problems = 0;
     char title[512]; /* from campaign.ini or the folder's name: escaped for the terminal */
     arrank_text_escape(a->campaign->title, title, sizeof title);
-    if (fprintf(out, "campaign '%s': %zu sample%s checked\n\n", title, a->n_results,
-                a->n_results == 1 ? "" : "s") < 0)
+    char run[256] = ""; /* --run: one run of each sample, said as the table says it */
+    if (args.options.run) {
+        char label[200];
+        arrank_text_escape(args.options.run, label, sizeof label);
+        snprintf(run, sizeof run, "; only run '%s' of each sample (--run)", label);
+    }
+    if (fprintf(out, "campaign '%s': %zu sample%s checked%s\n\n", title, a->n_results,
+                a->n_results == 1 ? "" : "s", run) < 0)
         st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
     for (size_t i = 0; st == ARRANK_OK && i < a->n_results; i++) {
         const arrank_result *r = &a->results[i];
@@ -131,7 +180,20 @@ int cmd_check(int argc, char **argv)
         cli_session_free(&s);
         return cli_exit_status(st, &err);
     }
-    rc = cli_write_outputs(&args, &s);
+    arrank_plot_files files = {0};
+    rc = args.out_dir ? draw_figures(&args, &s, &files) : -1;
+    if (rc == -1) {
+        rc = cli_write_outputs(&args, &s); /* commits the figures with the rest */
+    } else {
+        cli_stage_abort();
+    }
+    for (size_t k = 0; rc == -1 && k < files.n; k++) { /* the figures, as plot lists them */
+        const char *slash = strrchr(files.files[k].path, '/');
+        fprintf(out, "%s/%s\n", args.out_dir, slash ? slash + 1 : files.files[k].path);
+    }
+    arrank_plot_files_clear(&files);
     cli_session_free(&s);
+    if (rc == -1 && fflush(out) != 0)
+        rc = EXIT_IO;
     return rc == -1 ? EXIT_OK : rc;
 }

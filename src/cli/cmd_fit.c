@@ -35,6 +35,9 @@ static const char usage[] =
     "  --no-merge          two files with one sample id are an error (default: one\n"
     "                      sample, each file a run; a byte-identical copy unused)\n"
     "  --errors relative|absolute   error model of the rates (default relative)\n"
+    "  --wide              on a terminal, every column of the table however wide\n"
+    "                      (by default the table fits the terminal: columns of\n"
+    "                      least priority are left out, and a line says which)\n"
     "  --model arrhenius|modified|eyring   rate law (default arrhenius)\n"
     "\n"
     "Exit status: 0 ok (at least one sample fitted; files not used are named on\n"
@@ -45,8 +48,9 @@ int cmd_fit(int argc, char **argv)
 {
     cli_args args;
     int rc = cli_parse(argc, argv,
-                       OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_DIAGNOSE | OPT_MODEL, usage,
-                       &args);
+                       OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_DIAGNOSE | OPT_MODEL |
+                           OPT_TABLE,
+                       usage, &args);
     if (rc != -1)
         return rc;
     return cli_analyse_and_print(&args, 0);

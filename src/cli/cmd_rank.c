@@ -37,6 +37,9 @@ static const char usage[] =
     "  --no-merge          two files with one sample id are an error (default: one\n"
     "                      sample, each file a run; a byte-identical copy unused)\n"
     "  --errors relative|absolute   error model of the rates (default relative)\n"
+    "  --wide              on a terminal, every column of the table however wide\n"
+    "                      (by default the table fits the terminal: columns of\n"
+    "                      least priority are left out, and a line says which)\n"
     "  --model arrhenius|modified|eyring   rate law (default arrhenius)\n"
     "  --seed N            seed of the Monte Carlo draws and the bootstrap (default 1)\n"
     "  --draws N           Monte Carlo draws for P(best) (default 10000)\n"
@@ -53,7 +56,7 @@ int cmd_rank(int argc, char **argv)
     cli_args args;
     int rc = cli_parse(argc, argv,
                        OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_BY | OPT_DIAGNOSE | OPT_MODEL |
-                           OPT_STATS,
+                           OPT_STATS | OPT_TABLE,
                        usage,
                        &args);
     if (rc != -1)

@@ -48,6 +48,7 @@ static const option_spec option_table[] = {
     {"--format", OPT_FORMAT, 1},
     {"--strict", OPT_READ, 0},
     {"--no-merge", OPT_READ, 0},
+    {"--wide", OPT_TABLE, 0},
 };
 
 /* Every message is one line on the terminal: whatever reached it from a
@@ -169,6 +170,8 @@ static int apply(cli_args *a, const char *name, const char *value)
         a->load.strict = 1;
     else if (strcmp(name, "--no-merge") == 0)
         a->load.no_merge = 1;
+    else if (strcmp(name, "--wide") == 0)
+        a->wide = 1;
     else if (strcmp(name, "--conversion-limit") == 0)
         return parse_fraction(name, value, &o->conversion_limit);
     else if (strcmp(name, "--seed") == 0) {

@@ -4,6 +4,7 @@
  * the analysis, tell which samples could not be fitted, write JSON and CSV.
  */
 #include <gsl/gsl_errno.h>
+#include <sys/ioctl.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -130,7 +131,13 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
         /* nothing could be fitted: every file and sample with its reason, then why the
            run stops */
         cli_report_unfitted(s);
-        cli_fail("no sample in '%s' could be fitted", args->campaign_dir);
+        if (args->options.run) { /* the analysis's reasons are gone with it: the first */
+            cli_print_error(&err);
+            cli_fail("no sample in '%s' could be fitted on run '%s' (--run)",
+                     args->campaign_dir, args->options.run);
+        } else {
+            cli_fail("no sample in '%s' could be fitted", args->campaign_dir);
+        }
         cli_session_free(s);
         return EXIT_DATA;
     }
@@ -270,6 +277,33 @@ int cli_write_outputs(const cli_args *args, const cli_session *s)
     return cli_stage_commit();
 }
 
+/*
+ * The table on standard output: on a terminal, fitted to its width (the
+ * window size from the terminal, else COLUMNS, else 80; --wide: no limit),
+ * coloured unless NO_COLOR is set and not empty (no-color.org) or TERM is
+ * "dumb".  Piped or redirected, the table is the same as ever, every column,
+ * for scripts (COLUMNS is not read then).
+ */
+static arrank_table_options table_options(const cli_args *args)
+{
+    arrank_table_options t = {0, 0};
+    if (!isatty(STDOUT_FILENO))
+        return t;
+    struct winsize ws;
+    const char *columns = getenv("COLUMNS");
+    if (ioctl(STDOUT_FILENO, TIOCGWINSZ, &ws) == 0 && ws.ws_col > 0)
+        t.width = ws.ws_col;
+    else if (columns && atoi(columns) > 0)
+        t.width = (size_t)atoi(columns);
+    else
+        t.width = 80;
+    if (args->wide)
+        t.width = 0;
+    const char *no_color = getenv("NO_COLOR"), *term = getenv("TERM");
+    t.colour = !(no_color && *no_color) && !(term && strcmp(term, "dumb") == 0);
+    return t;
+}
+
 int cli_analyse_and_print(cli_args *args, int need_T)
 {
     cli_session s;
@@ -286,7 +320,8 @@ int cli_analyse_and_print(cli_args *args, int need_T)
     /* JSON or CSV on stdout replaces the table there */
     int to_stdout = cli_outputs_to_stdout(args);
     if (!to_stdout) {
-        arrank_status st = arrank_output_write(s.analysis, ARRANK_OUTPUT_TABLE, stdout, &err);
+        const arrank_table_options topt = table_options(args);
+        arrank_status st = arrank_output_table(s.analysis, &topt, stdout, &err);
         if (st == ARRANK_OK && fflush(stdout) != 0)
             st = arrank_errorf(&err, ARRANK_EIO, "cannot write to standard output");
         if (st != ARRANK_OK) {

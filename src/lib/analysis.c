@@ -173,7 +173,7 @@ static void basic_flags(arrank_result *res)
     if (f->weighted && f->dof > 0 && isfinite(f->chi2_dof) &&
         arrank_stats_chi2_q(f->chi2_dof * f->dof, f->dof) < POOR_FIT_P)
         res->flags |= ARRANK_FLAG_POOR_FIT;
-    if (res->n_used < res->sample->n_points)
+    if (res->n_used < res->n_offered) /* with --run, the other runs are no part of it */
         res->flags |= ARRANK_FLAG_EXCLUDED;
 }
 
@@ -227,27 +227,90 @@ static arrank_status omitted_reasons(arrank_result *res, arrank_error *err)
 /* Everything that happens to one sample: refit, diagnose, models, flags,
    prediction.  Reads only its own sample and the campaign; writes only its
    own result.  A failure other than the sample's own is returned (ENOMEM). */
+/* Index of the run labelled label in s->runs, or -1. */
+static int run_index(const arrank_sample *s, const char *label)
+{
+    for (size_t r = 0; r < s->n_runs; r++)
+        if (strcmp(s->runs[r], label) == 0)
+            return (int)r;
+    return -1;
+}
+
+static const char *run_reason(const char *label, const arrank_result *res, size_t k, char *buf,
+                              size_t n)
+{
+    const arrank_sample *s = res->sample;
+    if (!label || k >= s->n_points)
+        return NULL;
+    int run = s->points[k].run;
+    if (run >= 0 && (size_t)run < s->n_runs && strcmp(s->runs[run], label) == 0)
+        return NULL;
+    if (run >= 0 && (size_t)run < s->n_runs)
+        snprintf(buf, n, "run '%.200s', not '%.200s' (--run)", s->runs[run], label);
+    else
+        snprintf(buf, n, "no run label, not '%.200s' (--run)", label);
+    return buf;
+}
+
+const char *arrank_analysis_run_reason(const arrank_analysis *a, const arrank_result *res,
+                                       size_t k, char *buf, size_t n)
+{
+    return run_reason(a->options.run, res, k, buf, n);
+}
+
+/* --run, a sample without the run: why, with the runs it has. */
+static void no_such_run(arrank_result *res, const char *label)
+{
+    const arrank_sample *s = res->sample;
+    char msg[600];
+    int len = snprintf(msg, sizeof msg, "has no run '%.200s' (--run)", label);
+    if (s->n_runs == 0)
+        snprintf(msg + len, sizeof msg - (size_t)len, "; its points carry no run label");
+    for (size_t r = 0; r < s->n_runs && len > 0 && (size_t)len < sizeof msg - 8; r++) {
+        int more = snprintf(msg + len, sizeof msg - (size_t)len, "%s'%.100s'",
+                            r == 0 ? "; its runs: " : ", ", s->runs[r]);
+        len = more < 0 || (size_t)more >= sizeof msg - (size_t)len ? -1 : len + more;
+    }
+    set_result_error(res, msg, s->header_line);
+}
+
 /* --run: keep only the points of the run labelled `label`; 0 (with the
    result's error set) when the sample has no such run. */
 static int keep_run(arrank_result *res, const char *label)
 {
     const arrank_sample *s = res->sample;
-    size_t r = 0;
-    while (r < s->n_runs && strcmp(s->runs[r], label) != 0)
-        r++;
-    if (r == s->n_runs) {
-        char msg[320];
-        snprintf(msg, sizeof msg, "has no run '%.200s' (--run)", label);
-        set_result_error(res, msg, s->header_line);
+    int r = run_index(s, label);
+    if (r < 0) {
+        no_such_run(res, label);
         return 0;
     }
     res->n_used = 0;
+    res->n_offered = 0;
     for (size_t i = 0; i < s->n_points; i++) {
-        if (s->points[i].run != (int)r)
+        if (s->points[i].run != r)
             res->used[i] = 0;
+        else
+            res->n_offered++;
         res->n_used += res->used[i];
     }
     return 1;
+}
+
+/* --run: the points of the other runs named as such in the diagnosis, so
+   that every list of left-out points says why (arrank_analysis_run_reason). */
+static arrank_status run_reasons(const char *label, arrank_result *res, arrank_error *err)
+{
+    arrank_diagnosis *d = res->diagnosis;
+    for (size_t i = 0; d && label && i < d->n_points; i++) {
+        char buf[512];
+        const char *why = run_reason(label, res, i, buf, sizeof buf);
+        if (!why || d->points[i].reason)
+            continue;
+        if (!(d->points[i].reason = arrank_strdup(why)))
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        d->points[i].excluded = 1;
+    }
+    return ARRANK_OK;
 }
 
 static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
@@ -260,6 +323,7 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     memset(res->used, 1, s->n_points);
     res->n_used = s->n_points;
+    res->n_offered = s->n_points;
     /* points the reader left out (arrank_point.omitted) are never fitted */
     for (size_t i = 0; s->n_omitted && i < s->n_points; i++)
         if (s->points[i].omitted) {
@@ -282,6 +346,8 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
         if (st != ARRANK_OK || res->error)
             return st;
         st = omitted_reasons(res, err);
+        if (st == ARRANK_OK)
+            st = run_reasons(opt->run, res, err);
         if (st != ARRANK_OK)
             return st;
     }

@@ -944,6 +944,11 @@ static void propose_steps(arrank_dwork *wk, size_t *base, size_t *grp, size_t *c
     /* 3. runs and repeats, drift */
     d->has_repeats =
         arrank_quality_runs(wk, base, grp, n, n_groups, in_base, label, have_line ? &lf_all : NULL);
+    /* the drift line's interval at the run's level, as every interval (the
+       figure of rate against time on stream draws it) */
+    if (d->drift.tested && d->drift.dof > 0)
+        d->drift.t_quantile = arrank_t_quantile(
+            opt->confidence > 0 && opt->confidence < 1 ? opt->confidence : 0.95, d->drift.dof);
     if (wk->nomem)
         return;
 

@@ -39,6 +39,20 @@ arrank_status arrank_output_write(const arrank_analysis *analysis, arrank_output
     return st;
 }
 
+arrank_status arrank_output_table(const arrank_analysis *analysis,
+                                  const arrank_table_options *options, FILE *stream,
+                                  arrank_error *err)
+{
+    if (!options || (options->width == 0 && !options->colour))
+        return arrank_output_write(analysis, ARRANK_OUTPUT_TABLE, stream, err);
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    arrank_status st =
+        arrank_table_write_term(analysis, options->width, options->colour != 0, stream, err);
+    arrank_numbers_c_leave(&env);
+    return st;
+}
+
 arrank_status arrank_output_save_with(const char *path,
                                       arrank_status (*writer)(FILE *, void *, arrank_error *),
                                       void *ctx, arrank_error *err)

@@ -77,6 +77,7 @@ arrank_plot_options arrank_plot_defaults(void)
     arrank_plot_options o;
     o.formats = ARRANK_PLOT_SVG;
     o.gnuplot = NULL;
+    o.kinds = 0;
     return o;
 }
 
@@ -249,10 +250,38 @@ static void id_for_file(const char *id, char *out, size_t n)
     out[len] = '\0';
 }
 
-/* The figures an analysis gives, in drawing order.  Returns the count; figs
-   has room for n_results + 3. */
-static size_t list_figures(const arrank_analysis *a, figure *figs)
+/* Room for the figures of an analysis: three for the campaign, two a sample. */
+#define MAX_FIGURES(a) (2 * (a)->n_results + 3)
+
+/* The per-sample figures of one kind, stem "<prefix>-NN[-ID]", for each
+   sample that has one; appended at figs + n.  Returns the new count. */
+static size_t list_sample_figures(const arrank_analysis *a, arrank_figure_kind kind,
+                                  const char *prefix, figure *figs, size_t n)
 {
+    int width = a->n_results >= 100 ? 3 : 2;
+    for (size_t i = 0; i < a->n_results; i++) {
+        const arrank_result *r = &a->results[i];
+        if (kind == ARRANK_FIGURE_DIAGNOSTICS ? !arrank_plot_fitted(r)
+                                              : !arrank_plot_has_time_on_stream(r))
+            continue;
+        figs[n].kind = kind;
+        figs[n].sample = i;
+        char id[48];
+        id_for_file(r->sample->id, id, sizeof id);
+        snprintf(figs[n].stem, sizeof figs[n].stem, "%s-%0*zu%s%s", prefix, width, i + 1,
+                 id[0] ? "-" : "", id);
+        n++;
+    }
+    return n;
+}
+
+/* The figures an analysis gives, in drawing order, of the kinds asked for
+   (a bit (1u << kind) each; 0: all).  Returns the count; figs has room for
+   MAX_FIGURES(a). */
+static size_t list_figures(const arrank_analysis *a, unsigned kinds, figure *figs)
+{
+    if (!kinds)
+        kinds = ~0u;
     size_t n = 0, n_fit = 0, n_pts = 0, n_pred = 0;
     for (size_t i = 0; i < a->n_results; i++) {
         const arrank_result *r = &a->results[i];
@@ -261,31 +290,22 @@ static size_t list_figures(const arrank_analysis *a, figure *figs)
         for (size_t k = 0; k < r->sample->n_points; k++)
             n_pts += arrank_plot_usable_point(&r->sample->points[k]);
     }
-    if (n_pts > 0) {
+    if (n_pts > 0 && (kinds & 1u << ARRANK_FIGURE_ARRHENIUS)) {
         figs[n] = (figure){ARRANK_FIGURE_ARRHENIUS, (size_t)-1, "arrhenius"};
         n++;
     }
-    if (n_pred > 0) {
+    if (n_pred > 0 && (kinds & 1u << ARRANK_FIGURE_RATE_AT_T)) {
         figs[n] = (figure){ARRANK_FIGURE_RATE_AT_T, (size_t)-1, "rate-at-T"};
         n++;
     }
-    if (n_fit > 0) {
+    if (n_fit > 0 && (kinds & 1u << ARRANK_FIGURE_EA_LNA)) {
         figs[n] = (figure){ARRANK_FIGURE_EA_LNA, (size_t)-1, "ea-lnA"};
         n++;
     }
-    int width = a->n_results >= 100 ? 3 : 2;
-    for (size_t i = 0; i < a->n_results; i++) {
-        const arrank_result *r = &a->results[i];
-        if (!arrank_plot_fitted(r))
-            continue;
-        figs[n].kind = ARRANK_FIGURE_DIAGNOSTICS;
-        figs[n].sample = i;
-        char id[48];
-        id_for_file(r->sample->id, id, sizeof id);
-        snprintf(figs[n].stem, sizeof figs[n].stem, "diagnostics-%0*zu%s%s", width, i + 1,
-                 id[0] ? "-" : "", id);
-        n++;
-    }
+    if (kinds & 1u << ARRANK_FIGURE_DIAGNOSTICS)
+        n = list_sample_figures(a, ARRANK_FIGURE_DIAGNOSTICS, "diagnostics", figs, n);
+    if (kinds & 1u << ARRANK_FIGURE_TIME_ON_STREAM)
+        n = list_sample_figures(a, ARRANK_FIGURE_TIME_ON_STREAM, "time-on-stream", figs, n);
     return n;
 }
 
@@ -571,6 +591,7 @@ static void put_figure(script *s, const figure *fig, unsigned format, const char
     case ARRANK_FIGURE_RATE_AT_T: arrank_plot_fig_rate_at_T(s); break;
     case ARRANK_FIGURE_EA_LNA: arrank_plot_fig_ea_lnA(s); break;
     case ARRANK_FIGURE_DIAGNOSTICS: arrank_plot_fig_diagnostics(s, fig->sample); break;
+    case ARRANK_FIGURE_TIME_ON_STREAM: arrank_plot_fig_stream(s, fig->sample); break;
     }
     fputs("unset output\n", f);
 }
@@ -622,14 +643,14 @@ static void write_script(const arrank_analysis *a, const figure *figs, const out
 static arrank_status plot_script_in_c(const arrank_analysis *a, unsigned formats, FILE *stream,
                                       arrank_error *err)
 {
-    figure *figs = malloc((a->n_results + 3) * sizeof *figs);
-    output *outs = malloc((a->n_results + 3) * N_FORMATS * sizeof *outs);
+    figure *figs = malloc(MAX_FIGURES(a) * sizeof *figs);
+    output *outs = malloc(MAX_FIGURES(a) * N_FORMATS * sizeof *outs);
     if (!figs || !outs) {
         free(figs);
         free(outs);
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     }
-    size_t n_figs = list_figures(a, figs);
+    size_t n_figs = list_figures(a, 0, figs);
     size_t n_outs = list_outputs(figs, n_figs, formats, outs);
     write_script(a, figs, outs, n_outs, NULL, stream);
     free(figs);
@@ -775,8 +796,8 @@ static arrank_status plot_write_in_c(const arrank_analysis *a, const char *out_d
     if (st != ARRANK_OK)
         return st;
 
-    figure *figs = malloc((a->n_results + 3) * sizeof *figs);
-    output *outs = malloc((a->n_results + 3) * N_FORMATS * sizeof *outs);
+    figure *figs = malloc(MAX_FIGURES(a) * sizeof *figs);
+    output *outs = malloc(MAX_FIGURES(a) * N_FORMATS * sizeof *outs);
     char *priv = join_path(out_dir, ".arrank-figures.XXXXXX");
     int have_priv = 0;
     char *text = NULL;
@@ -786,7 +807,7 @@ static arrank_status plot_write_in_c(const arrank_analysis *a, const char *out_d
         goto done;
     }
     /* Step 1: the figures and the script. */
-    size_t n_figs = list_figures(a, figs);
+    size_t n_figs = list_figures(a, opt.kinds, figs);
     if (n_figs == 0) {
         st = arrank_errorf(err, ARRANK_EDATA, "nothing to draw: no sample has a positive rate");
         goto done;

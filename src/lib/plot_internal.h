@@ -1,7 +1,8 @@
 /*
  * plot_internal.h - what the files of the plot family share (plot.c: the
  * script and the entry points; plot_figures.c: the Arrhenius, rate-at-T and
- * Ea-ln A figures; plot_diagnostics.c: the per-sample figure;
+ * Ea-ln A figures; plot_diagnostics.c: the per-sample figure; plot_stream.c:
+ * rate against time on stream;
  * plot_gnuplot.c: finding and running gnuplot).  Inside libarrank only.
  */
 #ifndef ARRANK_PLOT_INTERNAL_H
@@ -13,6 +14,7 @@
 #include "arrank/analysis.h"
 #include "arrank/error.h"
 #include "arrank/plot.h"
+#include "arrank/verdicts.h"
 
 /* 1000/T axis: the usual scaling of Arrhenius plots (common practice). */
 #define X_SCALE 1000.0
@@ -85,6 +87,14 @@ void arrank_plot_fig_arrhenius(script *s);
 void arrank_plot_fig_rate_at_T(script *s);
 void arrank_plot_fig_ea_lnA(script *s);
 void arrank_plot_fig_diagnostics(script *s, size_t i);
+/* Rate against time on stream with the diagnosis's drift fit (plot_stream.c). */
+void arrank_plot_fig_stream(script *s, size_t i);
+/* r's file has a time on stream at a usable point (a figure to draw). */
+int arrank_plot_has_time_on_stream(const arrank_result *r);
+/* ln r of the diagnosis's drift line at t_h hours on stream and its standard
+   error (the fit's covariance). */
+void arrank_plot_drift_at(const arrank_drift *dr, double t_h, double *y, double *se);
+
 /* Characters of the longest note beside a row of the rate-at-T figure. */
 size_t arrank_plot_longest_row_note(const arrank_analysis *a);
 

@@ -29,7 +29,8 @@ static const char *const columns[] = {
 /* Why point k of res is not in the fit: the reader's reason when it left the
    point out (arrank_point.omitted), else the diagnosis's, or the sample's own
    when it was not fitted at all. */
-static const char *left_out_reason(const arrank_result *res, size_t k, char *buf, size_t n)
+static const char *left_out_reason(const arrank_analysis *a, const arrank_result *res, size_t k,
+                                   char *buf, size_t n)
 {
     if (res->sample->points[k].omitted)
         return res->sample->points[k].omitted;
@@ -40,10 +41,12 @@ static const char *left_out_reason(const arrank_result *res, size_t k, char *buf
     const struct arrank_diagnosis *d = res->diagnosis;
     if (d && k < d->n_points && d->points[k].reason)
         return d->points[k].reason;
-    return "left out of the fit";
+    const char *run = arrank_analysis_run_reason(a, res, k, buf, n); /* --no-diagnose */
+    return run ? run : "left out of the fit";
 }
 
-static void write_point(const arrank_result *res, size_t k, arrank_csv_row *row)
+static void write_point(const arrank_analysis *a, const arrank_result *res, size_t k,
+                        arrank_csv_row *row)
 {
     const arrank_sample *s = res->sample;
     const arrank_point *p = &s->points[k];
@@ -70,7 +73,7 @@ static void write_point(const arrank_result *res, size_t k, arrank_csv_row *row)
     arrank_files_csv_num(row, y, 0);
     arrank_files_csv_num(row, p->rate > 0 ? log(p->rate) - y : NAN, 0);
     char buf[600];
-    arrank_files_csv_field(row, used ? "" : left_out_reason(res, k, buf, sizeof buf), 1);
+    arrank_files_csv_field(row, used ? "" : left_out_reason(a, res, k, buf, sizeof buf), 1);
 }
 
 arrank_status arrank_points_write(const arrank_analysis *a, FILE *f, arrank_error *err)
@@ -86,7 +89,7 @@ arrank_status arrank_points_write(const arrank_analysis *a, FILE *f, arrank_erro
     for (size_t i = 0; i < a->n_results; i++) {
         const arrank_result *res = &a->results[i];
         for (size_t k = 0; k < res->sample->n_points; k++)
-            write_point(res, k, row);
+            write_point(a, res, k, row);
     }
     arrank_files_csv_flush(row);
     free(row);

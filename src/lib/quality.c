@@ -218,6 +218,8 @@ static void test_drift(arrank_dwork *wk, const size_t *base, size_t n)
 {
     arrank_drift *dr = &wk->d->drift;
     dr->slope_ln_per_h = dr->slope_se = dr->t = dr->p = dr->dof = dr->span_h = dr->change = NAN;
+    dr->temp_ref_K = dr->temp_slope_K = dr->ln_rate_ref = dr->ln_rate_ref_var = NAN;
+    dr->cov_ref_slope = dr->time_min_h = dr->time_max_h = dr->t_quantile = NAN;
     size_t *sel = malloc((n ? n : 1) * sizeof *sel);
     double *th = malloc((n ? n : 1) * sizeof *th);
     if (!sel || !th) {
@@ -273,6 +275,15 @@ static void test_drift(arrank_dwork *wk, const size_t *base, size_t n)
     dr->t = dr->slope_se > 0 ? b[2] / dr->slope_se : (b[2] < 0 ? -INFINITY : INFINITY);
     dr->p = arrank_stats_t_p(dr->t, dr->dof);
     dr->change = expm1(b[2] * dr->span_h);
+    /* the fit as a whole, for the figure: z = (x - xm) / sx (regress.h) */
+    dr->n_points = m;
+    dr->temp_ref_K = 1.0 / sc.xm;
+    dr->temp_slope_K = b[1] / sc.sx;
+    dr->ln_rate_ref = b[0];
+    dr->ln_rate_ref_var = cov[0];
+    dr->cov_ref_slope = cov[2];
+    dr->time_min_h = tmin;
+    dr->time_max_h = tmax;
     if (dr->p < RUN_LEVEL && fabs(dr->change) >= ARRANK_RUN_MIN_CHANGE)
         dr->verdict = b[2] < 0 ? -1 : 1;
 done:

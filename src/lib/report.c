@@ -275,6 +275,9 @@ static const char *figure_caption(arrank_figure_kind kind)
                "its interval.  The grey band is the kinetic "
                "window the fit uses.  A local Ea that falls with temperature suggests transport "
                "limitation or another bend in the Arrhenius plot.";
+    case ARRANK_FIGURE_TIME_ON_STREAM:
+        return "Rate against time on stream, each point brought to one temperature by the "
+               "drift test's own fit, with that fit's drift line and its confidence band.";
     }
     return "";
 }
@@ -367,7 +370,7 @@ static void put_figure(FILE *f, const figure_set *fs, arrank_figure_kind kind, s
 {
     for (size_t k = 0; fs->svg && k < fs->files.n; k++) {
         const arrank_plot_file *pf = &fs->files.files[k];
-        if (pf->kind != kind || (kind == ARRANK_FIGURE_DIAGNOSTICS && pf->sample != sample) ||
+        if (pf->kind != kind || (pf->sample != (size_t)-1 && pf->sample != sample) ||
             !fs->svg[k])
             continue;
         fputs("<figure>\n", f);
@@ -854,6 +857,7 @@ static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure
         fputs("</p>\n", f);
     }
     put_figure(f, fs, ARRANK_FIGURE_DIAGNOSTICS, i);
+    put_figure(f, fs, ARRANK_FIGURE_TIME_ON_STREAM, i);
     fputs("</section>\n", f);
 }
 

@@ -8,6 +8,7 @@
  * (arrank_result.t_quantile, interval_t).
  */
 #include "table.h"
+#include "table_internal.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -24,7 +25,7 @@
 
 /* Ranked samples first, in rank order, then the others in file order.
    Returns a new array of n_results indices, or NULL when out of memory. */
-static size_t *display_order(const arrank_analysis *a)
+size_t *arrank_table_order(const arrank_analysis *a)
 {
     size_t *order = malloc((a->n_results ? a->n_results : 1) * sizeof *order);
     if (!order)
@@ -60,7 +61,7 @@ static void flags_joined(unsigned flags, char *buf, size_t n, const char *sep, c
 }
 
 /* Display width of UTF-8 text: code points, not bytes. */
-static size_t text_width(const char *s)
+size_t arrank_table_text_width(const char *s)
 {
     size_t w = 0;
     for (; *s; s++)
@@ -74,10 +75,10 @@ static size_t text_width(const char *s)
 static size_t shown_width(const char *s)
 {
     if (arrank_text_is_clean(s))
-        return text_width(s);
+        return arrank_table_text_width(s);
     char esc[4 * NAME_WIDTH_MAX + 64]; /* cut: still wider than any name column */
     arrank_text_escape(s, esc, sizeof esc);
-    return text_width(esc);
+    return arrank_table_text_width(esc);
 }
 
 /* Copy raw into buf shortened to at most width code points ("..." at the
@@ -95,7 +96,7 @@ static void fit_text(const char *raw, size_t width, char *buf, size_t n)
         arrank_text_escape(raw, esc, sizeof esc);
         s = esc;
     }
-    size_t w = text_width(s), out = 0, cps = 0, keep = w > width ? width - 3 : w;
+    size_t w = arrank_table_text_width(s), out = 0, cps = 0, keep = w > width ? width - 3 : w;
     for (const char *p = s; *p && out + 4 < n; p++) {
         unsigned char c = (unsigned char)*p;
         if ((c & 0xC0) != 0x80) {
@@ -114,7 +115,7 @@ static void fit_text(const char *raw, size_t width, char *buf, size_t n)
 
 static void pad_print(FILE *f, const char *s, size_t width, int right)
 {
-    size_t w = text_width(s);
+    size_t w = arrank_table_text_width(s);
     if (right)
         for (size_t i = w; i < width; i++)
             fputc(' ', f);
@@ -234,14 +235,14 @@ static char *put_name(char *p, const char *s, size_t width)
     }
     char name[4 * NAME_WIDTH_MAX + 8];
     fit_text(s, width, name, sizeof name);
-    size_t w = text_width(name);
+    size_t w = arrank_table_text_width(name);
     p = put_text(p, name, strlen(name));
     return w < width ? put_spaces(p, width - w) : p;
 }
 
 /* "%.<prec>f [%.<prec>f, %.<prec>f]" of v, lo and hi at p; returns the end
    (not cut: end_left cuts). */
-static char *put_interval(char *p, int prec, double v, double lo, double hi)
+char *arrank_table_put_interval(char *p, int prec, double v, double lo, double hi)
 {
     char *start = p;
     const double x[3] = {v, lo, hi};
@@ -259,13 +260,43 @@ static char *put_interval(char *p, int prec, double v, double lo, double hi)
 }
 
 /* A rate as the table shows it ("%.3g", or "-" when not finite) at p; returns the end. */
-static char *put_rate(char *p, double v)
+char *arrank_table_put_rate(char *p, double v)
 {
     if (!isfinite(v)) {
         *p = '-';
         return p + 1;
     }
     return p + arrank_format_general(p, NUM_ROOM, 3, v); /* a few bytes: never cut */
+}
+
+char *arrank_table_put_dof(char *p, const arrank_result *res)
+{
+    const double dof = res->fit.dof;
+    if (!(isfinite(dof) && dof >= 0 && dof < 1e15)) {
+        *p = '-';
+        return p + 1;
+    }
+    return p + int_text(p, (long long)dof);
+}
+
+/* The scatter about the line (fit's table): the residual standard deviation
+   of ln r in percent for an unweighted fit, sqrt(chi2/dof) for a weighted
+   one (arrank_arrhenius.resid_sd is either, fit.h), "-" when not finite. */
+char *arrank_table_put_scatter(char *p, const arrank_result *res)
+{
+    const arrank_arrhenius *fit = &res->fit;
+    const double s = fit->resid_sd;
+    if (!isfinite(s) || s > 1e6) {
+        *p = '-';
+        return p + 1;
+    }
+    if (fit->weighted) {
+        p += arrank_format_fixed(p, NUM_ROOM, 2, s);
+        return put_text(p, " sd", 3);
+    }
+    p += arrank_format_fixed(p, NUM_ROOM, 100.0 * s < 9.95 ? 1 : 0, 100.0 * s);
+    *p++ = '%';
+    return p;
 }
 
 /* The modified or transition-state parameters under the main table
@@ -316,18 +347,10 @@ static void write_model_table(const arrank_analysis *a, FILE *f)
                    "    determined alone; fix n (0 or 1) or widen the span\n");
 }
 
-/* What every row of the table needs: the layout and the analysis. */
-typedef struct {
-    const arrank_analysis *a;
-    const size_t *order;
-    size_t name_w, w_rank, w_pb, w_grp, w_n, w_T, w_ea, w_lna, w_rate, w_boot;
-    int have_T, have_stats;
-    char rate_head[160], lnA_head[160]; /* the heads of the rate and ln A columns */
-} table_ctx;
 
 /* Row k of the table (display order) appended to r. */
 /* The row's rank, P(best) and group cells, each followed by two spaces. */
-static char *put_rank_cells(const table_ctx *tc, const arrank_result *res, char *p)
+static char *put_rank_cells(const arrank_table_ctx *tc, const arrank_result *res, char *p)
 {
     char cell[CELL_MAX + 1];
     if (res->rank)
@@ -354,7 +377,7 @@ static char *put_rank_cells(const table_ctx *tc, const arrank_result *res, char 
 
 /* The row's flags cell: the flags in words (the extrapolation with how far
    the operating temperature lies outside the measured range), or "-". */
-static char *put_flags_cell(const arrank_result *res, char *p)
+char *arrank_table_put_flags(const arrank_result *res, char *p)
 {
     if (!res->flags) {
         *p++ = '-';
@@ -371,7 +394,7 @@ static char *put_flags_cell(const arrank_result *res, char *p)
     return p + strlen(p);
 }
 
-static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_flags,
+static void table_row(const arrank_table_ctx *tc, size_t k, row_buf *r, unsigned *seen_flags,
                       int *any_error)
 {
     const arrank_analysis *a = tc->a;
@@ -405,13 +428,21 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
         return;
     }
     const double t = res->t_quantile; /* the pipeline's (analysis.c) */
-    if (fit->n < res->sample->n_points) {
-        int len = snprintf(cell, sizeof cell, "%zu/%zu", fit->n, res->sample->n_points);
+    /* n of the points offered: with --run, of the run's */
+    const size_t offered = o->run ? res->n_offered : res->sample->n_points;
+    if (fit->n < offered) {
+        int len = snprintf(cell, sizeof cell, "%zu/%zu", fit->n, offered);
         p = put_right(p, cell, len < 0 ? 0 : (size_t)len, tc->w_n);
     } else {
         p = put_right(p, cell, int_text(cell, (long long)fit->n), tc->w_n);
     }
     p = put_text(p, "  ", 2);
+    if (tc->fit_stats) {
+        char *start = p;
+        size_t len = (size_t)(arrank_table_put_dof(cell, res) - cell);
+        p = put_right(start, cell, len, tc->w_dof);
+        p = put_text(p, "  ", 2);
+    }
     {
         char *start = p;
         int lo = arrank_format_fixed(p, NUM_ROOM, 0, fit->T_min_K), hi = -1;
@@ -429,19 +460,25 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
     p = put_text(p, "  ", 2);
     double ea = fit->ea_J_mol / 1e3, se = fit->ea_se_J_mol / 1e3;
     char *start = p;
-    p = end_left(start, put_interval(p, 1, ea, ea - t * se, ea + t * se), tc->w_ea);
+    p = end_left(start, arrank_table_put_interval(p, 1, ea, ea - t * se, ea + t * se), tc->w_ea);
     p = put_text(p, "  ", 2);
     start = p;
-    p = put_interval(p, 2, fit->ln_A, fit->ln_A - t * fit->ln_A_se, fit->ln_A + t * fit->ln_A_se);
+    p = arrank_table_put_interval(p, 2, fit->ln_A, fit->ln_A - t * fit->ln_A_se,
+                                  fit->ln_A + t * fit->ln_A_se);
     p = end_left(start, p, tc->w_lna);
+    if (tc->fit_stats) {
+        p = put_text(p, "  ", 2);
+        start = p;
+        p = end_left(start, arrank_table_put_scatter(p, res), tc->w_scat);
+    }
     if (tc->have_T) {
         p = put_text(p, "  ", 2);
         start = p;
-        p = put_rate(p, res->at_T.rate);
+        p = arrank_table_put_rate(p, res->at_T.rate);
         p = put_text(p, " [", 2);
-        p = put_rate(p, res->at_T.rate_lo);
+        p = arrank_table_put_rate(p, res->at_T.rate_lo);
         p = put_text(p, ", ", 2);
-        p = put_rate(p, res->at_T.rate_hi);
+        p = arrank_table_put_rate(p, res->at_T.rate_hi);
         *p++ = ']';
         p = end_left(start, p, tc->w_rate);
         if (tc->have_stats && o->bootstrap > 0) {
@@ -450,9 +487,9 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
             start = p;
             if (ss && ss->has_bootstrap) {
                 *p++ = '[';
-                p = put_rate(p, ss->rate_lo_boot);
+                p = arrank_table_put_rate(p, ss->rate_lo_boot);
                 p = put_text(p, ", ", 2);
-                p = put_rate(p, ss->rate_hi_boot);
+                p = arrank_table_put_rate(p, ss->rate_hi_boot);
                 *p++ = ']';
             } else {
                 *p++ = '-';
@@ -461,7 +498,7 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
         }
     }
     p = put_text(p, "  ", 2);
-    p = put_flags_cell(res, p);
+    p = arrank_table_put_flags(res, p);
     *p++ = '\n';
     r->n += (size_t)(p - row);
     *seen_flags |= res->flags;
@@ -481,7 +518,7 @@ static void table_row(const table_ctx *tc, size_t k, row_buf *r, unsigned *seen_
 #define TABLE_FLUSH ((size_t)1 << 16) /* one worker: write out every 64 KiB */
 
 typedef struct {
-    const table_ctx *tc;
+    const arrank_table_ctx *tc;
     size_t from, to, workers;
     row_buf rows[TABLE_MAX_WORKERS];
     unsigned seen[TABLE_MAX_WORKERS];
@@ -504,7 +541,7 @@ typedef struct {
 /* Row k of rows ..hi into r, the data of rows further on asked for first.  (The
    asking sits with the row: gcc 12 drops a call to a function that only
    prefetches, as one without effects.) */
-static void table_row_ahead(const table_ctx *tc, size_t k, size_t hi, row_buf *r,
+static void table_row_ahead(const arrank_table_ctx *tc, size_t k, size_t hi, row_buf *r,
                             unsigned *seen_flags, int *any_error)
 {
     const arrank_result *results = tc->a->results;
@@ -543,7 +580,7 @@ static void table_worker(void *ctx, size_t w)
     j->any_error[w] = any_error;
 }
 
-static arrank_status table_rows(const table_ctx *tc, FILE *f, unsigned *seen_flags,
+static arrank_status table_rows(const arrank_table_ctx *tc, FILE *f, unsigned *seen_flags,
                                 int *any_error, arrank_error *err)
 {
     const size_t n = tc->a->n_results;
@@ -611,35 +648,41 @@ static size_t name_width(const arrank_analysis *a)
 }
 
 /* The table's layout: column widths and what is shown. */
-static table_ctx table_layout(const arrank_analysis *a, const size_t *order)
+arrank_table_ctx arrank_table_layout(const arrank_analysis *a, const size_t *order)
 {
     const arrank_options *o = &a->options;
     const char *unit = a->campaign->rate_unit;
-    table_ctx tc = {.a = a, .order = order, .name_w = name_width(a), .w_rank = 4, .w_pb = 7,
-                    .w_grp = 5, .w_n = 5, .w_T = 11, .w_ea = 22, .w_boot = 26,
-                    .have_T = isfinite(o->operating_temp_K), .have_stats = a->rank_stats != NULL};
+    arrank_table_ctx tc = {.a = a, .order = order, .name_w = name_width(a), .w_rank = 4,
+                           .w_pb = 7, .w_grp = 5, .w_n = 5, .w_dof = 3, .w_T = 11, .w_ea = 22,
+                           .w_scat = 9, .w_boot = 26, .have_T = isfinite(o->operating_temp_K),
+                           .have_stats = a->rank_stats != NULL, .fit_stats = !o->rank};
     snprintf(tc.rate_head, sizeof tc.rate_head, "rate at %.2f K [%s]", o->operating_temp_K, unit);
     snprintf(tc.lnA_head, sizeof tc.lnA_head, "ln A [ln(%s)]", unit);
     const size_t w_la = 22;
-    tc.w_rate = tc.have_T ? text_width(tc.rate_head) : 0;
+    tc.w_rate = tc.have_T ? arrank_table_text_width(tc.rate_head) : 0;
     if (tc.w_rate && tc.w_rate < 26)
         tc.w_rate = 26;
-    tc.w_lna = text_width(tc.lnA_head) > w_la ? text_width(tc.lnA_head) : w_la;
+    tc.w_lna = arrank_table_text_width(tc.lnA_head) > w_la ? arrank_table_text_width(tc.lnA_head)
+                                                           : w_la;
     return tc;
 }
 
-/* The lines above the rows: campaign, operating temperature, column heads. */
-static void write_heading(const table_ctx *tc, FILE *f)
+void arrank_table_intro(const arrank_table_ctx *tc, FILE *f)
 {
     const arrank_analysis *a = tc->a;
     const arrank_campaign *c = a->campaign;
     const arrank_options *o = &a->options;
-    char title[512], unit[256]; /* from files: escaped for the terminal (text.h) */
+    char title[512], unit[256], run[256]; /* from files: escaped for the terminal (text.h) */
     arrank_text_escape(c->title ? c->title : c->name, title, sizeof title);
     arrank_text_escape(c->rate_unit, unit, sizeof unit);
-    fprintf(f, "campaign '%s': %zu sample%s, rates in %s (%s basis), %g%% intervals\n", title,
+    fprintf(f, "campaign '%s': %zu sample%s, rates in %s (%s basis), %g%% intervals", title,
             c->n_samples, c->n_samples == 1 ? "" : "s", unit,
             arrank_basis_name(c->basis), 100.0 * o->confidence);
+    if (o->run) { /* --run: one run of each sample */
+        arrank_text_escape(o->run, run, sizeof run);
+        fprintf(f, "; only run '%s' of each sample (--run)", run);
+    }
+    fputc('\n', f);
     if (tc->have_T)
         fprintf(f, "operating temperature %.2f K (%.2f degC)%s%s\n", o->operating_temp_K,
                 o->operating_temp_K - 273.15, a->n_ranked ? ", ranked by " : "",
@@ -648,6 +691,13 @@ static void write_heading(const table_ctx *tc, FILE *f)
                                                               : "rate at the operating temperature")
                             : "");
     fputc('\n', f);
+}
+
+/* The column heads of the piped table. */
+static void write_heads(const arrank_table_ctx *tc, FILE *f)
+{
+    const arrank_analysis *a = tc->a;
+    const arrank_options *o = &a->options;
     if (a->n_ranked) {
         pad_print(f, "rank", tc->w_rank, 0);
         fputs("  ", f);
@@ -662,11 +712,19 @@ static void write_heading(const table_ctx *tc, FILE *f)
     fputs("  ", f);
     pad_print(f, "n", tc->w_n, 1);
     fputs("  ", f);
+    if (tc->fit_stats) {
+        pad_print(f, "dof", tc->w_dof, 1);
+        fputs("  ", f);
+    }
     pad_print(f, "T range [K]", tc->w_T, 0);
     fputs("  ", f);
     pad_print(f, "Ea [kJ/mol]", tc->w_ea, 0);
     fputs("  ", f);
     pad_print(f, tc->lnA_head, tc->w_lna, 0);
+    if (tc->fit_stats) {
+        fputs("  ", f);
+        pad_print(f, "scatter", tc->w_scat, 0);
+    }
     if (tc->have_T) {
         fputs("  ", f);
         pad_print(f, tc->rate_head, tc->w_rate, 0);
@@ -680,8 +738,8 @@ static void write_heading(const table_ctx *tc, FILE *f)
 
 /* The lines below the rows: the flags in words, P(best) and groups, the
    compensation sentence, the model table, the caution on extrapolation. */
-static arrank_status write_footer(const table_ctx *tc, FILE *f, unsigned seen_flags,
-                                  int any_error, arrank_error *err)
+arrank_status arrank_table_footer(const arrank_table_ctx *tc, FILE *f, unsigned seen_flags,
+                                  int any_error, size_t wrap, arrank_error *err)
 {
     const arrank_analysis *a = tc->a;
     const arrank_options *o = &a->options;
@@ -690,23 +748,29 @@ static arrank_status write_footer(const table_ctx *tc, FILE *f, unsigned seen_fl
     for (unsigned bit = 1; bit && bit < (1u << ARRANK_FLAG_COUNT); bit <<= 1)
         if (seen_flags & bit)
             fprintf(f, "  %-16s %s\n", arrank_flag_name(bit), arrank_flag_words(bit));
+    if (tc->fit_stats)
+        fprintf(f, "\nscatter: residual standard deviation of ln r about the line, in %% of the "
+                   "rate;\nwith rate_sd (weighted fits) sqrt(chi2/dof), in units of the stated "
+                   "rate_sd (\"sd\"):\nabout 1 when the scatter is what rate_sd says.\n");
     if (tc->have_stats) {
         /* rank.h: what the groups mean, and the compensation verdict in words */
+        /* broken at 96 columns as piped; one line for a narrower terminal,
+           which wraps it (table_term.c) */
         fprintf(f, "\nP(best): share of %zu %s draws in which the sample ranks first. "
-                   "Samples in one group\nare not significantly different from the group's "
+                   "Samples in one group%care not significantly different from the group's "
                    "first sample (Holm, %g%%).\n",
                 a->rank_stats->draws, o->normal_draws ? "normal" : "Student-t",
-                100.0 * o->confidence);
-        /* the sentence wrapped at 96 columns, for a terminal */
+                wrap < 96 ? ' ' : '\n', 100.0 * o->confidence);
+        /* the sentence wrapped at `wrap` columns (96 piped), for a terminal */
         const char *w = a->rank_stats->compensation.sentence;
         while (*w) {
             size_t len = strlen(w), cut = len;
-            if (len > 96) {
-                cut = 96;
+            if (len > wrap) {
+                cut = wrap;
                 while (cut > 0 && w[cut] != ' ')
                     cut--;
                 if (cut == 0)
-                    cut = 96;
+                    cut = wrap;
             }
             fprintf(f, "%.*s\n", (int)cut, w);
             w += cut;
@@ -737,18 +801,19 @@ static arrank_status write_footer(const table_ctx *tc, FILE *f, unsigned seen_fl
 
 static arrank_status write_table(const arrank_analysis *a, FILE *f, arrank_error *err)
 {
-    size_t *order = display_order(a);
+    size_t *order = arrank_table_order(a);
     if (!order)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-    const table_ctx tc = table_layout(a, order);
-    write_heading(&tc, f);
+    const arrank_table_ctx tc = arrank_table_layout(a, order);
+    arrank_table_intro(&tc, f);
+    write_heads(&tc, f);
     unsigned seen_flags = 0;
     int any_error = 0;
     arrank_status rows_st = table_rows(&tc, f, &seen_flags, &any_error, err);
     free(order);
     if (rows_st != ARRANK_OK)
         return rows_st;
-    arrank_status st = write_footer(&tc, f, seen_flags, any_error, err);
+    arrank_status st = arrank_table_footer(&tc, f, seen_flags, any_error, 96, err);
     if (st != ARRANK_OK)
         return st;
     if (ferror(f))

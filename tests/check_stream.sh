@@ -1,0 +1,96 @@
+#!/bin/sh
+# check_stream.sh - the figure of rate against time on stream (README
+# "Rate against time on stream"): `plot` and `check --out` draw it for a
+# sample whose file has a time_on_stream column and for no other; check
+# writes only the per-sample figures, all or nothing, and refuses a folder
+# inside the campaign before printing anything.  Runs gnuplot.  Prints TAP.
+# Env: ARRANK (program).
+set -u
+. tests/tap.sh
+A=${ARRANK:-build/arrank}
+T=$(mktemp -d)
+trap 'rm -rf "$T"' EXIT
+C="$T/campaign"
+mkdir "$C"
+
+# An invented sample losing 1.2 %/h over 27 h on stream, its temperatures
+# up and back so that time does not follow temperature; a second without
+# the column.
+awk 'BEGIN {
+    split("500 510 520 530 540 550 560 500 520 540 560 510 530 550", T, " ")
+    print "# sample = S1 drifting"
+    print "T [K], rate [umol/(g*s)], time_on_stream [h]"
+    for (k = 1; k <= 14; k++) {
+        t = 2 * k - 1
+        printf "%s, %.6g, %.1f\n", T[k], exp(30 - 90000 / (8.314462618 * T[k]) - 0.012 * t + 0.01 * sin(2.3 * k)), t
+    }
+}' >"$C/S1.csv"
+awk 'BEGIN {
+    print "# sample = S2 no time column"
+    print "T [K], rate [umol/(g*s)]"
+    for (k = 0; k < 8; k++) {
+        T = 500 + 10 * k
+        printf "%d, %.6g\n", T, exp(29 - 88000 / (8.314462618 * T) + 0.01 * sin(1.7 * k))
+    }
+}' >"$C/S2.csv"
+
+"$A" plot "$C" --at 260C --out "$T/plot" >"$T/out" 2>"$T/err"; st=$?
+expect_eq "plot: exit 0" "$st" 0
+ok_if "plot: the figure for the sample with time_on_stream" \
+    test -s "$T/plot/time-on-stream-01-S1_drifting.svg"
+ok_if "plot: listed with the others" grep -q '/time-on-stream-01-S1_drifting.svg$' "$T/out"
+ok_if "plot: none for the sample without the column" \
+    sh -c "! ls '$T/plot' | grep -q 'time-on-stream-02'"
+ok_if "plot: the figure says the drift per hour with its interval" \
+    grep -q 'drift -1\.[0-9]* %/h (95 % interval -1\.[0-9]* to -1\.[0-9]*)' \
+    "$T/plot/time-on-stream-01-S1_drifting.svg"
+ok_if "plot: and the temperature the rates are brought to" \
+    grep -q 'rates brought to 529\.2 K (256\.1 degC)' "$T/plot/time-on-stream-01-S1_drifting.svg"
+"$A" check "$C" >"$T/check.txt" 2>/dev/null
+ok_if "check: the drift the figure draws is the one check reports" \
+    grep -q 'the rate drifts down by 2[0-9] % over 26.0 h on stream' "$T/check.txt"
+
+# check --out DIR: the per-sample figures of the checks, nothing else
+"$A" check "$C" --out "$T/chk" >"$T/out" 2>"$T/err"; st=$?
+expect_eq "check --out: exit 0" "$st" 0
+expect_eq "check --out: the diagnostics and time-on-stream figures, and only them" \
+    "$(ls "$T/chk" | tr '\n' ' ')" \
+    "diagnostics-01-S1_drifting.svg diagnostics-02-S2_no_time_column.svg time-on-stream-01-S1_drifting.svg "
+ok_if "check --out: the report first, then the files written" \
+    sh -c "head -n 1 '$T/out' | grep -q '^campaign ' && tail -n 1 '$T/out' | grep -q '^$T/chk/time-on-stream-01-S1_drifting.svg$'"
+"$A" check "$C" --out "$T/chk-png" --format png >/dev/null 2>&1
+ok_if "check --out --format png" test -s "$T/chk-png/time-on-stream-01-S1_drifting.png"
+"$A" check "$C" --out "$C/figs" >"$T/out" 2>"$T/err"; st=$?
+expect_eq "check --out inside the campaign: refused (exit 2)" "$st" 2
+ok_if "check --out inside the campaign: nothing printed, nothing made" \
+    sh -c "test ! -s '$T/out' && test ! -e '$C/figs'"
+"$A" check "$C" --json - --out "$T/chk-json" >"$T/json" 2>"$T/err"; st=$?
+expect_eq "check --json - --out: exit 0" "$st" 0
+ok_if "check --json - --out: the file list goes with the report, to stderr" \
+    sh -c "grep -q 'time-on-stream-01' '$T/err' && ! grep -q 'time-on-stream-01' '$T/json'"
+# without gnuplot: nothing written, exit 5
+ARRANK_GNUPLOT=/nonexistent/gnuplot "$A" check "$C" --out "$T/nognu" >/dev/null 2>"$T/err"
+st=$?
+expect_eq "check --out without gnuplot: exit 5" "$st" 5
+ok_if "check --out without gnuplot: no folder made" test ! -e "$T/nognu"
+
+# a sample held at one temperature: not fitted, its rates drawn as measured
+# with the reason there is no drift line
+mkdir "$T/iso"
+awk 'BEGIN {
+    print "# sample = I1 one temperature"
+    print "T [K], rate [umol/(g*s)], time_on_stream [h]"
+    for (k = 1; k <= 8; k++)
+        printf "530, %.6g, %d\n", 10 * exp(-0.02 * k), k
+}' >"$T/iso/I1.csv"
+cp "$C/S2.csv" "$T/iso/"
+"$A" check "$T/iso" --out "$T/iso-out" >/dev/null 2>&1; st=$?
+expect_eq "one temperature: check --out exit 0" "$st" 0
+ok_if "one temperature: the figure says why there is no drift line" \
+    grep -q 'rates as measured; no drift line: sample not fitted: all 8 points are at one temperature' \
+    "$T/iso-out/time-on-stream-01-I1_one_temperature.svg"
+
+# the demo has no time_on_stream column: no such figure
+"$A" plot campaigns/zeolite-ni-screen --out "$T/demo" >/dev/null 2>&1
+ok_if "demo: no time-on-stream figure" sh -c "! ls '$T/demo' | grep -q time-on-stream"
+tap_plan

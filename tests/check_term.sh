@@ -1,0 +1,130 @@
+#!/bin/sh
+# check_term.sh - the table on a terminal (README "The table on a
+# terminal"): in a terminal emulated by script(1) with stty cols 80 and 120,
+# `rank` and `fit` on the demo print no line wider than the terminal
+# (characters counted, not bytes: the table has UTF-8) and say what they left
+# out; long ids wrap rather than being cut; colour only on a terminal and
+# never with NO_COLOR; --wide shows every column; piped output keeps every
+# column, the same whatever COLUMNS says.  Prints TAP.
+# Env: ARRANK (program).
+set -u
+. tests/tap.sh
+A=${ARRANK:-build/arrank}
+T=$(mktemp -d)
+trap 'rm -rf "$T"' EXIT
+DEMO=campaigns/zeolite-ni-screen
+PY=/usr/bin/python3
+
+# on_term COLS OUT CMD...: CMD run on a terminal COLS columns wide, its
+# standard output (the terminal's, carriage returns removed) into OUT.
+on_term() {
+    cols=$1 out=$2
+    shift 2
+    # the command line for script's shell, each word quoted
+    cmd="stty cols $cols;"
+    for w in "$@"; do
+        cmd="$cmd '$w'"
+    done
+    script -qec "$cmd 2>/dev/null" /dev/null </dev/null | tr -d '\r' >"$out"
+}
+
+# widest FILE: the widest line in characters, colour sequences not counted
+widest() {
+    "$PY" - "$1" <<'PY'
+import re, sys
+text = open(sys.argv[1], encoding="utf-8").read()
+text = re.sub(r"\x1b\[[0-9;]*m", "", text)
+print(max(len(line) for line in text.split("\n")))
+PY
+}
+
+for cols in 80 120; do
+    for at in "--at 270C" ""; do
+        # shellcheck disable=SC2086
+        NO_COLOR=1 on_term "$cols" "$T/rank" "$A" rank "$DEMO" $at
+        w=$(widest "$T/rank")
+        ok_if "rank ${at:-(campaign.ini T)} on $cols columns: no line over $cols ($w)" \
+            test "$w" -le "$cols"
+        ok_if "rank ${at:-(campaign.ini T)} on $cols columns: every sample shown" \
+            test "$(grep -c '^ *[0-9-][0-9]* .*ZN-' "$T/rank")" -eq 14
+        ok_if "rank ${at:-(campaign.ini T)} on $cols columns: says what it left out" \
+            grep -q "^(left out to fit $cols columns: .*--wide" "$T/rank"
+    done
+    NO_COLOR=1 on_term "$cols" "$T/fit" "$A" fit "$DEMO"
+    w=$(widest "$T/fit")
+    ok_if "fit on $cols columns: no line over $cols ($w)" test "$w" -le "$cols"
+    ok_if "fit on $cols columns: Ea kept" grep -q 'Ea \[kJ/mol\]' "$T/fit"
+done
+# at 80 columns the rank, the id, the rate at T with its interval and the
+# flags stay; the columns of least priority go
+NO_COLOR=1 on_term 80 "$T/rank" "$A" rank "$DEMO" --at 270C
+ok_if "80 columns: rate at T with its interval kept" \
+    grep -q 'ZN-09 beta-desilicated *4\.55 \[4\.26, 4\.85\]' "$T/rank"
+ok_if "80 columns: flags kept" grep -q 'deactivation$' "$T/rank"
+ok_if "80 columns: ln A named as left out" grep -q '^(left out.*ln A' "$T/rank"
+ok_if "80 columns: the footer wrapped too (caution on two lines)" \
+    grep -q '^Caution: apparent kinetics of these samples in this window; not for reactor$' \
+    "$T/rank"
+
+# --wide: every column on the terminal, nothing said left out
+NO_COLOR=1 on_term 80 "$T/wide" "$A" rank "$DEMO" --at 270C --wide
+w=$(widest "$T/wide")
+ok_if "--wide on 80 columns: the whole table ($w columns)" test "$w" -gt 150
+ok_if "--wide: nothing left out" sh -c "! grep -q 'left out to fit' '$T/wide'"
+ok_if "--wide: ln A shown" grep -q 'ln A \[ln(umol/(g\*s))\]' "$T/wide"
+
+# piped: every column, byte for byte the same whatever COLUMNS says, no colour
+"$A" rank "$DEMO" --at 270C >"$T/piped" 2>/dev/null
+COLUMNS=40 "$A" rank "$DEMO" --at 270C >"$T/piped40" 2>/dev/null
+ok_if "piped: COLUMNS is not read" cmp -s "$T/piped" "$T/piped40"
+ok_if "piped: every column's head" \
+    grep -q '^rank  P(best)  group  sample  *n  T range \[K\]  Ea \[kJ/mol\]  *ln A \[ln(umol/(g\*s))\]  *rate at 543.15 K \[umol/(g\*s)\]  flags$' \
+    "$T/piped"
+ok_if "piped: no colour" sh -c "! grep -q \"$(printf '\033')\" '$T/piped'"
+ok_if "piped: nothing said left out" sh -c "! grep -q 'left out to fit' '$T/piped'"
+"$A" rank "$DEMO" --at 270C --wide >"$T/piped-wide" 2>/dev/null
+ok_if "piped: --wide changes nothing" cmp -s "$T/piped" "$T/piped-wide"
+
+# colour: on a terminal for the flags, never with NO_COLOR set
+on_term 120 "$T/colour" "$A" rank "$DEMO" --at 270C
+ok_if "terminal: flags in colour" grep -q "$(printf '\033')\[33mdeactivation" "$T/colour"
+NO_COLOR=1 on_term 120 "$T/nocolour" "$A" rank "$DEMO" --at 270C
+ok_if "NO_COLOR: no colour" sh -c "! grep -q \"$(printf '\033')\" '$T/nocolour'"
+ok_if "NO_COLOR: the same text otherwise" sh -c \
+    "sed 's/$(printf '\033')\[[0-9;]*m//g' '$T/colour' | cmp -s - '$T/nocolour'"
+
+# ids of 40 characters and more wrap in the id column, whole, never cut
+mkdir "$T/long"
+cp "$DEMO/ZN-01.csv" "$DEMO/ZN-02.csv" "$DEMO/ZN-03.csv" "$T/long/"
+id1="MT-REF commercial Ni reference catalyst, batch 2026-03 lot 7"
+id2="Ni/USY-steamed-800C-4h-reduced-450C-H2-then-passivated-A"
+sed -i "s|^# sample = .*|# sample = $id1|" "$T/long/ZN-01.csv"
+sed -i "s|^# sample = .*|# sample = $id2|" "$T/long/ZN-02.csv"
+NO_COLOR=1 on_term 80 "$T/longout" "$A" rank "$T/long" --at 270C
+w=$(widest "$T/longout")
+ok_if "long ids on 80 columns: no line over 80 ($w)" test "$w" -le 80
+ok_if "long ids: not cut with '...'" sh -c "! grep -q '\.\.\.' '$T/longout'"
+"$PY" - "$T/longout" "$id1" "$id2" >"$T/py" <<'PY'
+import sys
+lines = open(sys.argv[1], encoding="utf-8").read().split("\n")
+head = next(l for l in lines if l.startswith("rank"))
+col = head.index("sample")
+# the next column's head starts where the id column and its two spaces end
+nxt = col + 6
+while head[nxt] == " ":
+    nxt += 1
+for ident in sys.argv[2:]:
+    # the id column of the row that starts it and of the lines that follow
+    start = next(i for i, l in enumerate(lines) if l[col:].startswith(ident[:10]))
+    pieces = [lines[start][col:nxt].rstrip()]
+    for l in lines[start + 1:]:
+        if l[:col].strip() or not l[col:].strip():
+            break
+        pieces.append(l[col:nxt].rstrip())
+    joined = " ".join(pieces)
+    whole = joined == ident or "".join(pieces) == ident
+    print(("ok" if whole and len(pieces) > 1 else "not ok")
+          + " id of %d characters wraps onto %d lines, whole" % (len(ident), len(pieces)))
+PY
+tap_relay "$T/py"
+tap_plan
