@@ -35,14 +35,20 @@ enum {
     OPT_MODEL = 1u << 6,      /* --errors, --model */
     OPT_OUT_DIR = 1u << 7,    /* --out DIR */
     OPT_FORMAT = 1u << 8,     /* --format svg|png|pdf (repeatable) */
-    OPT_READ = 1u << 9        /* --strict, --no-merge: every command that reads a campaign */
+    OPT_READ = 1u << 9,       /* --strict, --no-merge: every command that reads a campaign */
+    OPT_REFERENCE = 1u << 10, /* --reference ID */
+    OPT_MULTI = 1u << 11      /* several campaign folders (not an option: a permission) */
 };
+
+#define CLI_MAX_CAMPAIGNS 64
 
 #define CLI_MAX_FORMATS 8
 
 typedef struct {
     const char *command;
-    const char *campaign_dir;
+    const char *campaign_dir;  /* the first (or only) campaign folder */
+    const char *campaign_dirs[CLI_MAX_CAMPAIGNS]; /* every folder given, in order */
+    size_t n_campaigns;
     const char *at_text;      /* --at as written, NULL if not given */
     const char *json_path;    /* NULL if not asked */
     const char *csv_path;
@@ -168,5 +174,6 @@ int cmd_rank(int argc, char **argv);
 int cmd_check(int argc, char **argv);
 int cmd_plot(int argc, char **argv);
 int cmd_report(int argc, char **argv);
+int cmd_compare(int argc, char **argv);
 
 #endif

@@ -11,6 +11,7 @@
 #include <time.h>
 #include <unistd.h>
 
+#include "arrank/batches.h"
 #include "arrank/output.h"
 #include "cli.h"
 
@@ -56,6 +57,26 @@ static void end_progress(progress_state *ps)
     }
 }
 
+/* The campaign folder, or several read one by one and merged (arrank/batches.h). */
+static arrank_status load_campaigns(const cli_args *args, cli_session *s, progress_state *ps,
+                                    arrank_error *err)
+{
+    if (args->n_campaigns <= 1)
+        return arrank_campaign_load_with(args->campaign_dir, s->units, &args->load,
+                                         ps ? show_progress : NULL, ps, &s->campaign, err);
+    arrank_campaign *parts[CLI_MAX_CAMPAIGNS] = {NULL};
+    arrank_status st = ARRANK_OK;
+    for (size_t k = 0; k < args->n_campaigns && st == ARRANK_OK; k++)
+        st = arrank_campaign_load_with(args->campaign_dirs[k], s->units, &args->load,
+                                       ps ? show_progress : NULL, ps, &parts[k], err);
+    if (st != ARRANK_OK) {
+        for (size_t k = 0; k < args->n_campaigns; k++)
+            arrank_campaign_free(parts[k]);
+        return st;
+    }
+    return arrank_batches_merge(parts, args->n_campaigns, s->units, &s->campaign, err);
+}
+
 int cli_session_open(cli_args *args, int need_T, cli_session *s)
 {
     memset(s, 0, sizeof *s);
@@ -90,9 +111,7 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
         clock_gettime(CLOCK_MONOTONIC, &ps_store.start);
         ps = &ps_store;
     }
-    arrank_status st = arrank_campaign_load_with(args->campaign_dir, s->units, &args->load,
-                                                 ps ? show_progress : NULL, ps, &s->campaign,
-                                                 &err);
+    arrank_status st = load_campaigns(args, s, ps, &err);
     end_progress(ps);
     if (st != ARRANK_OK) {
         cli_print_error(&err);
@@ -101,7 +120,7 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
     }
     if (!args->at_text)
         at_K = s->campaign->operating_temp_K;
-    if (need_T && !isfinite(at_K) && args->options.by == ARRANK_BY_RATE) {
+    if (need_T && !isfinite(at_K) && arrank_by_needs_T(args->options.by)) {
         cli_fail("no operating temperature: give one with --at (e.g. --at 250C) or set "
                  "operating_temperature in %s/campaign.ini", args->campaign_dir);
         cli_session_free(s);

@@ -18,6 +18,7 @@
 #include "analysis_internal.h"
 #include "analysis_models.h"
 #include "analysis_rank.h"
+#include "analysis_reference.h"
 #include "arrank/screen.h"
 #include "util.h"
 #include "stats.h"
@@ -183,8 +184,13 @@ static double rank_key(const arrank_result *res, arrank_rank_by by)
     switch (by) {
     case ARRANK_BY_EA: return -res->fit.ea_J_mol;
     case ARRANK_BY_PREFACTOR: return res->fit.ln_A;
-    case ARRANK_BY_RATE: break;
+    case ARRANK_BY_RATE:
+    case ARRANK_BY_RATIO: break;
     }
+    /* by ratio: the pooled key of several campaigns (analysis_reference.c),
+       else the rate's (the same order within one campaign) */
+    if (res->stats && res->stats->has_key && by == ARRANK_BY_RATIO)
+        return res->stats->key;
     return res->at_T.ln_rate;
 }
 
@@ -302,7 +308,7 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
             res->flags |= ARRANK_FLAG_EXTRAPOLATED;
     }
     /* the ranking's per-sample part while the sample is in this core's cache */
-    if (opt->rank && (isfinite(opt->operating_temp_K) || opt->by != ARRANK_BY_RATE))
+    if (opt->rank && (isfinite(opt->operating_temp_K) || !arrank_by_needs_T(opt->by)))
         return arrank_analysis_rank_prepare(res, opt, err);
     return ARRANK_OK;
 }
@@ -439,14 +445,20 @@ static arrank_status analysis_run_in_c(const arrank_campaign *campaign,
 
     /* A rate ranking far outside every sample's measured range is a guess,
        not a measurement: refuse it unless the caller lifted the limit. */
-    if (want_T && opt.by == ARRANK_BY_RATE) {
+    if (want_T && arrank_by_needs_T(opt.by)) {
         st = check_extrapolation(a, n_fitted, opt.max_extrapolation_K, err);
         if (st != ARRANK_OK)
             goto fail;
     }
 
+    /* analysis_reference.c: every sample against the reference; with several
+       campaigns the pooled keys (the references leave the ranking) */
+    st = arrank_analysis_reference(a, a->order, &n_fitted, &opt.by, err);
+    if (st != ARRANK_OK)
+        goto fail;
+
     /* Rank the fitted samples; ranking by rate needs an operating temperature. */
-    if (opt.rank && (want_T || opt.by != ARRANK_BY_RATE)) {
+    if (opt.rank && (want_T || !arrank_by_needs_T(opt.by))) {
         a->n_ranked = n_fitted;
         rank_item *items = malloc(n_fitted * sizeof *items);
         if (!items) {
@@ -501,6 +513,7 @@ void arrank_analysis_free(arrank_analysis *a)
         arrank_sample_stats_free(a->results[i].stats);
     }
     arrank_rank_stats_free(a->rank_stats);
+    arrank_reference_stats_free(a->reference);
     free(a->results);
     free(a->order);
     free(a);

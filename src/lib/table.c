@@ -645,6 +645,7 @@ static void write_heading(const table_ctx *tc, FILE *f)
                 o->operating_temp_K - 273.15, a->n_ranked ? ", ranked by " : "",
                 a->n_ranked ? (o->by == ARRANK_BY_EA ? "lowest Ea"
                                : o->by == ARRANK_BY_PREFACTOR ? "highest pre-exponential factor"
+                               : o->by == ARRANK_BY_RATIO ? "rate as a ratio to the reference's"
                                                               : "rate at the operating temperature")
                             : "");
     fputc('\n', f);
