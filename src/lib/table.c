@@ -356,6 +356,14 @@ static char *put_rank_cells(const table_ctx *tc, const arrank_result *res, char 
    the operating temperature lies outside the measured range), or "-". */
 static char *put_flags_cell(const arrank_result *res, char *p)
 {
+    if (res->stats && res->stats->is_reference) { /* the reference catalyst's row */
+        memcpy(p, "REFERENCE", 9);
+        p += 9;
+        if (!res->flags)
+            return p;
+        *p++ = ',';
+        *p++ = ' ';
+    }
     if (!res->flags) {
         *p++ = '-';
         return p;
