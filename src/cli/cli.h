@@ -58,6 +58,8 @@ typedef struct {
     const char *formats[CLI_MAX_FORMATS];
     size_t n_formats;
     int confidence_given;
+    int at_K_set;             /* compare: the second campaign takes the first's T */
+    double at_K;
     int by_given;
     arrank_options options;
     arrank_load_options load; /* --strict, --no-merge */

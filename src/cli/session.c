@@ -119,7 +119,7 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
         return cli_exit_status(st, &err);
     }
     if (!args->at_text)
-        at_K = s->campaign->operating_temp_K;
+        at_K = args->at_K_set ? args->at_K : s->campaign->operating_temp_K;
     if (need_T && !isfinite(at_K) && arrank_by_needs_T(args->options.by)) {
         cli_fail("no operating temperature: give one with --at (e.g. --at 250C) or set "
                  "operating_temperature in %s/campaign.ini", args->campaign_dir);
@@ -132,7 +132,9 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
 
     /* only a ranking is refused far outside every sample's range: fit and
        check show each sample's own extrapolation, flagged */
-    if (strcmp(args->command, "fit") == 0 || strcmp(args->command, "check") == 0)
+    if (strcmp(args->command, "fit") == 0 || strcmp(args->command, "check") == 0 ||
+        (strcmp(args->command, "compare") == 0 &&
+         args->options.max_extrapolation_K == INFINITY))
         args->options.max_extrapolation_K = INFINITY;
     /* fit shows each sample's parameters in file order; rank orders them */
     if (strcmp(args->command, "fit") == 0)
