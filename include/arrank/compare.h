@@ -52,43 +52,14 @@ typedef struct {
     size_t n_only_a, n_only_b;
 } arrank_comparison;
 
-/*
- * Compare b against a.  Both analyses must have the same operating
- * temperature (EINVAL otherwise, or when it is missing) and confidence; their
- * report units must convert (units: the unit database; EDATA for rates of
- * different dimensions).  A campaign with two samples of one id cannot be
- * matched (EDATA).  *out is owned by the caller (arrank_compare_free).
- */
-arrank_status arrank_compare_run(const arrank_analysis *a, const arrank_analysis *b,
-                                 arrank_units *units, arrank_comparison **out,
-                                 arrank_error *err);
-
-void arrank_compare_free(arrank_comparison *comparison);
-
-/* The writers (compare_out.c). */
 typedef enum {
     ARRANK_COMPARE_TABLE = 0, /* for people: one row per matched sample, verdicts, unmatched */
     ARRANK_COMPARE_JSON = 1,  /* README "compare JSON" */
     ARRANK_COMPARE_CSV = 2    /* one row per matched sample */
 } arrank_compare_format;
 
-arrank_status arrank_compare_write(const arrank_comparison *comparison,
-                                   arrank_compare_format format, FILE *stream,
-                                   arrank_error *err);
-
-/*
- * The paired figure (plot_compare.c): one line per compared sample from its
- * rate at T in A to its rate in B, on a log rate axis, with both intervals;
- * the changed ones drawn solid, the others dashed.  Written as
- * DIR/compare.EXT for each format (ARRANK_PLOT_* of arrank/plot.h; 0: SVG)
- * through gnuplot (program NULL: ARRANK_GNUPLOT, else PATH).  ENOGNUPLOT,
- * EPLOT, EIO.
- */
-arrank_status arrank_compare_plot(const arrank_comparison *comparison, const char *dir,
-                                  unsigned formats, const char *program, arrank_error *err);
-
-/* The gnuplot script of that figure, for tests (no gnuplot needed). */
-arrank_status arrank_compare_plot_script(const arrank_comparison *comparison, unsigned formats,
-                                         FILE *stream, arrank_error *err);
+/* The functions: arrank/analysis_compare.h (the comparison),
+   arrank/compare_out.h (table, JSON, CSV), arrank/plot_compare.h (the
+   paired figure).  This header holds the types only. */
 
 #endif

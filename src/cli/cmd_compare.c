@@ -7,7 +7,9 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "arrank/compare.h"
+#include "arrank/analysis_compare.h"
+#include "arrank/compare_out.h"
+#include "arrank/plot_compare.h"
 #include "arrank/plot.h"
 #include "cli.h"
 

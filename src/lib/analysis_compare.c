@@ -3,7 +3,7 @@
  * (arrank/compare.h): matching by id, the Welch contrasts of contrast.c on
  * ln r(T) and Ea, Holm's correction of groups.c across the samples.
  */
-#include "arrank/compare.h"
+#include "arrank/analysis_compare.h"
 
 #include <math.h>
 #include <stdint.h>

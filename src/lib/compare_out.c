@@ -3,7 +3,7 @@
  * (arrank/compare.h).  The numbers are the pipeline's (analysis_compare.c);
  * the writers only print them.
  */
-#include "arrank/compare.h"
+#include "arrank/compare_out.h"
 
 #include <jansson.h>
 #include <math.h>

@@ -5,7 +5,7 @@
  * changed (after Holm) solid, the others dashed.  Kept apart from the
  * campaign figures (plot.c and the files beside it) on purpose.
  */
-#include "arrank/compare.h"
+#include "arrank/plot_compare.h"
 
 #include <dirent.h>
 #include <errno.h>

@@ -1,0 +1,20 @@
+/*
+ * arrank/compare_out.h - a comparison (arrank/compare.h) as a table for people, JSON and CSV.
+ */
+#ifndef ARRANK_COMPARE_OUT_H
+#define ARRANK_COMPARE_OUT_H
+
+#include <stdio.h>
+
+#include "arrank/analysis.h"
+#include "arrank/compare.h"
+#include "arrank/error.h"
+#include "arrank/units.h"
+
+/* The writers (compare_out.c). */
+
+arrank_status arrank_compare_write(const arrank_comparison *comparison,
+                                   arrank_compare_format format, FILE *stream,
+                                   arrank_error *err);
+
+#endif
