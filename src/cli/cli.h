@@ -146,6 +146,9 @@ unsigned cli_plot_formats(const cli_args *args);
  * destination (-1 or an exit status, printed).
  */
 void cli_stage_begin(const arrank_campaign *campaign);
+/* Several campaigns in one run: dir, another campaign folder, is refused as
+   a destination too (for the rest of the process). */
+void cli_stage_guard_also(const char *dir);
 
 /* The file in an output folder that names the campaign its outputs belong to
    (the campaign folder's absolute path, one line). */

@@ -51,20 +51,8 @@ static int write_outputs(const cli_args *args, const cli_session *sa, const cli_
         arrank_compare_format format;
     } out[] = {{args->json_path, ARRANK_COMPARE_JSON}, {args->csv_path, ARRANK_COMPARE_CSV}};
     /* neither campaign folder nor any input is ever written */
-    for (size_t i = 0; i < 2; i++) {
-        if (!out[i].path || strcmp(out[i].path, "-") == 0)
-            continue;
-        cli_stage_begin(sb->campaign);
-        int rc = cli_stage_check(out[i].path, 0);
-        if (rc != -1)
-            return rc;
-    }
-    if (args->out_dir) {
-        cli_stage_begin(sb->campaign);
-        int rc = cli_stage_check(args->out_dir, 1);
-        if (rc != -1)
-            return rc;
-    }
+    (void)sb;
+    cli_stage_guard_also(args->campaign_dirs[1]);
     cli_stage_begin(sa->campaign);
     arrank_error err;
     arrank_error_clear(&err);
@@ -120,8 +108,8 @@ static int write_outputs(const cli_args *args, const cli_session *sa, const cli_
 static int open_both(cli_args *args, cli_session *sa, cli_session *sb)
 {
     const char *dirs[2] = {args->campaign_dirs[0], args->campaign_dirs[1]};
-    args->n_campaigns = 1;
     args->campaign_dir = dirs[0];
+    args->n_campaigns = 1; /* each opened on its own */
     int rc = cli_session_open(args, 1, sa);
     if (rc != -1)
         return rc;
@@ -137,6 +125,7 @@ static int open_both(cli_args *args, cli_session *sa, cli_session *sb)
         return rc;
     }
     cli_report_unfitted(sb);
+    args->n_campaigns = 2;
     return -1;
 }
 

@@ -66,6 +66,8 @@ static arrank_status load_campaigns(const cli_args *args, cli_session *s, progre
                                          ps ? show_progress : NULL, ps, &s->campaign, err);
     arrank_campaign *parts[CLI_MAX_CAMPAIGNS] = {NULL};
     arrank_status st = ARRANK_OK;
+    for (size_t k = 0; k < args->n_campaigns; k++) /* no output lands in any of them */
+        cli_stage_guard_also(args->campaign_dirs[k]);
     for (size_t k = 0; k < args->n_campaigns && st == ARRANK_OK; k++)
         st = arrank_campaign_load_with(args->campaign_dirs[k], s->units, &args->load,
                                        ps ? show_progress : NULL, ps, &parts[k], err);
