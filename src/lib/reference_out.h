@@ -17,4 +17,8 @@
 arrank_status arrank_reference_table_write(const arrank_analysis *a, FILE *f,
                                            arrank_error *err);
 
+/* The report's section on the reference (report.c puts it first): the same
+   numbers as the table's block, in HTML.  Nothing without a reference. */
+void arrank_reference_html_write(const arrank_analysis *a, FILE *f);
+
 #endif

@@ -26,6 +26,7 @@
 #define _XOPEN_SOURCE 700
 
 #include "arrank/report.h"
+#include "reference_out.h"
 
 #include <dirent.h>
 #include <errno.h>
@@ -995,6 +996,7 @@ static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_opti
         html_text(f, fs->message);
         fputs(".</p>\n", f);
     }
+    arrank_reference_html_write(a, f); /* the reference leads (reference_out.c) */
     fputs("<h2>Ranking</h2>\n", f);
     put_ranking(f, a);
     put_figure(f, fs, ARRANK_FIGURE_RATE_AT_T, (size_t)-1);
