@@ -368,6 +368,32 @@ static arrank_status analyse_all(arrank_analysis *a, const arrank_options *opt,
                                "fitting samples", err);
 }
 
+/* The fitted results a->order[0..n_fitted) in rank order, their ranks, and
+   the ranking statistics (analysis_rank.c: P(best), groups, compensation,
+   bootstrap). */
+static arrank_status rank_fitted(arrank_analysis *a, const arrank_options *opt, size_t n_fitted,
+                                 arrank_error *err)
+{
+    a->n_ranked = n_fitted;
+    rank_item *items = malloc(n_fitted * sizeof *items);
+    if (!items)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    for (size_t k = 0; k < n_fitted; k++) {
+        const arrank_result *res = &a->results[a->order[k]];
+        items[k] = (rank_item){rank_key(res, opt->by), res->sample->id, a->order[k]};
+    }
+    qsort(items, n_fitted, sizeof *items, compare_rank);
+    for (size_t k = 0; k < n_fitted; k++)
+        a->order[k] = items[k].index;
+    free(items);
+    for (size_t k = 0; k < a->n_ranked; k++)
+        a->results[a->order[k]].rank = (int)(k + 1);
+    /* analysis_rank.c: P(best), groups, compensation, bootstrap */
+    if (opt->progress)
+        opt->progress(opt->progress_ctx, "ranking samples", 0, 1);
+    return arrank_analysis_rank_compute(a, err);
+}
+
 static arrank_status analysis_run_in_c(const arrank_campaign *campaign,
                                        const arrank_options *options, arrank_analysis **out,
                                        arrank_error *err)
@@ -459,26 +485,7 @@ static arrank_status analysis_run_in_c(const arrank_campaign *campaign,
 
     /* Rank the fitted samples; ranking by rate needs an operating temperature. */
     if (opt.rank && (want_T || !arrank_by_needs_T(opt.by))) {
-        a->n_ranked = n_fitted;
-        rank_item *items = malloc(n_fitted * sizeof *items);
-        if (!items) {
-            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-            goto fail;
-        }
-        for (size_t k = 0; k < n_fitted; k++) {
-            const arrank_result *res = &a->results[a->order[k]];
-            items[k] = (rank_item){rank_key(res, opt.by), res->sample->id, a->order[k]};
-        }
-        qsort(items, n_fitted, sizeof *items, compare_rank);
-        for (size_t k = 0; k < n_fitted; k++)
-            a->order[k] = items[k].index;
-        free(items);
-        for (size_t k = 0; k < a->n_ranked; k++)
-            a->results[a->order[k]].rank = (int)(k + 1);
-        /* analysis_rank.c: P(best), groups, compensation, bootstrap */
-        if (opt.progress)
-            opt.progress(opt.progress_ctx, "ranking samples", 0, 1);
-        st = arrank_analysis_rank_compute(a, err);
+        st = rank_fitted(a, &opt, n_fitted, err);
         if (st != ARRANK_OK)
             goto fail;
     }
