@@ -154,6 +154,29 @@ def check_compare(doc, ranked):
     report(sorted(doc["unmatched"]) == ["Q4", "Z9"], "unmatched ids listed")
 
 
+def check_compare_reference(doc, fa, fb):
+    """compare --reference: (r_B/ref_B)/(r_A/ref_A), the four variances summed,
+    Welch-Satterthwaite over four terms, SciPy's t."""
+    report(doc["reference"] == "REF", "compare against the reference: named")
+    for r in doc["samples"]:
+        if r["id"] == "REF":
+            report(not r["compared"] and r["ratio_measured"] is not None,
+                   "compare: the reference itself not compared, its drift shown")
+            continue
+        parts = [(fb[r["id"]], 1), (fb["REF"], -1), (fa[r["id"]], -1), (fa["REF"], 1)]
+        d = sum(sign * math.log(s["rate_at_T"]) for s, sign in parts)
+        v = [s["ln_rate_at_T_se"] ** 2 for s, _ in parts]
+        dof = sum(v) ** 2 / sum(vi ** 2 / s["dof"] for vi, (s, _) in zip(v, parts))
+        se = math.sqrt(sum(v))
+        t = stats.t.ppf(0.5 + doc["confidence"] / 2.0, dof)
+        close(r["ratio"], math.exp(d), "compare --reference %s ratio" % r["id"])
+        close(r["ratio_ci"][1], math.exp(d + t * se), "compare --reference %s ratio high"
+              % r["id"])
+        close(r["ratio_dof"], dof, "compare --reference %s Welch dof, four terms" % r["id"])
+        close(r["p"], float(2.0 * stats.t.sf(abs(d / se), dof)),
+              "compare --reference %s p (SciPy t.sf)" % r["id"])
+
+
 def main():
     if not os.access(ARRANK, os.X_OK):
         print("1..1")
@@ -179,6 +202,8 @@ def main():
                       "_a_n": sa["n_used"], "_b_ea": sb["ea_kJ_mol"],
                       "_b_ea_se": sb["ea_kJ_mol_se"], "_b_n": sb["n_used"]})
         check_compare(cmp_doc, ranked)
+        check_compare_reference(run(["compare", a, b, "--reference", "REF", "--json", "-"]),
+                                fa, fb)
     print("1..%d" % len(results))
     for i, (ok, what) in enumerate(results, 1):
         print("%s %d - %s" % ("ok" if ok else "not ok", i, what))

@@ -10,7 +10,9 @@
  * two-sided test of no change; the verdicts `changed` (the rate) and
  * `ea_changed` are taken after Holm's correction across the compared
  * samples (each quantity its own family), at 1 - confidence.  Ids found in
- * one campaign only are listed as unmatched.
+ * one campaign only are listed as unmatched.  When both analyses were run
+ * with one reference catalyst, the rates are first taken relative to each
+ * campaign's reference (the rig's drift corrected).
  */
 #ifndef ARRANK_COMPARE_H
 #define ARRANK_COMPARE_H
@@ -34,6 +36,7 @@ typedef struct {
     double rate_a, rate_b;     /* rates at T in A's report unit */
     arrank_contrast ln_ratio;  /* ln r_B(T) - ln r_A(T) */
     double ratio, ratio_lo, ratio_hi; /* exp of the above */
+    double ratio_measured;     /* r_B(T) / r_A(T) as measured (= ratio without a reference) */
     arrank_contrast ea;        /* Ea_B - Ea_A [J/mol] */
     double p_holm, ea_p_holm;  /* Holm-adjusted p-values */
     int changed, ea_changed;   /* 1: the change is significant after Holm */
@@ -44,6 +47,12 @@ typedef struct {
     double temp_K;                /* the operating temperature both were evaluated at */
     double confidence;
     double b_to_a;                /* factor from B's report unit to A's */
+    /* the reference catalyst both analyses were run with (the same id), or
+       NULL: the rates compared as measured.  With it, each rate is first
+       taken relative to its own campaign's reference, and the ratio B/A is
+       (r_B/ref_B) / (r_A/ref_A), its variance the sum of the four (Welch
+       over four terms); the reference itself is not compared. */
+    const char *reference;
     arrank_compare_row *rows;     /* [n_rows] in A's sample order */
     size_t n_rows;
     size_t n_tests;               /* rows compared: the size of each Holm family */

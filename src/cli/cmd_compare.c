@@ -33,6 +33,10 @@ static const char usage[] =
     "                      sample from A to B, log rate axis) with compare.json and\n"
     "                      compare.csv beside it\n"
     "  --format svg|png|pdf  figure format, repeatable (default svg)\n"
+    "  --reference ID      a reference catalyst tested in both: each rate is first\n"
+    "                      taken relative to its own campaign's reference (the\n"
+    "                      rig's drift corrected); default: as measured, unless\n"
+    "                      both campaign.ini name the same reference\n"
     "  --confidence C      two-sided level of every interval and the tests' level\n"
     "                      (default CAMP_A's campaign.ini, else 0.95)\n"
     "  --use-all, --drop-outliers, --conversion-limit X, --no-diagnose, --run LABEL,\n"
@@ -133,7 +137,7 @@ int cmd_compare(int argc, char **argv)
 {
     cli_args args;
     int rc = cli_parse(argc, argv,
-                       OPT_MULTI | OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_DIAGNOSE |
+                       OPT_MULTI | OPT_REFERENCE | OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_DIAGNOSE |
                            OPT_MODEL | OPT_OUT_DIR | OPT_FORMAT,
                        usage, &args);
     if (rc != -1)

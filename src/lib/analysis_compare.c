@@ -71,11 +71,22 @@ static arrank_status compare_one(arrank_comparison *c, arrank_compare_row *row,
     const arrank_contrast none = {NAN, NAN, NAN, NAN, NAN, NAN, NAN, NAN};
     row->ln_ratio = row->ea = none;
     row->rate_a = row->rate_b = row->ratio = row->ratio_lo = row->ratio_hi = NAN;
+    row->ratio_measured = NAN;
     row->p_holm = row->ea_p_holm = NAN;
+    const int is_ref = c->reference && ra->stats && ra->stats->is_reference;
+    const int no_ratio = c->reference && !(ra->stats && ra->stats->has_ratio && rb->stats &&
+                                           rb->stats->has_ratio);
     const char *why = ra->error ? "not fitted in the first campaign"
                       : rb->error ? "not fitted in the second campaign"
                       : !ra->has_prediction || !rb->has_prediction ? "no rate at T"
-                                                                     : NULL;
+                      : is_ref ? "the reference: each rate is taken relative to it"
+                      : no_ratio ? "no ratio to the reference"
+                                 : NULL;
+    if (!ra->error && !rb->error && ra->has_prediction && rb->has_prediction) {
+        row->rate_a = ra->at_T.rate;
+        row->rate_b = rb->at_T.rate * c->b_to_a;
+        row->ratio_measured = row->rate_b / row->rate_a;
+    }
     if (why) {
         if (!(row->why_not = arrank_strdup(why)))
             return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
@@ -83,11 +94,19 @@ static arrank_status compare_one(arrank_comparison *c, arrank_compare_row *row,
     }
     row->compared = 1;
     const double shift = log(c->b_to_a); /* B's rates in A's unit */
-    row->rate_a = ra->at_T.rate;
-    row->rate_b = rb->at_T.rate * c->b_to_a;
-    row->ln_ratio = arrank_contrast_diff(rb->at_T.ln_rate + shift, rb->at_T.ln_rate_se,
-                                         rb->interval_dof, ra->at_T.ln_rate,
-                                         ra->at_T.ln_rate_se, ra->interval_dof, c->confidence);
+    if (c->reference) {
+        /* each against its own campaign's reference (analysis_reference.c),
+           then B's ratio against A's: Welch-Satterthwaite over the four
+           variances, as the sum of each side's (contrast.h) */
+        const arrank_contrast *xa = &ra->stats->ratio, *xb = &rb->stats->ratio;
+        row->ln_ratio = arrank_contrast_diff(xb->est, xb->se, xb->dof, xa->est, xa->se,
+                                             xa->dof, c->confidence);
+    } else {
+        row->ln_ratio = arrank_contrast_diff(rb->at_T.ln_rate + shift, rb->at_T.ln_rate_se,
+                                             rb->interval_dof, ra->at_T.ln_rate,
+                                             ra->at_T.ln_rate_se, ra->interval_dof,
+                                             c->confidence);
+    }
     row->ratio = exp(row->ln_ratio.est);
     row->ratio_lo = exp(row->ln_ratio.lo);
     row->ratio_hi = exp(row->ln_ratio.hi);
@@ -195,6 +214,8 @@ arrank_status arrank_compare_run(const arrank_analysis *a, const arrank_analysis
     c->temp_K = Ta;
     c->confidence = a->options.confidence;
     c->b_to_a = b_to_a;
+    if (a->reference && b->reference && strcmp(a->reference->id, b->reference->id) == 0)
+        c->reference = a->reference->id;
     id_index *va = NULL, *vb = NULL;
     arrank_status st = sorted_ids(a, &va, err);
     if (st == ARRANK_OK)

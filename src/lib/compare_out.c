@@ -38,7 +38,11 @@ static void table_row(const arrank_comparison *c, const arrank_compare_row *r, i
     char name[NAME_SHOWN + 8];
     shown(r->id, name, sizeof name);
     if (!r->compared) {
-        fprintf(f, "%-*s  not compared: %s\n", w, name, r->why_not);
+        if (isfinite(r->ratio_measured)) /* the reference: its rates as measured */
+            fprintf(f, "%-*s  %-10.3g  %-10.3g  %-24.3g %-7s  not compared: %s\n", w, name,
+                    r->rate_a, r->rate_b, r->ratio_measured, "", r->why_not);
+        else
+            fprintf(f, "%-*s  not compared: %s\n", w, name, r->why_not);
         return;
     }
     (void)c;
@@ -76,8 +80,15 @@ static arrank_status write_table(const arrank_comparison *c, FILE *f)
     arrank_text_escape(A->rate_unit, unit, sizeof unit);
     fprintf(f, "compare '%s' (A) with '%s' (B): %zu sample%s in both, %g%% intervals\n", na, nb,
             c->n_rows, c->n_rows == 1 ? "" : "s", 100.0 * c->confidence);
-    fprintf(f, "operating temperature %.2f K (%.2f degC); rates in %s\n\n", c->temp_K,
+    fprintf(f, "operating temperature %.2f K (%.2f degC); rates in %s\n", c->temp_K,
             c->temp_K - 273.15, unit);
+    if (c->reference) {
+        char ref[NAME_SHOWN + 8];
+        shown(c->reference, ref, sizeof ref);
+        fprintf(f, "B / A: each rate first taken relative to its own campaign's reference %s "
+                   "(the rig's drift corrected); rate A and rate B as measured\n", ref);
+    }
+    fputc('\n', f);
     int w = 6;
     for (size_t i = 0; i < c->n_rows; i++) {
         char name[NAME_SHOWN + 8];
@@ -132,6 +143,7 @@ static json_t *row_json(const arrank_compare_row *r)
     json_object_set_new(o, "ratio", num(r->ratio));
     json_object_set_new(o, "ratio_ci", pair(r->ratio_lo, r->ratio_hi, 1.0));
     json_object_set_new(o, "ratio_dof", num(r->ln_ratio.dof));
+    json_object_set_new(o, "ratio_measured", num(r->ratio_measured));
     json_object_set_new(o, "p", num(r->ln_ratio.p));
     json_object_set_new(o, "p_holm", num(r->p_holm));
     json_object_set_new(o, "changed", r->compared ? json_boolean(r->changed) : json_null());
@@ -157,6 +169,8 @@ static arrank_status write_json(const arrank_comparison *c, FILE *f, arrank_erro
     json_object_set_new(root, "operating_temperature_K", num(c->temp_K));
     json_object_set_new(root, "rate_unit", json_string(c->a->campaign->rate_unit));
     json_object_set_new(root, "confidence", num(c->confidence));
+    json_object_set_new(root, "reference", c->reference ? json_string(c->reference)
+                                                        : json_null());
     json_object_set_new(root, "holm_tests", json_integer((json_int_t)c->n_tests));
     json_object_set_new(root, "test",
                         json_string("two-sided Welch t tests of ln r_B(T) - ln r_A(T) and of "
@@ -192,7 +206,7 @@ static arrank_status write_csv(const arrank_comparison *c, FILE *f, arrank_error
     snprintf(h[0], sizeof h[0], "rate_at_T_a [%s]", u);
     snprintf(h[1], sizeof h[1], "rate_at_T_b [%s]", u);
     const char *cols[] = {"id", "compared", "why_not", h[0], h[1], "ratio", "ratio_ci_low",
-                          "ratio_ci_high", "p", "p_holm", "changed", "ea_change [kJ/mol]",
+                          "ratio_ci_high", "ratio_measured", "p", "p_holm", "changed", "ea_change [kJ/mol]",
                           "ea_change_ci_low [kJ/mol]", "ea_change_ci_high [kJ/mol]", "ea_p",
                           "ea_p_holm", "ea_changed", "T_op [K]", "confidence"};
     const size_t nc = sizeof cols / sizeof *cols;
@@ -203,8 +217,8 @@ static arrank_status write_csv(const arrank_comparison *c, FILE *f, arrank_error
         arrank_files_csv_field(row, r->id, 0);
         arrank_files_csv_field(row, r->compared ? "1" : "0", 0);
         arrank_files_csv_field(row, r->why_not ? r->why_not : "", 0);
-        const double v[] = {r->rate_a, r->rate_b, r->ratio, r->ratio_lo, r->ratio_hi,
-                            r->ln_ratio.p, r->p_holm};
+        const double v[] = {r->rate_a, r->rate_b,     r->ratio,         r->ratio_lo,
+                            r->ratio_hi, r->ratio_measured, r->ln_ratio.p, r->p_holm};
         for (size_t k = 0; k < sizeof v / sizeof *v; k++)
             arrank_files_csv_num(row, v[k], 0);
         arrank_files_csv_field(row, !r->compared ? "" : r->changed ? "1" : "0", 0);
