@@ -180,8 +180,9 @@ static arrank_status write_json(const arrank_comparison *c, FILE *f, arrank_erro
     for (size_t i = 0; rows && i < c->n_rows; i++)
         json_array_append_new(rows, row_json(&c->rows[i]));
     json_object_set_new(root, "samples", rows);
-    json_t *un = ids_json(c->only_a, c->n_only_a);
-    json_array_extend(un, ids_json(c->only_b, c->n_only_b));
+    json_t *un = ids_json(c->only_a, c->n_only_a), *un_b = ids_json(c->only_b, c->n_only_b);
+    json_array_extend(un, un_b); /* copies: un_b is still ours */
+    json_decref(un_b);
     json_object_set_new(root, "unmatched", un);
     json_object_set_new(root, "unmatched_a", ids_json(c->only_a, c->n_only_a));
     json_object_set_new(root, "unmatched_b", ids_json(c->only_b, c->n_only_b));
