@@ -30,7 +30,8 @@ static const char usage[] =
     "  --json FILE|-       the comparison as JSON ('-' for standard output)\n"
     "  --csv FILE|-        the comparison as CSV, one row per matched sample\n"
     "  --out DIR           also draw the paired figure DIR/compare.EXT (one line per\n"
-    "                      sample from A to B, log rate axis) with compare.json and\n"
+    "                      sample from A to B, log rate axis) with compare.html (the\n"
+    "                      report: table and figure on one page), compare.json and\n"
     "                      compare.csv beside it\n"
     "  --format svg|png|pdf  figure format, repeatable (default svg)\n"
     "  --reference ID      a reference catalyst tested in both: each rate is first\n"
@@ -99,6 +100,16 @@ static int write_outputs(const cli_args *args, const cli_session *sa, const cli_
             }
         }
         arrank_status st = arrank_compare_plot(cmp, priv, cli_plot_formats(args), NULL, &err);
+        /* the report page, with the SVG inline when one was drawn */
+        char svg[4200];
+        snprintf(svg, sizeof svg, "%s/compare.svg", priv);
+        snprintf(path, sizeof path, "%s/compare.html", priv);
+        FILE *f = st == ARRANK_OK ? fopen(path, "w") : NULL;
+        if (st == ARRANK_OK)
+            st = f ? arrank_compare_html_write(cmp, svg, f, &err)
+                   : arrank_errorf(&err, ARRANK_EIO, "cannot write '%s'", path);
+        if (f && fclose(f) != 0 && st == ARRANK_OK)
+            st = arrank_errorf(&err, ARRANK_EIO, "cannot write '%s'", path);
         if (st != ARRANK_OK) {
             cli_print_error(&err);
             cli_stage_abort();

@@ -236,6 +236,133 @@ static arrank_status write_csv(const arrank_comparison *c, FILE *f, arrank_error
     return ferror(f) ? arrank_errorf(err, ARRANK_EIO, "write failed") : ARRANK_OK;
 }
 
+/* ---- the report page ------------------------------------------------------ */
+
+static void html(FILE *f, const char *text)
+{
+    for (const unsigned char *s = (const unsigned char *)(text ? text : ""); *s; s++) {
+        if (*s == '&')
+            fputs("&amp;", f);
+        else if (*s == '<')
+            fputs("&lt;", f);
+        else if (*s == '>')
+            fputs("&gt;", f);
+        else if (*s == '"')
+            fputs("&quot;", f);
+        else if (*s >= 0x20 && *s != 0x7F)
+            fputc(*s, f);
+    }
+}
+
+static void html_ids(FILE *f, const char *campaign, const char *const *ids, size_t n)
+{
+    if (!n)
+        return;
+    fputs("<p>Only in <code>", f);
+    html(f, campaign);
+    fputs("</code>: ", f);
+    for (size_t i = 0; i < n; i++) {
+        fputs(i ? ", " : "", f);
+        html(f, ids[i]);
+    }
+    fputs(".</p>\n", f);
+}
+
+static void html_row(const arrank_compare_row *r, FILE *f)
+{
+    fputs("<tr><td>", f);
+    html(f, r->id);
+    fprintf(f, "</td><td>%.3g</td><td>%.3g</td>", r->rate_a, r->rate_b);
+    if (!r->compared) {
+        fputs("<td colspan=\"4\">not compared: ", f);
+        html(f, r->why_not);
+        fputs("</td></tr>\n", f);
+        return;
+    }
+    fprintf(f, "<td>%.3g [%.3g, %.3g]</td><td>%s</td><td>%+.1f [%+.1f, %+.1f]</td><td>%s</td>"
+               "</tr>\n",
+            r->ratio, r->ratio_lo, r->ratio_hi, r->changed ? "<strong>changed</strong>" : "-",
+            r->ea.est / 1e3, r->ea.lo / 1e3, r->ea.hi / 1e3,
+            r->ea_changed ? "<strong>changed</strong>" : "-");
+}
+
+/* The paired figure, inline: the SVG file's text from its <svg element on. */
+static void inline_svg(FILE *f, const char *svg_path)
+{
+    FILE *in = svg_path ? fopen(svg_path, "r") : NULL;
+    if (!in)
+        return;
+    char buf[8192];
+    size_t n;
+    int started = 0;
+    fputs("<figure>", f);
+    while ((n = fread(buf, 1, sizeof buf - 1, in)) > 0) {
+        buf[n] = '\0';
+        const char *from = buf;
+        if (!started) {
+            const char *at = strstr(buf, "<svg");
+            if (!at)
+                continue; /* the XML declaration and doctype, before it */
+            from = at;
+            started = 1;
+        }
+        fwrite(from, 1, n - (size_t)(from - buf), f);
+    }
+    fclose(in);
+    fputs("<figcaption>One line per sample from its rate at T in A to its rate in B, both "
+          "intervals; solid: changed after Holm's correction.</figcaption></figure>\n", f);
+}
+
+static arrank_status write_html(const arrank_comparison *c, const char *svg_path, FILE *f,
+                                arrank_error *err)
+{
+    const arrank_campaign *A = c->a->campaign, *B = c->b->campaign;
+    fputs("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<title>",
+          f);
+    html(f, A->name);
+    fputs(" and ", f);
+    html(f, B->name);
+    fputs(" compared &ndash; arrank</title>\n<style>body{font-family:sans-serif;max-width:"
+          "60em;margin:2em auto}table{border-collapse:collapse}td,th{padding:.2em .6em;"
+          "border-bottom:1px solid #ddd;text-align:left}svg{max-width:100%;height:auto}"
+          ".caution{border:1px solid #b00;padding:.5em}</style>\n</head>\n<body>\n"
+          "<h1>Comparison of two campaigns</h1>\n<p>A: <code>", f);
+    html(f, A->name);
+    fputs("</code>, B: <code>", f);
+    html(f, B->name);
+    fprintf(f, "</code>; rates at %.2f K in ", c->temp_K);
+    html(f, A->rate_unit);
+    fprintf(f, "; %g %% intervals (independent fits, Welch degrees of freedom); verdicts "
+               "after Holm's correction across the %zu compared samples.", 100 * c->confidence,
+            c->n_tests);
+    if (c->reference) {
+        fputs(" B/A: each rate first taken relative to its own campaign's reference <code>", f);
+        html(f, c->reference);
+        fputs("</code>.", f);
+    }
+    fprintf(f, "</p>\n<p class=\"caution\">Caution: %s.</p>\n", ARRANK_CAUTION_APPARENT);
+    fputs("<table>\n<tr><th>sample</th><th>rate A</th><th>rate B</th><th>B / A</th>"
+          "<th>verdict</th><th>Ea B &minus; A [kJ/mol]</th><th>verdict</th></tr>\n", f);
+    for (size_t i = 0; i < c->n_rows; i++)
+        html_row(&c->rows[i], f);
+    fputs("</table>\n", f);
+    html_ids(f, A->name, c->only_a, c->n_only_a);
+    html_ids(f, B->name, c->only_b, c->n_only_b);
+    inline_svg(f, svg_path);
+    fputs("</body>\n</html>\n", f);
+    return ferror(f) ? arrank_errorf(err, ARRANK_EIO, "write failed") : ARRANK_OK;
+}
+
+arrank_status arrank_compare_html_write(const arrank_comparison *c, const char *svg_path,
+                                        FILE *f, arrank_error *err)
+{
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    arrank_status st = write_html(c, svg_path, f, err);
+    arrank_numbers_c_leave(&env);
+    return st;
+}
+
 arrank_status arrank_compare_write(const arrank_comparison *c, arrank_compare_format format,
                                    FILE *f, arrank_error *err)
 {

@@ -15,6 +15,7 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
+#include "arrank/analysis_stats.h"
 #include "arrank/cautions.h"
 #include "arrank/plot.h"
 #include "number.h"
@@ -24,6 +25,26 @@ static const struct {
     unsigned bit;
     const char *ext;
 } formats_known[] = {{ARRANK_PLOT_SVG, "svg"}, {ARRANK_PLOT_PNG, "png"}, {ARRANK_PLOT_PDF, "pdf"}};
+
+/* One end of a row's line: its rate at T in campaign b (0: A, 1: B), in A's
+   unit, with its interval; with a reference, its ratio to its campaign's
+   reference instead (analysis_stats.h), the quantity the verdict is on. */
+static void row_end(const arrank_comparison *c, const arrank_compare_row *r, int b, double *y,
+                    double *lo, double *hi)
+{
+    const arrank_result *res = b ? &c->b->results[r->result_b] : &c->a->results[r->result_a];
+    if (c->reference && res->stats) {
+        const arrank_contrast *x = &res->stats->ratio;
+        *y = exp(x->est);
+        *lo = exp(x->lo);
+        *hi = exp(x->hi);
+        return;
+    }
+    const double s = b ? c->b_to_a : 1.0;
+    *y = s * res->at_T.rate;
+    *lo = s * res->at_T.rate_lo;
+    *hi = s * res->at_T.rate_hi;
+}
 
 /* The rows' data: $changed and $same (segments A -> B, one blank line apart,
    with the intervals), $labels (the id at B).  Returns the rows drawn; the
@@ -39,12 +60,11 @@ static size_t put_blocks(FILE *f, const arrank_comparison *c, double *lo, double
             const arrank_compare_row *r = &c->rows[i];
             if (!r->compared || r->changed != changed)
                 continue;
-            const arrank_prediction *pa = &c->a->results[r->result_a].at_T;
-            const arrank_prediction *pb = &c->b->results[r->result_b].at_T;
-            const double s = c->b_to_a;
-            fprintf(f, "0 %.10g %.10g %.10g\n1 %.10g %.10g %.10g\n\n", pa->rate, pa->rate_lo,
-                    pa->rate_hi, s * pb->rate, s * pb->rate_lo, s * pb->rate_hi);
-            const double v[] = {pa->rate_lo, pa->rate_hi, s * pb->rate_lo, s * pb->rate_hi};
+            double ya, la, ha, yb, lb, hb;
+            row_end(c, r, 0, &ya, &la, &ha);
+            row_end(c, r, 1, &yb, &lb, &hb);
+            fprintf(f, "0 %.10g %.10g %.10g\n1 %.10g %.10g %.10g\n\n", ya, la, ha, yb, lb, hb);
+            const double v[] = {la, ha, lb, hb};
             for (size_t k = 0; k < 4; k++)
                 if (isfinite(v[k]) && v[k] > 0) {
                     *lo = fmin(*lo, v[k]);
@@ -64,13 +84,17 @@ static void put_plot(FILE *f, const arrank_comparison *c, double lo, double hi, 
           "set logscale y\nset xrange [-0.25:1.6]\nunset label\n",
           f);
     fprintf(f, "set yrange [%.10g:%.10g]\n", lo / 1.25, hi * 1.25);
-    /* tics at 1, 2 and 5 times each power of ten in the range (common practice) */
+    /* tics at 1, 2 and 5 times each power of ten in the range, more within
+       less than a decade (common practice) */
+    static const double wide[] = {1, 2, 5}, narrow[] = {1, 1.2, 1.5, 2, 2.5, 3, 4, 5, 6, 8};
+    const int few = hi / lo > 8.0;
+    const double *m = few ? wide : narrow;
+    const size_t n_m = few ? 3 : sizeof narrow / sizeof *narrow;
     fputs("set ytics (", f);
     int first = 1;
     for (double d = pow(10.0, floor(log10(lo / 1.25))); d <= hi * 1.25 * 10; d *= 10.0)
-        for (int m = 0; m < 3; m++) {
-            const double v = d * (m == 0 ? 1.0 : m == 1 ? 2.0 : 5.0);
-            /* 1, 2, 5 */
+        for (size_t k = 0; k < n_m; k++) {
+            const double v = d * m[k];
             if (v < lo / 1.25 || v > hi * 1.25)
                 continue;
             fprintf(f, "%s\"%g\" %.10g", first ? "" : ", ", v, v);
@@ -83,9 +107,11 @@ static void put_plot(FILE *f, const arrank_comparison *c, double lo, double hi, 
         const arrank_compare_row *r = &c->rows[i];
         if (!r->compared)
             continue;
+        double yb, lb, hb;
+        row_end(c, r, 1, &yb, &lb, &hb);
         fprintf(f, "set label %d ", tag++);
         arrank_plot_put_q(f, r->id);
-        fprintf(f, " at first 1.04, first %.10g left\n", r->rate_b);
+        fprintf(f, " at first 1.04, first %.10g left\n", yb);
     }
     fputs("set xtics (", f);
     arrank_plot_put_q_tic(f, c->a->campaign->name);
@@ -93,10 +119,17 @@ static void put_plot(FILE *f, const arrank_comparison *c, double lo, double hi, 
     arrank_plot_put_q_tic(f, c->b->campaign->name);
     fputs(" 1)\n", f);
     fputs("set ylabel ", f);
-    arrank_plot_put_qf(f, "rate at %.1f K [%s] (log scale)", c->temp_K, c->a->campaign->rate_unit);
+    if (c->reference)
+        arrank_plot_put_qf(f, "rate at %.1f K / the reference's in its campaign (log scale)",
+                           c->temp_K);
+    else
+        arrank_plot_put_qf(f, "rate at %.1f K [%s] (log scale)", c->temp_K,
+                           c->a->campaign->rate_unit);
     fputs("\nset title ", f);
-    arrank_plot_put_qf(f, "%s -> %s: rate at T per sample; solid: changed (Holm, %g %%)",
-                       c->a->campaign->name, c->b->campaign->name,
+    arrank_plot_put_qf(f, "%s -> %s", c->a->campaign->name, c->b->campaign->name);
+    fputs(" . \"\\n\" . ", f); /* two lines: gnuplot's own string concatenation */
+    arrank_plot_put_qf(f, "%s per sample; solid: changed (Holm, %g %%)",
+                       c->reference ? "rate at T over the reference's" : "rate at T",
                        100.0 * (1.0 - c->confidence));
     fputs("\nset label 1 ", f);
     arrank_plot_put_q(f, ARRANK_CAUTION_APPARENT);
