@@ -12,16 +12,40 @@
 
 #include "util.h"
 
-/* 1 when id is a sample id of some part other than `part`. */
-static int id_elsewhere(arrank_campaign *const *parts, size_t n, size_t part, const char *id)
+/* A sample's id, its part and its place in the merged order, for the sort
+   that finds the ids that collide (n log n, not every pair). */
+typedef struct {
+    const char *id;
+    size_t part, at;
+} id_entry;
+
+static int by_id(const void *x, const void *y)
 {
-    for (size_t k = 0; k < n; k++) {
-        if (k == part)
-            continue;
-        for (size_t i = 0; i < parts[k]->n_samples; i++)
-            if (strcmp(parts[k]->samples[i].id, id) == 0)
-                return 1;
+    const id_entry *a = x, *b = y;
+    int c = strcmp(a->id, b->id);
+    return c ? c : a->part < b->part ? -1 : a->part > b->part;
+}
+
+/* collides[at] = 1 for each sample whose id another part also has. */
+static int find_collisions(arrank_campaign **parts, size_t n, size_t total,
+                           unsigned char *collides)
+{
+    id_entry *v = malloc((total ? total : 1) * sizeof *v);
+    if (!v)
+        return -1;
+    size_t at = 0;
+    for (size_t k = 0; k < n; k++)
+        for (size_t i = 0; i < parts[k]->n_samples; i++, at++)
+            v[at] = (id_entry){parts[k]->samples[i].id, k, at};
+    qsort(v, total, sizeof *v, by_id);
+    for (size_t lo = 0, hi; lo < total; lo = hi) {
+        for (hi = lo + 1; hi < total && strcmp(v[hi].id, v[lo].id) == 0;)
+            hi++;
+        if (v[hi - 1].part != v[lo].part) /* sorted by part within an id */
+            for (size_t j = lo; j < hi; j++)
+                collides[v[j].at] = 1;
     }
+    free(v);
     return 0;
 }
 
@@ -103,11 +127,10 @@ static arrank_status move_samples(arrank_campaign **parts, size_t n, arrank_camp
         total += parts[k]->n_samples;
     /* which ids collide, before any sample moves */
     unsigned char *collides = calloc(total ? total : 1, 1);
-    if (!collides)
+    if (!collides || find_collisions(parts, n, total, collides) != 0) {
+        free(collides);
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-    for (size_t k = 0, at = 0; k < n; k++)
-        for (size_t i = 0; i < parts[k]->n_samples; i++)
-            collides[at++] = (unsigned char)id_elsewhere(parts, n, k, parts[k]->samples[i].id);
+    }
     arrank_status st = move_each(parts, n, m, collides, total, notes_cap, &unused_cap, err);
     free(collides);
     return st;
