@@ -3,7 +3,8 @@
 #   make            build libarrank.a and the arrank program
 #   make test       install missing dependencies, build, run the whole suite
 #   make demo       install missing dependencies, build, rank the demo campaign,
-#                   draw its figures and write its report into plots/<campaign>/
+#                   draw its figures and write its report into plots/<campaign>/;
+#                   rank it with its second batch and compare the two
 #   make check      build and run the suite (no dependency step)
 #   make check-layers  every module calls and includes only down (DEVELOPERS.md)
 #   make test-asan  the suite under AddressSanitizer + UndefinedBehaviorSanitizer
@@ -46,6 +47,7 @@ LIB        := $(BUILD)/libarrank.a
 ARRANK     := $(BUILD)/arrank
 
 DEMO       := campaigns/zeolite-ni-screen
+DEMO2      := campaigns/zeolite-ni-batch2
 
 .PHONY: all deps test check check-layers demo demo-data test-asan test-valgrind fuzz fuzz-build \
         bench clean install
@@ -74,10 +76,16 @@ demo-run: all
 	$(ARRANK) plot $(DEMO) --out plots/$(notdir $(DEMO))
 	SOURCE_DATE_EPOCH="$${SOURCE_DATE_EPOCH:-$$(git log -1 --format=%ct -- $(DEMO) \
 	    2>/dev/null)}" $(ARRANK) report $(DEMO) --out plots/$(notdir $(DEMO))
+	@echo "== the second batch ranked with the first: each rate against its own batch's reference"
+	$(ARRANK) rank $(DEMO) $(DEMO2) --json plots/$(notdir $(DEMO2))/merged.json \
+	    --csv plots/$(notdir $(DEMO2))/merged.csv
+	@echo "== the samples tested in both batches, compared against the reference tested in both"
+	$(ARRANK) compare $(DEMO) $(DEMO2) --reference 'ZN-01 H-beta' --out plots/$(notdir $(DEMO2))
 
 # Regenerate the demo campaign from its stated true parameters.
 demo-data: $(BUILD)/tools/gen_demo
 	$(BUILD)/tools/gen_demo $(DEMO)
+	$(BUILD)/tools/gen_demo --batch2 $(DEMO2)
 
 test-asan:
 	@LSAN_OPTIONS=suppressions=$(CURDIR)/tests/fuzz/lsan.supp ARRANK_SANITIZED=1 \

@@ -1,7 +1,8 @@
 #!/bin/sh
 # valgrind.sh ARRANK DEMO - the program under valgrind's memcheck: `rank` and
 # `fit` on the demo campaign (with JSON and CSV written), and a campaign with
-# a bad file (the error path).  Fails on any memcheck error or definite leak
+# a bad file (the error path); with a reference, with the demo's second batch
+# merged, and `compare` of the two.  Fails on any memcheck error or definite leak
 # (status 99 from valgrind), and on an unexpected exit status of the program.
 set -u
 A=$1
@@ -42,5 +43,11 @@ run 0 rank "$T/bad" --at 250C --json "$T/b.json"
 # all or nothing: the first bad file stops the run
 run 1 rank "$T/bad" --at 250C --strict
 run 2 rank "$DEMO" --at 250
+# the reference, two campaigns merged and compared (the demo's second batch beside it)
+B2="$(dirname "$DEMO")/zeolite-ni-batch2"
+run 0 rank "$DEMO" --reference 'ZN-01 H-beta' --json "$T/ref.json" --csv "$T/ref.csv"
+run 0 rank "$DEMO" "$B2" --json "$T/m.json"
+run 0 compare "$DEMO" "$B2" --reference 'ZN-01 H-beta' --json "$T/c.json" --csv "$T/c.csv"
+run 2 rank "$DEMO" --reference NOPE
 [ "$fail" -eq 0 ] && echo "valgrind: no errors, no definite leaks"
 exit "$fail"

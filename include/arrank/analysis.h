@@ -21,6 +21,7 @@
 struct arrank_diagnosis;
 struct arrank_sample_stats;
 struct arrank_rank_stats;
+struct arrank_reference_stats;
 
 /* Sample flags: a bit each; names and plain words from arrank_flag_name/_words. */
 enum {
@@ -77,6 +78,14 @@ typedef struct {
        with this label (arrank_sample.runs), and a sample without such a run
        is listed as not fitted, with that reason */
     const char *run;
+    /* NULL (default): the campaign's reference (campaign.ini `reference`), if
+       any; else the id of the reference catalyst (borrowed): every sample's
+       rate at T as a ratio to it, P(better than it), its Ea difference
+       (analysis_stats.h); with several campaigns (arrank/batches.h), each
+       sample against its own campaign's reference, the pooled ranking on
+       those ratios, and the reference's rate per campaign compared.  A
+       reference that is no sample, or cannot be fitted, is EINVAL/EDATA. */
+    const char *reference;
     /* ranking statistics (analysis_stats.h) */
     arrank_error_model errors;
     arrank_model model;
@@ -140,6 +149,8 @@ typedef struct {
     size_t n_ranked;
     struct arrank_rank_stats *rank_stats; /* analysis_stats.h: P(best), groups, compensation;
                                              may be NULL */
+    struct arrank_reference_stats *reference; /* analysis_stats.h: the reference catalyst per
+                                                 campaign; NULL without a reference */
 } arrank_analysis;
 
 /*

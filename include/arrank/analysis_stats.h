@@ -11,6 +11,7 @@
 #include <stddef.h>
 
 #include "arrank/compensation.h"
+#include "arrank/contrast.h"
 #include "arrank/groups.h"
 #include "arrank/models.h"
 #include "arrank/pbest.h"
@@ -37,6 +38,41 @@ struct arrank_sample_stats {
        sample's share of the compensation's harmonic-mean temperature */
     double inv_T_sum_per_K;
     size_t n_T;
+    /* Against the reference catalyst of its campaign (options.reference):
+       valid when has_reference.  is_reference marks the reference itself
+       (ratio 1, no interval).  ratio: ln r_i(T) - ln r_ref(T) (ln of the
+       ratio; valid when the sample has a rate at T), ea_diff: Ea_i - Ea_ref
+       [J/mol], each with its Welch interval (contrast.h); p_better: P(better
+       than the reference) on the ranking key (the rate at T, or lower Ea,
+       or higher ln A). */
+    int has_reference;
+    int is_reference;
+    int has_ratio;
+    arrank_contrast ratio;
+    arrank_contrast ea_diff;
+    double p_better;
+};
+
+/* The reference catalyst in one campaign of the run. */
+typedef struct {
+    const char *campaign;   /* its name (borrowed from the campaign) */
+    size_t result;          /* the reference's result index; SIZE_MAX when it has none */
+    int has_rate;           /* 1 when the reference has a rate at T */
+    double ln_rate, ln_rate_se, dof; /* ln r_ref(T) (ln of the report unit) */
+    double rate, rate_lo, rate_hi;   /* report unit, the interval at the run's level */
+    arrank_contrast to_first;        /* ln r_ref here - ln r_ref in the first campaign */
+} arrank_reference_campaign;
+
+/* The reference catalyst of the run (arrank_analysis.reference). */
+struct arrank_reference_stats {
+    const char *id;                  /* the reference's id in each campaign (borrowed) */
+    size_t n_campaigns;
+    arrank_reference_campaign *campaigns; /* [n_campaigns] */
+    /* several campaigns: Welch's test that the reference's ln r(T) is the same
+       in all (contrast.h); has_equal 0 with one campaign or without rates */
+    int has_equal;
+    arrank_contrast_equal equal;
+    int pooled;                      /* 1: the ranking keys are the ratios (several campaigns) */
 };
 
 /* Campaign-level statistics; arrank_analysis.rank_stats points at one. */
@@ -59,5 +95,6 @@ struct arrank_rank_stats {
 /* Free what arrank_analysis_run allocated for them (NULL is fine). */
 void arrank_rank_stats_free(struct arrank_rank_stats *stats);
 void arrank_sample_stats_free(struct arrank_sample_stats *stats);
+void arrank_reference_stats_free(struct arrank_reference_stats *stats);
 
 #endif

@@ -47,7 +47,22 @@ typedef struct {
        samples with `skipped` set. */
     char **unused;
     size_t n_unused;
+    char *reference;            /* campaign.ini reference: the reference catalyst's sample id;
+                                   NULL if unset */
+    /* Several campaigns read as one (arrank/batches.h); n_parts 0 and the
+       three arrays NULL for a campaign read from one folder. */
+    size_t n_parts;
+    char **part_names;          /* [n_parts] each campaign's name (its folder's base name) */
+    size_t *part_of;            /* [n_samples] the campaign each sample came from */
+    char **part_ids;            /* [n_samples] each sample's id in its own campaign (the id
+                                   above is "campaign/ID" where ids collide) */
 } arrank_campaign;
+
+/* The campaign (0-based part) sample i came from: 0 for a single campaign. */
+size_t arrank_campaign_part(const arrank_campaign *campaign, size_t i);
+
+/* Sample i's id in its own campaign (its id, for a single campaign). */
+const char *arrank_campaign_own_id(const arrank_campaign *campaign, size_t i);
 
 /* How a folder is read (arrank_campaign_load_with). */
 typedef struct {

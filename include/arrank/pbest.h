@@ -23,8 +23,17 @@
 typedef enum {
     ARRANK_BY_RATE = 0,      /* highest rate at the operating temperature */
     ARRANK_BY_EA = 1,        /* lowest apparent activation energy */
-    ARRANK_BY_PREFACTOR = 2  /* highest pre-exponential factor */
+    ARRANK_BY_PREFACTOR = 2, /* highest pre-exponential factor */
+    ARRANK_BY_RATIO = 3      /* highest rate at the operating temperature as a ratio to the
+                                reference catalyst's (analysis.h options.reference); the
+                                same order as the rate within one campaign */
 } arrank_rank_by;
+
+/* 1 when ranking by `by` needs an operating temperature (rate, ratio). */
+static inline int arrank_by_needs_T(arrank_rank_by by)
+{
+    return by == ARRANK_BY_RATE || by == ARRANK_BY_RATIO;
+}
 
 /* A sample's ranking key as the Monte Carlo draws it: mean + se T, T ~ t
    with dof degrees of freedom (INFINITY: normal).  The key is ln r at the
@@ -36,7 +45,8 @@ typedef struct {
 } arrank_pbest_key;
 
 /* The key of a plain Arrhenius fit by `by` (temp_K, in kelvin, is used for
-   ARRANK_BY_RATE only); normal_draws 1: dof INFINITY. */
+   ARRANK_BY_RATE and ARRANK_BY_RATIO, whose key here is the rate's);
+   normal_draws 1: dof INFINITY. */
 arrank_pbest_key arrank_pbest_key_arrhenius(const arrank_arrhenius *fit, arrank_rank_by by,
                                             double temp_K, int normal_draws);
 

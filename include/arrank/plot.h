@@ -134,6 +134,12 @@ const char *arrank_plot_color(size_t i);
  */
 int arrank_plot_point_type(size_t i, int hollow);
 
+/* The look of sample i of an analysis in every figure: arrank_plot_color
+   and arrank_plot_point_type, except the reference catalyst's
+   (analysis_stats.h is_reference), drawn black with a pentagon of its own. */
+const char *arrank_plot_sample_color(const arrank_analysis *a, size_t i);
+int arrank_plot_sample_point_type(const arrank_analysis *a, size_t i, int hollow);
+
 /*
  * Find the gnuplot program that arrank_plot_write would run (see options).
  * On success *path is a new absolute path owned by the caller (free).

@@ -36,14 +36,20 @@ enum {
     OPT_OUT_DIR = 1u << 7,    /* --out DIR */
     OPT_FORMAT = 1u << 8,     /* --format svg|png|pdf (repeatable) */
     OPT_READ = 1u << 9,       /* --strict, --no-merge: every command that reads a campaign */
-    OPT_TABLE = 1u << 10      /* --wide: the table on a terminal */
+    OPT_TABLE = 1u << 10,     /* --wide: the table on a terminal */
+    OPT_REFERENCE = 1u << 11, /* --reference ID */
+    OPT_MULTI = 1u << 12      /* several campaign folders (not an option: a permission) */
 };
+
+#define CLI_MAX_CAMPAIGNS 64
 
 #define CLI_MAX_FORMATS 8
 
 typedef struct {
     const char *command;
-    const char *campaign_dir;
+    const char *campaign_dir;  /* the first (or only) campaign folder */
+    const char *campaign_dirs[CLI_MAX_CAMPAIGNS]; /* every folder given, in order */
+    size_t n_campaigns;
     const char *at_text;      /* --at as written, NULL if not given */
     const char *json_path;    /* NULL if not asked */
     const char *csv_path;
@@ -54,6 +60,8 @@ typedef struct {
     const char *formats[CLI_MAX_FORMATS];
     size_t n_formats;
     int confidence_given;
+    int at_K_set;             /* compare: the second campaign takes the first's T */
+    double at_K;
     int by_given;
     arrank_options options;
     arrank_load_options load; /* --strict, --no-merge */
@@ -140,6 +148,9 @@ unsigned cli_plot_formats(const cli_args *args);
  * destination (-1 or an exit status, printed).
  */
 void cli_stage_begin(const arrank_campaign *campaign);
+/* Several campaigns in one run: dir, another campaign folder, is refused as
+   a destination too (for the rest of the process). */
+void cli_stage_guard_also(const char *dir);
 
 /* The file in an output folder that names the campaign its outputs belong to
    (the campaign folder's absolute path, one line). */
@@ -170,5 +181,6 @@ int cmd_rank(int argc, char **argv);
 int cmd_check(int argc, char **argv);
 int cmd_plot(int argc, char **argv);
 int cmd_report(int argc, char **argv);
+int cmd_compare(int argc, char **argv);
 
 #endif

@@ -4,12 +4,16 @@
 #include "cli.h"
 
 static const char usage[] =
-    "usage: arrank fit CAMPAIGN [--at T] [options]\n"
+    "usage: arrank fit CAMPAIGN... [--at T] [options]\n"
     "\n"
     "Fit every sample of the campaign folder to the Arrhenius form and print\n"
     "the apparent activation energy, ln A and, with --at, the rate at T, each\n"
     "with its confidence interval, one sample per line in file order.  fit does\n"
     "not rank: 'arrank rank' orders the samples, with P(best) and groups.\n"
+    "\n"
+    "Several campaign folders are read as one run: ids that occur in more than\n"
+    "one are named CAMPAIGN/ID; with a reference in every campaign each rate is\n"
+    "taken relative to its own campaign's reference, and its drift is named.\n"
     "\n"
     "  --at T              temperature with its unit: 250C, 250degC, 523.15K, 482F\n"
     "                      (default: operating_temperature in campaign.ini, if any)\n"
@@ -20,6 +24,8 @@ static const char usage[] =
     "  --json-points       the JSON also holds every point and the whole diagnosis\n"
     "  --csv FILE|-        write the results as CSV ('-' for standard output)\n"
     "  --points FILE|-     write every point as CSV, one row each (points.csv)\n"
+    "  --reference ID      the reference catalyst (default: reference in campaign.ini):\n"
+    "                      each rate at T as a ratio to it, P(better), Ea difference\n"
     "  --confidence C      two-sided level of every interval, 0.95 or 95% (default\n"
     "                      campaign.ini confidence, else 0.95)\n"
     "  --use-all           fit every point: no kinetic window\n"
@@ -48,8 +54,8 @@ int cmd_fit(int argc, char **argv)
 {
     cli_args args;
     int rc = cli_parse(argc, argv,
-                       OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_DIAGNOSE | OPT_MODEL |
-                           OPT_TABLE,
+                       OPT_REFERENCE | OPT_MULTI | OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE |
+                           OPT_DIAGNOSE | OPT_MODEL | OPT_TABLE,
                        usage, &args);
     if (rc != -1)
         return rc;

@@ -17,7 +17,7 @@
 #include "cli.h"
 
 static const char usage[] =
-    "usage: arrank plot CAMPAIGN [--at T] [--out DIR] [--format svg|png|pdf]... [options]\n"
+    "usage: arrank plot CAMPAIGN... [--at T] [--out DIR] [--format svg|png|pdf]... [options]\n"
     "\n"
     "Fit every sample and draw the review figures with gnuplot, in DIR (default\n"
     "plots/<campaign folder name>/), with results.json, results.csv and points.csv\n"
@@ -34,14 +34,20 @@ static const char usage[] =
     "                           column: rate against time on stream with the\n"
     "                           drift test's fitted line and its interval\n"
     "\n"
+    "Several campaign folders are read as one run: ids that occur in more than\n"
+    "one are named CAMPAIGN/ID; with a reference in every campaign each rate is\n"
+    "taken relative to its own campaign's reference, and its drift is named.\n"
+    "\n"
     "  --at T              operating temperature with its unit, e.g. 250C or 523.15K\n"
     "                      (default: operating_temperature in campaign.ini)\n"
     "  --extrapolate       rank by rate even when T lies more than 100 K outside\n"
     "                      every sample's measured range (refused otherwise)\n"
     "  --out DIR           output folder, made if missing\n"
     "  --format F          svg (default), png (300 dpi class) or pdf; repeat for more\n"
+    "  --reference ID      the reference catalyst (default: reference in campaign.ini):\n"
+    "                      each rate at T as a ratio to it, P(better), Ea difference\n"
     "  --confidence C      two-sided level of every interval (default 0.95)\n"
-    "  --by KEY            rank by rate (default), ea or prefactor\n"
+    "  --by KEY            rank by rate (default), ea, prefactor or ratio\n"
     "  --use-all, --drop-outliers, --conversion-limit X, --no-diagnose,\n"
     "  --errors, --model, --seed, --draws, --pairs, --bootstrap, --normal,\n"
     "  --strict, --no-merge, --run LABEL\n"
@@ -108,7 +114,8 @@ int cmd_plot(int argc, char **argv)
 {
     cli_args args;
     int rc = cli_parse(argc, argv,
-                       OPT_AT | OPT_CONFIDENCE | OPT_BY | OPT_DIAGNOSE | OPT_MODEL | OPT_STATS |
+                       OPT_REFERENCE | OPT_MULTI | OPT_AT | OPT_CONFIDENCE | OPT_BY | OPT_DIAGNOSE |
+                           OPT_MODEL | OPT_STATS |
                            OPT_OUT_DIR | OPT_FORMAT,
                        usage, &args);
     if (rc != -1)

@@ -4,24 +4,30 @@
 #include "cli.h"
 
 static const char usage[] =
-    "usage: arrank rank CAMPAIGN [--at T] [--by rate|ea|prefactor] [options]\n"
+    "usage: arrank rank CAMPAIGN... [--at T] [--by rate|ea|prefactor|ratio] [options]\n"
     "\n"
     "Fit every sample and rank the batch: by the rate at the operating\n"
     "temperature (default), by lowest apparent activation energy (--by ea) or by\n"
     "highest pre-exponential factor (--by prefactor).  Samples that cannot be\n"
     "fitted are listed with the reason and not ranked.\n"
     "\n"
+    "Several campaign folders are read as one run: ids that occur in more than\n"
+    "one are named CAMPAIGN/ID; with a reference in every campaign each rate is\n"
+    "taken relative to its own campaign's reference, and its drift is named.\n"
+    "\n"
     "  --at T              operating temperature with its unit: 250C, 250degC,\n"
     "                      523.15K, 482F (default: operating_temperature in\n"
     "                      campaign.ini; one of the two is needed)\n"
     "  --extrapolate       rank by rate even when T lies more than 100 K outside\n"
     "                      every sample's measured range (refused otherwise)\n"
-    "  --by KEY            rate (default), ea or prefactor\n"
+    "  --by KEY            rate (default), ea, prefactor or ratio (to the reference)\n"
     "  --json FILE|-       write the results as JSON, one record per sample ('-' for\n"
     "                      standard output)\n"
     "  --json-points       the JSON also holds every point and the whole diagnosis\n"
     "  --csv FILE|-        write the results as CSV ('-' for standard output)\n"
     "  --points FILE|-     write every point as CSV, one row each (points.csv)\n"
+    "  --reference ID      the reference catalyst (default: reference in campaign.ini):\n"
+    "                      each rate at T as a ratio to it, P(better), Ea difference\n"
     "  --confidence C      two-sided level of every interval, 0.95 or 95% (default\n"
     "                      campaign.ini confidence, else 0.95)\n"
     "  --use-all           fit every point: no kinetic window\n"
@@ -55,8 +61,8 @@ int cmd_rank(int argc, char **argv)
 {
     cli_args args;
     int rc = cli_parse(argc, argv,
-                       OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_BY | OPT_DIAGNOSE | OPT_MODEL |
-                           OPT_STATS | OPT_TABLE,
+                       OPT_REFERENCE | OPT_MULTI | OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_BY |
+                           OPT_DIAGNOSE | OPT_MODEL | OPT_STATS | OPT_TABLE,
                        usage,
                        &args);
     if (rc != -1)

@@ -11,7 +11,7 @@
 #include "cli.h"
 
 static const char usage[] =
-    "usage: arrank report CAMPAIGN [--at T] [--out DIR] [options]\n"
+    "usage: arrank report CAMPAIGN... [--at T] [--out DIR] [options]\n"
     "\n"
     "Fit and rank every sample and write DIR/report.html (default DIR:\n"
     "plots/<campaign folder name>/): one self-contained page with the ranking,\n"
@@ -20,13 +20,19 @@ static const char usage[] =
     "SHA-256 of every input file.  It needs no other file and no network, and\n"
     "prints cleanly.\n"
     "\n"
+    "Several campaign folders are read as one run: ids that occur in more than\n"
+    "one are named CAMPAIGN/ID; with a reference in every campaign each rate is\n"
+    "taken relative to its own campaign's reference, and its drift is named.\n"
+    "\n"
     "  --at T              operating temperature with its unit, e.g. 250C or 523.15K\n"
     "                      (default: operating_temperature in campaign.ini)\n"
     "  --extrapolate       rank by rate even when T lies more than 100 K outside\n"
     "                      every sample's measured range (refused otherwise)\n"
     "  --out DIR           output folder, made if missing\n"
+    "  --reference ID      the reference catalyst (default: reference in campaign.ini):\n"
+    "                      each rate at T as a ratio to it, P(better), Ea difference\n"
     "  --confidence C      two-sided level of every interval (default 0.95)\n"
-    "  --by KEY            rank by rate (default), ea or prefactor\n"
+    "  --by KEY            rank by rate (default), ea, prefactor or ratio\n"
     "  --use-all, --drop-outliers, --conversion-limit X, --no-diagnose,\n"
     "  --errors, --model, --seed, --draws, --pairs, --bootstrap, --normal,\n"
     "  --strict, --no-merge, --run LABEL\n"
@@ -82,7 +88,8 @@ int cmd_report(int argc, char **argv)
 {
     cli_args args;
     int rc = cli_parse(argc, argv,
-                       OPT_AT | OPT_CONFIDENCE | OPT_BY | OPT_DIAGNOSE | OPT_MODEL | OPT_STATS |
+                       OPT_REFERENCE | OPT_MULTI | OPT_AT | OPT_CONFIDENCE | OPT_BY | OPT_DIAGNOSE |
+                           OPT_MODEL | OPT_STATS |
                            OPT_OUT_DIR,
                        usage, &args);
     if (rc != -1)

@@ -14,6 +14,7 @@ static const cli_command commands[] = {
     {"check", cmd_check, "say what is wrong with each sample's data, and which points are kinetic"},
     {"plot", cmd_plot, "draw the review figures (gnuplot) with results.json/.csv"},
     {"report", cmd_report, "write a self-contained HTML review report"},
+    {"compare", cmd_compare, "compare two campaigns sample by sample (rate ratio, Ea change)"},
 };
 
 static void list_commands(FILE *f)

@@ -49,6 +49,7 @@ static const option_spec option_table[] = {
     {"--strict", OPT_READ, 0},
     {"--no-merge", OPT_READ, 0},
     {"--wide", OPT_TABLE, 0},
+    {"--reference", OPT_REFERENCE, 1},
 };
 
 /* Every message is one line on the terminal: whatever reached it from a
@@ -152,8 +153,10 @@ static int apply(cli_args *a, const char *name, const char *value)
             o->by = ARRANK_BY_EA;
         else if (strcasecmp(value, "prefactor") == 0)
             o->by = ARRANK_BY_PREFACTOR;
+        else if (strcasecmp(value, "ratio") == 0)
+            o->by = ARRANK_BY_RATIO;
         else {
-            cli_fail("--by '%s' is not known; use rate, ea or prefactor", value);
+            cli_fail("--by '%s' is not known; use rate, ea, prefactor or ratio", value);
             return EXIT_USAGE;
         }
     } else if (strcmp(name, "--extrapolate") == 0)
@@ -166,6 +169,13 @@ static int apply(cli_args *a, const char *name, const char *value)
         o->diagnose = 0;
     else if (strcmp(name, "--run") == 0)
         o->run = value;
+    else if (strcmp(name, "--reference") == 0) {
+        if (!value[0]) {
+            cli_fail("--reference needs a sample id");
+            return EXIT_USAGE;
+        }
+        o->reference = value;
+    }
     else if (strcmp(name, "--strict") == 0)
         a->load.strict = 1;
     else if (strcmp(name, "--no-merge") == 0)
@@ -247,12 +257,19 @@ int cli_parse(int argc, char **argv, unsigned accepted, const char *usage, cli_a
         if (strncmp(arg, "--", 2) != 0 || strcmp(arg, "--") == 0) {
             if (strcmp(arg, "--") == 0 && i + 1 < argc)
                 arg = argv[++i];
-            if (args->campaign_dir) {
+            if (args->campaign_dir && !(accepted & OPT_MULTI)) {
                 cli_fail("%s: unexpected argument '%s' (one campaign folder per run); "
                          "see 'arrank %s --help'", args->command, arg, args->command);
                 return EXIT_USAGE;
             }
-            args->campaign_dir = arg;
+            if (args->n_campaigns == CLI_MAX_CAMPAIGNS) {
+                cli_fail("%s: more than %d campaign folders", args->command,
+                         CLI_MAX_CAMPAIGNS);
+                return EXIT_USAGE;
+            }
+            if (!args->campaign_dir)
+                args->campaign_dir = arg;
+            args->campaign_dirs[args->n_campaigns++] = arg;
             continue;
         }
         const char *eq = strchr(arg, '=');

@@ -12,6 +12,7 @@
 #include <time.h>
 #include <unistd.h>
 
+#include "arrank/batches.h"
 #include "arrank/output.h"
 #include "cli.h"
 
@@ -57,6 +58,28 @@ static void end_progress(progress_state *ps)
     }
 }
 
+/* The campaign folder, or several read one by one and merged (arrank/batches.h). */
+static arrank_status load_campaigns(const cli_args *args, cli_session *s, progress_state *ps,
+                                    arrank_error *err)
+{
+    if (args->n_campaigns <= 1)
+        return arrank_campaign_load_with(args->campaign_dir, s->units, &args->load,
+                                         ps ? show_progress : NULL, ps, &s->campaign, err);
+    arrank_campaign *parts[CLI_MAX_CAMPAIGNS] = {NULL};
+    arrank_status st = ARRANK_OK;
+    for (size_t k = 0; k < args->n_campaigns; k++) /* no output lands in any of them */
+        cli_stage_guard_also(args->campaign_dirs[k]);
+    for (size_t k = 0; k < args->n_campaigns && st == ARRANK_OK; k++)
+        st = arrank_campaign_load_with(args->campaign_dirs[k], s->units, &args->load,
+                                       ps ? show_progress : NULL, ps, &parts[k], err);
+    if (st != ARRANK_OK) {
+        for (size_t k = 0; k < args->n_campaigns; k++)
+            arrank_campaign_free(parts[k]);
+        return st;
+    }
+    return arrank_batches_merge(parts, args->n_campaigns, s->units, &s->campaign, err);
+}
+
 int cli_session_open(cli_args *args, int need_T, cli_session *s)
 {
     memset(s, 0, sizeof *s);
@@ -91,9 +114,7 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
         clock_gettime(CLOCK_MONOTONIC, &ps_store.start);
         ps = &ps_store;
     }
-    arrank_status st = arrank_campaign_load_with(args->campaign_dir, s->units, &args->load,
-                                                 ps ? show_progress : NULL, ps, &s->campaign,
-                                                 &err);
+    arrank_status st = load_campaigns(args, s, ps, &err);
     end_progress(ps);
     if (st != ARRANK_OK) {
         cli_print_error(&err);
@@ -101,8 +122,8 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
         return cli_exit_status(st, &err);
     }
     if (!args->at_text)
-        at_K = s->campaign->operating_temp_K;
-    if (need_T && !isfinite(at_K) && args->options.by == ARRANK_BY_RATE) {
+        at_K = args->at_K_set ? args->at_K : s->campaign->operating_temp_K;
+    if (need_T && !isfinite(at_K) && arrank_by_needs_T(args->options.by)) {
         cli_fail("no operating temperature: give one with --at (e.g. --at 250C) or set "
                  "operating_temperature in %s/campaign.ini", args->campaign_dir);
         cli_session_free(s);
@@ -114,7 +135,9 @@ int cli_session_open(cli_args *args, int need_T, cli_session *s)
 
     /* only a ranking is refused far outside every sample's range: fit and
        check show each sample's own extrapolation, flagged */
-    if (strcmp(args->command, "fit") == 0 || strcmp(args->command, "check") == 0)
+    if (strcmp(args->command, "fit") == 0 || strcmp(args->command, "check") == 0 ||
+        (strcmp(args->command, "compare") == 0 &&
+         args->options.max_extrapolation_K == INFINITY))
         args->options.max_extrapolation_K = INFINITY;
     /* fit shows each sample's parameters in file order; rank orders them */
     if (strcmp(args->command, "fit") == 0)

@@ -44,6 +44,8 @@ typedef struct {
 /* One set per process: the signal handler must reach it without arguments. */
 static struct {
     char campaign_real[PATH_MAX]; /* realpath of the campaign folder, "" if none */
+    char also_real[CLI_MAX_CAMPAIGNS][PATH_MAX]; /* the other campaigns of the run */
+    size_t n_also;
     const arrank_campaign *campaign;
     stage_item item[STAGE_MAX];
     volatile sig_atomic_t n;      /* items whose temp exists */
@@ -232,6 +234,13 @@ static int guard(const char *path, int is_dir)
                  path, stage.campaign->path);
         return EXIT_USAGE;
     }
+    for (size_t k = 0; k < stage.n_also; k++)
+        if (is_within(real, stage.also_real[k])) {
+            cli_fail("%s: refusing to write inside the campaign folder '%s' (its inputs are "
+                     "never written); choose another place",
+                     path, stage.also_real[k]);
+            return EXIT_USAGE;
+        }
     struct stat st;
     if (!is_dir && stat(path, &st) == 0 && same_as_input(&st)) {
         cli_fail("%s: refusing to overwrite an input file of the campaign", path);
@@ -248,6 +257,12 @@ void cli_stage_begin(const arrank_campaign *campaign)
     stage.campaign_real[0] = '\0';
     if (campaign && campaign->path && !realpath(campaign->path, stage.campaign_real))
         stage.campaign_real[0] = '\0';
+}
+
+void cli_stage_guard_also(const char *dir)
+{
+    if (stage.n_also < CLI_MAX_CAMPAIGNS && realpath(dir, stage.also_real[stage.n_also]))
+        stage.n_also++;
 }
 
 int cli_stage_check(const char *path, int is_dir)

@@ -18,6 +18,7 @@
 #include "analysis_internal.h"
 #include "analysis_models.h"
 #include "analysis_rank.h"
+#include "analysis_reference.h"
 #include "arrank/screen.h"
 #include "util.h"
 #include "stats.h"
@@ -183,8 +184,13 @@ static double rank_key(const arrank_result *res, arrank_rank_by by)
     switch (by) {
     case ARRANK_BY_EA: return -res->fit.ea_J_mol;
     case ARRANK_BY_PREFACTOR: return res->fit.ln_A;
-    case ARRANK_BY_RATE: break;
+    case ARRANK_BY_RATE:
+    case ARRANK_BY_RATIO: break;
     }
+    /* by ratio: the pooled key of several campaigns (analysis_reference.c),
+       else the rate's (the same order within one campaign) */
+    if (res->stats && res->stats->has_key && by == ARRANK_BY_RATIO)
+        return res->stats->key;
     return res->at_T.ln_rate;
 }
 
@@ -368,7 +374,7 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
             res->flags |= ARRANK_FLAG_EXTRAPOLATED;
     }
     /* the ranking's per-sample part while the sample is in this core's cache */
-    if (opt->rank && (isfinite(opt->operating_temp_K) || opt->by != ARRANK_BY_RATE))
+    if (opt->rank && (isfinite(opt->operating_temp_K) || !arrank_by_needs_T(opt->by)))
         return arrank_analysis_rank_prepare(res, opt, err);
     return ARRANK_OK;
 }
@@ -426,6 +432,32 @@ static arrank_status analyse_all(arrank_analysis *a, const arrank_options *opt,
                                arrank_workers_for(a->n_results, ANALYSE_MIN_PER_WORKER),
                                analyse_item, &j, opt->progress, opt->progress_ctx,
                                "fitting samples", err);
+}
+
+/* The fitted results a->order[0..n_fitted) in rank order, their ranks, and
+   the ranking statistics (analysis_rank.c: P(best), groups, compensation,
+   bootstrap). */
+static arrank_status rank_fitted(arrank_analysis *a, const arrank_options *opt, size_t n_fitted,
+                                 arrank_error *err)
+{
+    a->n_ranked = n_fitted;
+    rank_item *items = malloc(n_fitted * sizeof *items);
+    if (!items)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    for (size_t k = 0; k < n_fitted; k++) {
+        const arrank_result *res = &a->results[a->order[k]];
+        items[k] = (rank_item){rank_key(res, opt->by), res->sample->id, a->order[k]};
+    }
+    qsort(items, n_fitted, sizeof *items, compare_rank);
+    for (size_t k = 0; k < n_fitted; k++)
+        a->order[k] = items[k].index;
+    free(items);
+    for (size_t k = 0; k < a->n_ranked; k++)
+        a->results[a->order[k]].rank = (int)(k + 1);
+    /* analysis_rank.c: P(best), groups, compensation, bootstrap */
+    if (opt->progress)
+        opt->progress(opt->progress_ctx, "ranking samples", 0, 1);
+    return arrank_analysis_rank_compute(a, err);
 }
 
 static arrank_status analysis_run_in_c(const arrank_campaign *campaign,
@@ -505,34 +537,21 @@ static arrank_status analysis_run_in_c(const arrank_campaign *campaign,
 
     /* A rate ranking far outside every sample's measured range is a guess,
        not a measurement: refuse it unless the caller lifted the limit. */
-    if (want_T && opt.by == ARRANK_BY_RATE) {
+    if (want_T && arrank_by_needs_T(opt.by)) {
         st = check_extrapolation(a, n_fitted, opt.max_extrapolation_K, err);
         if (st != ARRANK_OK)
             goto fail;
     }
 
+    /* analysis_reference.c: every sample against the reference; with several
+       campaigns the pooled keys (the references leave the ranking) */
+    st = arrank_analysis_reference(a, a->order, &n_fitted, &opt.by, err);
+    if (st != ARRANK_OK)
+        goto fail;
+
     /* Rank the fitted samples; ranking by rate needs an operating temperature. */
-    if (opt.rank && (want_T || opt.by != ARRANK_BY_RATE)) {
-        a->n_ranked = n_fitted;
-        rank_item *items = malloc(n_fitted * sizeof *items);
-        if (!items) {
-            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-            goto fail;
-        }
-        for (size_t k = 0; k < n_fitted; k++) {
-            const arrank_result *res = &a->results[a->order[k]];
-            items[k] = (rank_item){rank_key(res, opt.by), res->sample->id, a->order[k]};
-        }
-        qsort(items, n_fitted, sizeof *items, compare_rank);
-        for (size_t k = 0; k < n_fitted; k++)
-            a->order[k] = items[k].index;
-        free(items);
-        for (size_t k = 0; k < a->n_ranked; k++)
-            a->results[a->order[k]].rank = (int)(k + 1);
-        /* analysis_rank.c: P(best), groups, compensation, bootstrap */
-        if (opt.progress)
-            opt.progress(opt.progress_ctx, "ranking samples", 0, 1);
-        st = arrank_analysis_rank_compute(a, err);
+    if (opt.rank && (want_T || !arrank_by_needs_T(opt.by))) {
+        st = rank_fitted(a, &opt, n_fitted, err);
         if (st != ARRANK_OK)
             goto fail;
     }
@@ -567,6 +586,7 @@ void arrank_analysis_free(arrank_analysis *a)
         arrank_sample_stats_free(a->results[i].stats);
     }
     arrank_rank_stats_free(a->rank_stats);
+    arrank_reference_stats_free(a->reference);
     free(a->results);
     free(a->order);
     free(a);

@@ -45,7 +45,7 @@ void arrank_rank_stats_free(struct arrank_rank_stats *stats)
 /* The key of a ranked result: the model's prediction when one was fitted. */
 static arrank_pbest_key result_key(const arrank_result *res, const arrank_options *opt)
 {
-    if (opt->by == ARRANK_BY_RATE && res->stats && res->stats->has_model)
+    if (arrank_by_needs_T(opt->by) && res->stats && res->stats->has_model)
         return arrank_pbest_key_model(&res->stats->model, opt->operating_temp_K,
                                       opt->normal_draws);
     return arrank_pbest_key_arrhenius(&res->fit, opt->by, opt->operating_temp_K,

@@ -111,6 +111,18 @@ static int compare_sample_ids(const void *a, const void *b)
     return c ? c : strcmp(x->file, y->file);
 }
 
+size_t arrank_campaign_part(const arrank_campaign *campaign, size_t i)
+{
+    return campaign->part_of && i < campaign->n_samples ? campaign->part_of[i] : 0;
+}
+
+const char *arrank_campaign_own_id(const arrank_campaign *campaign, size_t i)
+{
+    if (campaign->part_ids && i < campaign->n_samples && campaign->part_ids[i])
+        return campaign->part_ids[i];
+    return campaign->samples[i].id;
+}
+
 void arrank_campaign_free(arrank_campaign *campaign)
 {
     if (!campaign)
@@ -122,6 +134,10 @@ void arrank_campaign_free(arrank_campaign *campaign)
     free(campaign->name);
     free(campaign->title);
     free(campaign->rate_unit);
+    free(campaign->reference);
+    arrank_list_free(campaign->part_names, campaign->n_parts);
+    free(campaign->part_of);
+    arrank_list_free(campaign->part_ids, campaign->part_of ? campaign->n_samples : 0);
     arrank_list_free(campaign->notes, campaign->n_notes);
     arrank_list_free(campaign->unused, campaign->n_unused);
     free(campaign);
@@ -239,6 +255,8 @@ static void take_ini(arrank_ini *ini, arrank_campaign *c, size_t *notes_cap)
     c->operating_temp_K = ini->operating_temp_K;
     c->confidence = ini->confidence;
     c->rate_unit = ini->rate_unit;
+    c->reference = ini->reference;
+    ini->reference = NULL;
     if (ini->rate_unit)
         c->basis = ini->basis;
     c->notes = ini->notes;

@@ -33,7 +33,7 @@ int arrank_cautions_beyond_iso(const arrank_analysis *a)
 {
     const struct arrank_rank_stats *rs = a->rank_stats;
     const double T_op = a->options.operating_temp_K;
-    if (!rs || !isfinite(T_op) || a->options.by != ARRANK_BY_RATE)
+    if (!rs || !isfinite(T_op) || !arrank_by_needs_T(a->options.by))
         return 0;
     const arrank_compensation *c = &rs->compensation;
     if (c->verdict != ARRANK_COMP_REAL || !isfinite(c->T_iso_K) || !(c->T_iso_K > 0) ||

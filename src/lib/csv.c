@@ -17,6 +17,46 @@
 
 static void write_row(const arrank_analysis *a, const arrank_result *res, arrank_csv_row *row);
 
+/* Several campaigns: the campaign column; a reference: the sample against it
+   (README "results.csv").  Only then, so that a run without them keeps its
+   columns. */
+static void reference_header(const arrank_analysis *a, arrank_csv_row *row)
+{
+    if (a->campaign->n_parts)
+        arrank_files_csv_field(row, "campaign", !a->reference);
+    if (!a->reference)
+        return;
+    const char *cols[] = {"is_reference", "ratio_to_reference", "ratio_to_reference_ci_low",
+                          "ratio_to_reference_ci_high", "p_better_than_reference",
+                          "ea_minus_reference [kJ/mol]", "ea_minus_reference_ci_low [kJ/mol]",
+                          "ea_minus_reference_ci_high [kJ/mol]"};
+    for (size_t i = 0; i < sizeof cols / sizeof *cols; i++)
+        arrank_files_csv_field(row, cols[i], i + 1 == sizeof cols / sizeof *cols);
+}
+
+static void reference_cells(const arrank_analysis *a, const arrank_result *res,
+                            arrank_csv_row *row)
+{
+    const arrank_campaign *c = a->campaign;
+    if (c->n_parts)
+        arrank_files_csv_field(row,
+                               c->part_names[arrank_campaign_part(c, (size_t)(res - a->results))],
+                               !a->reference);
+    if (!a->reference)
+        return;
+    const struct arrank_sample_stats *ss = res->stats;
+    const int has = ss && ss->has_reference, self = has && ss->is_reference;
+    const int ratio = has && ss->has_ratio;
+    arrank_files_csv_field(row, !has ? "" : self ? "1" : "0", 0);
+    arrank_files_csv_num(row, ratio ? exp(ss->ratio.est) : NAN, 0);
+    arrank_files_csv_num(row, ratio && !self ? exp(ss->ratio.lo) : NAN, 0);
+    arrank_files_csv_num(row, ratio && !self ? exp(ss->ratio.hi) : NAN, 0);
+    arrank_files_csv_num(row, has ? ss->p_better : NAN, 0);
+    arrank_files_csv_num(row, has ? ss->ea_diff.est / 1e3 : NAN, 0);
+    arrank_files_csv_num(row, has && !self ? ss->ea_diff.lo / 1e3 : NAN, 0);
+    arrank_files_csv_num(row, has && !self ? ss->ea_diff.hi / 1e3 : NAN, 1);
+}
+
 static arrank_status write_csv(const arrank_analysis *a, FILE *f, arrank_error *err)
 {
     arrank_csv_row *row = malloc(sizeof *row);
@@ -60,8 +100,11 @@ static arrank_status write_csv(const arrank_analysis *a, FILE *f, arrank_error *
     const char *tail[] = {"corr_ea_lnA", "T_ref [K]", "T_min [K]", "T_max [K]", "T_op [K]",
                           rh[0], rh[1], rh[2], "confidence", "p_best", "group", "flags", "error", "error_line",
                           "error_column", "extrapolation [K]", "extrapolation_rel"};
+    const int more = a->reference || a->campaign->n_parts; /* columns after the tail */
     for (size_t i = 0; i < sizeof tail / sizeof *tail; i++)
-        arrank_files_csv_field(row, tail[i], i + 1 == sizeof tail / sizeof *tail);
+        arrank_files_csv_field(row, tail[i], !more && i + 1 == sizeof tail / sizeof *tail);
+    if (more)
+        reference_header(a, row);
 
     /* ranked samples first, in rank order, then the others in file order */
     for (size_t k = 0; k < a->n_ranked; k++)
@@ -137,7 +180,10 @@ static void write_row(const arrank_analysis *a, const arrank_result *res, arrank
     /* how far the operating temperature lies outside the measured range: K,
        and against the span; 0 inside, empty without a prediction */
     arrank_files_csv_num(row, p ? res->at_T.extrapolation_K : NAN, 0);
-    arrank_files_csv_num(row, p ? res->at_T.extrapolation_rel : NAN, 1);
+    const int more = a->reference || a->campaign->n_parts;
+    arrank_files_csv_num(row, p ? res->at_T.extrapolation_rel : NAN, !more);
+    if (more)
+        reference_cells(a, res, row);
 }
 
 

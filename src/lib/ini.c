@@ -2,8 +2,8 @@
  * ini.c - reading campaign.ini through inih (format: README.md, "The
  * campaign format").
  *
- * [campaign] sets the title, the operating temperature, the report unit and
- * the confidence; a [sample ID] section gives metadata keys to the sample of
+ * [campaign] sets the title, the operating temperature, the report unit, the
+ * reference catalyst and the confidence; a [sample ID] section gives metadata keys to the sample of
  * that id, kept here as entries for the campaign reader (campaign.c) to
  * apply once the samples are read.  Keys not known are kept as notes
  * "campaign.ini:LINE: ..."; a malformed line or value stops the read with
@@ -116,6 +116,16 @@ static int campaign_key(ini_state *st, const char *section, const char *name, co
         c->basis = basis;
         return 1;
     }
+    if (arrank_ascii_casecmp(name, "reference") == 0) {
+        if (!value[0]) {
+            st->status = arrank_error_at(st->err, ARRANK_EPARSE, st->path, st->line, 0,
+                                         "reference needs a sample id (reference = ID)");
+            return 0;
+        }
+        free(c->reference);
+        c->reference = strdup(value);
+        return c->reference ? 1 : NOMEM;
+    }
     if (arrank_ascii_casecmp(name, "confidence") == 0) {
         char buf[128];
         snprintf(buf, sizeof buf, "%s", value);
@@ -222,6 +232,7 @@ void arrank_ini_free(arrank_ini *ini)
         return;
     free(ini->title);
     free(ini->rate_unit);
+    free(ini->reference);
     arrank_list_free(ini->notes, ini->n_notes);
     for (size_t i = 0; i < ini->n_entries; i++) {
         free(ini->entries[i].section_id);

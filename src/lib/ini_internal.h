@@ -24,6 +24,7 @@ typedef struct {
     double operating_temp_K;
     double confidence;
     char *rate_unit;    /* udunits spelling of [campaign] rate_unit */
+    char *reference;    /* [campaign] reference: the reference catalyst's sample id */
     arrank_basis basis; /* basis of rate_unit */
     char **notes;       /* "campaign.ini:LINE: ..." for keys ignored */
     size_t n_notes, notes_cap;

@@ -11,6 +11,7 @@
 #include "files.h"
 #include "json.h"
 #include "points.h"
+#include "reference_out.h"
 #include "table.h"
 #include "number.h"
 
@@ -22,7 +23,11 @@ static arrank_status output_write_in_c(const arrank_analysis *analysis, arrank_o
     case ARRANK_OUTPUT_JSON_POINTS: return arrank_json_write(analysis, 1, stream, err);
     case ARRANK_OUTPUT_CSV: return arrank_csv_write(analysis, stream, err);
     case ARRANK_OUTPUT_POINTS: return arrank_points_write(analysis, stream, err);
-    case ARRANK_OUTPUT_TABLE: return arrank_table_write(analysis, stream, err);
+    case ARRANK_OUTPUT_TABLE: {
+        /* the reference catalyst's block under the table (reference_out.c) */
+        arrank_status st = arrank_table_write(analysis, stream, err);
+        return st == ARRANK_OK ? arrank_reference_table_write(analysis, stream, err) : st;
+    }
     }
     return arrank_errorf(err, ARRANK_EINVAL, "unknown output format %d", (int)format);
 }

@@ -95,7 +95,8 @@ static void arrhenius_gradient(const arrank_arrhenius *f, arrank_rank_by by, dou
         g[0] = 1.0;
         g[1] = -1.0 / f->T_ref_K;
         return;
-    case ARRANK_BY_RATE: break;
+    case ARRANK_BY_RATE:
+    case ARRANK_BY_RATIO: break;
     }
     g[0] = 1.0;
     g[1] = 1.0 / temp_K - 1.0 / f->T_ref_K;
@@ -493,7 +494,7 @@ arrank_status arrank_pbest_fits(const arrank_arrhenius *const *fits, size_t n, a
                                 int normal_draws, size_t n_top, double *p_best, double *p_beats,
                                 arrank_error *err)
 {
-    if (by == ARRANK_BY_RATE && !(isfinite(temp_K) && temp_K > 0))
+    if ((by == ARRANK_BY_RATE || by == ARRANK_BY_RATIO) && !(isfinite(temp_K) && temp_K > 0))
         return arrank_errorf(err, ARRANK_EINVAL,
                              "ranking by rate needs a positive operating temperature, got '%g K'",
                              temp_K);

@@ -72,6 +72,25 @@ int arrank_plot_point_type(size_t i, int hollow)
     return shapes[i % N_SHAPES][hollow ? 1 : 0];
 }
 
+/* The reference catalyst: black and a pentagon (gnuplot pt 15 filled, 14
+   hollow), which no other sample has. */
+#define REFERENCE_COLOR "#000000"
+
+static int is_reference(const arrank_analysis *a, size_t i)
+{
+    return a && i < a->n_results && a->results[i].stats && a->results[i].stats->is_reference;
+}
+
+const char *arrank_plot_sample_color(const arrank_analysis *a, size_t i)
+{
+    return is_reference(a, i) ? REFERENCE_COLOR : arrank_plot_color(i);
+}
+
+int arrank_plot_sample_point_type(const arrank_analysis *a, size_t i, int hollow)
+{
+    return is_reference(a, i) ? (hollow ? 14 : 15) : arrank_plot_point_type(i, hollow);
+}
+
 arrank_plot_options arrank_plot_defaults(void)
 {
     arrank_plot_options o;

@@ -427,7 +427,7 @@ void arrank_plot_fig_diagnostics(script *s, size_t i)
     const arrank_result *r = &a->results[i];
     const arrank_arrhenius *fit = &r->fit;
     const arrank_sample *smp = r->sample;
-    diag_panels dp = {.r = r, .c = arrank_plot_color(i), .conf_pc = 100.0 * a->options.confidence,
+    diag_panels dp = {.r = r, .c = arrank_plot_sample_color(a, i), .conf_pc = 100.0 * a->options.confidence,
                       .win_lo_K = NAN, .win_hi_K = NAN, .ea_lo = INFINITY, .ea_hi = -INFINITY};
     block_residuals(f, r, i, dp.cnt);
     dp.nloc = block_local_ea(f, r, i, &dp.ea_lo, &dp.ea_hi);

@@ -107,7 +107,7 @@ void arrank_plot_fig_arrhenius(script *s)
     int first = 1;
     for (size_t i = 0; i < a->n_results; i++) {
         const arrank_result *r = &a->results[i];
-        const char *c = arrank_plot_color(i);
+        const char *c = arrank_plot_sample_color(a, i);
         if (arrank_plot_fitted(r)) {
             arrank_plot_next_elem(f, &first);
             fprintf(f, "$fit%zu using 1:3:4 with filledcurves lc rgb '%s'", i, c);
@@ -129,7 +129,7 @@ void arrank_plot_fig_arrhenius(script *s)
             arrank_plot_next_elem(f, &first);
             fprintf(f, "$%s%zu using 1:2%s with %s pt %d ps 1.8*PS lw 1.5 lc rgb '%s'", tags[b], i,
                     with_sd ? ":3" : "", with_sd ? "yerrorbars" : "points",
-                    arrank_plot_point_type(i, hollow), c);
+                    arrank_plot_sample_point_type(a, i, hollow), c);
             if (!titled) {
                 fputs(" title ", f);
                 arrank_plot_put_qf(f, "%s%s", arrank_plot_sample_name(r),
@@ -433,7 +433,7 @@ void arrank_plot_fig_rate_at_T(script *s)
                 fprintf(f, "set arrow from graph %s, first %zu to graph %s, first %zu head "
                            "filled size graph 0.02,20 lw 2 lc rgb '%s' front\n",
                         side ? "0.96" : "0.04", n_rows - k, side ? "1" : "0", n_rows - k,
-                        arrank_plot_color(rows[k]));
+                        arrank_plot_sample_color(a, rows[k]));
         char buf[512];
         row_note(r, buf, sizeof buf);
         if (buf[0]) {
@@ -468,7 +468,8 @@ void arrank_plot_fig_rate_at_T(script *s)
         size_t i = rows[k];
         arrank_plot_next_elem(f, &first);
         fprintf(f, "$rate%zu using 1:2:3:4 with xerrorbars pt %d ps 1.3*PS lw 2 lc rgb '%s'", k,
-                arrank_plot_point_type(i, r->flags != 0), arrank_plot_color(i));
+                arrank_plot_sample_point_type(a, i, r->flags != 0),
+                arrank_plot_sample_color(a, i));
     }
     if (first)
         fputs("plot 1 with lines lc rgb '#ffffff'", f);
@@ -576,11 +577,12 @@ void arrank_plot_fig_ea_lnA(script *s)
         int ell = fit->ea_se_J_mol > 0 && isfinite(r->region_quantile);
         if (ell) {
             arrank_plot_next_elem(f, &first);
-            fprintf(f, "$ell%zu using 1:2 with lines lw 1.8 lc rgb '%s'", i, arrank_plot_color(i));
+            fprintf(f, "$ell%zu using 1:2 with lines lw 1.8 lc rgb '%s'", i,
+                    arrank_plot_sample_color(a, i));
         }
         arrank_plot_next_elem(f, &first);
         fprintf(f, "$ctr%zu using 1:2 with points pt %d ps 1.5*PS lc rgb '%s' title ", i,
-                arrank_plot_point_type(i, 0), arrank_plot_color(i));
+                arrank_plot_sample_point_type(a, i, 0), arrank_plot_sample_color(a, i));
         arrank_plot_put_q(f, arrank_plot_sample_name(r));
     }
     if (first)

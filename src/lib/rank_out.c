@@ -6,6 +6,7 @@
 
 #include <math.h>
 #include <stdint.h>
+#include <stdio.h>
 
 /* A number, or null for NAN and infinities (JSON has neither). */
 static json_t *num(double x)
@@ -18,6 +19,7 @@ const char *arrank_rank_by_name(arrank_rank_by by)
     switch (by) {
     case ARRANK_BY_EA: return "ea";
     case ARRANK_BY_PREFACTOR: return "prefactor";
+    case ARRANK_BY_RATIO: return "ratio_to_reference";
     case ARRANK_BY_RATE: break;
     }
     return "rate_at_T";
@@ -51,6 +53,44 @@ static json_t *model_json(const arrank_model_fit *m)
     return o;
 }
 
+/* exp of an interval's ends, as [lo, hi]; null when not finite. */
+static json_t *exp_pair(double lo, double hi)
+{
+    if (!isfinite(lo) || !isfinite(hi))
+        return json_null();
+    json_t *ci = json_array();
+    json_array_append_new(ci, num(exp(lo)));
+    json_array_append_new(ci, num(exp(hi)));
+    return ci;
+}
+
+static json_t *pair(double lo, double hi, double scale)
+{
+    if (!isfinite(lo) || !isfinite(hi))
+        return json_null();
+    json_t *ci = json_array();
+    json_array_append_new(ci, num(lo * scale));
+    json_array_append_new(ci, num(hi * scale));
+    return ci;
+}
+
+/* The sample against its campaign's reference (README "The reference
+   catalyst"); the reference itself: ratio 1, no intervals. */
+static void reference_keys(json_t *o, const struct arrank_sample_stats *ss)
+{
+    const int self = ss->is_reference;
+    json_object_set_new(o, "is_reference", json_boolean(self));
+    json_object_set_new(o, "ratio_to_reference", ss->has_ratio ? num(exp(ss->ratio.est))
+                                                               : json_null());
+    json_object_set_new(o, "ratio_to_reference_ci",
+                        ss->has_ratio && !self ? exp_pair(ss->ratio.lo, ss->ratio.hi)
+                                               : json_null());
+    json_object_set_new(o, "p_better_than_reference", num(ss->p_better));
+    json_object_set_new(o, "ea_minus_reference_kJ_mol", num(ss->ea_diff.est / 1000.0));
+    json_object_set_new(o, "ea_minus_reference_kJ_mol_ci",
+                        self ? json_null() : pair(ss->ea_diff.lo, ss->ea_diff.hi, 1e-3));
+}
+
 json_t *arrank_sample_stats_json(const arrank_analysis *a, size_t index)
 {
     const arrank_result *res = &a->results[index];
@@ -59,8 +99,14 @@ json_t *arrank_sample_stats_json(const arrank_analysis *a, size_t index)
     json_t *o = json_object();
     if (!o)
         return NULL;
+    if (a->campaign->n_parts) /* several campaigns: where the sample came from */
+        json_object_set_new(o, "campaign",
+                            json_string(a->campaign->part_names[arrank_campaign_part(
+                                a->campaign, index)]));
     if (!ss)
         return o;
+    if (ss->has_reference)
+        reference_keys(o, ss);
     if (rs && res->rank > 0) {
         json_object_set_new(o, "p_best", num(ss->p_best));
         json_object_set_new(o, "group", ss->group > 0 ? json_integer(ss->group) : json_null());
@@ -87,10 +133,72 @@ json_t *arrank_sample_stats_json(const arrank_analysis *a, size_t index)
     return o;
 }
 
+void arrank_reference_drift_words(const arrank_analysis *a, size_t k, char *buf, size_t n)
+{
+    const struct arrank_reference_stats *rs = a->reference;
+    buf[0] = '\0';
+    if (!rs || k == 0 || k >= rs->n_campaigns)
+        return;
+    const arrank_reference_campaign *rc = &rs->campaigns[k], *first = &rs->campaigns[0];
+    const arrank_contrast *d = &rc->to_first;
+    if (!isfinite(d->est) || !isfinite(d->lo) || !isfinite(d->hi)) {
+        snprintf(buf, n, "the reference's rate in %s cannot be set against %s's", rc->campaign,
+                 first->campaign);
+        return;
+    }
+    /* percent change of the ratio and of its interval's ends */
+    const double pc = 100.0 * (exp(d->est) - 1.0), lo = 100.0 * (exp(d->lo) - 1.0),
+                 hi = 100.0 * (exp(d->hi) - 1.0), level = 100.0 * a->options.confidence;
+    const char *way = pc < 0 ? "lower" : "higher";
+    if (lo > 0.0 || hi < 0.0) /* the interval excludes no change */
+        snprintf(buf, n, "the reference ran %.0f %% %s in %s than in %s; %g %% interval "
+                 "%.0f-%.0f %%",
+                 fabs(pc), way, rc->campaign, first->campaign, level,
+                 pc < 0 ? fabs(hi) : lo, pc < 0 ? fabs(lo) : hi);
+    else
+        snprintf(buf, n, "the reference ran %.0f %% %s in %s than in %s; %g %% interval "
+                 "%.0f %% lower to %.0f %% higher: no drift shown",
+                 fabs(pc), way, rc->campaign, first->campaign, level, fabs(lo), hi);
+}
+
+static json_t *reference_json(const arrank_analysis *a)
+{
+    const struct arrank_reference_stats *rs = a->reference;
+    json_t *o = json_object();
+    json_object_set_new(o, "id", json_string(rs->id));
+    json_t *arr = json_array();
+    for (size_t k = 0; k < rs->n_campaigns; k++) {
+        const arrank_reference_campaign *rc = &rs->campaigns[k];
+        json_t *c = json_object();
+        json_object_set_new(c, "campaign", json_string(rc->campaign));
+        json_object_set_new(c, "rate_at_T", num(rc->rate));
+        json_object_set_new(c, "rate_at_T_ci", pair(rc->rate_lo, rc->rate_hi, 1.0));
+        json_object_set_new(c, "ratio_to_first", num(exp(rc->to_first.est)));
+        json_object_set_new(c, "ratio_to_first_ci",
+                            k ? exp_pair(rc->to_first.lo, rc->to_first.hi) : json_null());
+        char words[512];
+        arrank_reference_drift_words(a, k, words, sizeof words);
+        json_object_set_new(c, "drift", k ? json_string(words) : json_null());
+        json_array_append_new(arr, c);
+    }
+    json_object_set_new(o, "campaigns", arr);
+    json_object_set_new(o, "equal_p", rs->has_equal ? num(rs->equal.p) : json_null());
+    json_object_set_new(o, "equal_F", rs->has_equal ? num(rs->equal.F) : json_null());
+    json_object_set_new(o, "equal_dof", rs->has_equal ? pair(rs->equal.df1, rs->equal.df2, 1.0)
+                                                      : json_null());
+    json_object_set_new(o, "equal_test",
+                        json_string("Welch's test of equal means with unequal variances on the "
+                                    "reference's ln r at T in each campaign"));
+    json_object_set_new(o, "pooled", json_boolean(rs->pooled));
+    return o;
+}
+
 json_t *arrank_rank_stats_json(const arrank_analysis *a)
 {
     const struct arrank_rank_stats *rs = a->rank_stats;
     json_t *o = json_object();
+    if (o && a->reference)
+        json_object_set_new(o, "reference", reference_json(a));
     if (!o || !rs)
         return o;
     json_t *u = json_object();

@@ -26,6 +26,7 @@
 #define _XOPEN_SOURCE 700
 
 #include "arrank/report.h"
+#include "reference_out.h"
 
 #include <dirent.h>
 #include <errno.h>
@@ -418,9 +419,10 @@ static const char *unit_of(const arrank_analysis *a)
     return a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit : "report unit";
 }
 
-static void put_swatch(FILE *f, size_t i)
+static void put_swatch(FILE *f, const arrank_analysis *a, size_t i)
 {
-    fprintf(f, "<span class=\"swatch\" style=\"background:%s\"></span>", arrank_plot_color(i));
+    fprintf(f, "<span class=\"swatch\" style=\"background:%s\"></span>",
+            arrank_plot_sample_color(a, i)); /* the reference: black, as in the figures */
 }
 
 static void put_flag_names(FILE *f, unsigned flags)
@@ -500,7 +502,7 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
             else
                 fputs("&ndash;", f);
             fputs("</td><td>", f);
-            put_swatch(f, i);
+            put_swatch(f, a, i);
             html_text(f, r->sample->id);
             fputs("</td>", f);
             if (r->error) {
@@ -780,7 +782,7 @@ static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure
     const arrank_result *r = &a->results[i];
     const arrank_sample *s = r->sample;
     fprintf(f, "<section class=\"sample\">\n<h3 id=\"sample-%zu\">", i + 1);
-    put_swatch(f, i);
+    put_swatch(f, a, i);
     html_text(f, s->id);
     fputs("</h3>\n<p>File <code>", f);
     html_text(f, s->file);
@@ -999,6 +1001,7 @@ static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_opti
         html_text(f, fs->message);
         fputs(".</p>\n", f);
     }
+    arrank_reference_html_write(a, f); /* the reference leads (reference_out.c) */
     fputs("<h2>Ranking</h2>\n", f);
     put_ranking(f, a);
     put_figure(f, fs, ARRANK_FIGURE_RATE_AT_T, (size_t)-1);

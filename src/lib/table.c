@@ -379,6 +379,14 @@ static char *put_rank_cells(const arrank_table_ctx *tc, const arrank_result *res
    the operating temperature lies outside the measured range), or "-". */
 char *arrank_table_put_flags(const arrank_result *res, char *p)
 {
+    if (res->stats && res->stats->is_reference) { /* the reference catalyst's row */
+        memcpy(p, "REFERENCE", 9);
+        p += 9;
+        if (!res->flags)
+            return p;
+        *p++ = ',';
+        *p++ = ' ';
+    }
     if (!res->flags) {
         *p++ = '-';
         return p;
@@ -688,6 +696,7 @@ void arrank_table_intro(const arrank_table_ctx *tc, FILE *f)
                 o->operating_temp_K - 273.15, a->n_ranked ? ", ranked by " : "",
                 a->n_ranked ? (o->by == ARRANK_BY_EA ? "lowest Ea"
                                : o->by == ARRANK_BY_PREFACTOR ? "highest pre-exponential factor"
+                               : o->by == ARRANK_BY_RATIO ? "rate as a ratio to the reference's"
                                                               : "rate at the operating temperature")
                             : "");
     fputc('\n', f);

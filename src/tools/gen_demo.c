@@ -11,6 +11,16 @@
  *   gen_demo DIR        write DIR/campaign.ini and DIR/<sample>.csv
  *   gen_demo --truth    print the true parameters: id, Ea [kJ/mol],
  *                       ln A [ln(umol/(g*s))], clean (1/0), flaw
+ *   gen_demo --batch2 DIR   write the second, later batch (below)
+ *   gen_demo --truth2   the second batch's true parameters, as measured on
+ *                       the drifted rig (the drift included), same columns
+ *
+ * The second batch (invented): the same rig months later, whose rates now
+ * read BATCH2_DRIFT times the truth (a flow meter out of calibration), with
+ * the reference catalyst ZN-01 H-beta tested again, ZN-03 USY tested again
+ * after regeneration (unchanged), ZN-09 beta-desilicated after ageing
+ * (activity BATCH2_AGED of the fresh one, Ea unchanged) and two new samples.
+ * Its campaign.ini names the reference.
  *
  * Three samples carry a flaw by design, for the diagnostics (flaw column):
  *  - transport: pore diffusion in spherical pellets, rate = eta k with the
@@ -100,6 +110,25 @@ static const sample_spec samples[] = {
      0, 1, "heating then cooling ramp; sintering suspected", 0, FLAW_DEACTIVATION},
     {"ZN-14 high-load ZSM-5", 84.0, 2.50, 230, 310, 9, 0.03, UNIT_DEGC, "umol/(g*s)", 1.0, ',', 0,
      0, 0, 0, 0, "30 wt% Ni, same bed size as the others", 0, FLAW_CONVERSION},
+};
+
+/* The second batch: the rig's reading against the truth, the aged sample's
+   activity against its fresh one, the seed.  All invented. */
+#define BATCH2_DRIFT 0.82
+#define BATCH2_AGED 0.70
+#define BATCH2_SEED 20261202UL
+
+static const sample_spec batch2[] = {
+    {"ZN-01 H-beta", 62.0, 3.10 * BATCH2_DRIFT, 230, 310, 9, 0.04, UNIT_DEGC, "umol/(g*s)", 1.0,
+     ',', 0, 0, 0, 0, 0, "reference, tested again", 1, FLAW_NONE},
+    {"ZN-03 USY", 47.0, 5.35 * BATCH2_DRIFT, 220, 300, 9, 0.05, UNIT_DEGC, "umol/(g*s)", 1.0, ',',
+     0, 0, 0, 0, 0, "regenerated in air at 500 C, tested again", 1, FLAW_NONE},
+    {"ZN-09 beta-desilicated", 67.0, 5.90 * BATCH2_DRIFT * BATCH2_AGED, 220, 290, 8, 0.06, UNIT_K,
+     "mol/(kg*h)", 3.6, ',', 0, 0, 0, 0, 0, "after 200 h on stream", 1, FLAW_NONE},
+    {"ZN-15 Ni-USY steamed", 52.0, 4.80 * BATCH2_DRIFT, 220, 300, 8, 0.04, UNIT_DEGC,
+     "umol/(g*s)", 1.0, ',', 0, 0, 0, 0, 0, NULL, 1, FLAW_NONE},
+    {"ZN-16 Ni-beta nanocrystals", 64.0, 4.10 * BATCH2_DRIFT, 225, 305, 8, 0.04, UNIT_DEGC,
+     "umol/(g*s)", 1.0, ',', 0, 0, 0, 0, 0, NULL, 1, FLAW_NONE},
 };
 
 static double ln_rate_true(const sample_spec *s, double T_K)
@@ -213,6 +242,35 @@ static int write_sample(const char *dir, const sample_spec *s, gsl_rng *rng)
     return 0;
 }
 
+/* The second batch into dir (the heading comment). */
+static int write_batch2(const char *dir)
+{
+    mkdir(dir, 0777);
+    char path[1024];
+    snprintf(path, sizeof path, "%s/campaign.ini", dir);
+    FILE *f = fopen(path, "w");
+    if (!f) {
+        perror(path);
+        return 1;
+    }
+    fprintf(f, "; Invented second batch of the demo: the same rig months later.\n"
+               "; Written by src/tools/gen_demo.c --batch2 from stated true parameters.\n"
+               "[campaign]\n"
+               "title = Ni on zeolites, second batch (demo)\n"
+               "operating_temperature = 270 degC\n"
+               "rate_unit = umol/(g*s)\n"
+               "confidence = 0.95\n"
+               "reference = ZN-01 H-beta\n");
+    fclose(f);
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    gsl_rng_set(rng, BATCH2_SEED);
+    int bad = 0;
+    for (size_t i = 0; i < sizeof batch2 / sizeof *batch2; i++)
+        bad |= write_sample(dir, &batch2[i], rng);
+    gsl_rng_free(rng);
+    return bad;
+}
+
 int main(int argc, char **argv)
 {
     gsl_set_error_handler_off();
@@ -224,8 +282,18 @@ int main(int argc, char **argv)
                    ln_A_true(&samples[i]), samples[i].clean, flaw_names[samples[i].flaw]);
         return 0;
     }
+    if (argc == 2 && strcmp(argv[1], "--truth2") == 0) {
+        printf("# id\tEa [kJ/mol]\tln A [ln(umol/(g*s))]\tclean\tflaw\n");
+        for (size_t i = 0; i < sizeof batch2 / sizeof *batch2; i++)
+            printf("%s\t%.6f\t%.9f\t%d\t%s\n", batch2[i].id, batch2[i].ea_kJ_mol,
+                   ln_A_true(&batch2[i]), batch2[i].clean, flaw_names[batch2[i].flaw]);
+        return 0;
+    }
+    if (argc == 3 && strcmp(argv[1], "--batch2") == 0)
+        return write_batch2(argv[2]);
     if (argc != 2 || argv[1][0] == '-') {
-        fprintf(stderr, "usage: gen_demo DIR | gen_demo --truth\n");
+        fprintf(stderr, "usage: gen_demo DIR | gen_demo --batch2 DIR | gen_demo --truth | "
+                        "gen_demo --truth2\n");
         return 2;
     }
     const char *dir = argv[1];

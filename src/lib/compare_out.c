@@ -1,0 +1,384 @@
+/*
+ * compare_out.c - `compare` as a table for people, JSON and CSV
+ * (arrank/compare.h).  The numbers are the pipeline's (analysis_compare.c);
+ * the writers only print them.
+ */
+#include "arrank/compare_out.h"
+
+#include <jansson.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "arrank/cautions.h"
+#include "arrank/text.h"
+#include "arrank/version.h"
+#include "files.h"
+#include "number.h"
+
+#define NAME_SHOWN 40
+
+static void shown(const char *text, char *buf, size_t n)
+{
+    char esc[4 * NAME_SHOWN + 8];
+    arrank_text_escape(text, esc, sizeof esc);
+    if (strlen(esc) > NAME_SHOWN)
+        memcpy(esc + NAME_SHOWN - 3, "...", 4);
+    snprintf(buf, n, "%s", esc);
+}
+
+/* Percent change of a ratio, "+12 %" or "-30 %". */
+static void percent(double ratio, char *buf, size_t n)
+{
+    snprintf(buf, n, "%+.0f %%", 100.0 * (ratio - 1.0));
+}
+
+static void table_row(const arrank_comparison *c, const arrank_compare_row *r, int w, FILE *f)
+{
+    char name[NAME_SHOWN + 8];
+    shown(r->id, name, sizeof name);
+    if (!r->compared) {
+        if (isfinite(r->ratio_measured)) /* the reference: its rates as measured */
+            fprintf(f, "%-*s  %-10.3g  %-10.3g  %-24.3g %-7s  not compared: %s\n", w, name,
+                    r->rate_a, r->rate_b, r->ratio_measured, "", r->why_not);
+        else
+            fprintf(f, "%-*s  not compared: %s\n", w, name, r->why_not);
+        return;
+    }
+    (void)c;
+    char ratio[96], change[32], ea[96];
+    snprintf(ratio, sizeof ratio, "%.3g [%.3g, %.3g]", r->ratio, r->ratio_lo, r->ratio_hi);
+    percent(r->ratio, change, sizeof change);
+    snprintf(ea, sizeof ea, "%+.1f [%+.1f, %+.1f]", r->ea.est / 1e3, r->ea.lo / 1e3,
+             r->ea.hi / 1e3);
+    fprintf(f, "%-*s  %-10.3g  %-10.3g  %-24s %-7s  %-9s  %-24s %s\n", w, name, r->rate_a,
+            r->rate_b, ratio, change, r->changed ? "changed" : "-", ea,
+            r->ea_changed ? "changed" : "-");
+}
+
+static void unmatched_line(const char *campaign, const char *const *ids, size_t n, FILE *f)
+{
+    if (!n)
+        return;
+    char name[NAME_SHOWN + 8];
+    shown(campaign, name, sizeof name);
+    fprintf(f, "only in %s:", name);
+    for (size_t i = 0; i < n; i++) {
+        char id[NAME_SHOWN + 8];
+        shown(ids[i], id, sizeof id);
+        fprintf(f, "%s %s", i ? "," : "", id);
+    }
+    fputc('\n', f);
+}
+
+static arrank_status write_table(const arrank_comparison *c, FILE *f)
+{
+    const arrank_campaign *A = c->a->campaign, *B = c->b->campaign;
+    char na[NAME_SHOWN + 8], nb[NAME_SHOWN + 8], unit[256];
+    shown(A->name, na, sizeof na);
+    shown(B->name, nb, sizeof nb);
+    arrank_text_escape(A->rate_unit, unit, sizeof unit);
+    fprintf(f, "compare '%s' (A) with '%s' (B): %zu sample%s in both, %g%% intervals\n", na, nb,
+            c->n_rows, c->n_rows == 1 ? "" : "s", 100.0 * c->confidence);
+    fprintf(f, "operating temperature %.2f K (%.2f degC); rates in %s\n", c->temp_K,
+            c->temp_K - 273.15, unit);
+    if (c->reference) {
+        char ref[NAME_SHOWN + 8];
+        shown(c->reference, ref, sizeof ref);
+        fprintf(f, "B / A: each rate first taken relative to its own campaign's reference %s "
+                   "(the rig's drift corrected); rate A and rate B as measured\n", ref);
+    }
+    fputc('\n', f);
+    int w = 6;
+    for (size_t i = 0; i < c->n_rows; i++) {
+        char name[NAME_SHOWN + 8];
+        shown(c->rows[i].id, name, sizeof name);
+        if ((int)strlen(name) > w)
+            w = (int)strlen(name);
+    }
+    fprintf(f, "%-*s  %-10s  %-10s  %-24s %-7s  %-9s  %-24s %s\n", w, "sample", "rate A",
+            "rate B", "B / A", "change", "verdict", "Ea B - A [kJ/mol]", "verdict");
+    for (size_t i = 0; i < c->n_rows; i++)
+        table_row(c, &c->rows[i], w, f);
+    fprintf(f, "\n%zu of %zu compared sample%s changed in rate at T, %zu in Ea (two-sided tests, "
+               "Holm's correction across the %zu samples, %g%%)\n",
+            c->n_changed, c->n_tests, c->n_tests == 1 ? "" : "s", c->n_ea_changed, c->n_tests,
+            100.0 * (1.0 - c->confidence));
+    unmatched_line(A->name, c->only_a, c->n_only_a, f);
+    unmatched_line(B->name, c->only_b, c->n_only_b, f);
+    fprintf(f, "\nCaution: %s.\n", ARRANK_CAUTION_APPARENT);
+    return ferror(f) ? ARRANK_EIO : ARRANK_OK;
+}
+
+static json_t *num(double x)
+{
+    return isfinite(x) ? json_real(x) : json_null();
+}
+
+static json_t *pair(double lo, double hi, double scale)
+{
+    if (!isfinite(lo) || !isfinite(hi))
+        return json_null();
+    return json_pack("[o, o]", num(lo * scale), num(hi * scale));
+}
+
+static json_t *ids_json(const char *const *ids, size_t n)
+{
+    json_t *arr = json_array();
+    for (size_t i = 0; arr && i < n; i++)
+        json_array_append_new(arr, json_string(ids[i]));
+    return arr;
+}
+
+static json_t *row_json(const arrank_compare_row *r)
+{
+    json_t *o = json_object();
+    if (!o)
+        return NULL;
+    json_object_set_new(o, "id", json_string(r->id));
+    json_object_set_new(o, "compared", json_boolean(r->compared));
+    json_object_set_new(o, "why_not", r->why_not ? json_string(r->why_not) : json_null());
+    json_object_set_new(o, "rate_at_T_a", num(r->rate_a));
+    json_object_set_new(o, "rate_at_T_b", num(r->rate_b));
+    json_object_set_new(o, "ratio", num(r->ratio));
+    json_object_set_new(o, "ratio_ci", pair(r->ratio_lo, r->ratio_hi, 1.0));
+    json_object_set_new(o, "ratio_dof", num(r->ln_ratio.dof));
+    json_object_set_new(o, "ratio_measured", num(r->ratio_measured));
+    json_object_set_new(o, "p", num(r->ln_ratio.p));
+    json_object_set_new(o, "p_holm", num(r->p_holm));
+    json_object_set_new(o, "changed", r->compared ? json_boolean(r->changed) : json_null());
+    json_object_set_new(o, "ea_change_kJ_mol", num(r->ea.est / 1e3));
+    json_object_set_new(o, "ea_change_kJ_mol_ci", pair(r->ea.lo, r->ea.hi, 1e-3));
+    json_object_set_new(o, "ea_change_dof", num(r->ea.dof));
+    json_object_set_new(o, "ea_p", num(r->ea.p));
+    json_object_set_new(o, "ea_p_holm", num(r->ea_p_holm));
+    json_object_set_new(o, "ea_changed", r->compared ? json_boolean(r->ea_changed)
+                                                     : json_null());
+    return o;
+}
+
+static arrank_status write_json(const arrank_comparison *c, FILE *f, arrank_error *err)
+{
+    json_t *root = json_object();
+    if (!root)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    json_object_set_new(root, "program", json_string("arrank"));
+    json_object_set_new(root, "version", json_string(ARRANK_VERSION));
+    json_object_set_new(root, "campaign_a", json_string(c->a->campaign->name));
+    json_object_set_new(root, "campaign_b", json_string(c->b->campaign->name));
+    json_object_set_new(root, "operating_temperature_K", num(c->temp_K));
+    json_object_set_new(root, "rate_unit", json_string(c->a->campaign->rate_unit));
+    json_object_set_new(root, "confidence", num(c->confidence));
+    json_object_set_new(root, "reference", c->reference ? json_string(c->reference)
+                                                        : json_null());
+    json_object_set_new(root, "holm_tests", json_integer((json_int_t)c->n_tests));
+    json_object_set_new(root, "test",
+                        json_string("two-sided Welch t tests of ln r_B(T) - ln r_A(T) and of "
+                                    "Ea_B - Ea_A, Holm's correction across the compared "
+                                    "samples, each quantity its own family"));
+    json_t *rows = json_array();
+    for (size_t i = 0; rows && i < c->n_rows; i++)
+        json_array_append_new(rows, row_json(&c->rows[i]));
+    json_object_set_new(root, "samples", rows);
+    json_t *un = ids_json(c->only_a, c->n_only_a), *un_b = ids_json(c->only_b, c->n_only_b);
+    json_array_extend(un, un_b); /* copies: un_b is still ours */
+    json_decref(un_b);
+    json_object_set_new(root, "unmatched", un);
+    json_object_set_new(root, "unmatched_a", ids_json(c->only_a, c->n_only_a));
+    json_object_set_new(root, "unmatched_b", ids_json(c->only_b, c->n_only_b));
+    json_object_set_new(root, "cautions", json_pack("[s]", ARRANK_CAUTION_APPARENT));
+    int bad = json_dumpf(root, f, JSON_INDENT(2) | JSON_REAL_PRECISION(15) |
+                                      JSON_PRESERVE_ORDER) != 0;
+    json_decref(root);
+    bad |= fputc('\n', f) == EOF;
+    return bad || ferror(f) ? arrank_errorf(err, ARRANK_EIO, "write failed") : ARRANK_OK;
+}
+
+static arrank_status write_csv(const arrank_comparison *c, FILE *f, arrank_error *err)
+{
+    arrank_csv_row *row = malloc(sizeof *row);
+    if (!row)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    row->f = f;
+    row->n = 0;
+    fprintf(f, "# caution: %s\n", ARRANK_CAUTION_APPARENT);
+    const char *u = c->a->campaign->rate_unit;
+    char h[2][200];
+    snprintf(h[0], sizeof h[0], "rate_at_T_a [%s]", u);
+    snprintf(h[1], sizeof h[1], "rate_at_T_b [%s]", u);
+    const char *cols[] = {"id", "compared", "why_not", h[0], h[1], "ratio", "ratio_ci_low",
+                          "ratio_ci_high", "ratio_measured", "p", "p_holm", "changed", "ea_change [kJ/mol]",
+                          "ea_change_ci_low [kJ/mol]", "ea_change_ci_high [kJ/mol]", "ea_p",
+                          "ea_p_holm", "ea_changed", "T_op [K]", "confidence"};
+    const size_t nc = sizeof cols / sizeof *cols;
+    for (size_t i = 0; i < nc; i++)
+        arrank_files_csv_field(row, cols[i], i + 1 == nc);
+    for (size_t i = 0; i < c->n_rows; i++) {
+        const arrank_compare_row *r = &c->rows[i];
+        arrank_files_csv_field(row, r->id, 0);
+        arrank_files_csv_field(row, r->compared ? "1" : "0", 0);
+        arrank_files_csv_field(row, r->why_not ? r->why_not : "", 0);
+        const double v[] = {r->rate_a, r->rate_b,     r->ratio,         r->ratio_lo,
+                            r->ratio_hi, r->ratio_measured, r->ln_ratio.p, r->p_holm};
+        for (size_t k = 0; k < sizeof v / sizeof *v; k++)
+            arrank_files_csv_num(row, v[k], 0);
+        arrank_files_csv_field(row, !r->compared ? "" : r->changed ? "1" : "0", 0);
+        const double e[] = {r->ea.est / 1e3, r->ea.lo / 1e3, r->ea.hi / 1e3, r->ea.p,
+                            r->ea_p_holm};
+        for (size_t k = 0; k < sizeof e / sizeof *e; k++)
+            arrank_files_csv_num(row, e[k], 0);
+        arrank_files_csv_field(row, !r->compared ? "" : r->ea_changed ? "1" : "0", 0);
+        arrank_files_csv_num(row, c->temp_K, 0);
+        arrank_files_csv_num(row, c->confidence, 1);
+    }
+    arrank_files_csv_flush(row);
+    free(row);
+    return ferror(f) ? arrank_errorf(err, ARRANK_EIO, "write failed") : ARRANK_OK;
+}
+
+/* ---- the report page ------------------------------------------------------ */
+
+static void html(FILE *f, const char *text)
+{
+    for (const unsigned char *s = (const unsigned char *)(text ? text : ""); *s; s++) {
+        if (*s == '&')
+            fputs("&amp;", f);
+        else if (*s == '<')
+            fputs("&lt;", f);
+        else if (*s == '>')
+            fputs("&gt;", f);
+        else if (*s == '"')
+            fputs("&quot;", f);
+        else if (*s >= 0x20 && *s != 0x7F)
+            fputc(*s, f);
+    }
+}
+
+static void html_ids(FILE *f, const char *campaign, const char *const *ids, size_t n)
+{
+    if (!n)
+        return;
+    fputs("<p>Only in <code>", f);
+    html(f, campaign);
+    fputs("</code>: ", f);
+    for (size_t i = 0; i < n; i++) {
+        fputs(i ? ", " : "", f);
+        html(f, ids[i]);
+    }
+    fputs(".</p>\n", f);
+}
+
+static void html_row(const arrank_compare_row *r, FILE *f)
+{
+    fputs("<tr><td>", f);
+    html(f, r->id);
+    fprintf(f, "</td><td>%.3g</td><td>%.3g</td>", r->rate_a, r->rate_b);
+    if (!r->compared) {
+        fputs("<td colspan=\"4\">not compared: ", f);
+        html(f, r->why_not);
+        fputs("</td></tr>\n", f);
+        return;
+    }
+    fprintf(f, "<td>%.3g [%.3g, %.3g]</td><td>%s</td><td>%+.1f [%+.1f, %+.1f]</td><td>%s</td>"
+               "</tr>\n",
+            r->ratio, r->ratio_lo, r->ratio_hi, r->changed ? "<strong>changed</strong>" : "-",
+            r->ea.est / 1e3, r->ea.lo / 1e3, r->ea.hi / 1e3,
+            r->ea_changed ? "<strong>changed</strong>" : "-");
+}
+
+/* The paired figure, inline: the SVG file's text from its <svg element on. */
+static void inline_svg(FILE *f, const char *svg_path)
+{
+    FILE *in = svg_path ? fopen(svg_path, "r") : NULL;
+    if (!in)
+        return;
+    char buf[8192];
+    size_t n;
+    int started = 0;
+    fputs("<figure>", f);
+    while ((n = fread(buf, 1, sizeof buf - 1, in)) > 0) {
+        buf[n] = '\0';
+        const char *from = buf;
+        if (!started) {
+            const char *at = strstr(buf, "<svg");
+            if (!at)
+                continue; /* the XML declaration and doctype, before it */
+            from = at;
+            started = 1;
+        }
+        fwrite(from, 1, n - (size_t)(from - buf), f);
+    }
+    fclose(in);
+    fputs("<figcaption>One line per sample from its rate at T in A to its rate in B, both "
+          "intervals; solid: changed after Holm's correction.</figcaption></figure>\n", f);
+}
+
+static arrank_status write_html(const arrank_comparison *c, const char *svg_path, FILE *f,
+                                arrank_error *err)
+{
+    const arrank_campaign *A = c->a->campaign, *B = c->b->campaign;
+    fputs("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<title>",
+          f);
+    html(f, A->name);
+    fputs(" and ", f);
+    html(f, B->name);
+    fputs(" compared &ndash; arrank</title>\n<style>body{font-family:sans-serif;max-width:"
+          "60em;margin:2em auto}table{border-collapse:collapse}td,th{padding:.2em .6em;"
+          "border-bottom:1px solid #ddd;text-align:left}svg{max-width:100%;height:auto}"
+          ".caution{border:1px solid #b00;padding:.5em}</style>\n</head>\n<body>\n"
+          "<h1>Comparison of two campaigns</h1>\n<p>A: <code>", f);
+    html(f, A->name);
+    fputs("</code>, B: <code>", f);
+    html(f, B->name);
+    fprintf(f, "</code>; rates at %.2f K in ", c->temp_K);
+    html(f, A->rate_unit);
+    fprintf(f, "; %g %% intervals (independent fits, Welch degrees of freedom); verdicts "
+               "after Holm's correction across the %zu compared samples.", 100 * c->confidence,
+            c->n_tests);
+    if (c->reference) {
+        fputs(" B/A: each rate first taken relative to its own campaign's reference <code>", f);
+        html(f, c->reference);
+        fputs("</code>.", f);
+    }
+    fprintf(f, "</p>\n<p class=\"caution\">Caution: %s.</p>\n", ARRANK_CAUTION_APPARENT);
+    fputs("<table>\n<tr><th>sample</th><th>rate A</th><th>rate B</th><th>B / A</th>"
+          "<th>verdict</th><th>Ea B &minus; A [kJ/mol]</th><th>verdict</th></tr>\n", f);
+    for (size_t i = 0; i < c->n_rows; i++)
+        html_row(&c->rows[i], f);
+    fputs("</table>\n", f);
+    html_ids(f, A->name, c->only_a, c->n_only_a);
+    html_ids(f, B->name, c->only_b, c->n_only_b);
+    inline_svg(f, svg_path);
+    fputs("</body>\n</html>\n", f);
+    return ferror(f) ? arrank_errorf(err, ARRANK_EIO, "write failed") : ARRANK_OK;
+}
+
+arrank_status arrank_compare_html_write(const arrank_comparison *c, const char *svg_path,
+                                        FILE *f, arrank_error *err)
+{
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    arrank_status st = write_html(c, svg_path, f, err);
+    arrank_numbers_c_leave(&env);
+    return st;
+}
+
+arrank_status arrank_compare_write(const arrank_comparison *c, arrank_compare_format format,
+                                   FILE *f, arrank_error *err)
+{
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    arrank_status st;
+    switch (format) {
+    case ARRANK_COMPARE_JSON: st = write_json(c, f, err); break;
+    case ARRANK_COMPARE_CSV: st = write_csv(c, f, err); break;
+    case ARRANK_COMPARE_TABLE:
+        st = write_table(c, f);
+        if (st != ARRANK_OK)
+            st = arrank_errorf(err, st, "write failed");
+        break;
+    default: st = arrank_errorf(err, ARRANK_EINVAL, "unknown format %d", (int)format);
+    }
+    arrank_numbers_c_leave(&env);
+    return st;
+}
