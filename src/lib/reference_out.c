@@ -26,17 +26,26 @@ static void shown_id(const char *id, char *buf, size_t n)
     snprintf(buf, n, "%s", esc);
 }
 
-static void row(const arrank_analysis *a, const arrank_result *res, int w, FILE *f)
+/* The ratio cell: "1.89 [1.77, 2.02]", or what stands for it. */
+static void ratio_text(const struct arrank_sample_stats *ss, char *buf, size_t n)
+{
+    if (ss->is_reference)
+        snprintf(buf, n, "1 (the reference)");
+    else if (ss->has_ratio)
+        snprintf(buf, n, "%.3g [%.3g, %.3g]", exp(ss->ratio.est), exp(ss->ratio.lo),
+                 exp(ss->ratio.hi));
+    else
+        snprintf(buf, n, "-");
+}
+
+/* w: the id column's width, rw: the ratio column's */
+static void row(const arrank_analysis *a, const arrank_result *res, int w, int rw, FILE *f)
 {
     const struct arrank_sample_stats *ss = res->stats;
-    char name[NAME_MAX_SHOWN + 8], ratio[96] = "-", pb[32] = "-", ea[96] = "-";
+    char name[NAME_MAX_SHOWN + 8], ratio[96], pb[32] = "-", ea[96] = "-";
     shown_id(res->sample->id, name, sizeof name);
-    if (ss->is_reference) {
-        snprintf(ratio, sizeof ratio, "1 (the reference)");
-    } else {
-        if (ss->has_ratio)
-            snprintf(ratio, sizeof ratio, "%.3g [%.3g, %.3g]", exp(ss->ratio.est),
-                     exp(ss->ratio.lo), exp(ss->ratio.hi));
+    ratio_text(ss, ratio, sizeof ratio);
+    if (!ss->is_reference) {
         if (isfinite(ss->p_better))
             snprintf(pb, sizeof pb, "%.3f", ss->p_better);
         if (isfinite(ss->ea_diff.est))
@@ -44,7 +53,7 @@ static void row(const arrank_analysis *a, const arrank_result *res, int w, FILE 
                      ss->ea_diff.lo / 1e3, ss->ea_diff.hi / 1e3);
     }
     (void)a;
-    fprintf(f, "  %-*s  %-26s  %-9s  %s\n", w, name, ratio, pb, ea);
+    fprintf(f, "  %-*s  %-*s  %-9s  %s\n", w, name, rw, ratio, pb, ea);
 }
 
 /* The reference per campaign, its drift and the test of equality. */
@@ -86,30 +95,35 @@ arrank_status arrank_reference_table_write(const arrank_analysis *a, FILE *f, ar
     const struct arrank_reference_stats *rs = a->reference;
     if (!rs)
         return ARRANK_OK;
-    int w = 6;
+    int w = 6, rw = (int)strlen("rate / reference's");
     for (size_t i = 0; i < a->n_results; i++) {
-        char name[NAME_MAX_SHOWN + 8];
+        const struct arrank_sample_stats *ss = a->results[i].stats;
+        if (!ss || !ss->has_reference)
+            continue;
+        char name[NAME_MAX_SHOWN + 8], ratio[96];
         shown_id(a->results[i].sample->id, name, sizeof name);
-        if (a->results[i].stats && a->results[i].stats->has_reference &&
-            (int)strlen(name) > w)
+        ratio_text(ss, ratio, sizeof ratio);
+        if ((int)strlen(name) > w)
             w = (int)strlen(name);
+        if ((int)strlen(ratio) > rw)
+            rw = (int)strlen(ratio);
     }
     char ref[NAME_MAX_SHOWN + 8];
     shown_id(rs->id, ref, sizeof ref);
     fprintf(f, "\nagainst the reference %s (%g%% intervals; Welch degrees of freedom):\n", ref,
             100.0 * a->options.confidence);
-    fprintf(f, "  %-*s  %-26s  %-9s  %s\n", w, "sample", "rate / reference's",
+    fprintf(f, "  %-*s  %-*s  %-9s  %s\n", w, "sample", rw, "rate / reference's",
             "P(better)", "Ea - reference's [kJ/mol]");
     /* ranked samples in rank order, then the others in file order, as the table */
     for (size_t k = 0; k < a->n_ranked; k++) {
         const arrank_result *res = &a->results[a->order[k]];
         if (res->stats && res->stats->has_reference)
-            row(a, res, w, f);
+            row(a, res, w, rw, f);
     }
     for (size_t i = 0; i < a->n_results; i++) {
         const arrank_result *res = &a->results[i];
         if (res->rank == 0 && res->stats && res->stats->has_reference)
-            row(a, res, w, f);
+            row(a, res, w, rw, f);
     }
     campaigns(a, f);
     if (ferror(f))
