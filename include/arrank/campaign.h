@@ -47,6 +47,9 @@ typedef struct {
        samples with `skipped` set. */
     char **unused;
     size_t n_unused;
+    /* campaign.ini max_temperature: the reactor's or the safety limit that a
+       plan (arrank/analysis_plan.h) never goes above; NAN if unset */
+    double max_temp_K;
 } arrank_campaign;
 
 /* How a folder is read (arrank_campaign_load_with). */

@@ -35,8 +35,12 @@ enum {
     OPT_MODEL = 1u << 6,      /* --errors, --model */
     OPT_OUT_DIR = 1u << 7,    /* --out DIR */
     OPT_FORMAT = 1u << 8,     /* --format svg|png|pdf (repeatable) */
-    OPT_READ = 1u << 9        /* --strict, --no-merge: every command that reads a campaign */
+    OPT_READ = 1u << 9,       /* --strict, --no-merge: every command that reads a campaign */
+    OPT_PLAN = 1u << 10       /* --budget, --goal, --target, --width, --step, --reach,
+                                 --max-temperature, --simulations, --sample, --run-sheet */
 };
+
+#define CLI_MAX_PLAN_SAMPLES 64
 
 #define CLI_MAX_FORMATS 8
 
@@ -55,6 +59,12 @@ typedef struct {
     int by_given;
     arrank_options options;
     arrank_load_options load; /* --strict, --no-merge */
+    /* arrank plan: the options as written, read by cmd_plan.c (NULL: not given) */
+    const char *plan_opt[8];  /* budget, goal, target, width, step, reach, max-temperature,
+                                 simulations, in the order of cli_plan_option_names */
+    const char *run_sheet_path;
+    const char *plan_samples[CLI_MAX_PLAN_SAMPLES];
+    size_t n_plan_samples;
     int argc;                 /* the whole command line, for the report */
     char **argv;
 } cli_args;
@@ -168,5 +178,9 @@ int cmd_rank(int argc, char **argv);
 int cmd_check(int argc, char **argv);
 int cmd_plot(int argc, char **argv);
 int cmd_report(int argc, char **argv);
+int cmd_plan(int argc, char **argv);
+
+/* The names of the plan options held in cli_args.plan_opt, in its order. */
+extern const char *const cli_plan_option_names[8];
 
 #endif

@@ -14,6 +14,7 @@ static const cli_command commands[] = {
     {"check", cmd_check, "say what is wrong with each sample's data, and which points are kinetic"},
     {"plot", cmd_plot, "draw the review figures (gnuplot) with results.json/.csv"},
     {"report", cmd_report, "write a self-contained HTML review report"},
+    {"plan", cmd_plan, "plan the next runs: samples, temperatures and repeats to settle a ranking"},
 };
 
 static void list_commands(FILE *f)

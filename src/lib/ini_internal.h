@@ -23,6 +23,7 @@ typedef struct {
     char *title;
     double operating_temp_K;
     double confidence;
+    double max_temp_K;  /* [campaign] max_temperature: the reactor's or safety limit */
     char *rate_unit;    /* udunits spelling of [campaign] rate_unit */
     arrank_basis basis; /* basis of rate_unit */
     char **notes;       /* "campaign.ini:LINE: ..." for keys ignored */

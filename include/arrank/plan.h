@@ -1,0 +1,178 @@
+/*
+ * arrank/plan.h - planning the next runs: the statistics, on arrays.
+ *
+ * Each sample is seen through the sufficient statistics of its weighted
+ * line ln r = b0 + b1 x, x = 1/T - 1/T_ref (fit.h): the information matrix
+ * M = X'WX of its points, (b0, b1), the weighted residual sum of squares and
+ * the degrees of freedom.  Adding runs changes them in closed form:
+ * M' = M + sum w g g' (g = (1, x) of each new run), b' = M'^-1 (M b + sum w g y),
+ * RSS' = RSS + (b - b')' M (b - b') + sum w (y - g'b')^2, dof' = dof + runs,
+ * which is the weighted least-squares refit on the old and new points
+ * together (the normal equations; Seber & Lee, Linear Regression Analysis,
+ * 2nd ed., sec. 10.1, updating formulas).  The expected variance of ln r(T)
+ * after the runs is s^2 g'M'^-1 g with the sample's current residual variance
+ * s^2.
+ *
+ * The allocation (arrank_plan_allocate) adds one run at a time where the
+ * goal's planning score gains most (greedy); the check
+ * (arrank_plan_simulate) is a preposterior simulation: parameters and
+ * scatter drawn from each fit's distribution (the normal-inverse-chi-square
+ * posterior of a linear model under the usual noninformative prior: sigma^2
+ * = s^2 dof / chi2_dof, (b0, b1) normal around the fit with covariance
+ * sigma^2 M^-1; Gelman et al., Bayesian Data Analysis, 3rd ed., sec. 14.2),
+ * the planned runs measured with that scatter, the samples refitted and
+ * re-ranked, and the share of simulations in which the goal is met.
+ *
+ * The plan (arrank_plan, made by arrank_analysis_plan in
+ * arrank/analysis_plan.h) is what the writers (plan_out.h, plot_plan.h) read.
+ */
+#ifndef ARRANK_PLAN_H
+#define ARRANK_PLAN_H
+
+#include <stddef.h>
+
+#include "arrank/error.h"
+#include "arrank/fit.h"
+
+/* What the new runs are for. */
+typedef enum {
+    ARRANK_GOAL_SEPARATE = 0,  /* tell the leader apart from the rest of its group */
+    ARRANK_GOAL_PRECISION = 1, /* rate-at-T intervals under a stated relative half width */
+    ARRANK_GOAL_CURVATURE = 2  /* not yet planned (refused with a message) */
+} arrank_plan_goal;
+
+/* One sample as the planner sees it (see the top of this header). */
+typedef struct {
+    double T_ref_K;    /* centring temperature of x */
+    double b0, b1;     /* ln r at T_ref (report unit), d ln r / d(1/T) in K */
+    double info[3];    /* M = X'WX: sum w, sum w x, sum w x^2 (x in 1/K) */
+    double rss;        /* weighted residual sum of squares */
+    double dof;        /* points - 2 */
+    double weight_new; /* weight of one new run: 1 for an unweighted fit */
+} arrank_plan_sample;
+
+/* A planned run: `repeats` measurements of sample `sample` at temp_K. */
+typedef struct {
+    size_t sample;
+    double temp_K;
+    size_t repeats;
+} arrank_plan_run;
+
+/* The goal as the statistics use it. */
+typedef struct {
+    arrank_plan_goal goal;
+    double temp_K;     /* operating temperature: the rates at T compared */
+    double alpha;      /* 1 - the run's confidence (Holm's level, interval level) */
+    double target;     /* separate: P(best) of the leader that also settles it (0.95) */
+    double width;      /* precision: relative half width, 0.05 for +-5 % */
+    size_t n_family;   /* separate: samples in Holm's family (the ranked ones, at most
+                          ARRANK_GROUP_MAX) */
+} arrank_plan_target;
+
+/*
+ * The planner's view of an Arrhenius fit (fit.h): M = s^2 cov^-1 with
+ * s = fit->resid_sd, RSS = s^2 dof.  weight_new: the weight of one new run
+ * in the fit's own weights (1 when unweighted).  EFIT when the fit has no
+ * scatter (s = 0) or its covariance is singular.
+ */
+arrank_status arrank_plan_sample_from_fit(const arrank_arrhenius *fit, double weight_new,
+                                          arrank_plan_sample *out, arrank_error *err);
+
+/*
+ * g'M'^-1 g at temp_K after the runs of `runs` that belong to sample
+ * `which` are added to s (M' as at the top); the expected variance of
+ * ln r(temp_K) is s^2 times it.  NAN when M' is singular.
+ */
+double arrank_plan_var_factor(const arrank_plan_sample *s, size_t which,
+                              const arrank_plan_run *runs, size_t n_runs, double temp_K);
+
+/*
+ * The closed-form refit: s with n new points (temp_K[i], ln_rate[i]), each of
+ * weight s->weight_new, added.  out may alias s.  EFIT when M' is singular.
+ */
+arrank_status arrank_plan_refit(const arrank_plan_sample *s, const double *temp_K,
+                                const double *ln_rate, size_t n, arrank_plan_sample *out,
+                                arrank_error *err);
+
+/* ln r at temp_K of s and its standard error sqrt(RSS/dof g'M^-1 g). */
+void arrank_plan_key(const arrank_plan_sample *s, double temp_K, double *mean, double *se);
+
+/*
+ * 1 when the goal is met by n samples (keys at t->temp_K, any order) with
+ * the involved ones (indices involved[n_involved]; for separate, involved[0]
+ * is the current leader and the rest its group): separate, when the best
+ * key's sample differs from every other sample after Holm's correction at
+ * t->alpha over the first t->n_family in key order (the groups of
+ * arrank/groups.h), or its P(best) reaches t->target (normal approximation,
+ * by quadrature); precision, when every involved sample's interval
+ * exp(+-t se) lies within 1 +- width.  0 when not; -1 out of memory.
+ */
+int arrank_plan_goal_met(const arrank_plan_sample *samples, size_t n, const size_t *involved,
+                         size_t n_involved, const arrank_plan_target *t);
+
+/*
+ * Greedy allocation of `budget` runs over n_cand candidates
+ * (cand_sample[k], cand_temp_K[k]): each run goes where the planning score
+ * gains most, ties to the lower candidate.  Planning score: separate, the
+ * sum over the leader's group of log Phi(|d_j| / se_j - z), the log power of
+ * each pairwise test at the Bonferroni level alpha / (n_family (n_family -
+ * 1) / 2) with the expected standard errors after the runs; precision, the
+ * sum over the involved samples of min(0, ln(1 + width) - t se), t on the
+ * new dof, less 0.001 of the summed half widths (the ties once all are met).
+ * Output: repeats[n_cand] (zeroed first).  EINVAL for bad arguments.
+ */
+arrank_status arrank_plan_allocate(const arrank_plan_sample *samples, size_t n,
+                                   const size_t *involved, size_t n_involved,
+                                   const arrank_plan_target *t, const size_t *cand_sample,
+                                   const double *cand_temp_K, size_t n_cand, size_t budget,
+                                   size_t *repeats, arrank_error *err);
+
+/*
+ * Preposterior probability that the goal is met after the runs: `sims`
+ * simulations as at the top, seeded; the parameters of simulation k are the
+ * same for any runs (their own random stream), so two plans are compared on
+ * common draws.  *p the share of simulations that meet the goal, *p_se its
+ * Monte Carlo standard error sqrt(p (1 - p) / sims).  EINVAL, ENOMEM.
+ */
+arrank_status arrank_plan_simulate(const arrank_plan_sample *samples, size_t n,
+                                   const size_t *involved, size_t n_involved,
+                                   const arrank_plan_target *t, const arrank_plan_run *runs,
+                                   size_t n_runs, size_t sims, unsigned long seed, double *p,
+                                   double *p_se, arrank_error *err);
+
+/* ---- the plan of a campaign (arrank_analysis_plan makes it) ------------- */
+
+/* One involved sample. */
+typedef struct {
+    size_t result;            /* index into arrank_analysis.results */
+    double rate_ci_before[2]; /* rate at T, report unit, at the run's confidence */
+    double rate_ci_expected[2]; /* the same after the planned runs, expected (current
+                                   estimate, expected interval half width) */
+    double allowed_lo_K, allowed_hi_K; /* candidate temperatures lie in here; NAN: none */
+    size_t n_candidates;
+    size_t runs;              /* planned runs of this sample */
+} arrank_plan_entry;
+
+typedef struct {
+    arrank_plan_goal goal;
+    size_t budget;
+    double temp_K;            /* operating temperature */
+    double max_temp_K;        /* the stated limit: no candidate above it */
+    double step_K, reach_K;
+    double confidence, target, width;
+    unsigned long seed;
+    size_t sims;
+    int met_now;              /* 1 when the goal is met before any new run */
+    arrank_plan_entry *entries; /* [n_entries], rank order */
+    size_t n_entries;
+    arrank_plan_run *runs;    /* [n_runs] sample = result index, rank order then temperature */
+    size_t n_runs;
+    arrank_plan_run *naive;   /* [n_naive] the budget spread evenly at the current temperatures */
+    size_t n_naive;
+    double expected_probability, expected_probability_se;
+    double naive_probability, naive_probability_se;
+} arrank_plan;
+
+void arrank_plan_free(arrank_plan *plan);
+
+#endif
