@@ -53,7 +53,7 @@ static void span_of(const arrank_analysis *a, const arrank_plan *p, const arrank
 }
 
 static void put_blocks(FILE *f, const arrank_analysis *a, const arrank_plan *p, double *t_lo,
-                       double *t_hi)
+                       double *t_hi, size_t (*cnt)[2])
 {
     *t_lo = INFINITY;
     *t_hi = -INFINITY;
@@ -61,8 +61,8 @@ static void put_blocks(FILE *f, const arrank_analysis *a, const arrank_plan *p, 
         const arrank_result *r = &a->results[p->entries[j].result];
         double lo, hi;
         span_of(a, p, r, &lo, &hi);
-        arrank_plot_block_points(f, r, j, "pts", 1, 0);
-        arrank_plot_block_points(f, r, j, "pte", 1, 1);
+        cnt[j][0] = arrank_plot_block_points(f, r, j, "pts", 1, 0);
+        cnt[j][1] = arrank_plot_block_points(f, r, j, "pte", 1, 1);
         arrank_plot_block_line(f, r, "fit", j, X_SCALE / hi, X_SCALE / lo, 60);
         fprintf(f, "$run%zu << EOD\n", j);
         size_t n = 0;
@@ -87,7 +87,12 @@ static void put_marks(FILE *f, const arrank_plan *p, double t_lo, double t_hi)
     double x_lo = X_SCALE / fmax(t_hi, p->max_temp_K), x_hi = X_SCALE / t_lo;
     double pad = arrank_plot_min_pad(x_lo, x_hi, 0.04 * (x_hi - x_lo), X_SCALE / t_hi);
     fprintf(f, "set xrange [%.9g:%.9g]\n", x_lo - pad, x_hi + pad);
-    arrank_plot_put_celsius_tics(f, t_lo, fmax(t_hi, p->max_temp_K), 8);
+    /* the top axis in degC, as the Arrhenius figure has it */
+    fputs("set x2label 'T  [°C]'\n"
+          "set link x2 via 1000./x - 273.15 inverse 1000./(x + 273.15)\n"
+          "set xtics nomirror\nset offsets 0, 0, graph 0.12, graph 0.05\n", f);
+    arrank_plot_put_celsius_tics(f, X_SCALE / (x_hi + pad) - ZERO_C_K,
+                                 X_SCALE / (x_lo - pad) - ZERO_C_K, 8.0);
     /* the limit: nothing is planned to the left of this line */
     fprintf(f, "set arrow 1 from %.9g, graph 0 to %.9g, graph 1 nohead lw 2 dt 2 "
                "lc rgb '#b2182b' front\n",
@@ -106,7 +111,8 @@ static void put_marks(FILE *f, const arrank_plan *p, double t_lo, double t_hi)
             X_SCALE / p->temp_K);
 }
 
-static void put_plot(FILE *f, const arrank_analysis *a, const arrank_plan *p)
+static void put_plot(FILE *f, const arrank_analysis *a, const arrank_plan *p,
+                     size_t (*cnt)[2])
 {
     int first = 1;
     for (size_t j = 0; j < p->n_entries; j++) {
@@ -119,12 +125,13 @@ static void put_plot(FILE *f, const arrank_analysis *a, const arrank_plan *p)
         arrank_plot_next_elem(f, &first);
         fprintf(f, "$fit%zu using 1:2 with lines lw 2.2 lc rgb '%s' title ", j, c);
         arrank_plot_put_q(f, arrank_plot_sample_name(r));
-        arrank_plot_next_elem(f, &first);
-        fprintf(f, "$pts%zu using 1:2 with points pt %d ps 1.6*PS lc rgb '%s'", j,
-                arrank_plot_point_type(j, 0), c);
-        arrank_plot_next_elem(f, &first);
-        fprintf(f, "$pte%zu using 1:2 with points pt %d ps 1.6*PS lc rgb '%s'", j,
-                arrank_plot_point_type(j, 0), c);
+        for (int b = 0; b < 2; b++) {
+            if (!cnt[j][b])
+                continue;
+            arrank_plot_next_elem(f, &first);
+            fprintf(f, "$%s%zu using 1:2 with points pt %d ps 1.6*PS lc rgb '%s'",
+                    b ? "pte" : "pts", j, arrank_plot_point_type(j, 0), c);
+        }
         arrank_plot_next_elem(f, &first);
         fprintf(f, "$run%zu using 1:2 with points pt 12 ps 3.2*PS lw 2.5 lc rgb '%s'", j, c);
         arrank_plot_next_elem(f, &first);
@@ -145,13 +152,14 @@ static arrank_status script_in_c(const arrank_analysis *a, const arrank_plan *p,
     arrank_plot_put_q(f, name);
     fputs("\nset encoding utf8\nset termoption noenhanced\nset border lw 1.2\nset tics out\n"
           "set grid back lc rgb '#e3e3e3' lw 1 dt 1\nset key noautotitle\n"
-          "set key outside right top\n", f);
+          "set key inside right top reverse Left box opaque\n", f);
     const char *title = a->campaign && a->campaign->title ? a->campaign->title : "";
     fputs("set title ", f);
-    arrank_plot_put_qf(f, "Planned runs (%s, %zu runs): %s",
-                       p->goal == ARRANK_GOAL_PRECISION ? "precision" : "separate", p->budget,
-                       title);
-    fputs("\nset xlabel '1000 / T [1/K]'\nset ylabel ", f);
+    arrank_plot_put_qf(f, "Planned runs (goal %s, %zu runs)",
+                       p->goal == ARRANK_GOAL_PRECISION ? "precision" : "separate", p->budget);
+    fputs(" . \"\\n\" . ", f);
+    arrank_plot_put_q(f, title);
+    fputs("\nset xlabel '1000 / T  [K⁻¹]'\nset ylabel ", f);
     arrank_plot_put_qf(f, "ln(rate / (%s))",
                        a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit : "");
     fputc('\n', f);
@@ -159,9 +167,13 @@ static arrank_status script_in_c(const arrank_analysis *a, const arrank_plan *p,
           "design, scale-up or safety limits\" at screen 0.995, screen 0.982 right font ',12' "
           "textcolor rgb '#666666' front\n", f);
     double t_lo, t_hi;
-    put_blocks(f, a, p, &t_lo, &t_hi);
+    size_t(*cnt)[2] = calloc(p->n_entries ? p->n_entries : 1, sizeof *cnt);
+    if (!cnt)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    put_blocks(f, a, p, &t_lo, &t_hi, cnt);
     put_marks(f, p, t_lo, t_hi);
-    put_plot(f, a, p);
+    put_plot(f, a, p, cnt);
+    free(cnt);
     fputs("unset output\n", f);
     if (fflush(f) != 0 || ferror(f))
         return arrank_errorf(err, ARRANK_EIO, "cannot write the gnuplot script: %s",
