@@ -407,7 +407,7 @@ static void plan_keeps_its_promise(void **state)
     }
     double mean_gain = sum_gain / N_CAMPAIGNS;
     double se_gain = sqrt((sum_gain2 / N_CAMPAIGNS - mean_gain * mean_gain) / (N_CAMPAIGNS - 1));
-    print_message("plan: predicted within its Monte Carlo error in %zu of %d campaigns; mean "
+    print_message("# plan: predicted within its Monte Carlo error in %zu of %d campaigns; mean "
                   "predicted %.3f, naive %.3f, gain %.3f (se %.3f); met with the true "
                   "parameters in %.0f of %d (predicted %.1f, sd %.1f)\n",
                   within, N_CAMPAIGNS, sum_p / N_CAMPAIGNS, sum_q / N_CAMPAIGNS, mean_gain,
