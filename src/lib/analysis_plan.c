@@ -347,6 +347,13 @@ static arrank_status plan_in(plan_work *w, arrank_error *err)
     if (st != ARRANK_OK)
         return st;
     intervals(w);
+    if (p->met_now) {
+        /* nothing to run: the ranking stays as it is, and the goal met */
+        p->expected_probability = p->naive_probability = 1.0;
+        p->expected_probability_se = p->naive_probability_se = 0.0;
+        p->n_naive = 0;
+        return ARRANK_OK;
+    }
     st = arrank_plan_simulate(w->samples, a->n_ranked, w->involved, w->n_inv, &t, p->runs,
                               p->n_runs, p->sims, p->seed, &p->expected_probability,
                               &p->expected_probability_se, err);

@@ -106,13 +106,15 @@ static arrank_status table_in_c(const arrank_analysis *a, const arrank_plan *p, 
     put_rows(f, a, p);
     fputc('\n', f);
     if (p->met_now)
-        fputs("the goal is met already: no new run is needed for it\n", f);
-    fprintf(f, "expected probability that the goal is met: %.3f (Monte Carlo se %.3f; "
+        fputs("the goal is met already: no new run is needed for it\n\n", f);
+    else {
+        fprintf(f, "expected probability that the goal is met: %.3f (Monte Carlo se %.3f; "
                "%zu simulations, seed %lu)\n",
             p->expected_probability, p->expected_probability_se, p->sims, p->seed);
     fprintf(f, "naive plan (the same %zu runs spread evenly at the current temperatures): "
                "%.3f (se %.3f)\n\n",
             p->budget, p->naive_probability, p->naive_probability_se);
+    }
     char **lines = NULL;
     size_t n = 0;
     arrank_status st = arrank_cautions_list(a, &lines, &n, err);
