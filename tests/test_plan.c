@@ -77,6 +77,92 @@ static void closed_form_equals_refit(void **state)
     }
 }
 
+/* ---- the separate goal's check against the groups ------------------------- */
+
+/* A planner's sample whose key at T is `key` with standard error `se` on dof. */
+static arrank_plan_sample key_sample(double key, double se, double dof, double T)
+{
+    arrank_plan_sample s = {T, key, 0.0, {1.0, 0.0, 1.0}, se * se * dof, dof, 1.0};
+    return s;
+}
+
+static const double *desc_keys; /* the keys of the sort in progress */
+static int by_key_desc(const void *a, const void *b)
+{
+    size_t i = *(const size_t *)a, j = *(const size_t *)b;
+    if (desc_keys[i] != desc_keys[j])
+        return desc_keys[i] > desc_keys[j] ? -1 : 1;
+    return i < j ? -1 : 1;
+}
+
+/* The plan's check (Holm's step-down on the pairs it needs, plan.c) gives the
+   group rule's answer (arrank_groups_run, groups.h) on thousands of random
+   sets: ties, wide and narrow spreads, few and more than ARRANK_GROUP_MAX
+   samples, any involved set. */
+static void separate_check_is_the_groups(void **state)
+{
+    (void)state;
+    uint64_t seed = 99;
+    const double T = 500.0;
+    static arrank_plan_sample smp[620];
+    static double key[620], se[620], dof[620], k2[620], s2[620], d2[620];
+    static size_t order[620], inv[620];
+    static int group[620];
+    size_t agree = 0, sets = 0, separated_sets = 0;
+    for (int rep = 0; rep < 1500; rep++) {
+        size_t n = rep % 50 == 49 ? 510 + (size_t)(uniform01(&seed) * 100)
+                                  : 2 + (size_t)(uniform01(&seed) * 30);
+        double spread = pow(10.0, -2.5 + 2.0 * uniform01(&seed));
+        for (size_t i = 0; i < n; i++) {
+            key[i] = spread * gauss(&seed);
+            if (i > 0 && uniform01(&seed) < 0.05)
+                key[i] = key[i - 1]; /* a tie */
+            se[i] = 0.005 + 0.02 * uniform01(&seed);
+            dof[i] = rep % 7 == 0 ? 1e9 : 2 + floor(10 * uniform01(&seed));
+            smp[i] = key_sample(key[i], se[i], dof[i], T);
+            order[i] = i;
+        }
+        desc_keys = key;
+        qsort(order, n, sizeof *order, by_key_desc);
+        size_t n_inv = 1 + (size_t)(uniform01(&seed) * (n < 4 ? n : 4));
+        for (size_t k = 0; k < n_inv; k++)
+            inv[k] = order[k]; /* the leader's group is at the top */
+        size_t nf = n < ARRANK_GROUP_MAX ? n : ARRANK_GROUP_MAX;
+        for (size_t k = 0; k < nf; k++) {
+            k2[k] = key[order[k]];
+            s2[k] = se[order[k]];
+            d2[k] = dof[order[k]];
+        }
+        arrank_error err;
+        assert_int_equal(arrank_groups_run(k2, s2, d2, nf, 0.05, group, NULL, &err), ARRANK_OK);
+        arrank_plan_target t = {ARRANK_GOAL_SEPARATE, T, 0.05, 1.0, 0.05, nf};
+        int met = arrank_plan_goal_met(smp, n, inv, n_inv, &t);
+        agree += met == (group[1] != 1);
+        separated_sets += group[1] != 1;
+        sets++;
+    }
+    assert_int_equal(agree, sets);
+    assert_true(separated_sets > 100 && separated_sets < sets - 100); /* both answers seen */
+}
+
+/* P(best) of two normal keys is Phi(d / sqrt(s1^2 + s2^2)) (the difference of
+   two independent normals; common statistics): at 0.96 with p = 0.08 (not
+   told apart by Holm at 5 %), the goal is met for a target of 0.95, not 0.97. */
+static void separate_by_p_best(void **state)
+{
+    (void)state;
+    const double T = 500.0, s1 = 0.02, s2 = 0.03;
+    double d = 1.7506860712521692 * sqrt(s1 * s1 + s2 * s2); /* Phi^-1(0.96) */
+    arrank_plan_sample smp[2] = {key_sample(1.0 + d, s1, 1e9, T), key_sample(1.0, s2, 1e9, T)};
+    size_t inv[2] = {0, 1};
+    arrank_plan_target t = {ARRANK_GOAL_SEPARATE, T, 0.05, 0.95, 0.05, 2};
+    assert_int_equal(arrank_plan_goal_met(smp, 2, inv, 2, &t), 1);
+    t.target = 0.97;
+    assert_int_equal(arrank_plan_goal_met(smp, 2, inv, 2, &t), 0);
+    t.target = 1.0; /* Holm alone: p = 0.08 > 0.05 */
+    assert_int_equal(arrank_plan_goal_met(smp, 2, inv, 2, &t), 0);
+}
+
 /* ---- the demo: safe candidates, and the same plan for a seed ---------------- */
 
 static arrank_analysis *demo_analysis(arrank_campaign **c, unsigned long seed)
@@ -429,6 +515,8 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(closed_form_equals_refit),
+        cmocka_unit_test(separate_check_is_the_groups),
+        cmocka_unit_test(separate_by_p_best),
         cmocka_unit_test(demo_never_above_the_limit),
         cmocka_unit_test(demo_same_plan_for_a_seed),
         cmocka_unit_test(plan_keeps_its_promise),

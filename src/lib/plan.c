@@ -11,9 +11,9 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "arrank/groups.h"
 #include "arrank/plan.h"
 #include "arrank/stats.h"
+#include "stats.h"
 
 #define PLAN_PI 3.14159265358979323846
 
@@ -141,10 +141,13 @@ static double log_phi_cdf(double x)
     return -0.5 * x * x - log(-x) - 0.5 * log(2.0 * PLAN_PI);
 }
 
-/* P(sample best is the largest) for independent normal keys mean[n], se[n]:
+/* P(sample best is the largest) for independent normal keys mean[], se[]:
    the integral of phi(z) prod_j Phi((m_b + s_b z - m_j) / s_j) over z by
-   Simpson's rule on [-8, 8] (the normal mass outside is below 1e-15). */
-static double p_best_normal(const double *mean, const double *se, size_t n, size_t best)
+   Simpson's rule on [-8, 8] (the normal mass outside is below 1e-15), the
+   product over the samples cand[n_cand] (the others are above the
+   leader's range by less than 1e-16 of their own: left out). */
+static double p_best_normal(const double *mean, const double *se, const size_t *cand,
+                            size_t n_cand, size_t best)
 {
     const int steps = 320;
     const double h = 16.0 / steps;
@@ -153,9 +156,8 @@ static double p_best_normal(const double *mean, const double *se, size_t n, size
         double z = -8.0 + h * k;
         double v = mean[best] + se[best] * z;
         double prod = exp(-0.5 * z * z) / sqrt(2.0 * PLAN_PI);
-        for (size_t j = 0; j < n && prod > 0; j++) {
-            if (j == best)
-                continue;
+        for (size_t c = 0; c < n_cand && prod > 0; c++) {
+            size_t j = cand[c];
             prod *= se[j] > 0 ? gsl_cdf_ugaussian_P((v - mean[j]) / se[j])
                               : (v > mean[j] ? 1.0 : 0.0);
         }
@@ -164,58 +166,204 @@ static double p_best_normal(const double *mean, const double *se, size_t n, size
     return sum * h / 3.0;
 }
 
-static int cmp_desc(const void *a, const void *b, const double *key)
+/* Welch-Satterthwaite dof and the two-sided p of key_i - key_j, exactly as
+   the groups compute them (groups.c; Welch, Biometrika 34:28, 1947). */
+static double welch_dof(double si, double di, double sj, double dj)
 {
-    double ka = key[*(const size_t *)a], kb = key[*(const size_t *)b];
-    if (ka != kb)
-        return ka > kb ? -1 : 1;
-    return *(const size_t *)a < *(const size_t *)b ? -1 : 1;
+    const double v = si * si + sj * sj;
+    double den = 0;
+    if (isfinite(di))
+        den += si * si * si * si / di;
+    if (isfinite(dj))
+        den += sj * sj * sj * sj / dj;
+    return den > 0 ? v * v / den : INFINITY;
+}
+
+static double pair_p(double ki, double si, double di, double kj, double sj, double dj)
+{
+    const double v = si * si + sj * sj;
+    const double d = fabs(ki - kj);
+    if (!(v > 0))
+        return d > 0 ? 0.0 : 1.0;
+    return arrank_stats_t_p(d / sqrt(v), welch_dof(si, di, sj, dj));
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return x < y ? -1 : x > y;
 }
 
 /* qsort has no context: the keys of the sort in progress, per thread. */
 static _Thread_local const double *sort_key;
 static int cmp_key(const void *a, const void *b)
 {
-    return cmp_desc(a, b, sort_key);
+    double ka = sort_key[*(const size_t *)a], kb = sort_key[*(const size_t *)b];
+    if (ka != kb)
+        return ka > kb ? -1 : 1;
+    return *(const size_t *)a < *(const size_t *)b ? -1 : 1;
+}
+
+/*
+ * The separate goal's Holm family, set up once for many checks
+ * (arrank_plan_simulate): its members, the first t->n_family samples by key
+ * at set-up (kept for every check), and the sorted p-values of its pairs
+ * that no check changes (neither sample involved).  A check then computes
+ * only the pairs of the involved samples: Holm's step-down (Holm, Scand. J.
+ * Statist. 6:65, 1979) rejects the pair of the two best, which is what puts
+ * the second in a group of its own (groups.h), exactly when every p-value
+ * below its own, and its own, passes (m - j + 1) p_(j) <= alpha.
+ */
+typedef struct {
+    size_t n, nf;
+    size_t *fam;         /* [nf] sample indices, best first at set-up */
+    unsigned char *inv;  /* [n] 1: involved */
+    double *fixed;       /* [n_fixed] ascending */
+    size_t n_fixed;
+    double *dyn;         /* [nf * involved members] scratch */
+    double *mean, *se;   /* [n] scratch: the keys */
+    size_t *cand;        /* [n] scratch: P(best)'s contenders */
+} holm_ctx;
+
+static void holm_free(holm_ctx *h)
+{
+    free(h->fam);
+    free(h->inv);
+    free(h->fixed);
+    free(h->dyn);
+    free(h->mean);
+    free(h->cand);
+    memset(h, 0, sizeof *h);
+}
+
+static void keys_of(const arrank_plan_sample *s, size_t n, double temp_K, double *mean,
+                    double *se)
+{
+    for (size_t i = 0; i < n; i++)
+        arrank_plan_key(&s[i], temp_K, &mean[i], &se[i]);
+}
+
+/* 0, or -1 out of memory. */
+static int holm_setup(holm_ctx *h, const arrank_plan_sample *s, size_t n, const size_t *involved,
+                      size_t n_inv, const arrank_plan_target *t)
+{
+    memset(h, 0, sizeof *h);
+    h->n = n;
+    h->nf = t->n_family < n ? t->n_family : n;
+    if (h->nf < 2)
+        h->nf = n < 2 ? n : 2;
+    size_t *order = malloc((n ? n : 1) * sizeof *order);
+    h->inv = calloc(n ? n : 1, 1);
+    h->mean = malloc((n ? 2 * n : 1) * sizeof *h->mean);
+    h->cand = malloc((n ? n : 1) * sizeof *h->cand);
+    h->fixed = malloc((h->nf * h->nf / 2 + 1) * sizeof *h->fixed);
+    h->dyn = malloc((h->nf * (n_inv < h->nf ? n_inv : h->nf) + 1) * sizeof *h->dyn);
+    if (!order || !h->inv || !h->mean || !h->cand || !h->fixed || !h->dyn) {
+        free(order);
+        holm_free(h);
+        return -1;
+    }
+    h->se = h->mean + n;
+    for (size_t k = 0; k < n_inv; k++)
+        h->inv[involved[k]] = 1;
+    keys_of(s, n, t->temp_K, h->mean, h->se);
+    for (size_t i = 0; i < n; i++)
+        order[i] = i;
+    sort_key = h->mean;
+    qsort(order, n, sizeof *order, cmp_key);
+    h->fam = order; /* the first nf are the family */
+    for (size_t a = 0; a < h->nf; a++)
+        for (size_t b = a + 1; b < h->nf; b++) {
+            size_t i = order[a], j = order[b];
+            if (!h->inv[i] && !h->inv[j])
+                h->fixed[h->n_fixed++] = pair_p(h->mean[i], h->se[i], s[i].dof, h->mean[j],
+                                                h->se[j], s[j].dof);
+        }
+    qsort(h->fixed, h->n_fixed, sizeof *h->fixed, cmp_double);
+    return 0;
+}
+
+/* Holm's step-down reaches and rejects the pair of the two best (above). */
+static int holm_top_rejected(holm_ctx *h, const arrank_plan_sample *s, double alpha)
+{
+    size_t t1 = SIZE_MAX, t2 = SIZE_MAX; /* positions in fam */
+    for (size_t a = 0; a < h->nf; a++) {
+        size_t i = h->fam[a];
+        if (t1 == SIZE_MAX || h->mean[i] > h->mean[h->fam[t1]] ||
+            (h->mean[i] == h->mean[h->fam[t1]] && i < h->fam[t1])) {
+            t2 = t1;
+            t1 = a;
+        } else if (t2 == SIZE_MAX || h->mean[i] > h->mean[h->fam[t2]] ||
+                   (h->mean[i] == h->mean[h->fam[t2]] && i < h->fam[t2]))
+            t2 = a;
+    }
+    size_t i1 = h->fam[t1], i2 = h->fam[t2];
+    double pP = pair_p(h->mean[i1], h->se[i1], s[i1].dof, h->mean[i2], h->se[i2], s[i2].dof);
+    size_t n_dyn = 0;
+    for (size_t a = 0; a < h->nf; a++) {
+        size_t i = h->fam[a];
+        if (!h->inv[i])
+            continue;
+        for (size_t b = 0; b < h->nf; b++) {
+            size_t j = h->fam[b];
+            if (b == a || (h->inv[j] && b < a))
+                continue;
+            h->dyn[n_dyn++] = pair_p(h->mean[i], h->se[i], s[i].dof, h->mean[j], h->se[j],
+                                     s[j].dof);
+        }
+    }
+    qsort(h->dyn, n_dyn, sizeof *h->dyn, cmp_double);
+    double m = (double)h->nf * (double)(h->nf - 1) / 2.0;
+    size_t jf = 0, jd = 0, j = 1;
+    for (;; j++) {
+        double p;
+        if (jf < h->n_fixed && (jd == n_dyn || h->fixed[jf] <= h->dyn[jd]))
+            p = h->fixed[jf++];
+        else if (jd < n_dyn)
+            p = h->dyn[jd++];
+        else
+            break;
+        if (!(p < pP))
+            break;
+        if (!((m - (double)j + 1.0) * p <= alpha))
+            return 0;
+    }
+    /* ties with pP: the pair's adjusted p is that of the first of them */
+    return (m - (double)j + 1.0) * pP <= alpha;
 }
 
 /* separate: the best sample alone in the first Holm group, or its P(best) at
-   the target.  1, 0, or -1 out of memory. */
-static int separated(const arrank_plan_sample *samples, size_t n, const arrank_plan_target *t)
+   the target. */
+static int holm_separated(holm_ctx *h, const arrank_plan_sample *s, const arrank_plan_target *t)
 {
-    if (n < 2)
+    if (h->n < 2)
         return 1;
-    double *buf = malloc(n * 5 * sizeof *buf);
-    size_t *order = malloc(n * sizeof *order);
-    int *group = malloc(n * sizeof *group);
-    int met = -1;
-    if (!buf || !order || !group)
-        goto done;
-    double *mean = buf, *se = buf + n, *k = buf + 2 * n, *kse = buf + 3 * n, *kdof = buf + 4 * n;
-    for (size_t i = 0; i < n; i++) {
-        arrank_plan_key(&samples[i], t->temp_K, &mean[i], &se[i]);
-        order[i] = i;
-    }
-    sort_key = mean;
-    qsort(order, n, sizeof *order, cmp_key);
-    size_t nf = t->n_family < n ? t->n_family : n;
-    if (nf < 2)
-        nf = 2;
-    for (size_t i = 0; i < nf; i++) {
-        k[i] = mean[order[i]];
-        kse[i] = se[order[i]];
-        kdof[i] = samples[order[i]].dof;
-    }
-    arrank_error e;
-    if (arrank_groups_run(k, kse, kdof, nf, t->alpha, group, NULL, &e) != ARRANK_OK)
-        goto done;
-    met = group[1] != 1;
-    if (!met && t->target > 0 && t->target < 1)
-        met = p_best_normal(mean, se, n, order[0]) >= t->target;
-done:
-    free(buf);
-    free(order);
-    free(group);
+    keys_of(s, h->n, t->temp_K, h->mean, h->se);
+    if (holm_top_rejected(h, s, t->alpha))
+        return 1;
+    if (!(t->target > 0 && t->target < 1))
+        return 0;
+    size_t best = 0;
+    for (size_t i = 1; i < h->n; i++)
+        if (h->mean[i] > h->mean[best])
+            best = i;
+    double lo = h->mean[best] - 8.0 * h->se[best];
+    size_t n_cand = 0;
+    for (size_t i = 0; i < h->n; i++)
+        if (i != best && h->mean[i] + 8.5 * h->se[i] >= lo)
+            h->cand[n_cand++] = i;
+    return p_best_normal(h->mean, h->se, h->cand, n_cand, best) >= t->target;
+}
+
+/* separate, on its own: 1, 0, or -1 out of memory. */
+static int separated(const arrank_plan_sample *samples, size_t n, const size_t *involved,
+                     size_t n_inv, const arrank_plan_target *t)
+{
+    holm_ctx h;
+    if (holm_setup(&h, samples, n, involved, n_inv, t) != 0)
+        return -1;
+    int met = holm_separated(&h, samples, t);
+    holm_free(&h);
     return met;
 }
 
@@ -223,7 +371,7 @@ int arrank_plan_goal_met(const arrank_plan_sample *samples, size_t n, const size
                          size_t n_involved, const arrank_plan_target *t)
 {
     if (t->goal == ARRANK_GOAL_SEPARATE)
-        return separated(samples, n, t);
+        return separated(samples, n, involved, n_involved, t);
     double lim = log1p(t->width);
     for (size_t k = 0; k < n_involved; k++) {
         double mean, se;
@@ -373,7 +521,10 @@ arrank_status arrank_plan_simulate(const arrank_plan_sample *samples, size_t n,
     double *T = malloc((total + 1) * sizeof *T), *y = malloc((total + 1) * sizeof *y);
     gsl_rng *par = gsl_rng_alloc(gsl_rng_taus2), *noise = gsl_rng_alloc(gsl_rng_taus2);
     arrank_status st = ARRANK_OK;
-    if (!work || !T || !y || !par || !noise) {
+    holm_ctx h = {0};
+    int sep = t->goal == ARRANK_GOAL_SEPARATE;
+    if (!work || !T || !y || !par || !noise ||
+        (sep && holm_setup(&h, samples, n, involved, n_involved, t) != 0)) {
         st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
         goto done;
     }
@@ -388,7 +539,8 @@ arrank_status arrank_plan_simulate(const arrank_plan_sample *samples, size_t n,
                               &work[involved[j]], err);
         if (st != ARRANK_OK)
             break;
-        int r = arrank_plan_goal_met(work, n, involved, n_involved, t);
+        int r = sep ? holm_separated(&h, work, t)
+                    : arrank_plan_goal_met(work, n, involved, n_involved, t);
         if (r < 0)
             st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
         met += r == 1;
@@ -398,6 +550,7 @@ arrank_status arrank_plan_simulate(const arrank_plan_sample *samples, size_t n,
         *p_se = sqrt(*p * (1.0 - *p) / (double)sims);
     }
 done:
+    holm_free(&h);
     gsl_rng_free(par);
     gsl_rng_free(noise);
     free(work);
