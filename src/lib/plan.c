@@ -220,6 +220,7 @@ typedef struct {
     unsigned char *inv;  /* [n] 1: involved */
     double *fixed;       /* [n_fixed] ascending */
     size_t n_fixed;
+    size_t f0;           /* fixed p-values below alpha / m: they pass at any step */
     double *dyn;         /* [nf * involved members] scratch */
     double *mean, *se;   /* [n] scratch: the keys */
     size_t *cand;        /* [n] scratch: P(best)'s contenders */
@@ -280,6 +281,9 @@ static int holm_setup(holm_ctx *h, const arrank_plan_sample *s, size_t n, const 
                                                 h->se[j], s[j].dof);
         }
     qsort(h->fixed, h->n_fixed, sizeof *h->fixed, cmp_double);
+    double m = (double)h->nf * (double)(h->nf - 1) / 2.0;
+    while (h->f0 < h->n_fixed && h->fixed[h->f0] < t->alpha / m)
+        h->f0++;
     return 0;
 }
 
@@ -299,7 +303,13 @@ static int holm_top_rejected(holm_ctx *h, const arrank_plan_sample *s, double al
     }
     size_t i1 = h->fam[t1], i2 = h->fam[t2];
     double pP = pair_p(h->mean[i1], h->se[i1], s[i1].dof, h->mean[i2], h->se[i2], s[i2].dof);
-    size_t n_dyn = 0;
+    double m = (double)h->nf * (double)(h->nf - 1) / 2.0, thr = alpha / m;
+    if (pP < thr)
+        return 1; /* it and every p below it pass at any step */
+    /* the involved samples' pairs; a pair whose t exceeds the quantile of
+       alpha / m on the smaller of its two dof has p < alpha / m (the Welch dof
+       is at least that smaller one): counted, not computed */
+    size_t n_dyn = 0, n_tiny = 0;
     for (size_t a = 0; a < h->nf; a++) {
         size_t i = h->fam[a];
         if (!h->inv[i])
@@ -308,13 +318,23 @@ static int holm_top_rejected(holm_ctx *h, const arrank_plan_sample *s, double al
             size_t j = h->fam[b];
             if (b == a || (h->inv[j] && b < a))
                 continue;
+            double v = h->se[i] * h->se[i] + h->se[j] * h->se[j];
+            double dmin = fmin(fmin(s[i].dof, s[j].dof), 1e6);
+            if (v > 0 && fabs(h->mean[i] - h->mean[j]) / sqrt(v) >
+                             arrank_stats_t_upper(0.5 * thr, dmin) * (1.0 + 1e-9)) {
+                n_tiny++;
+                continue;
+            }
             h->dyn[n_dyn++] = pair_p(h->mean[i], h->se[i], s[i].dof, h->mean[j], h->se[j],
                                      s[j].dof);
         }
     }
     qsort(h->dyn, n_dyn, sizeof *h->dyn, cmp_double);
-    double m = (double)h->nf * (double)(h->nf - 1) / 2.0;
-    size_t jf = 0, jd = 0, j = 1;
+    /* every p below alpha / m passes at any step: the walk starts after them */
+    size_t jf = h->f0, jd = 0;
+    while (jd < n_dyn && h->dyn[jd] < thr)
+        jd++;
+    size_t j = jf + jd + n_tiny + 1;
     for (;; j++) {
         double p;
         if (jf < h->n_fixed && (jd == n_dyn || h->fixed[jf] <= h->dyn[jd]))
