@@ -77,6 +77,18 @@ ok_if "plan: --max-temperature overrides campaign.ini, no run above 280 degC" \
 assert abs(p['max_temperature_K'] - 553.15) < 1e-9 and p['runs']
 assert all(r['temperature_K'] <= 553.15 for r in p['runs'])" "$T/low.json"
 
+# The curvature goal: runs that make a 20 kJ/mol bend detectable.
+"$A" plan "$DEMO" --max-temperature 300C --budget 24 --goal curvature --bend 20kJ/mol --json "$T/bend.json" \
+    >"$T/bend.out" 2>/dev/null; st=$?
+expect_eq "plan --goal curvature: exit 0" "$st" 0
+ok_if "plan --goal curvature: the table states the bend and the test's level" \
+    grep -q 'apparent Ea falling by 20 kJ/mol .* level 0.02' "$T/bend.out"
+ok_if "plan --goal curvature: JSON bend_J_mol and level, runs below the limit, beats the naive plan" \
+    "$PY" -c "import json,sys; p=json.load(open(sys.argv[1]))
+assert p['goal'] == 'curvature' and p['bend_J_mol'] == 20000 and p['level'] == 0.02
+assert p['runs'] and all(r['temperature_K'] <= 573.15 for r in p['runs'])
+assert p['expected_probability'] > p['naive_probability'] + 0.1" "$T/bend.json"
+
 # Refusals: one line, exit 2, nothing written.
 refuse() { # NAME PATTERN ARGS...
     rn=$1 rp=$2
@@ -91,7 +103,8 @@ refuse "a bare --step" "with its unit" --max-temperature 320C --step 5
 refuse "a bare --max-temperature" "max-temperature" --max-temperature 320
 refuse "--budget 0" "whole number" --max-temperature 320C --budget 0
 refuse "an unknown goal" "not known" --max-temperature 320C --goal fastest
-refuse "the curvature goal (not planned yet)" "not planned yet" --max-temperature 320C --goal curvature
+refuse "the curvature goal without --bend" "needs --bend" --max-temperature 320C --goal curvature
+refuse "a bare --bend" "with its unit" --max-temperature 320C --goal curvature --bend 20
 refuse "--csv" "do not apply" --max-temperature 320C --csv "$T/x.csv"
 refuse "--by" "unknown option" --max-temperature 320C --by ea
 tap_plan

@@ -77,12 +77,121 @@ static void closed_form_equals_refit(void **state)
     }
 }
 
+/* ---- the curvature goal ------------------------------------------------------ */
+
+/* One sample with a bend: points at T[n], ln r on a quadratic in u with
+   coefficient c plus noise; its line's fit, its planner's view with the
+   quadratic's moments (as analysis_plan.c builds them). */
+static void bend_sample(const double *T, size_t n, double c, double sd, uint64_t *seed,
+                        arrank_arrhenius *fit, arrank_plan_sample *ps)
+{
+    double r[64];
+    for (size_t i = 0; i < n; i++) {
+        double u = ARRANK_PLAN_U_SCALE * (1.0 / T[i] - 1.0 / 520.0);
+        r[i] = exp(1.0 - 9000.0 * (1.0 / T[i] - 1.0 / 520.0) + c * u * u + sd * gauss(seed));
+    }
+    arrank_error err;
+    assert_int_equal(arrank_fit_arrhenius(T, r, NULL, n, fit, &err), ARRANK_OK);
+    assert_int_equal(arrank_plan_sample_from_fit(fit, 1.0, ps, &err), ARRANK_OK);
+    for (size_t i = 0; i < n; i++) {
+        double u = ARRANK_PLAN_U_SCALE * (1.0 / T[i] - 1.0 / fit->T_ref_K), q = 1.0;
+        for (int k = 0; k < 5; k++, q *= u)
+            ps->mom[k] += q;
+    }
+}
+
+/* The quadratic's design with points at T[n]: [(X'X)^-1]_cc for ln r = a + b u
+   + c u^2 by arrank_linfit (checked against NIST StRD), and the fit of y. */
+static double linfit_vcc(const double *T, const double *y, size_t n, double T_ref, double *c,
+                         double *t_c)
+{
+    double X[3 * 96], b[3], cov[9], rss;
+    for (size_t i = 0; i < n; i++) {
+        double u = ARRANK_PLAN_U_SCALE * (1.0 / T[i] - 1.0 / T_ref);
+        X[3 * i] = 1.0;
+        X[3 * i + 1] = u;
+        X[3 * i + 2] = u * u;
+    }
+    arrank_error err;
+    assert_int_equal(arrank_linfit(X, y, NULL, n, 3, b, cov, &rss, &err), ARRANK_OK);
+    *c = b[2];
+    *t_c = b[2] / sqrt(cov[8]);
+    return rss > 0 ? cov[8] / (rss / (double)(n - 3)) : NAN;
+}
+
+static void bend_closed_form_and_power(void **state)
+{
+    (void)state;
+    uint64_t seed = 5;
+    for (int rep = 0; rep < 8; rep++) {
+        double T[96], y[96];
+        size_t n = 6 + (size_t)rep % 4;
+        for (size_t i = 0; i < n; i++)
+            T[i] = 480.0 + 60.0 * (double)i / (double)(n - 1);
+        double sd = 0.04;
+        arrank_arrhenius fit;
+        arrank_plan_sample ps;
+        bend_sample(T, n, 0.0, sd, &seed, &fit, &ps);
+        ps.bend_c = arrank_plan_bend_c(12e3 + 2e3 * rep, 470.0, 560.0);
+        /* a plan: a few runs at both ends and in the middle */
+        arrank_plan_run runs[3] = {{0, 470.0, 1 + (size_t)rep % 3}, {0, 515.0, 2},
+                                   {0, 560.0, 1 + (size_t)rep % 2}};
+        size_t m = n;
+        for (size_t k = 0; k < 3; k++)
+            for (size_t q = 0; q < runs[k].repeats; q++)
+                T[m++] = runs[k].temp_K;
+        /* the closed form against the general engine's covariance */
+        for (size_t i = 0; i < m; i++)
+            y[i] = 0.1 * gauss(&seed);
+        double c, tc;
+        double vcc = linfit_vcc(T, y, m, fit.T_ref_K, &c, &tc);
+        double f = arrank_plan_bend_se_factor(&ps, 0, runs, 3);
+        check_close(f * f, vcc, 1e-10, "[M3'^-1]_cc after the runs", "arrank_linfit");
+        /* the simulated detection rate against the quadratic test on real
+           points: sigma^2 drawn as the plan draws it, ln r on the bend, the
+           fit by arrank_linfit, t at level 0.02 on m - 3 dof (the test of
+           a regression coefficient) */
+        size_t involved[1] = {0}, sims = 3000;
+        arrank_plan_target t = {ARRANK_GOAL_CURVATURE, 520.0, 0.05, 0.95, 0.05, 1, 0.02};
+        double p, p_se;
+        arrank_error err;
+        assert_int_equal(arrank_plan_simulate(&ps, 1, involved, 1, &t, runs, 3, sims,
+                                              (unsigned long)rep + 3, &p, &p_se, &err),
+                         ARRANK_OK);
+        double tcrit = arrank_t_quantile(0.98, (double)(m - 3));
+        size_t hits = 0;
+        for (size_t k = 0; k < sims; k++) {
+            double chi2 = 0.0;
+            for (int j = 0; j < (int)fit.dof; j++) {
+                double z = gauss(&seed);
+                chi2 += z * z;
+            }
+            double sigma = sqrt(ps.rss / chi2);
+            for (size_t i = 0; i < m; i++) {
+                double u = ARRANK_PLAN_U_SCALE * (1.0 / T[i] - 1.0 / fit.T_ref_K);
+                y[i] = ps.bend_c * u * u + sigma * gauss(&seed);
+            }
+            linfit_vcc(T, y, m, fit.T_ref_K, &c, &tc);
+            hits += fabs(tc) > tcrit;
+        }
+        double rate = (double)hits / (double)sims;
+        double tol = 4.0 * sqrt(2.0 * fmax(p * (1 - p), 0.01) / (double)sims);
+        if (!(fabs(rate - p) <= tol))
+            print_error("design %d: simulated %.4f, by real fits %.4f (tol %.4f)\n", rep, p, rate,
+                        tol);
+        assert_true(fabs(rate - p) <= tol);
+        print_message("# bend design %d: %.3f simulated, %.3f by real fits\n", rep, p, rate);
+        assert_true(p > 0.02 && p < 0.999); /* a bend of that size is neither sure nor hopeless */
+    }
+}
+
 /* ---- the separate goal's check against the groups ------------------------- */
 
 /* A planner's sample whose key at T is `key` with standard error `se` on dof. */
 static arrank_plan_sample key_sample(double key, double se, double dof, double T)
 {
-    arrank_plan_sample s = {T, key, 0.0, {1.0, 0.0, 1.0}, se * se * dof, dof, 1.0};
+    arrank_plan_sample s = {.T_ref_K = T, .b0 = key, .b1 = 0.0, .info = {1.0, 0.0, 1.0},
+                            .rss = se * se * dof, .dof = dof, .weight_new = 1.0};
     return s;
 }
 
@@ -135,7 +244,7 @@ static void separate_check_is_the_groups(void **state)
         }
         arrank_error err;
         assert_int_equal(arrank_groups_run(k2, s2, d2, nf, 0.05, group, NULL, &err), ARRANK_OK);
-        arrank_plan_target t = {ARRANK_GOAL_SEPARATE, T, 0.05, 1.0, 0.05, nf};
+        arrank_plan_target t = {ARRANK_GOAL_SEPARATE, T, 0.05, 1.0, 0.05, nf, 0.02};
         int met = arrank_plan_goal_met(smp, n, inv, n_inv, &t);
         agree += met == (group[1] != 1);
         separated_sets += group[1] != 1;
@@ -155,7 +264,7 @@ static void separate_by_p_best(void **state)
     double d = 1.7506860712521692 * sqrt(s1 * s1 + s2 * s2); /* Phi^-1(0.96) */
     arrank_plan_sample smp[2] = {key_sample(1.0 + d, s1, 1e9, T), key_sample(1.0, s2, 1e9, T)};
     size_t inv[2] = {0, 1};
-    arrank_plan_target t = {ARRANK_GOAL_SEPARATE, T, 0.05, 0.95, 0.05, 2};
+    arrank_plan_target t = {ARRANK_GOAL_SEPARATE, T, 0.05, 0.95, 0.05, 2, 0.02};
     assert_int_equal(arrank_plan_goal_met(smp, 2, inv, 2, &t), 1);
     t.target = 0.97;
     assert_int_equal(arrank_plan_goal_met(smp, 2, inv, 2, &t), 0);
@@ -232,11 +341,14 @@ static void demo_never_above_the_limit(void **state)
     const char *const twelve[] = {"ZN-12 beta extrudate", "ZN-09 beta-desilicated"};
     size_t plans = 0, runs_seen = 0;
     for (size_t l = 0; l < sizeof limits_C / sizeof *limits_C; l++)
-        for (int g = 0; g < 2; g++)
+        for (int g = 0; g < 3; g++)
             for (int v = 0; v < 3; v++) {
                 arrank_plan_options o = arrank_analysis_plan_defaults();
                 o.max_temp_K = limits_C[l] + 273.15;
-                o.goal = g ? ARRANK_GOAL_PRECISION : ARRANK_GOAL_SEPARATE;
+                o.goal = g == 2 ? ARRANK_GOAL_CURVATURE
+                         : g    ? ARRANK_GOAL_PRECISION
+                                : ARRANK_GOAL_SEPARATE;
+                o.bend_J_mol = 20e3;
                 o.budget = 6 + 9 * (size_t)v;
                 o.step_K = v == 1 ? 2.5 : 5.0;
                 o.reach_K = v == 2 ? 0.0 : 10.0 + 5.0 * v;
@@ -252,8 +364,8 @@ static void demo_never_above_the_limit(void **state)
                 runs_seen += p->n_runs;
                 arrank_plan_free(p);
             }
-    assert_int_equal(plans, 60);
-    assert_true(runs_seen > 60); /* the checks above saw real plans */
+    assert_int_equal(plans, 90);
+    assert_true(runs_seen > 90); /* the checks above saw real plans */
     /* no limit: refused */
     arrank_plan_options o = arrank_analysis_plan_defaults();
     arrank_plan *p = NULL;
@@ -433,7 +545,7 @@ static void plan_keeps_its_promise(void **state)
     double cand_T[N_SAMPLES * 40];
     for (int ci = 0; ci < N_CAMPAIGNS; ci++) {
         make_campaign(&camp, &seed);
-        arrank_plan_target t = {ARRANK_GOAL_SEPARATE, T_OP_K, 0.05, 0.95, 0.05, N_SAMPLES};
+        arrank_plan_target t = {ARRANK_GOAL_SEPARATE, T_OP_K, 0.05, 0.95, 0.05, N_SAMPLES, 0.02};
         /* candidates: the measured span widened by 10 K, every 5 K from T_op,
            never above a limit of 570 K */
         n_cand = 0;
@@ -515,6 +627,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(closed_form_equals_refit),
+        cmocka_unit_test(bend_closed_form_and_power),
         cmocka_unit_test(separate_check_is_the_groups),
         cmocka_unit_test(separate_by_p_best),
         cmocka_unit_test(demo_never_above_the_limit),

@@ -23,7 +23,11 @@ typedef struct {
     double target;          /* separate: P(best) of the leader that also settles it, 0.95 */
     double width;           /* precision: relative half width, default 0.05 (+-5 %) */
     size_t sims;            /* preposterior simulations, default 2000 */
-    /* precision: the ids of the samples to plan for; NULL: the leader's group */
+    /* curvature: the bend to make detectable, as the fall of the apparent Ea
+       (J/mol) across each sample's allowed window; required (NAN: refused) */
+    double bend_J_mol;
+    /* precision, curvature: the ids of the samples to plan for; NULL: the
+       leader's group */
     const char *const *samples;
     size_t n_samples;
 } arrank_plan_options;
@@ -34,7 +38,9 @@ arrank_plan_options arrank_analysis_plan_defaults(void);
 /*
  * Plan the next runs of an analysis ranked by rate at an operating
  * temperature.  Involved samples: for separate, the leader's group (group 1);
- * for precision, the named samples or that group.  Candidates per involved
+ * for precision and curvature, the named samples or that group.  Curvature:
+ * each sample's bend is bend_J_mol across its allowed window (below), tested
+ * as the diagnosis tests it (the quadratic term at level 0.02).  Candidates per involved
  * sample: temperatures T_op + k step inside its kinetic window (the
  * diagnosis's, else its fitted range) widened by reach on each side, never
  * above max_temp_K and never at or above its coldest point flagged

@@ -38,7 +38,7 @@
 typedef enum {
     ARRANK_GOAL_SEPARATE = 0,  /* tell the leader apart from the rest of its group */
     ARRANK_GOAL_PRECISION = 1, /* rate-at-T intervals under a stated relative half width */
-    ARRANK_GOAL_CURVATURE = 2  /* not yet planned (refused with a message) */
+    ARRANK_GOAL_CURVATURE = 2  /* make a bend of a stated size detectable by the quadratic test */
 } arrank_plan_goal;
 
 /* One sample as the planner sees it (see the top of this header). */
@@ -49,7 +49,15 @@ typedef struct {
     double rss;        /* weighted residual sum of squares */
     double dof;        /* points - 2 */
     double weight_new; /* weight of one new run: 1 for an unweighted fit */
+    /* curvature: sum w u^k, k = 0..4, over the used points, u = 1e4 (1/T -
+       1/T_ref) in K^-1 (scaled so the quadratic's moments stay near 1); and
+       the stated bend as the quadratic coefficient of ln r in u (0: none) */
+    double mom[5];
+    double bend_c;
 } arrank_plan_sample;
+
+/* u of the curvature moments: 1e4 (1/T - 1/T_ref). */
+#define ARRANK_PLAN_U_SCALE 1e4
 
 /* A planned run: `repeats` measurements of sample `sample` at temp_K. */
 typedef struct {
@@ -67,7 +75,23 @@ typedef struct {
     double width;      /* precision: relative half width, 0.05 for +-5 % */
     size_t n_family;   /* separate: samples in Holm's family (the ranked ones, at most
                           ARRANK_GROUP_MAX) */
+    double level;      /* curvature: two-sided level of the quadratic test (the
+                          diagnosis's, 0.02) */
 } arrank_plan_target;
+
+/*
+ * Curvature: the standard error factor sqrt([M3'^-1]_cc) of the quadratic
+ * coefficient c of ln r = a + b u + c u^2 (u as for mom) after the runs of
+ * sample `which` are added, M3 the 3x3 moment matrix; the expected standard
+ * error of c is s times it.  NAN when M3' is singular.
+ */
+double arrank_plan_bend_se_factor(const arrank_plan_sample *s, size_t which,
+                                  const arrank_plan_run *runs, size_t n_runs);
+
+/* The stated bend as c (per u^2): a fall dEa_J_mol of the apparent Ea from
+   temp_lo_K to temp_hi_K is c = dEa / (2 R (x_lo - x_hi)) / 1e8 with x = 1/T
+   (Ea = -R d ln r / dx). */
+double arrank_plan_bend_c(double dEa_J_mol, double temp_lo_K, double temp_hi_K);
 
 /*
  * The planner's view of an Arrhenius fit (fit.h): M = s^2 cov^-1 with
@@ -106,6 +130,7 @@ void arrank_plan_key(const arrank_plan_sample *s, double temp_K, double *mean, d
  * arrank/groups.h), or its P(best) reaches t->target (normal approximation,
  * by quadrature); precision, when every involved sample's interval
  * exp(+-t se) lies within 1 +- width.  0 when not; -1 out of memory.
+ * (Curvature is judged on the quadratic fit inside arrank_plan_simulate: 0.)
  */
 int arrank_plan_goal_met(const arrank_plan_sample *samples, size_t n, const size_t *involved,
                          size_t n_involved, const arrank_plan_target *t);
@@ -118,7 +143,9 @@ int arrank_plan_goal_met(const arrank_plan_sample *samples, size_t n, const size
  * each pairwise test at the Bonferroni level alpha / (n_family (n_family -
  * 1) / 2) with the expected standard errors after the runs; precision, the
  * sum over the involved samples of min(0, ln(1 + width) - t se), t on the
- * new dof, less 0.001 of the summed half widths (the ties once all are met).
+ * new dof, less 0.001 of the summed half widths (the ties once all are met);
+ * curvature, the sum over the involved samples of log Phi(|bend_c| / se_c -
+ * z), z the two-sided normal quantile at t->level.
  * Output: repeats[n_cand] (zeroed first).  EINVAL for bad arguments.
  */
 arrank_status arrank_plan_allocate(const arrank_plan_sample *samples, size_t n,
@@ -132,7 +159,12 @@ arrank_status arrank_plan_allocate(const arrank_plan_sample *samples, size_t n,
  * simulations as at the top, seeded; the parameters of simulation k are the
  * same for any runs (their own random stream), so two plans are compared on
  * common draws.  *p the share of simulations that meet the goal, *p_se its
- * Monte Carlo standard error sqrt(p (1 - p) / sims).  EINVAL, ENOMEM.
+ * Monte Carlo standard error sqrt(p (1 - p) / sims).  Curvature: in each
+ * simulation and involved sample, sigma^2 drawn as above, the quadratic
+ * fit's c ~ N(bend_c, sigma^2 [M3'^-1]_cc) and its RSS ~ sigma^2
+ * chi2(n' - 3), independent (normal errors; Seber & Lee sec. 3.5), the
+ * test t = c / se(c) two-sided at t->level on n' - 3 dof: the goal is met
+ * when every involved sample's bend is detected.  EINVAL, ENOMEM.
  */
 arrank_status arrank_plan_simulate(const arrank_plan_sample *samples, size_t n,
                                    const size_t *involved, size_t n_involved,
@@ -160,6 +192,8 @@ typedef struct {
     double max_temp_K;        /* the stated limit: no candidate above it */
     double step_K, reach_K;
     double confidence, target, width;
+    double bend_J_mol;        /* curvature: the stated fall of the apparent Ea */
+    double level;             /* curvature: the quadratic test's level */
     unsigned long seed;
     size_t sims;
     int met_now;              /* 1 when the goal is met before any new run */

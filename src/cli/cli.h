@@ -37,7 +37,8 @@ enum {
     OPT_FORMAT = 1u << 8,     /* --format svg|png|pdf (repeatable) */
     OPT_READ = 1u << 9,       /* --strict, --no-merge: every command that reads a campaign */
     OPT_PLAN = 1u << 10       /* --budget, --goal, --target, --width, --step, --reach,
-                                 --max-temperature, --simulations, --sample, --run-sheet */
+                                 --max-temperature, --simulations, --bend, --sample,
+                                 --run-sheet */
 };
 
 #define CLI_MAX_PLAN_SAMPLES 64
@@ -60,8 +61,8 @@ typedef struct {
     arrank_options options;
     arrank_load_options load; /* --strict, --no-merge */
     /* arrank plan: the options as written, read by cmd_plan.c (NULL: not given) */
-    const char *plan_opt[8];  /* budget, goal, target, width, step, reach, max-temperature,
-                                 simulations, in the order of cli_plan_option_names */
+    const char *plan_opt[9];  /* budget, goal, target, width, step, reach, max-temperature,
+                                 simulations, bend, in the order of cli_plan_option_names */
     const char *run_sheet_path;
     const char *plan_samples[CLI_MAX_PLAN_SAMPLES];
     size_t n_plan_samples;
@@ -181,6 +182,6 @@ int cmd_report(int argc, char **argv);
 int cmd_plan(int argc, char **argv);
 
 /* The names of the plan options held in cli_args.plan_opt, in its order. */
-extern const char *const cli_plan_option_names[8];
+extern const char *const cli_plan_option_names[9];
 
 #endif

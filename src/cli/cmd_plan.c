@@ -18,7 +18,8 @@
 #include "cli.h"
 
 static const char usage[] =
-    "usage: arrank plan CAMPAIGN [--at T] [--budget N] [--goal separate|precision] [options]\n"
+    "usage: arrank plan CAMPAIGN [--at T] [--budget N] [--goal separate|precision|curvature]\n"
+    "                   [options]\n"
     "\n"
     "Plan the next runs: which samples, at which temperatures, how many repeats.\n"
     "Each sample's fitted line tells in closed form how much new runs narrow its\n"
@@ -29,11 +30,12 @@ static const char usage[] =
     "\n"
     "  --at T                 operating temperature with its unit (default:\n"
     "                         operating_temperature in campaign.ini)\n"
-    "  --goal separate|precision\n"
+    "  --goal separate|precision|curvature\n"
     "                         separate (default): tell the leader apart from every\n"
     "                         other sample of its group (Holm), or its P(best)\n"
     "                         reaches --target; precision: every rate-at-T interval\n"
-    "                         within --width\n"
+    "                         within --width; curvature: make a bend of --bend\n"
+    "                         detectable by the quadratic test (level 0.02)\n"
     "  --budget N             new runs to spend (default 12)\n"
     "  --max-temperature T    the reactor's or the safety limit, with its unit; no run\n"
     "                         is planned above it (default: max_temperature in\n"
@@ -43,8 +45,10 @@ static const char usage[] =
     "                         e.g. 10K (default 10K)\n"
     "  --target P             separate: P(best) that also settles it (default 0.95)\n"
     "  --width W              precision: relative half width, 5% or 0.05 (default 5%)\n"
-    "  --sample ID            precision: plan for this sample (repeatable; default\n"
-    "                         the leader's group)\n"
+    "  --bend E               curvature: the fall of the apparent Ea across each\n"
+    "                         sample's allowed window to detect, e.g. 20kJ/mol\n"
+    "  --sample ID            precision, curvature: plan for this sample (repeatable;\n"
+    "                         default the leader's group)\n"
     "  --simulations N        simulations of each plan (default 2000)\n"
     "  --seed N               seed of the simulations and P(best) (default 1)\n"
     "  --run-sheet FILE|-     write the run sheet (plan.csv: order, sample,\n"
@@ -80,6 +84,27 @@ static int parse_delta(const char *name, const char *text, double *out)
         return EXIT_USAGE;
     }
     *out = v;
+    return -1;
+}
+
+/* An energy per amount with its unit: "20kJ/mol", "20 kJ/mol", "20000 J/mol". */
+static int parse_energy(const char *name, const char *text, double *out)
+{
+    char *end;
+    errno = 0;
+    double v = strtod(text, &end);
+    while (end != text && *end == ' ')
+        end++;
+    double scale = end == text ? NAN
+                   : strcmp(end, "kJ/mol") == 0 ? 1e3
+                   : strcmp(end, "J/mol") == 0  ? 1.0
+                                                : NAN;
+    if (errno || !isfinite(scale) || !(v > 0) || !isfinite(v) || v * scale > 1e6) {
+        cli_fail("%s '%s' must be an energy per amount with its unit, e.g. 20kJ/mol", name,
+                 text);
+        return EXIT_USAGE;
+    }
+    *out = v * scale;
     return -1;
 }
 
@@ -133,11 +158,10 @@ static int plan_options(const cli_args *args, arrank_plan_options *o)
             o->goal = ARRANK_GOAL_SEPARATE;
         else if (strcasecmp(v[1], "precision") == 0)
             o->goal = ARRANK_GOAL_PRECISION;
-        else if (strcasecmp(v[1], "curvature") == 0) {
-            cli_fail("--goal curvature is not planned yet; use separate or precision");
-            return EXIT_USAGE;
-        } else {
-            cli_fail("--goal '%s' is not known; use separate or precision", v[1]);
+        else if (strcasecmp(v[1], "curvature") == 0)
+            o->goal = ARRANK_GOAL_CURVATURE;
+        else {
+            cli_fail("--goal '%s' is not known; use separate, precision or curvature", v[1]);
             return EXIT_USAGE;
         }
     }
@@ -155,9 +179,16 @@ static int plan_options(const cli_args *args, arrank_plan_options *o)
         return rc;
     if (v[7] && (rc = parse_whole("--simulations", v[7], 100, 1000000, &o->sims)) != -1)
         return rc;
-    if (args->n_plan_samples && o->goal != ARRANK_GOAL_PRECISION) {
-        cli_fail("--sample names the samples of --goal precision; the separate goal plans for "
-                 "the leader's group");
+    if (v[8] && (rc = parse_energy("--bend", v[8], &o->bend_J_mol)) != -1)
+        return rc;
+    if (o->goal == ARRANK_GOAL_CURVATURE && !v[8]) {
+        cli_fail("--goal curvature needs --bend: the fall of the apparent Ea to detect, e.g. "
+                 "--bend 20kJ/mol");
+        return EXIT_USAGE;
+    }
+    if (args->n_plan_samples && o->goal == ARRANK_GOAL_SEPARATE) {
+        cli_fail("--sample names the samples of --goal precision or curvature; the separate "
+                 "goal plans for the leader's group");
         return EXIT_USAGE;
     }
     o->samples = args->plan_samples;

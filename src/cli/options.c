@@ -56,13 +56,14 @@ static const option_spec option_table[] = {
     {"--reach", OPT_PLAN, 1},
     {"--max-temperature", OPT_PLAN, 1},
     {"--simulations", OPT_PLAN, 1},
+    {"--bend", OPT_PLAN, 1},
     {"--sample", OPT_PLAN, 1},
     {"--run-sheet", OPT_PLAN, 1},
 };
 
-const char *const cli_plan_option_names[8] = {"--budget", "--goal",  "--target",
+const char *const cli_plan_option_names[9] = {"--budget", "--goal",  "--target",
                                               "--width",  "--step",  "--reach",
-                                              "--max-temperature", "--simulations"};
+                                              "--max-temperature", "--simulations", "--bend"};
 
 /* A plan option: kept as written for cmd_plan.c.  -1, or EXIT_USAGE. */
 static int apply_plan(cli_args *a, const char *name, const char *value)
@@ -79,7 +80,7 @@ static int apply_plan(cli_args *a, const char *name, const char *value)
         a->plan_samples[a->n_plan_samples++] = value;
         return -1;
     }
-    for (size_t k = 0; k < 8; k++)
+    for (size_t k = 0; k < 9; k++)
         if (strcmp(name, cli_plan_option_names[k]) == 0)
             a->plan_opt[k] = value;
     return -1;
@@ -164,10 +165,11 @@ static int apply(cli_args *a, const char *name, const char *value)
 {
     arrank_options *o = &a->options;
     if (strcmp(name, "--sample") == 0 || strcmp(name, "--run-sheet") == 0 ||
-        strncmp(name, "--budget", 9) == 0 || strcmp(name, "--goal") == 0 ||
+        strcmp(name, "--budget") == 0 || strcmp(name, "--goal") == 0 ||
         strcmp(name, "--target") == 0 || strcmp(name, "--width") == 0 ||
         strcmp(name, "--step") == 0 || strcmp(name, "--reach") == 0 ||
-        strcmp(name, "--max-temperature") == 0 || strcmp(name, "--simulations") == 0)
+        strcmp(name, "--max-temperature") == 0 || strcmp(name, "--simulations") == 0 ||
+        strcmp(name, "--bend") == 0)
         return apply_plan(a, name, value);
     if (strcmp(name, "--at") == 0)
         a->at_text = value;

@@ -13,6 +13,7 @@
 #include "arrank/groups.h"
 #include "arrank/verdicts.h"
 #include "analysis_internal.h"
+#include "curvature.h" /* ARRANK_CURVE_LEVEL: the test the plan aims at */
 
 arrank_plan_options arrank_analysis_plan_defaults(void)
 {
@@ -26,6 +27,7 @@ arrank_plan_options arrank_analysis_plan_defaults(void)
     o.target = 0.95;
     o.width = 0.05;
     o.sims = 2000;
+    o.bend_J_mol = NAN;
     return o;
 }
 
@@ -88,6 +90,18 @@ static arrank_status gather_samples(plan_work *w, arrank_error *err)
             return arrank_error_at(err, ARRANK_EDATA, r->sample->path, 0, 0,
                                    "sample '%s' cannot be planned for: %s", r->sample->id,
                                    e.message);
+        /* the quadratic's moments of the used points, in the fit's weights */
+        const arrank_sample *smp = r->sample;
+        double *mom = w->samples[k].mom;
+        for (size_t i = 0; i < smp->n_points; i++) {
+            if (!r->used[i])
+                continue;
+            const arrank_point *pt = &smp->points[i];
+            double wt = r->fit.weighted ? (pt->rate / pt->rate_sd) * (pt->rate / pt->rate_sd) : 1.0;
+            double u = ARRANK_PLAN_U_SCALE * (1.0 / pt->temp_K - 1.0 / r->fit.T_ref_K), q = wt;
+            for (int j = 0; j < 5; j++, q *= u)
+                mom[j] += q;
+        }
     }
     return ARRANK_OK;
 }
@@ -100,7 +114,7 @@ static arrank_status pick_involved(plan_work *w, arrank_error *err)
     if (!w->involved)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     const arrank_plan_options *o = w->o;
-    if (o->goal == ARRANK_GOAL_PRECISION && o->n_samples) {
+    if (o->goal != ARRANK_GOAL_SEPARATE && o->n_samples) {
         for (size_t j = 0; j < o->n_samples; j++) {
             size_t k = 0;
             while (k < a->n_ranked && strcmp(ranked(w, k)->sample->id, o->samples[j]) != 0)
@@ -187,6 +201,11 @@ static arrank_status candidates(plan_work *w, arrank_error *err)
         double k0 = ceil((lo - T_op) / o->step_K - 1e-9), k1 = floor((hi - T_op) / o->step_K + 1e-9);
         e->allowed_lo_K = lo;
         e->allowed_hi_K = hi;
+        /* the stated bend across the allowed window (the fitted range when
+           none is allowed) */
+        w->samples[w->involved[j]].bend_c =
+            lo < hi ? arrank_plan_bend_c(o->bend_J_mol, lo, hi)
+                    : arrank_plan_bend_c(o->bend_J_mol, r->fit.T_min_K, r->fit.T_max_K);
         for (double k = k0; k <= k1; k++) {
             double T = T_op + k * o->step_K;
             if (!(T > 0) || T >= onset || T > o->max_temp_K)
@@ -306,9 +325,10 @@ static arrank_status check_options(const arrank_analysis *a, const arrank_plan_o
         return arrank_errorf(err, ARRANK_EINVAL,
                              "no maximum temperature: a plan needs the reactor's or the safety "
                              "limit (max_temperature in campaign.ini or --max-temperature)");
-    if (o->goal == ARRANK_GOAL_CURVATURE)
-        return arrank_errorf(err, ARRANK_EINVAL, "the curvature goal is not planned yet; use "
-                             "separate or precision");
+    if (o->goal == ARRANK_GOAL_CURVATURE && (!(o->bend_J_mol > 0) || !isfinite(o->bend_J_mol)))
+        return arrank_errorf(err, ARRANK_EINVAL, "the curvature goal needs the size of the bend "
+                             "to detect (a fall of the apparent Ea across the window, e.g. "
+                             "--bend 20kJ/mol)");
     if (o->budget < 1 || o->budget > 10000 || !(o->step_K > 0) || !(o->reach_K >= 0) ||
         !(o->target > 0 && o->target < 1) || !(o->width > 0) || o->sims < 100)
         return arrank_errorf(err, ARRANK_EINVAL, "plan options out of range (budget 1 to 10000, "
@@ -334,7 +354,8 @@ static arrank_status plan_in(plan_work *w, arrank_error *err)
     for (size_t j = 0; j < w->n_inv; j++)
         p->entries[j].result = a->order[w->involved[j]];
     arrank_plan_target t = {p->goal, p->temp_K, 1.0 - p->confidence, p->target, p->width,
-                            a->n_ranked < ARRANK_GROUP_MAX ? a->n_ranked : ARRANK_GROUP_MAX};
+                            a->n_ranked < ARRANK_GROUP_MAX ? a->n_ranked : ARRANK_GROUP_MAX,
+                            ARRANK_CURVE_LEVEL};
     int now = arrank_plan_goal_met(w->samples, a->n_ranked, w->involved, w->n_inv, &t);
     if (now < 0)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
@@ -394,6 +415,8 @@ arrank_status arrank_analysis_plan(const arrank_analysis *a, const arrank_plan_o
     p->confidence = a->options.confidence;
     p->target = o.target;
     p->width = o.width;
+    p->bend_J_mol = o.goal == ARRANK_GOAL_CURVATURE ? o.bend_J_mol : NAN;
+    p->level = ARRANK_CURVE_LEVEL;
     p->seed = a->options.seed;
     p->sims = o.sims;
     st = plan_in(&w, err);

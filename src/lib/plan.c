@@ -51,6 +51,51 @@ static void add_point(double m[3], double w, double x)
     m[2] += w * x * x;
 }
 
+/* ---- the quadratic (curvature) ------------------------------------------ */
+
+static double u_at(const arrank_plan_sample *s, double temp_K)
+{
+    return ARRANK_PLAN_U_SCALE * x_at(s, temp_K);
+}
+
+/* mom += w (1, u, u^2, u^3, u^4). */
+static void add_moments(double mom[5], double w, double u)
+{
+    double p = w;
+    for (int k = 0; k < 5; k++, p *= u)
+        mom[k] += p;
+}
+
+/* [M3^-1]_cc of the moment matrix ((S0 S1 S2) (S1 S2 S3) (S2 S3 S4)): the
+   cofactor S0 S2 - S1^2 over the determinant; NAN when singular. */
+static double quad_vcc(const double S[5])
+{
+    double det = S[0] * (S[2] * S[4] - S[3] * S[3]) - S[1] * (S[1] * S[4] - S[3] * S[2]) +
+                 S[2] * (S[1] * S[3] - S[2] * S[2]);
+    double cof = S[0] * S[2] - S[1] * S[1];
+    double scale = fabs(S[0] * S[2] * S[4]) + fabs(S[1] * S[1] * S[4]) + fabs(S[2] * S[2] * S[2]);
+    if (!(det > 1e-12 * scale) || !isfinite(det))
+        return NAN;
+    return cof / det;
+}
+
+double arrank_plan_bend_se_factor(const arrank_plan_sample *s, size_t which,
+                                  const arrank_plan_run *runs, size_t n_runs)
+{
+    double mom[5];
+    memcpy(mom, s->mom, sizeof mom);
+    for (size_t k = 0; k < n_runs; k++)
+        if (runs[k].sample == which)
+            add_moments(mom, (double)runs[k].repeats * s->weight_new, u_at(s, runs[k].temp_K));
+    return sqrt(quad_vcc(mom));
+}
+
+double arrank_plan_bend_c(double dEa_J_mol, double temp_lo_K, double temp_hi_K)
+{
+    double dx = 1.0 / temp_lo_K - 1.0 / temp_hi_K;
+    return dEa_J_mol / (2.0 * ARRANK_R_J_MOL_K * dx) / (ARRANK_PLAN_U_SCALE * ARRANK_PLAN_U_SCALE);
+}
+
 arrank_status arrank_plan_sample_from_fit(const arrank_arrhenius *fit, double weight_new,
                                           arrank_plan_sample *out, arrank_error *err)
 {
@@ -72,6 +117,8 @@ arrank_status arrank_plan_sample_from_fit(const arrank_arrhenius *fit, double we
     out->rss = s2 * fit->dof;
     out->dof = fit->dof;
     out->weight_new = weight_new;
+    memset(out->mom, 0, sizeof out->mom);
+    out->bend_c = 0.0;
     return ARRANK_OK;
 }
 
@@ -392,6 +439,8 @@ int arrank_plan_goal_met(const arrank_plan_sample *samples, size_t n, const size
 {
     if (t->goal == ARRANK_GOAL_SEPARATE)
         return separated(samples, n, involved, n_involved, t);
+    if (t->goal == ARRANK_GOAL_CURVATURE)
+        return 0;
     double lim = log1p(t->width);
     for (size_t k = 0; k < n_involved; k++) {
         double mean, se;
@@ -405,21 +454,43 @@ int arrank_plan_goal_met(const arrank_plan_sample *samples, size_t n, const size
 
 /* ---- the allocation ----------------------------------------------------- */
 
-/* The planning score (arrank_plan_allocate) with information m[k] and
-   added[k] runs of each involved sample k. */
-static double score(const arrank_plan_sample *samples, const size_t *involved, size_t n_inv,
-                    const double (*m)[3], const size_t *added, const arrank_plan_target *t)
+/* An involved sample's design during the allocation: its line's M, its
+   quadratic's moments, the runs added. */
+typedef struct {
+    double m[3];
+    double mom[5];
+    size_t added;
+} design;
+
+static void design_add(design *d, const arrank_plan_sample *s, double temp_K)
 {
-    double var[64], mean[64];
+    add_point(d->m, s->weight_new, x_at(s, temp_K));
+    add_moments(d->mom, s->weight_new, u_at(s, temp_K));
+    d->added++;
+}
+
+/* The planning score (arrank_plan_allocate) of the designs d[n_inv]. */
+static double score(const arrank_plan_sample *samples, const size_t *involved, size_t n_inv,
+                    const design *d, const arrank_plan_target *t)
+{
+    double var[64], mean[64], sc = 0.0;
+    if (t->goal == ARRANK_GOAL_CURVATURE) {
+        double z = gsl_cdf_ugaussian_Pinv(1.0 - 0.5 * t->level);
+        for (size_t k = 0; k < n_inv; k++) {
+            const arrank_plan_sample *s = &samples[involved[k]];
+            double se = sqrt(s->rss / s->dof * quad_vcc(d[k].mom));
+            sc += isfinite(se) ? log_phi_cdf(fabs(s->bend_c) / se - z) : -1e300;
+        }
+        return sc;
+    }
     for (size_t k = 0; k < n_inv; k++) {
         const arrank_plan_sample *s = &samples[involved[k]];
         double mi[3], x = x_at(s, t->temp_K);
-        if (inv2(m[k], mi) != 0)
+        if (inv2(d[k].m, mi) != 0)
             return -INFINITY;
         var[k] = s->rss / s->dof * quad(mi, x);
         mean[k] = s->b0 + s->b1 * x;
     }
-    double sc = 0.0;
     if (t->goal == ARRANK_GOAL_SEPARATE) {
         double nf = (double)(t->n_family > 2 ? t->n_family : 2);
         double z = gsl_cdf_ugaussian_Pinv(1.0 - t->alpha / (nf * (nf - 1.0)));
@@ -429,11 +500,20 @@ static double score(const arrank_plan_sample *samples, const size_t *involved, s
     }
     double lim = log1p(t->width);
     for (size_t k = 0; k < n_inv; k++) {
-        double dof = samples[involved[k]].dof + (double)added[k];
+        double dof = samples[involved[k]].dof + (double)d[k].added;
         double hw = arrank_t_quantile(1.0 - t->alpha, dof) * sqrt(var[k]);
         sc += (hw < lim ? 0.0 : lim - hw) - 0.001 * hw;
     }
     return sc;
+}
+
+/* The involved position of candidate c's sample; n_involved when none. */
+static size_t position_of(const size_t *involved, size_t n_involved, size_t sample)
+{
+    size_t k = 0;
+    while (k < n_involved && involved[k] != sample)
+        k++;
+    return k;
 }
 
 arrank_status arrank_plan_allocate(const arrank_plan_sample *samples, size_t n,
@@ -445,35 +525,28 @@ arrank_status arrank_plan_allocate(const arrank_plan_sample *samples, size_t n,
     if (n_involved == 0 || n_involved > 64)
         return arrank_errorf(err, ARRANK_EINVAL,
                              "a plan takes 1 to 64 samples, not %zu", n_involved);
-    if (t->goal == ARRANK_GOAL_CURVATURE)
-        return arrank_errorf(err, ARRANK_EINVAL, "the curvature goal is not planned yet");
-    double m[64][3];
-    size_t added[64] = {0};
+    design d[64];
     for (size_t k = 0; k < n_involved; k++) {
         if (involved[k] >= n)
             return arrank_errorf(err, ARRANK_EINVAL, "involved sample %zu out of range",
                                  involved[k]);
-        memcpy(m[k], samples[involved[k]].info, sizeof m[k]);
+        memcpy(d[k].m, samples[involved[k]].info, sizeof d[k].m);
+        memcpy(d[k].mom, samples[involved[k]].mom, sizeof d[k].mom);
+        d[k].added = 0;
     }
+    for (size_t c = 0; c < n_cand; c++)
+        if (position_of(involved, n_involved, cand_sample[c]) == n_involved)
+            return arrank_errorf(err, ARRANK_EINVAL, "candidate %zu is of no involved sample", c);
     memset(repeats, 0, n_cand * sizeof *repeats);
     for (size_t step = 0; step < budget && n_cand; step++) {
         size_t best = SIZE_MAX;
         double best_sc = -INFINITY;
         for (size_t c = 0; c < n_cand; c++) {
-            size_t k = 0;
-            while (k < n_involved && involved[k] != cand_sample[c])
-                k++;
-            if (k == n_involved)
-                return arrank_errorf(err, ARRANK_EINVAL, "candidate %zu is of no involved "
-                                     "sample", c);
-            const arrank_plan_sample *s = &samples[involved[k]];
-            double saved[3];
-            memcpy(saved, m[k], sizeof saved);
-            add_point(m[k], s->weight_new, x_at(s, cand_temp_K[c]));
-            added[k]++;
-            double sc = score(samples, involved, n_involved, (const double(*)[3])m, added, t);
-            added[k]--;
-            memcpy(m[k], saved, sizeof saved);
+            size_t k = position_of(involved, n_involved, cand_sample[c]);
+            design saved = d[k];
+            design_add(&d[k], &samples[involved[k]], cand_temp_K[c]);
+            double sc = score(samples, involved, n_involved, d, t);
+            d[k] = saved;
             if (sc > best_sc) {
                 best_sc = sc;
                 best = c;
@@ -481,12 +554,8 @@ arrank_status arrank_plan_allocate(const arrank_plan_sample *samples, size_t n,
         }
         if (best == SIZE_MAX)
             break;
-        size_t k = 0;
-        while (involved[k] != cand_sample[best])
-            k++;
-        const arrank_plan_sample *s = &samples[involved[k]];
-        add_point(m[k], s->weight_new, x_at(s, cand_temp_K[best]));
-        added[k]++;
+        size_t k = position_of(involved, n_involved, cand_sample[best]);
+        design_add(&d[k], &samples[involved[k]], cand_temp_K[best]);
         repeats[best]++;
     }
     return ARRANK_OK;
@@ -526,6 +595,47 @@ static arrank_status simulate_one(const arrank_plan_sample *s, size_t which,
     return arrank_plan_refit(s, T, y, m, out, err);
 }
 
+/* Curvature (arrank_plan_simulate): the simulations that detect every
+   involved sample's bend, into *met.  Draws sigma^2 from the par stream, the
+   fit's c and RSS from the noise stream. */
+static arrank_status simulate_bend(const arrank_plan_sample *samples, const size_t *involved,
+                                   size_t n_inv, const arrank_plan_target *t,
+                                   const arrank_plan_run *runs, size_t n_runs, size_t sims,
+                                   gsl_rng *par, gsl_rng *noise, size_t *met, arrank_error *err)
+{
+    double v[64], dfq[64], tcrit[64];
+    if (n_inv > 64)
+        return arrank_errorf(err, ARRANK_EINVAL, "a plan takes 1 to 64 samples, not %zu", n_inv);
+    for (size_t j = 0; j < n_inv; j++) {
+        const arrank_plan_sample *s = &samples[involved[j]];
+        double f = arrank_plan_bend_se_factor(s, involved[j], runs, n_runs);
+        size_t added = 0;
+        for (size_t k = 0; k < n_runs; k++)
+            if (runs[k].sample == involved[j])
+                added += runs[k].repeats;
+        v[j] = f * f;
+        dfq[j] = s->dof + 2.0 + (double)added - 3.0; /* points - 3 */
+        tcrit[j] = dfq[j] >= 1 ? arrank_t_quantile(1.0 - t->level, dfq[j]) : INFINITY;
+    }
+    *met = 0;
+    for (size_t k = 0; k < sims; k++) {
+        int all = 1;
+        for (size_t j = 0; j < n_inv; j++) {
+            const arrank_plan_sample *s = &samples[involved[j]];
+            double sigma2 = s->rss / gsl_ran_chisq(par, s->dof);
+            if (!isfinite(tcrit[j]) || !isfinite(v[j])) {
+                all = 0;
+                continue;
+            }
+            double c = s->bend_c + sqrt(sigma2 * v[j]) * gsl_ran_gaussian_ziggurat(noise, 1.0);
+            double rss = sigma2 * gsl_ran_chisq(noise, dfq[j]);
+            all &= fabs(c) / sqrt(rss / dfq[j] * v[j]) > tcrit[j];
+        }
+        *met += (size_t)all;
+    }
+    return ARRANK_OK;
+}
+
 arrank_status arrank_plan_simulate(const arrank_plan_sample *samples, size_t n,
                                    const size_t *involved, size_t n_involved,
                                    const arrank_plan_target *t, const arrank_plan_run *runs,
@@ -553,7 +663,10 @@ arrank_status arrank_plan_simulate(const arrank_plan_sample *samples, size_t n,
     gsl_rng_set(noise, seed ^ 0x5bd1e995UL);
     memcpy(work, samples, n * sizeof *work);
     size_t met = 0;
-    for (size_t k = 0; k < sims && st == ARRANK_OK; k++) {
+    if (t->goal == ARRANK_GOAL_CURVATURE)
+        st = simulate_bend(samples, involved, n_involved, t, runs, n_runs, sims, par, noise, &met,
+                           err);
+    for (size_t k = 0; k < sims && st == ARRANK_OK && t->goal != ARRANK_GOAL_CURVATURE; k++) {
         for (size_t j = 0; j < n_involved && st == ARRANK_OK; j++)
             st = simulate_one(&samples[involved[j]], involved[j], runs, n_runs, par, noise, T, y,
                               &work[involved[j]], err);

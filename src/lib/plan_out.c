@@ -50,10 +50,15 @@ static void put_goal(FILE *f, const arrank_plan *p)
         fprintf(f, "goal: tell the leader apart from every other sample of its group at "
                    "%.2f K (%.2f degC) (Holm, %g%%), or its P(best) at %g\n",
                 p->temp_K, p->temp_K - ZERO_C_K, 100.0 * p->confidence, p->target);
-    else
+    else if (p->goal == ARRANK_GOAL_PRECISION)
         fprintf(f, "goal: every sample's %g%% interval of the rate at %.2f K (%.2f degC) "
                    "within +-%g%%\n",
                 100.0 * p->confidence, p->temp_K, p->temp_K - ZERO_C_K, 100.0 * p->width);
+    else
+        fprintf(f, "goal: for every sample, a bend of the Arrhenius plot (the apparent Ea falling "
+                   "by %g kJ/mol across its allowed window) detected by the quadratic test at "
+                   "level %g\n",
+                p->bend_J_mol / 1e3, p->level);
     fprintf(f, "budget: %zu new runs; candidates every %g K from the operating temperature, at "
                "most %g K outside each sample's kinetic window, never where its points are "
                "transport-limited,\nand never above the stated maximum temperature %.2f K "
@@ -246,8 +251,12 @@ static json_t *plan_json(const arrank_analysis *a, const arrank_plan *p)
     json_object_set_new(root, "confidence", real_or_null(p->confidence));
     if (p->goal == ARRANK_GOAL_SEPARATE)
         json_object_set_new(root, "target", real_or_null(p->target));
-    else
+    else if (p->goal == ARRANK_GOAL_PRECISION)
         json_object_set_new(root, "width", real_or_null(p->width));
+    else {
+        json_object_set_new(root, "bend_J_mol", real_or_null(p->bend_J_mol));
+        json_object_set_new(root, "level", real_or_null(p->level));
+    }
     json_object_set_new(root, "met_now", json_boolean(p->met_now));
     json_object_set_new(root, "runs", runs_json(a, p->runs, p->n_runs));
     json_object_set_new(root, "expected_probability", real_or_null(p->expected_probability));

@@ -156,7 +156,10 @@ static arrank_status script_in_c(const arrank_analysis *a, const arrank_plan *p,
     const char *title = a->campaign && a->campaign->title ? a->campaign->title : "";
     fputs("set title ", f);
     arrank_plot_put_qf(f, "Planned runs (goal %s, %zu runs)",
-                       p->goal == ARRANK_GOAL_PRECISION ? "precision" : "separate", p->budget);
+                       p->goal == ARRANK_GOAL_PRECISION   ? "precision"
+                       : p->goal == ARRANK_GOAL_CURVATURE ? "curvature"
+                                                          : "separate",
+                       p->budget);
     fputs(" . \"\\n\" . ", f);
     arrank_plot_put_q(f, title);
     fputs("\nset xlabel '1000 / T  [K⁻¹]'\nset ylabel ", f);
