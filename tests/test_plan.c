@@ -533,6 +533,78 @@ static void posterior_draw(const sim_campaign *c, size_t i, uint64_t *seed, doub
     *sd = f->resid_sd * scale;
 }
 
+/* Small budgets are searched exhaustively: the allocation's score is the
+   best of every allocation enumerated here (budgets 1 and 2), never below
+   the greedy one's (budget 3), and a budget of 1 is the greedy choice. */
+static void exact_for_small_budgets(void **state)
+{
+    (void)state;
+    uint64_t seed = 41;
+    static sim_campaign camp;
+    arrank_error err;
+    for (int rep = 0; rep < 40; rep++) {
+        make_campaign(&camp, &seed);
+        arrank_plan_target t = {rep % 2 ? ARRANK_GOAL_PRECISION : ARRANK_GOAL_SEPARATE, T_OP_K,
+                                0.05, 0.95, 0.02, N_SAMPLES, 0.02};
+        size_t cs[24], rep_x[24], rep_g[24], trial[24];
+        double cT[24];
+        size_t nc = 0;
+        for (size_t i = 0; i < N_SAMPLES; i++)
+            for (double T = 490.0; T <= 560.0; T += 10.0) {
+                cs[nc] = i;
+                cT[nc++] = T;
+            }
+        for (size_t budget = 1; budget <= 3; budget++) {
+            assert_int_equal(arrank_plan_allocate(camp.ps, N_SAMPLES, camp.involved, N_SAMPLES,
+                                                  &t, cs, cT, nc, budget, rep_x, &err),
+                             ARRANK_OK);
+            double sx = arrank_plan_score(camp.ps, N_SAMPLES, camp.involved, N_SAMPLES, &t, cs,
+                                          cT, nc, rep_x);
+            size_t total = 0;
+            for (size_t c = 0; c < nc; c++)
+                total += rep_x[c];
+            assert_int_equal(total, budget);
+            /* greedy, written out here */
+            memset(rep_g, 0, sizeof rep_g);
+            for (size_t b = 0; b < budget; b++) {
+                size_t best = 0;
+                double bs = -INFINITY;
+                for (size_t c = 0; c < nc; c++) {
+                    rep_g[c]++;
+                    double sc = arrank_plan_score(camp.ps, N_SAMPLES, camp.involved, N_SAMPLES,
+                                                  &t, cs, cT, nc, rep_g);
+                    rep_g[c]--;
+                    if (sc > bs) {
+                        bs = sc;
+                        best = c;
+                    }
+                }
+                rep_g[best]++;
+            }
+            double sg = arrank_plan_score(camp.ps, N_SAMPLES, camp.involved, N_SAMPLES, &t, cs,
+                                          cT, nc, rep_g);
+            assert_true(sx >= sg);
+            if (budget == 1)
+                assert_true(sx == sg);
+            if (budget > 2)
+                continue;
+            double best = -INFINITY;
+            for (size_t a = 0; a < nc; a++)
+                for (size_t b = budget == 2 ? a : nc - 1; b < nc; b++) {
+                    memset(trial, 0, sizeof trial);
+                    trial[a]++;
+                    if (budget == 2)
+                        trial[b]++;
+                    best = fmax(best, arrank_plan_score(camp.ps, N_SAMPLES, camp.involved,
+                                                        N_SAMPLES, &t, cs, cT, nc, trial));
+                    if (budget == 1)
+                        break;
+                }
+            assert_true(sx == best);
+        }
+    }
+}
+
 static void plan_keeps_its_promise(void **state)
 {
     (void)state;
@@ -632,6 +704,7 @@ int main(void)
         cmocka_unit_test(separate_by_p_best),
         cmocka_unit_test(demo_never_above_the_limit),
         cmocka_unit_test(demo_same_plan_for_a_seed),
+        cmocka_unit_test(exact_for_small_budgets),
         cmocka_unit_test(plan_keeps_its_promise),
     };
     return cmocka_run_group_tests(tests, units_setup, units_teardown);

@@ -14,7 +14,8 @@
  * s^2.
  *
  * The allocation (arrank_plan_allocate) adds one run at a time where the
- * goal's planning score gains most (greedy); the check
+ * goal's planning score gains most (greedy), or searches every allocation
+ * of a small budget; the check
  * (arrank_plan_simulate) is a preposterior simulation: parameters and
  * scatter drawn from each fit's distribution (the normal-inverse-chi-square
  * posterior of a linear model under the usual noninformative prior: sigma^2
@@ -135,10 +136,16 @@ void arrank_plan_key(const arrank_plan_sample *s, double temp_K, double *mean, d
 int arrank_plan_goal_met(const arrank_plan_sample *samples, size_t n, const size_t *involved,
                          size_t n_involved, const arrank_plan_target *t);
 
+/* Allocations searched exhaustively: at most this many (below). */
+#define ARRANK_PLAN_EXACT_MAX 20000
+
 /*
- * Greedy allocation of `budget` runs over n_cand candidates
- * (cand_sample[k], cand_temp_K[k]): each run goes where the planning score
- * gains most, ties to the lower candidate.  Planning score: separate, the
+ * Allocation of `budget` runs over n_cand candidates (cand_sample[k],
+ * cand_temp_K[k]) by the planning score: exactly, over every allocation,
+ * when there are at most ARRANK_PLAN_EXACT_MAX of them (C(n_cand + budget -
+ * 1, budget): a small budget), the first best in the order of the search;
+ * otherwise greedily, each run where the score gains most, ties to the lower
+ * candidate.  Planning score: separate, the
  * sum over the leader's group of log Phi(|d_j| / se_j - z), the log power of
  * each pairwise test at the Bonferroni level alpha / (n_family (n_family -
  * 1) / 2) with the expected standard errors after the runs; precision, the
@@ -153,6 +160,13 @@ arrank_status arrank_plan_allocate(const arrank_plan_sample *samples, size_t n,
                                    const arrank_plan_target *t, const size_t *cand_sample,
                                    const double *cand_temp_K, size_t n_cand, size_t budget,
                                    size_t *repeats, arrank_error *err);
+
+/* The planning score of an allocation (repeats[n_cand] of the candidates);
+   NAN for bad arguments. */
+double arrank_plan_score(const arrank_plan_sample *samples, size_t n, const size_t *involved,
+                         size_t n_involved, const arrank_plan_target *t,
+                         const size_t *cand_sample, const double *cand_temp_K, size_t n_cand,
+                         const size_t *repeats);
 
 /*
  * Preposterior probability that the goal is met after the runs: `sims`

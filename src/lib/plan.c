@@ -516,16 +516,16 @@ static size_t position_of(const size_t *involved, size_t n_involved, size_t samp
     return k;
 }
 
-arrank_status arrank_plan_allocate(const arrank_plan_sample *samples, size_t n,
-                                   const size_t *involved, size_t n_involved,
-                                   const arrank_plan_target *t, const size_t *cand_sample,
-                                   const double *cand_temp_K, size_t n_cand, size_t budget,
-                                   size_t *repeats, arrank_error *err)
+/* Step 1 of the allocation: the involved samples' designs before any run;
+   EINVAL for an index out of range or a candidate of no involved sample. */
+static arrank_status designs_init(const arrank_plan_sample *samples, size_t n,
+                                  const size_t *involved, size_t n_involved,
+                                  const size_t *cand_sample, size_t n_cand, design *d,
+                                  arrank_error *err)
 {
     if (n_involved == 0 || n_involved > 64)
         return arrank_errorf(err, ARRANK_EINVAL,
                              "a plan takes 1 to 64 samples, not %zu", n_involved);
-    design d[64];
     for (size_t k = 0; k < n_involved; k++) {
         if (involved[k] >= n)
             return arrank_errorf(err, ARRANK_EINVAL, "involved sample %zu out of range",
@@ -537,7 +537,94 @@ arrank_status arrank_plan_allocate(const arrank_plan_sample *samples, size_t n,
     for (size_t c = 0; c < n_cand; c++)
         if (position_of(involved, n_involved, cand_sample[c]) == n_involved)
             return arrank_errorf(err, ARRANK_EINVAL, "candidate %zu is of no involved sample", c);
+    return ARRANK_OK;
+}
+
+double arrank_plan_score(const arrank_plan_sample *samples, size_t n, const size_t *involved,
+                         size_t n_involved, const arrank_plan_target *t,
+                         const size_t *cand_sample, const double *cand_temp_K, size_t n_cand,
+                         const size_t *repeats)
+{
+    design d[64];
+    arrank_error e;
+    if (designs_init(samples, n, involved, n_involved, cand_sample, n_cand, d, &e) != ARRANK_OK)
+        return NAN;
+    for (size_t c = 0; c < n_cand; c++) {
+        size_t k = position_of(involved, n_involved, cand_sample[c]);
+        for (size_t r = 0; r < repeats[c]; r++)
+            design_add(&d[k], &samples[involved[k]], cand_temp_K[c]);
+    }
+    return score(samples, involved, n_involved, d, t);
+}
+
+/* The exact search (arrank_plan_allocate): every multiset of `left` more runs
+   from candidates first.. on top of the designs d, the best score and its
+   repeats kept (the first found among equals). */
+typedef struct {
+    const arrank_plan_sample *samples;
+    const size_t *involved, *cand_sample;
+    const double *cand_T;
+    size_t n_inv, n_cand;
+    const arrank_plan_target *t;
+    size_t *cur, *best;
+    double best_sc;
+} exact_search;
+
+static void search(exact_search *x, design *d, size_t first, size_t left)
+{
+    if (left == 0) {
+        double sc = score(x->samples, x->involved, x->n_inv, d, x->t);
+        if (sc > x->best_sc) {
+            x->best_sc = sc;
+            memcpy(x->best, x->cur, x->n_cand * sizeof *x->best);
+        }
+        return;
+    }
+    for (size_t c = first; c < x->n_cand; c++) {
+        size_t k = position_of(x->involved, x->n_inv, x->cand_sample[c]);
+        design saved = d[k];
+        design_add(&d[k], &x->samples[x->involved[k]], x->cand_T[c]);
+        x->cur[c]++;
+        search(x, d, c, left - 1);
+        x->cur[c]--;
+        d[k] = saved;
+    }
+}
+
+/* Allocations of budget runs over n_cand candidates, C(n_cand + budget - 1,
+   budget), or SIZE_MAX past limit. */
+static size_t multisets(size_t n_cand, size_t budget, size_t limit)
+{
+    double count = 1.0;
+    for (size_t i = 1; i <= budget; i++) {
+        count = count * (double)(n_cand + i - 1) / (double)i;
+        if (count > (double)limit)
+            return SIZE_MAX;
+    }
+    return (size_t)(count + 0.5);
+}
+
+arrank_status arrank_plan_allocate(const arrank_plan_sample *samples, size_t n,
+                                   const size_t *involved, size_t n_involved,
+                                   const arrank_plan_target *t, const size_t *cand_sample,
+                                   const double *cand_temp_K, size_t n_cand, size_t budget,
+                                   size_t *repeats, arrank_error *err)
+{
+    design d[64];
+    arrank_status st = designs_init(samples, n, involved, n_involved, cand_sample, n_cand, d, err);
+    if (st != ARRANK_OK)
+        return st;
     memset(repeats, 0, n_cand * sizeof *repeats);
+    if (n_cand && multisets(n_cand, budget, ARRANK_PLAN_EXACT_MAX) != SIZE_MAX) {
+        size_t *cur = calloc(n_cand, sizeof *cur);
+        if (!cur)
+            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        exact_search x = {samples, involved, cand_sample, cand_temp_K, n_involved, n_cand, t,
+                          cur, repeats, -INFINITY};
+        search(&x, d, 0, budget);
+        free(cur);
+        return ARRANK_OK;
+    }
     for (size_t step = 0; step < budget && n_cand; step++) {
         size_t best = SIZE_MAX;
         double best_sc = -INFINITY;
