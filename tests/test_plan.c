@@ -288,12 +288,15 @@ static arrank_analysis *demo_analysis(arrank_campaign **c, unsigned long seed)
     return a;
 }
 
+/* The coldest point flagged pore- or film-limited, or left out hotter than
+   the kinetic window (analysis_plan.h). */
 static double onset_K(const arrank_result *r)
 {
     double lo = INFINITY;
-    for (size_t i = 0; r->diagnosis && i < r->diagnosis->n_points; i++)
-        if (r->diagnosis->points[i].regime == ARRANK_REGIME_PORE ||
-            r->diagnosis->points[i].regime == ARRANK_REGIME_FILM)
+    const arrank_diagnosis *d = r->diagnosis;
+    for (size_t i = 0; d && i < d->n_points; i++)
+        if (d->points[i].regime == ARRANK_REGIME_PORE || d->points[i].regime == ARRANK_REGIME_FILM ||
+            (d->points[i].excluded && r->sample->points[i].temp_K > d->window_hi_K))
             lo = fmin(lo, r->sample->points[i].temp_K);
     return lo;
 }
@@ -364,6 +367,24 @@ static void demo_never_above_the_limit(void **state)
                 runs_seen += p->n_runs;
                 arrank_plan_free(p);
             }
+    /* ZN-12: kinetic to 543.55 K, the bend begins at 553.05 K (left out),
+       pore-limited from 594.05 K (the demo's diagnosis): nothing at or above
+       553.05 K, whatever the limit */
+    {
+        arrank_plan_options o = arrank_analysis_plan_defaults();
+        o.max_temp_K = 400 + 273.15;
+        o.goal = ARRANK_GOAL_PRECISION;
+        o.samples = twelve;
+        o.n_samples = 1;
+        o.reach_K = 40.0;
+        o.sims = 100;
+        arrank_plan *p = NULL;
+        assert_int_equal(arrank_analysis_plan(a, &o, &p, &err), ARRANK_OK);
+        assert_true(p->n_runs > 0);
+        for (size_t k = 0; k < p->n_runs; k++)
+            assert_true(p->runs[k].temp_K < 553.05);
+        arrank_plan_free(p);
+    }
     assert_int_equal(plans, 90);
     assert_true(runs_seen > 90); /* the checks above saw real plans */
     /* no limit: refused */

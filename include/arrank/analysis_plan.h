@@ -44,7 +44,8 @@ arrank_plan_options arrank_analysis_plan_defaults(void);
  * sample: temperatures T_op + k step inside its kinetic window (the
  * diagnosis's, else its fitted range) widened by reach on each side, never
  * above max_temp_K and never at or above its coldest point flagged
- * transport-limited (pore or film regime).  The seed is the analysis's
+ * transport-limited (pore or film regime) or left out of the fit hotter
+ * than the window (where the bend begins, conversion above the limit).  The seed is the analysis's
  * (options.seed).  On success *out is owned by the caller (arrank_plan_free).
  * EINVAL for a bad option, an analysis not ranked by rate, no limit, an
  * unknown sample id; EDATA when an involved sample cannot be planned for.

@@ -148,19 +148,24 @@ static arrank_status pick_involved(plan_work *w, arrank_error *err)
     return ARRANK_OK;
 }
 
-/* The coldest point of r that the diagnosis calls transport-limited; INFINITY
-   when none. */
+/* The coldest point of r that the diagnosis calls transport-limited (pore or
+   film regime), or leaves out of the fit hotter than its kinetic window
+   (where the bend begins, or conversion above the limit); INFINITY when
+   none. */
 static double transport_onset_K(const arrank_result *r)
 {
     double lo = INFINITY;
     const arrank_diagnosis *d = r->diagnosis;
     if (!d)
         return lo;
-    for (size_t i = 0; i < d->n_points && i < r->sample->n_points; i++)
-        if ((d->points[i].regime == ARRANK_REGIME_PORE ||
-             d->points[i].regime == ARRANK_REGIME_FILM) &&
-            r->sample->points[i].temp_K < lo)
-            lo = r->sample->points[i].temp_K;
+    for (size_t i = 0; i < d->n_points && i < r->sample->n_points; i++) {
+        double T = r->sample->points[i].temp_K;
+        int limited = d->points[i].regime == ARRANK_REGIME_PORE ||
+                      d->points[i].regime == ARRANK_REGIME_FILM;
+        int hot_out = d->points[i].excluded && isfinite(d->window_hi_K) && T > d->window_hi_K;
+        if ((limited || hot_out) && T < lo)
+            lo = T;
+    }
     return lo;
 }
 

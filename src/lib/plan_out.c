@@ -60,9 +60,9 @@ static void put_goal(FILE *f, const arrank_plan *p)
                    "level %g\n",
                 p->bend_J_mol / 1e3, p->level);
     fprintf(f, "budget: %zu new runs; candidates every %g K from the operating temperature, at "
-               "most %g K outside each sample's kinetic window, never where its points are "
-               "transport-limited,\nand never above the stated maximum temperature %.2f K "
-               "(%.2f degC)\n\n",
+               "most %g K outside each sample's kinetic window,\nnever at or above its coldest "
+               "point that is transport-limited or left out hotter than the window, and never "
+               "above\nthe stated maximum temperature %.2f K (%.2f degC)\n\n",
             p->budget, p->step_K, p->reach_K, p->max_temp_K, p->max_temp_K - ZERO_C_K);
 }
 
@@ -110,15 +110,23 @@ static arrank_status table_in_c(const arrank_analysis *a, const arrank_plan *p, 
     put_goal(f, p);
     put_rows(f, a, p);
     fputc('\n', f);
+    size_t planned = 0, naive = 0;
+    for (size_t k = 0; k < p->n_runs; k++)
+        planned += p->runs[k].repeats;
+    for (size_t k = 0; k < p->n_naive; k++)
+        naive += p->naive[k].repeats;
     if (p->met_now)
         fputs("the goal is met already: no new run is needed for it\n\n", f);
     else {
+        if (planned == 0)
+            fputs("no run can be planned: no allowed candidate temperature (see the limit, the "
+                  "windows and the reach above)\n", f);
         fprintf(f, "expected probability that the goal is met: %.3f (Monte Carlo se %.3f; "
-               "%zu simulations, seed %lu)\n",
-            p->expected_probability, p->expected_probability_se, p->sims, p->seed);
-    fprintf(f, "naive plan (the same %zu runs spread evenly at the current temperatures): "
-               "%.3f (se %.3f)\n\n",
-            p->budget, p->naive_probability, p->naive_probability_se);
+                   "%zu simulations, seed %lu)\n",
+                p->expected_probability, p->expected_probability_se, p->sims, p->seed);
+        fprintf(f, "naive plan (%zu runs spread evenly at the current temperatures below the "
+                   "limit): %.3f (se %.3f)\n\n",
+                naive, p->naive_probability, p->naive_probability_se);
     }
     char **lines = NULL;
     size_t n = 0;
