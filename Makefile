@@ -74,6 +74,7 @@ demo-run: all
 	$(ARRANK) plot $(DEMO) --out plots/$(notdir $(DEMO))
 	SOURCE_DATE_EPOCH="$${SOURCE_DATE_EPOCH:-$$(git log -1 --format=%ct -- $(DEMO) \
 	    2>/dev/null)}" $(ARRANK) report $(DEMO) --out plots/$(notdir $(DEMO))
+	$(ARRANK) plan $(DEMO) --max-temperature 300C --budget 24 --out plots/$(notdir $(DEMO))
 
 # Regenerate the demo campaign from its stated true parameters.
 demo-data: $(BUILD)/tools/gen_demo
