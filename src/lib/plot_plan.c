@@ -82,7 +82,7 @@ static void put_blocks(FILE *f, const arrank_analysis *a, const arrank_plan *p, 
     }
 }
 
-static void put_marks(FILE *f, const arrank_plan *p, double t_lo, double t_hi)
+static void put_marks(FILE *f, const arrank_plan *p, double t_lo, double t_hi, int pt)
 {
     double x_lo = X_SCALE / fmax(t_hi, p->max_temp_K), x_hi = X_SCALE / t_lo;
     double pad = arrank_plot_min_pad(x_lo, x_hi, 0.04 * (x_hi - x_lo), X_SCALE / t_hi);
@@ -100,19 +100,19 @@ static void put_marks(FILE *f, const arrank_plan *p, double t_lo, double t_hi)
     fprintf(f, "set label 1 ");
     arrank_plot_put_qf(f, "maximum temperature %.1f degC", p->max_temp_K - ZERO_C_K);
     fprintf(f, " at %.9g, graph 0.04 rotate by 90 offset -0.8,0 textcolor rgb '#b2182b' "
-               "font ',16' front\n",
-            X_SCALE / p->max_temp_K);
+               "font ',%d' front\n",
+            X_SCALE / p->max_temp_K, pt);
     fprintf(f, "set arrow 2 from %.9g, graph 0 to %.9g, graph 1 nohead lw 1.2 dt 3 "
                "lc rgb '#555555' back\n",
             X_SCALE / p->temp_K, X_SCALE / p->temp_K);
     fprintf(f, "set label 2 ");
     arrank_plot_put_qf(f, "T_op %.1f degC", p->temp_K - ZERO_C_K);
-    fprintf(f, " at %.9g, graph 0.96 right offset -0.6,0 textcolor rgb '#555555' font ',16'\n",
-            X_SCALE / p->temp_K);
+    fprintf(f, " at %.9g, graph 0.96 right offset -0.6,0 textcolor rgb '#555555' font ',%d'\n",
+            X_SCALE / p->temp_K, pt);
 }
 
 static void put_plot(FILE *f, const arrank_analysis *a, const arrank_plan *p,
-                     size_t (*cnt)[2])
+                     size_t (*cnt)[2], int pt)
 {
     int first = 1;
     for (size_t j = 0; j < p->n_entries; j++) {
@@ -135,9 +135,11 @@ static void put_plot(FILE *f, const arrank_analysis *a, const arrank_plan *p,
         arrank_plot_next_elem(f, &first);
         fprintf(f, "$run%zu using 1:2 with points pt 12 ps 3.2*PS lw 2.5 lc rgb '%s'", j, c);
         arrank_plot_next_elem(f, &first);
-        fprintf(f, "$run%zu using 1:2:(sprintf('x%%d', int($3))) with labels offset 0,1.6 "
-                   "font ',16' textcolor rgb '%s'",
-                j, c);
+        /* each sample's labels a line higher than the one before: runs of
+           several samples at one temperature stay readable */
+        fprintf(f, "$run%zu using 1:2:(sprintf('x%%d', int($3))) with labels offset 0,%.1f "
+                   "font ',%d' textcolor rgb '%s'",
+                j, 1.6 + 1.1 * (double)(j % 4), pt, c);
     }
     arrank_plot_next_elem(f, &first);
     fputs("keyentry with points pt 12 ps 3.2*PS lw 2.5 lc rgb '#333333' "
@@ -166,16 +168,20 @@ static arrank_status script_in_c(const arrank_analysis *a, const arrank_plan *p,
     arrank_plot_put_qf(f, "ln(rate / (%s))",
                        a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit : "");
     fputc('\n', f);
-    fputs("set label 99 \"apparent kinetics of these samples in this window; not for reactor "
-          "design, scale-up or safety limits\" at screen 0.995, screen 0.982 right font ',12' "
-          "textcolor rgb '#666666' front\n", f);
+    /* secondary text at about 0.8 of the terminal's base font (put_term),
+       the caution at 0.55 of it as on the other figures */
+    int pt = format == ARRANK_PLOT_PNG ? 32 : format == ARRANK_PLOT_PDF ? 10 : 18;
+    fprintf(f, "set label 99 \"apparent kinetics of these samples in this window; not for "
+               "reactor design, scale-up or safety limits\" at screen 0.995, screen 0.982 right "
+               "font ',%d' textcolor rgb '#666666' front\n",
+            format == ARRANK_PLOT_PNG ? 22 : format == ARRANK_PLOT_PDF ? 7 : 12);
     double t_lo, t_hi;
     size_t(*cnt)[2] = calloc(p->n_entries ? p->n_entries : 1, sizeof *cnt);
     if (!cnt)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     put_blocks(f, a, p, &t_lo, &t_hi, cnt);
-    put_marks(f, p, t_lo, t_hi);
-    put_plot(f, a, p, cnt);
+    put_marks(f, p, t_lo, t_hi, pt);
+    put_plot(f, a, p, cnt, pt);
     free(cnt);
     fputs("unset output\n", f);
     if (fflush(f) != 0 || ferror(f))
