@@ -53,7 +53,7 @@ static void span_of(const arrank_analysis *a, const arrank_plan *p, const arrank
 }
 
 static void put_blocks(FILE *f, const arrank_analysis *a, const arrank_plan *p, double *t_lo,
-                       double *t_hi, size_t (*cnt)[2])
+                       double *t_hi, size_t (*cnt)[3])
 {
     *t_lo = INFINITY;
     *t_hi = -INFINITY;
@@ -64,19 +64,23 @@ static void put_blocks(FILE *f, const arrank_analysis *a, const arrank_plan *p, 
         cnt[j][0] = arrank_plot_block_points(f, r, j, "pts", 1, 0);
         cnt[j][1] = arrank_plot_block_points(f, r, j, "pte", 1, 1);
         arrank_plot_block_line(f, r, "fit", j, X_SCALE / hi, X_SCALE / lo, 60);
-        fprintf(f, "$run%zu << EOD\n", j);
+        /* the planned runs on the line (no block without runs: gnuplot
+           fails on labels of an empty or all-NaN block) */
         size_t n = 0;
         for (size_t k = 0; k < p->n_runs; k++) {
             if (p->runs[k].sample != p->entries[j].result)
                 continue;
             double y, se;
             arrank_plot_line_at(&r->fit, p->runs[k].temp_K, &y, &se);
+            if (!isfinite(y))
+                continue;
+            if (n++ == 0)
+                fprintf(f, "$run%zu << EOD\n", j);
             fprintf(f, "%.9g %.9g %zu\n", X_SCALE / p->runs[k].temp_K, y, p->runs[k].repeats);
-            n++;
         }
-        if (n == 0)
-            fputs("NaN NaN 0\n", f);
-        fputs("EOD\n", f);
+        if (n)
+            fputs("EOD\n", f);
+        cnt[j][2] = n;
         *t_lo = fmin(*t_lo, lo);
         *t_hi = fmax(*t_hi, hi);
     }
@@ -86,13 +90,18 @@ static void put_marks(FILE *f, const arrank_plan *p, double t_lo, double t_hi, i
 {
     double x_lo = X_SCALE / fmax(t_hi, p->max_temp_K), x_hi = X_SCALE / t_lo;
     double pad = arrank_plot_min_pad(x_lo, x_hi, 0.04 * (x_hi - x_lo), X_SCALE / t_hi);
-    fprintf(f, "set xrange [%.9g:%.9g]\n", x_lo - pad, x_hi + pad);
-    /* the top axis in degC, as the Arrhenius figure has it */
-    fputs("set x2label 'T  [°C]'\n"
-          "set link x2 via 1000./x - 273.15 inverse 1000./(x + 273.15)\n"
-          "set xtics nomirror\nset offsets 0, 0, graph 0.12, graph 0.05\n", f);
-    arrank_plot_put_celsius_tics(f, X_SCALE / (x_hi + pad) - ZERO_C_K,
-                                 X_SCALE / (x_lo - pad) - ZERO_C_K, 8.0);
+    /* 1000/T stays above 0: the degC axis is 1000/x, and gnuplot fails on a
+       linked axis through x = 0 */
+    double pad_lo = fmin(pad, 0.5 * x_lo);
+    fprintf(f, "set xrange [%.9g:%.9g]\n", x_lo - pad_lo, x_hi + pad);
+    fputs("set xtics nomirror\nset offsets 0, 0, graph 0.12, graph 0.05\n", f);
+    if (x_lo - pad_lo > 0 && isfinite(x_hi + pad)) {
+        /* the top axis in degC, as the Arrhenius figure has it */
+        fputs("set x2label 'T  [°C]'\n"
+              "set link x2 via 1000./x - 273.15 inverse 1000./(x + 273.15)\n", f);
+        arrank_plot_put_celsius_tics(f, X_SCALE / (x_hi + pad) - ZERO_C_K,
+                                     X_SCALE / (x_lo - pad_lo) - ZERO_C_K, 8.0);
+    }
     /* the limit: nothing is planned to the left of this line */
     fprintf(f, "set arrow 1 from %.9g, graph 0 to %.9g, graph 1 nohead lw 2 dt 2 "
                "lc rgb '#b2182b' front\n",
@@ -112,7 +121,7 @@ static void put_marks(FILE *f, const arrank_plan *p, double t_lo, double t_hi, i
 }
 
 static void put_plot(FILE *f, const arrank_analysis *a, const arrank_plan *p,
-                     size_t (*cnt)[2], int pt)
+                     size_t (*cnt)[3], int pt)
 {
     int first = 1;
     for (size_t j = 0; j < p->n_entries; j++) {
@@ -132,6 +141,8 @@ static void put_plot(FILE *f, const arrank_analysis *a, const arrank_plan *p,
             fprintf(f, "$%s%zu using 1:2 with points pt %d ps 1.6*PS lc rgb '%s'",
                     b ? "pte" : "pts", j, arrank_plot_point_type(j, 0), c);
         }
+        if (!cnt[j][2])
+            continue;
         arrank_plot_next_elem(f, &first);
         fprintf(f, "$run%zu using 1:2 with points pt 12 ps 3.2*PS lw 2.5 lc rgb '%s'", j, c);
         arrank_plot_next_elem(f, &first);
@@ -176,7 +187,7 @@ static arrank_status script_in_c(const arrank_analysis *a, const arrank_plan *p,
                "font ',%d' textcolor rgb '#666666' front\n",
             format == ARRANK_PLOT_PNG ? 22 : format == ARRANK_PLOT_PDF ? 7 : 12);
     double t_lo, t_hi;
-    size_t(*cnt)[2] = calloc(p->n_entries ? p->n_entries : 1, sizeof *cnt);
+    size_t(*cnt)[3] = calloc(p->n_entries ? p->n_entries : 1, sizeof *cnt);
     if (!cnt)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     put_blocks(f, a, p, &t_lo, &t_hi, cnt);
