@@ -96,6 +96,13 @@ expect_eq "plan under a limit below every window: exit 0" "$st" 0
 ok_if "plan under a limit below every window: says no run can be planned, draws the figure" \
     sh -c "grep -q '^no run can be planned' '$T/none.out' && test -s '$T/none/plan.svg'"
 
+# Never into the campaign folder (its inputs are never written).
+"$A" plan "$DEMO" --max-temperature 300C --run-sheet "$DEMO/plan.csv" --json "$T/in.json" \
+    >/dev/null 2>"$T/in.err"; st=$?
+ok_if "plan: a run sheet inside the campaign folder is refused (exit 2), nothing written" \
+    sh -c "[ $st -eq 2 ] && grep -q 'inside the campaign folder' '$T/in.err' &&
+           [ ! -e '$DEMO/plan.csv' ] && [ ! -e '$T/in.json' ]"
+
 # Refusals: one line, exit 2, nothing written.
 refuse() { # NAME PATTERN ARGS...
     rn=$1 rp=$2
