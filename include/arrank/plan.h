@@ -146,9 +146,10 @@ int arrank_plan_goal_met(const arrank_plan_sample *samples, size_t n, const size
  * 1, budget): a small budget), the first best in the order of the search;
  * otherwise greedily, each run where the score gains most, ties to the lower
  * candidate.  Planning score: separate, the
- * sum over the leader's group of log Phi(|d_j| / se_j - z), the log power of
- * each pairwise test at the Bonferroni level alpha / (n_family (n_family -
- * 1) / 2) with the expected standard errors after the runs; precision, the
+ * sum over the leader's group of log Phi(|d_j| / se_j - z) with the
+ * expected standard errors after the runs, z the smaller of the normal
+ * quantiles of the Bonferroni level alpha / (n_family (n_family - 1) / 2)
+ * and of the P(best) target (the easier of the goal's two routes); precision, the
  * sum over the involved samples of min(0, ln(1 + width) - t se), t on the
  * new dof, less 0.001 of the summed half widths (the ties once all are met);
  * curvature, the sum over the involved samples of log Phi(|bend_c| / se_c -

@@ -493,7 +493,12 @@ static double score(const arrank_plan_sample *samples, const size_t *involved, s
     }
     if (t->goal == ARRANK_GOAL_SEPARATE) {
         double nf = (double)(t->n_family > 2 ? t->n_family : 2);
+        /* the easier of the goal's two routes: Holm's pairwise tests (at the
+           Bonferroni level), or P(best) at the target (each pairwise margin
+           d / se past the target's normal quantile) */
         double z = gsl_cdf_ugaussian_Pinv(1.0 - t->alpha / (nf * (nf - 1.0)));
+        if (t->target > 0 && t->target < 1)
+            z = fmin(z, gsl_cdf_ugaussian_Pinv(t->target));
         for (size_t k = 1; k < n_inv; k++)
             sc += log_phi_cdf(fabs(mean[0] - mean[k]) / sqrt(var[0] + var[k]) - z);
         return sc;
