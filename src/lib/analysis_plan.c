@@ -86,10 +86,20 @@ static arrank_status gather_samples(plan_work *w, arrank_error *err)
     for (size_t k = 0; k < a->n_ranked; k++) {
         const arrank_result *r = ranked(w, k);
         arrank_error e;
-        if (arrank_plan_sample_from_fit(&r->fit, new_weight(r), &w->samples[k], &e) != ARRANK_OK)
-            return arrank_error_at(err, ARRANK_EDATA, r->sample->path, 0, 0,
-                                   "sample '%s' cannot be planned for: %s", r->sample->id,
-                                   e.message);
+        if (arrank_plan_sample_from_fit(&r->fit, new_weight(r), &w->samples[k], &e) !=
+            ARRANK_OK) {
+            /* a line without scatter: its key is exact (se 0) for the others'
+               tests; it cannot take part itself (pick_involved) */
+            arrank_plan_sample *ps = &w->samples[k];
+            memset(ps, 0, sizeof *ps);
+            ps->T_ref_K = r->fit.T_ref_K;
+            ps->b0 = r->fit.b0;
+            ps->b1 = r->fit.b1;
+            ps->info[0] = ps->info[2] = 1.0;
+            ps->dof = r->fit.dof > 0 ? r->fit.dof : 1.0;
+            ps->weight_new = NAN; /* the mark */
+            continue;
+        }
         /* the quadratic's moments of the used points, in the fit's weights */
         const arrank_sample *smp = r->sample;
         double *mom = w->samples[k].mom;
@@ -145,6 +155,13 @@ static arrank_status pick_involved(plan_work *w, arrank_error *err)
     if (w->n_inv > 64)
         return arrank_errorf(err, ARRANK_EINVAL, "%zu samples take part; a plan takes at most 64",
                              w->n_inv);
+    for (size_t j = 0; j < w->n_inv; j++)
+        if (isnan(w->samples[w->involved[j]].weight_new)) {
+            const arrank_sample *smp = ranked(w, w->involved[j])->sample;
+            return arrank_error_at(err, ARRANK_EDATA, smp->path, 0, 0,
+                                   "sample '%s' cannot be planned for: its line has no scatter "
+                                   "(or a singular covariance)", smp->id);
+        }
     return ARRANK_OK;
 }
 
