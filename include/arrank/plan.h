@@ -143,7 +143,8 @@ int arrank_plan_goal_met(const arrank_plan_sample *samples, size_t n, const size
  * Allocation of `budget` runs over n_cand candidates (cand_sample[k],
  * cand_temp_K[k]) by the planning score: exactly, over every allocation,
  * when there are at most ARRANK_PLAN_EXACT_MAX of them (C(n_cand + budget -
- * 1, budget): a small budget), the first best in the order of the search;
+ * 1, budget)) and the budget is at most 8, the first best in the order of
+ * the search;
  * otherwise greedily, each run where the score gains most, ties to the lower
  * candidate.  Planning score: separate, the
  * sum over the leader's group of log Phi(|d_j| / se_j - z) with the

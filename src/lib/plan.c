@@ -620,7 +620,8 @@ arrank_status arrank_plan_allocate(const arrank_plan_sample *samples, size_t n,
     if (st != ARRANK_OK)
         return st;
     memset(repeats, 0, n_cand * sizeof *repeats);
-    if (n_cand && multisets(n_cand, budget, ARRANK_PLAN_EXACT_MAX) != SIZE_MAX) {
+    /* (a budget of at most 8: the search recurses once per run) */
+    if (n_cand && budget <= 8 && multisets(n_cand, budget, ARRANK_PLAN_EXACT_MAX) != SIZE_MAX) {
         size_t *cur = calloc(n_cand, sizeof *cur);
         if (!cur)
             return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
