@@ -81,6 +81,8 @@ demo-run: all
 	    --csv plots/$(notdir $(DEMO2))/merged.csv
 	@echo "== the samples tested in both batches, compared against the reference tested in both"
 	$(ARRANK) compare $(DEMO) $(DEMO2) --reference 'ZN-01 H-beta' --out plots/$(notdir $(DEMO2))
+	@echo "== the next runs planned for the three-way tie at the top (reactor limit 300 degC)"
+	$(ARRANK) plan $(DEMO) --max-temperature 300C --budget 24 --out plots/$(notdir $(DEMO))
 
 # Regenerate the demo campaign from its stated true parameters.
 demo-data: $(BUILD)/tools/gen_demo

@@ -1,6 +1,6 @@
 #!/bin/sh
 # valgrind.sh ARRANK DEMO - the program under valgrind's memcheck: `rank` and
-# `fit` on the demo campaign (with JSON and CSV written), and a campaign with
+# `fit` on the demo campaign (with JSON and CSV written), `plan`, and a campaign with
 # a bad file (the error path); with a reference, with the demo's second batch
 # merged, and `compare` of the two.  Fails on any memcheck error or definite leak
 # (status 99 from valgrind), and on an unexpected exit status of the program.
@@ -34,6 +34,8 @@ export ARRANK_FREE_AT_EXIT=1
 run 0 rank "$DEMO" --json "$T/r.json" --csv "$T/r.csv"
 run 0 fit "$DEMO" --at 255C --json -
 ARRANK_FREE_AT_EXIT=0 run 0 rank "$DEMO"
+# a plan with its run sheet and JSON (200 simulations: memcheck is slow)
+run 0 plan "$DEMO" --max-temperature 300C --simulations 200 --run-sheet "$T/p.csv" --json "$T/p.json"
 mkdir "$T/bad"
 cp "$DEMO"/*.csv "$T/bad/"
 printf 'T [degC],rate [umol/(g*s)]\n250,1\n260,x\n' >"$T/bad/ZZ.csv"

@@ -56,6 +56,9 @@ typedef struct {
     size_t *part_of;            /* [n_samples] the campaign each sample came from */
     char **part_ids;            /* [n_samples] each sample's id in its own campaign (the id
                                    above is "campaign/ID" where ids collide) */
+    /* campaign.ini max_temperature: the reactor's or the safety limit that a
+       plan (arrank/analysis_plan.h) never goes above; NAN if unset */
+    double max_temp_K;
 } arrank_campaign;
 
 /* The campaign (0-based part) sample i came from: 0 for a single campaign. */

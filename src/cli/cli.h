@@ -38,10 +38,14 @@ enum {
     OPT_READ = 1u << 9,       /* --strict, --no-merge: every command that reads a campaign */
     OPT_TABLE = 1u << 10,     /* --wide: the table on a terminal */
     OPT_REFERENCE = 1u << 11, /* --reference ID */
-    OPT_MULTI = 1u << 12      /* several campaign folders (not an option: a permission) */
+    OPT_MULTI = 1u << 12,     /* several campaign folders (not an option: a permission) */
+    OPT_PLAN = 1u << 13       /* --budget, --goal, --target, --width, --step, --reach,
+                                 --max-temperature, --simulations, --bend, --sample,
+                                 --run-sheet */
 };
 
 #define CLI_MAX_CAMPAIGNS 64
+#define CLI_MAX_PLAN_SAMPLES 64
 
 #define CLI_MAX_FORMATS 8
 
@@ -65,6 +69,12 @@ typedef struct {
     int by_given;
     arrank_options options;
     arrank_load_options load; /* --strict, --no-merge */
+    /* arrank plan: the options as written, read by cmd_plan.c (NULL: not given) */
+    const char *plan_opt[9];  /* budget, goal, target, width, step, reach, max-temperature,
+                                 simulations, bend, in the order of cli_plan_option_names */
+    const char *run_sheet_path;
+    const char *plan_samples[CLI_MAX_PLAN_SAMPLES];
+    size_t n_plan_samples;
     int argc;                 /* the whole command line, for the report */
     char **argv;
 } cli_args;
@@ -182,5 +192,9 @@ int cmd_check(int argc, char **argv);
 int cmd_plot(int argc, char **argv);
 int cmd_report(int argc, char **argv);
 int cmd_compare(int argc, char **argv);
+int cmd_plan(int argc, char **argv);
+
+/* The names of the plan options held in cli_args.plan_opt, in its order. */
+extern const char *const cli_plan_option_names[9];
 
 #endif

@@ -15,6 +15,7 @@ static const cli_command commands[] = {
     {"plot", cmd_plot, "draw the review figures (gnuplot) with results.json/.csv"},
     {"report", cmd_report, "write a self-contained HTML review report"},
     {"compare", cmd_compare, "compare two campaigns sample by sample (rate ratio, Ea change)"},
+    {"plan", cmd_plan, "plan the next runs: samples, temperatures and repeats to settle a ranking"},
 };
 
 static void list_commands(FILE *f)

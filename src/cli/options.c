@@ -50,7 +50,43 @@ static const option_spec option_table[] = {
     {"--no-merge", OPT_READ, 0},
     {"--wide", OPT_TABLE, 0},
     {"--reference", OPT_REFERENCE, 1},
+    {"--budget", OPT_PLAN, 1},
+    {"--goal", OPT_PLAN, 1},
+    {"--target", OPT_PLAN, 1},
+    {"--width", OPT_PLAN, 1},
+    {"--step", OPT_PLAN, 1},
+    {"--reach", OPT_PLAN, 1},
+    {"--max-temperature", OPT_PLAN, 1},
+    {"--simulations", OPT_PLAN, 1},
+    {"--bend", OPT_PLAN, 1},
+    {"--sample", OPT_PLAN, 1},
+    {"--run-sheet", OPT_PLAN, 1},
 };
+
+const char *const cli_plan_option_names[9] = {"--budget", "--goal",  "--target",
+                                              "--width",  "--step",  "--reach",
+                                              "--max-temperature", "--simulations", "--bend"};
+
+/* A plan option: kept as written for cmd_plan.c.  -1, or EXIT_USAGE. */
+static int apply_plan(cli_args *a, const char *name, const char *value)
+{
+    if (strcmp(name, "--run-sheet") == 0) {
+        a->run_sheet_path = value;
+        return -1;
+    }
+    if (strcmp(name, "--sample") == 0) {
+        if (a->n_plan_samples == CLI_MAX_PLAN_SAMPLES) {
+            cli_fail("too many --sample options (at most %d)", CLI_MAX_PLAN_SAMPLES);
+            return EXIT_USAGE;
+        }
+        a->plan_samples[a->n_plan_samples++] = value;
+        return -1;
+    }
+    for (size_t k = 0; k < 9; k++)
+        if (strcmp(name, cli_plan_option_names[k]) == 0)
+            a->plan_opt[k] = value;
+    return -1;
+}
 
 /* Every message is one line on the terminal: whatever reached it from a
    file (ids, units, file names) is shown with its control characters and
@@ -130,6 +166,13 @@ static int parse_fraction(const char *name, const char *text, double *out)
 static int apply(cli_args *a, const char *name, const char *value)
 {
     arrank_options *o = &a->options;
+    if (strcmp(name, "--sample") == 0 || strcmp(name, "--run-sheet") == 0 ||
+        strcmp(name, "--budget") == 0 || strcmp(name, "--goal") == 0 ||
+        strcmp(name, "--target") == 0 || strcmp(name, "--width") == 0 ||
+        strcmp(name, "--step") == 0 || strcmp(name, "--reach") == 0 ||
+        strcmp(name, "--max-temperature") == 0 || strcmp(name, "--simulations") == 0 ||
+        strcmp(name, "--bend") == 0)
+        return apply_plan(a, name, value);
     if (strcmp(name, "--at") == 0)
         a->at_text = value;
     else if (strcmp(name, "--json") == 0)

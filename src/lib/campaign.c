@@ -254,6 +254,7 @@ static void take_ini(arrank_ini *ini, arrank_campaign *c, size_t *notes_cap)
     c->title = ini->title;
     c->operating_temp_K = ini->operating_temp_K;
     c->confidence = ini->confidence;
+    c->max_temp_K = ini->max_temp_K;
     c->rate_unit = ini->rate_unit;
     c->reference = ini->reference;
     ini->reference = NULL;
@@ -517,6 +518,7 @@ static arrank_status new_campaign(load_state *ls, arrank_error *err)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
     c->operating_temp_K = NAN;
     c->confidence = NAN;
+    c->max_temp_K = NAN;
     c->n_files = ls->n_names;
     c->path = strdup(dir);
     /* Folder name without trailing slashes. */
@@ -900,6 +902,7 @@ arrank_status arrank_campaign_parse_ini(const char *name, const char *data, size
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     c->operating_temp_K = NAN;
     c->confidence = NAN;
+    c->max_temp_K = NAN;
     arrank_ini ini;
     size_t notes_cap = 0;
     arrank_status st = arrank_ini_parse(name, data ? data : "", len, units, &ini, err);

@@ -88,9 +88,11 @@ static int campaign_key(ini_state *st, const char *section, const char *name, co
         c->title = strdup(value);
         return c->title ? 1 : NOMEM;
     }
-    if (arrank_ascii_casecmp(name, "operating_temperature") == 0) {
-        arrank_status s =
-            arrank_units_parse_temperature(st->units, value, &c->operating_temp_K, &uerr);
+    if (arrank_ascii_casecmp(name, "operating_temperature") == 0 ||
+        arrank_ascii_casecmp(name, "max_temperature") == 0) {
+        double *to = arrank_ascii_casecmp(name, "max_temperature") == 0 ? &c->max_temp_K
+                                                                        : &c->operating_temp_K;
+        arrank_status s = arrank_units_parse_temperature(st->units, value, to, &uerr);
         if (s != ARRANK_OK) {
             st->status = arrank_error_at(st->err, s == ARRANK_EINVAL ? ARRANK_EPARSE : s,
                                          st->path, st->line, 0, "%s", uerr.message);
@@ -182,6 +184,7 @@ static int on_ini_key(void *user, const char *section, const char *name, const c
             id++;
         r = sample_key(st, section, id, name, value);
     } else if (arrank_ascii_casecmp(name, "operating_temperature") == 0 ||
+               arrank_ascii_casecmp(name, "max_temperature") == 0 ||
                arrank_ascii_casecmp(name, "rate_unit") == 0 ||
                arrank_ascii_casecmp(name, "confidence") == 0 ||
                arrank_ascii_casecmp(name, "title") == 0) {
@@ -211,6 +214,7 @@ arrank_status arrank_ini_parse(const char *path, const char *text, size_t len,
     memset(ini, 0, sizeof *ini);
     ini->operating_temp_K = NAN;
     ini->confidence = NAN;
+    ini->max_temp_K = NAN;
     ini_state state = {path, text, text + len, text, 0, units, ini, err, ARRANK_OK};
     ini_state *st = &state;
     if (memchr(text, '\0', len))
@@ -243,4 +247,5 @@ void arrank_ini_free(arrank_ini *ini)
     memset(ini, 0, sizeof *ini);
     ini->operating_temp_K = NAN;
     ini->confidence = NAN;
+    ini->max_temp_K = NAN;
 }

@@ -23,6 +23,7 @@ typedef struct {
     char *title;
     double operating_temp_K;
     double confidence;
+    double max_temp_K;  /* [campaign] max_temperature: the reactor's or safety limit */
     char *rate_unit;    /* udunits spelling of [campaign] rate_unit */
     char *reference;    /* [campaign] reference: the reference catalyst's sample id */
     arrank_basis basis; /* basis of rate_unit */

@@ -190,6 +190,16 @@ def main():
     else:
         print("  figures, 50 samples: not available yet (no 'arrank plot' on this branch)")
 
+    # A plan of the next runs (issue 17): the demo's three-way tie, 24 runs,
+    # 2 x 2,000 simulations.  Timed, no target.
+    probe = subprocess.run([ARRANK, "plan", "--help"], capture_output=True, text=True)
+    if probe.returncode == 0:
+        cmd = [ARRANK, "plan", "campaigns/zeolite-ni-screen", "--max-temperature", "300C",
+               "--budget", "24"]
+        m, t = medians({"plan": cmd}, min(REPS, 3))
+        print(f"  plan, demo (3 tied samples, 24 runs, 2 x 2,000 simulations): "
+              f"{m['plan']:.3f} s   {' '.join(cmd)}")
+
 
 if __name__ == "__main__":
     main()

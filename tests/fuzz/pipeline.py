@@ -6,7 +6,7 @@ Usage: pipeline.py ARRANK SECONDS [SEED]
 Writes random campaign folders (1 to 6 samples; ordinary, narrow, huge, tiny,
 repeated and degenerate temperatures and rates; ids with quotes, %, UTF-8 and
 control characters; rate_sd, conversion, run and time-on-stream columns) and
-runs `fit`, `rank`, `check`, `plot` and `report` on each with ARRANK (the
+runs `fit`, `rank`, `check`, `plot`, `report` (and at times `plan`) on each with ARRANK (the
 sanitizer build, so that memory and undefined-behaviour errors abort it).
 
 A run fails when the program:
@@ -171,6 +171,14 @@ def main():
             if r.random() < 0.3:
                 cmds.append(([ARRANK, "rank", camp] + at + ext +
                              ["--model", "modified", "--bootstrap", "50"], None))
+            if r.random() < 0.4:
+                goal = r.choice(["separate", "precision", "curvature"])
+                cmds.append(([ARRANK, "plan", camp] + at + ext +
+                             ["--max-temperature", "%.1fC" % r.uniform(100, 600),
+                              "--budget", str(r.randint(1, 30)), "--simulations", "200",
+                              "--goal", goal] +
+                             (["--bend", "20kJ/mol"] if goal == "curvature" else []) +
+                             (["--out", out] if r.random() < 0.2 else []), None))
             for cmd, out_dir in cmds:
                 why, status, err = check(cmd, out_dir)
                 if why:

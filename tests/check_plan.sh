@@ -1,0 +1,124 @@
+#!/bin/sh
+# check_plan.sh - `arrank plan` on the demo campaign: the table, the run
+# sheet, the JSON with the names the plan promises, the figure, the limit
+# (required, stated, never exceeded, from --max-temperature or
+# campaign.ini), the same plan for a seed, and clear refusals of bad
+# options.  Prints TAP.  Env: ARRANK (program).  Needs gnuplot for the figure.
+set -u
+. tests/tap.sh
+A=${ARRANK:-build/arrank}
+PY=/usr/bin/python3
+[ -x "$PY" ] || PY=python3
+T=$(mktemp -d)
+trap 'rm -rf "$T"' EXIT
+DEMO=campaigns/zeolite-ni-screen
+
+"$A" plan "$DEMO" --max-temperature 320C --budget 24 --run-sheet "$T/plan.csv" \
+    --json "$T/plan.json" --out "$T/fig" >"$T/out" 2>"$T/err"; st=$?
+expect_eq "plan on the demo: exit 0" "$st" 0
+ok_if "plan: the table names the three tied samples" \
+    sh -c "grep -q '^ZN-09 beta-desilicated' '$T/out' && grep -q '^ZN-03 USY' '$T/out' &&
+           grep -q '^ZN-07 H-Y' '$T/out'"
+ok_if "plan: the table states the limit" grep -q 'maximum temperature 593.15 K (320.00 degC)' "$T/out"
+ok_if "plan: the table gives the expected probability with its Monte Carlo error" \
+    grep -q '^expected probability that the goal is met: 0\.[0-9]* (Monte Carlo se 0\.[0-9]*' "$T/out"
+ok_if "plan: the table gives the naive plan's probability" grep -q '^naive plan' "$T/out"
+ok_if "plan: the table carries the plan's caution" grep -q 'does not replace qualified judgement' "$T/out"
+ok_if "plan: the figure is drawn" test -s "$T/fig/plan.svg"
+ok_if "plan: nothing else in the figure folder" test "$(ls -A "$T/fig")" = "plan.svg"
+expect_eq "plan: run sheet header" "$(grep -v '^#' "$T/plan.csv" | head -n 1)" \
+    "order,sample,temperature [degC],temperature [K],repeats"
+
+# The JSON: exactly the names the plan promises, and what the run sheet says.
+"$PY" - "$T/plan.json" "$T/plan.csv" >"$T/py" 2>&1 <<'EOF'
+import csv, json, sys
+p = json.load(open(sys.argv[1]))
+def check(name, cond):
+    print(("ok " if cond else "not ok ") + name)
+for k in ("goal", "budget", "max_temperature_K", "runs", "expected_probability",
+          "expected_probability_se", "naive_probability", "samples"):
+    check("json: key %s" % k, k in p)
+check("json: goal separate, budget 24", p["goal"] == "separate" and p["budget"] == 24)
+check("json: limit 593.15 K", abs(p["max_temperature_K"] - 593.15) < 1e-9)
+runs = p["runs"]
+check("json: runs are {sample, temperature_K, repeats}",
+      runs and all(sorted(r) == ["repeats", "sample", "temperature_K"] for r in runs))
+check("json: the repeats add up to the budget", sum(r["repeats"] for r in runs) == 24)
+check("json: no run above the limit", all(r["temperature_K"] <= p["max_temperature_K"] for r in runs))
+check("json: every involved sample has rate_at_T_ci_before and rate_at_T_ci_expected",
+      len(p["samples"]) == 3 and all(len(s["rate_at_T_ci_before"]) == 2 and
+                                     len(s["rate_at_T_ci_expected"]) == 2 for s in p["samples"]))
+check("json: probabilities in [0, 1] with a Monte Carlo error",
+      0 <= p["expected_probability"] <= 1 and 0 <= p["naive_probability"] <= 1 and
+      0 < p["expected_probability_se"] < 0.05)
+rows = [r for r in csv.reader(l for l in open(sys.argv[2]) if not l.startswith("#"))][1:]
+sheet = sorted((r[1], round(float(r[3]), 2), int(r[4])) for r in rows)
+js = sorted((r["sample"], round(r["temperature_K"], 2), r["repeats"]) for r in runs)
+check("run sheet: the JSON's runs", sheet == js)
+check("run sheet: degC is K - 273.15", all(abs(float(r[2]) + 273.15 - float(r[3])) < 0.006 for r in rows))
+check("run sheet: order 1..n, coldest first",
+      [int(r[0]) for r in rows] == list(range(1, len(rows) + 1)) and
+      [float(r[3]) for r in rows] == sorted(float(r[3]) for r in rows))
+EOF
+tap_relay "$T/py"
+
+# The same plan for a seed; the limit from campaign.ini.
+"$A" plan "$DEMO" --max-temperature 320C --budget 24 --json "$T/again.json" >/dev/null 2>&1
+ok_if "plan: the same JSON for the same seed" cmp -s "$T/plan.json" "$T/again.json"
+mkdir "$T/camp"
+cp "$DEMO"/*.csv "$T/camp/"
+sed 's/^confidence = 0.95/confidence = 0.95\nmax_temperature = 320 degC/' "$DEMO/campaign.ini" \
+    >"$T/camp/campaign.ini"
+"$A" plan "$T/camp" --budget 24 --json "$T/ini.json" >/dev/null 2>&1
+ok_if "plan: max_temperature from campaign.ini gives the same plan" cmp -s "$T/plan.json" "$T/ini.json"
+"$A" plan "$T/camp" --budget 24 --max-temperature 280C --json "$T/low.json" >/dev/null 2>&1
+ok_if "plan: --max-temperature overrides campaign.ini, no run above 280 degC" \
+    "$PY" -c "import json,sys; p=json.load(open(sys.argv[1]))
+assert abs(p['max_temperature_K'] - 553.15) < 1e-9 and p['runs']
+assert all(r['temperature_K'] <= 553.15 for r in p['runs'])" "$T/low.json"
+
+# The curvature goal: runs that make a 20 kJ/mol bend detectable.
+"$A" plan "$DEMO" --max-temperature 300C --budget 24 --goal curvature --bend 20kJ/mol --json "$T/bend.json" \
+    >"$T/bend.out" 2>/dev/null; st=$?
+expect_eq "plan --goal curvature: exit 0" "$st" 0
+ok_if "plan --goal curvature: the table states the bend and the test's level" \
+    grep -q 'apparent Ea falling by 20 kJ/mol .* level 0.02' "$T/bend.out"
+ok_if "plan --goal curvature: JSON bend_J_mol and level, runs below the limit, beats the naive plan" \
+    "$PY" -c "import json,sys; p=json.load(open(sys.argv[1]))
+assert p['goal'] == 'curvature' and p['bend_J_mol'] == 20000 and p['level'] == 0.02
+assert p['runs'] and all(r['temperature_K'] <= 573.15 for r in p['runs'])
+assert p['expected_probability'] > p['naive_probability'] + 0.1" "$T/bend.json"
+
+# No run allowed at all (limit below every window): said, and the figure still
+# drawn (gnuplot once failed on the labels of a sample without runs).
+"$A" plan "$DEMO" --max-temperature 200C --out "$T/none" >"$T/none.out" 2>/dev/null; st=$?
+expect_eq "plan under a limit below every window: exit 0" "$st" 0
+ok_if "plan under a limit below every window: says no run can be planned, draws the figure" \
+    sh -c "grep -q '^no run can be planned' '$T/none.out' && test -s '$T/none/plan.svg'"
+
+# Never into the campaign folder (its inputs are never written).
+"$A" plan "$DEMO" --max-temperature 300C --run-sheet "$DEMO/plan.csv" --json "$T/in.json" \
+    >/dev/null 2>"$T/in.err"; st=$?
+ok_if "plan: a run sheet inside the campaign folder is refused (exit 2), nothing written" \
+    sh -c "[ $st -eq 2 ] && grep -q 'inside the campaign folder' '$T/in.err' &&
+           [ ! -e '$DEMO/plan.csv' ] && [ ! -e '$T/in.json' ]"
+
+# Refusals: one line, exit 2, nothing written.
+refuse() { # NAME PATTERN ARGS...
+    rn=$1 rp=$2
+    shift 2
+    "$A" plan "$DEMO" "$@" --run-sheet "$T/no.csv" >"$T/rout" 2>"$T/rerr"; rs=$?
+    ok_if "plan refuses $rn: exit 2, one line, nothing written" \
+        sh -c "[ $rs -eq 2 ] && [ \$(wc -l <'$T/rerr') -eq 1 ] && grep -q -- '$rp' '$T/rerr' &&
+               [ ! -e '$T/no.csv' ]"
+}
+refuse "a plan without a limit" "no maximum temperature"
+refuse "a bare --step" "with its unit" --max-temperature 320C --step 5
+refuse "a bare --max-temperature" "max-temperature" --max-temperature 320
+refuse "--budget 0" "whole number" --max-temperature 320C --budget 0
+refuse "an unknown goal" "not known" --max-temperature 320C --goal fastest
+refuse "the curvature goal without --bend" "needs --bend" --max-temperature 320C --goal curvature
+refuse "a bare --bend" "with its unit" --max-temperature 320C --goal curvature --bend 20
+refuse "--csv" "do not apply" --max-temperature 320C --csv "$T/x.csv"
+refuse "--by" "unknown option" --max-temperature 320C --by ea
+tap_plan
