@@ -8,6 +8,7 @@
 #include <stdarg.h>
 #include <stddef.h>
 #include <stdint.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include <cmocka.h>
@@ -69,12 +70,40 @@ static void test_cuts(void **state)
     assert_string_equal(none, "");
 }
 
+/* HTML as written by arrank_text_html: the five characters HTML and XML
+   reserve escaped (W3C HTML, "named character references"; &#39; for the
+   apostrophe, which HTML 4 lacks a name for), controls dropped, bad UTF-8
+   shown as U+FFFD (the Unicode replacement character). */
+static void expect_html(const char *in, const char *want)
+{
+    char *got = NULL;
+    size_t len = 0;
+    FILE *m = open_memstream(&got, &len);
+    assert_non_null(m);
+    arrank_text_html(m, in);
+    assert_int_equal(fclose(m), 0);
+    assert_string_equal(got, want);
+    free(got);
+}
+
+static void test_html(void **state)
+{
+    (void)state;
+    expect_html("IW 2 wt% <Ni> & \"Co\" 'x'", "IW 2 wt% &lt;Ni&gt; &amp; &quot;Co&quot; &#39;x&#39;");
+    expect_html("a\tb\nc\x1b[31md\x7f", "abc[31md");
+    expect_html("5 \xc2\xb5mol at 250 \xc2\xb0" "C", "5 \xc2\xb5mol at 250 \xc2\xb0" "C");
+    expect_html("C1\xc2\x85" "control", "C1control");
+    expect_html("bad\xff\xc3(", "bad\xef\xbf\xbd\xef\xbf\xbd(");
+    expect_html(NULL, "");
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_controls),
         cmocka_unit_test(test_utf8),
         cmocka_unit_test(test_cuts),
+        cmocka_unit_test(test_html),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -1,10 +1,12 @@
 /*
- * arrank/text.h - text from files made safe to show on a terminal or in a log.
+ * arrank/text.h - text from files made safe to show on a terminal, in a log or
+ * in HTML.
  */
 #ifndef ARRANK_TEXT_H
 #define ARRANK_TEXT_H
 
 #include <stddef.h>
+#include <stdio.h>
 
 /*
  * Copy text into out (n bytes, always NUL-terminated when n > 0) with every
@@ -19,5 +21,10 @@ size_t arrank_text_escape(const char *text, char *out, size_t n);
 
 /* 1 when text is valid UTF-8 with no control character, else 0. */
 int arrank_text_is_clean(const char *text);
+
+/* text (NULL: nothing) written to f as HTML or XML character data and
+   attribute values: & < > " ' escaped, control characters (C0, DEL, C1)
+   dropped, each byte that is not valid UTF-8 shown as U+FFFD. */
+void arrank_text_html(FILE *f, const char *text);
 
 #endif

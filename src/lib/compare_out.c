@@ -238,32 +238,16 @@ static arrank_status write_csv(const arrank_comparison *c, FILE *f, arrank_error
 
 /* ---- the report page ------------------------------------------------------ */
 
-static void html(FILE *f, const char *text)
-{
-    for (const unsigned char *s = (const unsigned char *)(text ? text : ""); *s; s++) {
-        if (*s == '&')
-            fputs("&amp;", f);
-        else if (*s == '<')
-            fputs("&lt;", f);
-        else if (*s == '>')
-            fputs("&gt;", f);
-        else if (*s == '"')
-            fputs("&quot;", f);
-        else if (*s >= 0x20 && *s != 0x7F)
-            fputc(*s, f);
-    }
-}
-
 static void html_ids(FILE *f, const char *campaign, const char *const *ids, size_t n)
 {
     if (!n)
         return;
     fputs("<p>Only in <code>", f);
-    html(f, campaign);
+    arrank_text_html(f, campaign);
     fputs("</code>: ", f);
     for (size_t i = 0; i < n; i++) {
         fputs(i ? ", " : "", f);
-        html(f, ids[i]);
+        arrank_text_html(f, ids[i]);
     }
     fputs(".</p>\n", f);
 }
@@ -271,11 +255,11 @@ static void html_ids(FILE *f, const char *campaign, const char *const *ids, size
 static void html_row(const arrank_compare_row *r, FILE *f)
 {
     fputs("<tr><td>", f);
-    html(f, r->id);
+    arrank_text_html(f, r->id);
     fprintf(f, "</td><td>%.3g</td><td>%.3g</td>", r->rate_a, r->rate_b);
     if (!r->compared) {
         fputs("<td colspan=\"4\">not compared: ", f);
-        html(f, r->why_not);
+        arrank_text_html(f, r->why_not);
         fputs("</td></tr>\n", f);
         return;
     }
@@ -319,25 +303,25 @@ static arrank_status write_html(const arrank_comparison *c, const char *svg_path
     const arrank_campaign *A = c->a->campaign, *B = c->b->campaign;
     fputs("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<title>",
           f);
-    html(f, A->name);
+    arrank_text_html(f, A->name);
     fputs(" and ", f);
-    html(f, B->name);
+    arrank_text_html(f, B->name);
     fputs(" compared &ndash; arrank</title>\n<style>body{font-family:sans-serif;max-width:"
           "60em;margin:2em auto}table{border-collapse:collapse}td,th{padding:.2em .6em;"
           "border-bottom:1px solid #ddd;text-align:left}svg{max-width:100%;height:auto}"
           ".caution{border:1px solid #b00;padding:.5em}</style>\n</head>\n<body>\n"
           "<h1>Comparison of two campaigns</h1>\n<p>A: <code>", f);
-    html(f, A->name);
+    arrank_text_html(f, A->name);
     fputs("</code>, B: <code>", f);
-    html(f, B->name);
+    arrank_text_html(f, B->name);
     fprintf(f, "</code>; rates at %.2f K in ", c->temp_K);
-    html(f, A->rate_unit);
+    arrank_text_html(f, A->rate_unit);
     fprintf(f, "; %g %% intervals (independent fits, Welch degrees of freedom); verdicts "
                "after Holm's correction across the %zu compared samples.", 100 * c->confidence,
             c->n_tests);
     if (c->reference) {
         fputs(" B/A: each rate first taken relative to its own campaign's reference <code>", f);
-        html(f, c->reference);
+        arrank_text_html(f, c->reference);
         fputs("</code>.", f);
     }
     fprintf(f, "</p>\n<p class=\"caution\">Caution: %s.</p>\n", ARRANK_CAUTION_APPARENT);

@@ -11,6 +11,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "arrank/contrast.h"
 #include "arrank/plan.h"
 #include "arrank/stats.h"
 #include "stats.h"
@@ -213,26 +214,16 @@ static double p_best_normal(const double *mean, const double *se, const size_t *
     return sum * h / 3.0;
 }
 
-/* Welch-Satterthwaite dof and the two-sided p of key_i - key_j, exactly as
-   the groups compute them (groups.c; Welch, Biometrika 34:28, 1947). */
-static double welch_dof(double si, double di, double sj, double dj)
-{
-    const double v = si * si + sj * sj;
-    double den = 0;
-    if (isfinite(di))
-        den += si * si * si * si / di;
-    if (isfinite(dj))
-        den += sj * sj * sj * sj / dj;
-    return den > 0 ? v * v / den : INFINITY;
-}
-
+/* The two-sided p of key_i - key_j with Welch-Satterthwaite dof
+   (arrank_contrast_welch_dof), as the groups compute it (groups.c; the plan's
+   test holds the two to the same groups). */
 static double pair_p(double ki, double si, double di, double kj, double sj, double dj)
 {
     const double v = si * si + sj * sj;
     const double d = fabs(ki - kj);
     if (!(v > 0))
         return d > 0 ? 0.0 : 1.0;
-    return arrank_stats_t_p(d / sqrt(v), welch_dof(si, di, sj, dj));
+    return arrank_stats_t_p(d / sqrt(v), arrank_contrast_welch_dof(si, di, sj, dj));
 }
 
 static int cmp_double(const void *a, const void *b)

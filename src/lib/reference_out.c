@@ -133,31 +133,11 @@ arrank_status arrank_reference_table_write(const arrank_analysis *a, FILE *f, ar
 
 /* ---- the report's section ------------------------------------------------- */
 
-/* text for HTML: & < > " ' escaped, control characters dropped (bytes that
-   are not UTF-8 are the report's business: it checks its own text). */
-static void html(FILE *f, const char *text)
-{
-    for (const unsigned char *s = (const unsigned char *)(text ? text : ""); *s; s++) {
-        if (*s == '&')
-            fputs("&amp;", f);
-        else if (*s == '<')
-            fputs("&lt;", f);
-        else if (*s == '>')
-            fputs("&gt;", f);
-        else if (*s == '"')
-            fputs("&quot;", f);
-        else if (*s == '\'')
-            fputs("&#39;", f);
-        else if (*s >= 0x20 && *s != 0x7F)
-            fputc(*s, f);
-    }
-}
-
 static void html_row(const arrank_result *res, FILE *f)
 {
     const struct arrank_sample_stats *ss = res->stats;
     fputs("<tr><td>", f);
-    html(f, res->sample->id);
+    arrank_text_html(f, res->sample->id);
     if (ss->is_reference) {
         fputs(" <strong>(reference)</strong></td><td>1</td><td>&ndash;</td><td>&ndash;</td>"
               "</tr>\n", f);
@@ -185,7 +165,7 @@ void arrank_reference_html_write(const arrank_analysis *a, FILE *f)
     if (!rs)
         return;
     fputs("<h2>Reference catalyst</h2>\n<p>Every sample set against <strong>", f);
-    html(f, rs->id);
+    arrank_text_html(f, rs->id);
     fprintf(f, "</strong>%s: its rate at the operating temperature as a ratio to the "
                "reference's, P(better than the reference) and its Ea minus the reference's, "
                "%g %% intervals (independent fits, Welch degrees of freedom). The reference "
@@ -194,12 +174,12 @@ void arrank_reference_html_write(const arrank_analysis *a, FILE *f)
             100.0 * a->options.confidence);
     if (rs->n_campaigns > 1) {
         fprintf(f, "<table>\n<tr><th>campaign</th><th>reference's rate at T [");
-        html(f, a->campaign->rate_unit);
+        arrank_text_html(f, a->campaign->rate_unit);
         fputs("]</th><th>ratio to the first</th></tr>\n", f);
         for (size_t k = 0; k < rs->n_campaigns; k++) {
             const arrank_reference_campaign *rc = &rs->campaigns[k];
             fputs("<tr><td>", f);
-            html(f, rc->campaign);
+            arrank_text_html(f, rc->campaign);
             fprintf(f, "</td><td>%.3g [%.3g, %.3g]</td>", rc->rate, rc->rate_lo, rc->rate_hi);
             if (k)
                 fprintf(f, "<td>%.3g [%.3g, %.3g]</td></tr>\n", exp(rc->to_first.est),
@@ -212,7 +192,7 @@ void arrank_reference_html_write(const arrank_analysis *a, FILE *f)
             char words[512];
             arrank_reference_drift_words(a, k, words, sizeof words);
             fputs("<li>", f);
-            html(f, words);
+            arrank_text_html(f, words);
             fputs("</li>\n", f);
         }
         if (rs->has_equal)

@@ -84,3 +84,34 @@ int arrank_text_is_clean(const char *text)
     }
     return 1;
 }
+
+void arrank_text_html(FILE *f, const char *text)
+{
+    const unsigned char *s = (const unsigned char *)(text ? text : "");
+    while (*s) {
+        size_t n = utf8_len(s);
+        if (n == 0) {
+            fputs("\xEF\xBF\xBD", f); /* U+FFFD */
+            s++;
+            continue;
+        }
+        if (n == 1) {
+            unsigned c = *s;
+            if (c == '&')
+                fputs("&amp;", f);
+            else if (c == '<')
+                fputs("&lt;", f);
+            else if (c == '>')
+                fputs("&gt;", f);
+            else if (c == '"')
+                fputs("&quot;", f);
+            else if (c == '\'')
+                fputs("&#39;", f);
+            else if (c >= 0x20 && c != 0x7F)
+                fputc((int)c, f);
+        } else if (!(n == 2 && s[0] == 0xC2 && s[1] <= 0x9F)) { /* C1 controls dropped */
+            fwrite(s, 1, n, f);
+        }
+        s += n;
+    }
+}
