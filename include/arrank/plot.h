@@ -48,15 +48,59 @@ typedef enum {
     ARRANK_FIGURE_DIAGNOSTICS = 3
 } arrank_figure_kind;
 
+/* Samples drawn in the campaign figures by default: the top of the ranking. */
+#define ARRANK_PLOT_SHOW_DEFAULT 12
+
 typedef struct {
     unsigned formats;    /* OR of ARRANK_PLOT_*; 0 means SVG only */
     const char *gnuplot; /* program to run; NULL: the environment variable
                             ARRANK_GNUPLOT if set and not empty, else "gnuplot"
                             searched on PATH.  A name with a '/' is used as is. */
+    size_t show;         /* samples drawn in the campaign figures (Arrhenius,
+                            rate at T, compensation): the first `show` by the
+                            ranking key (ranked ones first, then the others in
+                            campaign order); SIZE_MAX: all.  Those not drawn are
+                            named in a caption line.  Diagnostics: every sample. */
+    const char *show_ids; /* instead of show: sample ids separated by commas
+                             (NULL: use show); an id not in the campaign is EINVAL */
+    int width_px, height_px; /* canvas in SVG px (arrank_plot_size); PNG has twice
+                                the pixels, PDF is 96 px to the inch */
 } arrank_plot_options;
 
-/* Defaults: SVG, gnuplot from ARRANK_GNUPLOT or PATH. */
+/* Defaults: SVG, gnuplot from ARRANK_GNUPLOT or PATH, the top 12, size "page". */
 arrank_plot_options arrank_plot_defaults(void);
+
+/*
+ * The canvas for a size word: "slide" 1280 x 720, "page" 960 x 720,
+ * "square" 900 x 900, or "WxH" in px (each 320 to 4000).  EINVAL with a
+ * one-line message otherwise.  A figure that needs more room (many rows,
+ * three stacked panels, a legend below) grows from this size.
+ */
+arrank_status arrank_plot_size(const char *text, int *width_px, int *height_px,
+                               arrank_error *err);
+
+/*
+ * The look of a sample: one colour (Okabe-Ito, colour-blind safe), one
+ * marker shape and one dash pattern, the same in every figure and in the
+ * report.  Sample i (its index in the campaign) has colour i mod 6 and style
+ * (shape, dash) i mod 7, so the first 42 samples have 42 different looks.
+ * Two samples below 42 differ in colour or in marker.  Black, the star
+ * marker and the heavy solid line are kept for a reference catalyst
+ * (arrank_plot_sample_look(i, 1) gives that look, whatever i): no sample
+ * gets them.
+ */
+typedef struct {
+    const char *color;  /* "#rrggbb" */
+    int point_filled;   /* gnuplot point type, filled */
+    int point_hollow;   /* the same shape open (points left out of a fit) */
+    const char *shape;  /* "circle", "square", "triangle", "triangle-down",
+                           "diamond", "pentagon", "cross"; "star" for the
+                           reference: for drawing it elsewhere (the report) */
+    int dash;           /* index of the dash pattern, 0 solid */
+    double line_width;  /* relative line width (1; heavier for the reference) */
+} arrank_plot_look;
+
+arrank_plot_look arrank_plot_sample_look(size_t i, int reference);
 
 typedef struct {
     arrank_figure_kind kind;
@@ -112,17 +156,11 @@ arrank_status arrank_plot_script(const arrank_analysis *analysis, unsigned forma
  */
 char *arrank_plot_quote(const char *text);
 
-/*
- * Colour of the sample at result index i as "#rrggbb": Okabe-Ito palette
- * (colour-blind safe), cycling.  Static string.
- */
+/* Colour of the sample at result index i: arrank_plot_sample_look(i, 0).color. */
 const char *arrank_plot_color(size_t i);
 
-/*
- * gnuplot point type of the sample at result index i: a shape cycling with a
- * period prime to the palette's, filled or hollow (hollow marks points left
- * out of a fit, and flagged samples in the rate figure).
- */
+/* gnuplot point type of sample i, filled or hollow (hollow marks points left
+   out of a fit): from arrank_plot_sample_look(i, 0). */
 int arrank_plot_point_type(size_t i, int hollow);
 
 /*

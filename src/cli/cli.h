@@ -35,7 +35,8 @@ enum {
     OPT_MODEL = 1u << 6,      /* --errors, --model */
     OPT_OUT_DIR = 1u << 7,    /* --out DIR */
     OPT_FORMAT = 1u << 8,     /* --format svg|png|pdf (repeatable) */
-    OPT_READ = 1u << 9        /* --strict, --no-merge: every command that reads a campaign */
+    OPT_READ = 1u << 9,       /* --strict, --no-merge: every command that reads a campaign */
+    OPT_FIGURES = 1u << 10    /* --show N|all|ID,ID, --size slide|page|square|WxH */
 };
 
 #define CLI_MAX_FORMATS 8
@@ -51,6 +52,8 @@ typedef struct {
     const char *out_dir;
     const char *formats[CLI_MAX_FORMATS];
     size_t n_formats;
+    const char *show_text;    /* --show as written, NULL if not given */
+    const char *size_text;    /* --size as written */
     int confidence_given;
     int by_given;
     arrank_options options;
@@ -113,6 +116,11 @@ void cli_report_unfitted(const cli_session *session);
 
 /* Write --json/--csv/--points outputs (if asked).  Returns -1 or an exit status. */
 int cli_write_outputs(const cli_args *args, const cli_session *session);
+
+/* The figure options --show and --size into po (arrank_plot_options).
+   Returns -1 or EXIT_USAGE (printed). */
+#include "arrank/plot.h"
+int cli_figure_options(const cli_args *args, arrank_plot_options *po);
 
 /* 1 when one of those outputs goes to standard output ('-'), which then
    holds nothing else. */

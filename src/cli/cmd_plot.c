@@ -36,7 +36,12 @@ static const char usage[] =
     "  --extrapolate       rank by rate even when T lies more than 100 K outside\n"
     "                      every sample's measured range (refused otherwise)\n"
     "  --out DIR           output folder, made if missing\n"
-    "  --format F          svg (default), png (300 dpi class) or pdf; repeat for more\n"
+    "  --format F          svg (default), png (twice the pixels) or pdf; repeat for more\n"
+    "  --show N|all|ID,... samples drawn in the Arrhenius, rate and compensation\n"
+    "                      figures: the top N by the ranking key (default 12), all,\n"
+    "                      or the samples named; the rest are named in a caption\n"
+    "  --size S            slide (1280x720), page (960x720, default), square\n"
+    "                      (900x900) or WxH in px; PNG has twice the pixels\n"
     "  --confidence C      two-sided level of every interval (default 0.95)\n"
     "  --by KEY            rank by rate (default), ea or prefactor\n"
     "  --use-all, --drop-outliers, --conversion-limit X, --no-diagnose,\n"
@@ -106,8 +111,13 @@ int cmd_plot(int argc, char **argv)
     cli_args args;
     int rc = cli_parse(argc, argv,
                        OPT_AT | OPT_CONFIDENCE | OPT_BY | OPT_DIAGNOSE | OPT_MODEL | OPT_STATS |
-                           OPT_OUT_DIR | OPT_FORMAT,
+                           OPT_OUT_DIR | OPT_FORMAT | OPT_FIGURES,
                        usage, &args);
+    if (rc != -1)
+        return rc;
+    arrank_plot_options po = arrank_plot_defaults();
+    po.formats = cli_plot_formats(&args);
+    rc = cli_figure_options(&args, &po);
     if (rc != -1)
         return rc;
     cli_session s;
@@ -135,8 +145,6 @@ int cmd_plot(int argc, char **argv)
     arrank_plot_files files = {0};
     if (rc == -1) {
         cli_report_unfitted(&s);
-        arrank_plot_options po = arrank_plot_defaults();
-        po.formats = cli_plot_formats(&args);
         arrank_error err;
         arrank_error_clear(&err);
         arrank_status st = arrank_plot_write(s.analysis, priv, &po, &files, &err);

@@ -25,6 +25,9 @@ static const char usage[] =
     "  --extrapolate       rank by rate even when T lies more than 100 K outside\n"
     "                      every sample's measured range (refused otherwise)\n"
     "  --out DIR           output folder, made if missing\n"
+    "  --show N|all|ID,... samples drawn in the campaign figures (default: the\n"
+    "                      top 12 by the ranking key); --size S: slide, page,\n"
+    "                      square or WxH (as for 'arrank plot')\n"
     "  --confidence C      two-sided level of every interval (default 0.95)\n"
     "  --by KEY            rank by rate (default), ea or prefactor\n"
     "  --use-all, --drop-outliers, --conversion-limit X, --no-diagnose,\n"
@@ -83,8 +86,12 @@ int cmd_report(int argc, char **argv)
     cli_args args;
     int rc = cli_parse(argc, argv,
                        OPT_AT | OPT_CONFIDENCE | OPT_BY | OPT_DIAGNOSE | OPT_MODEL | OPT_STATS |
-                           OPT_OUT_DIR,
+                           OPT_OUT_DIR | OPT_FIGURES,
                        usage, &args);
+    if (rc != -1)
+        return rc;
+    arrank_report_options ro = arrank_report_defaults();
+    rc = cli_figure_options(&args, &ro.plot);
     if (rc != -1)
         return rc;
     cli_session s;
@@ -109,7 +116,6 @@ int cmd_report(int argc, char **argv)
     }
     cli_report_unfitted(&s);
     sprintf(path, "%s/report.html", priv);
-    arrank_report_options ro = arrank_report_defaults();
     ro.command_line = cmd;
     arrank_error err;
     arrank_error_clear(&err);

@@ -11,6 +11,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <stdint.h>
 #include <strings.h>
 
 #include "arrank/version.h"
@@ -48,6 +49,8 @@ static const option_spec option_table[] = {
     {"--format", OPT_FORMAT, 1},
     {"--strict", OPT_READ, 0},
     {"--no-merge", OPT_READ, 0},
+    {"--show", OPT_FIGURES, 1},
+    {"--size", OPT_FIGURES, 1},
 };
 
 /* Every message is one line on the terminal: whatever reached it from a
@@ -140,6 +143,10 @@ static int apply(cli_args *a, const char *name, const char *value)
         a->points_path = value;
     else if (strcmp(name, "--out") == 0)
         a->out_dir = value;
+    else if (strcmp(name, "--show") == 0)
+        a->show_text = value;
+    else if (strcmp(name, "--size") == 0)
+        a->size_text = value;
     else if (strcmp(name, "--confidence") == 0) {
         a->confidence_given = 1;
         return parse_fraction(name, value, &o->confidence);
@@ -294,5 +301,42 @@ int cli_parse(int argc, char **argv, unsigned accepted, const char *usage, cli_a
                  args->command, args->command);
         return EXIT_USAGE;
     }
+    return -1;
+}
+
+int cli_figure_options(const cli_args *args, arrank_plot_options *po)
+{
+    if (args->size_text) {
+        arrank_error err;
+        arrank_error_clear(&err);
+        if (arrank_plot_size(args->size_text, &po->width_px, &po->height_px, &err) !=
+            ARRANK_OK) {
+            cli_fail("--size: %s", err.message);
+            return EXIT_USAGE;
+        }
+    }
+    const char *v = args->show_text;
+    if (!v)
+        return -1;
+    if (strcmp(v, "all") == 0) {
+        po->show = SIZE_MAX;
+        return -1;
+    }
+    int digits = *v != '\0';
+    for (const char *c = v; *c; c++)
+        digits &= *c >= '0' && *c <= '9';
+    if (digits) {
+        size_t n;
+        int rc = parse_count("--show", v, 100000UL, &n);
+        if (rc != -1)
+            return rc;
+        if (n == 0) {
+            cli_fail("--show '0' draws nothing; give a count, 'all' or sample ids");
+            return EXIT_USAGE;
+        }
+        po->show = n;
+        return -1;
+    }
+    po->show_ids = v;
     return -1;
 }

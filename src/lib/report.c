@@ -45,6 +45,7 @@
 #include "arrank/fit.h"
 #include "arrank/analysis_stats.h"
 #include "arrank/version.h"
+#include "plot_style.h"
 #include "util.h"
 #include "number.h"
 
@@ -391,6 +392,7 @@ static const char css[] =
     "th,td{border:1px solid #ccc;padding:.25rem .5rem;text-align:left;vertical-align:top}"
     "th{background:#f0f0f0}td.n{text-align:right;font-variant-numeric:tabular-nums}"
     "figure{margin:1rem 0}svg.figure{max-width:100%;height:auto;display:block}"
+    ".wide{overflow-x:auto;max-width:100%}td.n{white-space:nowrap}"
     "figcaption{font-size:.9rem;color:#333}.file{color:#666}"
     ".caution{border-left:6px solid #D55E00;background:#fff4ec;padding:.6rem 1rem}"
     ".note{border-left:6px solid #0072B2;background:#eef6fb;padding:.6rem 1rem}"
@@ -403,16 +405,26 @@ static const char css[] =
     "font-size:.85rem;word-break:break-all}"
     ".swatch{display:inline-block;width:.9em;height:.9em;border-radius:50%;"
     "margin-right:.35em;vertical-align:-0.1em}"
-    "@media print{body{max-width:none;padding:0;font-size:10pt}"
+    "@media print{body{max-width:none;padding:0;font-size:8.5pt;line-height:1.3}"
+    "svg.figure{max-height:8cm;width:auto;max-width:100%;margin:0 auto}"
+    "section.sample svg.figure{max-height:7.5cm}section.sample{break-inside:auto}"
+    "h2{margin-top:1rem}h3{margin:.6rem 0 .2rem}p,ul{margin:.3rem 0}"
+    "figcaption{font-size:7.5pt}table{font-size:7.5pt}"
     "h2{break-before:auto;break-after:avoid}h3{break-after:avoid}"
     "figure,table,.caution{break-inside:avoid}"
     "section.sample{break-inside:avoid-page}"
     ".swatch{print-color-adjust:exact;-webkit-print-color-adjust:exact}"
     "a{color:inherit;text-decoration:none}}";
 
+/* The rate unit as the reader reads it (plot_style.c: umol/(g*s) is
+   µmol g⁻¹ s⁻¹); one buffer per thread, like every cache here. */
 static const char *unit_of(const arrank_analysis *a)
 {
-    return a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit : "report unit";
+    static _Thread_local char buf[160];
+    arrank_plot_unit_text(a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit
+                                                                : "report unit",
+                          buf, sizeof buf);
+    return buf;
 }
 
 static void put_swatch(FILE *f, size_t i)
@@ -425,7 +437,7 @@ static void put_flag_names(FILE *f, unsigned flags)
     int any = 0;
     for (unsigned b = 0; b < ARRANK_FLAG_COUNT; b++)
         if (flags & (1u << b)) {
-            const char *name = arrank_flag_name(1u << b);
+            const char *name = arrank_plot_flag_short(1u << b);
             if (!name)
                 continue;
             if (any)
@@ -468,7 +480,7 @@ static void put_estimate(FILE *f, double v, double se, double t, int digits)
 static void put_ranking(FILE *f, const arrank_analysis *a)
 {
     double T_op = a->options.operating_temp_K;
-    fputs("<table>\n<thead><tr><th>rank</th><th>sample</th>", f);
+    fputs("<div class=\"wide\"><table>\n<thead><tr><th>rank</th><th>sample</th>", f);
     if (isfinite(T_op)) {
         fprintf(f, "<th>rate at %.4g &deg;C [", T_op - ZERO_C_K);
         html_text(f, unit_of(a));
@@ -538,7 +550,7 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
             fputs("</td></tr>\n", f);
         }
     }
-    fputs("</tbody></table>\n", f);
+    fputs("</tbody></table></div>\n", f);
     fprintf(f, "<p>Ea and ln A are given with their %.4g %% intervals (Student t on the "
                "line's degrees of freedom); ln A is the natural logarithm of A in the report "
                "unit.",
@@ -662,7 +674,7 @@ static void put_left_out(FILE *f, const arrank_result *r)
     const arrank_diagnosis *d = r->diagnosis;
     if (!r->used || r->n_used >= s->n_points)
         return;
-    fputs("<table class=\"left-out\"><caption>Points left out of the fit</caption>\n"
+    fputs("<div class=\"wide\"><table class=\"left-out\"><caption>Points left out of the fit</caption>\n"
           "<thead><tr><th>line</th><th>T [&deg;C]</th><th>T [K]</th>",
           f);
     if (d)
@@ -694,7 +706,7 @@ static void put_left_out(FILE *f, const arrank_result *r)
         html_text(f, reason);
         fputs("</td></tr>\n", f);
     }
-    fputs("</tbody></table>\n", f);
+    fputs("</tbody></table></div>\n", f);
 }
 
 /* Prater's bound on the temperature rise inside the pellet: a row of the
@@ -742,7 +754,7 @@ static void put_criteria(FILE *f, const arrank_result *r)
          "the catalyst's",
          &d->heat.intraparticle},
     };
-    fputs("<table class=\"criteria\"><caption>Transport and heat criteria</caption>\n"
+    fputs("<div class=\"wide\"><table class=\"criteria\"><caption>Transport and heat criteria</caption>\n"
           "<thead><tr><th>criterion</th><th>value</th><th>limit</th><th>at T [K]</th>"
           "<th>verdict</th><th>inputs and source</th></tr></thead><tbody>\n",
           f);
@@ -769,7 +781,7 @@ static void put_criteria(FILE *f, const arrank_result *r)
     }
     if (d->heat.prater.computed)
         put_prater(f, &d->heat.prater);
-    fputs("</tbody></table>\n", f);
+    fputs("</tbody></table></div>\n", f);
 }
 
 static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure_set *fs)
@@ -800,7 +812,7 @@ static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure
     }
     const arrank_arrhenius *fit = &r->fit;
     const double t = r->t_quantile; /* the pipeline's (analysis.c) */
-    fprintf(f, "<table><thead><tr><th>quantity</th><th>estimate</th><th>%.4g %% interval</th>"
+    fprintf(f, "<div class=\"wide\"><table><thead><tr><th>quantity</th><th>estimate</th><th>%.4g %% interval</th>"
                "</tr></thead><tbody>\n",
             100 * a->options.confidence);
     put_param_row(f, "apparent Ea [kJ/mol]", fit->ea_J_mol / 1000,
@@ -809,12 +821,17 @@ static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure
     put_param_row(f, "ln A (A in the report unit)", fit->ln_A, fit->ln_A - t * fit->ln_A_se,
                   fit->ln_A + t * fit->ln_A_se, 3);
     if (r->has_prediction) {
-        char name[128];
-        snprintf(name, sizeof name, "rate at %.4g &deg;C",
-                 a->options.operating_temp_K - ZERO_C_K);
+        char name[400];
+        char unit[200];
+        snprintf(unit, sizeof unit, "%s", unit_of(a));
+        for (char *c = unit; *c; c++) /* ours: no markup; '<', '&' never in a unit we typeset */
+            if (*c == '<' || *c == '>' || *c == '&')
+                *c = '?';
+        snprintf(name, sizeof name, "rate at %.4g &deg;C [%s]",
+                 a->options.operating_temp_K - ZERO_C_K, unit);
         put_param_row(f, name, r->at_T.rate, r->at_T.rate_lo, r->at_T.rate_hi, -4);
     }
-    fputs("</tbody></table>\n<p>", f);
+    fputs("</tbody></table></div>\n<p>", f);
     fprintf(f, "Fitted on %zu of %zu points, %.1f&ndash;%.1f &deg;C, T<sub>ref</sub> = "
                "%.2f K; correlation of Ea and ln A %.4f",
             r->n_used, s->n_points, fit->T_min_K - ZERO_C_K, fit->T_max_K - ZERO_C_K,
@@ -837,7 +854,7 @@ static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure
                 if (!words)
                     continue;
                 fputs("<li><b>", f);
-                html_text(f, arrank_flag_name(1u << b));
+                html_text(f, arrank_plot_flag_short(1u << b));
                 fputs("</b>: ", f);
                 html_text(f, words);
                 fputs("</li>\n", f);
@@ -932,7 +949,7 @@ static void put_cautions(FILE *f, const arrank_analysis *a)
 static void put_inputs(FILE *f, const arrank_analysis *a)
 {
     const arrank_campaign *c = a->campaign;
-    fputs("<table><thead><tr><th>input file</th><th>SHA-256</th></tr></thead><tbody>\n", f);
+    fputs("<div class=\"wide\"><table><thead><tr><th>input file</th><th>SHA-256</th></tr></thead><tbody>\n", f);
     if (c && c->path) {
         size_t n = strlen(c->path) + 16;
         char *ini = malloc(n);
@@ -958,7 +975,7 @@ static void put_inputs(FILE *f, const arrank_analysis *a)
             fputs("could not be read", f);
         fputs("</td></tr>\n", f);
     }
-    fputs("</tbody></table>\n", f);
+    fputs("</tbody></table></div>\n", f);
 }
 
 static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_options *o,
