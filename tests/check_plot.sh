@@ -117,7 +117,7 @@ import html as H
 for n in names:
     for f, ts in texts.items():
         print("ok" if n in ts else "MISSING", f, repr(n))
-    print("ok" if "Diagnostics: " + n in diag else "MISSING", "diagnostics", repr(n))
+    print("ok" if "Diagnostics of " + n in diag else "MISSING", "diagnostics", repr(n))
     print("ok" if H.escape(n, quote=True).replace("&#x27;", "&#39;") in html else "MISSING",
           "report", repr(n))
 PY
@@ -176,7 +176,7 @@ for want in sys.argv[2:]:
     print("ok" if any(want in t for t in texts) else "MISSING " + want)
 PY
 "$PY" "$T/degtext.py" "$T/deg" 'narrow %s%n 5%' 'huge ^_&@' \
-    'arrow at the edge: the interval (or rate) goes beyond the axis, clipped' >"$T/degtext.txt"
+    'arrow at the edge: the interval goes beyond the axis' >"$T/degtext.txt"
 expect_eq "degenerate: ids with % ^ _ & @ drawn as written; the clipping note shown" \
     "$(grep -vc '^ok' "$T/degtext.txt")" 0
 grep -v '^ok' "$T/degtext.txt" | sed 's/^/# /'

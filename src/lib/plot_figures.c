@@ -502,12 +502,12 @@ void arrank_plot_fig_ea_lnA(script *s)
                            b + 4.6 * fp + (double)rows * 1.45 * 0.78 * fp, 0);
     for (size_t k = 0; k < n; k++) {
         const comp_point *p = &pts[k];
-        fprintf(f, "$ctr%zu << EOD\n%.9g %.9g\nEOD\n", k, p->ea, p->y);
+        fprintf(f, "$ctr%zu << EOD\n%.9g %.9g\nEOD\n", idx[k], p->ea, p->y);
         if (!p->ellipse)
             continue;
         double l11 = sqrt(p->c11), l21 = p->c12 / l11, d = p->c22 - l21 * l21;
         double l22 = d > 0 ? sqrt(d) : 0.0, rq = sqrt(p->q);
-        fprintf(f, "$ell%zu << EOD\n", k);
+        fprintf(f, "$ell%zu << EOD\n", idx[k]);
         for (int j = 0; j <= 120; j++) {
             double th = 2.0 * PI * j / 120.0, u = cos(th), v = sin(th);
             fprintf(f, "%.9g %.9g\n", p->ea + rq * l11 * u, p->y + rq * (l21 * u + l22 * v));
@@ -527,11 +527,11 @@ void arrank_plot_fig_ea_lnA(script *s)
         arrank_plot_look lk = arrank_plot_sample_look(idx[k], 0);
         if (pts[k].ellipse) {
             arrank_plot_next_elem(f, &first);
-            fprintf(f, "$ell%zu using 1:2 with lines ", k);
+            fprintf(f, "$ell%zu using 1:2 with lines ", idx[k]);
             arrank_plot_put_line_look(f, idx[k], 1.4);
         }
         arrank_plot_next_elem(f, &first);
-        fprintf(f, "$ctr%zu using 1:2 with points pt %d ps 1.2*PS lc rgb '%s'", k,
+        fprintf(f, "$ctr%zu using 1:2 with points pt %d ps 1.2*PS lc rgb '%s'", idx[k],
                 lk.point_filled, lk.color);
     }
     if (first)
