@@ -289,13 +289,13 @@ static void diag_legend(script *s, const diag_panels *P)
         y = legend_entry(s, x, y, -1, "(6,4)", "#666666", buf);
     }
     if (P->nloc) {
-        snprintf(buf, sizeof buf, "local Ea (3 temperatures), %.4g %%", P->conf_pc);
+        snprintf(buf, sizeof buf, "local Ea, 3 temperatures, %.4g %% interval", P->conf_pc);
         y = legend_entry(s, x, y, 7, NULL, P->c, buf);
     }
     snprintf(buf, sizeof buf, "fitted Ea, %.4g %% interval", P->conf_pc);
     y = legend_entry(s, x, y, -1, "(10,5)", P->c, buf);
     if (P->any_pore)
-        y = legend_entry(s, x, y, -1, "(2,4)", "#444444", "half the fitted Ea: pore limit");
+        y = legend_entry(s, x, y, -1, "(2,4)", "#444444", "half Ea: strong pore diffusion");
     if (P->has_window) {
         snprintf(buf, sizeof buf, "grey: kinetic window %.0f–%.0f °C", P->win_lo_K - ZERO_C_K,
                  P->win_hi_K - ZERO_C_K);
@@ -420,7 +420,7 @@ static void diag_local_ea(script *s, const diag_panels *P)
     diag_frame(s, P, 2, P->ea_lo - pad, P->ea_hi + pad, "Ea / kJ mol⁻¹");
     if (!P->r->diagnosis)
         arrank_plot_text(s, 0.5 * (P->l + P->r_px), P->top[2] + 1.2 * s->fpx, "center", 0.75,
-                         ARRANK_INK_SOFT, 0, "local Ea not shown: diagnostics turned off");
+                         ARRANK_INK_SOFT, 0, "local apparent Ea not shown: diagnostics turned off");
     fputs("set style fill transparent solid 0.2 noborder\n", f);
     int first = 1;
     arrank_plot_next_elem(f, &first);
@@ -522,8 +522,8 @@ void arrank_plot_fig_diagnostics(script *s, size_t i)
     double b = s->H - arrank_plot_caption_px(s, 1) - 4.6 * fp;
     size_t ych = 7;
     P.l = pad + 1.6 * fp + (double)ych * ARRANK_CHAR_EM * fp + 0.6 * fp;
-    P.legend_x = s->W - pad - 0.3 * s->W;
-    P.r_px = P.legend_x - 1.5 * fp;
+    P.legend_x = s->W - pad - 0.34 * s->W;
+    P.r_px = P.legend_x - 1.2 * fp;
     double gap = 3.0 * fp, avail = b - t - 2 * gap;
     P.top[0] = t;
     P.bot[0] = t + 0.4 * avail;

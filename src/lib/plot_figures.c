@@ -137,10 +137,11 @@ static void arr_layout_make(script *s, arr_layout *L)
     for (size_t k = 0; k < L->n; k++)
         widest = fmax(widest, arrank_plot_text_px(arrank_plot_sample_name(&a->results[L->idx[k]]),
                                                   LABEL_FRAC * f));
-    widest = fmin(widest, 0.3 * s->W);
     L->r = s->W - pad - widest - 1.4 * f;
     double row = 1.3 * LABEL_FRAC * f;
-    L->below = (double)L->n * row > L->b - L->t;
+    /* names wider than 30 % of the canvas would squeeze the plot: they go
+       whole into a legend below instead */
+    L->below = (double)L->n * row > L->b - L->t || widest > 0.3 * s->W;
     if (L->below) {
         size_t cols;
         L->legend_rows = arrank_plot_legend_rows(s, L->idx, L->n, s->W - 2 * pad, &cols);
@@ -476,10 +477,10 @@ void arrank_plot_fig_ea_lnA(script *s)
     for (size_t k = 0; k < n; k++)
         widest_px = fmax(widest_px, arrank_plot_text_px(arrank_plot_sample_name(&a->results[idx[k]]),
                                                         0.78 * fp));
-    double col_w = fmin(widest_px, 0.24 * s->W) + 3.6 * fp;
+    double col_w = widest_px + 3.6 * fp;
     double r = s->W - pad - col_w;
     size_t rows = arrank_plot_legend_rows(s, idx, n, col_w, &cols);
-    int side = cols == 1 && (double)rows * 1.45 * 0.78 * fp <= b - t;
+    int side = cols == 1 && (double)rows * 1.45 * 0.78 * fp <= b - t && col_w <= 0.3 * s->W;
     if (!side) {
         r = s->W - pad - fp;
         rows = arrank_plot_legend_rows(s, idx, n, s->W - 2 * pad, &cols);

@@ -225,6 +225,23 @@ static double rate_head_px(const script *s)
     return 0.8 * f + 1.38 * f + (s->title && *s->title ? 0.35 * f + 0.96 * f : 0) + 0.4 * f;
 }
 
+/* The widest name and the widest row note of the rows, in px. */
+static void rate_text_widths(const script *s, double *names_px, double *notes_px)
+{
+    size_t *rows = malloc((s->a->n_results ? s->a->n_results : 1) * sizeof *rows);
+    if (!rows)
+        return;
+    size_t n = rate_rows(s, rows);
+    char buf[600];
+    for (size_t k = 0; k < n; k++) {
+        const arrank_result *r = &s->a->results[rows[k]];
+        *names_px = fmax(*names_px, arrank_plot_text_px(arrank_plot_sample_name(r), s->fpx));
+        row_note(r, buf, sizeof buf);
+        *notes_px = fmax(*notes_px, arrank_plot_text_px(buf, NOTE_FRAC * s->fpx));
+    }
+    free(rows);
+}
+
 void arrank_plot_size_rate_at_T(script *s, double *w, double *h)
 {
     size_t *rows = malloc((s->a->n_results ? s->a->n_results : 1) * sizeof *rows);
@@ -236,7 +253,13 @@ void arrank_plot_size_rate_at_T(script *s, double *w, double *h)
     double need = rate_head_px(s) + 1.2 * s->fpx + (double)(n + 1) * ROW_PX(s) + 4.8 * s->fpx +
                   arrank_plot_caption_px(s, N_RATE_CAPTIONS);
     *h = fmax(*h, fmin(need, 6000.0));
-    (void)w;
+    /* names at the left and notes at the right are drawn whole: the canvas
+       widens so that the plot keeps 40 % of it (at most three times the
+       asked width; beyond, they are cut with an ellipsis) */
+    double names_px = 0, notes_px = 0;
+    rate_text_widths(s, &names_px, &notes_px);
+    double fixed = 1.6 * s->fpx + names_px + 1.2 * s->fpx + notes_px + 1.6 * s->fpx;
+    *w = fmin(fmax(*w, fixed / 0.6), 3.0 * *w);
 }
 
 void arrank_plot_fig_rate_at_T(script *s)
@@ -258,14 +281,9 @@ void arrank_plot_fig_rate_at_T(script *s)
     /* names at the left in the base font, notes at the right, each at most
        30 % of the width (cut with an ellipsis beyond) */
     double names_px = 0, notes_px = 0;
-    for (size_t k = 0; k < n_rows; k++) {
-        const arrank_result *r = &a->results[rows[k]];
-        names_px = fmax(names_px, arrank_plot_text_px(arrank_plot_sample_name(r), fp));
-        row_note(r, buf, sizeof buf);
-        notes_px = fmax(notes_px, arrank_plot_text_px(buf, NOTE_FRAC * fp));
-    }
-    names_px = fmin(names_px, 0.3 * s->W);
+    rate_text_widths(s, &names_px, &notes_px);
     notes_px = fmin(notes_px, 0.3 * s->W);
+    names_px = fmin(names_px, fmax(0.15 * s->W, 0.6 * s->W - 4.4 * fp - notes_px));
     double l = pad + names_px + 1.2 * fp, r = s->W - pad - notes_px - 1.6 * fp;
     arrank_plot_area(s, l, t, r, b);
     fputs("set logscale x\nset grid xtics noytics\nset ytics scale 0\n"
