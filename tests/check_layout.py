@@ -189,6 +189,33 @@ def judge(fig):
     return bad
 
 
+# The program's own spellings that must not reach a reader (issue 15): the
+# unit as the files write it, option-like names, flag names.
+PROGRAM_WORDS = ["umol/(g*s)", "T_op", "T_iso", "T_hm", "high_conversion", "few_points",
+                 "narrow_range", "mixed_basis", "poor_fit", "low_ea", "gnuplot_plot"]
+
+
+def reader_text_svg(svg):
+    """What a reader sees of an SVG: its texts and its titles (tooltips)."""
+    import html
+    parts = re.findall(r"<text[^>]*>(.*?)</text>", svg, re.S) + \
+        re.findall(r"<title>(.*?)</title>", svg, re.S)
+    return html.unescape(re.sub(r"<[^>]+>", "", " | ".join(parts)))
+
+
+def reader_text_html(page):
+    """What a reader sees of the report, leaving out <code> (file names, the
+    command line) and the style sheet."""
+    import html
+    page = re.sub(r"<(code|style)[^>]*>.*?</\1>", " ", page, flags=re.S)
+    page = re.sub(r"<text[^>]*>(.*?)</text>", r" \1 ", page, flags=re.S)
+    return html.unescape(re.sub(r"<[^>]+>", " ", page))
+
+
+def program_words(text):
+    return [w for w in PROGRAM_WORDS if w in text]
+
+
 def pdf_pages(path):
     data = open(path, "rb").read()
     return len(re.findall(rb"/Type\s*/Page[^s]", data))
@@ -270,6 +297,8 @@ def main():
                 bad = judge(fig)
                 ok("%d samples: %s laid out (%d texts, %d frames)" %
                    (n, fig["name"], fig["texts"], len(fig["frames"])), not bad, "\n".join(bad))
+            leaks = sorted({w for _, t in svgs for w in program_words(reader_text_svg(t))})
+            ok("%d samples: no program spelling in any figure" % n, not leaks, leaks)
             titles = [re.search(r"<title>(.*?)</title>", t, re.S) for _, t in svgs]
             ok("%d samples: every SVG's <title> names its figure" % n,
                all(t and t.group(1) and "Gnuplot" not in t.group(1) for t in titles))
@@ -278,6 +307,30 @@ def main():
                                stderr=subprocess.PIPE)
             ok("%d samples: report exits 0" % n, p.returncode == 0, p.stderr)
             check_report(tmp, os.path.join(rep, "report.html"), min(n, 50), "%d samples:" % n)
+            page = open(os.path.join(rep, "report.html"), encoding="utf-8").read()
+            leaks = program_words(reader_text_html(page))
+            ok("%d samples: no program spelling in the report" % n, not leaks, leaks)
+        # over 50 samples: a section for the top 50 and the flagged, the rest
+        # in one compact table
+        n = 60
+        camp = os.path.join(tmp, "c%d" % n)
+        make_campaign(camp, n, rng)
+        rep = os.path.join(tmp, "r%d" % n)
+        p = subprocess.run([ARRANK, "report", camp, "--out", rep], stdout=subprocess.DEVNULL,
+                           stderr=subprocess.PIPE)
+        ok("60 samples: report exits 0", p.returncode == 0, p.stderr)
+        subprocess.run([ARRANK, "rank", camp, "--json", os.path.join(tmp, "r60.json")],
+                       stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+        samples = json.load(open(os.path.join(tmp, "r60.json")))["samples"]
+        want = sum(1 for x in samples if (x.get("rank") or 0) and x["rank"] <= 50 or x["flags"])
+        page = open(os.path.join(rep, "report.html"), encoding="utf-8").read()
+        sections = page.count('<section class="sample">')
+        brief = re.search(r'<table class="brief">(.*?)</table>', page, re.S)
+        rows = len(re.findall(r"<tr><td", brief.group(1))) if brief else 0
+        ok("60 samples: a section for the top 50 and the flagged (%d, from the JSON %d)" %
+           (sections, want), sections == want and sections < 60)
+        ok("60 samples: the other %d in the compact table" % (60 - want), rows == 60 - want)
+        check_report(tmp, os.path.join(rep, "report.html"), sections, "60 samples:")
     finally:
         shutil.rmtree(tmp, ignore_errors=True)
     print("1..%d" % len(results))

@@ -410,6 +410,10 @@ int arrank_plot_svg_finish(const char *path, const char *title)
         } else if (d0 && p == d0 && d1) {
             fputs("<desc>arrank figure</desc>", out);
             p = d1 + strlen("</desc>");
+        } else if (*p == '<' && strncmp(p, "<title>gnuplot_plot_", 20) == 0 &&
+                   strstr(p, "</title>")) {
+            /* gnuplot's own name of each plot element, shown as a tooltip */
+            p = strstr(p, "</title>") + strlen("</title>");
         } else if (*p == 'f' && strncmp(p, fam, sizeof fam - 1) == 0) {
             fputs("font-family=\"" ARRANK_FONT_STACK "\"", out);
             p += sizeof fam - 1;

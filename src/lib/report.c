@@ -696,6 +696,76 @@ static void put_inputs(FILE *f, const arrank_analysis *a)
     fputs("</tbody></table></div>\n", f);
 }
 
+/* Campaigns of more samples than this get a section for the first this many
+   by rank and for every flagged one; the rest share a compact table (our
+   choice: about 50 printed pages). */
+#define REPORT_DETAIL_MAX 50
+
+static int in_detail(const arrank_analysis *a, const arrank_result *r)
+{
+    return a->n_results <= REPORT_DETAIL_MAX ||
+           (r->rank > 0 && r->rank <= REPORT_DETAIL_MAX) || r->flags != 0;
+}
+
+/* The samples without a section of their own, one row each. */
+static void put_brief(FILE *f, const arrank_analysis *a, size_t n_brief)
+{
+    double T_op = a->options.operating_temp_K;
+    fprintf(f, "<h2>The other %zu samples, in brief</h2>\n<p>Unflagged and ranked below "
+               "%d: one row each, in ranking order.</p>\n",
+            n_brief, REPORT_DETAIL_MAX);
+    fputs("<div class=\"wide\"><table class=\"brief\"><thead><tr><th>rank</th><th>sample</th>",
+          f);
+    if (isfinite(T_op)) {
+        fprintf(f, "<th>rate at %.4g &deg;C [", T_op - ZERO_C_K);
+        arrank_report_html_text(f, arrank_report_unit(a));
+        fprintf(f, "] (%.4g %% interval)</th>", 100 * a->options.confidence);
+    }
+    fprintf(f, "<th>Ea [kJ mol<sup>&minus;1</sup>] (%.4g %% interval)</th><th>points</th>"
+               "<th>note</th></tr></thead><tbody>\n",
+            100 * a->options.confidence);
+    for (size_t pass = 0; pass < 2; pass++)
+        for (size_t k = 0; k < (pass == 0 ? a->n_ranked : a->n_results); k++) {
+            size_t i = pass == 0 ? a->order[k] : k;
+            const arrank_result *r = &a->results[i];
+            if (in_detail(a, r) || (pass == 0) != (r->rank > 0))
+                continue;
+            fputs("<tr><td class=\"n\">", f);
+            if (r->rank > 0)
+                fprintf(f, "%d", r->rank);
+            else
+                fputs("&ndash;", f);
+            fputs("</td><td>", f);
+            arrank_report_put_swatch(f, i);
+            arrank_report_html_text(f, r->sample->id);
+            fputs("</td>", f);
+            if (isfinite(T_op)) {
+                fputs("<td class=\"n\">", f);
+                if (r->has_prediction) {
+                    arrank_report_html_num(f, r->at_T.rate, -3);
+                    fputs(" (", f);
+                    arrank_report_html_num(f, r->at_T.rate_lo, -3);
+                    fputs("&ndash;", f);
+                    arrank_report_html_num(f, r->at_T.rate_hi, -3);
+                    fputs(")", f);
+                } else
+                    fputs("&ndash;", f);
+                fputs("</td>", f);
+            }
+            fputs("<td class=\"n\">", f);
+            if (!r->error)
+                put_estimate(f, r->fit.ea_J_mol / 1000, r->fit.ea_se_J_mol / 1000,
+                             r->t_quantile, 1);
+            else
+                fputs("&ndash;", f);
+            fprintf(f, "</td><td class=\"n\">%zu of %zu</td><td>", r->n_used,
+                    r->sample->n_points);
+            arrank_report_html_text(f, r->error ? r->error : "");
+            fputs("</td></tr>\n", f);
+        }
+    fputs("</tbody></table></div>\n", f);
+}
+
 static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_options *o,
                      const figure_set *fs, time_t made)
 {
@@ -737,8 +807,15 @@ static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_opti
     arrank_report_put_figure(f, fs, ARRANK_FIGURE_ARRHENIUS, (size_t)-1);
     arrank_report_put_figure(f, fs, ARRANK_FIGURE_EA_LNA, (size_t)-1);
     fputs("<h2>Samples one by one</h2>\n", f);
-    for (size_t i = 0; i < a->n_results; i++)
-        arrank_report_put_sample(f, a, i, fs);
+    size_t n_brief = 0;
+    for (size_t i = 0; i < a->n_results; i++) {
+        if (in_detail(a, &a->results[i]))
+            arrank_report_put_sample(f, a, i, fs);
+        else
+            n_brief++;
+    }
+    if (n_brief)
+        put_brief(f, a, n_brief);
     put_methods(f, a);
 
     fputs("<h2>Record</h2>\n<p>Made by arrank " ARRANK_VERSION, f);
