@@ -137,15 +137,19 @@ static void arr_layout_make(script *s, arr_layout *L)
     for (size_t k = 0; k < L->n; k++)
         widest = fmax(widest, arrank_plot_text_px(arrank_plot_sample_name(&a->results[L->idx[k]]),
                                                   LABEL_FRAC * f));
-    L->r = s->W - pad - widest - 1.4 * f;
+    L->r = s->W - pad - widest - 1.6 * f;
     double row = 1.3 * LABEL_FRAC * f;
     /* names wider than 30 % of the canvas would squeeze the plot: they go
-       whole into a legend below instead */
-    L->below = (double)L->n * row > L->b - L->t || widest > 0.3 * s->W;
+       whole into a legend below instead; so do more names than the plot of
+       the asked height has room for (the canvas then grows by the legend) */
+    double b_asked = s->base_h - arrank_plot_caption_px(s, L->n_caption) - 4.6 * f;
+    L->below = (double)L->n * row > b_asked - L->t || widest > 0.3 * s->W;
     if (L->below) {
         size_t cols;
         L->legend_rows = arrank_plot_legend_rows(s, L->idx, L->n, s->W - 2 * pad, &cols);
         L->r = s->W - pad - 1.0 * f;
+        L->b = s->H - arrank_plot_caption_px(s, L->n_caption) - 4.6 * f -
+               (double)L->legend_rows * 1.45 * LABEL_FRAC * f - 0.6 * f;
     }
 }
 
@@ -208,7 +212,7 @@ static void arr_end_labels(script *s, const arr_layout *L)
                 lk.color);
         char buf[256];
         arrank_plot_fit_text(arrank_plot_sample_name(&s->a->results[i]),
-                             s->W - L->r - 2.2 * s->fpx, LABEL_FRAC * s->fpx, buf, sizeof buf);
+                             s->W - L->r - 1.5 * s->fpx, LABEL_FRAC * s->fpx, buf, sizeof buf);
         arrank_plot_text(s, L->r + 1.1 * s->fpx, y[p], "left", LABEL_FRAC, lk.color, 0, buf);
     }
 done:
@@ -266,10 +270,9 @@ static void arr_frame(script *s, const arr_layout *L, int any_excluded, int any_
     const char *lines[2] = {buf, hidden};
     arrank_plot_captions(s, lines, 2);
     if (L->below)
-        arrank_plot_legend(s, L->idx, L->n, 0.8 * fp, s->H - arrank_plot_caption_px(s, 2) -
-                                                        (double)L->legend_rows * 1.45 * 0.78 * fp -
-                                                        0.6 * fp,
-                           s->W - 0.8 * fp, s->H - arrank_plot_caption_px(s, 2), 1);
+        arrank_plot_legend(s, L->idx, L->n, 0.8 * fp,
+                           L->b + 4.6 * fp - 0.2 * fp, s->W - 0.8 * fp,
+                           s->H - arrank_plot_caption_px(s, 2), 1);
     else
         arr_end_labels(s, L);
 }
@@ -411,11 +414,47 @@ static void comp_caption(script *s, double T_hm, char *line, size_t n, int *firs
         snprintf(line + len, n - len, "; isokinetic temperature %.0f °C", c->T_iso_K - ZERO_C_K);
 }
 
+/* Where the compensation figure's legend goes: beside the plot in one
+   column when it fits the plot's height and 30 % of the width, else below
+   in columns (*rows of them).  Returns 1 for beside. */
+static int comp_legend_side(const script *s, const size_t *idx, size_t n, double plot_h,
+                            double *col_w, size_t *rows)
+{
+    double widest_px = 0, fp = s->fpx;
+    size_t cols;
+    for (size_t k = 0; k < n; k++)
+        widest_px = fmax(widest_px, arrank_plot_text_px(
+                                        arrank_plot_sample_name(&s->a->results[idx[k]]), 0.78 * fp));
+    *col_w = widest_px + 3.6 * fp;
+    *rows = arrank_plot_legend_rows(s, idx, n, *col_w, &cols);
+    if (cols == 1 && (double)*rows * 1.45 * 0.78 * fp <= plot_h && *col_w <= 0.3 * s->W)
+        return 1;
+    *rows = arrank_plot_legend_rows(s, idx, n, s->W - 1.6 * fp, &cols);
+    return 0;
+}
+
+/* The plot's height on the asked canvas: heading, three caption lines and
+   the axis labels taken away. */
+static double comp_plot_h(const script *s, double H)
+{
+    double f = s->fpx;
+    double head = 0.8 * f + 1.38 * f + (s->title && *s->title ? 0.35 * f + 0.96 * f : 0) + 0.4 * f;
+    return H - arrank_plot_caption_px(s, 3) - 4.6 * f - head - 1.0 * f;
+}
+
 void arrank_plot_size_ea_lnA(script *s, double *w, double *h)
 {
-    (void)s;
-    (void)w;
-    (void)h; /* the legend goes beside the plot, or below it in the same canvas */
+    size_t *idx = malloc((s->a->n_results ? s->a->n_results : 1) * sizeof *idx);
+    if (!idx)
+        return;
+    size_t n = shown_in_order(s, idx, 1), rows;
+    double col_w;
+    s->W = *w;
+    s->H = *h;
+    /* a legend below takes its rows from a taller canvas, not from the plot */
+    if (!comp_legend_side(s, idx, n, comp_plot_h(s, *h), &col_w, &rows))
+        *h += (double)rows * 1.45 * 0.78 * s->fpx + 1.0 * s->fpx;
+    free(idx);
 }
 
 /* The ranges of the compensation figure over every drawn ellipse. */
@@ -471,19 +510,14 @@ void arrank_plot_fig_ea_lnA(script *s)
     double b = s->H - arrank_plot_caption_px(s, 3) - 4.6 * fp;
     size_t ych = arrank_plot_tic_chars(rg[2], rg[3], fmax(3, (b - t) / (2.4 * fp)));
     double l = pad + 1.6 * fp + (double)ych * ARRANK_CHAR_EM * fp + 0.9 * fp;
-    /* the legend at the right when it fits in one column there, else below */
-    size_t cols;
-    double widest_px = 0;
-    for (size_t k = 0; k < n; k++)
-        widest_px = fmax(widest_px, arrank_plot_text_px(arrank_plot_sample_name(&a->results[idx[k]]),
-                                                        0.78 * fp));
-    double col_w = widest_px + 3.6 * fp;
+    /* the legend at the right when it fits in one column there, else below
+       (the canvas grew for it: arrank_plot_size_ea_lnA) */
+    size_t rows;
+    double col_w;
+    int side = comp_legend_side(s, idx, n, comp_plot_h(s, s->base_h), &col_w, &rows);
     double r = s->W - pad - col_w;
-    size_t rows = arrank_plot_legend_rows(s, idx, n, col_w, &cols);
-    int side = cols == 1 && (double)rows * 1.45 * 0.78 * fp <= b - t && col_w <= 0.3 * s->W;
     if (!side) {
         r = s->W - pad - fp;
-        rows = arrank_plot_legend_rows(s, idx, n, s->W - 2 * pad, &cols);
         b -= (double)rows * 1.45 * 0.78 * fp + 1.0 * fp;
     }
     arrank_plot_area(s, l, t, r, b);

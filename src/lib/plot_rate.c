@@ -252,7 +252,9 @@ void arrank_plot_size_rate_at_T(script *s, double *w, double *h)
     s->H = *h;
     double need = rate_head_px(s) + 1.2 * s->fpx + (double)(n + 1) * ROW_PX(s) + 4.8 * s->fpx +
                   arrank_plot_caption_px(s, N_RATE_CAPTIONS);
-    *h = fmax(*h, fmin(need, 6000.0));
+    /* as tall as the rows need, and no less than 55 % of the asked height
+       (one or two rows would otherwise be a strip) */
+    *h = fmax(0.55 * *h, fmin(need, 6000.0));
     /* names at the left and notes at the right are drawn whole: the canvas
        widens so that the plot keeps 40 % of it (at most three times the
        asked width; beyond, they are cut with an ellipsis) */
@@ -311,9 +313,11 @@ void arrank_plot_fig_rate_at_T(script *s)
         arrank_plot_look lk = arrank_plot_sample_look(rows[k], 0);
         double e[3];
         any_clipped |= row_ends(&res->at_T, x_lo, x_hi, e);
+        /* the box: the interval across, at most 0.52 of a row or 24 px high */
+        double half = fmin(0.26, 12.0 / fmax(row_px, 1.0));
         fprintf(f, "$iv%zu << EOD\n%.9g %zu %.9g %.9g %.9g %.9g\nEOD\n$pt%zu << EOD\n%.9g %zu\nEOD\n",
-                k, e[0], n_rows - k, e[1], e[2], (double)(n_rows - k) - 0.26,
-                (double)(n_rows - k) + 0.26, k, e[0], n_rows - k);
+                k, e[0], n_rows - k, e[1], e[2], (double)(n_rows - k) - half,
+                (double)(n_rows - k) + half, k, e[0], n_rows - k);
         for (int side = 0; side < 2; side++)
             if (e[1 + side] == (side ? x_hi : x_lo) && clipped_end(&res->at_T, side, x_lo, x_hi))
                 fprintf(f, "set arrow from graph %s, first %zu to graph %s, first %zu head "
@@ -324,8 +328,7 @@ void arrank_plot_fig_rate_at_T(script *s)
         if (buf[0]) {
             char cut[600];
             arrank_plot_fit_text(buf, notes_px, NOTE_FRAC * fp, cut, sizeof cut);
-            arrank_plot_text(s, r + 1.4 * fp, t + 0.6 * row_px + (double)k * row_px * 1.0 +
-                                                  0.0 * row_px, "left", NOTE_FRAC,
+            arrank_plot_text(s, r + 1.4 * fp, t + (0.6 + (double)k) * row_px, "left", NOTE_FRAC,
                              ARRANK_INK_SOFT, 0, cut);
         }
         any_flag |= res->flags != 0;
@@ -349,7 +352,7 @@ void arrank_plot_fig_rate_at_T(script *s)
         arrank_plot_look lk = arrank_plot_sample_look(rows[k], 0);
         arrank_plot_next_elem(f, &first);
         fprintf(f, "$iv%zu using 1:2:3:4:5:6 with boxxyerror fs transparent solid 0.3 border "
-                   "lc rgb '%s' lw 1.2", k, lk.color);
+                   "lc rgb '%s' fc rgb '%s' lw 1.2", k, lk.color, lk.color);
         arrank_plot_next_elem(f, &first);
         fprintf(f, "$pt%zu using 1:2 with points pt %d ps 0.9*PS lw 1.5 lc rgb '%s'", k,
                 res->flags ? lk.point_hollow : lk.point_filled, lk.color);
