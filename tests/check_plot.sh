@@ -343,4 +343,50 @@ ok_if "every figure carries the caution line ($n_caution of $n_svg)" test "$n_sv
 ok_if "rate-at-T at 300 degC: ZN-07's extrapolation in kelvin (0.2 K)" \
     grep -q 'extrapolated 0.2 K' "$T/far/rate-at-T.svg"
 
+# ---- which samples, what size (issue 15) ------------------------------------
+# --show: the top N by the ranking key (rank order from `arrank rank --json`),
+# N+flagged, or ids; the rest named in a caption line.  Texts are read with an
+# XML parser.
+cat >"$T/shown.py" <<'PY'
+import json, sys, xml.etree.ElementTree as ET
+ns = "{http://www.w3.org/2000/svg}"
+svg, res = sys.argv[1], json.load(open(sys.argv[2]))["samples"]
+texts = ["".join(t.itertext()).strip() for t in ET.parse(svg).getroot().iter(ns + "text")]
+ids = [s["id"] for s in res]
+print(" ".join(sorted(i.split()[0] for i in ids if i in texts)) or "none")
+print(sum(t.startswith("not drawn here") for t in texts))
+PY
+"$A" rank "$DEMO" --at 270C --json "$T/rank.json" >/dev/null 2>&1
+top3=$("$PY" -c "import json,sys; s=json.load(open(sys.argv[1]))['samples']
+print(' '.join(sorted(x['id'].split()[0] for x in s if x.get('rank') and x['rank'] <= 3)))" "$T/rank.json")
+"$A" plot "$DEMO" --at 270C --show 3 --out "$T/show3" >/dev/null 2>&1
+set -- $("$PY" "$T/shown.py" "$T/show3/arrhenius.svg" "$T/rank.json" | tr '\n' '|' | tr ' ' '_' | tr '|' ' ')
+expect_eq "--show 3: the Arrhenius plot names the top 3 of the ranking ($top3)" "${1:-}" \
+    "$(echo "$top3" | tr ' ' '_')"
+expect_eq "--show 3: one caption line names the samples not drawn" "${2:-}" 1
+"$A" plot "$DEMO" --at 270C --show 'ZN-04 mordenite,ZN-12 beta extrudate' --out "$T/showid" \
+    >/dev/null 2>&1
+set -- $("$PY" "$T/shown.py" "$T/showid/rate-at-T.svg" "$T/rank.json" | tr '\n' '|' | tr ' ' '_' | tr '|' ' ')
+expect_eq "--show ID,ID: the rate figure has exactly those rows" "${1:-}" "ZN-04_ZN-12"
+"$A" plot "$DEMO" --at 270C --show 2+flagged --out "$T/showfl" >/dev/null 2>&1
+nfl=$("$PY" -c "import json,sys; s=json.load(open(sys.argv[1]))['samples']
+print(len({x['id'] for x in s if (x.get('rank') and x['rank'] <= 2) or (x['flags'] and x['error'] is None)}))" "$T/rank.json")
+"$PY" "$T/shown.py" "$T/showfl/ea-lnA.svg" "$T/rank.json" >"$T/showfl.txt"
+set -- $(sed -n 1p "$T/showfl.txt")
+expect_eq "--show 2+flagged: the top 2 and every flagged fitted sample ($nfl)" "$#" "$nfl"
+"$A" plot "$DEMO" --at 270C --show 'nosuch sample' --out "$T/shownone" >/dev/null 2>"$T/shownone.err"
+expect_eq "--show with an unknown id: exit 2" "$?" 2
+ok_if "--show with an unknown id: named in one line" grep -q "^arrank: --show: no sample 'nosuch sample' in the campaign$" "$T/shownone.err"
+ok_if "--show with an unknown id: nothing written" test ! -e "$T/shownone"
+"$A" plot "$DEMO" --at 270C --size slide --format svg --format png --out "$T/slide" >/dev/null 2>&1
+ok_if "--size slide: SVG 1280 px wide" grep -q 'width="1280" height="720"' "$T/slide/arrhenius.svg"
+# PNG IHDR width and height (PNG spec, W3C REC-PNG sec. 11.2.2): twice the SVG
+png_wh=$("$PY" -c "import struct,sys; d=open(sys.argv[1],'rb').read(24); print(*struct.unpack('>II', d[16:24]))" "$T/slide/arrhenius.png")
+expect_eq "--size slide: PNG 2560 x 1440 px" "$png_wh" "2560 1440"
+"$A" plot "$DEMO" --at 270C --size 700x500 --out "$T/wxh" >/dev/null 2>&1
+ok_if "--size 700x500: SVG 700 px wide" grep -q 'width="700" height="500"' "$T/wxh/ea-lnA.svg"
+"$A" plot "$DEMO" --at 270C --size huge --out "$T/huge" >/dev/null 2>"$T/huge.err"
+expect_eq "--size huge: exit 2" "$?" 2
+ok_if "--size huge: says what is known" grep -q "^arrank: --size 'huge' is not known; use slide, page, square or WxH" "$T/huge.err"
+
 tap_plan

@@ -63,6 +63,7 @@ typedef struct {
                             named in a caption line.  Diagnostics: every sample. */
     const char *show_ids; /* instead of show: sample ids separated by commas
                              (NULL: use show); an id not in the campaign is EINVAL */
+    int show_flagged;     /* with show: every flagged sample too */
     int width_px, height_px; /* canvas in SVG px (arrank_plot_size); PNG has twice
                                 the pixels, PDF is 96 px to the inch */
 } arrank_plot_options;

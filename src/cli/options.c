@@ -311,7 +311,7 @@ int cli_figure_options(const cli_args *args, arrank_plot_options *po)
         arrank_error_clear(&err);
         if (arrank_plot_size(args->size_text, &po->width_px, &po->height_px, &err) !=
             ARRANK_OK) {
-            cli_fail("--size: %s", err.message);
+            cli_fail("--%s", err.message); /* "--size 'X' is not known; ..." */
             return EXIT_USAGE;
         }
     }
@@ -322,12 +322,24 @@ int cli_figure_options(const cli_args *args, arrank_plot_options *po)
         po->show = SIZE_MAX;
         return -1;
     }
-    int digits = *v != '\0';
-    for (const char *c = v; *c; c++)
-        digits &= *c >= '0' && *c <= '9';
+    /* N, or N+flagged: the top N and every flagged sample */
+    char count[32];
+    size_t len = strlen(v);
+    const char *plus = strstr(v, "+flagged");
+    if (plus && plus[8] == '\0' && plus > v && (size_t)(plus - v) < sizeof count) {
+        len = (size_t)(plus - v);
+        po->show_flagged = 1;
+    }
+    int digits = len > 0 && len < sizeof count;
+    for (size_t k = 0; k < len && digits; k++)
+        digits &= v[k] >= '0' && v[k] <= '9';
+    if (!digits)
+        po->show_flagged = 0;
     if (digits) {
+        memcpy(count, v, len);
+        count[len] = '\0';
         size_t n;
-        int rc = parse_count("--show", v, 100000UL, &n);
+        int rc = parse_count("--show", count, 100000UL, &n);
         if (rc != -1)
             return rc;
         if (n == 0) {

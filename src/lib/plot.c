@@ -55,6 +55,7 @@ arrank_plot_options arrank_plot_defaults(void)
     o.gnuplot = NULL;
     o.show = ARRANK_PLOT_SHOW_DEFAULT;
     o.show_ids = NULL;
+    o.show_flagged = 0;
     o.width_px = 960; /* "page" (arrank_plot_size) */
     o.height_px = 720;
     return o;
@@ -603,6 +604,11 @@ static arrank_status select_shown(const arrank_analysis *a, const arrank_plot_op
         }
     for (size_t i = 0; i < a->n_results && *n_shown < want; i++)
         if (!shown[i] && a->results[i].rank <= 0) {
+            shown[i] = 1;
+            (*n_shown)++;
+        }
+    for (size_t i = 0; o->show_flagged && i < a->n_results; i++)
+        if (!shown[i] && a->results[i].flags) {
             shown[i] = 1;
             (*n_shown)++;
         }

@@ -425,7 +425,7 @@ static int comp_legend_side(const script *s, const size_t *idx, size_t n, double
     for (size_t k = 0; k < n; k++)
         widest_px = fmax(widest_px, arrank_plot_text_px(
                                         arrank_plot_sample_name(&s->a->results[idx[k]]), 0.78 * fp));
-    *col_w = widest_px + 3.6 * fp;
+    *col_w = widest_px + 4.2 * fp;
     *rows = arrank_plot_legend_rows(s, idx, n, *col_w, &cols);
     if (cols == 1 && (double)*rows * 1.45 * 0.78 * fp <= plot_h && *col_w <= 0.3 * s->W)
         return 1;

@@ -237,7 +237,7 @@ int arrank_plot_legend(script *s, const size_t *idx, size_t n, double x0, double
                 lk.color);
         char buf[256];
         arrank_plot_fit_text(arrank_plot_sample_name(&s->a->results[i]),
-                             col_w - 3.2 * s->fpx, LEGEND_FRAC * s->fpx, buf, sizeof buf);
+                             col_w - 3.0 * s->fpx, LEGEND_FRAC * s->fpx, buf, sizeof buf);
         arrank_plot_text(s, x + 2.9 * s->fpx, y, "left", LEGEND_FRAC, ARRANK_INK, 0, buf);
     }
     return 1;
