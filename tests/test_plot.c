@@ -203,6 +203,53 @@ static void test_palette(void **state)
     assert_true(ref.line_width > 1.0);
 }
 
+
+/* Units as a reader reads them (ISO 80000-1 style: symbols with superscript
+   powers; common practice in the catalysis literature). */
+static void test_unit_text(void **state)
+{
+    (void)state;
+    static const struct {
+        const char *in, *out;
+    } cases[] = {
+        {"umol/(g*s)", "µmol g⁻¹ s⁻¹"},
+        {"mol/(kg*h)", "mol kg⁻¹ h⁻¹"},
+        {"mmol/g/h", "mmol g⁻¹ h⁻¹"},
+        {"1/s", "s⁻¹"},
+        {"mmol g-1 h-1", "mmol g⁻¹ h⁻¹"},
+        {"umol/(m^2*s)", "µmol m⁻² s⁻¹"},
+        {"mol.kg-1.s-12", "mol.kg-1.s-12"}, /* a power over 9: copied as written */
+        {"report unit", "report unit"},
+        {"a(b", "a(b"},
+        {"", ""},
+    };
+    for (size_t k = 0; k < sizeof cases / sizeof *cases; k++) {
+        char buf[128];
+        arrank_plot_unit_text(cases[k].in, buf, sizeof buf);
+        assert_string_equal(buf, cases[k].out);
+    }
+    /* cut short, never inside a character: "µmol" is 5 bytes */
+    char small[7];
+    arrank_plot_unit_text("umol/(g*s)", small, sizeof small);
+    assert_string_equal(small, "µmol ");
+    char tiny[2]; /* "µ" is 2 bytes: it does not fit */
+    arrank_plot_unit_text("umol/(g*s)", tiny, sizeof tiny);
+    assert_string_equal(tiny, "");
+}
+
+/* Every flag has short words, none of them the program's spelling. */
+static void test_flag_words(void **state)
+{
+    (void)state;
+    for (unsigned b = 0; b < ARRANK_FLAG_COUNT; b++) {
+        const char *w = arrank_plot_flag_short(1u << b);
+        assert_non_null(w);
+        assert_null(strchr(w, '_'));
+        assert_true(strlen(w) <= 24);
+    }
+    assert_null(arrank_plot_flag_short(1u << ARRANK_FLAG_COUNT));
+}
+
 /* ---- the script --------------------------------------------------------- */
 
 #define N_SAMPLES 9
@@ -537,6 +584,8 @@ int main(void)
         cmocka_unit_test(test_quote_random),
         cmocka_unit_test(test_quote_long),
         cmocka_unit_test(test_palette),
+        cmocka_unit_test(test_unit_text),
+        cmocka_unit_test(test_flag_words),
         cmocka_unit_test(test_blocks_numeric),
         cmocka_unit_test(test_colour_per_sample),
         cmocka_unit_test(test_figure_names),

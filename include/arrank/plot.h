@@ -165,6 +165,23 @@ const char *arrank_plot_color(size_t i);
 int arrank_plot_point_type(size_t i, int hollow);
 
 /*
+ * A unit as a reader reads it, for figures and the report: a udunits-style
+ * product or quotient of symbols with powers ("umol/(g*s)", "mol/(kg*h)",
+ * "1/s", "mmol g-1 h-1") becomes numerator then denominator with
+ * superscript powers ("µmol g⁻¹ s⁻¹", "mol kg⁻¹ h⁻¹", "s⁻¹"); the micro
+ * prefix written 'u' becomes µ and degC °C.  Text of any other form is copied
+ * as it is.  out always terminated (cut at n - 1 bytes).
+ */
+void arrank_plot_unit_text(const char *unit, char *out, size_t n);
+
+/*
+ * A flag bit in the few words a figure or a table cell has room for
+ * ("high conversion", "bent plot"), never the program's spelling; NULL for a
+ * bit that is no flag.  arrank_flag_words has the long sentence.
+ */
+const char *arrank_plot_flag_short(unsigned flag);
+
+/*
  * Find the gnuplot program that arrank_plot_write would run (see options).
  * On success *path is a new absolute path owned by the caller (free).
  * ENOGNUPLOT with the install hint when it is not found.

@@ -144,8 +144,11 @@ static const char *const sup_digit[] = {"⁰", "¹", "²", "³", "⁴", "⁵", "
 static void app(char *out, size_t n, size_t *len, const char *s)
 {
     size_t m = strlen(s);
-    if (*len + m + 1 > n)
+    if (*len + m + 1 > n) {
         m = *len + 1 < n ? n - *len - 1 : 0;
+        while (m > 0 && ((unsigned char)s[m] & 0xC0) == 0x80)
+            m--; /* never half a character */
+    }
     memcpy(out + *len, s, m);
     *len += m;
     out[*len] = '\0';

@@ -32,13 +32,6 @@ double arrank_plot_text_px(const char *text, double font_px);
 /* Characters of UTF-8 text (code points). */
 size_t arrank_plot_chars(const char *text);
 
-/* The rate unit as the reader reads it: "umol/(g*s)" -> "µmol g⁻¹ s⁻¹",
-   "1/s" -> "s⁻¹", "degC" -> "°C".  Text it cannot read is copied as it is. */
-void arrank_plot_unit_text(const char *unit, char *out, size_t n);
-/* A flag bit in the few words a figure or a table cell has room for
-   ("high conversion", "bent"), never the program's spelling; NULL when
-   unknown. */
-const char *arrank_plot_flag_short(unsigned flag);
 /* The flags of r in short words, ", "-separated, into buf ("extrapolated
    12 K" says how far). */
 void arrank_plot_flag_list(const arrank_result *r, char *buf, size_t n);
