@@ -143,11 +143,17 @@ static const char *const sup_digit[] = {"⁰", "¹", "²", "³", "⁴", "⁵", "
 /* Append s to out[*len] within n (always terminated). */
 static void app(char *out, size_t n, size_t *len, const char *s)
 {
+    if (*len >= n)
+        return;
     size_t m = strlen(s);
-    if (*len + m + 1 > n) {
+    if (*len + m + 1 > n) { /* full: what fits, never half a character, then nothing */
         m = *len + 1 < n ? n - *len - 1 : 0;
         while (m > 0 && ((unsigned char)s[m] & 0xC0) == 0x80)
-            m--; /* never half a character */
+            m--;
+        memcpy(out + *len, s, m);
+        out[*len + m] = '\0';
+        *len = n; /* no room for anything after */
+        return;
     }
     memcpy(out + *len, s, m);
     *len += m;
