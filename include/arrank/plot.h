@@ -9,21 +9,27 @@
  * those as formats), so nothing in a campaign can run a command or be read
  * as a format.  Text is drawn noenhanced: "Pt_1" shows its underscore.
  *
- * Figures (file stems; one file per stem and format, in the output folder):
- *   arrhenius              ln r against 1000/T, every sample, fitted lines with
- *                          confidence bands, degC along the top
- *   rate-at-T              rate at the operating temperature with its interval,
- *                          best at the top, log axis (only with an operating T)
- *   ea-lnA                 Ea against ln A with joint confidence ellipses
- *   diagnostics-NN[-ID]    per fitted sample: residuals against 1000/T and the
- *                          diagnosis's local apparent Ea windows against T,
- *                          the kinetic window shaded on both, each point's
- *                          regime shown by its marker shape.  NN is the sample's
- *                          1-based position in the campaign; ID is the sample id
- *                          with each run of characters other than [A-Za-z0-9._-]
- *                          made one '_' (at most 40 characters).
- * Each sample has one colour in every figure and one marker shape in every
- * figure but its diagnostics, where the shape tells each point's regime.
+ * Figures (file stems; one file per stem and format, in the output folder),
+ * in one house style (DEVELOPERS.md "Figures: the house style"):
+ *   arrhenius              ln r against 1000 K/T, the samples drawn (options
+ *                          .show), fitted lines with confidence bands, each
+ *                          named at its end, degC along the top
+ *   rate-at-T              rate at the operating temperature, each interval a
+ *                          box, best at the top, log axis, P(best) from 0.01
+ *                          and flags in words beside (only with an operating T)
+ *   ea-lnA                 the compensation figure: Ea against ln r at the
+ *                          harmonic-mean temperature with joint confidence
+ *                          ellipses; the ln A-Ea line and the isokinetic
+ *                          temperature in its caption
+ *   diagnostics-NN[-ID]    per fitted sample: its Arrhenius plot, residuals
+ *                          and the diagnosis's local apparent Ea stacked on
+ *                          one 1000 K/T axis, the kinetic window shaded, each
+ *                          point's regime shown by its marker shape.  NN is the
+ *                          sample's 1-based position in the campaign; ID is
+ *                          the sample id with each run of characters other than
+ *                          [A-Za-z0-9._-] made one '_' (at most 40 characters).
+ * Each sample has one look (arrank_plot_sample_look) in every figure, but in
+ * its diagnostics the marker shape tells each point's regime.
  */
 #ifndef ARRANK_PLOT_H
 #define ARRANK_PLOT_H
@@ -36,9 +42,9 @@
 
 /* Output formats; OR them together. */
 enum {
-    ARRANK_PLOT_SVG = 1u << 0, /* .svg, 960 px class, for screens and slides */
-    ARRANK_PLOT_PNG = 1u << 1, /* .png through pngcairo at about 300 dpi for 8 x 5.6 in */
-    ARRANK_PLOT_PDF = 1u << 2  /* .pdf through pdfcairo, 8 x 5.6 in, vector */
+    ARRANK_PLOT_SVG = 1u << 0, /* .svg, the canvas in px (960 x 720 by default) */
+    ARRANK_PLOT_PNG = 1u << 1, /* .png through pngcairo, twice the canvas's pixels */
+    ARRANK_PLOT_PDF = 1u << 2  /* .pdf through pdfcairo, 96 canvas px to the inch, vector */
 };
 
 typedef enum {
