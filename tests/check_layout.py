@@ -310,6 +310,13 @@ def main():
             page = open(os.path.join(rep, "report.html"), encoding="utf-8").read()
             leaks = program_words(reader_text_html(page))
             ok("%d samples: no program spelling in the report" % n, not leaks, leaks)
+        # the demo's report: at most 17 pages (3 + its 14 samples)
+        demo = os.path.join(os.getcwd(), "campaigns", "zeolite-ni-screen")
+        rep = os.path.join(tmp, "rdemo")
+        p = subprocess.run([ARRANK, "report", demo, "--out", rep], stdout=subprocess.DEVNULL,
+                           stderr=subprocess.PIPE)
+        ok("demo: report exits 0", p.returncode == 0, p.stderr)
+        check_report(tmp, os.path.join(rep, "report.html"), 14, "demo:")
         # over 50 samples: a section for the top 50 and the flagged, the rest
         # in one compact table
         n = 60

@@ -283,7 +283,8 @@ static void diag_legend(script *s, const diag_panels *P)
         y = legend_entry(s, x, y, 1, NULL, "#222222", "outlier");
     y += 0.6 * s->fpx;
     snprintf(buf, sizeof buf, "fitted line, %.4g %% band", P->conf_pc);
-    y = legend_entry(s, x, y, -1, "solid", P->c, buf);
+    y = legend_entry(s, x, y, -1, arrank_plot_dash(arrank_plot_sample_look(P->i, 0).dash), P->c,
+                     buf);
     if (isfinite(P->r->fit.resid_sd) && P->r->fit.resid_sd > 0 && !P->r->fit.weighted) {
         snprintf(buf, sizeof buf, "±t·s: %.4g %% of the scatter", P->conf_pc);
         y = legend_entry(s, x, y, -1, "(6,4)", "#666666", buf);
