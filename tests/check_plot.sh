@@ -389,4 +389,13 @@ ok_if "--size 700x500: SVG 700 px wide" grep -q 'width="700" height="500"' "$T/w
 expect_eq "--size huge: exit 2" "$?" 2
 ok_if "--size huge: says what is known" grep -q "^arrank: --size 'huge' is not known; use slide, page, square or WxH" "$T/huge.err"
 
+# A rate at T below the axis floor (1e-300) on its own: the axis stays
+# positive and finite (the pipeline fuzzer found x_hi = 0 from lo * hi
+# underflowing).
+mkdir -p "$T/tiny"
+printf '[campaign]\nrate_unit = umol/(g*s)\n' >"$T/tiny/campaign.ini"
+printf '# sample = tiny\nT [degC],rate [umol/(g*s)]\n200,1.0e-303\n220,2.1e-303\n240,4.0e-303\n260,7.9e-303\n' >"$T/tiny/a.csv"
+"$A" plot "$T/tiny" --at 272C --out "$T/tiny-out" >/dev/null 2>"$T/tiny.err"
+expect_eq "a rate near 1e-303 alone: plot exit 0 (axis positive and finite)" "$?" 0
+
 tap_plan

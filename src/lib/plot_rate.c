@@ -159,9 +159,11 @@ static void rate_axis(const arrank_analysis *a, const size_t *rows, size_t n_row
     }
     double span = log10(hi / lo);
     if (span < 0.36) { /* at least a factor 2.3: two labelled tics (put_log_tics) */
-        double mid = sqrt(lo * hi), half = pow(10.0, 0.18);
-        lo = mid / half;
-        hi = mid * half;
+        /* in decades: lo * hi under- or overflows near the axis limits */
+        double mid = 0.5 * (log10(lo) + log10(hi));
+        mid = fmin(fmax(mid, log10(RATE_AXIS_MIN) + 0.25), log10(RATE_AXIS_MAX) - 0.25);
+        lo = pow(10.0, mid - 0.18);
+        hi = pow(10.0, mid + 0.18);
         span = 0.36;
     }
     double widen = pow(10.0, 0.06 * span);
