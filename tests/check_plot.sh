@@ -398,4 +398,14 @@ printf '# sample = tiny\nT [degC],rate [umol/(g*s)]\n200,1.0e-303\n220,2.1e-303\
 "$A" plot "$T/tiny" --at 272C --out "$T/tiny-out" >/dev/null 2>"$T/tiny.err"
 expect_eq "a rate near 1e-303 alone: plot exit 0 (axis positive and finite)" "$?" 0
 
+# P(best) beside a row only where it is 0.01 or more: as many notes as the
+# JSON has samples at or above 0.01, none below.
+"$A" plot "$DEMO" --at 270C --out "$T/pbest" >/dev/null 2>&1
+want_pb=$("$PY" -c "import json,sys; s=json.load(open(sys.argv[1]))['samples']
+print(sum(1 for x in s if x.get('p_best') is not None and x['p_best'] >= 0.01))" "$T/rank.json")
+expect_eq "rate figure: P(best) printed for the $want_pb samples at 0.01 or more" \
+    "$(grep -o '>P(best) [0-9.]*' "$T/pbest/rate-at-T.svg" | grep -c .)" "$want_pb"
+ok_if "rate figure: no 'P(best) < 0.01' and no 0.00" \
+    sh -c "! grep -q 'P(best) &lt;\|P(best) <\|P(best) 0.00' '$T/pbest/rate-at-T.svg'"
+
 tap_plan

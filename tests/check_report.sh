@@ -90,7 +90,7 @@ expect_eq "check: ZN-12 has 7 points left out (the demo's pore-diffusion sample)
 # sqrt(chi2/dof) named as such, not as a residual SD in ln r
 ok_if "report: no bare +- standard error" sh -c '! grep -q "&plusmn;" "$1"' _ "$R"
 ok_if "report: Ea and ln A columns with their 95 % intervals" \
-    grep -q 'Ea \[kJ/mol\] (95 % interval)</th><th>ln A (95 % interval)' "$R"
+    grep -q 'Ea \[kJ mol<sup>&minus;1</sup>\] (95 % interval)</th><th>ln A (95 % interval)' "$R"
 ok_if "report: a weighted fit shows sqrt(chi2/dof) by that name" \
     grep -q 'weighted by rate_sd, &chi;&sup2;/dof = [0-9.e+-]*, &radic;(&chi;&sup2;/dof) = ' "$R"
 ok_if "report: 'residual SD' only for unweighted fits" \

@@ -146,8 +146,6 @@ void arrank_plot_fig_diagnostics(script *s, size_t i);
 /* Tics of a log axis between lo and hi (> 0), 1-2-5 mantissas below three
    decades (plot_rate.c). */
 void arrank_plot_put_log_tics(FILE *f, const char *axis, double lo, double hi);
-/* Characters of the longest note beside a row of the rate-at-T figure. */
-size_t arrank_plot_longest_row_note(const arrank_analysis *a);
 
 /* Run program in dir with the script on its standard input (plot_gnuplot.c):
    ENOGNUPLOT when it cannot be run, EPLOT with gnuplot's message when it

@@ -181,24 +181,10 @@ static void row_note(const arrank_result *r, char *buf, size_t n)
     char flags[400];
     arrank_plot_flag_list(r, flags, sizeof flags);
     double p = r->stats ? r->stats->p_best : NAN;
-    if (isfinite(p) && p >= 0.005)
+    if (isfinite(p) && p >= 0.01)
         snprintf(buf, n, "P(best) %.2f%s%s", p, flags[0] ? "; " : "", flags);
     else
         snprintf(buf, n, "%s", flags);
-}
-
-size_t arrank_plot_longest_row_note(const arrank_analysis *a)
-{
-    size_t longest = 0;
-    for (size_t i = 0; i < a->n_results; i++) {
-        const arrank_result *r = &a->results[i];
-        if (!(r->has_prediction && arrank_plot_fitted(r)))
-            continue;
-        char buf[512];
-        row_note(r, buf, sizeof buf);
-        longest = arrank_plot_chars(buf) > longest ? arrank_plot_chars(buf) : longest;
-    }
-    return longest;
 }
 
 /* Rows: the samples drawn that have a rate at T, ranked first in order. */

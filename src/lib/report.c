@@ -508,7 +508,8 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
     int stats = a->rank_stats != NULL;
     if (stats)
         fputs("<th>P(best)</th><th>group</th>", f);
-    fprintf(f, "<th>Ea [kJ/mol] (%.4g %% interval)</th><th>ln A (%.4g %% interval)</th>"
+    fprintf(f, "<th>Ea [kJ mol<sup>&minus;1</sup>] (%.4g %% interval)</th>"
+               "<th>ln A (%.4g %% interval)</th>"
                "<th>points</th>",
             100 * a->options.confidence, 100 * a->options.confidence);
     fputs("<th>T range [&deg;C]</th>"

@@ -261,7 +261,7 @@ void arrank_report_put_sample(FILE *f, const arrank_analysis *a, size_t i,
     fprintf(f, "<div class=\"wide\"><table><thead><tr><th>quantity</th><th>estimate</th><th>%.4g %% interval</th>"
                "</tr></thead><tbody>\n",
             100 * a->options.confidence);
-    put_param_row(f, "apparent Ea [kJ/mol]", fit->ea_J_mol / 1000,
+    put_param_row(f, "apparent Ea [kJ mol<sup>&minus;1</sup>]", fit->ea_J_mol / 1000,
                   (fit->ea_J_mol - t * fit->ea_se_J_mol) / 1000,
                   (fit->ea_J_mol + t * fit->ea_se_J_mol) / 1000, 2);
     put_param_row(f, "ln A (A in the report unit)", fit->ln_A, fit->ln_A - t * fit->ln_A_se,
