@@ -216,6 +216,31 @@ def program_words(text):
     return [w for w in PROGRAM_WORDS if w in text]
 
 
+def looks_agree(page):
+    """One sample, one look: each sample's mark in the ranking table is the
+    mark (fill colour and shape) at its section's heading, and its colour is
+    drawn in its diagnostics figure.  Returns the samples that disagree."""
+    def mark(html_part):
+        m = re.search(r'<svg class="swatch"[^>]*fill="(#[0-9A-Fa-f]{6})"[^>]*>(<[a-z]+)', html_part)
+        return (m.group(1).upper(), m.group(2)) if m else None
+    table = page.split("<h2>Ranking</h2>", 1)[1].split("</table>", 1)[0]
+    in_table = {}
+    for row in re.findall(r"<tr>(.*?)</tr>", table, re.S):
+        name = re.search(r'</svg>([^<]*)</td>', row)
+        if name:
+            in_table[name.group(1)] = mark(row)
+    bad = []
+    for sec in page.split('<section class="sample">')[1:]:
+        head = sec.split("</h3>", 1)[0]
+        name = re.search(r"</svg>([^<]*)$", head).group(1)
+        look = mark(head)
+        rgb = "rgb(%d, %d, %d)" % tuple(int(look[0][k:k + 2], 16) for k in (1, 3, 5)) if look else ""
+        drawn = re.sub(r"\(\s*(\d+),\s*(\d+),\s*(\d+)\)", r"(\1, \2, \3)", sec)
+        if look is None or in_table.get(name) != look or rgb not in drawn:
+            bad.append(name)
+    return bad, len(in_table)
+
+
 def pdf_pages(path):
     data = open(path, "rb").read()
     return len(re.findall(rb"/Type\s*/Page[^s]", data))
@@ -308,6 +333,9 @@ def main():
             ok("%d samples: report exits 0" % n, p.returncode == 0, p.stderr)
             check_report(tmp, os.path.join(rep, "report.html"), min(n, 50), "%d samples:" % n)
             page = open(os.path.join(rep, "report.html"), encoding="utf-8").read()
+            bad, rows = looks_agree(page)
+            ok("%d samples: one look per sample in the table, its section and its figure "
+               "(%d rows)" % (n, rows), not bad and rows == n, bad)
             leaks = program_words(reader_text_html(page))
             ok("%d samples: no program spelling in the report" % n, not leaks, leaks)
         # the demo's report: at most 17 pages (3 + its 14 samples)
