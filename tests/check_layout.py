@@ -345,6 +345,15 @@ def main():
                            stderr=subprocess.PIPE)
         ok("demo: report exits 0", p.returncode == 0, p.stderr)
         check_report(tmp, os.path.join(rep, "report.html"), 14, "demo:")
+        # control: a section whose mark has another colour than its table row
+        # and its figure is seen, so the look check can fail
+        page = open(os.path.join(rep, "report.html"), encoding="utf-8").read()
+        at = page.index('<section class="sample">')
+        m = re.compile(r'fill="#[0-9A-Fa-f]{6}"').search(page, at)
+        other = 'fill="#000001"'
+        bad, _ = looks_agree(page[:m.start()] + other + page[m.end():])
+        ok("control: a sample whose mark differs from its figure is found (%s)" % bad,
+           len(bad) == 1)
         # over 50 samples: a section for the top 50 and the flagged, the rest
         # in one compact table
         n = 60
