@@ -380,11 +380,13 @@ static const char css[] =
     "max-width:72rem;margin:0 auto;padding:1.5rem;color:#1a1a1a;line-height:1.45}"
     "h1{font-size:1.7rem;margin-bottom:.2rem}h2{margin-top:2.2rem;border-bottom:2px solid #ccc}"
     "h3{margin-top:1.6rem}"
-    "table{border-collapse:collapse;margin:.6rem 0;font-size:.92rem}"
-    "th,td{border:1px solid #ccc;padding:.25rem .5rem;text-align:left;vertical-align:top}"
+    "table{border-collapse:collapse;margin:.6rem 0;font-size:.88rem}"
+    "th,td{border:1px solid #ccc;padding:.2rem .35rem;text-align:left;vertical-align:top}"
     "th{background:#f0f0f0}td.n{text-align:right;font-variant-numeric:tabular-nums}"
     "figure{margin:1rem 0}svg.figure{max-width:100%;height:auto;display:block}"
     ".wide{overflow-x:auto;max-width:100%}td.n{white-space:nowrap}"
+    ".ci{display:block;color:#555;font-size:.85em}"
+    "@media (max-width:60rem){body{padding:.75rem}table{font-size:.82rem}}"
     "figcaption{font-size:.9rem;color:#333}.file{color:#666}"
     ".caution{border-left:6px solid #D55E00;background:#fff4ec;padding:.6rem 1rem}"
     ".note{border-left:6px solid #0072B2;background:#eef6fb;padding:.6rem 1rem}"
@@ -485,15 +487,16 @@ static void put_stats_cells(FILE *f, const arrank_result *r)
     fputs("</td>", f);
 }
 
-/* "v (lo&ndash;hi)": an estimate with its interval v -/+ t se. */
+/* An estimate with its interval v -/+ t se under it (one cell, two short
+   lines, so that a table of them fits a narrow window). */
 static void put_estimate(FILE *f, double v, double se, double t, int digits)
 {
     arrank_report_html_num(f, v, digits);
-    fputs(" (", f);
+    fputs("<span class=\"ci\">", f);
     arrank_report_html_num(f, v - t * se, digits);
     fputs("&ndash;", f);
     arrank_report_html_num(f, v + t * se, digits);
-    fputs(")", f);
+    fputs("</span>", f);
 }
 
 static void put_ranking(FILE *f, const arrank_analysis *a)
@@ -503,7 +506,7 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
     if (isfinite(T_op)) {
         fprintf(f, "<th>rate at %.4g &deg;C [", T_op - ZERO_C_K);
         arrank_report_html_text(f, arrank_report_unit(a));
-        fprintf(f, "]</th><th>%.4g %% interval</th>", 100 * a->options.confidence);
+        fprintf(f, "] (%.4g %% interval)</th>", 100 * a->options.confidence);
     }
     int stats = a->rank_stats != NULL;
     if (stats)
@@ -533,7 +536,7 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
             arrank_report_html_text(f, r->sample->id);
             fputs("</td>", f);
             if (r->error) {
-                fprintf(f, "<td colspan=\"%d\">%s: ", (isfinite(T_op) ? 7 : 5) + (stats ? 2 : 0),
+                fprintf(f, "<td colspan=\"%d\">%s: ", (isfinite(T_op) ? 6 : 5) + (stats ? 2 : 0),
                         r->sample->skipped ? "file not used" : "not fitted");
                 arrank_report_html_text(f, r->error);
                 fputs("</td></tr>\n", f);
@@ -543,13 +546,13 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
                 if (r->has_prediction) {
                     fputs("<td class=\"n\">", f);
                     arrank_report_html_num(f, r->at_T.rate, -3);
-                    fputs("</td><td class=\"n\">", f);
+                    fputs("<span class=\"ci\">", f);
                     arrank_report_html_num(f, r->at_T.rate_lo, -3);
-                    fputs(" &ndash; ", f);
+                    fputs("&ndash;", f);
                     arrank_report_html_num(f, r->at_T.rate_hi, -3);
-                    fputs("</td>", f);
+                    fputs("</span></td>", f);
                 } else
-                    fputs("<td>&ndash;</td><td>&ndash;</td>", f);
+                    fputs("<td>&ndash;</td>", f);
             }
             if (stats)
                 put_stats_cells(f, r);
@@ -744,11 +747,11 @@ static void put_brief(FILE *f, const arrank_analysis *a, size_t n_brief)
                 fputs("<td class=\"n\">", f);
                 if (r->has_prediction) {
                     arrank_report_html_num(f, r->at_T.rate, -3);
-                    fputs(" (", f);
+                    fputs("<span class=\"ci\">", f);
                     arrank_report_html_num(f, r->at_T.rate_lo, -3);
                     fputs("&ndash;", f);
                     arrank_report_html_num(f, r->at_T.rate_hi, -3);
-                    fputs(")", f);
+                    fputs("</span>", f);
                 } else
                     fputs("&ndash;", f);
                 fputs("</td>", f);
