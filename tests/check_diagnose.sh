@@ -128,6 +128,6 @@ PY
 expect_eq "local Ea windows: 95 % intervals with t on n - 2 dof (SciPy)" "$(cat "$T/loc.py")" "True 0"
 "$A" plot "$DEMO" --at 270C --out "$T/locfig" >/dev/null 2>&1
 ok_if "diagnostics figure: the local Ea bars are the 95 % interval, no bare SE" \
-    sh -c "grep -q 'local Ea, 3 neighbouring temperatures, 95 % interval' '$T/locfig/diagnostics-12-ZN-12_beta_extrudate.svg' && ! grep -q '1 SE' '$T/locfig/diagnostics-12-ZN-12_beta_extrudate.svg'"
+    sh -c "grep -q 'local Ea, 3 temperatures, 95 % interval' '$T/locfig/diagnostics-12-ZN-12_beta_extrudate.svg' && ! grep -q '1 SE' '$T/locfig/diagnostics-12-ZN-12_beta_extrudate.svg'"
 
 tap_plan

@@ -27,7 +27,9 @@ expect_eq "report: no http:// or https:// anywhere" \
 expect_eq "report: no <script>, <link>, <img> or src=" \
     "$(grep -c -i -e '<script' -e '<link' -e '<img' -e ' src=' "$R")" 0
 ok_if "report: print stylesheet" grep -q '@media print' "$R"
-nsvg=$(grep -c '<svg' "$R")
+# figures are the <svg> elements the report marks as images (the sample marks
+# beside names are small <svg class="swatch"> elements, hidden from readers)
+nsvg=$(grep -o 'class="figure" role="img"' "$R" | grep -c .)
 # the campaign's fitted samples, counted independently from the JSON
 "$A" fit "$DEMO" --json "$T/fit.json" >/dev/null 2>&1
 nfit=$("$PY" -c "import json, sys
@@ -88,7 +90,7 @@ expect_eq "check: ZN-12 has 7 points left out (the demo's pore-diffusion sample)
 # sqrt(chi2/dof) named as such, not as a residual SD in ln r
 ok_if "report: no bare +- standard error" sh -c '! grep -q "&plusmn;" "$1"' _ "$R"
 ok_if "report: Ea and ln A columns with their 95 % intervals" \
-    grep -q 'Ea \[kJ/mol\] (95 % interval)</th><th>ln A (95 % interval)' "$R"
+    grep -q 'Ea \[kJ mol<sup>&minus;1</sup>\] (95 % interval)</th><th>ln A (95 % interval)' "$R"
 ok_if "report: a weighted fit shows sqrt(chi2/dof) by that name" \
     grep -q 'weighted by rate_sd, &chi;&sup2;/dof = [0-9.e+-]*, &radic;(&chi;&sup2;/dof) = ' "$R"
 ok_if "report: 'residual SD' only for unweighted fits" \
@@ -144,7 +146,7 @@ chrome d --dump-dom "file://$R" >"$T/dom.html" 2>"$T/dom.err"
 expect_eq "Chromium: no console messages from the report" "$(grep -c 'CONSOLE' "$T/dom.err")" 0
 grep 'CONSOLE' "$T/dom.err" | head -5 | sed 's/^/# /'
 ok_if "Chromium: DOM has the ranking table" grep -q '<h2>Ranking</h2>' "$T/dom.html"
-expect_eq "Chromium: DOM has every figure" "$(grep -o '<svg' "$T/dom.html" | grep -c .)" "$want_svg"
+expect_eq "Chromium: DOM has every figure" "$(grep -o 'class="figure" role="img"' "$T/dom.html" | grep -c .)" "$want_svg"
 
 chrome s --window-size=1280,2400 --screenshot="$T/shot.png" "file://$R" >/dev/null 2>"$T/shot.err"
 ok_if "Chromium: screenshot written" test -s "$T/shot.png"

@@ -181,21 +181,76 @@ static void test_quote_random(void **state)
 static void test_palette(void **state)
 {
     (void)state;
-    /* Okabe-Ito without its yellow: seven colours, cycling. */
-    const char *want[] = {"#0072B2", "#D55E00", "#009E73", "#CC79A7",
-                          "#E69F00", "#56B4E9", "#000000"};
-    for (size_t i = 0; i < 7; i++) {
+    /* Okabe-Ito (Wong, Nature Methods 8:441, 2011) without its yellow and
+       black: six colours, cycling; black is the reference's. */
+    const char *want[] = {"#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9"};
+    for (size_t i = 0; i < 6; i++) {
         assert_string_equal(arrank_plot_color(i), want[i]);
-        assert_string_equal(arrank_plot_color(i + 7), want[i]);
-        assert_true(arrank_plot_color(i) == arrank_plot_color(i)); /* static, stable */
+        assert_string_equal(arrank_plot_color(i + 6), want[i]);
     }
-    /* (colour, shape) distinct for the first 35 samples; hollow differs from filled. */
-    for (size_t i = 0; i < 35; i++) {
-        assert_int_not_equal(arrank_plot_point_type(i, 0), arrank_plot_point_type(i, 1));
-        for (size_t j = 0; j < i; j++)
-            assert_false(strcmp(arrank_plot_color(i), arrank_plot_color(j)) == 0 &&
-                         arrank_plot_point_type(i, 0) == arrank_plot_point_type(j, 0));
+    /* 40 samples: (colour, marker) distinct pairs, and (colour, dash) too;
+       hollow differs from filled except where no open form exists. */
+    for (size_t i = 0; i < 42; i++) {
+        arrank_plot_look a = arrank_plot_sample_look(i, 0);
+        assert_string_not_equal(a.color, "#000000");
+        assert_int_not_equal(a.point_filled, 3); /* the reference's star */
+        for (size_t j = 0; j < i; j++) {
+            arrank_plot_look b = arrank_plot_sample_look(j, 0);
+            assert_false(strcmp(a.color, b.color) == 0 && a.point_filled == b.point_filled);
+            assert_false(strcmp(a.color, b.color) == 0 && a.dash == b.dash);
+        }
     }
+    arrank_plot_look ref = arrank_plot_sample_look(5, 1);
+    assert_string_equal(ref.color, "#000000");
+    assert_int_equal(ref.point_filled, 3);
+    assert_true(ref.line_width > 1.0);
+}
+
+
+/* Units as a reader reads them (ISO 80000-1 style: symbols with superscript
+   powers; common practice in the catalysis literature). */
+static void test_unit_text(void **state)
+{
+    (void)state;
+    static const struct {
+        const char *in, *out;
+    } cases[] = {
+        {"umol/(g*s)", "µmol g⁻¹ s⁻¹"},
+        {"mol/(kg*h)", "mol kg⁻¹ h⁻¹"},
+        {"mmol/g/h", "mmol g⁻¹ h⁻¹"},
+        {"1/s", "s⁻¹"},
+        {"mmol g-1 h-1", "mmol g⁻¹ h⁻¹"},
+        {"umol/(m^2*s)", "µmol m⁻² s⁻¹"},
+        {"mol.kg-1.s-12", "mol.kg-1.s-12"}, /* a power over 9: copied as written */
+        {"report unit", "report unit"},
+        {"a(b", "a(b"},
+        {"", ""},
+    };
+    for (size_t k = 0; k < sizeof cases / sizeof *cases; k++) {
+        char buf[128];
+        arrank_plot_unit_text(cases[k].in, buf, sizeof buf);
+        assert_string_equal(buf, cases[k].out);
+    }
+    /* cut short, never inside a character: "µmol" is 5 bytes */
+    char small[7];
+    arrank_plot_unit_text("umol/(g*s)", small, sizeof small);
+    assert_string_equal(small, "µmol ");
+    char tiny[2]; /* "µ" is 2 bytes: it does not fit */
+    arrank_plot_unit_text("umol/(g*s)", tiny, sizeof tiny);
+    assert_string_equal(tiny, "");
+}
+
+/* Every flag has short words, none of them the program's spelling. */
+static void test_flag_words(void **state)
+{
+    (void)state;
+    for (unsigned b = 0; b < ARRANK_FLAG_COUNT; b++) {
+        const char *w = arrank_plot_flag_short(1u << b);
+        assert_non_null(w);
+        assert_null(strchr(w, '_'));
+        assert_true(strlen(w) <= 24);
+    }
+    assert_null(arrank_plot_flag_short(1u << ARRANK_FLAG_COUNT));
 }
 
 /* ---- the script --------------------------------------------------------- */
@@ -349,10 +404,10 @@ static void test_colour_per_sample(void **state)
             checked++;
             break;
         }
-        const char *r = strstr(line, "$rate");
+        const char *r = strstr(line, "$pt");
         if (r) {
             /* Row k of the rate figure is the k-th ranked sample. */
-            size_t k = strtoul(r + 5, NULL, 10);
+            size_t k = strtoul(r + 3, NULL, 10);
             assert_true(k < fx->a->n_ranked);
             assert_string_equal(colour, arrank_plot_color(fx->a->order[k]));
             rate_rows++;
@@ -403,7 +458,7 @@ static void test_names_only_quoted(void **state)
     /* A tic label is a format to gnuplot: its '%' doubled; a title is not. */
     assert_non_null(strstr(text, "set ytics ("));
     assert_non_null(strstr(text, "(\"s7 5%% %%s%%n\") "));
-    assert_non_null(strstr(text, "title (\"s7 5% %s%n\")"));
+    assert_non_null(strstr(text, "set label (\"s7 5% %s%n\")"));
     free(text);
 }
 
@@ -419,17 +474,16 @@ static void test_rank_stats_drawn(void **state)
     assert_int_equal(r6->stats->group, r7->stats->group); /* same law, 0.4 % apart */
     char *text = script_of(fx->a, ARRANK_PLOT_SVG);
     assert_non_null(strstr(text, "set arrow from graph 1.015, first "));
-    assert_non_null(strstr(text, "bracket at right: not told apart"));
+    assert_non_null(strstr(text, "bracket: not told apart"));
     assert_non_null(strstr(text, "(\"P(best) "));
-    assert_non_null(strstr(text, "*x with lines dt 3 lw 1.8 lc rgb '#555555' title "
-                                 "'compensation line'"));
+    assert_non_null(strstr(text, "*x with lines dt (8,5) lw 1.2 lc rgb '#666666'"));
     free(text);
     /* Without them, none of it (the figures must not depend on them). */
     struct arrank_rank_stats *saved = fx->a->rank_stats;
     fx->a->rank_stats = NULL;
     text = script_of(fx->a, ARRANK_PLOT_SVG);
     assert_null(strstr(text, "set arrow from graph 1.015"));
-    assert_null(strstr(text, "compensation line"));
+    assert_null(strstr(text, "*x with lines dt (8,5)"));
     free(text);
     fx->a->rank_stats = saved;
 }
@@ -670,6 +724,8 @@ int main(void)
         cmocka_unit_test(test_quote_random),
         cmocka_unit_test(test_quote_long),
         cmocka_unit_test(test_palette),
+        cmocka_unit_test(test_unit_text),
+        cmocka_unit_test(test_flag_words),
         cmocka_unit_test(test_blocks_numeric),
         cmocka_unit_test(test_colour_per_sample),
         cmocka_unit_test(test_figure_names),

@@ -9,26 +9,32 @@
  * those as formats), so nothing in a campaign can run a command or be read
  * as a format.  Text is drawn noenhanced: "Pt_1" shows its underscore.
  *
- * Figures (file stems; one file per stem and format, in the output folder):
- *   arrhenius              ln r against 1000/T, every sample, fitted lines with
- *                          confidence bands, degC along the top
- *   rate-at-T              rate at the operating temperature with its interval,
- *                          best at the top, log axis (only with an operating T)
- *   ea-lnA                 Ea against ln A with joint confidence ellipses
- *   diagnostics-NN[-ID]    per fitted sample: residuals against 1000/T and the
- *                          diagnosis's local apparent Ea windows against T,
- *                          the kinetic window shaded on both, each point's
- *                          regime shown by its marker shape.  NN is the sample's
- *                          1-based position in the campaign; ID is the sample id
- *                          with each run of characters other than [A-Za-z0-9._-]
- *                          made one '_' (at most 40 characters).
+ * Figures (file stems; one file per stem and format, in the output folder),
+ * in one house style (DEVELOPERS.md "Figures: the house style"):
+ *   arrhenius              ln r against 1000 K/T, the samples drawn (options
+ *                          .show), fitted lines with confidence bands, each
+ *                          named at its end, degC along the top
+ *   rate-at-T              rate at the operating temperature, each interval a
+ *                          box, best at the top, log axis, P(best) from 0.01
+ *                          and flags in words beside (only with an operating T)
+ *   ea-lnA                 the compensation figure: Ea against ln r at the
+ *                          harmonic-mean temperature with joint confidence
+ *                          ellipses; the ln A-Ea line and the isokinetic
+ *                          temperature in its caption
+ *   diagnostics-NN[-ID]    per fitted sample: its Arrhenius plot, residuals
+ *                          and the diagnosis's local apparent Ea stacked on
+ *                          one 1000 K/T axis, the kinetic window shaded, each
+ *                          point's regime shown by its marker shape.  NN is the
+ *                          sample's 1-based position in the campaign; ID is
+ *                          the sample id with each run of characters other than
+ *                          [A-Za-z0-9._-] made one '_' (at most 40 characters).
  *   time-on-stream-NN[-ID] per sample whose file has a time_on_stream column:
  *                          rate against time on stream, brought to one
  *                          temperature by the diagnosis's drift fit, with that
  *                          fit's drift line and its confidence band (the
  *                          rates as measured, and why, without a drift test)
- * Each sample has one colour in every figure and one marker shape in every
- * figure but its diagnostics, where the shape tells each point's regime.
+ * Each sample has one look (arrank_plot_look_of) in every figure, but in
+ * its diagnostics the marker shape tells each point's regime.
  */
 #ifndef ARRANK_PLOT_H
 #define ARRANK_PLOT_H
@@ -41,9 +47,9 @@
 
 /* Output formats; OR them together. */
 enum {
-    ARRANK_PLOT_SVG = 1u << 0, /* .svg, 960 px class, for screens and slides */
-    ARRANK_PLOT_PNG = 1u << 1, /* .png through pngcairo at about 300 dpi for 8 x 5.6 in */
-    ARRANK_PLOT_PDF = 1u << 2  /* .pdf through pdfcairo, 8 x 5.6 in, vector */
+    ARRANK_PLOT_SVG = 1u << 0, /* .svg, the canvas in px (960 x 720 by default) */
+    ARRANK_PLOT_PNG = 1u << 1, /* .png through pngcairo, twice the canvas's pixels */
+    ARRANK_PLOT_PDF = 1u << 2  /* .pdf through pdfcairo, 96 canvas px to the inch, vector */
 };
 
 typedef enum {
@@ -54,6 +60,9 @@ typedef enum {
     ARRANK_FIGURE_TIME_ON_STREAM = 4
 } arrank_figure_kind;
 
+/* Samples drawn in the campaign figures by default: the top of the ranking. */
+#define ARRANK_PLOT_SHOW_DEFAULT 12
+
 typedef struct {
     unsigned formats;    /* OR of ARRANK_PLOT_*; 0 means SVG only */
     const char *gnuplot; /* program to run; NULL: the environment variable
@@ -61,10 +70,55 @@ typedef struct {
                             searched on PATH.  A name with a '/' is used as is. */
     unsigned kinds;      /* which figures: OR of (1u << arrank_figure_kind);
                             0 (default) means every kind */
+    size_t show;         /* samples drawn in the campaign figures (Arrhenius,
+                            rate at T, compensation): the first `show` by the
+                            ranking key (ranked ones first, then the others in
+                            campaign order); SIZE_MAX: all.  Those not drawn are
+                            named in a caption line.  Diagnostics: every sample. */
+    const char *show_ids; /* instead of show: sample ids separated by commas
+                             (NULL: use show); an id not in the campaign is EINVAL */
+    int show_flagged;     /* with show: every flagged sample too */
+    int width_px, height_px; /* canvas in SVG px (arrank_plot_size); PNG has twice
+                                the pixels, PDF is 96 px to the inch */
 } arrank_plot_options;
 
-/* Defaults: SVG, gnuplot from ARRANK_GNUPLOT or PATH. */
+/* Defaults: SVG, gnuplot from ARRANK_GNUPLOT or PATH, the top 12, size "page". */
 arrank_plot_options arrank_plot_defaults(void);
+
+/*
+ * The canvas for a size word: "slide" 1280 x 720, "page" 960 x 720,
+ * "square" 900 x 900, or "WxH" in px (each 320 to 4000).  EINVAL with a
+ * one-line message otherwise.  A figure that needs more room (many rows,
+ * three stacked panels, a legend below) grows from this size.
+ */
+arrank_status arrank_plot_size(const char *text, int *width_px, int *height_px,
+                               arrank_error *err);
+
+/*
+ * The look of a sample: one colour (Okabe-Ito, colour-blind safe), one
+ * marker shape and one dash pattern, the same in every figure and in the
+ * report.  Sample i (its index in the campaign) has colour i mod 6 and style
+ * (shape, dash) i mod 7, so the first 42 samples have 42 different looks.
+ * Two samples below 42 differ in colour or in marker.  Black, the star
+ * marker and the heavy solid line are kept for a reference catalyst
+ * (arrank_plot_sample_look(i, 1) gives that look, whatever i): no sample
+ * gets them.
+ */
+typedef struct {
+    const char *color;  /* "#rrggbb" */
+    int point_filled;   /* gnuplot point type, filled */
+    int point_hollow;   /* the same shape open (points left out of a fit) */
+    const char *shape;  /* "circle", "square", "triangle", "triangle-down",
+                           "diamond", "pentagon", "cross"; "star" for the
+                           reference: for drawing it elsewhere (the report) */
+    int dash;           /* index of the dash pattern, 0 solid */
+    double line_width;  /* relative line width (1; heavier for the reference) */
+} arrank_plot_look;
+
+arrank_plot_look arrank_plot_sample_look(size_t i, int reference);
+/* The look of sample i of an analysis: the reference catalyst's when it is
+   the reference (arrank/analysis_stats.h is_reference), else sample i's. */
+arrank_plot_look arrank_plot_look_of(const arrank_analysis *a, size_t i);
 
 typedef struct {
     arrank_figure_kind kind;
@@ -121,17 +175,11 @@ arrank_status arrank_plot_script(const arrank_analysis *analysis, unsigned forma
  */
 char *arrank_plot_quote(const char *text);
 
-/*
- * Colour of the sample at result index i as "#rrggbb": Okabe-Ito palette
- * (colour-blind safe), cycling.  Static string.
- */
+/* Colour of the sample at result index i: arrank_plot_sample_look(i, 0).color. */
 const char *arrank_plot_color(size_t i);
 
-/*
- * gnuplot point type of the sample at result index i: a shape cycling with a
- * period prime to the palette's, filled or hollow (hollow marks points left
- * out of a fit, and flagged samples in the rate figure).
- */
+/* gnuplot point type of sample i, filled or hollow (hollow marks points left
+   out of a fit): from arrank_plot_sample_look(i, 0). */
 int arrank_plot_point_type(size_t i, int hollow);
 
 /* The look of sample i of an analysis in every figure: arrank_plot_color
@@ -139,6 +187,23 @@ int arrank_plot_point_type(size_t i, int hollow);
    (analysis_stats.h is_reference), drawn black with a pentagon of its own. */
 const char *arrank_plot_sample_color(const arrank_analysis *a, size_t i);
 int arrank_plot_sample_point_type(const arrank_analysis *a, size_t i, int hollow);
+
+/*
+ * A unit as a reader reads it, for figures and the report: a udunits-style
+ * product or quotient of symbols with powers ("umol/(g*s)", "mol/(kg*h)",
+ * "1/s", "mmol g-1 h-1") becomes numerator then denominator with
+ * superscript powers ("µmol g⁻¹ s⁻¹", "mol kg⁻¹ h⁻¹", "s⁻¹"); the micro
+ * prefix written 'u' becomes µ and degC °C.  Text of any other form is copied
+ * as it is.  out always terminated (cut at n - 1 bytes).
+ */
+void arrank_plot_unit_text(const char *unit, char *out, size_t n);
+
+/*
+ * A flag bit in the few words a figure or a table cell has room for
+ * ("high conversion", "bent plot"), never the program's spelling; NULL for a
+ * bit that is no flag.  arrank_flag_words has the long sentence.
+ */
+const char *arrank_plot_flag_short(unsigned flag);
 
 /*
  * Find the gnuplot program that arrank_plot_write would run (see options).

@@ -39,9 +39,10 @@ enum {
     OPT_TABLE = 1u << 10,     /* --wide: the table on a terminal */
     OPT_REFERENCE = 1u << 11, /* --reference ID */
     OPT_MULTI = 1u << 12,     /* several campaign folders (not an option: a permission) */
-    OPT_PLAN = 1u << 13       /* --budget, --goal, --target, --width, --step, --reach,
+    OPT_PLAN = 1u << 13,      /* --budget, --goal, --target, --width, --step, --reach,
                                  --max-temperature, --simulations, --bend, --sample,
                                  --run-sheet */
+    OPT_FIGURES = 1u << 14    /* --show N|all|ID,ID, --size slide|page|square|WxH */
 };
 
 #define CLI_MAX_CAMPAIGNS 64
@@ -63,6 +64,8 @@ typedef struct {
     const char *out_dir;
     const char *formats[CLI_MAX_FORMATS];
     size_t n_formats;
+    const char *show_text;    /* --show as written, NULL if not given */
+    const char *size_text;    /* --size as written */
     int confidence_given;
     int at_K_set;             /* compare: the second campaign takes the first's T */
     double at_K;
@@ -133,6 +136,11 @@ void cli_report_unfitted(const cli_session *session);
 
 /* Write --json/--csv/--points outputs (if asked).  Returns -1 or an exit status. */
 int cli_write_outputs(const cli_args *args, const cli_session *session);
+
+/* The figure options --show and --size into po (arrank_plot_options).
+   Returns -1 or EXIT_USAGE (printed). */
+#include "arrank/plot.h"
+int cli_figure_options(const cli_args *args, arrank_plot_options *po);
 
 /* 1 when one of those outputs goes to standard output ('-'), which then
    holds nothing else. */

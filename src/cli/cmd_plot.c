@@ -22,11 +22,13 @@ static const char usage[] =
     "Fit every sample and draw the review figures with gnuplot, in DIR (default\n"
     "plots/<campaign folder name>/), with results.json, results.csv and points.csv\n"
     "(every point, one row each) beside them:\n"
-    "  arrhenius.EXT            ln r against 1000/T, all samples, fitted lines with\n"
-    "                           confidence bands, degC along the top\n"
+    "  arrhenius.EXT            ln r against 1000 K/T, fitted lines with confidence\n"
+    "                           bands, each sample named at its line's end\n"
     "  rate-at-T.EXT            rate at the operating temperature with its interval\n"
-    "  ea-lnA.EXT               Ea against ln A with joint confidence ellipses\n"
-    "  diagnostics-NN[-ID].EXT  per sample: residuals and local apparent Ea\n"
+    "  ea-lnA.EXT               Ea against ln r at the harmonic-mean temperature,\n"
+    "                           joint confidence ellipses (compensation)\n"
+    "  diagnostics-NN[-ID].EXT  per sample: its Arrhenius plot, residuals and local\n"
+    "                           apparent Ea on one 1000 K/T axis\n"
     "                           (NN: position in the campaign; ID: the sample id,\n"
     "                           other characters than letters, digits, '.', '_',\n"
     "                           '-' made '_')\n"
@@ -43,7 +45,14 @@ static const char usage[] =
     "  --extrapolate       rank by rate even when T lies more than 100 K outside\n"
     "                      every sample's measured range (refused otherwise)\n"
     "  --out DIR           output folder, made if missing\n"
-    "  --format F          svg (default), png (300 dpi class) or pdf; repeat for more\n"
+    "  --format F          svg (default), png (twice the pixels) or pdf; repeat for more\n"
+    "  --show N|N+flagged|all|ID,...\n"
+    "                      samples drawn in the Arrhenius, rate and compensation\n"
+    "                      figures: the top N by the ranking key (default 12), with\n"
+    "                      every flagged one, all, or the samples named (ids\n"
+    "                      separated by commas); the rest are named in a caption\n"
+    "  --size S            slide (1280x720), page (960x720, default), square\n"
+    "                      (900x900) or WxH in px; PNG has twice the pixels\n"
     "  --reference ID      the reference catalyst (default: reference in campaign.ini):\n"
     "                      each rate at T as a ratio to it, P(better), Ea difference\n"
     "  --confidence C      two-sided level of every interval (default 0.95)\n"
@@ -114,10 +123,15 @@ int cmd_plot(int argc, char **argv)
 {
     cli_args args;
     int rc = cli_parse(argc, argv,
-                       OPT_REFERENCE | OPT_MULTI | OPT_AT | OPT_CONFIDENCE | OPT_BY | OPT_DIAGNOSE |
-                           OPT_MODEL | OPT_STATS |
-                           OPT_OUT_DIR | OPT_FORMAT,
+                       OPT_REFERENCE | OPT_MULTI | OPT_AT | OPT_CONFIDENCE | OPT_BY |
+                           OPT_DIAGNOSE | OPT_MODEL | OPT_STATS | OPT_OUT_DIR | OPT_FORMAT |
+                           OPT_FIGURES,
                        usage, &args);
+    if (rc != -1)
+        return rc;
+    arrank_plot_options po = arrank_plot_defaults();
+    po.formats = cli_plot_formats(&args);
+    rc = cli_figure_options(&args, &po);
     if (rc != -1)
         return rc;
     cli_session s;
@@ -145,8 +159,6 @@ int cmd_plot(int argc, char **argv)
     arrank_plot_files files = {0};
     if (rc == -1) {
         cli_report_unfitted(&s);
-        arrank_plot_options po = arrank_plot_defaults();
-        po.formats = cli_plot_formats(&args);
         arrank_error err;
         arrank_error_clear(&err);
         arrank_status st = arrank_plot_write(s.analysis, priv, &po, &files, &err);

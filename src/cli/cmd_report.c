@@ -31,6 +31,9 @@ static const char usage[] =
     "  --out DIR           output folder, made if missing\n"
     "  --reference ID      the reference catalyst (default: reference in campaign.ini):\n"
     "                      each rate at T as a ratio to it, P(better), Ea difference\n"
+    "  --show N|all|ID,... samples drawn in the campaign figures (default: the\n"
+    "                      top 12 by the ranking key); --size S: slide, page,\n"
+    "                      square or WxH (as for 'arrank plot')\n"
     "  --confidence C      two-sided level of every interval (default 0.95)\n"
     "  --by KEY            rank by rate (default), ea, prefactor or ratio\n"
     "  --use-all, --drop-outliers, --conversion-limit X, --no-diagnose,\n"
@@ -88,10 +91,13 @@ int cmd_report(int argc, char **argv)
 {
     cli_args args;
     int rc = cli_parse(argc, argv,
-                       OPT_REFERENCE | OPT_MULTI | OPT_AT | OPT_CONFIDENCE | OPT_BY | OPT_DIAGNOSE |
-                           OPT_MODEL | OPT_STATS |
-                           OPT_OUT_DIR,
+                       OPT_REFERENCE | OPT_MULTI | OPT_AT | OPT_CONFIDENCE | OPT_BY |
+                           OPT_DIAGNOSE | OPT_MODEL | OPT_STATS | OPT_OUT_DIR | OPT_FIGURES,
                        usage, &args);
+    if (rc != -1)
+        return rc;
+    arrank_report_options ro = arrank_report_defaults();
+    rc = cli_figure_options(&args, &ro.plot);
     if (rc != -1)
         return rc;
     cli_session s;
@@ -116,7 +122,6 @@ int cmd_report(int argc, char **argv)
     }
     cli_report_unfitted(&s);
     sprintf(path, "%s/report.html", priv);
-    arrank_report_options ro = arrank_report_defaults();
     ro.command_line = cmd;
     arrank_error err;
     arrank_error_clear(&err);

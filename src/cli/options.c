@@ -11,6 +11,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <stdint.h>
 #include <strings.h>
 
 #include "arrank/version.h"
@@ -61,6 +62,8 @@ static const option_spec option_table[] = {
     {"--bend", OPT_PLAN, 1},
     {"--sample", OPT_PLAN, 1},
     {"--run-sheet", OPT_PLAN, 1},
+    {"--show", OPT_FIGURES, 1},
+    {"--size", OPT_FIGURES, 1},
 };
 
 const char *const cli_plan_option_names[9] = {"--budget", "--goal",  "--target",
@@ -185,6 +188,10 @@ static int apply(cli_args *a, const char *name, const char *value)
         a->points_path = value;
     else if (strcmp(name, "--out") == 0)
         a->out_dir = value;
+    else if (strcmp(name, "--show") == 0)
+        a->show_text = value;
+    else if (strcmp(name, "--size") == 0)
+        a->size_text = value;
     else if (strcmp(name, "--confidence") == 0) {
         a->confidence_given = 1;
         return parse_fraction(name, value, &o->confidence);
@@ -357,5 +364,54 @@ int cli_parse(int argc, char **argv, unsigned accepted, const char *usage, cli_a
                  args->command, args->command);
         return EXIT_USAGE;
     }
+    return -1;
+}
+
+int cli_figure_options(const cli_args *args, arrank_plot_options *po)
+{
+    if (args->size_text) {
+        arrank_error err;
+        arrank_error_clear(&err);
+        if (arrank_plot_size(args->size_text, &po->width_px, &po->height_px, &err) !=
+            ARRANK_OK) {
+            cli_fail("--%s", err.message); /* "--size 'X' is not known; ..." */
+            return EXIT_USAGE;
+        }
+    }
+    const char *v = args->show_text;
+    if (!v)
+        return -1;
+    if (strcmp(v, "all") == 0) {
+        po->show = SIZE_MAX;
+        return -1;
+    }
+    /* N, or N+flagged: the top N and every flagged sample */
+    char count[32];
+    size_t len = strlen(v);
+    const char *plus = strstr(v, "+flagged");
+    if (plus && plus[8] == '\0' && plus > v && (size_t)(plus - v) < sizeof count) {
+        len = (size_t)(plus - v);
+        po->show_flagged = 1;
+    }
+    int digits = len > 0 && len < sizeof count;
+    for (size_t k = 0; k < len && digits; k++)
+        digits &= v[k] >= '0' && v[k] <= '9';
+    if (!digits)
+        po->show_flagged = 0;
+    if (digits) {
+        memcpy(count, v, len);
+        count[len] = '\0';
+        size_t n;
+        int rc = parse_count("--show", count, 100000UL, &n);
+        if (rc != -1)
+            return rc;
+        if (n == 0) {
+            cli_fail("--show '0' draws nothing; give a count, 'all' or sample ids");
+            return EXIT_USAGE;
+        }
+        po->show = n;
+        return -1;
+    }
+    po->show_ids = v;
     return -1;
 }

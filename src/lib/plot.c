@@ -48,47 +48,28 @@
 
 
 
-/* Okabe & Ito, "Color Universal Design" (2002/2008), as reprinted by B. Wong,
-   Nature Methods 8:441 (2011): eight colours told apart under the common colour
-   vision deficiencies.  Its yellow (#F0E442) is left out because thin lines and
-   small markers in it vanish on white; the other seven are used in this order. */
-static const char *const palette[] = {"#0072B2", "#D55E00", "#009E73", "#CC79A7",
-                                      "#E69F00", "#56B4E9", "#000000"};
-#define N_COLORS (sizeof palette / sizeof palette[0])
-
-/* gnuplot point types as {filled, hollow} pairs: circle, square, triangle up,
-   diamond, triangle down.  Five shapes against seven colours: the pair
-   (colour, shape) repeats only after 35 samples. */
-static const int shapes[][2] = {{7, 6}, {5, 4}, {9, 8}, {13, 12}, {11, 10}};
-#define N_SHAPES (sizeof shapes / sizeof shapes[0])
-
-const char *arrank_plot_color(size_t i)
-{
-    return palette[i % N_COLORS];
-}
-
-int arrank_plot_point_type(size_t i, int hollow)
-{
-    return shapes[i % N_SHAPES][hollow ? 1 : 0];
-}
-
-/* The reference catalyst: black and a pentagon (gnuplot pt 15 filled, 14
-   hollow), which no other sample has. */
-#define REFERENCE_COLOR "#000000"
-
+/* The reference catalyst has the look kept for it (arrank_plot_sample_look
+   with reference set: black, a star, a heavier line), which no other sample
+   has; every figure and the report take a sample's look from here. */
 static int is_reference(const arrank_analysis *a, size_t i)
 {
     return a && i < a->n_results && a->results[i].stats && a->results[i].stats->is_reference;
 }
 
+arrank_plot_look arrank_plot_look_of(const arrank_analysis *a, size_t i)
+{
+    return arrank_plot_sample_look(i, is_reference(a, i));
+}
+
 const char *arrank_plot_sample_color(const arrank_analysis *a, size_t i)
 {
-    return is_reference(a, i) ? REFERENCE_COLOR : arrank_plot_color(i);
+    return arrank_plot_look_of(a, i).color;
 }
 
 int arrank_plot_sample_point_type(const arrank_analysis *a, size_t i, int hollow)
 {
-    return is_reference(a, i) ? (hollow ? 14 : 15) : arrank_plot_point_type(i, hollow);
+    arrank_plot_look k = arrank_plot_look_of(a, i);
+    return hollow ? k.point_hollow : k.point_filled;
 }
 
 arrank_plot_options arrank_plot_defaults(void)
@@ -97,6 +78,11 @@ arrank_plot_options arrank_plot_defaults(void)
     o.formats = ARRANK_PLOT_SVG;
     o.gnuplot = NULL;
     o.kinds = 0;
+    o.show = ARRANK_PLOT_SHOW_DEFAULT;
+    o.show_ids = NULL;
+    o.show_flagged = 0;
+    o.width_px = 960; /* "page" (arrank_plot_size) */
+    o.height_px = 720;
     return o;
 }
 
@@ -231,6 +217,7 @@ typedef struct {
     arrank_figure_kind kind;
     size_t sample;
     char stem[112];
+    char title[400]; /* the SVG's <title>: the figure's name and the campaign */
 } figure;
 
 static const struct {
@@ -310,22 +297,80 @@ static size_t list_figures(const arrank_analysis *a, unsigned kinds, figure *fig
             n_pts += arrank_plot_usable_point(&r->sample->points[k]);
     }
     if (n_pts > 0 && (kinds & 1u << ARRANK_FIGURE_ARRHENIUS)) {
-        figs[n] = (figure){ARRANK_FIGURE_ARRHENIUS, (size_t)-1, "arrhenius"};
+        figs[n] = (figure){ARRANK_FIGURE_ARRHENIUS, (size_t)-1, "arrhenius", ""};
         n++;
     }
     if (n_pred > 0 && (kinds & 1u << ARRANK_FIGURE_RATE_AT_T)) {
-        figs[n] = (figure){ARRANK_FIGURE_RATE_AT_T, (size_t)-1, "rate-at-T"};
+        figs[n] = (figure){ARRANK_FIGURE_RATE_AT_T, (size_t)-1, "rate-at-T", ""};
         n++;
     }
     if (n_fit > 0 && (kinds & 1u << ARRANK_FIGURE_EA_LNA)) {
-        figs[n] = (figure){ARRANK_FIGURE_EA_LNA, (size_t)-1, "ea-lnA"};
+        figs[n] = (figure){ARRANK_FIGURE_EA_LNA, (size_t)-1, "ea-lnA", ""};
         n++;
     }
     if (kinds & 1u << ARRANK_FIGURE_DIAGNOSTICS)
         n = list_sample_figures(a, ARRANK_FIGURE_DIAGNOSTICS, "diagnostics", figs, n);
     if (kinds & 1u << ARRANK_FIGURE_TIME_ON_STREAM)
         n = list_sample_figures(a, ARRANK_FIGURE_TIME_ON_STREAM, "time-on-stream", figs, n);
+    for (size_t k = 0; k < n; k++) {
+        char name[256];
+        arrank_plot_figure_name(a, figs[k].kind, figs[k].sample, name, sizeof name);
+        const char *t = a->campaign && a->campaign->title ? a->campaign->title
+                        : a->campaign && a->campaign->name ? a->campaign->name
+                                                           : "";
+        snprintf(figs[k].title, sizeof figs[k].title, "%s%s%.140s", name, *t ? " – " : "", t);
+    }
     return n;
+}
+
+double arrank_plot_t_hm(const arrank_analysis *a)
+{
+    if (a->rank_stats && isfinite(a->rank_stats->compensation.T_hm_K) &&
+        a->rank_stats->compensation.T_hm_K > 0)
+        return a->rank_stats->compensation.T_hm_K;
+    /* without the ranking statistics: the harmonic mean of the fitted points'
+       temperatures (Krug, Hunter & Grieger 1976), as compensation.c takes it */
+    double sum = 0;
+    size_t n = 0;
+    for (size_t i = 0; i < a->n_results; i++) {
+        const arrank_result *r = &a->results[i];
+        if (!arrank_plot_fitted(r))
+            continue;
+        for (size_t k = 0; k < r->sample->n_points; k++)
+            if (arrank_plot_point_used(r, k) && arrank_plot_usable_point(&r->sample->points[k])) {
+                sum += 1.0 / r->sample->points[k].temp_K;
+                n++;
+            }
+    }
+    return n && sum > 0 ? (double)n / sum : NAN;
+}
+
+void arrank_plot_figure_name(const arrank_analysis *a, arrank_figure_kind kind, size_t sample,
+                             char *buf, size_t n)
+{
+    double conf = 100.0 * a->options.confidence;
+    switch (kind) {
+    case ARRANK_FIGURE_ARRHENIUS:
+        snprintf(buf, n, "Arrhenius plot with %.4g %% bands", conf);
+        break;
+    case ARRANK_FIGURE_RATE_AT_T:
+        snprintf(buf, n, "Rate at %.4g °C with %.4g %% intervals",
+                 a->options.operating_temp_K - ZERO_C_K, conf);
+        break;
+    case ARRANK_FIGURE_EA_LNA:
+        snprintf(buf, n, "Activation energy against rate at %.0f °C (harmonic-mean T), "
+                         "joint %.4g %% regions",
+                 arrank_plot_t_hm(a) - ZERO_C_K, conf);
+        break;
+    case ARRANK_FIGURE_DIAGNOSTICS:
+        snprintf(buf, n, "Diagnostics of %.160s",
+                 sample < a->n_results ? arrank_plot_sample_name(&a->results[sample]) : "");
+        break;
+    case ARRANK_FIGURE_TIME_ON_STREAM:
+        snprintf(buf, n, "Rate against time on stream of %.160s",
+                 sample < a->n_results ? arrank_plot_sample_name(&a->results[sample]) : "");
+        break;
+    }
 }
 
 /* ---- script ------------------------------------------------------------- */
@@ -342,125 +387,61 @@ const char *arrank_plot_sample_name(const arrank_result *r)
     return r->sample->id ? r->sample->id : "";
 }
 
-/* Base size of a figure in SVG pixels. */
-/* Where the sample key goes.  Names up to KEY_SIDE_CHARS characters fit a
-   column at the right; longer ones would squeeze the plot to nothing (gnuplot
-   then drops entries), so the key moves below the plot in one or two columns
-   and the figure grows by its rows. */
-#define KEY_SIDE_CHARS 22
-#define KEY_ROW_PX 40
-
-typedef struct {
-    int below;
-    size_t cols, rows;
-} key_layout;
-
-static size_t text_chars(const char *t)
+/* Figure sizes (plot_figures.c etc. grow them from the asked canvas). */
+static void figure_size(script *s, const figure *fig, double *w, double *h)
 {
-    size_t n = 0;
-    for (const unsigned char *p = (const unsigned char *)(t ? t : ""); *p; p++)
-        n += (*p & 0xC0) != 0x80;
-    return n;
+    *w = s->base_w;
+    *h = s->base_h;
+    switch (fig->kind) {
+    case ARRANK_FIGURE_ARRHENIUS: arrank_plot_size_arrhenius(s, w, h); break;
+    case ARRANK_FIGURE_RATE_AT_T: arrank_plot_size_rate_at_T(s, w, h); break;
+    case ARRANK_FIGURE_EA_LNA: arrank_plot_size_ea_lnA(s, w, h); break;
+    case ARRANK_FIGURE_DIAGNOSTICS: arrank_plot_size_diagnostics(s, w, h); break;
+    case ARRANK_FIGURE_TIME_ON_STREAM: break; /* the canvas asked for */
+    }
 }
 
-static key_layout sample_key(const arrank_analysis *a, int with_unfitted)
+/* The base font: a 60th of the asked width, 12 to 24 px (our choice: 16 px on
+   the 960 px page, which the report shows at its own size). */
+static double base_font_px(int width_px)
 {
-    key_layout k = {0, 1, 0};
-    size_t longest = 0, entries = 3; /* band, extrapolation, left-out entries */
-    for (size_t i = 0; i < a->n_results; i++) {
-        if (!with_unfitted && !arrank_plot_fitted(&a->results[i]))
-            continue;
-        size_t n = text_chars(a->results[i].sample->id) + (a->results[i].error ? 13 : 0);
-        longest = n > longest ? n : longest;
-        entries++;
-    }
-    if (longest > KEY_SIDE_CHARS) {
-        k.below = 1;
-        k.cols = longest > 2 * KEY_SIDE_CHARS ? 1 : 2;
-        k.rows = (entries + k.cols - 1) / k.cols;
-    }
-    return k;
-}
-
-void arrank_plot_put_key(FILE *f, const arrank_analysis *a, int with_unfitted)
-{
-    key_layout k = sample_key(a, with_unfitted);
-    if (k.below)
-        fprintf(f, "set key below Left reverse samplen 1.5 spacing 1.15 maxcols %zu\n", k.cols);
-    else
-        fputs("set key outside right top vertical Left reverse samplen 1.5 spacing 1.15\n", f);
-}
-
-/* Width in SVG pixels of one character of the base font, about 0.55 em of a
-   sans-serif at 22 px (a measured average, our choice). */
-#define CHAR_PX 12.0
-
-static void figure_size(const script *s, const figure *fig, int *w, int *h)
-{
-    *w = 1080;
-    *h = 720;
-    if (fig->kind == ARRANK_FIGURE_ARRHENIUS || fig->kind == ARRANK_FIGURE_EA_LNA) {
-        key_layout k = sample_key(s->a, fig->kind == ARRANK_FIGURE_ARRHENIUS);
-        if (k.below) {
-            size_t extra = k.rows * KEY_ROW_PX;
-            *h += extra > 3000 ? 3000 : (int)extra;
-        }
-    } else if (fig->kind == ARRANK_FIGURE_DIAGNOSTICS) {
-        *w = 1200;
-        *h = 720;
-    } else if (fig->kind == ARRANK_FIGURE_RATE_AT_T) {
-        size_t n = s->a->n_ranked ? s->a->n_ranked : s->a->n_results;
-        double hh = 200.0 + 44.0 * (double)n;
-        *h = hh < 420 ? 420 : hh > 4000 ? 4000 : (int)hh;
-        /* The notes at the right take their own room: the plot keeps the
-           width it has with a margin of about 12 characters. */
-        double extra = (0.62 * (double)arrank_plot_longest_row_note(s->a) + 3.0 - 12.0) * CHAR_PX;
-        *w += extra > 0 ? (extra > 2000 ? 2000 : (int)extra) : 0;
-    }
+    double f = round(width_px / 60.0);
+    return f < 12 ? 12 : f > 24 ? 24 : f;
 }
 
 static void put_terminal(script *s, const figure *fig, unsigned format)
 {
-    int w, h;
+    double w, h;
+    s->fpx = base_font_px(s->base_w);
     figure_size(s, fig, &w, &h);
+    s->W = w;
+    s->H = h;
     FILE *f = s->f;
-    /* Sizes: SVG at slide scale (about 1000 px wide, 20 px text); PNG 2.5 times
-       that in pixels, i.e. 300 dpi for a 9 in wide figure; PDF 120 px per inch.
-       pngcairo takes font sizes in points at 72 dpi on its pixel canvas. */
+    /* SVG in px; PNG twice the pixels (pngcairo reads font sizes as px at its
+       72 dpi); PDF at 96 px to the inch, fonts in pt (0.75 px). */
     switch (format) {
     case ARRANK_PLOT_PNG:
         fprintf(f,
-                "set terminal pngcairo size %d,%d font 'Sans,%d' noenhanced linewidth 3.0 "
-                "background rgb '#ffffff'\n",
-                w * 5 / 2, h * 5 / 2, s->font_pt = 40);
-        fputs("PS = 3.0\n", f);
+                "set terminal pngcairo size %d,%d font 'DejaVu Sans,%d' noenhanced "
+                "linewidth 2.0 background rgb '#ffffff'\n",
+                (int)lround(2 * w), (int)lround(2 * h), s->font_pt = (int)lround(2 * s->fpx));
+        fputs("PS = 2.0\n", f);
         break;
     case ARRANK_PLOT_PDF:
         fprintf(f,
-                "set terminal pdfcairo size %.2fin,%.2fin font 'Sans,%d' noenhanced "
-                "linewidth 1.5 background rgb '#ffffff'\n",
-                w / 120.0, h / 120.0, s->font_pt = 12);
-        fputs("PS = 0.8\n", f);
+                "set terminal pdfcairo size %.3fin,%.3fin font 'DejaVu Sans,%d' noenhanced "
+                "linewidth 1.0 background rgb '#ffffff'\n",
+                w / 96.0, h / 96.0, s->font_pt = (int)lround(0.75 * s->fpx));
+        fputs("PS = 0.75\n", f);
         break;
     default:
         fprintf(f,
                 "set terminal svg size %d,%d fixed font 'sans-serif,%d' noenhanced "
-                "linewidth 1.5 background rgb '#ffffff'\n",
-                w, h, s->font_pt = 22);
-        fputs("PS = 0.7\n", f);
+                "linewidth 1.0 background rgb '#ffffff'\n",
+                (int)lround(w), (int)lround(h), s->font_pt = (int)lround(s->fpx));
+        fputs("PS = 1.0\n", f);
         break;
     }
-}
-
-static void common_style(FILE *f)
-{
-    fputs("set encoding utf8\n"
-          "set termoption noenhanced\n"
-          "set border lw 1.2\n"
-          "set tics out\n"
-          "set grid back lc rgb '#e3e3e3' lw 1 dt 1\n"
-          "set key noautotitle\n",
-          f);
 }
 
 /* ln r of the fitted line and its standard error at temperature T (delta
@@ -595,16 +576,6 @@ static void put_figure(script *s, const figure *fig, unsigned format, const char
     fputs("set output ", f);
     arrank_plot_put_q(f, outname);
     fputs("\n", f);
-    common_style(f);
-    /* every figure carries the caution, where it is seen with the figure on
-       a slide (README "Cautions") */
-    /* top right, clear of the titles; the diagnostics' multiplot title is
-       wide, and their bottom right is free */
-    fprintf(f, "set label 99 \"apparent kinetics of these samples in this window; not for "
-               "reactor design, scale-up or safety limits\" at screen 0.995, %s right "
-               "font \",%d\" textcolor rgb \"#666666\" front\n",
-            fig->kind == ARRANK_FIGURE_DIAGNOSTICS ? "character 0.6" : "screen 0.982",
-            arrank_plot_font_of(s, 0.55));
     switch (fig->kind) {
     case ARRANK_FIGURE_ARRHENIUS: arrank_plot_fig_arrhenius(s); break;
     case ARRANK_FIGURE_RATE_AT_T: arrank_plot_fig_rate_at_T(s); break;
@@ -639,16 +610,80 @@ static size_t list_outputs(const figure *figs, size_t n_figs, unsigned formats, 
     return n;
 }
 
-static void write_script(const arrank_analysis *a, const figure *figs, const output *outs,
-                         size_t n_outs, char *const *names, FILE *f)
+/* Which samples the campaign figures draw (arrank_plot_options.show,
+   .show_ids) into shown[n_results]: the first `show` in ranking order, then
+   the unranked in campaign order; or the samples named.  EINVAL for a name
+   that is no sample's. */
+static arrank_status select_shown(const arrank_analysis *a, const arrank_plot_options *o,
+                                  unsigned char *shown, size_t *n_shown, arrank_error *err)
+{
+    memset(shown, 0, a->n_results ? a->n_results : 1);
+    *n_shown = 0;
+    if (o->show_ids) {
+        const char *p = o->show_ids;
+        while (*p) {
+            const char *comma = strchr(p, ',');
+            size_t len = comma ? (size_t)(comma - p) : strlen(p);
+            while (len && *p == ' ') {
+                p++;
+                len--;
+            }
+            while (len && p[len - 1] == ' ')
+                len--;
+            int found = 0;
+            for (size_t i = 0; len && i < a->n_results; i++) {
+                const char *id = arrank_plot_sample_name(&a->results[i]);
+                if (strlen(id) == len && strncmp(id, p, len) == 0) {
+                    *n_shown += !shown[i];
+                    shown[i] = 1;
+                    found = 1;
+                }
+            }
+            if (len && !found)
+                return arrank_errorf(err, ARRANK_EINVAL,
+                                     "--show: no sample '%.*s' in the campaign", (int)len, p);
+            p = comma ? comma + 1 : p + strlen(p);
+        }
+        return ARRANK_OK;
+    }
+    size_t want = o->show ? o->show : ARRANK_PLOT_SHOW_DEFAULT;
+    for (size_t k = 0; k < a->n_ranked && a->order && *n_shown < want; k++)
+        if (!shown[a->order[k]]) {
+            shown[a->order[k]] = 1;
+            (*n_shown)++;
+        }
+    for (size_t i = 0; i < a->n_results && *n_shown < want; i++)
+        if (!shown[i] && a->results[i].rank <= 0) {
+            shown[i] = 1;
+            (*n_shown)++;
+        }
+    for (size_t i = 0; o->show_flagged && i < a->n_results; i++)
+        if (!shown[i] && a->results[i].flags) {
+            shown[i] = 1;
+            (*n_shown)++;
+        }
+    return ARRANK_OK;
+}
+
+static void write_script(const arrank_analysis *a, const arrank_plot_options *o,
+                         const unsigned char *shown, size_t n_shown, const figure *figs,
+                         const output *outs, size_t n_outs, char *const *names, FILE *f)
 {
     script s;
+    memset(&s, 0, sizeof s);
     s.f = f;
     s.a = a;
-    s.unit = a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit : "report unit";
+    arrank_plot_unit_text(a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit
+                                                                 : "report unit",
+                          s.unit_buf, sizeof s.unit_buf);
+    s.unit = s.unit_buf;
     s.title = a->campaign && a->campaign->title ? a->campaign->title
               : a->campaign && a->campaign->name ? a->campaign->name
                                                  : "";
+    s.base_w = o->width_px >= 320 ? o->width_px : 960;
+    s.base_h = o->height_px >= 320 ? o->height_px : 720;
+    s.shown = shown;
+    s.n_shown = n_shown;
     fputs("# arrank figures.  Text from the data appears only in quoted strings;\n"
           "# data blocks hold numbers only.\n",
           f);
@@ -671,7 +706,12 @@ static arrank_status plot_script_in_c(const arrank_analysis *a, unsigned formats
     }
     size_t n_figs = list_figures(a, 0, figs);
     size_t n_outs = list_outputs(figs, n_figs, formats, outs);
-    write_script(a, figs, outs, n_outs, NULL, stream);
+    arrank_plot_options o = arrank_plot_defaults();
+    unsigned char *shown = malloc(a->n_results ? a->n_results : 1);
+    size_t n_shown = 0;
+    if (shown && select_shown(a, &o, shown, &n_shown, err) == ARRANK_OK)
+        write_script(a, &o, shown, n_shown, figs, outs, n_outs, NULL, stream);
+    free(shown);
     free(figs);
     free(outs);
     if (fflush(stream) != 0 || ferror(stream))
@@ -768,6 +808,14 @@ static arrank_status move_figures(const figure *figs, const output *outs, size_t
             free(to);
             return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
         }
+        if (outs[k].format == ARRANK_PLOT_SVG &&
+            arrank_plot_svg_finish(from, figs[outs[k].fig].title) != 0) {
+            arrank_status e = arrank_error_at(err, ARRANK_EIO, to, 0, 0, "cannot write '%s': %s",
+                                              to, strerror(errno));
+            free(from);
+            free(to);
+            return e;
+        }
         if (rename(from, to) != 0) {
             arrank_status e = arrank_error_at(err, ARRANK_EIO, to, 0, 0, "cannot write '%s': %s",
                                               to, strerror(errno));
@@ -821,11 +869,21 @@ static arrank_status plot_write_in_c(const arrank_analysis *a, const char *out_d
     int have_priv = 0;
     char *text = NULL;
     size_t text_len = 0;
+    unsigned char *shown = NULL;
     if (!figs || !outs || !priv) {
         st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
         goto done;
     }
     /* Step 1: the figures and the script. */
+    shown = malloc(a->n_results ? a->n_results : 1);
+    if (!shown) {
+        st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        goto done;
+    }
+    size_t n_shown = 0;
+    st = select_shown(a, &opt, shown, &n_shown, err);
+    if (st != ARRANK_OK)
+        goto done;
     size_t n_figs = list_figures(a, opt.kinds, figs);
     if (n_figs == 0) {
         st = arrank_errorf(err, ARRANK_EDATA, "nothing to draw: no sample has a positive rate");
@@ -837,7 +895,7 @@ static arrank_status plot_write_in_c(const arrank_analysis *a, const char *out_d
         st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
         goto done;
     }
-    write_script(a, figs, outs, n_outs, NULL, mem);
+    write_script(a, &opt, shown, n_shown, figs, outs, n_outs, NULL, mem);
     fputs("exit\n", mem);
     if (fclose(mem) != 0) {
         st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
@@ -863,6 +921,7 @@ done:
         arrank_plot_files_clear(written);
     free(priv);
     free(text);
+    free(shown);
     free(figs);
     free(outs);
     free(program);

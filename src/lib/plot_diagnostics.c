@@ -71,11 +71,11 @@ static int kinetic_window(const arrank_result *r, double *lo_K, double *hi_K)
 static void put_window_shade(FILE *f, double a, double b)
 {
     fprintf(f,
-            "set object 1 rect from first %.9g, graph 0 to first %.9g, graph 1 behind "
+            "set object 95 rect from first %.9g, graph 0 to first %.9g, graph 1 behind "
             "fc rgb '" WINDOW_FILL "' fs solid 1.0 noborder\n"
-            "set arrow 1 from first %.9g, graph 0 to first %.9g, graph 1 nohead dt 2 lw 1 "
+            "set arrow 91 from first %.9g, graph 0 to first %.9g, graph 1 nohead dt 2 lw 1 "
             "lc rgb '" WINDOW_EDGE "' back\n"
-            "set arrow 2 from first %.9g, graph 0 to first %.9g, graph 1 nohead dt 2 lw 1 "
+            "set arrow 92 from first %.9g, graph 0 to first %.9g, graph 1 nohead dt 2 lw 1 "
             "lc rgb '" WINDOW_EDGE "' back\n",
             a, b, a, a, b, b);
 }
@@ -103,7 +103,8 @@ static void block_residuals(FILE *f, const arrank_result *r, size_t i,
                 }
                 double yf, se;
                 arrank_plot_line_at(&r->fit, p->temp_K, &yf, &se);
-                fprintf(f, "%.9g %.9g\n", X_SCALE / p->temp_K, log(p->rate) - yf);
+                fprintf(f, "%.9g %.9g %.9g\n", X_SCALE / p->temp_K, log(p->rate) - yf,
+                        log(p->rate));
                 n++;
             }
             if (n)
@@ -112,8 +113,8 @@ static void block_residuals(FILE *f, const arrank_result *r, size_t i,
         }
 }
 
-/* The diagnosis's local apparent Ea windows as the block $loc<i>: T_mid
-   [degC], Ea, and its interval at the run's confidence [kJ/mol] (the value
+/* The diagnosis's local apparent Ea windows as the block $loc<i>: 1000/T_mid
+   [1/K], Ea, and its interval at the run's confidence [kJ/mol] (the value
    itself when not known).  Returns the number of rows; *lo, *hi widen to
    the values (not the intervals), which set the panel's range. */
 static size_t block_local_ea(FILE *f, const arrank_result *r, size_t i, double *lo, double *hi)
@@ -129,7 +130,7 @@ static size_t block_local_ea(FILE *f, const arrank_result *r, size_t i, double *
         const double ea = le->ea_J_mol / 1000.0;
         const double a = isfinite(le->ea_lo_J_mol) ? le->ea_lo_J_mol / 1000.0 : ea;
         const double b = isfinite(le->ea_hi_J_mol) ? le->ea_hi_J_mol / 1000.0 : ea;
-        fprintf(f, "%.9g %.9g %.9g %.9g\n", le->temp_mid_K - ZERO_C_K, ea, a, b);
+        fprintf(f, "%.9g %.9g %.9g %.9g\n", X_SCALE / le->temp_mid_K, ea, a, b);
         *lo = fmin(*lo, ea);
         *hi = fmax(*hi, ea);
         rows++;
@@ -207,20 +208,12 @@ static size_t block_runs(FILE *f, const arrank_result *r, size_t i, int *drawn)
     return n_runs;
 }
 
-/* Panels and keys of the diagnostics figure in screen fractions: the keys sit
-   under the panels, outside every data area, so no key can cover a point. */
-#define DIAG_TOP 0.74
-#define DIAG_BOTTOM 0.34
-#define DIAG_KEY_TOP 0.19
-#define DIAG_HEAD 0.885
-#define DIAG_LEFT_L 0.105
-#define DIAG_LEFT_R 0.465
-#define DIAG_RIGHT_L 0.615
-#define DIAG_RIGHT_R 0.975
+/* ---- layout: three panels stacked on one 1000/T axis ---------------------- */
 
-/* What both panels of a sample's diagnostics need. */
+/* What the panels of a sample's diagnostics need. */
 typedef struct {
     const arrank_result *r;
+    size_t i;
     const char *c;                    /* the sample's colour */
     double conf_pc;                   /* the confidence level in percent */
     size_t cnt[2 * (N_REGIMES + 1)];  /* points per regime mark, in the fit and left out */
@@ -228,254 +221,326 @@ typedef struct {
     int run_drawn[MAX_RUN_LINES];
     int has_window, any_pore, any_out;
     double win_lo_K, win_hi_K;
-    double xa, xb, xp, ca, cb, cp;    /* the panels' spans: 1000/T and degC, with padding */
-    double ea;                        /* the fitted Ea, kJ/mol */
-    double ea_lo, ea_hi;              /* the right panel's range from the values, kJ/mol */
+    double x_lo, x_hi;                /* the shared 1000/T axis */
+    double ea, ea_w;                  /* the fitted Ea and its half interval, kJ/mol */
+    double ea_lo, ea_hi;              /* the Ea panel's range from the values, kJ/mol */
+    double y_lo, y_hi;                /* ln r over the points and the line */
+    double l, r_px, legend_x;         /* px */
+    double top[3], bot[3];            /* each panel's top and bottom, px */
 } diag_panels;
 
-/* Left panel: residuals against 1000/T, degC along the top, with the +-2 s
-   lines; marker shape by regime, open when left out of the fit. */
-static void diag_left(script *s, size_t i, const diag_panels *dp)
+void arrank_plot_size_diagnostics(script *s, double *w, double *h)
 {
-    FILE *f = s->f;
-    const diag_panels *P = dp;
-    const arrank_result *r = P->r;
-    const arrank_arrhenius *fit = &r->fit;
-    const arrank_diagnosis *d = r->diagnosis;
-    const char *c = P->c;
-    const size_t *cnt = P->cnt, n_runs = P->n_runs, n_hcv = P->n_hcv, n_olr = P->n_olr;
-    const int *run_drawn = P->run_drawn, has_window = P->has_window, any_out = P->any_out;
-    const double win_lo_K = P->win_lo_K, win_hi_K = P->win_hi_K;
-    const double xa = P->xa, xb = P->xb, xp = P->xp;
-    fprintf(f, "set lmargin at screen %.3f\nset rmargin at screen %.3f\n", DIAG_LEFT_L,
-            DIAG_LEFT_R);
-    /* Panel headings at one height over both panels (a title would sit
-       higher over the panel with the top axis). */
-    fprintf(f, "set label 8 'residuals of the fit' at screen %.3f, screen %.3f center front\n"
-               "set label 9 'local apparent Ea' at screen %.3f, screen %.3f center front\n",
-            (DIAG_LEFT_L + DIAG_LEFT_R) / 2, DIAG_HEAD, (DIAG_RIGHT_L + DIAG_RIGHT_R) / 2,
-            DIAG_HEAD);
-    fputs("set xlabel '1000 / T  [K⁻¹]'\n"
-          "set ylabel 'ln r − fitted ln r'\n"
-          "set x2label 'T  [°C]' offset 0,-0.4\n"
-
-          "set offsets 0, 0, graph 0.12, graph 0.12\n"
-          "set xtics nomirror\n",
-          f);
-    fprintf(f, "set key at screen %.3f, screen %.3f left top Left reverse vertical maxrows 5 "
-               "samplen 1.2 spacing 1.1 width 1 font ',%d'\n",
-            DIAG_LEFT_L - 0.06, DIAG_KEY_TOP, arrank_plot_font_of(s, 0.72));
-    if (xb > xa) {
-        fprintf(f, "set xrange [%.9g:%.9g]\nset xtics %.9g\n", xa - xp, xb + xp,
-                arrank_plot_nice_step(xb - xa + 2 * xp, 5.0));
-        fputs("set link x2 via 1000./x - 273.15 inverse 1000./(x + 273.15)\n", f);
-        arrank_plot_put_celsius_tics(f, X_SCALE / (xb + xp) - ZERO_C_K,
-                                     X_SCALE / (xa - xp) - ZERO_C_K, 6.0);
-    }
-    if (has_window) {
-        double pad = 0.012 * (xb - xa + 2 * xp);
-        put_window_shade(f, X_SCALE / win_hi_K - pad, X_SCALE / win_lo_K + pad);
-    }
-    double sd2 = 2.0 * fit->resid_sd;
-    int first = 1;
-    arrank_plot_next_elem(f, &first);
-    fputs("0 with lines lw 1.2 lc rgb '#444444'", f);
-    if (isfinite(sd2) && sd2 > 0 && !fit->weighted) {
-        arrank_plot_next_elem(f, &first);
-        fprintf(f, "%.9g with lines dt 2 lc rgb '#666666' title '±2 s (residual SD)'", sd2);
-        arrank_plot_next_elem(f, &first);
-        fprintf(f, "%.9g with lines dt 2 lc rgb '#666666'", -sd2);
-    }
-    for (size_t j = 0; j < n_runs; j++) {
-        if (!run_drawn[j])
-            continue;
-        arrank_plot_next_elem(f, &first);
-        fprintf(f, "$run%zu_%zu using 1:2 with lines lw 1 dt %zu lc rgb '%s' title ", j, i,
-                j + 1, c);
-        arrank_plot_put_qf(f, "run '%s'", r->sample->runs[j]);
-    }
-    for (int m = -1; m < (int)N_REGIMES; m++)
-        for (int out = 0; out < 2; out++) {
-            if (!cnt[2 * (m + 1) + out])
-                continue;
-            int pt = m < 0 ? arrank_plot_point_type(i, out) : regime_marks[m].pt[out];
-            arrank_plot_next_elem(f, &first);
-            if (m < 0)
-                fprintf(f, "$rgn%c%zu", out ? 'x' : 'u', i);
-            else
-                fprintf(f, "$rg%d%c%zu", m, out ? 'x' : 'u', i);
-            fprintf(f, " using 1:2 with points pt %d ps 1.6*PS lw 1.5 lc rgb '%s'", pt, c);
-            if (m < 0)
-                fputs(out ? " title 'left out of the fit'" : " title 'in the fit'", f);
-        }
-    /* The key names each regime present once, filled, whatever the fill of
-       its points: the fill is explained by its own entry. */
-    for (int m = 0; m < (int)N_REGIMES; m++)
-        if (cnt[2 * (m + 1)] + cnt[2 * (m + 1) + 1]) {
-            arrank_plot_next_elem(f, &first);
-            fprintf(f, "keyentry with points pt %d ps 1.3*PS lc rgb '%s' title ",
-                    regime_marks[m].pt[0], c);
-            arrank_plot_put_qf(f, "%s", regime_marks[m].words);
-        }
-    if (any_out) {
-        arrank_plot_next_elem(f, &first);
-        fputs("keyentry with points pt 6 ps 1.3*PS lc rgb '#555555' "
-              "title 'open: left out of the fit'", f);
-    }
-    /* Data-quality marks drawn over the regime marker, in near-black so they
-       show on any sample colour. */
-    if (n_hcv) {
-        arrank_plot_next_elem(f, &first);
-        fprintf(f, "$hcv%zu using 1:2 with points pt 2 ps 2.4*PS lw 1.5 lc rgb '#222222' "
-                   "title ", i);
-        arrank_plot_put_qf(f, "conversion above %.4g %%", 100.0 * d->conversion_limit);
-    }
-    if (n_olr) {
-        arrank_plot_next_elem(f, &first);
-        fprintf(f, "$olr%zu using 1:2 with points pt 1 ps 2.4*PS lw 1.5 lc rgb '#222222' "
-                   "title 'outlier'", i);
-    }
-    if (has_window) {
-        arrank_plot_next_elem(f, &first);
-        fputs("keyentry with filledcurves fc rgb '" WINDOW_FILL "' fs solid 1.0 noborder "
-              "title ", f);
-        arrank_plot_put_qf(f, "kinetic window %.0f–%.0f °C", win_lo_K - ZERO_C_K,
-                           win_hi_K - ZERO_C_K);
-    }
-    fputs("\n", f);
-
+    (void)s;
+    *h = fmax(*h, 1.05 * *w); /* three stacked panels */
 }
 
-/* Right panel: the diagnosis's local apparent Ea windows against T, with
-   the fitted Ea and its interval. */
-static void diag_right(script *s, size_t i, const diag_panels *dp)
+/* One entry of the legend column: a marker (pt >= 0) or a line (dt), then
+   words.  Returns the next entry's y. */
+static double legend_entry(script *s, double x, double y, int pt, const char *dt,
+                           const char *color, const char *words)
 {
     FILE *f = s->f;
-    const diag_panels *P = dp;
-    const arrank_diagnosis *d = P->r->diagnosis;
-    const char *c = P->c;
-    const size_t nloc = P->nloc;
-    const int has_window = P->has_window, any_pore = P->any_pore;
-    const double win_lo_K = P->win_lo_K, win_hi_K = P->win_hi_K, ea = P->ea, conf_pc = P->conf_pc;
-    const double ca = P->ca, cb = P->cb, cp = P->cp;
+    if (pt >= 0)
+        fprintf(f, "set label '' at screen %.6f, screen %.6f point pt %d ps PS lc rgb '%s' "
+                   "front\n",
+                arrank_plot_sx(s, x + 1.0 * s->fpx), arrank_plot_sy(s, y), pt, color);
+    else
+        fprintf(f, "set arrow from screen %.6f, screen %.6f to screen %.6f, screen %.6f nohead "
+                   "lc rgb '%s' dt %s lw 1.5 front\n",
+                arrank_plot_sx(s, x), arrank_plot_sy(s, y), arrank_plot_sx(s, x + 2.0 * s->fpx),
+                arrank_plot_sy(s, y), color, dt);
+    char buf[300];
+    arrank_plot_fit_text(words, s->W - x - 3.4 * s->fpx, 0.72 * s->fpx, buf, sizeof buf);
+    arrank_plot_text(s, x + 2.6 * s->fpx, y, "left", 0.72, ARRANK_INK, 0, buf);
+    return y + 1.45 * 0.72 * s->fpx;
+}
+
+static void diag_legend(script *s, const diag_panels *P)
+{
+    double x = P->legend_x, y = P->top[0] + 0.5 * s->fpx;
+    char buf[200];
+    for (int m = 0; m < (int)N_REGIMES; m++)
+        if (P->cnt[2 * (m + 1)] + P->cnt[2 * (m + 1) + 1])
+            y = legend_entry(s, x, y, regime_marks[m].pt[0], NULL, P->c, regime_marks[m].words);
+    if (P->cnt[0] + P->cnt[1])
+        y = legend_entry(s, x, y, arrank_plot_sample_point_type(s->a, P->i, 0), NULL, P->c, "in the fit");
+    if (P->any_out)
+        y = legend_entry(s, x, y, 6, NULL, "#555555", "open: left out of the fit");
+    for (size_t j = 0; j < P->n_runs; j++)
+        if (P->run_drawn[j]) {
+            snprintf(buf, sizeof buf, "run %.60s", P->r->sample->runs[j]);
+            char dt[8];
+            snprintf(dt, sizeof dt, "%zu", j + 1);
+            y = legend_entry(s, x, y, -1, dt, P->c, buf);
+        }
+    if (P->n_hcv) {
+        snprintf(buf, sizeof buf, "conversion above %.4g %%",
+                 100.0 * P->r->diagnosis->conversion_limit);
+        y = legend_entry(s, x, y, 2, NULL, "#222222", buf);
+    }
+    if (P->n_olr)
+        y = legend_entry(s, x, y, 1, NULL, "#222222", "outlier");
+    y += 0.6 * s->fpx;
+    snprintf(buf, sizeof buf, "fitted line, %.4g %% band", P->conf_pc);
+    y = legend_entry(s, x, y, -1, arrank_plot_dash(arrank_plot_look_of(s->a, P->i).dash), P->c,
+                     buf);
+    if (isfinite(P->r->fit.resid_sd) && P->r->fit.resid_sd > 0 && !P->r->fit.weighted) {
+        snprintf(buf, sizeof buf, "±t·s: %.4g %% of the scatter", P->conf_pc);
+        y = legend_entry(s, x, y, -1, "(6,4)", "#666666", buf);
+    }
+    if (P->nloc) {
+        snprintf(buf, sizeof buf, "local Ea, 3 temperatures, %.4g %% interval", P->conf_pc);
+        y = legend_entry(s, x, y, 7, NULL, P->c, buf);
+    }
+    snprintf(buf, sizeof buf, "fitted Ea, %.4g %% interval", P->conf_pc);
+    y = legend_entry(s, x, y, -1, "(10,5)", P->c, buf);
+    if (P->any_pore)
+        y = legend_entry(s, x, y, -1, "(2,4)", "#444444", "half Ea: strong pore diffusion");
+    if (P->has_window) {
+        snprintf(buf, sizeof buf, "grey: kinetic window %.0f–%.0f °C", P->win_lo_K - ZERO_C_K,
+                 P->win_hi_K - ZERO_C_K);
+        legend_entry(s, x, y, 5, NULL, WINDOW_FILL, buf);
+    }
+}
+
+/* The panel's frame: area, the shared x axis, the window, y range and tics,
+   its y label.  k is the panel (0 top). */
+static void diag_frame(script *s, const diag_panels *P, int k, double y_lo, double y_hi,
+                       const char *ylabel)
+{
+    FILE *f = s->f;
+    double fp = s->fpx;
+    if (k > 0)
+        fputs("unset label\nunset arrow\nunset object\nunset link x2\nunset x2tics\n", f);
+    arrank_plot_style_axes(f, k == 0);
+    arrank_plot_area(s, P->l, P->top[k], P->r_px, P->bot[k]);
+    fprintf(f, "set xrange [%.9g:%.9g]\nset yrange [%.9g:%.9g]\n", P->x_lo, P->x_hi, y_lo, y_hi);
+    size_t xch = arrank_plot_tic_chars(P->x_lo, P->x_hi, 8);
+    arrank_plot_linear_tics(f, "x", P->x_lo, P->x_hi,
+                            fmax(2, (P->r_px - P->l) / (((double)xch * ARRANK_CHAR_EM + 2.5) * fp)));
+    arrank_plot_linear_tics(f, "y", y_lo, y_hi, fmax(2, (P->bot[k] - P->top[k]) / (2.2 * fp)));
+    if (k == 0) {
+        fputs("set link x2 via 1000./x - 273.15 inverse 1000./(x + 273.15)\n", f);
+        arrank_plot_put_celsius_tics(f, X_SCALE / P->x_hi - ZERO_C_K,
+                                     X_SCALE / P->x_lo - ZERO_C_K,
+                                     fmax(2, (P->r_px - P->l) / (6.0 * fp)));
+        arrank_plot_text(s, 0.5 * (P->l + P->r_px), P->top[0] - 3.3 * fp, "center", 0.9,
+                         ARRANK_INK, 0, "T / °C");
+    }
+    if (k == 2)
+        arrank_plot_text(s, 0.5 * (P->l + P->r_px), P->bot[2] + 3.5 * fp, "center", 0.9,
+                         ARRANK_INK, 0, "1000 K / T");
+    arrank_plot_text(s, 1.4 * fp, 0.5 * (P->top[k] + P->bot[k]), "center", 0.8, ARRANK_INK, 1,
+                     ylabel);
+    if (P->has_window) {
+        double pad = 0.012 * (P->x_hi - P->x_lo);
+        put_window_shade(f, X_SCALE / P->win_hi_K - pad, X_SCALE / P->win_lo_K + pad);
+    }
+}
+
+/* Panel 1: the sample's Arrhenius plot, points marked by regime. */
+static void diag_arrhenius(script *s, const diag_panels *P)
+{
+    FILE *f = s->f;
+    char buf[300];
+    snprintf(buf, sizeof buf, "ln (r / %s)", s->unit);
+    diag_frame(s, P, 0, P->y_lo, P->y_hi, buf);
+    fputs("set style fill transparent solid 0.16 noborder\n", f);
     int first = 1;
-    fputs("unset object 1\nunset arrow\nunset link x2\nunset x2tics\nunset x2label\n"
-          "set xtics mirror\n",
-          f);
-    fprintf(f, "set lmargin at screen %.3f\nset rmargin at screen %.3f\n", DIAG_RIGHT_L,
-            DIAG_RIGHT_R);
-    fputs("unset label 8\nunset label 9\n"
-          "set xlabel 'T  [°C]'\n"
-          "set ylabel 'apparent Ea  [kJ/mol]'\n"
-          "set style fill transparent solid 0.22 noborder\n"
-          "set offsets 0, 0, graph 0.12, graph 0.12\n",
-          f);
-    fprintf(f, "set key at screen %.3f, screen %.3f left top Left reverse vertical "
-               "samplen 1.2 spacing 1.1 font ',%d'\n",
-            DIAG_RIGHT_L - 0.06, DIAG_KEY_TOP, arrank_plot_font_of(s, 0.72));
-    if (cb > ca)
-        fprintf(f, "set xrange [%.9g:%.9g]\nset xtics %.9g\n", ca - cp, cb + cp,
-                arrank_plot_nice_step(cb - ca + 2 * cp, 6.0));
-    if (isfinite(P->ea_lo) && isfinite(P->ea_hi)) {
-        const double span = P->ea_hi - P->ea_lo;
-        const double pad = arrank_plot_min_pad(P->ea_lo, P->ea_hi, 0.15 * span, P->ea_hi);
-        fprintf(f, "set offsets 0, 0, 0, 0\nset yrange [%.9g:%.9g]\n", P->ea_lo - pad,
-                P->ea_hi + pad);
-    }
-    if (has_window) {
-        double pad = 0.012 * (cb - ca + 2 * cp);
-        put_window_shade(f, win_lo_K - ZERO_C_K - pad, win_hi_K - ZERO_C_K + pad);
-    }
-    if (!d)
-        fprintf(f, "set label 7 'local apparent Ea not shown: diagnostics turned off' at "
-                   "graph 0.5, graph 0.93 center font ',%d' tc rgb '#444444' front\n",
-                arrank_plot_font_of(s, 0.8));
     arrank_plot_next_elem(f, &first);
-    fprintf(f, "$eab%zu using 1:3:4 with filledcurves lc rgb '%s' title ", i, c);
-    arrank_plot_put_qf(f, "fitted Ea%s, %.4g %% interval", has_window ? " (kinetic window)" : "",
-                       conf_pc);
+    fprintf(f, "$dfit%zu using 1:3:4 with filledcurves lc rgb '%s'", P->i, P->c);
     arrank_plot_next_elem(f, &first);
-    fprintf(f, "$eab%zu using 1:2 with lines lw 2.2 lc rgb '%s'", i, c);
+    fprintf(f, "$dfit%zu using 1:2 with lines ", P->i);
+    arrank_plot_put_line_look(f, s->a, P->i, 2.0);
+    for (int m = -1; m < (int)N_REGIMES; m++)
+        for (int out = 0; out < 2; out++) {
+            if (!P->cnt[2 * (m + 1) + out])
+                continue;
+            int pt = m < 0 ? arrank_plot_sample_point_type(s->a, P->i, out) : regime_marks[m].pt[out];
+            arrank_plot_next_elem(f, &first);
+            if (m < 0)
+                fprintf(f, "$rgn%c%zu", out ? 'x' : 'u', P->i);
+            else
+                fprintf(f, "$rg%d%c%zu", m, out ? 'x' : 'u', P->i);
+            fprintf(f, " using 1:3 with points pt %d ps 1.2*PS lw 1.2 lc rgb '%s'", pt, P->c);
+        }
+    fputs("\n", f);
+}
+
+/* Panel 2: residuals with +-t s lines (the run's level, like every interval). */
+static void diag_residuals(script *s, const diag_panels *P, double lo, double hi)
+{
+    FILE *f = s->f;
+    diag_frame(s, P, 1, lo, hi, "residual of ln r");
+    const arrank_arrhenius *fit = &P->r->fit;
+    double ts = isfinite(P->r->t_quantile) ? P->r->t_quantile * fit->resid_sd : NAN;
+    int first = 1;
     arrank_plot_next_elem(f, &first);
-    fprintf(f, "%.9g with lines lw 1 dt 2 lc rgb '%s'", ea, c);
-    if (nloc) {
+    fputs("0 with lines lw 1 lc rgb '#444444'", f);
+    if (isfinite(ts) && ts > 0 && !fit->weighted) {
         arrank_plot_next_elem(f, &first);
-        fprintf(f, "$loc%zu using 1:2:3:4 with yerrorlines pt 7 ps 1.3*PS lw 1.5 lc rgb '%s' "
-                   "title ",
-                i, c);
-        arrank_plot_put_qf(f, "local Ea, 3 neighbouring temperatures, %.4g %% interval", conf_pc);
+        fprintf(f, "%.9g with lines dt (6,4) lc rgb '#666666', %.9g with lines dt (6,4) "
+                   "lc rgb '#666666'", ts, -ts);
+    }
+    for (size_t j = 0; j < P->n_runs; j++)
+        if (P->run_drawn[j]) {
+            arrank_plot_next_elem(f, &first);
+            fprintf(f, "$run%zu_%zu using 1:2 with lines lw 1 dt %zu lc rgb '%s'", j, P->i, j + 1,
+                    P->c);
+        }
+    for (int m = -1; m < (int)N_REGIMES; m++)
+        for (int out = 0; out < 2; out++) {
+            if (!P->cnt[2 * (m + 1) + out])
+                continue;
+            int pt = m < 0 ? arrank_plot_sample_point_type(s->a, P->i, out) : regime_marks[m].pt[out];
+            arrank_plot_next_elem(f, &first);
+            if (m < 0)
+                fprintf(f, "$rgn%c%zu", out ? 'x' : 'u', P->i);
+            else
+                fprintf(f, "$rg%d%c%zu", m, out ? 'x' : 'u', P->i);
+            fprintf(f, " using 1:2 with points pt %d ps 1.2*PS lw 1.2 lc rgb '%s'", pt, P->c);
+        }
+    if (P->n_hcv) {
+        arrank_plot_next_elem(f, &first);
+        fprintf(f, "$hcv%zu using 1:2 with points pt 2 ps 1.9*PS lw 1.5 lc rgb '#222222'", P->i);
+    }
+    if (P->n_olr) {
+        arrank_plot_next_elem(f, &first);
+        fprintf(f, "$olr%zu using 1:2 with points pt 1 ps 1.9*PS lw 1.5 lc rgb '#222222'", P->i);
+    }
+    fputs("\n", f);
+}
+
+/* Panel 3: the local apparent Ea with its intervals, the fitted Ea's. */
+static void diag_local_ea(script *s, const diag_panels *P)
+{
+    FILE *f = s->f;
+    double span = P->ea_hi - P->ea_lo;
+    double pad = arrank_plot_min_pad(P->ea_lo, P->ea_hi, 0.15 * span, fmax(1, fabs(P->ea_hi)));
+    diag_frame(s, P, 2, P->ea_lo - pad, P->ea_hi + pad, "Ea / kJ mol⁻¹");
+    if (!P->r->diagnosis)
+        arrank_plot_text(s, 0.5 * (P->l + P->r_px), P->top[2] + 1.2 * s->fpx, "center", 0.75,
+                         ARRANK_INK_SOFT, 0, "local apparent Ea not shown: diagnostics turned off");
+    fputs("set style fill transparent solid 0.2 noborder\n", f);
+    int first = 1;
+    arrank_plot_next_elem(f, &first);
+    fprintf(f, "$eab%zu using 1:3:4 with filledcurves lc rgb '%s'", P->i, P->c);
+    arrank_plot_next_elem(f, &first);
+    fprintf(f, "$eab%zu using 1:2 with lines lw 2 dt (10,5) lc rgb '%s'", P->i, P->c);
+    if (P->nloc) {
+        arrank_plot_next_elem(f, &first);
+        fprintf(f, "$loc%zu using 1:2:3:4 with yerrorlines pt 7 ps 1.1*PS lw 1.3 lc rgb '%s'",
+                P->i, P->c);
     }
     /* Strong pore diffusion halves the apparent Ea (Weisz & Prater, Adv.
        Catal. 6:143, 1954): the line the hot-end local Ea tends to. */
-    if (any_pore) {
+    if (P->any_pore) {
         arrank_plot_next_elem(f, &first);
-        fprintf(f, "%.9g with lines lw 1.5 dt 3 lc rgb '#444444' "
-                   "title 'half the fitted Ea: strong pore-diffusion limit'", ea / 2.0);
+        fprintf(f, "%.9g with lines lw 1.3 dt (2,4) lc rgb '#444444'", P->ea / 2.0);
     }
-    if (has_window) {
-        arrank_plot_next_elem(f, &first);
-        fputs("keyentry with filledcurves fc rgb '" WINDOW_FILL "' fs solid 1.0 noborder "
-              "title 'kinetic window'", f);
-    }
-    fputs("\nunset multiplot\n", f);
+    fputs("\n", f);
+}
+
+/* The data of the panels and their ranges. */
+static void diag_data(script *s, diag_panels *P, double *res_lo, double *res_hi)
+{
+    FILE *f = s->f;
+    const arrank_result *r = P->r;
+    const arrank_arrhenius *fit = &r->fit;
+    const arrank_sample *smp = r->sample;
+    size_t i = P->i;
+    block_residuals(f, r, i, P->cnt);
+    P->nloc = block_local_ea(f, r, i, &P->ea_lo, &P->ea_hi);
+    P->n_runs = block_runs(f, r, i, P->run_drawn);
+    P->n_hcv = block_marked(f, r, i, 0);
+    P->n_olr = block_marked(f, r, i, 1);
+    P->has_window = kinetic_window(r, &P->win_lo_K, &P->win_hi_K);
+    for (size_t m = 0; m <= N_REGIMES; m++)
+        P->any_out |= P->cnt[2 * m + 1] > 0;
+    for (size_t m = 0; m < N_REGIMES; m++)
+        if (regime_marks[m].regime == ARRANK_REGIME_PORE)
+            P->any_pore = P->cnt[2 * (m + 1)] + P->cnt[2 * (m + 1) + 1] > 0;
+    double t_lo = INFINITY, t_hi = -INFINITY;
+    P->y_lo = *res_lo = INFINITY;
+    P->y_hi = *res_hi = -INFINITY;
+    for (size_t k = 0; k < smp->n_points; k++)
+        if (arrank_plot_usable_point(&smp->points[k])) {
+            const arrank_point *p = &smp->points[k];
+            double yf, se;
+            arrank_plot_line_at(fit, p->temp_K, &yf, &se);
+            t_lo = fmin(t_lo, p->temp_K);
+            t_hi = fmax(t_hi, p->temp_K);
+            P->y_lo = fmin(P->y_lo, log(p->rate));
+            P->y_hi = fmax(P->y_hi, log(p->rate));
+            *res_lo = fmin(*res_lo, log(p->rate) - yf);
+            *res_hi = fmax(*res_hi, log(p->rate) - yf);
+        }
+    double xa = X_SCALE / t_hi, xb = X_SCALE / t_lo;
+    double xp = arrank_plot_min_pad(xa, xb, 0.05 * (xb - xa), xb);
+    P->x_lo = xa - xp;
+    P->x_hi = xb + xp;
+    double py = arrank_plot_min_pad(P->y_lo, P->y_hi, 0.08 * (P->y_hi - P->y_lo),
+                                    fmax(1, fabs(P->y_hi)));
+    P->y_lo -= py;
+    P->y_hi += py;
+    double ts = isfinite(r->t_quantile) ? r->t_quantile * fit->resid_sd : 0;
+    double rm = fmax(fmax(fabs(*res_lo), fabs(*res_hi)), isfinite(ts) ? ts : 0);
+    rm = rm > 0 ? 1.15 * rm : 0.01;
+    *res_lo = -rm;
+    *res_hi = rm;
+    /* the fitted line with its band (the pipeline's t), and the fitted Ea
+       with its interval over the fit's range */
+    arrank_plot_block_line(f, r, "dfit", i, X_SCALE / fit->T_max_K, X_SCALE / fit->T_min_K, 40);
+    const double t = r->t_quantile;
+    P->ea = fit->ea_J_mol / 1000.0;
+    P->ea_w = isfinite(t) ? t * fit->ea_se_J_mol / 1000.0 : 0.0;
+    P->ea_lo = fmin(P->ea_lo, P->ea - P->ea_w);
+    P->ea_hi = fmax(P->ea_hi, P->ea + P->ea_w);
+    if (P->any_pore)
+        P->ea_lo = fmin(P->ea_lo, P->ea / 2.0);
+    fprintf(f, "$eab%zu << EOD\n%.9g %.9g %.9g %.9g\n%.9g %.9g %.9g %.9g\nEOD\n", i,
+            X_SCALE / fit->T_max_K, P->ea, P->ea - P->ea_w, P->ea + P->ea_w,
+            X_SCALE / fit->T_min_K, P->ea, P->ea - P->ea_w, P->ea + P->ea_w);
 }
 
 void arrank_plot_fig_diagnostics(script *s, size_t i)
 {
     FILE *f = s->f;
     const arrank_analysis *a = s->a;
-    const arrank_result *r = &a->results[i];
-    const arrank_arrhenius *fit = &r->fit;
-    const arrank_sample *smp = r->sample;
-    diag_panels dp = {.r = r, .c = arrank_plot_sample_color(a, i), .conf_pc = 100.0 * a->options.confidence,
-                      .win_lo_K = NAN, .win_hi_K = NAN, .ea_lo = INFINITY, .ea_hi = -INFINITY};
-    block_residuals(f, r, i, dp.cnt);
-    dp.nloc = block_local_ea(f, r, i, &dp.ea_lo, &dp.ea_hi);
-    dp.n_runs = block_runs(f, r, i, dp.run_drawn);
-    dp.n_hcv = block_marked(f, r, i, 0);
-    dp.n_olr = block_marked(f, r, i, 1);
-    dp.has_window = kinetic_window(r, &dp.win_lo_K, &dp.win_hi_K);
-    for (size_t m = 0; m <= N_REGIMES; m++)
-        dp.any_out |= dp.cnt[2 * m + 1] > 0;
-    for (size_t m = 0; m < N_REGIMES; m++)
-        if (regime_marks[m].regime == ARRANK_REGIME_PORE)
-            dp.any_pore = dp.cnt[2 * (m + 1)] + dp.cnt[2 * (m + 1) + 1] > 0;
-
-    /* Both panels span the sample's points with 5 % to spare. */
-    double t_lo = INFINITY, t_hi = -INFINITY;
-    for (size_t k = 0; k < smp->n_points; k++)
-        if (arrank_plot_usable_point(&smp->points[k])) {
-            t_lo = fmin(t_lo, smp->points[k].temp_K);
-            t_hi = fmax(t_hi, smp->points[k].temp_K);
-        }
-    dp.xa = X_SCALE / t_hi;
-    dp.xb = X_SCALE / t_lo;
-    dp.xp = arrank_plot_min_pad(dp.xa, dp.xb, 0.05 * (dp.xb - dp.xa), dp.xb);
-    dp.ca = t_lo - ZERO_C_K;
-    dp.cb = t_hi - ZERO_C_K;
-    /* degC: the floor relative to the temperature in K (0 degC is no scale) */
-    dp.cp = arrank_plot_min_pad(dp.ca, dp.cb, 0.05 * (dp.cb - dp.ca), t_hi);
-
-    /* The fitted Ea and its interval over the fit's range; a thin dashed
-       line carries it across the panel for comparison. */
-    const double t = r->t_quantile; /* the pipeline's (analysis.c) */
-    double ea = fit->ea_J_mol / 1000.0, w = isfinite(t) ? t * fit->ea_se_J_mol / 1000.0 : 0.0;
-    dp.ea = ea;
-    /* the right panel spans the values and the fit's band, not the local
-       intervals: three temperatures give wide ones, which run off the panel */
-    dp.ea_lo = fmin(dp.ea_lo, ea - w);
-    dp.ea_hi = fmax(dp.ea_hi, ea + w);
-    if (dp.any_pore)
-        dp.ea_lo = fmin(dp.ea_lo, ea / 2.0);
-    fprintf(f, "$eab%zu << EOD\n%.9g %.9g %.9g %.9g\n%.9g %.9g %.9g %.9g\nEOD\n", i,
-            fit->T_min_K - ZERO_C_K, ea, ea - w, ea + w, fit->T_max_K - ZERO_C_K, ea, ea - w,
-            ea + w);
-
-    fputs("set multiplot title ", f);
-    arrank_plot_put_qf(f, "Diagnostics: %s", arrank_plot_sample_name(r));
-    fprintf(f, " font ',%d'\n", arrank_plot_font_of(s, 1.1));
-    fprintf(f, "set tmargin at screen %.3f\nset bmargin at screen %.3f\n", DIAG_TOP, DIAG_BOTTOM);
-    diag_left(s, i, &dp);
-    diag_right(s, i, &dp);
+    double fp = s->fpx, pad = 0.8 * fp;
+    diag_panels P = {.r = &a->results[i], .i = i, .c = arrank_plot_sample_color(a, i),
+                     .conf_pc = 100.0 * a->options.confidence, .win_lo_K = NAN,
+                     .win_hi_K = NAN, .ea_lo = INFINITY, .ea_hi = -INFINITY};
+    double res_lo, res_hi;
+    diag_data(s, &P, &res_lo, &res_hi);
+    /* the residual blocks carry ln r as their third column, for panel 1 */
+    char name[256];
+    arrank_plot_figure_name(a, ARRANK_FIGURE_DIAGNOSTICS, i, name, sizeof name);
+    fputs("set multiplot\n", f);
+    arrank_plot_style_axes(f, 1);
+    double t = arrank_plot_head(s, name) + 4.0 * fp;
+    double b = s->H - arrank_plot_caption_px(s, 1) - 4.6 * fp;
+    size_t ych = 7;
+    P.l = pad + 1.6 * fp + (double)ych * ARRANK_CHAR_EM * fp + 0.6 * fp;
+    P.legend_x = s->W - pad - 0.34 * s->W;
+    P.r_px = P.legend_x - 1.2 * fp;
+    double gap = 3.0 * fp, avail = b - t - 2 * gap;
+    P.top[0] = t;
+    P.bot[0] = t + 0.4 * avail;
+    P.top[1] = P.bot[0] + gap;
+    P.bot[1] = P.top[1] + 0.3 * avail;
+    P.top[2] = P.bot[1] + gap;
+    P.bot[2] = b;
+    diag_legend(s, &P);
+    char line[400];
+    snprintf(line, sizeof line, "every interval and band at %.4g %%; marker shape: the "
+                                "point's regime",
+             P.conf_pc);
+    const char *lines[1] = {line};
+    arrank_plot_captions(s, lines, 1);
+    diag_arrhenius(s, &P);
+    diag_residuals(s, &P, res_lo, res_hi);
+    diag_local_ea(s, &P);
+    fputs("unset multiplot\n", f);
 }
-

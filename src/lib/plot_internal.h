@@ -15,6 +15,7 @@
 #include "arrank/error.h"
 #include "arrank/plot.h"
 #include "arrank/verdicts.h"
+#include "plot_style.h"
 
 /* 1000/T axis: the usual scaling of Arrhenius plots (common practice). */
 #define X_SCALE 1000.0
@@ -23,14 +24,62 @@
 #define INSTALL_HINT "install it (Debian/Ubuntu: apt-get install gnuplot-nox) or name the " \
                      "program in ARRANK_GNUPLOT"
 
-/* One gnuplot script being written. */
+/* One gnuplot script being written.  Layout is in SVG px of the canvas
+   (W x H, text at fpx); gnuplot gets screen fractions, so a PNG (twice the
+   pixels, twice the font) or a PDF comes out the same. */
 typedef struct {
     FILE *f;
     const arrank_analysis *a;
-    const char *unit;  /* report unit of rates, user text */
+    const char *unit;  /* report unit of rates, typeset (arrank_plot_unit_text) */
     const char *title; /* campaign title, user text */
-    int font_pt;       /* base font size of the current terminal */
+    int font_pt;       /* base font size in the current terminal's units */
+    double W, H;       /* canvas, px */
+    double fpx;        /* base font, px */
+    int base_w, base_h; /* the canvas asked for (--size) */
+    const unsigned char *shown; /* per result: drawn in the campaign figures */
+    size_t n_shown;
+    double l, t, r, b; /* the current plot area, px from the left and the top */
+    char unit_buf[160];
 } script;
+
+/* ---- layout (plot_layout.c) ---------------------------------------------- */
+/* Screen fraction of a px position: x from the left, y from the top. */
+double arrank_plot_sx(const script *s, double x_px);
+double arrank_plot_sy(const script *s, double y_px);
+/* Font size in the terminal's units for a fraction of the base font. */
+/* The plot area (px from left and top), its margins and its fill. */
+void arrank_plot_area(script *s, double l, double t, double r, double b);
+/* A text at (x, y) px, y its middle; align "left", "center" or "right";
+   rotate 90 for a vertical axis label.  text is user text or ours: quoted. */
+void arrank_plot_text(script *s, double x_px, double y_px, const char *align, double font_frac,
+                      const char *color, int rotate, const char *text);
+/* text cut to max_px at font_px, "…" at the end when cut, into out. */
+void arrank_plot_fit_text(const char *text, double max_px, double font_px, char *out, size_t n);
+/* The heading: the figure's name and the campaign's title, top left.
+   Returns the px taken from the top. */
+double arrank_plot_head(script *s, const char *name);
+/* Height in px of n caption lines. */
+double arrank_plot_caption_px(const script *s, size_t n);
+/* Caption lines at the bottom left, each cut to the width, the caution
+   (cautions.h wording) last; n lines of lines[] before it. */
+void arrank_plot_captions(script *s, const char *const *lines, size_t n);
+/* The caption line naming the samples not drawn ("" when all are). */
+void arrank_plot_hidden_line(const script *s, char *buf, size_t n);
+/* Tics on an axis ("x", "y", "x2") over [lo, hi] at a round step giving at
+   most max_tics; returns the widest label in characters. */
+size_t arrank_plot_linear_tics(FILE *f, const char *axis, double lo, double hi, double max_tics);
+/* Characters of the widest tic label arrank_plot_linear_tics would write. */
+size_t arrank_plot_tic_chars(double lo, double hi, double max_tics);
+/* The sample's look as gnuplot line properties: "lc rgb '#..' dt .. lw .." */
+void arrank_plot_put_line_look(FILE *f, const arrank_analysis *a, size_t i, double lw);
+/* A legend of samples in rows and columns inside the box (px); returns 0
+   when it does not fit (nothing written). */
+int arrank_plot_legend(script *s, const size_t *idx, size_t n, double x0, double y0,
+                       double x1, double y1, int with_lines);
+/* Rows needed by a legend of these samples in width w_px (columns of the
+   widest name). */
+size_t arrank_plot_legend_rows(const script *s, const size_t *idx, size_t n, double w_px,
+                               size_t *cols);
 
 /* r is fitted with at least 3 points (a line to draw). */
 int arrank_plot_fitted(const arrank_result *r);
@@ -55,8 +104,6 @@ void arrank_plot_put_qf(FILE *f, const char *fmt, ...)
     ;
 /* Font size as a fraction of the terminal's base size, for secondary text. */
 int arrank_plot_font_of(const script *s, double fraction);
-/* The sample key: at the right, or below the plot for long names. */
-void arrank_plot_put_key(FILE *f, const arrank_analysis *a, int with_unfitted);
 /* Element separator inside one plot command ("plot " before the first). */
 void arrank_plot_next_elem(FILE *f, int *first);
 
@@ -82,7 +129,18 @@ double arrank_plot_nice_step(double span, double max_tics);
 /* degC tics on the top axis of a 1000/T plot from t_lo to t_hi (K). */
 void arrank_plot_put_celsius_tics(FILE *f, double t_lo, double t_hi, double max_tics);
 
-/* The figures (plot_figures.c, plot_diagnostics.c). */
+/* The figure's name as its heading and SVG title say it. */
+void arrank_plot_figure_name(const arrank_analysis *a, arrank_figure_kind kind, size_t sample,
+                             char *buf, size_t n);
+/* The temperature of the compensation figure: the ranking statistics'
+   harmonic mean of the measured temperatures, else that of the fitted points. */
+double arrank_plot_t_hm(const arrank_analysis *a);
+/* Canvas of each figure, grown from the asked *w x *h (s->fpx is set). */
+void arrank_plot_size_arrhenius(script *s, double *w, double *h);
+void arrank_plot_size_rate_at_T(script *s, double *w, double *h);
+void arrank_plot_size_ea_lnA(script *s, double *w, double *h);
+void arrank_plot_size_diagnostics(script *s, double *w, double *h);
+/* The figures (plot_figures.c, plot_rate.c, plot_diagnostics.c). */
 void arrank_plot_fig_arrhenius(script *s);
 void arrank_plot_fig_rate_at_T(script *s);
 void arrank_plot_fig_ea_lnA(script *s);
@@ -97,6 +155,9 @@ void arrank_plot_drift_at(const arrank_drift *dr, double t_h, double *y, double 
 
 /* Characters of the longest note beside a row of the rate-at-T figure. */
 size_t arrank_plot_longest_row_note(const arrank_analysis *a);
+/* Tics of a log axis between lo and hi (> 0), 1-2-5 mantissas below three
+   decades (plot_rate.c). */
+void arrank_plot_put_log_tics(FILE *f, const char *axis, double lo, double hi);
 
 /* Run program in dir with the script on its standard input (plot_gnuplot.c):
    ENOGNUPLOT when it cannot be run, EPLOT with gnuplot's message when it

@@ -126,7 +126,7 @@ static void put_plot(FILE *f, const arrank_analysis *a, const arrank_plan *p,
     int first = 1;
     for (size_t j = 0; j < p->n_entries; j++) {
         const arrank_result *r = &a->results[p->entries[j].result];
-        const char *c = arrank_plot_color(j);
+        const char *c = arrank_plot_sample_color(a, j);
         arrank_plot_next_elem(f, &first);
         fprintf(f, "$fit%zu using 1:3:4 with filledcurves lc rgb '%s' fs transparent solid 0.15 "
                    "noborder",
@@ -139,7 +139,7 @@ static void put_plot(FILE *f, const arrank_analysis *a, const arrank_plan *p,
                 continue;
             arrank_plot_next_elem(f, &first);
             fprintf(f, "$%s%zu using 1:2 with points pt %d ps 1.6*PS lc rgb '%s'",
-                    b ? "pte" : "pts", j, arrank_plot_point_type(j, 0), c);
+                    b ? "pte" : "pts", j, arrank_plot_sample_point_type(a, j, 0), c);
         }
         if (!cnt[j][2])
             continue;

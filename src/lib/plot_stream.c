@@ -110,43 +110,88 @@ static void block_line(FILE *f, const arrank_drift *dr, size_t i, double *lo, do
     fputs("EOD\n", f);
 }
 
-/* The line under the title: the drift per hour with its interval, or why
-   there is no drift line. */
-static void put_subtitle(script *s, const arrank_result *r, const arrank_drift *dr)
+/* The first caption line: the drift per hour with its interval, or why
+   there is no drift line (text from a file only as an argument). */
+static void drift_words(const arrank_result *r, const arrank_drift *dr, char *buf, size_t n)
 {
-    FILE *f = s->f;
-    fputs("set label 2 ", f);
     if (dr) {
         const double tq = isfinite(dr->t_quantile) ? dr->t_quantile : 0.0;
         const double b = dr->slope_ln_per_h, w = tq * dr->slope_se;
-        arrank_plot_put_qf(f,
-                           "drift %+.2f %%/h (%.0f %% interval %+.2f to %+.2f), p = %.2g, "
-                           "%zu points; rates brought to %.1f K (%.1f degC) with this "
-                           "fit's own temperature dependence",
-                           100.0 * expm1(b), 100.0 * r->confidence, 100.0 * expm1(b - w),
-                           100.0 * expm1(b + w), dr->p, dr->n_points, dr->temp_ref_K,
-                           dr->temp_ref_K - ZERO_C_K);
-    } else {
-        const arrank_diagnosis *d = r->diagnosis;
-        if (r->error) /* text from a file reaches gnuplot quoted, as all of it */
-            arrank_plot_put_qf(f, "rates as measured; no drift line: sample not fitted: %s",
-                               r->error);
-        else
-            arrank_plot_put_qf(f, "rates as measured; no drift line: %s",
-                               !d              ? "no diagnosis (--no-diagnose)"
-                               : d->drift.note ? d->drift.note
-                                               : "the drift test did not run");
+        snprintf(buf, n,
+                 "drift %+.2f %%/h (%.0f %% interval %+.2f to %+.2f), p = %.2g, %zu points; "
+                 "rates brought to %.1f °C with the fit's own Ea",
+                 100.0 * expm1(b), 100.0 * r->confidence, 100.0 * expm1(b - w),
+                 100.0 * expm1(b + w), dr->p, dr->n_points, dr->temp_ref_K - ZERO_C_K);
+        return;
     }
-    fprintf(f, " at screen 0.5, screen 0.885 center font \",%d\" noenhanced\n",
-            arrank_plot_font_of(s, 0.62));
+    const arrank_diagnosis *d = r->diagnosis;
+    if (r->error)
+        snprintf(buf, n, "rates as measured; no drift line: sample not fitted: %.300s",
+                 r->error);
+    else
+        snprintf(buf, n, "rates as measured; no drift line: %.300s",
+                 !d              ? "no diagnosis (--no-diagnose)"
+                 : d->drift.note ? d->drift.note
+                                 : "the drift test did not run");
+}
+
+/* The time axis: the points' times on stream in hours, 4 % to spare. */
+static void time_range(const arrank_result *r, double *t0, double *t1)
+{
+    const arrank_sample *smp = r->sample;
+    double lo = INFINITY, hi = -INFINITY;
+    for (size_t k = 0; k < smp->n_points; k++) {
+        const arrank_point *p = &smp->points[k];
+        if (isfinite(p->time_on_stream_s) && arrank_plot_usable_point(p)) {
+            lo = fmin(lo, p->time_on_stream_s / 3600.0);
+            hi = fmax(hi, p->time_on_stream_s / 3600.0);
+        }
+    }
+    if (!(hi >= lo)) {
+        lo = 0.0;
+        hi = 1.0;
+    }
+    double pad = arrank_plot_min_pad(lo, hi, 0.04 * (hi - lo), fmax(1.0, fabs(hi)));
+    *t0 = lo - pad;
+    *t1 = hi + pad;
+}
+
+/* The plot elements: band, line, points in the drift test, the others. */
+static void plot_elements(FILE *f, size_t i, const arrank_plot_look *lk, int with_line,
+                          size_t n_in, size_t n_out)
+{
+    int first = 1;
+    if (with_line) {
+        arrank_plot_next_elem(f, &first);
+        fprintf(f, "$drift%zu using 1:3:4 with filledcurves fc rgb '%s' fs transparent solid "
+                   "0.18 noborder",
+                i, lk->color);
+        arrank_plot_next_elem(f, &first);
+        fprintf(f, "$drift%zu using 1:2 with lines lw 2 lc rgb '%s'", i, lk->color);
+    }
+    if (n_in) {
+        arrank_plot_next_elem(f, &first);
+        fprintf(f, "$tos%zu using 1:2 with points pt %d ps 1.2*PS lc rgb '%s'", i,
+                lk->point_filled, lk->color);
+    }
+    if (n_out) {
+        arrank_plot_next_elem(f, &first);
+        fprintf(f, "$tox%zu using 1:2 with points pt %d ps 1.2*PS lc rgb '%s'", i,
+                lk->point_hollow, lk->color);
+    }
+    if (first) /* nothing to draw: an empty frame rather than a broken script */
+        fputs("plot NaN notitle", f);
+    fputs("\n", f);
 }
 
 void arrank_plot_fig_stream(script *s, size_t i)
 {
     FILE *f = s->f;
-    const arrank_result *r = &s->a->results[i];
+    const arrank_analysis *a = s->a;
+    const arrank_result *r = &a->results[i];
     const arrank_drift *dr = drift_of(r);
-    const char *c = arrank_plot_color(i);
+    const arrank_plot_look lk = arrank_plot_look_of(a, i);
+    const double fp = s->fpx, pad = 0.8 * fp;
     double lo = INFINITY, hi = -INFINITY;
     unsigned char *tested = drift_points(r);
     size_t n_in = block_points(f, r, i, dr, tested, 1, "tos", &lo, &hi);
@@ -154,53 +199,52 @@ void arrank_plot_fig_stream(script *s, size_t i)
     free(tested);
     if (dr)
         block_line(f, dr, i, &lo, &hi);
-    /* the title, and under it the drift in words, above the plot */
-    fputs("set label 1 ", f);
-    arrank_plot_put_qf(f, "%s: rate against time on stream", arrank_plot_sample_name(r));
-    fprintf(f, " at screen 0.5, screen 0.935 center font \",%d\"\nset tmargin 6.5\n",
-            arrank_plot_font_of(s, 1.1));
-    put_subtitle(s, r, dr);
-    fputs("set xlabel 'time on stream [h]'\nset ylabel ", f);
-    if (dr)
-        arrank_plot_put_qf(f, "rate at %.1f K [%s]", dr->temp_ref_K, s->unit);
-    else
-        arrank_plot_put_qf(f, "rate [%s]", s->unit);
+    if (!(isfinite(lo) && isfinite(hi))) {
+        lo = 0.0;
+        hi = 1.0;
+    }
+    double ypad = arrank_plot_min_pad(lo, hi, 0.08 * (hi - lo), 1.0);
+    double y0 = exp(lo - ypad), y1 = exp(hi + ypad), t0, t1;
+    time_range(r, &t0, &t1);
+
+    char name[256], words[600], key[300], buf[300];
+    arrank_plot_style_axes(f, 0);
+    arrank_plot_figure_name(a, ARRANK_FIGURE_TIME_ON_STREAM, i, name, sizeof name);
+    double t = arrank_plot_head(s, name) + 1.0 * fp;
+    double b = s->H - arrank_plot_caption_px(s, 2) - 4.6 * fp;
     /* a log axis over a decade or more; within one, a linear axis keeps its
        tics (a log axis would show one label or none) */
-    if (isfinite(lo) && isfinite(hi) && hi - lo > log(10.0))
-        fputs("\nset logscale y\nset format y '%g'\n", f);
+    int logy = hi - lo > log(10.0);
+    double max_y_tics = fmax(3, (b - t) / (2.4 * fp));
+    size_t ych = logy ? 6 : arrank_plot_tic_chars(y0, y1, max_y_tics);
+    double l = pad + 1.6 * fp + (double)ych * ARRANK_CHAR_EM * fp + 0.9 * fp;
+    double rt = s->W - pad - fp;
+    arrank_plot_area(s, l, t, rt, b);
+    fprintf(f, "set xrange [%.9g:%.9g]\nset yrange [%.9g:%.9g]\n", t0, t1, y0, y1);
+    size_t xch = arrank_plot_tic_chars(t0, t1, 8);
+    arrank_plot_linear_tics(f, "x", t0, t1,
+                            fmax(2, (rt - l) / (((double)xch * ARRANK_CHAR_EM + 2.5) * fp)));
+    if (logy) {
+        fputs("set logscale y\n", f);
+        arrank_plot_put_log_tics(f, "y", y0, y1);
+    } else {
+        arrank_plot_linear_tics(f, "y", y0, y1, max_y_tics);
+    }
+    arrank_plot_text(s, 0.5 * (l + rt), b + 3.5 * fp, "center", 0.9, ARRANK_INK, 0,
+                     "time on stream / h");
+    if (dr)
+        snprintf(buf, sizeof buf, "rate at %.1f °C / %s", dr->temp_ref_K - ZERO_C_K, s->unit);
     else
-        fputs("\nset format y '%g'\n", f);
-    if (isfinite(lo) && isfinite(hi)) {
-        double pad = arrank_plot_min_pad(lo, hi, 0.08 * (hi - lo), 1.0);
-        fprintf(f, "set yrange [%.9g:%.9g]\n", exp(lo - pad), exp(hi + pad));
-    }
-    fputs("set autoscale xfix\nset offsets graph 0.04, graph 0.04, 0, 0\n"
-          "set key top right Left reverse samplen 1.5 spacing 1.15 opaque\n",
-          f);
-    int first = 1;
-    if (dr) {
-        arrank_plot_next_elem(f, &first);
-        fprintf(f, "$drift%zu using 1:3:4 with filledcurves fc rgb '%s' fs transparent solid "
-                   "0.18 noborder title ",
-                i, c);
-        arrank_plot_put_qf(f, "%.0f %% interval of the drift line", 100.0 * r->confidence);
-        arrank_plot_next_elem(f, &first);
-        fprintf(f, "$drift%zu using 1:2 with lines lw 2 lc rgb '%s' title 'drift fit'", i, c);
-    }
-    if (n_in) {
-        arrank_plot_next_elem(f, &first);
-        fprintf(f, "$tos%zu using 1:2 with points pt %d ps 1.6*PS lc rgb '%s' title ", i,
-                arrank_plot_point_type(i, 0), c);
-        arrank_plot_put_q(f, dr ? "points of the drift test" : "usable points");
-    }
-    if (n_out) {
-        arrank_plot_next_elem(f, &first);
-        fprintf(f, "$tox%zu using 1:2 with points pt %d ps 1.6*PS lc rgb '%s' title ", i,
-                arrank_plot_point_type(i, 1), c);
-        arrank_plot_put_q(f, dr ? "not in the drift test" : "other points");
-    }
-    if (first) /* nothing to draw: an empty frame rather than a broken script */
-        fputs("plot 1/0 notitle", f);
-    fputs("\n", f);
+        snprintf(buf, sizeof buf, "rate / %s", s->unit);
+    arrank_plot_text(s, 1.4 * fp, 0.5 * (t + b), "center", 0.9, ARRANK_INK, 1, buf);
+    drift_words(r, dr, words, sizeof words);
+    if (dr)
+        snprintf(key, sizeof key, "line and band: the drift fit with its %.0f %% interval; "
+                                  "filled: points of the drift test; open: not in it",
+                 100.0 * r->confidence);
+    else
+        snprintf(key, sizeof key, "filled: usable points with a time on stream");
+    const char *lines[2] = {words, key};
+    arrank_plot_captions(s, lines, 2);
+    plot_elements(f, i, &lk, dr != NULL, n_in, n_out);
 }

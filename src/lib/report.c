@@ -46,10 +46,12 @@
 #include "arrank/fit.h"
 #include "arrank/analysis_stats.h"
 #include "arrank/version.h"
+#include "plot_style.h"
+#include "report_internal.h"
 #include "util.h"
 #include "number.h"
 
-#define ZERO_C_K 273.15 /* 0 degC in K, exact by definition */
+
 
 arrank_report_options arrank_report_defaults(void)
 {
@@ -117,7 +119,7 @@ static size_t utf8_len(const unsigned char *s)
 
 /* User text as HTML: & < > " ' escaped, control characters dropped, bytes
    that are not UTF-8 shown as U+FFFD. */
-static void html_text(FILE *f, const char *text)
+void arrank_report_html_text(FILE *f, const char *text)
 {
     const unsigned char *s = (const unsigned char *)(text ? text : "");
     while (*s) {
@@ -149,7 +151,7 @@ static void html_text(FILE *f, const char *text)
 
 /* A number with `digits` decimals (fixed) or, with digits < 0, -digits
    significant digits. */
-static void html_num(FILE *f, double v, int digits)
+void arrank_report_html_num(FILE *f, double v, int digits)
 {
     if (!isfinite(v))
         fputs("&ndash;", f);
@@ -256,26 +258,22 @@ static const char *figure_caption(arrank_figure_kind kind)
 {
     switch (kind) {
     case ARRANK_FIGURE_ARRHENIUS:
-        return "Arrhenius plot of every sample: ln r against 1000/T with the fitted lines and "
-               "their confidence bands; open symbols are points left out of the fit; the top "
-               "axis gives the temperature in degC.";
+        return "Arrhenius plot: ln r against 1000 K/T with each fitted line and its confidence "
+               "band, the sample named at the end of its line; open markers are points left "
+               "out of the fit; the top axis gives the temperature in °C.";
     case ARRANK_FIGURE_RATE_AT_T:
-        return "Rate at the operating temperature with its confidence interval, best at the top "
-               "(log axis).  Open markers are flagged samples; the flags are named at the right.";
+        return "Rate at the operating temperature, best at the top (log axis): the box is the "
+               "confidence interval, an open marker a flagged sample, the flags in words at "
+               "the right.";
     case ARRANK_FIGURE_EA_LNA:
-        return "Apparent activation energy against ln A with each sample's joint confidence "
-               "region.  Long thin ellipses along one direction show how strongly the two "
-               "estimates are correlated: a line through such points is not by itself evidence "
-               "of a compensation effect.";
+        return "Apparent activation energy against ln r at the harmonic-mean temperature, "
+               "where the two estimates are nearly uncorrelated, so each joint region is a "
+               "true ellipse; the dashed line is the ln A–Ea line of the compensation analysis.";
     case ARRANK_FIGURE_DIAGNOSTICS:
-        return "Residuals of the fit against 1000/T (left; marker shape: the point's regime, "
-               "open: left out of the fit, lines: runs) and the local apparent activation "
-               "energy over three neighbouring temperatures with its interval at the run's "
-               "level (right; three temperatures leave one degree of freedom, so the "
-               "intervals are wide and may run off the panel), against the fitted value and "
-               "its interval.  The grey band is the kinetic "
-               "window the fit uses.  A local Ea that falls with temperature suggests transport "
-               "limitation or another bend in the Arrhenius plot.";
+        return "The sample's Arrhenius plot, its residuals and the local apparent Ea over "
+               "three neighbouring temperatures, on one 1000 K/T axis; marker shape: the "
+               "point's regime; grey: the kinetic window.  A local Ea that falls with "
+               "temperature suggests transport limitation.";
     case ARRANK_FIGURE_TIME_ON_STREAM:
         return "Rate against time on stream, each point brought to one temperature by the "
                "drift test's own fit, with that fit's drift line and its confidence band.";
@@ -283,12 +281,6 @@ static const char *figure_caption(arrank_figure_kind kind)
     return "";
 }
 
-typedef struct {
-    arrank_plot_files files;
-    char **svg; /* [files.n] contents, NULL where unreadable */
-    arrank_status status;
-    char message[ARRANK_ERROR_MSG_MAX];
-} figure_set;
 
 static void remove_tree(const char *dir)
 {
@@ -367,7 +359,8 @@ static void free_figures(figure_set *fs)
 
 static int fig_counter;
 
-static void put_figure(FILE *f, const figure_set *fs, arrank_figure_kind kind, size_t sample)
+void arrank_report_put_figure(FILE *f, const figure_set *fs, arrank_figure_kind kind,
+                              size_t sample)
 {
     for (size_t k = 0; fs->svg && k < fs->files.n; k++) {
         const arrank_plot_file *pf = &fs->files.files[k];
@@ -377,9 +370,9 @@ static void put_figure(FILE *f, const figure_set *fs, arrank_figure_kind kind, s
         fputs("<figure>\n", f);
         inline_svg(f, fs->svg[k], ++fig_counter);
         fputs("\n<figcaption>", f);
-        html_text(f, figure_caption(kind));
+        arrank_report_html_text(f, figure_caption(kind));
         fputs(" <span class=\"file\">(", f);
-        html_text(f, pf->name);
+        arrank_report_html_text(f, pf->name);
         fputs(" in <code>arrank plot</code>)</span></figcaption>\n</figure>\n", f);
     }
 }
@@ -391,10 +384,13 @@ static const char css[] =
     "max-width:72rem;margin:0 auto;padding:1.5rem;color:#1a1a1a;line-height:1.45}"
     "h1{font-size:1.7rem;margin-bottom:.2rem}h2{margin-top:2.2rem;border-bottom:2px solid #ccc}"
     "h3{margin-top:1.6rem}"
-    "table{border-collapse:collapse;margin:.6rem 0;font-size:.92rem}"
-    "th,td{border:1px solid #ccc;padding:.25rem .5rem;text-align:left;vertical-align:top}"
+    "table{border-collapse:collapse;margin:.6rem 0;font-size:.88rem}"
+    "th,td{border:1px solid #ccc;padding:.2rem .35rem;text-align:left;vertical-align:top}"
     "th{background:#f0f0f0}td.n{text-align:right;font-variant-numeric:tabular-nums}"
     "figure{margin:1rem 0}svg.figure{max-width:100%;height:auto;display:block}"
+    ".wide{overflow-x:auto;max-width:100%}td.n{white-space:nowrap}"
+    ".ci{display:block;color:#555;font-size:.85em}"
+    "@media (max-width:60rem){body{padding:.75rem}table{font-size:.82rem}}"
     "figcaption{font-size:.9rem;color:#333}.file{color:#666}"
     ".caution{border-left:6px solid #D55E00;background:#fff4ec;padding:.6rem 1rem}"
     ".note{border-left:6px solid #0072B2;background:#eef6fb;padding:.6rem 1rem}"
@@ -405,24 +401,60 @@ static const char css[] =
     "table.left-out td:nth-child(4){white-space:nowrap}"
     ".flags li{margin:.1rem 0}code,.hash{font-family:'DejaVu Sans Mono',monospace;"
     "font-size:.85rem;word-break:break-all}"
-    ".swatch{display:inline-block;width:.9em;height:.9em;border-radius:50%;"
+    ".swatch{display:inline-block;width:.85em;height:.85em;"
     "margin-right:.35em;vertical-align:-0.1em}"
-    "@media print{body{max-width:none;padding:0;font-size:10pt}"
+    "section.sample{display:flow-root}"
+    "@media (min-width:60rem){section.sample figure{float:right;width:48%;"
+    "margin:0 0 .6rem 1.2rem}}"
+    "@media print{body{max-width:none;padding:0;font-size:8.5pt;line-height:1.3}"
+    "svg.figure{max-height:7.2cm;width:auto;max-width:100%;margin:0 auto}"
+    "section.sample figure{float:right;width:46%;margin:0 0 .4rem 1rem}"
+    "section.sample svg.figure{max-height:none;width:100%}"
+    "section.sample{break-inside:avoid-page}"
+    "h2{margin-top:1rem}h3{margin:.6rem 0 .2rem}p,ul{margin:.3rem 0}"
+    "figcaption{font-size:7.5pt}table{font-size:7.5pt}"
     "h2{break-before:auto;break-after:avoid}h3{break-after:avoid}"
     "figure,table,.caution{break-inside:avoid}"
     "section.sample{break-inside:avoid-page}"
     ".swatch{print-color-adjust:exact;-webkit-print-color-adjust:exact}"
     "a{color:inherit;text-decoration:none}}";
 
-static const char *unit_of(const arrank_analysis *a)
+/* The rate unit as the reader reads it (plot_style.c: umol/(g*s) is
+   µmol g⁻¹ s⁻¹); one buffer per thread, like every cache here. */
+const char *arrank_report_unit(const arrank_analysis *a)
 {
-    return a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit : "report unit";
+    static _Thread_local char buf[160];
+    arrank_plot_unit_text(a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit
+                                                                : "report unit",
+                          buf, sizeof buf);
+    return buf;
 }
 
-static void put_swatch(FILE *f, const arrank_analysis *a, size_t i)
+void arrank_report_put_swatch(FILE *f, const arrank_analysis *a, size_t i)
 {
-    fprintf(f, "<span class=\"swatch\" style=\"background:%s\"></span>",
-            arrank_plot_sample_color(a, i)); /* the reference: black, as in the figures */
+    /* the sample's marker in its colour, as the figures draw it */
+    static const struct {
+        const char *shape, *svg;
+    } marks[] = {
+        {"circle", "<circle cx='6' cy='6' r='4.6'/>"},
+        {"square", "<rect x='1.6' y='1.6' width='8.8' height='8.8'/>"},
+        {"triangle", "<polygon points='6,0.8 11.4,10.6 0.6,10.6'/>"},
+        {"triangle-down", "<polygon points='0.6,1.4 11.4,1.4 6,11.2'/>"},
+        {"diamond", "<polygon points='6,0.4 11.6,6 6,11.6 0.4,6'/>"},
+        {"pentagon", "<polygon points='6,0.6 11.5,4.6 9.4,11.2 2.6,11.2 0.5,4.6'/>"},
+        {"cross", "<path d='M1.5,1.5 L10.5,10.5 M10.5,1.5 L1.5,10.5' stroke-width='2.2' "
+                  "fill='none'/>"},
+        {"star", "<path d='M6,0.5 V11.5 M1,3.2 L11,8.8 M11,3.2 L1,8.8' stroke-width='1.8' "
+                 "fill='none'/>"},
+    };
+    arrank_plot_look k = arrank_plot_look_of(a, i);
+    const char *mark = marks[0].svg;
+    for (size_t m = 0; m < sizeof marks / sizeof *marks; m++)
+        if (strcmp(marks[m].shape, k.shape) == 0)
+            mark = marks[m].svg;
+    fprintf(f, "<svg class=\"swatch\" viewBox=\"0 0 12 12\" width=\"12\" height=\"12\" "
+               "fill=\"%s\" stroke=\"%s\" aria-hidden=\"true\">%s</svg>",
+            k.color, k.color, mark);
 }
 
 static void put_flag_names(FILE *f, unsigned flags)
@@ -430,12 +462,12 @@ static void put_flag_names(FILE *f, unsigned flags)
     int any = 0;
     for (unsigned b = 0; b < ARRANK_FLAG_COUNT; b++)
         if (flags & (1u << b)) {
-            const char *name = arrank_flag_name(1u << b);
+            const char *name = arrank_plot_flag_short(1u << b);
             if (!name)
                 continue;
             if (any)
                 fputs(", ", f);
-            html_text(f, name);
+            arrank_report_html_text(f, name);
             any = 1;
         }
     if (!any)
@@ -450,7 +482,7 @@ static void put_stats_cells(FILE *f, const arrank_result *r)
     if (st && isfinite(st->p_best) && st->p_best < 0.005)
         fputs("&lt; 0.01", f);
     else
-        html_num(f, st ? st->p_best : NAN, 2);
+        arrank_report_html_num(f, st ? st->p_best : NAN, 2);
     fputs("</td><td class=\"n\">", f);
     if (st && st->group > 0)
         fprintf(f, "%d", st->group);
@@ -459,30 +491,32 @@ static void put_stats_cells(FILE *f, const arrank_result *r)
     fputs("</td>", f);
 }
 
-/* "v (lo&ndash;hi)": an estimate with its interval v -/+ t se. */
+/* An estimate with its interval v -/+ t se under it (one cell, two short
+   lines, so that a table of them fits a narrow window). */
 static void put_estimate(FILE *f, double v, double se, double t, int digits)
 {
-    html_num(f, v, digits);
-    fputs(" (", f);
-    html_num(f, v - t * se, digits);
+    arrank_report_html_num(f, v, digits);
+    fputs("<span class=\"ci\">", f);
+    arrank_report_html_num(f, v - t * se, digits);
     fputs("&ndash;", f);
-    html_num(f, v + t * se, digits);
-    fputs(")", f);
+    arrank_report_html_num(f, v + t * se, digits);
+    fputs("</span>", f);
 }
 
 static void put_ranking(FILE *f, const arrank_analysis *a)
 {
     double T_op = a->options.operating_temp_K;
-    fputs("<table>\n<thead><tr><th>rank</th><th>sample</th>", f);
+    fputs("<div class=\"wide\"><table>\n<thead><tr><th>rank</th><th>sample</th>", f);
     if (isfinite(T_op)) {
         fprintf(f, "<th>rate at %.4g &deg;C [", T_op - ZERO_C_K);
-        html_text(f, unit_of(a));
-        fprintf(f, "]</th><th>%.4g %% interval</th>", 100 * a->options.confidence);
+        arrank_report_html_text(f, arrank_report_unit(a));
+        fprintf(f, "] (%.4g %% interval)</th>", 100 * a->options.confidence);
     }
     int stats = a->rank_stats != NULL;
     if (stats)
         fputs("<th>P(best)</th><th>group</th>", f);
-    fprintf(f, "<th>Ea [kJ/mol] (%.4g %% interval)</th><th>ln A (%.4g %% interval)</th>"
+    fprintf(f, "<th>Ea [kJ mol<sup>&minus;1</sup>] (%.4g %% interval)</th>"
+               "<th>ln A (%.4g %% interval)</th>"
                "<th>points</th>",
             100 * a->options.confidence, 100 * a->options.confidence);
     fputs("<th>T range [&deg;C]</th>"
@@ -502,27 +536,27 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
             else
                 fputs("&ndash;", f);
             fputs("</td><td>", f);
-            put_swatch(f, a, i);
-            html_text(f, r->sample->id);
+            arrank_report_put_swatch(f, a, i);
+            arrank_report_html_text(f, r->sample->id);
             fputs("</td>", f);
             if (r->error) {
-                fprintf(f, "<td colspan=\"%d\">%s: ", (isfinite(T_op) ? 7 : 5) + (stats ? 2 : 0),
+                fprintf(f, "<td colspan=\"%d\">%s: ", (isfinite(T_op) ? 6 : 5) + (stats ? 2 : 0),
                         r->sample->skipped ? "file not used" : "not fitted");
-                html_text(f, r->error);
+                arrank_report_html_text(f, r->error);
                 fputs("</td></tr>\n", f);
                 continue;
             }
             if (isfinite(T_op)) {
                 if (r->has_prediction) {
                     fputs("<td class=\"n\">", f);
-                    html_num(f, r->at_T.rate, -3);
-                    fputs("</td><td class=\"n\">", f);
-                    html_num(f, r->at_T.rate_lo, -3);
-                    fputs(" &ndash; ", f);
-                    html_num(f, r->at_T.rate_hi, -3);
-                    fputs("</td>", f);
+                    arrank_report_html_num(f, r->at_T.rate, -3);
+                    fputs("<span class=\"ci\">", f);
+                    arrank_report_html_num(f, r->at_T.rate_lo, -3);
+                    fputs("&ndash;", f);
+                    arrank_report_html_num(f, r->at_T.rate_hi, -3);
+                    fputs("</span></td>", f);
                 } else
-                    fputs("<td>&ndash;</td><td>&ndash;</td>", f);
+                    fputs("<td>&ndash;</td>", f);
             }
             if (stats)
                 put_stats_cells(f, r);
@@ -535,15 +569,15 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
             put_estimate(f, r->fit.ln_A, r->fit.ln_A_se, t, 2);
             fprintf(f, "</td><td class=\"n\">%zu of %zu</td><td class=\"n\">", r->n_used,
                     r->sample->n_points);
-            html_num(f, r->fit.T_min_K - ZERO_C_K, 0);
+            arrank_report_html_num(f, r->fit.T_min_K - ZERO_C_K, 0);
             fputs("&ndash;", f);
-            html_num(f, r->fit.T_max_K - ZERO_C_K, 0);
+            arrank_report_html_num(f, r->fit.T_max_K - ZERO_C_K, 0);
             fputs("</td><td>", f);
             put_flag_names(f, r->flags);
             fputs("</td></tr>\n", f);
         }
     }
-    fputs("</tbody></table>\n", f);
+    fputs("</tbody></table></div>\n", f);
     fprintf(f, "<p>Ea and ln A are given with their %.4g %% intervals (Student t on the "
                "line's degrees of freedom); ln A is the natural logarithm of A in the report "
                "unit.",
@@ -559,308 +593,11 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
             if (strncmp(sentence, "compensation: ", 14) == 0)
                 sentence += 14;
             fputs("</p>\n<p><b>Compensation.</b> ", f);
-            html_text(f, sentence);
+            arrank_report_html_text(f, sentence);
             fputs(".", f);
         }
     }
     fputs("</p>\n", f);
-}
-
-static void put_param_row(FILE *f, const char *name, double v, double lo, double hi,
-                          int digits)
-{
-    fprintf(f, "<tr><th>%s</th><td class=\"n\">", name);
-    html_num(f, v, digits);
-    fputs("</td><td class=\"n\">", f);
-    if (isfinite(lo) && isfinite(hi)) {
-        html_num(f, lo, digits);
-        fputs(" &ndash; ", f);
-        html_num(f, hi, digits);
-    } else
-        fputs("&ndash;", f);
-    fputs("</td></tr>\n", f);
-}
-
-/* The plain-words diagnosis of diagnose.h as a list: the text of
-   arrank_diagnosis_write_text, its first line (without the sample's id and
-   file, which the heading gives) as a lead and every further line as an
-   item with its label ("problem", "note") in bold.  The "left out" lines are
-   skipped here: put_left_out shows them as a table. */
-static void put_diagnosis(FILE *f, const arrank_result *r)
-{
-    const arrank_sample *s = r->sample;
-    if (!r->diagnosis) {
-        fputs("<p class=\"file\">Diagnostics not run.</p>\n", f);
-        return;
-    }
-    char *text = NULL;
-    size_t len = 0;
-    FILE *m = open_memstream(&text, &len);
-    if (!m) {
-        fputs("<p class=\"note\">The diagnostics could not be written out.</p>\n", f);
-        return;
-    }
-    arrank_status st = arrank_diagnosis_write_text(m, r, NULL);
-    if (fclose(m) != 0 || st != ARRANK_OK || !text) {
-        free(text);
-        fputs("<p class=\"note\">The diagnostics could not be written out.</p>\n", f);
-        return;
-    }
-    /* "ID (FILE): " starts the first line. */
-    const char *id = s->id ? s->id : "", *file = s->file ? s->file : "";
-    size_t plen = strlen(id) + strlen(file) + 6;
-    char *prefix = malloc(plen);
-    if (prefix)
-        snprintf(prefix, plen, "%s (%s): ", id, file);
-    fputs("<div class=\"diagnosis\">\n", f);
-    int items = 0;
-    for (char *line = text, *next; line && *line; line = next) {
-        char *nl = strchr(line, '\n');
-        next = nl ? nl + 1 : NULL;
-        if (nl)
-            *nl = '\0';
-        if (line == text) {
-            const char *lead = line;
-            if (prefix && strncmp(lead, prefix, strlen(prefix)) == 0)
-                lead += strlen(prefix);
-            fputs("<p><b>Diagnostics:</b> ", f);
-            html_text(f, lead);
-            fputs(".</p>\n", f);
-            continue;
-        }
-        while (*line == ' ')
-            line++;
-        if (!*line || strncmp(line, "left out: ", 10) == 0)
-            continue;
-        if (!items++)
-            fputs("<ul>\n", f);
-        /* A label is a short run of lowercase words before the first ": ". */
-        const char *colon = strstr(line, ": ");
-        size_t lab = colon ? (size_t)(colon - line) : 0;
-        for (size_t k = 0; k < lab; k++)
-            if (!((line[k] >= 'a' && line[k] <= 'z') || line[k] == ' '))
-                lab = 0;
-        if (lab > 0 && lab <= 16) {
-            line[lab] = '\0';
-            fprintf(f, "<li class=\"%s\"><b>", strcmp(line, "problem") == 0 ? "problem" : "plain");
-            html_text(f, line);
-            fputs("</b>: ", f);
-            html_text(f, line + lab + 2);
-        } else {
-            fputs("<li class=\"plain\">", f);
-            html_text(f, line);
-        }
-        fputs("</li>\n", f);
-    }
-    if (items)
-        fputs("</ul>\n", f);
-    fputs("</div>\n", f);
-    free(prefix);
-    free(text);
-}
-
-/* Points left out of the fit, one row each with the diagnosis's regime and
-   reason. */
-static void put_left_out(FILE *f, const arrank_result *r)
-{
-    const arrank_sample *s = r->sample;
-    const arrank_diagnosis *d = r->diagnosis;
-    if (!r->used || r->n_used >= s->n_points)
-        return;
-    fputs("<table class=\"left-out\"><caption>Points left out of the fit</caption>\n"
-          "<thead><tr><th>line</th><th>T [&deg;C]</th><th>T [K]</th>",
-          f);
-    if (d)
-        fputs("<th>regime</th>", f);
-    fputs("<th>reason</th></tr></thead><tbody>\n", f);
-    for (size_t k = 0; k < s->n_points; k++) {
-        if (r->used[k])
-            continue;
-        const arrank_point *p = &s->points[k];
-        fprintf(f, "<tr><td class=\"n\">%ld</td><td class=\"n\">", p->line);
-        html_num(f, p->temp_K - ZERO_C_K, 1);
-        fputs("</td><td class=\"n\">", f);
-        html_num(f, p->temp_K, 1);
-        fputs("</td>", f);
-        const char *reason = "left out before the fit (not a usable point)";
-        if (d && k < d->n_points) {
-            static const char *const words[] = {"unclassified", "kinetic",
-                                                "pore-diffusion-like", "film-diffusion-like"};
-            unsigned g = (unsigned)d->points[k].regime;
-            fputs("<td>", f);
-            html_text(f, g < sizeof words / sizeof *words ? words[g] : "unclassified");
-            fputs("</td>", f);
-            reason = d->points[k].reason ? d->points[k].reason
-                                         : "left out before the diagnostics";
-        }
-        if (p->omitted) /* the reader's own reason for a point it could not use */
-            reason = p->omitted;
-        fputs("<td>", f);
-        html_text(f, reason);
-        fputs("</td></tr>\n", f);
-    }
-    fputs("</tbody></table>\n", f);
-}
-
-/* Prater's bound on the temperature rise inside the pellet: a row of the
-   criteria table, a note rather than a pass or fail (transport.c). */
-static void put_prater(FILE *f, const arrank_prater *p)
-{
-    fputs("<tr><th>Prater temperature rise inside the pellet</th><td class=\"n\">", f);
-    html_num(f, p->rise_K, -3);
-    fputs(" K (&beta; = ", f);
-    html_num(f, p->beta, -3);
-    fputs(")</td><td class=\"n\">&ndash;</td><td class=\"n\">", f);
-    html_num(f, p->temp_K, 1);
-    fputs("</td><td>the most the centre can be hotter than the surface</td><td>", f);
-    html_text(f, p->detail);
-    if (p->source) {
-        fputs(" (", f);
-        html_text(f, p->source);
-        fputs(")", f);
-    }
-    fputs("</td></tr>\n", f);
-}
-
-/* The transport and heat numbers that the sample's metadata let the
-   diagnostics compute (Weisz-Prater, Mears, Mears' interphase and
-   Anderson's intraparticle heat criteria, Prater's rise); one that was not
-   computed is left out (the diagnosis's notes say what it needs). */
-static void put_criteria(FILE *f, const arrank_result *r)
-{
-    const arrank_diagnosis *d = r->diagnosis;
-    if (!d || !(d->weisz_prater.computed || d->mears.computed || d->heat.interphase.computed ||
-                d->heat.intraparticle.computed || d->heat.prater.computed))
-        return;
-    const struct {
-        const char *name, *above;
-        const arrank_criterion *c;
-    } rows[] = {
-        {"Weisz&ndash;Prater", "internal (pore) diffusion may limit the rate", &d->weisz_prater},
-        {"Mears", "external (film) mass transfer may limit the rate", &d->mears},
-        {"Mears: heat transfer across the gas film",
-         "the pellet may be hotter than the gas: the measured temperature is not the "
-         "catalyst's",
-         &d->heat.interphase},
-        {"Anderson: heat conduction inside the pellet",
-         "the pellet's inside may be hotter than its surface: the measured temperature is not "
-         "the catalyst's",
-         &d->heat.intraparticle},
-    };
-    fputs("<table class=\"criteria\"><caption>Transport and heat criteria</caption>\n"
-          "<thead><tr><th>criterion</th><th>value</th><th>limit</th><th>at T [K]</th>"
-          "<th>verdict</th><th>inputs and source</th></tr></thead><tbody>\n",
-          f);
-    for (size_t k = 0; k < sizeof rows / sizeof *rows; k++) {
-        const arrank_criterion *c = rows[k].c;
-        if (!c->computed) /* the diagnosis's notes say why */
-            continue;
-        fprintf(f, "<tr><th>%s</th>", rows[k].name);
-        fputs("<td class=\"n\">", f);
-        html_num(f, c->value, -3);
-        fputs("</td><td class=\"n\">", f);
-        html_num(f, c->threshold, -3);
-        fputs("</td><td class=\"n\">", f);
-        html_num(f, c->temp_K, 1);
-        fprintf(f, "</td><td>%s</td><td>", c->passes ? "below the limit: negligible"
-                                                     : rows[k].above);
-        html_text(f, c->detail);
-        if (c->source) {
-            fputs(" (limit: ", f);
-            html_text(f, c->source);
-            fputs(")", f);
-        }
-        fputs("</td></tr>\n", f);
-    }
-    if (d->heat.prater.computed)
-        put_prater(f, &d->heat.prater);
-    fputs("</tbody></table>\n", f);
-}
-
-static void put_sample(FILE *f, const arrank_analysis *a, size_t i, const figure_set *fs)
-{
-    const arrank_result *r = &a->results[i];
-    const arrank_sample *s = r->sample;
-    fprintf(f, "<section class=\"sample\">\n<h3 id=\"sample-%zu\">", i + 1);
-    put_swatch(f, a, i);
-    html_text(f, s->id);
-    fputs("</h3>\n<p>File <code>", f);
-    html_text(f, s->file);
-    fprintf(f, "</code>, %zu points", s->n_points);
-    for (size_t k = 0; k < s->n_meta; k++) {
-        if (strcmp(s->meta[k].key, "sample") == 0)
-            continue;
-        fputs("; ", f);
-        html_text(f, s->meta[k].key);
-        fputs(" = ", f);
-        html_text(f, s->meta[k].value);
-    }
-    fputs(".</p>\n", f);
-    if (r->error) {
-        fputs(s->skipped ? "<p class=\"note\">File not used and not ranked: "
-                         : "<p class=\"note\">Not fitted and not ranked: ", f);
-        html_text(f, r->error);
-        fputs(".</p>\n</section>\n", f);
-        return;
-    }
-    const arrank_arrhenius *fit = &r->fit;
-    const double t = r->t_quantile; /* the pipeline's (analysis.c) */
-    fprintf(f, "<table><thead><tr><th>quantity</th><th>estimate</th><th>%.4g %% interval</th>"
-               "</tr></thead><tbody>\n",
-            100 * a->options.confidence);
-    put_param_row(f, "apparent Ea [kJ/mol]", fit->ea_J_mol / 1000,
-                  (fit->ea_J_mol - t * fit->ea_se_J_mol) / 1000,
-                  (fit->ea_J_mol + t * fit->ea_se_J_mol) / 1000, 2);
-    put_param_row(f, "ln A (A in the report unit)", fit->ln_A, fit->ln_A - t * fit->ln_A_se,
-                  fit->ln_A + t * fit->ln_A_se, 3);
-    if (r->has_prediction) {
-        char name[128];
-        snprintf(name, sizeof name, "rate at %.4g &deg;C",
-                 a->options.operating_temp_K - ZERO_C_K);
-        put_param_row(f, name, r->at_T.rate, r->at_T.rate_lo, r->at_T.rate_hi, -4);
-    }
-    fputs("</tbody></table>\n<p>", f);
-    fprintf(f, "Fitted on %zu of %zu points, %.1f&ndash;%.1f &deg;C, T<sub>ref</sub> = "
-               "%.2f K; correlation of Ea and ln A %.4f",
-            r->n_used, s->n_points, fit->T_min_K - ZERO_C_K, fit->T_max_K - ZERO_C_K,
-            fit->T_ref_K, fit->corr_ea_lnA);
-    /* s = sqrt(rss/dof) is the scatter of ln r only without weights; with
-       rate_sd it is sqrt(chi2/dof), how far the scatter is from the stated sd */
-    if (fit->weighted && isfinite(fit->chi2_dof))
-        fprintf(f, "; R&sup2; = %.4f; weighted by rate_sd, &chi;&sup2;/dof = %.3g, "
-                   "&radic;(&chi;&sup2;/dof) = %.3g",
-                fit->r2, fit->chi2_dof, fit->resid_sd);
-    else
-        fprintf(f, "; residual SD %.3g in ln r; R&sup2; = %.4f; unweighted (no rate_sd)",
-                fit->resid_sd, fit->r2);
-    fputs(".</p>\n", f);
-    if (r->flags) {
-        fputs("<ul class=\"flags\">\n", f);
-        for (unsigned b = 0; b < ARRANK_FLAG_COUNT; b++)
-            if (r->flags & (1u << b)) {
-                const char *words = arrank_flag_words(1u << b);
-                if (!words)
-                    continue;
-                fputs("<li><b>", f);
-                html_text(f, arrank_flag_name(1u << b));
-                fputs("</b>: ", f);
-                html_text(f, words);
-                fputs("</li>\n", f);
-            }
-        fputs("</ul>\n", f);
-    } else
-        fputs("<p>No flags raised.</p>\n", f);
-    put_diagnosis(f, r);
-    put_left_out(f, r);
-    put_criteria(f, r);
-    for (size_t k = 0; k < s->n_notes; k++) {
-        fputs("<p class=\"file\">Note: ", f);
-        html_text(f, s->notes[k]);
-        fputs("</p>\n", f);
-    }
-    put_figure(f, fs, ARRANK_FIGURE_DIAGNOSTICS, i);
-    put_figure(f, fs, ARRANK_FIGURE_TIME_ON_STREAM, i);
-    fputs("</section>\n", f);
 }
 
 static void put_methods(FILE *f, const arrank_analysis *a)
@@ -911,7 +648,7 @@ static void put_cautions(FILE *f, const arrank_analysis *a)
         fputs("<li><b>", f);
         if (lines[k][0] >= 'a' && lines[k][0] <= 'z') /* a sentence here */
             fputc(lines[k][0] - 'a' + 'A', f);
-        html_text(f, lines[k] + (lines[k][0] >= 'a' && lines[k][0] <= 'z'));
+        arrank_report_html_text(f, lines[k] + (lines[k][0] >= 'a' && lines[k][0] <= 'z'));
         fputs(".</b>", f);
         if (k == 0)
             fputs(" The fitted parameters are apparent values, valid only for the conditions "
@@ -938,7 +675,7 @@ static void put_cautions(FILE *f, const arrank_analysis *a)
 static void put_inputs(FILE *f, const arrank_analysis *a)
 {
     const arrank_campaign *c = a->campaign;
-    fputs("<table><thead><tr><th>input file</th><th>SHA-256</th></tr></thead><tbody>\n", f);
+    fputs("<div class=\"wide\"><table><thead><tr><th>input file</th><th>SHA-256</th></tr></thead><tbody>\n", f);
     if (c && c->path) {
         size_t n = strlen(c->path) + 16;
         char *ini = malloc(n);
@@ -956,7 +693,7 @@ static void put_inputs(FILE *f, const arrank_analysis *a)
         const arrank_sample *s = a->results[i].sample;
         char hex[65];
         fputs("<tr><td><code>", f);
-        html_text(f, s->file ? s->file : s->path);
+        arrank_report_html_text(f, s->file ? s->file : s->path);
         fputs("</code></td><td class=\"hash\">", f);
         if (s->path && arrank_report_sha256_file(s->path, hex, NULL) == ARRANK_OK)
             fputs(hex, f);
@@ -964,7 +701,77 @@ static void put_inputs(FILE *f, const arrank_analysis *a)
             fputs("could not be read", f);
         fputs("</td></tr>\n", f);
     }
-    fputs("</tbody></table>\n", f);
+    fputs("</tbody></table></div>\n", f);
+}
+
+/* Campaigns of more samples than this get a section for the first this many
+   by rank and for every flagged one; the rest share a compact table (our
+   choice: about 50 printed pages). */
+#define REPORT_DETAIL_MAX 50
+
+static int in_detail(const arrank_analysis *a, const arrank_result *r)
+{
+    return a->n_results <= REPORT_DETAIL_MAX ||
+           (r->rank > 0 && r->rank <= REPORT_DETAIL_MAX) || r->flags != 0;
+}
+
+/* The samples without a section of their own, one row each. */
+static void put_brief(FILE *f, const arrank_analysis *a, size_t n_brief)
+{
+    double T_op = a->options.operating_temp_K;
+    fprintf(f, "<h2>The other %zu samples, in brief</h2>\n<p>Unflagged and ranked below "
+               "%d: one row each, in ranking order.</p>\n",
+            n_brief, REPORT_DETAIL_MAX);
+    fputs("<div class=\"wide\"><table class=\"brief\"><thead><tr><th>rank</th><th>sample</th>",
+          f);
+    if (isfinite(T_op)) {
+        fprintf(f, "<th>rate at %.4g &deg;C [", T_op - ZERO_C_K);
+        arrank_report_html_text(f, arrank_report_unit(a));
+        fprintf(f, "] (%.4g %% interval)</th>", 100 * a->options.confidence);
+    }
+    fprintf(f, "<th>Ea [kJ mol<sup>&minus;1</sup>] (%.4g %% interval)</th><th>points</th>"
+               "<th>note</th></tr></thead><tbody>\n",
+            100 * a->options.confidence);
+    for (size_t pass = 0; pass < 2; pass++)
+        for (size_t k = 0; k < (pass == 0 ? a->n_ranked : a->n_results); k++) {
+            size_t i = pass == 0 ? a->order[k] : k;
+            const arrank_result *r = &a->results[i];
+            if (in_detail(a, r) || (pass == 0) != (r->rank > 0))
+                continue;
+            fputs("<tr><td class=\"n\">", f);
+            if (r->rank > 0)
+                fprintf(f, "%d", r->rank);
+            else
+                fputs("&ndash;", f);
+            fputs("</td><td>", f);
+            arrank_report_put_swatch(f, a, i);
+            arrank_report_html_text(f, r->sample->id);
+            fputs("</td>", f);
+            if (isfinite(T_op)) {
+                fputs("<td class=\"n\">", f);
+                if (r->has_prediction) {
+                    arrank_report_html_num(f, r->at_T.rate, -3);
+                    fputs("<span class=\"ci\">", f);
+                    arrank_report_html_num(f, r->at_T.rate_lo, -3);
+                    fputs("&ndash;", f);
+                    arrank_report_html_num(f, r->at_T.rate_hi, -3);
+                    fputs("</span>", f);
+                } else
+                    fputs("&ndash;", f);
+                fputs("</td>", f);
+            }
+            fputs("<td class=\"n\">", f);
+            if (!r->error)
+                put_estimate(f, r->fit.ea_J_mol / 1000, r->fit.ea_se_J_mol / 1000,
+                             r->t_quantile, 1);
+            else
+                fputs("&ndash;", f);
+            fprintf(f, "</td><td class=\"n\">%zu of %zu</td><td>", r->n_used,
+                    r->sample->n_points);
+            arrank_report_html_text(f, r->error ? r->error : "");
+            fputs("</td></tr>\n", f);
+        }
+    fputs("</tbody></table></div>\n", f);
 }
 
 static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_options *o,
@@ -980,16 +787,16 @@ static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_opti
     fputs("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n"
           "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n<title>",
           f);
-    html_text(f, title);
+    arrank_report_html_text(f, title);
     fputs(" &ndash; arrank review report</title>\n<style>", f);
     fputs(css, f);
     fputs("</style>\n</head>\n<body>\n<header>\n<h1>", f);
-    html_text(f, title);
+    arrank_report_html_text(f, title);
     fputs("</h1>\n<p>Review report of the campaign <code>", f);
-    html_text(f, c && c->name ? c->name : "");
+    arrank_report_html_text(f, c && c->name ? c->name : "");
     fprintf(f, "</code>: %zu sample%s, %zu fitted, %zu ranked; rates in ", a->n_results,
             a->n_results == 1 ? "" : "s", n_fit, a->n_ranked);
-    html_text(f, unit_of(a));
+    arrank_report_html_text(f, arrank_report_unit(a));
     if (isfinite(a->options.operating_temp_K))
         fprintf(f, "; operating temperature %.2f &deg;C (%.2f K)",
                 a->options.operating_temp_K - ZERO_C_K, a->options.operating_temp_K);
@@ -998,19 +805,26 @@ static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_opti
     put_cautions(f, a);
     if (fs->status != ARRANK_OK) {
         fputs("<p class=\"note\">The figures could not be drawn: ", f);
-        html_text(f, fs->message);
+        arrank_report_html_text(f, fs->message);
         fputs(".</p>\n", f);
     }
     arrank_reference_html_write(a, f); /* the reference leads (reference_out.c) */
     fputs("<h2>Ranking</h2>\n", f);
     put_ranking(f, a);
-    put_figure(f, fs, ARRANK_FIGURE_RATE_AT_T, (size_t)-1);
+    arrank_report_put_figure(f, fs, ARRANK_FIGURE_RATE_AT_T, (size_t)-1);
     fputs("<h2>All samples</h2>\n", f);
-    put_figure(f, fs, ARRANK_FIGURE_ARRHENIUS, (size_t)-1);
-    put_figure(f, fs, ARRANK_FIGURE_EA_LNA, (size_t)-1);
+    arrank_report_put_figure(f, fs, ARRANK_FIGURE_ARRHENIUS, (size_t)-1);
+    arrank_report_put_figure(f, fs, ARRANK_FIGURE_EA_LNA, (size_t)-1);
     fputs("<h2>Samples one by one</h2>\n", f);
-    for (size_t i = 0; i < a->n_results; i++)
-        put_sample(f, a, i, fs);
+    size_t n_brief = 0;
+    for (size_t i = 0; i < a->n_results; i++) {
+        if (in_detail(a, &a->results[i]))
+            arrank_report_put_sample(f, a, i, fs);
+        else
+            n_brief++;
+    }
+    if (n_brief)
+        put_brief(f, a, n_brief);
     put_methods(f, a);
 
     fputs("<h2>Record</h2>\n<p>Made by arrank " ARRANK_VERSION, f);
@@ -1021,7 +835,7 @@ static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_opti
     fputs(".</p>\n", f);
     if (o->command_line) {
         fputs("<p>Command line: <code>", f);
-        html_text(f, o->command_line);
+        arrank_report_html_text(f, o->command_line);
         fputs("</code></p>\n", f);
     }
     put_inputs(f, a);

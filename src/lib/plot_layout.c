@@ -1,0 +1,244 @@
+/*
+ * plot_layout.c - placing text, plot areas and legends on a figure's canvas
+ * in px (the plot family; house style in plot_style.c).  Every label is
+ * placed here, at a position computed from the canvas and the font, so that
+ * nothing is left to gnuplot's own guess of text widths.
+ */
+#include <math.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "arrank/cautions.h"
+#include "plot_internal.h"
+
+double arrank_plot_sx(const script *s, double x_px)
+{
+    return x_px / s->W;
+}
+
+double arrank_plot_sy(const script *s, double y_px)
+{
+    return 1.0 - y_px / s->H;
+}
+
+void arrank_plot_area(script *s, double l, double t, double r, double b)
+{
+    s->l = l;
+    s->t = t;
+    s->r = r;
+    s->b = b;
+    fprintf(s->f,
+            "set lmargin at screen %.6f\nset rmargin at screen %.6f\n"
+            "set tmargin at screen %.6f\nset bmargin at screen %.6f\n"
+            "set object 90 rect from graph 0, graph 0 to graph 1, graph 1 behind "
+            "fc rgb '" ARRANK_PLOT_AREA_FILL "' fs solid 1.0 noborder\n",
+            arrank_plot_sx(s, l), arrank_plot_sx(s, r), arrank_plot_sy(s, t),
+            arrank_plot_sy(s, b));
+}
+
+void arrank_plot_text(script *s, double x_px, double y_px, const char *align, double font_frac,
+                      const char *color, int rotate, const char *text)
+{
+    FILE *f = s->f;
+    fputs("set label ", f);
+    arrank_plot_put_q(f, text);
+    fprintf(f, " at screen %.6f, screen %.6f %s%s font ',%d' tc rgb '%s' front\n",
+            arrank_plot_sx(s, x_px), arrank_plot_sy(s, y_px), align,
+            rotate ? " rotate by 90" : " norotate", arrank_plot_font_of(s, font_frac),
+            color ? color : ARRANK_INK);
+}
+
+void arrank_plot_fit_text(const char *text, double max_px, double font_px, char *out, size_t n)
+{
+    if (!n)
+        return;
+    const char *t = text ? text : "";
+    size_t max_chars = (size_t)fmax(1.0, floor(max_px / (ARRANK_CHAR_EM * font_px)));
+    size_t chars = arrank_plot_chars(t);
+    if (chars <= max_chars) {
+        snprintf(out, n, "%s", t);
+        return;
+    }
+    /* keep max_chars - 1 code points, then the ellipsis */
+    size_t keep = max_chars - 1, c = 0, k = 0;
+    for (; t[k] && c <= keep; k++)
+        if (((unsigned char)t[k] & 0xC0) != 0x80) {
+            if (c == keep)
+                break;
+            c++;
+        }
+    snprintf(out, n, "%.*s…", (int)k, t);
+}
+
+#define PAD_PX(s) (0.8 * (s)->fpx)
+#define HEAD_FRAC 1.15
+#define SUB_FRAC 0.8
+#define CAPTION_FRAC 0.72
+
+double arrank_plot_head(script *s, const char *name)
+{
+    double pad = PAD_PX(s), y = pad + 0.6 * HEAD_FRAC * s->fpx;
+    char buf[512];
+    arrank_plot_fit_text(name, s->W - 2 * pad, HEAD_FRAC * s->fpx, buf, sizeof buf);
+    arrank_plot_text(s, pad, y, "left", HEAD_FRAC, ARRANK_INK, 0, buf);
+    y += 0.6 * HEAD_FRAC * s->fpx;
+    if (s->title && *s->title) {
+        y += 0.35 * s->fpx + 0.6 * SUB_FRAC * s->fpx;
+        arrank_plot_fit_text(s->title, s->W - 2 * pad, SUB_FRAC * s->fpx, buf, sizeof buf);
+        arrank_plot_text(s, pad, y, "left", SUB_FRAC, ARRANK_INK_SOFT, 0, buf);
+        y += 0.6 * SUB_FRAC * s->fpx;
+    }
+    return y + 0.4 * s->fpx;
+}
+
+double arrank_plot_caption_px(const script *s, size_t n)
+{
+    return (double)(n + 1) * 1.4 * CAPTION_FRAC * s->fpx + PAD_PX(s) * 0.6;
+}
+
+void arrank_plot_captions(script *s, const char *const *lines, size_t n)
+{
+    double pad = PAD_PX(s), step = 1.4 * CAPTION_FRAC * s->fpx;
+    double y = s->H - pad * 0.6 - 0.7 * step;
+    char buf[1024];
+    arrank_plot_fit_text(ARRANK_CAUTION_APPARENT, s->W - 2 * pad, CAPTION_FRAC * s->fpx, buf,
+                         sizeof buf);
+    arrank_plot_text(s, pad, y, "left", CAPTION_FRAC, ARRANK_INK_SOFT, 0, buf);
+    for (size_t k = n; k-- > 0;) {
+        if (!lines[k] || !lines[k][0])
+            continue;
+        y -= step;
+        arrank_plot_fit_text(lines[k], s->W - 2 * pad, CAPTION_FRAC * s->fpx, buf, sizeof buf);
+        arrank_plot_text(s, pad, y, "left", CAPTION_FRAC, ARRANK_INK_SOFT, 0, buf);
+    }
+}
+
+void arrank_plot_hidden_line(const script *s, char *buf, size_t n)
+{
+    const arrank_analysis *a = s->a;
+    size_t len = 0, hidden = 0, named = 0;
+    buf[0] = '\0';
+    for (size_t i = 0; i < a->n_results; i++)
+        hidden += !s->shown[i];
+    if (!hidden)
+        return;
+    len = (size_t)snprintf(buf, n, "not drawn here (%zu; --show to choose): ", hidden);
+    double room = s->W - 2 * PAD_PX(s) - 12 * ARRANK_CHAR_EM * CAPTION_FRAC * s->fpx;
+    /* in ranking order, so the first named are the nearest to the top */
+    for (size_t pass = 0; pass < 2; pass++)
+        for (size_t k = 0; k < a->n_results; k++) {
+            size_t i = pass == 0 ? (k < a->n_ranked && a->order ? a->order[k] : SIZE_MAX) : k;
+            if (i == SIZE_MAX || (pass == 1 && a->results[i].rank > 0) || s->shown[i])
+                continue;
+            const char *id = arrank_plot_sample_name(&a->results[i]);
+            double need = arrank_plot_text_px(buf, CAPTION_FRAC * s->fpx) +
+                          arrank_plot_text_px(id, CAPTION_FRAC * s->fpx);
+            if (need > room || len + strlen(id) + 3 >= n)
+                continue;
+            len += (size_t)snprintf(buf + len, n - len, "%s%s", named ? ", " : "", id);
+            named++;
+        }
+    if (named < hidden && len + 32 < n)
+        snprintf(buf + len, n - len, "%s%zu more", named ? " and " : "", hidden - named);
+}
+
+static int tic_decimals(double step)
+{
+    int d = (int)ceil(-log10(step) - 1e-9);
+    if (fabs(step * pow(10.0, d) - round(step * pow(10.0, d))) > 1e-6)
+        d++; /* 2.5 steps */
+    return d < 0 ? 0 : d > 6 ? 6 : d;
+}
+
+size_t arrank_plot_tic_chars(double lo, double hi, double max_tics)
+{
+    if (!(hi > lo) || !isfinite(hi - lo))
+        return 6;
+    double step = arrank_plot_nice_step(hi - lo, max_tics);
+    int d = tic_decimals(step);
+    char a[64], b[64];
+    snprintf(a, sizeof a, "%.*f", d, ceil(lo / step) * step);
+    snprintf(b, sizeof b, "%.*f", d, floor(hi / step) * step);
+    return strlen(a) > strlen(b) ? strlen(a) : strlen(b);
+}
+
+size_t arrank_plot_linear_tics(FILE *f, const char *axis, double lo, double hi, double max_tics)
+{
+    if (!(hi > lo) || !isfinite(hi - lo)) {
+        fprintf(f, "set %stics out\n", axis);
+        return 6;
+    }
+    double step = arrank_plot_nice_step(hi - lo, max_tics);
+    int d = tic_decimals(step);
+    fprintf(f, "set %stics out (", axis);
+    size_t widest = 0;
+    int n = 0;
+    for (double v = ceil(lo / step) * step; v <= hi + 1e-9 * (hi - lo) && n < 40; v += step) {
+        double vv = fabs(v) < 1e-9 * step ? 0.0 : v;
+        char lab[64];
+        snprintf(lab, sizeof lab, "%.*f", d, vv);
+        widest = strlen(lab) > widest ? strlen(lab) : widest;
+        fprintf(f, "%s'%s' %.9g", n ? ", " : "", lab, vv);
+        n++;
+    }
+    fputs(")\n", f);
+    return widest;
+}
+
+void arrank_plot_put_line_look(FILE *f, const arrank_analysis *a, size_t i, double lw)
+{
+    arrank_plot_look k = arrank_plot_look_of(a, i);
+    fprintf(f, "lc rgb '%s' dt %s lw %.3g", k.color, arrank_plot_dash(k.dash),
+            lw * k.line_width);
+}
+
+#define LEGEND_FRAC 0.78
+
+size_t arrank_plot_legend_rows(const script *s, const size_t *idx, size_t n, double w_px,
+                               size_t *cols)
+{
+    double widest = 0;
+    for (size_t k = 0; k < n; k++)
+        widest = fmax(widest, arrank_plot_text_px(arrank_plot_sample_name(&s->a->results[idx[k]]),
+                                                  LEGEND_FRAC * s->fpx));
+    double col_w = widest + 3.6 * s->fpx;
+    size_t c = (size_t)fmax(1.0, floor(w_px / col_w));
+    if (c > n)
+        c = n ? n : 1;
+    *cols = c;
+    return (n + c - 1) / c;
+}
+
+int arrank_plot_legend(script *s, const size_t *idx, size_t n, double x0, double y0, double x1,
+                       double y1, int with_lines)
+{
+    size_t cols;
+    size_t rows = arrank_plot_legend_rows(s, idx, n, x1 - x0, &cols);
+    double row_h = 1.45 * LEGEND_FRAC * s->fpx;
+    if (n == 0 || (double)rows * row_h > y1 - y0 + 1e-9)
+        return 0;
+    double col_w = (x1 - x0) / (double)cols;
+    FILE *f = s->f;
+    for (size_t k = 0; k < n; k++) {
+        size_t i = idx[k];
+        double x = x0 + (double)(k / rows) * col_w, y = y0 + ((double)(k % rows) + 0.5) * row_h;
+        arrank_plot_look lk = arrank_plot_look_of(s->a, i);
+        if (with_lines)
+            fprintf(f, "set arrow from screen %.6f, screen %.6f to screen %.6f, screen %.6f "
+                       "nohead lc rgb '%s' dt %s lw 1.5 front\n",
+                    arrank_plot_sx(s, x), arrank_plot_sy(s, y),
+                    arrank_plot_sx(s, x + 2.4 * s->fpx), arrank_plot_sy(s, y), lk.color,
+                    arrank_plot_dash(lk.dash));
+        fprintf(f, "set label '' at screen %.6f, screen %.6f point pt %d ps PS lc rgb '%s' "
+                   "front\n",
+                arrank_plot_sx(s, x + 1.2 * s->fpx), arrank_plot_sy(s, y), lk.point_filled,
+                lk.color);
+        char buf[256];
+        arrank_plot_fit_text(arrank_plot_sample_name(&s->a->results[i]),
+                             col_w - 3.0 * s->fpx, LEGEND_FRAC * s->fpx, buf, sizeof buf);
+        arrank_plot_text(s, x + 2.9 * s->fpx, y, "left", LEGEND_FRAC, ARRANK_INK, 0, buf);
+    }
+    return 1;
+}
