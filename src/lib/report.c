@@ -7,7 +7,8 @@
  * namespace declarations (HTML puts inline <svg> in the SVG namespace itself),
  * and its element ids are prefixed per figure so that several gnuplot figures
  * can share one page without their ids colliding.  User strings are written
- * only through html_text, which escapes them and drops control characters.
+ * only through arrank_text_html (text.c), which escapes them and drops
+ * control characters.
  *
  * Each sample's section carries the diagnostics in plain words (the text of
  * arrank_diagnosis_write_text, one list item per line), the points left out
@@ -25,6 +26,7 @@
 /* mkdtemp and fsync are POSIX 2008 / XSI. */
 #define _XOPEN_SOURCE 700
 
+#include "arrank/text.h"
 #include "arrank/report.h"
 #include "reference_out.h"
 
@@ -87,67 +89,6 @@ arrank_status arrank_report_sha256_file(const char *path, char hex[65], arrank_e
 }
 
 /* ---- text --------------------------------------------------------------- */
-
-/* Length of the valid UTF-8 sequence at s, 0 if none (RFC 3629). */
-static size_t utf8_len(const unsigned char *s)
-{
-    unsigned c = s[0];
-    size_t n;
-    unsigned lo = 0x80, hi = 0xBF;
-    if (c < 0x80)
-        return 1;
-    if (c >= 0xC2 && c <= 0xDF)
-        n = 2;
-    else if (c >= 0xE0 && c <= 0xEF) {
-        n = 3;
-        lo = c == 0xE0 ? 0xA0 : 0x80;
-        hi = c == 0xED ? 0x9F : 0xBF;
-    } else if (c >= 0xF0 && c <= 0xF4) {
-        n = 4;
-        lo = c == 0xF0 ? 0x90 : 0x80;
-        hi = c == 0xF4 ? 0x8F : 0xBF;
-    } else
-        return 0;
-    for (size_t k = 1; k < n; k++) {
-        if (s[k] < lo || s[k] > hi)
-            return 0;
-        lo = 0x80;
-        hi = 0xBF;
-    }
-    return n;
-}
-
-/* User text as HTML: & < > " ' escaped, control characters dropped, bytes
-   that are not UTF-8 shown as U+FFFD. */
-void arrank_report_html_text(FILE *f, const char *text)
-{
-    const unsigned char *s = (const unsigned char *)(text ? text : "");
-    while (*s) {
-        size_t n = utf8_len(s);
-        if (n == 0) {
-            fputs("\xEF\xBF\xBD", f);
-            s++;
-            continue;
-        }
-        if (n == 1) {
-            unsigned c = *s;
-            if (c == '&')
-                fputs("&amp;", f);
-            else if (c == '<')
-                fputs("&lt;", f);
-            else if (c == '>')
-                fputs("&gt;", f);
-            else if (c == '"')
-                fputs("&quot;", f);
-            else if (c == '\'')
-                fputs("&#39;", f);
-            else if (c >= 0x20 && c != 0x7F)
-                fputc((int)c, f);
-        } else if (!(n == 2 && s[0] == 0xC2 && s[1] <= 0x9F)) /* C1 controls */
-            fwrite(s, 1, n, f);
-        s += n;
-    }
-}
 
 /* A number with `digits` decimals (fixed) or, with digits < 0, -digits
    significant digits. */
@@ -370,9 +311,9 @@ void arrank_report_put_figure(FILE *f, const figure_set *fs, arrank_figure_kind 
         fputs("<figure>\n", f);
         inline_svg(f, fs->svg[k], ++fig_counter);
         fputs("\n<figcaption>", f);
-        arrank_report_html_text(f, figure_caption(kind));
+        arrank_text_html(f, figure_caption(kind));
         fputs(" <span class=\"file\">(", f);
-        arrank_report_html_text(f, pf->name);
+        arrank_text_html(f, pf->name);
         fputs(" in <code>arrank plot</code>)</span></figcaption>\n</figure>\n", f);
     }
 }
@@ -467,7 +408,7 @@ static void put_flag_names(FILE *f, unsigned flags)
                 continue;
             if (any)
                 fputs(", ", f);
-            arrank_report_html_text(f, name);
+            arrank_text_html(f, name);
             any = 1;
         }
     if (!any)
@@ -509,7 +450,7 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
     fputs("<div class=\"wide\"><table>\n<thead><tr><th>rank</th><th>sample</th>", f);
     if (isfinite(T_op)) {
         fprintf(f, "<th>rate at %.4g &deg;C [", T_op - ZERO_C_K);
-        arrank_report_html_text(f, arrank_report_unit(a));
+        arrank_text_html(f, arrank_report_unit(a));
         fprintf(f, "] (%.4g %% interval)</th>", 100 * a->options.confidence);
     }
     int stats = a->rank_stats != NULL;
@@ -537,12 +478,12 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
                 fputs("&ndash;", f);
             fputs("</td><td>", f);
             arrank_report_put_swatch(f, a, i);
-            arrank_report_html_text(f, r->sample->id);
+            arrank_text_html(f, r->sample->id);
             fputs("</td>", f);
             if (r->error) {
                 fprintf(f, "<td colspan=\"%d\">%s: ", (isfinite(T_op) ? 6 : 5) + (stats ? 2 : 0),
                         r->sample->skipped ? "file not used" : "not fitted");
-                arrank_report_html_text(f, r->error);
+                arrank_text_html(f, r->error);
                 fputs("</td></tr>\n", f);
                 continue;
             }
@@ -593,7 +534,7 @@ static void put_ranking(FILE *f, const arrank_analysis *a)
             if (strncmp(sentence, "compensation: ", 14) == 0)
                 sentence += 14;
             fputs("</p>\n<p><b>Compensation.</b> ", f);
-            arrank_report_html_text(f, sentence);
+            arrank_text_html(f, sentence);
             fputs(".", f);
         }
     }
@@ -648,7 +589,7 @@ static void put_cautions(FILE *f, const arrank_analysis *a)
         fputs("<li><b>", f);
         if (lines[k][0] >= 'a' && lines[k][0] <= 'z') /* a sentence here */
             fputc(lines[k][0] - 'a' + 'A', f);
-        arrank_report_html_text(f, lines[k] + (lines[k][0] >= 'a' && lines[k][0] <= 'z'));
+        arrank_text_html(f, lines[k] + (lines[k][0] >= 'a' && lines[k][0] <= 'z'));
         fputs(".</b>", f);
         if (k == 0)
             fputs(" The fitted parameters are apparent values, valid only for the conditions "
@@ -693,7 +634,7 @@ static void put_inputs(FILE *f, const arrank_analysis *a)
         const arrank_sample *s = a->results[i].sample;
         char hex[65];
         fputs("<tr><td><code>", f);
-        arrank_report_html_text(f, s->file ? s->file : s->path);
+        arrank_text_html(f, s->file ? s->file : s->path);
         fputs("</code></td><td class=\"hash\">", f);
         if (s->path && arrank_report_sha256_file(s->path, hex, NULL) == ARRANK_OK)
             fputs(hex, f);
@@ -726,7 +667,7 @@ static void put_brief(FILE *f, const arrank_analysis *a, size_t n_brief)
           f);
     if (isfinite(T_op)) {
         fprintf(f, "<th>rate at %.4g &deg;C [", T_op - ZERO_C_K);
-        arrank_report_html_text(f, arrank_report_unit(a));
+        arrank_text_html(f, arrank_report_unit(a));
         fprintf(f, "] (%.4g %% interval)</th>", 100 * a->options.confidence);
     }
     fprintf(f, "<th>Ea [kJ mol<sup>&minus;1</sup>] (%.4g %% interval)</th><th>points</th>"
@@ -745,7 +686,7 @@ static void put_brief(FILE *f, const arrank_analysis *a, size_t n_brief)
                 fputs("&ndash;", f);
             fputs("</td><td>", f);
             arrank_report_put_swatch(f, a, i);
-            arrank_report_html_text(f, r->sample->id);
+            arrank_text_html(f, r->sample->id);
             fputs("</td>", f);
             if (isfinite(T_op)) {
                 fputs("<td class=\"n\">", f);
@@ -768,7 +709,7 @@ static void put_brief(FILE *f, const arrank_analysis *a, size_t n_brief)
                 fputs("&ndash;", f);
             fprintf(f, "</td><td class=\"n\">%zu of %zu</td><td>", r->n_used,
                     r->sample->n_points);
-            arrank_report_html_text(f, r->error ? r->error : "");
+            arrank_text_html(f, r->error ? r->error : "");
             fputs("</td></tr>\n", f);
         }
     fputs("</tbody></table></div>\n", f);
@@ -787,16 +728,16 @@ static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_opti
     fputs("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n"
           "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n<title>",
           f);
-    arrank_report_html_text(f, title);
+    arrank_text_html(f, title);
     fputs(" &ndash; arrank review report</title>\n<style>", f);
     fputs(css, f);
     fputs("</style>\n</head>\n<body>\n<header>\n<h1>", f);
-    arrank_report_html_text(f, title);
+    arrank_text_html(f, title);
     fputs("</h1>\n<p>Review report of the campaign <code>", f);
-    arrank_report_html_text(f, c && c->name ? c->name : "");
+    arrank_text_html(f, c && c->name ? c->name : "");
     fprintf(f, "</code>: %zu sample%s, %zu fitted, %zu ranked; rates in ", a->n_results,
             a->n_results == 1 ? "" : "s", n_fit, a->n_ranked);
-    arrank_report_html_text(f, arrank_report_unit(a));
+    arrank_text_html(f, arrank_report_unit(a));
     if (isfinite(a->options.operating_temp_K))
         fprintf(f, "; operating temperature %.2f &deg;C (%.2f K)",
                 a->options.operating_temp_K - ZERO_C_K, a->options.operating_temp_K);
@@ -805,7 +746,7 @@ static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_opti
     put_cautions(f, a);
     if (fs->status != ARRANK_OK) {
         fputs("<p class=\"note\">The figures could not be drawn: ", f);
-        arrank_report_html_text(f, fs->message);
+        arrank_text_html(f, fs->message);
         fputs(".</p>\n", f);
     }
     arrank_reference_html_write(a, f); /* the reference leads (reference_out.c) */
@@ -835,7 +776,7 @@ static void put_page(FILE *f, const arrank_analysis *a, const arrank_report_opti
     fputs(".</p>\n", f);
     if (o->command_line) {
         fputs("<p>Command line: <code>", f);
-        arrank_report_html_text(f, o->command_line);
+        arrank_text_html(f, o->command_line);
         fputs("</code></p>\n", f);
     }
     put_inputs(f, a);

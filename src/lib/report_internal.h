@@ -22,9 +22,6 @@ typedef struct {
     char message[ARRANK_ERROR_MSG_MAX];
 } figure_set;
 
-/* User text as HTML: & < > " ' escaped, control characters dropped, bytes
-   that are not UTF-8 shown as U+FFFD. */
-void arrank_report_html_text(FILE *f, const char *text);
 /* A number with `digits` decimals (fixed) or, with digits < 0, -digits
    significant digits; a dash when not finite. */
 void arrank_report_html_num(FILE *f, double v, int digits);

@@ -9,6 +9,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "arrank/text.h"
 #include "arrank/analysis_stats.h"
 #include "arrank/diagnose.h"
 #include "arrank/diagnosis_out.h"
@@ -73,7 +74,7 @@ static void put_diagnosis(FILE *f, const arrank_result *r)
             if (prefix && strncmp(lead, prefix, strlen(prefix)) == 0)
                 lead += strlen(prefix);
             fputs("<p><b>Diagnostics:</b> ", f);
-            arrank_report_html_text(f, lead);
+            arrank_text_html(f, lead);
             fputs(".</p>\n", f);
             continue;
         }
@@ -92,12 +93,12 @@ static void put_diagnosis(FILE *f, const arrank_result *r)
         if (lab > 0 && lab <= 16) {
             line[lab] = '\0';
             fprintf(f, "<li class=\"%s\"><b>", strcmp(line, "problem") == 0 ? "problem" : "plain");
-            arrank_report_html_text(f, line);
+            arrank_text_html(f, line);
             fputs("</b>: ", f);
-            arrank_report_html_text(f, line + lab + 2);
+            arrank_text_html(f, line + lab + 2);
         } else {
             fputs("<li class=\"plain\">", f);
-            arrank_report_html_text(f, line);
+            arrank_text_html(f, line);
         }
         fputs("</li>\n", f);
     }
@@ -137,7 +138,7 @@ static void put_left_out(FILE *f, const arrank_result *r)
                                                 "pore-diffusion-like", "film-diffusion-like"};
             unsigned g = (unsigned)d->points[k].regime;
             fputs("<td>", f);
-            arrank_report_html_text(f, g < sizeof words / sizeof *words ? words[g] : "unclassified");
+            arrank_text_html(f, g < sizeof words / sizeof *words ? words[g] : "unclassified");
             fputs("</td>", f);
             reason = d->points[k].reason ? d->points[k].reason
                                          : "left out before the diagnostics";
@@ -145,7 +146,7 @@ static void put_left_out(FILE *f, const arrank_result *r)
         if (p->omitted) /* the reader's own reason for a point it could not use */
             reason = p->omitted;
         fputs("<td>", f);
-        arrank_report_html_text(f, reason);
+        arrank_text_html(f, reason);
         fputs("</td></tr>\n", f);
     }
     fputs("</tbody></table></div>\n", f);
@@ -162,10 +163,10 @@ static void put_prater(FILE *f, const arrank_prater *p)
     fputs(")</td><td class=\"n\">&ndash;</td><td class=\"n\">", f);
     arrank_report_html_num(f, p->temp_K, 1);
     fputs("</td><td>the most the centre can be hotter than the surface</td><td>", f);
-    arrank_report_html_text(f, p->detail);
+    arrank_text_html(f, p->detail);
     if (p->source) {
         fputs(" (", f);
-        arrank_report_html_text(f, p->source);
+        arrank_text_html(f, p->source);
         fputs(")", f);
     }
     fputs("</td></tr>\n", f);
@@ -213,10 +214,10 @@ static void put_criteria(FILE *f, const arrank_result *r)
         arrank_report_html_num(f, c->temp_K, 1);
         fprintf(f, "</td><td>%s</td><td>", c->passes ? "below the limit: negligible"
                                                      : rows[k].above);
-        arrank_report_html_text(f, c->detail);
+        arrank_text_html(f, c->detail);
         if (c->source) {
             fputs(" (limit: ", f);
-            arrank_report_html_text(f, c->source);
+            arrank_text_html(f, c->source);
             fputs(")", f);
         }
         fputs("</td></tr>\n", f);
@@ -233,27 +234,27 @@ void arrank_report_put_sample(FILE *f, const arrank_analysis *a, size_t i,
     const arrank_sample *s = r->sample;
     fprintf(f, "<section class=\"sample\">\n<h3 id=\"sample-%zu\">", i + 1);
     arrank_report_put_swatch(f, a, i);
-    arrank_report_html_text(f, s->id);
+    arrank_text_html(f, s->id);
     fputs("</h3>\n", f);
     /* the figure first: beside the words on a wide page and in print */
     arrank_report_put_figure(f, fs, ARRANK_FIGURE_DIAGNOSTICS, i);
     arrank_report_put_figure(f, fs, ARRANK_FIGURE_TIME_ON_STREAM, i);
     fputs("<p>File <code>", f);
-    arrank_report_html_text(f, s->file);
+    arrank_text_html(f, s->file);
     fprintf(f, "</code>, %zu points", s->n_points);
     for (size_t k = 0; k < s->n_meta; k++) {
         if (strcmp(s->meta[k].key, "sample") == 0)
             continue;
         fputs("; ", f);
-        arrank_report_html_text(f, s->meta[k].key);
+        arrank_text_html(f, s->meta[k].key);
         fputs(" = ", f);
-        arrank_report_html_text(f, s->meta[k].value);
+        arrank_text_html(f, s->meta[k].value);
     }
     fputs(".</p>\n", f);
     if (r->error) {
         fputs(s->skipped ? "<p class=\"note\">File not used and not ranked: "
                          : "<p class=\"note\">Not fitted and not ranked: ", f);
-        arrank_report_html_text(f, r->error);
+        arrank_text_html(f, r->error);
         fputs(".</p>\n</section>\n", f);
         return;
     }
@@ -301,9 +302,9 @@ void arrank_report_put_sample(FILE *f, const arrank_analysis *a, size_t i,
                 if (!words)
                     continue;
                 fputs("<li><b>", f);
-                arrank_report_html_text(f, arrank_plot_flag_short(1u << b));
+                arrank_text_html(f, arrank_plot_flag_short(1u << b));
                 fputs("</b>: ", f);
-                arrank_report_html_text(f, words);
+                arrank_text_html(f, words);
                 fputs("</li>\n", f);
             }
         fputs("</ul>\n", f);
@@ -314,7 +315,7 @@ void arrank_report_put_sample(FILE *f, const arrank_analysis *a, size_t i,
     put_criteria(f, r);
     for (size_t k = 0; k < s->n_notes; k++) {
         fputs("<p class=\"file\">Note: ", f);
-        arrank_report_html_text(f, s->notes[k]);
+        arrank_text_html(f, s->notes[k]);
         fputs("</p>\n", f);
     }
     fputs("</section>\n", f);
