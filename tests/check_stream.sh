@@ -90,6 +90,20 @@ ok_if "one temperature: the figure says why there is no drift line" \
     grep -q 'rates as measured; no drift line: sample not fitted: all 8 points are at one temperature' \
     "$T/iso-out/time-on-stream-01-I1_one_temperature.svg"
 
+# rates near the top of the double range (found by the pipeline fuzzer: the
+# axis reached gnuplot as "inf" and plot exited 4): drawn, axis kept finite
+mkdir "$T/huge"
+awk 'BEGIN {
+    print "# sample = H1 huge rates"
+    print "T [degC],rate [umol/(g*s)],time_on_stream [h]"
+    print "250,9.06e+265,0"; print "260,1.43e+267,0.705"; print "260,5.23e+256,1.1"
+    print "260,3.85e+266,0.776"; print "260,7.18e+289,7.09"; print "250,1.52e+260,6.59"
+}' >"$T/huge/H1.csv"
+"$A" plot "$T/huge" --at 260C --out "$T/huge-out" >/dev/null 2>"$T/err"; st=$?
+expect_eq "huge rates: plot exit 0" "$st" 0
+ok_if "huge rates: the time-on-stream figure drawn" \
+    test -s "$T/huge-out/time-on-stream-01-H1_huge_rates.svg"
+
 # the demo has no time_on_stream column: no such figure
 "$A" plot campaigns/zeolite-ni-screen --out "$T/demo" >/dev/null 2>&1
 ok_if "demo: no time-on-stream figure" sh -c "! ls '$T/demo' | grep -q time-on-stream"

@@ -204,7 +204,12 @@ void arrank_plot_fig_stream(script *s, size_t i)
         hi = 1.0;
     }
     double ypad = arrank_plot_min_pad(lo, hi, 0.08 * (hi - lo), 1.0);
-    double y0 = exp(lo - ypad), y1 = exp(hi + ypad), t0, t1;
+    /* within what gnuplot reads and prints (a wider exp reaches it as "inf";
+       the bounds are our choice, as the rate figure's) */
+    double y0 = fmin(fmax(exp(lo - ypad), 1e-300), 1e299);
+    double y1 = fmax(fmin(exp(hi + ypad), 1e300), 2.0 * y0), t0, t1;
+    lo = log(y0);
+    hi = log(y1);
     time_range(r, &t0, &t1);
 
     char name[256], words[600], key[300], buf[300];
