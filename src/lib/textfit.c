@@ -52,7 +52,7 @@ size_t arrank_textfit_chunk(const char **rest, size_t width, int at_commas)
     return end;
 }
 
-void arrank_textfit_reflow(FILE *f, const char *text, size_t width)
+static void reflow_with(FILE *f, const char *text, size_t width, int at_commas)
 {
     while (*text) {
         size_t len = strcspn(text, "\n");
@@ -69,7 +69,7 @@ void arrank_textfit_reflow(FILE *f, const char *text, size_t width)
         size_t w = width;
         do {
             const char *s = rest;
-            size_t n = arrank_textfit_chunk(&rest, w, 0);
+            size_t n = arrank_textfit_chunk(&rest, w, at_commas);
             fwrite(s, 1, n, f);
             fputc('\n', f);
             if (*rest)
@@ -78,6 +78,16 @@ void arrank_textfit_reflow(FILE *f, const char *text, size_t width)
         } while (*rest);
         free(line);
     }
+}
+
+void arrank_textfit_reflow(FILE *f, const char *text, size_t width)
+{
+    reflow_with(f, text, width, 0);
+}
+
+void arrank_textfit_reflow_list(FILE *f, const char *text, size_t width)
+{
+    reflow_with(f, text, width, 1);
 }
 
 /* ---- layout -------------------------------------------------------------- */

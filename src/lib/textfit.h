@@ -31,6 +31,9 @@ size_t arrank_textfit_chunk(const char **rest, size_t width, int at_commas);
 /* Text of several lines, each line longer than width wrapped at spaces, its
    continuation lines indented as the line is (at most half the width). */
 void arrank_textfit_reflow(FILE *f, const char *text, size_t width);
+/* The same for lists ("only in A: x 1, y 2"): lines broken after commas only,
+   unless an item is wider than the line. */
+void arrank_textfit_reflow_list(FILE *f, const char *text, size_t width);
 
 /* A grid of columns, in display order. */
 typedef struct {
