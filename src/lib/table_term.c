@@ -44,7 +44,7 @@ static const struct {
                       {"ln A", 0},    {"scatter", 0}, {"rate at T", 0},  {"bootstrap interval", 0},
                       {"flags", 0}};
 
-#define NAME_MAX_W 28  /* the widest id column, as piped (table.c NAME_WIDTH_MAX) */
+#define NAME_MAX_W ARRANK_TEXTFIT_ID_MAX /* the widest id column, as piped (table.c NAME_WIDTH_MAX) */
 #define NAME_MIN 10    /* the id column narrows down to this before anything else gives */
 #define FLAGS_MIN 16   /* the flags wrap at no less than this width (common flag names fit) */
 #define CELL_MIN 12    /* and any other column down to this, its cells wrapping */

@@ -194,7 +194,8 @@ void arrank_textfit_layout(arrank_textfit_grid *g, const size_t *cell_w, const i
         g->fill_need = g->w[g->fill];
     if (!arrank_textfit_fits(g) ||
         (g->width && fixed_width(g) + g->fill_need > g->width))
-        arrank_textfit_compact(g, cell_w, list, n, n_keep, narrow, 0, narrow_min, cell_min);
+        arrank_textfit_compact(g, cell_w, list, n, n_keep, narrow, ARRANK_TEXTFIT_ID_MAX,
+                               narrow_min, cell_min);
     arrank_textfit_settle(g);
 }
 

@@ -67,7 +67,9 @@ void arrank_textfit_compact(arrank_textfit_grid *g, const size_t *cell_w, const 
                             int n_keep, int narrow, size_t narrow_max, size_t narrow_min,
                             size_t cell_min);
 /* Natural widths (each column its widest cell or its whole head) when they
-   fit, else the compact layout above; then the fill column's width. */
+   fit, else the compact layout above (column narrow capped at
+   ARRANK_TEXTFIT_ID_MAX, as rank's id column); then the fill column's width. */
+#define ARRANK_TEXTFIT_ID_MAX 28
 void arrank_textfit_layout(arrank_textfit_grid *g, const size_t *cell_w, const int *list, int n,
                            int n_keep, int narrow, size_t narrow_min, size_t cell_min);
 /* The fill column takes the rest of the line (at least fill_min). */
