@@ -223,7 +223,7 @@ static inline double gauss(uint64_t *s)
 
 /* The widest line of text on a terminal: code points, not bytes, colour
    sequences (ESC [ ... m) not counted. */
-static inline size_t widest_line(const char *text)
+static inline size_t term_widest_line(const char *text)
 {
     size_t best = 0, w = 0;
     for (const char *p = text; *p; p++) {

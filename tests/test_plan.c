@@ -417,15 +417,15 @@ static void plan_on_terminals(const arrank_analysis *a, const arrank_plan *p)
     fclose(f);
     assert_string_equal(text, piped);
     free(text);
-    assert_true(widest_line(piped) > 120);
+    assert_true(term_widest_line(piped) > 120);
     static const size_t widths[] = {40, 50, 60, 72, 80, 100, 120, 200};
     for (size_t k = 0; k < sizeof widths / sizeof *widths; k++) {
         const arrank_table_options t = {widths[k], 0};
         f = open_memstream(&text, &len);
         assert_int_equal(arrank_plan_out_table_term(a, p, &t, f, &e), ARRANK_OK);
         fclose(f);
-        if (widest_line(text) > widths[k])
-            fail_msg("%zu columns: a line of %zu", widths[k], widest_line(text));
+        if (term_widest_line(text) > widths[k])
+            fail_msg("%zu columns: a line of %zu", widths[k], term_widest_line(text));
         for (size_t j = 0; j < p->n_entries; j++) { /* whole, or wrapped after its first word */
             const char *id = a->results[p->entries[j].result].sample->id;
             char first[64];

@@ -515,7 +515,7 @@ static void compare_on_terminals(const arrank_comparison *c)
     FILE *f = open_memstream(&piped, &len);
     assert_int_equal(arrank_compare_write(c, ARRANK_COMPARE_TABLE, f, &e), ARRANK_OK);
     fclose(f);
-    assert_true(widest_line(piped) > 120);
+    assert_true(term_widest_line(piped) > 120);
     f = open_memstream(&text, &len);
     const arrank_table_options none = {0, 0};
     assert_int_equal(arrank_compare_write_term(c, &none, f, &e), ARRANK_OK);
@@ -529,8 +529,8 @@ static void compare_on_terminals(const arrank_comparison *c)
             f = open_memstream(&text, &len);
             assert_int_equal(arrank_compare_write_term(c, &t, f, &e), ARRANK_OK);
             fclose(f);
-            if (widest_line(text) > widths[k])
-                fail_msg("%zu columns: a line of %zu", widths[k], widest_line(text));
+            if (term_widest_line(text) > widths[k])
+                fail_msg("%zu columns: a line of %zu", widths[k], term_widest_line(text));
             assert_null(strstr(text, "..."));
             assert_non_null(strstr(text, "Ni\xe2\x80\x93Mo/\xce\xb3-alumina"));
             assert_true((strstr(text, "(left out to fit") != NULL) == (widths[k] < 120));

@@ -312,11 +312,11 @@ static int term_prose(const arrank_comparison *c, int part, size_t width, FILE *
         for (int side = 0; side < 2; side++) {
             const char *const *ids = side ? c->only_b : c->only_a;
             size_t n = side ? c->n_only_b : c->n_only_a;
+            if (n)
+                fprintf(m, "only in %s:", side ? nb : na);
             for (size_t i = 0; i < n; i++) {
                 char *id = escaped(ids[i]);
-                fprintf(m, "%s%s%s", i ? ", " : side ? "only in " : "only in ",
-                        i ? "" : side ? nb : na, i ? "" : ": ");
-                fputs(id ? id : "", m);
+                fprintf(m, "%s %s", i ? "," : "", id ? id : "");
                 free(id);
             }
             if (n)

@@ -180,17 +180,22 @@ static int term_cells(const arrank_analysis *a, const arrank_plan *p,
     char *temps = NULL;
     size_t len = 0;
     FILE *m = open_memstream(&temps, &len);
+    size_t listed = 0;
     if (m) {
         for (size_t k = 0; k < p->n_runs; k++)
             if (p->runs[k].sample == e->result)
-                fprintf(m, "%s%.2f K x%zu", ftell(m) ? ", " : "", p->runs[k].temp_K,
+                fprintf(m, "%s%.2f K x%zu", listed++ ? ", " : "", p->runs[k].temp_K,
                         p->runs[k].repeats);
         if (fclose(m) != 0) {
             free(temps);
             temps = NULL;
         }
     }
-    cell[P_TEMPS] = temps && *temps ? temps : (free(temps), strdup("-"));
+    if (temps && listed == 0) { /* no run for this sample: "-", as piped */
+        free(temps);
+        temps = strdup("-");
+    }
+    cell[P_TEMPS] = temps;
     cell[P_ID] = malloc(n);
     cell[P_RUNS] = malloc(32);
     cell[P_RATE] = malloc(160);
