@@ -5,7 +5,11 @@
 # (characters counted, not bytes: the table has UTF-8) and say what they left
 # out; long ids wrap rather than being cut; colour only on a terminal and
 # never with NO_COLOR; --wide shows every column; piped output keeps every
-# column, the same whatever COLUMNS says.  Prints TAP.
+# column, the same whatever COLUMNS says.  The same for the reference's
+# block under rank's table (the two demo campaigns), compare's table (with
+# and without --reference) and plan's table (README "Comparing two
+# campaigns", "The reference catalyst", "Planning the next runs").
+# Prints TAP.
 # Env: ARRANK (program).
 set -u
 . tests/tap.sh
@@ -127,4 +131,127 @@ for ident in sys.argv[2:]:
           + " id of %d characters wraps onto %d lines, whole" % (len(ident), len(pieces)))
 PY
 tap_relay "$T/py"
+# ---- the reference's block, compare and plan on 80 columns ---------------
+B2=campaigns/zeolite-ni-batch2
+REF="ZN-01 H-beta"
+
+# ok_fits NAME FILE: no line over 80 characters
+ok_fits() {
+    w=$(widest "$2")
+    ok_if "$1 on 80 columns: no line over 80 ($w)" test "$w" -le 80
+}
+# ok_piped NAME TERMFILE ARGS...: piped, the same whatever COLUMNS says, no
+# colour, nothing said left out, and not the terminal's text
+ok_piped() {
+    name=$1 term=$2
+    shift 2
+    "$A" "$@" >"$T/p1" 2>/dev/null
+    COLUMNS=40 "$A" "$@" --wide >"$T/p2" 2>/dev/null
+    ok_if "$name piped: COLUMNS and --wide change nothing" cmp -s "$T/p1" "$T/p2"
+    ok_if "$name piped: nothing said left out, no colour" sh -c \
+        "! grep -q 'left out to fit' '$T/p1' && ! grep -q \"$(printf '\033')\" '$T/p1'"
+    ok_if "$name piped: not the terminal's text" sh -c "! cmp -s '$T/p1' '$term'"
+}
+
+# rank of the two demo campaigns: the reference's block under the table
+NO_COLOR=1 on_term 80 "$T/ref" "$A" rank "$DEMO" "$B2" --at 270C
+ok_fits "rank with the reference's block" "$T/ref"
+sed -n '/^against the reference/,$p' "$T/ref" >"$T/refblock"
+ok_if "reference block: a long id wrapped, whole (zeolite-ni-screen/ZN-09 beta-desilicated)" \
+    sh -c "grep -A1 '^  zeolite-ni-screen/ZN-09  *1\.89 \[1\.77, 2\.02\]' '$T/refblock' |
+           grep -q '^  beta-desilicated$'"
+ok_if "reference block: says what it left out" \
+    grep -q '^(left out to fit 80 columns: Ea difference; --wide' "$T/refblock"
+ok_if "reference block: every sample (18 rows)" \
+    test "$(grep -cE '  ([0-9.]+ \[|1 \(the reference\))' "$T/refblock")" -eq 18
+ok_if "reference block: the per-campaign line reflowed" \
+    grep -q '^\[2\.34, 2\.47\]; zeolite-ni-batch2 1\.99 \[1\.94, 2\.03\]$' "$T/refblock"
+NO_COLOR=1 on_term 80 "$T/refwide" "$A" rank "$DEMO" "$B2" --at 270C --wide
+ok_if "reference block --wide: the Ea difference shown" \
+    grep -q 'ZN-05 ferrierite  *0\.0506 \[0\.0482, 0\.053\]  0\.000  *+79\.5 \[+76\.0, +83\.1\]$' \
+    "$T/refwide"
+ok_if "reference block --wide: nothing left out" sh -c "! grep -q 'left out to fit' '$T/refwide'"
+ok_piped "rank with the reference" "$T/ref" rank "$DEMO" "$B2" --at 270C
+
+# compare, without and with --reference
+for ref in "" "$REF"; do
+    tag=${ref:+ --reference}
+    if [ -n "$ref" ]; then
+        NO_COLOR=1 on_term 80 "$T/cmp" "$A" compare "$DEMO" "$B2" --reference "$ref"
+        NO_COLOR=1 on_term 80 "$T/cmpwide" "$A" compare "$DEMO" "$B2" --reference "$ref" --wide
+    else
+        NO_COLOR=1 on_term 80 "$T/cmp" "$A" compare "$DEMO" "$B2"
+        NO_COLOR=1 on_term 80 "$T/cmpwide" "$A" compare "$DEMO" "$B2" --wide
+    fi
+    ok_fits "compare$tag" "$T/cmp"
+    ok_if "compare$tag: says what it left out" \
+        grep -q '^(left out to fit 80 columns: rate A, rate B, change, Ea verdict; --wide' "$T/cmp"
+    ok_if "compare$tag: the ratio, its verdict and the Ea change kept" \
+        grep -q '^ZN-09 beta-desilicated  *0\.[57][08][58] \[.*\]  changed  *+0\.1 \[-5\.6, +5\.7\]$' \
+        "$T/cmp"
+    ok_if "compare$tag: the unmatched ids wrapped after commas, whole" \
+        grep -q '^ZN-12 beta extrudate, ZN-13 Ni-rich Y, ZN-14 high-load ZSM-5$' "$T/cmp"
+    ok_if "compare$tag --wide: every column" \
+        grep -q '^sample  *rate A  *rate B  *B / A  *change  *verdict  *Ea B - A \[kJ/mol\]  *verdict$' \
+        "$T/cmpwide"
+    ok_if "compare$tag --wide: nothing left out" sh -c "! grep -q 'left out to fit' '$T/cmpwide'"
+    if [ -n "$ref" ]; then
+        ok_if "compare --reference: the reference's reason wraps in its span" \
+            sh -c "grep -q '  0\.826  *not compared: the reference: each$' '$T/cmp' &&
+                   grep -q '^  *rate is taken relative to it$' '$T/cmp'"
+        ok_piped "compare$tag" "$T/cmp" compare "$DEMO" "$B2" --reference "$ref"
+    else
+        ok_piped "compare" "$T/cmp" compare "$DEMO" "$B2"
+    fi
+done
+on_term 80 "$T/cmpcolour" "$A" compare "$DEMO" "$B2"
+ok_if "compare on a terminal: changed in colour" \
+    grep -q "$(printf '\033')\[33mchanged" "$T/cmpcolour"
+
+# compare of two folders with ids of 40 characters and more: whole, wrapped
+cp -r "$T/long" "$T/long2"
+NO_COLOR=1 on_term 80 "$T/cmplong" "$A" compare "$T/long" "$T/long2" --at 270C
+ok_fits "compare with long ids" "$T/cmplong"
+ok_if "compare with long ids: not cut with '...'" sh -c "! grep -q '\.\.\.' '$T/cmplong'"
+"$PY" - "$T/cmplong" "$id1" >"$T/py" <<'PY'
+import sys
+lines = open(sys.argv[1], encoding="utf-8").read().split("\n")
+head = next(l for l in lines if l.startswith("sample"))
+end = head.index("B / A")
+start = next(i for i, l in enumerate(lines) if l.startswith(sys.argv[2][:10]))
+pieces = [lines[start][:end].rstrip()]
+for l in lines[start + 1:]:
+    if not l[:end].strip() or l[end:].strip():  # a new row has cells past the id
+        break
+    pieces.append(l[:end].rstrip())
+whole = " ".join(pieces) == sys.argv[2]
+print(("ok" if whole and len(pieces) > 1 else "not ok")
+      + " compare: an id of %d characters wraps onto %d lines, whole"
+      % (len(sys.argv[2]), len(pieces)))
+PY
+tap_relay "$T/py"
+# plan on the demo
+PLAN="plan $DEMO --max-temperature 300C --budget 24"
+# shellcheck disable=SC2086
+NO_COLOR=1 on_term 80 "$T/plan" "$A" $PLAN
+ok_fits "plan" "$T/plan"
+ok_if "plan: the temperatures wrap after a comma, aligned in their column" sh -c \
+    "grep -q '^ZN-09 beta-desilicated  *18  543\.15 K x13,  ' '$T/plan' &&
+     grep -q '^                              563\.15 K x1,$' '$T/plan'"
+ok_if "plan: the budget line reflowed (no line break of the piped text kept)" \
+    grep -q '^most 10 K outside each sample.s kinetic window, never at or above its coldest$' \
+    "$T/plan"
+# at 60 columns the rates now -> expected are left out, and said so
+# shellcheck disable=SC2086
+NO_COLOR=1 on_term 60 "$T/plan60" "$A" $PLAN
+w=$(widest "$T/plan60")
+ok_if "plan on 60 columns: no line over 60 ($w)" test "$w" -le 60
+ok_if "plan on 60 columns: says what it left out" \
+    grep -q '^(left out to fit 60 columns: rate at T now -> expected;' "$T/plan60"
+# shellcheck disable=SC2086
+NO_COLOR=1 on_term 80 "$T/planwide" "$A" $PLAN --wide
+ok_if "plan --wide: the table as piped" sh -c \
+    "'$A' $PLAN 2>/dev/null | cmp -s - '$T/planwide'"
+# shellcheck disable=SC2086
+ok_piped "plan" "$T/plan" $PLAN
 tap_plan

@@ -221,4 +221,27 @@ static inline double gauss(uint64_t *s)
     return sqrt(-2.0 * log(u1)) * cos(6.283185307179586 * u2);
 }
 
+/* The widest line of text on a terminal: code points, not bytes, colour
+   sequences (ESC [ ... m) not counted. */
+static inline size_t term_widest_line(const char *text)
+{
+    size_t best = 0, w = 0;
+    for (const char *p = text; *p; p++) {
+        if (*p == '\033' && p[1] == '[') {
+            while (*p && *p != 'm')
+                p++;
+            if (!*p)
+                break;
+            continue;
+        }
+        if (*p == '\n') {
+            w = 0;
+            continue;
+        }
+        w += ((unsigned char)*p & 0xC0) != 0x80;
+        best = w > best ? w : best;
+    }
+    return best;
+}
+
 #endif

@@ -21,6 +21,7 @@
 #include "arrank/campaign.h"
 #include "arrank/fit.h"
 #include "arrank/plan.h"
+#include "arrank/plan_out.h"
 #include "arrank/verdicts.h"
 
 #define R_GAS ARRANK_R_J_MOL_K
@@ -397,6 +398,50 @@ static void demo_never_above_the_limit(void **state)
     arrank_campaign_free(c);
 }
 
+/* The plan's table on a terminal (README "Planning the next runs"): width 0
+   is the piped table byte for byte; from 40 to 200 columns no line is wider
+   than the terminal, every involved sample is there (whole from 60 columns
+   up; narrower, the ids wrap), and the intervals are
+   said left out when they are. */
+static void plan_on_terminals(const arrank_analysis *a, const arrank_plan *p)
+{
+    arrank_error e;
+    char *piped = NULL, *text = NULL;
+    size_t len = 0;
+    FILE *f = open_memstream(&piped, &len);
+    assert_int_equal(arrank_plan_out_table(a, p, f, &e), ARRANK_OK);
+    fclose(f);
+    f = open_memstream(&text, &len);
+    const arrank_table_options none = {0, 0};
+    assert_int_equal(arrank_plan_out_table_term(a, p, &none, f, &e), ARRANK_OK);
+    fclose(f);
+    assert_string_equal(text, piped);
+    free(text);
+    assert_true(term_widest_line(piped) > 120);
+    static const size_t widths[] = {40, 50, 60, 72, 80, 100, 120, 200};
+    for (size_t k = 0; k < sizeof widths / sizeof *widths; k++) {
+        const arrank_table_options t = {widths[k], 0};
+        f = open_memstream(&text, &len);
+        assert_int_equal(arrank_plan_out_table_term(a, p, &t, f, &e), ARRANK_OK);
+        fclose(f);
+        if (term_widest_line(text) > widths[k])
+            fail_msg("%zu columns: a line of %zu", widths[k], term_widest_line(text));
+        for (size_t j = 0; j < p->n_entries; j++) { /* whole, or wrapped after its first word */
+            const char *id = a->results[p->entries[j].result].sample->id;
+            char first[64];
+            snprintf(first, sizeof first, "%.*s", (int)strcspn(id, " "), id);
+            assert_non_null(strstr(text, widths[k] >= 60 ? id : first));
+        }
+        const char *out = strstr(text, "(left out to fit");
+        const char *iv = strstr(text, "] -> [");
+        assert_true(out != NULL || iv != NULL);
+        if (out)
+            assert_non_null(strstr(out, "rate at T")); /* the line is reflowed too */
+        free(text);
+    }
+    free(piped);
+}
+
 static void demo_same_plan_for_a_seed(void **state)
 {
     (void)state;
@@ -429,6 +474,7 @@ static void demo_same_plan_for_a_seed(void **state)
         if (p1->entries[j].runs)
             assert_true(p1->entries[j].rate_ci_expected[1] / p1->entries[j].rate_ci_expected[0] <
                         p1->entries[j].rate_ci_before[1] / p1->entries[j].rate_ci_before[0]);
+    plan_on_terminals(a1, p1);
     arrank_plan_free(p1);
     arrank_plan_free(p2);
     arrank_plan_free(p3);

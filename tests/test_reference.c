@@ -357,7 +357,7 @@ typedef struct {
     arrank_campaign c;
     arrank_sample s[CMP_SAMPLES];
     arrank_point p[CMP_SAMPLES][SIM_POINTS];
-    char id[CMP_SAMPLES][8];
+    char id[CMP_SAMPLES][96];
 } cmp_campaign;
 
 /* Eight catalysts, each with its own true Ea (60-110 kJ/mol) and rate; the
@@ -503,6 +503,43 @@ static void test_compare_reference_drift(void **state)
     assert_true(fm >= 0.9);
 }
 
+/* compare's table on a terminal (README "The table on a terminal"): width 0
+   is the piped table byte for byte; from 50 to 200 columns no line is wider
+   than the terminal, the long id is never cut with "...", and whatever is
+   left out is said. */
+static void compare_on_terminals(const arrank_comparison *c)
+{
+    arrank_error e;
+    char *piped = NULL, *text = NULL;
+    size_t len = 0;
+    FILE *f = open_memstream(&piped, &len);
+    assert_int_equal(arrank_compare_write(c, ARRANK_COMPARE_TABLE, f, &e), ARRANK_OK);
+    fclose(f);
+    assert_true(term_widest_line(piped) > 120);
+    f = open_memstream(&text, &len);
+    const arrank_table_options none = {0, 0};
+    assert_int_equal(arrank_compare_write_term(c, &none, f, &e), ARRANK_OK);
+    fclose(f);
+    assert_string_equal(text, piped);
+    free(text);
+    static const size_t widths[] = {50, 60, 72, 80, 100, 120, 200};
+    for (size_t k = 0; k < sizeof widths / sizeof *widths; k++)
+        for (int colour = 0; colour < 2; colour++) {
+            const arrank_table_options t = {widths[k], colour};
+            f = open_memstream(&text, &len);
+            assert_int_equal(arrank_compare_write_term(c, &t, f, &e), ARRANK_OK);
+            fclose(f);
+            if (term_widest_line(text) > widths[k])
+                fail_msg("%zu columns: a line of %zu", widths[k], term_widest_line(text));
+            assert_null(strstr(text, "..."));
+            assert_non_null(strstr(text, "Ni\xe2\x80\x93Mo/\xce\xb3-alumina"));
+            assert_true((strstr(text, "(left out to fit") != NULL) == (widths[k] < 120));
+            assert_true((strstr(text, "\033[") != NULL) == colour);
+            free(text);
+        }
+    free(piped);
+}
+
 /* A comparison's matching, unmatched ids and writers, on a small case. */
 static void test_compare_matching(void **state)
 {
@@ -520,6 +557,11 @@ static void test_compare_matching(void **state)
     cmp_fill(A, ea, ln_op, &seed, "fresh");
     cmp_fill(B, ea, ln_b, &seed, "aged");
     snprintf(B->id[7], sizeof B->id[7], "D8"); /* C8 only in A, D8 only in B */
+    /* an id of 60 code points, in both: the terminal's table wraps it whole */
+    static const char long_id[] = "Ni\xe2\x80\x93Mo/\xce\xb3-alumina extrudate, calcined "
+                                  "500 \xc2\xb0" "C, sulfided, lot 7";
+    snprintf(A->id[2], sizeof A->id[2], "%s", long_id);
+    snprintf(B->id[2], sizeof B->id[2], "%s", long_id);
     arrank_options o = arrank_options_defaults();
     o.operating_temp_K = SIM_T_OP;
     o.diagnose = 0;
@@ -551,6 +593,7 @@ static void test_compare_matching(void **state)
     for (size_t k = 0; k < sizeof keys / sizeof *keys; k++)
         assert_non_null(strstr(text, keys[k]));
     free(text);
+    compare_on_terminals(c);
     /* different temperatures are refused */
     arrank_analysis_free(b);
     o.operating_temp_K = SIM_T_OP + 10.0;

@@ -13,6 +13,7 @@
 
 #include "arrank/analysis.h"
 #include "arrank/error.h"
+#include "arrank/textfit.h"
 
 typedef enum {
     ARRANK_OUTPUT_TABLE = 0,       /* the table for people */
@@ -37,10 +38,7 @@ arrank_status arrank_output_write(const arrank_analysis *analysis, arrank_output
  * priority and a line under the rows names them, and ids, flags and reasons
  * wrap onto more lines (widths counted in code points).
  */
-typedef struct {
-    size_t width; /* columns of the terminal; 0: no limit */
-    int colour;   /* 1: ANSI colours (the caller checks NO_COLOR and the terminal) */
-} arrank_table_options;
+/* arrank_table_options: arrank/textfit.h (shared by every writer for a terminal). */
 
 arrank_status arrank_output_table(const arrank_analysis *analysis,
                                   const arrank_table_options *options, FILE *stream,

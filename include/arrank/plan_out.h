@@ -11,6 +11,7 @@
 #include "arrank/analysis.h"
 #include "arrank/error.h"
 #include "arrank/plan.h"
+#include "arrank/textfit.h"
 
 /*
  * The table: what the plan is for and its limits (the stated maximum
@@ -21,6 +22,17 @@
  */
 arrank_status arrank_plan_out_table(const arrank_analysis *analysis, const arrank_plan *plan,
                                     FILE *stream, arrank_error *err);
+
+/*
+ * The table fitted to a terminal (README "Planning the next runs"): with
+ * options NULL or width 0 the table above, byte for byte; else ids whole
+ * and wrapped, the temperatures wrapped after their commas, the rates
+ * (now -> expected) left out when the rest does not fit, and said so, and
+ * the lines above and below reflowed.  EIO, ENOMEM.
+ */
+arrank_status arrank_plan_out_table_term(const arrank_analysis *analysis, const arrank_plan *plan,
+                                         const arrank_table_options *options, FILE *stream,
+                                         arrank_error *err);
 
 /*
  * The run sheet, CSV: order,sample,temperature [degC],temperature [K],repeats,

@@ -12,6 +12,7 @@
 #include "arrank/analysis.h"
 #include "arrank/campaign.h"
 #include "arrank/error.h"
+#include "arrank/textfit.h"
 #include "arrank/units.h"
 
 /* Exit statuses (README "Exit status"; never renumbered). */
@@ -185,6 +186,11 @@ FILE *cli_stage_file(const char *path, int *rc);
 const char *cli_stage_dir(const char *dir, int *rc);
 int cli_stage_commit(void);
 void cli_stage_abort(void);
+
+/* The width and colour of the table on standard output: the terminal's
+   (TIOCGWINSZ, else COLUMNS, else 80; --wide: no limit), colour unless
+   NO_COLOR or TERM=dumb; piped or redirected {0, 0}, the piped table. */
+arrank_table_options cli_table_options(const cli_args *args);
 
 /*
  * The whole of `fit` and `rank` after parsing: open the session, print the

@@ -34,6 +34,7 @@ static const char usage[] =
     "                      report: table and figure on one page), compare.json and\n"
     "                      compare.csv beside it\n"
     "  --format svg|png|pdf  figure format, repeatable (default svg)\n"
+    "  --wide              on a terminal, every column of the table however wide\n"
     "  --reference ID      a reference catalyst tested in both: each rate is first\n"
     "                      taken relative to its own campaign's reference (the\n"
     "                      rig's drift corrected); default: as measured, unless\n"
@@ -149,7 +150,7 @@ int cmd_compare(int argc, char **argv)
     cli_args args;
     int rc = cli_parse(argc, argv,
                        OPT_MULTI | OPT_REFERENCE | OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_DIAGNOSE |
-                           OPT_MODEL | OPT_OUT_DIR | OPT_FORMAT,
+                           OPT_MODEL | OPT_OUT_DIR | OPT_FORMAT | OPT_TABLE,
                        usage, &args);
     if (rc != -1)
         return rc;
@@ -177,7 +178,8 @@ int cmd_compare(int argc, char **argv)
         rc = cli_exit_status(st, &err);
     }
     if (rc == -1 && !cli_outputs_to_stdout(&args)) {
-        st = arrank_compare_write(cmp, ARRANK_COMPARE_TABLE, stdout, &err);
+        const arrank_table_options topt = cli_table_options(&args);
+        st = arrank_compare_write_term(cmp, &topt, stdout, &err);
         if (st == ARRANK_OK && fflush(stdout) != 0)
             st = arrank_errorf(&err, ARRANK_EIO, "cannot write to standard output");
         if (st != ARRANK_OK) {

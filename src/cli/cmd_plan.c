@@ -57,6 +57,7 @@ static const char usage[] =
     "  --out DIR              draw plan.svg (the planned runs on the Arrhenius plot)\n"
     "                         into DIR\n"
     "  --format F             svg (default), png or pdf for the figure; repeatable\n"
+    "  --wide                 on a terminal, every column of the table however wide\n"
     "  --confidence C, --use-all, --drop-outliers, --conversion-limit X,\n"
     "  --no-diagnose, --run LABEL, --strict, --no-merge, --extrapolate\n"
     "                         as for 'arrank rank'\n"
@@ -250,7 +251,8 @@ static int outputs(const cli_args *args, const cli_session *s, const arrank_plan
     int to_stdout = (args->json_path && strcmp(args->json_path, "-") == 0) ||
                     (args->run_sheet_path && strcmp(args->run_sheet_path, "-") == 0);
     if (!to_stdout) {
-        arrank_status st = arrank_plan_out_table(s->analysis, p, stdout, &err);
+        const arrank_table_options topt = cli_table_options(args);
+        arrank_status st = arrank_plan_out_table_term(s->analysis, p, &topt, stdout, &err);
         if (st != ARRANK_OK) {
             cli_print_error(&err);
             return cli_exit_status(st, &err);
@@ -307,7 +309,7 @@ int cmd_plan(int argc, char **argv)
     cli_args args;
     int rc = cli_parse(argc, argv,
                        OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_DIAGNOSE | OPT_STATS |
-                           OPT_OUT_DIR | OPT_FORMAT | OPT_PLAN,
+                           OPT_OUT_DIR | OPT_FORMAT | OPT_PLAN | OPT_TABLE,
                        usage, &args);
     if (rc != -1)
         return rc;

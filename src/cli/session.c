@@ -305,9 +305,10 @@ int cli_write_outputs(const cli_args *args, const cli_session *s)
  * window size from the terminal, else COLUMNS, else 80; --wide: no limit),
  * coloured unless NO_COLOR is set and not empty (no-color.org) or TERM is
  * "dumb".  Piped or redirected, the table is the same as ever, every column,
- * for scripts (COLUMNS is not read then).
+ * for scripts (COLUMNS is not read then).  The same for compare's and a
+ * plan's table.
  */
-static arrank_table_options table_options(const cli_args *args)
+arrank_table_options cli_table_options(const cli_args *args)
 {
     arrank_table_options t = {0, 0};
     if (!isatty(STDOUT_FILENO))
@@ -343,7 +344,7 @@ int cli_analyse_and_print(cli_args *args, int need_T)
     /* JSON or CSV on stdout replaces the table there */
     int to_stdout = cli_outputs_to_stdout(args);
     if (!to_stdout) {
-        const arrank_table_options topt = table_options(args);
+        const arrank_table_options topt = cli_table_options(args);
         arrank_status st = arrank_output_table(s.analysis, &topt, stdout, &err);
         if (st == ARRANK_OK && fflush(stdout) != 0)
             st = arrank_errorf(&err, ARRANK_EIO, "cannot write to standard output");

@@ -15,6 +15,7 @@
 #include "arrank/version.h"
 #include "files.h"
 #include "number.h"
+#include "textfit.h"
 
 #define NAME_SHOWN 40
 
@@ -234,6 +235,189 @@ static arrank_status write_csv(const arrank_comparison *c, FILE *f, arrank_error
     arrank_files_csv_flush(row);
     free(row);
     return ferror(f) ? arrank_errorf(err, ARRANK_EIO, "write failed") : ARRANK_OK;
+}
+
+/* ---- on a terminal ------------------------------------------------------- */
+
+enum { K_ID, K_RA, K_RB, K_RATIO, K_CHG, K_VERD, K_EA, K_EVERD, K_COLS };
+
+#define ID_MIN 10   /* the id column narrows down to this, its ids wrapping */
+#define CELL_MIN 12 /* and any other column down to this */
+
+/* Text from a file, escaped and whole: a new string, NULL when out of memory. */
+static char *escaped(const char *text)
+{
+    size_t n = 4 * strlen(text ? text : "") + 1;
+    char *s = malloc(n);
+    if (s)
+        arrank_text_escape(text ? text : "", s, n);
+    return s;
+}
+
+typedef struct {
+    char cell[K_COLS][96];
+    char *id, *span; /* escaped, whole; span: "not compared: why" */
+} term_row;
+
+static int term_row_of(const arrank_compare_row *r, term_row *t)
+{
+    memset(t, 0, sizeof *t);
+    if (!(t->id = escaped(r->id)))
+        return 0;
+    snprintf(t->cell[K_RA], 96, "%.3g", r->rate_a);
+    snprintf(t->cell[K_RB], 96, "%.3g", r->rate_b);
+    if (!r->compared) {
+        if (isfinite(r->ratio_measured)) /* the reference: its rates as measured */
+            snprintf(t->cell[K_RATIO], 96, "%.3g", r->ratio_measured);
+        else
+            t->cell[K_RA][0] = t->cell[K_RB][0] = '\0';
+        char *why = escaped(r->why_not);
+        size_t n = why ? strlen(why) + 32 : 0;
+        if (why && (t->span = malloc(n)))
+            snprintf(t->span, n, "not compared: %s", why);
+        free(why);
+        return t->span != NULL;
+    }
+    snprintf(t->cell[K_RATIO], 96, "%.3g [%.3g, %.3g]", r->ratio, r->ratio_lo, r->ratio_hi);
+    percent(r->ratio, t->cell[K_CHG], 96);
+    snprintf(t->cell[K_VERD], 96, "%s", r->changed ? "changed" : "-");
+    snprintf(t->cell[K_EA], 96, "%+.1f [%+.1f, %+.1f]", r->ea.est / 1e3, r->ea.lo / 1e3,
+             r->ea.hi / 1e3);
+    snprintf(t->cell[K_EVERD], 96, "%s", r->ea_changed ? "changed" : "-");
+    return 1;
+}
+
+/* The lines above the table (0), below it (1) or the unmatched ids (2),
+   written into memory and reflowed onto f. */
+static int term_prose(const arrank_comparison *c, int part, size_t width, FILE *f)
+{
+    char *text = NULL, *na = escaped(c->a->campaign->name), *nb = escaped(c->b->campaign->name);
+    char *unit = escaped(c->a->campaign->rate_unit), *ref = escaped(c->reference);
+    size_t len = 0;
+    FILE *m = na && nb && unit && ref ? open_memstream(&text, &len) : NULL;
+    if (m && part == 0) {
+        fprintf(m, "compare '%s' (A) with '%s' (B): %zu sample%s in both, %g%% intervals\n", na,
+                nb, c->n_rows, c->n_rows == 1 ? "" : "s", 100.0 * c->confidence);
+        fprintf(m, "operating temperature %.2f K (%.2f degC); rates in %s\n", c->temp_K,
+                c->temp_K - 273.15, unit);
+        if (c->reference)
+            fprintf(m, "B / A: each rate first taken relative to its own campaign's reference "
+                       "%s (the rig's drift corrected); rate A and rate B as measured\n", ref);
+    } else if (m && part == 1) {
+        fprintf(m, "%zu of %zu compared sample%s changed in rate at T, %zu in Ea (two-sided "
+                   "tests, Holm's correction across the %zu samples, %g%%)\n",
+                c->n_changed, c->n_tests, c->n_tests == 1 ? "" : "s", c->n_ea_changed,
+                c->n_tests, 100.0 * (1.0 - c->confidence));
+    } else if (m) {
+        for (int side = 0; side < 2; side++) {
+            const char *const *ids = side ? c->only_b : c->only_a;
+            size_t n = side ? c->n_only_b : c->n_only_a;
+            if (n)
+                fprintf(m, "only in %s:", side ? nb : na);
+            for (size_t i = 0; i < n; i++) {
+                char *id = escaped(ids[i]);
+                fprintf(m, "%s %s", i ? "," : "", id ? id : "");
+                free(id);
+            }
+            if (n)
+                fputc('\n', m);
+        }
+    }
+    int ok = m && fclose(m) == 0;
+    if (ok)
+        (part == 2 ? arrank_textfit_reflow_list : arrank_textfit_reflow)(f, text, width);
+    free(text);
+    free(na);
+    free(nb);
+    free(unit);
+    free(ref);
+    return ok;
+}
+
+static void term_grid(const arrank_comparison *c, const term_row *rows, arrank_textfit_grid *g)
+{
+    size_t cell_w[K_COLS] = {0};
+    for (size_t i = 0; i < c->n_rows; i++)
+        for (int k = 0; k < K_COLS; k++) {
+            const char *s = k == K_ID ? rows[i].id : rows[i].cell[k];
+            size_t w = arrank_textfit_width(s, strlen(s));
+            cell_w[k] = w > cell_w[k] ? w : cell_w[k];
+        }
+    static const char *const head[K_COLS] = {"sample", "rate A", "rate B", "B / A", "change",
+                                             "verdict", "Ea B - A [kJ/mol]", "verdict"};
+    static const char *const words[K_COLS] = {"sample", "rate A",  "rate B", "B / A",
+                                              "change", "verdict", "Ea B - A", "Ea verdict"};
+    for (int k = 0; k < K_COLS; k++) {
+        g->head[k] = head[k];
+        g->words[k] = words[k];
+        g->present[k] = 1;
+    }
+    /* kept first: the id, the ratio and its verdict; left out first: rate B */
+    static const int priority[K_COLS] = {K_ID,  K_RATIO, K_VERD, K_EA,
+                                         K_EVERD, K_CHG, K_RA,   K_RB};
+    arrank_textfit_layout(g, cell_w, priority, K_COLS, 3, K_ID, ID_MIN, CELL_MIN);
+}
+
+static arrank_status write_table_term(const arrank_comparison *c, size_t width, int colour,
+                                      FILE *f, arrank_error *err)
+{
+    term_row *rows = calloc(c->n_rows ? c->n_rows : 1, sizeof *rows);
+    arrank_status st = rows ? ARRANK_OK : ARRANK_ENOMEM;
+    for (size_t i = 0; st == ARRANK_OK && i < c->n_rows; i++)
+        if (!term_row_of(&c->rows[i], &rows[i]))
+            st = ARRANK_ENOMEM;
+    arrank_textfit_grid g = {.n = K_COLS, .fill = -1, .width = width, .colour = colour};
+    if (st == ARRANK_OK) {
+        term_grid(c, rows, &g);
+        if (!term_prose(c, 0, width, f))
+            st = ARRANK_ENOMEM;
+    }
+    if (st == ARRANK_OK) {
+        fputc('\n', f);
+        arrank_textfit_heads(f, &g);
+        for (size_t i = 0; i < c->n_rows; i++) {
+            const char *cells[K_COLS], *sgr[K_COLS] = {0};
+            for (int k = 0; k < K_COLS; k++)
+                cells[k] = k == K_ID ? rows[i].id : rows[i].cell[k];
+            sgr[K_VERD] = c->rows[i].compared && c->rows[i].changed ? ARRANK_SGR_FLAGS : NULL;
+            sgr[K_EVERD] = c->rows[i].compared && c->rows[i].ea_changed ? ARRANK_SGR_FLAGS : NULL;
+            int from = isfinite(c->rows[i].ratio_measured) ? K_CHG : K_RA;
+            arrank_textfit_row(f, &g, cells, sgr, rows[i].span, from, ARRANK_SGR_ERROR);
+        }
+        arrank_textfit_left_out(f, &g);
+        fputc('\n', f);
+        if (!term_prose(c, 1, width, f) || !term_prose(c, 2, width, f))
+            st = ARRANK_ENOMEM;
+    }
+    if (st == ARRANK_OK) {
+        fputc('\n', f);
+        char caution[512];
+        snprintf(caution, sizeof caution, "Caution: %s.\n", ARRANK_CAUTION_APPARENT);
+        arrank_textfit_reflow(f, caution, width);
+    }
+    for (size_t i = 0; rows && i < c->n_rows; i++) {
+        free(rows[i].id);
+        free(rows[i].span);
+    }
+    free(rows);
+    if (st == ARRANK_OK && ferror(f))
+        st = ARRANK_EIO;
+    return st == ARRANK_OK ? st
+                           : arrank_errorf(err, st, st == ARRANK_EIO ? "write failed"
+                                                                     : "out of memory");
+}
+
+arrank_status arrank_compare_write_term(const arrank_comparison *c,
+                                        const arrank_table_options *options, FILE *f,
+                                        arrank_error *err)
+{
+    if (!options || options->width == 0) /* no limit: the table as piped */
+        return arrank_compare_write(c, ARRANK_COMPARE_TABLE, f, err);
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    arrank_status st = write_table_term(c, options->width, options->colour != 0, f, err);
+    arrank_numbers_c_leave(&env);
+    return st;
 }
 
 /* ---- the report page ------------------------------------------------------ */

@@ -54,10 +54,10 @@ arrank_status arrank_output_table(const arrank_analysis *analysis,
     arrank_numbers_c_enter(&env);
     arrank_status st =
         arrank_table_write_term(analysis, options->width, options->colour != 0, stream, err);
-    /* the reference catalyst's block, as under the piped table (its rows are
-       not fitted to the terminal's width) */
+    /* the reference catalyst's block, fitted to the same width */
     if (st == ARRANK_OK)
-        st = arrank_reference_table_write(analysis, stream, err);
+        st = arrank_reference_table_write_term(analysis, options->width, options->colour != 0,
+                                               stream, err);
     arrank_numbers_c_leave(&env);
     return st;
 }

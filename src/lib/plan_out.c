@@ -13,6 +13,7 @@
 #include "arrank/text.h"
 #include "files.h"
 #include "number.h"
+#include "textfit.h"
 
 #define ZERO_C_K 273.15 /* 0 degC in K, exact by definition of the Celsius scale */
 
@@ -44,7 +45,7 @@ static arrank_status stream_status(FILE *f, arrank_error *err)
 
 /* ---- table -------------------------------------------------------------- */
 
-static void put_goal(FILE *f, const arrank_plan *p)
+static void put_goal(FILE *f, const arrank_plan *p, char sep)
 {
     if (p->goal == ARRANK_GOAL_SEPARATE)
         fprintf(f, "goal: tell the leader apart from every other sample of its group at "
@@ -60,10 +61,10 @@ static void put_goal(FILE *f, const arrank_plan *p)
                    "level %g\n",
                 p->bend_J_mol / 1e3, p->level);
     fprintf(f, "budget: %zu new runs; candidates every %g K from the operating temperature, at "
-               "most %g K outside each sample's kinetic window,\nnever at or above its coldest "
+               "most %g K outside each sample's kinetic window,%cnever at or above its coldest "
                "point that is transport-limited or left out hotter than the window, and never "
-               "above\nthe stated maximum temperature %.2f K (%.2f degC)\n\n",
-            p->budget, p->step_K, p->reach_K, p->max_temp_K, p->max_temp_K - ZERO_C_K);
+               "above%cthe stated maximum temperature %.2f K (%.2f degC)\n\n",
+            p->budget, p->step_K, p->reach_K, sep, sep, p->max_temp_K, p->max_temp_K - ZERO_C_K);
 }
 
 /* The temperatures of one sample's runs, "543.15 K x6, 548.15 K x2". */
@@ -100,6 +101,9 @@ static void put_rows(FILE *f, const arrank_analysis *a, const arrank_plan *p)
     }
 }
 
+static arrank_status put_footer(FILE *f, const arrank_analysis *a, const arrank_plan *p,
+                                arrank_error *err);
+
 static arrank_status table_in_c(const arrank_analysis *a, const arrank_plan *p, FILE *f,
                                 arrank_error *err)
 {
@@ -107,9 +111,16 @@ static arrank_status table_in_c(const arrank_analysis *a, const arrank_plan *p, 
     arrank_text_escape(a->campaign && a->campaign->title ? a->campaign->title : "", title,
                        sizeof title);
     fprintf(f, "plan for campaign '%s' (goal %s)\n", title, goal_name(p->goal));
-    put_goal(f, p);
+    put_goal(f, p, '\n');
     put_rows(f, a, p);
     fputc('\n', f);
+    return put_footer(f, a, p, err);
+}
+
+/* The lines under the rows: the probabilities and the cautions. */
+static arrank_status put_footer(FILE *f, const arrank_analysis *a, const arrank_plan *p,
+                                arrank_error *err)
+{
     size_t planned = 0, naive = 0;
     for (size_t k = 0; k < p->n_runs; k++)
         planned += p->runs[k].repeats;
@@ -137,7 +148,7 @@ static arrank_status table_in_c(const arrank_analysis *a, const arrank_plan *p, 
         fprintf(f, "Caution: %s.\n", lines[k]);
     arrank_cautions_free(lines, n);
     fprintf(f, "Caution: %s.\n", plan_caution);
-    return stream_status(f, err);
+    return ARRANK_OK;
 }
 
 arrank_status arrank_plan_out_table(const arrank_analysis *a, const arrank_plan *p, FILE *f,
@@ -146,6 +157,155 @@ arrank_status arrank_plan_out_table(const arrank_analysis *a, const arrank_plan 
     arrank_numbers_env env;
     arrank_numbers_c_enter(&env);
     arrank_status st = table_in_c(a, p, f, err);
+    if (st == ARRANK_OK)
+        st = stream_status(f, err);
+    arrank_numbers_c_leave(&env);
+    return st;
+}
+
+/* ---- table on a terminal ------------------------------------------------ */
+
+enum { P_ID, P_RUNS, P_TEMPS, P_RATE, P_COLS };
+
+#define ID_MIN 10    /* the id column narrows down to this, its ids wrapping */
+#define TEMPS_MIN 14 /* the temperatures wrap at no less than this ("543.15 K x13,") */
+#define CELL_MIN 12  /* and any other column down to this */
+
+/* One row's cells (new strings; the id escaped, whole).  0: out of memory. */
+static int term_cells(const arrank_analysis *a, const arrank_plan *p,
+                      const arrank_plan_entry *e, char *cell[P_COLS])
+{
+    const char *id = sample_id(a, e->result);
+    size_t n = 4 * strlen(id) + 1;
+    char *temps = NULL;
+    size_t len = 0;
+    FILE *m = open_memstream(&temps, &len);
+    size_t listed = 0;
+    if (m) {
+        for (size_t k = 0; k < p->n_runs; k++)
+            if (p->runs[k].sample == e->result)
+                fprintf(m, "%s%.2f K x%zu", listed++ ? ", " : "", p->runs[k].temp_K,
+                        p->runs[k].repeats);
+        if (fclose(m) != 0) {
+            free(temps);
+            temps = NULL;
+        }
+    }
+    if (temps && listed == 0) { /* no run for this sample: "-", as piped */
+        free(temps);
+        temps = strdup("-");
+    }
+    cell[P_TEMPS] = temps;
+    cell[P_ID] = malloc(n);
+    cell[P_RUNS] = malloc(32);
+    cell[P_RATE] = malloc(160);
+    if (!cell[P_ID] || !cell[P_RUNS] || !cell[P_RATE] || !cell[P_TEMPS])
+        return 0;
+    arrank_text_escape(id, cell[P_ID], n);
+    snprintf(cell[P_RUNS], 32, "%zu", e->runs);
+    snprintf(cell[P_RATE], 160, "[%.3g, %.3g] -> [%.3g, %.3g]%s", e->rate_ci_before[0],
+             e->rate_ci_before[1], e->rate_ci_expected[0], e->rate_ci_expected[1],
+             e->n_candidates == 0 ? " (no allowed temperature)" : "");
+    return 1;
+}
+
+/* Text written by put_goal (0) or put_footer (1) into memory, reflowed onto f. */
+static arrank_status term_prose(const arrank_analysis *a, const arrank_plan *p, int part,
+                                size_t width, FILE *f, arrank_error *err)
+{
+    char *text = NULL;
+    size_t len = 0;
+    FILE *m = open_memstream(&text, &len);
+    if (!m)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    arrank_status st = ARRANK_OK;
+    if (part == 0) {
+        char title[256];
+        arrank_text_escape(a->campaign && a->campaign->title ? a->campaign->title : "", title,
+                           sizeof title);
+        fprintf(m, "plan for campaign '%s' (goal %s)\n", title, goal_name(p->goal));
+        put_goal(m, p, ' ');
+    } else {
+        st = put_footer(m, a, p, err);
+    }
+    if (fclose(m) != 0 && st == ARRANK_OK)
+        st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    if (st == ARRANK_OK)
+        arrank_textfit_reflow(f, text, width);
+    free(text);
+    return st;
+}
+
+static void term_grid(const arrank_analysis *a, const arrank_plan *p, char *(*cells)[P_COLS],
+                      arrank_textfit_grid *g, char *rate_head, size_t n)
+{
+    const char *unit = a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit : "";
+    snprintf(rate_head, n, "rate at %.2f K [%s], %g%% interval: now -> expected", p->temp_K,
+             unit, 100.0 * p->confidence);
+    size_t cell_w[P_COLS] = {0};
+    for (size_t j = 0; j < p->n_entries; j++)
+        for (int c = 0; c < P_COLS; c++) {
+            size_t w = arrank_textfit_width(cells[j][c], strlen(cells[j][c]));
+            cell_w[c] = w > cell_w[c] ? w : cell_w[c];
+        }
+    const char *const head[P_COLS] = {"sample", "runs", "temperatures", rate_head};
+    static const char *const words[P_COLS] = {"sample", "runs", "temperatures",
+                                              "rate at T now -> expected"};
+    for (int c = 0; c < P_COLS; c++) {
+        g->head[c] = head[c];
+        g->words[c] = words[c];
+        g->present[c] = 1;
+    }
+    g->right[P_RUNS] = 1;
+    g->at_commas[P_TEMPS] = 1;
+    g->fill = P_TEMPS;
+    g->fill_min = TEMPS_MIN;
+    g->fill_need = cell_w[P_TEMPS];
+    /* kept: the id, the runs and their temperatures; left out first: the rates */
+    static const int priority[P_COLS] = {P_ID, P_TEMPS, P_RUNS, P_RATE};
+    arrank_textfit_layout(g, cell_w, priority, P_COLS, 3, P_ID, ID_MIN, CELL_MIN);
+}
+
+static arrank_status table_term_in_c(const arrank_analysis *a, const arrank_plan *p,
+                                     size_t width, int colour, FILE *f, arrank_error *err)
+{
+    char *(*cells)[P_COLS] = calloc(p->n_entries ? p->n_entries : 1, sizeof *cells);
+    arrank_status st = cells ? ARRANK_OK : ARRANK_ENOMEM;
+    for (size_t j = 0; st == ARRANK_OK && j < p->n_entries; j++)
+        if (!term_cells(a, p, &p->entries[j], cells[j]))
+            st = ARRANK_ENOMEM;
+    if (st != ARRANK_OK)
+        st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    char rate_head[400];
+    arrank_textfit_grid g = {.n = P_COLS, .width = width, .colour = colour};
+    if (st == ARRANK_OK) {
+        term_grid(a, p, cells, &g, rate_head, sizeof rate_head);
+        st = term_prose(a, p, 0, width, f, err);
+    }
+    if (st == ARRANK_OK) {
+        arrank_textfit_heads(f, &g);
+        for (size_t j = 0; j < p->n_entries; j++)
+            arrank_textfit_row(f, &g, (const char *const *)cells[j], NULL, NULL, 0, NULL);
+        arrank_textfit_left_out(f, &g);
+        fputc('\n', f);
+        st = term_prose(a, p, 1, width, f, err);
+    }
+    for (size_t j = 0; cells && j < p->n_entries; j++)
+        for (int c = 0; c < P_COLS; c++)
+            free(cells[j][c]);
+    free(cells);
+    return st == ARRANK_OK ? stream_status(f, err) : st;
+}
+
+arrank_status arrank_plan_out_table_term(const arrank_analysis *a, const arrank_plan *p,
+                                         const arrank_table_options *options, FILE *f,
+                                         arrank_error *err)
+{
+    if (!options || options->width == 0) /* no limit: the table as piped */
+        return arrank_plan_out_table(a, p, f, err);
+    arrank_numbers_env env;
+    arrank_numbers_c_enter(&env);
+    arrank_status st = table_term_in_c(a, p, options->width, options->colour != 0, f, err);
     arrank_numbers_c_leave(&env);
     return st;
 }

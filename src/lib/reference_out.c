@@ -8,11 +8,13 @@
 
 #include <math.h>
 #include <stdint.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "arrank/analysis_stats.h"
 #include "arrank/text.h"
 #include "rank_out.h"
+#include "textfit.h"
 
 #define NAME_MAX_SHOWN 40
 
@@ -57,7 +59,7 @@ static void row(const arrank_analysis *a, const arrank_result *res, int w, int r
 }
 
 /* The reference per campaign, its drift and the test of equality. */
-static void campaigns(const arrank_analysis *a, FILE *f)
+static void campaigns(const arrank_analysis *a, int whole, FILE *f)
 {
     const struct arrank_reference_stats *rs = a->reference;
     if (rs->n_campaigns < 2)
@@ -65,8 +67,11 @@ static void campaigns(const arrank_analysis *a, FILE *f)
     fprintf(f, "the reference's rate at T per campaign [%s]:", a->campaign->rate_unit);
     for (size_t k = 0; k < rs->n_campaigns; k++) {
         const arrank_reference_campaign *rc = &rs->campaigns[k];
-        char name[NAME_MAX_SHOWN + 8];
-        shown_id(rc->campaign, name, sizeof name);
+        char name[4 * 256 + 8];
+        if (whole)
+            arrank_text_escape(rc->campaign, name, sizeof name);
+        else
+            shown_id(rc->campaign, name, sizeof name);
         if (rc->has_rate)
             fprintf(f, "%s %s %.3g [%.3g, %.3g]", k ? ";" : "", name, rc->rate, rc->rate_lo,
                     rc->rate_hi);
@@ -125,10 +130,145 @@ arrank_status arrank_reference_table_write(const arrank_analysis *a, FILE *f, ar
         if (res->rank == 0 && res->stats && res->stats->has_reference)
             row(a, res, w, rw, f);
     }
-    campaigns(a, f);
+    campaigns(a, 0, f);
     if (ferror(f))
         return arrank_errorf(err, ARRANK_EIO, "write failed");
     return ARRANK_OK;
+}
+
+/* ---- on a terminal ------------------------------------------------------- */
+
+enum { R_ID, R_RATIO, R_PB, R_EA, R_COLS };
+
+#define ID_MIN 10   /* the id column narrows down to this, its ids wrapping */
+#define CELL_MIN 12 /* and any other column down to this */
+
+/* The cells of one row (the id escaped and whole, not cut). */
+static int term_cells(const arrank_result *res, char *cell[R_COLS])
+{
+    const struct arrank_sample_stats *ss = res->stats;
+    const char *id = res->sample->id ? res->sample->id : "";
+    size_t n = 4 * strlen(id) + 1;
+    cell[R_ID] = malloc(n);
+    cell[R_RATIO] = malloc(96);
+    cell[R_PB] = malloc(32);
+    cell[R_EA] = malloc(96);
+    if (!cell[R_ID] || !cell[R_RATIO] || !cell[R_PB] || !cell[R_EA])
+        return 0;
+    arrank_text_escape(id, cell[R_ID], n);
+    ratio_text(ss, cell[R_RATIO], 96);
+    strcpy(cell[R_PB], "-");
+    strcpy(cell[R_EA], "-");
+    if (!ss->is_reference) {
+        if (isfinite(ss->p_better))
+            snprintf(cell[R_PB], 32, "%.3f", ss->p_better);
+        if (isfinite(ss->ea_diff.est))
+            snprintf(cell[R_EA], 96, "%+.1f [%+.1f, %+.1f]", ss->ea_diff.est / 1e3,
+                     ss->ea_diff.lo / 1e3, ss->ea_diff.hi / 1e3);
+    }
+    return 1;
+}
+
+/* The rows in the table's order: ranked samples in rank order, then the
+   others in file order.  A new array (free), NULL when out of memory. */
+static const arrank_result **term_order(const arrank_analysis *a, size_t *n)
+{
+    const arrank_result **rows = malloc((a->n_results ? a->n_results : 1) * sizeof *rows);
+    *n = 0;
+    for (size_t k = 0; rows && k < a->n_ranked; k++) {
+        const arrank_result *res = &a->results[a->order[k]];
+        if (res->stats && res->stats->has_reference)
+            rows[(*n)++] = res;
+    }
+    for (size_t i = 0; rows && i < a->n_results; i++) {
+        const arrank_result *res = &a->results[i];
+        if (res->rank == 0 && res->stats && res->stats->has_reference)
+            rows[(*n)++] = res;
+    }
+    return rows;
+}
+
+/* Text written by campaigns() or the heading into memory, reflowed onto f. */
+static int term_prose(const arrank_analysis *a, int heading, size_t width, FILE *f)
+{
+    char *text = NULL;
+    size_t len = 0;
+    FILE *m = open_memstream(&text, &len);
+    if (!m)
+        return 0;
+    if (heading) {
+        const char *id = a->reference->id ? a->reference->id : "";
+        char *ref = malloc(4 * strlen(id) + 1);
+        if (ref)
+            arrank_text_escape(id, ref, 4 * strlen(id) + 1);
+        fprintf(m, "against the reference %s (%g%% intervals; Welch degrees of freedom):\n",
+                ref ? ref : "", 100.0 * a->options.confidence);
+        free(ref);
+    } else {
+        campaigns(a, 1, m);
+    }
+    int ok = fclose(m) == 0;
+    if (ok)
+        arrank_textfit_reflow(f, text, width);
+    free(text);
+    return ok;
+}
+
+arrank_status arrank_reference_table_write_term(const arrank_analysis *a, size_t width,
+                                                int colour, FILE *f, arrank_error *err)
+{
+    if (!a->reference)
+        return ARRANK_OK;
+    if (width == 0) /* no limit: the block as piped */
+        return arrank_reference_table_write(a, f, err);
+    size_t n = 0;
+    const arrank_result **res = term_order(a, &n);
+    char *(*cells)[R_COLS] = calloc(n ? n : 1, sizeof *cells);
+    arrank_status st = ARRANK_OK;
+    if (!res || !cells) {
+        st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        goto done;
+    }
+    size_t cell_w[R_COLS] = {0};
+    for (size_t k = 0; k < n; k++) {
+        if (!term_cells(res[k], cells[k])) {
+            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+            goto done;
+        }
+        for (int c = 0; c < R_COLS; c++) {
+            size_t w = arrank_textfit_width(cells[k][c], strlen(cells[k][c]));
+            cell_w[c] = w > cell_w[c] ? w : cell_w[c];
+        }
+    }
+    arrank_textfit_grid g = {.n = R_COLS, .fill = -1, .width = width, .indent = 2,
+                             .colour = colour,
+                             .head = {"sample", "rate / reference's", "P(better)",
+                                      "Ea - reference's [kJ/mol]"},
+                             .words = {"sample", "ratio", "P(better)", "Ea difference"},
+                             .present = {1, 1, 1, 1}};
+    /* kept first: the id and the ratio; left out first: the Ea difference */
+    static const int priority[R_COLS] = {R_ID, R_RATIO, R_PB, R_EA};
+    arrank_textfit_layout(&g, cell_w, priority, R_COLS, 2, R_ID, ID_MIN, CELL_MIN);
+    fputc('\n', f);
+    if (!term_prose(a, 1, width, f)) {
+        st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        goto done;
+    }
+    arrank_textfit_heads(f, &g);
+    for (size_t k = 0; k < n; k++)
+        arrank_textfit_row(f, &g, (const char *const *)cells[k], NULL, NULL, 0, NULL);
+    arrank_textfit_left_out(f, &g);
+    if (!term_prose(a, 0, width, f))
+        st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    else if (ferror(f))
+        st = arrank_errorf(err, ARRANK_EIO, "write failed");
+done:
+    for (size_t k = 0; cells && k < n; k++)
+        for (int c = 0; c < R_COLS; c++)
+            free(cells[k][c]);
+    free(cells);
+    free(res);
+    return st;
 }
 
 /* ---- the report's section ------------------------------------------------- */

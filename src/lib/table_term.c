@@ -14,6 +14,9 @@
  * the reasons of samples not fitted wrap onto more lines rather than being
  * cut.  A line under the rows names the columns left out.  Widths are
  * counted in code points (the escaped ids are UTF-8).
+ * The grid itself (widths, wrapping, the line that names what was left
+ * out, reflowed prose) is textfit.c's, shared with the other writers for a
+ * terminal (the reference's block, compare's table, a plan's table).
  */
 #include "table.h"
 #include "table_internal.h"
@@ -26,6 +29,7 @@
 #include "arrank/cautions.h"
 #include "arrank/text.h"
 #include "number.h"
+#include "textfit.h"
 
 enum { C_RANK, C_PB, C_GRP, C_NAME, C_N, C_DOF, C_T, C_EA, C_LNA, C_SCAT, C_RATE, C_BOOT,
        C_FLAGS, N_COLS };
@@ -40,72 +44,17 @@ static const struct {
                       {"ln A", 0},    {"scatter", 0}, {"rate at T", 0},  {"bootstrap interval", 0},
                       {"flags", 0}};
 
-#define NAME_MAX_W 28  /* the widest id column, as piped (table.c NAME_WIDTH_MAX) */
+#define NAME_MAX_W ARRANK_TEXTFIT_ID_MAX /* the widest id column, as piped (table.c NAME_WIDTH_MAX) */
 #define NAME_MIN 10    /* the id column narrows down to this before anything else gives */
 #define FLAGS_MIN 16   /* the flags wrap at no less than this width (common flag names fit) */
 #define CELL_MIN 12    /* and any other column down to this, its cells wrapping */
-#define SPAN_MIN 20    /* a reason of a sample not fitted wraps at no less than this */
 #define CELL_MAX 127   /* bytes of a cell, as the piped table cuts them */
-
-#define SGR_FLAGS "\033[33m" /* yellow: the flags of a sample */
-#define SGR_ERROR "\033[31m" /* red: why a sample was not fitted */
-#define SGR_RESET "\033[0m"
 
 typedef struct {
     char *cell[N_COLS]; /* each cell's text (new strings); the name escaped, whole */
     char *error;        /* "not fitted: reason" (escaped), NULL when fitted */
     int flagged;        /* 1 when the flags cell names flags (not "-") */
 } term_row;
-
-typedef struct {
-    int present[N_COLS]; /* the column belongs to this table */
-    int shown[N_COLS];   /* and is shown (not left out for the width) */
-    size_t w[N_COLS];    /* width in columns */
-    const char *head[N_COLS];
-    size_t width;        /* the terminal's columns; 0: no limit */
-    size_t flags_need;   /* the widest flags cell */
-    int colour;
-} term_layout;
-
-/* ---- text ---------------------------------------------------------------- */
-
-static size_t cps(const char *s, size_t len)
-{
-    size_t w = 0;
-    for (size_t i = 0; i < len; i++)
-        w += ((unsigned char)s[i] & 0xC0) != 0x80;
-    return w;
-}
-
-/* The next line of *rest at most width code points wide: its length in bytes
-   (broken after the last space that fits, else at width code points); *rest
-   moves past it and the spaces after it. */
-static size_t next_chunk(const char **rest, size_t width)
-{
-    const char *s = *rest;
-    size_t len = strlen(s);
-    if (width == 0 || cps(s, len) <= width) {
-        *rest = s + len;
-        return len;
-    }
-    size_t i = 0, n = 0, cut = 0;
-    while (s[i] && n <= width) { /* a space just past width still breaks the line */
-        if (s[i] == ' ' && i > 0)
-            cut = i;
-        if (n == width)
-            break;
-        i++;
-        while (((unsigned char)s[i] & 0xC0) == 0x80)
-            i++;
-        n++;
-    }
-    size_t end = cut ? cut : i;
-    size_t next = end;
-    while (s[next] == ' ')
-        next++;
-    *rest = s + next;
-    return end;
-}
 
 static char *dup_len(const char *s, size_t len)
 {
@@ -233,41 +182,10 @@ static void free_row(term_row *r)
 
 /* ---- layout -------------------------------------------------------------- */
 
-/* The widest word of a head: the least width it wraps into. */
-static size_t longest_word(const char *s)
-{
-    size_t best = 0;
-    while (*s) {
-        size_t len = strcspn(s, " ");
-        size_t w = cps(s, len);
-        best = w > best ? w : best;
-        s += len;
-        while (*s == ' ')
-            s++;
-    }
-    return best;
-}
-
-/* Columns of a line with every shown column but the flags, each followed by
-   its two spaces. */
-static size_t fixed_width(const term_layout *L)
-{
-    size_t w = 0;
-    for (int c = 0; c < C_FLAGS; c++)
-        if (L->shown[c])
-            w += L->w[c] + 2;
-    return w;
-}
-
-static int fits(const term_layout *L)
-{
-    size_t flags = L->flags_need < FLAGS_MIN ? L->flags_need : FLAGS_MIN;
-    return L->width == 0 || fixed_width(L) + flags <= L->width;
-}
-
 /* The columns in order of priority, highest first; *n_essential of them are
    never left out.  Returns the count. */
-static int priority(const arrank_analysis *a, const term_layout *L, int *list, int *n_essential)
+static int priority(const arrank_analysis *a, const arrank_textfit_grid *L, int *list,
+                    int *n_essential)
 {
     const arrank_options *o = &a->options;
     /* rank: the ranking key; fit: Ea, and the rate at T when there is one */
@@ -299,46 +217,10 @@ static int priority(const arrank_analysis *a, const term_layout *L, int *list, i
     return n;
 }
 
-/* The compact layout: widths from the cells, heads wrapped, columns left out
-   from the end of the priority list, then the id column narrowed. */
-static void compact(const arrank_analysis *a, term_layout *L, const size_t *cell_w)
-{
-    for (int c = 0; c < N_COLS; c++) {
-        size_t head_w = longest_word(L->head[c]);
-        L->w[c] = cell_w[c] > head_w ? cell_w[c] : head_w;
-    }
-    if (L->w[C_NAME] > NAME_MAX_W)
-        L->w[C_NAME] = NAME_MAX_W;
-    int list[N_COLS], n_essential;
-    int n = priority(a, L, list, &n_essential);
-    for (int k = n - 1; k >= n_essential && !fits(L); k--)
-        L->shown[list[k]] = 0;
-    if (!fits(L)) {
-        size_t flags = L->flags_need < FLAGS_MIN ? L->flags_need : FLAGS_MIN;
-        size_t over = fixed_width(L) + flags - L->width;
-        size_t name_min = L->w[C_NAME] < NAME_MIN ? L->w[C_NAME] : NAME_MIN;
-        L->w[C_NAME] = L->w[C_NAME] - over > name_min && over < L->w[C_NAME]
-                           ? L->w[C_NAME] - over
-                           : name_min;
-    }
-    /* Cells too wide for any room (a huge number): the widest columns give,
-       down to CELL_MIN, and their cells wrap. */
-    while (!fits(L)) {
-        int widest = -1;
-        for (int c = 0; c < C_FLAGS; c++)
-            if (L->shown[c] && L->w[c] > CELL_MIN && (widest < 0 || L->w[c] > L->w[widest]))
-                widest = c;
-        if (widest < 0)
-            break;
-        size_t flags = L->flags_need < FLAGS_MIN ? L->flags_need : FLAGS_MIN;
-        size_t over = fixed_width(L) + flags - L->width;
-        L->w[widest] = L->w[widest] - CELL_MIN > over ? L->w[widest] - over : CELL_MIN;
-    }
-}
-
 /* Widths for the rows: the piped ones when the piped table fits, else the
-   compact layout. */
-static void layout(const arrank_table_ctx *tc, term_layout *L, const term_row *rows,
+   compact layout (textfit.c): columns left out from the end of the priority
+   list, then the id column narrowed. */
+static void layout(const arrank_table_ctx *tc, arrank_textfit_grid *L, const term_row *rows,
                    size_t n_rows)
 {
     const arrank_analysis *a = tc->a;
@@ -346,10 +228,12 @@ static void layout(const arrank_table_ctx *tc, term_layout *L, const term_row *r
     for (size_t k = 0; k < n_rows; k++)
         for (int c = 0; c < N_COLS; c++)
             if (rows[k].cell[c]) {
-                size_t w = cps(rows[k].cell[c], strlen(rows[k].cell[c]));
+                size_t w = arrank_textfit_width(rows[k].cell[c], strlen(rows[k].cell[c]));
                 cell_w[c] = w > cell_w[c] ? w : cell_w[c];
             }
-    L->flags_need = cell_w[C_FLAGS] > 5 ? cell_w[C_FLAGS] : 5;
+    L->fill = C_FLAGS;
+    L->fill_min = FLAGS_MIN;
+    L->fill_need = cell_w[C_FLAGS] > 5 ? cell_w[C_FLAGS] : 5;
     const size_t piped[N_COLS] = {tc->w_rank, tc->w_pb,  tc->w_grp,  tc->name_w, tc->w_n,
                                   tc->w_dof,  tc->w_T,   tc->w_ea,   tc->w_lna,  tc->w_scat,
                                   tc->w_rate, tc->w_boot, 0};
@@ -357,148 +241,31 @@ static void layout(const arrank_table_ctx *tc, term_layout *L, const term_row *r
         L->shown[c] = L->present[c];
         L->w[c] = piped[c];
     }
-    if (!fits(L) || (L->width && fixed_width(L) + L->flags_need > L->width))
-        compact(a, L, cell_w);
-    size_t fixed = fixed_width(L);
-    L->w[C_FLAGS] = L->flags_need;
-    if (L->width && fixed + L->flags_need > L->width)
-        L->w[C_FLAGS] = L->width > fixed + FLAGS_MIN ? L->width - fixed : FLAGS_MIN;
+    size_t least = L->fill_need < FLAGS_MIN ? L->fill_need : FLAGS_MIN;
+    if (!arrank_textfit_fits(L) ||
+        (L->width && arrank_textfit_line(L) - least + L->fill_need > L->width)) {
+        int list[N_COLS], n_essential;
+        int n = priority(a, L, list, &n_essential);
+        arrank_textfit_compact(L, cell_w, list, n, n_essential, C_NAME, NAME_MAX_W, NAME_MIN,
+                               CELL_MIN);
+    }
+    arrank_textfit_settle(L);
 }
 
 /* ---- lines --------------------------------------------------------------- */
 
-/* One line being written: spaces are held back until text follows them, so
-   no line ends in spaces. */
-typedef struct {
-    FILE *f;
-    size_t pending;
-    int colour;
-} line_out;
-
-static void put_text(line_out *o, const char *s, size_t len, const char *sgr)
-{
-    if (len == 0)
-        return;
-    for (; o->pending; o->pending--)
-        fputc(' ', o->f);
-    if (o->colour && sgr)
-        fputs(sgr, o->f);
-    fwrite(s, 1, len, o->f);
-    if (o->colour && sgr)
-        fputs(SGR_RESET, o->f);
-}
-
-/* Text of len bytes in a column of width w, aligned as the column is. */
-static void put_cell(line_out *o, const term_layout *L, int c, const char *s, size_t len,
-                     const char *sgr)
-{
-    size_t tw = cps(s, len), pad = tw < L->w[c] ? L->w[c] - tw : 0;
-    if (col_info[c].right)
-        o->pending += pad;
-    put_text(o, s, len, sgr);
-    if (!col_info[c].right)
-        o->pending += pad;
-}
-
-/* The head lines: each head wrapped in its column, the last lines of all
-   heads on the last line. */
-static void write_heads(FILE *f, const term_layout *L)
-{
-    size_t lines[N_COLS] = {0}, n_lines = 1;
-    for (int c = 0; c < N_COLS; c++) {
-        if (!L->shown[c])
-            continue;
-        const char *rest = L->head[c];
-        for (lines[c] = 0; *rest; lines[c]++)
-            next_chunk(&rest, L->w[c]);
-        n_lines = lines[c] > n_lines ? lines[c] : n_lines;
-    }
-    const char *rest[N_COLS];
-    for (int c = 0; c < N_COLS; c++)
-        rest[c] = L->head[c];
-    for (size_t j = 0; j < n_lines; j++) {
-        line_out o = {f, 0, 0};
-        int first = 1;
-        for (int c = 0; c < N_COLS; c++) {
-            if (!L->shown[c])
-                continue;
-            o.pending += first ? 0 : 2;
-            first = 0;
-            const char *s = rest[c];
-            size_t len = j + lines[c] >= n_lines ? next_chunk(&rest[c], L->w[c]) : 0;
-            put_cell(&o, L, c, s, len, NULL);
-        }
-        fputc('\n', f);
-    }
-}
-
 /* A row, on as many lines as its cells need: a cell wider than its column
-   (an id, the flags, a reason, a number too wide for the room) wraps. */
-static void write_row(FILE *f, const term_layout *L, const term_row *r)
+   (an id, the flags, a reason, a number too wide for the room) wraps; the
+   reason of a sample not fitted spans the columns after n. */
+static void write_row(FILE *f, const arrank_textfit_grid *L, const term_row *r)
 {
-    const char *rest[N_COLS], *error = r->error;
-    int more = 1;
+    const char *cells[N_COLS], *sgr[N_COLS] = {0};
     for (int c = 0; c < N_COLS; c++)
-        rest[c] = r->cell[c] ? r->cell[c] : "";
-    for (int line = 0; more; line++) {
-        line_out o = {f, 0, L->colour};
-        int first = 1;
-        size_t at = 0; /* columns written so far, for the reason's span */
-        more = 0;
-        for (int c = 0; c < N_COLS; c++) {
-            if (!L->shown[c])
-                continue;
-            if (error && c > C_N) { /* the reason spans the rest of the line */
-                size_t span = L->width > at + 2 + SPAN_MIN ? L->width - at - 2 : 0;
-                if (L->width && span == 0)
-                    span = SPAN_MIN;
-                o.pending += 2;
-                const char *s = error;
-                put_text(&o, s, next_chunk(&error, span), SGR_ERROR);
-                more |= *error != '\0';
-                break;
-            }
-            o.pending += first ? 0 : 2;
-            at += first ? L->w[c] : L->w[c] + 2;
-            first = 0;
-            const char *s = rest[c];
-            size_t len = next_chunk(&rest[c], L->w[c]);
-            more |= *rest[c] != '\0';
-            put_cell(&o, L, c, s, len, c == C_FLAGS && r->flagged ? SGR_FLAGS : NULL);
-        }
-        fputc('\n', f);
-    }
+        cells[c] = r->cell[c];
+    sgr[C_FLAGS] = r->flagged ? ARRANK_SGR_FLAGS : NULL;
+    arrank_textfit_row(f, L, cells, sgr, r->error, C_N + 1, ARRANK_SGR_ERROR);
 }
 
-/* Text of several lines, each line longer than width wrapped at spaces,
-   its continuation lines indented as the line is. */
-static void write_reflowed(FILE *f, const char *text, size_t width)
-{
-    while (*text) {
-        size_t len = strcspn(text, "\n");
-        char *line = malloc(len + 1);
-        if (!line)
-            return;
-        memcpy(line, text, len);
-        line[len] = '\0';
-        text += len + (text[len] == '\n');
-        const char *rest = line;
-        size_t indent = strspn(line, " ");
-        if (width && indent > width / 2)
-            indent = width / 2;
-        size_t w = width;
-        do {
-            const char *s = rest;
-            size_t n = next_chunk(&rest, w);
-            fwrite(s, 1, n, f);
-            fputc('\n', f);
-            if (*rest)
-                fprintf(f, "%*s", (int)indent, "");
-            w = width ? width - indent : 0;
-        } while (*rest);
-        free(line);
-    }
-}
 
 /* Text written by fn into memory, then reflowed onto f. */
 static arrank_status reflow(FILE *f, size_t width, const arrank_table_ctx *tc, unsigned seen,
@@ -517,32 +284,13 @@ static arrank_status reflow(FILE *f, size_t width, const arrank_table_ctx *tc, u
     if (fclose(m) != 0 && st == ARRANK_OK)
         st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     if (st == ARRANK_OK)
-        write_reflowed(f, text, width);
+        arrank_textfit_reflow(f, text, width);
     free(text);
     return st;
 }
 
-/* The line under the rows that names the columns left out. */
-static void write_left_out(FILE *f, const term_layout *L)
-{
-    char buf[512];
-    size_t n = 0, count = 0;
-    for (int c = 0; c < N_COLS; c++)
-        count += L->present[c] && !L->shown[c];
-    if (!count)
-        return;
-    n += (size_t)snprintf(buf, sizeof buf, "(left out to fit %zu columns: ", L->width);
-    size_t k = 0;
-    for (int c = 0; c < N_COLS && n < sizeof buf; c++)
-        if (L->present[c] && !L->shown[c])
-            n += (size_t)snprintf(buf + n, sizeof buf - n, "%s%s", k++ == 0 ? "" : ", ",
-                                  col_info[c].words);
-    if (n < sizeof buf)
-        snprintf(buf + n, sizeof buf - n, "; --wide shows every column)\n");
-    write_reflowed(f, buf, L->width);
-}
 
-static void present_columns(const arrank_table_ctx *tc, term_layout *L)
+static void present_columns(const arrank_table_ctx *tc, arrank_textfit_grid *L)
 {
     const arrank_analysis *a = tc->a;
     int ranked = a->n_ranked > 0;
@@ -555,6 +303,8 @@ static void present_columns(const arrank_table_ctx *tc, term_layout *L)
     for (int c = 0; c < N_COLS; c++) {
         L->present[c] = on[c];
         L->head[c] = head[c];
+        L->words[c] = col_info[c].words;
+        L->right[c] = col_info[c].right;
     }
 }
 
@@ -579,16 +329,16 @@ arrank_status arrank_table_write_term(const arrank_analysis *a, size_t width, in
         seen |= a->results[order[k]].error ? 0 : a->results[order[k]].flags;
         any_error |= rows[k].error != NULL;
     }
-    term_layout L = {.width = width, .colour = colour};
+    arrank_textfit_grid L = {.n = N_COLS, .width = width, .colour = colour};
     present_columns(&tc, &L);
     layout(&tc, &L, rows, a->n_results);
     st = reflow(f, width, &tc, 0, 0, 0, err);
     if (st != ARRANK_OK)
         goto done;
-    write_heads(f, &L);
+    arrank_textfit_heads(f, &L);
     for (size_t k = 0; k < a->n_results; k++)
         write_row(f, &L, &rows[k]);
-    write_left_out(f, &L);
+    arrank_textfit_left_out(f, &L);
     st = reflow(f, width, &tc, seen, any_error, 1, err);
     if (st == ARRANK_OK && ferror(f))
         st = arrank_errorf(err, ARRANK_EIO, "write failed");
