@@ -191,7 +191,15 @@ static box plan_line(script *s, const plan_layout *L, double temp_K, const char 
 static void plan_repeats(script *s, const arrank_analysis *a, const arrank_plan *p,
                          const plan_layout *L, box *bx, size_t nb)
 {
-    double fs = PLAN_RUN_FRAC * s->fpx, row = 1.25 * fs;
+    double fs = PLAN_RUN_FRAC * s->fpx, row = 1.25 * fs, m = 1.3 * s->fpx;
+    /* the runs' own markers first: no repeat is written over a marker */
+    for (size_t k = 0; k < p->n_runs; k++) {
+        double y, se;
+        arrank_plot_line_at(&a->results[p->runs[k].sample].fit, p->runs[k].temp_K, &y, &se);
+        double xp = px_x(L, X_SCALE / p->runs[k].temp_K), yp = px_y(L, y);
+        if (isfinite(yp))
+            bx[nb++] = (box){xp - m, yp - m, xp + m, yp + m};
+    }
     for (size_t j = 0; j < p->n_entries; j++) {
         const arrank_result *r = &a->results[p->entries[j].result];
         arrank_plot_look lk = arrank_plot_look_of(a, p->entries[j].result);
@@ -209,7 +217,7 @@ static void plan_repeats(script *s, const arrank_analysis *a, const arrank_plan 
             box c = {0, 0, 0, 0};
             int found = 0;
             for (int dir = -1; dir <= 1 && !found; dir += 2)
-                for (double cy = yp + dir * 2.1 * s->fpx;
+                for (double cy = yp + dir * (m + 0.6 * row);
                      cy > L->t + 0.6 * row && cy < L->b - 0.6 * row && !found; cy += dir * row) {
                     c = (box){xp - 0.5 * w, cy - 0.5 * row, xp + 0.5 * w, cy + 0.5 * row};
                     found = !hits(bx, nb, c);
@@ -344,7 +352,7 @@ static arrank_status script_in_c(const arrank_analysis *a, const arrank_plan *p,
     size_t n = p->n_entries;
     size_t(*cnt)[5] = calloc(n ? n : 1, sizeof *cnt);
     size_t *idx = malloc((n ? n : 1) * sizeof *idx);
-    box *bx = malloc((p->n_runs + 2) * sizeof *bx);
+    box *bx = malloc((2 * p->n_runs + 2) * sizeof *bx);
     if (!cnt || !idx || !bx) {
         free(cnt);
         free(idx);
