@@ -1,8 +1,9 @@
 /*
  * plot_compare.c - the paired figure of `compare` (arrank/compare.h): one
  * line per compared sample from its rate at T in campaign A to its rate in
- * campaign B, on a log rate axis, both intervals drawn; samples whose rate
- * changed (after Holm) solid, the others dashed.  Kept apart from the
+ * campaign B, on a log rate axis, both intervals drawn, in the house style
+ * (plot_style.c): each sample's own look, those whose rate changed (after
+ * Holm) heavy with filled marks, the others thin and open.  Kept apart from the
  * campaign figures (plot.c and the files beside it) on purpose.
  */
 #include "arrank/plot_compare.h"
