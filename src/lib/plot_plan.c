@@ -233,7 +233,7 @@ static void plan_repeats(script *s, const arrank_analysis *a, const arrank_plan 
 
 static const char *goal_words(const arrank_plan *p)
 {
-    return p->goal == ARRANK_GOAL_PRECISION   ? "to narrow the intervals of the rate at T"
+    return p->goal == ARRANK_GOAL_PRECISION   ? "to narrow the rate intervals"
            : p->goal == ARRANK_GOAL_CURVATURE ? "to test for a bend"
                                               : "to tell the leader apart";
 }
