@@ -265,12 +265,15 @@ int arrank_plot_legend(script *s, const size_t *idx, size_t n, double x0, double
         size_t i = idx[k];
         double x = x0 + (double)(k / rows) * col_w, y = y0 + ((double)(k % rows) + 0.5) * row_h;
         arrank_plot_look lk = arrank_plot_look_of(s->a, i);
+        /* gnuplot's SVG terminal joins arrows of one colour and width into one
+           path with the first one's dashes: every other entry a thousandth
+           wider, so that each line keeps its own dash pattern */
         if (with_lines)
             fprintf(f, "set arrow from screen %.6f, screen %.6f to screen %.6f, screen %.6f "
-                       "nohead lc rgb '%s' dt %s lw 1.5 front\n",
+                       "nohead lc rgb '%s' dt %s lw %.4g front\n",
                     arrank_plot_sx(s, x), arrank_plot_sy(s, y),
                     arrank_plot_sx(s, x + 2.4 * s->fpx), arrank_plot_sy(s, y), lk.color,
-                    arrank_plot_dash(lk.dash));
+                    arrank_plot_dash(lk.dash), 1.5 + 0.001 * (double)(k % 2));
         fprintf(f, "set label '' at screen %.6f, screen %.6f point pt %d ps PS lc rgb '%s' "
                    "front\n",
                 arrank_plot_sx(s, x + 1.2 * s->fpx), arrank_plot_sy(s, y), lk.point_filled,
