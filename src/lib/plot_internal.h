@@ -3,7 +3,9 @@
  * script and the entry points; plot_figures.c: the Arrhenius, rate-at-T and
  * Ea-ln A figures; plot_diagnostics.c: the per-sample figure; plot_stream.c:
  * rate against time on stream;
- * plot_gnuplot.c: finding and running gnuplot).  Inside libarrank only.
+ * plot_gnuplot.c: finding and running gnuplot; plot_compare.c and
+ * plot_plan.c: the figures of `compare` and `plan`, which set up a script of
+ * their own).  Inside libarrank only.
  */
 #ifndef ARRANK_PLOT_INTERNAL_H
 #define ARRANK_PLOT_INTERNAL_H
