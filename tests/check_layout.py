@@ -369,6 +369,9 @@ def main():
         ok("broken figure: overlapping text is found", "overlapping text" in text, text)
         ok("broken figure: a frame without numbered ticks is found", "numbered ticks" in text, text)
         ok("broken figure: a plot area under 30 % is found", "plot area" in text, text)
+        text = "\n".join(judge(m[0], categories_x=True) if m else [])
+        ok("broken figure: a frame without named ticks below it is found (compare's measure)",
+           "names below it" in text, text)
         for n in (1, 3, 14, 20, 40):
             camp = os.path.join(tmp, "c%d" % n)
             make_campaign(camp, n, rng)
