@@ -108,13 +108,15 @@ function measure(svg) {
     if (fill !== 'rgb(252,252,253)') return;
     var r = p.getBoundingClientRect();
     var f = {l: r.left - s.left, r: r.right - s.left, top: r.top - s.top, bot: r.bottom - s.top,
-             xnum: 0, ylab: 0};
+             xnum: 0, xtext: 0, ylab: 0, ynum: 0};
     boxes.forEach(function (b) {
       var cx = (b.l + b.r) / 2, cy = (b.top + b.bot) / 2;
       if (num(b.t) && cx >= f.l - 2 && cx <= f.r + 2 && b.top >= f.bot - 2 && b.top <= f.bot + 40)
         f.xnum++;
+      if (cx >= f.l - 2 && cx <= f.r + 2 && b.top >= f.bot - 2 && b.top <= f.bot + 40)
+        f.xtext++;
       if (cy >= f.top - 4 && cy <= f.bot + 4 && b.r <= f.l + 2 && b.r >= f.l - 30)
-        f.ylab++;
+        { f.ylab++; if (num(b.t)) f.ynum++; }
     });
     out.frames.push(f);
   });
@@ -177,8 +179,10 @@ def measure_svgs(tmp, svgs, tag):
     return json.loads(html.unescape(m.group(1)))
 
 
-def judge(fig):
-    """The problems of one measured figure, as short strings."""
+def judge(fig, categories_x=False):
+    """The problems of one measured figure, as short strings.  categories_x:
+    the x axis names categories (compare's two campaigns), so the ticks below
+    carry names and the numbered ticks are the ones at the left."""
     bad = []
     if fig["outside"]:
         bad.append("text outside the canvas: " + "; ".join(fig["outside"][:3]))
@@ -187,7 +191,11 @@ def judge(fig):
     if not fig["frames"]:
         bad.append("no axis frame")
     for f in fig["frames"]:
-        if f["xnum"] < 2:
+        if categories_x:
+            if f["xtext"] < 2 or f["ynum"] < 2:
+                bad.append("a frame with %d names below it and %d numbered ticks at its left"
+                           % (f["xtext"], f["ynum"]))
+        elif f["xnum"] < 2:
             bad.append("a frame with %d numbered ticks below it" % f["xnum"])
         if f["ylab"] < 1:
             bad.append("a frame without tick labels at its left")
@@ -291,6 +299,57 @@ plot sin(x) notitle
 """
 
 
+def shifted_copy(camp, dest, factor):
+    """The campaign again with every rate times factor and its own title."""
+    os.makedirs(dest)
+    for name in sorted(os.listdir(camp)):
+        text = open(os.path.join(camp, name), encoding="utf-8").read()
+        if name == "campaign.ini":
+            text = text.replace("title = ", "title = second run of ")
+        else:
+            lines = text.split("\n")
+            for k, line in enumerate(lines):
+                cells = line.split(",")
+                if len(cells) >= 2 and re.match(r"^[0-9.]+$", cells[0]):
+                    cells[1] = "%.5g" % (float(cells[1]) * factor)
+                    lines[k] = ",".join(cells)
+            text = "\n".join(lines)
+        with open(os.path.join(dest, name), "w", encoding="utf-8") as f:
+            f.write(text)
+
+
+def check_compare_plan(tmp, camp):
+    """compare.svg of the 14-sample campaign against a copy with its rates
+    shifted (the same ids), and plan.svg of it under a maximum temperature."""
+    other = camp + "-shifted"
+    shifted_copy(camp, other, 0.8)
+    runs = [("compare", [ARRANK, "compare", camp, other, "--out", camp + "-cmp"],
+             camp + "-cmp/compare.svg"),
+            ("plan", [ARRANK, "plan", camp, "--max-temperature", "300C", "--out",
+                      camp + "-plan"], camp + "-plan/plan.svg")]
+    svgs = []
+    for what, cmd, svg in runs:
+        os.makedirs(cmd[-1], exist_ok=True)
+        p = subprocess.run(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+        ok("14 samples: %s exits 0" % what, p.returncode == 0 and os.path.exists(svg),
+           p.stderr.decode("utf-8", "replace"))
+        if os.path.exists(svg):
+            svgs.append((what, open(svg, encoding="utf-8").read()))
+    figs = measure_svgs(tmp, svgs, "cmp-plan") or []
+    ok("14 samples: compare.svg and plan.svg measured (%d of 2)" % len(figs), len(figs) == 2)
+    for fig in figs:
+        bad = judge(fig, categories_x=fig["name"] == "compare")
+        ok("14 samples: %s.svg laid out (%d texts, %d frames)" %
+           (fig["name"], fig["texts"], len(fig["frames"])), not bad, "\n".join(bad))
+    for name, text in svgs:
+        leaks = program_words(reader_text_svg(text))
+        ok("14 samples: no program spelling in %s.svg" % name, not leaks, leaks)
+        title = re.search(r"<title>(.*?)</title>", text, re.S)
+        ok("14 samples: %s.svg's <title> names its figure" % name,
+           title and title.group(1) and "Gnuplot" not in title.group(1),
+           title.group(1) if title else "")
+
+
 def main():
     if not os.path.exists(CHROME):
         ok("chromium found (apt-get install chromium)", False)
@@ -310,6 +369,9 @@ def main():
         ok("broken figure: overlapping text is found", "overlapping text" in text, text)
         ok("broken figure: a frame without numbered ticks is found", "numbered ticks" in text, text)
         ok("broken figure: a plot area under 30 % is found", "plot area" in text, text)
+        text = "\n".join(judge(m[0], categories_x=True) if m else [])
+        ok("broken figure: a frame without named ticks below it is found (compare's measure)",
+           "names below it" in text, text)
         for n in (1, 3, 14, 20, 40):
             camp = os.path.join(tmp, "c%d" % n)
             make_campaign(camp, n, rng)
@@ -342,6 +404,8 @@ def main():
             titles = [re.search(r"<title>(.*?)</title>", t, re.S) for _, t in svgs]
             ok("%d samples: every SVG's <title> names its figure" % n,
                all(t and t.group(1) and "Gnuplot" not in t.group(1) for t in titles))
+            if n == 14:
+                check_compare_plan(tmp, camp)
             rep = os.path.join(tmp, "r%d" % n)
             p = subprocess.run([ARRANK, "report", camp, "--out", rep], stdout=subprocess.DEVNULL,
                                stderr=subprocess.PIPE)

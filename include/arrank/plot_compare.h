@@ -15,7 +15,7 @@
  * The paired figure (plot_compare.c): one line per compared sample from its
  * rate at T in A to its rate in B (with a reference: its ratio to its own
  * campaign's reference), on a log axis, with both intervals;
- * the changed ones drawn solid, the others dashed.  Written as
+ * the changed ones heavy with filled marks, the others thin and open.  Written as
  * DIR/compare.EXT for each format (ARRANK_PLOT_* of arrank/plot.h; 0: SVG)
  * through gnuplot (program NULL: ARRANK_GNUPLOT, else PATH).  ENOGNUPLOT,
  * EPLOT, EIO.

@@ -401,47 +401,12 @@ static void figure_size(script *s, const figure *fig, double *w, double *h)
     }
 }
 
-/* The base font: a 60th of the asked width, 12 to 24 px (our choice: 16 px on
-   the 960 px page, which the report shows at its own size). */
-static double base_font_px(int width_px)
-{
-    double f = round(width_px / 60.0);
-    return f < 12 ? 12 : f > 24 ? 24 : f;
-}
-
 static void put_terminal(script *s, const figure *fig, unsigned format)
 {
     double w, h;
-    s->fpx = base_font_px(s->base_w);
+    s->fpx = arrank_plot_base_font_px(s->base_w);
     figure_size(s, fig, &w, &h);
-    s->W = w;
-    s->H = h;
-    FILE *f = s->f;
-    /* SVG in px; PNG twice the pixels (pngcairo reads font sizes as px at its
-       72 dpi); PDF at 96 px to the inch, fonts in pt (0.75 px). */
-    switch (format) {
-    case ARRANK_PLOT_PNG:
-        fprintf(f,
-                "set terminal pngcairo size %d,%d font 'DejaVu Sans,%d' noenhanced "
-                "linewidth 2.0 background rgb '#ffffff'\n",
-                (int)lround(2 * w), (int)lround(2 * h), s->font_pt = (int)lround(2 * s->fpx));
-        fputs("PS = 2.0\n", f);
-        break;
-    case ARRANK_PLOT_PDF:
-        fprintf(f,
-                "set terminal pdfcairo size %.3fin,%.3fin font 'DejaVu Sans,%d' noenhanced "
-                "linewidth 1.0 background rgb '#ffffff'\n",
-                w / 96.0, h / 96.0, s->font_pt = (int)lround(0.75 * s->fpx));
-        fputs("PS = 0.75\n", f);
-        break;
-    default:
-        fprintf(f,
-                "set terminal svg size %d,%d fixed font 'sans-serif,%d' noenhanced "
-                "linewidth 1.0 background rgb '#ffffff'\n",
-                (int)lround(w), (int)lround(h), s->font_pt = (int)lround(s->fpx));
-        fputs("PS = 1.0\n", f);
-        break;
-    }
+    arrank_plot_terminal(s, format, w, h);
 }
 
 /* ln r of the fitted line and its standard error at temperature T (delta

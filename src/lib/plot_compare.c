@@ -1,8 +1,9 @@
 /*
  * plot_compare.c - the paired figure of `compare` (arrank/compare.h): one
  * line per compared sample from its rate at T in campaign A to its rate in
- * campaign B, on a log rate axis, both intervals drawn; samples whose rate
- * changed (after Holm) solid, the others dashed.  Kept apart from the
+ * campaign B, on a log rate axis, both intervals drawn, in the house style
+ * (plot_style.c): each sample's own look, those whose rate changed (after
+ * Holm) heavy with filled marks, the others thin and open.  Kept apart from the
  * campaign figures (plot.c and the files beside it) on purpose.
  */
 #include "arrank/plot_compare.h"
@@ -16,7 +17,6 @@
 #include <unistd.h>
 
 #include "arrank/analysis_stats.h"
-#include "arrank/cautions.h"
 #include "arrank/plot.h"
 #include "number.h"
 #include "plot_internal.h"
@@ -46,133 +46,259 @@ static void row_end(const arrank_comparison *c, const arrank_compare_row *r, int
     *hi = s * res->at_T.rate_hi;
 }
 
-/* The rows' data: $changed and $same (segments A -> B, one blank line apart,
-   with the intervals), $labels (the id at B).  Returns the rows drawn; the
-   rates' range into lo/hi. */
-static size_t put_blocks(FILE *f, const arrank_comparison *c, double *lo, double *hi)
+/* The rows drawn (compared), their count; the rates' range into lo/hi. */
+static size_t rows_drawn(const arrank_comparison *c, size_t *rows, double *lo, double *hi)
 {
     size_t n = 0;
     *lo = INFINITY;
     *hi = -INFINITY;
-    for (int changed = 1; changed >= 0; changed--) {
-        fprintf(f, "$%s << EOD\n", changed ? "changed" : "same");
-        for (size_t i = 0; i < c->n_rows; i++) {
-            const arrank_compare_row *r = &c->rows[i];
-            if (!r->compared || r->changed != changed)
-                continue;
-            double ya, la, ha, yb, lb, hb;
-            row_end(c, r, 0, &ya, &la, &ha);
-            row_end(c, r, 1, &yb, &lb, &hb);
-            fprintf(f, "0 %.10g %.10g %.10g\n1 %.10g %.10g %.10g\n\n", ya, la, ha, yb, lb, hb);
-            const double v[] = {la, ha, lb, hb};
-            for (size_t k = 0; k < 4; k++)
-                if (isfinite(v[k]) && v[k] > 0) {
-                    *lo = fmin(*lo, v[k]);
-                    *hi = fmax(*hi, v[k]);
-                }
-            n++;
-        }
-        fputs("EOD\n", f);
+    for (size_t i = 0; i < c->n_rows; i++) {
+        if (!c->rows[i].compared)
+            continue;
+        double v[6];
+        row_end(c, &c->rows[i], 0, &v[0], &v[1], &v[2]);
+        row_end(c, &c->rows[i], 1, &v[3], &v[4], &v[5]);
+        for (size_t k = 0; k < 6; k++)
+            if (isfinite(v[k]) && v[k] > 0) {
+                *lo = fmin(*lo, v[k]);
+                *hi = fmax(*hi, v[k]);
+            }
+        rows[n++] = i;
     }
     return n;
 }
 
-static void put_plot(FILE *f, const arrank_comparison *c, double lo, double hi, int font_pt)
+/* The layout of the paired figure: plot area, names at the right or a
+   legend below (then the canvas grows by its rows). */
+typedef struct {
+    size_t *rows, n;  /* rows of c drawn */
+    size_t *idx;      /* their results in A (each sample's look) */
+    double lo, hi;    /* the log axis */
+    int below;
+    size_t legend_rows;
+    double l, t, r, b;
+} cmp_layout;
+
+#define CMP_LABEL_FRAC 0.78
+#define CMP_CAPTIONS 3
+
+static void cmp_layout_make(script *s, cmp_layout *L)
 {
-    fputs("set encoding utf8\nset termoption noenhanced\nset border lw 1.2\nset tics out\n"
-          "set grid back lc rgb '#e3e3e3' lw 1 dt 1\nset key noautotitle\n"
-          "set logscale y\nset xrange [-0.25:1.6]\nunset label\n",
-          f);
-    fprintf(f, "set yrange [%.10g:%.10g]\n", lo / 1.25, hi * 1.25);
-    /* tics at 1, 2 and 5 times each power of ten in the range, more within
-       less than a decade (common practice) */
-    static const double wide[] = {1, 2, 5}, narrow[] = {1, 1.2, 1.5, 2, 2.5, 3, 4, 5, 6, 8};
-    const int few = hi / lo > 8.0;
-    const double *m = few ? wide : narrow;
-    const size_t n_m = few ? 3 : sizeof narrow / sizeof *narrow;
-    fputs("set ytics (", f);
-    int first = 1;
-    for (double d = pow(10.0, floor(log10(lo / 1.25))); d <= hi * 1.25 * 10; d *= 10.0)
-        for (size_t k = 0; k < n_m; k++) {
-            const double v = d * m[k];
-            if (v < lo / 1.25 || v > hi * 1.25)
-                continue;
-            fprintf(f, "%s\"%g\" %.10g", first ? "" : ", ", v, v);
-            first = 0;
-        }
-    fputs(")\n", f);
-    /* each id beside its rate in B, as a quoted string (never a command) */
-    int tag = 2;
-    for (size_t i = 0; i < c->n_rows; i++) {
-        const arrank_compare_row *r = &c->rows[i];
-        if (!r->compared)
-            continue;
-        double yb, lb, hb;
-        row_end(c, r, 1, &yb, &lb, &hb);
-        fprintf(f, "set label %d ", tag++);
-        arrank_plot_put_q(f, r->id);
-        fprintf(f, " at first 1.04, first %.10g left\n", yb);
+    double f = s->fpx, pad = 0.8 * f, widest = 0;
+    for (size_t k = 0; k < L->n; k++)
+        widest = fmax(widest, arrank_plot_text_px(arrank_plot_sample_name(
+                                                      &s->a->results[L->idx[k]]),
+                                                  CMP_LABEL_FRAC * f));
+    L->t = 0.8 * f + 1.38 * f + (s->title && *s->title ? 0.35 * f + 0.96 * f : 0) + 0.4 * f +
+           1.0 * f;
+    L->l = pad + 1.6 * f + 6.0 * ARRANK_CHAR_EM * f + 0.9 * f;
+    double b_asked = s->base_h - arrank_plot_caption_px(s, CMP_CAPTIONS) - 4.6 * f;
+    L->below = (double)L->n * 1.3 * CMP_LABEL_FRAC * f > b_asked - L->t || widest > 0.3 * s->W;
+    L->r = s->W - pad - widest - 1.6 * f;
+    L->b = s->H - arrank_plot_caption_px(s, CMP_CAPTIONS) - 4.6 * f;
+    if (L->below) {
+        size_t cols;
+        L->legend_rows = arrank_plot_legend_rows(s, L->idx, L->n, s->W - 2 * pad, &cols);
+        L->r = s->W - pad - 1.0 * f;
+        L->b -= (double)L->legend_rows * 1.45 * CMP_LABEL_FRAC * f + 0.6 * f;
     }
-    fputs("set xtics (", f);
-    arrank_plot_put_q_tic(f, c->a->campaign->name);
-    fputs(" 0, ", f);
-    arrank_plot_put_q_tic(f, c->b->campaign->name);
-    fputs(" 1)\n", f);
-    fputs("set ylabel ", f);
+}
+
+/* px from the top of a rate v on the log axis of L. */
+static double cmp_y_px(const cmp_layout *L, double v)
+{
+    return L->t + (log(L->hi) - log(v)) / (log(L->hi) - log(L->lo)) * (L->b - L->t);
+}
+
+/* The figure's name (heading and SVG title). */
+static void cmp_name(const arrank_comparison *c, char *buf, size_t n)
+{
     if (c->reference)
-        arrank_plot_put_qf(f, "rate at %.1f K / the reference's in its campaign (log scale)",
-                           c->temp_K);
+        snprintf(buf, n, "Rate at %.4g °C over the reference %.120s in each campaign, "
+                         "%.4g %% intervals",
+                 c->temp_K - ZERO_C_K, c->reference, 100.0 * c->confidence);
     else
-        arrank_plot_put_qf(f, "rate at %.1f K [%s] (log scale)", c->temp_K,
-                           c->a->campaign->rate_unit);
-    fputs("\nset title ", f);
-    arrank_plot_put_qf(f, "%s -> %s", c->a->campaign->name, c->b->campaign->name);
-    fputs(" . \"\\n\" . ", f); /* two lines: gnuplot's own string concatenation */
-    arrank_plot_put_qf(f, "%s per sample; solid: changed (Holm, %g %%)",
-                       c->reference ? "rate at T over the reference's" : "rate at T",
-                       100.0 * (1.0 - c->confidence));
-    fputs("\nset label 1 ", f);
-    arrank_plot_put_q(f, ARRANK_CAUTION_APPARENT);
-    fprintf(f, " at graph 1, graph 1.0 right offset 0,-0.6 font ',%d' tc rgb '#555555'\n",
-            font_pt * 3 / 5);
-    fputs("plot $changed using 1:2:3:4 with yerrorbars lc rgb '#D55E00' pt 7 ps 0.8, "
-          "$changed using 1:2 with lines lc rgb '#D55E00' lw 2 dt 1, "
-          "$same using 1:2:3:4 with yerrorbars lc rgb '#0072B2' pt 6 ps 0.8, "
-          "$same using 1:2 with lines lc rgb '#0072B2' lw 1.5 dt 2\n",
-          f);
+        snprintf(buf, n, "Rate at %.4g °C in each campaign, %.4g %% intervals",
+                 c->temp_K - ZERO_C_K, 100.0 * c->confidence);
+}
+
+static const char *campaign_words(const arrank_analysis *a)
+{
+    return a->campaign && a->campaign->title  ? a->campaign->title
+           : a->campaign && a->campaign->name ? a->campaign->name
+                                              : "";
+}
+
+/* Axes, heading, axis names, captions and names of the paired figure. */
+static void cmp_frame(script *s, const arrank_comparison *c, const cmp_layout *L)
+{
+    FILE *f = s->f;
+    double fp = s->fpx, pad = 0.8 * fp;
+    char name[400], buf[600], line2[600], line3[300];
+    arrank_plot_style_axes(f, 0);
+    cmp_name(c, name, sizeof name);
+    arrank_plot_head(s, name);
+    arrank_plot_area(s, L->l, L->t, L->r, L->b);
+    fprintf(f, "set xrange [-0.3:1.3]\nset yrange [%.10g:%.10g]\nset logscale y\n", L->lo,
+            L->hi);
+    fputs("set xtics out ('' 0, '' 1)\n", f);
+    arrank_plot_put_log_tics(f, "y", L->lo, L->hi);
+    /* the campaigns under their ticks, each cut to half the plot's width */
+    const double xs[2] = {0.0, 1.0};
+    const arrank_analysis *ab[2] = {c->a, c->b};
+    for (int k = 0; k < 2; k++) {
+        double x = L->l + (xs[k] + 0.3) / 1.6 * (L->r - L->l);
+        arrank_plot_fit_text(ab[k]->campaign ? ab[k]->campaign->name : "",
+                             0.45 * (L->r - L->l), 0.9 * fp, buf, sizeof buf);
+        arrank_plot_text(s, x, L->b + 1.5 * fp, "center", 0.9, ARRANK_INK, 0, buf);
+    }
+    arrank_plot_text(s, 0.5 * (L->l + L->r), L->b + 3.5 * fp, "center", 0.9, ARRANK_INK, 0,
+                     "campaign");
+    if (c->reference)
+        snprintf(buf, sizeof buf, "rate at %.4g °C / the reference's", c->temp_K - ZERO_C_K);
+    else
+        snprintf(buf, sizeof buf, "rate at %.4g °C / %s", c->temp_K - ZERO_C_K, s->unit);
+    arrank_plot_text(s, 1.4 * fp, 0.5 * (L->t + L->b), "center", 0.9, ARRANK_INK, 1, buf);
+    snprintf(buf, sizeof buf, "bars: %.4g %% intervals; heavy line, filled marks: rate "
+                              "changed (Holm, %.4g %%); thin, open: no change shown",
+             100.0 * c->confidence, 100.0 * (1.0 - c->confidence));
+    if (c->reference)
+        snprintf(line2, sizeof line2, "each rate over its own campaign's %s (measured in both; "
+                                      "not drawn itself)", c->reference);
+    else
+        snprintf(line2, sizeof line2, "rates as measured, the second campaign's in the first's "
+                                      "unit");
+    size_t not_fitted = c->n_rows - L->n - (c->reference ? 1 : 0);
+    size_t one_only = c->n_only_a + c->n_only_b;
+    line3[0] = '\0';
+    if (not_fitted && one_only)
+        snprintf(line3, sizeof line3, "not drawn: %zu not fitted in one campaign, %zu ids in "
+                                      "one campaign only (see the table)", not_fitted, one_only);
+    else if (not_fitted || one_only)
+        snprintf(line3, sizeof line3, "not drawn: %zu %s (see the table)",
+                 not_fitted ? not_fitted : one_only,
+                 not_fitted ? "not fitted in one campaign" : "ids in one campaign only");
+    const char *lines[CMP_CAPTIONS] = {buf, line2, line3};
+    arrank_plot_captions(s, lines, CMP_CAPTIONS);
+    if (L->below) {
+        arrank_plot_legend(s, L->idx, L->n, pad, L->b + 4.6 * fp - 0.2 * fp, s->W - pad,
+                           s->H - arrank_plot_caption_px(s, CMP_CAPTIONS), 1);
+        return;
+    }
+    double *xd = malloc((L->n ? L->n : 1) * sizeof *xd), *yd = malloc((L->n ? L->n : 1) * sizeof *yd);
+    double *yp = malloc((L->n ? L->n : 1) * sizeof *yp);
+    for (size_t k = 0; xd && yd && yp && k < L->n; k++) {
+        double lo, hi;
+        row_end(c, &c->rows[L->rows[k]], 1, &yd[k], &lo, &hi);
+        xd[k] = 1.0;
+        yp[k] = cmp_y_px(L, yd[k]);
+    }
+    if (xd && yd && yp)
+        arrank_plot_end_labels(s, L->idx, xd, yd, yp, L->n, L->r + 1.1 * fp);
+    free(xd);
+    free(yd);
+    free(yp);
+}
+
+/* Each row's block $cmp<k> (A at 0, B at 1, with the intervals) and its
+   elements: intervals and markers, the line in the sample's look. */
+static void cmp_plot(script *s, const arrank_comparison *c, const cmp_layout *L)
+{
+    FILE *f = s->f;
+    for (size_t k = 0; k < L->n; k++) {
+        const arrank_compare_row *r = &c->rows[L->rows[k]];
+        double ya, la, ha, yb, lb, hb;
+        row_end(c, r, 0, &ya, &la, &ha);
+        row_end(c, r, 1, &yb, &lb, &hb);
+        fprintf(f, "$cmp%zu << EOD\n0 %.10g %.10g %.10g\n1 %.10g %.10g %.10g\nEOD\n", k, ya, la,
+                ha, yb, lb, hb);
+    }
+    int first = 1;
+    for (size_t k = 0; k < L->n; k++) {
+        const arrank_compare_row *r = &c->rows[L->rows[k]];
+        arrank_plot_look lk = arrank_plot_look_of(c->a, L->idx[k]);
+        arrank_plot_next_elem(f, &first);
+        fprintf(f, "$cmp%zu using 1:2 with lines ", k);
+        arrank_plot_put_line_look(f, c->a, L->idx[k], r->changed ? 2.4 : 1.0);
+        arrank_plot_next_elem(f, &first);
+        fprintf(f, "$cmp%zu using 1:2:3:4 with yerrorbars pt %d ps 1.2*PS lw %.3g lc rgb '%s'",
+                k, r->changed ? lk.point_filled : lk.point_hollow, r->changed ? 1.6 : 1.0,
+                lk.color);
+    }
+    if (first)
+        fputs("plot NaN notitle", f);
+    fputs("\n", f);
+}
+
+/* The script of one format. */
+static void put_figure(script *s, const arrank_comparison *c, cmp_layout *L, unsigned format)
+{
+    fputs("reset\n", s->f);
+    s->fpx = arrank_plot_base_font_px(s->base_w);
+    double w = s->base_w, h = s->base_h;
+    s->W = w;
+    s->H = h;
+    cmp_layout_make(s, L);
+    if (L->below)
+        h += (double)L->legend_rows * 1.45 * CMP_LABEL_FRAC * s->fpx + 1.0 * s->fpx;
+    arrank_plot_terminal(s, format, w, h);
+    cmp_layout_make(s, L);
+    for (size_t k = 0; k < sizeof formats_known / sizeof *formats_known; k++)
+        if (formats_known[k].bit == format)
+            fprintf(s->f, "set output 'compare.%s'\n", formats_known[k].ext);
+    cmp_frame(s, c, L);
+    cmp_plot(s, c, L);
+    fputs("unset output\n", s->f);
 }
 
 static arrank_status script_in_c(const arrank_comparison *c, unsigned formats, FILE *f,
                                  arrank_error *err)
 {
+    cmp_layout L;
+    memset(&L, 0, sizeof L);
+    L.rows = malloc((c->n_rows ? c->n_rows : 1) * sizeof *L.rows);
+    L.idx = malloc((c->n_rows ? c->n_rows : 1) * sizeof *L.idx);
+    if (!L.rows || !L.idx) {
+        free(L.rows);
+        free(L.idx);
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    }
     double lo, hi;
-    if (put_blocks(f, c, &lo, &hi) == 0 || !(lo > 0) || !isfinite(hi))
+    L.n = rows_drawn(c, L.rows, &lo, &hi);
+    if (L.n == 0 || !(lo > 0) || !isfinite(hi)) {
+        free(L.rows);
+        free(L.idx);
         return arrank_errorf(err, ARRANK_EDATA, "nothing to draw: no sample compared");
+    }
+    for (size_t k = 0; k < L.n; k++)
+        L.idx[k] = c->rows[L.rows[k]].result_a;
+    /* a tenth of the span to spare at each end, at least 10 % of the value */
+    double spare = fmax(log(1.1), 0.1 * log(hi / lo));
+    L.lo = lo * exp(-spare);
+    L.hi = hi * exp(spare);
+    script s;
+    memset(&s, 0, sizeof s);
+    s.f = f;
+    s.a = c->a;
+    arrank_plot_unit_text(c->a->campaign && c->a->campaign->rate_unit
+                              ? c->a->campaign->rate_unit
+                              : "report unit",
+                          s.unit_buf, sizeof s.unit_buf);
+    s.unit = s.unit_buf;
+    char sub[600];
+    snprintf(sub, sizeof sub, "%.280s → %.280s", campaign_words(c->a), campaign_words(c->b));
+    s.title = sub;
+    s.base_w = 960;
+    s.base_h = 720;
+    fputs("# arrank paired figure.  Text from the data appears only in quoted strings;\n"
+          "# data blocks hold numbers only.\n", f);
     if (!formats)
         formats = ARRANK_PLOT_SVG;
-    for (size_t k = 0; k < sizeof formats_known / sizeof *formats_known; k++) {
-        if (!(formats & formats_known[k].bit))
-            continue;
-        switch (formats_known[k].bit) {
-        case ARRANK_PLOT_PNG:
-            fputs("set terminal pngcairo size 2400,1700 font 'Sans,36' noenhanced linewidth 3.0 "
-                  "background rgb '#ffffff'\n", f);
-            break;
-        case ARRANK_PLOT_PDF:
-            fputs("set terminal pdfcairo size 8in,5.6in font 'Sans,12' noenhanced "
-                  "linewidth 1.5 background rgb '#ffffff'\n", f);
-            break;
-        default:
-            fputs("set terminal svg size 960,680 fixed font 'sans-serif,18' noenhanced "
-                  "linewidth 1.5 background rgb '#ffffff'\n", f);
-        }
-        fprintf(f, "set output 'compare.%s'\n", formats_known[k].ext);
-        put_plot(f, c, lo, hi,
-                 formats_known[k].bit == ARRANK_PLOT_PNG   ? 36
-                 : formats_known[k].bit == ARRANK_PLOT_PDF ? 12
-                                                           : 18);
-        fputs("unset output\n", f);
-    }
+    for (size_t k = 0; k < sizeof formats_known / sizeof *formats_known; k++)
+        if (formats & formats_known[k].bit)
+            put_figure(&s, c, &L, formats_known[k].bit);
+    free(L.rows);
+    free(L.idx);
     return ferror(f) ? arrank_errorf(err, ARRANK_EIO, "write failed") : ARRANK_OK;
 }
 
@@ -233,6 +359,18 @@ static arrank_status plot_in_c(const arrank_comparison *c, const char *dir, unsi
             continue;
         snprintf(from, sizeof from, "%s/compare.%s", priv, formats_known[k].ext);
         snprintf(to, sizeof to, "%s/compare.%s", dir, formats_known[k].ext);
+        if (formats_known[k].bit == ARRANK_PLOT_SVG) {
+            /* the SVG's <title>: the figure's name and the two campaigns */
+            char name[400], title[1000];
+            cmp_name(c, name, sizeof name);
+            snprintf(title, sizeof title, "%s – %.280s → %.280s", name, campaign_words(c->a),
+                     campaign_words(c->b));
+            if (arrank_plot_svg_finish(from, title) != 0) {
+                st = arrank_error_at(err, ARRANK_EIO, to, 0, 0, "cannot write '%s': %s", to,
+                                     strerror(errno));
+                break;
+            }
+        }
         if (rename(from, to) != 0)
             st = arrank_error_at(err, ARRANK_EIO, to, 0, 0, "cannot write '%s': %s", to,
                                  strerror(errno));

@@ -3,7 +3,9 @@
  * script and the entry points; plot_figures.c: the Arrhenius, rate-at-T and
  * Ea-ln A figures; plot_diagnostics.c: the per-sample figure; plot_stream.c:
  * rate against time on stream;
- * plot_gnuplot.c: finding and running gnuplot).  Inside libarrank only.
+ * plot_gnuplot.c: finding and running gnuplot; plot_compare.c and
+ * plot_plan.c: the figures of `compare` and `plan`, which set up a script of
+ * their own).  Inside libarrank only.
  */
 #ifndef ARRANK_PLOT_INTERNAL_H
 #define ARRANK_PLOT_INTERNAL_H
@@ -43,6 +45,11 @@ typedef struct {
 } script;
 
 /* ---- layout (plot_layout.c) ---------------------------------------------- */
+/* The base font in px for a canvas asked width_px wide. */
+double arrank_plot_base_font_px(int width_px);
+/* The terminal of one format (ARRANK_PLOT_* bit) for a canvas of w x h px
+   at the base font s->fpx: sets s->W, s->H and s->font_pt, and PS. */
+void arrank_plot_terminal(script *s, unsigned format, double w, double h);
 /* Screen fraction of a px position: x from the left, y from the top. */
 double arrank_plot_sx(const script *s, double x_px);
 double arrank_plot_sy(const script *s, double y_px);
@@ -80,6 +87,14 @@ int arrank_plot_legend(script *s, const size_t *idx, size_t n, double x0, double
    widest name). */
 size_t arrank_plot_legend_rows(const script *s, const size_t *idx, size_t n, double w_px,
                                size_t *cols);
+
+/* Names at the ends of lines, in a column starting at x_px right of the
+   plot area (s->l..s->r), each at its line's end height y_px[k] pushed apart
+   so that no two overlap, in the sample's colour, with a thin leader from
+   the end (x_data[k], y_data[k] in first coordinates).  idx: result indices
+   of s->a.  0 when out of memory (nothing written). */
+int arrank_plot_end_labels(script *s, const size_t *idx, const double *x_data,
+                           const double *y_data, const double *y_px, size_t n, double x_px);
 
 /* r is fitted with at least 3 points (a line to draw). */
 int arrank_plot_fitted(const arrank_result *r);

@@ -13,6 +13,46 @@
 #include "arrank/cautions.h"
 #include "plot_internal.h"
 
+/* The base font: a 60th of the asked width, 12 to 24 px (our choice: 16 px on
+   the 960 px page, which the report shows at its own size). */
+double arrank_plot_base_font_px(int width_px)
+{
+    double f = round(width_px / 60.0);
+    return f < 12 ? 12 : f > 24 ? 24 : f;
+}
+
+void arrank_plot_terminal(script *s, unsigned format, double w, double h)
+{
+    s->W = w;
+    s->H = h;
+    FILE *f = s->f;
+    /* SVG in px; PNG twice the pixels (pngcairo reads font sizes as px at its
+       72 dpi); PDF at 96 px to the inch, fonts in pt (0.75 px). */
+    switch (format) {
+    case ARRANK_PLOT_PNG:
+        fprintf(f,
+                "set terminal pngcairo size %d,%d font 'DejaVu Sans,%d' noenhanced "
+                "linewidth 2.0 background rgb '#ffffff'\n",
+                (int)lround(2 * w), (int)lround(2 * h), s->font_pt = (int)lround(2 * s->fpx));
+        fputs("PS = 2.0\n", f);
+        break;
+    case ARRANK_PLOT_PDF:
+        fprintf(f,
+                "set terminal pdfcairo size %.3fin,%.3fin font 'DejaVu Sans,%d' noenhanced "
+                "linewidth 1.0 background rgb '#ffffff'\n",
+                w / 96.0, h / 96.0, s->font_pt = (int)lround(0.75 * s->fpx));
+        fputs("PS = 0.75\n", f);
+        break;
+    default:
+        fprintf(f,
+                "set terminal svg size %d,%d fixed font 'sans-serif,%d' noenhanced "
+                "linewidth 1.0 background rgb '#ffffff'\n",
+                (int)lround(w), (int)lround(h), s->font_pt = (int)lround(s->fpx));
+        fputs("PS = 1.0\n", f);
+        break;
+    }
+}
+
 double arrank_plot_sx(const script *s, double x_px)
 {
     return x_px / s->W;
@@ -225,12 +265,15 @@ int arrank_plot_legend(script *s, const size_t *idx, size_t n, double x0, double
         size_t i = idx[k];
         double x = x0 + (double)(k / rows) * col_w, y = y0 + ((double)(k % rows) + 0.5) * row_h;
         arrank_plot_look lk = arrank_plot_look_of(s->a, i);
+        /* gnuplot's SVG terminal joins arrows of one colour and width into one
+           path with the first one's dashes: every other entry a thousandth
+           wider, so that each line keeps its own dash pattern */
         if (with_lines)
             fprintf(f, "set arrow from screen %.6f, screen %.6f to screen %.6f, screen %.6f "
-                       "nohead lc rgb '%s' dt %s lw 1.5 front\n",
+                       "nohead lc rgb '%s' dt %s lw %.4g front\n",
                     arrank_plot_sx(s, x), arrank_plot_sy(s, y),
                     arrank_plot_sx(s, x + 2.4 * s->fpx), arrank_plot_sy(s, y), lk.color,
-                    arrank_plot_dash(lk.dash));
+                    arrank_plot_dash(lk.dash), 1.5 + 0.001 * (double)(k % 2));
         fprintf(f, "set label '' at screen %.6f, screen %.6f point pt %d ps PS lc rgb '%s' "
                    "front\n",
                 arrank_plot_sx(s, x + 1.2 * s->fpx), arrank_plot_sy(s, y), lk.point_filled,
@@ -240,5 +283,57 @@ int arrank_plot_legend(script *s, const size_t *idx, size_t n, double x0, double
                              col_w - 3.0 * s->fpx, LEGEND_FRAC * s->fpx, buf, sizeof buf);
         arrank_plot_text(s, x + 2.9 * s->fpx, y, "left", LEGEND_FRAC, ARRANK_INK, 0, buf);
     }
+    return 1;
+}
+
+/* Insertion sort of the order ord[0..m) by y (at most the samples drawn). */
+static void sort_by_y(double *y, size_t *ord, size_t m)
+{
+    for (size_t p = 1; p < m; p++)
+        for (size_t q = p; q > 0 && y[q - 1] > y[q]; q--) {
+            double t0 = y[q];
+            y[q] = y[q - 1];
+            y[q - 1] = t0;
+            size_t o = ord[q];
+            ord[q] = ord[q - 1];
+            ord[q - 1] = o;
+        }
+}
+
+int arrank_plot_end_labels(script *s, const size_t *idx, const double *x_data,
+                           const double *y_data, const double *y_px, size_t n, double x_px)
+{
+    double *y = malloc((n ? n : 1) * sizeof *y);
+    size_t *ord = malloc((n ? n : 1) * sizeof *ord);
+    if (!y || !ord) {
+        free(y);
+        free(ord);
+        return 0;
+    }
+    for (size_t k = 0; k < n; k++) {
+        y[k] = y_px[k];
+        ord[k] = k;
+    }
+    sort_by_y(y, ord, n);
+    /* each pushed down past the one above, then up from the bottom */
+    double row = 1.3 * LEGEND_FRAC * s->fpx, top = s->t + 0.5 * row, bot = s->b - 0.5 * row;
+    for (size_t p = 0; p < n; p++)
+        y[p] = fmax(y[p], p ? y[p - 1] + row : top);
+    for (size_t p = n; p-- > 0;)
+        y[p] = fmin(y[p], p + 1 < n ? y[p + 1] - row : bot);
+    for (size_t p = 0; p < n; p++) {
+        size_t k = ord[p], i = idx[k];
+        arrank_plot_look lk = arrank_plot_look_of(s->a, i);
+        fprintf(s->f, "set arrow from first %.9g, first %.9g to screen %.6f, screen %.6f nohead "
+                      "lc rgb '%s' lw 0.8 dt solid front\n",
+                x_data[k], y_data[k], arrank_plot_sx(s, x_px - 0.2 * s->fpx),
+                arrank_plot_sy(s, y[p]), lk.color);
+        char buf[256];
+        arrank_plot_fit_text(arrank_plot_sample_name(&s->a->results[i]),
+                             s->W - x_px - 0.8 * s->fpx, LEGEND_FRAC * s->fpx, buf, sizeof buf);
+        arrank_plot_text(s, x_px, y[p], "left", LEGEND_FRAC, lk.color, 0, buf);
+    }
+    free(y);
+    free(ord);
     return 1;
 }

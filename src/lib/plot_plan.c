@@ -22,24 +22,6 @@ static const struct {
     const char *ext;
 } plan_formats[] = {{ARRANK_PLOT_SVG, "svg"}, {ARRANK_PLOT_PNG, "png"}, {ARRANK_PLOT_PDF, "pdf"}};
 
-static void put_term(FILE *f, unsigned format)
-{
-    switch (format) {
-    case ARRANK_PLOT_PNG:
-        fputs("set terminal pngcairo size 2700,1800 font 'Sans,40' noenhanced linewidth 3.0 "
-              "background rgb '#ffffff'\nPS = 3.0\n", f);
-        break;
-    case ARRANK_PLOT_PDF:
-        fputs("set terminal pdfcairo size 9.00in,6.00in font 'Sans,12' noenhanced linewidth 1.5 "
-              "background rgb '#ffffff'\nPS = 0.8\n", f);
-        break;
-    default:
-        fputs("set terminal svg size 1080,720 fixed font 'sans-serif,22' noenhanced "
-              "linewidth 1.5 background rgb '#ffffff'\nPS = 0.7\n", f);
-        break;
-    }
-}
-
 /* The temperature span to draw for r: its fitted range and its runs. */
 static void span_of(const arrank_analysis *a, const arrank_plan *p, const arrank_result *r, double *lo, double *hi)
 {
@@ -52,21 +34,175 @@ static void span_of(const arrank_analysis *a, const arrank_plan *p, const arrank
         }
 }
 
-static void put_blocks(FILE *f, const arrank_analysis *a, const arrank_plan *p, double *t_lo,
-                       double *t_hi, size_t (*cnt)[3])
+#define PLAN_LABEL_FRAC 0.78
+#define PLAN_RUN_FRAC 0.72
+#define PLAN_CAPTIONS 2
+
+/* The layout of a plan's figure (px) and its axes. */
+typedef struct {
+    size_t *idx, n;      /* results drawn: the plan's entries */
+    double x_lo, x_hi, y_lo, y_hi;
+    int below;
+    size_t legend_rows;
+    double l, t, r, b;
+} plan_layout;
+
+/* Data blocks of entry j: points in the fit and out of it (with and without
+   an sd), the fitted line with its band, the planned runs on the line.
+   cnt: {in, in with sd, out, out with sd, runs}. */
+static void put_blocks(FILE *f, const arrank_analysis *a, const arrank_plan *p, size_t j,
+                       size_t cnt[5])
 {
-    *t_lo = INFINITY;
-    *t_hi = -INFINITY;
+    static const char *const tags[4] = {"pun", "pue", "pxn", "pxe"};
+    const arrank_result *r = &a->results[p->entries[j].result];
+    double lo, hi;
+    span_of(a, p, r, &lo, &hi);
+    for (int b = 0; b < 4; b++)
+        cnt[b] = arrank_plot_block_points(f, r, j, tags[b], b < 2, b % 2);
+    arrank_plot_block_line(f, r, "fit", j, X_SCALE / hi, X_SCALE / lo, 60);
+    /* the planned runs on the line (no block without runs: gnuplot fails on
+       an empty block) */
+    size_t n = 0;
+    for (size_t k = 0; k < p->n_runs; k++) {
+        if (p->runs[k].sample != p->entries[j].result)
+            continue;
+        double y, se;
+        arrank_plot_line_at(&r->fit, p->runs[k].temp_K, &y, &se);
+        if (!isfinite(y))
+            continue;
+        if (n++ == 0)
+            fprintf(f, "$run%zu << EOD\n", j);
+        fprintf(f, "%.9g %.9g\n", X_SCALE / p->runs[k].temp_K, y);
+    }
+    if (n)
+        fputs("EOD\n", f);
+    cnt[4] = n;
+}
+
+/* The axes' ranges: every point, band and run of the entries, the maximum
+   and the operating temperature; room above for the runs' repeats. */
+static void plan_ranges(const arrank_analysis *a, const arrank_plan *p, plan_layout *L)
+{
+    double t_lo = INFINITY, t_hi = -INFINITY, y_lo = INFINITY, y_hi = -INFINITY;
     for (size_t j = 0; j < p->n_entries; j++) {
         const arrank_result *r = &a->results[p->entries[j].result];
         double lo, hi;
         span_of(a, p, r, &lo, &hi);
-        cnt[j][0] = arrank_plot_block_points(f, r, j, "pts", 1, 0);
-        cnt[j][1] = arrank_plot_block_points(f, r, j, "pte", 1, 1);
-        arrank_plot_block_line(f, r, "fit", j, X_SCALE / hi, X_SCALE / lo, 60);
-        /* the planned runs on the line (no block without runs: gnuplot
-           fails on labels of an empty or all-NaN block) */
-        size_t n = 0;
+        t_lo = fmin(t_lo, lo);
+        t_hi = fmax(t_hi, hi);
+        const double tq = isfinite(r->t_quantile) ? r->t_quantile : 0.0, ts[2] = {lo, hi};
+        for (int e = 0; e < 2; e++) {
+            double y, se;
+            arrank_plot_line_at(&r->fit, ts[e], &y, &se);
+            if (isfinite(y) && isfinite(se)) {
+                y_lo = fmin(y_lo, y - tq * se);
+                y_hi = fmax(y_hi, y + tq * se);
+            }
+        }
+        for (size_t k = 0; k < r->sample->n_points; k++)
+            if (arrank_plot_usable_point(&r->sample->points[k])) {
+                y_lo = fmin(y_lo, log(r->sample->points[k].rate));
+                y_hi = fmax(y_hi, log(r->sample->points[k].rate));
+            }
+    }
+    if (!(y_hi >= y_lo) || !(t_hi >= t_lo)) {
+        t_lo = 500;
+        t_hi = 600;
+        y_lo = 0;
+        y_hi = 1;
+    }
+    double x_lo = X_SCALE / fmax(t_hi, p->max_temp_K), x_hi = X_SCALE / fmin(t_lo, p->temp_K);
+    double pad = arrank_plot_min_pad(x_lo, x_hi, 0.04 * (x_hi - x_lo), x_hi);
+    /* 1000/T stays above 0: the degC axis is 1000/x */
+    L->x_lo = x_lo - fmin(pad, 0.5 * x_lo);
+    L->x_hi = x_hi + pad;
+    double py = arrank_plot_min_pad(y_lo, y_hi, 0.06 * (y_hi - y_lo), fmax(1.0, fabs(y_hi)));
+    L->y_lo = y_lo - py;
+    L->y_hi = y_hi + 4.0 * py;
+}
+
+static void plan_layout_make(script *s, plan_layout *L)
+{
+    double f = s->fpx, pad = 0.8 * f, widest = 0;
+    for (size_t k = 0; k < L->n; k++)
+        widest = fmax(widest, arrank_plot_text_px(arrank_plot_sample_name(
+                                                      &s->a->results[L->idx[k]]),
+                                                  PLAN_LABEL_FRAC * f));
+    double head = 0.8 * f + 1.38 * f + (s->title && *s->title ? 0.35 * f + 0.96 * f : 0) +
+                  0.4 * f;
+    L->t = head + 4.0 * f;
+    L->b = s->H - arrank_plot_caption_px(s, PLAN_CAPTIONS) - 4.6 * f;
+    size_t ych = arrank_plot_tic_chars(L->y_lo, L->y_hi, fmax(3, (L->b - L->t) / (2.4 * f)));
+    L->l = pad + 1.6 * f + (double)ych * ARRANK_CHAR_EM * f + 0.9 * f;
+    L->r = s->W - pad - widest - 1.6 * f;
+    double b_asked = s->base_h - arrank_plot_caption_px(s, PLAN_CAPTIONS) - 4.6 * f;
+    L->below = (double)L->n * 1.3 * PLAN_LABEL_FRAC * f > b_asked - L->t || widest > 0.3 * s->W;
+    if (L->below) {
+        size_t cols;
+        L->legend_rows = arrank_plot_legend_rows(s, L->idx, L->n, s->W - 2 * pad, &cols);
+        L->r = s->W - pad - 1.0 * f;
+        L->b -= (double)L->legend_rows * 1.45 * PLAN_LABEL_FRAC * f + 0.6 * f;
+    }
+}
+
+static double px_x(const plan_layout *L, double x)
+{
+    return L->l + (x - L->x_lo) / (L->x_hi - L->x_lo) * (L->r - L->l);
+}
+
+static double px_y(const plan_layout *L, double y)
+{
+    return L->t + (L->y_hi - y) / (L->y_hi - L->y_lo) * (L->b - L->t);
+}
+
+/* A text's box in px: left, top, right, bottom. */
+typedef struct {
+    double l, t, r, b;
+} box;
+
+static int hits(const box *bx, size_t n, box c)
+{
+    for (size_t k = 0; k < n; k++)
+        if (c.l < bx[k].r && bx[k].l < c.r && c.t < bx[k].b && bx[k].t < c.b)
+            return 1;
+    return 0;
+}
+
+/* A vertical line at 1000/T of temp_K with its name, rotated, at the bottom
+   of the plot area on the side given (+1 right, -1 left); its box into bx. */
+static box plan_line(script *s, const plan_layout *L, double temp_K, const char *words,
+                     const char *color, const char *dash, double lw, int side)
+{
+    double x = X_SCALE / temp_K, xp = px_x(L, x), fs = PLAN_RUN_FRAC * s->fpx;
+    fprintf(s->f, "set arrow from first %.9g, graph 0 to first %.9g, graph 1 nohead lw %.3g "
+                  "dt %s lc rgb '%s' back\n",
+            x, x, lw, dash, color);
+    char buf[128];
+    snprintf(buf, sizeof buf, "%s %.4g °C", words, temp_K - ZERO_C_K);
+    double len = arrank_plot_text_px(buf, fs), cx = xp + side * 0.75 * s->fpx;
+    double cy = L->b - 0.5 * s->fpx - 0.5 * len;
+    arrank_plot_text(s, cx, cy, "center", PLAN_RUN_FRAC, color, 1, buf);
+    box bx = {cx - 0.7 * fs, cy - 0.5 * len, cx + 0.7 * fs, cy + 0.5 * len};
+    return bx;
+}
+
+/* The repeats of each planned run above its marker ("×4"), each moved up
+   (or below the marker) until it overlaps no text placed before. */
+static void plan_repeats(script *s, const arrank_analysis *a, const arrank_plan *p,
+                         const plan_layout *L, box *bx, size_t nb)
+{
+    double fs = PLAN_RUN_FRAC * s->fpx, row = 1.25 * fs, m = 1.3 * s->fpx;
+    /* the runs' own markers first: no repeat is written over a marker */
+    for (size_t k = 0; k < p->n_runs; k++) {
+        double y, se;
+        arrank_plot_line_at(&a->results[p->runs[k].sample].fit, p->runs[k].temp_K, &y, &se);
+        double xp = px_x(L, X_SCALE / p->runs[k].temp_K), yp = px_y(L, y);
+        if (isfinite(yp))
+            bx[nb++] = (box){xp - m, yp - m, xp + m, yp + m};
+    }
+    for (size_t j = 0; j < p->n_entries; j++) {
+        const arrank_result *r = &a->results[p->entries[j].result];
+        arrank_plot_look lk = arrank_plot_look_of(a, p->entries[j].result);
         for (size_t k = 0; k < p->n_runs; k++) {
             if (p->runs[k].sample != p->entries[j].result)
                 continue;
@@ -74,126 +210,200 @@ static void put_blocks(FILE *f, const arrank_analysis *a, const arrank_plan *p, 
             arrank_plot_line_at(&r->fit, p->runs[k].temp_K, &y, &se);
             if (!isfinite(y))
                 continue;
-            if (n++ == 0)
-                fprintf(f, "$run%zu << EOD\n", j);
-            fprintf(f, "%.9g %.9g %zu\n", X_SCALE / p->runs[k].temp_K, y, p->runs[k].repeats);
+            char buf[32];
+            snprintf(buf, sizeof buf, "×%zu", p->runs[k].repeats);
+            double w = arrank_plot_text_px(buf, fs) + 0.3 * fs;
+            double xp = px_x(L, X_SCALE / p->runs[k].temp_K), yp = px_y(L, y);
+            box c = {0, 0, 0, 0};
+            int found = 0;
+            for (int dir = -1; dir <= 1 && !found; dir += 2)
+                for (double cy = yp + dir * (m + 0.6 * row);
+                     cy > L->t + 0.6 * row && cy < L->b - 0.6 * row && !found; cy += dir * row) {
+                    c = (box){xp - 0.5 * w, cy - 0.5 * row, xp + 0.5 * w, cy + 0.5 * row};
+                    found = !hits(bx, nb, c);
+                }
+            if (!found)
+                continue; /* no room: the caption and the run sheet still say it */
+            bx[nb++] = c;
+            arrank_plot_text(s, xp, 0.5 * (c.t + c.b), "center", PLAN_RUN_FRAC, lk.color, 0,
+                             buf);
         }
-        if (n)
-            fputs("EOD\n", f);
-        cnt[j][2] = n;
-        *t_lo = fmin(*t_lo, lo);
-        *t_hi = fmax(*t_hi, hi);
     }
 }
 
-static void put_marks(FILE *f, const arrank_plan *p, double t_lo, double t_hi, int pt)
+static const char *goal_words(const arrank_plan *p)
 {
-    double x_lo = X_SCALE / fmax(t_hi, p->max_temp_K), x_hi = X_SCALE / t_lo;
-    double pad = arrank_plot_min_pad(x_lo, x_hi, 0.04 * (x_hi - x_lo), X_SCALE / t_hi);
-    /* 1000/T stays above 0: the degC axis is 1000/x, and gnuplot fails on a
-       linked axis through x = 0 */
-    double pad_lo = fmin(pad, 0.5 * x_lo);
-    fprintf(f, "set xrange [%.9g:%.9g]\n", x_lo - pad_lo, x_hi + pad);
-    fputs("set xtics nomirror\nset offsets 0, 0, graph 0.12, graph 0.05\n", f);
-    if (x_lo - pad_lo > 0 && isfinite(x_hi + pad)) {
-        /* the top axis in degC, as the Arrhenius figure has it */
-        fputs("set x2label 'T  [°C]'\n"
-              "set link x2 via 1000./x - 273.15 inverse 1000./(x + 273.15)\n", f);
-        arrank_plot_put_celsius_tics(f, X_SCALE / (x_hi + pad) - ZERO_C_K,
-                                     X_SCALE / (x_lo - pad_lo) - ZERO_C_K, 8.0);
-    }
-    /* the limit: nothing is planned to the left of this line */
-    fprintf(f, "set arrow 1 from %.9g, graph 0 to %.9g, graph 1 nohead lw 2 dt 2 "
-               "lc rgb '#b2182b' front\n",
-            X_SCALE / p->max_temp_K, X_SCALE / p->max_temp_K);
-    fprintf(f, "set label 1 ");
-    arrank_plot_put_qf(f, "maximum temperature %.1f degC", p->max_temp_K - ZERO_C_K);
-    fprintf(f, " at %.9g, graph 0.04 rotate by 90 offset -0.8,0 textcolor rgb '#b2182b' "
-               "font ',%d' front\n",
-            X_SCALE / p->max_temp_K, pt);
-    fprintf(f, "set arrow 2 from %.9g, graph 0 to %.9g, graph 1 nohead lw 1.2 dt 3 "
-               "lc rgb '#555555' back\n",
-            X_SCALE / p->temp_K, X_SCALE / p->temp_K);
-    fprintf(f, "set label 2 ");
-    arrank_plot_put_qf(f, "T_op %.1f degC", p->temp_K - ZERO_C_K);
-    fprintf(f, " at %.9g, graph 0.96 right offset -0.6,0 textcolor rgb '#555555' font ',%d'\n",
-            X_SCALE / p->temp_K, pt);
+    return p->goal == ARRANK_GOAL_PRECISION   ? "to narrow the rate intervals"
+           : p->goal == ARRANK_GOAL_CURVATURE ? "to test for a bend"
+                                              : "to tell the leader apart";
 }
 
-static void put_plot(FILE *f, const arrank_analysis *a, const arrank_plan *p,
-                     size_t (*cnt)[3], int pt)
+static void plan_name(const arrank_plan *p, char *buf, size_t n)
 {
+    snprintf(buf, n, "Planned runs on the Arrhenius plot: %zu runs %s", p->budget,
+             goal_words(p));
+}
+
+/* The SVG's title: the figure's name and the campaign. */
+static void plan_title(const arrank_analysis *a, const arrank_plan *p, char *buf, size_t n)
+{
+    char name[300];
+    plan_name(p, name, sizeof name);
+    const char *t = a->campaign && a->campaign->title ? a->campaign->title
+                    : a->campaign && a->campaign->name ? a->campaign->name
+                                                       : "";
+    snprintf(buf, n, "%s%s%.200s", name, *t ? " – " : "", t);
+}
+
+/* Heading, axes, axis names, the two temperatures, captions, names. */
+static void plan_frame(script *s, const arrank_plan *p, const plan_layout *L)
+{
+    FILE *f = s->f;
+    double fp = s->fpx;
+    char name[300], buf[300];
+    arrank_plot_style_axes(f, 1);
+    plan_name(p, name, sizeof name);
+    arrank_plot_head(s, name);
+    arrank_plot_area(s, L->l, L->t, L->r, L->b);
+    fprintf(f, "set xrange [%.9g:%.9g]\nset yrange [%.9g:%.9g]\n", L->x_lo, L->x_hi, L->y_lo,
+            L->y_hi);
+    size_t xch = arrank_plot_tic_chars(L->x_lo, L->x_hi, 8);
+    arrank_plot_linear_tics(f, "x", L->x_lo, L->x_hi,
+                            fmax(2, (L->r - L->l) / (((double)xch * ARRANK_CHAR_EM + 2.5) * fp)));
+    arrank_plot_linear_tics(f, "y", L->y_lo, L->y_hi, fmax(3, (L->b - L->t) / (2.4 * fp)));
+    fputs("set link x2 via 1000./x - 273.15 inverse 1000./(x + 273.15)\n", f);
+    arrank_plot_put_celsius_tics(f, X_SCALE / L->x_hi - ZERO_C_K, X_SCALE / L->x_lo - ZERO_C_K,
+                                 fmax(2, (L->r - L->l) / (6.0 * fp)));
+    fputs("set style fill transparent solid 0.12 noborder\n", f);
+    double mid = 0.5 * (L->l + L->r);
+    arrank_plot_text(s, mid, L->t - 3.3 * fp, "center", 0.9, ARRANK_INK, 0, "T / °C");
+    arrank_plot_text(s, mid, L->b + 3.5 * fp, "center", 0.9, ARRANK_INK, 0, "1000 K / T");
+    snprintf(buf, sizeof buf, "ln (r / %s)", s->unit);
+    arrank_plot_text(s, 1.4 * fp, 0.5 * (L->t + L->b), "center", 0.9, ARRANK_INK, 1, buf);
+    snprintf(buf, sizeof buf, "large open diamonds: the planned runs on each fitted line, ×N "
+                              "their repeats; shaded: %.4g %% bands; open marks: points left out",
+             100.0 * s->a->options.confidence);
+    const char *lines[PLAN_CAPTIONS] = {
+        buf, "runs near the maximum temperature: check each against the rig's rules (hot "
+             "spots, flammable or toxic feeds)"};
+    arrank_plot_captions(s, lines, PLAN_CAPTIONS);
+}
+
+/* Names at the lines' cold ends, or a legend below. */
+static void plan_names(script *s, const arrank_plan *p, const plan_layout *L)
+{
+    double fp = s->fpx;
+    if (L->below) {
+        arrank_plot_legend(s, L->idx, L->n, 0.8 * fp, L->b + 4.4 * fp, s->W - 0.8 * fp,
+                           s->H - arrank_plot_caption_px(s, PLAN_CAPTIONS), 1);
+        return;
+    }
+    double *xd = malloc((L->n ? L->n : 1) * 3 * sizeof *xd);
+    if (!xd)
+        return;
+    double *yd = xd + L->n, *yp = yd + L->n;
+    for (size_t k = 0; k < L->n; k++) {
+        const arrank_result *r = &s->a->results[L->idx[k]];
+        double lo, hi, se;
+        span_of(s->a, p, r, &lo, &hi);
+        xd[k] = X_SCALE / lo;
+        arrank_plot_line_at(&r->fit, lo, &yd[k], &se);
+        yp[k] = isfinite(yd[k]) ? px_y(L, yd[k]) : L->b;
+    }
+    arrank_plot_end_labels(s, L->idx, xd, yd, yp, L->n, L->r + 1.1 * fp);
+    free(xd);
+}
+
+static void plan_plot(script *s, const arrank_plan *p, size_t (*cnt)[5])
+{
+    FILE *f = s->f;
+    static const char *const tags[4] = {"pun", "pue", "pxn", "pxe"};
     int first = 1;
     for (size_t j = 0; j < p->n_entries; j++) {
-        const arrank_result *r = &a->results[p->entries[j].result];
-        const char *c = arrank_plot_sample_color(a, j);
+        size_t i = p->entries[j].result;
+        arrank_plot_look lk = arrank_plot_look_of(s->a, i);
         arrank_plot_next_elem(f, &first);
-        fprintf(f, "$fit%zu using 1:3:4 with filledcurves lc rgb '%s' fs transparent solid 0.15 "
-                   "noborder",
-                j, c);
+        fprintf(f, "$fit%zu using 1:3:4 with filledcurves fc rgb '%s'", j, lk.color);
         arrank_plot_next_elem(f, &first);
-        fprintf(f, "$fit%zu using 1:2 with lines lw 2.2 lc rgb '%s' title ", j, c);
-        arrank_plot_put_q(f, arrank_plot_sample_name(r));
-        for (int b = 0; b < 2; b++) {
+        fprintf(f, "$fit%zu using 1:2 with lines ", j);
+        arrank_plot_put_line_look(f, s->a, i, 2.0);
+        for (int b = 0; b < 4; b++) {
             if (!cnt[j][b])
                 continue;
             arrank_plot_next_elem(f, &first);
-            fprintf(f, "$%s%zu using 1:2 with points pt %d ps 1.6*PS lc rgb '%s'",
-                    b ? "pte" : "pts", j, arrank_plot_sample_point_type(a, j, 0), c);
+            fprintf(f, "$%s%zu using 1:2 with points pt %d ps 1.2*PS lc rgb '%s'", tags[b], j,
+                    b < 2 ? lk.point_filled : lk.point_hollow, lk.color);
         }
-        if (!cnt[j][2])
+        if (!cnt[j][4])
             continue;
         arrank_plot_next_elem(f, &first);
-        fprintf(f, "$run%zu using 1:2 with points pt 12 ps 3.2*PS lw 2.5 lc rgb '%s'", j, c);
-        arrank_plot_next_elem(f, &first);
-        /* each sample's labels a line higher than the one before: runs of
-           several samples at one temperature stay readable */
-        fprintf(f, "$run%zu using 1:2:(sprintf('x%%d', int($3))) with labels offset 0,%.1f "
-                   "font ',%d' textcolor rgb '%s'",
-                j, 1.6 + 1.1 * (double)(j % 4), pt, c);
+        fprintf(f, "$run%zu using 1:2 with points pt 12 ps 3.0*PS lw 2 lc rgb '%s'", j,
+                lk.color);
     }
-    arrank_plot_next_elem(f, &first);
-    fputs("keyentry with points pt 12 ps 3.2*PS lw 2.5 lc rgb '#333333' "
-          "title 'planned runs (xN repeats)'\n", f);
+    if (first)
+        fputs("plot NaN notitle", f);
+    fputs("\n", f);
 }
 
 static arrank_status script_in_c(const arrank_analysis *a, const arrank_plan *p,
-                                 unsigned format, const char *name, FILE *f, arrank_error *err)
+                                 unsigned format, const char *name, int base_w, int base_h,
+                                 FILE *f, arrank_error *err)
 {
-    put_term(f, format);
+    size_t n = p->n_entries;
+    size_t(*cnt)[5] = calloc(n ? n : 1, sizeof *cnt);
+    size_t *idx = malloc((n ? n : 1) * sizeof *idx);
+    box *bx = malloc((2 * p->n_runs + 2) * sizeof *bx);
+    if (!cnt || !idx || !bx) {
+        free(cnt);
+        free(idx);
+        free(bx);
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    }
+    plan_layout L = {.idx = idx, .n = n};
+    for (size_t j = 0; j < n; j++)
+        idx[j] = p->entries[j].result;
+    script s;
+    memset(&s, 0, sizeof s);
+    s.f = f;
+    s.a = a;
+    arrank_plot_unit_text(a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit
+                                                                 : "report unit",
+                          s.unit_buf, sizeof s.unit_buf);
+    s.unit = s.unit_buf;
+    s.title = a->campaign && a->campaign->title ? a->campaign->title
+              : a->campaign && a->campaign->name ? a->campaign->name
+                                                 : "";
+    s.base_w = base_w >= 320 ? base_w : 960;
+    s.base_h = base_h >= 320 ? base_h : 720;
+    s.fpx = arrank_plot_base_font_px(s.base_w);
+    s.W = s.base_w;
+    s.H = s.base_h;
+    plan_ranges(a, p, &L);
+    plan_layout_make(&s, &L);
+    double h = s.base_h;
+    if (L.below)
+        h += (double)L.legend_rows * 1.45 * PLAN_LABEL_FRAC * s.fpx + 1.0 * s.fpx;
+    fputs("reset\n# a plan's figure.  Text from the data appears only in quoted strings;\n"
+          "# data blocks hold numbers only.\n", f);
+    arrank_plot_terminal(&s, format, s.base_w, h);
+    plan_layout_make(&s, &L);
     fputs("set output ", f);
     arrank_plot_put_q(f, name);
-    fputs("\nset encoding utf8\nset termoption noenhanced\nset border lw 1.2\nset tics out\n"
-          "set grid back lc rgb '#e3e3e3' lw 1 dt 1\nset key noautotitle\n"
-          "set key inside right top reverse Left box opaque\n", f);
-    const char *title = a->campaign && a->campaign->title ? a->campaign->title : "";
-    fputs("set title ", f);
-    arrank_plot_put_qf(f, "Planned runs (goal %s, %zu runs)",
-                       p->goal == ARRANK_GOAL_PRECISION   ? "precision"
-                       : p->goal == ARRANK_GOAL_CURVATURE ? "curvature"
-                                                          : "separate",
-                       p->budget);
-    fputs(" . \"\\n\" . ", f);
-    arrank_plot_put_q(f, title);
-    fputs("\nset xlabel '1000 / T  [K⁻¹]'\nset ylabel ", f);
-    arrank_plot_put_qf(f, "ln(rate / (%s))",
-                       a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit : "");
     fputc('\n', f);
-    /* secondary text at about 0.8 of the terminal's base font (put_term),
-       the caution at 0.55 of it as on the other figures */
-    int pt = format == ARRANK_PLOT_PNG ? 32 : format == ARRANK_PLOT_PDF ? 10 : 18;
-    fprintf(f, "set label 99 \"apparent kinetics of these samples in this window; not for "
-               "reactor design, scale-up or safety limits\" at screen 0.995, screen 0.982 right "
-               "font ',%d' textcolor rgb '#666666' front\n",
-            format == ARRANK_PLOT_PNG ? 22 : format == ARRANK_PLOT_PDF ? 7 : 12);
-    double t_lo, t_hi;
-    size_t(*cnt)[3] = calloc(p->n_entries ? p->n_entries : 1, sizeof *cnt);
-    if (!cnt)
-        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-    put_blocks(f, a, p, &t_lo, &t_hi, cnt);
-    put_marks(f, p, t_lo, t_hi, pt);
-    put_plot(f, a, p, cnt, pt);
+    for (size_t j = 0; j < n; j++)
+        put_blocks(f, a, p, j, cnt[j]);
+    plan_frame(&s, p, &L);
+    plan_names(&s, p, &L);
+    size_t nb = 0;
+    bx[nb++] = plan_line(&s, &L, p->max_temp_K, "maximum", "#b2182b", "(8,4)", 1.6, 1);
+    if (isfinite(p->temp_K) && p->temp_K > 0)
+        bx[nb++] = plan_line(&s, &L, p->temp_K, "operating", ARRANK_INK_SOFT, "(2,4)",
+                             1.0, -1);
+    plan_repeats(&s, a, p, &L, bx, nb);
+    plan_plot(&s, p, cnt);
     free(cnt);
+    free(idx);
+    free(bx);
     fputs("unset output\n", f);
     if (fflush(f) != 0 || ferror(f))
         return arrank_errorf(err, ARRANK_EIO, "cannot write the gnuplot script: %s",
@@ -207,7 +417,7 @@ arrank_status arrank_plot_plan_script(const arrank_analysis *a, const arrank_pla
 {
     arrank_numbers_env env;
     arrank_numbers_c_enter(&env);
-    arrank_status st = script_in_c(a, p, format, name, f, err);
+    arrank_status st = script_in_c(a, p, format, name, 960, 720, f, err);
     arrank_numbers_c_leave(&env);
     return st;
 }
@@ -224,12 +434,13 @@ static char *join(const char *dir, const char *name)
 /* Step 2 of arrank_plot_plan: the figures out of the private folder priv
    into out_dir, listed in written. */
 static arrank_status move_out(const char *priv, const char *out_dir, char names[][16],
-                              const unsigned *fmt, size_t n, arrank_plot_files *written,
-                              arrank_error *err)
+                              const unsigned *fmt, size_t n, const char *title,
+                              arrank_plot_files *written, arrank_error *err)
 {
     for (size_t k = 0; k < n; k++) {
         char *from = join(priv, names[k]), *to = join(out_dir, names[k]);
-        if (!from || !to || rename(from, to) != 0) {
+        if (!from || !to || (fmt[k] == ARRANK_PLOT_SVG && arrank_plot_svg_finish(from, title)) ||
+            rename(from, to) != 0) {
             arrank_status e = from && to ? arrank_error_at(err, ARRANK_EIO, to, 0, 0,
                                                            "cannot write '%s': %s", to,
                                                            strerror(errno))
@@ -277,7 +488,7 @@ static arrank_status plot_plan_in_c(const arrank_analysis *a, const arrank_plan 
         if (formats & plan_formats[k].bit) {
             snprintf(names[n], sizeof names[n], "plan.%s", plan_formats[k].ext);
             fmt[n] = plan_formats[k].bit;
-            st = script_in_c(a, p, fmt[n], names[n], mem, err);
+            st = script_in_c(a, p, fmt[n], names[n], opt.width_px, opt.height_px, mem, err);
             n++;
         }
     fputs("exit\n", mem);
@@ -297,7 +508,12 @@ static arrank_status plot_plan_in_c(const arrank_analysis *a, const arrank_plan 
             !(written->files = calloc(n, sizeof *written->files)))
             st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
         if (st == ARRANK_OK)
-            st = move_out(priv, out_dir, names, fmt, n, written, err);
+            {
+            /* the SVG's <title>: the figure's name and the campaign */
+            char title[600];
+            plan_title(a, p, title, sizeof title);
+            st = move_out(priv, out_dir, names, fmt, n, title, written, err);
+        }
         for (size_t k = 0; k < n; k++) { /* what a failed run left */
             char *q = join(priv, names[k]);
             if (q)
