@@ -478,7 +478,8 @@ static void inline_svg(FILE *f, const char *svg_path)
     }
     fclose(in);
     fputs("<figcaption>One line per sample from its rate at T in A to its rate in B, both "
-          "intervals; solid: changed after Holm's correction.</figcaption></figure>\n", f);
+          "intervals; heavy with filled marks: changed after Holm's correction; thin and "
+          "open: no change shown.</figcaption></figure>\n", f);
 }
 
 static arrank_status write_html(const arrank_comparison *c, const char *svg_path, FILE *f,
