@@ -168,58 +168,30 @@ void arrank_plot_size_arrhenius(script *s, double *w, double *h)
     free(idx);
 }
 
-/* Names at the line ends, spread so that no two overlap: each at its line's
-   end height, pushed down past the one above, then up from the bottom. */
+/* Names at the line ends, spread so that no two overlap
+   (arrank_plot_end_labels), for the lines that have an end to name. */
 static void arr_end_labels(script *s, const arr_layout *L)
 {
-    FILE *f = s->f;
     size_t n = L->n;
-    double *y = malloc((n ? n : 1) * sizeof *y), *xe = malloc((n ? n : 1) * sizeof *xe);
+    double *ypx = malloc((n ? n : 1) * sizeof *ypx), *xe = malloc((n ? n : 1) * sizeof *xe);
     double *ye = malloc((n ? n : 1) * sizeof *ye);
-    size_t *ord = malloc((n ? n : 1) * sizeof *ord);
-    if (!y || !xe || !ye || !ord)
-        goto done;
+    size_t *idx = malloc((n ? n : 1) * sizeof *idx);
     size_t m = 0;
-    for (size_t k = 0; k < n; k++) {
+    for (size_t k = 0; ypx && xe && ye && idx && k < n; k++) {
         double x = 0, v = 0;
         if (!line_end(&s->a->results[L->idx[k]], &x, &v))
             continue;
         xe[m] = x;
         ye[m] = v;
-        y[m] = L->t + (L->y_hi - v) / (L->y_hi - L->y_lo) * (L->b - L->t);
-        ord[m] = k;
-        m++;
+        ypx[m] = L->t + (L->y_hi - v) / (L->y_hi - L->y_lo) * (L->b - L->t);
+        idx[m++] = L->idx[k];
     }
-    /* sort by height (insertion: at most the samples drawn) */
-    for (size_t p = 1; p < m; p++)
-        for (size_t q = p; q > 0 && y[q - 1] > y[q]; q--) {
-            double t0 = y[q]; y[q] = y[q - 1]; y[q - 1] = t0;
-            t0 = xe[q]; xe[q] = xe[q - 1]; xe[q - 1] = t0;
-            t0 = ye[q]; ye[q] = ye[q - 1]; ye[q - 1] = t0;
-            size_t o = ord[q]; ord[q] = ord[q - 1]; ord[q - 1] = o;
-        }
-    double row = 1.3 * LABEL_FRAC * s->fpx, top = L->t + 0.5 * row, bot = L->b - 0.5 * row;
-    for (size_t p = 0; p < m; p++)
-        y[p] = fmax(y[p], p ? y[p - 1] + row : top);
-    for (size_t p = m; p-- > 0;)
-        y[p] = fmin(y[p], p + 1 < m ? y[p + 1] - row : bot);
-    for (size_t p = 0; p < m; p++) {
-        size_t i = L->idx[ord[p]];
-        arrank_plot_look lk = arrank_plot_look_of(s->a, i);
-        fprintf(f, "set arrow from first %.9g, first %.9g to screen %.6f, screen %.6f nohead "
-                   "lc rgb '%s' lw 0.8 dt solid front\n",
-                xe[p], ye[p], arrank_plot_sx(s, L->r + 0.9 * s->fpx), arrank_plot_sy(s, y[p]),
-                lk.color);
-        char buf[256];
-        arrank_plot_fit_text(arrank_plot_sample_name(&s->a->results[i]),
-                             s->W - L->r - 1.5 * s->fpx, LABEL_FRAC * s->fpx, buf, sizeof buf);
-        arrank_plot_text(s, L->r + 1.1 * s->fpx, y[p], "left", LABEL_FRAC, lk.color, 0, buf);
-    }
-done:
-    free(y);
+    if (ypx && xe && ye && idx)
+        arrank_plot_end_labels(s, idx, xe, ye, ypx, m, L->r + 1.1 * s->fpx);
+    free(ypx);
     free(xe);
     free(ye);
-    free(ord);
+    free(idx);
 }
 
 /* Axes, heading, captions and labels of the Arrhenius plot. */
