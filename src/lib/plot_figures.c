@@ -204,23 +204,8 @@ static void arr_frame(script *s, const arr_layout *L, int any_excluded, int any_
     arrank_plot_figure_name(s->a, ARRANK_FIGURE_ARRHENIUS, SIZE_MAX, name, sizeof name);
     arrank_plot_head(s, name);
     arrank_plot_area(s, L->l, L->t, L->r, L->b);
-    fprintf(f, "set xrange [%.9g:%.9g]\nset yrange [%.9g:%.9g]\n", L->x_lo, L->x_hi, L->y_lo,
-            L->y_hi);
-    size_t xch = arrank_plot_tic_chars(L->x_lo, L->x_hi, 8);
-    arrank_plot_linear_tics(f, "x", L->x_lo, L->x_hi,
-                            fmax(2, (L->r - L->l) / (((double)xch * ARRANK_CHAR_EM + 2.5) * fp)));
-    arrank_plot_linear_tics(f, "y", L->y_lo, L->y_hi, fmax(3, (L->b - L->t) / (2.4 * fp)));
-    /* The top axis is the same axis in degC: x2 = 1000/x - 273.15. */
-    fputs("set link x2 via 1000./x - 273.15 inverse 1000./(x + 273.15)\n", f);
-    arrank_plot_put_celsius_tics(f, X_SCALE / L->x_hi - ZERO_C_K, X_SCALE / L->x_lo - ZERO_C_K,
-                                 fmax(2, (L->r - L->l) / (6.0 * fp)));
-    fputs("set mytics 2\nset style fill transparent solid 0.12 noborder\n", f);
-    double mid = 0.5 * (L->l + L->r);
-    arrank_plot_text(s, mid, L->t - 3.3 * fp, "center", 0.9, ARRANK_INK, 0, "T / °C");
-    arrank_plot_text(s, mid, L->b + 3.5 * fp, "center", 0.9, ARRANK_INK, 0, "1000 K / T");
-    snprintf(buf, sizeof buf, "ln (r / %s)", s->unit);
-    arrank_plot_text(s, 0.8 * fp + 0.6 * fp, 0.5 * (L->t + L->b), "center", 0.9, ARRANK_INK, 1,
-                     buf);
+    arrank_plot_arrhenius_axes(s, L->x_lo, L->x_hi, L->y_lo, L->y_hi);
+    fputs("set mytics 2\n", f);
     if (L->show_op) {
         fprintf(f, "set arrow 1 from first %.9g, graph 0 to first %.9g, graph 1 nohead dt (6,4) "
                    "lw 1 lc rgb '#777777' back\n",

@@ -88,6 +88,10 @@ int arrank_plot_legend(script *s, const size_t *idx, size_t n, double x0, double
 size_t arrank_plot_legend_rows(const script *s, const size_t *idx, size_t n, double w_px,
                                size_t *cols);
 
+/* The axes of an Arrhenius plot in the current plot area (arrank_plot_area):
+   ranges, numbered ticks, 1000 K/T below and the same axis in degC on top,
+   the axis names (ln r in the report unit), the bands' fill. */
+void arrank_plot_arrhenius_axes(script *s, double x_lo, double x_hi, double y_lo, double y_hi);
 /* Names at the ends of lines, in a column starting at x_px right of the
    plot area (s->l..s->r), each at its line's end height y_px[k] pushed apart
    so that no two overlap, in the sample's colour, with a thin leader from

@@ -337,3 +337,25 @@ int arrank_plot_end_labels(script *s, const size_t *idx, const double *x_data,
     free(ord);
     return 1;
 }
+
+void arrank_plot_arrhenius_axes(script *s, double x_lo, double x_hi, double y_lo, double y_hi)
+{
+    FILE *f = s->f;
+    const double fp = s->fpx, l = s->l, t = s->t, r = s->r, b = s->b;
+    char buf[300];
+    fprintf(f, "set xrange [%.9g:%.9g]\nset yrange [%.9g:%.9g]\n", x_lo, x_hi, y_lo, y_hi);
+    size_t xch = arrank_plot_tic_chars(x_lo, x_hi, 8);
+    arrank_plot_linear_tics(f, "x", x_lo, x_hi,
+                            fmax(2, (r - l) / (((double)xch * ARRANK_CHAR_EM + 2.5) * fp)));
+    arrank_plot_linear_tics(f, "y", y_lo, y_hi, fmax(3, (b - t) / (2.4 * fp)));
+    /* The top axis is the same axis in degC: x2 = 1000/x - 273.15. */
+    fputs("set link x2 via 1000./x - 273.15 inverse 1000./(x + 273.15)\n", f);
+    arrank_plot_put_celsius_tics(f, X_SCALE / x_hi - ZERO_C_K, X_SCALE / x_lo - ZERO_C_K,
+                                 fmax(2, (r - l) / (6.0 * fp)));
+    fputs("set style fill transparent solid 0.12 noborder\n", f);
+    double mid = 0.5 * (l + r);
+    arrank_plot_text(s, mid, t - 3.3 * fp, "center", 0.9, ARRANK_INK, 0, "T / °C");
+    arrank_plot_text(s, mid, b + 3.5 * fp, "center", 0.9, ARRANK_INK, 0, "1000 K / T");
+    snprintf(buf, sizeof buf, "ln (r / %s)", s->unit);
+    arrank_plot_text(s, 1.4 * fp, 0.5 * (t + b), "center", 0.9, ARRANK_INK, 1, buf);
+}
