@@ -104,6 +104,30 @@ expect_eq "huge rates: plot exit 0" "$st" 0
 ok_if "huge rates: the time-on-stream figure drawn" \
     test -s "$T/huge-out/time-on-stream-01-H1_huge_rates.svg"
 
+# rates near the bottom of the double range, temperatures near 0 K (found by
+# the pipeline fuzzer: the drift band reached gnuplot with 0 and subnormal
+# values on a log axis and gnuplot crashed): drawn
+mkdir "$T/tiny"
+cat >"$T/tiny/U1.csv" <<'EOF'
+# sample = U1 tiny rates
+T [K],rate [umol/(g*s)],time_on_stream [h]
+3.047,9.244e-305,0
+0.2912,9.400e-305,0.519
+2.782,9.808e-305,1.29
+1.631,1.0296e-304,6.63
+4.779,2.281e-223,12
+2.170,1.0901e-304,10.1
+4.493,7.973e-238,16.5
+0.2009,1.0148e-304,18.5
+3.215,1.0423e-304,17.8
+2.834,1.0446e-304,1.57
+4.337,1.4608e-246,11.8
+EOF
+"$A" plot "$T/tiny" --at 4K --out "$T/tiny-out" >/dev/null 2>"$T/err"; st=$?
+expect_eq "tiny rates: plot exit 0" "$st" 0
+ok_if "tiny rates: the time-on-stream figure drawn" \
+    test -s "$T/tiny-out/time-on-stream-01-U1_tiny_rates.svg"
+
 # the demo has no time_on_stream column: no such figure
 "$A" plot campaigns/zeolite-ni-screen --out "$T/demo" >/dev/null 2>&1
 ok_if "demo: no time-on-stream figure" sh -c "! ls '$T/demo' | grep -q time-on-stream"

@@ -192,15 +192,29 @@ static int tic_decimals(double step)
     return d < 0 ? 0 : d > 6 ? 6 : d;
 }
 
+/* The label of tic value v on an axis [lo, hi] with this step: fixed
+   decimals, or, for steps under 1e-4 or values from 1e6 (a rate in mol
+   g⁻¹ s⁻¹, say), %g with the significant digits the step needs, so that no
+   two tics read alike ("0.000000"). */
+static void tic_label(char *lab, size_t n, double v, double lo, double hi, double step)
+{
+    double big = fmax(fabs(lo), fabs(hi));
+    if (step >= 1e-4 && big < 1e6) {
+        snprintf(lab, n, "%.*f", tic_decimals(step), v);
+        return;
+    }
+    int sig = (int)ceil(log10(big / step) - 1e-9) + 1;
+    snprintf(lab, n, "%.*g", sig < 1 ? 1 : sig > 15 ? 15 : sig, v);
+}
+
 size_t arrank_plot_tic_chars(double lo, double hi, double max_tics)
 {
     if (!(hi > lo) || !isfinite(hi - lo))
         return 6;
     double step = arrank_plot_nice_step(hi - lo, max_tics);
-    int d = tic_decimals(step);
     char a[64], b[64];
-    snprintf(a, sizeof a, "%.*f", d, ceil(lo / step) * step);
-    snprintf(b, sizeof b, "%.*f", d, floor(hi / step) * step);
+    tic_label(a, sizeof a, ceil(lo / step) * step, lo, hi, step);
+    tic_label(b, sizeof b, floor(hi / step) * step, lo, hi, step);
     return strlen(a) > strlen(b) ? strlen(a) : strlen(b);
 }
 
@@ -211,14 +225,13 @@ size_t arrank_plot_linear_tics(FILE *f, const char *axis, double lo, double hi, 
         return 6;
     }
     double step = arrank_plot_nice_step(hi - lo, max_tics);
-    int d = tic_decimals(step);
     fprintf(f, "set %stics out (", axis);
     size_t widest = 0;
     int n = 0;
     for (double v = ceil(lo / step) * step; v <= hi + 1e-9 * (hi - lo) && n < 40; v += step) {
         double vv = fabs(v) < 1e-9 * step ? 0.0 : v;
         char lab[64];
-        snprintf(lab, sizeof lab, "%.*f", d, vv);
+        tic_label(lab, sizeof lab, vv, lo, hi, step);
         widest = strlen(lab) > widest ? strlen(lab) : widest;
         fprintf(f, "%s'%s' %.9g", n ? ", " : "", lab, vv);
         n++;

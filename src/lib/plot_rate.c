@@ -55,8 +55,25 @@ static size_t put_group_brackets(FILE *f, const arrank_analysis *a, const size_t
 void arrank_plot_put_log_tics(FILE *f, const char *axis, double lo, double hi)
 {
     double span = log10(hi / lo);
-    if (!(span > 0) || !isfinite(span) || span > 3.0) {
+    if (!(span > 0) || !isfinite(span)) {
         fprintf(f, "set %stics\nset format %s '%%g'\n", axis, axis);
+        return;
+    }
+    if (span > 3.0) {
+        /* whole decades, at most about eight (gnuplot's own tics over a
+           hundred decades crashed it: found by the pipeline fuzzer) */
+        double every = ceil(span / 8.0);
+        fprintf(f, "set %stics (", axis);
+        int n = 0;
+        for (double d = ceil(log10(lo) / every) * every; d <= floor(log10(hi)); d += every) {
+            double v = pow(10.0, d);
+            fprintf(f, "%s'%g' %.9g", n ? ", " : "", v, v);
+            n++;
+        }
+        fputs(")\n", f);
+        if (n >= 2)
+            return;
+        fprintf(f, "set %stics autofreq\nset format %s '%%g'\n", axis, axis);
         return;
     }
     static const double fine[] = {1, 1.5, 2, 3, 4, 5, 6, 7, 8, 9};

@@ -22,6 +22,19 @@
 
 #define LINE_STEPS 60
 
+/* The rate axis's bounds: rates beyond are not drawn (points), and the
+   band is cut a decade beyond them, so that gnuplot clips it.  gnuplot 5.4
+   crashed (realloc) filling a band on a log axis near 1e-300, and with the
+   band's edge lying exactly on the axis's end (both found by the pipeline
+   fuzzer); it fails on "inf" beyond the double range.  Our choice. */
+#define AXIS_MIN 1e-290
+#define AXIS_MAX 1e299
+
+static double on_axis(double v)
+{
+    return v < AXIS_MIN ? AXIS_MIN / 10.0 : v > AXIS_MAX ? AXIS_MAX * 10.0 : v;
+}
+
 int arrank_plot_has_time_on_stream(const arrank_result *r)
 {
     const arrank_sample *s = r->sample;
@@ -82,7 +95,7 @@ static size_t block_points(FILE *f, const arrank_result *r, size_t i, const arra
         double ln_r = log(p->rate);
         if (dr)
             ln_r -= dr->temp_slope_K * (1.0 / p->temp_K - 1.0 / dr->temp_ref_K);
-        if (!isfinite(ln_r))
+        if (!isfinite(ln_r) || !(exp(ln_r) >= AXIS_MIN && exp(ln_r) <= AXIS_MAX))
             continue;
         if (n++ == 0)
             fprintf(f, "$%s%zu << EOD\n", tag, i);
@@ -103,7 +116,8 @@ static void block_line(FILE *f, const arrank_drift *dr, size_t i, double *lo, do
     for (int k = 0; k <= LINE_STEPS; k++) {
         double t = dr->time_min_h + (dr->time_max_h - dr->time_min_h) * k / LINE_STEPS, y, se;
         arrank_plot_drift_at(dr, t, &y, &se);
-        fprintf(f, "%.9g %.9g %.9g %.9g\n", t, exp(y), exp(y - tq * se), exp(y + tq * se));
+        fprintf(f, "%.9g %.9g %.9g %.9g\n", t, on_axis(exp(y)), on_axis(exp(y - tq * se)),
+                on_axis(exp(y + tq * se)));
         *lo = fmin(*lo, y - tq * se);
         *hi = fmax(*hi, y + tq * se);
     }
@@ -206,8 +220,8 @@ void arrank_plot_fig_stream(script *s, size_t i)
     double ypad = arrank_plot_min_pad(lo, hi, 0.08 * (hi - lo), 1.0);
     /* within what gnuplot reads and prints (a wider exp reaches it as "inf";
        the bounds are our choice, as the rate figure's) */
-    double y0 = fmin(fmax(exp(lo - ypad), 1e-300), 1e299);
-    double y1 = fmax(fmin(exp(hi + ypad), 1e300), 2.0 * y0), t0, t1;
+    double y0 = fmin(fmax(exp(lo - ypad), AXIS_MIN), AXIS_MAX / 10.0);
+    double y1 = fmax(fmin(exp(hi + ypad), AXIS_MAX), 2.0 * y0), t0, t1;
     lo = log(y0);
     hi = log(y1);
     time_range(r, &t0, &t1);
