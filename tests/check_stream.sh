@@ -128,6 +128,26 @@ expect_eq "tiny rates: plot exit 0" "$st" 0
 ok_if "tiny rates: the time-on-stream figure drawn" \
     test -s "$T/tiny-out/time-on-stream-01-U1_tiny_rates.svg"
 
+# rates of order 1e-24 within a few per cent (a linear axis): each tic says
+# its own value; they read '0.000000' when the labels had fixed decimals
+mkdir "$T/small"
+cat >"$T/small/V1.csv" <<'EOF'
+# sample = V1 small rates
+T [degC],rate [umol/(g*s)],rate_sd [umol/(g*s)],time_on_stream [h]
+260,2.575e-24,1.06e-25,0
+260,2.526e-24,7.69e-26,2.16
+250,9.427e-25,3.99e-26,1.38
+260,2.431e-24,3.81e-25,7.67
+260,2.579e-24,1.85e-25,5.95
+250,9.227e-25,1.75e-25,2.14
+EOF
+"$A" plot "$T/small" --at 255C --out "$T/small-out" >/dev/null 2>"$T/err"; st=$?
+expect_eq "small rates: plot exit 0" "$st" 0
+ok_if "small rates: no tic reads 0.000000" \
+    sh -c "! grep -q '>0\.000000<' '$T/small-out/time-on-stream-01-V1_small_rates.svg'"
+ok_if "small rates: the tics give the rates (e-24)" \
+    grep -q '>[0-9.]*e-24<' "$T/small-out/time-on-stream-01-V1_small_rates.svg"
+
 # the demo has no time_on_stream column: no such figure
 "$A" plot campaigns/zeolite-ni-screen --out "$T/demo" >/dev/null 2>&1
 ok_if "demo: no time-on-stream figure" sh -c "! ls '$T/demo' | grep -q time-on-stream"
