@@ -630,23 +630,27 @@ static arrank_status select_shown(const arrank_analysis *a, const arrank_plot_op
     return ARRANK_OK;
 }
 
+void arrank_plot_script_init(script *s, const arrank_analysis *a, FILE *f, int width_px,
+                             int height_px)
+{
+    memset(s, 0, sizeof *s);
+    s->f = f;
+    s->a = a;
+    const arrank_campaign *c = a->campaign;
+    arrank_plot_unit_text(c && c->rate_unit ? c->rate_unit : "report unit", s->unit_buf,
+                          sizeof s->unit_buf);
+    s->unit = s->unit_buf;
+    s->title = c && c->title ? c->title : c && c->name ? c->name : "";
+    s->base_w = width_px >= 320 ? width_px : 960;
+    s->base_h = height_px >= 320 ? height_px : 720;
+}
+
 static void write_script(const arrank_analysis *a, const arrank_plot_options *o,
                          const unsigned char *shown, size_t n_shown, const figure *figs,
                          const output *outs, size_t n_outs, char *const *names, FILE *f)
 {
     script s;
-    memset(&s, 0, sizeof s);
-    s.f = f;
-    s.a = a;
-    arrank_plot_unit_text(a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit
-                                                                 : "report unit",
-                          s.unit_buf, sizeof s.unit_buf);
-    s.unit = s.unit_buf;
-    s.title = a->campaign && a->campaign->title ? a->campaign->title
-              : a->campaign && a->campaign->name ? a->campaign->name
-                                                 : "";
-    s.base_w = o->width_px >= 320 ? o->width_px : 960;
-    s.base_h = o->height_px >= 320 ? o->height_px : 720;
+    arrank_plot_script_init(&s, a, f, o->width_px, o->height_px);
     s.shown = shown;
     s.n_shown = n_shown;
     fputs("# arrank figures.  Text from the data appears only in quoted strings;\n"

@@ -277,19 +277,10 @@ static arrank_status script_in_c(const arrank_comparison *c, unsigned formats, F
     L.lo = lo * exp(-spare);
     L.hi = hi * exp(spare);
     script s;
-    memset(&s, 0, sizeof s);
-    s.f = f;
-    s.a = c->a;
-    arrank_plot_unit_text(c->a->campaign && c->a->campaign->rate_unit
-                              ? c->a->campaign->rate_unit
-                              : "report unit",
-                          s.unit_buf, sizeof s.unit_buf);
-    s.unit = s.unit_buf;
+    arrank_plot_script_init(&s, c->a, f, 960, 720);
     char sub[600];
     snprintf(sub, sizeof sub, "%.280s → %.280s", campaign_words(c->a), campaign_words(c->b));
     s.title = sub;
-    s.base_w = 960;
-    s.base_h = 720;
     fputs("# arrank paired figure.  Text from the data appears only in quoted strings;\n"
           "# data blocks hold numbers only.\n", f);
     if (!formats)

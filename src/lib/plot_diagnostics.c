@@ -339,6 +339,27 @@ static void diag_frame(script *s, const diag_panels *P, int k, double y_lo, doub
     }
 }
 
+/* The points by regime, in the fit (filled) or left out (open), plotting
+   column col of their blocks (3: ln r, 2: the residual). */
+static void put_regime_points(script *s, const diag_panels *P, int col, int *first)
+{
+    FILE *f = s->f;
+    for (int m = -1; m < (int)N_REGIMES; m++)
+        for (int out = 0; out < 2; out++) {
+            if (!P->cnt[2 * (m + 1) + out])
+                continue;
+            int pt = m < 0 ? arrank_plot_sample_point_type(s->a, P->i, out)
+                           : regime_marks[m].pt[out];
+            arrank_plot_next_elem(f, first);
+            if (m < 0)
+                fprintf(f, "$rgn%c%zu", out ? 'x' : 'u', P->i);
+            else
+                fprintf(f, "$rg%d%c%zu", m, out ? 'x' : 'u', P->i);
+            fprintf(f, " using 1:%d with points pt %d ps 1.2*PS lw 1.2 lc rgb '%s'", col, pt,
+                    P->c);
+        }
+}
+
 /* Panel 1: the sample's Arrhenius plot, points marked by regime. */
 static void diag_arrhenius(script *s, const diag_panels *P)
 {
@@ -353,18 +374,7 @@ static void diag_arrhenius(script *s, const diag_panels *P)
     arrank_plot_next_elem(f, &first);
     fprintf(f, "$dfit%zu using 1:2 with lines ", P->i);
     arrank_plot_put_line_look(f, s->a, P->i, 2.0);
-    for (int m = -1; m < (int)N_REGIMES; m++)
-        for (int out = 0; out < 2; out++) {
-            if (!P->cnt[2 * (m + 1) + out])
-                continue;
-            int pt = m < 0 ? arrank_plot_sample_point_type(s->a, P->i, out) : regime_marks[m].pt[out];
-            arrank_plot_next_elem(f, &first);
-            if (m < 0)
-                fprintf(f, "$rgn%c%zu", out ? 'x' : 'u', P->i);
-            else
-                fprintf(f, "$rg%d%c%zu", m, out ? 'x' : 'u', P->i);
-            fprintf(f, " using 1:3 with points pt %d ps 1.2*PS lw 1.2 lc rgb '%s'", pt, P->c);
-        }
+    put_regime_points(s, P, 3, &first);
     fputs("\n", f);
 }
 
@@ -389,18 +399,7 @@ static void diag_residuals(script *s, const diag_panels *P, double lo, double hi
             fprintf(f, "$run%zu_%zu using 1:2 with lines lw 1 dt %zu lc rgb '%s'", j, P->i, j + 1,
                     P->c);
         }
-    for (int m = -1; m < (int)N_REGIMES; m++)
-        for (int out = 0; out < 2; out++) {
-            if (!P->cnt[2 * (m + 1) + out])
-                continue;
-            int pt = m < 0 ? arrank_plot_sample_point_type(s->a, P->i, out) : regime_marks[m].pt[out];
-            arrank_plot_next_elem(f, &first);
-            if (m < 0)
-                fprintf(f, "$rgn%c%zu", out ? 'x' : 'u', P->i);
-            else
-                fprintf(f, "$rg%d%c%zu", m, out ? 'x' : 'u', P->i);
-            fprintf(f, " using 1:2 with points pt %d ps 1.2*PS lw 1.2 lc rgb '%s'", pt, P->c);
-        }
+    put_regime_points(s, P, 2, &first);
     if (P->n_hcv) {
         arrank_plot_next_elem(f, &first);
         fprintf(f, "$hcv%zu using 1:2 with points pt 2 ps 1.9*PS lw 1.5 lc rgb '#222222'", P->i);

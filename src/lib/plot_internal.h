@@ -44,6 +44,12 @@ typedef struct {
     char unit_buf[160];
 } script;
 
+/* s made ready for a figure script on f (plot.c): the analysis, the rate
+   unit typeset, the campaign's title, the asked canvas (under 320 px: the
+   960 x 720 default); everything else zero. */
+void arrank_plot_script_init(script *s, const arrank_analysis *a, FILE *f, int width_px,
+                             int height_px);
+
 /* ---- layout (plot_layout.c) ---------------------------------------------- */
 /* The base font in px for a canvas asked width_px wide. */
 double arrank_plot_base_font_px(int width_px);

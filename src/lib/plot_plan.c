@@ -348,18 +348,7 @@ static arrank_status script_in_c(const arrank_analysis *a, const arrank_plan *p,
     for (size_t j = 0; j < n; j++)
         idx[j] = p->entries[j].result;
     script s;
-    memset(&s, 0, sizeof s);
-    s.f = f;
-    s.a = a;
-    arrank_plot_unit_text(a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit
-                                                                 : "report unit",
-                          s.unit_buf, sizeof s.unit_buf);
-    s.unit = s.unit_buf;
-    s.title = a->campaign && a->campaign->title ? a->campaign->title
-              : a->campaign && a->campaign->name ? a->campaign->name
-                                                 : "";
-    s.base_w = base_w >= 320 ? base_w : 960;
-    s.base_h = base_h >= 320 ? base_h : 720;
+    arrank_plot_script_init(&s, a, f, base_w, base_h);
     s.fpx = arrank_plot_base_font_px(s.base_w);
     s.W = s.base_w;
     s.H = s.base_h;
