@@ -1,5 +1,5 @@
 """check_outputs.py - the JSON record per sample, --json-points, points.csv and
-streaming, on the demo campaign and a generated 2,000-sample campaign.
+streaming, on the demo campaign and a generated 2,500-sample campaign.
 
 Checks, printed as TAP (plan last):
   - points.csv from `rank --points`: exactly the documented columns, one row
@@ -11,9 +11,10 @@ Checks, printed as TAP (plan last):
     the --json-points document with the detail keys taken out (the detail
     document is the one written before the record per sample was made lean);
   - --json-points without --json is a usage error;
-  - a 2,000-sample campaign: the streamed JSON parses, holds every sample,
-    equals the detail document stripped, is the same byte for byte on one
-    worker thread, stays within 2 kB a sample with each record on a line of
+  - a 2,500-sample campaign (more than one block of the writers): the
+    streamed JSON parses, holds every sample, equals the detail document
+    stripped, is the same byte for byte on one worker thread (and so are
+    results.csv and points.csv), stays within 2 kB a sample with each record on a line of
     its own; points.csv has a row per point.
 Temperature conversions are the definitions of the scales (BIPM, The
 International System of Units, 9th ed., 2019: T/K = t/degC + 273.15;
@@ -32,6 +33,7 @@ BUILD = os.environ.get("BUILD", "build")
 ARRANK = os.environ.get("ARRANK", os.path.join(BUILD, "arrank"))
 GEN_BENCH = os.path.join(BUILD, "tools", "gen_bench")
 DEMO = "campaigns/zeolite-ni-screen"
+N_BIG = 2500  # samples of the generated campaign: more than one writer block (2,048)
 COLUMNS = ["sample", "file", "line", "T_K", "T_file", "T_file_unit", "rate", "rate_sd",
            "conversion", "time_on_stream_s", "run", "used", "regime", "local_ea_kJ_mol",
            "fitted", "residual", "reason"]
@@ -178,39 +180,46 @@ with tempfile.TemporaryDirectory() as tmp:
     tap(p.returncode == 2 and "--json-points" in p.stderr,
         "--json-points without --json: usage error", p.stderr)
 
-    # ---- streaming on 2,000 samples
-    big = os.path.join(tmp, "c2k")
-    subprocess.run([GEN_BENCH, big, "2000"], check=True, capture_output=True)
-    bj, bd, b1, bp = (os.path.join(tmp, f) for f in ("b.json", "bd.json", "b1.json", "bp.csv"))
-    p = run("rank", big, "--json", bj, "--points", bp)
-    tap(p.returncode == 0, "2,000 samples: rank --json --points exits 0", p.stderr)
+    # ---- streaming on 2,500 samples: more than one block of 2,048 samples
+    # (the JSON and CSV writers format a block at a time on the workers)
+    big = os.path.join(tmp, "c2500")
+    subprocess.run([GEN_BENCH, big, str(N_BIG)], check=True, capture_output=True)
+    bj, bd, b1, bp, bc, b1p, b1c = (os.path.join(tmp, f) for f in (
+        "b.json", "bd.json", "b1.json", "bp.csv", "bc.csv", "b1p.csv", "b1c.csv"))
+    p = run("rank", big, "--json", bj, "--points", bp, "--csv", bc)
+    tap(p.returncode == 0, "2,500 samples: rank --json --points exits 0", p.stderr)
     run("rank", big, "--json", bd, "--json-points")
-    run("rank", big, "--json", b1, env=dict(os.environ, ARRANK_THREADS="1"))
+    run("rank", big, "--json", b1, "--points", b1p, "--csv", b1c,
+        env=dict(os.environ, ARRANK_THREADS="1"))
     try:
         doc = json.load(open(bj))
         parsed = True
     except ValueError as e:
         doc, parsed = {"samples": []}, False
-        tap(False, "2,000 samples: the streamed JSON parses", e)
+        tap(False, "2,500 samples: the streamed JSON parses", e)
     if parsed:
-        tap(True, "2,000 samples: the streamed JSON parses")
-    tap(len(doc["samples"]) == 2000, "2,000 samples: every sample in the JSON")
+        tap(True, "2,500 samples: the streamed JSON parses")
+    tap(len(doc["samples"]) == N_BIG, "2,500 samples: every sample in the JSON")
     tap(stripped(json.load(open(bd))) == doc,
-        "2,000 samples: the record per sample = the detail document stripped")
+        "2,500 samples: the record per sample = the detail document stripped")
     tap(open(b1, "rb").read() == open(bj, "rb").read(),
-        "2,000 samples: the same JSON byte for byte on one worker thread")
-    size = os.path.getsize(bj) / 2000
+        "2,500 samples: the same JSON byte for byte on one worker thread")
+    tap(open(b1c, "rb").read() == open(bc, "rb").read(),
+        "2,500 samples: the same results CSV byte for byte on one worker thread")
+    tap(open(b1p, "rb").read() == open(bp, "rb").read(),
+        "2,500 samples: the same points.csv byte for byte on one worker thread")
+    size = os.path.getsize(bj) / N_BIG
     # the lean record's target (issue 12): 2 kB a sample
-    tap(size <= 2048, "2,000 samples: JSON within 2 kB a sample (%.0f bytes)" % size)
+    tap(size <= 2048, "2,500 samples: JSON within 2 kB a sample (%.0f bytes)" % size)
     with open(bj, encoding="utf-8") as f:
         record_lines = [ln for ln in f if ln.startswith('    {"id": ')]
-    tap(len(record_lines) == 2000 and
+    tap(len(record_lines) == N_BIG and
         all(json.loads(ln.rstrip().rstrip(","))["id"] == s["id"]
             for ln, s in zip(record_lines, doc["samples"])),
-        "2,000 samples: each sample's record on a line of its own")
+        "2,500 samples: each sample's record on a line of its own")
     with open(bp, encoding="utf-8") as f:
         n_rows = sum(1 for _ in f) - 1
     tap(n_rows == sum(s["n_points"] for s in doc["samples"]),
-        "2,000 samples: points.csv has a row per point (%d)" % n_rows)
+        "2,500 samples: points.csv has a row per point (%d)" % n_rows)
 
 print("1..%d" % n)

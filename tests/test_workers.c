@@ -83,8 +83,8 @@ static arrank_campaign *load(const char *dir, int workers)
     return c;
 }
 
-/* The whole JSON output of rank at 530 K and the table after it, as one
-   string (caller frees). */
+/* The whole JSON output of rank at 530 K and the table, results.csv and
+   points.csv after it, as one string (caller frees). */
 static char *analyse_json(const arrank_campaign *c, int workers, int diagnose)
 {
     arrank_options o = arrank_options_defaults();
@@ -105,9 +105,12 @@ static char *analyse_json(const arrank_campaign *c, int workers, int diagnose)
     FILE *f = open_memstream(&text, &len);
     assert_non_null(f);
     assert_int_equal(arrank_output_write(a, ARRANK_OUTPUT_JSON, f, &err), ARRANK_OK);
-    /* the table too: its rows are formatted on the workers (output.c) */
+    /* the table, results.csv and points.csv too: their rows are formatted on
+       the workers (output.c, files.c) */
     arrank_workers_force(workers);
     assert_int_equal(arrank_output_write(a, ARRANK_OUTPUT_TABLE, f, &err), ARRANK_OK);
+    assert_int_equal(arrank_output_write(a, ARRANK_OUTPUT_CSV, f, &err), ARRANK_OK);
+    assert_int_equal(arrank_output_write(a, ARRANK_OUTPUT_POINTS, f, &err), ARRANK_OK);
     arrank_workers_force(0);
     assert_int_equal(fclose(f), 0);
     arrank_analysis_free(a);

@@ -184,6 +184,7 @@ int cli_stage_claim(const char *dir, const char *priv, int is_default);
 int cli_stage_check(const char *path, int is_dir);
 FILE *cli_stage_file(const char *path, int *rc);
 const char *cli_stage_dir(const char *dir, int *rc);
+void cli_stage_written(FILE *f);
 int cli_stage_commit(void);
 void cli_stage_abort(void);
 

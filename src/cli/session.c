@@ -291,6 +291,8 @@ int cli_write_outputs(const cli_args *args, const cli_session *s)
         arrank_status st = arrank_output_write(s->analysis, out[i].format, f, &err);
         if (st == ARRANK_OK && to_stdout && fflush(stdout) != 0)
             st = arrank_errorf(&err, ARRANK_EIO, "cannot write to standard output");
+        if (st == ARRANK_OK && !to_stdout)
+            cli_stage_written(f);
         if (st != ARRANK_OK) {
             cli_print_error(&err);
             cli_stage_abort();

@@ -57,6 +57,18 @@ static void reference_cells(const arrank_analysis *a, const arrank_result *res,
     arrank_files_csv_num(row, has && !self ? ss->ea_diff.hi / 1e3 : NAN, 1);
 }
 
+/* The rows in the order they are written, formatted on the workers. */
+typedef struct {
+    const arrank_analysis *a;
+    size_t *order; /* result index of each row */
+} rows_job;
+
+static void row_item(void *ctx, size_t i, arrank_csv_row *row)
+{
+    const rows_job *j = ctx;
+    write_row(j->a, &j->a->results[j->order[i]], row);
+}
+
 static arrank_status write_csv(const arrank_analysis *a, FILE *f, arrank_error *err)
 {
     arrank_csv_row *row = malloc(sizeof *row);
@@ -106,17 +118,23 @@ static arrank_status write_csv(const arrank_analysis *a, FILE *f, arrank_error *
     if (more)
         reference_header(a, row);
 
-    /* ranked samples first, in rank order, then the others in file order */
-    for (size_t k = 0; k < a->n_ranked; k++)
-        write_row(a, &a->results[a->order[k]], row);
-    for (size_t i = 0; i < a->n_results; i++)
-        if (a->results[i].rank == 0)
-            write_row(a, &a->results[i], row);
     arrank_files_csv_flush(row);
     free(row);
-    if (ferror(f))
+    /* ranked samples first, in rank order, then the others in file order */
+    rows_job job = {a, malloc((a->n_results ? a->n_results : 1) * sizeof *job.order)};
+    if (!job.order)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    size_t n = 0;
+    for (size_t k = 0; k < a->n_ranked; k++)
+        job.order[n++] = a->order[k];
+    for (size_t i = 0; i < a->n_results; i++)
+        if (a->results[i].rank == 0)
+            job.order[n++] = i;
+    st = arrank_files_csv_items(n, row_item, &job, f, err);
+    free(job.order);
+    if (st == ARRANK_OK && ferror(f))
         return arrank_errorf(err, ARRANK_EIO, "write failed");
-    return ARRANK_OK;
+    return st;
 }
 
 /* One sample's row. */

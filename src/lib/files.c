@@ -175,3 +175,83 @@ void arrank_files_csv_num(arrank_csv_row *row, double v, int last)
     }
     row_end(row, last);
 }
+
+/*
+ * The items on the workers, CSV_BLOCK at a time: worker w formats a
+ * contiguous share of the block into a memory stream of its own, then the
+ * streams are written in order.  A block bounds the memory held to a few
+ * megabytes whatever the table's size (as the JSON writer's, json.c).
+ */
+#define CSV_BLOCK 2048
+#define CSV_MIN_PER_WORKER 256
+#define CSV_MAX_WORKERS 8
+
+typedef struct {
+    void (*item)(void *ctx, size_t i, arrank_csv_row *row);
+    void *ctx;
+    size_t from, to, workers;
+    arrank_csv_row *row[CSV_MAX_WORKERS];
+    char *mem[CSV_MAX_WORKERS];
+    size_t len[CSV_MAX_WORKERS];
+    int failed[CSV_MAX_WORKERS];
+} csv_job;
+
+static void csv_worker(void *ctx, size_t w)
+{
+    csv_job *j = ctx;
+    size_t n = j->to - j->from, share = (n + j->workers - 1) / j->workers;
+    size_t lo = j->from + w * share, hi = lo + share < j->to ? lo + share : j->to;
+    arrank_csv_row *row = j->row[w];
+    j->mem[w] = NULL;
+    j->len[w] = 0;
+    row->f = open_memstream(&j->mem[w], &j->len[w]);
+    row->n = 0;
+    if (!row->f) {
+        j->failed[w] = 1;
+        return;
+    }
+    for (size_t i = lo; i < hi; i++)
+        j->item(j->ctx, i, row);
+    arrank_files_csv_flush(row);
+    j->failed[w] = ferror(row->f) != 0;
+    j->failed[w] |= fclose(row->f) != 0;
+    row->f = NULL;
+}
+
+arrank_status arrank_files_csv_items(size_t n, void (*item)(void *ctx, size_t i,
+                                                             arrank_csv_row *row),
+                                     void *ctx, FILE *f, arrank_error *err)
+{
+    csv_job *j = calloc(1, sizeof *j);
+    if (!j)
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    j->item = item;
+    j->ctx = ctx;
+    j->workers = arrank_workers_for(n, CSV_MIN_PER_WORKER);
+    if (j->workers > CSV_MAX_WORKERS)
+        j->workers = CSV_MAX_WORKERS;
+    arrank_status st = ARRANK_OK;
+    for (size_t w = 0; w < j->workers && st == ARRANK_OK; w++)
+        if (!(j->row[w] = malloc(sizeof *j->row[w])))
+            st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    for (size_t from = 0; from < n && st == ARRANK_OK; from += CSV_BLOCK) {
+        j->from = from;
+        j->to = from + CSV_BLOCK < n ? from + CSV_BLOCK : n;
+        if (j->workers > 1)
+            arrank_workers_run(j->workers, csv_worker, j);
+        else
+            csv_worker(j, 0);
+        for (size_t w = 0; w < j->workers; w++) {
+            if (j->failed[w] && st == ARRANK_OK)
+                st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+            if (st == ARRANK_OK && j->len[w] && fwrite(j->mem[w], 1, j->len[w], f) != j->len[w])
+                st = arrank_errorf(err, ARRANK_EIO, "write failed");
+            free(j->mem[w]);
+            j->mem[w] = NULL;
+        }
+    }
+    for (size_t w = 0; w < j->workers; w++)
+        free(j->row[w]);
+    free(j);
+    return st;
+}

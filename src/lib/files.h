@@ -42,4 +42,14 @@ void arrank_files_csv_num(arrank_csv_row *row, double v, int last);
 /* Write out what the row buffer holds. */
 void arrank_files_csv_flush(arrank_csv_row *row);
 
+/* Items 0..n-1 of a table (a row, or a sample's rows) written to f in that
+   order: item(ctx, i, row) puts item i's rows through row.  The items are
+   formatted on the workers (util.c), a block at a time, each worker into
+   its own memory stream; the streams are written in order, so the bytes are
+   the same for any number of workers.  item must only read what it shares.
+   ENOMEM, or EIO when f fails. */
+arrank_status arrank_files_csv_items(size_t n, void (*item)(void *ctx, size_t i,
+                                                             arrank_csv_row *row),
+                                     void *ctx, FILE *f, arrank_error *err);
+
 #endif

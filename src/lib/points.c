@@ -76,6 +76,15 @@ static void write_point(const arrank_analysis *a, const arrank_result *res, size
     arrank_files_csv_field(row, used ? "" : left_out_reason(a, res, k, buf, sizeof buf), 1);
 }
 
+/* One sample's rows (arrank_files_csv_items: the samples on the workers). */
+static void sample_points(void *ctx, size_t i, arrank_csv_row *row)
+{
+    const arrank_analysis *a = ctx;
+    const arrank_result *res = &a->results[i];
+    for (size_t k = 0; k < res->sample->n_points; k++)
+        write_point(a, res, k, row);
+}
+
 arrank_status arrank_points_write(const arrank_analysis *a, FILE *f, arrank_error *err)
 {
     arrank_csv_row *row = malloc(sizeof *row);
@@ -86,14 +95,10 @@ arrank_status arrank_points_write(const arrank_analysis *a, FILE *f, arrank_erro
     const size_t n_columns = sizeof columns / sizeof *columns;
     for (size_t c = 0; c < n_columns; c++)
         arrank_files_csv_field(row, columns[c], c + 1 == n_columns);
-    for (size_t i = 0; i < a->n_results; i++) {
-        const arrank_result *res = &a->results[i];
-        for (size_t k = 0; k < res->sample->n_points; k++)
-            write_point(a, res, k, row);
-    }
     arrank_files_csv_flush(row);
     free(row);
-    if (ferror(f))
+    arrank_status st = arrank_files_csv_items(a->n_results, sample_points, (void *)a, f, err);
+    if (st == ARRANK_OK && ferror(f))
         return arrank_errorf(err, ARRANK_EIO, "write failed");
-    return ARRANK_OK;
+    return st;
 }
