@@ -121,4 +121,24 @@ refuse "the curvature goal without --bend" "needs --bend" --max-temperature 320C
 refuse "a bare --bend" "with its unit" --max-temperature 320C --goal curvature --bend 20
 refuse "--csv" "do not apply" --max-temperature 320C --csv "$T/x.csv"
 refuse "--by" "unknown option" --max-temperature 320C --by ea
+# the plan draws its own simulations (--simulations, --seed): the P(best) and
+# bootstrap options of rank do not apply and are refused, not ignored
+refuse "--draws" "unknown option .--draws." --max-temperature 320C --draws 100
+refuse "--pairs" "unknown option .--pairs." --max-temperature 320C --pairs 5
+refuse "--bootstrap" "unknown option .--bootstrap." --max-temperature 320C --bootstrap 50
+refuse "--normal" "unknown option .--normal." --max-temperature 320C --normal
+
+# The piped table keeps its columns aligned whatever the length of a
+# sample's temperature list (60 runs spread over three temperatures each):
+# the interval column starts where its heading does on every row.
+"$A" plan "$DEMO" --max-temperature 300C --budget 60 --goal precision --width 2% \
+    >"$T/long" 2>/dev/null
+ok_if "plan: piped table aligned with long temperature lists" "$PY" -c '
+import sys
+rows = open(sys.argv[1]).read().split("\n\n")[1].splitlines()
+head, body = rows[0], rows[1:]
+at = head.index("rate at")
+assert len(body) == 3 and any(len(r.split("  [")[0]) > 36 + 34 for r in body), rows
+assert all(r[at] == "[" and r[at - 2:at] == "  " for r in body), rows
+' "$T/long"
 tap_plan

@@ -32,7 +32,7 @@ enum {
     OPT_CONFIDENCE = 1u << 2, /* --confidence 0.95 */
     OPT_BY = 1u << 3,         /* --by rate|ea|prefactor */
     OPT_DIAGNOSE = 1u << 4,   /* --use-all, --drop-outliers, --conversion-limit */
-    OPT_STATS = 1u << 5,      /* --seed, --draws, --pairs, --bootstrap, --normal */
+    OPT_DRAWS = 1u << 5,      /* --draws, --pairs, --bootstrap, --normal: P(best), bootstrap */
     OPT_MODEL = 1u << 6,      /* --errors, --model */
     OPT_OUT_DIR = 1u << 7,    /* --out DIR */
     OPT_FORMAT = 1u << 8,     /* --format svg|png|pdf (repeatable) */
@@ -43,7 +43,9 @@ enum {
     OPT_PLAN = 1u << 13,      /* --budget, --goal, --target, --width, --step, --reach,
                                  --max-temperature, --simulations, --bend, --sample,
                                  --run-sheet */
-    OPT_FIGURES = 1u << 14    /* --show N|all|ID,ID, --size slide|page|square|WxH */
+    OPT_FIGURES = 1u << 14,   /* --show N|all|ID,ID, --size slide|page|square|WxH */
+    OPT_SEED = 1u << 15,      /* --seed N */
+    OPT_STATS = OPT_SEED | OPT_DRAWS
 };
 
 #define CLI_MAX_CAMPAIGNS 64

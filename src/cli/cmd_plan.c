@@ -308,7 +308,7 @@ int cmd_plan(int argc, char **argv)
 {
     cli_args args;
     int rc = cli_parse(argc, argv,
-                       OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_DIAGNOSE | OPT_STATS |
+                       OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_DIAGNOSE | OPT_SEED |
                            OPT_OUT_DIR | OPT_FORMAT | OPT_PLAN | OPT_TABLE,
                        usage, &args);
     if (rc != -1)

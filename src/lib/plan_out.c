@@ -67,32 +67,63 @@ static void put_goal(FILE *f, const arrank_plan *p, char sep)
             p->budget, p->step_K, p->reach_K, sep, sep, p->max_temp_K, p->max_temp_K - ZERO_C_K);
 }
 
-/* The temperatures of one sample's runs, "543.15 K x6, 548.15 K x2". */
-static void put_temps(FILE *f, const arrank_plan *p, size_t result, int width)
+/* The temperatures of one sample's runs, "543.15 K x6, 548.15 K x2" ("-"
+   when none), into buf of n bytes (512 hold 12 temperatures; a longer list
+   ends in "..."). */
+static void temps_text(const arrank_plan *p, size_t result, char *buf, size_t n)
 {
-    char buf[512];
-    size_t n = 0;
+    size_t used = 0;
     buf[0] = '\0';
-    for (size_t k = 0; k < p->n_runs && n < sizeof buf - 40; k++) {
+    for (size_t k = 0; k < p->n_runs; k++) {
         if (p->runs[k].sample != result)
             continue;
-        n += (size_t)snprintf(buf + n, sizeof buf - n, "%s%.2f K x%zu", n ? ", " : "",
-                              p->runs[k].temp_K, p->runs[k].repeats);
+        if (used + 40 > n) {
+            snprintf(buf + used, n - used, ", ...");
+            return;
+        }
+        used += (size_t)snprintf(buf + used, n - used, "%s%.2f K x%zu", used ? ", " : "",
+                                 p->runs[k].temp_K, p->runs[k].repeats);
     }
-    fprintf(f, "%-*s", width, n ? buf : "-");
+    if (!used)
+        snprintf(buf, n, "-");
 }
 
+/* Text padded to width columns of the terminal (code points, textfit.c). */
+static void put_padded(FILE *f, const char *text, size_t width)
+{
+    size_t w = arrank_textfit_width(text, strlen(text));
+    fputs(text, f);
+    for (; w < width; w++)
+        fputc(' ', f);
+}
+
+/* The rows, each column at least as wide as its widest cell (ids and
+   temperature lists of any length stay aligned). */
 static void put_rows(FILE *f, const arrank_analysis *a, const arrank_plan *p)
 {
     const char *unit = a->campaign && a->campaign->rate_unit ? a->campaign->rate_unit : "";
-    fprintf(f, "%-26s  %4s  %-36s  rate at %.2f K [%s], %g%% interval: now -> expected\n",
-            "sample", "runs", "temperatures", p->temp_K, unit, 100.0 * p->confidence);
+    size_t id_w = 26, temps_w = 36; /* at least, as the table has always been */
+    char id[256], temps[512];
     for (size_t j = 0; j < p->n_entries; j++) {
         const arrank_plan_entry *e = &p->entries[j];
-        char id[256];
         arrank_text_escape(sample_id(a, e->result), id, sizeof id);
-        fprintf(f, "%-26s  %4zu  ", id, e->runs);
-        put_temps(f, p, e->result, 36);
+        temps_text(p, e->result, temps, sizeof temps);
+        size_t w = arrank_textfit_width(id, strlen(id)), t = strlen(temps);
+        id_w = w > id_w ? w : id_w;
+        temps_w = t > temps_w ? t : temps_w;
+    }
+    put_padded(f, "sample", id_w);
+    fprintf(f, "  %4s  ", "runs");
+    put_padded(f, "temperatures", temps_w);
+    fprintf(f, "  rate at %.2f K [%s], %g%% interval: now -> expected\n", p->temp_K, unit,
+            100.0 * p->confidence);
+    for (size_t j = 0; j < p->n_entries; j++) {
+        const arrank_plan_entry *e = &p->entries[j];
+        arrank_text_escape(sample_id(a, e->result), id, sizeof id);
+        temps_text(p, e->result, temps, sizeof temps);
+        put_padded(f, id, id_w);
+        fprintf(f, "  %4zu  ", e->runs);
+        put_padded(f, temps, temps_w);
         fprintf(f, "  [%.3g, %.3g] -> [%.3g, %.3g]", e->rate_ci_before[0], e->rate_ci_before[1],
                 e->rate_ci_expected[0], e->rate_ci_expected[1]);
         if (e->n_candidates == 0)
