@@ -21,6 +21,10 @@ Read from the code, not from comments:
     global symbols that every other object defines (`nm --defined-only -g`).
   - the program: src/cli/*.c include only arrank/*.h and call only what the
     library exports through those headers.
+  - sizes: no source file in src/lib over MAX_FILE_LINES lines, and no
+    function over MAX_FUNCTION_LINES (from the `{` that opens its body at the
+    start of a line to the `}` that closes it, as the house style writes
+    them): the limits of the restructure, so that no module knots again.
 Prints one line per breach and exits 1 if there is any; 0 otherwise.
 """
 import argparse
@@ -30,6 +34,32 @@ import subprocess
 import sys
 
 INC = re.compile(r'^\s*#\s*include\s+"([^"]+)"', re.M)
+MAX_FILE_LINES = 1200
+MAX_FUNCTION_LINES = 120
+
+
+def size_breaches(rel, text):
+    """The file's length and each function's, against the limits."""
+    out = []
+    lines = text.split("\n")
+    if len(lines) - (lines[-1] == "") > MAX_FILE_LINES:
+        out.append("%s: %d lines (at most %d)" % (rel, len(lines) - (lines[-1] == ""),
+                                                  MAX_FILE_LINES))
+    start = None
+    for i, line in enumerate(lines):
+        if line == "{":
+            start = i
+        elif line == "}" and start is not None:
+            if i - start + 1 > MAX_FUNCTION_LINES:
+                j = start - 1
+                while j > 0 and "(" not in lines[j]:
+                    j -= 1
+                name = re.search(r"(\w+)\s*\(", lines[j])
+                out.append("%s:%d: function %s is %d lines (at most %d)"
+                           % (rel, start + 1, name.group(1) if name else "?", i - start + 1,
+                              MAX_FUNCTION_LINES))
+            start = None
+    return out
 
 
 def read_table(path):
@@ -113,6 +143,8 @@ def main():
     files += [(os.path.join("include/arrank", f), os.path.join(inc, f))
               for f in sorted(os.listdir(inc)) if f.endswith(".h")]
     for rel, path in files:
+        if rel.endswith(".c"):
+            breaches += size_breaches(rel, open(path, encoding="utf-8").read())
         base = os.path.basename(rel)
         if base in free:
             continue
@@ -157,8 +189,9 @@ def main():
         print("check-layers: %d breach%s of the table in DEVELOPERS.md"
               % (len(breaches), "" if len(breaches) == 1 else "es"))
         return 1
-    print("check-layers: %d files in %d layers, every include and call goes down"
-          % (len(objs), len(set(layer_of.values()))))
+    print("check-layers: %d files in %d layers, every include and call goes down; no file "
+          "over %d lines, no function over %d"
+          % (len(objs), len(set(layer_of.values())), MAX_FILE_LINES, MAX_FUNCTION_LINES))
     return 0
 
 
