@@ -230,6 +230,20 @@ print(("ok" if whole and len(pieces) > 1 else "not ok")
       % (len(sys.argv[2]), len(pieces)))
 PY
 tap_relay "$T/py"
+# piped, compare keeps every id whole (scripts read it) and its columns in line
+"$A" compare "$T/long" "$T/long2" --at 270C >"$T/cmppiped" 2>/dev/null
+"$PY" - "$T/cmppiped" "$id1" >"$T/py" <<'PY'
+import sys
+lines = open(sys.argv[1], encoding="utf-8").read().split("\n")
+h = next(i for i, l in enumerate(lines) if l.startswith("sample"))
+at = lines[h].index("rate A")
+rows = lines[h + 1:lines.index("", h)]
+ok = (any(r.startswith(sys.argv[2] + "  ") for r in rows) and len(rows) > 1 and
+      all(r[at - 2:at] == "  " and r[at] != " " for r in rows))
+print(("ok" if ok else "not ok") + " compare piped: an id of %d characters whole, columns in line"
+      % len(sys.argv[2]))
+PY
+tap_relay "$T/py"
 # plan on the demo
 PLAN="plan $DEMO --max-temperature 300C --budget 24"
 # shellcheck disable=SC2086

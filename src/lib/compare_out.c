@@ -17,15 +17,23 @@
 #include "number.h"
 #include "textfit.h"
 
-#define NAME_SHOWN 40
-
-static void shown(const char *text, char *buf, size_t n)
+/* Text from a file, escaped and whole: a new string, NULL when out of memory. */
+static char *escaped(const char *text)
 {
-    char esc[4 * NAME_SHOWN + 8];
-    arrank_text_escape(text, esc, sizeof esc);
-    if (strlen(esc) > NAME_SHOWN)
-        memcpy(esc + NAME_SHOWN - 3, "...", 4);
-    snprintf(buf, n, "%s", esc);
+    size_t n = 4 * strlen(text ? text : "") + 1;
+    char *s = malloc(n);
+    if (s)
+        arrank_text_escape(text ? text : "", s, n);
+    return s;
+}
+
+/* The piped table: every id and name escaped and whole (scripts read it),
+   the id column as wide as its widest id in terminal columns (textfit.c). */
+static void put_padded(FILE *f, const char *text, size_t width)
+{
+    fputs(text, f);
+    for (size_t w = arrank_textfit_width(text, strlen(text)); w < width; w++)
+        fputc(' ', f);
 }
 
 /* Percent change of a ratio, "+12 %" or "-30 %". */
@@ -34,79 +42,95 @@ static void percent(double ratio, char *buf, size_t n)
     snprintf(buf, n, "%+.0f %%", 100.0 * (ratio - 1.0));
 }
 
-static void table_row(const arrank_comparison *c, const arrank_compare_row *r, int w, FILE *f)
+static int table_row(const arrank_compare_row *r, size_t w, FILE *f)
 {
-    char name[NAME_SHOWN + 8];
-    shown(r->id, name, sizeof name);
+    char *name = escaped(r->id);
+    if (!name)
+        return -1;
+    put_padded(f, name, w);
+    free(name);
     if (!r->compared) {
         if (isfinite(r->ratio_measured)) /* the reference: its rates as measured */
-            fprintf(f, "%-*s  %-10.3g  %-10.3g  %-24.3g %-7s  not compared: %s\n", w, name,
-                    r->rate_a, r->rate_b, r->ratio_measured, "", r->why_not);
+            fprintf(f, "  %-10.3g  %-10.3g  %-24.3g %-7s  not compared: %s\n", r->rate_a,
+                    r->rate_b, r->ratio_measured, "", r->why_not);
         else
-            fprintf(f, "%-*s  not compared: %s\n", w, name, r->why_not);
-        return;
+            fprintf(f, "  not compared: %s\n", r->why_not);
+        return 0;
     }
-    (void)c;
     char ratio[96], change[32], ea[96];
     snprintf(ratio, sizeof ratio, "%.3g [%.3g, %.3g]", r->ratio, r->ratio_lo, r->ratio_hi);
     percent(r->ratio, change, sizeof change);
     snprintf(ea, sizeof ea, "%+.1f [%+.1f, %+.1f]", r->ea.est / 1e3, r->ea.lo / 1e3,
              r->ea.hi / 1e3);
-    fprintf(f, "%-*s  %-10.3g  %-10.3g  %-24s %-7s  %-9s  %-24s %s\n", w, name, r->rate_a,
-            r->rate_b, ratio, change, r->changed ? "changed" : "-", ea,
-            r->ea_changed ? "changed" : "-");
+    fprintf(f, "  %-10.3g  %-10.3g  %-24s %-7s  %-9s  %-24s %s\n", r->rate_a, r->rate_b, ratio,
+            change, r->changed ? "changed" : "-", ea, r->ea_changed ? "changed" : "-");
+    return 0;
 }
 
-static void unmatched_line(const char *campaign, const char *const *ids, size_t n, FILE *f)
+static int unmatched_line(const char *campaign, const char *const *ids, size_t n, FILE *f)
 {
     if (!n)
-        return;
-    char name[NAME_SHOWN + 8];
-    shown(campaign, name, sizeof name);
+        return 0;
+    char *name = escaped(campaign);
+    if (!name)
+        return -1;
     fprintf(f, "only in %s:", name);
+    free(name);
     for (size_t i = 0; i < n; i++) {
-        char id[NAME_SHOWN + 8];
-        shown(ids[i], id, sizeof id);
+        char *id = escaped(ids[i]);
+        if (!id)
+            return -1;
         fprintf(f, "%s %s", i ? "," : "", id);
+        free(id);
     }
     fputc('\n', f);
+    return 0;
 }
 
 static arrank_status write_table(const arrank_comparison *c, FILE *f)
 {
     const arrank_campaign *A = c->a->campaign, *B = c->b->campaign;
-    char na[NAME_SHOWN + 8], nb[NAME_SHOWN + 8], unit[256];
-    shown(A->name, na, sizeof na);
-    shown(B->name, nb, sizeof nb);
-    arrank_text_escape(A->rate_unit, unit, sizeof unit);
-    fprintf(f, "compare '%s' (A) with '%s' (B): %zu sample%s in both, %g%% intervals\n", na, nb,
-            c->n_rows, c->n_rows == 1 ? "" : "s", 100.0 * c->confidence);
-    fprintf(f, "operating temperature %.2f K (%.2f degC); rates in %s\n", c->temp_K,
-            c->temp_K - 273.15, unit);
-    if (c->reference) {
-        char ref[NAME_SHOWN + 8];
-        shown(c->reference, ref, sizeof ref);
-        fprintf(f, "B / A: each rate first taken relative to its own campaign's reference %s "
-                   "(the rig's drift corrected); rate A and rate B as measured\n", ref);
+    char *na = escaped(A->name), *nb = escaped(B->name), *unit = escaped(A->rate_unit);
+    char *ref = c->reference ? escaped(c->reference) : NULL;
+    int bad = !na || !nb || !unit || (c->reference && !ref);
+    if (!bad) {
+        fprintf(f, "compare '%s' (A) with '%s' (B): %zu sample%s in both, %g%% intervals\n", na,
+                nb, c->n_rows, c->n_rows == 1 ? "" : "s", 100.0 * c->confidence);
+        fprintf(f, "operating temperature %.2f K (%.2f degC); rates in %s\n", c->temp_K,
+                c->temp_K - 273.15, unit);
+        if (ref)
+            fprintf(f, "B / A: each rate first taken relative to its own campaign's reference "
+                       "%s (the rig's drift corrected); rate A and rate B as measured\n", ref);
+        fputc('\n', f);
     }
-    fputc('\n', f);
-    int w = 6;
-    for (size_t i = 0; i < c->n_rows; i++) {
-        char name[NAME_SHOWN + 8];
-        shown(c->rows[i].id, name, sizeof name);
-        if ((int)strlen(name) > w)
-            w = (int)strlen(name);
+    free(na);
+    free(nb);
+    free(unit);
+    free(ref);
+    size_t w = 6;
+    for (size_t i = 0; i < c->n_rows && !bad; i++) {
+        char *name = escaped(c->rows[i].id);
+        bad = !name;
+        size_t nw = name ? arrank_textfit_width(name, strlen(name)) : 0;
+        w = nw > w ? nw : w;
+        free(name);
     }
-    fprintf(f, "%-*s  %-10s  %-10s  %-24s %-7s  %-9s  %-24s %s\n", w, "sample", "rate A",
-            "rate B", "B / A", "change", "verdict", "Ea B - A [kJ/mol]", "verdict");
-    for (size_t i = 0; i < c->n_rows; i++)
-        table_row(c, &c->rows[i], w, f);
+    if (bad)
+        return ARRANK_ENOMEM;
+    put_padded(f, "sample", w);
+    fprintf(f, "  %-10s  %-10s  %-24s %-7s  %-9s  %-24s %s\n", "rate A", "rate B", "B / A",
+            "change", "verdict", "Ea B - A [kJ/mol]", "verdict");
+    for (size_t i = 0; i < c->n_rows && !bad; i++)
+        bad = table_row(&c->rows[i], w, f) != 0;
+    if (bad)
+        return ARRANK_ENOMEM;
     fprintf(f, "\n%zu of %zu compared sample%s changed in rate at T, %zu in Ea (two-sided tests, "
                "Holm's correction across the %zu samples, %g%%)\n",
             c->n_changed, c->n_tests, c->n_tests == 1 ? "" : "s", c->n_ea_changed, c->n_tests,
             100.0 * (1.0 - c->confidence));
-    unmatched_line(A->name, c->only_a, c->n_only_a, f);
-    unmatched_line(B->name, c->only_b, c->n_only_b, f);
+    if (unmatched_line(A->name, c->only_a, c->n_only_a, f) != 0 ||
+        unmatched_line(B->name, c->only_b, c->n_only_b, f) != 0)
+        return ARRANK_ENOMEM;
     fprintf(f, "\nCaution: %s.\n", ARRANK_CAUTION_APPARENT);
     return ferror(f) ? ARRANK_EIO : ARRANK_OK;
 }
@@ -243,16 +267,6 @@ enum { K_ID, K_RA, K_RB, K_RATIO, K_CHG, K_VERD, K_EA, K_EVERD, K_COLS };
 
 #define ID_MIN 10   /* the id column narrows down to this, its ids wrapping */
 #define CELL_MIN 12 /* and any other column down to this */
-
-/* Text from a file, escaped and whole: a new string, NULL when out of memory. */
-static char *escaped(const char *text)
-{
-    size_t n = 4 * strlen(text ? text : "") + 1;
-    char *s = malloc(n);
-    if (s)
-        arrank_text_escape(text ? text : "", s, n);
-    return s;
-}
 
 typedef struct {
     char cell[K_COLS][96];
