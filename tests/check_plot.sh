@@ -383,6 +383,15 @@ ok_if "--size slide: SVG 1280 px wide" grep -q 'width="1280" height="720"' "$T/s
 # PNG IHDR width and height (PNG spec, W3C REC-PNG sec. 11.2.2): twice the SVG
 png_wh=$("$PY" -c "import struct,sys; d=open(sys.argv[1],'rb').read(24); print(*struct.unpack('>II', d[16:24]))" "$T/slide/arrhenius.png")
 expect_eq "--size slide: PNG 2560 x 1440 px" "$png_wh" "2560 1440"
+# The PNG keeps the SVG's proportions of text to canvas (its font sizes in
+# pt, which pango renders at 96 dpi): the demo's end names stay inside the
+# canvas (at 4/3 of the size the longest ran off the right edge).  Dark
+# pixels within 6 px of the left, right, top and bottom edges:
+"$A" plot "$DEMO" --at 270C --format png --out "$T/png" >/dev/null 2>&1
+for fig in arrhenius rate-at-T; do
+    expect_eq "PNG $fig: nothing drawn on its edges" \
+        "$("$PY" tests/png_margin.py "$T/png/$fig.png")" "0 0 0 0"
+done
 "$A" plot "$DEMO" --at 270C --size 700x500 --out "$T/wxh" >/dev/null 2>&1
 ok_if "--size 700x500: SVG 700 px wide" grep -q 'width="700" height="500"' "$T/wxh/ea-lnA.svg"
 "$A" plot "$DEMO" --at 270C --size huge --out "$T/huge" >/dev/null 2>"$T/huge.err"

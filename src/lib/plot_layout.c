@@ -26,14 +26,16 @@ void arrank_plot_terminal(script *s, unsigned format, double w, double h)
     s->W = w;
     s->H = h;
     FILE *f = s->f;
-    /* SVG in px; PNG twice the pixels (pngcairo reads font sizes as px at its
-       72 dpi); PDF at 96 px to the inch, fonts in pt (0.75 px). */
+    /* SVG in px; PNG twice the pixels, its font sizes in pt (pango renders
+       them at 96 dpi: 0.75 pt to the px, so 2 px of the SVG are 1.5 pt; at
+       2 pt the text was a third larger than the SVG's and long names ran off
+       the right edge); PDF at 96 px to the inch, fonts in pt (0.75 px). */
     switch (format) {
     case ARRANK_PLOT_PNG:
         fprintf(f,
                 "set terminal pngcairo size %d,%d font 'DejaVu Sans,%d' noenhanced "
                 "linewidth 2.0 background rgb '#ffffff'\n",
-                (int)lround(2 * w), (int)lround(2 * h), s->font_pt = (int)lround(2 * s->fpx));
+                (int)lround(2 * w), (int)lround(2 * h), s->font_pt = (int)lround(1.5 * s->fpx));
         fputs("PS = 2.0\n", f);
         break;
     case ARRANK_PLOT_PDF:
