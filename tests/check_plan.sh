@@ -62,6 +62,42 @@ check("run sheet: order 1..n, coldest first",
 EOF
 tap_relay "$T/py"
 
+# The demo's promise (issue 17, README "Planning the next runs", "The demo."):
+# its three-way tie at 270 degC, the group of `rank`, is settled by the 24 runs
+# the plan proposes below 300 degC with an expected probability of at least
+# 0.8, at least 0.1 above the naive plan's; the run sheet holds those 24 runs,
+# none above 300 degC.  The truths behind it (gen_demo --truth) differ by 3.8
+# and 10 % at 270 degC.
+"$A" rank "$DEMO" --json "$T/rank.json" >/dev/null 2>&1
+"$A" plan "$DEMO" --max-temperature 300C --budget 24 --run-sheet "$T/demo.csv" \
+    --json "$T/demo.json" >"$T/demo.out" 2>/dev/null; st=$?
+expect_eq "demo plan (300 degC, 24 runs): exit 0" "$st" 0
+"$PY" - "$T/rank.json" "$T/demo.json" "$T/demo.csv" >"$T/py" 2>&1 <<'EOF'
+import csv, json, sys
+r = json.load(open(sys.argv[1]))
+p = json.load(open(sys.argv[2]))
+def check(name, cond):
+    print(("ok " if cond else "not ok ") + name)
+tie = {"ZN-09 beta-desilicated", "ZN-07 H-Y", "ZN-03 USY"}
+group1 = {s["id"] for s in r["samples"] if s.get("group") == 1}
+check("demo: rank's first group is the three-way tie ZN-09, ZN-07, ZN-03 (%s)" % sorted(group1),
+      group1 == tie)
+check("demo plan: the tie is not settled now, the plan is for its three samples",
+      p["met_now"] is False and {s["sample"] for s in p["samples"]} == tie)
+e, n = p["expected_probability"], p["naive_probability"]
+print("demo plan: expected probability %.3f (se %.3f), naive %.3f"
+      % (e, p["expected_probability_se"], n))
+check("demo plan: expected probability of settling the tie at least 0.8 (%.3f)" % e, e >= 0.8)
+check("demo plan: at least 0.1 above the naive plan's (%.3f against %.3f)" % (e, n), e - n >= 0.1)
+rows = [x for x in csv.reader(l for l in open(sys.argv[3]) if not l.startswith("#"))][1:]
+check("demo run sheet: the 24 runs, on the tie's samples",
+      sum(int(x[4]) for x in rows) == 24 and {x[1] for x in rows} <= tie)
+check("demo run sheet: no run above 300 degC (573.15 K)",
+      rows and all(float(x[2]) <= 300.0 and float(x[3]) <= 573.15 for x in rows))
+EOF
+[ $? -eq 0 ] || echo "not ok demo plan: the checks ran to the end" >>"$T/py"
+tap_relay "$T/py"
+
 # The same plan for a seed; the limit from campaign.ini.
 "$A" plan "$DEMO" --max-temperature 320C --budget 24 --json "$T/again.json" >/dev/null 2>&1
 ok_if "plan: the same JSON for the same seed" cmp -s "$T/plan.json" "$T/again.json"

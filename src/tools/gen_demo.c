@@ -15,6 +15,15 @@
  *   gen_demo --truth2   the second batch's true parameters, as measured on
  *                       the drifted rig (the drift included), same columns
  *
+ * The leaders at the operating temperature, 270 degC, truly differ by a few
+ * per cent: ZN-09 beta-desilicated is 3.8 % faster than ZN-07 H-Y and 10 %
+ * faster than ZN-03 USY.  ZN-09, the noisiest of the three (6 % scatter),
+ * was heated only to 270 degC, so its rate there rests on the hot end of its
+ * line; the screen cannot tell the three apart at 95 % (a three-way tie),
+ * and `arrank plan` shows which runs settle it (README, "Planning the next
+ * runs").  Changing a rate or a range draws the same random numbers: every
+ * other sample's data stay as they are.
+ *
  * The second batch (invented): the same rig months later, whose rates now
  * read BATCH2_DRIFT times the truth (a flow meter out of calibration), with
  * the reference catalyst ZN-01 H-beta tested again, ZN-03 USY tested again
@@ -86,7 +95,7 @@ static const sample_spec samples[] = {
      "reduced 2 h at 450 C", 1, FLAW_NONE},
     {"ZN-02 H-ZSM-5", 88.0, 1.45, 240, 320, 8, 0.04, UNIT_K, "mol/(kg*h)", 3.6, ',', 0, 0, 0, 0, 0,
      "rig B export", 1, FLAW_NONE},
-    {"ZN-03 USY", 47.0, 5.35, 220, 300, 9, 0.05, UNIT_DEGC, "umol/(g*s)", 1.0, ';', 1, 1, 1, 0, 0,
+    {"ZN-03 USY", 47.0, 4.95, 220, 300, 9, 0.05, UNIT_DEGC, "umol/(g*s)", 1.0, ';', 1, 1, 1, 0, 0,
      "exported with decimal commas", 1, FLAW_NONE},
     {"ZN-04 mordenite", 121.0, 0.62, 250, 330, 10, 0.04, UNIT_DEGC, "mmol/(g*h)", 3.6, '\t', 0, 0,
      0, 1, 0, "rate_sd from triplicate GC injections", 1, FLAW_NONE},
@@ -94,11 +103,11 @@ static const sample_spec samples[] = {
      0, 1, "heating and cooling ramps", 1, FLAW_NONE},
     {"ZN-06 SAPO-34", 74.0, 2.20, 230, 310, 8, 0.03, UNIT_DEGF, "umol/(g*s)", 1.0, ',', 0, 1, 0, 0,
      0, "thermocouple logged in degF", 1, FLAW_NONE},
-    {"ZN-07 H-Y", 55.0, 5.60, 220, 300, 10, 0.04, UNIT_DEGC, "mol/(kg*s)", 1e-3, ',', 0, 0, 0, 1, 0,
+    {"ZN-07 H-Y", 55.0, 5.42, 220, 300, 10, 0.04, UNIT_DEGC, "mol/(kg*s)", 1e-3, ',', 0, 0, 0, 1, 0,
      NULL, 1, FLAW_NONE},
     {"ZN-08 silicalite", 102.0, 0.95, 240, 320, 9, 0.04, UNIT_DEGC, "umol/(g*s)", 1.0, ',', 0, 0, 0,
      0, 0, "low acidity reference", 1, FLAW_NONE},
-    {"ZN-09 beta-desilicated", 67.0, 5.90, 220, 290, 8, 0.06, UNIT_K, "mol/(kg*h)", 3.6, ';', 1, 0,
+    {"ZN-09 beta-desilicated", 67.0, 5.90, 220, 270, 8, 0.06, UNIT_K, "mol/(kg*h)", 3.6, ';', 1, 0,
      0, 0, 0, NULL, 1, FLAW_NONE},
     {"ZN-10 MCM-22", 95.0, 1.10, 245, 325, 9, 0.04, UNIT_DEGC, "umol/(g*s)", 1.0, ',', 0, 0, 0, 0, 0,
      NULL, 1, FLAW_NONE},
@@ -121,7 +130,7 @@ static const sample_spec samples[] = {
 static const sample_spec batch2[] = {
     {"ZN-01 H-beta", 62.0, 3.10 * BATCH2_DRIFT, 230, 310, 9, 0.04, UNIT_DEGC, "umol/(g*s)", 1.0,
      ',', 0, 0, 0, 0, 0, "reference, tested again", 1, FLAW_NONE},
-    {"ZN-03 USY", 47.0, 5.35 * BATCH2_DRIFT, 220, 300, 9, 0.05, UNIT_DEGC, "umol/(g*s)", 1.0, ',',
+    {"ZN-03 USY", 47.0, 4.95 * BATCH2_DRIFT, 220, 300, 9, 0.05, UNIT_DEGC, "umol/(g*s)", 1.0, ',',
      0, 0, 0, 0, 0, "regenerated in air at 500 C, tested again", 1, FLAW_NONE},
     {"ZN-09 beta-desilicated", 67.0, 5.90 * BATCH2_DRIFT * BATCH2_AGED, 220, 290, 8, 0.06, UNIT_K,
      "mol/(kg*h)", 3.6, ',', 0, 0, 0, 0, 0, "after 200 h on stream", 1, FLAW_NONE},
