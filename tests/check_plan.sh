@@ -139,6 +139,37 @@ ok_if "plan: a run sheet inside the campaign folder is refused (exit 2), nothing
     sh -c "[ $st -eq 2 ] && grep -q 'inside the campaign folder' '$T/in.err' &&
            [ ! -e '$DEMO/plan.csv' ] && [ ! -e '$T/in.json' ]"
 
+# The plan's "met already" agrees with rank: two samples of 4 points each
+# (2 degrees of freedom), the leader 8 % ahead at T.  rank's P(best) (Student-t
+# draws) is 0.90 and both share group 1; the normal approximation the plan
+# scores future campaigns with would put it above 0.95 and call the tie
+# settled, planning nothing (it did before the plan took rank's own P(best)).
+"$PY" - "$T/tie" <<'EOF'
+import math, os, sys
+out = sys.argv[1]
+os.makedirs(out)
+open(os.path.join(out, "campaign.ini"), "w").write(
+    "[campaign]\ntitle = two close samples\noperating_temperature = 515 K\nmax_temperature = 560 K\n")
+T, res = [500, 510, 520, 530], [0.03, -0.05, 0.04, -0.02]
+for name, shift, sign in (("A", 0.08, 1), ("B", 0.0, -1)):
+    with open(os.path.join(out, name + ".csv"), "w") as f:
+        f.write("# sample = %s\nT [K],rate [umol/(g*s)]\n" % name)
+        for t, e in zip(T, res):  # Ea 80 kJ/mol, R = 8.314 J/(mol K)
+            f.write("%g,%.6g\n" % (t, math.exp(1.0 + shift - 80e3 / 8.314 * (1 / t - 1 / 515.0)
+                                               + sign * e)))
+EOF
+"$A" rank "$T/tie" --json "$T/tie-rank.json" >/dev/null 2>&1
+"$A" plan "$T/tie" --budget 8 --json "$T/tie-plan.json" >/dev/null 2>&1
+ok_if "plan agrees with rank on a tie rank still shows (P(best) below 0.95, one group)" \
+    "$PY" -c '
+import json, sys
+r = json.load(open(sys.argv[1]))["samples"]
+p = json.load(open(sys.argv[2]))
+lead = min(r, key=lambda s: s["rank"])
+assert 0.5 < lead["p_best"] < 0.95 and {s["group"] for s in r} == {1}, r
+assert p["met_now"] is False and sum(x["repeats"] for x in p["runs"]) == 8, p
+' "$T/tie-rank.json" "$T/tie-plan.json"
+
 # Refusals: one line, exit 2, nothing written.
 refuse() { # NAME PATTERN ARGS...
     rn=$1 rp=$2
