@@ -60,6 +60,7 @@ check("run sheet: order 1..n, coldest first",
       [int(r[0]) for r in rows] == list(range(1, len(rows) + 1)) and
       [float(r[3]) for r in rows] == sorted(float(r[3]) for r in rows))
 EOF
+[ $? -eq 0 ] || echo "not ok plan json and run sheet: the checks ran to the end" >>"$T/py"
 tap_relay "$T/py"
 
 # The demo's promise (issue 17, README "Planning the next runs", "The demo."):
