@@ -199,8 +199,8 @@ typedef struct {
 static void csv_worker(void *ctx, size_t w)
 {
     csv_job *j = ctx;
-    size_t n = j->to - j->from, share = (n + j->workers - 1) / j->workers;
-    size_t lo = j->from + w * share, hi = lo + share < j->to ? lo + share : j->to;
+    size_t lo, hi;
+    arrank_workers_share(j->from, j->to, j->workers, w, &lo, &hi);
     arrank_csv_row *row = j->row[w];
     j->mem[w] = NULL;
     j->len[w] = 0;

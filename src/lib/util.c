@@ -108,6 +108,14 @@ size_t arrank_workers_for(size_t items, size_t min_items_per_worker)
     return w ? w : 1;
 }
 
+void arrank_workers_share(size_t from, size_t to, size_t workers, size_t w, size_t *lo,
+                          size_t *hi)
+{
+    size_t share = (to - from + workers - 1) / workers;
+    *lo = from + w * share < to ? from + w * share : to;
+    *hi = *lo + share < to ? *lo + share : to;
+}
+
 typedef struct {
     void (*fn)(void *ctx, size_t worker);
     void *ctx;

@@ -37,6 +37,12 @@ int arrank_strings_push(char ***arr, size_t *n, char *s);
    at most 8, and at most one per min_items_per_worker items; at least 1. */
 size_t arrank_workers_for(size_t items, size_t min_items_per_worker);
 
+/* Worker w's share [*lo, *hi) of the items from..to-1 cut into `workers`
+   contiguous shares in order (the writers' blocks: json.c, files.c); empty
+   for a worker past the end. */
+void arrank_workers_share(size_t from, size_t to, size_t workers, size_t w, size_t *lo,
+                          size_t *hi);
+
 /* Tests: use n workers wherever there are n items (0: back to the default).
    Results never depend on the number of workers; this lets tests prove it. */
 void arrank_workers_force(int n);
