@@ -397,6 +397,10 @@ static size_t utf8_len(const unsigned char *s)
 static int utf8_ok(const char *s)
 {
     for (const unsigned char *p = (const unsigned char *)s; *p;) {
+        if (*p < 0x80) { /* ASCII, most of what is written: no call */
+            p++;
+            continue;
+        }
         size_t n = utf8_len(p);
         if (!n)
             return 0;

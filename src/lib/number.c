@@ -250,8 +250,9 @@ int arrank_decimal_cell(char *text, char delim, double *value)
  * ulp(x)/2; so the exact value rounds up when f > 0.5, down when f < 0.5, and
  * when f == 0.5 by the sign of e - a true tie (e == 0) going to the even
  * neighbour, as glibc does in the default rounding mode.  Division by 10^p
- * (for %g of large values) uses the exact remainder the same way.  Values out
- * of that range, and non-finite ones, go to snprintf.  test_robust.c compares
+ * (for %g of large values) uses the exact remainder the same way.  Zero is
+ * "0" or "-0" in %g at any precision.  Values out of that range, and
+ * non-finite ones, go to snprintf.  test_robust.c compares
  * the two on millions of values, ties and near-ties among them.
  */
 #define TWO_POW_52 4503599627370496.0 /* 2^52 */
@@ -376,6 +377,8 @@ int arrank_format_general(char *buf, size_t n, int prec, double v)
 {
     if (prec == 0)
         prec = 1; /* C11 7.21.6.1: a precision of zero is taken as 1 */
+    if (v == 0.0 && n >= 3) /* %g writes zero as 0, keeping the sign; no digits to find */
+        return (int)(stpcpy(buf, signbit(v) ? "-0" : "0") - buf);
     double a = fabs(v);
     /* prec <= 15 keeps 10^(prec + 3), the unit of the smallest %f-style value, in 64 bits */
     if (n < 40 || prec < 1 || prec > 15 || !isfinite(v) || v == 0.0 || a < TINY || a > 1e250)
