@@ -197,7 +197,7 @@ expect_eq "--run heat --no-diagnose: the same reason without a diagnosis" \
     "$(grep -c "^ZN-13 Ni-rich Y,.*run 'cool', not 'heat' (--run)" "$T/nd.csv")" 8
 "$A" check "$DEMO" --run heat >"$T/out" 2>/dev/null
 ok_if "--run heat: check names the run of each point left out" \
-    grep -q "left out: line 14, 573.6 K: run 'cool', not 'heat' (--run)" "$T/out"
+    grep -q "left out: line 14, 300.5 degC (573.6 K): run 'cool', not 'heat' (--run)" "$T/out"
 "$A" rank "$DEMO" --at 270C --run fresh 2>"$T/err" >/dev/null; st=$?
 expect_eq "--run fresh: no sample has it, nothing fitted (exit 1)" "$st" 1
 ok_if "--run fresh: the first sample's reason" \

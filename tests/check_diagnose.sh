@@ -27,6 +27,14 @@ ok_if "check: Weisz-Prater number above its limit" \
     grep -q "Weisz-Prater number .* is above" "$T/out"
 ok_if "check: points left out with their reason" \
     grep -q "left out: line .*pore-limited point" "$T/out"
+# ZN-12.csv line 22 reads "320.9,9.279" under "T [degC]": the row as the
+# file wrote it, kelvin beside it (320.9 + 273.15 = 594.05 K)
+ok_if "check: a left-out point's temperature as its file wrote it, K beside it" \
+    grep -q "left out: line 22, 320.9 degC (594.0 K): pore-limited point" "$T/out"
+# ZN-05.csv is written in K ("T [K]"): its cooling points, left out by --run
+"$A" check "$DEMO" --run heat >"$T/run" 2>/dev/null
+ok_if "check: a file in kelvin gives the temperature once" \
+    grep -q "left out: line 15, 613.1 K: run 'cool', not 'heat'" "$T/run"
 ok_if "check: deactivation between heating and cooling ramps" \
     grep -q "run 'cool' is .* below 'heat'.*(deactivation)" "$T/out"
 ok_if "check: conversion above the 10 % limit" \

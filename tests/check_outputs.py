@@ -69,10 +69,10 @@ def stripped(doc):
     return doc
 
 
-def file_temperature_K(path, line_no):
-    """The temperature on physical line line_no of a demo sample file, in K,
-    read here independently of the program: header "T [unit]", separator
-    ',', ';' (decimal commas) or tab."""
+def file_temperature(path, line_no):
+    """The temperature on physical line line_no of a demo sample file as
+    written, and the unit of its header, read here independently of the
+    program: header "T [unit]", separator ',', ';' (decimal commas) or tab."""
     with open(path, encoding="utf-8-sig") as f:
         lines = f.read().split("\n")
     header = next(l for l in lines if l and not l.startswith("#"))
@@ -80,7 +80,12 @@ def file_temperature_K(path, line_no):
     names = header.split(sep)
     col = next(i for i, h in enumerate(names) if h.strip().startswith("T ["))
     unit = names[col].strip()[3:-1]
-    value = float(lines[line_no - 1].split(sep)[col].replace(",", "."))
+    return float(lines[line_no - 1].split(sep)[col].replace(",", ".")), unit
+
+
+def file_temperature_K(path, line_no):
+    """The same temperature in K (273.15 K = 0 degC; degF = 1.8 K + 32 - 459.67)."""
+    value, unit = file_temperature(path, line_no)
     return {"K": value, "degC": value + 273.15, "degF": (value - 32.0) / 1.8 + 273.15}[unit]
 
 
@@ -128,6 +133,15 @@ with tempfile.TemporaryDirectory() as tmp:
         if not math.isclose(float(r["T_K"]), want, rel_tol=1e-9):
             off.append((r["file"], r["line"], r["T_K"], want))
     tap(not off, "points.csv: T_K is the file's temperature in kelvin (K, degC, degF)", off[:5])
+    off, units = [], set()
+    for r in rows:
+        value, unit = file_temperature(os.path.join(DEMO, r["file"]), int(r["line"]))
+        units.add(r["T_file_unit"])
+        if r["T_file"] == "" or float(r["T_file"]) != value or r["T_file_unit"] != unit:
+            off.append((r["file"], r["line"], r["T_file"], r["T_file_unit"], value, unit))
+    tap(not off and len(units) >= 2,
+        "points.csv: T_file and T_file_unit are the temperature and unit as the file wrote them "
+        "(units %s)" % sorted(units), off[:5])
     tap(not numbers_parse(rows), "points.csv: every number parses", numbers_parse(rows)[:5])
     fitted = [r for r in used if r["fitted"]]
     tap(fitted and all(math.isclose(float(r["residual"]),

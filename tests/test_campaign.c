@@ -314,8 +314,35 @@ static void test_same_data_other_units(void **state)
     /* And the values themselves: 0.417 umol/(g*s) = 4.17e-4 mol/(kg*s). */
     check_close(s[0].points[0].rate, 4.17e-4, REL_TOL, "umol/(g*s) -> mol/(kg*s)", UNITS_EXACT);
     check_close(s[0].points[3].temp_K, 544.75, REL_TOL, "degC -> K", UNITS_EXACT);
-    for (size_t i = 0; i < 3; i++)
+    /* The temperature as each file wrote it, and its header's unit as written
+       (points.csv T_file, T_file_unit; check's left-out lines). */
+    static const char *const unit_written[] = {"degC", "K", "degF"};
+    static const double first_written[] = {231.4, 504.55, 448.52}, last_written[] = {
+        271.6, 544.75, 520.88};
+    for (size_t i = 0; i < 3; i++) {
+        assert_non_null(s[i].temp_unit_file);
+        assert_string_equal(s[i].temp_unit_file, unit_written[i]);
+        assert_true(s[i].points[0].temp_file == first_written[i]);
+        assert_true(s[i].points[3].temp_file == last_written[i]);
         arrank_sample_clear(&s[i]);
+    }
+    /* the unit as the header spells it, and a cell the lenient reader leaves
+       out: no number, so no temperature as written either */
+    arrank_sample t;
+    arrank_error err;
+    arrank_read_options lenient = {0};
+    memset(&t, 0, sizeof t);
+    const char *spelled = "Temperature (\xC2\xB0" "C),rate [umol/(g*s)]\n"
+                          "231.4,0.417\nn.d.,0.862\n258.2,1.694\n271.6,3.108\n";
+    assert_int_equal(arrank_sample_parse_with("S12.csv", spelled, strlen(spelled), units, NULL,
+                                              &lenient, &t, &err),
+                     ARRANK_OK);
+    assert_string_equal(t.temp_unit_file, "\xC2\xB0" "C");
+    assert_int_equal(t.n_points, 4);
+    assert_true(t.points[0].temp_file == 231.4);
+    assert_non_null(t.points[1].omitted);
+    assert_true(isnan(t.points[1].temp_file) && isnan(t.points[1].temp_K));
+    arrank_sample_clear(&t);
 }
 
 /* --------------------------------------------------------------- errors */

@@ -59,6 +59,7 @@ static void same_sample(const arrank_sample *a, const arrank_sample *b, const ch
 {
     if (!same_text(a->id, b->id) || !same_text(a->path, b->path) ||
         !same_text(a->file, b->file) || !same_text(a->rate_unit_file, b->rate_unit_file) ||
+        !same_text(a->temp_unit_file, b->temp_unit_file) ||
         a->basis != b->basis || a->rates_derived != b->rates_derived)
         fail_msg("%s: id, path, file, rate unit, basis or derived flag differ", where);
     if (!same_text(a->problem, b->problem) || a->problem_line != b->problem_line)
@@ -71,7 +72,7 @@ static void same_sample(const arrank_sample *a, const arrank_sample *b, const ch
         if (!same_bits(p->temp_K, q->temp_K) || !same_bits(p->rate, q->rate) ||
             !same_bits(p->rate_sd, q->rate_sd) || !same_bits(p->conversion, q->conversion) ||
             !same_bits(p->time_on_stream_s, q->time_on_stream_s) || p->run != q->run ||
-            p->line != q->line)
+            p->line != q->line || !same_bits(p->temp_file, q->temp_file))
             fail_msg("%s: point %zu differs", where, i);
     }
     same_list(a->runs, a->n_runs, b->runs, b->n_runs, "runs", where);

@@ -42,6 +42,9 @@ typedef struct {
        values that could be read (NAN for the others); the analysis never fits
        it.  Owned by the sample. */
     char *omitted;
+    /* the temperature as the file wrote it, in sample.temp_unit_file (NAN
+       when the cell held no number); temp_K is it converted */
+    double temp_file;
 } arrank_point;
 
 /* A metadata entry: "# key = value" in the file or a [sample ID] key in campaign.ini. */
@@ -61,6 +64,7 @@ typedef struct {
     char *file;           /* base name of the CSV */
     arrank_basis basis;   /* from the rate unit's dimension */
     char *rate_unit_file; /* rate unit as written in the file's header */
+    char *temp_unit_file; /* temperature unit as written there, e.g. "degC" */
     arrank_point *points; /* in file order */
     size_t n_points;
     char **runs; /* distinct run labels in order of first appearance */

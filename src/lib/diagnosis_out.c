@@ -321,9 +321,12 @@ static int put_shown(FILE *f, const char *lead, const char *text)
 }
 
 /* One point left out of the fit: its line, its temperature ("\u2014" when the
-   reader could not read one) and why: the reader's reason when it left the
-   point out (arrank_point.omitted), else the diagnosis's.  1 on a write error. */
-static int left_out_line(FILE *f, const arrank_point *p, const arrank_point_diag *pd)
+   reader could not read one) as the file wrote it with kelvin beside it, so
+   the row can be found in the file, and why: the reader's reason when it
+   left the point out (arrank_point.omitted), else the diagnosis's.  1 on a
+   write error. */
+static int left_out_line(FILE *f, const arrank_sample *s, const arrank_point *p,
+                         const arrank_point_diag *pd)
 {
     const char *why = p->omitted      ? p->omitted
                       : pd->reason    ? pd->reason
@@ -331,7 +334,12 @@ static int left_out_line(FILE *f, const arrank_point *p, const arrank_point_diag
     char *own;
     const char *text = shown(why, &own);
     int bad;
-    if (isfinite(p->temp_K))
+    const char *u = s->temp_unit_file;
+    if (isfinite(p->temp_K) && isfinite(p->temp_file) && u && strcmp(u, "K") != 0 &&
+        arrank_text_is_clean(u))
+        bad = fprintf(f, "  left out: line %ld, %.15g %s (%.1f K): %s\n", p->line, p->temp_file,
+                      u, p->temp_K, text) < 0;
+    else if (isfinite(p->temp_K))
         bad = fprintf(f, "  left out: line %ld, %.1f K: %s\n", p->line, p->temp_K, text) < 0;
     else
         bad = fprintf(f, "  left out: line %ld, \xE2\x80\x94: %s\n", p->line, text) < 0;
@@ -376,7 +384,7 @@ static arrank_status diagnosis_write_text_in_c(FILE *f, const arrank_result *res
         basic_problems(f, res, &bad);
         for (size_t i = 0; i < s->n_points; i++)
             if (!res->used[i])
-                bad |= left_out_line(f, &s->points[i], &d->points[i]);
+                bad |= left_out_line(f, s, &s->points[i], &d->points[i]);
         if (n_out == 0 && n_problems > 0)
             bad |= fprintf(f, "  every point is in the fit\n") < 0;
         for (size_t k = 0; k < d->n_notes; k++)

@@ -9,8 +9,8 @@
  * fitted ln r at the point's temperature, ln of the report unit), residual
  * (ln rate - fitted), reason (why the point is left out: the reader's reason
  * for a point it could not use, else the diagnosis's; empty when used).
- * T_file and T_file_unit stay empty until the reader keeps the temperature
- * as the file wrote it.
+ * T_file and T_file_unit are the temperature as the file wrote it and the
+ * unit of its header (arrank_point.temp_file, arrank_sample.temp_unit_file).
  */
 #include "points.h"
 
@@ -58,8 +58,8 @@ static void write_point(const arrank_analysis *a, const arrank_result *res, size
     arrank_files_csv_field(row, s->file, 0);
     arrank_files_csv_num(row, (double)p->line, 0);
     arrank_files_csv_num(row, p->temp_K, 0);
-    arrank_files_csv_field(row, "", 0); /* T_file: see the top of this file */
-    arrank_files_csv_field(row, "", 0); /* T_file_unit */
+    arrank_files_csv_num(row, p->temp_file, 0);
+    arrank_files_csv_field(row, s->temp_unit_file ? s->temp_unit_file : "", 0);
     arrank_files_csv_num(row, p->rate, 0);
     arrank_files_csv_num(row, p->rate_sd, 0);
     arrank_files_csv_num(row, p->conversion, 0);

@@ -369,6 +369,8 @@ static void header_main_columns(parser *p)
             const char *u = required_unit(p, i, NULL);
             if (u && arrank_units_temperature(p->units, u, &c->conv, &uerr) != ARRANK_OK)
                 unit_fail(p, i, &uerr);
+            else if (u && !(s->temp_unit_file = strdup(u)))
+                nomem(p);
             break;
         }
         case COL_RATE:
@@ -432,6 +434,7 @@ static void header_done(parser *p)
 static void start_point(parser *p)
 {
     p->point.temp_K = NAN;
+    p->point.temp_file = NAN;
     p->point.rate = NAN;
     p->point.rate_sd = NAN;
     p->point.conversion = NAN;
@@ -622,6 +625,8 @@ static void data_field(parser *p, char *text)
     if (!cell_number(p, c, colno, cell, shown, &v))
         return;
     double conv = c->conv.scale * v + c->conv.offset;
+    if (c->kind == COL_TEMP)
+        p->point.temp_file = v; /* as written, whether or not it is usable */
     if (!value_ok(c->kind, conv) && shown[0] == '\0')
         copy_cut(shown, SHOWN_MAX, cell); /* the fast read left the cell as written */
     store_value(p, c, colno, conv, shown);
@@ -872,6 +877,7 @@ void arrank_sample_clear(arrank_sample *sample)
     free(sample->path);
     free(sample->file);
     free(sample->rate_unit_file);
+    free(sample->temp_unit_file);
     for (size_t i = 0; i < sample->n_points; i++)
         free(sample->points[i].omitted);
     free(sample->points);
