@@ -8,7 +8,8 @@
 # column, the same whatever COLUMNS says.  The same for the reference's
 # block under rank's table (the two demo campaigns), compare's table (with
 # and without --reference) and plan's table (README "Comparing two
-# campaigns", "The reference catalyst", "Planning the next runs").
+# campaigns", "The reference catalyst", "Planning the next runs"), and the
+# report of `check`, wrapped with its items indented.
 # Prints TAP.
 # Env: ARRANK (program).
 set -u
@@ -271,4 +272,25 @@ ok_if "plan --wide: the table as piped" sh -c \
     "'$A' $PLAN 2>/dev/null | cmp -s - '$T/planwide'"
 # shellcheck disable=SC2086
 ok_piped "plan" "$T/plan" $PLAN
+
+# check: the report wrapped to the terminal, each item's continuation lines
+# indented four columns past it; the same words as piped, where each item
+# is one line
+NO_COLOR=1 on_term 80 "$T/check" "$A" check "$DEMO"
+w=$(widest "$T/check")
+ok_if "check on 80 columns: no line over 80 ($w)" test "$w" -le 80
+"$A" check "$DEMO" >"$T/check-piped" 2>/dev/null
+ok_if "check piped: items longer than 80 columns, one line each" \
+    test "$(widest "$T/check-piped")" -gt 200
+ok_if "check on 80 columns: the same words as piped" "$PY" -c '
+import sys
+a, b = (open(f, encoding="utf-8").read().split() for f in sys.argv[1:3])
+sys.exit(a != b)' "$T/check" "$T/check-piped"
+ok_if "check on 80 columns: an item continued four columns in" \
+    grep -A1 "^  left out: line 22, 320.9 degC (594.0 K): pore-limited point" "$T/check" \
+    | sed -n 2p | grep -q "^      [a-z]"
+NO_COLOR=1 on_term 80 "$T/checkwide" "$A" check "$DEMO" --wide
+ok_if "check --wide on a terminal: one line per item, as piped" \
+    cmp -s "$T/checkwide" "$T/check-piped"
+ok_piped "check" "$T/check" check "$DEMO"
 tap_plan

@@ -9,6 +9,7 @@
  * status is 0 whenever the campaign could be read and analysed.
  */
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "arrank/cautions.h"
@@ -17,6 +18,7 @@
 #include "arrank/output.h"
 #include "arrank/plot.h"
 #include "arrank/text.h"
+#include "arrank/textfit.h"
 #include "cli.h"
 
 static const char usage[] =
@@ -62,6 +64,9 @@ static const char usage[] =
     "                      skipped, that point left out, each named on stderr)\n"
     "  --no-merge          two files with one sample id are an error (default: one\n"
     "                      sample, each file a run; a byte-identical copy unused)\n"
+    "  --wide              on a terminal, one line per item however long (the\n"
+    "                      report is wrapped to the terminal's width otherwise;\n"
+    "                      piped, it is one line per item)\n"
     "\n"
     "Fitted kinetics are apparent and hold only within the tested conditions;\n"
     "do not use them for reactor design or safety limits.\n"
@@ -69,6 +74,47 @@ static const char usage[] =
     "Exit status: 0 the campaign was checked (problems found or not), 1 bad input\n"
     "data, 2 usage, 3 a file could not be read or written, 4 gnuplot failed on a\n"
     "figure, 5 gnuplot not found (--out; nothing is written then).\n";
+
+/*
+ * Where the report goes: straight to the stream when it is piped (width 0:
+ * one line per item, for grep), else into memory a sample at a time and
+ * onto the terminal wrapped at its width, each item's continuation lines
+ * indented HANG columns past the item (README "The table on a terminal").
+ */
+#define HANG 4
+
+typedef struct {
+    FILE *out;    /* the stream the report is for */
+    FILE *w;      /* where it is written: out, or memory */
+    char *buf;    /* the memory */
+    size_t len;
+    size_t width; /* the terminal's columns; 0 piped */
+} report_sink;
+
+static int sink_open(report_sink *k)
+{
+    k->buf = NULL;
+    k->len = 0;
+    k->w = k->width ? open_memstream(&k->buf, &k->len) : k->out;
+    return k->w ? 0 : -1;
+}
+
+/* What was written since the sink was opened, onto out; the sink reopened
+   when again.  0, or -1 on a write error or out of memory. */
+static int sink_flush(report_sink *k, int again)
+{
+    if (!k->width)
+        return 0;
+    int bad = fclose(k->w) != 0;
+    k->w = NULL;
+    if (!bad)
+        bad = arrank_textfit_write(k->out, k->buf, k->width, HANG) != 0;
+    free(k->buf);
+    k->buf = NULL;
+    if (!bad && again)
+        bad = sink_open(k) != 0;
+    return bad ? -1 : 0;
+}
 
 /* --out DIR: the per-sample figures of the checks, staged with the run's
    other outputs (stage.c: all or nothing).  -1 or an exit status (printed). */
@@ -100,7 +146,7 @@ int cmd_check(int argc, char **argv)
     cli_args args;
     int rc = cli_parse(argc, argv,
                        OPT_AT | OPT_DIAGNOSE | OPT_CONFIDENCE | OPT_OUTPUTS | OPT_OUT_DIR |
-                           OPT_FORMAT,
+                           OPT_FORMAT | OPT_TABLE,
                        usage, &args);
     if (rc != -1)
         return rc;
@@ -124,7 +170,13 @@ int cmd_check(int argc, char **argv)
     const arrank_analysis *a = s.analysis;
     int to_stdout = cli_outputs_to_stdout(&args);
     arrank_status st = ARRANK_OK;
-    FILE *out = to_stdout ? stderr : stdout;
+    /* the terminal's width as rank's table takes it; none when the report
+       goes to stderr because the outputs take stdout */
+    report_sink sink = {to_stdout ? stderr : stdout, NULL, NULL, 0,
+                     to_stdout ? 0 : cli_table_options(&args).width};
+    if (sink_open(&sink) != 0)
+        st = arrank_errorf(&err, ARRANK_ENOMEM, "out of memory writing the report");
+    FILE *out = sink.w;
     size_t with_problems = 0;
     char title[512]; /* from campaign.ini or the folder's name: escaped for the terminal */
     arrank_text_escape(a->campaign->title, title, sizeof title);
@@ -134,14 +186,17 @@ int cmd_check(int argc, char **argv)
         arrank_text_escape(args.options.run, label, sizeof label);
         snprintf(run, sizeof run, "; only run '%s' of each sample (--run)", label);
     }
-    if (fprintf(out, "campaign '%s': %zu sample%s checked%s\n\n", title, a->n_results,
-                a->n_results == 1 ? "" : "s", run) < 0)
+    if (st == ARRANK_OK && fprintf(out, "campaign '%s': %zu sample%s checked%s\n\n", title,
+                                   a->n_results, a->n_results == 1 ? "" : "s", run) < 0)
         st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
     for (size_t i = 0; st == ARRANK_OK && i < a->n_results; i++) {
         const arrank_result *r = &a->results[i];
         st = arrank_diagnosis_write_text(out, r, &err);
         if (st == ARRANK_OK && fputc('\n', out) == EOF)
             st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
+        if (st == ARRANK_OK && sink_flush(&sink, 1) != 0)
+            st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
+        out = sink.w;
         if (r->error || (r->diagnosis && r->diagnosis->n_findings > 0) ||
             (r->flags & ~(unsigned)ARRANK_FLAG_EXCLUDED))
             with_problems++;
@@ -173,7 +228,13 @@ int cmd_check(int argc, char **argv)
             st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
     }
     arrank_cautions_free(cautions, n_cautions);
-    if (st == ARRANK_OK && fflush(out) != 0)
+    if (st == ARRANK_OK && sink_flush(&sink, 0) != 0)
+        st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
+    if (sink.width && sink.w) { /* an error above left the memory open */
+        fclose(sink.w);
+        free(sink.buf);
+    }
+    if (st == ARRANK_OK && fflush(sink.out) != 0)
         st = arrank_errorf(&err, ARRANK_EIO, "cannot write the report");
     if (st != ARRANK_OK) {
         cli_print_error(&err);

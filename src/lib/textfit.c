@@ -52,18 +52,19 @@ size_t arrank_textfit_chunk(const char **rest, size_t width, int at_commas)
     return end;
 }
 
-static void reflow_with(FILE *f, const char *text, size_t width, int at_commas)
+/* 0, or -1 when out of memory (the rest of text is not written). */
+static int reflow_with(FILE *f, const char *text, size_t width, int at_commas, size_t hang)
 {
     while (*text) {
         size_t len = strcspn(text, "\n");
         char *line = malloc(len + 1);
         if (!line)
-            return;
+            return -1;
         memcpy(line, text, len);
         line[len] = '\0';
         text += len + (text[len] == '\n');
         const char *rest = line;
-        size_t indent = strspn(line, " ");
+        size_t indent = strspn(line, " ") + hang;
         if (width && indent > width / 2)
             indent = width / 2;
         size_t w = width;
@@ -78,16 +79,24 @@ static void reflow_with(FILE *f, const char *text, size_t width, int at_commas)
         } while (*rest);
         free(line);
     }
+    return 0;
 }
 
 void arrank_textfit_reflow(FILE *f, const char *text, size_t width)
 {
-    reflow_with(f, text, width, 0);
+    (void)reflow_with(f, text, width, 0, 0);
 }
 
 void arrank_textfit_reflow_list(FILE *f, const char *text, size_t width)
 {
-    reflow_with(f, text, width, 1);
+    (void)reflow_with(f, text, width, 1, 0);
+}
+
+int arrank_textfit_write(FILE *f, const char *text, size_t width, size_t hang)
+{
+    if (width == 0)
+        return fputs(text, f) < 0 ? -1 : 0;
+    return reflow_with(f, text, width, 0, hang) != 0 || ferror(f) ? -1 : 0;
 }
 
 /* ---- layout -------------------------------------------------------------- */
