@@ -397,6 +397,27 @@ ok_if "--size 700x500: SVG 700 px wide" grep -q 'width="700" height="500"' "$T/w
 "$A" plot "$DEMO" --at 270C --size huge --out "$T/huge" >/dev/null 2>"$T/huge.err"
 expect_eq "--size huge: exit 2" "$?" 2
 ok_if "--size huge: says what is known" grep -q "^arrank: --size 'huge' is not known; use slide, page, square or WxH" "$T/huge.err"
+# --size for every figure a command draws: compare's paired figure, plan's
+# figure and check's per-sample figures, on the canvas asked for; a size not
+# known is a usage error before anything is read (the folder does not exist)
+"$A" compare "$DEMO" campaigns/zeolite-ni-batch2 --at 270C --size slide --out "$T/cmp-slide" \
+    >/dev/null 2>&1
+ok_if "compare --size slide: compare.svg 1280 x 720" \
+    grep -q 'width="1280" height="720"' "$T/cmp-slide/compare.svg"
+"$A" plan "$DEMO" --max-temperature 300C --budget 24 --size square --out "$T/plan-sq" \
+    >/dev/null 2>&1
+ok_if "plan --size square: plan.svg 900 x 900" \
+    grep -q 'width="900" height="900"' "$T/plan-sq/plan.svg"
+"$A" check "$DEMO" --size 700x500 --out "$T/check-wxh" >/dev/null 2>&1
+ok_if "check --out --size 700x500: its figures 700 px wide" \
+    grep -q 'width="700" ' "$T/check-wxh/diagnostics-01-ZN-01_H-beta.svg"
+for cmd in "compare $T/none-a $T/none-b" "plan $T/none" "check $T/none"; do
+    # shellcheck disable=SC2086
+    "$A" $cmd --size huge >/dev/null 2>"$T/huge.err"
+    expect_eq "${cmd%% *} --size huge: exit 2" "$?" 2
+    ok_if "${cmd%% *} --size huge: the size named, not the missing folder" \
+        grep -q "^arrank: --size 'huge' is not known" "$T/huge.err"
+done
 
 # A rate at T below the axis floor (1e-300) on its own: the axis stays
 # positive and finite (the pipeline fuzzer found x_hi = 0 from lo * hi

@@ -43,8 +43,9 @@ enum {
     OPT_PLAN = 1u << 13,      /* --budget, --goal, --target, --width, --step, --reach,
                                  --max-temperature, --simulations, --bend, --sample,
                                  --run-sheet */
-    OPT_FIGURES = 1u << 14,   /* --show N|all|ID,ID, --size slide|page|square|WxH */
+    OPT_FIGURES = 1u << 14,   /* --show N|all|ID,ID */
     OPT_SEED = 1u << 15,      /* --seed N */
+    OPT_SIZE = 1u << 16,      /* --size slide|page|square|WxH: every command that draws */
     OPT_STATS = OPT_SEED | OPT_DRAWS
 };
 

@@ -59,6 +59,8 @@ static const char usage[] =
     "                      time-on-stream-NN[-ID].EXT (rate against time on stream\n"
     "                      with the drift test's fitted line and its interval)\n"
     "  --format F          svg (default), png or pdf for --out; repeat for more\n"
+    "  --size S            their canvas: slide (1280x720), page (960x720, default),\n"
+    "                      square (900x900) or WxH in px\n"
     "  --strict            all or nothing: a file that cannot be read or a cell that\n"
     "                      is not a number stops the run (default: that file is\n"
     "                      skipped, that point left out, each named on stderr)\n"
@@ -130,6 +132,7 @@ static int draw_figures(const cli_args *args, const cli_session *s, arrank_plot_
         return rc;
     arrank_plot_options po = arrank_plot_defaults();
     po.formats = cli_plot_formats(args);
+    (void)cli_figure_options(args, &po); /* --size, checked in cmd_check */
     po.kinds = 1u << ARRANK_FIGURE_DIAGNOSTICS | 1u << ARRANK_FIGURE_TIME_ON_STREAM;
     arrank_error err;
     arrank_error_clear(&err);
@@ -146,9 +149,12 @@ int cmd_check(int argc, char **argv)
     cli_args args;
     int rc = cli_parse(argc, argv,
                        OPT_AT | OPT_DIAGNOSE | OPT_CONFIDENCE | OPT_OUTPUTS | OPT_OUT_DIR |
-                           OPT_FORMAT | OPT_TABLE,
+                           OPT_FORMAT | OPT_SIZE | OPT_TABLE,
                        usage, &args);
     if (rc != -1)
+        return rc;
+    arrank_plot_options figure = arrank_plot_defaults(); /* --size checked before reading */
+    if ((rc = cli_figure_options(&args, &figure)) != -1)
         return rc;
     if (!args.options.diagnose) {
         cli_fail("check: --no-diagnose leaves nothing to check; see 'arrank check --help'");

@@ -34,6 +34,8 @@ static const char usage[] =
     "                      report: table and figure on one page), compare.json and\n"
     "                      compare.csv beside it\n"
     "  --format svg|png|pdf  figure format, repeatable (default svg)\n"
+    "  --size S            figure canvas: slide (1280x720), page (960x720, default),\n"
+    "                      square (900x900) or WxH in px\n"
     "  --wide              on a terminal, every column of the table however wide\n"
     "  --reference ID      a reference catalyst tested in both: each rate is first\n"
     "                      taken relative to its own campaign's reference (the\n"
@@ -100,7 +102,10 @@ static int write_outputs(const cli_args *args, const cli_session *sa, const cli_
                 return cli_exit_status(st, &err);
             }
         }
-        arrank_status st = arrank_compare_plot(cmp, priv, cli_plot_formats(args), NULL, &err);
+        arrank_plot_options po = arrank_plot_defaults();
+        po.formats = cli_plot_formats(args);
+        (void)cli_figure_options(args, &po); /* --size, checked in cmd_compare */
+        arrank_status st = arrank_compare_plot(cmp, priv, &po, &err);
         /* the report page, with the SVG inline when one was drawn */
         char svg[4200];
         snprintf(svg, sizeof svg, "%s/compare.svg", priv);
@@ -150,9 +155,12 @@ int cmd_compare(int argc, char **argv)
     cli_args args;
     int rc = cli_parse(argc, argv,
                        OPT_MULTI | OPT_REFERENCE | OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_DIAGNOSE |
-                           OPT_MODEL | OPT_OUT_DIR | OPT_FORMAT | OPT_TABLE,
+                           OPT_MODEL | OPT_OUT_DIR | OPT_FORMAT | OPT_SIZE | OPT_TABLE,
                        usage, &args);
     if (rc != -1)
+        return rc;
+    arrank_plot_options po = arrank_plot_defaults(); /* --size checked before any reading */
+    if ((rc = cli_figure_options(&args, &po)) != -1)
         return rc;
     if (args.n_campaigns != 2) {
         cli_fail("compare: give two campaign folders (CAMP_A CAMP_B), got %zu; see 'arrank "

@@ -57,6 +57,8 @@ static const char usage[] =
     "  --out DIR              draw plan.svg (the planned runs on the Arrhenius plot)\n"
     "                         into DIR\n"
     "  --format F             svg (default), png or pdf for the figure; repeatable\n"
+    "  --size S               its canvas: slide (1280x720), page (960x720, default),\n"
+    "                         square (900x900) or WxH in px\n"
     "  --wide                 on a terminal, every column of the table however wide\n"
     "  --confidence C, --use-all, --drop-outliers, --conversion-limit X,\n"
     "  --no-diagnose, --run LABEL, --strict, --no-merge, --extrapolate\n"
@@ -271,6 +273,7 @@ static int outputs(const cli_args *args, const cli_session *s, const arrank_plan
         if (rc == -1) {
             arrank_plot_options po = arrank_plot_defaults();
             po.formats = cli_plot_formats(args);
+            (void)cli_figure_options(args, &po); /* --size, checked in cmd_plan */
             arrank_status st = arrank_plot_plan(s->analysis, p, priv, &po, NULL, &err);
             if (st != ARRANK_OK) {
                 cli_print_error(&err);
@@ -309,9 +312,12 @@ int cmd_plan(int argc, char **argv)
     cli_args args;
     int rc = cli_parse(argc, argv,
                        OPT_AT | OPT_OUTPUTS | OPT_CONFIDENCE | OPT_DIAGNOSE | OPT_SEED |
-                           OPT_OUT_DIR | OPT_FORMAT | OPT_PLAN | OPT_TABLE,
+                           OPT_OUT_DIR | OPT_FORMAT | OPT_SIZE | OPT_PLAN | OPT_TABLE,
                        usage, &args);
     if (rc != -1)
+        return rc;
+    arrank_plot_options figure = arrank_plot_defaults(); /* --size checked before reading */
+    if ((rc = cli_figure_options(&args, &figure)) != -1)
         return rc;
     arrank_plan_options po;
     if ((rc = plan_options(&args, &po)) != -1)

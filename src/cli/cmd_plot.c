@@ -125,7 +125,7 @@ int cmd_plot(int argc, char **argv)
     int rc = cli_parse(argc, argv,
                        OPT_REFERENCE | OPT_MULTI | OPT_AT | OPT_CONFIDENCE | OPT_BY |
                            OPT_DIAGNOSE | OPT_MODEL | OPT_STATS | OPT_OUT_DIR | OPT_FORMAT |
-                           OPT_FIGURES,
+                           OPT_FIGURES | OPT_SIZE,
                        usage, &args);
     if (rc != -1)
         return rc;

@@ -92,7 +92,8 @@ int cmd_report(int argc, char **argv)
     cli_args args;
     int rc = cli_parse(argc, argv,
                        OPT_REFERENCE | OPT_MULTI | OPT_AT | OPT_CONFIDENCE | OPT_BY |
-                           OPT_DIAGNOSE | OPT_MODEL | OPT_STATS | OPT_OUT_DIR | OPT_FIGURES,
+                           OPT_DIAGNOSE | OPT_MODEL | OPT_STATS | OPT_OUT_DIR | OPT_FIGURES |
+                           OPT_SIZE,
                        usage, &args);
     if (rc != -1)
         return rc;

@@ -63,7 +63,7 @@ static const option_spec option_table[] = {
     {"--sample", OPT_PLAN, 1},
     {"--run-sheet", OPT_PLAN, 1},
     {"--show", OPT_FIGURES, 1},
-    {"--size", OPT_FIGURES, 1},
+    {"--size", OPT_SIZE, 1},
 };
 
 const char *const cli_plan_option_names[9] = {"--budget", "--goal",  "--target",

@@ -251,9 +251,10 @@ static void put_figure(script *s, const arrank_comparison *c, cmp_layout *L, uns
     fputs("unset output\n", s->f);
 }
 
-static arrank_status script_in_c(const arrank_comparison *c, unsigned formats, FILE *f,
-                                 arrank_error *err)
+static arrank_status script_in_c(const arrank_comparison *c, const arrank_plot_options *o,
+                                 FILE *f, arrank_error *err)
 {
+    unsigned formats = o->formats;
     cmp_layout L;
     memset(&L, 0, sizeof L);
     L.rows = malloc((c->n_rows ? c->n_rows : 1) * sizeof *L.rows);
@@ -277,7 +278,7 @@ static arrank_status script_in_c(const arrank_comparison *c, unsigned formats, F
     L.lo = lo * exp(-spare);
     L.hi = hi * exp(spare);
     script s;
-    arrank_plot_script_init(&s, c->a, f, 960, 720);
+    arrank_plot_script_init(&s, c->a, f, o->width_px, o->height_px);
     char sub[600];
     snprintf(sub, sizeof sub, "%.280s → %.280s", campaign_words(c->a), campaign_words(c->b));
     s.title = sub;
@@ -293,12 +294,14 @@ static arrank_status script_in_c(const arrank_comparison *c, unsigned formats, F
     return ferror(f) ? arrank_errorf(err, ARRANK_EIO, "write failed") : ARRANK_OK;
 }
 
-arrank_status arrank_compare_plot_script(const arrank_comparison *c, unsigned formats, FILE *f,
+arrank_status arrank_compare_plot_script(const arrank_comparison *c,
+                                         const arrank_plot_options *opt, FILE *f,
                                          arrank_error *err)
 {
+    arrank_plot_options o = opt ? *opt : arrank_plot_defaults();
     arrank_numbers_env env;
     arrank_numbers_c_enter(&env);
-    arrank_status st = script_in_c(c, formats, f, err);
+    arrank_status st = script_in_c(c, &o, f, err);
     arrank_numbers_c_leave(&env);
     return st;
 }
@@ -321,19 +324,20 @@ static void remove_private(const char *priv)
 
 /* gnuplot writes into a private folder made by mkdtemp inside dir; the
    figures are renamed into dir when it has finished without error. */
-static arrank_status plot_in_c(const arrank_comparison *c, const char *dir, unsigned formats,
-                               const char *program, arrank_error *err)
+static arrank_status plot_in_c(const arrank_comparison *c, const char *dir,
+                               const arrank_plot_options *o, arrank_error *err)
 {
+    unsigned formats = o->formats;
     char *gp = NULL, *text = NULL, priv[4096], from[4200], to[4200];
     size_t len = 0;
     if (snprintf(priv, sizeof priv, "%s/.arrank-compare.XXXXXX", dir) >= (int)sizeof priv)
         return arrank_errorf(err, ARRANK_EINVAL, "output folder path too long");
-    arrank_status st = arrank_plot_find_gnuplot(program, &gp, err);
+    arrank_status st = arrank_plot_find_gnuplot(o->gnuplot, &gp, err);
     FILE *mem = st == ARRANK_OK ? open_memstream(&text, &len) : NULL;
     if (st == ARRANK_OK && !mem)
         st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     if (mem) {
-        st = script_in_c(c, formats, mem, err);
+        st = script_in_c(c, o, mem, err);
         fputs("exit\n", mem);
         if (fclose(mem) != 0 && st == ARRANK_OK)
             st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
@@ -373,12 +377,13 @@ static arrank_status plot_in_c(const arrank_comparison *c, const char *dir, unsi
     return st;
 }
 
-arrank_status arrank_compare_plot(const arrank_comparison *c, const char *dir, unsigned formats,
-                                  const char *program, arrank_error *err)
+arrank_status arrank_compare_plot(const arrank_comparison *c, const char *dir,
+                                  const arrank_plot_options *opt, arrank_error *err)
 {
+    arrank_plot_options o = opt ? *opt : arrank_plot_defaults();
     arrank_numbers_env env;
     arrank_numbers_c_enter(&env);
-    arrank_status st = plot_in_c(c, dir, formats, program, err);
+    arrank_status st = plot_in_c(c, dir, &o, err);
     arrank_numbers_c_leave(&env);
     return st;
 }
