@@ -743,6 +743,13 @@ static void test_repeats_and_drift(void **state)
     assert_int_equal(o.d->n_runs, 1);
     assert_string_equal(o.d->runs[0].label, "pass 2");
     assert_true(o.res->flags & ARRANK_FLAG_DEACTIVATION);
+    /* one repeated point: "1 point", not "1 points" */
+    assert_int_equal(o.d->runs[0].n_pairs, 1);
+    assert_true(o.d->n_findings >= 1);
+    int said = 0;
+    for (size_t k = 0; k < o.d->n_findings; k++)
+        said |= strstr(o.d->findings[k], "(reference line, 1 point, t = ") != NULL;
+    assert_true(said);
     one_free(&o);
 
     /* drift: 1.5 %/h loss over 10 h, temperatures in shuffled order */

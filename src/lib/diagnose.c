@@ -493,8 +493,10 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
                  strncmp(rs->label, "pass ", 5) == 0 ? "repeat" : "run", rs->label,
                  100.0 * fabs(rs->change), rs->change < 0 ? "below" : "above", rs->label_ref,
                  rs->method, rs->n_pairs,
-                 strcmp(rs->method, "paired") == 0 ? "common temperatures" : "points", rs->t,
-                 rs->p);
+                 strcmp(rs->method, "paired") == 0
+                     ? (rs->n_pairs == 1 ? "common temperature" : "common temperatures")
+                     : (rs->n_pairs == 1 ? "point" : "points"),
+                 rs->t, rs->p);
         if (rs->verdict < 0)
             arrank_dwork_finding(wk, "%s: the catalyst lost activity during the measurements (deactivation)",
                     what);
