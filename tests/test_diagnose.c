@@ -752,6 +752,36 @@ static void test_repeats_and_drift(void **state)
     assert_true(said);
     one_free(&o);
 
+    /* a ramp, then a hold at 520 K losing 3 % a step (made-up numbers): each
+       return to 520 K is a repeat, and the ten that fell are said in one
+       line, not ten; the two that did not, one by one */
+    data dh = {0};
+    const double ramp[7] = {490, 500, 510, 520, 530, 540, 550};
+    for (size_t i = 0; i < 7; i++) {
+        dh.T_K[dh.n] = ramp[i];
+        dh.rate[dh.n++] = k_kin(ramp[i], 98000.0, 1.0, 520.0) * (1.0 + 0.01 * (double)(i % 2));
+    }
+    for (size_t k = 0; k < 12; k++) {
+        dh.T_K[dh.n] = 520.0;
+        dh.rate[dh.n++] = (k < 2 ? 1.0 : exp(-0.03 * (double)k)) *
+                          (1.0 + 0.005 * ((double)(k % 3) - 1.0));
+    }
+    o = run_one(&dh, &opt);
+    print_findings(o.res);
+    int one_line = 0, by_one = 0, kept = 0;
+    for (size_t k = 0; k < o.d->n_findings; k++) {
+        one_line += strstr(o.d->findings[k], "repeats of passes 4-13 (10 of 12 repeats) are ") !=
+                    NULL;
+        by_one += strncmp(o.d->findings[k], "repeat 'pass ", 13) == 0;
+    }
+    for (size_t k = 0; k < o.d->n_notes; k++)
+        kept += strncmp(o.d->notes[k], "repeat 'pass ", 13) == 0;
+    assert_int_equal(o.d->n_runs, 12);
+    assert_int_equal(one_line, 1);
+    assert_int_equal(by_one, 0);
+    assert_int_equal(kept, 2);
+    one_free(&o);
+
     /* drift: 1.5 %/h loss over 10 h, temperatures in shuffled order */
     gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
     gsl_rng_set(rng, 31337);
