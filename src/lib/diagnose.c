@@ -450,87 +450,6 @@ static void describe_curvature(arrank_dwork *wk, const size_t *sorted, size_t n)
 }
 
 /* Every conclusion in plain words, in a fixed order; f is the final fit. */
-/* A repeat of a temperature measured before ("pass N", quality.c), not a run
-   label of the file. */
-static int is_repeat(const arrank_run_shift *rs)
-{
-    return strncmp(rs->label, "pass ", 5) == 0;
-}
-
-/* Repeats of one verdict said one by one up to this many; more in one line. */
-#define REPEAT_LINES_MAX 2
-
-/*
- * The repeats of verdict v (-1 lower, +1 higher, 0 no shift shown) in one
- * line when there are more than REPEAT_LINES_MAX of them against one earlier
- * pass by one method: a temperature measured again between every step, or a
- * hold at one temperature, makes a repeat of every return, and a line for
- * each buries the rest of the report.  The line gives the pass numbers as
- * ranges, how many of the repeats they are, the range of the changes and of
- * the p-values; each repeat stays in the JSON's runs.  1 when said so.
- */
-static int say_repeats(arrank_dwork *wk, const arrank_diagnosis *d, int v, const char *family)
-{
-    const arrank_run_shift *first = NULL;
-    size_t n = 0, all = 0;
-    double lo = INFINITY, hi = 0, p_lo = INFINITY, p_hi = 0;
-    for (size_t j = 0; j < d->n_runs; j++) {
-        const arrank_run_shift *rs = &d->runs[j];
-        if (!isfinite(rs->shift_ln) || !is_repeat(rs))
-            continue;
-        all++;
-        if (rs->verdict != v)
-            continue;
-        if (first && (strcmp(rs->label_ref, first->label_ref) != 0 ||
-                      strcmp(rs->method, first->method) != 0))
-            return 0; /* against different passes: one by one */
-        first = first ? first : rs;
-        n++;
-        lo = fmin(lo, 100.0 * fabs(rs->change));
-        hi = fmax(hi, 100.0 * fabs(rs->change));
-        p_lo = fmin(p_lo, rs->p);
-        p_hi = fmax(p_hi, rs->p);
-    }
-    if (n <= REPEAT_LINES_MAX)
-        return 0;
-    /* the pass numbers, runs of consecutive ones as "4-13" */
-    char passes[160] = "";
-    size_t len = 0;
-    long start = -1, prev = -1;
-    for (size_t j = 0; j <= d->n_runs; j++) {
-        const arrank_run_shift *rs = j < d->n_runs ? &d->runs[j] : NULL;
-        long k = rs && isfinite(rs->shift_ln) && is_repeat(rs) && rs->verdict == v
-                     ? strtol(rs->label + 5, NULL, 10)
-                     : -1;
-        if (k >= 0 && start >= 0 && k == prev + 1) {
-            prev = k;
-            continue;
-        }
-        if (start >= 0 && len < sizeof passes && prev > start)
-            len += (size_t)snprintf(passes + len, sizeof passes - len, "%s%ld-%ld",
-                                    len ? ", " : "", start, prev);
-        else if (start >= 0 && len < sizeof passes)
-            len += (size_t)snprintf(passes + len, sizeof passes - len, "%s%ld", len ? ", " : "",
-                                    start);
-        start = prev = k;
-    }
-    char what[400];
-    snprintf(what, sizeof what, "repeats of passes %s (%zu of %zu repeats) are %.0f %% to %.0f %% "
-             "%s '%s' (%s, p = %.2g to %.2g)", passes, n, all, lo, hi,
-             v < 0 ? "below" : v > 0 ? "above" : "off", first->label_ref, first->method, p_lo,
-             p_hi);
-    if (v < 0)
-        arrank_dwork_finding(wk, "%s: the catalyst lost activity during the measurements "
-                             "(deactivation)", what);
-    else if (v > 0)
-        arrank_dwork_finding(wk, "%s: the catalyst gained activity during the measurements "
-                             "(activation)", what);
-    else
-        arrank_dwork_note(wk, "%s: no significant shift of at least %.0f %%%s", what,
-                          100.0 * ARRANK_RUN_MIN_CHANGE, family);
-    return 1;
-}
-
 static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *sorted, size_t n,
                      double conf)
 {
@@ -557,52 +476,7 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
                 kj(f->ea_J_mol + t_win * f->ea_se_J_mol), kj(f->ea_se_J_mol),
                 kj(d->ea_all_J_mol), kj(d->ea_all_J_mol - t_all * d->ea_all_se_J_mol),
                 kj(d->ea_all_J_mol + t_all * d->ea_all_se_J_mol), kj(d->ea_all_se_J_mol));
-    /* the run comparisons and the drift test are one family (Holm, quality.c) */
-    size_t n_family = d->drift.tested && isfinite(d->drift.p);
-    for (size_t j = 0; j < d->n_runs; j++)
-        n_family += isfinite(d->runs[j].p);
-    char family[96] = "";
-    if (n_family >= 2)
-        snprintf(family, sizeof family, " (Holm's correction over the %zu run and drift tests)",
-                 n_family);
-    int grouped[3]; /* repeats said in one line, by verdict + 1 (say_repeats) */
-    for (int v = -1; v <= 1; v++)
-        grouped[v + 1] = say_repeats(wk, d, v, family);
-    for (size_t j = 0; j < d->n_runs; j++) {
-        const arrank_run_shift *rs = &d->runs[j];
-        if (!isfinite(rs->shift_ln) || (is_repeat(rs) && grouped[rs->verdict + 1]))
-            continue;
-        char what[200];
-        snprintf(what, sizeof what, "%s '%s' is %.0f %% %s '%s' (%s, %zu %s, t = %.2f, p = %.2g)",
-                 strncmp(rs->label, "pass ", 5) == 0 ? "repeat" : "run", rs->label,
-                 100.0 * fabs(rs->change), rs->change < 0 ? "below" : "above", rs->label_ref,
-                 rs->method, rs->n_pairs,
-                 strcmp(rs->method, "paired") == 0
-                     ? (rs->n_pairs == 1 ? "common temperature" : "common temperatures")
-                     : (rs->n_pairs == 1 ? "point" : "points"),
-                 rs->t, rs->p);
-        if (rs->verdict < 0)
-            arrank_dwork_finding(wk, "%s: the catalyst lost activity during the measurements (deactivation)",
-                    what);
-        else if (rs->verdict > 0)
-            arrank_dwork_finding(wk, "%s: the catalyst gained activity during the measurements (activation)",
-                    what);
-        else
-            arrank_dwork_note(wk, "%s: no significant shift of at least %.0f %%%s", what,
-                 100.0 * ARRANK_RUN_MIN_CHANGE, family);
-    }
-    const arrank_drift *dr = &d->drift;
-    if (dr->tested) {
-        if (dr->verdict)
-            arrank_dwork_finding(wk, "the rate drifts %s by %.0f %% over %.1f h on stream at fixed temperature "
-                        "dependence (t = %.2f, p = %.2g): %s",
-                    dr->verdict < 0 ? "down" : "up", 100.0 * fabs(dr->change), dr->span_h, dr->t,
-                    dr->p, dr->verdict < 0 ? "deactivation" : "activation");
-        else
-            arrank_dwork_note(wk, "no significant drift with time on stream (%.1f %% over %.1f h, p = %.2g)%s",
-                 100.0 * dr->change, dr->span_h, dr->p, family);
-    } else if (dr->note)
-        arrank_dwork_note(wk, "%s", dr->note);
+    arrank_quality_describe_runs(wk);
     for (size_t k = 0; k < n; k++) {
         size_t i = sorted[k];
         const arrank_point_diag *pd = &d->points[i];

@@ -38,4 +38,10 @@ int arrank_quality_runs(arrank_dwork *wk, const size_t *base, const size_t *grp,
    outlier_t_limit). */
 void arrank_quality_outliers(arrank_dwork *wk, const size_t *idx, size_t n);
 
+/* The run comparisons, repeats and drift in plain words: a finding for each
+   shift or drift shown, a note for each not shown (more than two repeats of
+   one verdict against one pass in one line), the drift's reason when not
+   tested.  Reads wk->d as arrank_quality_runs left it. */
+void arrank_quality_describe_runs(arrank_dwork *wk);
+
 #endif
