@@ -33,13 +33,18 @@ on_term() {
     script -qec "$cmd 2>/dev/null" /dev/null </dev/null | tr -d '\r' >"$out"
 }
 
-# widest FILE: the widest line in characters, colour sequences not counted
+# widest FILE: the widest line in terminal columns (East Asian Wide and
+# Fullwidth characters two, combining marks none: Unicode Standard Annex #11
+# through Python's unicodedata), colour sequences not counted
 widest() {
     "$PY" - "$1" <<'PY'
-import re, sys
+import re, sys, unicodedata
+def cols(line):
+    return sum(0 if unicodedata.category(c) in ("Mn", "Me") else
+               2 if unicodedata.east_asian_width(c) in ("W", "F") else 1 for c in line)
 text = open(sys.argv[1], encoding="utf-8").read()
 text = re.sub(r"\x1b\[[0-9;]*m", "", text)
-print(max(len(line) for line in text.split("\n")))
+print(max(cols(line) for line in text.split("\n")))
 PY
 }
 
@@ -272,6 +277,33 @@ ok_if "plan --wide: the table as piped" sh -c \
     "'$A' $PLAN 2>/dev/null | cmp -s - '$T/planwide'"
 # shellcheck disable=SC2086
 ok_piped "plan" "$T/plan" $PLAN
+
+# ids in Chinese, Japanese and Korean: each of their characters takes two
+# columns of the terminal, so the columns after the id line up (piped and
+# on 80 columns) and no line runs past the terminal
+mkdir "$T/cjk"
+cp "$DEMO/campaign.ini" "$DEMO/ZN-01.csv" "$DEMO/ZN-02.csv" "$DEMO/ZN-04.csv" "$DEMO/ZN-06.csv" "$T/cjk/"
+sed -i "s|^# sample = .*|# sample = 镍沸石-β 催化剂|" "$T/cjk/ZN-01.csv"
+sed -i "s|^# sample = .*|# sample = ニッケル触媒 A|" "$T/cjk/ZN-02.csv"
+sed -i "s|^# sample = .*|# sample = 니켈 제올라이트|" "$T/cjk/ZN-04.csv"
+"$A" rank "$T/cjk" --at 270C >"$T/cjk-piped" 2>/dev/null
+NO_COLOR=1 on_term 80 "$T/cjk-term" "$A" rank "$T/cjk" --at 270C
+w=$(widest "$T/cjk-term")
+ok_if "CJK ids on 80 columns: no line over 80 ($w)" test "$w" -le 80
+for f in cjk-piped cjk-term; do
+    ok_if "CJK ids ($f): the first interval starts at one terminal column in every row" "$PY" - \
+        "$T/$f" <<'PY'
+import re, sys, unicodedata
+def cols(text):
+    return sum(2 if unicodedata.east_asian_width(c) in ("W", "F") else 1 for c in text)
+rows = [l for l in open(sys.argv[1], encoding="utf-8").read().split("\n")
+        if re.match(r"^ +[0-9]+ ", l)]
+starts = {cols(l[:re.search(r"[0-9.]+ \[", l).start()]) for l in rows}
+ids = sum(any(ord(c) > 0x3000 for c in l) for l in rows)
+print("#", len(rows), "rows,", ids, "with CJK ids, first interval at", sorted(starts))
+sys.exit(0 if len(rows) == 4 and ids == 3 and len(starts) == 1 else 1)
+PY
+done
 
 # check: the report wrapped to the terminal, each item's continuation lines
 # indented four columns past it; the same words as piped, where each item

@@ -97,20 +97,19 @@ static void random_name(char *buf, int short_only)
     buf[n] = '\0';
 }
 
-/* Code points of UTF-8 text (bytes that do not continue a sequence). */
-static size_t code_points(const char *s)
+/* Terminal columns of UTF-8 text: a CJK character or an emoji takes two
+   (arrank_text_columns, held to Python's unicodedata in test_text.c). */
+static size_t columns(const char *s)
 {
-    size_t w = 0;
-    for (; *s; s++)
-        w += ((unsigned char)*s & 0xC0) != 0x80;
-    return w;
+    return arrank_text_columns(s, strlen(s));
 }
 
 /*
- * The name cell as specified: at most width code points, a longer name cut to
- * width - 3 of them and "..." (a code point keeps the continuation bytes that
- * follow it), at most 116 bytes of the name (the table's 120-byte name
- * buffer), control characters as '?', then spaces up to width code points.
+ * The name cell as specified: at most width columns, a longer name cut to
+ * the characters that fit in width - 3 columns and "..." (a character keeps
+ * the continuation bytes that follow it), at most 116 bytes of the name (the
+ * table's 120-byte name buffer), control characters as '?', then spaces up
+ * to width columns.
  */
 static void expected_name(FILE *out, const char *raw, size_t width)
 {
@@ -118,19 +117,26 @@ static void expected_name(FILE *out, const char *raw, size_t width)
        (arrank/text.h): "a\\nb" for a name with a line break */
     char s[1024];
     arrank_text_escape(raw, s, sizeof s);
-    size_t cps = code_points(s), keep = cps > width ? width - 3 : cps, kept = 0, bytes = 0;
+    size_t cols = columns(s), keep = cols > width ? width - 3 : cols, kept = 0, bytes = 0;
     char shown[200];
     for (const char *p = s; *p && bytes < 116; p++) {
         unsigned char c = (unsigned char)*p;
-        if ((c & 0xC0) != 0x80 && kept++ == keep)
-            break;
+        if ((c & 0xC0) != 0x80) {
+            size_t len = 1;
+            while (((unsigned char)p[len] & 0xC0) == 0x80)
+                len++;
+            size_t w = arrank_text_columns(p, len);
+            if (kept + w > keep)
+                break;
+            kept += w;
+        }
         shown[bytes++] = (char)c;
     }
     shown[bytes] = '\0';
-    if (cps > width)
+    if (cols > width)
         strcat(shown, "...");
     fputs(shown, out);
-    for (size_t w = code_points(shown); w < width; w++)
+    for (size_t w = columns(shown); w < width; w++)
         fputc(' ', out);
 }
 
@@ -303,17 +309,17 @@ static char *expected_rows(const fake *fk)
     for (size_t i = 0; i < a->n_results; i++) {
         char esc[1024];
         arrank_text_escape(a->results[i].sample->id, esc, sizeof esc);
-        if (code_points(esc) > name_w)
-            name_w = code_points(esc);
+        if (columns(esc) > name_w)
+            name_w = columns(esc);
     }
     if (name_w > NAME_MAX_COLS)
         name_w = NAME_MAX_COLS;
     char head[200];
     snprintf(head, sizeof head, "ln A [ln(%s)]", fk->campaign.rate_unit);
-    size_t w_lna = code_points(head) > 22 ? code_points(head) : 22;
+    size_t w_lna = columns(head) > 22 ? columns(head) : 22;
     snprintf(head, sizeof head, "rate at %.2f K [%s]", o->operating_temp_K,
              fk->campaign.rate_unit);
-    size_t w_rate = code_points(head) > 26 ? code_points(head) : 26;
+    size_t w_rate = columns(head) > 26 ? columns(head) : 26;
 
     char *text = NULL;
     size_t len = 0;
@@ -482,8 +488,8 @@ static char *term_table_of(const fake *fk, size_t width, int colour)
     return text;
 }
 
-/* The widest line of text in code points, ANSI colour sequences (ESC [ ... m)
-   not counted; *colours: how many sequences there were. */
+/* The widest line of text in terminal columns, ANSI colour sequences
+   (ESC [ ... m) not counted; *colours: how many sequences there were. */
 static size_t widest_line(const char *text, size_t *colours)
 {
     size_t widest = 0, w = 0;
@@ -501,8 +507,11 @@ static size_t widest_line(const char *text, size_t *colours)
         if (*p == '\n') {
             widest = w > widest ? w : widest;
             w = 0;
-        } else {
-            w += ((unsigned char)*p & 0xC0) != 0x80;
+        } else if (((unsigned char)*p & 0xC0) != 0x80) {
+            size_t len = 1;
+            while (((unsigned char)p[len] & 0xC0) == 0x80)
+                len++;
+            w += arrank_text_columns(p, len);
         }
     }
     return w > widest ? w : widest;

@@ -3,11 +3,16 @@
  * characters and invalid UTF-8 made visible, valid UTF-8 kept, cuts that
  * never split an escape or a character.  UTF-8 validity per RFC 3629
  * (section 4: no overlong forms, no surrogates, nothing above U+10FFFF).
+ * arrank_text_cp_columns and arrank_text_columns: the columns text takes on
+ * a terminal, every code point against Python's unicodedata (a general-purpose
+ * reference library: East Asian Width W and F take two columns, Unicode
+ * Standard Annex #11; combining marks none) through src/tools/mkwidths.py.
  */
 #include <setjmp.h>
 #include <stdarg.h>
 #include <stddef.h>
 #include <stdint.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -97,6 +102,64 @@ static void test_html(void **state)
     expect_html(NULL, "");
 }
 
+static void test_columns(void **state)
+{
+    (void)state;
+    /* one of each kind; the classes are those of EastAsianWidth.txt and the
+       general categories of the Unicode Character Database */
+    assert_int_equal(arrank_text_cp_columns('A'), 1);
+    assert_int_equal(arrank_text_cp_columns(0xB0), 1);    /* degree sign */
+    assert_int_equal(arrank_text_cp_columns(0x3B2), 1);   /* Greek beta */
+    assert_int_equal(arrank_text_cp_columns(0x301), 0);   /* combining acute accent (Mn) */
+    assert_int_equal(arrank_text_cp_columns(0x200B), 0);  /* zero width space (Cf) */
+    assert_int_equal(arrank_text_cp_columns(0x4E00), 2);  /* CJK ideograph (W) */
+    assert_int_equal(arrank_text_cp_columns(0x30CB), 2);  /* katakana NI (W) */
+    assert_int_equal(arrank_text_cp_columns(0xAC00), 2);  /* hangul syllable GA (W) */
+    assert_int_equal(arrank_text_cp_columns(0xFF21), 2);  /* fullwidth A (F) */
+    assert_int_equal(arrank_text_cp_columns(0x3000), 2);  /* ideographic space (F) */
+    assert_int_equal(arrank_text_cp_columns(0xFF61), 1);  /* halfwidth ideographic full stop (H) */
+    /* text: "镍 Ni" is 2 + 1 + 2; "e" + combining acute is one column; a byte
+       that is not UTF-8, and a sequence cut by len, count one each */
+    assert_int_equal(arrank_text_columns("\xe9\x95\x8d Ni", 6), 5);
+    assert_int_equal(arrank_text_columns("e\xcc\x81", 3), 1);
+    assert_int_equal(arrank_text_columns("a\xff" "b", 3), 3);
+    assert_int_equal(arrank_text_columns("\xe9\x95\x8d", 2), 2);
+    assert_int_equal(arrank_text_columns("", 0), 0);
+
+    /* every code point against the reference, when its Unicode version is
+       the tables' (the first line of their comment in src/lib/text.c) */
+    FILE *ver = popen("/usr/bin/python3 -c 'import unicodedata; "
+                      "print(unicodedata.unidata_version)'", "r");
+    assert_non_null(ver);
+    char version[32] = "";
+    assert_non_null(fgets(version, sizeof version, ver));
+    assert_int_equal(pclose(ver), 0);
+    version[strcspn(version, "\n")] = '\0';
+    if (strcmp(version, "14.0.0") != 0) {
+        print_message("# Python's unicodedata is %s, the tables 14.0.0: compared above only\n",
+                      version);
+        return;
+    }
+    FILE *ref = popen("/usr/bin/python3 src/tools/mkwidths.py --list", "r");
+    assert_non_null(ref);
+    unsigned long cp;
+    int w;
+    size_t n = 0, wrong = 0, wide = 0, zero = 0;
+    while (fscanf(ref, "%lu %d", &cp, &w) == 2) {
+        int mine = arrank_text_cp_columns((uint32_t)cp);
+        if (mine != w && wrong++ < 10)
+            print_error("U+%04lX: %d columns, unicodedata %d\n", cp, mine, w);
+        wide += w == 2;
+        zero += w == 0;
+        n++;
+    }
+    assert_int_equal(pclose(ref), 0);
+    print_message("# %zu code points compared: %zu of two columns, %zu of none\n", n, wide, zero);
+    assert_int_equal(n, 0x110000 - 0x800); /* all but the surrogates */
+    assert_true(wide > 100000 && zero > 1000);
+    assert_int_equal(wrong, 0);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -104,6 +167,7 @@ int main(void)
         cmocka_unit_test(test_utf8),
         cmocka_unit_test(test_cuts),
         cmocka_unit_test(test_html),
+        cmocka_unit_test(test_columns),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

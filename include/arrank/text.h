@@ -6,6 +6,7 @@
 #define ARRANK_TEXT_H
 
 #include <stddef.h>
+#include <stdint.h>
 #include <stdio.h>
 
 /*
@@ -26,5 +27,18 @@ int arrank_text_is_clean(const char *text);
    attribute values: & < > " ' escaped, control characters (C0, DEL, C1)
    dropped, each byte that is not valid UTF-8 shown as U+FFFD. */
 void arrank_text_html(FILE *f, const char *text);
+
+/*
+ * Columns code point cp takes on a terminal: 2 for East Asian Wide and
+ * Fullwidth characters (Unicode Standard Annex #11: CJK ideographs, kana,
+ * hangul, fullwidth forms, most emoji), 0 for combining marks and zero-width
+ * format characters, else 1.  The tables come from Python's unicodedata
+ * (src/tools/mkwidths.py says which version and how).
+ */
+int arrank_text_cp_columns(uint32_t cp);
+
+/* Columns len bytes of UTF-8 text take on a terminal (arrank_text_cp_columns
+   summed); a byte that is not part of valid UTF-8 counts one. */
+size_t arrank_text_columns(const char *text, size_t len);
 
 #endif

@@ -88,7 +88,7 @@ static void temps_text(const arrank_plan *p, size_t result, char *buf, size_t n)
         snprintf(buf, n, "-");
 }
 
-/* Text padded to width columns of the terminal (code points, textfit.c). */
+/* Text padded to width columns of the terminal (textfit.c). */
 static void put_padded(FILE *f, const char *text, size_t width)
 {
     size_t w = arrank_textfit_width(text, strlen(text));

@@ -11,6 +11,7 @@
 #include <string.h>
 
 #include "arrank/cautions.h"
+#include "arrank/text.h"
 #include "plot_internal.h"
 
 /* The base font: a 60th of the asked width, 12 to 24 px (our choice: 16 px on
@@ -103,14 +104,18 @@ void arrank_plot_fit_text(const char *text, double max_px, double font_px, char 
         snprintf(out, n, "%s", t);
         return;
     }
-    /* keep max_chars - 1 code points, then the ellipsis */
+    /* keep what fits in max_chars - 1 character widths, then the ellipsis */
     size_t keep = max_chars - 1, c = 0, k = 0;
-    for (; t[k] && c <= keep; k++)
-        if (((unsigned char)t[k] & 0xC0) != 0x80) {
-            if (c == keep)
-                break;
-            c++;
-        }
+    while (t[k]) {
+        size_t len = 1;
+        while (((unsigned char)t[k + len] & 0xC0) == 0x80)
+            len++;
+        size_t w = arrank_text_columns(t + k, len);
+        if (c + w > keep)
+            break;
+        c += w;
+        k += len;
+    }
     snprintf(out, n, "%.*s…", (int)k, t);
 }
 

@@ -12,6 +12,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "arrank/text.h"
 #include "plot_internal.h"
 #include "util.h"
 
@@ -125,10 +126,8 @@ arrank_status arrank_plot_size(const char *text, int *width_px, int *height_px,
 
 size_t arrank_plot_chars(const char *t)
 {
-    size_t n = 0;
-    for (const unsigned char *p = (const unsigned char *)(t ? t : ""); *p; p++)
-        n += (*p & 0xC0) != 0x80;
-    return n;
+    t = t ? t : "";
+    return arrank_text_columns(t, strlen(t)); /* a CJK character counts two */
 }
 
 double arrank_plot_text_px(const char *text, double font_px)

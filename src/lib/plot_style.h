@@ -29,7 +29,8 @@
 
 /* Width in px of text of n characters at font size px. */
 double arrank_plot_text_px(const char *text, double font_px);
-/* Characters of UTF-8 text (code points). */
+/* Characters of UTF-8 text in terminal columns (arrank_text_columns): a CJK
+   character counts two, which with ARRANK_CHAR_EM is about its 1 em or more. */
 size_t arrank_plot_chars(const char *text);
 
 /* The flags of r in short words, ", "-separated, into buf ("extrapolated

@@ -40,6 +40,16 @@ static void ratio_text(const struct arrank_sample_stats *ss, char *buf, size_t n
         snprintf(buf, n, "-");
 }
 
+/* "  " then s padded to w terminal columns (a CJK character takes two;
+   printf's %-*s counts bytes) */
+static void put_cell(FILE *f, const char *s, int w)
+{
+    fputs("  ", f);
+    fputs(s, f);
+    for (size_t c = arrank_textfit_width(s, strlen(s)); (int)c < w; c++)
+        fputc(' ', f);
+}
+
 /* w: the id column's width, rw: the ratio column's */
 static void row(const arrank_analysis *a, const arrank_result *res, int w, int rw, FILE *f)
 {
@@ -55,7 +65,8 @@ static void row(const arrank_analysis *a, const arrank_result *res, int w, int r
                      ss->ea_diff.lo / 1e3, ss->ea_diff.hi / 1e3);
     }
     (void)a;
-    fprintf(f, "  %-*s  %-*s  %-9s  %s\n", w, name, rw, ratio, pb, ea);
+    put_cell(f, name, w);
+    fprintf(f, "  %-*s  %-9s  %s\n", rw, ratio, pb, ea);
 }
 
 /* The reference per campaign, its drift and the test of equality. */
@@ -108,8 +119,8 @@ arrank_status arrank_reference_table_write(const arrank_analysis *a, FILE *f, ar
         char name[NAME_MAX_SHOWN + 8], ratio[96];
         shown_id(a->results[i].sample->id, name, sizeof name);
         ratio_text(ss, ratio, sizeof ratio);
-        if ((int)strlen(name) > w)
-            w = (int)strlen(name);
+        if ((int)arrank_textfit_width(name, strlen(name)) > w)
+            w = (int)arrank_textfit_width(name, strlen(name));
         if ((int)strlen(ratio) > rw)
             rw = (int)strlen(ratio);
     }

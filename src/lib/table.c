@@ -60,14 +60,11 @@ static void flags_joined(unsigned flags, char *buf, size_t n, const char *sep, c
     }
 }
 
-/* Display width of UTF-8 text: code points, not bytes. */
+/* Display width of UTF-8 text: terminal columns (arrank_text_columns: a CJK
+   character takes two), not bytes. */
 size_t arrank_table_text_width(const char *s)
 {
-    size_t w = 0;
-    for (; *s; s++)
-        if (((unsigned char)*s & 0xC0) != 0x80)
-            w++;
-    return w;
+    return arrank_text_columns(s, strlen(s));
 }
 
 /* Width of text from a file as the table shows it: control characters and
@@ -81,7 +78,7 @@ static size_t shown_width(const char *s)
     return arrank_table_text_width(esc);
 }
 
-/* Copy raw into buf shortened to at most width code points ("..." at the
+/* Copy raw into buf shortened to at most width columns ("..." at the
    end), control characters and bytes that are not UTF-8 escaped first
    (arrank/text.h: a name "a<line break>b" is shown "a\\nb" on one line), so
    a name cannot break the layout or the terminal. */
@@ -96,13 +93,17 @@ static void fit_text(const char *raw, size_t width, char *buf, size_t n)
         arrank_text_escape(raw, esc, sizeof esc);
         s = esc;
     }
-    size_t w = arrank_table_text_width(s), out = 0, cps = 0, keep = w > width ? width - 3 : w;
+    size_t w = arrank_table_text_width(s), out = 0, cols = 0, keep = w > width ? width - 3 : w;
     for (const char *p = s; *p && out + 4 < n; p++) {
         unsigned char c = (unsigned char)*p;
-        if ((c & 0xC0) != 0x80) {
-            if (cps == keep)
+        if ((c & 0xC0) != 0x80) { /* a character starts: does it fit in keep columns? */
+            size_t len = 1;
+            while (((unsigned char)p[len] & 0xC0) == 0x80)
+                len++;
+            size_t cw = arrank_text_columns(p, len);
+            if (cols + cw > keep)
                 break;
-            cps++;
+            cols += cw;
         }
         buf[out++] = (c < 0x20 || c == 0x7F) ? '?' : (char)c;
     }

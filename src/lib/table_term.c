@@ -13,7 +13,8 @@
  * T range).  Then the id column narrows, down to NAME_MIN columns.  Ids, flags and
  * the reasons of samples not fitted wrap onto more lines rather than being
  * cut.  A line under the rows names the columns left out.  Widths are
- * counted in code points (the escaped ids are UTF-8).
+ * counted in terminal columns (the escaped ids are UTF-8; a CJK character
+ * takes two, arrank_text_columns).
  * The grid itself (widths, wrapping, the line that names what was left
  * out, reflowed prose) is textfit.c's, shared with the other writers for a
  * terminal (the reference's block, compare's table, a plan's table).

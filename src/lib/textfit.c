@@ -2,7 +2,7 @@
  * textfit.c - text and tables fitted to a terminal's width (textfit.h;
  * README "The table on a terminal").  The writers for people on a terminal
  * (rank's and fit's table, the reference's block, compare's table, a plan's
- * table) share this: widths counted in code points (the escaped ids are
+ * table) share this: widths counted in terminal columns (a CJK character two; the escaped ids are
  * UTF-8), lines broken at spaces and never ending in spaces, prose reflowed,
  * columns left out in a stated order of priority and said so, cells wrapped
  * rather than cut.  Nothing here knows what the columns hold.
@@ -12,6 +12,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "arrank/text.h"
+
 #define SPAN_MIN 20 /* a row's spanning text wraps at no less than this */
 #define SGR_RESET "\033[0m"
 
@@ -19,10 +21,7 @@
 
 size_t arrank_textfit_width(const char *s, size_t len)
 {
-    size_t w = 0;
-    for (size_t i = 0; i < len; i++)
-        w += ((unsigned char)s[i] & 0xC0) != 0x80;
-    return w;
+    return arrank_text_columns(s, len);
 }
 
 size_t arrank_textfit_chunk(const char **rest, size_t width, int at_commas)
@@ -39,10 +38,14 @@ size_t arrank_textfit_chunk(const char **rest, size_t width, int at_commas)
             cut = i;
         if (n == width)
             break;
-        i++;
-        while (((unsigned char)s[i] & 0xC0) == 0x80)
-            i++;
-        n++;
+        size_t next = i + 1;
+        while (((unsigned char)s[next] & 0xC0) == 0x80)
+            next++;
+        size_t w = arrank_text_columns(s + i, next - i); /* 2 for a CJK character */
+        if (n + w > width && i > 0)
+            break; /* a wide character that does not fit starts the next line */
+        i = next;
+        n += w;
     }
     size_t end = cut ? cut : i;
     size_t next = end;

@@ -1,6 +1,6 @@
 /*
  * textfit.h - text and tables fitted to a terminal's width (textfit.c),
- * inside libarrank: widths counted in code points, lines broken at spaces,
+ * inside libarrank: widths counted in terminal columns, lines broken at spaces,
  * prose reflowed, and a grid of columns that leaves columns out in a stated
  * order of priority, narrows them and wraps their cells.  Shared by every
  * writer for people on a terminal (table_term.c, reference_out.c,
@@ -19,13 +19,15 @@
 #define ARRANK_SGR_FLAGS "\033[33m" /* yellow: flags, verdicts of a change */
 #define ARRANK_SGR_ERROR "\033[31m" /* red: why a sample was not fitted or compared */
 
-/* Display width of len bytes of UTF-8 text: code points, not bytes. */
+/* Display width of len bytes of UTF-8 text: terminal columns
+   (arrank_text_columns: a CJK character takes two), not bytes. */
 size_t arrank_textfit_width(const char *s, size_t len);
 
-/* The next line of *rest at most width code points wide (width 0: all of
+/* The next line of *rest at most width columns wide (width 0: all of
    it): its length in bytes, broken after the last space that fits (with
    at_commas, only a space after a comma: "a x1, b x2" breaks between items),
-   else at width code points; *rest moves past it and the spaces after it. */
+   else at width columns (a wide character that would straddle it goes to
+   the next line); *rest moves past it and the spaces after it. */
 size_t arrank_textfit_chunk(const char **rest, size_t width, int at_commas);
 
 /* Text of several lines, each line longer than width wrapped at spaces, its
