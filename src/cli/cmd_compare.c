@@ -50,6 +50,23 @@ static const char usage[] =
     "Exit status: 0 ok, 1 bad input data or nothing fittable, 2 usage,\n"
     "3 a file could not be read or written, 4 gnuplot failed, 5 gnuplot not found.\n";
 
+/* One file of the --out folder, made in priv: the comparison in format, or
+   the report page (html, with the figure svg inline) when svg is given. */
+static arrank_status out_file(const char *priv, const char *name, const arrank_comparison *cmp,
+                              arrank_compare_format format, const char *svg, arrank_error *err)
+{
+    char path[4200];
+    snprintf(path, sizeof path, "%s/%s", priv, name);
+    FILE *f = fopen(path, "w");
+    if (!f)
+        return arrank_errorf(err, ARRANK_EIO, "cannot write '%s'", path);
+    arrank_status st = svg ? arrank_compare_html_write(cmp, svg, f, err)
+                           : arrank_compare_write(cmp, format, f, err);
+    if (fclose(f) != 0 && st == ARRANK_OK)
+        st = arrank_errorf(err, ARRANK_EIO, "cannot write '%s'", path);
+    return st;
+}
+
 /* --json, --csv and the --out folder, all or nothing (stage.c).  -1 or an exit status. */
 static int write_outputs(const cli_args *args, const cli_session *sa, const cli_session *sb,
                          const arrank_comparison *cmp)
@@ -87,35 +104,18 @@ static int write_outputs(const cli_args *args, const cli_session *sa, const cli_
             cli_stage_abort();
             return rc;
         }
-        char path[4096];
-        const char *names[] = {"compare.json", "compare.csv"};
-        for (size_t i = 0; i < 2; i++) {
-            snprintf(path, sizeof path, "%s/%s", priv, names[i]);
-            FILE *f = fopen(path, "w");
-            arrank_status st = f ? arrank_compare_write(cmp, out[i].format, f, &err)
-                                 : arrank_errorf(&err, ARRANK_EIO, "cannot write '%s'", path);
-            if (f && fclose(f) != 0 && st == ARRANK_OK)
-                st = arrank_errorf(&err, ARRANK_EIO, "cannot write '%s'", path);
-            if (st != ARRANK_OK) {
-                cli_print_error(&err);
-                cli_stage_abort();
-                return cli_exit_status(st, &err);
-            }
-        }
         arrank_plot_options po = arrank_plot_defaults();
         po.formats = cli_plot_formats(args);
         (void)cli_figure_options(args, &po); /* --size, checked in cmd_compare */
-        arrank_status st = arrank_compare_plot(cmp, priv, &po, &err);
-        /* the report page, with the SVG inline when one was drawn */
-        char svg[4200];
+        char svg[4200]; /* the report page has the SVG inline when one was drawn */
         snprintf(svg, sizeof svg, "%s/compare.svg", priv);
-        snprintf(path, sizeof path, "%s/compare.html", priv);
-        FILE *f = st == ARRANK_OK ? fopen(path, "w") : NULL;
+        arrank_status st = out_file(priv, "compare.json", cmp, ARRANK_COMPARE_JSON, NULL, &err);
         if (st == ARRANK_OK)
-            st = f ? arrank_compare_html_write(cmp, svg, f, &err)
-                   : arrank_errorf(&err, ARRANK_EIO, "cannot write '%s'", path);
-        if (f && fclose(f) != 0 && st == ARRANK_OK)
-            st = arrank_errorf(&err, ARRANK_EIO, "cannot write '%s'", path);
+            st = out_file(priv, "compare.csv", cmp, ARRANK_COMPARE_CSV, NULL, &err);
+        if (st == ARRANK_OK)
+            st = arrank_compare_plot(cmp, priv, &po, &err);
+        if (st == ARRANK_OK)
+            st = out_file(priv, "compare.html", cmp, ARRANK_COMPARE_JSON, svg, &err);
         if (st != ARRANK_OK) {
             cli_print_error(&err);
             cli_stage_abort();
