@@ -217,26 +217,11 @@ static arrank_status list_folder(const char *dir, char ***names, size_t *n, int 
     return ARRANK_OK;
 }
 
-static char *join_path(const char *dir, const char *name)
-{
-    size_t nd = strlen(dir), nn = strlen(name);
-    int slash = nd > 0 && dir[nd - 1] != '/';
-    char *p = malloc(nd + (size_t)slash + nn + 1);
-    if (!p)
-        return NULL;
-    memcpy(p, dir, nd);
-    if (slash)
-        p[nd] = '/';
-    memcpy(p + nd + (size_t)slash, name, nn + 1);
-    return p;
-}
-
-
 /* Read campaign.ini of the folder into *ini. */
 static arrank_status read_ini(const char *dir, int dirfd, arrank_units *units, arrank_ini *ini,
                               char **buf, size_t *cap, arrank_error *err)
 {
-    char *path = join_path(dir, "campaign.ini");
+    char *path = arrank_join_path(dir, "campaign.ini");
     if (!path)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     size_t len = 0;
@@ -378,7 +363,7 @@ static arrank_status load_one(load_state *ls, size_t i, const char *report_unit,
 {
     const char *name = ls->names[i];
     arrank_sample *sample = &ls->c->samples[i];
-    char *path = join_path(ls->dir, name);
+    char *path = arrank_join_path(ls->dir, name);
     if (!path)
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
     size_t len = 0;
@@ -669,7 +654,7 @@ static arrank_status finish_samples(load_state *ls, arrank_error *err)
 {
     arrank_campaign *c = ls->c;
     if (ls->ini.n_entries) {
-        char *ini_path = join_path(ls->dir, "campaign.ini");
+        char *ini_path = arrank_join_path(ls->dir, "campaign.ini");
         if (!ini_path)
             return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
         arrank_status st = apply_ini_entries(&ls->ini, c, &ls->notes_cap, ls->index,

@@ -38,7 +38,6 @@
 #include <sys/wait.h>
 #include <time.h>
 #include <unistd.h>
-#include <dirent.h>
 
 #include "arrank/diagnose.h"
 #include "arrank/analysis_stats.h"
@@ -714,35 +713,6 @@ void arrank_plot_files_clear(arrank_plot_files *files)
     files->n = 0;
 }
 
-static char *join_path(const char *dir, const char *name)
-{
-    size_t n = strlen(dir) + strlen(name) + 2;
-    char *p = malloc(n);
-    if (p)
-        snprintf(p, n, "%s/%s", dir, name);
-    return p;
-}
-
-/* Empty the private folder (gnuplot writes only the outputs into it, but a
-   failed run may leave part of one) and remove it. */
-static void remove_private(const char *priv)
-{
-    DIR *d = opendir(priv);
-    if (d) {
-        struct dirent *e;
-        while ((e = readdir(d)) != NULL) {
-            if (strcmp(e->d_name, ".") == 0 || strcmp(e->d_name, "..") == 0)
-                continue;
-            char *p = join_path(priv, e->d_name);
-            if (p)
-                unlink(p);
-            free(p);
-        }
-        closedir(d);
-    }
-    rmdir(priv);
-}
-
 /* Step 3: every finished figure from the private folder priv into out_dir
    under its own name.  A destination that cannot take a file (a folder) is
    found before anything moves, so a figure set goes in whole or not at all. */
@@ -751,7 +721,7 @@ static arrank_status move_figures(const figure *figs, const output *outs, size_t
                                   arrank_plot_files *written, arrank_error *err)
 {
     for (size_t k = 0; k < n_outs; k++) {
-        char *to = join_path(out_dir, outs[k].name);
+        char *to = arrank_join_path(out_dir, outs[k].name);
         if (!to)
             return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
         struct stat st;
@@ -770,41 +740,11 @@ static arrank_status move_figures(const figure *figs, const output *outs, size_t
             return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     }
     for (size_t k = 0; k < n_outs; k++) {
-        char *from = join_path(priv, outs[k].name);
-        char *to = join_path(out_dir, outs[k].name);
-        if (!from || !to) {
-            free(from);
-            free(to);
-            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-        }
-        if (outs[k].format == ARRANK_PLOT_SVG &&
-            arrank_plot_svg_finish(from, figs[outs[k].fig].title) != 0) {
-            arrank_status e = arrank_error_at(err, ARRANK_EIO, to, 0, 0, "cannot write '%s': %s",
-                                              to, strerror(errno));
-            free(from);
-            free(to);
-            return e;
-        }
-        if (rename(from, to) != 0) {
-            arrank_status e = arrank_error_at(err, ARRANK_EIO, to, 0, 0, "cannot write '%s': %s",
-                                              to, strerror(errno));
-            free(from);
-            free(to);
-            return e;
-        }
-        free(from);
-        if (!written) {
-            free(to);
-            continue;
-        }
-        arrank_plot_file *pf = &written->files[written->n++];
-        pf->kind = figs[outs[k].fig].kind;
-        pf->sample = figs[outs[k].fig].sample;
-        pf->format = outs[k].format;
-        pf->name = arrank_strdup(outs[k].name);
-        pf->path = to;
-        if (!pf->name)
-            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        arrank_status st = arrank_plot_move_into(priv, out_dir, outs[k].name, outs[k].format,
+                                                 figs[outs[k].fig].title, figs[outs[k].fig].kind,
+                                                 figs[outs[k].fig].sample, written, err);
+        if (st != ARRANK_OK)
+            return st;
     }
     return ARRANK_OK;
 }
@@ -834,7 +774,7 @@ static arrank_status plot_write_in_c(const arrank_analysis *a, const char *out_d
 
     figure *figs = malloc(MAX_FIGURES(a) * sizeof *figs);
     output *outs = malloc(MAX_FIGURES(a) * N_FORMATS * sizeof *outs);
-    char *priv = join_path(out_dir, ".arrank-figures.XXXXXX");
+    char *priv = arrank_join_path(out_dir, ".arrank-figures.XXXXXX");
     int have_priv = 0;
     char *text = NULL;
     size_t text_len = 0;
@@ -885,7 +825,7 @@ static arrank_status plot_write_in_c(const arrank_analysis *a, const char *out_d
 
 done:
     if (have_priv)
-        remove_private(priv);
+        arrank_plot_remove_private(priv);
     if (st != ARRANK_OK && written)
         arrank_plot_files_clear(written);
     free(priv);

@@ -8,7 +8,6 @@
  */
 #include "arrank/plot_compare.h"
 
-#include <dirent.h>
 #include <errno.h>
 #include <math.h>
 #include <stdlib.h>
@@ -306,29 +305,13 @@ arrank_status arrank_compare_plot_script(const arrank_comparison *c,
     return st;
 }
 
-/* Empty and remove the private folder. */
-static void remove_private(const char *priv)
-{
-    DIR *d = opendir(priv);
-    struct dirent *e;
-    char p[4096 + 260];
-    while (d && (e = readdir(d)) != NULL)
-        if (strcmp(e->d_name, ".") && strcmp(e->d_name, "..")) {
-            snprintf(p, sizeof p, "%s/%.255s", priv, e->d_name);
-            unlink(p);
-        }
-    if (d)
-        closedir(d);
-    rmdir(priv);
-}
-
 /* gnuplot writes into a private folder made by mkdtemp inside dir; the
    figures are renamed into dir when it has finished without error. */
 static arrank_status plot_in_c(const arrank_comparison *c, const char *dir,
                                const arrank_plot_options *o, arrank_error *err)
 {
     unsigned formats = o->formats;
-    char *gp = NULL, *text = NULL, priv[4096], from[4200], to[4200];
+    char *gp = NULL, *text = NULL, priv[4096];
     size_t len = 0;
     if (snprintf(priv, sizeof priv, "%s/.arrank-compare.XXXXXX", dir) >= (int)sizeof priv)
         return arrank_errorf(err, ARRANK_EINVAL, "output folder path too long");
@@ -348,30 +331,22 @@ static arrank_status plot_in_c(const arrank_comparison *c, const char *dir,
                              "'%s': %s", dir, strerror(errno));
     if (st == ARRANK_OK)
         st = arrank_plot_run_gnuplot(gp, priv, text, len, err);
+    /* the SVG's <title>: the figure's name and the two campaigns */
+    char name[400], title[1000];
+    cmp_name(c, name, sizeof name);
+    snprintf(title, sizeof title, "%s – %.280s → %.280s", name, campaign_words(c->a),
+             campaign_words(c->b));
     for (size_t k = 0; st == ARRANK_OK && k < sizeof formats_known / sizeof *formats_known;
          k++) {
         if (!((formats ? formats : ARRANK_PLOT_SVG) & formats_known[k].bit))
             continue;
-        snprintf(from, sizeof from, "%s/compare.%s", priv, formats_known[k].ext);
-        snprintf(to, sizeof to, "%s/compare.%s", dir, formats_known[k].ext);
-        if (formats_known[k].bit == ARRANK_PLOT_SVG) {
-            /* the SVG's <title>: the figure's name and the two campaigns */
-            char name[400], title[1000];
-            cmp_name(c, name, sizeof name);
-            snprintf(title, sizeof title, "%s – %.280s → %.280s", name, campaign_words(c->a),
-                     campaign_words(c->b));
-            if (arrank_plot_svg_finish(from, title) != 0) {
-                st = arrank_error_at(err, ARRANK_EIO, to, 0, 0, "cannot write '%s': %s", to,
-                                     strerror(errno));
-                break;
-            }
-        }
-        if (rename(from, to) != 0)
-            st = arrank_error_at(err, ARRANK_EIO, to, 0, 0, "cannot write '%s': %s", to,
-                                 strerror(errno));
+        char file[32];
+        snprintf(file, sizeof file, "compare.%s", formats_known[k].ext);
+        st = arrank_plot_move_into(priv, dir, file, formats_known[k].bit, title,
+                                   ARRANK_FIGURE_ARRHENIUS, (size_t)-1, NULL, err);
     }
     if (have_priv)
-        remove_private(priv);
+        arrank_plot_remove_private(priv);
     free(text);
     free(gp);
     return st;

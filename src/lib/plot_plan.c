@@ -16,6 +16,7 @@
 #include "arrank/plot_plan.h"
 #include "number.h"
 #include "plot_internal.h"
+#include "util.h"
 
 static const struct {
     unsigned bit;
@@ -396,15 +397,6 @@ arrank_status arrank_plot_plan_script(const arrank_analysis *a, const arrank_pla
     return st;
 }
 
-static char *join(const char *dir, const char *name)
-{
-    size_t n = strlen(dir) + strlen(name) + 2;
-    char *p = malloc(n);
-    if (p)
-        snprintf(p, n, "%s/%s", dir, name);
-    return p;
-}
-
 /* Step 2 of arrank_plot_plan: the figures out of the private folder priv
    into out_dir, listed in written. */
 static arrank_status move_out(const char *priv, const char *out_dir, char names[][16],
@@ -412,32 +404,10 @@ static arrank_status move_out(const char *priv, const char *out_dir, char names[
                               arrank_plot_files *written, arrank_error *err)
 {
     for (size_t k = 0; k < n; k++) {
-        char *from = join(priv, names[k]), *to = join(out_dir, names[k]);
-        if (!from || !to || (fmt[k] == ARRANK_PLOT_SVG && arrank_plot_svg_finish(from, title)) ||
-            rename(from, to) != 0) {
-            arrank_status e = from && to ? arrank_error_at(err, ARRANK_EIO, to, 0, 0,
-                                                           "cannot write '%s': %s", to,
-                                                           strerror(errno))
-                                         : arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-            if (from)
-                unlink(from);
-            free(from);
-            free(to);
-            return e;
-        }
-        free(from);
-        if (!written) {
-            free(to);
-            continue;
-        }
-        arrank_plot_file *pf = &written->files[written->n++];
-        pf->kind = ARRANK_FIGURE_ARRHENIUS;
-        pf->sample = (size_t)-1;
-        pf->format = fmt[k];
-        pf->name = strdup(names[k]);
-        pf->path = to;
-        if (!pf->name)
-            return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+        arrank_status st = arrank_plot_move_into(priv, out_dir, names[k], fmt[k], title,
+                                                 ARRANK_FIGURE_ARRHENIUS, (size_t)-1, written, err);
+        if (st != ARRANK_OK)
+            return st;
     }
     return ARRANK_OK;
 }
@@ -470,7 +440,7 @@ static arrank_status plot_plan_in_c(const arrank_analysis *a, const arrank_plan 
         st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     if (st == ARRANK_OK)
         st = arrank_plot_find_gnuplot(opt.gnuplot, &program, err);
-    char *priv = st == ARRANK_OK ? join(out_dir, ".arrank-plan.XXXXXX") : NULL;
+    char *priv = st == ARRANK_OK ? arrank_join_path(out_dir, ".arrank-plan.XXXXXX") : NULL;
     if (st == ARRANK_OK && (!priv || !mkdtemp(priv)))
         st = priv ? arrank_error_at(err, ARRANK_EIO, out_dir, 0, 0,
                                     "cannot make a private folder in '%s': %s", out_dir,
@@ -481,20 +451,13 @@ static arrank_status plot_plan_in_c(const arrank_analysis *a, const arrank_plan 
         if (st == ARRANK_OK && written &&
             !(written->files = calloc(n, sizeof *written->files)))
             st = arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
-        if (st == ARRANK_OK)
-            {
+        if (st == ARRANK_OK) {
             /* the SVG's <title>: the figure's name and the campaign */
             char title[600];
             plan_title(a, p, title, sizeof title);
             st = move_out(priv, out_dir, names, fmt, n, title, written, err);
         }
-        for (size_t k = 0; k < n; k++) { /* what a failed run left */
-            char *q = join(priv, names[k]);
-            if (q)
-                unlink(q);
-            free(q);
-        }
-        rmdir(priv);
+        arrank_plot_remove_private(priv); /* and what a failed run left */
     }
     if (st != ARRANK_OK && written)
         arrank_plot_files_clear(written);

@@ -6,11 +6,14 @@
  */
 #include "plot_style.h"
 
+#include <dirent.h>
 #include <errno.h>
 #include <math.h>
 #include <stdint.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "arrank/text.h"
 #include "plot_internal.h"
@@ -430,4 +433,56 @@ int arrank_plot_svg_finish(const char *path, const char *title)
     }
     free(buf);
     return fclose(out) == 0 ? 0 : -1;
+}
+
+/* ---- figures into place ------------------------------------------------- */
+
+arrank_status arrank_plot_move_into(const char *priv, const char *out_dir, const char *name,
+                                    unsigned format, const char *title, arrank_figure_kind kind,
+                                    size_t sample, arrank_plot_files *written, arrank_error *err)
+{
+    char *from = arrank_join_path(priv, name), *to = arrank_join_path(out_dir, name);
+    if (!from || !to) {
+        free(from);
+        free(to);
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    }
+    if ((format == ARRANK_PLOT_SVG && arrank_plot_svg_finish(from, title) != 0) ||
+        rename(from, to) != 0) {
+        arrank_status e = arrank_error_at(err, ARRANK_EIO, to, 0, 0, "cannot write '%s': %s",
+                                          to, strerror(errno));
+        free(from);
+        free(to);
+        return e;
+    }
+    free(from);
+    if (!written) {
+        free(to);
+        return ARRANK_OK;
+    }
+    arrank_plot_file *pf = &written->files[written->n++];
+    pf->kind = kind;
+    pf->sample = sample;
+    pf->format = format;
+    pf->path = to;
+    pf->name = arrank_strdup(name);
+    return pf->name ? ARRANK_OK : arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+}
+
+void arrank_plot_remove_private(const char *priv)
+{
+    DIR *d = opendir(priv);
+    if (d) {
+        struct dirent *e;
+        while ((e = readdir(d)) != NULL) {
+            if (strcmp(e->d_name, ".") == 0 || strcmp(e->d_name, "..") == 0)
+                continue;
+            char *p = arrank_join_path(priv, e->d_name);
+            if (p)
+                unlink(p);
+            free(p);
+        }
+        closedir(d);
+    }
+    rmdir(priv);
 }

@@ -44,6 +44,21 @@ const char *arrank_plot_dash(int dash);
    and the font stack in place of gnuplot's font family.  0 on success. */
 int arrank_plot_svg_finish(const char *path, const char *title);
 
+/*
+ * The figure name that gnuplot made in the private folder priv, renamed into
+ * out_dir (an SVG's <title> set to title first) and, when written is given,
+ * added to it as kind, sample and format (written->files has room).  EIO or
+ * ENOMEM, the figure left in priv then.  Every command that draws finishes
+ * its figures this way.
+ */
+arrank_status arrank_plot_move_into(const char *priv, const char *out_dir, const char *name,
+                                    unsigned format, const char *title, arrank_figure_kind kind,
+                                    size_t sample, arrank_plot_files *written, arrank_error *err);
+
+/* Empty the private folder (gnuplot writes only the figures into it, but a
+   failed run may leave part of one) and remove it. */
+void arrank_plot_remove_private(const char *priv);
+
 /* Open axes: left and bottom (top too when with_top: the degC axis), outward
    ticks, light grid, text colours, and gnuplot's own key and title off. */
 void arrank_plot_style_axes(FILE *f, int with_top);

@@ -26,6 +26,20 @@ char *arrank_strdup(const char *s)
     return d;
 }
 
+char *arrank_join_path(const char *dir, const char *name)
+{
+    size_t nd = strlen(dir), nn = strlen(name);
+    int slash = nd > 0 && dir[nd - 1] != '/';
+    char *p = malloc(nd + (size_t)slash + nn + 1);
+    if (!p)
+        return NULL;
+    memcpy(p, dir, nd);
+    if (slash)
+        p[nd] = '/';
+    memcpy(p + nd + (size_t)slash, name, nn + 1);
+    return p;
+}
+
 char *arrank_vstrfmt(const char *f, va_list ap)
 {
     /* One formatting pass into a stack buffer covers every message of the

@@ -14,6 +14,10 @@
 /* strdup that returns NULL for NULL. */
 char *arrank_strdup(const char *s);
 
+/* "dir/name" in a new string (malloc; no second '/' when dir ends in one);
+   NULL when out of memory. */
+char *arrank_join_path(const char *dir, const char *name);
+
 /* printf into a new string (malloc); NULL when out of memory. */
 char *arrank_strfmt(const char *f, ...)
 #if defined(__GNUC__)
