@@ -392,6 +392,23 @@ for fig in arrhenius rate-at-T; do
     expect_eq "PNG $fig: nothing drawn on its edges" \
         "$("$PY" tests/png_margin.py "$T/png/$fig.png")" "0 0 0 0"
 done
+# Ids in Chinese, Japanese and Korean, 17 to 20 characters: each character
+# is as wide as about two Latin ones, and the figures make room for them so
+# (the end labels go below when too wide, the id column widens); the build
+# that counted one per character ran them 118 to 177 dark pixels off an edge.
+# deps.sh --test installs a font with them (fonts-wqy-microhei).
+mkdir "$T/cjk"
+cp "$DEMO/campaign.ini" "$DEMO/ZN-01.csv" "$DEMO/ZN-02.csv" "$DEMO/ZN-06.csv" "$T/cjk/"
+sed -i "s|^# sample = .*|# sample = 镍负载β沸石催化剂第二批次还原后钝化样品|" "$T/cjk/ZN-01.csv"
+sed -i "s|^# sample = .*|# sample = ニッケル担持ゼオライト触媒還元後試料|" "$T/cjk/ZN-02.csv"
+sed -i "s|^# sample = .*|# sample = 니켈 담지 제올라이트 촉매 환원 후 시료|" "$T/cjk/ZN-06.csv"
+ok_if "a font with CJK characters is installed (deps.sh --test)" \
+    sh -c "fc-list :lang=zh | grep -q ."
+"$A" plot "$T/cjk" --at 270C --format png --out "$T/cjk-png" >/dev/null 2>&1
+for fig in arrhenius rate-at-T ea-lnA; do
+    expect_eq "PNG $fig with CJK ids: nothing drawn on its edges" \
+        "$("$PY" tests/png_margin.py "$T/cjk-png/$fig.png")" "0 0 0 0"
+done
 "$A" plot "$DEMO" --at 270C --size 700x500 --out "$T/wxh" >/dev/null 2>&1
 ok_if "--size 700x500: SVG 700 px wide" grep -q 'width="700" height="500"' "$T/wxh/ea-lnA.svg"
 "$A" plot "$DEMO" --at 270C --size huge --out "$T/huge" >/dev/null 2>"$T/huge.err"

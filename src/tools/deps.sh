@@ -4,8 +4,9 @@
 #
 #   deps.sh          what `make demo` needs (build, gnuplot)
 #   deps.sh --test   and what `make test` needs besides (SciPy, headless
-#                    Chromium for the report check, clang for the fuzzers,
-#                    a locale with a decimal comma for the locale tests)
+#                    Chromium for the report check, a CJK font for the
+#                    figures of CJK ids, clang for the fuzzers, a locale
+#                    with a decimal comma for the locale tests)
 set -eu
 for_test=0
 [ "${1:-}" = "--test" ] && for_test=1
@@ -31,6 +32,9 @@ if [ "$for_test" -eq 1 ]; then
     # Debian's python3 (a python3 earlier on PATH may be another installation).
     /usr/bin/python3 -c 'import scipy' >/dev/null 2>&1 || need="$need python3-scipy"
     command -v chromium >/dev/null 2>&1 || need="$need chromium"
+    # A font with Chinese, Japanese and Korean characters: tests/check_plot.sh
+    # draws PNG figures of such ids (without one, pango draws them wrongly).
+    [ -n "$(fc-list :lang=zh 2>/dev/null)" ] || need="$need fonts-wqy-microhei"
     # The fuzzers (make fuzz): clang and its libFuzzer runtime; make test-valgrind;
     # GNU time for peak memory in tests/check_limits.sh and make bench.
     command -v clang >/dev/null 2>&1 || need="$need clang"
