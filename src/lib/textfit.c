@@ -2,10 +2,11 @@
  * textfit.c - text and tables fitted to a terminal's width (textfit.h;
  * README "The table on a terminal").  The writers for people on a terminal
  * (rank's and fit's table, the reference's block, compare's table, a plan's
- * table) share this: widths counted in terminal columns (a CJK character two; the escaped ids are
- * UTF-8), lines broken at spaces and never ending in spaces, prose reflowed,
- * columns left out in a stated order of priority and said so, cells wrapped
- * rather than cut.  Nothing here knows what the columns hold.
+ * table, check's report) share this: widths counted in terminal columns (a
+ * CJK character two; the escaped ids are UTF-8), lines broken at spaces and
+ * never ending in spaces, prose reflowed, columns left out in a stated order
+ * of priority and said so, cells wrapped rather than cut.  Nothing here
+ * knows what the columns hold.
  */
 #include "textfit.h"
 
