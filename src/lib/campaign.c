@@ -83,6 +83,9 @@ static arrank_status read_file(int dirfd, const char *name, const char *path, ch
         if (r == 0)
             break;
         got += (size_t)r;
+        if (got == (size_t)sb.st_size && got < want)
+            break; /* the size fstat gave, and the byte past it not there: the end
+                      (a regular file's read is short only at its end, POSIX read()) */
         if (got == want) {
             if (want > (size_t)ARRANK_CAMPAIGN_MAX_FILE_BYTES) {
                 close(fd);
