@@ -164,6 +164,33 @@ PYEOF
 "$PY" "$T/rows.py" "$T/r.csv" "$T/p.csv" >"$T/py" 2>&1 || echo "not ok csv checks ran" >>"$T/py"
 tap_relay "$T/py"
 
+# --- one sample in two files with different temperature units -----------
+# Each point keeps its own file and unit: points.csv's file, T_file and
+# T_file_unit, check's left-out line and the report name the file the line is
+# in, and the JSON's excluded entries too (made-up numbers; only the
+# bookkeeping is checked).
+mkdir "$T/merge"
+printf '[campaign]\nrate_unit = umol/(g*s)\n' >"$T/merge/campaign.ini"
+printf '# sample = Kite-4\nT [degC],rate [umol/(g*s)]\n200,0.10\n220,0.25\n240,0.55\n' \
+    >"$T/merge/kite-a.csv"
+printf '# sample = Kite-4\nT [K],rate [umol/(g*s)]\n483.15,0.16\n503.15,0.37\n523.15,0.80\n533.15,n.d.\n' \
+    >"$T/merge/kite-b.csv"
+"$A" rank "$T/merge" --at 230C --points "$T/mp.csv" --json "$T/mj.json" >/dev/null 2>&1
+expect_eq "merged sample: points.csv gives each point its own file, unit and temperature" \
+    "$(cut -d, -f2,3,5,6 "$T/mp.csv" | tr '\n' ' ')" \
+    "file,line,T_file,T_file_unit kite-a.csv,3,200,degC kite-a.csv,4,220,degC kite-a.csv,5,240,degC kite-b.csv,3,483.15,K kite-b.csv,4,503.15,K kite-b.csv,5,523.15,K kite-b.csv,6,533.15,K "
+"$A" check "$T/merge" >"$T/mc" 2>/dev/null
+ok_if "merged sample: check names the file of a left-out line" \
+    grep -q "^  left out: line 6 of kite-b.csv, 533.1 K: no value ('n.d.') in column 'rate'$" "$T/mc"
+ok_if "merged sample: the JSON's excluded entry names its file" "$PY" -c '
+import json, sys
+e = json.load(open(sys.argv[1]))["samples"][0]["excluded"]
+sys.exit(0 if e == [{"file": "kite-b.csv", "line": 6, "temp_K": 533.15,
+                     "reason": "no value (\x27n.d.\x27) in column \x27rate\x27"}] else 1)' "$T/mj.json"
+"$A" report "$T/merge" --at 230C --out "$T/mr" >/dev/null 2>&1
+ok_if "merged sample: the report's left-out table names the file" \
+    grep -q '<td class="n">6 of kite-b.csv</td>' "$T/mr/report.html"
+
 # --- --strict: all or nothing, the reader as before ----------------------
 "$A" rank "$C" --at 250C --strict --json "$T/s.json" >"$T/out" 2>"$T/err"
 expect_eq "--strict: exit status 1" "$?" 1

@@ -42,9 +42,13 @@ typedef struct {
        values that could be read (NAN for the others); the analysis never fits
        it.  Owned by the sample. */
     char *omitted;
-    /* the temperature as the file wrote it, in sample.temp_unit_file (NAN
-       when the cell held no number); temp_K is it converted */
+    /* the temperature as the file wrote it, in its file's temperature unit
+       (arrank_point_temp_unit; NAN when the cell held no number); temp_K is
+       it converted */
     double temp_file;
+    /* the file the point is from: an index into sample.source_files when
+       the sample was merged from several files, else 0 (sample.file) */
+    int source;
 } arrank_point;
 
 /* A metadata entry: "# key = value" in the file or a [sample ID] key in campaign.ini. */
@@ -65,6 +69,12 @@ typedef struct {
     arrank_basis basis;   /* from the rate unit's dimension */
     char *rate_unit_file; /* rate unit as written in the file's header */
     char *temp_unit_file; /* temperature unit as written there, e.g. "degC" */
+    /* When files of one sample id were merged into it (arrank/campaign.h):
+       each file's base name and the temperature unit its header wrote, in
+       the order read; arrank_point.source indexes them, and `file` and
+       `temp_unit_file` are the first file's.  0 and NULL for one file. */
+    size_t n_sources;
+    char **source_files, **source_temp_units;
     arrank_point *points; /* in file order */
     size_t n_points;
     char **runs; /* distinct run labels in order of first appearance */
@@ -119,6 +129,12 @@ arrank_status arrank_sample_parse_with(const char *name, const char *data, size_
                                        arrank_error *err);
 
 void arrank_sample_clear(arrank_sample *sample);
+
+/* The base name of the file point p of sample s is from, and the unit its
+   temperature is written in there (NULL when unknown): s->file and
+   s->temp_unit_file unless s was merged from several files. */
+const char *arrank_point_file(const arrank_sample *s, const arrank_point *p);
+const char *arrank_point_temp_unit(const arrank_sample *s, const arrank_point *p);
 
 /* Value of metadata key (last one wins), or NULL. */
 const char *arrank_sample_meta(const arrank_sample *sample, const char *key);

@@ -709,10 +709,20 @@ static arrank_status merge_group(load_state *ls, arrank_sample **group, size_t n
     for (size_t k = 0; k < n; k++)
         total += group[k]->n_points;
     arrank_point *pts = malloc((total ? total : 1) * sizeof *pts);
-    char **runs = NULL;
+    char **runs = NULL, **src_files = calloc(n, sizeof *src_files),
+         **src_units = calloc(n, sizeof *src_units);
     size_t n_runs = 0, runs_cap = 0, at = 0;
-    if (!pts)
+    int nomem = !pts || !src_files || !src_units;
+    for (size_t k = 0; !nomem && k < n; k++) /* each point keeps its own file and unit */
+        nomem = !(src_files[k] = arrank_strdup(group[k]->file)) ||
+                (group[k]->temp_unit_file &&
+                 !(src_units[k] = arrank_strdup(group[k]->temp_unit_file)));
+    if (nomem) {
+        free(pts);
+        arrank_list_free(src_files, src_files ? n : 0);
+        arrank_list_free(src_units, src_units ? n : 0);
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
+    }
     char files[768] = "";
     size_t used = 0;
     for (size_t k = 0; k < n; k++) {
@@ -727,8 +737,11 @@ static arrank_status merge_group(load_state *ls, arrank_sample **group, size_t n
             if (p.run < 0) {
                 free(pts);
                 arrank_list_free(runs, n_runs);
+                arrank_list_free(src_files, n);
+                arrank_list_free(src_units, n);
                 return arrank_errorf(err, ARRANK_ENOMEM, "out of memory loading the campaign");
             }
+            p.source = (int)k;
             pts[at++] = p;
         }
     }
@@ -748,6 +761,9 @@ static arrank_status merge_group(load_state *ls, arrank_sample **group, size_t n
     arrank_list_free(dst->runs, dst->n_runs);
     dst->runs = runs;
     dst->n_runs = n_runs;
+    dst->source_files = src_files;
+    dst->source_temp_units = src_units;
+    dst->n_sources = n;
     char note[ARRANK_ERROR_MSG_MAX];
     snprintf(note, sizeof note,
              "sample '%s' is read from %zu files (%s), one run each unless a file has a run "

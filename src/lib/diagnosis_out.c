@@ -29,6 +29,14 @@ static json_t *jstr(const char *s)
     return s ? json_string(s) : json_null();
 }
 
+/* A string, or null when json_string refuses it (a file name that is not
+   UTF-8): the entry it belongs to is kept. */
+static json_t *jstr_or_null(const char *s)
+{
+    json_t *v = s ? json_string(s) : NULL;
+    return v ? v : json_null();
+}
+
 static json_t *jkj(double j)
 {
     return jnum(j / 1000.0);
@@ -179,8 +187,10 @@ json_t *arrank_diagnosis_json(const arrank_result *res)
         json_array_append_new(local, jkj(pd->local_ea_J_mol));
         if (!res->used[i])
             json_array_append_new(excluded,
-                                  json_pack("{s:I, s:o, s:o}", "line", (json_int_t)p->line,
-                                            "temp_K", jnum(p->temp_K), "reason",
+                                  json_pack("{s:o, s:I, s:o, s:o}", "file",
+                                            jstr_or_null(arrank_point_file(s, p)), "line",
+                                            (json_int_t)p->line, "temp_K", jnum(p->temp_K),
+                                            "reason",
                                             jstr(pd->reason ? pd->reason
                                                             : "left out before the diagnostics")));
         if (pd->high_conversion)
@@ -334,15 +344,22 @@ static int left_out_line(FILE *f, const arrank_sample *s, const arrank_point *p,
     char *own;
     const char *text = shown(why, &own);
     int bad;
-    const char *u = s->temp_unit_file;
+    const char *u = arrank_point_temp_unit(s, p);
+    char where[300]; /* "line 5", or "line 5 of kite-b.csv" in a sample of several files */
+    char *file_own;
+    const char *file = s->n_sources > 1 ? shown(arrank_point_file(s, p), &file_own) : NULL;
+    snprintf(where, sizeof where, "line %ld%s%.250s", p->line, file ? " of " : "",
+             file ? file : "");
+    if (file)
+        free(file_own);
     if (isfinite(p->temp_K) && isfinite(p->temp_file) && u && strcmp(u, "K") != 0 &&
         arrank_text_is_clean(u))
-        bad = fprintf(f, "  left out: line %ld, %.15g %s (%.1f K): %s\n", p->line, p->temp_file,
-                      u, p->temp_K, text) < 0;
+        bad = fprintf(f, "  left out: %s, %.15g %s (%.1f K): %s\n", where, p->temp_file, u,
+                      p->temp_K, text) < 0;
     else if (isfinite(p->temp_K))
-        bad = fprintf(f, "  left out: line %ld, %.1f K: %s\n", p->line, p->temp_K, text) < 0;
+        bad = fprintf(f, "  left out: %s, %.1f K: %s\n", where, p->temp_K, text) < 0;
     else
-        bad = fprintf(f, "  left out: line %ld, \xE2\x80\x94: %s\n", p->line, text) < 0;
+        bad = fprintf(f, "  left out: %s, \xE2\x80\x94: %s\n", where, text) < 0;
     free(own);
     return bad;
 }

@@ -713,6 +713,12 @@ static void put_diagnosis_summary(text_buf *b, int *bad, int *first, const arran
         put_gap(b, bad);
         int f2 = 1;
         PUT("{");
+        put_key_at(b, bad, &f2, "file"); /* null when not UTF-8, as jansson would have it */
+        const char *file = arrank_point_file(s, &s->points[i]);
+        if (file && utf8_ok(file))
+            put_string(b, bad, file);
+        else
+            PUT("null");
         put_key_at(b, bad, &f2, "line");
         put_int(b, bad, s->points[i].line);
         put_key_at(b, bad, &f2, "temp_K");

@@ -10,7 +10,8 @@
  * (ln rate - fitted), reason (why the point is left out: the reader's reason
  * for a point it could not use, else the diagnosis's; empty when used).
  * T_file and T_file_unit are the temperature as the file wrote it and the
- * unit of its header (arrank_point.temp_file, arrank_sample.temp_unit_file).
+ * unit of its header (arrank_point.temp_file, arrank_point_temp_unit); file
+ * is the point's own file, also for a sample merged from several files.
  */
 #include "points.h"
 
@@ -55,11 +56,12 @@ static void write_point(const arrank_analysis *a, const arrank_result *res, size
     const arrank_arrhenius *fit = &res->fit;
     int fitted = res->error == NULL, used = fitted && res->used && res->used[k];
     arrank_files_csv_field(row, s->id, 0);
-    arrank_files_csv_field(row, s->file, 0);
+    arrank_files_csv_field(row, arrank_point_file(s, p), 0); /* a merged sample's own files */
     arrank_files_csv_num(row, (double)p->line, 0);
     arrank_files_csv_num(row, p->temp_K, 0);
     arrank_files_csv_num(row, p->temp_file, 0);
-    arrank_files_csv_field(row, s->temp_unit_file ? s->temp_unit_file : "", 0);
+    const char *unit = arrank_point_temp_unit(s, p);
+    arrank_files_csv_field(row, unit ? unit : "", 0);
     arrank_files_csv_num(row, p->rate, 0);
     arrank_files_csv_num(row, p->rate_sd, 0);
     arrank_files_csv_num(row, p->conversion, 0);

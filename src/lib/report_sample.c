@@ -127,7 +127,12 @@ static void put_left_out(FILE *f, const arrank_result *r)
         if (r->used[k])
             continue;
         const arrank_point *p = &s->points[k];
-        fprintf(f, "<tr><td class=\"n\">%ld</td><td class=\"n\">", p->line);
+        fprintf(f, "<tr><td class=\"n\">%ld", p->line);
+        if (s->n_sources > 1) { /* a sample of several files: which one */
+            fputs(" of ", f);
+            arrank_text_html(f, arrank_point_file(s, p));
+        }
+        fputs("</td><td class=\"n\">", f);
         arrank_report_html_num(f, p->temp_K - ZERO_C_K, 1);
         fputs("</td><td class=\"n\">", f);
         arrank_report_html_num(f, p->temp_K, 1);

@@ -435,6 +435,7 @@ static void start_point(parser *p)
 {
     p->point.temp_K = NAN;
     p->point.temp_file = NAN;
+    p->point.source = 0;
     p->point.rate = NAN;
     p->point.rate_sd = NAN;
     p->point.conversion = NAN;
@@ -859,6 +860,20 @@ static int metadata_line(parser *p, const char *s, size_t n)
     return add_meta(p, k0, (size_t)(k1 - k0), v0, (size_t)(v1 - v0), p->path, p->line);
 }
 
+const char *arrank_point_file(const arrank_sample *s, const arrank_point *p)
+{
+    if (s->n_sources && p->source >= 0 && (size_t)p->source < s->n_sources)
+        return s->source_files[p->source];
+    return s->file;
+}
+
+const char *arrank_point_temp_unit(const arrank_sample *s, const arrank_point *p)
+{
+    if (s->n_sources && p->source >= 0 && (size_t)p->source < s->n_sources)
+        return s->source_temp_units[p->source];
+    return s->temp_unit_file;
+}
+
 const char *arrank_sample_meta(const arrank_sample *sample, const char *key)
 {
     if (!sample || !key)
@@ -878,6 +893,8 @@ void arrank_sample_clear(arrank_sample *sample)
     free(sample->file);
     free(sample->rate_unit_file);
     free(sample->temp_unit_file);
+    arrank_list_free(sample->source_files, sample->n_sources);
+    arrank_list_free(sample->source_temp_units, sample->n_sources);
     for (size_t i = 0; i < sample->n_points; i++)
         free(sample->points[i].omitted);
     free(sample->points);
