@@ -187,6 +187,11 @@ import json, sys
 e = json.load(open(sys.argv[1]))["samples"][0]["excluded"]
 sys.exit(0 if e == [{"file": "kite-b.csv", "line": 6, "temp_K": 533.15,
                      "reason": "no value (\x27n.d.\x27) in column \x27rate\x27"}] else 1)' "$T/mj.json"
+"$A" rank "$T/merge" --at 230C --json "$T/mjp.json" --json-points >/dev/null 2>&1
+ok_if "merged sample: --json-points gives each point its file" "$PY" -c '
+import json, sys
+p = json.load(open(sys.argv[1]))["samples"][0]["points"]
+sys.exit(0 if [x["file"] for x in p] == ["kite-a.csv"] * 3 + ["kite-b.csv"] * 4 else 1)' "$T/mjp.json"
 "$A" report "$T/merge" --at 230C --out "$T/mr" >/dev/null 2>&1
 ok_if "merged sample: the report's left-out table names the file" \
     grep -q '<td class="n">6 of kite-b.csv</td>' "$T/mr/report.html"

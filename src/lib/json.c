@@ -56,6 +56,8 @@ static json_t *points_json(const arrank_result *res)
     for (size_t i = 0; i < s->n_points; i++) {
         const arrank_point *p = &s->points[i];
         json_t *o = json_object();
+        json_t *file = json_string(arrank_point_file(s, p)); /* null when not UTF-8 */
+        json_object_set_new(o, "file", file ? file : json_null());
         json_object_set_new(o, "line", json_integer(p->line));
         json_object_set_new(o, "T_K", jnum(p->temp_K));
         json_object_set_new(o, "rate", jnum(p->rate));
