@@ -72,7 +72,7 @@ checks = [
     len(t["regime"]) == t["n_points"],
     t["regime"][0] == "kinetic" and t["regime"][-1] == "pore_diffusion",
     len(t["excluded"]) == t["n_points"] - t["n_used"] > 0,
-    all(set(e) == {"line", "temp_K", "reason"} for e in t["excluded"]),
+    all(set(e) == {"file", "line", "temp_K", "reason"} and e["file"] == t["file"] for e in t["excluded"]),
     t["curvature"]["verdict"] == "detected" and t["curvature"]["direction"] == "concave-down",
     t["criteria"]["weisz_prater"]["computed"] and t["criteria"]["weisz_prater"]["value"] > 0.6,
     "transport" in t["flags"] and "excluded" in t["flags"],

@@ -173,7 +173,7 @@ mkdir "$T/merge"
 printf '[campaign]\nrate_unit = umol/(g*s)\n' >"$T/merge/campaign.ini"
 printf '# sample = Kite-4\nT [degC],rate [umol/(g*s)]\n200,0.10\n220,0.25\n240,0.55\n' \
     >"$T/merge/kite-a.csv"
-printf '# sample = Kite-4\nT [K],rate [umol/(g*s)]\n483.15,0.16\n503.15,0.37\n523.15,0.80\n533.15,n.d.\n' \
+printf '# sample = Kite-4\nT [K],rate [umol/(g*s)],conversion [%%]\n483.15,0.16,3\n503.15,0.37,6\n523.15,0.80,14\n533.15,n.d.,\n' \
     >"$T/merge/kite-b.csv"
 "$A" rank "$T/merge" --at 230C --points "$T/mp.csv" --json "$T/mj.json" >/dev/null 2>&1
 expect_eq "merged sample: points.csv gives each point its own file, unit and temperature" \
@@ -182,11 +182,13 @@ expect_eq "merged sample: points.csv gives each point its own file, unit and tem
 "$A" check "$T/merge" >"$T/mc" 2>/dev/null
 ok_if "merged sample: check names the file of a left-out line" \
     grep -q "^  left out: line 6 of kite-b.csv, 533.1 K: no value ('n.d.') in column 'rate'$" "$T/mc"
+ok_if "merged sample: the diagnosis names the file of a line" \
+    grep -q "conversion 14.0 % at 523.1 K (line 5 of kite-b.csv) is above the 10 % differential limit" "$T/mc"
 ok_if "merged sample: the JSON's excluded entry names its file" "$PY" -c '
 import json, sys
 e = json.load(open(sys.argv[1]))["samples"][0]["excluded"]
-sys.exit(0 if e == [{"file": "kite-b.csv", "line": 6, "temp_K": 533.15,
-                     "reason": "no value (\x27n.d.\x27) in column \x27rate\x27"}] else 1)' "$T/mj.json"
+sys.exit(0 if [(x["file"], x["line"]) for x in e] == [("kite-b.csv", 5), ("kite-b.csv", 6)]
+         and e[1]["reason"] == "no value (\x27n.d.\x27) in column \x27rate\x27" else 1)' "$T/mj.json"
 "$A" rank "$T/merge" --at 230C --json "$T/mjp.json" --json-points >/dev/null 2>&1
 ok_if "merged sample: --json-points gives each point its file" "$PY" -c '
 import json, sys

@@ -106,6 +106,7 @@ typedef struct {
     double conversion_max;   /* highest conversion of a usable point (fraction); NAN if none */
     double temp_K;           /* temperature of that point; NAN if none */
     long line;               /* its line in the file; 0 if none */
+    int source;              /* its file (arrank_point.source: a merged sample's) */
     int caution;             /* 1: exothermic and some point above the conversion limit */
     double adiabatic_rise_K; /* (-dH) y_A0 X_max / c_p of the feed; NAN when not computed */
     char *detail;            /* inputs of the adiabatic rise, or the entries it needs;

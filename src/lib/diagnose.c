@@ -458,10 +458,12 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
     for (size_t k = 0; k < n; k++) {
         size_t i = sorted[k];
         const arrank_point_diag *pd = &d->points[i];
+        char where[256];
         if (pd->high_conversion)
-            arrank_dwork_finding(wk, "conversion %.1f %% at %.1f K (line %ld) is above the %.0f %% "
+            arrank_dwork_finding(wk, "conversion %.1f %% at %.1f K (%s) is above the %.0f %% "
                         "differential limit: the rate there is not a differential rate",
-                    100.0 * wk->pt[i].conversion, wk->pt[i].temp_K, wk->pt[i].line,
+                    100.0 * wk->pt[i].conversion, wk->pt[i].temp_K,
+                    arrank_dwork_where(wk, wk->pt[i].line, wk->pt[i].source, where, sizeof where),
                     100.0 * d->conversion_limit);
     }
     /* what the fit did, not a problem of the data: a note */
@@ -482,10 +484,12 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
         const arrank_point_diag *pd = &d->points[i];
         if (!pd->outlier)
             continue;
+        char where[256];
         arrank_dwork_finding(wk,
-                "point at %.1f K (line %ld) is %s: studentized residual %.2f (limit %.2f), "
+                "point at %.1f K (%s) is %s: studentized residual %.2f (limit %.2f), "
                 "Cook's distance %.2f (limit %.0f); %s",
-                wk->pt[i].temp_K, wk->pt[i].line,
+                wk->pt[i].temp_K,
+                arrank_dwork_where(wk, wk->pt[i].line, wk->pt[i].source, where, sizeof where),
                 fabs(pd->student_resid) > d->outlier_t_limit ? "an outlier" : "influential",
                 pd->student_resid, d->outlier_t_limit, pd->cooks_d, ARRANK_COOK_LIMIT,
                 pd->excluded ? "left out of the fit as asked"

@@ -210,6 +210,7 @@ static void highest_conversion(arrank_dwork *wk)
             hs->conversion_max = p->conversion;
             hs->temp_K = p->temp_K;
             hs->line = p->line;
+            hs->source = p->source;
         }
     }
 }
@@ -519,7 +520,7 @@ void arrank_transport_describe(arrank_dwork *wk)
     if (!(d->n_high_conversion > 0 && isfinite(hs->conversion_max)))
         return;
     if (hs->caution) {
-        char rise[200] = "";
+        char rise[200] = "", where[256];
         if (isfinite(hs->adiabatic_rise_K))
             snprintf(rise, sizeof rise,
                      "; the feed would heat up by %.3g K if none of that heat left the bed "
@@ -528,12 +529,13 @@ void arrank_transport_describe(arrank_dwork *wk)
         else if (hs->detail)
             snprintf(rise, sizeof rise, "; %s", hs->detail);
         arrank_dwork_finding(wk, "hot-spot caution for %s: the reaction is exothermic (dH = %.4g kJ/mol) and "
-                    "conversion reaches %.1f %% at %.1f K (line %ld), above the %.0f %% limit: "
+                    "conversion reaches %.1f %% at %.1f K (%s), above the %.0f %% limit: "
                     "the bed is likely hotter than the thermocouple, which biases the rates and "
                     "Ea there; dilute the bed with inert solid, run at lower conversion or "
                     "measure the temperature inside the bed%s",
                 wk->s->id, hs->enthalpy_J_mol / 1000.0, 100.0 * hs->conversion_max, hs->temp_K,
-                hs->line, 100.0 * d->conversion_limit, rise);
+                arrank_dwork_where(wk, hs->line, hs->source, where, sizeof where),
+                100.0 * d->conversion_limit, rise);
     } else if (hs->enthalpy_J_mol > 0)
         arrank_dwork_note(wk, "endothermic reaction (dH = %.4g kJ/mol) at up to %.1f %% conversion: the bed "
                  "may be colder than the thermocouple",

@@ -12,6 +12,7 @@
 
 #include <stdarg.h>
 #include <stddef.h>
+#include <stdio.h>
 
 #include "arrank/campaign.h"
 #include "arrank/verdicts.h"
@@ -45,6 +46,19 @@ static inline char *arrank_dwork_fmt(arrank_dwork *wk, const char *f, ...)
     if (!s)
         wk->nomem = 1;
     return s;
+}
+
+/* Where line `line` of file `source` is, as the words say it: "line 12", or
+   "line 12 of kite-b.csv" in a sample read from several files (sample.h). */
+static inline const char *arrank_dwork_where(const arrank_dwork *wk, long line, int source,
+                                             char *buf, size_t n)
+{
+    const arrank_sample *s = wk->s;
+    if (s->n_sources > 1 && source >= 0 && (size_t)source < s->n_sources)
+        snprintf(buf, n, "line %ld of %.200s", line, s->source_files[source]);
+    else
+        snprintf(buf, n, "line %ld", line);
+    return buf;
 }
 
 /* A note, and a finding, of the diagnosis (printf into a new string that
