@@ -30,7 +30,6 @@
 #include "arrank/report.h"
 #include "reference_out.h"
 
-#include <dirent.h>
 #include <errno.h>
 #include <math.h>
 #include <stdio.h>
@@ -223,27 +222,6 @@ static const char *figure_caption(arrank_figure_kind kind)
 }
 
 
-static void remove_tree(const char *dir)
-{
-    DIR *d = opendir(dir);
-    if (d) {
-        struct dirent *e;
-        while ((e = readdir(d)) != NULL) {
-            if (strcmp(e->d_name, ".") == 0 || strcmp(e->d_name, "..") == 0)
-                continue;
-            size_t n = strlen(dir) + strlen(e->d_name) + 2;
-            char *p = malloc(n);
-            if (p) {
-                snprintf(p, n, "%s/%s", dir, e->d_name);
-                unlink(p);
-                free(p);
-            }
-        }
-        closedir(d);
-    }
-    rmdir(dir);
-}
-
 /* Draw the figures into a temporary folder in dir and read them back. */
 static arrank_status draw_figures(const arrank_analysis *a, const char *dir,
                                   const arrank_report_options *o, figure_set *fs,
@@ -269,7 +247,7 @@ static arrank_status draw_figures(const arrank_analysis *a, const char *dir,
     fs->status = arrank_plot_write(a, tmpdir, &po, &fs->files, &perr);
     if (fs->status != ARRANK_OK) {
         snprintf(fs->message, sizeof fs->message, "%s", perr.message);
-        remove_tree(tmpdir);
+        arrank_plot_remove_private(tmpdir);
         free(tmpdir);
         if (fs->status == ARRANK_ENOMEM)
             return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
@@ -277,7 +255,7 @@ static arrank_status draw_figures(const arrank_analysis *a, const char *dir,
     }
     fs->svg = calloc(fs->files.n ? fs->files.n : 1, sizeof *fs->svg);
     if (!fs->svg) {
-        remove_tree(tmpdir);
+        arrank_plot_remove_private(tmpdir);
         free(tmpdir);
         return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
     }
@@ -285,7 +263,7 @@ static arrank_status draw_figures(const arrank_analysis *a, const char *dir,
         size_t len;
         fs->svg[k] = read_all(fs->files.files[k].path, &len);
     }
-    remove_tree(tmpdir);
+    arrank_plot_remove_private(tmpdir);
     free(tmpdir);
     return ARRANK_OK;
 }
