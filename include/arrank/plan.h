@@ -123,13 +123,23 @@ arrank_status arrank_plan_refit(const arrank_plan_sample *s, const double *temp_
 void arrank_plan_key(const arrank_plan_sample *s, double temp_K, double *mean, double *se);
 
 /*
+ * P(sample `best` has the largest key) for n independent keys mean + se T,
+ * T ~ Student's t with dof degrees of freedom (INFINITY: normal): the
+ * ranking's model of P(best) (arrank/pbest.h), by quadrature instead of
+ * draws, within 1e-9 (tests/check_scipy_plan.py).  NAN when best >= n or
+ * out of memory.
+ */
+double arrank_plan_p_best(const double *mean, const double *se, const double *dof, size_t n,
+                          size_t best);
+
+/*
  * 1 when the goal is met by n samples (keys at t->temp_K, any order) with
  * the involved ones (indices involved[n_involved]; for separate, involved[0]
  * is the current leader and the rest its group): separate, when the best
  * key's sample differs from every other sample after Holm's correction at
  * t->alpha over the first t->n_family in key order (the groups of
- * arrank/groups.h), or its P(best) reaches t->target (normal approximation,
- * by quadrature); precision, when every involved sample's interval
+ * arrank/groups.h), or its P(best) reaches t->target (Student-t keys,
+ * arrank_plan_p_best); precision, when every involved sample's interval
  * exp(+-t se) lies within 1 +- width.  0 when not; -1 out of memory.
  * (Curvature is judged on the quadratic fit inside arrank_plan_simulate: 0.)
  */

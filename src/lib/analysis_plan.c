@@ -362,10 +362,10 @@ static arrank_status check_options(const arrank_analysis *a, const arrank_plan_o
 /*
  * Whether the goal is met by the campaign as it is.  For the separate goal,
  * the P(best) route takes the leader's P(best) that rank shows (its
- * Student-t draws, analysis_rank.c), not the normal approximation the
- * simulations score future campaigns with: near the target the two differ by
- * a few hundredths, and the plan must not call a tie settled that rank still
- * shows (tests/test_plan.c).  1, 0, or -1 out of memory.
+ * Student-t draws, analysis_rank.c), the number the user sees; the
+ * simulations score future campaigns with the same model by quadrature
+ * (arrank_plan_p_best), which agrees with it to rank's Monte Carlo error
+ * (tests/test_plan.c).  1, 0, or -1 out of memory.
  */
 static int met_now(const plan_work *w, const arrank_plan_target *t)
 {

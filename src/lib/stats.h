@@ -16,6 +16,10 @@
 /* Upper-tail t quantile: t with P(T > t) = tail (gsl_cdf_tdist_Qinv), cached. */
 double arrank_stats_t_upper(double tail, double dof);
 
+/* Lower tail of Student's t, P(T < t) (gsl_cdf_tdist_P; normal for an
+   infinite dof). */
+double arrank_stats_t_cdf(double t, double dof);
+
 /* Two-sided p-value of Student's t, P(|T| > |t|) = 2 gsl_cdf_tdist_Q(|t|, dof);
    0 for infinite t, NAN for NAN. */
 double arrank_stats_t_p(double t, double dof);
