@@ -94,8 +94,8 @@ expect_eq "JSON: regime, excluded, curvature, criteria, quality; --use-all keeps
 ok_if "check: Ea with its 95 % interval and the standard error named" \
     grep -q '^ZN-01 H-beta (ZN-01.csv): no problem found; Ea 61.9 kJ/mol (95 % interval 59.5-64.4, standard error 1.0) on 9 points$' "$T/plain"
 # fitting on the kinetic window is what the fit did, not a problem of the data
-ok_if "check: the kinetic window is a note, not a problem" \
-    grep -q '^  note: fitted on the kinetic window 483.2-543.5 K (7 points)' "$T/plain"
+ok_if "check: the kinetic window is a note, not a problem, in the file's degC beside K" \
+    grep -q '^  note: fitted on the kinetic window, 7 points at 210.1-270.4 degC (483.2-543.5 K): ' "$T/plain"
 ok_if "check: ZN-12's three problems (the window not counted)" \
     grep -q '^ZN-12 beta extrudate (ZN-12.csv): 3 problems found$' "$T/plain"
 # counts agree with their nouns
@@ -110,8 +110,10 @@ cp "$DEMO/ZN-01.csv" "$T/one/"
 "$A" fit "$T/one" >"$T/one.out" 2>/dev/null
 ok_if "table: 'campaign ...: 1 sample,'" grep -q "^campaign 'one': 1 sample, rates in" "$T/one.out"
 "$A" check "$DEMO" --at 340C >"$T/ext" 2>/dev/null
-ok_if "check: an operating temperature against the range to 0.01 K" \
-    grep -q 'measured range: 613.15 K against 503.15-583.35 K measured (29.80 K outside, 37 % of the span)' "$T/ext"
+ok_if "check: an operating temperature against the range to 0.01 K (a degC file: degC beside K)" \
+    grep -q 'measured range: 340.00 degC (613.15 K) against 230.00-310.20 degC (503.15-583.35 K) measured (29.80 K outside, 37 % of the span)' "$T/ext"
+ok_if "check: the same for a file in K: K alone" \
+    grep -q 'measured range: 613.15 K against 512.90-593.00 K measured (20.15 K outside, 25 % of the span)' "$T/ext"
 # The local Ea windows carry their interval at the run's level: Ea -/+ t se
 # with t on the window's n - 2 degrees of freedom (t quantile from SciPy,
 # scipy.stats.t.ppf), and the figure's legend says so (no bare standard error).

@@ -182,8 +182,8 @@ expect_eq "merged sample: points.csv gives each point its own file, unit and tem
 "$A" check "$T/merge" >"$T/mc" 2>/dev/null
 ok_if "merged sample: check names the file of a left-out line" \
     grep -q "^  left out: line 6 of kite-b.csv, 533.1 K: no value ('n.d.') in column 'rate'$" "$T/mc"
-ok_if "merged sample: the diagnosis names the file of a line" \
-    grep -q "conversion 14.0 % at 523.1 K (line 5 of kite-b.csv) is above the 10 % differential limit" "$T/mc"
+ok_if "merged sample: the diagnosis names the file of a line (files in degC and K: K alone)" \
+    grep -q "conversion 14.0 % on line 5 of kite-b.csv at 523.1 K is above the 10 % differential limit" "$T/mc"
 ok_if "merged sample: the JSON's excluded entry names its file" "$PY" -c '
 import json, sys
 e = json.load(open(sys.argv[1]))["samples"][0]["excluded"]

@@ -307,8 +307,8 @@ expect_eq "ZN-12 diagnostics: key gives the window in degC (check says 483.2-543
     "${6:-}" True
 expect_eq "ZN-12 diagnostics: half-Ea line of strong pore diffusion" "${7:-}" True
 expect_eq "ZN-12 diagnostics: open markers explained" "${8:-}" True
-ok_if "ZN-12 check: window 483.2-543.5 K, the figure's 210-270 degC" \
-    grep -q 'kinetic window 483.2-543.5 K' "$T/check.txt"
+ok_if "ZN-12 check: window 210.1-270.4 degC (483.2-543.5 K), the figure's 210-270 degC" \
+    grep -q 'kinetic window, 7 points at 210.1-270.4 degC (483.2-543.5 K)' "$T/check.txt"
 d01=$(ls "$T/diag" | grep '^diagnostics-01-.*\.svg$')
 set -- $("$PY" "$T/diag.py" "$T/diag/$d01" shades has=kinetic has=pore-diffusion-like \
     'has=open: left out of the fit')

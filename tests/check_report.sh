@@ -103,7 +103,7 @@ ok_if "report: ZN-14's high-conversion rows" \
 ok_if "report: Weisz-Prater verdict for ZN-12 (check: 8.78 above 0.6)" \
     grep -q '<th>Weisz&ndash;Prater</th><td class="n">8.78</td><td class="n">0.6</td>' "$R"
 ok_if "check agrees: Weisz-Prater number 8.78 above 0.6" \
-    grep -q 'Weisz-Prater number 8.78 at 612.8 K is above 0.6' "$T/check.txt"
+    grep -q 'Weisz-Prater number 8.78 at 339.6 degC (612.8 K) is above 0.6' "$T/check.txt"
 
 # ---- reproducible date (reproducible-builds.org, SOURCE_DATE_EPOCH) --------
 # 1700000000 s is 2023-11-14 22:13:20 UTC (GNU date -u -d @1700000000).

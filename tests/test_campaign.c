@@ -319,13 +319,32 @@ static void test_same_data_other_units(void **state)
     static const char *const unit_written[] = {"degC", "K", "degF"};
     static const double first_written[] = {231.4, 504.55, 448.52}, last_written[] = {
         271.6, 544.75, 520.88};
+    /* The diagnosis's words give a temperature in the file's unit beside
+       the kelvin (arrank_sample_temp_text): 544.75 K is 271.6 degC and
+       520.88 degF (exact by the units' definitions), at the stated digits. */
+    static const char *const at_text[] = {"271.6 degC (544.8 K)", "544.8 K",
+                                          "520.9 degF (544.8 K)"};
+    static const char *const span_text[] = {"231-272 degC (505-545 K)", "505-545 K",
+                                            "449-521 degF (505-545 K)"};
+    char buf[128];
     for (size_t i = 0; i < 3; i++) {
         assert_non_null(s[i].temp_unit_file);
         assert_string_equal(s[i].temp_unit_file, unit_written[i]);
         assert_true(s[i].points[0].temp_file == first_written[i]);
         assert_true(s[i].points[3].temp_file == last_written[i]);
-        arrank_sample_clear(&s[i]);
+        assert_string_equal(arrank_sample_temp_text(&s[i], 544.75, NAN, 1, buf, sizeof buf),
+                            at_text[i]);
+        assert_string_equal(arrank_sample_temp_text(&s[i], 504.55, 544.75, 0, buf, sizeof buf),
+                            span_text[i]);
     }
+    /* cut to fit, never past the buffer; a non-finite temperature in K only */
+    char small[9];
+    memset(small, 'x', sizeof small);
+    assert_string_equal(arrank_sample_temp_text(&s[0], 544.75, NAN, 1, small, 8), "271.6 d");
+    assert_int_equal(small[8], 'x');
+    assert_string_equal(arrank_sample_temp_text(&s[0], NAN, NAN, 1, buf, sizeof buf), "nan K");
+    for (size_t i = 0; i < 3; i++)
+        arrank_sample_clear(&s[i]);
     /* the unit as the header spells it, and a cell the lenient reader leaves
        out: no number, so no temperature as written either */
     arrank_sample t;
@@ -338,6 +357,9 @@ static void test_same_data_other_units(void **state)
                                               &lenient, &t, &err),
                      ARRANK_OK);
     assert_string_equal(t.temp_unit_file, "\xC2\xB0" "C");
+    char words[64];
+    assert_string_equal(arrank_sample_temp_text(&t, 544.75, NAN, 1, words, sizeof words),
+                        "271.6 \xC2\xB0" "C (544.8 K)");
     assert_int_equal(t.n_points, 4);
     assert_true(t.points[0].temp_file == 231.4);
     assert_non_null(t.points[1].omitted);

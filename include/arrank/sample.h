@@ -69,6 +69,9 @@ typedef struct {
     arrank_basis basis;   /* from the rate unit's dimension */
     char *rate_unit_file; /* rate unit as written in the file's header */
     char *temp_unit_file; /* temperature unit as written there, e.g. "degC" */
+    /* temp_K = scale * temp_file + offset, as the reader converted (the first
+       file's in a merged sample); scale 0 when no temperature was read */
+    arrank_conversion temp_to_K;
     /* When files of one sample id were merged into it (arrank/campaign.h):
        each file's base name and the temperature unit its header wrote, in
        the order read; arrank_point.source indexes them, and `file` and
@@ -135,6 +138,18 @@ void arrank_sample_clear(arrank_sample *sample);
    s->temp_unit_file unless s was merged from several files. */
 const char *arrank_point_file(const arrank_sample *s, const arrank_point *p);
 const char *arrank_point_temp_unit(const arrank_sample *s, const arrank_point *p);
+
+/*
+ * A temperature of sample s as the words say it, prec digits after the
+ * point (the same in any locale): "603.3 K", or "330.2 degC (603.3 K)" when
+ * s's file wrote another unit (its header's own spelling; every file of a
+ * merged sample the same), so that a report shows the file's value and the
+ * rig's setpoint beside the kelvin.  A span lo-hi the same way, "210-230 degC
+ * (483-503 K)"; hi_K NAN for one temperature.  Into buf[n] (cut to fit);
+ * returns buf.
+ */
+const char *arrank_sample_temp_text(const arrank_sample *s, double lo_K, double hi_K, int prec,
+                                    char *buf, size_t n);
 
 /* Value of metadata key (last one wins), or NULL. */
 const char *arrank_sample_meta(const arrank_sample *sample, const char *key);

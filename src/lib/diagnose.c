@@ -282,6 +282,7 @@ static void name_causes(arrank_dwork *wk, const size_t *sorted, size_t n, double
     runs_up |= d->drift.verdict > 0;
     size_t n_pore = 0, n_film = 0, hot_conv = 0;
     double lo_pore = INFINITY, lo_film = INFINITY, t_pore = NAN, t_film = NAN;
+    char tbuf[120];
     for (size_t k = 0; k < n; k++) {
         const arrank_point_diag *pd = &d->points[sorted[k]];
         if (pd->regime == ARRANK_REGIME_PORE) {
@@ -329,10 +330,11 @@ static void name_causes(arrank_dwork *wk, const size_t *sorted, size_t n, double
                               "temperature (see the run and drift checks)"));
         if (n_pore)
             add_cause(wk, 1, arrank_dwork_fmt(wk, "pore diffusion"),
-                      arrank_dwork_fmt(wk, "local apparent Ea falls to %.0f kJ/mol at %.0f K against %.0f "
+                      arrank_dwork_fmt(wk, "local apparent Ea falls to %.0f kJ/mol at %s against %.0f "
                               "kJ/mol in the kinetic window (ratio %.2f; strong pore diffusion "
                               "gives about one half); %s%s%s",
-                          kj(lo_pore), t_pore, kj(ea_window), lo_pore / ea_window, series,
+                          kj(lo_pore), arrank_sample_temp_text(wk->s, t_pore, NAN, 0, tbuf, sizeof tbuf),
+                          kj(ea_window), lo_pore / ea_window, series,
                           wp->computed ? "; " : "",
                           wp->computed ? (wp->passes ? "but the Weisz-Prater number is below its "
                                                        "limit, which argues against it"
@@ -341,11 +343,12 @@ static void name_causes(arrank_dwork *wk, const size_t *sorted, size_t n, double
                                        : ""));
         if (n_film)
             add_cause(wk, 1, arrank_dwork_fmt(wk, "film (external) mass transfer"),
-                      arrank_dwork_fmt(wk, "local apparent Ea falls to %.0f kJ/mol at %.0f K against %.0f "
+                      arrank_dwork_fmt(wk, "local apparent Ea falls to %.0f kJ/mol at %s against %.0f "
                               "kJ/mol in the kinetic window (ratio %.2f), below %.0f kJ/mol or "
                               "%.1f of the window's: past the one half that pore diffusion gives "
                               "at most; %s%s%s",
-                          kj(lo_film), t_film, kj(ea_window), lo_film / ea_window,
+                          kj(lo_film), arrank_sample_temp_text(wk->s, t_film, NAN, 0, tbuf, sizeof tbuf),
+                          kj(ea_window), lo_film / ea_window,
                           kj(FILM_EA_J_MOL), PORE_RATIO_LO, series,
                           me->computed ? "; " : "",
                           me->computed ? (me->passes ? "but the Mears number is below its limit, "
@@ -426,14 +429,16 @@ static void describe_curvature(arrank_dwork *wk, const size_t *sorted, size_t n)
                                "; only bending well beyond the scatter would show"};
         note_join(wk, parts, sizeof parts / sizeof parts[0]);
     } else {
-        char local[160] = "";
+        char local[320] = "", cold[120], hot[120];
         if (cv->n_local >= 2)
-            snprintf(local, sizeof local,
-                     "; local apparent Ea %.0f kJ/mol at %.0f-%.0f K and %.0f kJ/mol at "
-                     "%.0f-%.0f K",
-                     kj(cv->local[0].ea_J_mol), cv->local[0].temp_lo_K, cv->local[0].temp_hi_K,
+            snprintf(local, sizeof local, "; local apparent Ea %.0f kJ/mol at %s and %.0f kJ/mol at %s",
+                     kj(cv->local[0].ea_J_mol),
+                     arrank_sample_temp_text(wk->s, cv->local[0].temp_lo_K, cv->local[0].temp_hi_K, 0,
+                                            cold, sizeof cold),
                      kj(cv->local[cv->n_local - 1].ea_J_mol),
-                     cv->local[cv->n_local - 1].temp_lo_K, cv->local[cv->n_local - 1].temp_hi_K);
+                     arrank_sample_temp_text(wk->s, cv->local[cv->n_local - 1].temp_lo_K,
+                                            cv->local[cv->n_local - 1].temp_hi_K, 0, hot,
+                                            sizeof hot));
         arrank_dwork_finding(wk, "the Arrhenius plot bends %s (%s): quadratic term t = %.2f, p = %.2g at level "
                     "%.2g%s",
                 arrank_bend_name(cv->direction),
@@ -458,22 +463,26 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
     for (size_t k = 0; k < n; k++) {
         size_t i = sorted[k];
         const arrank_point_diag *pd = &d->points[i];
-        char where[256];
+        char where[256], tbuf[120];
         if (pd->high_conversion)
-            arrank_dwork_finding(wk, "conversion %.1f %% at %.1f K (%s) is above the %.0f %% "
+            arrank_dwork_finding(wk, "conversion %.1f %% on %s at %s is above the %.0f %% "
                         "differential limit: the rate there is not a differential rate",
-                    100.0 * wk->pt[i].conversion, wk->pt[i].temp_K,
+                    100.0 * wk->pt[i].conversion,
                     arrank_dwork_where(wk, wk->pt[i].line, wk->pt[i].source, where, sizeof where),
+                    arrank_sample_temp_text(wk->s, wk->pt[i].temp_K, NAN, 1, tbuf, sizeof tbuf),
                     100.0 * d->conversion_limit);
     }
     /* what the fit did, not a problem of the data: a note */
     const double t_win = f ? arrank_t_quantile(conf, f->dof) : NAN;
     const double t_all = arrank_t_quantile(conf, d->ea_all_dof);
+    char span[160];
     if (d->window_applied && f)
-        arrank_dwork_note(wk, "fitted on the kinetic window %.1f-%.1f K (%zu points): Ea %.1f kJ/mol "
+        arrank_dwork_note(wk, "fitted on the kinetic window, %zu points at %s: Ea %.1f kJ/mol "
                     "(%.4g %% interval %.1f-%.1f, standard error %.1f), against %.1f kJ/mol "
                     "(%.1f-%.1f, standard error %.1f) on every point",
-                d->window_lo_K, d->window_hi_K, d->window_n, kj(f->ea_J_mol),
+                d->window_n,
+                arrank_sample_temp_text(wk->s, d->window_lo_K, d->window_hi_K, 1, span, sizeof span),
+                kj(f->ea_J_mol),
                 100.0 * conf, kj(f->ea_J_mol - t_win * f->ea_se_J_mol),
                 kj(f->ea_J_mol + t_win * f->ea_se_J_mol), kj(f->ea_se_J_mol),
                 kj(d->ea_all_J_mol), kj(d->ea_all_J_mol - t_all * d->ea_all_se_J_mol),
@@ -484,12 +493,12 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
         const arrank_point_diag *pd = &d->points[i];
         if (!pd->outlier)
             continue;
-        char where[256];
+        char where[256], tbuf[120];
         arrank_dwork_finding(wk,
-                "point at %.1f K (%s) is %s: studentized residual %.2f (limit %.2f), "
+                "point on %s at %s is %s: studentized residual %.2f (limit %.2f), "
                 "Cook's distance %.2f (limit %.0f); %s",
-                wk->pt[i].temp_K,
                 arrank_dwork_where(wk, wk->pt[i].line, wk->pt[i].source, where, sizeof where),
+                arrank_sample_temp_text(wk->s, wk->pt[i].temp_K, NAN, 1, tbuf, sizeof tbuf),
                 fabs(pd->student_resid) > d->outlier_t_limit ? "an outlier" : "influential",
                 pd->student_resid, d->outlier_t_limit, pd->cooks_d, ARRANK_COOK_LIMIT,
                 pd->excluded ? "left out of the fit as asked"
@@ -507,11 +516,13 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
         if (!cr[k]->computed)
             arrank_dwork_note(wk, "%s %s", crname[k], cr[k]->detail);
         else if (cr[k]->passes)
-            arrank_dwork_note(wk, "%s %.3g at %.1f K is below %.3g (%s): %s; %s", crname[k], cr[k]->value,
-                 cr[k]->temp_K, cr[k]->threshold, cr[k]->source, crgood[k], cr[k]->detail);
+            arrank_dwork_note(wk, "%s %.3g at %s is below %.3g (%s): %s; %s", crname[k], cr[k]->value,
+                 arrank_sample_temp_text(wk->s, cr[k]->temp_K, NAN, 1, span, sizeof span), cr[k]->threshold,
+                 cr[k]->source, crgood[k], cr[k]->detail);
         else
-            arrank_dwork_finding(wk, "%s %.3g at %.1f K is above %.3g (%s): %s; %s", crname[k], cr[k]->value,
-                    cr[k]->temp_K, cr[k]->threshold, cr[k]->source, crbad[k], cr[k]->detail);
+            arrank_dwork_finding(wk, "%s %.3g at %s is above %.3g (%s): %s; %s", crname[k], cr[k]->value,
+                    arrank_sample_temp_text(wk->s, cr[k]->temp_K, NAN, 1, span, sizeof span), cr[k]->threshold,
+                    cr[k]->source, crbad[k], cr[k]->detail);
     }
 }
 

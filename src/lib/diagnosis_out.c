@@ -264,6 +264,7 @@ static size_t basic_problems(FILE *f, const arrank_result *res, int *bad)
 {
     const arrank_arrhenius *fit = &res->fit;
     size_t k = 0;
+    char at[120], span[160]; /* temperatures in the file's unit too (sample.h) */
     if (res->flags & ARRANK_FLAG_FEW_POINTS) {
         k++;
         if (f)
@@ -273,9 +274,9 @@ static size_t basic_problems(FILE *f, const arrank_result *res, int *bad)
     if (res->flags & ARRANK_FLAG_NARROW_RANGE) {
         k++;
         if (f)
-            *bad |= fprintf(f, "  problem: %s: %.2f-%.2f K\n",
-                            arrank_flag_words(ARRANK_FLAG_NARROW_RANGE), fit->T_min_K,
-                            fit->T_max_K) < 0;
+            *bad |= fprintf(f, "  problem: %s: %s\n", arrank_flag_words(ARRANK_FLAG_NARROW_RANGE),
+                            arrank_sample_temp_text(res->sample, fit->T_min_K, fit->T_max_K, 2,
+                                                    span, sizeof span)) < 0;
     }
     if (res->flags & ARRANK_FLAG_LOW_EA) {
         k++;
@@ -293,11 +294,15 @@ static size_t basic_problems(FILE *f, const arrank_result *res, int *bad)
         k++;
         if (f)
             *bad |= fprintf(f,
-                            "  problem: %s: %.2f K against %.2f-%.2f K measured (%.2f K outside, "
+                            "  problem: %s: %s against %s measured (%.2f K outside, "
                             "%.0f %% of the span); fitted kinetics are not valid outside the "
                             "tested window\n",
-                            arrank_flag_words(ARRANK_FLAG_EXTRAPOLATED), res->at_T.temp_K,
-                            fit->T_min_K, fit->T_max_K, res->at_T.extrapolation_K,
+                            arrank_flag_words(ARRANK_FLAG_EXTRAPOLATED),
+                            arrank_sample_temp_text(res->sample, res->at_T.temp_K, NAN, 2, at,
+                                                    sizeof at),
+                            arrank_sample_temp_text(res->sample, fit->T_min_K, fit->T_max_K, 2,
+                                                    span, sizeof span),
+                            res->at_T.extrapolation_K,
                             100.0 * res->at_T.extrapolation_rel) < 0;
     }
     return k;

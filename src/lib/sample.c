@@ -371,6 +371,8 @@ static void header_main_columns(parser *p)
                 unit_fail(p, i, &uerr);
             else if (u && !(s->temp_unit_file = strdup(u)))
                 nomem(p);
+            else if (u)
+                s->temp_to_K = c->conv;
             break;
         }
         case COL_RATE:

@@ -2,10 +2,14 @@
  * sample_text.c - the text rules of a sample file that need no parser state,
  * part of the sample module (sample.c reads the file): run labels, header
  * fields in their three forms, cells that hold no number, decimal commas in
- * metadata (README "Headers", "Cells").
+ * metadata (README "Headers", "Cells"); a sample's temperatures in words, in
+ * its file's unit beside the kelvin (arrank_sample_temp_text).
  */
+#include "number.h"
 #include "sample_internal.h"
 #include "util.h"
+
+#include <math.h>
 
 #include <stdint.h>
 #include <stdio.h>
@@ -215,4 +219,67 @@ void arrank_sample_decimal_commas(arrank_sample *s)
         if (*t == '\0' || arrank_is_blank(*t))
             *comma = '.';
     }
+}
+
+/* The unit s's file wrote its temperatures in, when it is not kelvin and
+   every file of s wrote the same; NULL otherwise. */
+static const char *shown_temp_unit(const arrank_sample *s)
+{
+    const arrank_conversion c = s->temp_to_K;
+    if (!s->temp_unit_file || !(c.scale > 0) || (c.scale == 1.0 && c.offset == 0.0))
+        return NULL;
+    for (size_t k = 0; k < s->n_sources; k++)
+        if (!s->source_temp_units[k] || strcmp(s->source_temp_units[k], s->temp_unit_file) != 0)
+            return NULL;
+    return s->temp_unit_file;
+}
+
+/* v with prec digits after the point (number.c: any locale), at buf[at]. */
+static size_t put_fixed(char *buf, size_t n, size_t at, int prec, double v)
+{
+    char num[64];
+    int len = arrank_format_fixed(num, sizeof num, prec, v);
+    if (len <= 0 || (size_t)len >= sizeof num)
+        len = snprintf(num, sizeof num, "nan");
+    if (at < n)
+        snprintf(buf + at, n - at, "%s", num);
+    return at + (size_t)len;
+}
+
+static size_t put_text(char *buf, size_t n, size_t at, const char *s)
+{
+    if (at < n)
+        snprintf(buf + at, n - at, "%s", s);
+    return at + strlen(s);
+}
+
+const char *arrank_sample_temp_text(const arrank_sample *s, double lo_K, double hi_K, int prec,
+                                    char *buf, size_t n)
+{
+    if (!n)
+        return buf;
+    buf[0] = '\0';
+    const char *u = shown_temp_unit(s);
+    const arrank_conversion c = s->temp_to_K;
+    const int span = !isnan(hi_K);
+    size_t at = 0;
+    if (u && isfinite(lo_K) && (!span || isfinite(hi_K))) {
+        at = put_fixed(buf, n, at, prec, (lo_K - c.offset) / c.scale);
+        if (span) {
+            at = put_text(buf, n, at, "-");
+            at = put_fixed(buf, n, at, prec, (hi_K - c.offset) / c.scale);
+        }
+        at = put_text(buf, n, at, " ");
+        at = put_text(buf, n, at, u);
+        at = put_text(buf, n, at, " (");
+    }
+    at = put_fixed(buf, n, at, prec, lo_K);
+    if (span) {
+        at = put_text(buf, n, at, "-");
+        at = put_fixed(buf, n, at, prec, hi_K);
+    }
+    at = put_text(buf, n, at, " K");
+    if (u && isfinite(lo_K) && (!span || isfinite(hi_K)))
+        put_text(buf, n, at, ")");
+    return buf;
 }

@@ -485,14 +485,16 @@ static void describe_criterion(arrank_dwork *wk, const arrank_criterion *c, cons
 {
     if (!c->detail)
         return;
+    char at[120];
+    arrank_sample_temp_text(wk->s, c->temp_K, NAN, 1, at, sizeof at);
     if (!c->computed)
         arrank_dwork_note(wk, "%s %s", name, c->detail);
     else if (c->passes)
-        arrank_dwork_note(wk, "%s %.3g at %.1f K is below %.3g (%s): %s; %s", name, c->value, c->temp_K,
-             c->threshold, c->source, good, c->detail);
+        arrank_dwork_note(wk, "%s %.3g at %s is below %.3g (%s): %s; %s", name, c->value, at,
+                          c->threshold, c->source, good, c->detail);
     else
-        arrank_dwork_finding(wk, "%s %.3g at %.1f K is above %.3g (%s): %s; %s", name, c->value, c->temp_K,
-                c->threshold, c->source, bad, c->detail);
+        arrank_dwork_finding(wk, "%s %.3g at %s is above %.3g (%s): %s; %s", name, c->value, at,
+                             c->threshold, c->source, bad, c->detail);
 }
 
 void arrank_transport_describe(arrank_dwork *wk)
@@ -508,13 +510,14 @@ void arrank_transport_describe(arrank_dwork *wk)
                        "(colder if endothermic) than its surface",
                        "no temperature difference inside the pellet expected");
     const arrank_prater *pr = &h->prater;
+    char at[120];
     if (pr->detail && !pr->computed)
         arrank_dwork_note(wk, "Prater temperature rise %s", pr->detail);
     else if (pr->detail)
         arrank_dwork_note(wk, "Prater temperature rise (%s): the pellet centre is at most %.3g K %s than its "
-                 "surface (beta = %.3g at %.1f K); %s",
+                 "surface (beta = %.3g at %s); %s",
              pr->source, fabs(pr->rise_K), pr->rise_K >= 0 ? "hotter" : "colder", pr->beta,
-             pr->temp_K, pr->detail);
+             arrank_sample_temp_text(wk->s, pr->temp_K, NAN, 1, at, sizeof at), pr->detail);
 
     const arrank_hot_spot *hs = &h->hot_spot;
     if (!(d->n_high_conversion > 0 && isfinite(hs->conversion_max)))
@@ -529,22 +532,24 @@ void arrank_transport_describe(arrank_dwork *wk)
         else if (hs->detail)
             snprintf(rise, sizeof rise, "; %s", hs->detail);
         arrank_dwork_finding(wk, "hot-spot caution for %s: the reaction is exothermic (dH = %.4g kJ/mol) and "
-                    "conversion reaches %.1f %% at %.1f K (%s), above the %.0f %% limit: "
+                    "conversion reaches %.1f %% on %s at %s, above the %.0f %% limit: "
                     "the bed is likely hotter than the thermocouple, which biases the rates and "
                     "Ea there; dilute the bed with inert solid, run at lower conversion or "
                     "measure the temperature inside the bed%s",
-                wk->s->id, hs->enthalpy_J_mol / 1000.0, 100.0 * hs->conversion_max, hs->temp_K,
+                wk->s->id, hs->enthalpy_J_mol / 1000.0, 100.0 * hs->conversion_max,
                 arrank_dwork_where(wk, hs->line, hs->source, where, sizeof where),
+                arrank_sample_temp_text(wk->s, hs->temp_K, NAN, 1, at, sizeof at),
                 100.0 * d->conversion_limit, rise);
     } else if (hs->enthalpy_J_mol > 0)
         arrank_dwork_note(wk, "endothermic reaction (dH = %.4g kJ/mol) at up to %.1f %% conversion: the bed "
                  "may be colder than the thermocouple",
              hs->enthalpy_J_mol / 1000.0, 100.0 * hs->conversion_max);
     else if (!arrank_sample_meta(wk->s, "reaction_enthalpy"))
-        arrank_dwork_note(wk, "hot spots not assessed: conversion reaches %.1f %% at %.1f K; give "
+        arrank_dwork_note(wk, "hot spots not assessed: conversion reaches %.1f %% at %s; give "
                  "reaction_enthalpy (negative when exothermic, e.g. -120 kJ/mol) to have them "
                  "checked",
-             100.0 * hs->conversion_max, hs->temp_K);
+             100.0 * hs->conversion_max,
+             arrank_sample_temp_text(wk->s, hs->temp_K, NAN, 1, at, sizeof at));
 }
 
 void arrank_transport_free(arrank_diagnosis *d)
