@@ -333,7 +333,8 @@ static void name_causes(arrank_dwork *wk, const size_t *sorted, size_t n, double
                       arrank_dwork_fmt(wk, "local apparent Ea falls to %.0f kJ/mol at %s against %.0f "
                               "kJ/mol in the kinetic window (ratio %.2f; strong pore diffusion "
                               "gives about one half); %s%s%s",
-                          kj(lo_pore), arrank_sample_temp_text(wk->s, t_pore, NAN, 0, tbuf, sizeof tbuf),
+                          kj(lo_pore),
+                          arrank_sample_temp_text(wk->s, t_pore, NAN, 0, tbuf, sizeof tbuf),
                           kj(ea_window), lo_pore / ea_window, series,
                           wp->computed ? "; " : "",
                           wp->computed ? (wp->passes ? "but the Weisz-Prater number is below its "
@@ -347,7 +348,8 @@ static void name_causes(arrank_dwork *wk, const size_t *sorted, size_t n, double
                               "kJ/mol in the kinetic window (ratio %.2f), below %.0f kJ/mol or "
                               "%.1f of the window's: past the one half that pore diffusion gives "
                               "at most; %s%s%s",
-                          kj(lo_film), arrank_sample_temp_text(wk->s, t_film, NAN, 0, tbuf, sizeof tbuf),
+                          kj(lo_film),
+                          arrank_sample_temp_text(wk->s, t_film, NAN, 0, tbuf, sizeof tbuf),
                           kj(ea_window), lo_film / ea_window,
                           kj(FILM_EA_J_MOL), PORE_RATIO_LO, series,
                           me->computed ? "; " : "",
@@ -431,10 +433,11 @@ static void describe_curvature(arrank_dwork *wk, const size_t *sorted, size_t n)
     } else {
         char local[320] = "", cold[120], hot[120];
         if (cv->n_local >= 2)
-            snprintf(local, sizeof local, "; local apparent Ea %.0f kJ/mol at %s and %.0f kJ/mol at %s",
+            snprintf(local, sizeof local,
+                     "; local apparent Ea %.0f kJ/mol at %s and %.0f kJ/mol at %s",
                      kj(cv->local[0].ea_J_mol),
-                     arrank_sample_temp_text(wk->s, cv->local[0].temp_lo_K, cv->local[0].temp_hi_K, 0,
-                                            cold, sizeof cold),
+                     arrank_sample_temp_text(wk->s, cv->local[0].temp_lo_K,
+                                             cv->local[0].temp_hi_K, 0, cold, sizeof cold),
                      kj(cv->local[cv->n_local - 1].ea_J_mol),
                      arrank_sample_temp_text(wk->s, cv->local[cv->n_local - 1].temp_lo_K,
                                             cv->local[cv->n_local - 1].temp_hi_K, 0, hot,
@@ -481,7 +484,8 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
                     "(%.4g %% interval %.1f-%.1f, standard error %.1f), against %.1f kJ/mol "
                     "(%.1f-%.1f, standard error %.1f) on every point",
                 d->window_n,
-                arrank_sample_temp_text(wk->s, d->window_lo_K, d->window_hi_K, 1, span, sizeof span),
+                arrank_sample_temp_text(wk->s, d->window_lo_K, d->window_hi_K, 1, span,
+                                        sizeof span),
                 kj(f->ea_J_mol),
                 100.0 * conf, kj(f->ea_J_mol - t_win * f->ea_se_J_mol),
                 kj(f->ea_J_mol + t_win * f->ea_se_J_mol), kj(f->ea_se_J_mol),
@@ -517,12 +521,12 @@ static void describe(arrank_dwork *wk, const arrank_arrhenius *f, const size_t *
             arrank_dwork_note(wk, "%s %s", crname[k], cr[k]->detail);
         else if (cr[k]->passes)
             arrank_dwork_note(wk, "%s %.3g at %s is below %.3g (%s): %s; %s", crname[k], cr[k]->value,
-                 arrank_sample_temp_text(wk->s, cr[k]->temp_K, NAN, 1, span, sizeof span), cr[k]->threshold,
-                 cr[k]->source, crgood[k], cr[k]->detail);
+                 arrank_sample_temp_text(wk->s, cr[k]->temp_K, NAN, 1, span, sizeof span),
+                 cr[k]->threshold, cr[k]->source, crgood[k], cr[k]->detail);
         else
             arrank_dwork_finding(wk, "%s %.3g at %s is above %.3g (%s): %s; %s", crname[k], cr[k]->value,
-                    arrank_sample_temp_text(wk->s, cr[k]->temp_K, NAN, 1, span, sizeof span), cr[k]->threshold,
-                    cr[k]->source, crbad[k], cr[k]->detail);
+                    arrank_sample_temp_text(wk->s, cr[k]->temp_K, NAN, 1, span, sizeof span),
+                    cr[k]->threshold, cr[k]->source, crbad[k], cr[k]->detail);
     }
 }
 
