@@ -212,14 +212,14 @@ static double t_density_constant(double dof)
 #define P_BEST_TAIL 1e-12
 
 /* The integral below by Gauss-Legendre quadrature on `nodes` nodes (GSL's
-   fixed-order tables); NAN out of memory. */
+   fixed-order tables); -1 out of memory (NAN for keys that are not numbers). */
 static double p_best_nodes(const double *mean, const double *se, const double *dof,
                            const size_t *cand, const double *q, size_t n_cand, size_t best,
                            size_t nodes)
 {
     gsl_integration_glfixed_table *gl = gsl_integration_glfixed_table_alloc(nodes);
     if (!gl)
-        return NAN;
+        return -1.0;
     const double nu = dof[best] >= 1 ? dof[best] : 1.0, cst = t_density_constant(nu);
     double sum = 0.0;
     for (size_t k = 0; k < nodes; k++) {
@@ -230,12 +230,15 @@ static double p_best_nodes(const double *mean, const double *se, const double *d
         double prod = w * t_density(z, nu, cst) * sec * sec;
         for (size_t c = 0; c < n_cand && prod > 0; c++) {
             size_t j = cand[c];
-            double u = se[j] > 0 ? (v - mean[j]) / se[j] : v > mean[j] ? INFINITY : -INFINITY;
-            /* beyond the 1e-12 tails a factor is 1 or 0 to within 1e-12 */
-            if (fabs(u) < q[c])
-                prod *= arrank_stats_t_cdf(u, dof[j]);
-            else if (u < 0)
+            double u = se[j] > 0    ? (v - mean[j]) / se[j]
+                       : se[j] == 0 ? (v > mean[j] ? INFINITY : -INFINITY)
+                                    : NAN;
+            /* beyond the 1e-12 tails a factor is 0 or 1 to within 1e-12 (a
+               key that is not a number makes the product one) */
+            if (u <= -q[c])
                 prod = 0.0;
+            else if (!(u >= q[c]))
+                prod *= isnan(u) ? NAN : arrank_stats_t_cdf(u, dof[j]);
         }
         sum += prod;
     }
@@ -257,7 +260,8 @@ static double p_best_nodes(const double *mean, const double *se, const double *d
  * until two answers agree within 1e-10, or, with a target (else NAN), within
  * a thousandth of their distance to it (the side is then sure); at most 2048.
  * Against SciPy's adaptive quadrature (tests/check_scipy_plan.py): within
- * 1e-9.  NAN out of memory.
+ * 1e-9.  -1 out of memory; NAN when a key is not a number (a singular
+ * refit), which meets no target.
  */
 static double p_best_t(const double *mean, const double *se, const double *dof,
                        const size_t *cand, const double *q, size_t n_cand, size_t best,
@@ -274,6 +278,8 @@ static double p_best_t(const double *mean, const double *se, const double *dof,
         nodes *= 2;
         double p = p_best_nodes(mean, se, dof, cand, q, n_cand, best, nodes);
         double diff = fabs(p - prev);
+        if (p < 0 || prev < 0)
+            return -1.0;
         if (isnan(p) || diff <= 1e-10 || nodes >= 2048 ||
             (isfinite(target) && diff <= 1e-3 * fabs(p - target)))
             return p;
@@ -312,6 +318,8 @@ double arrank_plan_p_best(const double *mean, const double *se, const double *do
         size_t n_cand = p_best_rivals(mean, se, dof, n, best, cand);
         p_best_tails(dof, cand, n_cand, q);
         p = p_best_t(mean, se, dof, cand, q, n_cand, best, NAN);
+        if (p < 0)
+            p = NAN;
     }
     free(cand);
     free(q);
@@ -553,17 +561,19 @@ static int holm_separated(holm_ctx *h, const arrank_plan_sample *s, const arrank
     }
     p_best_tails(h->dof, h->cand, n_cand, h->tail);
     double p3 = p_best_t(h->mean, h->se, h->dof, h->cand, h->tail, n_cand, best, t->target);
-    if (isnan(p3) || p3 < t->target || h->n <= 4)
-        return isnan(p3) ? -1 : p3 >= t->target;
+    if (p3 < 0)
+        return -1; /* out of memory */
+    if (!(p3 >= t->target) || h->n <= 4)
+        return p3 >= t->target; /* a NAN key meets nothing */
     n_cand = p_best_rivals(h->mean, h->se, h->dof, h->n, best, h->cand);
     sort_key = h->threat;
     qsort(h->cand, n_cand, sizeof *h->cand, cmp_key);
     p_best_tails(h->dof, h->cand, n_cand, h->tail);
     for (size_t k = n_cand < 3 ? n_cand : 3;; k = 2 * k < n_cand ? 2 * k : n_cand) {
         double p = p_best_t(h->mean, h->se, h->dof, h->cand, h->tail, k, best, t->target);
-        if (isnan(p))
+        if (p < 0)
             return -1;
-        if (p < t->target)
+        if (!(p >= t->target))
             return 0;
         if (k == n_cand)
             return 1;
