@@ -233,8 +233,8 @@ static double p_best_nodes(const double *mean, const double *se, const double *d
             double u = se[j] > 0    ? (v - mean[j]) / se[j]
                        : se[j] == 0 ? (v > mean[j] ? INFINITY : -INFINITY)
                                     : NAN;
-            /* beyond the 1e-12 tails a factor is 0 or 1 to within 1e-12 (a
-               key that is not a number makes the product one) */
+            /* beyond the 1e-12 tails a factor is 0 or 1 to within 1e-12; a
+               key that is not a number makes the product NAN */
             if (u <= -q[c])
                 prod = 0.0;
             else if (!(u >= q[c]))
