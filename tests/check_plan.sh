@@ -26,6 +26,27 @@ ok_if "plan: the table gives the naive plan's probability" grep -q '^naive plan'
 ok_if "plan: the table carries the plan's caution" grep -q 'does not replace qualified judgement' "$T/out"
 ok_if "plan: the figure is drawn" test -s "$T/fig/plan.svg"
 ok_if "plan: nothing else in the figure folder" test "$(ls -A "$T/fig")" = "plan.svg"
+# Each planned run's large diamond holds its sample's own marker in its
+# colour: samples of one colour (the house style tells them apart by marker;
+# ZN-09 and ZN-03 are both green) stay apart in the figure.  gnuplot's SVG
+# draws a point as <use xlink:href='#gpPtN' transform='translate(x,y)
+# scale(s)' color=...>; the diamond is point type 12 (#gpPt11), the largest.
+ok_if "plan figure: every planned diamond holds a marker of its colour, one pair per sample" \
+    "$PY" -c '
+import json, re, sys
+svg = open(sys.argv[1]).read()
+uses = re.findall(r"<use xlink:href=.#gpPt(\d+). transform=.translate\(([\d.]+),([\d.]+)\) "
+                  r"scale\(([\d.]+)\). color=.([^\x27]*).", svg)
+big = max(float(u[3]) for u in uses)
+diamonds = [u for u in uses if u[0] == "11" and float(u[3]) == big]
+pairs = set()
+for d in diamonds:
+    inner = [u for u in uses if u[1:3] == d[1:3] and u[4] == d[4] and float(u[3]) < big]
+    assert inner, d
+    pairs.add((d[4], inner[0][0]))
+samples = {r["sample"] for r in json.load(open(sys.argv[2]))["runs"]}
+assert diamonds and len(pairs) == len(samples) >= 2, (pairs, samples)
+' "$T/fig/plan.svg" "$T/plan.json"
 expect_eq "plan: run sheet header" "$(grep -v '^#' "$T/plan.csv" | head -n 1)" \
     "order,sample,temperature [degC],temperature [K],repeats"
 

@@ -266,7 +266,7 @@ static void plan_frame(script *s, const arrank_plan *p, const plan_layout *L)
     arrank_plot_head(s, name);
     arrank_plot_area(s, L->l, L->t, L->r, L->b);
     arrank_plot_arrhenius_axes(s, L->x_lo, L->x_hi, L->y_lo, L->y_hi);
-    snprintf(buf, sizeof buf, "large open diamonds: the planned runs on each fitted line, ×N "
+    snprintf(buf, sizeof buf, "large diamonds round a sample's marker: its planned runs, ×N "
                               "their repeats; shaded: %.4g %% bands; open marks: points left out",
              100.0 * s->a->options.confidence);
     const char *lines[PLAN_CAPTIONS] = {
@@ -325,6 +325,11 @@ static void plan_plot(script *s, const arrank_plan *p, size_t (*cnt)[5])
         arrank_plot_next_elem(f, &first);
         fprintf(f, "$run%zu using 1:2 with points pt 12 ps 3.0*PS lw 2 lc rgb '%s'", j,
                 lk.color);
+        /* the sample's own marker inside its diamonds: two samples of one
+           colour (the house style tells them apart by marker) stay apart */
+        arrank_plot_next_elem(f, &first);
+        fprintf(f, "$run%zu using 1:2 with points pt %d ps 0.75*PS lc rgb '%s'", j,
+                lk.point_filled, lk.color);
     }
     if (first)
         fputs("plot NaN notitle", f);
