@@ -19,6 +19,8 @@ import tempfile
 import numpy as np
 from scipy import optimize, stats
 
+from tap import finish, report
+
 R = 8.31446261815324  # J/(mol K), exact in the 2019 SI (CODATA 2018)
 TOL = 1e-8
 BUILD = os.environ.get("BUILD", "build")
@@ -36,11 +38,6 @@ CASES = [
     ("wide span 25 pts", 5, 25, 420.0, 720.0, 118500.0, 25.02, 0.11, True, 1, 470.25, 0.95),
 ]
 
-results = []
-
-
-def report(ok, what):
-    results.append((ok, what))
 
 
 def rel(got, want):
@@ -171,10 +168,7 @@ def main():
     want = "fitcheck: 3 points are needed for a fit with an interval; this sample has 2"
     report(proc.returncode == 1 and proc.stderr.strip() == want,
            "two points refused (exit %d, %r)" % (proc.returncode, proc.stderr.strip()))
-    print("1..%d" % len(results))
-    for i, (ok, what) in enumerate(results, 1):
-        print("%s %d - %s" % ("ok" if ok else "not ok", i, what))
-    return 0 if all(ok for ok, _ in results) else 1
+    return finish()
 
 
 if __name__ == "__main__":

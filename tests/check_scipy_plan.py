@@ -19,15 +19,12 @@ import sys
 import numpy as np
 from scipy import integrate, stats
 
+from tap import finish, report
+
 BUILD = os.environ.get("BUILD", "build")
 PBESTCHECK = os.path.join(BUILD, "tools", "pbestcheck")
 
 TOL = 1e-9
-results = []
-
-
-def report(ok, what):
-    results.append((ok, what))
 
 
 def dist(dof):
@@ -116,10 +113,7 @@ def main():
     report(abs(float(proc.stdout) - want) < 1e-10,
            "two normal keys: %s against Phi(d / s) = %.12f" % (proc.stdout.strip(), want))
     print("# worst difference: %.2e" % worst)
-    print("1..%d" % len(results))
-    for i, (ok, what) in enumerate(results, 1):
-        print("%s %d - %s" % ("ok" if ok else "not ok", i, what))
-    return 0 if all(ok for ok, _ in results) else 1
+    return finish()
 
 
 if __name__ == "__main__":

@@ -24,17 +24,14 @@ import tempfile
 import numpy as np
 from scipy import stats
 
+from tap import finish, report
+
 R = 8.31446261815324  # J/(mol K), exact in the 2019 SI
 TOL = 1e-8
 BUILD = os.environ.get("BUILD", "build")
 ARRANK = os.path.join(BUILD, "arrank")
 T_OP = 525.0
 
-results = []
-
-
-def report(ok, what):
-    results.append((ok, what))
 
 
 def close(got, want, what):
@@ -204,10 +201,7 @@ def main():
         check_compare(cmp_doc, ranked)
         check_compare_reference(run(["compare", a, b, "--reference", "REF", "--json", "-"]),
                                 fa, fb)
-    print("1..%d" % len(results))
-    for i, (ok, what) in enumerate(results, 1):
-        print("%s %d - %s" % ("ok" if ok else "not ok", i, what))
-    return 0 if all(ok for ok, _ in results) else 1
+    return finish()
 
 
 if __name__ == "__main__":
