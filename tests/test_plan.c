@@ -302,8 +302,13 @@ static void separate_by_p_best_student(void **state)
     assert_int_equal(arrank_plan_goal_met(smp, 2, inv, 2, &t), 1);
     t.target = p + 1e-6;
     assert_int_equal(arrank_plan_goal_met(smp, 2, inv, 2, &t), 0);
-    /* a key without a standard error (a singular design) gives no P(best),
-       whichever side it is on: NAN, which meets no target */
+    /* a key without a standard error (a singular design) settles nothing:
+       not met by Holm's route nor by P(best) (NAN whichever side it is on) */
+    smp[1].info[0] = smp[1].info[1] = smp[1].info[2] = 0.0;
+    t.target = 0.5;
+    assert_int_equal(arrank_plan_goal_met(smp, 2, inv, 2, &t), 0);
+    t.target = 0.0;
+    assert_int_equal(arrank_plan_goal_met(smp, 2, inv, 2, &t), 0);
     const double nan_rival[2] = {s1, NAN}, nan_leader[2] = {NAN, s2};
     assert_true(isnan(arrank_plan_p_best(mean, nan_rival, dof, 2, 0)));
     assert_true(isnan(arrank_plan_p_best(mean, nan_leader, dof, 2, 0)));

@@ -530,6 +530,11 @@ static int holm_separated(holm_ctx *h, const arrank_plan_sample *s, const arrank
     if (h->n < 2)
         return 1;
     keys_of(s, h->n, t->temp_K, h->mean, h->se);
+    /* a key without a standard error (a singular design) tells nothing apart:
+       Holm's pair test would take its NAN variance for p = 0 */
+    for (size_t i = 0; i < h->n; i++)
+        if (!isfinite(h->mean[i]) || !(h->se[i] >= 0))
+            return 0;
     if (holm_top_rejected(h, s, t->alpha))
         return 1;
     if (!(t->target > 0 && t->target < 1))
