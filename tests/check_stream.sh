@@ -74,8 +74,9 @@ st=$?
 expect_eq "check --out without gnuplot: exit 5" "$st" 5
 ok_if "check --out without gnuplot: no folder made" test ! -e "$T/nognu"
 
-# a sample held at one temperature: not fitted, its rates drawn as measured
-# with the reason there is no drift line
+# a sample held at one temperature (a stability hold): not fitted, but its
+# drift with time is (README "Stability holds"): the figure draws that line
+# and says it; with four points only, too short, the rates as measured and why
 mkdir "$T/iso"
 awk 'BEGIN {
     print "# sample = I1 one temperature"
@@ -83,12 +84,20 @@ awk 'BEGIN {
     for (k = 1; k <= 8; k++)
         printf "530, %.6g, %d\n", 10 * exp(-0.02 * k), k
 }' >"$T/iso/I1.csv"
+printf '# sample = I2 short hold\nT [K],rate [umol/(g*s)],time_on_stream [h]\n530,9.8,1\n530,9.6,2\n530,9.4,3\n530,9.2,4\n' \
+    >"$T/iso/I2.csv"
 cp "$C/S2.csv" "$T/iso/"
-"$A" check "$T/iso" --out "$T/iso-out" >/dev/null 2>&1; st=$?
+"$A" check "$T/iso" --out "$T/iso-out" >"$T/iso.txt" 2>&1; st=$?
 expect_eq "one temperature: check --out exit 0" "$st" 0
-ok_if "one temperature: the figure says why there is no drift line" \
-    grep -q 'rates as measured; no drift line: sample not fitted: all 8 points are at one temperature' \
+ok_if "one temperature: the figure draws the hold's drift line and says it (-1.98 %/h)" \
+    grep -q 'drift -1.98 %/h (95 % interval -1.98 to -1.98), p = .*, 8 points; held at one temperature, 256.9 °C' \
     "$T/iso-out/time-on-stream-01-I1_one_temperature.svg"
+ok_if "one temperature: check says the drift under the not-fitted line" \
+    grep -q '^  problem: held at one temperature, 530.00 K: the rate drifts down by 13 % over 7.0 h on stream' \
+    "$T/iso.txt"
+ok_if "a short hold (4 points): the figure says why there is no drift line" \
+    grep -q 'rates as measured; no drift line: sample not fitted: all 4 points are at one temperature' \
+    "$T/iso-out/time-on-stream-02-I2_short_hold.svg"
 
 # rates near the top of the double range (found by the pipeline fuzzer: the
 # axis reached gnuplot as "inf" and plot exited 4): drawn, axis kept finite

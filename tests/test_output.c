@@ -34,6 +34,7 @@
 #include "arrank/output.h"
 #include "arrank/analysis_stats.h"
 #include "arrank/text.h"
+#include "arrank/verdicts.h"
 #include "../src/lib/util.h"
 #include "../src/lib/json_testing.h"
 #include "helpers.h"
@@ -654,9 +655,36 @@ static void json_record_as_jansson_writes_it(void **state)
     static char *const notes[] = {"plain note", "quote \" and backslash \\ and tab\t",
                                   "bell \a and del \x7f and \xc3\xa9t\xc3\xa9",
                                   "invalid \xc3\x28 UTF-8", "overlong \xc0\xaf", NULL};
+    /* stability holds (arrank_hold): a verdict, none, and numbers that are
+       not finite, words with a quote and invalid UTF-8 */
+    arrank_hold holds[3];
+    memset(holds, 0, sizeof holds);
+    static char *const hold_words[] = {"held at one temperature, 250.00 degC (523.15 K): down",
+                                       "held \"quoted\" \xc3\x28", NULL};
+    for (int k = 0; k < 3; k++) {
+        arrank_drift *dr = &holds[k].drift;
+        dr->tested = 1;
+        dr->temp_ref_K = 523.15;
+        dr->n_points = (size_t)(5 + k);
+        dr->time_min_h = 0.0;
+        dr->time_max_h = 48.0 + k;
+        dr->ln_rate_ref = 0.6955952207110071;
+        dr->slope_ln_per_h = k == 2 ? NAN : -0.0039326913615878;
+        dr->slope_se = 1.4884e-4;
+        dr->dof = 3.0 + k;
+        dr->t = k == 2 ? -INFINITY : -26.42;
+        dr->p = 2.6e-11;
+        dr->change = -0.172;
+        dr->verdict = k == 0 ? -1 : k == 1 ? 1 : 0;
+        holds[k].change_lo = -0.18;
+        holds[k].change_hi = 1e300;
+        holds[k].words = hold_words[k];
+    }
     for (int rep = 0; rep < 4; rep++) {
         fake fk;
         make_fake(&fk, 1500, rep != 1, rep != 2, rep != 3, rep == 0 ? 100 : 0, rep == 3);
+        for (size_t i = 0; i < fk.a.n_results; i++)
+            fk.a.results[i].hold = i % 11 == 5 ? &holds[i % 3] : NULL;
         for (size_t i = 0; i < fk.a.n_results; i++) {
             arrank_sample *smp = &fk.samples[i];
             smp->file = i % 7 ? smp->id : NULL;
@@ -669,6 +697,8 @@ static void json_record_as_jansson_writes_it(void **state)
                 fk.a.results[i].error = strcpy(fk.a.results[i].error, "bad \xff byte\n");
         }
         same_json(&fk.a, "made-up analysis", 0);
+        for (size_t i = 0; i < fk.a.n_results; i++)
+            fk.a.results[i].hold = NULL; /* not theirs to free */
         free_fake(&fk);
     }
     arrank_campaign *c = NULL;

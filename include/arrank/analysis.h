@@ -130,6 +130,10 @@ typedef struct {
     int rank;                     /* 1 = best; 0 = not ranked */
     unsigned flags;               /* ARRANK_FLAG_* bits */
     struct arrank_diagnosis *diagnosis; /* diagnose.h; NULL when not run */
+    /* a sample not fitted because every usable point is at one temperature,
+       with times on stream: its drift with time (arrank_diagnose_hold,
+       verdicts.h); NULL otherwise, and when the diagnostics are off */
+    struct arrank_hold *hold;
     struct arrank_sample_stats *stats;  /* analysis_stats.h; NULL when not computed */
     /* Quantiles the outputs need, computed by the pipeline so that no writer
        computes statistics; NAN when they do not apply. */

@@ -110,6 +110,16 @@ arrank_status arrank_diagnose_conclude(arrank_diagnosis *d, const arrank_diagnos
 void arrank_diagnosis_free(arrank_diagnosis *diagnosis);
 
 /*
+ * A sample whose usable points all lie at one temperature, with a time on
+ * stream on at least five of them (a stability hold): the drift of its rate
+ * with time and its words (arrank_hold, verdicts.h), intervals at
+ * `confidence`.  *out is NULL for any other sample.  ENOMEM only.
+ */
+arrank_status arrank_diagnose_hold(const arrank_sample *s, double confidence, arrank_hold **out,
+                                   arrank_error *err);
+void arrank_hold_free(arrank_hold *hold);
+
+/*
  * 1 when sample s (one of c's samples) takes part in a mix of normalisation
  * bases: the campaign's samples differ in rate basis or in their declared
  * `# basis = ...`, or s's declared basis disagrees with its rate unit.  When

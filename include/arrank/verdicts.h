@@ -153,6 +153,21 @@ typedef struct {
     double t_quantile;        /* two-sided t at the diagnosis's confidence on dof */
 } arrank_drift;
 
+/*
+ * A sample measured at one temperature with times on stream (a stability
+ * hold): no Arrhenius fit is possible, but the drift of its rate with time
+ * is, ln r = ln_rate_ref + slope_ln_per_h t (t in hours) over its usable
+ * points, weighted as the fits are, the covariance scaled by the scatter.
+ * The fit sits in arrank_drift's fields (temp_ref_K the temperature,
+ * temp_slope_K 0, dof n - 2), with the same verdict rule as a drift.
+ */
+typedef struct arrank_hold {
+    arrank_drift drift;
+    double change_lo, change_hi; /* exp((slope -/+ t se) span) - 1 at the confidence */
+    int problem;                 /* 1: the words are a problem (a verdict), 0: a note */
+    char *words;                 /* the hold in plain words */
+} arrank_hold;
+
 /* Per point, in file order. */
 typedef struct {
     arrank_regime regime;

@@ -339,6 +339,9 @@ static arrank_status analyse_one(arrank_result *res, const arrank_sample *s,
     if (s->problem) {
         set_result_error(res, s->problem, s->problem_line);
         res->error_column = s->problem_column;
+        /* a stability hold at one temperature: its drift with time */
+        if (opt->diagnose && !s->skipped && !opt->run)
+            return arrank_diagnose_hold(s, opt->confidence, &res->hold, err);
         return ARRANK_OK;
     }
     res->n_used = arrank_screen_mark(s, res->used);
@@ -583,6 +586,7 @@ void arrank_analysis_free(arrank_analysis *a)
         free(a->results[i].error);
         free(a->results[i].used);
         arrank_diagnosis_free(a->results[i].diagnosis);
+        arrank_hold_free(a->results[i].hold);
         arrank_sample_stats_free(a->results[i].stats);
     }
     arrank_rank_stats_free(a->rank_stats);

@@ -1107,3 +1107,15 @@ void arrank_diagnosis_free(arrank_diagnosis *d)
     free(d);
 }
 
+arrank_status arrank_diagnose_hold(const arrank_sample *s, double confidence, arrank_hold **out,
+                                   arrank_error *err)
+{
+    return arrank_quality_hold(s, confidence, out, err);
+}
+
+void arrank_hold_free(arrank_hold *hold)
+{
+    if (hold)
+        free(hold->words);
+    free(hold);
+}

@@ -381,6 +381,9 @@ static arrank_status diagnosis_write_text_in_c(FILE *f, const arrank_result *res
         bad |= fprintf(f, "%s (%s): %s: ", id, file,
                        s->skipped ? "file not used" : "not fitted") < 0;
         bad |= put_shown(f, "", res->error);
+        if (res->hold) /* a stability hold: its drift with time */
+            bad |= put_shown(f, res->hold->problem ? "  problem: " : "  note: ",
+                             res->hold->words);
     } else if (!d)
         bad |= fprintf(f, "%s (%s): diagnostics not run\n", id, file) < 0;
     else {

@@ -122,6 +122,34 @@ static void merge_rest(json_t *o, const arrank_analysis *a, const arrank_result 
     }
 }
 
+/* A stability hold at one temperature (arrank_hold, verdicts.h): the drift
+   of ln r with time on stream, its verdict and its words; null for any other
+   sample. */
+static json_t *hold_json(const arrank_result *res)
+{
+    const arrank_hold *h = res->hold;
+    if (!h)
+        return json_null();
+    const arrank_drift *dr = &h->drift;
+    json_t *o = json_object();
+    json_object_set_new(o, "temp_K", jnum(dr->temp_ref_K));
+    json_object_set_new(o, "n_points", json_integer((json_int_t)dr->n_points));
+    json_object_set_new(o, "time_on_stream_h", jpair(dr->time_min_h, dr->time_max_h));
+    json_object_set_new(o, "ln_rate_at_0", jnum(dr->ln_rate_ref));
+    json_object_set_new(o, "slope_ln_rate_per_h", jnum(dr->slope_ln_per_h));
+    json_object_set_new(o, "slope_se", jnum(dr->slope_se));
+    json_object_set_new(o, "dof", jnum(dr->dof));
+    json_object_set_new(o, "t", jnum(dr->t));
+    json_object_set_new(o, "p", jnum(dr->p));
+    json_object_set_new(o, "change", jnum(dr->change));
+    json_object_set_new(o, "change_ci", jpair(h->change_lo, h->change_hi));
+    json_object_set_new(o, "verdict", json_string(dr->verdict < 0   ? "deactivation"
+                                                  : dr->verdict > 0 ? "activation"
+                                                                    : "none"));
+    json_object_set_new(o, "words", jstr(h->words));
+    return o;
+}
+
 static json_t *sample_json(const arrank_analysis *a, const arrank_result *res, int detail)
 {
     const double t = res->t_quantile; /* the pipeline's (analysis.c) */
@@ -180,6 +208,7 @@ static json_t *sample_json(const arrank_analysis *a, const arrank_result *res, i
     for (size_t i = 0; i < s->n_notes; i++)
         json_array_append_new(notes, json_string(s->notes[i]));
     json_object_set_new(o, "notes", notes);
+    json_object_set_new(o, "stability_hold", hold_json(res));
     if (detail)
         json_object_set_new(o, "points", points_json(res));
     merge_rest(o, a, res, detail);
@@ -811,6 +840,15 @@ static int record_text(const arrank_analysis *a, size_t i, text_buf *b)
     put_text(b, bad, i ? ",\n    {" : "\n    {", i ? 7 : 6);
     put_own_keys(b, bad, &a->results[i]);
     int first = 0; /* the own keys came first */
+    put_key_at(b, bad, &first, "stability_hold");
+    if (a->results[i].hold) { /* rare: through jansson */
+        json_t *h = hold_json(&a->results[i]);
+        if (!h)
+            return -1;
+        put_value(b, bad, h);
+        json_decref(h);
+    } else
+        PUT("null");
     put_diagnosis_summary(b, bad, &first, &a->results[i]);
     /* rank.c: p_best, group, p_beats, bootstrap interval, model */
     json_t *stats = arrank_sample_stats_json(a, i);

@@ -44,25 +44,33 @@ int arrank_plot_has_time_on_stream(const arrank_result *r)
     return 0;
 }
 
-/* The drift test ran on this sample, with a fit to draw. */
+/* The drift test ran on this sample, with a fit to draw: the diagnosis's,
+   or a stability hold's at one temperature (arrank_hold). */
 static const arrank_drift *drift_of(const arrank_result *r)
 {
-    const arrank_diagnosis *d = r->diagnosis;
-    if (!d || !d->drift.tested || !isfinite(d->drift.ln_rate_ref) ||
-        !isfinite(d->drift.temp_slope_K) || !isfinite(d->drift.slope_ln_per_h))
+    const arrank_drift *dr = r->diagnosis ? &r->diagnosis->drift
+                             : r->hold    ? &r->hold->drift
+                                          : NULL;
+    if (!dr || !dr->tested || !isfinite(dr->ln_rate_ref) || !isfinite(dr->temp_slope_K) ||
+        !isfinite(dr->slope_ln_per_h))
         return NULL;
-    return &d->drift;
+    return dr;
 }
 
 /* Which points were the drift test's: the usable points of the first fit
-   (the diagnosis's order) with a time on stream.  A new array of
-   n_points flags (free), NULL without a diagnosis or memory. */
+   (the diagnosis's order) with a time on stream; in a stability hold, every
+   usable point with one (quality.c).  A new array of n_points flags (free),
+   NULL without a diagnosis or hold, or without memory. */
 static unsigned char *drift_points(const arrank_result *r)
 {
     const arrank_diagnosis *d = r->diagnosis;
     const arrank_sample *s = r->sample;
-    unsigned char *in = d ? calloc(s->n_points ? s->n_points : 1, 1) : NULL;
-    for (size_t j = 0; in && j < d->n_order; j++)
+    unsigned char *in = d || r->hold ? calloc(s->n_points ? s->n_points : 1, 1) : NULL;
+    if (in && !d)
+        for (size_t k = 0; k < s->n_points; k++)
+            in[k] = isfinite(s->points[k].time_on_stream_s) &&
+                    arrank_plot_usable_point(&s->points[k]);
+    for (size_t j = 0; in && d && j < d->n_order; j++)
         if (d->order[j] < s->n_points && isfinite(s->points[d->order[j]].time_on_stream_s))
             in[d->order[j]] = 1;
     return in;
@@ -133,9 +141,11 @@ static void drift_words(const arrank_result *r, const arrank_drift *dr, char *bu
         const double b = dr->slope_ln_per_h, w = tq * dr->slope_se;
         snprintf(buf, n,
                  "drift %+.2f %%/h (%.0f %% interval %+.2f to %+.2f), p = %.2g, %zu points; "
-                 "rates brought to %.1f °C with the fit's own Ea",
+                 "%s %.1f °C%s",
                  100.0 * expm1(b), 100.0 * r->confidence, 100.0 * expm1(b - w),
-                 100.0 * expm1(b + w), dr->p, dr->n_points, dr->temp_ref_K - ZERO_C_K);
+                 100.0 * expm1(b + w), dr->p, dr->n_points,
+                 r->diagnosis ? "rates brought to" : "held at one temperature,",
+                 dr->temp_ref_K - ZERO_C_K, r->diagnosis ? " with the fit's own Ea" : "");
         return;
     }
     const arrank_diagnosis *d = r->diagnosis;

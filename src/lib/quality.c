@@ -688,3 +688,137 @@ void arrank_quality_describe_runs(arrank_dwork *wk)
     } else if (dr->note)
         arrank_dwork_note(wk, "%s", dr->note);
 }
+
+/* ---- a stability hold at one temperature ------------------------------------ */
+
+/* The usable points (as screen.c has them) if they all lie at one
+   temperature; the ones with a time on stream into idx; their number, 0
+   when the temperatures differ. */
+static size_t hold_points(const arrank_sample *s, size_t *idx, double *temp_K)
+{
+    size_t m = 0;
+    *temp_K = NAN;
+    for (size_t i = 0; i < s->n_points; i++) {
+        const arrank_point *p = &s->points[i];
+        if (p->omitted || !(p->temp_K > 0) || !isfinite(p->temp_K) || !(p->rate > 0) ||
+            !isfinite(p->rate))
+            continue;
+        if (isnan(*temp_K))
+            *temp_K = p->temp_K;
+        else if (p->temp_K != *temp_K)
+            return 0;
+        if (isfinite(p->time_on_stream_s))
+            idx[m++] = i;
+    }
+    return m;
+}
+
+/* The weighted line of ln r on t (hours) through the points idx[m] into
+   dr; 0, or -1 when the times do not vary. */
+static int hold_line(const arrank_sample *s, const size_t *idx, size_t m, arrank_drift *dr)
+{
+    int weighted = 1;
+    for (size_t k = 0; k < m; k++)
+        weighted &= s->points[idx[k]].rate_sd > 0 && isfinite(s->points[idx[k]].rate_sd);
+    double W = 0, mt = 0, my = 0, tmin = INFINITY, tmax = -INFINITY;
+    for (size_t k = 0; k < m; k++) {
+        const arrank_point *p = &s->points[idx[k]];
+        double w = weighted ? (p->rate / p->rate_sd) * (p->rate / p->rate_sd) : 1.0;
+        double t = p->time_on_stream_s / 3600.0;
+        W += w;
+        mt += w * t;
+        my += w * log(p->rate);
+        tmin = fmin(tmin, t);
+        tmax = fmax(tmax, t);
+    }
+    mt /= W;
+    my /= W;
+    double stt = 0, sty = 0;
+    for (size_t k = 0; k < m; k++) {
+        const arrank_point *p = &s->points[idx[k]];
+        double w = weighted ? (p->rate / p->rate_sd) * (p->rate / p->rate_sd) : 1.0;
+        double dt = p->time_on_stream_s / 3600.0 - mt;
+        stt += w * dt * dt;
+        sty += w * dt * (log(p->rate) - my);
+    }
+    if (!(stt > 0))
+        return -1;
+    const double b = sty / stt, a = my - b * mt;
+    double rss = 0;
+    for (size_t k = 0; k < m; k++) {
+        const arrank_point *p = &s->points[idx[k]];
+        double w = weighted ? (p->rate / p->rate_sd) * (p->rate / p->rate_sd) : 1.0;
+        double e = log(p->rate) - a - b * (p->time_on_stream_s / 3600.0);
+        rss += w * e * e;
+    }
+    const double dof = (double)m - 2.0, s2 = rss / dof;
+    dr->tested = 1;
+    dr->slope_ln_per_h = b;
+    dr->slope_se = sqrt(s2 / stt);
+    dr->dof = dof;
+    dr->t = dr->slope_se > 0 ? b / dr->slope_se : (b < 0 ? -INFINITY : INFINITY);
+    dr->p = arrank_stats_t_p(dr->t, dof);
+    dr->span_h = tmax - tmin;
+    dr->change = expm1(b * dr->span_h);
+    dr->n_points = m;
+    dr->temp_slope_K = 0.0;
+    dr->ln_rate_ref = a;
+    dr->ln_rate_ref_var = s2 * (1.0 / W + mt * mt / stt);
+    dr->cov_ref_slope = -s2 * mt / stt;
+    dr->time_min_h = tmin;
+    dr->time_max_h = tmax;
+    dr->verdict = dr->p < RUN_LEVEL && fabs(dr->change) >= ARRANK_RUN_MIN_CHANGE
+                      ? (b < 0 ? -1 : 1)
+                      : 0;
+    return 0;
+}
+
+arrank_status arrank_quality_hold(const arrank_sample *s, double confidence, arrank_hold **out,
+                                  arrank_error *err)
+{
+    *out = NULL;
+    size_t *idx = malloc((s->n_points ? s->n_points : 1) * sizeof *idx);
+    arrank_hold *h = calloc(1, sizeof *h);
+    if (!idx || !h) {
+        free(idx);
+        free(h);
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    }
+    double temp_K;
+    size_t m = hold_points(s, idx, &temp_K);
+    arrank_drift *dr = &h->drift;
+    if (m < DRIFT_MIN_POINTS || hold_line(s, idx, m, dr) != 0) {
+        free(idx);
+        free(h);
+        return ARRANK_OK; /* not a hold, or too short to tell */
+    }
+    free(idx);
+    dr->temp_ref_K = temp_K;
+    dr->t_quantile = arrank_t_quantile(confidence, dr->dof);
+    const double q = dr->t_quantile * dr->slope_se;
+    h->change_lo = expm1((dr->slope_ln_per_h - q) * dr->span_h);
+    h->change_hi = expm1((dr->slope_ln_per_h + q) * dr->span_h);
+    char at[120];
+    arrank_sample_temp_text(s, temp_K, NAN, 2, at, sizeof at);
+    h->problem = dr->verdict != 0;
+    if (dr->verdict)
+        h->words = arrank_strfmt(
+            "held at one temperature, %s: the rate drifts %s by %.0f %% over %.1f h on stream "
+            "(%.4g %% interval %.0f-%.0f %%; t = %.2f, p = %.2g, %zu points): %s",
+            at, dr->verdict < 0 ? "down" : "up", 100.0 * fabs(dr->change), dr->span_h,
+            100.0 * confidence, 100.0 * fmin(fabs(h->change_lo), fabs(h->change_hi)),
+            100.0 * fmax(fabs(h->change_lo), fabs(h->change_hi)), dr->t, dr->p, m,
+            dr->verdict < 0 ? "deactivation" : "activation");
+    else
+        h->words = arrank_strfmt(
+            "held at one temperature, %s: no significant drift with time on stream (%.1f %% "
+            "over %.1f h, %.4g %% interval %.1f to %.1f %%; p = %.2g, %zu points)",
+            at, 100.0 * dr->change, dr->span_h, 100.0 * confidence, 100.0 * h->change_lo,
+            100.0 * h->change_hi, dr->p, m);
+    if (!h->words) {
+        free(h);
+        return arrank_errorf(err, ARRANK_ENOMEM, "out of memory");
+    }
+    *out = h;
+    return ARRANK_OK;
+}

@@ -44,4 +44,9 @@ void arrank_quality_outliers(arrank_dwork *wk, const size_t *idx, size_t n);
    tested.  Reads wk->d as arrank_quality_runs left it. */
 void arrank_quality_describe_runs(arrank_dwork *wk);
 
+/* A stability hold (arrank_diagnose_hold, diagnose.h): its drift and words;
+   *out NULL when s is not one.  ENOMEM only. */
+arrank_status arrank_quality_hold(const arrank_sample *s, double confidence, arrank_hold **out,
+                                  arrank_error *err);
+
 #endif

@@ -260,7 +260,15 @@ void arrank_report_put_sample(FILE *f, const arrank_analysis *a, size_t i,
         fputs(s->skipped ? "<p class=\"note\">File not used and not ranked: "
                          : "<p class=\"note\">Not fitted and not ranked: ", f);
         arrank_text_html(f, r->error);
-        fputs(".</p>\n</section>\n", f);
+        fputs(".</p>\n", f);
+        if (r->hold) { /* a stability hold: its drift with time, as check says it */
+            const char *kind = r->hold->problem ? "problem" : "note";
+            fprintf(f, "<ul>\n<li class=\"%s\"><b>%s</b>: ",
+                    r->hold->problem ? "problem" : "plain", kind);
+            arrank_text_html(f, r->hold->words);
+            fputs("</li>\n</ul>\n", f);
+        }
+        fputs("</section>\n", f);
         return;
     }
     const arrank_arrhenius *fit = &r->fit;
