@@ -47,10 +47,12 @@ static arrank_status sorted_ids(const arrank_analysis *a, id_index **out, arrank
     qsort(v, a->n_results, sizeof *v, by_id);
     for (size_t i = 1; i < a->n_results; i++)
         if (strcmp(v[i].id, v[i - 1].id) == 0) {
-            free(v);
-            return arrank_errorf(err, ARRANK_EDATA,
-                                 "campaign '%s' has two samples '%s': samples are matched by id",
-                                 a->campaign->name, v[i].id);
+            arrank_status st = arrank_errorf(err, ARRANK_EDATA,
+                                             "campaign '%s' has two samples '%s': samples are "
+                                             "matched by id",
+                                             a->campaign->name, v[i].id);
+            free(v); /* after the message: it names an id the array points to */
+            return st;
         }
     *out = v;
     return ARRANK_OK;

@@ -270,7 +270,7 @@ static void diag_legend(script *s, const diag_panels *P)
     for (size_t j = 0; j < P->n_runs; j++)
         if (P->run_drawn[j]) {
             snprintf(buf, sizeof buf, "run %.60s", P->r->sample->runs[j]);
-            char dt[8];
+            char dt[24];
             snprintf(dt, sizeof dt, "%zu", j + 1);
             y = legend_entry(s, x, y, -1, dt, P->c, buf);
         }
