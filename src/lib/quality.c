@@ -215,6 +215,15 @@ done:
     free(sel);
 }
 
+/* A drift's verdict: significant at RUN_LEVEL and at least
+   ARRANK_RUN_MIN_CHANGE over its span, down (-1) or up (+1); else 0. */
+static int drift_verdict(const arrank_drift *dr)
+{
+    if (!(dr->p < RUN_LEVEL && fabs(dr->change) >= ARRANK_RUN_MIN_CHANGE))
+        return 0;
+    return dr->slope_ln_per_h < 0 ? -1 : 1;
+}
+
 static void test_drift(arrank_dwork *wk, const size_t *base, size_t n)
 {
     arrank_drift *dr = &wk->d->drift;
@@ -285,8 +294,7 @@ static void test_drift(arrank_dwork *wk, const size_t *base, size_t n)
     dr->cov_ref_slope = cov[2];
     dr->time_min_h = tmin;
     dr->time_max_h = tmax;
-    if (dr->p < RUN_LEVEL && fabs(dr->change) >= ARRANK_RUN_MIN_CHANGE)
-        dr->verdict = b[2] < 0 ? -1 : 1;
+    dr->verdict = drift_verdict(dr);
 done:
     free(sel);
     free(th);
@@ -767,9 +775,7 @@ static int hold_line(const arrank_sample *s, const size_t *idx, size_t m, arrank
     dr->cov_ref_slope = -s2 * mt / stt;
     dr->time_min_h = tmin;
     dr->time_max_h = tmax;
-    dr->verdict = dr->p < RUN_LEVEL && fabs(dr->change) >= ARRANK_RUN_MIN_CHANGE
-                      ? (b < 0 ? -1 : 1)
-                      : 0;
+    dr->verdict = drift_verdict(dr);
     return 0;
 }
 
