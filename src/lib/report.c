@@ -215,8 +215,10 @@ static const char *figure_caption(arrank_figure_kind kind)
                "point's regime; grey: the kinetic window.  A local Ea that falls with "
                "temperature suggests transport limitation.";
     case ARRANK_FIGURE_TIME_ON_STREAM:
-        return "Rate against time on stream, each point brought to one temperature by the "
-               "drift test's own fit, with that fit's drift line and its confidence band.";
+        return "Rate against time on stream with the drift line and its confidence band "
+               "where a drift was fitted: the diagnosis's, each point brought to one "
+               "temperature by that fit, or a hold's at its one temperature; the line under "
+               "the title says which, or why there is none.";
     }
     return "";
 }
