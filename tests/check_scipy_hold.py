@@ -129,6 +129,13 @@ def main():
         want = ("none" if not (p < 0.05 and abs(math.expm1(slope * span)) >= 0.05)
                 else "deactivation" if slope < 0 else "activation")
         report(h["verdict"] == want, "%s: verdict %s (want %s)" % (name, h["verdict"], want))
+        # the words give the change's interval with its sign (at another level
+        # than the test's 5 % it may hold 0)
+        if want != "none":
+            span_words = "the change's 95 %% interval %+.0f to %+.0f %%" % (
+                100 * math.expm1((slope - q * se) * span), 100 * math.expm1((slope + q * se) * span))
+            report(any(span_words in line for line in check.stdout.splitlines()),
+                   "%s: check gives %r" % (name, span_words))
         lead = "  problem: " if want != "none" else "  note: "
         report(any(line.startswith(lead + "held at one temperature, %.2f degC" % temp)
                    for line in check.stdout.splitlines()),

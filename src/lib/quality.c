@@ -810,10 +810,10 @@ arrank_status arrank_quality_hold(const arrank_sample *s, double confidence, arr
     if (dr->verdict)
         h->words = arrank_strfmt(
             "held at one temperature, %s: the rate drifts %s by %.0f %% over %.1f h on stream "
-            "(%.4g %% interval %.0f-%.0f %%; t = %.2f, p = %.2g, %zu points): %s",
+            "(the change's %.4g %% interval %+.0f to %+.0f %%; t = %.2f, p = %.2g, %zu "
+            "points): %s",
             at, dr->verdict < 0 ? "down" : "up", 100.0 * fabs(dr->change), dr->span_h,
-            100.0 * confidence, 100.0 * fmin(fabs(h->change_lo), fabs(h->change_hi)),
-            100.0 * fmax(fabs(h->change_lo), fabs(h->change_hi)), dr->t, dr->p, m,
+            100.0 * confidence, 100.0 * h->change_lo, 100.0 * h->change_hi, dr->t, dr->p, m,
             dr->verdict < 0 ? "deactivation" : "activation");
     else
         h->words = arrank_strfmt(
